@@ -1,0 +1,9 @@
+/** The valve-clearance computation core: pure functions shared by the browser and the server. */
+export { LashInputError, parseOrThrow, type LashIssue } from "./errors";
+export { inchesToMm, mmToInches, toNm, fromNm, roundForDisplay, formatLength, NM_PER_MM, MM_PER_INCH, type LengthUnit } from "./units";
+export * from "./schemas";
+export { clearanceFromFeelers, type Clearance } from "./feeler";
+export { shimSeries, recommendShim, bandNm, inBand, distanceFromBand, type ShimRecommendation, type BandNm } from "./shim";
+export { planShims, INSTALLED_RANGE_SLACK_MM, type PlanValve, type Assignment, type ShimPlan, type ShimSource, type SizeCount } from "./plan";
+export { rotationGuide, onBaseCircle, DEFAULT_TIMING, DEFAULT_MARGIN, type RotationStep, type ValveRef, type ValveKind } from "./rotation";
+export { driftProjection, fastClosingValves, type DriftPoint, type DriftResult, type ValveDrift } from "./drift";

@@ -1,0 +1,181 @@
+import { munkres } from "munkres";
+import { parseOrThrow, LashInputError } from "./errors";
+import { planInputSchema, type Spec } from "./schemas";
+import { bandNm, inBand, recommendNm, type BandNm } from "./shim";
+import { toNm, fromNm } from "./units";
+
+export type ShimSource =
+  | { kind: "keep" }
+  | { kind: "valve"; valveId: string }
+  | { kind: "tray" }
+  | { kind: "buy" };
+
+export interface PlanValve {
+  id: string;
+  /** stamped size, or the micrometer thickness when one was measured (used exactly) */
+  installed: number;
+  measured: number;
+  spec: Spec;
+}
+
+export interface Assignment {
+  valveId: string;
+  size: number;
+  predicted: number;
+  source: ShimSource;
+  inSpec: boolean;
+  /** installed + measured - target */
+  ideal: number;
+}
+
+export interface SizeCount {
+  size: number;
+  count: number;
+}
+
+export interface ShimPlan {
+  assignments: Assignment[];
+  buy: SizeCount[];
+  toTray: SizeCount[];
+}
+
+/** How far outside the system's range an installed shim may be (worn or odd stock) before it is nonsense. */
+export const INSTALLED_RANGE_SLACK_MM = 0.1;
+
+interface Row {
+  index: number;
+  id: string;
+  installedNm: number;
+  gapNm: number;
+  band: BandNm;
+  /** the valve's own best answer from the catalog alone (buy, or keep when nothing does better) */
+  fallback: ReturnType<typeof recommendNm>;
+}
+
+type Column =
+  | { kind: "valve"; rowIndex: number; sizeNm: number }
+  | { kind: "tray"; sizeNm: number }
+  | { kind: "private"; rowIndex: number };
+
+function group(sizesNm: number[]): SizeCount[] {
+  const counts = new Map<number, number>();
+  for (const s of sizesNm) counts.set(s, (counts.get(s) ?? 0) + 1);
+  return [...counts.entries()].sort((a, b) => a[0] - b[0]).map(([s, count]) => ({ size: fromNm(s), count }));
+}
+
+/**
+ * The shim plan for an engine (DESIGN.md section 4.3). Valves in their band keep their shim. Every
+ * other valve gets a shim from another valve of this engine, the tray, or the shop, such that, in
+ * this order: the most valves end in their band, the fewest shims are bought, the total distance from
+ * target is smallest, and ties lean to the looser valve. This is solved exactly as a rectangular
+ * assignment (Hungarian method, the `munkres` package) over a lexicographic cost; a valve can always
+ * fall back to its own column (buy the catalog's best size, or keep its shim), so a full matching
+ * always exists.
+ */
+export function planShims(input: { valves: PlanValve[]; sizes: number[]; tray?: SizeCount[] }): ShimPlan {
+  const p = parseOrThrow(planInputSchema, input, "plan input");
+  const sizesNm = [...new Set(p.sizes.map(toNm))].sort((a, b) => a - b);
+  const slack = toNm(INSTALLED_RANGE_SLACK_MM);
+  const lo = sizesNm[0]! - slack;
+  const hi = sizesNm[sizesNm.length - 1]! + slack;
+
+  const assignments: (Assignment | undefined)[] = new Array(p.valves.length);
+  const rows: Row[] = [];
+  p.valves.forEach((v, index) => {
+    const installedNm = toNm(v.installed);
+    if (installedNm < lo || installedNm > hi)
+      throw new LashInputError(`Valve ${v.id}: the installed shim ${v.installed} mm is outside this engine's shim range`, [
+        { path: `valves.${index}.installed`, message: "outside the shim system's range" },
+      ]);
+    const band = bandNm(v.spec);
+    const measuredNm = toNm(v.measured);
+    const fallback = recommendNm(installedNm, measuredNm, band, sizesNm);
+    if (inBand(measuredNm, band)) {
+      assignments[index] = { valveId: v.id, size: fromNm(installedNm), predicted: fromNm(measuredNm), source: { kind: "keep" }, inSpec: true, ideal: fromNm(fallback.idealNm) };
+      return;
+    }
+    rows.push({ index, id: v.id, installedNm, gapNm: installedNm + measuredNm, band, fallback });
+  });
+
+  const outgoing: number[] = []; // installed sizes of valves whose shim comes out
+  if (rows.length > 0) {
+    // Columns. A valve whose own best answer is to keep its shim (nothing in the catalog does better)
+    // keeps it out of the pool: that shim stays where it is.
+    const columns: Column[] = [];
+    for (const r of rows) if (r.fallback.change) columns.push({ kind: "valve", rowIndex: r.index, sizeNm: r.installedNm });
+    const trayCounts = new Map<number, number>();
+    for (const t of p.tray) if (t.count > 0) trayCounts.set(toNm(t.size), (trayCounts.get(toNm(t.size)) ?? 0) + t.count);
+    for (const [sizeNm, count] of [...trayCounts.entries()].sort((a, b) => a[0] - b[0])) {
+      // Copies beyond the number of valves this size can serve are never needed.
+      const useful = rows.filter((r) => inBand(r.gapNm - sizeNm, r.band)).length;
+      for (let k = 0; k < Math.min(count, useful); k++) columns.push({ kind: "tray", sizeNm });
+    }
+    for (const r of rows) columns.push({ kind: "private", rowIndex: r.index });
+
+    // Lexicographic weights, sized from this problem so that every sum stays an exact integer.
+    const n = rows.length;
+    const dMax = Math.max(...rows.map((r) => Math.max(r.band.target - r.band.min, r.band.max - r.band.target)));
+    const wDist = n + 1; // a nanometre of distance outweighs every tie-break together
+    const rowMax = wDist * dMax + 1;
+    const BUY = n * rowMax + 1;
+    const OUT = n * (BUY + rowMax) + 1;
+    if (n * (OUT + BUY + rowMax) > Number.MAX_SAFE_INTEGER) throw new LashInputError("Plan too large to solve exactly");
+
+    const inBandCost = (r: Row, sizeNm: number) => {
+      const predicted = r.gapNm - sizeNm;
+      if (!inBand(predicted, r.band)) return Infinity;
+      // a tight-side result costs one unit more: on a tie the thinner shim wins
+      return wDist * Math.abs(predicted - r.band.target) + (predicted < r.band.target ? 1 : 0);
+    };
+    const cost = rows.map((r) =>
+      columns.map((c) => {
+        if (c.kind === "private") {
+          if (c.rowIndex !== r.index) return Infinity;
+          if (r.fallback.inSpec) return BUY + inBandCost(r, r.fallback.sizeNm);
+          return r.fallback.change ? OUT + BUY : OUT;
+        }
+        if (c.kind === "valve" && c.rowIndex === r.index) return Infinity;
+        return inBandCost(r, c.sizeNm);
+      }),
+    );
+
+    const pairs = munkres(cost);
+    const taken = new Set<number>();
+    for (const [ri, ci] of pairs) {
+      const r = rows[ri]!;
+      const c = columns[ci]!;
+      taken.add(ci);
+      let sizeNm: number;
+      let source: ShimSource;
+      if (c.kind === "private") {
+        sizeNm = r.fallback.sizeNm;
+        source = r.fallback.change ? { kind: "buy" } : { kind: "keep" };
+      } else if (c.kind === "valve") {
+        sizeNm = c.sizeNm;
+        source = { kind: "valve", valveId: p.valves[c.rowIndex]!.id };
+      } else {
+        sizeNm = c.sizeNm;
+        source = { kind: "tray" };
+      }
+      const predictedNm = r.gapNm - sizeNm;
+      assignments[r.index] = {
+        valveId: r.id,
+        size: fromNm(sizeNm),
+        predicted: fromNm(predictedNm),
+        source,
+        inSpec: inBand(predictedNm, r.band),
+        ideal: fromNm(r.fallback.idealNm),
+      };
+    }
+    columns.forEach((c, ci) => {
+      if (c.kind === "valve" && !taken.has(ci)) outgoing.push(c.sizeNm);
+    });
+  }
+
+  const done = assignments as Assignment[];
+  return {
+    assignments: done,
+    buy: group(done.filter((a) => a.source.kind === "buy").map((a) => toNm(a.size))),
+    toTray: group(outgoing),
+  };
+}
