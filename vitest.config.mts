@@ -5,7 +5,8 @@ import { fileURLToPath } from "node:url";
 // (real Chromium against a production build). scripts/test.mjs runs them in that order.
 const root = fileURLToPath(new URL(".", import.meta.url));
 export default defineConfig({
-  resolve: { alias: { "@": root } },
+  // server-only throws outside a React server build; under test it is the empty module it is there.
+  resolve: { alias: { "@": root, "server-only": `${root}node_modules/server-only/empty.js` } },
   test: {
     projects: [
       { extends: true, test: { name: "unit", include: ["tests/unit/**/*.test.ts"], environment: "node" } },

@@ -7,3 +7,4 @@ export { shimSeries, recommendShim, bandNm, inBand, distanceFromBand, type ShimR
 export { planShims, INSTALLED_RANGE_SLACK_MM, type PlanValve, type Assignment, type ShimPlan, type ShimSource, type SizeCount } from "./plan";
 export { rotationGuide, onBaseCircle, DEFAULT_TIMING, DEFAULT_MARGIN, type RotationStep, type ValveRef, type ValveKind } from "./rotation";
 export { driftProjection, fastClosingValves, type DriftPoint, type DriftResult, type ValveDrift } from "./drift";
+export { valveNames, parseValveName, bladesFor, METRIC_BLADES_MM, INCH_BLADES_THOU, type ValveName } from "./valves";

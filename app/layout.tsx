@@ -1,0 +1,40 @@
+import type { Metadata, Viewport } from "next";
+import localFont from "next/font/local";
+import "./globals.css";
+
+// Both faces ship inside the app (OFL, from npm font packages): no request to any font host.
+const body = localFont({
+  src: "./fonts/atkinson-hyperlegible-next-latin-wght-normal.woff2",
+  variable: "--font-body",
+  weight: "200 800",
+  display: "swap",
+});
+const figures = localFont({
+  src: "./fonts/atkinson-hyperlegible-mono-latin-wght-normal.woff2",
+  variable: "--font-figures",
+  weight: "200 800",
+  display: "swap",
+});
+
+export const metadata: Metadata = {
+  title: { default: "Lashwright: valve clearance workbook", template: "%s · Lashwright" },
+  description: "Measure valve clearances, plan shims with swaps and a buy list, fit and re-check, keep the history and get a mentor's review, all without a signal.",
+  applicationName: "Lashwright",
+};
+
+export const viewport: Viewport = {
+  width: "device-width",
+  initialScale: 1,
+  themeColor: [
+    { media: "(prefers-color-scheme: dark)", color: "#121417" },
+    { media: "(prefers-color-scheme: light)", color: "#f5f2ea" },
+  ],
+};
+
+export default function RootLayout({ children }: Readonly<{ children: React.ReactNode }>) {
+  return (
+    <html lang="en" className={`${body.variable} ${figures.variable}`}>
+      <body className="min-h-dvh bg-bg font-sans text-ink antialiased">{children}</body>
+    </html>
+  );
+}

@@ -1,0 +1,11 @@
+import "server-only";
+
+/** The MariaDB error code (ER_DUP_ENTRY, ...) behind an error, looking through drizzle's wrapper. */
+export function mysqlErrorCode(e: unknown): string | undefined {
+  for (let cur: unknown = e, depth = 0; cur && depth < 5; depth++) {
+    const code = (cur as { code?: unknown }).code;
+    if (typeof code === "string" && code.startsWith("ER_")) return code;
+    cur = (cur as { cause?: unknown }).cause;
+  }
+  return undefined;
+}

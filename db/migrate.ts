@@ -1,0 +1,19 @@
+import "server-only";
+import { migrate } from "drizzle-orm/mysql2/migrator";
+import { fileURLToPath } from "node:url";
+import { closeDb, db } from "./client";
+
+/** Apply the committed migrations (never `drizzle-kit push`: it misbehaves on MariaDB). */
+export async function runMigrations(): Promise<void> {
+  await migrate(db(), { migrationsFolder: fileURLToPath(new URL("./migrations", import.meta.url)) });
+}
+
+if (process.argv[1] && fileURLToPath(import.meta.url) === process.argv[1]) {
+  runMigrations()
+    .then(() => closeDb())
+    .catch(async (e: unknown) => {
+      console.error(`Migration failed: ${e instanceof Error ? e.message : String(e)}`);
+      await closeDb();
+      process.exit(1);
+    });
+}

@@ -1,0 +1,344 @@
+import {
+  bigint,
+  boolean,
+  char,
+  decimal,
+  index,
+  int,
+  json,
+  mysqlEnum,
+  mysqlTable,
+  smallint,
+  text,
+  timestamp,
+  uniqueIndex,
+  varchar,
+} from "drizzle-orm/mysql-core";
+
+/**
+ * The whole product's tables. Keys are uuids made in the app (mysql-core has no RETURNING); lengths
+ * are millimetres in decimal(8,5), enough for 0.0001 in (0.00254 mm) exactly; every row that the
+ * offline clients copy carries `version`, a value of the global change counter, so a pull can ask
+ * for "everything after N"; deletions leave a row in `tombstones`.
+ */
+
+const id = () => char("id", { length: 36 }).primaryKey().$defaultFn(() => crypto.randomUUID());
+const ref = (name: string) => char(name, { length: 36 });
+const mm = (name: string) => decimal(name, { precision: 8, scale: 5, mode: "number" });
+const createdAt = () => timestamp("created_at", { fsp: 3 }).notNull().defaultNow();
+const updatedAt = () => timestamp("updated_at", { fsp: 3 }).notNull().defaultNow().onUpdateNow();
+const version = () => bigint("version", { mode: "number", unsigned: true }).notNull().default(0);
+
+export const roles = ["mechanic", "mentor", "admin"] as const;
+export type Role = (typeof roles)[number];
+
+export const users = mysqlTable(
+  "users",
+  {
+    id: id(),
+    email: varchar("email", { length: 254 }).notNull(),
+    name: varchar("name", { length: 120 }).notNull(),
+    passwordHash: varchar("password_hash", { length: 100 }),
+    emailVerifiedAt: timestamp("email_verified_at", { fsp: 3 }),
+    displayUnit: mysqlEnum("display_unit", ["mm", "in"]).notNull().default("mm"),
+    noticesByEmail: boolean("notices_by_email").notNull().default(true),
+    createdAt: createdAt(),
+    updatedAt: updatedAt(),
+  },
+  (t) => [uniqueIndex("users_email_uq").on(t.email)],
+);
+
+export const clubs = mysqlTable("clubs", {
+  id: id(),
+  name: varchar("name", { length: 120 }).notNull(),
+  createdBy: ref("created_by").notNull().references(() => users.id),
+  createdAt: createdAt(),
+  updatedAt: updatedAt(),
+});
+
+/** One row per role a user holds in a club: a mentor is usually a mechanic too. */
+export const memberships = mysqlTable(
+  "memberships",
+  {
+    id: id(),
+    clubId: ref("club_id").notNull().references(() => clubs.id, { onDelete: "cascade" }),
+    userId: ref("user_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    role: mysqlEnum("role", roles).notNull(),
+    createdAt: createdAt(),
+  },
+  (t) => [uniqueIndex("memberships_club_user_role_uq").on(t.clubId, t.userId, t.role), index("memberships_user_idx").on(t.userId)],
+);
+
+export const invites = mysqlTable(
+  "invites",
+  {
+    id: id(),
+    clubId: ref("club_id").notNull().references(() => clubs.id, { onDelete: "cascade" }),
+    email: varchar("email", { length: 254 }).notNull(),
+    role: mysqlEnum("role", roles).notNull().default("mechanic"),
+    tokenHash: char("token_hash", { length: 64 }).notNull(),
+    invitedBy: ref("invited_by").notNull().references(() => users.id),
+    expiresAt: timestamp("expires_at", { fsp: 3 }).notNull(),
+    acceptedAt: timestamp("accepted_at", { fsp: 3 }),
+    createdAt: createdAt(),
+  },
+  (t) => [uniqueIndex("invites_token_uq").on(t.tokenHash), index("invites_club_idx").on(t.clubId)],
+);
+
+/** One-time tokens for e-mail verification, password reset and e-mail sign-in links (hashed). */
+export const authTokens = mysqlTable(
+  "auth_tokens",
+  {
+    id: id(),
+    userId: ref("user_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    purpose: mysqlEnum("purpose", ["verify", "reset", "signin"]).notNull(),
+    tokenHash: char("token_hash", { length: 64 }).notNull(),
+    expiresAt: timestamp("expires_at", { fsp: 3 }).notNull(),
+    usedAt: timestamp("used_at", { fsp: 3 }),
+    createdAt: createdAt(),
+  },
+  (t) => [uniqueIndex("auth_tokens_hash_uq").on(t.tokenHash)],
+);
+
+/** Failed sign-ins per account and per address, kept in the database so a restart forgets nothing. */
+export const signInAttempts = mysqlTable(
+  "sign_in_attempts",
+  {
+    id: id(),
+    key: varchar("attempt_key", { length: 300 }).notNull(),
+    at: timestamp("at", { fsp: 3 }).notNull().defaultNow(),
+  },
+  (t) => [index("sign_in_attempts_key_at_idx").on(t.key, t.at)],
+);
+
+export const engines = mysqlTable(
+  "engines",
+  {
+    id: id(),
+    ownerId: ref("owner_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    name: varchar("name", { length: 120 }).notNull(),
+    cylinders: smallint("cylinders").notNull(),
+    intakePerCylinder: smallint("intake_per_cylinder").notNull(),
+    exhaustPerCylinder: smallint("exhaust_per_cylinder").notNull(),
+    firingOrder: json("firing_order").$type<number[]>().notNull(),
+    firingAngles: json("firing_angles").$type<number[] | null>(),
+    ivo: smallint("ivo").notNull().default(20),
+    ivc: smallint("ivc").notNull().default(50),
+    evo: smallint("evo").notNull().default(50),
+    evc: smallint("evc").notNull().default(20),
+    intakeMin: mm("intake_min").notNull(),
+    intakeMax: mm("intake_max").notNull(),
+    intakeTarget: mm("intake_target"),
+    exhaustMin: mm("exhaust_min").notNull(),
+    exhaustMax: mm("exhaust_max").notNull(),
+    exhaustTarget: mm("exhaust_target"),
+    measuredHot: boolean("measured_hot").notNull().default(false),
+    shimMin: mm("shim_min"),
+    shimMax: mm("shim_max"),
+    shimStep: mm("shim_step"),
+    shimSizes: json("shim_sizes").$type<number[] | null>(),
+    shimDiameter: mm("shim_diameter"),
+    assembledShim: mm("assembled_shim"),
+    displayUnit: mysqlEnum("display_unit", ["mm", "in"]).notNull().default("mm"),
+    odometerUnit: mysqlEnum("odometer_unit", ["km", "mi", "h"]).notNull().default("km"),
+    mirrored: boolean("mirrored").notNull().default(false),
+    version: version(),
+    createdAt: createdAt(),
+    updatedAt: updatedAt(),
+  },
+  (t) => [index("engines_owner_idx").on(t.ownerId, t.version)],
+);
+
+export const checks = mysqlTable(
+  "checks",
+  {
+    id: id(),
+    engineId: ref("engine_id").notNull().references(() => engines.id, { onDelete: "cascade" }),
+    ownerId: ref("owner_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    odometer: decimal("odometer", { precision: 10, scale: 1, mode: "number" }).notNull(),
+    measuredHot: boolean("measured_hot").notNull().default(false),
+    status: mysqlEnum("status", ["measuring", "planned", "fitting", "verifying", "closed"]).notNull().default("measuring"),
+    notes: text("notes"),
+    startedAt: timestamp("started_at", { fsp: 3 }).notNull().defaultNow(),
+    closedAt: timestamp("closed_at", { fsp: 3 }),
+    version: version(),
+    createdAt: createdAt(),
+    updatedAt: updatedAt(),
+  },
+  (t) => [index("checks_engine_idx").on(t.engineId, t.startedAt), index("checks_owner_idx").on(t.ownerId, t.version)],
+);
+
+/**
+ * One valve's record in a check. `valve` names the valve ("I1.2" = intake, cylinder 1, second
+ * valve) and `round` counts re-measures (0 is the first measurement). The feeler pair is stored, not
+ * only the number, so a reviewer sees how the value was found.
+ */
+export const readings = mysqlTable(
+  "readings",
+  {
+    id: id(),
+    checkId: ref("check_id").notNull().references(() => checks.id, { onDelete: "cascade" }),
+    ownerId: ref("owner_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    valve: varchar("valve", { length: 16 }).notNull(),
+    round: smallint("round").notNull().default(0),
+    installedStamp: mm("installed_stamp"),
+    installedMicrometer: mm("installed_micrometer"),
+    feelerGo: mm("feeler_go"),
+    feelerNoGo: mm("feeler_no_go"),
+    measured: mm("measured"),
+    method: mysqlEnum("method", ["feeler", "typed"]).notNull().default("feeler"),
+    fittedShim: mm("fitted_shim"),
+    fittedAt: timestamp("fitted_at", { fsp: 3 }),
+    version: version(),
+    createdAt: createdAt(),
+    updatedAt: updatedAt(),
+  },
+  (t) => [uniqueIndex("readings_check_valve_round_uq").on(t.checkId, t.valve, t.round), index("readings_owner_idx").on(t.ownerId, t.version)],
+);
+
+/** Earlier values of a reading overwritten by a later write (two devices, or a correction). */
+export const readingHistory = mysqlTable(
+  "reading_history",
+  {
+    id: id(),
+    readingId: ref("reading_id").notNull().references(() => readings.id, { onDelete: "cascade" }),
+    previous: json("previous").$type<Record<string, unknown>>().notNull(),
+    replacedAt: timestamp("replaced_at", { fsp: 3 }).notNull().defaultNow(),
+  },
+  (t) => [index("reading_history_reading_idx").on(t.readingId)],
+);
+
+export const trayItems = mysqlTable(
+  "tray_items",
+  {
+    id: id(),
+    ownerId: ref("owner_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    size: mm("size").notNull(),
+    measuredSize: boolean("measured_size").notNull().default(false),
+    count: int("count").notNull().default(0),
+    shimDiameter: mm("shim_diameter"),
+    version: version(),
+    createdAt: createdAt(),
+    updatedAt: updatedAt(),
+  },
+  (t) => [index("tray_items_owner_idx").on(t.ownerId, t.version)],
+);
+
+export const verdicts = ["close-up", "measure-again", "stop-and-ask"] as const;
+
+export const shares = mysqlTable(
+  "shares",
+  {
+    id: id(),
+    checkId: ref("check_id").notNull().references(() => checks.id, { onDelete: "cascade" }),
+    clubId: ref("club_id").notNull().references(() => clubs.id, { onDelete: "cascade" }),
+    sharedBy: ref("shared_by").notNull().references(() => users.id),
+    verdict: mysqlEnum("verdict", verdicts),
+    verdictBy: ref("verdict_by").references(() => users.id),
+    verdictAt: timestamp("verdict_at", { fsp: 3 }),
+    withdrawnAt: timestamp("withdrawn_at", { fsp: 3 }),
+    version: version(),
+    createdAt: createdAt(),
+    updatedAt: updatedAt(),
+  },
+  (t) => [uniqueIndex("shares_check_club_uq").on(t.checkId, t.clubId), index("shares_club_idx").on(t.clubId, t.createdAt)],
+);
+
+export const comments = mysqlTable(
+  "comments",
+  {
+    id: id(),
+    checkId: ref("check_id").notNull().references(() => checks.id, { onDelete: "cascade" }),
+    authorId: ref("author_id").notNull().references(() => users.id),
+    valve: varchar("valve", { length: 16 }),
+    body: text("body").notNull(),
+    version: version(),
+    createdAt: createdAt(),
+    updatedAt: updatedAt(),
+  },
+  (t) => [index("comments_check_idx").on(t.checkId, t.createdAt)],
+);
+
+export const uploads = mysqlTable(
+  "uploads",
+  {
+    id: id(),
+    ownerId: ref("owner_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    checkId: ref("check_id").notNull().references(() => checks.id, { onDelete: "cascade" }),
+    readingId: ref("reading_id").references(() => readings.id, { onDelete: "set null" }),
+    commentId: ref("comment_id").references(() => comments.id, { onDelete: "set null" }),
+    objectKey: varchar("object_key", { length: 200 }).notNull(),
+    contentType: varchar("content_type", { length: 60 }).notNull(),
+    bytes: int("bytes").notNull(),
+    width: smallint("width"),
+    height: smallint("height"),
+    version: version(),
+    createdAt: createdAt(),
+  },
+  (t) => [uniqueIndex("uploads_key_uq").on(t.objectKey), index("uploads_check_idx").on(t.checkId)],
+);
+
+/** Each installed copy of the app; the last mutation id it had applied makes pushes idempotent. */
+export const syncClients = mysqlTable(
+  "sync_clients",
+  {
+    id: char("id", { length: 36 }).primaryKey(),
+    userId: ref("user_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    lastMutationId: bigint("last_mutation_id", { mode: "number", unsigned: true }).notNull().default(0),
+    createdAt: createdAt(),
+    updatedAt: updatedAt(),
+  },
+  (t) => [index("sync_clients_user_idx").on(t.userId)],
+);
+
+/** Mutations the server refused, with the reason, so the client can show them. */
+export const rejectedMutations = mysqlTable(
+  "rejected_mutations",
+  {
+    id: id(),
+    clientId: char("client_id", { length: 36 }).notNull().references(() => syncClients.id, { onDelete: "cascade" }),
+    mutationId: bigint("mutation_id", { mode: "number", unsigned: true }).notNull(),
+    name: varchar("name", { length: 60 }).notNull(),
+    reason: varchar("reason", { length: 500 }).notNull(),
+    createdAt: createdAt(),
+  },
+  (t) => [uniqueIndex("rejected_client_mutation_uq").on(t.clientId, t.mutationId)],
+);
+
+/** The global change counter: one auto-increment row per committed change. */
+export const changeVersions = mysqlTable("change_versions", {
+  version: bigint("version", { mode: "number", unsigned: true }).autoincrement().primaryKey(),
+  at: timestamp("at", { fsp: 3 }).notNull().defaultNow(),
+});
+
+export const tombstones = mysqlTable(
+  "tombstones",
+  {
+    id: id(),
+    entity: varchar("entity", { length: 30 }).notNull(),
+    entityId: char("entity_id", { length: 36 }).notNull(),
+    ownerId: ref("owner_id").notNull(),
+    version: version(),
+    createdAt: createdAt(),
+  },
+  (t) => [index("tombstones_owner_idx").on(t.ownerId, t.version)],
+);
+
+/** E-mail notices wait here, so sending never blocks or fails the request that caused them. */
+export const notices = mysqlTable(
+  "notices",
+  {
+    id: id(),
+    toUserId: ref("to_user_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    kind: varchar("kind", { length: 40 }).notNull(),
+    subject: varchar("subject", { length: 200 }).notNull(),
+    body: text("body").notNull(),
+    status: mysqlEnum("status", ["queued", "sent", "failed"]).notNull().default("queued"),
+    attempts: smallint("attempts").notNull().default(0),
+    nextAttemptAt: timestamp("next_attempt_at", { fsp: 3 }).notNull().defaultNow(),
+    lastError: varchar("last_error", { length: 500 }),
+    createdAt: createdAt(),
+    updatedAt: updatedAt(),
+  },
+  (t) => [index("notices_status_next_idx").on(t.status, t.nextAttemptAt)],
+);

@@ -1,0 +1,10 @@
+import type { NextConfig } from "next";
+
+const nextConfig: NextConfig = {
+  reactStrictMode: true,
+  poweredByHeader: false,
+  // The app runs from its own folder; keep Turbopack from guessing a workspace root above it.
+  turbopack: { root: __dirname },
+};
+
+export default nextConfig;

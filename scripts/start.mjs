@@ -1,0 +1,61 @@
+// `npm start`: everything from a fresh machine to the app with demo data on http://127.0.0.1:3000.
+import { spawn } from "node:child_process";
+import { mkdirSync } from "node:fs";
+import path from "node:path";
+import { CHROMIUM, cleanupOnExit, ensureDebianPackages, ensureNodeModules, log, MARIADB, portFree, root, run, runTs, SetupError, startMariadb } from "./lib/setup.mjs";
+
+const PORT = Number(process.env.PORT ?? 3000);
+const DB_PORT = Number(process.env.DB_PORT ?? 3316);
+const DATA_DIR = path.resolve(root, process.env.LASHWRIGHT_DATA_DIR ?? ".data/dev");
+
+async function main() {
+  const cleanup = cleanupOnExit();
+  try {
+    if (!Number.isInteger(PORT) || PORT < 1 || PORT > 65535) throw new SetupError(`PORT=${process.env.PORT} is not a port number`);
+    if (!(await portFree(PORT))) throw new SetupError(`port ${PORT} is in use: stop what holds it, or start on another port with PORT=3001 npm start`);
+    void CHROMIUM; // browsers are only needed by npm test
+    ensureDebianPackages([MARIADB]);
+    ensureNodeModules();
+    mkdirSync(DATA_DIR, { recursive: true });
+    const database = await startMariadb({ dir: DATA_DIR, port: DB_PORT });
+    cleanup.add(() => database.stop());
+    log(`database on 127.0.0.1:${DB_PORT} (data in ${path.relative(root, DATA_DIR)})`);
+    const env = { DATABASE_URL: database.url, NEXTAUTH_URL: `http://127.0.0.1:${PORT}` };
+    runTs("db/migrate.ts", env);
+    runTs("db/seed.ts", env);
+    if (process.env.LASHWRIGHT_SKIP_BUILD !== "1") {
+      log("building the app (next build)...");
+      run(process.execPath, ["node_modules/next/dist/bin/next", "build"], { env: { ...env, NEXT_TELEMETRY_DISABLED: "1" }, what: "next build" });
+    }
+    const server = spawn(process.execPath, ["node_modules/next/dist/bin/next", "start", "-H", "127.0.0.1", "-p", String(PORT)], {
+      cwd: root,
+      stdio: ["ignore", "inherit", "inherit"],
+      env: { ...process.env, ...env, NODE_ENV: "production", NEXT_TELEMETRY_DISABLED: "1" },
+    });
+    cleanup.add(
+      () =>
+        new Promise((resolve) => {
+          if (server.exitCode !== null) return resolve();
+          server.once("exit", resolve);
+          server.kill("SIGTERM");
+        }),
+    );
+    const { DEMO_USERS, DEMO_PASSWORD } = await import("./lib/demo-users.mjs");
+    log(`Lashwright is on http://127.0.0.1:${PORT}  (Ctrl-C stops the app and its database)`);
+    log(`demo sign-ins, password "${DEMO_PASSWORD}":`);
+    for (const u of DEMO_USERS) log(`  ${u.email.padEnd(32)} ${u.says}`);
+    server.on("exit", async (code) => {
+      await cleanup.runAll();
+      process.exit(code ?? 0);
+    });
+  } catch (e) {
+    await cleanup.runAll();
+    if (e instanceof SetupError) {
+      console.error(`[lashwright] cannot start: ${e.message}`);
+      process.exit(1);
+    }
+    throw e;
+  }
+}
+
+main();

@@ -1,0 +1,131 @@
+// `npm test`: set up everything (npm packages, MariaDB, Chromium), then typecheck, lint, unit tests,
+// integration tests on a throwaway MariaDB, a production build, and browser tests in real Chromium.
+// Every process it starts is stopped again, also when a step fails; the exit status is the result.
+import { spawn } from "node:child_process";
+import { existsSync, mkdirSync, readFileSync, rmSync } from "node:fs";
+import path from "node:path";
+import { CHROMIUM, cleanupOnExit, ensureDebianPackages, ensureNodeModules, freePort, log, MARIADB, root, run, runTs, SetupError, startMariadb } from "./lib/setup.mjs";
+
+const args = process.argv.slice(2);
+const only = args.find((a) => ["unit", "integration", "e2e"].includes(a));
+const results = { passed: 0, failed: 0, skipped: 0 };
+const failures = [];
+
+function stage(name, fn) {
+  log(`── ${name}`);
+  try {
+    fn();
+    return true;
+  } catch (e) {
+    failures.push(name);
+    console.error(`[lashwright] ${name} failed${e instanceof SetupError ? `: ${e.message}` : ""}`);
+    return false;
+  }
+}
+
+/** Run one vitest project and add its counts (from its JSON report) to the totals. */
+function vitest(project, env) {
+  const report = path.join(root, "test-results", `${project}.json`);
+  rmSync(report, { force: true });
+  const ok = stage(`${project} tests`, () =>
+    run(process.execPath, ["node_modules/vitest/vitest.mjs", "run", "--project", project, "--reporter=default", "--reporter=json", `--outputFile.json=${report}`], { env, what: `vitest ${project}` }),
+  );
+  if (existsSync(report)) {
+    const r = JSON.parse(readFileSync(report, "utf8"));
+    results.passed += r.numPassedTests;
+    results.failed += r.numFailedTests;
+    results.skipped += r.numPendingTests + r.numTodoTests;
+    if (r.numTotalTests === 0) {
+      failures.push(`${project}: no tests ran`);
+    }
+  } else if (!ok) results.failed += 1;
+}
+
+function startNext(port, env) {
+  const child = spawn(process.execPath, ["node_modules/next/dist/bin/next", "start", "-H", "127.0.0.1", "-p", String(port)], {
+    cwd: root,
+    stdio: ["ignore", "pipe", "pipe"],
+    env: { ...process.env, ...env, NODE_ENV: "production", NEXT_TELEMETRY_DISABLED: "1" },
+  });
+  let out = "";
+  child.stdout.on("data", (d) => (out += d));
+  child.stderr.on("data", (d) => (out += d));
+  const ready = (async () => {
+    for (let i = 0; i < 300; i++) {
+      if (child.exitCode !== null) throw new SetupError(`next start exited early:\n${out.slice(-2000)}`);
+      try {
+        const res = await fetch(`http://127.0.0.1:${port}/`);
+        if (res.status < 500) return;
+      } catch {
+        /* not listening yet */
+      }
+      await new Promise((r) => setTimeout(r, 200));
+    }
+    throw new SetupError("next start did not answer within 60 s");
+  })();
+  const stop = () =>
+    new Promise((resolve) => {
+      if (child.exitCode !== null) return resolve();
+      child.once("exit", resolve);
+      child.kill("SIGTERM");
+    });
+  return { ready, stop, output: () => out };
+}
+
+async function main() {
+  const cleanup = cleanupOnExit();
+  const t0 = Date.now();
+  try {
+    ensureDebianPackages([MARIADB, CHROMIUM]);
+    ensureNodeModules();
+    mkdirSync(path.join(root, "test-results"), { recursive: true });
+
+    if (!only) {
+      stage("typecheck (tsc --noEmit)", () => run(process.execPath, ["node_modules/typescript/bin/tsc", "--noEmit"], { what: "tsc" }));
+      stage("lint (eslint)", () => run(process.execPath, ["node_modules/eslint/bin/eslint.js", ".", "--max-warnings=0"], { what: "eslint" }));
+    }
+    if (!only || only === "unit") vitest("unit", {});
+
+    if (!only || only !== "unit") {
+      // A throwaway database: its own folder and port, removed before and after the run.
+      const dir = path.join(root, ".data", "test");
+      rmSync(dir, { recursive: true, force: true });
+      mkdirSync(dir, { recursive: true });
+      const database = await startMariadb({ dir, port: await freePort(Number(process.env.TEST_DB_PORT ?? 3317)), database: "lashwright_test" });
+      cleanup.add(async () => {
+        await database.stop();
+        rmSync(dir, { recursive: true, force: true });
+      });
+      const env = { DATABASE_URL: database.url, LASHWRIGHT_TEST_DB_URL: database.url };
+      runTs("db/migrate.ts", env);
+      if (!only || only === "integration") vitest("integration", env);
+
+      if (!only || only === "e2e") {
+        const built = stage("production build (next build)", () =>
+          run(process.execPath, ["node_modules/next/dist/bin/next", "build"], { env: { ...env, NEXT_TELEMETRY_DISABLED: "1" }, what: "next build" }),
+        );
+        if (built) {
+          runTs("db/seed.ts", env);
+          const port = await freePort();
+          const server = startNext(port, { ...env, NEXTAUTH_URL: `http://127.0.0.1:${port}` });
+          cleanup.add(server.stop);
+          await server.ready;
+          vitest("e2e", { ...env, LASHWRIGHT_BASE_URL: `http://127.0.0.1:${port}` });
+          await server.stop();
+        }
+      }
+    }
+  } catch (e) {
+    failures.push(e instanceof SetupError ? e.message : String(e?.stack ?? e));
+    console.error(`[lashwright] test set-up failed: ${e instanceof SetupError ? e.message : e?.stack ?? e}`);
+  } finally {
+    await cleanup.runAll();
+  }
+  const secs = Math.round((Date.now() - t0) / 1000);
+  if (failures.length) log(`failed steps: ${failures.join("; ")}`);
+  log(`finished in ${secs} s`);
+  console.log(`${results.passed} passed, ${results.failed} failed${results.skipped ? `, ${results.skipped} skipped` : ""}`);
+  process.exit(failures.length || results.failed ? 1 : 0);
+}
+
+main();

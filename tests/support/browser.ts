@@ -1,0 +1,21 @@
+import { chromium, type Browser, type BrowserContext } from "playwright-core";
+
+/** Debian's Chromium, with the flags that keep it from calling out of this closed network. */
+export const CHROMIUM_ARGS = ["--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run", "--disable-background-networking", "--disable-component-update", "--disable-sync"];
+
+export function launch(): Promise<Browser> {
+  return chromium.launch({ executablePath: process.env.CHROMIUM_PATH ?? "/usr/bin/chromium", args: CHROMIUM_ARGS });
+}
+
+/** A phone held in portrait: 412 x 915 CSS pixels, touch, 2.6x density. */
+export const PHONE = { viewport: { width: 412, height: 915 }, deviceScaleFactor: 2.625, isMobile: true, hasTouch: true } as const;
+
+export function phoneContext(browser: Browser, colorScheme: "dark" | "light" = "dark"): Promise<BrowserContext> {
+  return browser.newContext({ ...PHONE, colorScheme });
+}
+
+export function baseUrl(): string {
+  const url = process.env.LASHWRIGHT_BASE_URL;
+  if (!url) throw new Error("LASHWRIGHT_BASE_URL is not set: run browser tests through npm test");
+  return url;
+}
