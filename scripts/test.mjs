@@ -1,10 +1,12 @@
-// `npm test`: set up everything (npm packages, MariaDB, Chromium), then typecheck, lint, unit tests,
-// integration tests on a throwaway MariaDB, a production build, and browser tests in real Chromium.
-// Every process it starts is stopped again, also when a step fails; the exit status is the result.
+// `npm test`: set up everything (npm packages, MariaDB, Chromium, the mail catcher), then typecheck,
+// lint, unit tests, a production build, integration tests over HTTP against it on a throwaway
+// MariaDB, and browser tests in real Chromium. Every process it starts is stopped again, also when a
+// step fails; the exit status is the result, and the last line reads "N passed, N failed".
 import { spawn } from "node:child_process";
+import { randomBytes } from "node:crypto";
 import { existsSync, mkdirSync, readFileSync, rmSync } from "node:fs";
 import path from "node:path";
-import { CHROMIUM, cleanupOnExit, ensureDebianPackages, ensureNodeModules, freePort, log, MARIADB, root, run, runTs, SetupError, startMariadb } from "./lib/setup.mjs";
+import { CHROMIUM, cleanupOnExit, ensureDebianPackages, ensureNodeModules, freePort, log, MARIADB, root, run, runTs, SetupError, startMailCatcher, startMariadb } from "./lib/setup.mjs";
 
 const args = process.argv.slice(2);
 const only = args.find((a) => ["unit", "integration", "e2e"].includes(a));
@@ -35,9 +37,7 @@ function vitest(project, env) {
     results.passed += r.numPassedTests;
     results.failed += r.numFailedTests;
     results.skipped += r.numPendingTests + r.numTodoTests;
-    if (r.numTotalTests === 0) {
-      failures.push(`${project}: no tests ran`);
-    }
+    if (r.numTotalTests === 0) failures.push(`${project}: no tests ran`);
   } else if (!ok) results.failed += 1;
 }
 
@@ -69,7 +69,7 @@ function startNext(port, env) {
       child.once("exit", resolve);
       child.kill("SIGTERM");
     });
-  return { ready, stop, output: () => out };
+  return { ready, stop };
 }
 
 async function main() {
@@ -87,7 +87,7 @@ async function main() {
     if (!only || only === "unit") vitest("unit", {});
 
     if (!only || only !== "unit") {
-      // A throwaway database: its own folder and port, removed before and after the run.
+      // A throwaway database and mail catcher: own folder and ports, removed before and after the run.
       const dir = path.join(root, ".data", "test");
       rmSync(dir, { recursive: true, force: true });
       mkdirSync(dir, { recursive: true });
@@ -96,34 +96,40 @@ async function main() {
         await database.stop();
         rmSync(dir, { recursive: true, force: true });
       });
-      const env = { DATABASE_URL: database.url, LASHWRIGHT_TEST_DB_URL: database.url };
+      const mail = await startMailCatcher({ smtpPort: await freePort(), webPort: await freePort(), dir: path.join(dir, "mail") });
+      cleanup.add(mail.stop);
+      const env = {
+        DATABASE_URL: database.url,
+        LASHWRIGHT_TEST_DB_URL: database.url,
+        SMTP_URL: mail.smtpUrl,
+        LASHWRIGHT_MAIL_API: mail.apiUrl,
+        NEXTAUTH_SECRET: randomBytes(32).toString("base64url"),
+      };
       runTs("db/migrate.ts", env);
-      if (!only || only === "integration") vitest("integration", env);
-
-      if (!only || only === "e2e") {
-        const built = stage("production build (next build)", () =>
-          run(process.execPath, ["node_modules/next/dist/bin/next", "build"], { env: { ...env, NEXT_TELEMETRY_DISABLED: "1" }, what: "next build" }),
-        );
-        if (built) {
-          runTs("db/seed.ts", env);
-          const port = await freePort();
-          const server = startNext(port, { ...env, NEXTAUTH_URL: `http://127.0.0.1:${port}` });
-          cleanup.add(server.stop);
-          await server.ready;
-          vitest("e2e", { ...env, LASHWRIGHT_BASE_URL: `http://127.0.0.1:${port}` });
-          await server.stop();
-        }
+      const built = stage("production build (next build)", () =>
+        run(process.execPath, ["node_modules/next/dist/bin/next", "build"], { env: { ...env, NEXT_TELEMETRY_DISABLED: "1" }, what: "next build" }),
+      );
+      if (!built) failures.push("integration and browser tests skipped: the build failed");
+      // Integration tests talk HTTP to the production build; they start and restart it themselves.
+      if (built && (!only || only === "integration")) vitest("integration", env);
+      if (built && (!only || only === "e2e")) {
+        runTs("db/seed.ts", env);
+        const port = await freePort();
+        const server = startNext(port, { ...env, NEXTAUTH_URL: `http://127.0.0.1:${port}` });
+        cleanup.add(server.stop);
+        await server.ready;
+        vitest("e2e", { ...env, LASHWRIGHT_BASE_URL: `http://127.0.0.1:${port}` });
+        await server.stop();
       }
     }
   } catch (e) {
     failures.push(e instanceof SetupError ? e.message : String(e?.stack ?? e));
-    console.error(`[lashwright] test set-up failed: ${e instanceof SetupError ? e.message : e?.stack ?? e}`);
+    console.error(`[lashwright] test set-up failed: ${e instanceof SetupError ? e.message : (e?.stack ?? e)}`);
   } finally {
     await cleanup.runAll();
   }
-  const secs = Math.round((Date.now() - t0) / 1000);
   if (failures.length) log(`failed steps: ${failures.join("; ")}`);
-  log(`finished in ${secs} s`);
+  log(`finished in ${Math.round((Date.now() - t0) / 1000)} s`);
   console.log(`${results.passed} passed, ${results.failed} failed${results.skipped ? `, ${results.skipped} skipped` : ""}`);
   process.exit(failures.length || results.failed ? 1 : 0);
 }

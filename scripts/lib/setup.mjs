@@ -162,3 +162,40 @@ export function cleanupOnExit() {
   }
   return { add: (t) => tasks.push(t), runAll };
 }
+
+async function waitForHttp(url, what, child, ms = 30_000) {
+  const t0 = Date.now();
+  while (Date.now() - t0 < ms) {
+    if (child.exitCode !== null) throw new SetupError(`${what} exited at start (code ${child.exitCode})`);
+    try {
+      const res = await fetch(url);
+      if (res.status < 500) return;
+    } catch {
+      /* not up yet */
+    }
+    await sleep(150);
+  }
+  throw new SetupError(`${what} did not answer within ${ms / 1000} s`);
+}
+
+function stopper(child) {
+  return () =>
+    new Promise((resolve) => {
+      if (child.exitCode !== null) return resolve();
+      child.once("exit", () => resolve());
+      child.kill("SIGTERM");
+      setTimeout(() => child.exitCode === null && child.kill("SIGKILL"), 5000).unref();
+    });
+}
+
+/** The local SMTP catcher (maildev) on loopback; its HTTP API lists what arrived. */
+export async function startMailCatcher({ smtpPort, webPort, dir }) {
+  for (const p of [smtpPort, webPort]) if (!(await portFree(p))) throw new SetupError(`port ${p} (mail catcher) is in use: set SMTP_PORT and MAIL_WEB_PORT to free ports`);
+  mkdirSync(dir, { recursive: true });
+  const child = spawn(process.execPath, [path.join(root, "node_modules/maildev/dist/bin/maildev.js"), "--smtp", String(smtpPort), "--ip", "127.0.0.1", "--web", String(webPort), "--web-ip", "127.0.0.1", "--mail-directory", dir, "--silent"], {
+    cwd: root,
+    stdio: "ignore",
+  });
+  await waitForHttp(`http://127.0.0.1:${webPort}/api/healthz`, "the mail catcher", child);
+  return { smtpUrl: `smtp://127.0.0.1:${smtpPort}`, apiUrl: `http://127.0.0.1:${webPort}`, stop: stopper(child) };
+}

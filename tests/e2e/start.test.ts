@@ -62,7 +62,8 @@ describe("npm start", () => {
   it("serves the home page with demo data, stops its database on Ctrl-C, and keeps all data on a second start", async () => {
     rmSync(dataDir, { recursive: true, force: true });
     const [port, dbPort] = [await freePort(), await freePort()];
-    const first = start({ PORT: String(port), DB_PORT: String(dbPort) });
+    const mailPorts = { SMTP_PORT: String(await freePort()), MAIL_WEB_PORT: String(await freePort()) };
+    const first = start({ PORT: String(port), DB_PORT: String(dbPort), ...mailPorts });
     await first.waitFor(/Lashwright is on http:\/\/127\.0\.0\.1:\d+/);
     expect(first.output()).toMatch(/Demo data added/);
     expect(first.output()).toMatch(/mara@kestrel-hollow\.example/);
@@ -82,7 +83,7 @@ describe("npm start", () => {
     expect(await portIsFree(dbPort)).toBe(true);
     expect(await portIsFree(port)).toBe(true);
 
-    const second = start({ PORT: String(port), DB_PORT: String(dbPort) });
+    const second = start({ PORT: String(port), DB_PORT: String(dbPort), ...mailPorts });
     await second.waitFor(/Lashwright is on/);
     expect(second.output()).toMatch(/already present: nothing added/);
     expect(await counts(dbPort)).toEqual(before);

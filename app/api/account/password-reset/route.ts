@@ -1,0 +1,8 @@
+import { emailOnlyInput } from "@/lib/schemas/account";
+import { route } from "@/server/http";
+import { requestPasswordReset } from "@/server/account";
+
+export const POST = route({ auth: false, body: emailOnlyInput, status: 202 }, async ({ body }) => {
+  await requestPasswordReset(body.email);
+  return { ok: true, message: "If that address has an account, a link is on its way." };
+});

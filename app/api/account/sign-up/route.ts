@@ -1,0 +1,8 @@
+import { signUpInput } from "@/lib/schemas/account";
+import { route } from "@/server/http";
+import { signUp } from "@/server/account";
+
+export const POST = route({ auth: false, body: signUpInput, status: 202 }, async ({ body }) => {
+  await signUp(body);
+  return { ok: true, message: "Check your inbox for a link to confirm your address." };
+});

@@ -1,0 +1,214 @@
+import "server-only";
+import { and, asc, desc, eq, gt, inArray, isNull } from "drizzle-orm";
+import { createHash, randomBytes } from "node:crypto";
+import { db } from "../client";
+import { checks, clubs, comments, engines, invites, memberships, shares, users, type Role } from "../schema";
+import { nextVersion } from "../versions";
+
+export async function rolesInClub(userId: string, clubId: string): Promise<Role[]> {
+  const rows = await db().select({ role: memberships.role }).from(memberships).where(and(eq(memberships.userId, userId), eq(memberships.clubId, clubId)));
+  return rows.map((r) => r.role);
+}
+
+export async function listMyClubs(userId: string) {
+  const rows = await db()
+    .select({ id: clubs.id, name: clubs.name, role: memberships.role })
+    .from(memberships)
+    .innerJoin(clubs, eq(clubs.id, memberships.clubId))
+    .where(eq(memberships.userId, userId))
+    .orderBy(asc(clubs.name));
+  const byClub = new Map<string, { id: string; name: string; roles: Role[] }>();
+  for (const r of rows) {
+    const c = byClub.get(r.id) ?? { id: r.id, name: r.name, roles: [] };
+    c.roles.push(r.role);
+    byClub.set(r.id, c);
+  }
+  return [...byClub.values()];
+}
+
+export async function getClub(clubId: string) {
+  const [c] = await db().select({ id: clubs.id, name: clubs.name, createdAt: clubs.createdAt }).from(clubs).where(eq(clubs.id, clubId)).limit(1);
+  return c;
+}
+
+/** A new club; its creator becomes admin (and a mechanic member). */
+export async function createClub(userId: string, name: string) {
+  const id = crypto.randomUUID();
+  await db().transaction(async (tx) => {
+    await tx.insert(clubs).values({ id, name, createdBy: userId });
+    await tx.insert(memberships).values([
+      { clubId: id, userId, role: "admin" },
+      { clubId: id, userId, role: "mechanic" },
+    ]);
+  });
+  return { id, name, roles: ["admin", "mechanic"] as Role[] };
+}
+
+export async function listMembers(clubId: string) {
+  const rows = await db()
+    .select({ userId: users.id, name: users.name, email: users.email, role: memberships.role })
+    .from(memberships)
+    .innerJoin(users, eq(users.id, memberships.userId))
+    .where(eq(memberships.clubId, clubId))
+    .orderBy(asc(users.name));
+  const byUser = new Map<string, { userId: string; name: string; email: string; roles: Role[] }>();
+  for (const r of rows) {
+    const m = byUser.get(r.userId) ?? { userId: r.userId, name: r.name, email: r.email, roles: [] };
+    m.roles.push(r.role);
+    byUser.set(r.userId, m);
+  }
+  return [...byUser.values()];
+}
+
+export async function countAdmins(clubId: string) {
+  const rows = await db().select({ id: memberships.id }).from(memberships).where(and(eq(memberships.clubId, clubId), eq(memberships.role, "admin")));
+  return rows.length;
+}
+
+/** Replace a member's roles in one transaction. */
+export async function setRoles(clubId: string, userId: string, roles: Role[]) {
+  await db().transaction(async (tx) => {
+    await tx.delete(memberships).where(and(eq(memberships.clubId, clubId), eq(memberships.userId, userId)));
+    if (roles.length) await tx.insert(memberships).values([...new Set(roles)].map((role) => ({ clubId, userId, role })));
+  });
+}
+
+const hash = (raw: string) => createHash("sha256").update(raw).digest("hex");
+
+export async function createInvite(clubId: string, invitedBy: string, email: string, role: Role) {
+  const raw = randomBytes(32).toString("base64url");
+  const id = crypto.randomUUID();
+  await db().insert(invites).values({ id, clubId, email, role, invitedBy, tokenHash: hash(raw), expiresAt: new Date(Date.now() + 14 * 86_400_000) });
+  return { id, token: raw };
+}
+
+export async function listInvites(clubId: string) {
+  return db()
+    .select({ id: invites.id, email: invites.email, role: invites.role, expiresAt: invites.expiresAt, acceptedAt: invites.acceptedAt, createdAt: invites.createdAt })
+    .from(invites)
+    .where(eq(invites.clubId, clubId))
+    .orderBy(desc(invites.createdAt));
+}
+
+/** Accept an invite once: it must be unexpired, unused, and addressed to the accepting user's e-mail. */
+export async function acceptInvite(raw: string, user: { id: string; email: string }) {
+  return db().transaction(async (tx) => {
+    const [inv] = await tx
+      .select()
+      .from(invites)
+      .where(and(eq(invites.tokenHash, hash(raw)), isNull(invites.acceptedAt), gt(invites.expiresAt, new Date())))
+      .for("update");
+    if (!inv || inv.email !== user.email) return null;
+    await tx.update(invites).set({ acceptedAt: new Date() }).where(eq(invites.id, inv.id));
+    const have = await tx.select({ role: memberships.role }).from(memberships).where(and(eq(memberships.clubId, inv.clubId), eq(memberships.userId, user.id)));
+    const want = [...new Set<Role>(["mechanic", inv.role])].filter((r) => !have.some((h) => h.role === r));
+    if (want.length) await tx.insert(memberships).values(want.map((role) => ({ clubId: inv.clubId, userId: user.id, role })));
+    return { clubId: inv.clubId };
+  });
+}
+
+type ShareRow = typeof shares.$inferSelect;
+export const shareToApi = (s: ShareRow) => ({ id: s.id, checkId: s.checkId, clubId: s.clubId, verdict: s.verdict, verdictAt: s.verdictAt, withdrawnAt: s.withdrawnAt, createdAt: s.createdAt });
+
+export async function getShare(shareId: string) {
+  const [s] = await db().select().from(shares).where(eq(shares.id, shareId)).limit(1);
+  return s;
+}
+
+export async function listSharesOfCheck(checkId: string) {
+  const rows = await db().select().from(shares).where(eq(shares.checkId, checkId)).orderBy(desc(shares.createdAt));
+  return rows.map(shareToApi);
+}
+
+/** Share (or share again after a withdrawal) a check with a club. */
+export async function shareCheck(checkId: string, clubId: string, userId: string) {
+  await db().transaction(async (tx) => {
+    const version = await nextVersion(tx);
+    await tx
+      .insert(shares)
+      .values({ checkId, clubId, sharedBy: userId, version })
+      .onDuplicateKeyUpdate({ set: { withdrawnAt: null, version } });
+  });
+  const [s] = await db().select().from(shares).where(and(eq(shares.checkId, checkId), eq(shares.clubId, clubId))).limit(1);
+  return shareToApi(s!);
+}
+
+export async function withdrawShare(shareId: string) {
+  await db().transaction(async (tx) => {
+    const version = await nextVersion(tx);
+    await tx.update(shares).set({ withdrawnAt: new Date(), version }).where(eq(shares.id, shareId));
+  });
+}
+
+export async function setVerdict(shareId: string, mentorId: string, verdict: NonNullable<ShareRow["verdict"]>) {
+  await db().transaction(async (tx) => {
+    const version = await nextVersion(tx);
+    await tx.update(shares).set({ verdict, verdictBy: mentorId, verdictAt: new Date(), version }).where(eq(shares.id, shareId));
+  });
+  return shareToApi((await getShare(shareId))!);
+}
+
+/** Clubs where the user is a mentor and the check is shared (not withdrawn). */
+export async function mentorSharesForCheck(userId: string, checkId: string) {
+  return db()
+    .select({ shareId: shares.id, clubId: shares.clubId })
+    .from(shares)
+    .innerJoin(memberships, and(eq(memberships.clubId, shares.clubId), eq(memberships.userId, userId), eq(memberships.role, "mentor")))
+    .where(and(eq(shares.checkId, checkId), isNull(shares.withdrawnAt)));
+}
+
+/** The review queue of a club: shared checks, newest first. */
+export async function reviewQueue(clubId: string, limit: number, offset: number) {
+  return db()
+    .select({
+      shareId: shares.id,
+      checkId: checks.id,
+      engineName: engines.name,
+      ownerName: users.name,
+      odometer: checks.odometer,
+      status: checks.status,
+      verdict: shares.verdict,
+      sharedAt: shares.createdAt,
+    })
+    .from(shares)
+    .innerJoin(checks, eq(checks.id, shares.checkId))
+    .innerJoin(engines, eq(engines.id, checks.engineId))
+    .innerJoin(users, eq(users.id, checks.ownerId))
+    .where(and(eq(shares.clubId, clubId), isNull(shares.withdrawnAt)))
+    .orderBy(desc(shares.createdAt))
+    .limit(limit + 1)
+    .offset(offset);
+}
+
+type CommentRow = typeof comments.$inferSelect;
+export async function listComments(checkId: string) {
+  return db()
+    .select({ id: comments.id, checkId: comments.checkId, valve: comments.valve, body: comments.body, createdAt: comments.createdAt, authorId: comments.authorId, authorName: users.name })
+    .from(comments)
+    .innerJoin(users, eq(users.id, comments.authorId))
+    .where(eq(comments.checkId, checkId))
+    .orderBy(asc(comments.createdAt), asc(comments.id));
+}
+
+export async function addComment(checkId: string, authorId: string, input: { id?: string; body: string; valve?: string | null }): Promise<CommentRow> {
+  const id = input.id ?? crypto.randomUUID();
+  await db().transaction(async (tx) => {
+    const version = await nextVersion(tx);
+    await tx.insert(comments).values({ id, checkId, authorId, body: input.body, valve: input.valve ?? null, version });
+  });
+  const [c] = await db().select().from(comments).where(eq(comments.id, id)).limit(1);
+  return c!;
+}
+
+export async function usersByIds(ids: string[]) {
+  if (ids.length === 0) return [];
+  return db().select({ id: users.id, email: users.email, name: users.name, noticesByEmail: users.noticesByEmail }).from(users).where(inArray(users.id, ids));
+}
+
+export async function mentorsOfClub(clubId: string) {
+  return db()
+    .select({ id: users.id, email: users.email, name: users.name, noticesByEmail: users.noticesByEmail })
+    .from(memberships)
+    .innerJoin(users, eq(users.id, memberships.userId))
+    .where(and(eq(memberships.clubId, clubId), eq(memberships.role, "mentor")));
+}

@@ -1,0 +1,51 @@
+import "server-only";
+import { and, eq, sql } from "drizzle-orm";
+import { db } from "../client";
+import { notices } from "../schema";
+
+export interface NoticeInput {
+  toEmail: string;
+  toUserId?: string | null;
+  kind: string;
+  subject: string;
+  body: string;
+}
+
+type Tx = Parameters<Parameters<ReturnType<typeof db>["transaction"]>[0]>[0];
+
+export async function enqueueNotices(items: NoticeInput[], tx?: Tx): Promise<void> {
+  if (items.length === 0) return;
+  await (tx ?? db()).insert(notices).values(items.map((n) => ({ ...n, toUserId: n.toUserId ?? null })));
+}
+
+/**
+ * Claim up to `limit` notices that are due (or whose earlier claim expired, say because the instance
+ * sending them died). One UPDATE with a fresh claim token, so two app instances never send one twice.
+ */
+export async function claimDueNotices(limit: number, claimSeconds = 60) {
+  const token = crypto.randomUUID();
+  await db().execute(sql`
+    UPDATE notices SET status = 'sending', claim_token = ${token}, claimed_until = NOW(3) + INTERVAL ${claimSeconds} SECOND
+    WHERE (status = 'queued' AND next_attempt_at <= NOW(3)) OR (status = 'sending' AND claimed_until < NOW(3))
+    ORDER BY next_attempt_at LIMIT ${limit}`);
+  return db().select().from(notices).where(and(eq(notices.claimToken, token), eq(notices.status, "sending")));
+}
+
+export async function markNoticeSent(id: string): Promise<void> {
+  await db().update(notices).set({ status: "sent", claimToken: null, lastError: null }).where(eq(notices.id, id));
+}
+
+/** Back off 30 s, 1 min, 2 min, ... and give up after `maxAttempts`. */
+export async function markNoticeFailed(id: string, attempts: number, error: string, maxAttempts = 8): Promise<void> {
+  const giveUp = attempts >= maxAttempts;
+  await db()
+    .update(notices)
+    .set({
+      status: giveUp ? "failed" : "queued",
+      attempts,
+      claimToken: null,
+      lastError: error.slice(0, 500),
+      nextAttemptAt: new Date(Date.now() + 30_000 * 2 ** Math.min(attempts - 1, 10)),
+    })
+    .where(eq(notices.id, id));
+}

@@ -1,0 +1,64 @@
+import "server-only";
+import { and, eq, gt, isNull, sql } from "drizzle-orm";
+import { createHash, randomBytes } from "node:crypto";
+import { db } from "../client";
+import { authTokens, users } from "../schema";
+
+/** The columns any caller may see of a user: never the password hash. */
+export const publicUserColumns = { id: users.id, email: users.email, name: users.name, displayUnit: users.displayUnit, noticesByEmail: users.noticesByEmail } as const;
+export type PublicUser = { id: string; email: string; name: string; displayUnit: "mm" | "in"; noticesByEmail: boolean };
+
+export async function getPublicUser(id: string): Promise<PublicUser | undefined> {
+  const [u] = await db().select(publicUserColumns).from(users).where(eq(users.id, id)).limit(1);
+  return u;
+}
+
+/** For the sign-in check only: includes the hash, so it never leaves server/auth. */
+export async function getCredentialsByEmail(email: string) {
+  const [u] = await db()
+    .select({ id: users.id, email: users.email, name: users.name, passwordHash: users.passwordHash, emailVerifiedAt: users.emailVerifiedAt, sessionGeneration: users.sessionGeneration })
+    .from(users)
+    .where(eq(users.email, email))
+    .limit(1);
+  return u;
+}
+
+export async function getSessionGeneration(id: string): Promise<number | undefined> {
+  const [u] = await db().select({ g: users.sessionGeneration }).from(users).where(eq(users.id, id)).limit(1);
+  return u?.g;
+}
+
+export async function bumpSessionGeneration(id: string): Promise<void> {
+  await db().update(users).set({ sessionGeneration: sql`${users.sessionGeneration} + 1` }).where(eq(users.id, id));
+}
+
+export async function createUser(input: { email: string; name: string; passwordHash: string }): Promise<string> {
+  const id = crypto.randomUUID();
+  await db().insert(users).values({ id, ...input });
+  return id;
+}
+
+export async function updateUser(id: string, patch: Partial<{ name: string; displayUnit: "mm" | "in"; noticesByEmail: boolean; passwordHash: string; emailVerifiedAt: Date }>) {
+  await db().update(users).set(patch).where(eq(users.id, id));
+}
+
+const hashToken = (raw: string) => createHash("sha256").update(raw).digest("hex");
+
+/** A one-time token for a link in an e-mail; only its hash is stored. */
+export async function createAuthToken(userId: string, purpose: "verify" | "reset" | "signin", ttlMinutes: number): Promise<string> {
+  const raw = randomBytes(32).toString("base64url");
+  await db().insert(authTokens).values({ userId, purpose, tokenHash: hashToken(raw), expiresAt: new Date(Date.now() + ttlMinutes * 60_000) });
+  return raw;
+}
+
+/** Use a token once: the update that marks it used is the check, so two racing uses cannot both win. */
+export async function consumeAuthToken(raw: string, purpose: "verify" | "reset" | "signin"): Promise<string | null> {
+  const tokenHash = hashToken(raw);
+  const where = and(eq(authTokens.tokenHash, tokenHash), eq(authTokens.purpose, purpose), isNull(authTokens.usedAt), gt(authTokens.expiresAt, new Date()));
+  const [res] = await db().update(authTokens).set({ usedAt: new Date() }).where(where);
+  if (res.affectedRows !== 1) return null;
+  const [row] = await db().select({ userId: authTokens.userId }).from(authTokens).where(eq(authTokens.tokenHash, tokenHash)).limit(1);
+  return row?.userId ?? null;
+}
+
+export { hashToken };

@@ -1,0 +1,136 @@
+import { z } from "zod";
+import { lengthMm, positiveLengthMm, rotationInputSchema, shimSeries, specSchema, timingSchema, LashInputError } from "../lash";
+import { parseValveName } from "../lash/valves";
+
+/**
+ * Input schemas of the records the API and the offline outbox accept. One schema per resource; the
+ * update variants are `.partial()` of the create ones, re-checked as a whole after merging.
+ */
+
+export const idSchema = z.string().regex(/^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/, { error: "not a valid id" });
+const name = z.string().trim().min(1, { error: "give it a name" }).max(120, { error: "at most 120 characters" });
+
+const shimSystem = z.union([
+  z.object({ min: positiveLengthMm, max: positiveLengthMm, step: positiveLengthMm }).superRefine((s, ctx) => {
+    try {
+      shimSeries(s.min, s.max, s.step);
+    } catch (e) {
+      ctx.addIssue({ code: "custom", path: ["step"], message: e instanceof LashInputError ? e.message : "not a valid series" });
+    }
+  }),
+  z.object({ sizes: z.array(positiveLengthMm).min(1, { error: "list at least one size" }).max(400) }),
+]);
+
+export const engineFields = z.object({
+  id: idSchema.optional(),
+  name,
+  cylinders: z.number().int().min(1, { error: "1 to 8 cylinders" }).max(8, { error: "1 to 8 cylinders" }),
+  intakePerCylinder: z.number().int().min(1).max(3),
+  exhaustPerCylinder: z.number().int().min(1).max(2),
+  firingOrder: z.array(z.number().int().min(1).max(8)).min(1).max(8),
+  firingAngles: z.array(z.number().finite().min(0).max(720)).nullable().optional(),
+  timing: timingSchema.optional(),
+  intake: specSchema,
+  exhaust: specSchema,
+  measuredHot: z.boolean().default(false),
+  shims: shimSystem,
+  shimDiameter: positiveLengthMm.nullable().optional(),
+  assembledShim: positiveLengthMm.nullable().optional(),
+  displayUnit: z.enum(["mm", "in"]).default("mm"),
+  odometerUnit: z.enum(["km", "mi", "h"]).default("km"),
+  mirrored: z.boolean().default(false),
+});
+
+function engineRules(e: z.infer<typeof engineFields>, ctx: z.RefinementCtx) {
+  if (e.firingOrder.length !== e.cylinders) {
+    ctx.addIssue({ code: "custom", path: ["firingOrder"], message: `name all ${e.cylinders} cylinders once` });
+    return;
+  }
+  const r = rotationInputSchema.safeParse({ firingOrder: e.firingOrder, firingAngles: e.firingAngles ?? undefined, timing: e.timing });
+  if (!r.success) for (const i of r.error.issues) ctx.addIssue({ code: "custom", path: i.path, message: i.message });
+}
+
+export const engineInput = engineFields.superRefine(engineRules);
+export const engineUpdate = engineFields.partial();
+export type EngineInput = z.infer<typeof engineInput>;
+export { engineRules };
+
+export const checkInput = z.object({
+  id: idSchema.optional(),
+  odometer: z.number({ error: "enter the odometer or hours" }).finite().min(0, { error: "cannot be negative" }).max(9_999_999),
+  measuredHot: z.boolean().default(false),
+  notes: z.string().max(4000).nullable().optional(),
+});
+export const checkUpdate = checkInput
+  .omit({ id: true })
+  .partial()
+  .extend({ status: z.enum(["measuring", "planned", "fitting", "verifying", "closed"]).optional() });
+
+export const valveKey = z.string().refine((v) => parseValveName(v) !== null, { error: 'a valve is named like "I1.1" or "E4.2"' });
+
+export const readingInput = z
+  .object({
+    valve: valveKey,
+    round: z.number().int().min(0).max(50).default(0),
+    installedStamp: positiveLengthMm.nullable().optional(),
+    installedMicrometer: positiveLengthMm.nullable().optional(),
+    feelerGo: lengthMm.nullable().optional(),
+    feelerNoGo: lengthMm.nullable().optional(),
+    measured: lengthMm.nullable().optional(),
+    method: z.enum(["feeler", "typed"]).default("feeler"),
+    fittedShim: positiveLengthMm.nullable().optional(),
+  })
+  .superRefine((r, ctx) => {
+    if (r.feelerGo != null && r.feelerNoGo != null && r.feelerNoGo <= r.feelerGo)
+      ctx.addIssue({ code: "custom", path: ["feelerNoGo"], message: "the no-go blade must be thicker than the go blade" });
+  });
+export type ReadingInput = z.infer<typeof readingInput>;
+
+export const readingsPut = z.object({ readings: z.array(readingInput).min(1).max(200) });
+
+export const trayItemInput = z.object({
+  id: idSchema.optional(),
+  size: positiveLengthMm,
+  measuredSize: z.boolean().default(false),
+  count: z.number().int().min(0, { error: "cannot be negative" }).max(10_000),
+  shimDiameter: positiveLengthMm.nullable().optional(),
+});
+export const trayItemUpdate = trayItemInput.omit({ id: true }).partial();
+
+export const clubInput = z.object({ name });
+export const roleSchema = z.enum(["mechanic", "mentor", "admin"]);
+export const rolesInput = z.object({ roles: z.array(roleSchema).min(1, { error: "give at least one role" }).max(3) });
+export const inviteInput = z.object({
+  email: z.string().trim().toLowerCase().max(254).pipe(z.email({ error: "enter a valid e-mail address" })),
+  role: roleSchema.default("mechanic"),
+});
+export const shareInput = z.object({ clubId: idSchema });
+export const commentInput = z.object({
+  id: idSchema.optional(),
+  body: z.string().trim().min(1, { error: "write something" }).max(4000, { error: "at most 4000 characters" }),
+  valve: valveKey.nullable().optional(),
+});
+export const verdictInput = z.object({ verdict: z.enum(["close-up", "measure-again", "stop-and-ask"]) });
+
+/**
+ * Readings checked against their engine: the valve must exist on it and the shims must lie within
+ * its shim system (with the same slack the planner allows for worn or odd stock).
+ */
+export function readingProblems(
+  engine: { cylinders: number; intakePerCylinder: number; exhaustPerCylinder: number; shimSizes: number[] },
+  rs: ReadingInput[],
+): Record<string, string> {
+  const out: Record<string, string> = {};
+  const lo = Math.min(...engine.shimSizes) - 0.1 - 1e-9;
+  const hi = Math.max(...engine.shimSizes) + 0.1 + 1e-9;
+  rs.forEach((r, i) => {
+    const v = parseValveName(r.valve)!;
+    const per = v.kind === "intake" ? engine.intakePerCylinder : engine.exhaustPerCylinder;
+    if (v.cylinder < 1 || v.cylinder > engine.cylinders || v.index < 1 || v.index > per) out[`readings.${i}.valve`] = `this engine has no valve ${r.valve}`;
+    for (const f of ["installedStamp", "installedMicrometer", "fittedShim"] as const) {
+      const s = r[f];
+      if (s != null && (s < lo || s > hi)) out[`readings.${i}.${f}`] = `${s} mm is outside this engine's shim range`;
+    }
+  });
+  return out;
+}

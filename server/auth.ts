@@ -1,0 +1,104 @@
+import "server-only";
+import type { NextAuthOptions } from "next-auth";
+import { decode } from "next-auth/jwt";
+import Credentials from "next-auth/providers/credentials";
+import { env } from "@/lib/env";
+import { emailSchema, tokenSchema } from "@/lib/schemas/account";
+import { hashPassword, verifyPassword } from "@/lib/auth/password";
+import { bumpSessionGeneration, consumeAuthToken, getCredentialsByEmail, getPublicUser, getSessionGeneration, updateUser, type PublicUser } from "@/db/queries/users";
+import { clientAddress, isThrottled, noteFailure, noteSuccess } from "./throttle";
+
+export type SessionUser = PublicUser;
+
+/** Sign-in errors the sign-in page knows how to explain (next-auth passes the message through). */
+export const SIGN_IN_ERRORS = { throttled: "Throttled", unverified: "Unverified" } as const;
+
+/**
+ * The one auth configuration. Sessions are signed JWTs carrying only the user id and a session
+ * generation; roles are looked up per request, so a removed mentor loses access at once, and
+ * signing out raises the generation so the old token stops working everywhere.
+ */
+export const authOptions: NextAuthOptions = {
+  secret: env().NEXTAUTH_SECRET ?? (env().NODE_ENV === "production" ? undefined : "lashwright-development-secret-not-for-production"),
+  session: { strategy: "jwt", maxAge: 30 * 24 * 60 * 60 },
+  pages: { signIn: "/sign-in", error: "/sign-in" },
+  providers: [
+    Credentials({
+      id: "password",
+      name: "E-mail and password",
+      credentials: { email: { type: "email" }, password: { type: "password" } },
+      async authorize(credentials, req) {
+        const email = emailSchema.safeParse(credentials?.email);
+        const password = typeof credentials?.password === "string" ? credentials.password : "";
+        if (!email.success || password.length === 0 || password.length > 256) return null;
+        const address = clientAddress(req?.headers as Record<string, string> | undefined);
+        if (await isThrottled(email.data, address)) throw new Error(SIGN_IN_ERRORS.throttled);
+        const u = await getCredentialsByEmail(email.data);
+        const ok = await verifyPassword(password, u?.passwordHash ?? (await dummy()));
+        if (!u || !ok) {
+          await noteFailure(email.data, address);
+          return null;
+        }
+        if (!u.emailVerifiedAt) throw new Error(SIGN_IN_ERRORS.unverified);
+        await noteSuccess(email.data);
+        return { id: u.id, email: u.email, name: u.name, generation: u.sessionGeneration };
+      },
+    }),
+    Credentials({
+      id: "email-link",
+      name: "E-mail link",
+      credentials: { token: { type: "text" } },
+      async authorize(credentials) {
+        const token = tokenSchema.safeParse(credentials?.token);
+        if (!token.success) return null;
+        const userId = await consumeAuthToken(token.data, "signin");
+        if (!userId) return null;
+        const u = await getPublicUser(userId);
+        const generation = await getSessionGeneration(userId);
+        if (!u || generation === undefined) return null;
+        // following a link from the inbox proves the address
+        await updateUser(userId, { emailVerifiedAt: new Date() });
+        return { id: u.id, email: u.email, name: u.name, generation };
+      },
+    }),
+  ],
+  callbacks: {
+    async jwt({ token, user }) {
+      if (user) {
+        token.uid = user.id;
+        token.gen = (user as { generation?: number }).generation ?? 0;
+      }
+      return token;
+    },
+    async session({ session, token }) {
+      if (session.user) (session.user as { id?: string }).id = token.uid as string;
+      return session;
+    },
+  },
+  events: {
+    async signOut({ token }) {
+      if (token?.uid) await bumpSessionGeneration(token.uid as string);
+    },
+  },
+};
+
+/** The signed-in user, checked against the database on every call (deleted or signed out: null). */
+export async function currentUser(): Promise<SessionUser | null> {
+  const { cookies } = await import("next/headers");
+  const jar = await cookies();
+  const raw = jar.get("__Secure-next-auth.session-token")?.value ?? jar.get("next-auth.session-token")?.value;
+  const secret = authOptions.secret;
+  if (!raw || !secret) return null;
+  const t = await decode({ token: raw, secret }).catch(() => null);
+  if (typeof t?.uid !== "string" || typeof t.gen !== "number") return null;
+  const current = await getSessionGeneration(t.uid);
+  if (current === undefined || current !== t.gen) return null;
+  return (await getPublicUser(t.uid)) ?? null;
+}
+
+let dummyHash: Promise<string> | undefined;
+/** A real hash to compare against when the account does not exist, so timing tells nothing. */
+function dummy(): Promise<string> {
+  dummyHash ??= hashPassword(crypto.randomUUID());
+  return dummyHash;
+}

@@ -1,0 +1,30 @@
+import "server-only";
+import { shimSeries } from "@/lib/lash";
+import { engineInput, readingProblems, type ReadingInput } from "@/lib/schemas/records";
+import { engineToApi, type ApiEngine } from "@/db/queries/garage";
+import type { engines } from "@/db/schema";
+import { ApiError } from "./http";
+
+/** The engine's shim sizes, from its series or explicit list. */
+export function engineSizes(e: Pick<ApiEngine, "shims">): number[] {
+  return "sizes" in e.shims ? (e.shims.sizes ?? []) : shimSeries(e.shims.min, e.shims.max, e.shims.step);
+}
+
+/** Merge a partial update into the stored engine and validate the result as a whole. */
+export function mergeEngine(row: typeof engines.$inferSelect, patch: Record<string, unknown>) {
+  const current = engineToApi(row);
+  const merged = { ...current, ...patch };
+  const parsed = engineInput.safeParse(merged);
+  if (!parsed.success) {
+    const fields = Object.fromEntries(parsed.error.issues.map((i) => [i.path.join(".") || "_", i.message]));
+    throw new ApiError(422, "invalid", `${Object.keys(fields)[0]}: ${Object.values(fields)[0]}`, fields);
+  }
+  return parsed.data;
+}
+
+export function checkReadingsFit(row: typeof engines.$inferSelect, rs: ReadingInput[]) {
+  const e = engineToApi(row);
+  const problems = readingProblems({ ...e, shimSizes: engineSizes(e) }, rs);
+  const first = Object.entries(problems)[0];
+  if (first) throw new ApiError(422, "invalid", `${first[0]}: ${first[1]}`, problems);
+}

@@ -1,0 +1,44 @@
+import "server-only";
+import { claimDueNotices, enqueueNotices, markNoticeFailed, markNoticeSent, type NoticeInput } from "@/db/queries/notices";
+import { sendMail } from "./mail";
+
+/**
+ * E-mail notices go through a queue table: the request that causes one only inserts a row, so a
+ * slow or failing mail server never blocks or fails it. Delivery is kicked right after, and a timer
+ * (instrumentation.ts) retries what failed.
+ */
+export async function queueNotices(items: NoticeInput[]): Promise<void> {
+  await enqueueNotices(items);
+  kickDelivery();
+}
+
+let running: Promise<number> | null = null;
+
+export function deliverDueNotices(): Promise<number> {
+  running ??= (async () => {
+    let sent = 0;
+    try {
+      for (;;) {
+        const batch = await claimDueNotices(20);
+        if (batch.length === 0) break;
+        for (const n of batch) {
+          try {
+            await sendMail(n.toEmail, n.subject, n.body);
+            await markNoticeSent(n.id);
+            sent++;
+          } catch (e) {
+            await markNoticeFailed(n.id, n.attempts + 1, e instanceof Error ? e.message : String(e));
+          }
+        }
+      }
+    } finally {
+      running = null;
+    }
+    return sent;
+  })();
+  return running;
+}
+
+export function kickDelivery(): void {
+  deliverDueNotices().catch((e: unknown) => console.error("[notices] delivery failed:", e instanceof Error ? e.message : e));
+}

@@ -1,0 +1,64 @@
+/** A tiny HTTP client with a cookie jar, signing in through next-auth like a browser does. */
+export class Client {
+  private cookies = new Map<string, string>();
+  constructor(readonly base: string) {}
+
+  private remember(res: Response) {
+    for (const c of res.headers.getSetCookie()) {
+      const [pair] = c.split(";");
+      const i = pair!.indexOf("=");
+      const name = pair!.slice(0, i);
+      const value = pair!.slice(i + 1);
+      if (value === "" || /Max-Age=0|expires=Thu, 01 Jan 1970/i.test(c)) this.cookies.delete(name);
+      else this.cookies.set(name, value);
+    }
+  }
+
+  cookieHeader() {
+    return [...this.cookies].map(([k, v]) => `${k}=${v}`).join("; ");
+  }
+
+  cookieNames() {
+    return [...this.cookies.keys()];
+  }
+
+  async raw(method: string, path: string, init: { body?: string; headers?: Record<string, string> } = {}) {
+    const res = await fetch(this.base + path, { method, redirect: "manual", headers: { cookie: this.cookieHeader(), ...(init.headers ?? {}) }, body: init.body });
+    this.remember(res);
+    return res;
+  }
+
+  async call(method: string, path: string, body?: unknown) {
+    const res = await this.raw(method, path, body === undefined ? {} : { body: JSON.stringify(body), headers: { "content-type": "application/json" } });
+    const text = await res.text();
+    let json: unknown = null;
+    try {
+      json = text ? JSON.parse(text) : null;
+    } catch {
+      json = text;
+    }
+    return { status: res.status, json: json as Record<string, any> }; // eslint-disable-line @typescript-eslint/no-explicit-any
+  }
+
+  get = (p: string) => this.call("GET", p);
+  post = (p: string, b?: unknown) => this.call("POST", p, b ?? {});
+  put = (p: string, b?: unknown) => this.call("PUT", p, b ?? {});
+  patch = (p: string, b?: unknown) => this.call("PATCH", p, b ?? {});
+  del = (p: string) => this.call("DELETE", p);
+
+  /** Sign in with a next-auth credentials provider; returns the error code, or null on success. */
+  async signIn(provider: "password" | "email-link", fields: Record<string, string>): Promise<string | null> {
+    const csrf = await this.call("GET", "/api/auth/csrf");
+    const form = new URLSearchParams({ ...fields, csrfToken: csrf.json.csrfToken as string, json: "true" });
+    const res = await this.raw("POST", `/api/auth/callback/${provider}`, { body: form.toString(), headers: { "content-type": "application/x-www-form-urlencoded" } });
+    const body = (await res.json().catch(() => ({}))) as { url?: string };
+    const error = body.url ? new URL(body.url).searchParams.get("error") : "no-url";
+    return error;
+  }
+
+  async signOut() {
+    const csrf = await this.call("GET", "/api/auth/csrf");
+    const form = new URLSearchParams({ csrfToken: csrf.json.csrfToken as string, json: "true" });
+    await this.raw("POST", "/api/auth/signout", { body: form.toString(), headers: { "content-type": "application/x-www-form-urlencoded" } });
+  }
+}

@@ -1,0 +1,55 @@
+import { spawn, type ChildProcess } from "node:child_process";
+import net from "node:net";
+import path from "node:path";
+
+const root = path.resolve(__dirname, "../..");
+
+export function freePort(): Promise<number> {
+  return new Promise((resolve) => {
+    const s = net.createServer();
+    s.listen(0, "127.0.0.1", () => {
+      const { port } = s.address() as net.AddressInfo;
+      s.close(() => resolve(port));
+    });
+  });
+}
+
+export interface App {
+  url: string;
+  port: number;
+  stop(): Promise<void>;
+  restart(): Promise<void>;
+  output(): string;
+}
+
+/** The production build (made by npm test) served by `next start` on a free loopback port. */
+export async function startApp(extraEnv: Record<string, string> = {}): Promise<App> {
+  const port = await freePort();
+  const url = `http://127.0.0.1:${port}`;
+  let child: ChildProcess;
+  let out = "";
+  const boot = async () => {
+    child = spawn(process.execPath, ["node_modules/next/dist/bin/next", "start", "-H", "127.0.0.1", "-p", String(port)], {
+      cwd: root,
+      env: { ...process.env, NODE_ENV: "production", NEXT_TELEMETRY_DISABLED: "1", NEXTAUTH_URL: url, ...extraEnv },
+      stdio: ["ignore", "pipe", "pipe"],
+    });
+    child.stdout!.on("data", (d) => (out += d));
+    child.stderr!.on("data", (d) => (out += d));
+    for (let i = 0; i < 300; i++) {
+      if (child.exitCode !== null) throw new Error(`next start exited:\n${out}`);
+      const ok = await fetch(`${url}/`).then((r) => r.status < 500).catch(() => false);
+      if (ok) return;
+      await new Promise((r) => setTimeout(r, 150));
+    }
+    throw new Error("next start did not answer");
+  };
+  const stop = () =>
+    new Promise<void>((resolve) => {
+      if (!child || child.exitCode !== null) return resolve();
+      child.once("exit", () => resolve());
+      child.kill("SIGTERM");
+    });
+  await boot();
+  return { url, port, stop, restart: async () => (await stop(), await boot()), output: () => out };
+}
