@@ -3,7 +3,7 @@ import { and, asc, desc, eq, gt, inArray, isNull } from "drizzle-orm";
 import { createHash, randomBytes } from "node:crypto";
 import { db } from "../client";
 import { checks, clubs, comments, engines, invites, memberships, shares, users, type Role } from "../schema";
-import { nextVersion } from "../versions";
+import { versioned } from "../versions";
 
 export async function rolesInClub(userId: string, clubId: string): Promise<Role[]> {
   const rows = await db().select({ role: memberships.role }).from(memberships).where(and(eq(memberships.userId, userId), eq(memberships.clubId, clubId)));
@@ -122,8 +122,7 @@ export async function listSharesOfCheck(checkId: string) {
 
 /** Share (or share again after a withdrawal) a check with a club. */
 export async function shareCheck(checkId: string, clubId: string, userId: string) {
-  await db().transaction(async (tx) => {
-    const version = await nextVersion(tx);
+  await versioned(async (tx, version) => {
     await tx
       .insert(shares)
       .values({ checkId, clubId, sharedBy: userId, version })
@@ -134,15 +133,13 @@ export async function shareCheck(checkId: string, clubId: string, userId: string
 }
 
 export async function withdrawShare(shareId: string) {
-  await db().transaction(async (tx) => {
-    const version = await nextVersion(tx);
+  await versioned(async (tx, version) => {
     await tx.update(shares).set({ withdrawnAt: new Date(), version }).where(eq(shares.id, shareId));
   });
 }
 
 export async function setVerdict(shareId: string, mentorId: string, verdict: NonNullable<ShareRow["verdict"]>) {
-  await db().transaction(async (tx) => {
-    const version = await nextVersion(tx);
+  await versioned(async (tx, version) => {
     await tx.update(shares).set({ verdict, verdictBy: mentorId, verdictAt: new Date(), version }).where(eq(shares.id, shareId));
   });
   return shareToApi((await getShare(shareId))!);
@@ -192,8 +189,7 @@ export async function listComments(checkId: string) {
 
 export async function addComment(checkId: string, authorId: string, input: { id?: string; body: string; valve?: string | null }): Promise<CommentRow> {
   const id = input.id ?? crypto.randomUUID();
-  await db().transaction(async (tx) => {
-    const version = await nextVersion(tx);
+  await versioned(async (tx, version) => {
     await tx.insert(comments).values({ id, checkId, authorId, body: input.body, valve: input.valve ?? null, version });
   });
   const [c] = await db().select().from(comments).where(eq(comments.id, id)).limit(1);

@@ -3,7 +3,7 @@ import { and, asc, desc, eq, inArray, sql } from "drizzle-orm";
 import type { EngineInput, ReadingInput } from "@/lib/schemas/records";
 import { db } from "../client";
 import { checks, engines, readingHistory, readings, tombstones, trayItems } from "../schema";
-import { nextVersion } from "../versions";
+import { versioned } from "../versions";
 
 /**
  * The mechanic's own records. Every function takes the owner's id and scopes by it, so a query can
@@ -75,24 +75,21 @@ export async function getEngineRow(engineId: string) {
 
 export async function createEngine(ownerId: string, input: EngineInput) {
   const id = input.id ?? crypto.randomUUID();
-  await db().transaction(async (tx) => {
-    const version = await nextVersion(tx);
+  await versioned(async (tx, version) => {
     await tx.insert(engines).values({ id, ownerId, ...engineToRow(input), version });
   });
   return engineToApi((await getEngineRow(id))!);
 }
 
 export async function updateEngine(ownerId: string, engineId: string, input: EngineInput) {
-  await db().transaction(async (tx) => {
-    const version = await nextVersion(tx);
+  await versioned(async (tx, version) => {
     await tx.update(engines).set({ ...engineToRow(input), version }).where(and(eq(engines.id, engineId), eq(engines.ownerId, ownerId)));
   });
   return engineToApi((await getEngineRow(engineId))!);
 }
 
 export async function deleteEngine(ownerId: string, engineId: string) {
-  await db().transaction(async (tx) => {
-    const version = await nextVersion(tx);
+  await versioned(async (tx, version) => {
     const cs = await tx.select({ id: checks.id }).from(checks).where(eq(checks.engineId, engineId));
     await tx.insert(tombstones).values([{ entity: "engine", entityId: engineId, ownerId, version }, ...cs.map((c) => ({ entity: "check", entityId: c.id, ownerId, version }))]);
     await tx.delete(engines).where(and(eq(engines.id, engineId), eq(engines.ownerId, ownerId)));
@@ -124,16 +121,14 @@ export async function getCheckRow(checkId: string) {
 
 export async function createCheck(ownerId: string, engineId: string, input: { id?: string; odometer: number; measuredHot: boolean; notes?: string | null }) {
   const id = input.id ?? crypto.randomUUID();
-  await db().transaction(async (tx) => {
-    const version = await nextVersion(tx);
+  await versioned(async (tx, version) => {
     await tx.insert(checks).values({ id, engineId, ownerId, odometer: input.odometer, measuredHot: input.measuredHot, notes: input.notes ?? null, version });
   });
   return checkToApi((await getCheckRow(id))!);
 }
 
 export async function updateCheck(checkId: string, patch: Partial<{ odometer: number; measuredHot: boolean; notes: string | null; status: CheckRow["status"] }>) {
-  await db().transaction(async (tx) => {
-    const version = await nextVersion(tx);
+  await versioned(async (tx, version) => {
     const closedAt = patch.status === "closed" ? new Date() : patch.status ? null : undefined;
     await tx.update(checks).set({ ...patch, ...(closedAt !== undefined ? { closedAt } : {}), version }).where(eq(checks.id, checkId));
   });
@@ -141,8 +136,7 @@ export async function updateCheck(checkId: string, patch: Partial<{ odometer: nu
 }
 
 export async function deleteCheck(ownerId: string, checkId: string) {
-  await db().transaction(async (tx) => {
-    const version = await nextVersion(tx);
+  await versioned(async (tx, version) => {
     await tx.insert(tombstones).values({ entity: "check", entityId: checkId, ownerId, version });
     await tx.delete(checks).where(and(eq(checks.id, checkId), eq(checks.ownerId, ownerId)));
   });
@@ -178,8 +172,7 @@ const READING_FIELDS = ["installedStamp", "installedMicrometer", "feelerGo", "fe
  * than a statement per row). A later write wins; the values it replaces go to reading_history.
  */
 export async function upsertReadings(ownerId: string, checkId: string, input: ReadingInput[]) {
-  await db().transaction(async (tx) => {
-    const version = await nextVersion(tx);
+  await versioned(async (tx, version) => {
     const existing = await tx
       .select()
       .from(readings)
@@ -237,24 +230,21 @@ export async function getTrayRow(id: string) {
 
 export async function createTrayItem(ownerId: string, input: { id?: string; size: number; measuredSize: boolean; count: number; shimDiameter?: number | null }) {
   const id = input.id ?? crypto.randomUUID();
-  await db().transaction(async (tx) => {
-    const version = await nextVersion(tx);
+  await versioned(async (tx, version) => {
     await tx.insert(trayItems).values({ id, ownerId, size: input.size, measuredSize: input.measuredSize, count: input.count, shimDiameter: input.shimDiameter ?? null, version });
   });
   return trayToApi((await getTrayRow(id))!);
 }
 
 export async function updateTrayItem(id: string, patch: Partial<{ size: number; measuredSize: boolean; count: number; shimDiameter: number | null }>) {
-  await db().transaction(async (tx) => {
-    const version = await nextVersion(tx);
+  await versioned(async (tx, version) => {
     await tx.update(trayItems).set({ ...patch, version }).where(eq(trayItems.id, id));
   });
   return trayToApi((await getTrayRow(id))!);
 }
 
 export async function deleteTrayItem(ownerId: string, id: string) {
-  await db().transaction(async (tx) => {
-    const version = await nextVersion(tx);
+  await versioned(async (tx, version) => {
     await tx.insert(tombstones).values({ entity: "tray_item", entityId: id, ownerId, version });
     await tx.delete(trayItems).where(and(eq(trayItems.id, id), eq(trayItems.ownerId, ownerId)));
   });

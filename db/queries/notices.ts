@@ -11,7 +11,7 @@ export interface NoticeInput {
   body: string;
 }
 
-type Tx = Parameters<Parameters<ReturnType<typeof db>["transaction"]>[0]>[0];
+import type { Tx } from "../versions";
 
 export async function enqueueNotices(items: NoticeInput[], tx?: Tx): Promise<void> {
   if (items.length === 0) return;
