@@ -1,6 +1,7 @@
 import type { Metadata, Viewport } from "next";
 import localFont from "next/font/local";
 import "./globals.css";
+import { Providers } from "./providers";
 
 // Both faces ship inside the app (OFL, from npm font packages): no request to any font host.
 const body = localFont({
@@ -34,7 +35,9 @@ export const viewport: Viewport = {
 export default function RootLayout({ children }: Readonly<{ children: React.ReactNode }>) {
   return (
     <html lang="en" className={`${body.variable} ${figures.variable}`}>
-      <body className="min-h-dvh bg-bg font-sans text-ink antialiased">{children}</body>
+      <body className="min-h-dvh bg-bg font-sans text-ink antialiased">
+        <Providers>{children}</Providers>
+      </body>
     </html>
   );
 }

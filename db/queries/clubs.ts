@@ -161,6 +161,7 @@ export async function reviewQueue(clubId: string, limit: number, offset: number)
       shareId: shares.id,
       checkId: checks.id,
       engineName: engines.name,
+      odometerUnit: engines.odometerUnit,
       ownerName: users.name,
       odometer: checks.odometer,
       status: checks.status,

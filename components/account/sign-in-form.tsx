@@ -1,0 +1,75 @@
+"use client";
+
+import { zodResolver } from "@hookform/resolvers/zod";
+import { signIn } from "next-auth/react";
+import Link from "next/link";
+import { useRouter, useSearchParams } from "next/navigation";
+import { useState } from "react";
+import { useForm } from "react-hook-form";
+import { z } from "zod";
+import { emailSchema } from "@/lib/schemas/account";
+import { mutations } from "@/lib/api/client";
+import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
+
+const schema = z.object({ email: emailSchema, password: z.string().min(1, { error: "enter your password" }) });
+
+const MESSAGES: Record<string, string> = {
+  CredentialsSignin: "That e-mail and password do not match an account.",
+  Throttled: "Too many failed attempts. Wait 15 minutes, or sign in with an e-mail link.",
+  Unverified: "Confirm your e-mail first: open the link we sent when you signed up.",
+};
+
+/** Where to go after signing in: only paths on this site, never another origin. */
+function safeNext(raw: string | null): string {
+  return raw && raw.startsWith("/") && !raw.startsWith("//") ? raw : "/engines";
+}
+
+export function SignInForm() {
+  const router = useRouter();
+  const params = useSearchParams();
+  const [error, setError] = useState<string | null>(params.get("error") ? (MESSAGES[params.get("error")!] ?? "Sign-in failed.") : null);
+  const [sent, setSent] = useState<string | null>(null);
+  const form = useForm<z.input<typeof schema>, unknown, z.output<typeof schema>>({ resolver: zodResolver(schema), defaultValues: { email: "", password: "" } });
+  const { errors, isSubmitting } = form.formState;
+
+  const onSubmit = form.handleSubmit(async (values) => {
+    setError(null);
+    const res = await signIn("password", { ...values, redirect: false });
+    if (res?.ok && !res.error) router.push(safeNext(params.get("next")));
+    else setError(MESSAGES[res?.error ?? ""] ?? "Sign-in failed. Try again.");
+  });
+
+  const sendLink = async () => {
+    const ok = await form.trigger("email");
+    if (!ok) return;
+    const r = await mutations.requestLink(form.getValues("email")).catch(() => null);
+    setSent(r ? "If that address has an account, a sign-in link is on its way. Open it on this phone." : "Could not send the link: are you online?");
+  };
+
+  return (
+    <form onSubmit={onSubmit} noValidate className="flex flex-col gap-4">
+      {error && <Notice tone="error">{error}</Notice>}
+      {sent && <Notice tone="ok">{sent}</Notice>}
+      <Field id="email" label="E-mail" error={errors.email?.message}>
+        <input id="email" type="email" autoComplete="email" inputMode="email" className={inputClass} aria-invalid={!!errors.email} {...form.register("email")} />
+      </Field>
+      <Field id="password" label="Password" error={errors.password?.message}>
+        <input id="password" type="password" autoComplete="current-password" className={inputClass} aria-invalid={!!errors.password} {...form.register("password")} />
+      </Field>
+      <Button type="submit" disabled={isSubmitting}>
+        {isSubmitting ? "Signing in…" : "Sign in"}
+      </Button>
+      <Button type="button" look="plain" onClick={sendLink}>
+        E-mail me a sign-in link instead
+      </Button>
+      <div className="flex flex-col gap-1 pt-2">
+        <Link href="/forgot-password" className="inline-flex min-h-12 items-center font-bold underline underline-offset-4">
+          Forgot your password?
+        </Link>
+        <Link href="/sign-up" className="inline-flex min-h-12 items-center font-bold underline underline-offset-4">
+          New here? Create an account
+        </Link>
+      </div>
+    </form>
+  );
+}

@@ -1,0 +1,60 @@
+"use client";
+
+import { zodResolver } from "@hookform/resolvers/zod";
+import Link from "next/link";
+import { useState } from "react";
+import { useForm } from "react-hook-form";
+import type { z } from "zod";
+import { signUpInput } from "@/lib/schemas/account";
+import { PASSWORD_MIN } from "@/lib/auth/password-rules";
+import { ApiFailure, mutations } from "@/lib/api/client";
+import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
+
+export function SignUpForm() {
+  const [done, setDone] = useState(false);
+  const [error, setError] = useState<string | null>(null);
+  const form = useForm<z.input<typeof signUpInput>, unknown, z.output<typeof signUpInput>>({ resolver: zodResolver(signUpInput), defaultValues: { email: "", name: "", password: "" } });
+  const { errors, isSubmitting } = form.formState;
+
+  const onSubmit = form.handleSubmit(async (values) => {
+    setError(null);
+    try {
+      await mutations.signUp(values);
+      setDone(true);
+    } catch (e) {
+      if (e instanceof ApiFailure) for (const [k, v] of Object.entries(e.fields)) form.setError(k as keyof typeof values, { message: v });
+      setError(e instanceof Error ? e.message : "Sign-up failed");
+    }
+  });
+
+  if (done)
+    return (
+      <Notice tone="ok">
+        Check your inbox: open the link we sent to confirm your address, then{" "}
+        <Link href="/sign-in" className="font-bold underline">
+          sign in
+        </Link>
+        .
+      </Notice>
+    );
+  return (
+    <form onSubmit={onSubmit} noValidate className="flex flex-col gap-4">
+      {error && <Notice tone="error">{error}</Notice>}
+      <Field id="name" label="Your name" error={errors.name?.message}>
+        <input id="name" autoComplete="name" className={inputClass} {...form.register("name")} />
+      </Field>
+      <Field id="email" label="E-mail" error={errors.email?.message}>
+        <input id="email" type="email" autoComplete="email" inputMode="email" className={inputClass} {...form.register("email")} />
+      </Field>
+      <Field id="password" label="Password" error={errors.password?.message} hint={`At least ${PASSWORD_MIN} characters. A few words you will remember work well.`}>
+        <input id="password" type="password" autoComplete="new-password" className={inputClass} {...form.register("password")} />
+      </Field>
+      <Button type="submit" disabled={isSubmitting}>
+        {isSubmitting ? "Creating…" : "Create account"}
+      </Button>
+      <Link href="/sign-in" className="inline-flex min-h-12 items-center font-bold underline underline-offset-4">
+        I have an account: sign in
+      </Link>
+    </form>
+  );
+}

@@ -1,0 +1,127 @@
+"use client";
+
+import { zodResolver } from "@hookform/resolvers/zod";
+import { signIn } from "next-auth/react";
+import Link from "next/link";
+import { useRouter, useSearchParams } from "next/navigation";
+import { useEffect, useRef, useState } from "react";
+import { useForm } from "react-hook-form";
+import { z } from "zod";
+import { emailSchema } from "@/lib/schemas/account";
+import { passwordSchema } from "@/lib/auth/password-rules";
+import { ApiFailure, mutations } from "@/lib/api/client";
+import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
+
+/** The pages that e-mail links open. Each reads its token from the address on the client. */
+
+function useOnce(fn: () => void) {
+  const ran = useRef(false);
+  useEffect(() => {
+    if (ran.current) return;
+    ran.current = true;
+    fn();
+  });
+}
+
+const signInLink = (
+  <Link href="/sign-in" className="font-bold underline">
+    sign in
+  </Link>
+);
+
+export function VerifyEmail() {
+  const token = useSearchParams().get("token") ?? "";
+  const [state, setState] = useState<"working" | "ok" | "bad">("working");
+  useOnce(() => {
+    mutations.verify(token).then(
+      () => setState("ok"),
+      () => setState("bad"),
+    );
+  });
+  if (state === "working") return <Notice>Confirming your address…</Notice>;
+  if (state === "ok") return <Notice tone="ok">Your address is confirmed. You can now {signInLink}.</Notice>;
+  return <Notice tone="error">This link has expired or was already used. Try to {signInLink}; if that fails, sign up again.</Notice>;
+}
+
+export function EmailLinkSignIn() {
+  const token = useSearchParams().get("token") ?? "";
+  const router = useRouter();
+  const [bad, setBad] = useState(false);
+  useOnce(() => {
+    signIn("email-link", { token, redirect: false }).then((r) => (r?.ok && !r.error ? router.replace("/engines") : setBad(true)));
+  });
+  return bad ? <Notice tone="error">This sign-in link has expired or was already used. Ask for a new one on the {signInLink} page.</Notice> : <Notice>Signing you in…</Notice>;
+}
+
+const forgotSchema = z.object({ email: emailSchema });
+export function ForgotPassword() {
+  const [sent, setSent] = useState(false);
+  const form = useForm<z.input<typeof forgotSchema>, unknown, z.output<typeof forgotSchema>>({ resolver: zodResolver(forgotSchema), defaultValues: { email: "" } });
+  const onSubmit = form.handleSubmit(async ({ email }) => {
+    await mutations.requestReset(email);
+    setSent(true);
+  });
+  if (sent) return <Notice tone="ok">If that address has an account, a link to choose a new password is on its way. It works for an hour.</Notice>;
+  return (
+    <form onSubmit={onSubmit} noValidate className="flex flex-col gap-4">
+      <Field id="email" label="E-mail" error={form.formState.errors.email?.message}>
+        <input id="email" type="email" autoComplete="email" className={inputClass} {...form.register("email")} />
+      </Field>
+      <Button type="submit" disabled={form.formState.isSubmitting}>
+        Send the link
+      </Button>
+    </form>
+  );
+}
+
+const resetSchema = z.object({ password: passwordSchema });
+export function ResetPassword() {
+  const token = useSearchParams().get("token") ?? "";
+  const [state, setState] = useState<"form" | "ok" | "bad">("form");
+  const form = useForm<z.input<typeof resetSchema>, unknown, z.output<typeof resetSchema>>({ resolver: zodResolver(resetSchema), defaultValues: { password: "" } });
+  const onSubmit = form.handleSubmit(async ({ password }) => {
+    try {
+      await mutations.setPassword(token, password);
+      setState("ok");
+    } catch (e) {
+      if (e instanceof ApiFailure && e.fields.password) form.setError("password", { message: e.fields.password });
+      else setState("bad");
+    }
+  });
+  if (state === "ok") return <Notice tone="ok">Your new password is set and other devices are signed out. Now {signInLink}.</Notice>;
+  if (state === "bad") return <Notice tone="error">This link has expired or was already used. Ask for a new one.</Notice>;
+  return (
+    <form onSubmit={onSubmit} noValidate className="flex flex-col gap-4">
+      <Field id="password" label="New password" error={form.formState.errors.password?.message}>
+        <input id="password" type="password" autoComplete="new-password" className={inputClass} {...form.register("password")} />
+      </Field>
+      <Button type="submit" disabled={form.formState.isSubmitting}>
+        Set the new password
+      </Button>
+    </form>
+  );
+}
+
+export function AcceptInvite() {
+  const token = useSearchParams().get("token") ?? "";
+  const router = useRouter();
+  const [state, setState] = useState<"working" | "signin" | "bad">("working");
+  useOnce(() => {
+    mutations.acceptInvite(token).then(
+      () => router.replace("/club"),
+      (e: unknown) => setState(e instanceof ApiFailure && e.status === 401 ? "signin" : "bad"),
+    );
+  });
+  const back = `/sign-in?next=${encodeURIComponent(`/invite?token=${token}`)}`;
+  if (state === "signin")
+    return (
+      <Notice>
+        Sign in (or create an account with the invited address) to join the club.{" "}
+        <Link href={back} className="font-bold underline">
+          Sign in
+        </Link>
+      </Notice>
+    );
+  if (state === "bad") return <Notice tone="error">This invitation has expired, was used already, or was sent to another address.</Notice>;
+  return <Notice>Joining the club…</Notice>;
+}

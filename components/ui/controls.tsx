@@ -1,0 +1,62 @@
+import Link from "next/link";
+import type { ComponentProps, ReactNode } from "react";
+
+/** Shared primitives: every target at least 48 px, labels always visible, errors in words. */
+const base = "inline-flex min-h-12 items-center justify-center gap-2 rounded-xl px-5 text-lg font-bold disabled:opacity-50";
+const looks = {
+  primary: "bg-accent text-accent-ink font-extrabold",
+  plain: "border-2 border-line text-ink",
+  quiet: "text-ink underline underline-offset-4",
+} as const;
+
+export function Button({ look = "primary", className = "", ...rest }: ComponentProps<"button"> & { look?: keyof typeof looks }) {
+  return <button className={`${base} ${looks[look]} ${className}`} {...rest} />;
+}
+
+export function ButtonLink({ look = "primary", className = "", ...rest }: ComponentProps<typeof Link> & { look?: keyof typeof looks }) {
+  return <Link className={`${base} ${looks[look]} ${className}`} {...rest} />;
+}
+
+export function Field({ label, error, hint, children, id }: { label: string; error?: string; hint?: string; children: ReactNode; id: string }) {
+  return (
+    <div className="flex flex-col gap-1">
+      <label htmlFor={id} className="font-bold">
+        {label}
+      </label>
+      {children}
+      {hint && !error && <p className="text-sm text-ink-soft">{hint}</p>}
+      {error && (
+        <p id={`${id}-error`} role="alert" className="text-sm font-bold text-tight">
+          ✕ {error}
+        </p>
+      )}
+    </div>
+  );
+}
+
+export const inputClass = "min-h-12 rounded-xl border-2 border-line bg-surface px-3 text-lg text-ink placeholder:text-ink-soft/70";
+
+export function Notice({ tone = "info", children }: { tone?: "info" | "ok" | "error"; children: ReactNode }) {
+  const cls = tone === "ok" ? "border-ok" : tone === "error" ? "border-tight" : "border-line";
+  const glyph = tone === "ok" ? "✓" : tone === "error" ? "✕" : "ℹ";
+  return (
+    <div role={tone === "error" ? "alert" : "status"} className={`flex gap-2 rounded-xl border-2 ${cls} bg-surface p-3`}>
+      <span aria-hidden className="font-bold">
+        {glyph}
+      </span>
+      <div>{children}</div>
+    </div>
+  );
+}
+
+export function AuthShell({ title, children }: { title: string; children: ReactNode }) {
+  return (
+    <main className="mx-auto flex min-h-dvh max-w-md flex-col gap-6 px-4 pt-6 pb-12">
+      <Link href="/" className="text-2xl font-extrabold tracking-tight">
+        Lash<span className="text-accent">wright</span>
+      </Link>
+      <h1 className="text-3xl font-extrabold">{title}</h1>
+      {children}
+    </main>
+  );
+}
