@@ -141,6 +141,8 @@ const TABLE: Row[] = [
   { route: "GET /api/clubs/:clubId/invites", path: (i) => `/api/clubs/${i.clubId}/invites`, expect: { admin: 200, owner: 403, mentor: 403, others: 404, anon: 401 } },
   { route: "POST /api/clubs/:clubId/invites", path: (i) => `/api/clubs/${i.clubId}/invites`, body: () => ({ email: `inv-${rand()}@test.example`, role: "mentor" }), expect: { admin: 201, owner: 403, mentor: 403, others: 404, anon: 401 }, bad: { as: "admin", body: { email: "nope" }, field: "email" } },
   { route: "GET /api/clubs/:clubId/queue", path: (i) => `/api/clubs/${i.clubId}/queue`, expect: { mentor: 200, owner: 403, admin: 403, others: 404, anon: 401 } },
+  { route: "POST /api/sync/push", path: () => "/api/sync/push", body: () => ({ clientId: crypto.randomUUID(), mutations: [] }), expect: EVERYONE(200), bad: { body: { clientId: "x", mutations: [] }, field: "clientId" } },
+  { route: "POST /api/sync/pull", path: () => "/api/sync/pull", body: () => ({ cursor: null }), expect: EVERYONE(200), bad: { body: { cursor: -1 }, field: "cursor" } },
   { route: "POST /api/invites/accept", path: () => "/api/invites/accept", body: () => ({ token: "C".repeat(43) }), expect: EVERYONE(400), bad: { body: { token: 5 }, field: "token" } },
 ];
 

@@ -1,0 +1,136 @@
+import { PUSH_BATCH } from "./mutations";
+import { getMeta, setMeta, type LocalCheck, type LocalComment, type LocalDb, type LocalEngine, type LocalReading, type LocalTrayItem } from "./local-db";
+
+/**
+ * The client side of the sync protocol, one module. Push sends the outbox in order, in batches, and
+ * deletes entries only once the server says it applied them; a 401 keeps everything and asks for
+ * sign-in; any other failure keeps everything for the next try. Pull then brings what changed on
+ * the server since the cursor, skipping records that still have local changes waiting.
+ */
+export type SyncState = "idle" | "syncing" | "offline" | "signed-out" | "error";
+
+export interface Rejected {
+  id: number;
+  name: string;
+  reason: string;
+}
+
+export interface SyncStatus {
+  state: SyncState;
+  lastSyncAt: number | null;
+  rejected: Rejected[];
+}
+
+type Fetch = (input: string, init: RequestInit) => Promise<Response>;
+
+export class SignedOut extends Error {}
+
+interface PullResult {
+  cursor: number;
+  engines: LocalEngine[];
+  checks: LocalCheck[];
+  readings: (LocalReading & { id?: string })[];
+  tray: LocalTrayItem[];
+  comments: LocalComment[];
+  tombstones: { entity: string; id: string }[];
+}
+
+export async function clientId(db: LocalDb): Promise<string> {
+  let id = await getMeta<string>(db, "clientId");
+  if (!id) {
+    id = crypto.randomUUID();
+    await setMeta(db, "clientId", id);
+  }
+  return id;
+}
+
+async function post<T>(fetcher: Fetch, base: string, path: string, body: unknown): Promise<T> {
+  let res: Response;
+  try {
+    res = await fetcher(`${base}${path}`, { method: "POST", headers: { "content-type": "application/json" }, body: JSON.stringify(body), credentials: "same-origin" });
+  } catch {
+    throw new TypeError("offline");
+  }
+  if (res.status === 401) throw new SignedOut("sign in again to sync");
+  if (!res.ok) throw new Error(`sync answered ${res.status}`);
+  return (await res.json()) as T;
+}
+
+/** Push the whole outbox in batches. Returns how many mutations the server acknowledged. */
+export async function pushAll(db: LocalDb, fetcher: Fetch, base = ""): Promise<{ acknowledged: number; rejected: Rejected[] }> {
+  const id = await clientId(db);
+  let acknowledged = 0;
+  const rejected: Rejected[] = [];
+  for (;;) {
+    const batch = await db.outbox.orderBy("mutationId").limit(PUSH_BATCH).toArray();
+    if (batch.length === 0) break;
+    const r = await post<{ lastMutationId: number; rejected: Rejected[] }>(fetcher, base, "/api/sync/push", {
+      clientId: id,
+      mutations: batch.map((m) => ({ id: m.mutationId, name: m.name, args: m.args })),
+    });
+    rejected.push(...r.rejected);
+    const done = await db.outbox.where("mutationId").belowOrEqual(r.lastMutationId).primaryKeys();
+    await db.outbox.bulkDelete(done);
+    acknowledged += done.length;
+    if (r.rejected.length) {
+      const all = (await getMeta<Rejected[]>(db, "rejected")) ?? [];
+      await setMeta(db, "rejected", [...all, ...r.rejected].slice(-50));
+    }
+    // the server acknowledged nothing new: stop rather than loop (it will be retried later)
+    if (done.length === 0) break;
+  }
+  return { acknowledged, rejected };
+}
+
+/** Ids of records with local changes still waiting, which a pull must not overwrite. */
+async function pendingKeys(db: LocalDb) {
+  const keys = new Set<string>();
+  await db.outbox.each((m) => {
+    const a = m.args as { id?: string; checkId?: string; reading?: { valve: string; round?: number } };
+    if (m.name.startsWith("reading.") && a.checkId && a.reading) keys.add(`reading:${a.checkId}:${a.reading.valve}:${a.reading.round ?? 0}`);
+    else if (a.id) keys.add(`${m.name.split(".")[0]}:${a.id}`);
+  });
+  return keys;
+}
+
+export async function pullOnce(db: LocalDb, fetcher: Fetch, base = ""): Promise<PullResult> {
+  const cursor = (await getMeta<number>(db, "cursor")) ?? null;
+  const r = await post<PullResult>(fetcher, base, "/api/sync/pull", { cursor });
+  const pending = await pendingKeys(db);
+  await db.transaction("rw", [db.engines, db.checks, db.readings, db.tray, db.comments, db.meta, db.outbox], async () => {
+    await db.engines.bulkPut(r.engines.filter((e) => !pending.has(`engine:${e.id}`)));
+    await db.checks.bulkPut(r.checks.filter((c) => !pending.has(`check:${c.id}`)));
+    await db.readings.bulkPut(
+      r.readings
+        .filter((x) => !pending.has(`reading:${x.checkId}:${x.valve}:${x.round}`))
+        .map(({ id: _serverId, ...x }) => {
+          void _serverId;
+          return x;
+        }),
+    );
+    await db.tray.bulkPut(r.tray.filter((t) => !pending.has(`tray:${t.id}`)));
+    await db.comments.bulkPut(r.comments);
+    for (const t of r.tombstones) {
+      if (t.entity === "engine") {
+        const cs = await db.checks.where("engineId").equals(t.id).primaryKeys();
+        for (const c of cs) await db.readings.where("checkId").equals(c).delete();
+        await db.checks.bulkDelete(cs);
+        await db.engines.delete(t.id);
+      } else if (t.entity === "check") {
+        await db.readings.where("checkId").equals(t.id).delete();
+        await db.comments.where("checkId").equals(t.id).delete();
+        await db.checks.delete(t.id);
+      } else if (t.entity === "tray_item") await db.tray.delete(t.id);
+    }
+    await setMeta(db, "cursor", r.cursor);
+  });
+  return r;
+}
+
+/** One full sync: push everything, then pull. Throws SignedOut on 401 and TypeError when offline. */
+export async function syncOnce(db: LocalDb, fetcher: Fetch, base = "") {
+  const pushed = await pushAll(db, fetcher, base);
+  const pulled = await pullOnce(db, fetcher, base);
+  await setMeta(db, "lastSyncAt", Date.now());
+  return { pushed, pulled };
+}

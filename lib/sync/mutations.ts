@@ -1,0 +1,59 @@
+import { z } from "zod";
+import { checkInput, commentInput, engineInput, idSchema, readingInput, trayItemInput } from "../schemas/records";
+
+/**
+ * The outbox's mutations: a versioned name and its arguments, validated by the same schemas on the
+ * phone (before queueing) and on the server (before applying). A name never changes meaning: a new
+ * shape gets a new version, and the server keeps accepting the old ones, so an outbox written by
+ * an older app still goes through.
+ */
+export const MUTATIONS = {
+  "engine.put/1": engineInput.and(z.object({ id: idSchema })),
+  "engine.delete/1": z.object({ id: idSchema }),
+  "check.put/1": checkInput.extend({
+    id: idSchema,
+    engineId: idSchema,
+    status: z.enum(["measuring", "planned", "fitting", "verifying", "closed"]).default("measuring"),
+  }),
+  "check.delete/1": z.object({ id: idSchema }),
+  "reading.put/1": z.object({ checkId: idSchema, reading: readingInput }),
+  "tray.put/1": trayItemInput.extend({ id: idSchema }),
+  "tray.delete/1": z.object({ id: idSchema }),
+  "comment.add/1": commentInput.extend({ id: idSchema, checkId: idSchema }),
+} as const;
+
+export type MutationName = keyof typeof MUTATIONS;
+export type MutationArgs<N extends MutationName> = z.output<(typeof MUTATIONS)[N]>;
+
+export const mutationNames = Object.keys(MUTATIONS) as MutationName[];
+
+export const pushInput = z.object({
+  clientId: idSchema,
+  mutations: z
+    .array(
+      z.object({
+        id: z.number().int().min(1).max(Number.MAX_SAFE_INTEGER),
+        name: z.string().max(60),
+        args: z.unknown(),
+      }),
+    )
+    .max(1000, { error: "at most 1000 mutations in one push" })
+    .refine((ms) => ms.every((m, i) => i === 0 || m.id > ms[i - 1]!.id), { error: "mutation ids must increase" }),
+});
+export type PushInput = z.infer<typeof pushInput>;
+
+export const pullInput = z.object({ cursor: z.number().int().min(0).nullable() });
+
+/** Parse one mutation's arguments; returns the reason it is refused, or the parsed args. */
+export function parseMutation(name: string, args: unknown): { ok: true; name: MutationName; args: unknown } | { ok: false; reason: string } {
+  if (!(name in MUTATIONS)) return { ok: false, reason: `unknown change "${name}"` };
+  const r = MUTATIONS[name as MutationName].safeParse(args);
+  if (!r.success) {
+    const i = r.error.issues[0]!;
+    return { ok: false, reason: `${i.path.join(".") || "args"}: ${i.message}` };
+  }
+  return { ok: true, name: name as MutationName, args: r.data };
+}
+
+/** How many mutations the client sends in one push. */
+export const PUSH_BATCH = 200;
