@@ -1,4 +1,5 @@
 import type { NextConfig } from "next";
+import { withSerwist } from "@serwist/turbopack";
 
 const nextConfig: NextConfig = {
   reactStrictMode: true,
@@ -7,4 +8,4 @@ const nextConfig: NextConfig = {
   turbopack: { root: __dirname },
 };
 
-export default nextConfig;
+export default withSerwist(nextConfig);

@@ -1,50 +1,69 @@
 "use client";
 
-import { useQuery } from "@tanstack/react-query";
 import { signOut } from "next-auth/react";
 import Link from "next/link";
 import { usePathname } from "next/navigation";
 import type { ReactNode } from "react";
-import { ApiFailure, fetchers, queryKeys } from "@/lib/api/client";
+import { useLocal } from "@/components/sync/local-provider";
+import { SyncLine } from "@/components/sync/sync-line";
 import { ButtonLink, Notice } from "./controls";
 
 const PLACES = [
-  { href: "/engines", label: "Engines", glyph: "⚙" },
-  { href: "/club", label: "Club", glyph: "☰" },
+  { href: "/engines", also: ["/engine"], label: "Engines", glyph: "⚙" },
+  { href: "/checks", also: ["/check"], label: "Checks", glyph: "✎" },
+  { href: "/tray", also: [], label: "Tray", glyph: "▤" },
+  { href: "/club", also: [], label: "Club", glyph: "☰" },
 ];
 
-/** The signed-in frame: brand, who is signed in, and the places in a bottom bar within thumb reach. */
-export function AppShell({ title, children }: { title: string; children: ReactNode }) {
+/**
+ * The signed-in frame. The identity comes from the phone (no server round trip), so it opens in a
+ * garage with no signal; the server checks the session on every sync.
+ */
+export function AppShell({ title, children, back }: { title: string; children: ReactNode; back?: { href: string; label: string } }) {
   const path = usePathname();
-  const me = useQuery({ queryKey: queryKeys.me(), queryFn: fetchers.me, retry: false });
-  const signedOut = me.error instanceof ApiFailure && me.error.status === 401;
+  const { user, ready, forget } = useLocal();
   return (
     <div className="mx-auto flex min-h-dvh max-w-xl flex-col">
-      <header className="flex items-center justify-between gap-2 px-4 pt-4">
-        <Link href="/engines" className="text-xl font-extrabold tracking-tight">
-          Lash<span className="text-accent">wright</span>
-        </Link>
-        {me.data && (
-          <button type="button" onClick={() => signOut({ callbackUrl: "/" })} className="inline-flex min-h-12 items-center rounded-xl px-3 text-sm font-bold text-ink-soft underline">
-            Sign out {me.data.name.split(" ")[0]}
-          </button>
-        )}
+      <header className="flex flex-col gap-1 border-b border-line px-4 pt-3 pb-1 print:hidden">
+        <div className="flex items-center justify-between gap-2">
+          <Link href="/engines" className="inline-flex min-h-12 items-center text-xl font-extrabold tracking-tight">
+            Lash<span className="text-accent">wright</span>
+          </Link>
+          {user && (
+            <button
+              type="button"
+              onClick={() => {
+                forget();
+                void signOut({ callbackUrl: "/" });
+              }}
+              className="inline-flex min-h-12 items-center rounded-xl px-3 text-sm font-bold text-ink-soft underline"
+            >
+              Sign out {user.name.split(" ")[0]}
+            </button>
+          )}
+        </div>
+        {user && <SyncLine />}
       </header>
       <main className="flex flex-1 flex-col gap-5 px-4 pt-4 pb-28">
+        {back && (
+          <Link href={back.href} className="-mb-3 inline-flex min-h-12 items-center font-bold text-ink-soft">
+            ‹ {back.label}
+          </Link>
+        )}
         <h1 className="text-3xl font-extrabold">{title}</h1>
-        {signedOut ? (
+        {!ready ? null : user ? (
+          children
+        ) : (
           <div className="flex flex-col gap-3">
-            <Notice>You are signed out.</Notice>
+            <Notice>Sign in once with a signal; after that this phone keeps your work even with none.</Notice>
             <ButtonLink href={`/sign-in?next=${encodeURIComponent(path)}`}>Sign in</ButtonLink>
           </div>
-        ) : (
-          children
         )}
       </main>
-      <nav aria-label="Places" className="fixed inset-x-0 bottom-0 border-t border-line bg-surface">
-        <ul className="mx-auto grid max-w-xl grid-cols-2">
+      <nav aria-label="Places" className="fixed inset-x-0 bottom-0 border-t border-line bg-surface print:hidden">
+        <ul className="mx-auto grid max-w-xl grid-cols-4">
           {PLACES.map((p) => {
-            const here = path.startsWith(p.href);
+            const here = path === p.href || p.also.some((a) => path === a || path.startsWith(`${a}/`));
             return (
               <li key={p.href}>
                 <Link href={p.href} aria-current={here ? "page" : undefined} className={`flex min-h-16 flex-col items-center justify-center text-sm font-bold ${here ? "text-accent" : "text-ink-soft"}`}>

@@ -8,3 +8,5 @@ export { planShims, INSTALLED_RANGE_SLACK_MM, type PlanValve, type Assignment, t
 export { rotationGuide, onBaseCircle, DEFAULT_TIMING, DEFAULT_MARGIN, type RotationStep, type ValveRef, type ValveKind } from "./rotation";
 export { driftProjection, fastClosingValves, type DriftPoint, type DriftResult, type ValveDrift } from "./drift";
 export { valveNames, parseValveName, bladesFor, METRIC_BLADES_MM, INCH_BLADES_THOU, type ValveName } from "./valves";
+export { ENGINE_PRESETS, type EnginePreset } from "./presets";
+export { workOrder, type ShimMove, type Place } from "./work-order";

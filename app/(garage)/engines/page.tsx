@@ -1,13 +1,16 @@
 import type { Metadata } from "next";
+import { Suspense } from "react";
 import { AppShell } from "@/components/ui/app-shell";
-import { EngineList } from "@/components/engine/engine-list";
+import { EngineList } from "@/components/engine/engine-pages";
 
 export const metadata: Metadata = { title: "Engines" };
 
-export default function EnginesPage() {
+export default function Page() {
   return (
     <AppShell title="Engines">
-      <EngineList />
+      <Suspense>
+        <EngineList />
+      </Suspense>
     </AppShell>
   );
 }

@@ -1,0 +1,16 @@
+import type { Metadata } from "next";
+import { Suspense } from "react";
+import { AppShell } from "@/components/ui/app-shell";
+import { CheckScreen } from "@/components/check/check-screen";
+
+export const metadata: Metadata = { title: "Check" };
+
+export default function Page() {
+  return (
+    <AppShell title="Valve check" back={{ href: "/checks", label: "Checks" }}>
+      <Suspense>
+        <CheckScreen />
+      </Suspense>
+    </AppShell>
+  );
+}

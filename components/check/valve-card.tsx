@@ -1,0 +1,146 @@
+"use client";
+
+import { useState } from "react";
+import { clearanceFromFeelers, formatLength, inchesToMm, INCH_BLADES_THOU, METRIC_BLADES_MM, recommendShim } from "@/lib/lash";
+import { STATE_WORDS, valveLabel, type ValveView } from "@/lib/check/derive";
+import type { LocalEngine } from "@/lib/sync/local-db";
+
+/** The blades on the strip: the engine's set around its bands, so the usual tap is on screen. */
+export function bladesFor(engine: LocalEngine): number[] {
+  const all = engine.displayUnit === "in" ? INCH_BLADES_THOU.map((t) => inchesToMm(t / 1000)) : METRIC_BLADES_MM;
+  const lo = Math.min(engine.intake.min, engine.exhaust.min) - 0.12;
+  const hi = Math.max(engine.intake.max, engine.exhaust.max) + 0.2;
+  return all.filter((b) => b >= lo && b <= hi);
+}
+
+export interface ReadingEntry {
+  installedStamp: number | null;
+  installedMicrometer: number | null;
+  feelerGo: number | null;
+  feelerNoGo: number | null;
+  measured: number | null;
+  method: "feeler" | "typed";
+}
+
+/**
+ * One valve: the shim in it (a stepper of one series step, or a micrometer reading), the feeler
+ * strip (tap the blade that goes; the next one is taken as the one that will not), and the result
+ * at once. Every tap is saved on the phone straight away.
+ */
+export function ValveCard({ engine, view, sizes, step, onSave }: { engine: LocalEngine; view: ValveView; sizes: number[]; step: number; onSave: (r: ReadingEntry) => Promise<unknown> }) {
+  const unit = engine.displayUnit;
+  const r = view.latest && view.latest.round === view.nextRound ? view.latest : undefined;
+  const stamp = r?.installedStamp ?? view.installed;
+  const micrometer = r?.installedMicrometer ?? null;
+  const [typing, setTyping] = useState(false);
+  const [typed, setTyped] = useState("");
+  const [mic, setMic] = useState(micrometer?.toString() ?? "");
+  const blades = bladesFor(engine);
+  const per = view.valve.kind === "intake" ? engine.intakePerCylinder : engine.exhaustPerCylinder;
+
+  const base: ReadingEntry = {
+    installedStamp: stamp ?? null,
+    installedMicrometer: micrometer,
+    feelerGo: r?.feelerGo ?? null,
+    feelerNoGo: r?.feelerNoGo ?? null,
+    measured: r?.measured ?? null,
+    method: r?.method ?? "feeler",
+  };
+  const save = (patch: Partial<ReadingEntry>) => onSave({ ...base, ...patch });
+  const stepShim = (dir: 1 | -1) => {
+    const cur = stamp ?? sizes[Math.floor(sizes.length / 2)]!;
+    const next = Math.round((cur + dir * step) * 1e6) / 1e6;
+    if (next >= sizes[0]! - 1e-9 && next <= sizes.at(-1)! + 1e-9) void save({ installedStamp: next });
+  };
+  const tapBlade = (i: number) => {
+    const go = blades[i]!;
+    const noGo = blades[i + 1];
+    const c = clearanceFromFeelers({ go, noGo });
+    void save({ feelerGo: c.min, feelerNoGo: noGo ?? null, measured: c.value, method: "feeler" });
+  };
+
+  const installed = micrometer ?? stamp;
+  const measured = base.measured;
+  let result: string | null = null;
+  if (measured != null && installed != null) {
+    const s = STATE_WORDS[view.state];
+    const band = measured >= view.spec.min - 1e-9 && measured <= view.spec.max + 1e-9;
+    if (band) result = `${s.glyph} in band`;
+    else {
+      try {
+        const rec = recommendShim({ installed, measured, spec: view.spec, sizes });
+        result = `${s.glyph} ${measured < view.spec.min ? "tight" : "loose"} · needs ${formatLength(rec.size, "mm")} (gives ${formatLength(rec.predicted, unit)})`;
+      } catch {
+        result = `${s.glyph} out of band: check the reading`;
+      }
+    }
+  }
+  const interval =
+    base.feelerGo != null && base.feelerNoGo != null && base.method === "feeler"
+      ? `${formatLength(base.feelerGo, unit)} goes, ${formatLength(base.feelerNoGo, unit)} does not`
+      : measured != null
+        ? `${formatLength(measured, unit)}${base.method === "typed" ? " (typed)" : ""}`
+        : "not measured yet";
+
+  return (
+    <article id={`valve-${view.valve.id}`} aria-label={valveLabel(view.valve, per)} className="flex flex-col gap-3 rounded-2xl border border-line bg-surface p-3">
+      <header className="flex items-baseline justify-between">
+        <h3 className="text-xl font-extrabold">{valveLabel(view.valve, per)}</h3>
+        <span className="figures text-sm text-ink-soft">
+          band {formatLength(view.spec.min, unit)}–{formatLength(view.spec.max, unit)}
+        </span>
+      </header>
+      <div className="flex items-center gap-2">
+        <span className="w-16 text-sm font-bold text-ink-soft">Shim</span>
+        <button type="button" aria-label={`Thinner shim for ${view.valve.id}`} onClick={() => stepShim(-1)} className="min-h-12 min-w-12 rounded-xl border-2 border-line text-2xl font-bold">
+          −
+        </button>
+        <span className="figures min-w-24 text-center text-2xl font-extrabold" data-testid={`shim-${view.valve.id}`}>
+          {stamp != null ? stamp.toFixed(step < 0.05 ? 3 : 2) : "—"}
+        </span>
+        <button type="button" aria-label={`Thicker shim for ${view.valve.id}`} onClick={() => stepShim(1)} className="min-h-12 min-w-12 rounded-xl border-2 border-line text-2xl font-bold">
+          +
+        </button>
+        <span className="text-sm text-ink-soft">mm</span>
+      </div>
+      <details>
+        <summary className="min-h-12 cursor-pointer py-3 text-sm font-bold text-ink-soft">Micrometer thickness {micrometer != null ? `(${micrometer.toFixed(3)} mm)` : ""}</summary>
+        <div className="flex gap-2">
+          <input aria-label={`Micrometer thickness of ${view.valve.id} in mm`} inputMode="decimal" value={mic} onChange={(e) => setMic(e.target.value)} className="figures min-h-12 w-32 rounded-xl border-2 border-line bg-surface px-3 text-lg" />
+          <button type="button" className="min-h-12 rounded-xl border-2 border-line px-4 font-bold" onClick={() => void save({ installedMicrometer: mic.trim() ? Number(mic.replace(",", ".")) : null })}>
+            Use
+          </button>
+        </div>
+      </details>
+      <div>
+        <p className="mb-1 text-sm font-bold text-ink-soft">Tap the blade that goes ({unit})</p>
+        <div role="group" aria-label={`Feeler blades for ${view.valve.id}`} className="flex gap-1.5 overflow-x-auto pb-1">
+          {blades.map((b, i) => {
+            const on = base.method === "feeler" && base.feelerGo != null && Math.abs(base.feelerGo - b) < 1e-9;
+            const label = unit === "in" ? (b / 25.4).toFixed(4).replace(/^0/, "") : b.toFixed(2);
+            return (
+              <button key={b} type="button" aria-pressed={on} onClick={() => tapBlade(i)} className={`figures min-h-14 min-w-14 shrink-0 rounded-xl border-2 px-2 text-lg font-bold ${on ? "border-accent bg-accent text-accent-ink" : "border-line"}`}>
+                {label}
+              </button>
+            );
+          })}
+        </div>
+        <button type="button" onClick={() => setTyping((t) => !t)} className="min-h-12 text-sm font-bold underline">
+          {typing ? "Hide typed value" : "Type a value instead"}
+        </button>
+        {typing && (
+          <div className="flex gap-2">
+            <input aria-label={`Typed clearance of ${view.valve.id} in mm`} inputMode="decimal" value={typed} onChange={(e) => setTyped(e.target.value)} className="figures min-h-12 w-32 rounded-xl border-2 border-line bg-surface px-3 text-lg" />
+            <button type="button" className="min-h-12 rounded-xl border-2 border-line px-4 font-bold" onClick={() => void save({ measured: Number(typed.replace(",", ".")), feelerGo: null, feelerNoGo: null, method: "typed" })}>
+              Save
+            </button>
+          </div>
+        )}
+      </div>
+      <p className="figures text-base" data-testid={`result-${view.valve.id}`}>
+        <span className="text-ink-soft">{interval}</span>
+        {result && <strong className="block text-lg">{result}</strong>}
+      </p>
+    </article>
+  );
+}

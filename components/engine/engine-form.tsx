@@ -1,0 +1,237 @@
+"use client";
+
+import { useLiveQuery } from "dexie-react-hooks";
+import { useRouter, useSearchParams } from "next/navigation";
+import { useEffect, useState } from "react";
+import { useForm, type Resolver } from "react-hook-form";
+import { ENGINE_PRESETS } from "@/lib/lash";
+import { engineInput } from "@/lib/schemas/records";
+import { saveEngine } from "@/lib/sync/writes";
+import type { LocalEngine } from "@/lib/sync/local-db";
+import { useLocal } from "@/components/sync/local-provider";
+import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
+
+/** Form values are what the fields hold (text); the shared engine schema decides what is valid. */
+interface FormValues {
+  preset: string;
+  name: string;
+  cylinders: string;
+  intakePerCylinder: string;
+  exhaustPerCylinder: string;
+  firingOrder: string;
+  firingAngles: string;
+  timing: { ivo: string; ivc: string; evo: string; evc: string };
+  intake: { min: string; max: string };
+  exhaust: { min: string; max: string };
+  measuredHot: boolean;
+  shims: { min: string; max: string; step: string };
+  assembledShim: string;
+  displayUnit: "mm" | "in";
+  odometerUnit: "km" | "mi" | "h";
+}
+
+const num = (s: string) => (s.trim() === "" ? undefined : Number(s.replace(",", ".")));
+const list = (s: string) => s.split(/[\s,;-]+/).filter(Boolean).map(Number);
+
+function toEngine(v: FormValues, id: string) {
+  return {
+    id,
+    name: v.name,
+    cylinders: num(v.cylinders),
+    intakePerCylinder: num(v.intakePerCylinder),
+    exhaustPerCylinder: num(v.exhaustPerCylinder),
+    firingOrder: list(v.firingOrder),
+    firingAngles: v.firingAngles.trim() ? list(v.firingAngles) : null,
+    timing: { ivo: num(v.timing.ivo), ivc: num(v.timing.ivc), evo: num(v.timing.evo), evc: num(v.timing.evc) },
+    intake: { min: num(v.intake.min), max: num(v.intake.max) },
+    exhaust: { min: num(v.exhaust.min), max: num(v.exhaust.max) },
+    measuredHot: v.measuredHot,
+    shims: { min: num(v.shims.min), max: num(v.shims.max), step: num(v.shims.step) },
+    assembledShim: num(v.assembledShim) ?? null,
+    displayUnit: v.displayUnit,
+    odometerUnit: v.odometerUnit,
+    mirrored: false,
+  };
+}
+
+function fromEngine(e: LocalEngine): FormValues {
+  const s = "step" in e.shims ? e.shims : { min: Math.min(...e.shims.sizes), max: Math.max(...e.shims.sizes), step: 0.05 };
+  const t = (n: number | undefined | null) => (n == null ? "" : String(n));
+  return {
+    preset: "",
+    name: e.name,
+    cylinders: t(e.cylinders),
+    intakePerCylinder: t(e.intakePerCylinder),
+    exhaustPerCylinder: t(e.exhaustPerCylinder),
+    firingOrder: e.firingOrder.join("-"),
+    firingAngles: e.firingAngles?.join(", ") ?? "",
+    timing: { ivo: t(e.timing.ivo), ivc: t(e.timing.ivc), evo: t(e.timing.evo), evc: t(e.timing.evc) },
+    intake: { min: t(e.intake.min), max: t(e.intake.max) },
+    exhaust: { min: t(e.exhaust.min), max: t(e.exhaust.max) },
+    measuredHot: e.measuredHot,
+    shims: { min: t(s.min), max: t(s.max), step: t(s.step) },
+    assembledShim: t(e.assembledShim),
+    displayUnit: e.displayUnit,
+    odometerUnit: e.odometerUnit,
+  };
+}
+
+const BLANK: FormValues = {
+  preset: "",
+  name: "",
+  cylinders: "4",
+  intakePerCylinder: "2",
+  exhaustPerCylinder: "2",
+  firingOrder: "1-3-4-2",
+  firingAngles: "",
+  timing: { ivo: "20", ivc: "50", evo: "50", evc: "20" },
+  intake: { min: "", max: "" },
+  exhaust: { min: "", max: "" },
+  measuredHot: false,
+  shims: { min: "2.50", max: "3.30", step: "0.05" },
+  assembledShim: "",
+  displayUnit: "mm",
+  odometerUnit: "km",
+};
+
+const resolverFor =
+  (id: string): Resolver<FormValues> =>
+  async (values) => {
+    const parsed = engineInput.safeParse(toEngine(values, id));
+    if (parsed.success) return { values, errors: {} };
+    const errors: Record<string, { type: string; message: string }> = {};
+    for (const i of parsed.error.issues) {
+      let key = i.path.map(String).join(".");
+      if (key.startsWith("firingOrder")) key = "firingOrder";
+      if (key.startsWith("firingAngles")) key = "firingAngles";
+      if (key === "shims") key = "shims.step";
+      errors[key] ??= { type: "schema", message: i.message };
+    }
+    // react-hook-form wants nested error objects for nested fields
+    const nested: Record<string, unknown> = {};
+    for (const [k, v] of Object.entries(errors)) {
+      const parts = k.split(".");
+      let cur = nested;
+      parts.slice(0, -1).forEach((p) => (cur = (cur[p] ??= {}) as Record<string, unknown>));
+      cur[parts.at(-1)!] = v;
+    }
+    return { values: {}, errors: nested as never };
+  };
+
+export function EngineForm() {
+  const params = useSearchParams();
+  const router = useRouter();
+  const { db } = useLocal();
+  const editing = params.get("id");
+  const [id] = useState(() => editing ?? crypto.randomUUID());
+  const existing = useLiveQuery(() => (db && editing ? db.engines.get(editing) : undefined), [db, editing]);
+  const form = useForm<FormValues>({ resolver: resolverFor(id), defaultValues: BLANK });
+  const { errors, isSubmitting } = form.formState;
+  const [failure, setFailure] = useState<string | null>(null);
+
+  useEffect(() => {
+    if (existing) form.reset(fromEngine(existing));
+  }, [existing, form]);
+
+  const applyPreset = (key: string) => {
+    const p = ENGINE_PRESETS.find((x) => x.key === key);
+    if (!p) return;
+    form.setValue("cylinders", String(p.cylinders));
+    form.setValue("intakePerCylinder", String(p.intakePerCylinder));
+    form.setValue("exhaustPerCylinder", String(p.exhaustPerCylinder));
+    form.setValue("firingOrder", p.firingOrder.join("-"));
+    form.setValue("firingAngles", p.firingAngles?.join(", ") ?? "");
+    form.setValue("shims", { min: p.shims.min.toFixed(p.shims.step < 0.05 ? 3 : 2), max: p.shims.max.toFixed(p.shims.step < 0.05 ? 3 : 2), step: String(p.shims.step) });
+  };
+
+  const onSubmit = form.handleSubmit(async (values) => {
+    if (!db) return;
+    setFailure(null);
+    try {
+      const parsed = engineInput.parse(toEngine(values, id));
+      await saveEngine(db, { ...parsed, id });
+      router.push(`/engine?id=${id}`);
+    } catch (e) {
+      setFailure(e instanceof Error ? e.message : "Could not save");
+    }
+  });
+
+  const err = (path: string) => path.split(".").reduce<unknown>((o, k) => (o as Record<string, unknown> | undefined)?.[k], errors) as { message?: string } | undefined;
+  const text = (name: string, label: string, opts: { hint?: string; unit?: string; numeric?: boolean } = {}) => (
+    <Field id={name} label={opts.unit ? `${label} (${opts.unit})` : label} error={err(name)?.message} hint={opts.hint}>
+      <input id={name} inputMode={opts.numeric ? "decimal" : undefined} className={inputClass} aria-invalid={!!err(name)} {...form.register(name as never)} />
+    </Field>
+  );
+
+  return (
+    <form onSubmit={onSubmit} noValidate className="flex flex-col gap-5">
+      {failure && <Notice tone="error">{failure}</Notice>}
+      {!editing && (
+        <Field id="preset" label="Start from a layout" hint="Fills the layout and shim series; enter the spec from your service manual.">
+          <select id="preset" className={inputClass} {...form.register("preset", { onChange: (e) => applyPreset(e.target.value) })}>
+            <option value="">Choose a layout…</option>
+            {ENGINE_PRESETS.map((p) => (
+              <option key={p.key} value={p.key}>
+                {p.label}
+              </option>
+            ))}
+          </select>
+        </Field>
+      )}
+      {text("name", "Name", { hint: "Your own name for it, e.g. “Blue four”" })}
+      <fieldset className="grid grid-cols-3 gap-3">
+        <legend className="mb-2 text-lg font-bold">Layout</legend>
+        {text("cylinders", "Cylinders", { numeric: true })}
+        {text("intakePerCylinder", "Intakes / cyl", { numeric: true })}
+        {text("exhaustPerCylinder", "Exhausts / cyl", { numeric: true })}
+      </fieldset>
+      {text("firingOrder", "Firing order", { hint: "e.g. 1-3-4-2" })}
+      {text("firingAngles", "Firing angles (crank degrees, optional)", { hint: "Leave empty for even firing. A 90 degree twin: 0, 270" })}
+      <fieldset className="grid grid-cols-2 gap-3">
+        <legend className="mb-2 text-lg font-bold">Spec bands (from the manual)</legend>
+        {text("intake.min", "Intake from", { unit: "mm", numeric: true })}
+        {text("intake.max", "Intake to", { unit: "mm", numeric: true })}
+        {text("exhaust.min", "Exhaust from", { unit: "mm", numeric: true })}
+        {text("exhaust.max", "Exhaust to", { unit: "mm", numeric: true })}
+      </fieldset>
+      <label className="flex min-h-12 items-center gap-3 font-bold">
+        <input type="checkbox" className="h-6 w-6" {...form.register("measuredHot")} />
+        Spec is for a hot engine (most are cold)
+      </label>
+      <fieldset className="grid grid-cols-3 gap-3">
+        <legend className="mb-2 text-lg font-bold">Shim series</legend>
+        {text("shims.min", "Smallest", { unit: "mm", numeric: true })}
+        {text("shims.max", "Largest", { unit: "mm", numeric: true })}
+        {text("shims.step", "Step", { unit: "mm", numeric: true })}
+      </fieldset>
+      {text("assembledShim", "Shim fitted at assembly (optional)", { unit: "mm", numeric: true, hint: "Offers a one-tap fill of every bucket on the first check" })}
+      <details className="rounded-xl border border-line p-3">
+        <summary className="min-h-12 cursor-pointer py-3 font-bold">Valve timing (crank degrees; defaults for a street engine)</summary>
+        <div className="grid grid-cols-2 gap-3">
+          {text("timing.ivo", "Intake opens BTDC", { numeric: true })}
+          {text("timing.ivc", "Intake closes ABDC", { numeric: true })}
+          {text("timing.evo", "Exhaust opens BBDC", { numeric: true })}
+          {text("timing.evc", "Exhaust closes ATDC", { numeric: true })}
+        </div>
+      </details>
+      <div className="grid grid-cols-2 gap-3">
+        <Field id="displayUnit" label="Show lengths in">
+          <select id="displayUnit" className={inputClass} {...form.register("displayUnit")}>
+            <option value="mm">millimetres</option>
+            <option value="in">inches</option>
+          </select>
+        </Field>
+        <Field id="odometerUnit" label="Odometer in">
+          <select id="odometerUnit" className={inputClass} {...form.register("odometerUnit")}>
+            <option value="km">km</option>
+            <option value="mi">miles</option>
+            <option value="h">hours</option>
+          </select>
+        </Field>
+      </div>
+      <Button type="submit" disabled={isSubmitting || !db}>
+        Save engine
+      </Button>
+    </form>
+  );
+}

@@ -1,0 +1,140 @@
+"use client";
+
+import { useLiveQuery } from "dexie-react-hooks";
+import { usePathname } from "next/navigation";
+import { createContext, useCallback, useContext, useEffect, useMemo, useRef, useState, type ReactNode } from "react";
+import { openLocalDb, getMeta, type LocalDb } from "@/lib/sync/local-db";
+import { SignedOut, syncOnce, type Rejected, type SyncState } from "@/lib/sync/client";
+import { useIsClient, useStored } from "@/components/ui/use-stored";
+
+/**
+ * The phone's side of the app: who is signed in (kept locally so the garage screens open with no
+ * signal), their local database, and the sync loop: at start, on reconnect, on focus, every 30 s
+ * while online, and when the service worker's Background Sync fires.
+ */
+export interface LocalUser {
+  id: string;
+  name: string;
+  email: string;
+  displayUnit: "mm" | "in";
+}
+
+interface LocalContext {
+  user: LocalUser | null;
+  /** false until the stored identity has been read */
+  ready: boolean;
+  db: LocalDb | null;
+  state: SyncState;
+  waiting: number;
+  lastSyncAt: number | null;
+  rejected: Rejected[];
+  persisted: boolean | null;
+  syncNow: () => Promise<void>;
+  forget: () => void;
+}
+
+const Ctx = createContext<LocalContext | null>(null);
+const USER_KEY = "lashwright.user";
+const SYNC_EVERY_MS = 30_000;
+
+function storedUser(): LocalUser | null {
+  try {
+    return JSON.parse(localStorage.getItem(USER_KEY) ?? "null") as LocalUser | null;
+  } catch {
+    return null;
+  }
+}
+
+export function LocalProvider({ children }: { children: ReactNode }) {
+  const [user, storeUser] = useStored<LocalUser | null>(USER_KEY, null);
+  const ready = useIsClient();
+  const [state, setState] = useState<SyncState>("idle");
+  const [persisted, setPersisted] = useState<boolean | null>(null);
+  const userId = user?.id;
+  const db = useMemo(() => (userId ? openLocalDb(userId) : null), [userId]);
+  const running = useRef<Promise<void> | null>(null);
+
+  // The identity: the stored one at once, then the server's word when it can be reached; asked
+  // again on each new page while nobody is known here (for example just after signing in).
+  const path = usePathname();
+  const askAgain = user ? "known" : path;
+  useEffect(() => {
+    fetch("/api/account", { credentials: "same-origin" })
+      .then(async (res) => {
+        if (res.status === 401) {
+          setState("signed-out");
+          return;
+        }
+        if (!res.ok) return;
+        const { user: u } = (await res.json()) as { user: LocalUser };
+        const prev = storedUser();
+        const keep: LocalUser = { id: u.id, name: u.name, email: u.email, displayUnit: u.displayUnit };
+        if (!prev || prev.id !== keep.id || prev.name !== keep.name || prev.displayUnit !== keep.displayUnit) storeUser(keep);
+      })
+      .catch(() => setState("offline"));
+  }, [storeUser, askAgain]);
+
+  // Ask the browser to keep our data; the answer is shown in the status line.
+  useEffect(() => {
+    if (!navigator.storage?.persist) return;
+    navigator.storage.persisted().then((already) => (already ? setPersisted(true) : navigator.storage.persist().then(setPersisted)));
+  }, []);
+
+  const syncNow = useCallback(async () => {
+    if (!db) return;
+    if (running.current) return running.current;
+    running.current = (async () => {
+      setState("syncing");
+      try {
+        await syncOnce(db, (u, i) => fetch(u, i));
+        setState("idle");
+      } catch (e) {
+        setState(e instanceof SignedOut ? "signed-out" : e instanceof TypeError ? "offline" : "error");
+      } finally {
+        running.current = null;
+      }
+    })();
+    return running.current;
+  }, [db]);
+
+  useEffect(() => {
+    if (!db) return;
+    void syncNow();
+    const onOnline = () => void syncNow();
+    const onFocus = () => document.visibilityState === "visible" && void syncNow();
+    const onMessage = (e: MessageEvent) => (e.data as { type?: string })?.type === "lashwright-sync" && void syncNow();
+    window.addEventListener("online", onOnline);
+    document.addEventListener("visibilitychange", onFocus);
+    navigator.serviceWorker?.addEventListener("message", onMessage);
+    const timer = setInterval(() => navigator.onLine && void syncNow(), SYNC_EVERY_MS);
+    return () => {
+      window.removeEventListener("online", onOnline);
+      document.removeEventListener("visibilitychange", onFocus);
+      navigator.serviceWorker?.removeEventListener("message", onMessage);
+      clearInterval(timer);
+    };
+  }, [db, syncNow]);
+
+  const waiting = useLiveQuery(() => (db ? db.outbox.count() : 0), [db], 0);
+  const lastSyncAt = useLiveQuery(async () => (db ? ((await getMeta<number>(db, "lastSyncAt")) ?? null) : null), [db, state], null);
+  const rejected = useLiveQuery(async () => (db ? ((await getMeta<Rejected[]>(db, "rejected")) ?? []) : []), [db, state], []);
+
+  // When changes wait and a signal may be back, ask for Background Sync where the browser has it.
+  useEffect(() => {
+    if (waiting === 0 || !("serviceWorker" in navigator)) return;
+    navigator.serviceWorker.ready
+      .then((reg) => (reg as ServiceWorkerRegistration & { sync?: { register(tag: string): Promise<void> } }).sync?.register("lashwright-sync"))
+      .catch(() => undefined);
+  }, [waiting]);
+
+  const forget = useCallback(() => storeUser(null), [storeUser]);
+
+  const value: LocalContext = { user, ready, db, state, waiting, lastSyncAt, rejected, persisted, syncNow, forget };
+  return <Ctx.Provider value={value}>{children}</Ctx.Provider>;
+}
+
+export function useLocal(): LocalContext {
+  const v = useContext(Ctx);
+  if (!v) throw new Error("useLocal outside LocalProvider");
+  return v;
+}

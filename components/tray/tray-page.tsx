@@ -1,0 +1,67 @@
+"use client";
+
+import { useLiveQuery } from "dexie-react-hooks";
+import { useState } from "react";
+import { saveTrayItem } from "@/lib/sync/writes";
+import { useLocal } from "@/components/sync/local-provider";
+import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
+
+/** The loose shims on hand, by size and count; the plan takes from here and fitting updates it. */
+export function TrayPage() {
+  const { db } = useLocal();
+  const items = useLiveQuery(async () => db?.tray.orderBy("size").toArray(), [db]);
+  const [size, setSize] = useState("");
+  const [measured, setMeasured] = useState(false);
+  const [error, setError] = useState<string | null>(null);
+  if (!items) return null;
+  const add = async () => {
+    if (!db) return;
+    const n = Number(size.replace(",", "."));
+    if (!Number.isFinite(n) || n <= 0 || n > 20) return setError("Enter the shim's size in mm, e.g. 2.65");
+    setError(null);
+    const same = items.find((t) => Math.round(t.size * 1e6) === Math.round(n * 1e6));
+    await saveTrayItem(db, same ? { ...same, count: same.count + 1 } : { id: crypto.randomUUID(), size: n, measuredSize: measured, count: 1 });
+    setSize("");
+  };
+  const total = items.reduce((s, t) => s + t.count, 0);
+  return (
+    <div className="flex flex-col gap-4">
+      <p className="figures font-bold">
+        {total} shim{total === 1 ? "" : "s"} in {items.filter((t) => t.count > 0).length} sizes
+      </p>
+      {items.length === 0 && <Notice>The tray is empty. Shims that come out of an engine and are not reused land here.</Notice>}
+      <ul className="flex flex-col gap-2">
+        {items.map((t) => (
+          <li key={t.id} className="flex items-center gap-3 rounded-xl border border-line bg-surface p-3">
+            <span className="figures min-w-28 text-2xl font-extrabold">{t.size.toFixed(t.measuredSize ? 3 : 2)}</span>
+            <span className="text-sm text-ink-soft">mm{t.measuredSize ? " (micrometer)" : ""}</span>
+            <span className="ml-auto flex items-center gap-2">
+              <button type="button" aria-label={`One fewer ${t.size} mm`} disabled={t.count === 0} onClick={() => db && saveTrayItem(db, { ...t, count: t.count - 1 })} className="min-h-12 min-w-12 rounded-xl border-2 border-line text-2xl font-bold disabled:opacity-40">
+                −
+              </button>
+              <span className="figures min-w-10 text-center text-xl font-bold" aria-label={`${t.count} of ${t.size} mm`}>
+                ×{t.count}
+              </span>
+              <button type="button" aria-label={`One more ${t.size} mm`} onClick={() => db && saveTrayItem(db, { ...t, count: t.count + 1 })} className="min-h-12 min-w-12 rounded-xl border-2 border-line text-2xl font-bold">
+                +
+              </button>
+            </span>
+          </li>
+        ))}
+      </ul>
+      <section className="flex flex-col gap-3 rounded-2xl border border-dashed border-line p-4">
+        <h2 className="text-xl font-bold">Add a shim</h2>
+        <Field id="tray-size" label="Size (mm)" error={error ?? undefined}>
+          <input id="tray-size" inputMode="decimal" value={size} onChange={(e) => setSize(e.target.value)} className={`${inputClass} figures`} />
+        </Field>
+        <label className="flex min-h-12 items-center gap-3 font-bold">
+          <input type="checkbox" className="h-6 w-6" checked={measured} onChange={(e) => setMeasured(e.target.checked)} />
+          Measured with a micrometer
+        </label>
+        <Button type="button" look="plain" onClick={add}>
+          Add to tray
+        </Button>
+      </section>
+    </div>
+  );
+}

@@ -1,0 +1,66 @@
+import { planShims, shimSeries, valveNames, type ShimPlan, type ValveName } from "../lash";
+import type { LocalEngine, LocalReading } from "../sync/local-db";
+
+/**
+ * What a check's readings mean for each valve, computed the same way on every screen: its state,
+ * the shim in it now, its latest clearance, and the shim plan for those that need a change.
+ */
+export type ValveState = "unmeasured" | "in-band" | "tight" | "loose" | "fitted" | "verified";
+
+export const STATE_WORDS: Record<ValveState, { word: string; glyph: string }> = {
+  unmeasured: { word: "to measure", glyph: "○" },
+  "in-band": { word: "in band", glyph: "✓" },
+  tight: { word: "tight", glyph: "▼" },
+  loose: { word: "loose", glyph: "▲" },
+  fitted: { word: "re-measure", glyph: "↻" },
+  verified: { word: "verified", glyph: "✔" },
+};
+
+export interface ValveView {
+  valve: ValveName;
+  state: ValveState;
+  spec: { min: number; max: number; target?: number };
+  latest: LocalReading | undefined;
+  /** the round a new measurement of this valve belongs to */
+  nextRound: number;
+  /** the shim in the bucket now: fitted, or micrometer, or stamp */
+  installed: number | null;
+  measured: number | null;
+}
+
+export function engineSizes(e: Pick<LocalEngine, "shims">): number[] {
+  return "sizes" in e.shims ? e.shims.sizes : shimSeries(e.shims.min, e.shims.max, e.shims.step);
+}
+
+export const installedOf = (r: Pick<LocalReading, "installedMicrometer" | "installedStamp">) => r.installedMicrometer ?? r.installedStamp;
+
+export function valveViews(engine: LocalEngine, readings: LocalReading[], fallbackShim: (valveId: string) => number | null): ValveView[] {
+  return valveNames(engine).map((valve) => {
+    const spec = valve.kind === "intake" ? engine.intake : engine.exhaust;
+    const rs = readings.filter((r) => r.valve === valve.id).sort((a, b) => a.round - b.round);
+    const latest = rs.at(-1);
+    if (!latest) return { valve, state: "unmeasured", spec, latest, nextRound: 0, installed: fallbackShim(valve.id), measured: null };
+    const installed = latest.fittedShim ?? installedOf(latest);
+    if (latest.fittedShim != null) return { valve, state: "fitted", spec, latest, nextRound: latest.round + 1, installed, measured: null };
+    const m = latest.measured;
+    const state: ValveState = m == null ? "unmeasured" : m < spec.min - 1e-9 ? "tight" : m > spec.max + 1e-9 ? "loose" : latest.round === 0 ? "in-band" : "verified";
+    return { valve, state, spec, latest, nextRound: latest.round, installed, measured: m };
+  });
+}
+
+/** The plan over every measured valve whose shim is known; in-band valves keep theirs. */
+export function checkPlan(engine: LocalEngine, views: ValveView[], tray: { size: number; count: number }[]): ShimPlan | null {
+  const ready = views.filter((v) => v.measured != null && v.installed != null && v.state !== "fitted");
+  if (ready.length === 0) return null;
+  return planShims({
+    valves: ready.map((v) => ({ id: v.valve.id, installed: v.installed!, measured: v.measured!, spec: v.spec })),
+    sizes: engineSizes(engine),
+    tray,
+  });
+}
+
+/** "Cylinder 2, intake 1" for a screen reader and a heading; "I2.1" stays the short form. */
+export function valveLabel(v: ValveName, perKind: number): string {
+  const kind = v.kind === "intake" ? "intake" : "exhaust";
+  return perKind > 1 ? `Cyl ${v.cylinder} ${kind} ${v.index}` : `Cyl ${v.cylinder} ${kind}`;
+}

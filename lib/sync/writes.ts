@@ -1,0 +1,88 @@
+import type { MutationArgs } from "./mutations";
+import { record } from "./outbox";
+import type { CheckStatus, LocalCheck, LocalDb, LocalEngine, LocalReading } from "./local-db";
+
+/**
+ * Every change the garage screens make, each a local write plus an outbox entry (lib/sync/outbox).
+ * The shapes are the server's, so a pulled record and a local one look alike.
+ */
+type EngineArgs = MutationArgs<"engine.put/1">;
+
+export function saveEngine(db: LocalDb, e: EngineArgs) {
+  return record(db, "engine.put/1", e, async (a) => {
+    const local: LocalEngine = {
+      ...a,
+      firingAngles: a.firingAngles ?? null,
+      timing: a.timing ?? { ivo: 20, ivc: 50, evo: 50, evc: 20 },
+      shimDiameter: a.shimDiameter ?? null,
+      assembledShim: a.assembledShim ?? null,
+    };
+    await db.engines.put(local);
+  });
+}
+
+export function deleteEngine(db: LocalDb, id: string) {
+  return record(db, "engine.delete/1", { id }, async () => {
+    const cs = await db.checks.where("engineId").equals(id).primaryKeys();
+    for (const c of cs) await db.readings.where("checkId").equals(c).delete();
+    await db.checks.bulkDelete(cs);
+    await db.engines.delete(id);
+  });
+}
+
+export async function saveCheck(db: LocalDb, c: { id: string; engineId: string; odometer: number; measuredHot: boolean; notes?: string | null; status?: CheckStatus }) {
+  const existing = await db.checks.get(c.id);
+  const args = { id: c.id, engineId: c.engineId, odometer: c.odometer, measuredHot: c.measuredHot, notes: c.notes ?? existing?.notes ?? null, status: c.status ?? existing?.status ?? "measuring" } as MutationArgs<"check.put/1">;
+  return record(db, "check.put/1", args, async (a) => {
+    const local: LocalCheck = {
+      id: a.id,
+      engineId: a.engineId,
+      odometer: a.odometer,
+      measuredHot: a.measuredHot,
+      notes: a.notes ?? null,
+      status: a.status,
+      startedAt: existing?.startedAt ?? new Date().toISOString(),
+      closedAt: a.status === "closed" ? new Date().toISOString() : null,
+    };
+    await db.checks.put(local);
+  });
+}
+
+export async function setCheckStatus(db: LocalDb, checkId: string, status: CheckStatus) {
+  const c = await db.checks.get(checkId);
+  if (!c) return;
+  return saveCheck(db, { ...c, status });
+}
+
+export type ReadingPatch = Omit<LocalReading, "checkId" | "version">;
+
+export function saveReading(db: LocalDb, checkId: string, r: ReadingPatch) {
+  const reading = {
+    valve: r.valve,
+    round: r.round,
+    installedStamp: r.installedStamp,
+    installedMicrometer: r.installedMicrometer,
+    feelerGo: r.feelerGo,
+    feelerNoGo: r.feelerNoGo,
+    measured: r.measured,
+    method: r.method,
+    fittedShim: r.fittedShim,
+  };
+  return record(db, "reading.put/1", { checkId, reading } as MutationArgs<"reading.put/1">, async () => {
+    await db.readings.put({ checkId, ...reading });
+  });
+}
+
+export function saveTrayItem(db: LocalDb, t: { id: string; size: number; measuredSize: boolean; count: number; shimDiameter?: number | null }) {
+  return record(db, "tray.put/1", { ...t, shimDiameter: t.shimDiameter ?? null } as MutationArgs<"tray.put/1">, async (a) => {
+    await db.tray.put({ id: a.id, size: a.size, measuredSize: a.measuredSize, count: a.count, shimDiameter: a.shimDiameter ?? null });
+  });
+}
+
+/** Add (or with a negative delta, take) shims of one size on the tray. */
+export async function adjustTray(db: LocalDb, size: number, delta: number) {
+  const all = await db.tray.toArray();
+  const item = all.find((t) => Math.round(t.size * 1e6) === Math.round(size * 1e6));
+  if (item) return saveTrayItem(db, { ...item, count: Math.max(0, item.count + delta) });
+  if (delta > 0) return saveTrayItem(db, { id: crypto.randomUUID(), size, measuredSize: false, count: delta });
+}

@@ -1,0 +1,164 @@
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { chromium, type BrowserContext, type Page } from "playwright-core";
+import { mkdtempSync, rmSync } from "node:fs";
+import { tmpdir } from "node:os";
+import path from "node:path";
+import { planShims, shimSeries } from "@/lib/lash";
+import { baseUrl, CHROMIUM_ARGS, PHONE } from "../support/browser";
+import { rawConnection } from "../support/db";
+import { makeUser } from "../support/fixtures";
+
+/**
+ * The garage without a signal: sign in once online, then with the network cut create an engine, a
+ * check and 16 readings by taps only; reload; close the browser and open it again offline; then go
+ * online and see the server hold exactly those rows, once.
+ */
+const profile = mkdtempSync(path.join(tmpdir(), "lashwright-profile-"));
+let ctx: BrowserContext;
+
+const open = () => chromium.launchPersistentContext(profile, { executablePath: process.env.CHROMIUM_PATH ?? "/usr/bin/chromium", args: CHROMIUM_ARGS, ...PHONE, colorScheme: "dark" });
+
+afterAll(async () => {
+  await ctx?.close();
+  rmSync(profile, { recursive: true, force: true });
+});
+
+// The readings to tap (mm blades of the default metric set); intake band 0.10-0.20, exhaust 0.20-0.30.
+const TAPS: Record<string, string> = {
+  "I1.1": "0.15", "I1.2": "0.13", "E1.1": "0.25", "E1.2": "0.23",
+  "I2.1": "0.15", "I2.2": "0.08", "E2.1": "0.33", "E2.2": "0.25",
+  "I3.1": "0.18", "I3.2": "0.15", "E3.1": "0.18", "E3.2": "0.25",
+  "I4.1": "0.23", "I4.2": "0.15", "E4.1": "0.28", "E4.2": "0.25",
+};
+const BLADES = [0.02, 0.03, 0.04, 0.05, 0.06, 0.07, 0.08, 0.09, 0.1, 0.13, 0.15, 0.18, 0.2, 0.23, 0.25, 0.28, 0.3, 0.33, 0.38, 0.4, 0.45, 0.5];
+
+async function serverReadings(checkId: string) {
+  const db = await rawConnection();
+  const [rows] = await db.query("SELECT valve, round, installed_stamp, feeler_go, feeler_no_go, measured FROM readings WHERE check_id = ? ORDER BY valve", [checkId]);
+  await db.end();
+  return rows as { valve: string; round: number; installed_stamp: string; feeler_go: string; feeler_no_go: string; measured: string }[];
+}
+
+let checkUrl = "";
+let checkId = "";
+
+beforeAll(async () => {
+  ctx = await open();
+});
+
+async function measuredCount(page: Page) {
+  return page.getByText(/of 16 valves measured/).innerText();
+}
+
+describe("a whole check offline, then sync", () => {
+  it("signs in online and keeps the garage screens for offline use", async () => {
+    const u = await makeUser("offline");
+    const page = ctx.pages()[0] ?? (await ctx.newPage());
+    await page.goto(`${baseUrl()}/sign-in`);
+    await page.getByLabel("E-mail").fill(u.email);
+    await page.getByLabel("Password").fill(u.password);
+    await page.getByRole("button", { name: "Sign in", exact: true }).tap();
+    await page.waitForURL("**/engines");
+    await page.getByText(/No engines on this phone yet/).waitFor();
+    // the service worker is installed and controls the page, with the shells precached
+    await page.evaluate(async () => {
+      await navigator.serviceWorker.ready;
+      if (!navigator.serviceWorker.controller) await new Promise((r) => navigator.serviceWorker.addEventListener("controllerchange", r, { once: true }));
+    });
+    const cached = await page.evaluate(async () => {
+      const keys = await caches.keys();
+      const all = await Promise.all(keys.map(async (k) => (await (await caches.open(k)).keys()).map((r) => new URL(r.url).pathname)));
+      return all.flat();
+    });
+    for (const p of ["/engines", "/engine", "/engine/edit", "/check", "/tray"]) expect(cached).toContain(p);
+  });
+
+  it("with no network: creates an engine, a check and 16 readings by taps", async () => {
+    const page = ctx.pages()[0]!;
+    await ctx.setOffline(true);
+    await page.getByRole("link", { name: /Add an engine/ }).tap();
+    await page.getByLabel("Start from a layout").selectOption("i4-16");
+    await page.getByLabel("Name").fill("Offline four");
+    await page.getByLabel("Intake from (mm)").fill("0.10");
+    await page.getByLabel("Intake to (mm)").fill("0.20");
+    await page.getByLabel("Exhaust from (mm)").fill("0.20");
+    await page.getByLabel("Exhaust to (mm)").fill("0.30");
+    await page.getByRole("button", { name: "Save engine" }).tap();
+    await page.waitForURL(/\/engine\?id=/);
+    await page.getByLabel(/Odometer now/).fill("15200");
+    await page.getByRole("button", { name: "Start check" }).tap();
+    await page.waitForURL(/\/check\?id=/);
+    checkUrl = page.url();
+    checkId = new URL(checkUrl).searchParams.get("id")!;
+    await page.getByRole("checkbox", { name: /Engine cold/ }).waitFor();
+    const boxes = await page.getByRole("checkbox").all();
+    expect(boxes).toHaveLength(6);
+    for (const box of boxes) {
+      await box.tap();
+      await expect.poll(() => box.getAttribute("aria-checked")).toBe("true");
+    }
+    await page.getByRole("button", { name: "Start measuring" }).tap();
+    await page.getByLabel("Shim size for every bucket").selectOption("2.6");
+    await page.getByRole("button", { name: "Fill all" }).tap();
+    await page.getByTestId("shim-I1.1").getByText("2.60").waitFor();
+    for (const [valve, blade] of Object.entries(TAPS)) await page.getByRole("group", { name: `Feeler blades for ${valve}` }).getByRole("button", { name: blade, exact: true }).tap();
+    await expect.poll(() => measuredCount(page)).toMatch(/^16 of 16/);
+    await expect(page.getByTestId("result-E2.1").innerText()).resolves.toMatch(/loose · needs 2\.70 mm \(gives 0\.23 mm\)/);
+    await expect(page.getByTestId("sync-line").innerText()).resolves.toMatch(/Saved on this phone · \d+ changes waiting/);
+    await page.screenshot({ path: "test-results/check-measure.png", fullPage: false });
+    expect(await serverReadings(checkId)).toEqual([]);
+  });
+
+  it("still has everything after a reload, and after the browser is closed and opened again, offline", async () => {
+    let page = ctx.pages()[0]!;
+    await page.reload();
+    await expect.poll(() => measuredCount(page)).toMatch(/^16 of 16/);
+    await ctx.close();
+    ctx = await open();
+    await ctx.setOffline(true);
+    page = ctx.pages()[0] ?? (await ctx.newPage());
+    await page.goto(checkUrl);
+    await expect.poll(() => measuredCount(page)).toMatch(/^16 of 16/);
+    await expect(page.getByTestId("result-I2.2").innerText()).resolves.toMatch(/tight/);
+  });
+
+  it("online again: the server holds exactly those readings, once, and nothing waits", async () => {
+    const page = ctx.pages()[0]!;
+    await ctx.setOffline(false);
+    await page.evaluate(() => window.dispatchEvent(new Event("online")));
+    await expect.poll(async () => (await serverReadings(checkId)).length, { timeout: 20_000 }).toBe(16);
+    await page.getByTestId("sync-line").getByText(/All synced/).waitFor({ timeout: 20_000 });
+    const rows = await serverReadings(checkId);
+    for (const r of rows) {
+      const go = Number(TAPS[r.valve]);
+      expect(Number(r.installed_stamp)).toBe(2.6);
+      expect(Number(r.feeler_go)).toBe(go);
+      expect(Number(r.measured)).toBe(go);
+      expect(Number(r.feeler_no_go)).toBe(BLADES[BLADES.indexOf(go) + 1]);
+      expect(r.round).toBe(0);
+    }
+    // a second sync sends nothing again
+    await page.evaluate(() => window.dispatchEvent(new Event("online")));
+    await new Promise((r) => setTimeout(r, 1500));
+    expect(await serverReadings(checkId)).toHaveLength(16);
+  });
+
+  it("the plan on screen is the core's plan for the same readings", async () => {
+    const page = ctx.pages()[0]!;
+    await page.getByRole("button", { name: /See the shim plan/ }).tap();
+    await page.getByText("Plan per valve").waitFor();
+    const expected = planShims({
+      valves: Object.entries(TAPS).map(([id, b]) => ({ id, installed: 2.6, measured: Number(b), spec: id.startsWith("I") ? { min: 0.1, max: 0.2 } : { min: 0.2, max: 0.3 } })),
+      sizes: shimSeries(2.5, 3.3, 0.05),
+      tray: [],
+    });
+    for (const a of expected.assignments) {
+      const row = await page.getByTestId(`plan-${a.valveId}`).innerText();
+      if (a.source.kind === "keep") expect(row).toMatch(/keep/);
+      else expect(row).toContain(a.size.toFixed(2));
+    }
+    const buyText = expected.buy.length ? await page.getByTestId("buy-list").innerText() : "";
+    for (const b of expected.buy) expect(buyText).toContain(`${b.count} × ${b.size.toFixed(2)} mm`);
+    await page.screenshot({ path: "test-results/check-plan.png", fullPage: true });
+  });
+});
