@@ -3,8 +3,10 @@
 import { useLiveQuery } from "dexie-react-hooks";
 import { useRouter, useSearchParams } from "next/navigation";
 import { useMemo, useState } from "react";
-import { formatLength, LashInputError, rotationGuide, workOrder, type ShimMove, type ShimPlan } from "@/lib/lash";
+import { LashInputError, rotationGuide, workOrder, type ShimMove, type ShimPlan } from "@/lib/lash";
 import { checkPlan, engineSizes, valveLabel, valveViews, type ValveView } from "@/lib/check/derive";
+import { checkCsv } from "@/lib/check/csv";
+import { PlanTable } from "./plan-table";
 import type { LocalCheck, LocalEngine, LocalReading } from "@/lib/sync/local-db";
 import { adjustTray, saveReading, setCheckStatus } from "@/lib/sync/writes";
 import { useLocal } from "@/components/sync/local-provider";
@@ -35,7 +37,6 @@ const CAUTIONS = [
 
 export function CheckScreen() {
   const params = useSearchParams();
-  const router = useRouter();
   const id = params.get("id") ?? "";
   const { db } = useLocal();
   const data = useLiveQuery(async () => {
@@ -56,7 +57,12 @@ export function CheckScreen() {
 
   if (data === undefined) return null;
   if (data === null || !data.engine) return <Notice tone="error">This check is not on this phone.</Notice>;
-  return <CheckBody key={id} check={data.check} engine={data.engine} readings={data.readings} tray={data.tray} lastReadings={data.lastReadings} step={(params.get("step") as Step) ?? undefined} go={(s: Step) => router.replace(`/check?id=${id}&step=${s}`, { scroll: true })} />;
+  return <CheckBody key={id} check={data.check} engine={data.engine} readings={data.readings} tray={data.tray} lastReadings={data.lastReadings} step={(params.get("step") as Step) ?? undefined} go={(s: Step) => {
+        // a step is a view of the same record: change the address without a navigation (no request,
+        // so it behaves the same offline); Next keeps useSearchParams in step with history.replaceState
+        window.history.replaceState(null, "", `/check?id=${id}&step=${s}`);
+        window.scrollTo({ top: 0 });
+      }} />;
 }
 
 function lastShims(lastReadings: LocalReading[]) {
@@ -108,7 +114,7 @@ function CheckBody({ check, engine, readings, tray, lastReadings, step, go }: { 
       {current === "prepare" && <Prepare checkId={check.id} onDone={() => go("measure")} />}
       {current === "measure" && <Measure engine={engine} views={views} sizes={sizes} step={seriesStep} save={save} mirrored={mirrored} setMirrored={setMirrored} onDone={() => go("plan")} previous={previous} checkId={check.id} />}
       {current === "plan" && (
-        <PlanView engine={engine} views={views} plan={plan} error={planError} mirrored={mirrored} setMirrored={setMirrored} onFit={() => (db && setCheckStatus(db, check.id, "fitting"), go("fit"))} />
+        <PlanView engine={engine} check={check} views={views} plan={plan} error={planError} mirrored={mirrored} setMirrored={setMirrored} onFit={() => (db && setCheckStatus(db, check.id, "fitting"), go("fit"))} />
       )}
       {current === "fit" && plan && <FitView engine={engine} views={views} plan={plan} checkId={check.id} onDone={() => (db && setCheckStatus(db, check.id, "verifying"), go("verify"))} />}
       {current === "verify" && <Verify engine={engine} views={views} sizes={sizes} step={seriesStep} save={save} check={check} />}
@@ -217,11 +223,13 @@ function Measure({ engine, views, sizes, step, save, mirrored, setMirrored, onDo
   );
 }
 
-const SOURCE_WORDS = (a: ShimPlan["assignments"][number], per: (id: string) => string) =>
-  a.source.kind === "keep" ? "keep" : a.source.kind === "valve" ? `from ${per(a.source.valveId)}` : a.source.kind === "tray" ? "from the tray" : "buy";
-
-export function PlanView({ engine, views, plan, error, mirrored, setMirrored, onFit }: { engine: LocalEngine; views: ValveView[]; plan: ShimPlan | null; error: string | null; mirrored: boolean; setMirrored: (m: boolean) => void; onFit?: () => void }) {
-  const unit = engine.displayUnit;
+export function PlanView({ engine, check, views, plan, error, mirrored, setMirrored, onFit }: { engine: LocalEngine; check: LocalCheck; views: ValveView[]; plan: ShimPlan | null; error: string | null; mirrored: boolean; setMirrored: (m: boolean) => void; onFit?: () => void }) {
+  const csv = useMemo(() => {
+    if (typeof window === "undefined") return null;
+    const date = new Date(check.startedAt).toISOString().slice(0, 10);
+    const text = checkCsv({ engine: engine.name, odometer: check.odometer, odometerUnit: engine.odometerUnit, date }, views, plan);
+    return { href: `data:text/csv;charset=utf-8,${encodeURIComponent(text)}`, name: `check-${date}-${check.odometer}.csv` };
+  }, [engine, check, views, plan]);
   const [copied, setCopied] = useState(false);
   const byId = new Map(views.map((v) => [v.valve.id, v]));
   const buyText = plan?.buy.map((b) => `${b.count} × ${b.size.toFixed(2)} mm shim`).join("\n") ?? "";
@@ -233,43 +241,7 @@ export function PlanView({ engine, views, plan, error, mirrored, setMirrored, on
       {!plan && !error && <Notice>Measure some valves first: the plan fills in as readings come in.</Notice>}
       {plan && (
         <>
-          <div className="-mx-4 overflow-x-auto px-4">
-            <table className="figures w-full min-w-[34rem] border-collapse text-left text-base">
-              <caption className="mb-2 text-left text-xl font-extrabold">Plan per valve</caption>
-              <thead>
-                <tr className="border-b-2 border-line text-sm text-ink-soft">
-                  <th className="py-2 pr-2">Valve</th>
-                  <th className="pr-2">Shim now</th>
-                  <th className="pr-2">Gap</th>
-                  <th className="pr-2">Target</th>
-                  <th className="pr-2">New shim</th>
-                  <th className="pr-2">Gives</th>
-                  <th>From</th>
-                </tr>
-              </thead>
-              <tbody>
-                {plan.assignments.map((a) => {
-                  const v = byId.get(a.valveId)!;
-                  const target = v.spec.target ?? (v.spec.min + v.spec.max) / 2;
-                  return (
-                    <tr key={a.valveId} className="border-b border-line" data-testid={`plan-${a.valveId}`}>
-                      <th scope="row" className="py-2 pr-2">
-                        {a.valveId}
-                      </th>
-                      <td className="pr-2">{v.installed?.toFixed(v.latest?.installedMicrometer != null ? 3 : 2)}</td>
-                      <td className="pr-2">{v.measured != null ? formatLength(v.measured, unit) : "—"}</td>
-                      <td className="pr-2">{formatLength(target, unit)}</td>
-                      <td className="pr-2 font-extrabold">{a.source.kind === "keep" ? "—" : a.size.toFixed(2)}</td>
-                      <td className="pr-2">
-                        {formatLength(a.predicted, unit)} {a.inSpec ? "✓" : "✕ out of band"}
-                      </td>
-                      <td>{SOURCE_WORDS(a, (id) => id)}</td>
-                    </tr>
-                  );
-                })}
-              </tbody>
-            </table>
-          </div>
+          <PlanTable engine={engine} plan={plan} byId={byId} />
           <section aria-labelledby="buy-title" className="rounded-2xl border border-line bg-surface p-4">
             <h2 id="buy-title" className="text-xl font-extrabold">
               Buy list
@@ -301,6 +273,24 @@ export function PlanView({ engine, views, plan, error, mirrored, setMirrored, on
               Back to the tray
             </h2>
             {plan.toTray.length === 0 ? <p className="text-ink-soft">Nothing: every shim that comes out is used again.</p> : <p className="figures text-lg">{plan.toTray.map((t) => `${t.count} × ${t.size.toFixed(2)} mm`).join(", ")}</p>}
+          </section>
+          <div className="flex flex-wrap gap-2 print:hidden">
+            <Button type="button" look="plain" onClick={() => window.print()}>
+              Print worksheet
+            </Button>
+            {csv && (
+              <a href={csv.href} download={csv.name} className="inline-flex min-h-12 items-center justify-center rounded-xl border-2 border-line px-5 text-lg font-bold">
+                Download CSV
+              </a>
+            )}
+          </div>
+          <section className="hidden print:block">
+            <h2 className="text-lg font-bold">Cautions</h2>
+            <ul className="list-disc pl-5">
+              {CAUTIONS.map((c) => (
+                <li key={c}>{c}</li>
+              ))}
+            </ul>
           </section>
           {onFit && changing > 0 && (
             <Button type="button" onClick={onFit}>

@@ -7,6 +7,7 @@ import { useState } from "react";
 import { formatLength } from "@/lib/lash";
 import { saveCheck } from "@/lib/sync/writes";
 import { useLocal } from "@/components/sync/local-provider";
+import { History } from "./history";
 import { Button, ButtonLink, Field, inputClass, Notice } from "@/components/ui/controls";
 
 export function EngineList() {
@@ -87,6 +88,7 @@ export function EngineDetail() {
           Start check
         </Button>
       </section>
+      <History engine={engine} />
       <section className="flex flex-col gap-2">
         <h2 className="text-xl font-extrabold">Checks</h2>
         {checks?.length === 0 && <p className="text-ink-soft">No checks yet.</p>}

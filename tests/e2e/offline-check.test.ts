@@ -162,3 +162,46 @@ describe("a whole check offline, then sync", () => {
     await page.screenshot({ path: "test-results/check-plan.png", fullPage: true });
   });
 });
+
+describe("fitting, re-checking and closing", () => {
+  it("ticks the swaps, re-measures only the changed valves, closes the check, and the tray follows", async () => {
+    const page = ctx.pages()[0]!;
+    const errors: string[] = [];
+    page.on("pageerror", (e) => errors.push(e.message));
+    await page.getByRole("button", { name: /Fit the 4 changes/ }).tap();
+    await page.waitForURL(/step=fit/);
+    await page
+      .getByRole("heading", { name: /Swap list/ })
+      .waitFor({ timeout: 15_000 })
+      .catch(async (e: unknown) => {
+        await page.screenshot({ path: "test-results/fit-failure.png", fullPage: true });
+        throw new Error(`no swap list (${page.url()}; page errors: ${errors.join(" | ") || "none"}): ${String(e)}`);
+      });
+    const moves = await page.getByRole("checkbox").all();
+    expect(moves.length).toBe(8); // four shims out to the tray, four new ones in
+    await expect(page.getByRole("checkbox").first().innerText()).resolves.toMatch(/Take the 2\.60 out of Cyl \d (intake|exhaust) \d and put it on the tray/);
+    for (const m of moves) {
+      await m.tap();
+      await expect.poll(() => m.getAttribute("aria-checked")).toBe("true");
+    }
+    await page.getByRole("button", { name: "Re-measure the changed valves" }).tap();
+    await page.getByRole("heading", { name: /Measure the changed valves again/ }).waitFor();
+    const cards = page.getByRole("article");
+    await expect(cards.count()).resolves.toBe(4);
+    // the new shims give these clearances (gap - new shim); tap them
+    const after: Record<string, string> = { "I2.2": "0.13", "E2.1": "0.23", "E3.1": "0.23", "I4.1": "0.13" };
+    for (const [valve, blade] of Object.entries(after)) {
+      await expect(page.getByTestId(`shim-${valve}`).innerText()).resolves.toBe(valve === "I2.2" || valve === "E3.1" ? "2.55" : "2.70");
+      await page.getByRole("group", { name: `Feeler blades for ${valve}` }).getByRole("button", { name: blade, exact: true }).tap();
+    }
+    await page.getByText("✓ Every valve is in its band.").waitFor();
+    await page.screenshot({ path: "test-results/check-recheck.png", fullPage: true });
+    await page.getByRole("button", { name: "Close the check" }).tap();
+    await page.waitForURL(/\/engine\?id=/);
+    await page.getByText(/15,200 km/).waitFor();
+    await expect(page.getByText(/· closed/).count()).resolves.toBe(1);
+    await page.getByRole("link", { name: "Tray" }).tap();
+    await page.getByLabel("4 of 2.6 mm").waitFor();
+    await expect.poll(async () => (await serverReadings(checkId)).length, { timeout: 20_000 }).toBe(20);
+  });
+});

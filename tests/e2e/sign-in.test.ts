@@ -32,6 +32,14 @@ describe("signing in on a phone", () => {
     // the mentor's engine is not in her list
     await expect(page.getByText("Red twin").count()).resolves.toBe(0);
     await page.screenshot({ path: "test-results/engines-list.png" });
+    // the four's history: the demo's fast-closing exhaust is flagged and its drift chart drawn
+    await page.getByRole("link", { name: /Blue four/ }).tap();
+    await page.getByRole("heading", { name: "History and drift" }).waitFor();
+    await page.getByText(/E3\.1 closes much faster than the engine's other exhausts/).waitFor();
+    await page.getByTestId("drift-chart").locator("svg.recharts-surface").waitFor();
+    await expect(page.getByText(/E3\.1 closes 0\.0\d+ mm per 1,000 km/).isVisible()).resolves.toBe(true);
+    await page.getByTestId("drift-chart").scrollIntoViewIfNeeded();
+    await page.screenshot({ path: "test-results/engine-history.png" });
     await ctx.close();
   });
 

@@ -1,0 +1,65 @@
+"use client";
+
+import { createColumnHelper, flexRender, getCoreRowModel, useReactTable } from "@tanstack/react-table";
+import { formatLength, type Assignment, type ShimPlan } from "@/lib/lash";
+import type { ValveView } from "@/lib/check/derive";
+import type { LocalEngine } from "@/lib/sync/local-db";
+
+interface Row {
+  a: Assignment;
+  v: ValveView;
+}
+
+const col = createColumnHelper<Row>();
+
+/** The plan per valve: shim now, clearance, target, new shim, predicted clearance, and its source. */
+export function PlanTable({ engine, plan, byId }: { engine: LocalEngine; plan: ShimPlan; byId: Map<string, ValveView> }) {
+  const unit = engine.displayUnit;
+  const columns = [
+    col.accessor((r) => r.a.valveId, { id: "valve", header: "Valve", cell: (c) => <strong>{c.getValue()}</strong> }),
+    col.accessor((r) => r.v.installed, { id: "now", header: "Shim now", cell: (c) => c.getValue()?.toFixed(c.row.original.v.latest?.installedMicrometer != null ? 3 : 2) ?? "—" }),
+    col.accessor((r) => r.v.measured, { id: "clearance", header: "Clearance", cell: (c) => (c.getValue() != null ? formatLength(c.getValue()!, unit) : "—") }),
+    col.accessor((r) => r.v.spec.target ?? (r.v.spec.min + r.v.spec.max) / 2, { id: "target", header: "Target", cell: (c) => formatLength(c.getValue(), unit) }),
+    col.accessor((r) => r.a, { id: "new", header: "New shim", cell: (c) => <strong>{c.getValue().source.kind === "keep" ? "—" : c.getValue().size.toFixed(2)}</strong> }),
+    col.accessor((r) => r.a, { id: "gives", header: "Gives", cell: (c) => `${formatLength(c.getValue().predicted, unit)} ${c.getValue().inSpec ? "✓" : "✕ out of band"}` }),
+    col.accessor((r) => r.a.source, {
+      id: "from",
+      header: "From",
+      cell: (c) => {
+        const s = c.getValue();
+        return s.kind === "keep" ? "keep" : s.kind === "valve" ? `from ${s.valveId}` : s.kind === "tray" ? "from the tray" : "buy";
+      },
+    }),
+  ];
+  // eslint-disable-next-line react-hooks/incompatible-library -- TanStack Table returns fresh functions each render; the compiler skips this component
+  const table = useReactTable({ data: plan.assignments.map((a) => ({ a, v: byId.get(a.valveId)! })), columns, getCoreRowModel: getCoreRowModel() });
+  return (
+    <div className="-mx-4 overflow-x-auto px-4">
+      <table className="figures w-full min-w-[34rem] border-collapse text-left text-base">
+        <caption className="mb-2 text-left text-xl font-extrabold">Plan per valve</caption>
+        <thead>
+          {table.getHeaderGroups().map((hg) => (
+            <tr key={hg.id} className="border-b-2 border-line text-sm text-ink-soft">
+              {hg.headers.map((h) => (
+                <th key={h.id} scope="col" className="py-2 pr-2">
+                  {flexRender(h.column.columnDef.header, h.getContext())}
+                </th>
+              ))}
+            </tr>
+          ))}
+        </thead>
+        <tbody>
+          {table.getRowModel().rows.map((row) => (
+            <tr key={row.id} className="border-b border-line" data-testid={`plan-${row.original.a.valveId}`}>
+              {row.getVisibleCells().map((c) => (
+                <td key={c.id} className="py-2 pr-2">
+                  {flexRender(c.column.columnDef.cell, c.getContext())}
+                </td>
+              ))}
+            </tr>
+          ))}
+        </tbody>
+      </table>
+    </div>
+  );
+}
