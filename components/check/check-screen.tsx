@@ -7,6 +7,7 @@ import { LashInputError, rotationGuide, workOrder, type ShimMove, type ShimPlan 
 import { checkPlan, engineSizes, valveLabel, valveViews, type ValveView } from "@/lib/check/derive";
 import { checkCsv } from "@/lib/check/csv";
 import { PlanTable } from "./plan-table";
+import { AskReview } from "@/components/review/ask-review";
 import type { LocalCheck, LocalEngine, LocalReading } from "@/lib/sync/local-db";
 import { adjustTray, saveReading, setCheckStatus } from "@/lib/sync/writes";
 import { useLocal } from "@/components/sync/local-provider";
@@ -116,6 +117,7 @@ function CheckBody({ check, engine, readings, tray, lastReadings, step, go }: { 
       {current === "plan" && (
         <PlanView engine={engine} check={check} views={views} plan={plan} error={planError} mirrored={mirrored} setMirrored={setMirrored} onFit={() => (db && setCheckStatus(db, check.id, "fitting"), go("fit"))} />
       )}
+      {current === "plan" && <AskReview checkId={check.id} />}
       {current === "fit" && plan && <FitView engine={engine} views={views} plan={plan} checkId={check.id} onDone={() => (db && setCheckStatus(db, check.id, "verifying"), go("verify"))} />}
       {current === "verify" && <Verify engine={engine} views={views} sizes={sizes} step={seriesStep} save={save} check={check} />}
     </div>

@@ -1,6 +1,7 @@
 "use client";
 
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
+import Link from "next/link";
 import { useState, type FormEvent } from "react";
 import { ApiFailure, fetchers, mutations, queryKeys, type ClubSummary } from "@/lib/api/client";
 import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
@@ -102,11 +103,13 @@ function Queue({ club }: { club: ClubSummary }) {
       {queue.data.length === 0 && <p className="text-ink-soft">Nothing shared with the club right now.</p>}
       <ul className="flex flex-col gap-2">
         {queue.data.map((q) => (
-          <li key={q.shareId} className="rounded-xl border border-line p-3">
+          <li key={q.shareId}>
+            <Link href={`/review?id=${q.checkId}`} className="block rounded-xl border border-line p-3">
             <p className="font-bold">{q.engineName}</p>
             <p className="text-ink-soft">
               {q.ownerName} · <span className="figures">{q.odometer.toLocaleString("en")}</span> {q.odometerUnit} · {q.verdict ? "reviewed" : "no verdict yet"}
             </p>
+            </Link>
           </li>
         ))}
       </ul>

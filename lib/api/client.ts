@@ -44,6 +44,7 @@ export const queryKeys = {
   members: (clubId: string) => ["clubs", clubId, "members"] as const,
   invites: (clubId: string) => ["clubs", clubId, "invites"] as const,
   queue: (clubId: string) => ["clubs", clubId, "queue"] as const,
+  shares: (checkId: string) => ["checks", checkId, "shares"] as const,
 };
 
 export interface Me {
@@ -76,11 +77,33 @@ export interface QueueItem {
   sharedAt: string;
 }
 
+export interface ApiComment {
+  id: string;
+  checkId: string;
+  valve: string | null;
+  body: string;
+  createdAt: string;
+  authorId: string;
+  authorName: string;
+}
+export interface ApiShare {
+  id: string;
+  checkId: string;
+  clubId: string;
+  verdict: "close-up" | "measure-again" | "stop-and-ask" | null;
+  verdictAt: string | null;
+  withdrawnAt: string | null;
+}
+
 export const fetchers = {
   me: () => apiFetch<{ user: Me }>("/api/account").then((r) => r.user),
   clubs: () => apiFetch<{ items: ClubSummary[] }>("/api/clubs").then((r) => r.items),
   members: (clubId: string) => apiFetch<{ items: Member[] }>(`/api/clubs/${clubId}/members`).then((r) => r.items),
   queue: (clubId: string) => apiFetch<{ items: QueueItem[] }>(`/api/clubs/${clubId}/queue`).then((r) => r.items),
+  check: (id: string) => apiFetch<{ check: { id: string; engineId: string; odometer: number; status: string; startedAt: string; notes: string | null; measuredHot: boolean }; engine: Record<string, unknown>; access: "owner" | "mentor" }>(`/api/checks/${id}`),
+  readings: (id: string) => apiFetch<{ readings: Record<string, unknown>[] }>(`/api/checks/${id}/readings`).then((r) => r.readings),
+  comments: (id: string) => apiFetch<{ items: ApiComment[] }>(`/api/checks/${id}/comments`).then((r) => r.items),
+  shares: (id: string) => apiFetch<{ items: ApiShare[] }>(`/api/checks/${id}/shares`).then((r) => r.items),
   engines: () => apiFetch<{ items: { id: string; name: string; cylinders: number }[] }>("/api/engines?limit=200").then((r) => r.items),
 };
 
@@ -93,5 +116,9 @@ export const mutations = {
   createClub: (name: string) => apiFetch<{ club: ClubSummary }>("/api/clubs", { method: "POST", body: { name } }),
   invite: (clubId: string, email: string, role: string) => apiFetch(`/api/clubs/${clubId}/invites`, { method: "POST", body: { email, role } }),
   setRoles: (clubId: string, userId: string, roles: string[]) => apiFetch(`/api/clubs/${clubId}/members/${userId}`, { method: "PUT", body: { roles } }),
+  share: (checkId: string, clubId: string) => apiFetch<{ share: ApiShare }>(`/api/checks/${checkId}/shares`, { method: "POST", body: { clubId } }),
+  withdraw: (shareId: string) => apiFetch(`/api/shares/${shareId}`, { method: "DELETE" }),
+  comment: (checkId: string, body: string, valve: string | null) => apiFetch<{ comment: ApiComment }>(`/api/checks/${checkId}/comments`, { method: "POST", body: { body, valve } }),
+  verdict: (shareId: string, verdict: string) => apiFetch<{ share: ApiShare }>(`/api/shares/${shareId}/verdict`, { method: "PUT", body: { verdict } }),
   acceptInvite: (token: string) => apiFetch<{ clubId: string }>("/api/invites/accept", { method: "POST", body: { token } }),
 };

@@ -1,0 +1,62 @@
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import type { Browser, Page } from "playwright-core";
+import { baseUrl, launch, phoneContext } from "../support/browser";
+import { waitForMail } from "../support/mail";
+
+// The demo scenario (db/seed.ts): Mara's latest check of the four is shared with the club.
+const PASSWORD = "garage-demo-2026";
+let browser: Browser;
+beforeAll(async () => {
+  browser = await launch();
+});
+afterAll(() => browser?.close());
+
+async function signIn(page: Page, email: string) {
+  await page.goto(`${baseUrl()}/sign-in`);
+  await page.getByLabel("E-mail").fill(email);
+  await page.getByLabel("Password").fill(PASSWORD);
+  await page.getByRole("button", { name: "Sign in", exact: true }).tap();
+  await page.waitForURL("**/engines");
+}
+
+describe("a mentor reviews a shared check", () => {
+  it("the mentor comments on a valve and gives a verdict; the mechanic sees both", async () => {
+    const mentorCtx = await phoneContext(browser);
+    const mentor = await mentorCtx.newPage();
+    await signIn(mentor, "teodor@kestrel-hollow.example");
+    await mentor.goto(`${baseUrl()}/club`);
+    await mentor.getByRole("link", { name: /Blue four/ }).tap();
+    await mentor.waitForURL(/\/review\?id=/);
+    await mentor.getByText("read-only: you are reviewing", { exact: false }).waitFor();
+    // the readings show how each was found, and nothing offers to change them
+    await expect(mentor.getByText(/2\.\d\d stamp · 0\.\d\d mm goes, 0\.\d\d mm does not/).first().isVisible()).resolves.toBe(true);
+    await expect(mentor.getByRole("group", { name: /Feeler blades/ }).count()).resolves.toBe(0);
+    const ta = mentor.getByLabel("Add a comment");
+    await ta.focus();
+    await mentor.keyboard.insertText("Re-measure E3.1 with the 0.13 and 0.15 blades before ordering.");
+    await mentor.getByLabel("About").selectOption("E3.1");
+    await mentor.getByRole("button", { name: "Post comment" }).tap();
+    await mentor.getByText("Re-measure E3.1 with the 0.13").waitFor();
+    await mentor.getByRole("button", { name: /Measure again/ }).tap();
+    await mentor.getByTestId("verdict").getByText("↻ Measure again").waitFor();
+    await mentor.screenshot({ path: "test-results/review-mentor.png", fullPage: true });
+    await mentorCtx.close();
+
+    // the notices reach the mechanic through the queue and the mail catcher
+    await waitForMail("mara@kestrel-hollow.example", /New comment from Teodor/);
+    await waitForMail("mara@kestrel-hollow.example", /Review verdict: measure again/);
+
+    const mechCtx = await phoneContext(browser);
+    const mech = await mechCtx.newPage();
+    await signIn(mech, "mara@kestrel-hollow.example");
+    await mech.getByRole("link", { name: /Blue four/ }).tap();
+    await mech.getByRole("link", { name: /43,800 km/ }).tap();
+    await mech.getByRole("button", { name: /3\. Plan/ }).tap();
+    await mech.getByRole("heading", { name: "Club review" }).waitFor();
+    await mech.getByText("↻ Measure again").waitFor();
+    await mech.getByRole("link", { name: "Comments and verdict" }).tap();
+    await mech.getByText("Re-measure E3.1 with the 0.13").waitFor();
+    await expect(mech.getByRole("button", { name: /Fine to close up/ }).count()).resolves.toBe(0);
+    await mechCtx.close();
+  });
+});
