@@ -1,5 +1,5 @@
 import "server-only";
-import { and, eq, gt, inArray, lte, sql } from "drizzle-orm";
+import { and, eq, gt, lte, sql } from "drizzle-orm";
 import type { MutationArgs } from "@/lib/sync/mutations";
 import type { ReadingInput } from "@/lib/schemas/records";
 import { db } from "../client";
@@ -92,7 +92,9 @@ export async function applyReadings(tx: Tx, userId: string, version: number, che
   const byKey = new Map<string, ReadingInput>();
   for (const r of rs) byKey.set(`${r.valve}#${r.round}`, r);
   const input = [...byKey.values()];
-  const existing = await tx.select().from(readings).where(and(eq(readings.checkId, checkId), inArray(readings.valve, [...new Set(input.map((r) => r.valve))])));
+  // only the rows these writes replace: (valve, round) pairs, not every round of those valves
+  const pairs = sql.join(input.map((r) => sql`(${r.valve}, ${r.round})`), sql`, `);
+  const existing = await tx.select().from(readings).where(and(eq(readings.checkId, checkId), sql`(${readings.valve}, ${readings.round}) IN (${pairs})`));
   const old = new Map(existing.map((r) => [`${r.valve}#${r.round}`, r]));
   const history = input.flatMap((r) => {
     const o = old.get(`${r.valve}#${r.round}`);

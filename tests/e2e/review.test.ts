@@ -19,33 +19,50 @@ async function signIn(page: Page, email: string) {
   await page.waitForURL("**/engines");
 }
 
+let stepNo = 0;
+const step = (what: string) => console.log(`[review] ${++stepNo} ${what}`);
+
 describe("a mentor reviews a shared check", () => {
   it("the mentor comments on a valve and gives a verdict; the mechanic sees both", async () => {
     const mentorCtx = await phoneContext(browser);
     const mentor = await mentorCtx.newPage();
     await signIn(mentor, "teodor@kestrel-hollow.example");
+    step("signed in as mentor");
     await mentor.goto(`${baseUrl()}/club`);
     await mentor.getByRole("link", { name: /Blue four/ }).tap();
     await mentor.waitForURL(/\/review\?id=/);
     await mentor.getByText("read-only: you are reviewing", { exact: false }).waitFor();
+    step("review open");
     // the readings show how each was found, and nothing offers to change them
     await expect(mentor.getByText(/2\.\d\d stamp · 0\.\d\d mm goes, 0\.\d\d mm does not/).first().isVisible()).resolves.toBe(true);
     await expect(mentor.getByRole("group", { name: /Feeler blades/ }).count()).resolves.toBe(0);
-    const ta = mentor.getByLabel("Add a comment");
-    await ta.focus();
-    await mentor.keyboard.insertText("Re-measure E3.1 with the 0.13 and 0.15 blades before ordering.");
+    // type into the comment box as the keyboard would (React reads the input event)
+    await mentor.getByLabel("Add a comment").evaluate((el, text) => {
+      const set = Object.getOwnPropertyDescriptor(HTMLTextAreaElement.prototype, "value")!.set!;
+      set.call(el, text);
+      el.dispatchEvent(new Event("input", { bubbles: true }));
+    }, "Re-measure E3.1 with the 0.13 and 0.15 blades before ordering.");
     await mentor.getByLabel("About").selectOption("E3.1");
     await mentor.getByRole("button", { name: "Post comment" }).tap();
-    await mentor.getByText("Re-measure E3.1 with the 0.13").waitFor();
+    await mentor
+      .getByText("Re-measure E3.1 with the 0.13")
+      .waitFor({ timeout: 15_000 })
+      .catch(async (e: unknown) => {
+        await mentor.screenshot({ path: "test-results/review-failure.png", fullPage: true });
+        throw new Error(`comment not shown; alerts: ${(await mentor.getByRole("alert").allInnerTexts()).join(" | ")}; ${String(e)}`);
+      });
+    step("comment posted");
     await mentor.getByRole("button", { name: /Measure again/ }).tap();
     await mentor.getByTestId("verdict").getByText("↻ Measure again").waitFor();
     await mentor.screenshot({ path: "test-results/review-mentor.png", fullPage: true });
     await mentorCtx.close();
+    step("verdict given");
 
     // the notices reach the mechanic through the queue and the mail catcher
     await waitForMail("mara@kestrel-hollow.example", /New comment from Teodor/);
     await waitForMail("mara@kestrel-hollow.example", /Review verdict: measure again/);
 
+    step("mails arrived");
     const mechCtx = await phoneContext(browser);
     const mech = await mechCtx.newPage();
     await signIn(mech, "mara@kestrel-hollow.example");
