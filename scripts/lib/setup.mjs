@@ -37,7 +37,7 @@ export function ensureDebianPackages(wanted) {
   if (process.getuid && process.getuid() !== 0) throw new SetupError(`${names.join(", ")} missing: run as root, or first: sudo apt-get install -y ${names.join(" ")}`);
   log(`installing ${names.join(", ")} from Debian's packages (once)...`);
   run("apt-get", ["update", "-qq"], { quiet: true, what: "apt-get update" });
-  run("apt-get", ["install", "-y", "-qq", "--no-install-recommends", ...names], { quiet: true, env: { DEBIAN_FRONTEND: "noninteractive" }, what: `apt-get install ${names.join(" ")}` });
+  run("apt-get", ["install", "-y", "-qq", ...names], { quiet: true, env: { DEBIAN_FRONTEND: "noninteractive" }, what: `apt-get install ${names.join(" ")}` });
 }
 
 export const MARIADB = { pkg: "mariadb-server", present: () => existsSync("/usr/sbin/mariadbd") || has("mariadbd") };
