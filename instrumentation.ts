@@ -1,7 +1,8 @@
-// Runs once per server instance: retry queued e-mail notices every 15 s.
+// Runs once per server instance: retry queued e-mail notices (every 15 s, sooner if retries are).
 export async function register() {
   if (process.env.NEXT_RUNTIME !== "nodejs") return;
   const { kickDelivery } = await import("./server/notices");
-  const timer = setInterval(kickDelivery, 15_000);
+  const every = Math.min(15, Number(process.env.NOTICE_RETRY_SECONDS ?? 30) || 30) * 1000;
+  const timer = setInterval(kickDelivery, every);
   timer.unref();
 }

@@ -14,6 +14,8 @@ const envSchema = z.object({
   NEXTAUTH_SECRET: z.string().min(32, { error: "NEXTAUTH_SECRET must be at least 32 characters" }).optional(),
   SMTP_URL: z.string().regex(/^smtps?:\/\/.+/, { error: "SMTP_URL must look like smtp://127.0.0.1:1025" }).default("smtp://127.0.0.1:1025"),
   MAIL_FROM: z.string().default("Lashwright <no-reply@lashwright.example>"),
+  /** first retry delay of a failed e-mail notice; later ones double */
+  NOTICE_RETRY_SECONDS: z.coerce.number().int().min(1).max(3600).default(30),
 });
 
 export type Env = z.infer<typeof envSchema>;

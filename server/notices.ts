@@ -1,5 +1,6 @@
 import "server-only";
 import { claimDueNotices, enqueueNotices, markNoticeFailed, markNoticeSent, type NoticeInput } from "@/db/queries/notices";
+import { env } from "@/lib/env";
 import { sendMail } from "./mail";
 
 /**
@@ -27,7 +28,7 @@ export function deliverDueNotices(): Promise<number> {
             await markNoticeSent(n.id);
             sent++;
           } catch (e) {
-            await markNoticeFailed(n.id, n.attempts + 1, e instanceof Error ? e.message : String(e));
+            await markNoticeFailed(n.id, n.attempts + 1, e instanceof Error ? e.message : String(e), 8, env().NOTICE_RETRY_SECONDS);
           }
         }
       }

@@ -35,8 +35,8 @@ export async function markNoticeSent(id: string): Promise<void> {
   await db().update(notices).set({ status: "sent", claimToken: null, lastError: null }).where(eq(notices.id, id));
 }
 
-/** Back off 30 s, 1 min, 2 min, ... and give up after `maxAttempts`. */
-export async function markNoticeFailed(id: string, attempts: number, error: string, maxAttempts = 8): Promise<void> {
+/** Back off base, 2x base, 4x base, ... (base 30 s) and give up after `maxAttempts`. */
+export async function markNoticeFailed(id: string, attempts: number, error: string, maxAttempts = 8, baseSeconds = 30): Promise<void> {
   const giveUp = attempts >= maxAttempts;
   await db()
     .update(notices)
@@ -45,7 +45,7 @@ export async function markNoticeFailed(id: string, attempts: number, error: stri
       attempts,
       claimToken: null,
       lastError: error.slice(0, 500),
-      nextAttemptAt: new Date(Date.now() + 30_000 * 2 ** Math.min(attempts - 1, 10)),
+      nextAttemptAt: new Date(Date.now() + baseSeconds * 1000 * 2 ** Math.min(attempts - 1, 10)),
     })
     .where(eq(notices.id, id));
 }

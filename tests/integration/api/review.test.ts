@@ -1,0 +1,86 @@
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import net from "node:net";
+import { Client } from "../../support/api";
+import { rawConnection } from "../../support/db";
+import { addMembership, ENGINE_FOUR, makeUser } from "../../support/fixtures";
+import { waitForMail } from "../../support/mail";
+import { startApp, type App } from "../../support/server";
+
+let app: App;
+beforeAll(async () => {
+  app = await startApp({ NOTICE_RETRY_SECONDS: "1" });
+});
+afterAll(() => app?.stop());
+
+async function signedIn(a: App, u: { email: string; password: string }) {
+  const c = new Client(a.url);
+  expect(await c.signIn("password", { email: u.email, password: u.password })).toBeNull();
+  return c;
+}
+
+async function sharedCheck(a: App) {
+  const [owner, mentor, admin] = await Promise.all([makeUser("rv-owner"), makeUser("rv-mentor"), makeUser("rv-admin")]);
+  const adminC = await signedIn(a, admin);
+  const clubId = (await adminC.post("/api/clubs", { name: "Review Club" })).json.club.id as string;
+  await addMembership(clubId, owner.id, ["mechanic"]);
+  await addMembership(clubId, mentor.id, ["mentor"]);
+  const o = await signedIn(a, owner);
+  const m = await signedIn(a, mentor);
+  const engineId = (await o.post("/api/engines", ENGINE_FOUR)).json.engine.id as string;
+  const checkId = (await o.post(`/api/engines/${engineId}/checks`, { odometer: 30_000 })).json.check.id as string;
+  const shareId = (await o.post(`/api/checks/${checkId}/shares`, { clubId })).json.share.id as string;
+  return { owner, mentor, admin, adminC, o, m, clubId, checkId, shareId };
+}
+
+describe("review through the API", () => {
+  it("a review request reaches the club's mentors; withdrawing the share removes access at once", async () => {
+    const s = await sharedCheck(app);
+    await waitForMail(s.mentor.email, /asks for a review/);
+    expect((await s.m.get(`/api/checks/${s.checkId}`)).status).toBe(200);
+    expect((await s.m.post(`/api/checks/${s.checkId}/comments`, { body: "Which blade set?" })).status).toBe(201);
+    await waitForMail(s.owner.email, /New comment from/);
+    expect((await s.o.del(`/api/shares/${s.shareId}`)).status).toBe(204);
+    expect((await s.m.get(`/api/checks/${s.checkId}`)).status).toBe(404);
+    expect((await s.m.get(`/api/checks/${s.checkId}/comments`)).status).toBe(404);
+    expect((await s.m.put(`/api/shares/${s.shareId}/verdict`, { verdict: "close-up" })).status).toBe(404);
+  });
+
+  it("a removed mentor loses access at once, not at token expiry", async () => {
+    const s = await sharedCheck(app);
+    expect((await s.m.get(`/api/checks/${s.checkId}`)).status).toBe(200);
+    expect((await s.adminC.put(`/api/clubs/${s.clubId}/members/${s.mentor.id}`, { roles: ["mechanic"] })).status).toBe(200);
+    expect((await s.m.get(`/api/checks/${s.checkId}`)).status).toBe(404);
+  });
+
+  it("a notice that fails to send is kept and sent on a retry, without failing the request", async () => {
+    // a second server whose mail server refuses connections
+    const closed = await new Promise<number>((resolve) => {
+      const srv = net.createServer();
+      srv.listen(0, "127.0.0.1", () => {
+        const { port } = srv.address() as net.AddressInfo;
+        srv.close(() => resolve(port));
+      });
+    });
+    const broken = await startApp({ SMTP_URL: `smtp://127.0.0.1:${closed}`, NOTICE_RETRY_SECONDS: "1" });
+    try {
+      const s = await sharedCheck(broken);
+      const verdict = await s.m.put(`/api/shares/${s.shareId}/verdict`, { verdict: "stop-and-ask" });
+      expect(verdict.status).toBe(200);
+      const db = await rawConnection();
+      const queued = async () => {
+        const [rows] = await db.query("SELECT status, attempts, last_error FROM notices WHERE to_email = ? AND kind = 'verdict'", [s.owner.email]);
+        return (rows as { status: string; attempts: number; last_error: string | null }[])[0];
+      };
+      await expect.poll(async () => (await queued())?.attempts ?? 0, { timeout: 15_000 }).toBeGreaterThan(0);
+      expect((await queued())!.status).toBe("queued");
+      expect((await queued())!.last_error).toBeTruthy();
+      await broken.stop();
+      // the healthy server's retry timer picks the queued notice up and sends it
+      await waitForMail(s.owner.email, /Review verdict: stop and ask/, 30_000);
+      await expect.poll(async () => (await queued())?.status, { timeout: 10_000 }).toBe("sent");
+      await db.end();
+    } finally {
+      await broken.stop();
+    }
+  });
+});
