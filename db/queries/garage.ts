@@ -1,9 +1,9 @@
 import "server-only";
-import { and, asc, desc, eq, inArray, sql } from "drizzle-orm";
+import { and, asc, desc, eq, sql } from "drizzle-orm";
 import type { EngineInput, ReadingInput } from "@/lib/schemas/records";
 import { db } from "../client";
 import { checks, engines, readingHistory, readings, tombstones, trayItems } from "../schema";
-import { versioned } from "../versions";
+import { versioned, type Tx } from "../versions";
 
 /**
  * The mechanic's own records. Every function takes the owner's id and scopes by it, so a query can
@@ -169,49 +169,51 @@ const READING_FIELDS = ["installedStamp", "installedMicrometer", "feelerGo", "fe
 
 /**
  * Write readings of one check as one multi-row upsert (MariaDB takes runs of rows ~10x faster
- * than a statement per row). A later write wins; the values it replaces go to reading_history.
+ * than a statement per row). The last write of a valve and round wins; the values it replaces go
+ * to reading_history. The caller has checked access; both the REST route and sync use this.
  */
-export async function upsertReadings(ownerId: string, checkId: string, input: ReadingInput[]) {
-  await versioned(async (tx, version) => {
-    const existing = await tx
-      .select()
-      .from(readings)
-      .where(and(eq(readings.checkId, checkId), inArray(readings.valve, [...new Set(input.map((r) => r.valve))])));
-    const byKey = new Map(existing.map((r) => [`${r.valve}#${r.round}`, r]));
-    const history = input
-      .map((r) => byKey.get(`${r.valve}#${r.round}`))
-      .filter((r): r is ReadingRow => !!r)
-      .map((r) => ({ readingId: r.id, previous: Object.fromEntries(READING_FIELDS.map((f) => [f, r[f]])) }));
-    if (history.length) await tx.insert(readingHistory).values(history);
-    await tx
-      .insert(readings)
-      .values(
-        input.map((r) => ({
-          id: byKey.get(`${r.valve}#${r.round}`)?.id ?? crypto.randomUUID(),
-          checkId,
-          ownerId,
-          valve: r.valve,
-          round: r.round,
-          installedStamp: r.installedStamp ?? null,
-          installedMicrometer: r.installedMicrometer ?? null,
-          feelerGo: r.feelerGo ?? null,
-          feelerNoGo: r.feelerNoGo ?? null,
-          measured: r.measured ?? r.feelerGo ?? null,
-          method: r.method,
-          fittedShim: r.fittedShim ?? null,
-          fittedAt: r.fittedShim != null ? new Date() : null,
-          version,
-        })),
-      )
-      .onDuplicateKeyUpdate({
-        set: Object.fromEntries(
-          [...READING_FIELDS, "fittedAt", "version"].map((f) => {
-            const col = f.replace(/[A-Z]/g, (m) => `_${m.toLowerCase()}`);
-            return [f, sql.raw(`VALUES(\`${col}\`)`)];
-          }),
-        ),
-      });
+export async function writeReadings(tx: Tx, ownerId: string, version: number, checkId: string, rs: ReadingInput[]) {
+  const byKey = new Map<string, ReadingInput>();
+  for (const r of rs) byKey.set(`${r.valve}#${r.round}`, r);
+  const input = [...byKey.values()];
+  // only the rows these writes replace: (valve, round) pairs, not every round of those valves
+  const pairs = sql.join(input.map((r) => sql`(${r.valve}, ${r.round})`), sql`, `);
+  const existing = await tx.select().from(readings).where(and(eq(readings.checkId, checkId), sql`(${readings.valve}, ${readings.round}) IN (${pairs})`));
+  const old = new Map(existing.map((r) => [`${r.valve}#${r.round}`, r]));
+  const history = input.flatMap((r) => {
+    const o = old.get(`${r.valve}#${r.round}`);
+    return o ? [{ readingId: o.id, previous: Object.fromEntries(READING_FIELDS.map((f) => [f, o[f]])) }] : [];
   });
+  if (history.length) await tx.insert(readingHistory).values(history);
+  await tx
+    .insert(readings)
+    .values(
+      input.map((r) => ({
+        id: old.get(`${r.valve}#${r.round}`)?.id ?? crypto.randomUUID(),
+        checkId,
+        ownerId,
+        valve: r.valve,
+        round: r.round,
+        installedStamp: r.installedStamp ?? null,
+        installedMicrometer: r.installedMicrometer ?? null,
+        feelerGo: r.feelerGo ?? null,
+        feelerNoGo: r.feelerNoGo ?? null,
+        measured: r.measured ?? r.feelerGo ?? null,
+        method: r.method,
+        fittedShim: r.fittedShim ?? null,
+        fittedAt: r.fittedShim != null ? new Date() : null,
+        version,
+      })),
+    )
+    .onDuplicateKeyUpdate({
+      set: Object.fromEntries([...READING_FIELDS, "fittedAt", "version"].map((f) => [f, sql.raw(`VALUES(\`${f.replace(/[A-Z]/g, (m) => `_${m.toLowerCase()}`)}\`)`)])),
+    });
+  // a reading changes its check too, so other devices see the check move on
+  await tx.update(checks).set({ version }).where(eq(checks.id, checkId));
+}
+
+export async function upsertReadings(ownerId: string, checkId: string, input: ReadingInput[]) {
+  await versioned((tx, version) => writeReadings(tx, ownerId, version, checkId, input));
   return listReadings(checkId);
 }
 

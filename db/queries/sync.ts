@@ -3,8 +3,8 @@ import { and, eq, gt, lte, sql } from "drizzle-orm";
 import type { MutationArgs } from "@/lib/sync/mutations";
 import type { ReadingInput } from "@/lib/schemas/records";
 import { db } from "../client";
-import { changeVersions, checks, comments, engines, readingHistory, readings, rejectedMutations, syncClients, tombstones, trayItems } from "../schema";
-import { checkToApi, engineToApi, engineToRow, readingToApi, trayToApi } from "./garage";
+import { changeVersions, checks, comments, engines, readings, rejectedMutations, syncClients, tombstones, trayItems } from "../schema";
+import { checkToApi, engineToApi, engineToRow, readingToApi, trayToApi, writeReadings } from "./garage";
 import type { Tx } from "../versions";
 import type { AnyMySqlColumn } from "drizzle-orm/mysql-core";
 
@@ -78,54 +78,12 @@ export async function applyCheckDelete(tx: Tx, userId: string, version: number, 
   await tx.delete(checks).where(eq(checks.id, a.id));
 }
 
-const READING_FIELDS = ["installedStamp", "installedMicrometer", "feelerGo", "feelerNoGo", "measured", "method", "fittedShim"] as const;
-
-/**
- * A run of readings of one check as one multi-row upsert. The later write wins (arrival order); the
- * values it replaces go to reading_history.
- */
+/** A run of readings of one check, after checking the check is the user's and the readings fit its engine. */
 export async function applyReadings(tx: Tx, userId: string, version: number, checkId: string, rs: ReadingInput[], validate: (engine: typeof engines.$inferSelect, rs: ReadingInput[]) => void) {
   const check = await ownedCheck(tx, userId, checkId);
   const [engine] = await tx.select().from(engines).where(eq(engines.id, check.engineId)).limit(1);
   validate(engine!, rs);
-  // the last write of a valve and round within the run wins
-  const byKey = new Map<string, ReadingInput>();
-  for (const r of rs) byKey.set(`${r.valve}#${r.round}`, r);
-  const input = [...byKey.values()];
-  // only the rows these writes replace: (valve, round) pairs, not every round of those valves
-  const pairs = sql.join(input.map((r) => sql`(${r.valve}, ${r.round})`), sql`, `);
-  const existing = await tx.select().from(readings).where(and(eq(readings.checkId, checkId), sql`(${readings.valve}, ${readings.round}) IN (${pairs})`));
-  const old = new Map(existing.map((r) => [`${r.valve}#${r.round}`, r]));
-  const history = input.flatMap((r) => {
-    const o = old.get(`${r.valve}#${r.round}`);
-    return o ? [{ readingId: o.id, previous: Object.fromEntries(READING_FIELDS.map((f) => [f, o[f]])) }] : [];
-  });
-  if (history.length) await tx.insert(readingHistory).values(history);
-  await tx
-    .insert(readings)
-    .values(
-      input.map((r) => ({
-        id: old.get(`${r.valve}#${r.round}`)?.id ?? crypto.randomUUID(),
-        checkId,
-        ownerId: userId,
-        valve: r.valve,
-        round: r.round,
-        installedStamp: r.installedStamp ?? null,
-        installedMicrometer: r.installedMicrometer ?? null,
-        feelerGo: r.feelerGo ?? null,
-        feelerNoGo: r.feelerNoGo ?? null,
-        measured: r.measured ?? r.feelerGo ?? null,
-        method: r.method,
-        fittedShim: r.fittedShim ?? null,
-        fittedAt: r.fittedShim != null ? new Date() : null,
-        version,
-      })),
-    )
-    .onDuplicateKeyUpdate({
-      set: Object.fromEntries([...READING_FIELDS, "fittedAt", "version"].map((f) => [f, sql.raw(`VALUES(\`${f.replace(/[A-Z]/g, (m) => `_${m.toLowerCase()}`)}\`)`)])),
-    });
-  // a reading changes its check too, so other devices see the check move on
-  await tx.update(checks).set({ version }).where(eq(checks.id, checkId));
+  await writeReadings(tx, userId, version, checkId, rs);
 }
 
 export async function applyTrayPut(tx: Tx, userId: string, version: number, a: MutationArgs<"tray.put/1">) {
