@@ -3,7 +3,7 @@
 import { useState } from "react";
 import { clearanceFromFeelers, formatLength, inchesToMm, INCH_BLADES_THOU, METRIC_BLADES_MM, recommendShim } from "@/lib/lash";
 import { STATE_WORDS, valveLabel, type ValveView } from "@/lib/check/derive";
-import type { LocalEngine } from "@/lib/sync/local-db";
+import type { LocalEngine, LocalReading } from "@/lib/sync/local-db";
 
 /** The blades on the strip: the engine's set around its bands, so the usual tap is on screen. */
 export function bladesFor(engine: LocalEngine): number[] {
@@ -13,14 +13,7 @@ export function bladesFor(engine: LocalEngine): number[] {
   return all.filter((b) => b >= lo && b <= hi);
 }
 
-export interface ReadingEntry {
-  installedStamp: number | null;
-  installedMicrometer: number | null;
-  feelerGo: number | null;
-  feelerNoGo: number | null;
-  measured: number | null;
-  method: "feeler" | "typed";
-}
+export type ReadingEntry = Pick<LocalReading, "installedStamp" | "installedMicrometer" | "feelerGo" | "feelerNoGo" | "measured" | "method">;
 
 /**
  * One valve: the shim in it (a stepper of one series step, or a micrometer reading), the feeler

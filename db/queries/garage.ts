@@ -1,6 +1,6 @@
 import "server-only";
 import { and, asc, desc, eq, sql } from "drizzle-orm";
-import type { EngineInput, ReadingInput } from "@/lib/schemas/records";
+import { READING_VALUE_FIELDS, type EngineInput, type ReadingInput } from "@/lib/schemas/records";
 import { db } from "../client";
 import { checks, engines, readingHistory, readings, tombstones, trayItems } from "../schema";
 import { versioned, type Tx } from "../versions";
@@ -165,7 +165,7 @@ export async function listReadings(checkId: string) {
   return rows.map(readingToApi);
 }
 
-const READING_FIELDS = ["installedStamp", "installedMicrometer", "feelerGo", "feelerNoGo", "measured", "method", "fittedShim"] as const;
+const READING_FIELDS = READING_VALUE_FIELDS;
 
 /**
  * Write readings of one check as one multi-row upsert (MariaDB takes runs of rows ~10x faster

@@ -86,6 +86,9 @@ export const readingInput = z
   });
 export type ReadingInput = z.infer<typeof readingInput>;
 
+/** What a reading says about a valve (beyond which valve and round it is): one list for every layer. */
+export const READING_VALUE_FIELDS = ["installedStamp", "installedMicrometer", "feelerGo", "feelerNoGo", "measured", "method", "fittedShim"] as const;
+
 export const readingsPut = z.object({ readings: z.array(readingInput).min(1).max(200) });
 
 export const trayItemInput = z.object({

@@ -1,5 +1,6 @@
 import type { MutationArgs } from "./mutations";
 import { record } from "./outbox";
+import { READING_VALUE_FIELDS } from "../schemas/records";
 import type { CheckStatus, LocalCheck, LocalDb, LocalEngine, LocalReading } from "./local-db";
 
 /**
@@ -57,17 +58,8 @@ export async function setCheckStatus(db: LocalDb, checkId: string, status: Check
 export type ReadingPatch = Omit<LocalReading, "checkId" | "version">;
 
 export function saveReading(db: LocalDb, checkId: string, r: ReadingPatch) {
-  const reading = {
-    valve: r.valve,
-    round: r.round,
-    installedStamp: r.installedStamp,
-    installedMicrometer: r.installedMicrometer,
-    feelerGo: r.feelerGo,
-    feelerNoGo: r.feelerNoGo,
-    measured: r.measured,
-    method: r.method,
-    fittedShim: r.fittedShim,
-  };
+  // only the reading's own fields: a patch built from a stored reading also carries checkId and version
+  const reading = { valve: r.valve, round: r.round, ...Object.fromEntries(READING_VALUE_FIELDS.map((f) => [f, r[f]])) } as ReadingPatch;
   return record(db, "reading.put/1", { checkId, reading } as MutationArgs<"reading.put/1">, async () => {
     await db.readings.put({ checkId, ...reading });
   });
