@@ -269,6 +269,8 @@ export const uploads = mysqlTable(
     checkId: ref("check_id").notNull().references(() => checks.id, { onDelete: "cascade" }),
     readingId: ref("reading_id").references(() => readings.id, { onDelete: "set null" }),
     commentId: ref("comment_id").references(() => comments.id, { onDelete: "set null" }),
+    /** the valve the photo shows (blade in its gap, its shim), or null for the whole check */
+    valve: varchar("valve", { length: 16 }),
     objectKey: varchar("object_key", { length: 200 }).notNull(),
     contentType: varchar("content_type", { length: 60 }).notNull(),
     bytes: int("bytes").notNull(),

@@ -3,7 +3,7 @@ import { spawn } from "node:child_process";
 import { randomBytes } from "node:crypto";
 import { existsSync, mkdirSync, readFileSync, writeFileSync } from "node:fs";
 import path from "node:path";
-import { CHROMIUM, cleanupOnExit, startMailCatcher, ensureDebianPackages, ensureNodeModules, log, MARIADB, portFree, root, run, runTs, SetupError, startMariadb } from "./lib/setup.mjs";
+import { CHROMIUM, cleanupOnExit, startMailCatcher, startObjectStore, ensureDebianPackages, ensureNodeModules, log, MARIADB, portFree, root, run, runTs, SetupError, startMariadb } from "./lib/setup.mjs";
 
 const PORT = Number(process.env.PORT ?? 3000);
 const DB_PORT = Number(process.env.DB_PORT ?? 3316);
@@ -24,10 +24,12 @@ async function main() {
     const mail = await startMailCatcher({ smtpPort: Number(process.env.SMTP_PORT ?? 1025), webPort: Number(process.env.MAIL_WEB_PORT ?? 1080), dir: path.join(DATA_DIR, "mail") });
     cleanup.add(mail.stop);
     log(`mail catcher: every e-mail the app sends is at ${mail.apiUrl}`);
+    const store = await startObjectStore({ port: Number(process.env.S3_PORT ?? 4569), dir: path.join(DATA_DIR, "photos") });
+    cleanup.add(store.stop);
     // The session signing key lives with the data, so sign-ins survive a restart.
     const secretFile = path.join(DATA_DIR, "auth-secret");
     if (!existsSync(secretFile)) writeFileSync(secretFile, randomBytes(32).toString("base64url"), { mode: 0o600 });
-    const env = { DATABASE_URL: database.url, NEXTAUTH_URL: `http://127.0.0.1:${PORT}`, NEXTAUTH_SECRET: readFileSync(secretFile, "utf8").trim(), SMTP_URL: mail.smtpUrl };
+    const env = { DATABASE_URL: database.url, NEXTAUTH_URL: `http://127.0.0.1:${PORT}`, NEXTAUTH_SECRET: readFileSync(secretFile, "utf8").trim(), SMTP_URL: mail.smtpUrl, ...store.env };
     runTs("db/migrate.ts", env);
     runTs("db/seed.ts", env);
     if (process.env.LASHWRIGHT_SKIP_BUILD !== "1") {

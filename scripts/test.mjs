@@ -6,7 +6,7 @@ import { spawn } from "node:child_process";
 import { randomBytes } from "node:crypto";
 import { existsSync, mkdirSync, readFileSync, rmSync } from "node:fs";
 import path from "node:path";
-import { CHROMIUM, cleanupOnExit, ensureDebianPackages, ensureNodeModules, freePort, log, MARIADB, root, run, runTs, SetupError, startMailCatcher, startMariadb } from "./lib/setup.mjs";
+import { CHROMIUM, cleanupOnExit, ensureDebianPackages, ensureNodeModules, freePort, log, MARIADB, root, run, runTs, SetupError, startMailCatcher, startMariadb, startObjectStore } from "./lib/setup.mjs";
 
 const args = process.argv.slice(2);
 const only = args.find((a) => ["unit", "integration", "e2e"].includes(a));
@@ -98,7 +98,10 @@ async function main() {
       });
       const mail = await startMailCatcher({ smtpPort: await freePort(), webPort: await freePort(), dir: path.join(dir, "mail") });
       cleanup.add(mail.stop);
+      const store = await startObjectStore({ port: await freePort(), dir: path.join(dir, "photos") });
+      cleanup.add(store.stop);
       const env = {
+        ...store.env,
         DATABASE_URL: database.url,
         LASHWRIGHT_TEST_DB_URL: database.url,
         SMTP_URL: mail.smtpUrl,

@@ -1,6 +1,6 @@
 import "server-only";
 import { env } from "@/lib/env";
-import { mentorsOfClub, usersByIds } from "@/db/queries/clubs";
+import { listComments, mentorsOfClub, usersByIds } from "@/db/queries/clubs";
 import { getEngineRow } from "@/db/queries/garage";
 import { queueNotices } from "./notices";
 
@@ -39,6 +39,12 @@ export async function noticeComment(check: { id: string; ownerId: string }, auth
       body: `${authorName} wrote:\n\n${body.slice(0, 1000)}\n\n${checkLink(check.id)}`,
     })),
   );
+}
+
+/** After a comment is stored, by the REST route or a sync push: tell the other party. */
+export async function noticeNewComment(check: { id: string; ownerId: string }, author: { id: string; name: string }, body: string) {
+  const mentorIds = [...new Set((await listComments(check.id)).map((c) => c.authorId).filter((id) => id !== check.ownerId))];
+  await noticeComment(check, author.id, author.name, body, mentorIds);
 }
 
 const VERDICT_WORDS = { "close-up": "fine to close up", "measure-again": "measure again", "stop-and-ask": "stop and ask" } as const;

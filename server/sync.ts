@@ -5,7 +5,9 @@ import type { ReadingInput } from "@/lib/schemas/records";
 import { db } from "@/db/client";
 import { nextVersion, type Tx } from "@/db/versions";
 import * as q from "@/db/queries/sync";
-import { mentorSharesForCheck } from "@/db/queries/clubs";
+import { mentorSharesForCheck, writeVerdict } from "@/db/queries/clubs";
+import { noticeNewComment, noticeVerdict } from "./review";
+import { shareFor } from "./access";
 import { getCheckRow } from "@/db/queries/garage";
 import { ApiError } from "./http";
 import { checkReadingsFit } from "./engines";
@@ -37,7 +39,10 @@ async function mayReadCheck(user: SessionUser, checkId: string) {
   return c.ownerId === user.id || (await mentorSharesForCheck(user.id, checkId)).length > 0;
 }
 
-async function applyOne(tx: Tx, user: SessionUser, version: number, m: Parsed) {
+/** Work that must wait for the push to commit (e-mail notices), returned by applyOne. */
+type After = () => Promise<void>;
+
+async function applyOne(tx: Tx, user: SessionUser, version: number, m: Parsed): Promise<After | void> {
   const a = m.args;
   switch (m.name) {
     case "engine.put/1":
@@ -56,13 +61,26 @@ async function applyOne(tx: Tx, user: SessionUser, version: number, m: Parsed) {
       return q.applyTrayPut(tx, user.id, version, a as MutationArgs<"tray.put/1">);
     case "tray.delete/1":
       return q.applyTrayDelete(tx, user.id, version, a as { id: string });
-    case "comment.add/1":
-      return q.applyCommentAdd(tx, user.id, version, a as MutationArgs<"comment.add/1">, (id) => mayReadCheck(user, id));
+    case "comment.add/1": {
+      const c = a as MutationArgs<"comment.add/1">;
+      if (!(await q.applyCommentAdd(tx, user.id, version, c, (id) => mayReadCheck(user, id)))) return;
+      return async () => {
+        const check = await getCheckRow(c.checkId);
+        if (check) await noticeNewComment(check, user, c.body);
+      };
+    }
+    case "verdict.set/1": {
+      const v = a as MutationArgs<"verdict.set/1">;
+      const { check } = await shareFor(user, v.shareId, "mentor");
+      await writeVerdict(tx, version, v.shareId, user.id, v.verdict);
+      return () => noticeVerdict(check, user.name, v.verdict);
+    }
   }
 }
 
 export async function push(user: SessionUser, input: PushInput): Promise<PushResult> {
   const rejected: PushResult["rejected"] = [];
+  const after: After[] = [];
   const lastMutationId = await db().transaction(async (tx) => {
     let last: number;
     try {
@@ -112,13 +130,18 @@ export async function push(user: SessionUser, input: PushInput): Promise<PushRes
         i = j;
         continue;
       }
-      await tx.transaction((sp) => applyOne(sp, user, version, m)).catch((e: unknown) => reject(m, reasonOf(e)));
+      await tx
+        .transaction((sp) => applyOne(sp, user, version, m))
+        .then((then) => then && after.push(then))
+        .catch((e: unknown) => reject(m, reasonOf(e)));
       i++;
     }
     const newLast = fresh[fresh.length - 1]!.id;
     await q.setLastMutation(tx, input.clientId, newLast);
     return newLast;
   });
+  // notices are queued only once the changes are committed; a failure here never fails the push
+  for (const then of after) await then().catch((e: unknown) => console.error("[sync] notice after push failed:", e instanceof Error ? e.message : e));
   return { lastMutationId, rejected };
 }
 

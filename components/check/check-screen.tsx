@@ -213,7 +213,7 @@ function Measure({ engine, views, sizes, step, save, mirrored, setMirrored, onDo
                 .join("; ")}
             </h2>
             {here.map((v) => (
-              <ValveCard key={v.valve.id} engine={engine} view={v} sizes={sizes} step={step} onSave={save(v)} />
+              <ValveCard key={v.valve.id} checkId={checkId} engine={engine} view={v} sizes={sizes} step={step} onSave={save(v)} />
             ))}
           </section>
         );
@@ -376,7 +376,7 @@ function Verify({ engine, views, sizes, step, save, check }: { engine: LocalEngi
       <h2 className="text-2xl font-extrabold">Measure the changed valves again</h2>
       {changed.length === 0 && <Notice>No valve has been changed in this check.</Notice>}
       {changed.map((v) => (
-        <ValveCard key={v.valve.id} engine={engine} view={v} sizes={sizes} step={step} onSave={save(v)} />
+        <ValveCard key={v.valve.id} checkId={check.id} engine={engine} view={v} sizes={sizes} step={step} onSave={save(v)} />
       ))}
       {open.length === 0 ? <Notice tone="ok">✓ Every valve is in its band.</Notice> : <Notice>{open.length} valve{open.length === 1 ? " is" : "s are"} not yet in band: plan again, or close the check with them noted.</Notice>}
       <Button type="button" onClick={close} look={open.length ? "plain" : "primary"}>

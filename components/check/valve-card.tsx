@@ -4,6 +4,7 @@ import { useState } from "react";
 import { clearanceFromFeelers, formatLength, inchesToMm, INCH_BLADES_THOU, METRIC_BLADES_MM, recommendShim } from "@/lib/lash";
 import { STATE_WORDS, valveLabel, type ValveView } from "@/lib/check/derive";
 import type { LocalEngine, LocalReading } from "@/lib/sync/local-db";
+import { PhotoStrip } from "@/components/photos/photo-strip";
 
 /** The blades on the strip: the engine's set around its bands, so the usual tap is on screen. */
 export function bladesFor(engine: LocalEngine): number[] {
@@ -20,7 +21,7 @@ export type ReadingEntry = Pick<LocalReading, "installedStamp" | "installedMicro
  * strip (tap the blade that goes; the next one is taken as the one that will not), and the result
  * at once. Every tap is saved on the phone straight away.
  */
-export function ValveCard({ engine, view, sizes, step, onSave }: { engine: LocalEngine; view: ValveView; sizes: number[]; step: number; onSave: (r: ReadingEntry) => Promise<unknown> }) {
+export function ValveCard({ checkId, engine, view, sizes, step, onSave }: { checkId: string; engine: LocalEngine; view: ValveView; sizes: number[]; step: number; onSave: (r: ReadingEntry) => Promise<unknown> }) {
   const unit = engine.displayUnit;
   const r = view.latest && view.latest.round === view.nextRound ? view.latest : undefined;
   const stamp = r?.installedStamp ?? view.installed;
@@ -134,6 +135,7 @@ export function ValveCard({ engine, view, sizes, step, onSave }: { engine: Local
         <span className="text-ink-soft">{interval}</span>
         {result && <strong className="block text-lg">{result}</strong>}
       </p>
+      <PhotoStrip checkId={checkId} valve={view.valve.id} label={`valve ${view.valve.id}`} />
     </article>
   );
 }

@@ -2,7 +2,7 @@
 
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import Link from "next/link";
-import { useState, type FormEvent } from "react";
+import { useEffect, useState, type FormEvent } from "react";
 import { ApiFailure, fetchers, mutations, queryKeys, type ClubSummary } from "@/lib/api/client";
 import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
 
@@ -95,7 +95,19 @@ function InviteForm({ club }: { club: ClubSummary }) {
 }
 
 function Queue({ club }: { club: ClubSummary }) {
+  const qc = useQueryClient();
   const queue = useQuery({ queryKey: queryKeys.queue(club.id), queryFn: () => fetchers.queue(club.id) });
+  // fetch each waiting check now, while there is a signal: it is kept for reading offline
+  useEffect(() => {
+    for (const q of queue.data ?? []) {
+      const id = q.checkId;
+      void qc.prefetchQuery({ queryKey: queryKeys.check(id), queryFn: () => fetchers.check(id) });
+      void qc.prefetchQuery({ queryKey: queryKeys.readings(id), queryFn: () => fetchers.readings(id) });
+      void qc.prefetchQuery({ queryKey: queryKeys.comments(id), queryFn: () => fetchers.comments(id) });
+      void qc.prefetchQuery({ queryKey: queryKeys.shares(id), queryFn: () => fetchers.shares(id) });
+      void qc.prefetchQuery({ queryKey: queryKeys.photos(id), queryFn: () => fetchers.photos(id) });
+    }
+  }, [qc, queue.data]);
   if (!queue.data) return null;
   return (
     <section className="flex flex-col gap-2" aria-label="Waiting for review">

@@ -1,13 +1,30 @@
 "use client";
 
-import { useState } from "react";
+import { useState, type ReactNode } from "react";
 import type { ApiComment } from "@/lib/api/client";
+import { PHOTO_MAX_BYTES, PHOTO_MAX_LABEL } from "@/lib/photos/rules";
 import { Button, Field, inputClass } from "@/components/ui/controls";
 
 /** Comments on the whole check or on one valve, oldest first, with a box to add one. */
-export function CommentThread({ comments, valves, onAdd, busy }: { comments: ApiComment[]; valves: string[]; onAdd: (body: string, valve: string | null) => Promise<void>; busy?: boolean }) {
+export type ThreadComment = ApiComment & { pending?: boolean };
+
+export function CommentThread({
+  comments,
+  valves,
+  onAdd,
+  busy,
+  photosOf,
+}: {
+  comments: ThreadComment[];
+  valves: string[];
+  onAdd: (body: string, valve: string | null, photo: File | null) => Promise<void>;
+  busy?: boolean;
+  photosOf?: (commentId: string) => ReactNode;
+}) {
   const [body, setBody] = useState("");
   const [valve, setValve] = useState("");
+  const [photo, setPhoto] = useState<File | null>(null);
+  const [photoKey, setPhotoKey] = useState(0);
   const [error, setError] = useState<string | null>(null);
   return (
     <section aria-labelledby="comments-title" className="flex flex-col gap-3">
@@ -22,6 +39,8 @@ export function CommentThread({ comments, valves, onAdd, busy }: { comments: Api
               <strong className="text-ink">{c.authorName}</strong> {c.valve ? <>on <span className="figures font-bold">{c.valve}</span></> : "on the whole check"} · {new Date(c.createdAt).toLocaleString("en-GB", { dateStyle: "short", timeStyle: "short" })}
             </p>
             <p className="whitespace-pre-wrap">{c.body}</p>
+            {c.pending && <p className="text-sm font-bold text-ink-soft">waiting to send</p>}
+            {photosOf?.(c.id)}
           </li>
         ))}
       </ol>
@@ -32,8 +51,10 @@ export function CommentThread({ comments, valves, onAdd, busy }: { comments: Api
           if (!body.trim()) return setError("Write something first");
           setError(null);
           try {
-            await onAdd(body.trim(), valve || null);
+            await onAdd(body.trim(), valve || null, photo);
             setBody("");
+            setPhoto(null);
+            setPhotoKey((k) => k + 1);
           } catch (err) {
             setError(err instanceof Error ? err.message : "Could not add the comment");
           }
@@ -51,6 +72,24 @@ export function CommentThread({ comments, valves, onAdd, busy }: { comments: Api
               </option>
             ))}
           </select>
+        </Field>
+        <Field id="comment-photo" label="Attach a photo (optional)" hint={`JPEG, PNG or WebP, up to ${PHOTO_MAX_LABEL}; location data is removed`}>
+          <input
+            key={photoKey}
+            id="comment-photo"
+            type="file"
+            accept="image/jpeg,image/png,image/webp"
+            className="min-h-12 py-2"
+            onChange={(e) => {
+              const f = e.target.files?.[0] ?? null;
+              if (f && f.size > PHOTO_MAX_BYTES) {
+                setError(`That photo is over ${PHOTO_MAX_LABEL}`);
+                e.target.value = "";
+                return setPhoto(null);
+              }
+              setPhoto(f);
+            }}
+          />
         </Field>
         <Button type="submit" look="plain" disabled={busy}>
           Post comment

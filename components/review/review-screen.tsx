@@ -1,21 +1,30 @@
 "use client";
 
-import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
+import { useQuery, useQueryClient } from "@tanstack/react-query";
+import { useLiveQuery } from "dexie-react-hooks";
 import { useSearchParams } from "next/navigation";
 import { useMemo } from "react";
 import { formatLength } from "@/lib/lash";
 import { checkPlan, valveViews } from "@/lib/check/derive";
 import { VERDICTS, type Verdict } from "@/lib/check/verdicts";
-import { fetchers, mutations, queryKeys } from "@/lib/api/client";
+import { fetchers, queryKeys } from "@/lib/api/client";
+import { addComment, giveVerdict } from "@/lib/sync/writes";
+import { queuePhoto } from "@/lib/sync/photos";
+import { shrinkPhoto } from "@/lib/photos/shrink";
+import type { MutationArgs } from "@/lib/sync/mutations";
+import { useLocal } from "@/components/sync/local-provider";
+import { PhotoStrip } from "@/components/photos/photo-strip";
 import type { LocalEngine, LocalReading } from "@/lib/sync/local-db";
 import { EngineDiagram } from "@/components/check/engine-diagram";
 import { PlanTable } from "@/components/check/plan-table";
 import { Notice } from "@/components/ui/controls";
-import { CommentThread } from "./comment-thread";
+import { CommentThread, type ThreadComment } from "./comment-thread";
 
 /**
  * A mentor's view of a shared check: read-only readings with how each was found, the diagram, the
- * plan, the comments, and the verdict. Nothing here can change a reading.
+ * plan, photos, the comments, and the verdict. Nothing here can change a reading. What was read
+ * with a signal stays readable without one (components/sync/persist-queries); comments, photos and
+ * verdicts go into the phone's outbox and are sent on the next sync, so both sides work offline.
  */
 export function ReviewScreen() {
   const id = useSearchParams().get("id") ?? "";
@@ -33,15 +42,43 @@ export function ReviewScreen() {
       return null;
     }
   }, [engine, views]);
-  const addComment = useMutation({ mutationFn: (v: { body: string; valve: string | null }) => mutations.comment(id, v.body, v.valve), onSuccess: () => qc.invalidateQueries({ queryKey: queryKeys.comments(id) }) });
-  const verdict = useMutation({ mutationFn: (v: { shareId: string; verdict: Verdict }) => mutations.verdict(v.shareId, v.verdict), onSuccess: () => qc.invalidateQueries({ queryKey: queryKeys.shares(id) }) });
+  const { db, user, syncNow } = useLocal();
+  const local = useLiveQuery(async () => (db ? db.comments.where("checkId").equals(id).toArray() : []), [db, id], []);
+  const outbox = useLiveQuery(async () => (db ? db.outbox.toArray() : []), [db], []);
+  const pendingIds = new Set(outbox.filter((m) => m.name === "comment.add/1").map((m) => (m.args as { id: string }).id));
+  const pendingVerdict = outbox.filter((m) => m.name === "verdict.set/1").map((m) => m.args as MutationArgs<"verdict.set/1">).at(-1);
+  const refresh = async () => {
+    await syncNow();
+    await Promise.all([qc.invalidateQueries({ queryKey: queryKeys.comments(id) }), qc.invalidateQueries({ queryKey: queryKeys.shares(id) }), qc.invalidateQueries({ queryKey: queryKeys.photos(id) })]);
+  };
+  const onComment = async (body: string, valve: string | null, photo: File | null) => {
+    if (!db || !user) throw new Error("Sign in on this phone first");
+    const commentId = crypto.randomUUID();
+    await addComment(db, { id: commentId, checkId: id, authorId: user.id, body, valve });
+    if (photo) await queuePhoto(db, { checkId: id, commentId, blob: await shrinkPhoto(photo) });
+    void refresh();
+  };
+  const onVerdict = async (shareId: string, v: Verdict) => {
+    if (!db) return;
+    await giveVerdict(db, shareId, v);
+    void refresh();
+  };
 
   if (check.isPending) return <p className="text-ink-soft">Loading the check…</p>;
-  if (check.isError) return <Notice tone="error">{check.error.message}. Reviews need a signal.</Notice>;
+  if (check.isError) return <Notice tone="error">{check.error.message}. Open the check once with a signal to keep it for reading offline.</Notice>;
   if (!engine || !views) return null;
   const share = shares.data?.find((s) => !s.withdrawnAt);
   const unit = engine.displayUnit;
-  const dots = new Set((comments.data ?? []).map((c) => c.valve).filter((v): v is string => !!v));
+  const serverComments = comments.data ?? [];
+  const known = new Set(serverComments.map((c) => c.id));
+  const thread: ThreadComment[] = [
+    ...serverComments.map((c) => ({ ...c, pending: pendingIds.has(c.id) })),
+    ...local
+      .filter((c) => !known.has(c.id))
+      .map((c) => ({ id: c.id, checkId: c.checkId, valve: c.valve, body: c.body, authorId: c.authorId, authorName: c.authorId === user?.id ? user.name : "club member", createdAt: String(c.createdAt), pending: pendingIds.has(c.id) })),
+  ].sort((a, b) => new Date(a.createdAt).getTime() - new Date(b.createdAt).getTime());
+  const dots = new Set(thread.map((c) => c.valve).filter((v): v is string => !!v));
+  const shownVerdict = pendingVerdict && pendingVerdict.shareId === share?.id ? pendingVerdict.verdict : share?.verdict;
   const isMentor = check.data.access === "mentor";
   return (
     <div className="flex flex-col gap-5">
@@ -59,34 +96,46 @@ export function ReviewScreen() {
             const how = !r || r.measured == null ? "not measured" : r.method === "typed" ? `${formatLength(r.measured, unit)} typed` : `${formatLength(r.feelerGo ?? r.measured, unit)} goes${r.feelerNoGo != null ? `, ${formatLength(r.feelerNoGo, unit)} does not` : ""}`;
             const shim = r?.installedMicrometer != null ? `${r.installedMicrometer.toFixed(3)} micrometer` : r?.installedStamp != null ? `${r.installedStamp.toFixed(2)} stamp` : "shim ?";
             return (
-              <li key={v.valve.id} className="flex justify-between gap-2 border-b border-line py-1">
+              <li key={v.valve.id} className="flex flex-col gap-1 border-b border-line py-1">
+                <div className="flex justify-between gap-2">
                 <strong>{v.valve.id}</strong>
                 <span className="text-right">
                   {shim} · {how}
                   {r && r.round > 0 ? ` (re-check ${r.round})` : ""}
                 </span>
+                </div>
+                <PhotoStrip checkId={id} valve={v.valve.id} canAdd={false} label={`valve ${v.valve.id}`} />
               </li>
             );
           })}
         </ul>
+      </section>
+      <section aria-labelledby="photos-title" className="flex flex-col gap-2">
+        <h2 id="photos-title" className="text-xl font-extrabold">
+          Photos of the whole check
+        </h2>
+        <PhotoStrip checkId={id} valve={null} canAdd label="the whole check" />
       </section>
       {plan && <PlanTable engine={engine} plan={plan} byId={new Map(views.map((v) => [v.valve.id, v]))} />}
       <section aria-labelledby="verdict-title" className="flex flex-col gap-2 rounded-2xl border-2 border-accent p-4">
         <h2 id="verdict-title" className="text-xl font-extrabold">
           Verdict
         </h2>
-        <p data-testid="verdict">{share?.verdict ? `${VERDICTS[share.verdict].glyph} ${VERDICTS[share.verdict].word}` : "No verdict yet."}</p>
+        <p data-testid="verdict">
+          {shownVerdict ? `${VERDICTS[shownVerdict].glyph} ${VERDICTS[shownVerdict].word}` : "No verdict yet."}
+          {pendingVerdict && pendingVerdict.shareId === share?.id && <span className="block text-sm font-bold text-ink-soft">waiting to send</span>}
+        </p>
         {isMentor && share && (
           <div className="flex flex-col gap-2">
             {(Object.keys(VERDICTS) as Verdict[]).map((k) => (
-              <button key={k} type="button" aria-pressed={share.verdict === k} onClick={() => verdict.mutate({ shareId: share.id, verdict: k })} className={`min-h-14 rounded-xl border-2 px-4 text-left text-lg font-bold ${share.verdict === k ? "border-accent bg-accent text-accent-ink" : "border-line"}`}>
+              <button key={k} type="button" aria-pressed={shownVerdict === k} onClick={() => void onVerdict(share.id, k)} className={`min-h-14 rounded-xl border-2 px-4 text-left text-lg font-bold ${shownVerdict === k ? "border-accent bg-accent text-accent-ink" : "border-line"}`}>
                 {VERDICTS[k].glyph} {VERDICTS[k].word}
               </button>
             ))}
           </div>
         )}
       </section>
-      <CommentThread comments={comments.data ?? []} valves={views.map((v) => v.valve.id)} onAdd={async (body, valve) => void (await addComment.mutateAsync({ body, valve }))} busy={addComment.isPending} />
+      <CommentThread comments={thread} valves={views.map((v) => v.valve.id)} onAdd={onComment} photosOf={(cid) => <PhotoStrip checkId={id} valve={null} commentId={cid} canAdd={false} label="this comment" />} />
     </div>
   );
 }

@@ -1,5 +1,6 @@
 "use client";
 
+import { PersistQueries } from "./persist-queries";
 import { useLiveQuery } from "dexie-react-hooks";
 import { usePathname } from "next/navigation";
 import { createContext, useCallback, useContext, useEffect, useMemo, useRef, useState, type ReactNode } from "react";
@@ -115,7 +116,8 @@ export function LocalProvider({ children }: { children: ReactNode }) {
     };
   }, [db, syncNow]);
 
-  const waiting = useLiveQuery(() => (db ? db.outbox.count() : 0), [db], 0);
+  // changes and photos not yet on the server
+  const waiting = useLiveQuery(async () => (db ? (await db.outbox.count()) + (await db.photos.where("state").equals("waiting").count()) : 0), [db], 0);
   const lastSyncAt = useLiveQuery(async () => (db ? ((await getMeta<number>(db, "lastSyncAt")) ?? null) : null), [db, state], null);
   const rejected = useLiveQuery(async () => (db ? ((await getMeta<Rejected[]>(db, "rejected")) ?? []) : []), [db, state], []);
 
@@ -130,7 +132,12 @@ export function LocalProvider({ children }: { children: ReactNode }) {
   const forget = useCallback(() => storeUser(null), [storeUser]);
 
   const value: LocalContext = { user, ready, db, state, waiting, lastSyncAt, rejected, persisted, syncNow, forget };
-  return <Ctx.Provider value={value}>{children}</Ctx.Provider>;
+  return (
+    <Ctx.Provider value={value}>
+      <PersistQueries userId={userId ?? null} />
+      {children}
+    </Ctx.Provider>
+  );
 }
 
 export function useLocal(): LocalContext {

@@ -3,7 +3,7 @@ import { and, asc, desc, eq, gt, inArray, isNull } from "drizzle-orm";
 import { createHash, randomBytes } from "node:crypto";
 import { db } from "../client";
 import { checks, clubs, comments, engines, invites, memberships, shares, users, type Role } from "../schema";
-import { versioned } from "../versions";
+import { versioned, type Tx } from "../versions";
 
 export async function rolesInClub(userId: string, clubId: string): Promise<Role[]> {
   const rows = await db().select({ role: memberships.role }).from(memberships).where(and(eq(memberships.userId, userId), eq(memberships.clubId, clubId)));
@@ -139,10 +139,13 @@ export async function withdrawShare(shareId: string) {
 }
 
 export async function setVerdict(shareId: string, mentorId: string, verdict: NonNullable<ShareRow["verdict"]>) {
-  await versioned(async (tx, version) => {
-    await tx.update(shares).set({ verdict, verdictBy: mentorId, verdictAt: new Date(), version }).where(eq(shares.id, shareId));
-  });
+  await versioned((tx, version) => writeVerdict(tx, version, shareId, mentorId, verdict));
   return shareToApi((await getShare(shareId))!);
+}
+
+/** The verdict write itself, inside the caller's transaction (the REST route's or a sync push's). */
+export async function writeVerdict(tx: Tx, version: number, shareId: string, mentorId: string, verdict: NonNullable<ShareRow["verdict"]>) {
+  await tx.update(shares).set({ verdict, verdictBy: mentorId, verdictAt: new Date(), version }).where(eq(shares.id, shareId));
 }
 
 /** Clubs where the user is a mentor and the check is shared (not withdrawn). */

@@ -104,8 +104,9 @@ export async function applyTrayDelete(tx: Tx, userId: string, version: number, a
 export async function applyCommentAdd(tx: Tx, userId: string, version: number, a: MutationArgs<"comment.add/1">, mayRead: (checkId: string) => Promise<boolean>) {
   if (!(await mayRead(a.checkId))) throw new Refused("no such check");
   const [c] = await tx.select({ id: comments.id }).from(comments).where(eq(comments.id, a.id)).limit(1);
-  if (c) return; // the same comment sent twice
+  if (c) return false; // the same comment sent twice
   await tx.insert(comments).values({ id: a.id, checkId: a.checkId, authorId: userId, body: a.body, valve: a.valve ?? null, version });
+  return true;
 }
 
 /**

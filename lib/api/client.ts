@@ -31,6 +31,8 @@ export async function apiFetch<T>(path: string, init: { method?: string; body?: 
   return json as T;
 }
 
+import type { ApiPhoto } from "../photos/rules";
+
 export const queryKeys = {
   me: () => ["me"] as const,
   engines: () => ["engines"] as const,
@@ -45,6 +47,7 @@ export const queryKeys = {
   invites: (clubId: string) => ["clubs", clubId, "invites"] as const,
   queue: (clubId: string) => ["clubs", clubId, "queue"] as const,
   shares: (checkId: string) => ["checks", checkId, "shares"] as const,
+  photos: (checkId: string) => ["checks", checkId, "photos"] as const,
 };
 
 export interface Me {
@@ -104,6 +107,7 @@ export const fetchers = {
   readings: (id: string) => apiFetch<{ readings: Record<string, unknown>[] }>(`/api/checks/${id}/readings`).then((r) => r.readings),
   comments: (id: string) => apiFetch<{ items: ApiComment[] }>(`/api/checks/${id}/comments`).then((r) => r.items),
   shares: (id: string) => apiFetch<{ items: ApiShare[] }>(`/api/checks/${id}/shares`).then((r) => r.items),
+  photos: (id: string) => apiFetch<{ items: ApiPhoto[] }>(`/api/checks/${id}/photos`).then((r) => r.items),
   engines: () => apiFetch<{ items: { id: string; name: string; cylinders: number }[] }>("/api/engines?limit=200").then((r) => r.items),
 };
 

@@ -113,7 +113,7 @@ export const commentInput = z.object({
   body: z.string().trim().min(1, { error: "write something" }).max(4000, { error: "at most 4000 characters" }),
   valve: valveKey.nullable().optional(),
 });
-export const verdictInput = z.object({ verdict: z.enum(["close-up", "measure-again", "stop-and-ask"]) });
+export const verdictInput = z.object({ verdict: z.enum(["close-up", "measure-again", "stop-and-ask"], { error: "a verdict is close-up, measure-again or stop-and-ask" }) });
 
 /**
  * Readings checked against their engine: the valve must exist on it and the shims must lie within

@@ -1,4 +1,5 @@
 import { PUSH_BATCH } from "./mutations";
+import { uploadPhotos } from "./photos";
 import { getMeta, setMeta, type LocalCheck, type LocalComment, type LocalDb, type LocalEngine, type LocalReading, type LocalTrayItem } from "./local-db";
 
 /**
@@ -130,7 +131,8 @@ export async function pullOnce(db: LocalDb, fetcher: Fetch, base = ""): Promise<
 /** One full sync: push everything, then pull. Throws SignedOut on 401 and TypeError when offline. */
 export async function syncOnce(db: LocalDb, fetcher: Fetch, base = "") {
   const pushed = await pushAll(db, fetcher, base);
+  const photos = await uploadPhotos(db, fetcher, base);
   const pulled = await pullOnce(db, fetcher, base);
   await setMeta(db, "lastSyncAt", Date.now());
-  return { pushed, pulled };
+  return { pushed, photos, pulled };
 }

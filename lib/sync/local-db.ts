@@ -74,6 +74,18 @@ export interface LocalComment {
   version?: number;
 }
 
+/** A photo taken on this phone: kept here until the server has it, then kept as the local copy. */
+export interface LocalPhoto {
+  id: string;
+  checkId: string;
+  valve: string | null;
+  commentId: string | null;
+  blob: Blob;
+  takenAt: number;
+  state: "waiting" | "sent" | "refused";
+  reason?: string;
+}
+
 export interface OutboxEntry {
   seq?: number;
   mutationId: number;
@@ -95,6 +107,7 @@ export type LocalDb = Dexie & {
   comments: EntityTable<LocalComment, "id">;
   outbox: EntityTable<OutboxEntry, "seq">;
   meta: EntityTable<MetaEntry, "key">;
+  photos: EntityTable<LocalPhoto, "id">;
 };
 
 export function openLocalDb(userId: string, indexedDB?: IDBFactory, keyRange?: typeof IDBKeyRange): LocalDb {
@@ -108,6 +121,8 @@ export function openLocalDb(userId: string, indexedDB?: IDBFactory, keyRange?: t
     outbox: "++seq, &mutationId",
     meta: "key",
   });
+  // photos are their own queue: a blob is sent by itself, after the outbox (it may name a comment)
+  db.version(2).stores({ photos: "id, checkId, state" });
   return db;
 }
 

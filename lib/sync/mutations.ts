@@ -1,5 +1,5 @@
 import { z } from "zod";
-import { checkInput, commentInput, engineInput, idSchema, readingInput, trayItemInput } from "../schemas/records";
+import { checkInput, commentInput, engineInput, idSchema, readingInput, trayItemInput, verdictInput } from "../schemas/records";
 
 /**
  * The outbox's mutations: a versioned name and its arguments, validated by the same schemas on the
@@ -20,6 +20,7 @@ export const MUTATIONS = {
   "tray.put/1": trayItemInput.extend({ id: idSchema }),
   "tray.delete/1": z.object({ id: idSchema }),
   "comment.add/1": commentInput.extend({ id: idSchema, checkId: idSchema }),
+  "verdict.set/1": verdictInput.extend({ shareId: idSchema }),
 } as const;
 
 export type MutationName = keyof typeof MUTATIONS;

@@ -78,3 +78,15 @@ export async function adjustTray(db: LocalDb, size: number, delta: number) {
   if (item) return saveTrayItem(db, { ...item, count: Math.max(0, item.count + delta) });
   if (delta > 0) return saveTrayItem(db, { id: crypto.randomUUID(), size, measuredSize: false, count: delta });
 }
+
+/** A comment by the check's owner or a mentor, kept here until the next sync sends it. */
+export function addComment(db: LocalDb, c: { id: string; checkId: string; authorId: string; body: string; valve: string | null }) {
+  return record(db, "comment.add/1", { id: c.id, checkId: c.checkId, body: c.body, valve: c.valve } as MutationArgs<"comment.add/1">, async (a) => {
+    await db.comments.put({ id: a.id, checkId: a.checkId, authorId: c.authorId, valve: a.valve ?? null, body: a.body, createdAt: new Date().toISOString() });
+  });
+}
+
+/** A mentor's verdict on a share; only the outbox holds it until the server has it. */
+export function giveVerdict(db: LocalDb, shareId: string, verdict: MutationArgs<"verdict.set/1">["verdict"]) {
+  return record(db, "verdict.set/1", { shareId, verdict }, async () => undefined);
+}

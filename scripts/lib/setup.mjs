@@ -199,3 +199,16 @@ export async function startMailCatcher({ smtpPort, webPort, dir }) {
   await waitForHttp(`http://127.0.0.1:${webPort}/api/healthz`, "the mail catcher", child);
   return { smtpUrl: `smtp://127.0.0.1:${smtpPort}`, apiUrl: `http://127.0.0.1:${webPort}`, stop: stopper(child) };
 }
+
+/** A local S3-compatible store (s3rver) for photos, with its bucket made at start. */
+export async function startObjectStore({ port, dir, bucket = "lashwright-photos" }) {
+  if (!(await portFree(port))) throw new SetupError(`port ${port} (photo store) is in use: set S3_PORT to a free port`);
+  mkdirSync(dir, { recursive: true });
+  const child = spawn(process.execPath, [path.join(root, "node_modules/s3rver/bin/s3rver.js"), "--address", "127.0.0.1", "--port", String(port), "--directory", dir, "--configure-bucket", bucket, "--silent"], {
+    cwd: root,
+    stdio: "ignore",
+  });
+  await waitForHttp(`http://127.0.0.1:${port}/`, "the photo store", child);
+  // s3rver's fixed credentials: this store only listens on loopback
+  return { env: { S3_ENDPOINT: `http://127.0.0.1:${port}`, S3_BUCKET: bucket, S3_ACCESS_KEY: "S3RVER", S3_SECRET_KEY: "S3RVER" }, stop: stopper(child) };
+}

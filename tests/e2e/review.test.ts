@@ -2,6 +2,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { Browser, Page } from "playwright-core";
 import { baseUrl, launch, phoneContext } from "../support/browser";
 import { waitForMail } from "../support/mail";
+import { cameraJpeg } from "../support/photos";
 
 // The demo scenario (db/seed.ts): Mara's latest check of the four is shared with the club.
 const PASSWORD = "garage-demo-2026";
@@ -75,5 +76,42 @@ describe("a mentor reviews a shared check", () => {
     await mech.getByText("Re-measure E3.1 with the 0.13").waitFor();
     await expect(mech.getByRole("button", { name: /Fine to close up/ }).count()).resolves.toBe(0);
     await mechCtx.close();
+  });
+
+  it("a photo taken with no signal waits on the phone and reaches the mentor after sync", async () => {
+    const mechCtx = await phoneContext(browser);
+    const mech = await mechCtx.newPage();
+    await signIn(mech, "mara@kestrel-hollow.example");
+    await mech.getByRole("link", { name: /Blue four/ }).tap();
+    await mech.getByRole("link", { name: /43,800 km/ }).tap();
+    await mech.getByRole("button", { name: /2\. Measure/ }).tap();
+    await mech.evaluate(async () => {
+      await navigator.serviceWorker.ready;
+      if (!navigator.serviceWorker.controller) await new Promise((r) => navigator.serviceWorker.addEventListener("controllerchange", r, { once: true }));
+    });
+    await mechCtx.setOffline(true);
+    step("mechanic offline on the check");
+    const card = mech.locator('[id="valve-I1.1"]');
+    await card.getByLabel(/Add a photo of valve I1\.1/).setInputFiles({ name: "blade-in-gap.jpg", mimeType: "image/jpeg", buffer: await cameraJpeg(1200, 900) });
+    await card.getByText("waiting to send").waitFor();
+    await expect(card.getByTestId("photo").count()).resolves.toBe(1);
+    await mech.screenshot({ path: "test-results/photo-offline.png" });
+    await mechCtx.setOffline(false);
+    await mech.evaluate(() => window.dispatchEvent(new Event("online")));
+    await card.getByText("sent", { exact: true }).waitFor({ timeout: 20_000 });
+    step("photo sent after the signal came back");
+    await mechCtx.close();
+
+    const mentorCtx = await phoneContext(browser);
+    const mentor = await mentorCtx.newPage();
+    await signIn(mentor, "teodor@kestrel-hollow.example");
+    await mentor.goto(`${baseUrl()}/club`);
+    await mentor.getByRole("link", { name: /Blue four/ }).tap();
+    const photo = mentor.getByRole("list", { name: "Photos: valve I1.1" }).getByTestId("photo");
+    await photo.waitFor();
+    // the image really loads: decoded at the size the server stored
+    await expect.poll(() => photo.evaluate((img: HTMLImageElement) => img.complete && img.naturalWidth), { timeout: 10_000 }).toBe(1200);
+    await mentor.screenshot({ path: "test-results/photo-mentor.png", fullPage: true });
+    await mentorCtx.close();
   });
 });

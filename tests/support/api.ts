@@ -1,3 +1,15 @@
+/** Status and parsed body (or the text, when it is not JSON). */
+async function answer(res: Response) {
+  const text = await res.text();
+  let json: unknown = null;
+  try {
+    json = text ? JSON.parse(text) : null;
+  } catch {
+    json = text;
+  }
+  return { status: res.status, json: json as Record<string, any> }; // eslint-disable-line @typescript-eslint/no-explicit-any
+}
+
 /** A tiny HTTP client with a cookie jar, signing in through next-auth like a browser does. */
 export class Client {
   private cookies = new Map<string, string>();
@@ -29,15 +41,14 @@ export class Client {
   }
 
   async call(method: string, path: string, body?: unknown) {
-    const res = await this.raw(method, path, body === undefined ? {} : { body: JSON.stringify(body), headers: { "content-type": "application/json" } });
-    const text = await res.text();
-    let json: unknown = null;
-    try {
-      json = text ? JSON.parse(text) : null;
-    } catch {
-      json = text;
-    }
-    return { status: res.status, json: json as Record<string, any> }; // eslint-disable-line @typescript-eslint/no-explicit-any
+    return answer(await this.raw(method, path, body === undefined ? {} : { body: JSON.stringify(body), headers: { "content-type": "application/json" } }));
+  }
+
+  /** A multipart form, as the phone sends photos. */
+  async form(method: string, path: string, form: FormData) {
+    const res = await fetch(this.base + path, { method, redirect: "manual", headers: { cookie: this.cookieHeader() }, body: form });
+    this.remember(res);
+    return answer(res);
   }
 
   get = (p: string) => this.call("GET", p);

@@ -3,6 +3,7 @@ import { readdirSync, readFileSync, statSync } from "node:fs";
 import path from "node:path";
 import { Client } from "../../support/api";
 import { addMembership, ENGINE_FOUR, makeUser } from "../../support/fixtures";
+import { cameraJpeg, photoForm } from "../../support/photos";
 import { startApp, type App } from "../../support/server";
 
 /**
@@ -19,12 +20,15 @@ interface Ids {
   trayId: string;
   clubId: string;
   memberId: string;
+  photoId: string;
 }
 
 interface Row {
   route: string; // "METHOD /api/path/:param"
   path: (ids: Ids) => string;
   body?: (ids: Ids) => unknown;
+  /** a multipart body instead (photos) */
+  form?: (ids: Ids) => Promise<FormData>;
   /** make fresh records for a destructive call, one set per caller */
   fresh?: () => Promise<Partial<Ids>>;
   expect: Partial<Record<Actor, number>> & { others: number };
@@ -36,6 +40,7 @@ let app: App;
 const clients = {} as Record<Actor, Client>;
 let ids: Ids;
 let freshCheck: () => Promise<Partial<Ids>>;
+let photo: Buffer;
 
 async function signedIn(email: string, password: string) {
   const c = new Client(app.url);
@@ -67,7 +72,9 @@ beforeAll(async () => {
   const trayId = (await o.post("/api/tray", { size: 2.6, count: 2 })).json.item.id as string;
   const member = await makeUser("matrix-member");
   await addMembership(clubId, member.id, ["mechanic"]);
-  ids = { engineId, checkId, shareId, trayId, clubId, memberId: member.id };
+  photo = await cameraJpeg(320, 240);
+  const photoId = (await o.form("POST", `/api/checks/${checkId}/photos`, photoForm(photo))).json.photo.id as string;
+  ids = { engineId, checkId, shareId, trayId, clubId, memberId: member.id, photoId };
 });
 afterAll(() => app?.stop());
 
@@ -78,6 +85,7 @@ const freshMember = async () => {
   await addMembership(ids.clubId, m.id, ["mechanic"]);
   return { memberId: m.id };
 };
+const freshPhoto = async () => ({ photoId: (await clients.owner.form("POST", `/api/checks/${ids.checkId}/photos`, photoForm(photo))).json.photo.id as string });
 const rand = () => crypto.randomUUID().slice(0, 8);
 const OWNER_ONLY = { owner: 0, others: 404, anon: 401 };
 const CHECK_READ = { owner: 200, mentor: 200, others: 404, anon: 401 };
@@ -117,6 +125,10 @@ const TABLE: Row[] = [
   { route: "POST /api/checks/:checkId/shares", path: (i) => `/api/checks/${i.checkId}/shares`, body: (i) => ({ clubId: i.clubId }), expect: CHECK_WRITE(201), bad: { body: { clubId: "club-1" }, field: "clubId" } },
   { route: "GET /api/checks/:checkId/comments", path: (i) => `/api/checks/${i.checkId}/comments`, expect: CHECK_READ },
   { route: "POST /api/checks/:checkId/comments", path: (i) => `/api/checks/${i.checkId}/comments`, body: () => ({ body: "Looks fine", valve: "E2.1" }), expect: { owner: 201, mentor: 201, others: 404, anon: 401 }, bad: { body: { body: "" }, field: "body" } },
+  { route: "GET /api/checks/:checkId/photos", path: (i) => `/api/checks/${i.checkId}/photos`, expect: CHECK_READ },
+  { route: "POST /api/checks/:checkId/photos", path: (i) => `/api/checks/${i.checkId}/photos`, form: async () => photoForm(photo), expect: { owner: 201, mentor: 201, others: 404, anon: 401 } },
+  { route: "GET /api/photos/:photoId", path: (i) => `/api/photos/${i.photoId}`, expect: CHECK_READ },
+  { route: "DELETE /api/photos/:photoId", path: (i) => `/api/photos/${i.photoId}`, fresh: freshPhoto, expect: CHECK_WRITE(204) },
   { route: "DELETE /api/shares/:shareId", path: (i) => `/api/shares/${i.shareId}`, fresh: () => freshCheck(), expect: CHECK_WRITE(204) },
   { route: "PUT /api/shares/:shareId/verdict", path: (i) => `/api/shares/${i.shareId}/verdict`, body: () => ({ verdict: "measure-again" }), expect: { owner: 403, mentor: 200, others: 404, anon: 401 }, bad: { as: "mentor", body: { verdict: "ok" }, field: "verdict" } },
 
@@ -183,7 +195,7 @@ describe("authorisation matrix", () => {
       for (const actor of ACTORS) {
         const cellIds = { ...ids, ...(row.fresh ? await row.fresh() : {}) };
         const body = row.body?.(cellIds);
-        const res = await clients[actor].call(method!, row.path(cellIds), method === "GET" || method === "DELETE" ? undefined : body);
+        const res = row.form ? await clients[actor].form(method!, row.path(cellIds), await row.form(cellIds)) : await clients[actor].call(method!, row.path(cellIds), method === "GET" || method === "DELETE" ? undefined : body);
         got[actor] = res.status;
         want[actor] = row.expect[actor] ?? row.expect.others;
         if (res.status >= 400) expect(res.json?.error, `${actor}: error shape`).toMatchObject({ code: expect.any(String), message: expect.any(String) });

@@ -2,7 +2,7 @@ import { z } from "zod";
 import { commentInput } from "@/lib/schemas/records";
 import { route, uuidParam } from "@/server/http";
 import { readableCheck } from "@/server/access";
-import { noticeComment } from "@/server/review";
+import { noticeNewComment } from "@/server/review";
 import { addComment, listComments } from "@/db/queries/clubs";
 
 const params = z.object({ checkId: uuidParam });
@@ -16,7 +16,6 @@ export const GET = route({ params }, async ({ user, params }) => {
 export const POST = route({ params, body: commentInput, status: 201 }, async ({ user, params, body }) => {
   const a = await readableCheck(user, params.checkId);
   const comment = await addComment(params.checkId, user.id, body);
-  const mentorIds = [...new Set((await listComments(params.checkId)).map((c) => c.authorId).filter((id) => id !== a.check.ownerId))];
-  await noticeComment(a.check, user.id, user.name, body.body, mentorIds);
+  await noticeNewComment(a.check, user, body.body);
   return { comment: { id: comment.id, checkId: comment.checkId, valve: comment.valve, body: comment.body, createdAt: comment.createdAt, authorId: user.id, authorName: user.name } };
 });

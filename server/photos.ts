@@ -1,0 +1,92 @@
+import "server-only";
+import sharp from "sharp";
+import { PHOTO_FORMATS, PHOTO_MAX_BYTES, PHOTO_MAX_EDGE, PHOTO_MAX_LABEL, photoFields, type ApiPhoto } from "@/lib/photos/rules";
+import * as q from "@/db/queries/photos";
+import { ApiError, notFound } from "./http";
+import { readableCheck } from "./access";
+import { deleteObject, getObject, putObject } from "./storage";
+import type { SessionUser } from "./auth";
+
+/**
+ * Photos on readings and comments. The type is judged from the bytes (sharp decodes them), never
+ * from the name or the declared type; the stored copy is re-encoded, turned upright, scaled to
+ * PHOTO_MAX_EDGE and carries no metadata at all (sharp drops EXIF, GPS included, unless asked to
+ * keep it). Keys are made here from ids, so nothing the caller sends becomes a path.
+ */
+export const tooLarge = () => new ApiError(413, "too_large", `A photo may be at most ${PHOTO_MAX_LABEL}`);
+
+export async function preparePhoto(input: Buffer) {
+  if (input.byteLength > PHOTO_MAX_BYTES) throw tooLarge();
+  let format: string | undefined;
+  try {
+    // limitInputPixels: a tiny file that unpacks to a huge picture is refused before decoding
+    format = (await sharp(input, { limitInputPixels: 50_000_000 }).metadata()).format;
+  } catch {
+    format = undefined;
+  }
+  if (!format || !(PHOTO_FORMATS as readonly string[]).includes(format)) throw new ApiError(415, "not_a_photo", "That file is not a JPEG, PNG or WebP picture");
+  try {
+    const { data, info } = await sharp(input, { limitInputPixels: 50_000_000 })
+      .rotate()
+      .resize({ width: PHOTO_MAX_EDGE, height: PHOTO_MAX_EDGE, fit: "inside", withoutEnlargement: true })
+      .jpeg({ quality: 82, mozjpeg: true })
+      .toBuffer({ resolveWithObject: true });
+    return { data, width: info.width, height: info.height, contentType: "image/jpeg" };
+  } catch {
+    throw new ApiError(415, "not_a_photo", "That picture could not be read");
+  }
+}
+
+export async function uploadPhoto(user: SessionUser, checkId: string, form: FormData): Promise<{ photo: ApiPhoto; created: boolean }> {
+  await readableCheck(user, checkId);
+  const file = form.get("file");
+  if (!(file instanceof Blob)) throw new ApiError(422, "invalid", "file: attach a photo", { file: "attach a photo" });
+  if (file.size > PHOTO_MAX_BYTES) throw tooLarge();
+  const fields = photoFields.safeParse({ id: form.get("id"), valve: form.get("valve") || null, commentId: form.get("commentId") || null });
+  if (!fields.success) {
+    const i = fields.error.issues[0]!;
+    throw new ApiError(422, "invalid", `${i.path.join(".")}: ${i.message}`, { [i.path.join(".")]: i.message });
+  }
+  const f = fields.data;
+  // the same photo sent again (a lost answer, a retried sync) is the one already stored
+  const existing = await q.getPhoto(f.id);
+  if (existing) {
+    if (existing.checkId !== checkId || existing.uploaderId !== user.id) throw new ApiError(409, "conflict", "That photo id is taken");
+    return { photo: existing, created: false };
+  }
+  if (f.commentId && !(await q.commentOnCheck(f.commentId, checkId))) throw new ApiError(422, "invalid", "commentId: no such comment on this check", { commentId: "no such comment on this check" });
+  const img = await preparePhoto(Buffer.from(await file.arrayBuffer()));
+  const key = `checks/${checkId}/${f.id}.jpg`;
+  await putObject(key, img.data, img.contentType);
+  try {
+    await q.insertPhoto({ id: f.id, ownerId: user.id, checkId, valve: f.valve ?? null, commentId: f.commentId ?? null, objectKey: key, contentType: img.contentType, bytes: img.data.byteLength, width: img.width, height: img.height });
+  } catch (e) {
+    await deleteObject(key).catch(() => undefined);
+    throw e;
+  }
+  return { photo: (await q.getPhoto(f.id))!, created: true };
+}
+
+/** A photo may be read by whoever may read its check. */
+export async function readablePhoto(user: SessionUser, photoId: string) {
+  const p = await q.getPhotoRow(photoId);
+  if (!p) throw notFound("photo");
+  await readableCheck(user, p.checkId).catch(() => {
+    throw notFound("photo");
+  });
+  return p;
+}
+
+export async function photoBytes(user: SessionUser, photoId: string) {
+  const p = await readablePhoto(user, photoId);
+  return { row: p, bytes: await getObject(p.objectKey) };
+}
+
+/** The uploader or the check's owner may remove a photo. */
+export async function removePhoto(user: SessionUser, photoId: string) {
+  const p = await readablePhoto(user, photoId);
+  const a = await readableCheck(user, p.checkId);
+  if (p.ownerId !== user.id && a.as !== "owner") throw new ApiError(403, "forbidden", "Only who took the photo or the check's owner can remove it");
+  await q.deletePhoto(photoId);
+  await deleteObject(p.objectKey).catch(() => undefined);
+}
