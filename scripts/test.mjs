@@ -9,7 +9,11 @@ import path from "node:path";
 import { CHROMIUM, cleanupOnExit, ensureDebianPackages, ensureNodeModules, freePort, log, MARIADB, root, run, runTs, SetupError, startMailCatcher, startMariadb, startObjectStore } from "./lib/setup.mjs";
 
 const args = process.argv.slice(2);
-const only = args.find((a) => ["unit", "integration", "e2e"].includes(a));
+// `npm run soak`: the fault-injection sync test alone, with 10,000 mutations
+const soak = args.includes("soak");
+const only = soak ? "integration" : args.find((a) => ["unit", "integration", "e2e"].includes(a));
+// anything else narrows the chosen level to matching test files (vitest filters)
+const filters = soak ? ["tests/integration/sync/faults"] : args.filter((a) => !["unit", "integration", "e2e"].includes(a));
 const results = { passed: 0, failed: 0, skipped: 0 };
 const failures = [];
 
@@ -30,7 +34,10 @@ function vitest(project, env) {
   const report = path.join(root, "test-results", `${project}.json`);
   rmSync(report, { force: true });
   const ok = stage(`${project} tests`, () =>
-    run(process.execPath, ["node_modules/vitest/vitest.mjs", "run", "--project", project, "--reporter=default", "--reporter=json", `--outputFile.json=${report}`], { env, what: `vitest ${project}` }),
+    run(process.execPath, ["node_modules/vitest/vitest.mjs", "run", "--project", project, "--reporter=default", "--reporter=json", `--outputFile.json=${report}`, ...filters], {
+      env: soak ? { ...env, LASHWRIGHT_FAULT_MUTATIONS: process.env.LASHWRIGHT_FAULT_MUTATIONS ?? "10000" } : env,
+      what: `vitest ${project}`,
+    }),
   );
   if (existsSync(report)) {
     const r = JSON.parse(readFileSync(report, "utf8"));
@@ -109,9 +116,11 @@ async function main() {
         NEXTAUTH_SECRET: randomBytes(32).toString("base64url"),
       };
       runTs("db/migrate.ts", env);
-      const built = stage("production build (next build)", () =>
-        run(process.execPath, ["node_modules/next/dist/bin/next", "build"], { env: { ...env, NEXT_TELEMETRY_DISABLED: "1" }, what: "next build" }),
-      );
+      // LASHWRIGHT_REUSE_BUILD=1 (for a developer iterating on tests) keeps the existing .next build
+      const reuse = process.env.LASHWRIGHT_REUSE_BUILD === "1" && existsSync(path.join(root, ".next", "BUILD_ID"));
+      const built =
+        reuse ||
+        stage("production build (next build)", () => run(process.execPath, ["node_modules/next/dist/bin/next", "build"], { env: { ...env, NEXT_TELEMETRY_DISABLED: "1" }, what: "next build" }));
       if (!built) failures.push("integration and browser tests skipped: the build failed");
       // Integration tests talk HTTP to the production build; they start and restart it themselves.
       if (built && (!only || only === "integration")) vitest("integration", env);

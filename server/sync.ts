@@ -33,11 +33,7 @@ function reasonOf(e: unknown): string {
   return "the server could not apply this change";
 }
 
-async function mayReadCheck(user: SessionUser, checkId: string) {
-  const c = await getCheckRow(checkId);
-  if (!c) return false;
-  return c.ownerId === user.id || (await mentorSharesForCheck(user.id, checkId)).length > 0;
-}
+const isMentorOf = async (user: SessionUser, checkId: string) => (await mentorSharesForCheck(user.id, checkId)).length > 0;
 
 /** Work that must wait for the push to commit (e-mail notices), returned by applyOne. */
 type After = () => Promise<void>;
@@ -63,7 +59,7 @@ async function applyOne(tx: Tx, user: SessionUser, version: number, m: Parsed): 
       return q.applyTrayDelete(tx, user.id, version, a as { id: string });
     case "comment.add/1": {
       const c = a as MutationArgs<"comment.add/1">;
-      if (!(await q.applyCommentAdd(tx, user.id, version, c, (id) => mayReadCheck(user, id)))) return;
+      if (!(await q.applyCommentAdd(tx, user.id, version, c, (id) => isMentorOf(user, id)))) return;
       return async () => {
         const check = await getCheckRow(c.checkId);
         if (check) await noticeNewComment(check, user, c.body);

@@ -101,8 +101,13 @@ export async function applyTrayDelete(tx: Tx, userId: string, version: number, a
   await tx.delete(trayItems).where(eq(trayItems.id, a.id));
 }
 
-export async function applyCommentAdd(tx: Tx, userId: string, version: number, a: MutationArgs<"comment.add/1">, mayRead: (checkId: string) => Promise<boolean>) {
-  if (!(await mayRead(a.checkId))) throw new Refused("no such check");
+/**
+ * A comment from the outbox. The check is looked up inside the push's transaction: the same push
+ * may have just created it. Anyone but its owner must be a mentor of a sharing club (isMentor).
+ */
+export async function applyCommentAdd(tx: Tx, userId: string, version: number, a: MutationArgs<"comment.add/1">, isMentor: (checkId: string) => Promise<boolean>) {
+  const [check] = await tx.select({ ownerId: checks.ownerId }).from(checks).where(eq(checks.id, a.checkId)).limit(1);
+  if (!check || (check.ownerId !== userId && !(await isMentor(a.checkId)))) throw new Refused("no such check");
   const [c] = await tx.select({ id: comments.id }).from(comments).where(eq(comments.id, a.id)).limit(1);
   if (c) return false; // the same comment sent twice
   await tx.insert(comments).values({ id: a.id, checkId: a.checkId, authorId: userId, body: a.body, valve: a.valve ?? null, version });
