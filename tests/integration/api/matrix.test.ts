@@ -1,10 +1,9 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { readdirSync, readFileSync, statSync } from "node:fs";
-import path from "node:path";
 import { Client } from "../../support/api";
 import { addMembership, ENGINE_FOUR, makeUser } from "../../support/fixtures";
 import { cameraJpeg, photoForm } from "../../support/photos";
 import { startApp, type App } from "../../support/server";
+import { routesOnDisk } from "../../support/routes";
 
 /**
  * The authorisation matrix: every route x every kind of caller, from one table. A route file that
@@ -160,24 +159,6 @@ const TABLE: Row[] = [
 
 /** next-auth's own handler is tested through the sign-in flows, not through this table. */
 const NOT_IN_TABLE = new Set(["GET /api/auth/:nextauth", "POST /api/auth/:nextauth"]);
-
-function routesOnDisk(): string[] {
-  const api = path.resolve(__dirname, "../../../app/api");
-  const out: string[] = [];
-  const walk = (dir: string) => {
-    for (const f of readdirSync(dir)) {
-      const p = path.join(dir, f);
-      if (statSync(p).isDirectory()) walk(p);
-      else if (f === "route.ts") {
-        const url = "/api/" + path.relative(api, dir).split(path.sep).map((s) => s.replace(/^\[(?:\.\.\.)?(.+)\]$/, ":$1")).join("/");
-        for (const m of readFileSync(p, "utf8").matchAll(/export (?:const|async function) (GET|POST|PUT|PATCH|DELETE)\b|export \{[^}]*handler as (GET|POST)/g)) out.push(`${m[1] ?? m[2]} ${url.replace(/\/$/, "")}`);
-        if (/handler as GET, handler as POST/.test(readFileSync(p, "utf8"))) out.push(`POST ${url}`);
-      }
-    }
-  };
-  walk(api);
-  return [...new Set(out)].sort();
-}
 
 describe("authorisation matrix", () => {
   it("covers every route that exists", () => {

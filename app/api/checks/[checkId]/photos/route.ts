@@ -15,6 +15,8 @@ export const GET = route({ params }, async ({ user, params }) => {
 
 /** A multipart form: file, id (the phone's own uuid, so a retry is harmless), valve?, commentId?. */
 export const POST = route({ params }, async ({ user, params, req }) => {
+  // a check the caller cannot read answers 404 whatever was sent
+  await readableCheck(user, params.checkId);
   // refuse an oversized body before reading it (a little room for the form's other fields)
   if (Number(req.headers.get("content-length") ?? 0) > PHOTO_MAX_BYTES + 64 * 1024) throw tooLarge();
   let form: FormData;
