@@ -81,20 +81,29 @@ export function LocalProvider({ children }: { children: ReactNode }) {
     navigator.storage.persisted().then((already) => (already ? setPersisted(true) : navigator.storage.persist().then(setPersisted)));
   }, []);
 
+  // a request made while a sync runs (a change written meanwhile) gets one more run after it
+  const again = useRef(false);
   const syncNow = useCallback(async () => {
     if (!db) return;
-    if (running.current) return running.current;
+    if (running.current) {
+      again.current = true;
+      return running.current;
+    }
     running.current = (async () => {
-      setState("syncing");
-      try {
-        await syncOnce(db, (u, i) => fetch(u, i));
-        setState("idle");
-      } catch (e) {
-        setState(e instanceof SignedOut ? "signed-out" : e instanceof TypeError ? "offline" : "error");
-      } finally {
-        running.current = null;
-      }
-    })();
+      do {
+        again.current = false;
+        setState("syncing");
+        try {
+          await syncOnce(db, (u, i) => fetch(u, i));
+          setState("idle");
+        } catch (e) {
+          setState(e instanceof SignedOut ? "signed-out" : e instanceof TypeError ? "offline" : "error");
+          break;
+        }
+      } while (again.current);
+    })().finally(() => {
+      running.current = null;
+    });
     return running.current;
   }, [db]);
 

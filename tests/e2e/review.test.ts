@@ -55,6 +55,9 @@ describe("a mentor reviews a shared check", () => {
     step("comment posted");
     await mentor.getByRole("button", { name: /Measure again/ }).tap();
     await mentor.getByTestId("verdict").getByText("↻ Measure again").waitFor();
+    // sent: nothing of the mentor's waits on the phone any more
+    await mentor.getByTestId("verdict").getByText("waiting to send").waitFor({ state: "detached", timeout: 20_000 });
+    await mentor.getByText("waiting to send").first().waitFor({ state: "detached", timeout: 20_000 });
     await mentor.screenshot({ path: "test-results/review-mentor.png", fullPage: true });
     await mentorCtx.close();
     step("verdict given");

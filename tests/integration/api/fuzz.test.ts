@@ -54,7 +54,8 @@ const MULTIPART = new Set(["POST /api/checks/:checkId/photos"]);
 
 const HOSTILE_STRINGS = ["' OR '1'='1", "'; DROP TABLE readings;--", "<script>alert(1)</script>", '"><img src=x onerror=alert(1)>', "\u0000", "NaN", "-Infinity", "1e309", "🔧🛵", "\u202eevil", "../../etc/passwd", "%00", "{{7*7}}", "${jndi:x}", "a".repeat(5000)];
 const hostileString = fc.oneof(fc.constantFrom(...HOSTILE_STRINGS), fc.string({ unit: "binary", maxLength: 40 }));
-const hugeOrNegative = fc.constantFrom(-1, -0.05, -1e9, 1e308, Number.MAX_SAFE_INTEGER + 2, 2 ** 63, 1.0000000001, 0.0000001);
+// numbers no field accepts: below zero, or beyond every limit
+const hugeOrNegative = fc.constantFrom(-1, -0.05, -1e9, 1e308, Number.MAX_SAFE_INTEGER + 2, 2 ** 63);
 
 /** A value of a different type from `v`, or out of range for a number. */
 function wrongFor(v: unknown): fc.Arbitrary<unknown> {
