@@ -3,6 +3,8 @@
 import { mkdirSync, writeFileSync } from "node:fs";
 import { runPlannerBench } from "./planner.mts";
 import { runSyncBench } from "./sync.mts";
+import { runEntryBench, runWeightAndAudits } from "./browser.mts";
+import { startBenchServer } from "./server.mts";
 
 const rows: { figure: string; value: string; baseline: string; goal: string; met: boolean }[] = [];
 
@@ -15,7 +17,17 @@ rows.push({
   met: p.plannerMs <= p.goalMs,
 });
 
-const sy = await runSyncBench();
+const srv = await startBenchServer();
+let sy: Awaited<ReturnType<typeof runSyncBench>>;
+let entry: Awaited<ReturnType<typeof runEntryBench>>;
+let web: Awaited<ReturnType<typeof runWeightAndAudits>>;
+try {
+  sy = await runSyncBench(srv);
+  entry = await runEntryBench(srv);
+  web = await runWeightAndAudits(srv);
+} finally {
+  await srv.stop();
+}
 rows.push({
   figure: `sync push, ${sy.mutations} readings in batches of ${sy.batch}`,
   value: `${Math.round(sy.pushRowsPerSec)} rows/s`,
@@ -31,9 +43,42 @@ rows.push({
   met: true,
 });
 
+const ms = (x: number) => `${x.toFixed(1)} ms`;
+for (const rate of [1, 4]) {
+  const a = entry.lat[`app x${rate}`]!;
+  const b = entry.lat[`bare x${rate}`]!;
+  const goal = rate === 1 ? { median: 16, p95: 50 } : { median: 16, p95: 100 };
+  rows.push({
+    figure: `offline entry, tap to stored + shown, ${entry.taps} taps${rate > 1 ? `, CPU /${rate}` : ""}`,
+    value: `median ${ms(a.median)}, p95 ${ms(a.p95)}`,
+    baseline: `bare Dexie write: median ${ms(b.median)}, p95 ${ms(b.p95)}`,
+    goal: `median <= ${goal.median} ms, p95 <= ${goal.p95} ms`,
+    met: a.median <= goal.median && a.p95 <= goal.p95,
+  });
+}
+const kb = (n: number) => `${(n / 1024).toFixed(1)} KiB`;
+rows.push({
+  figure: "JavaScript on first visit to the check page (compressed)",
+  value: `${kb(web.weight.check.bytes)} in ${web.weight.check.files} files`,
+  baseline: `bare Next page ${kb(web.weight.bare.bytes)} (ratio ${web.weight.ratio.toFixed(2)}); home ${kb(web.weight.home.bytes)}`,
+  goal: "ratio <= 1.3",
+  met: web.weight.ratio <= 1.3,
+});
+const bare = web.audits.bare!;
+for (const page of ["home", "check"] as const) {
+  const s = web.audits[page]!;
+  rows.push({
+    figure: `Lighthouse 12.2.3 mobile, ${page} page (perf / a11y / best practices)`,
+    value: `${s.performance} / ${s.accessibility} / ${s["best-practices"]}`,
+    baseline: `bare page ${bare.performance} / ${bare.accessibility} / ${bare["best-practices"]}`,
+    goal: "perf within 5 of bare, a11y 100, bp 100",
+    met: s.performance >= bare.performance - 5 && s.accessibility === 100 && s["best-practices"] === 100,
+  });
+}
+
 const w = [0, 1, 2, 3].map((i) => Math.max(...rows.map((r) => Object.values(r)[i]!.toString().length), ["figure", "value", "baseline", "goal"][i]!.length));
 const line = (cells: string[]) => cells.map((c, i) => c.padEnd(w[i]!)).join("  ");
 console.log(line(["figure", "value", "baseline", "goal"]) + "  met");
 for (const r of rows) console.log(line([r.figure, r.value, r.baseline, r.goal]) + `  ${r.met ? "yes" : "NO"}`);
 mkdirSync("bench/results", { recursive: true });
-writeFileSync("bench/results/latest.json", JSON.stringify({ at: new Date().toISOString(), planner: p, sync: sy, rows }, null, 2));
+writeFileSync("bench/results/latest.json", JSON.stringify({ at: new Date().toISOString(), planner: p, sync: sy, entry, web, rows }, null, 2));

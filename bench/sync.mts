@@ -1,27 +1,13 @@
 // Sync throughput: 10,000 reading mutations through the real push route (production server, real
 // MariaDB) in the client's batch size, beside the same rows written by a raw mysql2 multi-row
 // insert in the same run; and a full pull of a user with 50 engines, 500 checks, 8,000 readings.
-import { spawn } from "node:child_process";
-import { existsSync, rmSync } from "node:fs";
-import path from "node:path";
-import bcrypt from "bcryptjs";
 import mysql from "mysql2/promise";
-// @ts-expect-error plain JS set-up module shared with npm start and npm test
-import { freePort, root, runTs, startMariadb, startMailCatcher } from "../scripts/lib/setup.mjs";
+import { startBenchServer, type BenchServer } from "./server.mts";
 import { Client } from "../tests/support/api";
 import { PUSH_BATCH } from "../lib/sync/mutations";
 
 const ENGINE = { name: "Bench four", cylinders: 4, intakePerCylinder: 2, exhaustPerCylinder: 2, firingOrder: [1, 3, 4, 2], intake: { min: 0.1, max: 0.2 }, exhaust: { min: 0.2, max: 0.3 }, shims: { min: 2.5, max: 3.3, step: 0.05 } };
 const VALVES = ["I1.1", "I1.2", "E1.1", "E1.2", "I2.1", "I2.2", "E2.1", "E2.2", "I3.1", "I3.2", "E3.1", "E3.2", "I4.1", "I4.2", "E4.1", "E4.2"];
-
-async function makeUser(uri: string, tag: string) {
-  const c = await mysql.createConnection({ uri });
-  const id = crypto.randomUUID();
-  const email = `${tag}-${id.slice(0, 6)}@bench.example`;
-  await c.query("INSERT INTO users (id, email, name, password_hash, email_verified_at) VALUES (?, ?, ?, ?, NOW(3))", [id, email, tag, await bcrypt.hash("bench-password-1", 4)]);
-  await c.end();
-  return { id, email, password: "bench-password-1" };
-}
 
 /** Readings for n mutations: 16 valves x 50 rounds per check, as many checks as it takes. */
 function readingPlan(n: number) {
@@ -32,88 +18,72 @@ function readingPlan(n: number) {
   return { checkIds, rows };
 }
 
-export async function runSyncBench(n = 10_000) {
-  const dir = path.join(root, ".data", "bench");
-  rmSync(dir, { recursive: true, force: true });
-  const stops: (() => Promise<void>)[] = [];
-  try {
-    const db = await startMariadb({ dir, port: await freePort(), database: "lashwright_bench" });
-    stops.push(() => db.stop());
-    const mail = await startMailCatcher({ smtpPort: await freePort(), webPort: await freePort(), dir: path.join(dir, "mail") });
-    stops.push(() => mail.stop());
-    const env = { DATABASE_URL: db.url, SMTP_URL: mail.smtpUrl, NEXTAUTH_SECRET: "bench-secret-bench-secret-bench-secret-0123" };
-    runTs("db/migrate.ts", env);
-    if (!existsSync(path.join(root, ".next", "BUILD_ID"))) throw new Error("no production build: run npm test (or next build) first");
-    const port = await freePort();
-    const url = `http://127.0.0.1:${port}`;
-    const server = spawn(process.execPath, ["node_modules/next/dist/bin/next", "start", "-H", "127.0.0.1", "-p", String(port)], { cwd: root, env: { ...process.env, ...env, NODE_ENV: "production", NEXTAUTH_URL: url }, stdio: "ignore" });
-    stops.push(() => new Promise((r) => (server.once("exit", () => r()), server.kill("SIGTERM"))));
-    for (let i = 0; i < 200 && !(await fetch(url).then((r) => r.ok).catch(() => false)); i++) await new Promise((r) => setTimeout(r, 150));
-
-    // push through the route
-    const u = await makeUser(db.url, "pusher");
-    const client = new Client(url);
-    if ((await client.signIn("password", { email: u.email, password: u.password })) !== null) throw new Error("bench sign-in failed");
-    const engineId = crypto.randomUUID();
-    const { checkIds, rows } = readingPlan(n);
-    const clientId = crypto.randomUUID();
-    let id = 0;
-    const setup = [{ id: ++id, name: "engine.put/1", args: { ...ENGINE, id: engineId } }, ...checkIds.map((c) => ({ id: ++id, name: "check.put/1", args: { id: c, engineId, odometer: 1000 } }))];
-    await client.post("/api/sync/push", { clientId, mutations: setup });
-    const mutations = rows.map((r) => ({ id: ++id, name: "reading.put/1", args: { checkId: r.checkId, reading: { valve: r.valve, round: r.round, installedStamp: 2.6, feelerGo: r.go, method: "feeler" } } }));
-    const t0 = performance.now();
-    for (let i = 0; i < mutations.length; i += PUSH_BATCH) {
-      const res = await client.post("/api/sync/push", { clientId, mutations: mutations.slice(i, i + PUSH_BATCH) });
-      if (res.status !== 200 || res.json.rejected.length) throw new Error(`push failed: ${res.status} ${JSON.stringify(res.json).slice(0, 200)}`);
-    }
-    const pushMs = performance.now() - t0;
-
-    // the same rows by raw multi-row INSERT, same batch size, one connection
-    const raw = await mysql.createConnection({ uri: db.url });
-    const rawEngine = crypto.randomUUID();
-    await raw.query("INSERT INTO engines (id, owner_id, name, cylinders, intake_per_cylinder, exhaust_per_cylinder, firing_order, intake_min, intake_max, exhaust_min, exhaust_max, shim_min, shim_max, shim_step) VALUES (?, ?, 'raw', 4, 2, 2, '[1,3,4,2]', 0.1, 0.2, 0.2, 0.3, 2.5, 3.3, 0.05)", [rawEngine, u.id]);
-    const rawPlan = readingPlan(n);
-    for (const c of rawPlan.checkIds) await raw.query("INSERT INTO checks (id, engine_id, owner_id, odometer) VALUES (?, ?, ?, 1000)", [c, rawEngine, u.id]);
-    const t1 = performance.now();
-    for (let i = 0; i < rawPlan.rows.length; i += PUSH_BATCH) {
-      const batch = rawPlan.rows.slice(i, i + PUSH_BATCH);
-      await raw.query("INSERT INTO readings (id, check_id, owner_id, valve, round, installed_stamp, feeler_go, measured, method) VALUES ?", [batch.map((r) => [crypto.randomUUID(), r.checkId, u.id, r.valve, r.round, 2.6, r.go, r.go, "feeler"])]);
-    }
-    const rawMs = performance.now() - t1;
-    const [[count]] = (await raw.query("SELECT COUNT(*) AS n FROM readings WHERE owner_id = ?", [u.id])) as unknown as [[{ n: number }]];
-
-    // a full pull: 50 engines, 500 checks, 8,000 readings of another user, inserted directly
-    const p = await makeUser(db.url, "puller");
-    const engines = Array.from({ length: 50 }, () => crypto.randomUUID());
-    await raw.query("INSERT INTO engines (id, owner_id, name, cylinders, intake_per_cylinder, exhaust_per_cylinder, firing_order, intake_min, intake_max, exhaust_min, exhaust_max, shim_min, shim_max, shim_step, version) VALUES ?", [engines.map((e, i) => [e, p.id, `Engine ${i}`, 4, 2, 2, "[1,3,4,2]", 0.1, 0.2, 0.2, 0.3, 2.5, 3.3, 0.05, 1])]);
-    const checks = engines.flatMap((e) => Array.from({ length: 10 }, () => [crypto.randomUUID(), e]));
-    await raw.query("INSERT INTO checks (id, engine_id, owner_id, odometer, version) VALUES ?", [checks.map(([c, e]) => [c, e, p.id, 1000, 1])]);
-    const readingRows = checks.flatMap(([c]) => VALVES.map((v) => [crypto.randomUUID(), c, p.id, v, 0, 2.6, 0.15, 0.15, "feeler", 1]));
-    for (let i = 0; i < readingRows.length; i += 2000) await raw.query("INSERT INTO readings (id, check_id, owner_id, valve, round, installed_stamp, feeler_go, measured, method, version) VALUES ?", [readingRows.slice(i, i + 2000)]);
-    await raw.end();
-    const puller = new Client(url);
-    await puller.signIn("password", { email: p.email, password: p.password });
-    const t2 = performance.now();
-    const res = await puller.raw("POST", "/api/sync/pull", { body: JSON.stringify({ cursor: null }), headers: { "content-type": "application/json" } });
-    const text = await res.text();
-    const pullMs = performance.now() - t2;
-    const pulled = JSON.parse(text) as { readings: unknown[]; checks: unknown[]; engines: unknown[] };
-    return {
-      mutations: n,
-      batch: PUSH_BATCH,
-      rowsStored: Number(count.n),
-      pushRowsPerSec: (n / pushMs) * 1000,
-      rawRowsPerSec: (n / rawMs) * 1000,
-      ratio: rawMs / pushMs,
-      pull: { ms: pullMs, bytes: Buffer.byteLength(text), engines: pulled.engines.length, checks: pulled.checks.length, readings: pulled.readings.length },
-    };
-  } finally {
-    for (const s of stops.reverse()) await s().catch(() => undefined);
-    rmSync(dir, { recursive: true, force: true });
+export async function runSyncBench(srv: BenchServer, n = 10_000) {
+  const { url } = srv;
+  // push through the route
+  const u = await srv.makeUser("pusher");
+  const client = new Client(url);
+  if ((await client.signIn("password", { email: u.email, password: u.password })) !== null) throw new Error("bench sign-in failed");
+  const engineId = crypto.randomUUID();
+  const { checkIds, rows } = readingPlan(n);
+  const clientId = crypto.randomUUID();
+  let id = 0;
+  const setup = [{ id: ++id, name: "engine.put/1", args: { ...ENGINE, id: engineId } }, ...checkIds.map((c) => ({ id: ++id, name: "check.put/1", args: { id: c, engineId, odometer: 1000 } }))];
+  await client.post("/api/sync/push", { clientId, mutations: setup });
+  const mutations = rows.map((r) => ({ id: ++id, name: "reading.put/1", args: { checkId: r.checkId, reading: { valve: r.valve, round: r.round, installedStamp: 2.6, feelerGo: r.go, method: "feeler" } } }));
+  const t0 = performance.now();
+  for (let i = 0; i < mutations.length; i += PUSH_BATCH) {
+    const res = await client.post("/api/sync/push", { clientId, mutations: mutations.slice(i, i + PUSH_BATCH) });
+    if (res.status !== 200 || res.json.rejected.length) throw new Error(`push failed: ${res.status} ${JSON.stringify(res.json).slice(0, 200)}`);
   }
+  const pushMs = performance.now() - t0;
+
+  // the same rows by raw multi-row INSERT, same batch size, one connection
+  const raw = await mysql.createConnection({ uri: srv.dbUrl });
+  const rawEngine = crypto.randomUUID();
+  await raw.query("INSERT INTO engines (id, owner_id, name, cylinders, intake_per_cylinder, exhaust_per_cylinder, firing_order, intake_min, intake_max, exhaust_min, exhaust_max, shim_min, shim_max, shim_step) VALUES (?, ?, 'raw', 4, 2, 2, '[1,3,4,2]', 0.1, 0.2, 0.2, 0.3, 2.5, 3.3, 0.05)", [rawEngine, u.id]);
+  const rawPlan = readingPlan(n);
+  for (const c of rawPlan.checkIds) await raw.query("INSERT INTO checks (id, engine_id, owner_id, odometer) VALUES (?, ?, ?, 1000)", [c, rawEngine, u.id]);
+  const t1 = performance.now();
+  for (let i = 0; i < rawPlan.rows.length; i += PUSH_BATCH) {
+    const batch = rawPlan.rows.slice(i, i + PUSH_BATCH);
+    await raw.query("INSERT INTO readings (id, check_id, owner_id, valve, round, installed_stamp, feeler_go, measured, method) VALUES ?", [batch.map((r) => [crypto.randomUUID(), r.checkId, u.id, r.valve, r.round, 2.6, r.go, r.go, "feeler"])]);
+  }
+  const rawMs = performance.now() - t1;
+  const [[count]] = (await raw.query("SELECT COUNT(*) AS n FROM readings WHERE owner_id = ?", [u.id])) as unknown as [[{ n: number }]];
+
+  // a full pull: 50 engines, 500 checks, 8,000 readings of another user, inserted directly
+  const p = await srv.makeUser("puller");
+  const engines = Array.from({ length: 50 }, () => crypto.randomUUID());
+  await raw.query("INSERT INTO engines (id, owner_id, name, cylinders, intake_per_cylinder, exhaust_per_cylinder, firing_order, intake_min, intake_max, exhaust_min, exhaust_max, shim_min, shim_max, shim_step, version) VALUES ?", [engines.map((e, i) => [e, p.id, `Engine ${i}`, 4, 2, 2, "[1,3,4,2]", 0.1, 0.2, 0.2, 0.3, 2.5, 3.3, 0.05, 1])]);
+  const checks = engines.flatMap((e) => Array.from({ length: 10 }, () => [crypto.randomUUID(), e]));
+  await raw.query("INSERT INTO checks (id, engine_id, owner_id, odometer, version) VALUES ?", [checks.map(([c, e]) => [c, e, p.id, 1000, 1])]);
+  const readingRows = checks.flatMap(([c]) => VALVES.map((v) => [crypto.randomUUID(), c, p.id, v, 0, 2.6, 0.15, 0.15, "feeler", 1]));
+  for (let i = 0; i < readingRows.length; i += 2000) await raw.query("INSERT INTO readings (id, check_id, owner_id, valve, round, installed_stamp, feeler_go, measured, method, version) VALUES ?", [readingRows.slice(i, i + 2000)]);
+  await raw.end();
+  const puller = new Client(url);
+  await puller.signIn("password", { email: p.email, password: p.password });
+  const t2 = performance.now();
+  const res = await puller.raw("POST", "/api/sync/pull", { body: JSON.stringify({ cursor: null }), headers: { "content-type": "application/json" } });
+  const text = await res.text();
+  const pullMs = performance.now() - t2;
+  const pulled = JSON.parse(text) as { readings: unknown[]; checks: unknown[]; engines: unknown[] };
+  return {
+    mutations: n,
+    batch: PUSH_BATCH,
+    rowsStored: Number(count.n),
+    pushRowsPerSec: (n / pushMs) * 1000,
+    rawRowsPerSec: (n / rawMs) * 1000,
+    ratio: rawMs / pushMs,
+    pull: { ms: pullMs, bytes: Buffer.byteLength(text), engines: pulled.engines.length, checks: pulled.checks.length, readings: pulled.readings.length },
+  };
 }
 
 if (import.meta.url === `file://${process.argv[1]}`) {
-  const r = await runSyncBench();
-  console.log(JSON.stringify(r, null, 2));
+  const srv = await startBenchServer();
+  try {
+    console.log(JSON.stringify(await runSyncBench(srv), null, 2));
+  } finally {
+    await srv.stop();
+  }
 }

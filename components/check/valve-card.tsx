@@ -1,6 +1,6 @@
 "use client";
 
-import { useState } from "react";
+import { useEffect, useState } from "react";
 import { clearanceFromFeelers, formatLength, inchesToMm, INCH_BLADES_THOU, METRIC_BLADES_MM, recommendShim } from "@/lib/lash";
 import { STATE_WORDS, valveLabel, type ValveView } from "@/lib/check/derive";
 import type { LocalEngine, LocalReading } from "@/lib/sync/local-db";
@@ -50,8 +50,14 @@ export function ValveCard({ checkId, engine, view, sizes, step, onSave }: { chec
     const go = blades[i]!;
     const noGo = blades[i + 1];
     const c = clearanceFromFeelers({ go, noGo });
-    void save({ feelerGo: c.min, feelerNoGo: noGo ?? null, measured: c.value, method: "feeler" });
+    // performance marks: npm run bench times a tap to the reading stored and shown
+    const valve = view.valve.id;
+    performance.mark("lw:tap", { detail: valve });
+    void save({ feelerGo: c.min, feelerNoGo: noGo ?? null, measured: c.value, method: "feeler" }).then(() => performance.mark("lw:stored", { detail: valve }));
   };
+  useEffect(() => {
+    performance.mark("lw:shown", { detail: view.valve.id });
+  }, [view.valve.id, r?.feelerGo, r?.feelerNoGo]);
 
   const installed = micrometer ?? stamp;
   const measured = base.measured;

@@ -1,0 +1,193 @@
+// The browser figures: offline entry latency on the check screen beside a bare Dexie write in the
+// same page, compressed JavaScript of a first visit beside a bare Next page built in this run, and
+// Lighthouse (mobile) beside the same bare page. playwright-core and Lighthouse both drive Debian's
+// Chromium.
+import { spawn } from "node:child_process";
+import { mkdirSync, readFileSync, rmSync, writeFileSync } from "node:fs";
+import path from "node:path";
+import { chromium, type Browser, type Page } from "playwright-core";
+import * as chromeLauncher from "chrome-launcher";
+import lighthouse from "lighthouse";
+// @ts-expect-error plain JS set-up module shared with npm start and npm test
+import { freePort, root } from "../scripts/lib/setup.mjs";
+import { CHROMIUM_ARGS, PHONE } from "../tests/support/browser";
+import { Client } from "../tests/support/api";
+import { ENGINE_FOUR } from "../tests/support/fixtures";
+import type { BenchServer } from "./server.mts";
+
+const CHROMIUM = process.env.CHROMIUM_PATH ?? "/usr/bin/chromium";
+const VALVES = ["I1.1", "I1.2", "E1.1", "E1.2", "I2.1", "I2.2", "E2.1", "E2.2", "I3.1", "I3.2", "E3.1", "E3.2", "I4.1", "I4.2", "E4.1", "E4.2"];
+
+const quantile = (xs: number[], q: number) => {
+  const s = [...xs].sort((a, b) => a - b);
+  return s[Math.min(s.length - 1, Math.floor(q * s.length))]!;
+};
+const stats = (xs: number[]) => ({ median: quantile(xs, 0.5), p95: quantile(xs, 0.95) });
+
+/** A Next app with no app code, same Next version, built and served in this run: the yardstick. */
+async function startBarePage() {
+  const dir = path.join(root, ".data", "bench-bare");
+  rmSync(dir, { recursive: true, force: true });
+  mkdirSync(path.join(dir, "app"), { recursive: true });
+  writeFileSync(path.join(dir, "package.json"), JSON.stringify({ name: "bare-page", private: true }));
+  writeFileSync(path.join(dir, "next.config.mjs"), `export default { turbopack: { root: ${JSON.stringify(root)} } };\n`);
+  writeFileSync(path.join(dir, "app", "layout.jsx"), `export const metadata = { title: "Bare page", description: "A page with no app code" };\nexport default function RootLayout({ children }) {\n  return (<html lang="en"><body>{children}</body></html>);\n}\n`);
+  writeFileSync(path.join(dir, "app", "page.jsx"), `export default function Page() {\n  return (<main><h1>Bare page</h1><p>No app code: the yardstick for page weight and audits.</p></main>);\n}\n`);
+  const next = path.join(root, "node_modules/next/dist/bin/next");
+  await new Promise<void>((resolve, reject) => {
+    const b = spawn(process.execPath, [next, "build"], { cwd: dir, env: { ...process.env, NEXT_TELEMETRY_DISABLED: "1" }, stdio: "ignore" });
+    b.on("exit", (code) => (code === 0 ? resolve() : reject(new Error(`bare page build failed (${code})`))));
+  });
+  const port = await freePort();
+  const server = spawn(process.execPath, [next, "start", "-H", "127.0.0.1", "-p", String(port)], { cwd: dir, env: { ...process.env, NODE_ENV: "production", NEXT_TELEMETRY_DISABLED: "1" }, stdio: "ignore" });
+  const url = `http://127.0.0.1:${port}`;
+  for (let i = 0; i < 200 && !(await fetch(url).then((r) => r.ok).catch(() => false)); i++) await new Promise((r) => setTimeout(r, 150));
+  return {
+    url,
+    stop: async () => {
+      await new Promise<void>((r) => (server.once("exit", () => r()), server.kill("SIGTERM")));
+      rmSync(dir, { recursive: true, force: true });
+    },
+  };
+}
+
+async function signedInPage(browser: Browser, url: string, u: { email: string; password: string }) {
+  const ctx = await browser.newContext({ ...PHONE, colorScheme: "dark" });
+  // tsx keeps function names with a helper the page does not have; functions sent to the page need it
+  await ctx.addInitScript({ content: "globalThis.__name = (f) => f;" });
+  const page = await ctx.newPage();
+  await page.goto(`${url}/sign-in`);
+  await page.getByLabel("E-mail").fill(u.email);
+  await page.getByLabel("Password").fill(u.password);
+  await page.getByRole("button", { name: "Sign in", exact: true }).tap();
+  await page.waitForURL("**/engines");
+  return { ctx, page };
+}
+
+/** 100 taps, in the page: from the click to the reading both stored (IndexedDB) and shown. */
+function tapLoop(page: Page, taps: number) {
+  return page.evaluate(
+    async ({ taps, valves }) => {
+      const out: number[] = [];
+      const after = (name: string, valve: string, t0: number) => performance.getEntriesByName(name).some((e) => (e as PerformanceMark).detail === valve && e.startTime >= t0);
+      for (let i = 0; i < taps; i++) {
+        const valve = valves[i % valves.length]!;
+        const group = document.querySelector(`[role="group"][aria-label="Feeler blades for ${valve}"]`)!;
+        const buttons = group.querySelectorAll("button");
+        // the blade that is not pressed now, so every tap changes the reading
+        const button = (buttons[9]!.getAttribute("aria-pressed") === "true" ? buttons[8] : buttons[9]) as HTMLButtonElement;
+        performance.clearMarks();
+        const t0 = performance.now();
+        button.click();
+        while (!(after("lw:stored", valve, t0) && after("lw:shown", valve, t0))) {
+          if (performance.now() - t0 > 5000) throw new Error(`tap ${i} on ${valve}: not stored and shown within 5 s`);
+          await new Promise((r) => setTimeout(r, 0));
+        }
+        const end = Math.max(...performance.getEntriesByName("lw:stored").concat(performance.getEntriesByName("lw:shown")).filter((e) => (e as PerformanceMark).detail === valve).map((e) => e.startTime));
+        out.push(end - t0);
+      }
+      return out;
+    },
+    { taps, valves: VALVES },
+  );
+}
+
+/** The same reading and outbox entry written by Dexie alone, in the same page. */
+async function bareDexie(page: Page, n: number) {
+  await page.addScriptTag({ content: readFileSync(path.join(root, "node_modules/dexie/dist/dexie.min.js"), "utf8") });
+  return page.evaluate(async (n) => {
+    const D = (window as unknown as { Dexie: new (name: string) => { version(n: number): { stores(s: Record<string, string>): void }; open(): Promise<void>; transaction(mode: string, t: unknown[], fn: () => Promise<void>): Promise<void>; table(n: string): { put(v: unknown): Promise<unknown>; add(v: unknown): Promise<unknown> } } }).Dexie;
+    const db = new D(`bench-bare-${Math.random()}`);
+    db.version(1).stores({ readings: "[checkId+valve+round], checkId", outbox: "++seq, &mutationId" });
+    await db.open();
+    const out: number[] = [];
+    for (let i = 0; i < n; i++) {
+      const t0 = performance.now();
+      const reading = { checkId: "c", valve: `I${(i % 4) + 1}.1`, round: 0, installedStamp: 2.6, feelerGo: 0.15, feelerNoGo: 0.18, measured: 0.15, method: "feeler", installedMicrometer: null, fittedShim: null };
+      await db.transaction("rw", [db.table("readings"), db.table("outbox")], async () => {
+        await db.table("readings").put(reading);
+        await db.table("outbox").add({ mutationId: i + 1, name: "reading.put/1", args: { checkId: "c", reading }, createdAt: Date.now() });
+      });
+      out.push(performance.now() - t0);
+    }
+    return out;
+  }, n);
+}
+
+export async function runEntryBench(srv: BenchServer, taps = 100) {
+  const u = await srv.makeUser("entry");
+  const api = new Client(srv.url);
+  await api.signIn("password", { email: u.email, password: u.password });
+  const engineId = (await api.post("/api/engines", ENGINE_FOUR)).json.engine.id as string;
+  const checkId = (await api.post(`/api/engines/${engineId}/checks`, { odometer: 100 })).json.check.id as string;
+  const browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
+  try {
+    const { ctx, page } = await signedInPage(browser, srv.url, u);
+    await page.goto(`${srv.url}/check?id=${checkId}&step=measure`);
+    await page.getByRole("group", { name: "Feeler blades for E4.2" }).waitFor();
+    await ctx.setOffline(true);
+    const cdp = await ctx.newCDPSession(page);
+    const result: Record<string, { median: number; p95: number }> = {};
+    for (const rate of [1, 4]) {
+      await cdp.send("Emulation.setCPUThrottlingRate", { rate });
+      await tapLoop(page, 16); // warm up: first renders, JIT
+      result[`app x${rate}`] = stats(await tapLoop(page, taps));
+      result[`bare x${rate}`] = stats(await bareDexie(page, taps));
+    }
+    await ctx.close();
+    return { taps, lat: result };
+  } finally {
+    await browser.close();
+  }
+}
+
+/** Compressed bytes of JavaScript a first visit loads (from the browser's network log). */
+async function firstVisitJs(browser: Browser, url: string) {
+  const ctx = await browser.newContext({ ...PHONE });
+  const page = await ctx.newPage();
+  const sizes: Promise<number>[] = [];
+  page.on("requestfinished", (req) => {
+    if (req.resourceType() === "script") sizes.push(req.sizes().then((s) => s.responseBodySize));
+  });
+  await page.goto(url, { waitUntil: "networkidle" });
+  const total = (await Promise.all(sizes)).reduce((a, b) => a + b, 0);
+  const files = sizes.length;
+  await ctx.close();
+  return { bytes: total, files };
+}
+
+export async function runWeightAndAudits(srv: BenchServer) {
+  const bare = await startBarePage();
+  const browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
+  try {
+    const check = await firstVisitJs(browser, `${srv.url}/check?id=${crypto.randomUUID()}`);
+    const home = await firstVisitJs(browser, `${srv.url}/`);
+    const barePage = await firstVisitJs(browser, bare.url);
+    await browser.close();
+    const audits = await runLighthouse({ home: `${srv.url}/`, check: `${srv.url}/check?id=${crypto.randomUUID()}`, bare: bare.url });
+    return { weight: { check, home, bare: barePage, ratio: check.bytes / barePage.bytes }, audits };
+  } finally {
+    await browser.close().catch(() => undefined);
+    await bare.stop();
+  }
+}
+
+type Scores = { performance: number; accessibility: number; "best-practices": number };
+
+async function runLighthouse(pages: Record<string, string>): Promise<Record<string, Scores>> {
+  const chrome = await chromeLauncher.launch({ chromePath: CHROMIUM, chromeFlags: ["--headless=new", ...CHROMIUM_ARGS] });
+  try {
+    const out: Record<string, Scores> = {};
+    for (const [name, url] of Object.entries(pages)) {
+      // mobile emulation with the default simulated throttling, as Lighthouse runs by default
+      const r = await lighthouse(url, { port: chrome.port, output: "json", logLevel: "error", onlyCategories: ["performance", "accessibility", "best-practices"] });
+      const c = r!.lhr.categories;
+      out[name] = { performance: Math.round((c.performance?.score ?? 0) * 100), accessibility: Math.round((c.accessibility?.score ?? 0) * 100), "best-practices": Math.round((c["best-practices"]?.score ?? 0) * 100) };
+      const failed = Object.values(r!.lhr.audits).filter((a) => a.score !== null && a.score < 1 && a.scoreDisplayMode === "binary").map((a) => a.id);
+      if (failed.length) console.log(`[lighthouse] ${name}: audits not passed: ${failed.join(", ")}`);
+    }
+    return out;
+  } finally {
+    chrome.kill();
+  }
+}
