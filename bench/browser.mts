@@ -183,8 +183,10 @@ async function runLighthouse(pages: Record<string, string>): Promise<Record<stri
       const r = await lighthouse(url, { port: chrome.port, output: "json", logLevel: "error", onlyCategories: ["performance", "accessibility", "best-practices"] });
       const c = r!.lhr.categories;
       out[name] = { performance: Math.round((c.performance?.score ?? 0) * 100), accessibility: Math.round((c.accessibility?.score ?? 0) * 100), "best-practices": Math.round((c["best-practices"]?.score ?? 0) * 100) };
-      const failed = Object.values(r!.lhr.audits).filter((a) => a.score !== null && a.score < 1 && a.scoreDisplayMode === "binary").map((a) => a.id);
-      if (failed.length) console.log(`[lighthouse] ${name}: audits not passed: ${failed.join(", ")}`);
+      for (const a of Object.values(r!.lhr.audits).filter((a) => a.score !== null && a.score < 1 && a.scoreDisplayMode === "binary")) {
+        const items = ((a.details as { items?: Record<string, unknown>[] } | undefined)?.items ?? []).map((i) => JSON.stringify(i).slice(0, 300));
+        console.log(`[lighthouse] ${name}: ${a.id} not passed${items.length ? `: ${items.join(" | ")}` : ""}`);
+      }
     }
     return out;
   } finally {

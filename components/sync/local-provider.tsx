@@ -60,7 +60,11 @@ export function LocalProvider({ children }: { children: ReactNode }) {
   const path = usePathname();
   const askAgain = user ? "known" : path;
   useEffect(() => {
-    fetch("/api/account", { credentials: "same-origin" })
+    // next-auth's session answer first: it is 200 with no user when nobody is signed in, so a
+    // visitor's page logs no failed request; only a signed-in phone asks the account route
+    fetch("/api/auth/session", { credentials: "same-origin" })
+      .then(async (res) => ((await res.json().catch(() => ({}))) as { user?: unknown }).user)
+      .then((someone) => (someone ? fetch("/api/account", { credentials: "same-origin" }) : new Response(null, { status: 401 })))
       .then(async (res) => {
         if (res.status === 401) {
           setState("signed-out");

@@ -1,6 +1,5 @@
 "use client";
 
-import { signOut } from "next-auth/react";
 import Link from "next/link";
 import { usePathname } from "next/navigation";
 import type { ReactNode } from "react";
@@ -34,7 +33,8 @@ export function AppShell({ title, children, back }: { title: string; children: R
               type="button"
               onClick={() => {
                 forget();
-                void signOut({ callbackUrl: "/" });
+                // loaded on the tap: next-auth's client is not needed by any garage screen before it
+                void import("next-auth/react").then(({ signOut }) => signOut({ callbackUrl: "/" }));
               }}
               className="inline-flex min-h-12 items-center rounded-xl px-3 text-sm font-bold text-ink-soft underline"
             >

@@ -1,3 +1,4 @@
+import "./zod-config";
 import { z } from "zod";
 import { lengthMm, positiveLengthMm, rotationInputSchema, shimSeries, specSchema, timingSchema, LashInputError } from "../lash";
 import { parseValveName } from "../lash/valves";
