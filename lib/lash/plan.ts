@@ -8,6 +8,7 @@ export type ShimSource =
   | { kind: "keep" }
   | { kind: "valve"; valveId: string }
   | { kind: "tray" }
+  | { kind: "club"; ownerId: string }
   | { kind: "buy" };
 
 export interface PlanValve {
@@ -36,6 +37,8 @@ export interface SizeCount {
 export interface ShimPlan {
   assignments: Assignment[];
   buy: SizeCount[];
+  /** what to borrow from club members, per lender and size */
+  borrow: (SizeCount & { ownerId: string })[];
   toTray: SizeCount[];
 }
 
@@ -55,6 +58,7 @@ interface Row {
 type Column =
   | { kind: "valve"; rowIndex: number; sizeNm: number }
   | { kind: "tray"; sizeNm: number }
+  | { kind: "club"; sizeNm: number; ownerId: string }
   | { kind: "private"; rowIndex: number };
 
 function group(sizesNm: number[]): SizeCount[] {
@@ -65,14 +69,15 @@ function group(sizesNm: number[]): SizeCount[] {
 
 /**
  * The shim plan for an engine (DESIGN.md section 4.3). Valves in their band keep their shim. Every
- * other valve gets a shim from another valve of this engine, the tray, or the shop, such that, in
- * this order: the most valves end in their band, the fewest shims are bought, the total distance from
- * target is smallest, and ties lean to the looser valve. This is solved exactly as a rectangular
+ * other valve gets a shim from another valve of this engine, the tray, a club member's pool, or the
+ * shop, such that, in this order: the most valves end in their band, the fewest shims are bought,
+ * the fewest are borrowed, the total distance from target is smallest, and ties lean to the looser
+ * valve. This is solved exactly as a rectangular
  * assignment (Hungarian method, the `munkres` package) over a lexicographic cost; a valve can always
  * fall back to its own column (buy the catalog's best size, or keep its shim), so a full matching
  * always exists.
  */
-export function planShims(input: { valves: PlanValve[]; sizes: number[]; tray?: SizeCount[] }): ShimPlan {
+export function planShims(input: { valves: PlanValve[]; sizes: number[]; tray?: SizeCount[]; pool?: (SizeCount & { ownerId: string })[] }): ShimPlan {
   const p = parseOrThrow(planInputSchema, input, "plan input");
   const sizesNm = [...new Set(p.sizes.map(toNm))].sort((a, b) => a - b);
   const slack = toNm(INSTALLED_RANGE_SLACK_MM);
@@ -110,6 +115,18 @@ export function planShims(input: { valves: PlanValve[]; sizes: number[]; tray?: 
       const useful = rows.filter((r) => inBand(r.gapNm - sizeNm, r.band)).length;
       for (let k = 0; k < Math.min(count, useful); k++) columns.push({ kind: "tray", sizeNm });
     }
+    const poolCounts = new Map<string, { sizeNm: number; ownerId: string; count: number }>();
+    for (const t of p.pool) {
+      if (t.count <= 0) continue;
+      const key = `${toNm(t.size)}|${t.ownerId}`;
+      const e = poolCounts.get(key) ?? { sizeNm: toNm(t.size), ownerId: t.ownerId, count: 0 };
+      e.count += t.count;
+      poolCounts.set(key, e);
+    }
+    for (const e of [...poolCounts.values()].sort((a, b) => a.sizeNm - b.sizeNm || a.ownerId.localeCompare(b.ownerId))) {
+      const useful = rows.filter((r) => inBand(r.gapNm - e.sizeNm, r.band)).length;
+      for (let k = 0; k < Math.min(e.count, useful); k++) columns.push({ kind: "club", sizeNm: e.sizeNm, ownerId: e.ownerId });
+    }
     for (const r of rows) columns.push({ kind: "private", rowIndex: r.index });
 
     // Lexicographic weights, sized from this problem so that every sum stays an exact integer.
@@ -117,9 +134,10 @@ export function planShims(input: { valves: PlanValve[]; sizes: number[]; tray?: 
     const dMax = Math.max(...rows.map((r) => Math.max(r.band.target - r.band.min, r.band.max - r.band.target)));
     const wDist = n + 1; // a nanometre of distance outweighs every tie-break together
     const rowMax = wDist * dMax + 1;
-    const BUY = n * rowMax + 1;
-    const OUT = n * (BUY + rowMax) + 1;
-    if (n * (OUT + BUY + rowMax) > Number.MAX_SAFE_INTEGER) throw new LashInputError("Plan too large to solve exactly");
+    const BORROW = n * rowMax + 1;
+    const BUY = n * (BORROW + rowMax) + 1;
+    const OUT = n * (BUY + BORROW + rowMax) + 1;
+    if (n * (OUT + BUY + BORROW + rowMax) > Number.MAX_SAFE_INTEGER) throw new LashInputError("Plan too large to solve exactly");
 
     const inBandCost = (r: Row, sizeNm: number) => {
       const predicted = r.gapNm - sizeNm;
@@ -135,6 +153,7 @@ export function planShims(input: { valves: PlanValve[]; sizes: number[]; tray?: 
           return r.fallback.change ? OUT + BUY : OUT;
         }
         if (c.kind === "valve" && c.rowIndex === r.index) return Infinity;
+        if (c.kind === "club") return BORROW + inBandCost(r, c.sizeNm);
         return inBandCost(r, c.sizeNm);
       }),
     );
@@ -153,6 +172,9 @@ export function planShims(input: { valves: PlanValve[]; sizes: number[]; tray?: 
       } else if (c.kind === "valve") {
         sizeNm = c.sizeNm;
         source = { kind: "valve", valveId: p.valves[c.rowIndex]!.id };
+      } else if (c.kind === "club") {
+        sizeNm = c.sizeNm;
+        source = { kind: "club", ownerId: c.ownerId };
       } else {
         sizeNm = c.sizeNm;
         source = { kind: "tray" };
@@ -173,9 +195,18 @@ export function planShims(input: { valves: PlanValve[]; sizes: number[]; tray?: 
   }
 
   const done = assignments as Assignment[];
+  const borrowed = new Map<string, { ownerId: string; sizeNm: number; count: number }>();
+  for (const a of done) {
+    if (a.source.kind !== "club") continue;
+    const key = `${a.source.ownerId}|${toNm(a.size)}`;
+    const e = borrowed.get(key) ?? { ownerId: a.source.ownerId, sizeNm: toNm(a.size), count: 0 };
+    e.count++;
+    borrowed.set(key, e);
+  }
   return {
     assignments: done,
     buy: group(done.filter((a) => a.source.kind === "buy").map((a) => toNm(a.size))),
+    borrow: [...borrowed.values()].sort((a, b) => a.sizeNm - b.sizeNm || a.ownerId.localeCompare(b.ownerId)).map((e) => ({ size: fromNm(e.sizeNm), count: e.count, ownerId: e.ownerId })),
     toTray: group(outgoing),
   };
 }

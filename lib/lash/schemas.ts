@@ -67,11 +67,15 @@ export const trayItemSchema = z.object({
   count: z.number().int({ error: "must be a whole number" }).min(0, { error: "cannot be negative" }).max(10_000),
 });
 
+/** Shims other club members offer to lend (already filtered to this engine's shim system). */
+export const poolItemSchema = trayItemSchema.extend({ ownerId: z.string().min(1).max(64) });
+
 export const planInputSchema = z
   .object({
     valves: z.array(planValveSchema).min(1, { error: "needs at least one valve" }).max(128, { error: "at most 128 valves" }),
     sizes: shimSizesSchema,
     tray: z.array(trayItemSchema).max(2000).default([]),
+    pool: z.array(poolItemSchema).max(2000).default([]),
   })
   .superRefine((p, ctx) => {
     const seen = new Set<string>();

@@ -2,86 +2,11 @@ import { describe, expect, it } from "vitest";
 import fc from "fast-check";
 import solver from "javascript-lp-solver";
 import { LashInputError, planShims, recommendShim, shimSeries, type PlanValve, type ShimPlan } from "@/lib/lash";
+import { bruteForce, score } from "../../../support/plan-oracle";
 
 const series = shimSeries(2.5, 3.3, 0.05);
 const spec = { min: 0.2, max: 0.3 };
 const nm = (mm: number) => Math.round(mm * 1e6);
-
-/** The plan's objective in the order the core promises: out of band, bought, distance, tight. */
-function score(plan: ShimPlan, valves: PlanValve[]) {
-  let out = 0;
-  let buys = 0;
-  let dist = 0;
-  let tight = 0;
-  for (const a of plan.assignments) {
-    const v = valves.find((x) => x.id === a.valveId)!;
-    const s = { ...v.spec, target: v.spec.target ?? (v.spec.min + v.spec.max) / 2 };
-    if (!a.inSpec) out++;
-    if (a.source.kind === "buy") buys++;
-    if (a.source.kind !== "keep" && a.inSpec) {
-      dist += Math.abs(nm(a.predicted) - nm(s.target));
-      if (nm(a.predicted) < nm(s.target)) tight++;
-    }
-  }
-  return [out, buys, dist, tight] as const;
-}
-
-function lexLess(a: readonly number[], b: readonly number[]) {
-  const k = a.findIndex((x, i) => x !== b[i]);
-  return k >= 0 && a[k]! < b[k]!;
-}
-
-/**
- * Exhaustive search over every way to give each valve that needs a change one shim: another such
- * valve's shim, one from the tray, or its own fallback (buy the catalog's best size, or keep the shim
- * when nothing in the catalog does better). Physical shims are used only where they land in the band.
- */
-function bruteForce(valves: PlanValve[], sizes: number[], tray: { size: number; count: number }[]) {
-  const inBand = (p: number, v: PlanValve) => p >= nm(v.spec.min) && p <= nm(v.spec.max);
-  const rows = valves.filter((v) => !inBand(nm(v.measured), v));
-  const fallbacks = rows.map((v) => recommendShim({ installed: v.installed, measured: v.measured, spec: v.spec, sizes }));
-  const pool: { size: number; from: string | null }[] = [];
-  rows.forEach((v, i) => {
-    if (fallbacks[i]!.change) pool.push({ size: v.installed, from: v.id });
-  });
-  for (const t of tray) for (let k = 0; k < t.count; k++) pool.push({ size: t.size, from: null });
-  let best: readonly number[] | null = null;
-  const used = new Array(pool.length).fill(false);
-  const acc = [0, 0, 0, 0];
-  const walk = (i: number) => {
-    if (i === rows.length) {
-      if (!best || lexLess(acc, best)) best = [...acc];
-      return;
-    }
-    const v = rows[i]!;
-    const target = nm(v.spec.target ?? (v.spec.min + v.spec.max) / 2);
-    const gap = nm(v.installed) + nm(v.measured);
-    const add = (d: number[]) => d.forEach((x, k) => (acc[k]! += x));
-    const sub = (d: number[]) => d.forEach((x, k) => (acc[k]! -= x));
-    const f = fallbacks[i]!;
-    const fd = f.inSpec ? [0, f.change ? 1 : 0, Math.abs(nm(f.predicted) - target), nm(f.predicted) < target ? 1 : 0] : [1, f.change ? 1 : 0, 0, 0];
-    add(fd);
-    walk(i + 1);
-    sub(fd);
-    const triedSizes = new Set<string>();
-    pool.forEach((s, j) => {
-      if (used[j] || s.from === v.id) return;
-      const p = gap - nm(s.size);
-      if (!inBand(p, v)) return;
-      const key = `${s.size}|${s.from === null ? "tray" : s.from}`;
-      if (s.from === null && triedSizes.has(key)) return; // tray copies of a size are interchangeable
-      triedSizes.add(key);
-      used[j] = true;
-      const d = [0, 0, Math.abs(p - target), p < target ? 1 : 0];
-      add(d);
-      walk(i + 1);
-      sub(d);
-      used[j] = false;
-    });
-  };
-  walk(0);
-  return best!;
-}
 
 function checkPlanIsConsistent(plan: ShimPlan, valves: PlanValve[], tray: { size: number; count: number }[]) {
   // every valve once, predicted = installed + measured - size, no source used twice or beyond its count
@@ -213,7 +138,7 @@ describe("planShims", () => {
       }));
       const tray = Array.from({ length: 5 }, () => ({ size: series[next(17)]!, count: 1 + next(2) }));
       const plan = planShims({ valves, sizes: series, tray });
-      const [, buys, dist] = score(plan, valves);
+      const [, buys, , dist] = score(plan, valves);
 
       const model: { optimize: string; opType: "min"; constraints: Record<string, { equal?: number; max?: number }>; variables: Record<string, Record<string, number>> } = {
         optimize: "cost",

@@ -1,0 +1,35 @@
+/**
+ * Which of a club's offered shims can serve an engine. A shim only fits the same shim system, so
+ * an offer counts when its diameter matches the engine's (to 0.01 mm). An offer or an engine with
+ * no diameter stated cannot be matched safely: it is listed as not fitting, with the reason, so the
+ * plan can say why a size that is on offer was not used. One's own offers are one's tray already.
+ */
+export interface PoolOffer {
+  id: string;
+  size: number;
+  count: number;
+  ownerId: string;
+  ownerName: string;
+  shimDiameter: number | null;
+  note?: string | null;
+}
+
+export interface PoolFit {
+  pool: { size: number; count: number; ownerId: string }[];
+  wrongSystem: (PoolOffer & { reason: string })[];
+}
+
+const same = (a: number, b: number) => Math.abs(a - b) < 0.005;
+
+export function poolForEngine(engine: { shimDiameter: number | null }, offers: PoolOffer[], selfId: string): PoolFit {
+  const pool: PoolFit["pool"] = [];
+  const wrongSystem: PoolFit["wrongSystem"] = [];
+  for (const o of offers) {
+    if (o.ownerId === selfId || o.count <= 0) continue;
+    if (engine.shimDiameter == null) wrongSystem.push({ ...o, reason: "this engine's shim diameter is not set" });
+    else if (o.shimDiameter == null) wrongSystem.push({ ...o, reason: "the offer does not say its shim diameter" });
+    else if (!same(o.shimDiameter, engine.shimDiameter)) wrongSystem.push({ ...o, reason: `${o.shimDiameter} mm shims, this engine takes ${engine.shimDiameter} mm` });
+    else pool.push({ size: o.size, count: o.count, ownerId: o.ownerId });
+  }
+  return { pool, wrongSystem };
+}

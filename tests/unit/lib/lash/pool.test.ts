@@ -1,0 +1,85 @@
+import { describe, expect, it } from "vitest";
+import fc from "fast-check";
+import { planShims, shimSeries, type PlanValve } from "@/lib/lash";
+import { poolForEngine } from "@/lib/check/pool";
+import { bruteForce, score } from "../../../support/plan-oracle";
+
+/**
+ * The club pool as a further source of shims. Worked cases here follow the usual shim arithmetic
+ * (new shim = installed + measured - target; common practice, as in TRADE.md); the random cases are
+ * checked against exhaustive search in plan.test.ts's style, with borrowing counted after buying.
+ */
+const series = shimSeries(2.5, 3.3, 0.05);
+const spec = { min: 0.2, max: 0.3 };
+const nm = (mm: number) => Math.round(mm * 1e6);
+
+describe("planner with a club pool", () => {
+  it("borrows a size rather than buying it", () => {
+    // E1: 2.60 + 0.10 = 2.70 of gap; target 0.25 wants 2.45, below the series: 2.50 gives 0.20, in band
+    const valves: PlanValve[] = [{ id: "E1", installed: 2.6, measured: 0.1, spec }];
+    const alone = planShims({ valves, sizes: series });
+    expect(alone.buy).toEqual([{ size: 2.5, count: 1 }]);
+    const plan = planShims({ valves, sizes: series, pool: [{ size: 2.5, count: 2, ownerId: "lender-1" }] });
+    expect(plan.assignments[0]).toMatchObject({ size: 2.5, source: { kind: "club", ownerId: "lender-1" }, inSpec: true });
+    expect(plan.buy).toEqual([]);
+    expect(plan.borrow).toEqual([{ size: 2.5, count: 1, ownerId: "lender-1" }]);
+  });
+
+  it("a swap inside the engine or the own tray beats borrowing", () => {
+    // E1 needs about 2.50-2.55; E2's own 2.55 comes out anyway (E2 needs a thicker one)
+    const valves: PlanValve[] = [
+      { id: "E1", installed: 2.6, measured: 0.15, spec },
+      { id: "E2", installed: 2.55, measured: 0.4, spec },
+    ];
+    const plan = planShims({ valves, sizes: series, tray: [{ size: 2.7, count: 1 }], pool: [{ size: 2.55, count: 3, ownerId: "lender-1" }, { size: 2.7, count: 3, ownerId: "lender-1" }] });
+    expect(plan.assignments.map((a) => a.source.kind)).toEqual(["valve", "tray"]);
+    expect(plan.borrow).toEqual([]);
+  });
+
+  it("buying the fewest comes first: one borrow more is worth one purchase less, never the other way", () => {
+    const valves: PlanValve[] = [
+      { id: "I1", installed: 2.6, measured: 0.1, spec },
+      { id: "I2", installed: 2.6, measured: 0.1, spec },
+    ];
+    const plan = planShims({ valves, sizes: series, pool: [{ size: 2.5, count: 1, ownerId: "a" }, { size: 2.45, count: 1, ownerId: "b" }] });
+    expect(plan.buy).toEqual([]);
+    expect(plan.borrow.reduce((n, b) => n + b.count, 0)).toBe(2);
+  });
+
+  it("a pool shim of another shim system is left out, and the plan says so", () => {
+    const engine = { shimDiameter: 9.48, shims: { min: 2.5, max: 3.3, step: 0.05 } };
+    const offers = [
+      { id: "o1", size: 2.5, count: 1, ownerId: "a", ownerName: "Ana", shimDiameter: 7.48 },
+      { id: "o2", size: 2.45, count: 1, ownerId: "b", ownerName: "Bo", shimDiameter: 9.48 },
+      { id: "o3", size: 2.55, count: 2, ownerId: "c", ownerName: "Cy", shimDiameter: null },
+    ];
+    const { pool, wrongSystem } = poolForEngine(engine, offers, "me");
+    expect(pool).toEqual([{ size: 2.45, count: 1, ownerId: "b" }]);
+    expect(wrongSystem.map((o) => o.id)).toEqual(["o1", "o3"]);
+    const valves: PlanValve[] = [{ id: "E1", installed: 2.6, measured: 0.1, spec }];
+    const plan = planShims({ valves, sizes: series, pool });
+    expect(plan.assignments[0]!.source).toEqual({ kind: "club", ownerId: "b" });
+    // one's own offers are not borrowed from oneself
+    expect(poolForEngine(engine, offers, "b").pool).toEqual([]);
+  });
+
+  it("matches exhaustive search on random engines with a tray and a pool", () => {
+    fc.assert(
+      fc.property(
+        fc.array(fc.record({ i: fc.integer({ min: 0, max: 16 }), um: fc.integer({ min: 20, max: 500 }) }), { minLength: 1, maxLength: 5 }),
+        fc.array(fc.record({ i: fc.integer({ min: 0, max: 16 }), count: fc.integer({ min: 0, max: 2 }) }), { maxLength: 3 }),
+        fc.array(fc.record({ i: fc.integer({ min: 0, max: 16 }), count: fc.integer({ min: 0, max: 2 }), owner: fc.constantFrom("a", "b") }), { maxLength: 4 }),
+        (vs, trayRaw, poolRaw) => {
+          const valves: PlanValve[] = vs.map((v, k) => ({ id: `V${k}`, installed: series[v.i]!, measured: v.um / 1000, spec }));
+          const tray = trayRaw.map((t) => ({ size: series[t.i]!, count: t.count }));
+          const pool = poolRaw.map((t) => ({ size: series[t.i]!, count: t.count, ownerId: t.owner }));
+          const plan = planShims({ valves, sizes: series, tray, pool });
+          // never more borrowed of a size from a lender than offered
+          for (const b of plan.borrow) expect(b.count).toBeLessThanOrEqual(pool.filter((p) => p.ownerId === b.ownerId && nm(p.size) === nm(b.size)).reduce((n, p) => n + p.count, 0));
+          expect(score(plan, valves)).toEqual(bruteForce(valves, series, tray, pool));
+        },
+      ),
+      { numRuns: 300, seed: 11 },
+    );
+  });
+});
