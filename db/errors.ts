@@ -9,3 +9,14 @@ export function mysqlErrorCode(e: unknown): string | undefined {
   }
   return undefined;
 }
+
+/** A change the rules refuse (an unknown record, an impossible step); its message is for the user. */
+export class Refused extends Error {
+  /** 404 when the record is not the caller's to see, 409 when the step cannot be taken now */
+  constructor(
+    message: string,
+    readonly status: 404 | 409 = 409,
+  ) {
+    super(message);
+  }
+}

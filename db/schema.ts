@@ -1,3 +1,4 @@
+import { BORROW_STATES } from "../lib/pool/rules";
 import {
   bigint,
   boolean,
@@ -227,6 +228,48 @@ export const trayItems = mysqlTable(
 );
 
 export const verdicts = ["close-up", "measure-again", "stop-and-ask"] as const;
+
+/** Spare shims a member offers to lend to one club; the count goes down as they are handed over. */
+export const poolOffers = mysqlTable(
+  "pool_offers",
+  {
+    id: id(),
+    clubId: ref("club_id").notNull().references(() => clubs.id, { onDelete: "cascade" }),
+    ownerId: ref("owner_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    size: mm("size").notNull(),
+    measuredSize: boolean("measured_size").notNull().default(false),
+    count: int("count").notNull(),
+    shimDiameter: mm("shim_diameter"),
+    note: varchar("note", { length: 200 }),
+    withdrawnAt: timestamp("withdrawn_at", { fsp: 3 }),
+    version: version(),
+    createdAt: createdAt(),
+    updatedAt: updatedAt(),
+  },
+  (t) => [index("pool_offers_club_idx").on(t.clubId, t.withdrawnAt), index("pool_offers_owner_idx").on(t.ownerId)],
+);
+
+
+export const borrowRequests = mysqlTable(
+  "borrow_requests",
+  {
+    id: id(),
+    offerId: ref("offer_id").notNull().references(() => poolOffers.id, { onDelete: "cascade" }),
+    borrowerId: ref("borrower_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    lenderId: ref("lender_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    checkId: ref("check_id").references(() => checks.id, { onDelete: "set null" }),
+    size: mm("size").notNull(),
+    count: int("count").notNull(),
+    // the states of a loan, in our own words (lib/pool/rules.ts has the moves between them)
+    state: mysqlEnum("state", BORROW_STATES).notNull().default("asked"),
+    /** what comes back: the same size, or other shims in exchange */
+    returnSize: mm("return_size"),
+    version: version(),
+    createdAt: createdAt(),
+    updatedAt: updatedAt(),
+  },
+  (t) => [index("borrow_requests_offer_idx").on(t.offerId, t.state), index("borrow_requests_borrower_idx").on(t.borrowerId), index("borrow_requests_lender_idx").on(t.lenderId)],
+);
 
 export const shares = mysqlTable(
   "shares",

@@ -4,7 +4,7 @@ import { fileURLToPath } from "node:url";
 import { bladesFor, clearanceFromFeelers, METRIC_BLADES_MM, planShims, shimSeries, valveNames } from "@/lib/lash";
 import { hashPassword } from "@/lib/auth/password";
 import { closeDb, db } from "./client";
-import { checks, clubs, comments, engines, memberships, readings, shares, trayItems, users } from "./schema";
+import { checks, clubs, comments, engines, memberships, poolOffers, readings, shares, trayItems, users } from "./schema";
 import { nextVersion } from "./versions";
 import { DEMO_PASSWORD, DEMO_USERS } from "../scripts/lib/demo-users.mjs";
 
@@ -42,6 +42,9 @@ interface EngineSeed {
   wear: [number, number];
   fastValve?: string;
 }
+
+/** the bucket shims of the demo engines (invented for the demo) */
+const DEMO_SHIM_DIAMETER = 9.48;
 
 const ENGINES: EngineSeed[] = [
   {
@@ -124,6 +127,7 @@ export async function seedDemo(): Promise<{ seeded: boolean }> {
 
     const random = rng(20231);
     let latestBlueCheck = "";
+    let latestBluePlan: Parameters<typeof planShims>[0] | null = null;
     for (const e of ENGINES) {
       const engineId = crypto.randomUUID();
       const ownerId = userIds[e.owner]!;
@@ -144,6 +148,7 @@ export async function seedDemo(): Promise<{ seeded: boolean }> {
         shimMax: e.series[1],
         shimStep: e.series[2],
         assembledShim: e.startShim,
+        shimDiameter: e.series[0] === 2.5 ? DEMO_SHIM_DIAMETER : null,
         version,
       });
       const sizes = shimSeries(...e.series);
@@ -180,6 +185,7 @@ export async function seedDemo(): Promise<{ seeded: boolean }> {
           return { v, s, blades, clearance, spec };
         });
         const plan = planShims({ valves: planValves.map((p) => ({ id: p.v.id, installed: p.s.shim, measured: p.clearance.value, spec: p.spec })), sizes });
+        if (last && e.cylinders === 4 && e.owner === 0) latestBluePlan = { valves: planValves.map((p) => ({ id: p.v.id, installed: p.s.shim, measured: p.clearance.value, spec: p.spec })), sizes };
         await tx.insert(readings).values(
           planValves.map((p, i) => {
             const a = plan.assignments[i]!;
@@ -208,13 +214,21 @@ export async function seedDemo(): Promise<{ seeded: boolean }> {
       }
     }
 
-    await tx.insert(trayItems).values(
-      [
-        { size: 2.55, count: 1 },
-        { size: 2.6, count: 2 },
-        { size: 2.7, count: 1 },
-        { size: 2.85, count: 1 },
-      ].map((t) => ({ ownerId: userIds[0]!, ...t, version })),
+    const maraTray = [
+      { size: 2.55, count: 1 },
+      { size: 2.6, count: 2 },
+      { size: 2.7, count: 1 },
+      { size: 2.85, count: 1 },
+    ];
+    await tx.insert(trayItems).values(maraTray.map((t) => ({ ownerId: userIds[0]!, ...t, shimDiameter: DEMO_SHIM_DIAMETER, version })));
+
+    // Teodor lends spares through the club: one size of them is what Mara's open plan would buy.
+    const buy = latestBluePlan ? planShims({ ...latestBluePlan, tray: maraTray }).buy[0] : undefined;
+    const teodorTray = [{ size: 2.45, count: 3 }, ...(buy ? [{ size: buy.size, count: buy.count + 1 }] : [])];
+    const teodorItems = teodorTray.map((t) => ({ id: crypto.randomUUID(), ownerId: userIds[1]!, ...t, shimDiameter: DEMO_SHIM_DIAMETER, version }));
+    await tx.insert(trayItems).values(teodorItems);
+    await tx.insert(poolOffers).values(
+      teodorTray.map((t) => ({ clubId, ownerId: userIds[1]!, size: t.size, count: t.count, shimDiameter: DEMO_SHIM_DIAMETER, note: "In the blue tin on the club bench", version })),
     );
 
     // Mara asked the club to look over the latest check of the four; Teodor has commented.

@@ -2,6 +2,7 @@ import "server-only";
 import { NextResponse, type NextRequest } from "next/server";
 import { z, ZodError } from "zod";
 import { LashInputError } from "@/lib/lash";
+import { Refused } from "@/db/errors";
 import { currentUser, type SessionUser } from "./auth";
 
 /**
@@ -90,6 +91,7 @@ export function route<P extends z.ZodType = z.ZodType<Record<string, never>>, Q 
       return NextResponse.json(result ?? {}, { status });
     } catch (e) {
       if (e instanceof ApiError) return errorResponse(e.status, e.code, e.message, e.fields);
+      if (e instanceof Refused) return errorResponse(e.status, e.status === 404 ? "not_found" : "conflict", e.message);
       if (e instanceof LashInputError) {
         const fields = Object.fromEntries(e.issues.map((i) => [i.path || "_", i.message]));
         return errorResponse(422, "invalid", e.message, Object.keys(fields).length ? fields : undefined);
@@ -102,9 +104,11 @@ export function route<P extends z.ZodType = z.ZodType<Record<string, never>>, Q 
 
 export const uuidParam = z.string().regex(/^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/);
 
+// plain decimal digits only: Number() would also take "0x10", "1e3" or " 7 "
+const digits = z.string().regex(/^\d{1,7}$/, { error: "a whole number" }).transform(Number);
 export const pageQuery = z.object({
-  limit: z.coerce.number().int().min(1).max(200).default(50),
-  offset: z.coerce.number().int().min(0).max(1_000_000).default(0),
+  limit: digits.pipe(z.number().int().min(1).max(200)).default(50),
+  offset: digits.pipe(z.number().int().min(0).max(1_000_000)).default(0),
 });
 
 export function page<T>(items: T[], limit: number, offset: number) {

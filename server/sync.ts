@@ -5,9 +5,11 @@ import type { ReadingInput } from "@/lib/schemas/records";
 import { db } from "@/db/client";
 import { nextVersion, type Tx } from "@/db/versions";
 import * as q from "@/db/queries/sync";
+import { Refused } from "@/db/errors";
 import { mentorSharesForCheck, writeVerdict } from "@/db/queries/clubs";
 import { noticeNewComment, noticeVerdict } from "./review";
 import { shareFor } from "./access";
+import * as pool from "./pool";
 import { getCheckRow } from "@/db/queries/garage";
 import { ApiError } from "./http";
 import { checkReadingsFit } from "./engines";
@@ -28,7 +30,7 @@ export interface PushResult {
 type Parsed = { id: number; name: string; args: unknown; reason?: string };
 
 function reasonOf(e: unknown): string {
-  if (e instanceof q.Refused || e instanceof LashInputError) return e.message;
+  if (e instanceof Refused || e instanceof LashInputError) return e.message;
   if (e instanceof ApiError) return e.message;
   return "the server could not apply this change";
 }
@@ -65,6 +67,14 @@ async function applyOne(tx: Tx, user: SessionUser, version: number, m: Parsed): 
         if (check) await noticeNewComment(check, user, c.body);
       };
     }
+    case "pool.offer/1":
+      return pool.applyOffer(tx, version, user, a as MutationArgs<"pool.offer/1">);
+    case "pool.withdraw/1":
+      return pool.applyWithdrawOffer(tx, version, user, (a as { id: string }).id);
+    case "borrow.ask/1":
+      return pool.applyAsk(tx, version, user, a as MutationArgs<"borrow.ask/1">);
+    case "borrow.move/1":
+      return pool.applyMove(tx, version, user, a as MutationArgs<"borrow.move/1">);
     case "verdict.set/1": {
       const v = a as MutationArgs<"verdict.set/1">;
       const { check } = await shareFor(user, v.shareId, "mentor");

@@ -6,10 +6,13 @@ import { useMemo, useState } from "react";
 import { LashInputError, rotationGuide, workOrder, type ShimMove, type ShimPlan } from "@/lib/lash";
 import { checkPlan, engineSizes, valveLabel, valveViews, type ValveView } from "@/lib/check/derive";
 import { checkCsv } from "@/lib/check/csv";
+import { poolForEngine, type PoolFit } from "@/lib/check/pool";
+import { usePool } from "@/components/pool/use-pool";
+import { BorrowList } from "@/components/pool/borrow-list";
 import { PlanTable } from "./plan-table";
 import { AskReview } from "@/components/review/ask-review";
 import type { LocalCheck, LocalEngine, LocalReading } from "@/lib/sync/local-db";
-import { adjustTray, saveReading, setCheckStatus } from "@/lib/sync/writes";
+import { adjustTray, offerToClub, saveReading, setCheckStatus } from "@/lib/sync/writes";
 import { useLocal } from "@/components/sync/local-provider";
 import { Button, Notice } from "@/components/ui/controls";
 import { useStored } from "@/components/ui/use-stored";
@@ -76,7 +79,9 @@ function lastShims(lastReadings: LocalReading[]) {
 }
 
 function CheckBody({ check, engine, readings, tray, lastReadings, step, go }: { check: LocalCheck; engine: LocalEngine; readings: LocalReading[]; tray: { size: number; count: number }[]; lastReadings: LocalReading[]; step?: Step; go: (s: Step) => void }) {
-  const { db } = useLocal();
+  const { db, user } = useLocal();
+  const pool = usePool();
+  const fit = poolForEngine(engine, pool.offeredToMe, user?.id ?? "");
   const sizes = useMemo(() => engineSizes(engine), [engine]);
   const seriesStep = "step" in engine.shims ? engine.shims.step : 0.05;
   const previous = useMemo(() => lastShims(lastReadings), [lastReadings]);
@@ -86,7 +91,7 @@ function CheckBody({ check, engine, readings, tray, lastReadings, step, go }: { 
   let plan: ShimPlan | null = null;
   let planError: string | null = null;
   try {
-    plan = checkPlan(engine, views, tray);
+    plan = checkPlan(engine, views, tray, fit.pool);
   } catch (e) {
     planError = e instanceof LashInputError ? e.message : "The plan could not be worked out";
   }
@@ -115,7 +120,7 @@ function CheckBody({ check, engine, readings, tray, lastReadings, step, go }: { 
       {current === "prepare" && <Prepare checkId={check.id} onDone={() => go("measure")} />}
       {current === "measure" && <Measure engine={engine} views={views} sizes={sizes} step={seriesStep} save={save} mirrored={mirrored} setMirrored={setMirrored} onDone={() => go("plan")} previous={previous} checkId={check.id} />}
       {current === "plan" && (
-        <PlanView engine={engine} check={check} views={views} plan={plan} error={planError} mirrored={mirrored} setMirrored={setMirrored} onFit={() => (db && setCheckStatus(db, check.id, "fitting"), go("fit"))} />
+        <PlanView engine={engine} check={check} views={views} plan={plan} error={planError} mirrored={mirrored} setMirrored={setMirrored} onFit={() => (db && setCheckStatus(db, check.id, "fitting"), go("fit"))} pool={pool} fit={fit} />
       )}
       {current === "plan" && <AskReview checkId={check.id} />}
       {current === "fit" && plan && <FitView engine={engine} views={views} plan={plan} checkId={check.id} onDone={() => (db && setCheckStatus(db, check.id, "verifying"), go("verify"))} />}
@@ -225,7 +230,7 @@ function Measure({ engine, views, sizes, step, save, mirrored, setMirrored, onDo
   );
 }
 
-export function PlanView({ engine, check, views, plan, error, mirrored, setMirrored, onFit }: { engine: LocalEngine; check: LocalCheck; views: ValveView[]; plan: ShimPlan | null; error: string | null; mirrored: boolean; setMirrored: (m: boolean) => void; onFit?: () => void }) {
+export function PlanView({ engine, check, views, plan, error, mirrored, setMirrored, onFit, pool, fit }: { engine: LocalEngine; check: LocalCheck; views: ValveView[]; plan: ShimPlan | null; error: string | null; mirrored: boolean; setMirrored: (m: boolean) => void; onFit?: () => void; pool?: ReturnType<typeof usePool>; fit?: PoolFit }) {
   const csv = useMemo(() => {
     if (typeof window === "undefined") return null;
     const date = new Date(check.startedAt).toISOString().slice(0, 10);
@@ -243,7 +248,7 @@ export function PlanView({ engine, check, views, plan, error, mirrored, setMirro
       {!plan && !error && <Notice>Measure some valves first: the plan fills in as readings come in.</Notice>}
       {plan && (
         <>
-          <PlanTable engine={engine} plan={plan} byId={byId} />
+          <PlanTable engine={engine} plan={plan} byId={byId} lenders={pool ? new Map(pool.offers.map((o) => [o.ownerId, o.ownerName])) : undefined} />
           <section aria-labelledby="buy-title" className="rounded-2xl border border-line bg-surface p-4">
             <h2 id="buy-title" className="text-xl font-extrabold">
               Buy list
@@ -270,6 +275,7 @@ export function PlanView({ engine, check, views, plan, error, mirrored, setMirro
               </>
             )}
           </section>
+          {pool && fit && <BorrowList plan={plan} pool={pool} fit={fit} checkId={check.id} />}
           <section aria-labelledby="tray-title" className="rounded-2xl border border-line bg-surface p-4">
             <h2 id="tray-title" className="text-xl font-extrabold">
               Back to the tray
@@ -307,7 +313,34 @@ export function PlanView({ engine, check, views, plan, error, mirrored, setMirro
 }
 
 function placeWords(p: ShimMove["from"]) {
-  return p.kind === "valve" ? p.valveId : p.kind === "tray" ? "the tray" : p.kind === "shop" ? "the new (bought) shims" : "the side (set aside)";
+  return p.kind === "valve" ? p.valveId : p.kind === "tray" ? "the tray" : p.kind === "shop" ? "the new (bought) shims" : p.kind === "club" ? "the borrowed shims" : "the side (set aside)";
+}
+
+/** One tap: offer the club the shims this check sent back to the tray. */
+function OfferReturned({ moves, engine }: { moves: ShimMove[]; engine: LocalEngine }) {
+  const { db } = useLocal();
+  const pool = usePool();
+  const [sent, setSent] = useState(false);
+  const back = new Map<number, number>();
+  for (const m of moves) if (m.to.kind === "tray") back.set(m.size, (back.get(m.size) ?? 0) + 1);
+  const club = pool.clubs[0];
+  if (!club || back.size === 0) return null;
+  const total = [...back.values()].reduce((a, b) => a + b, 0);
+  if (sent) return <Notice tone="ok">✓ Offered to {club.name}: {total} shim{total === 1 ? "" : "s"}.</Notice>;
+  return (
+    <Button
+      type="button"
+      look="plain"
+      onClick={async () => {
+        if (!db) return;
+        for (const [size, count] of back) await offerToClub(db, { id: crypto.randomUUID(), clubId: club.id, size, measuredSize: false, count, shimDiameter: engine.shimDiameter ?? null, note: `came out of ${engine.name}` });
+        setSent(true);
+        void pool.refresh();
+      }}
+    >
+      Offer the {total} shim{total === 1 ? "" : "s"} back on the tray to {club.name}
+    </Button>
+  );
 }
 
 function FitView({ engine, views, plan, checkId, onDone }: { engine: LocalEngine; views: ValveView[]; plan: ShimPlan; checkId: string; onDone: () => void }) {
@@ -352,6 +385,7 @@ function FitView({ engine, views, plan, checkId, onDone }: { engine: LocalEngine
           </li>
         ))}
       </ol>
+      {done.every(Boolean) && <OfferReturned moves={moves} engine={engine} />}
       <Button type="button" disabled={!done.every(Boolean)} onClick={onDone}>
         {done.every(Boolean) ? "Re-measure the changed valves" : "Tick every swap to continue"}
       </Button>

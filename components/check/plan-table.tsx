@@ -13,7 +13,7 @@ interface Row {
 const col = createColumnHelper<Row>();
 
 /** The plan per valve: shim now, clearance, target, new shim, predicted clearance, and its source. */
-export function PlanTable({ engine, plan, byId }: { engine: LocalEngine; plan: ShimPlan; byId: Map<string, ValveView> }) {
+export function PlanTable({ engine, plan, byId, lenders }: { engine: LocalEngine; plan: ShimPlan; byId: Map<string, ValveView>; lenders?: Map<string, string> }) {
   const unit = engine.displayUnit;
   const columns = [
     col.accessor((r) => r.a.valveId, { id: "valve", header: "Valve", cell: (c) => <strong>{c.getValue()}</strong> }),
@@ -27,6 +27,7 @@ export function PlanTable({ engine, plan, byId }: { engine: LocalEngine; plan: S
       header: "From",
       cell: (c) => {
         const s = c.getValue();
+        if (s.kind === "club") return `borrow from ${lenders?.get(s.ownerId) ?? "the club"}`;
         return s.kind === "keep" ? "keep" : s.kind === "valve" ? `from ${s.valveId}` : s.kind === "tray" ? "from the tray" : "buy";
       },
     }),

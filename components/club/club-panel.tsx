@@ -5,6 +5,7 @@ import Link from "next/link";
 import { useEffect, useState, type FormEvent } from "react";
 import { ApiFailure, fetchers, mutations, queryKeys, type ClubSummary } from "@/lib/api/client";
 import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
+import { PoolPanel } from "@/components/pool/pool-panel";
 
 const ROLE_WORDS = { mechanic: "Mechanic", mentor: "Mentor", admin: "Admin" } as const;
 type Role = keyof typeof ROLE_WORDS;
@@ -145,6 +146,7 @@ export function ClubPanel() {
             <p className="text-ink-soft">You are: {c.roles.map((r) => ROLE_WORDS[r]).join(", ")}</p>
           </header>
           {c.roles.includes("mentor") && <Queue club={c} />}
+          <PoolPanel club={c} />
           <Members club={c} />
           {c.roles.includes("admin") && <InviteForm club={c} />}
         </article>

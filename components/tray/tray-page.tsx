@@ -5,6 +5,7 @@ import { useState } from "react";
 import { saveTrayItem } from "@/lib/sync/writes";
 import { useLocal } from "@/components/sync/local-provider";
 import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
+import { OfferForm } from "@/components/pool/offer-form";
 
 /** The loose shims on hand, by size and count; the plan takes from here and fitting updates it. */
 export function TrayPage() {
@@ -62,6 +63,7 @@ export function TrayPage() {
           Add to tray
         </Button>
       </section>
+      <OfferForm items={items} />
     </div>
   );
 }

@@ -3,13 +3,14 @@ import { and, eq, gt, lte, sql } from "drizzle-orm";
 import type { MutationArgs } from "@/lib/sync/mutations";
 import type { ReadingInput } from "@/lib/schemas/records";
 import { db } from "../client";
+import { Refused } from "../errors";
 import { changeVersions, checks, comments, engines, readings, rejectedMutations, syncClients, tombstones, trayItems } from "../schema";
 import { checkToApi, engineToApi, engineToRow, readingToApi, trayToApi, writeReadings } from "./garage";
 import type { Tx } from "../versions";
 import type { AnyMySqlColumn } from "drizzle-orm/mysql-core";
 
 /** A change the server refuses: recorded with its reason, and the queue moves on. */
-export class Refused extends Error {}
+export { Refused };
 
 /** The client row, locked for the push; created on first sight, refused if another user owns it. */
 export async function lockClient(tx: Tx, clientId: string, userId: string): Promise<number> {

@@ -49,13 +49,14 @@ export function valveViews(engine: LocalEngine, readings: LocalReading[], fallba
 }
 
 /** The plan over every measured valve whose shim is known; in-band valves keep theirs. */
-export function checkPlan(engine: LocalEngine, views: ValveView[], tray: { size: number; count: number }[]): ShimPlan | null {
+export function checkPlan(engine: LocalEngine, views: ValveView[], tray: { size: number; count: number }[], pool: { size: number; count: number; ownerId: string }[] = []): ShimPlan | null {
   const ready = views.filter((v) => v.measured != null && v.installed != null && v.state !== "fitted");
   if (ready.length === 0) return null;
   return planShims({
     valves: ready.map((v) => ({ id: v.valve.id, installed: v.installed!, measured: v.measured!, spec: v.spec })),
     sizes: engineSizes(engine),
     tray,
+    pool,
   });
 }
 

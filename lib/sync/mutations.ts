@@ -1,4 +1,5 @@
 import { z } from "zod";
+import { borrowInput, borrowMoveInput, offerInput } from "../pool/rules";
 import { checkInput, commentInput, engineInput, idSchema, readingInput, trayItemInput, verdictInput } from "../schemas/records";
 
 /**
@@ -21,6 +22,10 @@ export const MUTATIONS = {
   "tray.delete/1": z.object({ id: idSchema }),
   "comment.add/1": commentInput.extend({ id: idSchema, checkId: idSchema }),
   "verdict.set/1": verdictInput.extend({ shareId: idSchema }),
+  "pool.offer/1": offerInput.extend({ id: idSchema }),
+  "pool.withdraw/1": z.object({ id: idSchema }),
+  "borrow.ask/1": borrowInput.extend({ id: idSchema }),
+  "borrow.move/1": borrowMoveInput.extend({ id: idSchema }),
 } as const;
 
 export type MutationName = keyof typeof MUTATIONS;

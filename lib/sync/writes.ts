@@ -90,3 +90,20 @@ export function addComment(db: LocalDb, c: { id: string; checkId: string; author
 export function giveVerdict(db: LocalDb, shareId: string, verdict: MutationArgs<"verdict.set/1">["verdict"]) {
   return record(db, "verdict.set/1", { shareId, verdict }, async () => undefined);
 }
+
+/** Club pool changes: the server holds the pool, so only the outbox keeps them until the next sync. */
+export function offerToClub(db: LocalDb, o: MutationArgs<"pool.offer/1">) {
+  return record(db, "pool.offer/1", o, async () => undefined);
+}
+
+export function withdrawOffer(db: LocalDb, id: string) {
+  return record(db, "pool.withdraw/1", { id }, async () => undefined);
+}
+
+export function askToBorrow(db: LocalDb, b: MutationArgs<"borrow.ask/1">) {
+  return record(db, "borrow.ask/1", b, async () => undefined);
+}
+
+export function moveLoan(db: LocalDb, m: MutationArgs<"borrow.move/1">) {
+  return record(db, "borrow.move/1", m, async () => undefined);
+}

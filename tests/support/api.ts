@@ -73,3 +73,11 @@ export class Client {
     await this.raw("POST", "/api/auth/signout", { body: form.toString(), headers: { "content-type": "application/x-www-form-urlencoded" } });
   }
 }
+
+/** A client already signed in with a password, failing the test when sign-in does not work. */
+export async function signedInClient(base: string, u: { email: string; password: string }): Promise<Client> {
+  const c = new Client(base);
+  const error = await c.signIn("password", { email: u.email, password: u.password });
+  if (error !== null) throw new Error(`sign-in failed for ${u.email}: ${error}`);
+  return c;
+}

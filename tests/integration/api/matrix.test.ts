@@ -20,6 +20,8 @@ interface Ids {
   clubId: string;
   memberId: string;
   photoId: string;
+  offerId: string;
+  borrowId: string;
 }
 
 interface Row {
@@ -73,7 +75,8 @@ beforeAll(async () => {
   await addMembership(clubId, member.id, ["mechanic"]);
   photo = await cameraJpeg(320, 240);
   const photoId = (await o.form("POST", `/api/checks/${checkId}/photos`, photoForm(photo))).json.photo.id as string;
-  ids = { engineId, checkId, shareId, trayId, clubId, memberId: member.id, photoId };
+  ids = { engineId, checkId, shareId, trayId, clubId, memberId: member.id, photoId, offerId: "", borrowId: "" };
+  Object.assign(ids, await freshLoan());
 });
 afterAll(() => app?.stop());
 
@@ -83,6 +86,15 @@ const freshMember = async () => {
   const m = await makeUser("matrix-fresh-member");
   await addMembership(ids.clubId, m.id, ["mechanic"]);
   return { memberId: m.id };
+};
+// the owner offers 2.6 mm shims from the tray; the mentor (a club member) asks for one
+const freshOffer = async () => {
+  await clients.owner.post("/api/tray", { size: 2.6, count: 1 });
+  return { offerId: (await clients.owner.post(`/api/clubs/${ids.clubId}/pool`, { size: 2.6, count: 1 })).json.offer.id as string };
+};
+const freshLoan = async () => {
+  const { offerId } = await freshOffer();
+  return { offerId, borrowId: (await clients.mentor.post("/api/borrows", { offerId, count: 1 })).json.borrow.id as string };
 };
 const freshPhoto = async () => ({ photoId: (await clients.owner.form("POST", `/api/checks/${ids.checkId}/photos`, photoForm(photo))).json.photo.id as string });
 const rand = () => crypto.randomUUID().slice(0, 8);
@@ -152,6 +164,12 @@ const TABLE: Row[] = [
   { route: "GET /api/clubs/:clubId/invites", path: (i) => `/api/clubs/${i.clubId}/invites`, expect: { admin: 200, owner: 403, mentor: 403, others: 404, anon: 401 } },
   { route: "POST /api/clubs/:clubId/invites", path: (i) => `/api/clubs/${i.clubId}/invites`, body: () => ({ email: `inv-${rand()}@test.example`, role: "mentor" }), expect: { admin: 201, owner: 403, mentor: 403, others: 404, anon: 401 }, bad: { as: "admin", body: { email: "nope" }, field: "email" } },
   { route: "GET /api/clubs/:clubId/queue", path: (i) => `/api/clubs/${i.clubId}/queue`, expect: { mentor: 200, owner: 403, admin: 403, others: 404, anon: 401 } },
+  { route: "GET /api/clubs/:clubId/pool", path: (i) => `/api/clubs/${i.clubId}/pool`, expect: { owner: 200, mentor: 200, admin: 200, others: 404, anon: 401 } },
+  { route: "POST /api/clubs/:clubId/pool", path: (i) => `/api/clubs/${i.clubId}/pool`, body: () => ({ size: 2.6, count: 1 }), expect: { owner: 201, mentor: 409, admin: 409, others: 404, anon: 401 }, bad: { body: { size: -2.6, count: 1 }, field: "size" } },
+  { route: "DELETE /api/pool/:offerId", path: (i) => `/api/pool/${i.offerId}`, fresh: freshOffer, expect: { owner: 204, others: 404, anon: 401 } },
+  { route: "GET /api/borrows", path: () => "/api/borrows", expect: EVERYONE(200) },
+  { route: "POST /api/borrows", path: () => "/api/borrows", body: (i) => ({ offerId: i.offerId, count: 1 }), fresh: freshOffer, expect: { mentor: 201, admin: 201, owner: 409, others: 404, anon: 401 }, bad: { as: "mentor", body: { offerId: "x", count: 1 }, field: "offerId" } },
+  { route: "PUT /api/borrows/:borrowId", path: (i) => `/api/borrows/${i.borrowId}`, body: () => ({ move: "agree" }), fresh: freshLoan, expect: { owner: 200, mentor: 409, others: 404, anon: 401 }, bad: { body: { move: "steal" }, field: "move" } },
   { route: "POST /api/sync/push", path: () => "/api/sync/push", body: () => ({ clientId: crypto.randomUUID(), mutations: [] }), expect: EVERYONE(200), bad: { body: { clientId: "x", mutations: [] }, field: "clientId" } },
   { route: "POST /api/sync/pull", path: () => "/api/sync/pull", body: () => ({ cursor: null }), expect: EVERYONE(200), bad: { body: { cursor: -1 }, field: "cursor" } },
   { route: "POST /api/invites/accept", path: () => "/api/invites/accept", body: () => ({ token: "C".repeat(43) }), expect: EVERYONE(400), bad: { body: { token: 5 }, field: "token" } },

@@ -1,7 +1,7 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import exifr from "exifr";
 import sharp from "sharp";
-import { Client } from "../../support/api";
+import { signedInClient } from "../../support/api";
 import { rawConnection } from "../../support/db";
 import { addMembership, ENGINE_FOUR, makeUser } from "../../support/fixtures";
 import { cameraJpeg, photoForm, storedKeys } from "../../support/photos";
@@ -13,11 +13,7 @@ beforeAll(async () => {
 });
 afterAll(() => app?.stop());
 
-async function signedIn(u: { email: string; password: string }) {
-  const c = new Client(app.url);
-  expect(await c.signIn("password", { email: u.email, password: u.password })).toBeNull();
-  return c;
-}
+const signedIn = (u: { email: string; password: string }) => signedInClient(app.url, u);
 
 async function setUp() {
   const [owner, mentor, stranger, otherMentor] = await Promise.all(["ph-owner", "ph-mentor", "ph-stranger", "ph-other"].map(makeUser));

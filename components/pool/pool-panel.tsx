@@ -1,0 +1,89 @@
+"use client";
+
+import { movesFor, MOVES, STATE_WORDS, type ApiBorrow, type BorrowMove } from "@/lib/pool/rules";
+import { moveLoan, withdrawOffer } from "@/lib/sync/writes";
+import type { ClubSummary } from "@/lib/api/client";
+import { useLocal } from "@/components/sync/local-provider";
+import { Button } from "@/components/ui/controls";
+import { usePool } from "./use-pool";
+
+const mm = (n: number) => `${n.toFixed(2)} mm`;
+
+function Loan({ b, side, pending, onMove }: { b: ApiBorrow; side: "lender" | "borrower"; pending: BorrowMove | undefined; onMove: (m: BorrowMove, returnSize?: number | null) => void }) {
+  const other = side === "lender" ? b.borrowerName : b.lenderName;
+  const moves = pending ? [] : movesFor(b.state, side);
+  return (
+    <li className="flex flex-col gap-2 rounded-xl border border-line p-3" data-testid={`loan-${b.id}`}>
+      <p>
+        <span className="figures font-bold">
+          {b.count} × {mm(b.size)}
+        </span>{" "}
+        {side === "lender" ? "to" : "from"} <strong>{other}</strong>: {pending ? `${MOVES[pending].to} (waiting to send)` : STATE_WORDS[b.state]}
+        {b.returnSize != null && b.returnSize !== b.size ? <span className="block text-sm text-ink-soft">coming back as {mm(b.returnSize)}</span> : null}
+      </p>
+      {moves.length > 0 && (
+        <div className="flex flex-wrap gap-2">
+          {moves.map((m) => (
+            <Button key={m} type="button" look={m === "decline" || m === "withdraw" ? "quiet" : "plain"} onClick={() => onMove(m)}>
+              {MOVES[m].label}
+            </Button>
+          ))}
+        </div>
+      )}
+    </li>
+  );
+}
+
+/** A club's shim pool and the loans of the signed-in member, with the steps they may take. */
+export function PoolPanel({ club }: { club: ClubSummary }) {
+  const { db, user } = useLocal();
+  const pool = usePool();
+  const offers = pool.offers.filter((o) => o.clubId === club.id);
+  const loans = pool.borrows.filter((b) => b.clubId === club.id && !["declined", "withdrawn", "settled"].includes(b.state));
+  const pendingMove = (id: string) => pool.pendingMoves.filter((m) => m.id === id).at(-1)?.move;
+  const move = async (id: string, m: BorrowMove, returnSize?: number | null) => {
+    if (!db) return;
+    await moveLoan(db, { id, move: m, returnSize: returnSize ?? null });
+    void pool.refresh();
+  };
+  return (
+    <section className="flex flex-col gap-3" aria-labelledby={`pool-${club.id}`}>
+      <h3 id={`pool-${club.id}`} className="text-lg font-bold">
+        Shim pool
+      </h3>
+      {offers.length === 0 ? (
+        <p className="text-ink-soft">No spare shims on offer. Offer yours from the tray.</p>
+      ) : (
+        <ul className="flex flex-col gap-1" data-testid="pool-offers">
+          {offers.map((o) => (
+            <li key={o.id} className="flex flex-wrap items-baseline justify-between gap-2 border-b border-line py-1">
+              <span className="figures text-lg font-bold">
+                {o.available} × {o.size.toFixed(o.measuredSize ? 3 : 2)} mm
+              </span>
+              <span className="text-sm text-ink-soft">
+                {o.ownerId === user?.id ? "yours" : o.ownerName}
+                {o.shimDiameter ? ` · ${o.shimDiameter} mm diameter` : " · diameter not given"}
+                {o.note ? ` · ${o.note}` : ""}
+              </span>
+              {o.ownerId === user?.id && (
+                <Button type="button" look="quiet" onClick={() => db && withdrawOffer(db, o.id).then(() => pool.refresh())}>
+                  Take back
+                </Button>
+              )}
+            </li>
+          ))}
+        </ul>
+      )}
+      {loans.length > 0 && (
+        <>
+          <h3 className="text-lg font-bold">Loans</h3>
+          <ul className="flex flex-col gap-2">
+            {loans.map((b) => (
+              <Loan key={b.id} b={b} side={b.lenderId === user?.id ? "lender" : "borrower"} pending={pendingMove(b.id)} onMove={(m, r) => void move(b.id, m, r)} />
+            ))}
+          </ul>
+        </>
+      )}
+    </section>
+  );
+}

@@ -1,0 +1,36 @@
+"use client";
+
+import { useQueries, useQuery, useQueryClient } from "@tanstack/react-query";
+import { useLiveQuery } from "dexie-react-hooks";
+import { useCallback } from "react";
+import { fetchers, queryKeys } from "@/lib/api/client";
+import { HOLDING, type ApiOffer } from "@/lib/pool/rules";
+import type { MutationArgs } from "@/lib/sync/mutations";
+import { useLocal } from "@/components/sync/local-provider";
+
+/**
+ * The club pools of every club the user is in, their loans, and what of theirs waits in the outbox.
+ * Read through the API and kept for offline reading (persist-queries keeps "clubs" queries).
+ */
+export function usePool() {
+  const { db, user, syncNow } = useLocal();
+  const qc = useQueryClient();
+  const clubs = useQuery({ queryKey: queryKeys.clubs(), queryFn: fetchers.clubs, retry: false });
+  const pools = useQueries({ queries: (clubs.data ?? []).map((c) => ({ queryKey: queryKeys.pool(c.id), queryFn: () => fetchers.pool(c.id), retry: false })) });
+  const borrows = useQuery({ queryKey: queryKeys.borrows(), queryFn: fetchers.borrows, retry: false });
+  const outbox = useLiveQuery(async () => (db ? db.outbox.toArray() : []), [db], []);
+  const byId = new Map<string, ApiOffer>();
+  for (const p of pools) for (const o of p.data ?? []) byId.set(o.id, o);
+  const offers = [...byId.values()];
+  const pendingAsks = outbox.filter((m) => m.name === "borrow.ask/1").map((m) => m.args as MutationArgs<"borrow.ask/1">);
+  const pendingMoves = outbox.filter((m) => m.name === "borrow.move/1").map((m) => m.args as MutationArgs<"borrow.move/1">);
+  const pendingOffers = outbox.filter((m) => m.name === "pool.offer/1").map((m) => m.args as MutationArgs<"pool.offer/1">);
+  const refresh = useCallback(async () => {
+    await syncNow();
+    await qc.invalidateQueries({ queryKey: ["clubs"] });
+  }, [qc, syncNow]);
+  const mine = (borrows.data ?? []).filter((b) => b.borrowerId === user?.id);
+  /** for planning: what is on offer to me, counting back what my own open requests hold */
+  const offeredToMe = offers.map((o) => ({ ...o, count: o.available + mine.filter((b) => b.offerId === o.id && HOLDING.includes(b.state)).reduce((n, b) => n + b.count, 0) }));
+  return { clubs: clubs.data ?? [], offers, offeredToMe, borrows: borrows.data ?? [], pendingAsks, pendingMoves, pendingOffers, refresh, online: !borrows.isError };
+}
