@@ -16,8 +16,9 @@ export function usePool() {
   const { db, user, syncNow } = useLocal();
   const qc = useQueryClient();
   const clubs = useQuery({ queryKey: queryKeys.clubs(), queryFn: fetchers.clubs, retry: false });
-  const pools = useQueries({ queries: (clubs.data ?? []).map((c) => ({ queryKey: queryKeys.pool(c.id), queryFn: () => fetchers.pool(c.id), retry: false })) });
-  const borrows = useQuery({ queryKey: queryKeys.borrows(), queryFn: fetchers.borrows, retry: false });
+  // loans change on the other side: asked again on every screen that shows them (the kept copy shows meanwhile)
+  const pools = useQueries({ queries: (clubs.data ?? []).map((c) => ({ queryKey: queryKeys.pool(c.id), queryFn: () => fetchers.pool(c.id), retry: false, refetchOnMount: "always" as const })) });
+  const borrows = useQuery({ queryKey: queryKeys.borrows(), queryFn: fetchers.borrows, retry: false, refetchOnMount: "always" });
   const outbox = useLiveQuery(async () => (db ? db.outbox.toArray() : []), [db], []);
   const byId = new Map<string, ApiOffer>();
   for (const p of pools) for (const o of p.data ?? []) byId.set(o.id, o);

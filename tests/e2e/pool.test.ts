@@ -1,0 +1,58 @@
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import type { Browser, Page } from "playwright-core";
+import { baseUrl, launch, phoneContext } from "../support/browser";
+import { waitForMail } from "../support/mail";
+
+// The demo scenario (db/seed.ts): Teodor offers the club spares, one size of which Mara's open plan would buy.
+const PASSWORD = "garage-demo-2026";
+let browser: Browser;
+beforeAll(async () => {
+  browser = await launch();
+});
+afterAll(() => browser?.close());
+
+async function signIn(page: Page, email: string) {
+  await page.goto(`${baseUrl()}/sign-in`);
+  await page.getByLabel("E-mail").fill(email);
+  await page.getByLabel("Password").fill(PASSWORD);
+  await page.getByRole("button", { name: "Sign in", exact: true }).tap();
+  await page.waitForURL("**/engines");
+}
+
+describe("borrowing from the club pool", () => {
+  it("the plan borrows a size a member offers instead of buying it; the lender agrees", async () => {
+    const mechCtx = await phoneContext(browser);
+    const mech = await mechCtx.newPage();
+    await signIn(mech, "mara@kestrel-hollow.example");
+    await mech.getByRole("link", { name: /Blue four/ }).tap();
+    await mech.getByRole("link", { name: /43,800 km/ }).tap();
+    await mech.getByRole("button", { name: /3\. Plan/ }).tap();
+    const borrow = mech.getByRole("region", { name: "Borrow from the club" });
+    const ask = borrow.getByRole("button", { name: /^Ask Teodor/ }).first();
+    await ask.waitFor({ timeout: 20_000 });
+    const label = await ask.innerText();
+    const [, count, size] = /for (\d+) × (\d\.\d\d) mm/.exec(label)!;
+    // the plan table says where that shim comes from
+    await expect(mech.getByText(/borrow from Teodor/).first().isVisible()).resolves.toBe(true);
+    await mech.screenshot({ path: "test-results/pool-plan.png", fullPage: true });
+    await ask.tap();
+    await borrow.getByText(/asked, waiting for the lender/).waitFor({ timeout: 20_000 });
+    await waitForMail("teodor@kestrel-hollow.example", new RegExp(`asks to borrow ${count} × ${size!.replace(".", "\\.")} mm`));
+
+    const lenderCtx = await phoneContext(browser);
+    const lender = await lenderCtx.newPage();
+    await signIn(lender, "teodor@kestrel-hollow.example");
+    await lender.goto(`${baseUrl()}/club`);
+    const loan = lender.getByTestId(/^loan-/).filter({ hasText: `${count} × ${size} mm to` });
+    await loan.getByRole("button", { name: "Agree to lend" }).tap();
+    await loan.getByText(/agreed: collect them/).waitFor({ timeout: 20_000 });
+    await lender.screenshot({ path: "test-results/pool-lender.png", fullPage: true });
+    await lenderCtx.close();
+
+    await waitForMail("mara@kestrel-hollow.example", /Shim loan agreed/);
+    await mech.reload();
+    await mech.getByRole("button", { name: /3\. Plan/ }).tap();
+    await mech.getByRole("region", { name: "Borrow from the club" }).getByText(/agreed: collect them/).waitFor({ timeout: 20_000 });
+    await mechCtx.close();
+  });
+});
