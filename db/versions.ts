@@ -1,6 +1,7 @@
 import "server-only";
 import { db, type Db } from "./client";
 import { changeVersions } from "./schema";
+import { Refused } from "./errors";
 
 export type Tx = Parameters<Parameters<Db["transaction"]>[0]>[0];
 
@@ -13,4 +14,26 @@ export async function nextVersion(tx: Db | Tx): Promise<number> {
 /** Run a write in a transaction that carries one new change version for every row it touches. */
 export function versioned<T>(fn: (tx: Tx, version: number) => Promise<T>): Promise<T> {
   return db().transaction(async (tx) => fn(tx, await nextVersion(tx)));
+}
+
+/**
+ * Like versioned, for writes whose rules may refuse them (Refused) after they took locks. The
+ * refused work rolls back in a savepoint but the version row commits, so pulls never wait on a gap
+ * in the version sequence (stableCursor waits up to 30 s for a missing number). The refusal is
+ * thrown once the transaction has committed.
+ */
+export async function versionedRefusable<T>(fn: (tx: Tx, version: number) => Promise<T>): Promise<T> {
+  let refused: Refused | undefined;
+  const out = await db().transaction(async (tx) => {
+    const version = await nextVersion(tx);
+    try {
+      return await tx.transaction((sp) => fn(sp, version));
+    } catch (e) {
+      if (!(e instanceof Refused)) throw e;
+      refused = e;
+      return undefined;
+    }
+  });
+  if (refused) throw refused;
+  return out as T;
 }
