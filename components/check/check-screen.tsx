@@ -42,6 +42,10 @@ const CAUTIONS = [
 export function CheckScreen() {
   const params = useSearchParams();
   const id = params.get("id") ?? "";
+  // the step is this screen's own state, mirrored into the address for a reload; it does not wait
+  // for the router to notice a replaced history entry (which a busy render could leave behind)
+  const [stepOf, setStepOf] = useState<{ id: string; step: Step | undefined }>({ id, step: (params.get("step") as Step) ?? undefined });
+  const step = stepOf.id === id ? stepOf.step : ((params.get("step") as Step) ?? undefined);
   const { db } = useLocal();
   const data = useLiveQuery(async () => {
     if (!db) return undefined;
@@ -61,9 +65,10 @@ export function CheckScreen() {
 
   if (data === undefined) return null;
   if (data === null || !data.engine) return <Notice tone="error">This check is not on this phone.</Notice>;
-  return <CheckBody key={id} check={data.check} engine={data.engine} readings={data.readings} tray={data.tray} lastReadings={data.lastReadings} step={(params.get("step") as Step) ?? undefined} go={(s: Step) => {
+  return <CheckBody key={id} check={data.check} engine={data.engine} readings={data.readings} tray={data.tray} lastReadings={data.lastReadings} step={step} go={(s: Step) => {
         // a step is a view of the same record: change the address without a navigation (no request,
-        // so it behaves the same offline); Next keeps useSearchParams in step with history.replaceState
+        // so it behaves the same offline)
+        setStepOf({ id, step: s });
         window.history.replaceState(null, "", `/check?id=${id}&step=${s}`);
         window.scrollTo({ top: 0 });
       }} />;
