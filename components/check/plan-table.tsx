@@ -1,5 +1,6 @@
 "use client";
 
+import { useMemo } from "react";
 import { createColumnHelper, flexRender, getCoreRowModel, useReactTable } from "@tanstack/react-table";
 import { formatLength, type Assignment, type ShimPlan } from "@/lib/lash";
 import type { ValveView } from "@/lib/check/derive";
@@ -32,8 +33,11 @@ export function PlanTable({ engine, plan, byId, lenders }: { engine: LocalEngine
       },
     }),
   ];
+  const data = useMemo(() => plan.assignments.map((a) => ({ a, v: byId.get(a.valveId)! })), [plan, byId]);
+  // autoResetAll off: the table is never paged or expanded, and its reset-on-new-data would set
+  // state on every render of the plan (each render hands it new rows), a render loop
   // eslint-disable-next-line react-hooks/incompatible-library -- TanStack Table returns fresh functions each render; the compiler skips this component
-  const table = useReactTable({ data: plan.assignments.map((a) => ({ a, v: byId.get(a.valveId)! })), columns, getCoreRowModel: getCoreRowModel() });
+  const table = useReactTable({ data, columns, getCoreRowModel: getCoreRowModel(), autoResetAll: false });
   return (
     <div className="-mx-4 overflow-x-auto px-4">
       <table className="figures w-full min-w-[34rem] border-collapse text-left text-base">
