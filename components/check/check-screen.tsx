@@ -96,7 +96,8 @@ function CheckBody({ check, engine, readings, tray, lastReadings, step, go }: { 
   let plan: ShimPlan | null = null;
   let planError: string | null = null;
   try {
-    plan = checkPlan(engine, views, tray, fit.pool);
+    // the plan is worked out only for the steps that show it: a blade tap on Measure stays cheap
+    if (current !== "measure" && current !== "prepare") plan = checkPlan(engine, views, tray, fit.pool);
   } catch (e) {
     planError = e instanceof LashInputError ? e.message : "The plan could not be worked out";
   }

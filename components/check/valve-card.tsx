@@ -1,9 +1,10 @@
 "use client";
 
-import { useEffect, useState } from "react";
+import { memo, useEffect, useState } from "react";
 import { clearanceFromFeelers, formatLength, inchesToMm, INCH_BLADES_THOU, METRIC_BLADES_MM, recommendShim } from "@/lib/lash";
 import { STATE_WORDS, valveLabel, type ValveView } from "@/lib/check/derive";
 import type { LocalEngine, LocalReading } from "@/lib/sync/local-db";
+import { READING_VALUE_FIELDS } from "@/lib/schemas/records";
 import { PhotoStrip } from "@/components/photos/photo-strip";
 
 /** The blades on the strip: the engine's set around its bands, so the usual tap is on screen. */
@@ -21,7 +22,43 @@ export type ReadingEntry = Pick<LocalReading, "installedStamp" | "installedMicro
  * strip (tap the blade that goes; the next one is taken as the one that will not), and the result
  * at once. Every tap is saved on the phone straight away.
  */
-export function ValveCard({ checkId, engine, view, sizes, step, onSave }: { checkId: string; engine: LocalEngine; view: ValveView; sizes: number[]; step: number; onSave: (r: ReadingEntry) => Promise<unknown> }) {
+/**
+ * A card re-renders only when its own valve's view changes (a tap re-derives every valve's view and
+ * reads the engine again, but only one valve changed); onSave is left out of the comparison since it
+ * only closes over that view.
+ */
+export const ValveCard = memo(
+  ValveCardBody,
+  (a, b) =>
+    a.checkId === b.checkId &&
+    a.step === b.step &&
+    (a.engine === b.engine || JSON.stringify(a.engine) === JSON.stringify(b.engine)) &&
+    a.sizes.length === b.sizes.length &&
+    a.sizes.every((x, i) => x === b.sizes[i]) &&
+    sameView(a.view, b.view),
+);
+
+// readings come back from IndexedDB as new objects on every change, so compare their values
+function sameReading(a: LocalReading | undefined, b: LocalReading | undefined) {
+  if (!a || !b) return a === b;
+  return a.round === b.round && READING_VALUE_FIELDS.every((f) => a[f] === b[f]);
+}
+
+function sameView(a: ValveView, b: ValveView) {
+  return (
+    a.valve.id === b.valve.id &&
+    sameReading(a.latest, b.latest) &&
+    a.state === b.state &&
+    a.installed === b.installed &&
+    a.measured === b.measured &&
+    a.nextRound === b.nextRound &&
+    a.spec.min === b.spec.min &&
+    a.spec.max === b.spec.max &&
+    a.spec.target === b.spec.target
+  );
+}
+
+function ValveCardBody({ checkId, engine, view, sizes, step, onSave }: { checkId: string; engine: LocalEngine; view: ValveView; sizes: number[]; step: number; onSave: (r: ReadingEntry) => Promise<unknown> }) {
   const unit = engine.displayUnit;
   const r = view.latest && view.latest.round === view.nextRound ? view.latest : undefined;
   const stamp = r?.installedStamp ?? view.installed;
