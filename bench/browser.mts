@@ -180,7 +180,12 @@ async function runLighthouse(pages: Record<string, string>): Promise<Record<stri
     const out: Record<string, Scores> = {};
     for (const [name, url] of Object.entries(pages)) {
       // mobile emulation with the default simulated throttling, as Lighthouse runs by default
-      const r = await lighthouse(url, { port: chrome.port, output: "json", logLevel: "error", onlyCategories: ["performance", "accessibility", "best-practices"] });
+      let r = await lighthouse(url, { port: chrome.port, output: "json", logLevel: "error", onlyCategories: ["performance", "accessibility", "best-practices"] });
+      // a run that failed to load the page (this shared machine stalls now and then) is tried once more
+      if (r?.lhr.runtimeError || r?.lhr.categories.performance?.score == null) {
+        console.log(`[lighthouse] ${name}: run failed (${r?.lhr.runtimeError?.code ?? "no score"}), trying again`);
+        r = await lighthouse(url, { port: chrome.port, output: "json", logLevel: "error", onlyCategories: ["performance", "accessibility", "best-practices"] });
+      }
       const c = r!.lhr.categories;
       out[name] = { performance: Math.round((c.performance?.score ?? 0) * 100), accessibility: Math.round((c.accessibility?.score ?? 0) * 100), "best-practices": Math.round((c["best-practices"]?.score ?? 0) * 100) };
       for (const a of Object.values(r!.lhr.audits).filter((a) => a.score !== null && a.score < 1 && a.scoreDisplayMode === "binary")) {
