@@ -24,6 +24,33 @@ let stepNo = 0;
 const step = (what: string) => console.log(`[review] ${++stepNo} ${what}`);
 
 describe("a mentor reviews a shared check", () => {
+  it("the mechanic shares a check with the club; it waits in the mentors' queue, and withdrawing takes it out", async () => {
+    const mechCtx = await phoneContext(browser);
+    const mech = await mechCtx.newPage();
+    await signIn(mech, "mara@kestrel-hollow.example");
+    await mech.getByRole("link", { name: /Green single/ }).tap();
+    await mech.getByRole("link", { name: /19,400 km/ }).tap();
+    await mech.getByRole("button", { name: /3\. Plan/ }).tap();
+    await mech.getByRole("button", { name: "Ask Kestrel Hollow Motor Club to review" }).tap();
+    await mech.getByText(/waiting for a mentor/).waitFor({ timeout: 20_000 });
+    step("shared by the mechanic");
+    await waitForMail("teodor@kestrel-hollow.example", /asks for a review: Green single/);
+
+    const mentorCtx = await phoneContext(browser);
+    const mentor = await mentorCtx.newPage();
+    await signIn(mentor, "teodor@kestrel-hollow.example");
+    await mentor.goto(`${baseUrl()}/club`);
+    await mentor.getByRole("link", { name: /Green single/ }).waitFor();
+    // withdrawn: gone from the queue
+    await mech.getByRole("button", { name: "Withdraw" }).tap();
+    await mech.getByRole("button", { name: "Ask Kestrel Hollow Motor Club to review" }).waitFor({ timeout: 20_000 });
+    await mentor.reload();
+    await mentor.getByRole("link", { name: /Blue four/ }).waitFor();
+    await expect(mentor.getByRole("link", { name: /Green single/ }).count()).resolves.toBe(0);
+    await mentorCtx.close();
+    await mechCtx.close();
+  });
+
   it("the mentor comments on a valve and gives a verdict; the mechanic sees both", async () => {
     const mentorCtx = await phoneContext(browser);
     const mentor = await mentorCtx.newPage();
