@@ -4,10 +4,37 @@ import { movesFor, MOVES, STATE_WORDS, type ApiBorrow, type BorrowMove } from "@
 import { moveLoan, withdrawOffer } from "@/lib/sync/writes";
 import type { ClubSummary } from "@/lib/api/client";
 import { useLocal } from "@/components/sync/local-provider";
-import { Button } from "@/components/ui/controls";
+import { useId, useState } from "react";
+import { Button, Field, inputClass } from "@/components/ui/controls";
 import { usePool } from "./use-pool";
 
 const mm = (n: number) => `${n.toFixed(2)} mm`;
+
+/** Give back other shims in exchange (for example the ones that came out of the engine). */
+function SwapBack({ onGive }: { onGive: (size: number) => void }) {
+  const [size, setSize] = useState("");
+  const [error, setError] = useState<string | null>(null);
+  const id = useId();
+  return (
+    <div className="flex flex-wrap items-end gap-2">
+      <Field id={id} label="or give back another size (mm)" error={error ?? undefined}>
+        <input id={id} inputMode="decimal" className={`${inputClass} w-32`} value={size} onChange={(e) => setSize(e.target.value)} />
+      </Field>
+      <Button
+        type="button"
+        look="quiet"
+        onClick={() => {
+          const n = Number(size.replace(",", "."));
+          if (!(n > 0 && n < 20)) return setError("Enter the size in mm, e.g. 2.60");
+          setError(null);
+          onGive(n);
+        }}
+      >
+        Give these back instead
+      </Button>
+    </div>
+  );
+}
 
 function Loan({ b, side, pending, onMove }: { b: ApiBorrow; side: "lender" | "borrower"; pending: BorrowMove | undefined; onMove: (m: BorrowMove, returnSize?: number | null) => void }) {
   const other = side === "lender" ? b.borrowerName : b.lenderName;
@@ -30,6 +57,7 @@ function Loan({ b, side, pending, onMove }: { b: ApiBorrow; side: "lender" | "bo
           ))}
         </div>
       )}
+      {moves.includes("give-back") && <SwapBack onGive={(size) => onMove("give-back", size)} />}
     </li>
   );
 }
