@@ -97,7 +97,8 @@ function InviteForm({ club }: { club: ClubSummary }) {
 
 function Queue({ club }: { club: ClubSummary }) {
   const qc = useQueryClient();
-  const queue = useQuery({ queryKey: queryKeys.queue(club.id), queryFn: () => fetchers.queue(club.id) });
+  // asked again on every visit: the kept copy (for offline) shows until the answer comes
+  const queue = useQuery({ queryKey: queryKeys.queue(club.id), queryFn: () => fetchers.queue(club.id), refetchOnMount: "always" });
   // fetch each waiting check now, while there is a signal: it is kept for reading offline
   useEffect(() => {
     for (const q of queue.data ?? []) {

@@ -12,7 +12,7 @@ export function AskReview({ checkId }: { checkId: string }) {
   const qc = useQueryClient();
   const { syncNow, waiting } = useLocal();
   const clubs = useQuery({ queryKey: queryKeys.clubs(), queryFn: fetchers.clubs, retry: false });
-  const shares = useQuery({ queryKey: queryKeys.shares(checkId), queryFn: () => fetchers.shares(checkId), retry: false });
+  const shares = useQuery({ queryKey: queryKeys.shares(checkId), queryFn: () => fetchers.shares(checkId), retry: false, refetchOnMount: "always" });
   const share = useMutation({
     mutationFn: async (clubId: string) => {
       // the server must hold the check and its readings before a mentor can read them

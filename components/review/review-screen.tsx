@@ -31,8 +31,9 @@ export function ReviewScreen() {
   const qc = useQueryClient();
   const check = useQuery({ queryKey: queryKeys.check(id), queryFn: () => fetchers.check(id), retry: false });
   const readings = useQuery({ queryKey: queryKeys.readings(id), queryFn: () => fetchers.readings(id), enabled: check.isSuccess });
-  const comments = useQuery({ queryKey: queryKeys.comments(id), queryFn: () => fetchers.comments(id), enabled: check.isSuccess });
-  const shares = useQuery({ queryKey: queryKeys.shares(id), queryFn: () => fetchers.shares(id), enabled: check.isSuccess });
+  // the other side may have written since the kept copy was saved: ask again on every visit
+  const comments = useQuery({ queryKey: queryKeys.comments(id), queryFn: () => fetchers.comments(id), enabled: check.isSuccess, refetchOnMount: "always" });
+  const shares = useQuery({ queryKey: queryKeys.shares(id), queryFn: () => fetchers.shares(id), enabled: check.isSuccess, refetchOnMount: "always" });
   const engine = check.data?.engine as unknown as LocalEngine | undefined;
   const views = useMemo(() => (engine && readings.data ? valveViews(engine, readings.data as unknown as LocalReading[], () => null) : null), [engine, readings.data]);
   const plan = useMemo(() => {

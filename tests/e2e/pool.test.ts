@@ -53,6 +53,20 @@ describe("borrowing from the club pool", () => {
     await mech.reload();
     await mech.getByRole("button", { name: /3\. Plan/ }).tap();
     await mech.getByRole("region", { name: "Borrow from the club" }).getByText(/agreed: collect them/).waitFor({ timeout: 20_000 });
+
+    // the handover: the lender marks it, and the shims appear on the borrower's tray
+    const lender2Ctx = await phoneContext(browser);
+    const lender2 = await lender2Ctx.newPage();
+    await signIn(lender2, "teodor@kestrel-hollow.example");
+    await lender2.goto(`${baseUrl()}/club`);
+    const loan2 = lender2.getByTestId(/^loan-/).filter({ hasText: `${count} × ${size} mm to` });
+    await loan2.getByRole("button", { name: "Handed over" }).tap();
+    await loan2.getByText(/on loan/).waitFor({ timeout: 20_000 });
+    await lender2Ctx.close();
+    await mech.goto(`${baseUrl()}/tray`);
+    await mech.getByText(size!, { exact: true }).waitFor({ timeout: 30_000 });
+    await mech.getByRole("button", { name: `One fewer ${Number(size)} mm` }).waitFor();
+    await mech.screenshot({ path: "test-results/pool-tray.png" });
     await mechCtx.close();
   });
 });
