@@ -11,18 +11,13 @@ export async function nextVersion(tx: Db | Tx): Promise<number> {
   return row!.version;
 }
 
-/** Run a write in a transaction that carries one new change version for every row it touches. */
-export function versioned<T>(fn: (tx: Tx, version: number) => Promise<T>): Promise<T> {
-  return db().transaction(async (tx) => fn(tx, await nextVersion(tx)));
-}
-
 /**
- * Like versioned, for writes whose rules may refuse them (Refused) after they took locks. The
- * refused work rolls back in a savepoint but the version row commits, so pulls never wait on a gap
- * in the version sequence (stableCursor waits up to 30 s for a missing number). The refusal is
- * thrown once the transaction has committed.
+ * Run a write in a transaction that carries one new change version for every row it touches. When
+ * the write's rules refuse it (Refused) after it took locks, the refused work rolls back in a
+ * savepoint but the version row commits, so pulls never wait on a gap in the version sequence
+ * (stableCursor waits up to 30 s for a missing number); the refusal is thrown after the commit.
  */
-export async function versionedRefusable<T>(fn: (tx: Tx, version: number) => Promise<T>): Promise<T> {
+export async function versioned<T>(fn: (tx: Tx, version: number) => Promise<T>): Promise<T> {
   let refused: Refused | undefined;
   const out = await db().transaction(async (tx) => {
     const version = await nextVersion(tx);

@@ -4,7 +4,7 @@ import { MOVES, STATE_WORDS, type BorrowInput, type BorrowMove, type OfferInput 
 import { rolesInClub, usersByIds } from "@/db/queries/clubs";
 import * as q from "@/db/queries/pool";
 import { Refused } from "@/db/errors";
-import { versionedRefusable, type Tx } from "@/db/versions";
+import { versioned, type Tx } from "@/db/versions";
 import { queueNotices } from "./notices";
 import type { SessionUser } from "./auth";
 
@@ -52,7 +52,7 @@ export async function applyMove(tx: Tx, version: number, user: SessionUser, a: {
 
 /** For the REST routes: one transaction with its version, then the notices. */
 export async function run(fn: (tx: Tx, version: number) => Promise<After | void>) {
-  const after = await versionedRefusable(fn);
+  const after = await versioned(fn);
   if (after) await after().catch((e: unknown) => console.error("[pool] notice failed:", e instanceof Error ? e.message : e));
 }
 
