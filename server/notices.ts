@@ -13,6 +13,14 @@ export async function queueNotices(items: NoticeInput[]): Promise<void> {
   kickDelivery();
 }
 
+/** Someone who may get a notice; those who turned notices off, and `except` (the actor), get none. */
+export type Recipient = { id: string; email: string; noticesByEmail: boolean };
+
+export async function noticeEach(recipients: Recipient[], except: string, notice: { kind: string; subject: string; body: string }) {
+  const to = recipients.filter((r) => r.noticesByEmail && r.id !== except);
+  if (to.length) await queueNotices(to.map((r) => ({ toEmail: r.email, toUserId: r.id, ...notice })));
+}
+
 let running: Promise<number> | null = null;
 
 export function deliverDueNotices(): Promise<number> {

@@ -5,7 +5,7 @@ import { rolesInClub, usersByIds } from "@/db/queries/clubs";
 import * as q from "@/db/queries/pool";
 import { Refused } from "@/db/errors";
 import { versioned, type Tx } from "@/db/versions";
-import { queueNotices } from "./notices";
+import { noticeEach } from "./notices";
 import type { SessionUser } from "./auth";
 
 /**
@@ -20,9 +20,7 @@ const mm = (n: number) => `${n.toFixed(2)} mm`;
 const link = () => `${env().NEXTAUTH_URL}/club`;
 
 async function tell(toId: string, kind: string, subject: string, body: string) {
-  const [u] = await usersByIds([toId]);
-  if (!u || !u.noticesByEmail) return;
-  await queueNotices([{ toEmail: u.email, toUserId: u.id, kind, subject, body: `${body}\n\n${link()}` }]);
+  await noticeEach(await usersByIds([toId]), "", { kind, subject, body: `${body}\n\n${link()}` });
 }
 
 export async function applyOffer(tx: Tx, version: number, user: SessionUser, a: OfferInput & { id: string }) {
