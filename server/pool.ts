@@ -1,5 +1,6 @@
 import "server-only";
 import { env } from "@/lib/env";
+import { formatLength } from "@/lib/lash";
 import { MOVES, STATE_WORDS, type BorrowInput, type BorrowMove, type OfferInput } from "@/lib/pool/rules";
 import { rolesInClub, usersByIds } from "@/db/queries/clubs";
 import * as q from "@/db/queries/pool";
@@ -16,7 +17,7 @@ import type { SessionUser } from "./auth";
 export type After = () => Promise<void>;
 
 const isMember = async (userId: string, clubId: string) => (await rolesInClub(userId, clubId)).length > 0;
-const mm = (n: number) => `${n.toFixed(2)} mm`;
+const mm = (n: number) => formatLength(n, "mm");
 const link = () => `${env().NEXTAUTH_URL}/club`;
 
 async function tell(toId: string, kind: string, subject: string, body: string) {

@@ -1,6 +1,6 @@
 "use client";
 
-import type { ShimPlan } from "@/lib/lash";
+import { formatLength, toNm, type ShimPlan } from "@/lib/lash";
 import type { PoolFit } from "@/lib/check/pool";
 import { STATE_WORDS } from "@/lib/pool/rules";
 import { askToBorrow } from "@/lib/sync/writes";
@@ -15,9 +15,8 @@ import type { usePool } from "./use-pool";
 export function BorrowList({ plan, pool, fit, checkId }: { plan: ShimPlan; pool: ReturnType<typeof usePool>; fit: PoolFit; checkId: string }) {
   const { db, user } = useLocal();
   const names = new Map(pool.offers.map((o) => [o.ownerId, o.ownerName]));
-  const mm = (n: number) => `${n.toFixed(2)} mm`;
-  const nm = (n: number) => Math.round(n * 1e6);
-  const misfits = fit.wrongSystem.filter((o) => plan.buy.some((b) => nm(b.size) === nm(o.size)));
+  const mm = (n: number) => formatLength(n, "mm");
+  const misfits = fit.wrongSystem.filter((o) => plan.buy.some((b) => toNm(b.size) === toNm(o.size)));
   if (plan.borrow.length === 0 && misfits.length === 0) return null;
   return (
     <section aria-labelledby="borrow-title" className="rounded-2xl border border-line bg-surface p-4">
@@ -26,8 +25,8 @@ export function BorrowList({ plan, pool, fit, checkId }: { plan: ShimPlan; pool:
       </h2>
       <ul className="flex flex-col gap-3" data-testid="borrow-list">
         {plan.borrow.map((b) => {
-          const offers = pool.offeredToMe.filter((o) => o.ownerId === b.ownerId && nm(o.size) === nm(b.size));
-          const asked = pool.borrows.filter((r) => r.borrowerId === user?.id && r.lenderId === b.ownerId && nm(r.size) === nm(b.size) && !["declined", "withdrawn", "settled"].includes(r.state));
+          const offers = pool.offeredToMe.filter((o) => o.ownerId === b.ownerId && toNm(o.size) === toNm(b.size));
+          const asked = pool.borrows.filter((r) => r.borrowerId === user?.id && r.lenderId === b.ownerId && toNm(r.size) === toNm(b.size) && !["declined", "withdrawn", "settled"].includes(r.state));
           const waiting = pool.pendingAsks.filter((a) => offers.some((o) => o.id === a.offerId));
           const who = names.get(b.ownerId) ?? "a member";
           return (

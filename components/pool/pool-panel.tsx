@@ -1,5 +1,6 @@
 "use client";
 
+import { formatLength } from "@/lib/lash";
 import { movesFor, MOVES, STATE_WORDS, type ApiBorrow, type BorrowMove } from "@/lib/pool/rules";
 import { moveLoan, withdrawOffer } from "@/lib/sync/writes";
 import type { ClubSummary } from "@/lib/api/client";
@@ -8,7 +9,7 @@ import { useId, useState } from "react";
 import { Button, Field, inputClass } from "@/components/ui/controls";
 import { usePool } from "./use-pool";
 
-const mm = (n: number) => `${n.toFixed(2)} mm`;
+const mm = (n: number) => formatLength(n, "mm");
 
 /** Give back other shims in exchange (for example the ones that came out of the engine). */
 function SwapBack({ onGive }: { onGive: (size: number) => void }) {

@@ -1,6 +1,7 @@
 import "server-only";
 import { and, asc, desc, eq, gt, inArray, isNull, or } from "drizzle-orm";
 import { alias } from "drizzle-orm/mysql-core";
+import { toNm } from "@/lib/lash";
 import { HOLDING, MOVES, type ApiBorrow, type ApiOffer, type BorrowInput, type BorrowMove, type OfferInput } from "@/lib/pool/rules";
 import { db } from "../client";
 import { Refused } from "../errors";
@@ -12,7 +13,6 @@ import type { Tx } from "../versions";
  * routes and sync pushes share these), and locks the offer row before counting what is left, so
  * two requests racing for the last shim cannot both get it.
  */
-const nm = (mm: number) => Math.round(mm * 1e6);
 
 /**
  * Open requests' holds on each offer. Inside a write it is a locking read: a plain read would see
@@ -49,13 +49,13 @@ export async function getOffer(id: string) {
 /** How many shims of this size the user has on their tray. */
 async function trayCount(tx: Tx, userId: string, size: number) {
   const rows = await tx.select({ size: trayItems.size, count: trayItems.count }).from(trayItems).where(eq(trayItems.ownerId, userId));
-  return rows.filter((r) => nm(r.size) === nm(size)).reduce((n, r) => n + r.count, 0);
+  return rows.filter((r) => toNm(r.size) === toNm(size)).reduce((n, r) => n + r.count, 0);
 }
 
 /** Add (or take, with a negative delta, never below zero) shims of one size on a user's tray. */
 async function adjustTray(tx: Tx, version: number, userId: string, size: number, delta: number, shimDiameter: number | null) {
   const rows = await tx.select().from(trayItems).where(eq(trayItems.ownerId, userId)).for("update");
-  const same = rows.filter((r) => nm(r.size) === nm(size));
+  const same = rows.filter((r) => toNm(r.size) === toNm(size));
   if (delta > 0) {
     const item = same[0];
     if (item) await tx.update(trayItems).set({ count: item.count + delta, version }).where(eq(trayItems.id, item.id));
