@@ -1,23 +1,15 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser, Page } from "playwright-core";
-import { baseUrl, launch, phoneContext } from "../support/browser";
+import type { Browser } from "playwright-core";
+import { baseUrl, launch, phoneContext, signInAs as signIn } from "../support/browser";
 import { waitForMail } from "../support/mail";
 
 // The demo scenario (db/seed.ts): Teodor offers the club spares, one size of which Mara's open plan would buy.
-const PASSWORD = "garage-demo-2026";
 let browser: Browser;
 beforeAll(async () => {
   browser = await launch();
 });
 afterAll(() => browser?.close());
 
-async function signIn(page: Page, email: string) {
-  await page.goto(`${baseUrl()}/sign-in`);
-  await page.getByLabel("E-mail").fill(email);
-  await page.getByLabel("Password").fill(PASSWORD);
-  await page.getByRole("button", { name: "Sign in", exact: true }).tap();
-  await page.waitForURL("**/engines");
-}
 
 describe("borrowing from the club pool", () => {
   it("the plan borrows a size a member offers instead of buying it; the lender agrees", async () => {
@@ -47,7 +39,6 @@ describe("borrowing from the club pool", () => {
     await loan.getByRole("button", { name: "Agree to lend" }).tap();
     await loan.getByText(/agreed: collect them/).waitFor({ timeout: 20_000 });
     await lender.screenshot({ path: "test-results/pool-lender.png", fullPage: true });
-    await lenderCtx.close();
 
     await waitForMail("mara@kestrel-hollow.example", /Shim loan agreed/);
     await mech.reload();
@@ -55,14 +46,9 @@ describe("borrowing from the club pool", () => {
     await mech.getByRole("region", { name: "Borrow from the club" }).getByText(/agreed: collect them/).waitFor({ timeout: 20_000 });
 
     // the handover: the lender marks it, and the shims appear on the borrower's tray
-    const lender2Ctx = await phoneContext(browser);
-    const lender2 = await lender2Ctx.newPage();
-    await signIn(lender2, "teodor@kestrel-hollow.example");
-    await lender2.goto(`${baseUrl()}/club`);
-    const loan2 = lender2.getByTestId(/^loan-/).filter({ hasText: `${count} × ${size} mm to` });
-    await loan2.getByRole("button", { name: "Handed over" }).tap();
-    await loan2.getByText(/on loan/).waitFor({ timeout: 20_000 });
-    await lender2Ctx.close();
+    await loan.getByRole("button", { name: "Handed over" }).tap();
+    await loan.getByText(/on loan/).waitFor({ timeout: 20_000 });
+    await lenderCtx.close();
     await mech.goto(`${baseUrl()}/tray`);
     await mech.getByText(size!, { exact: true }).waitFor({ timeout: 30_000 });
     await mech.getByRole("button", { name: `One fewer ${Number(size)} mm` }).waitFor();

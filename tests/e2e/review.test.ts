@@ -1,24 +1,16 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser, Page } from "playwright-core";
-import { baseUrl, launch, phoneContext } from "../support/browser";
+import type { Browser } from "playwright-core";
+import { baseUrl, launch, phoneContext, signInAs as signIn } from "../support/browser";
 import { waitForMail } from "../support/mail";
 import { cameraJpeg } from "../support/photos";
 
 // The demo scenario (db/seed.ts): Mara's latest check of the four is shared with the club.
-const PASSWORD = "garage-demo-2026";
 let browser: Browser;
 beforeAll(async () => {
   browser = await launch();
 });
 afterAll(() => browser?.close());
 
-async function signIn(page: Page, email: string) {
-  await page.goto(`${baseUrl()}/sign-in`);
-  await page.getByLabel("E-mail").fill(email);
-  await page.getByLabel("Password").fill(PASSWORD);
-  await page.getByRole("button", { name: "Sign in", exact: true }).tap();
-  await page.waitForURL("**/engines");
-}
 
 let stepNo = 0;
 const step = (what: string) => console.log(`[review] ${++stepNo} ${what}`);

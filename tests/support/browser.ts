@@ -1,4 +1,4 @@
-import { chromium, type Browser, type BrowserContext } from "playwright-core";
+import { chromium, type Browser, type BrowserContext, type Page } from "playwright-core";
 
 /** Debian's Chromium, with the flags that keep it from calling out of this closed network. */
 export const CHROMIUM_ARGS = ["--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run", "--disable-background-networking", "--disable-component-update", "--disable-sync"];
@@ -18,4 +18,16 @@ export function baseUrl(): string {
   const url = process.env.LASHWRIGHT_BASE_URL;
   if (!url) throw new Error("LASHWRIGHT_BASE_URL is not set: run browser tests through npm test");
   return url;
+}
+
+/** The demo users' password (scripts/lib/demo-users.mjs; invented). */
+export const DEMO_PASSWORD = "garage-demo-2026";
+
+/** Sign in on the sign-in page as a phone user would, and wait for the engines list. */
+export async function signInAs(page: Page, email: string, password = DEMO_PASSWORD) {
+  await page.goto(`${baseUrl()}/sign-in`);
+  await page.getByLabel("E-mail").fill(email);
+  await page.getByLabel("Password").fill(password);
+  await page.getByRole("button", { name: "Sign in", exact: true }).tap();
+  await page.waitForURL("**/engines");
 }
