@@ -67,26 +67,25 @@ export async function uploadPhoto(user: SessionUser, checkId: string, form: Form
   return { photo: (await q.getPhoto(f.id))!, created: true };
 }
 
-/** A photo may be read by whoever may read its check. */
-export async function readablePhoto(user: SessionUser, photoId: string) {
+/** A photo may be read by whoever may read its check; the answer says as whom. */
+async function readablePhoto(user: SessionUser, photoId: string) {
   const p = await q.getPhotoRow(photoId);
   if (!p) throw notFound("photo");
-  await readableCheck(user, p.checkId).catch(() => {
+  const access = await readableCheck(user, p.checkId).catch(() => {
     throw notFound("photo");
   });
-  return p;
+  return { p, as: access.as };
 }
 
 export async function photoBytes(user: SessionUser, photoId: string) {
-  const p = await readablePhoto(user, photoId);
+  const { p } = await readablePhoto(user, photoId);
   return { row: p, bytes: await getObject(p.objectKey) };
 }
 
 /** The uploader or the check's owner may remove a photo. */
 export async function removePhoto(user: SessionUser, photoId: string) {
-  const p = await readablePhoto(user, photoId);
-  const a = await readableCheck(user, p.checkId);
-  if (p.ownerId !== user.id && a.as !== "owner") throw new ApiError(403, "forbidden", "Only who took the photo or the check's owner can remove it");
+  const { p, as } = await readablePhoto(user, photoId);
+  if (p.ownerId !== user.id && as !== "owner") throw new ApiError(403, "forbidden", "Only who took the photo or the check's owner can remove it");
   await q.deletePhoto(photoId);
   await deleteObject(p.objectKey).catch(() => undefined);
 }
