@@ -37,8 +37,19 @@ export async function preparePhoto(input: Buffer) {
   }
 }
 
-export async function uploadPhoto(user: SessionUser, checkId: string, form: FormData): Promise<{ photo: ApiPhoto; created: boolean }> {
+/**
+ * An upload: a check the caller cannot read answers 404 whatever was sent, and an oversized body is
+ * refused from its declared length (a little room for the form's other fields) before it is read.
+ */
+export async function uploadPhoto(user: SessionUser, checkId: string, body: { bytes: number; read: () => Promise<FormData> }): Promise<{ photo: ApiPhoto; created: boolean }> {
   await readableCheck(user, checkId);
+  if (body.bytes > PHOTO_MAX_BYTES + 64 * 1024) throw tooLarge();
+  let form: FormData;
+  try {
+    form = await body.read();
+  } catch {
+    throw new ApiError(400, "bad_form", "Send the photo as a multipart form");
+  }
   const file = form.get("file");
   if (!(file instanceof Blob)) throw new ApiError(422, "invalid", "file: attach a photo", { file: "attach a photo" });
   if (file.size > PHOTO_MAX_BYTES) throw tooLarge();
