@@ -65,3 +65,19 @@ export function valveLabel(v: ValveName, perKind: number): string {
   const kind = v.kind === "intake" ? "intake" : "exhaust";
   return perKind > 1 ? `Cyl ${v.cylinder} ${kind} ${v.index}` : `Cyl ${v.cylinder} ${kind}`;
 }
+
+/** Valves still open in a check: out of band, waiting to be re-measured after a fit, or never measured. */
+export function openValves(views: ValveView[]): ValveView[] {
+  return views.filter((v) => v.state === "tight" || v.state === "loose" || v.state === "fitted" || v.state === "unmeasured");
+}
+
+/**
+ * The valves of the re-check in progress: those fitted and waiting, and those already re-measured
+ * in the same round. A valve settled in an earlier round is not asked for again.
+ */
+export function recheckValves(views: ValveView[]): ValveView[] {
+  const waiting = views.filter((v) => v.state === "fitted");
+  const round = waiting.length ? Math.max(...waiting.map((v) => v.nextRound)) : Math.max(0, ...views.map((v) => v.latest?.round ?? 0));
+  if (round === 0) return [];
+  return views.filter((v) => v.state === "fitted" || (v.latest?.round === round && v.latest.fittedShim == null));
+}

@@ -9,14 +9,21 @@ import { getMeta, setMeta, type LocalDb } from "./local-db";
 export async function record<N extends MutationName>(db: LocalDb, name: N, args: MutationArgs<N>, applyLocal: (args: MutationArgs<N>) => Promise<unknown>): Promise<number> {
   const parsed = parseMutation(name, args);
   if (!parsed.ok) throw new LashInputError(parsed.reason);
-  const tables = [db.outbox, db.meta, db.engines, db.checks, db.readings, db.tray, db.comments];
-  return db.transaction("rw", tables, async () => {
+  return db.transaction("rw", writeTables(db), async () => {
     await applyLocal(parsed.args as MutationArgs<N>);
     const next = (await getMeta<number>(db, "nextMutationId")) ?? 1;
     await setMeta(db, "nextMutationId", next + 1);
     await db.outbox.add({ mutationId: next, name, args: parsed.args, createdAt: Date.now() });
     return next;
   });
+}
+
+/**
+ * The tables a write may touch. A caller that needs several writes to land together wraps them in
+ * one transaction over these: record() then joins it instead of committing on its own.
+ */
+export function writeTables(db: LocalDb) {
+  return [db.outbox, db.meta, db.engines, db.checks, db.readings, db.tray, db.comments];
 }
 
 export async function waitingCount(db: LocalDb): Promise<number> {

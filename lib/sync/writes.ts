@@ -1,7 +1,9 @@
 import type { MutationArgs } from "./mutations";
-import { record } from "./outbox";
+import { record, writeTables } from "./outbox";
+import { LashInputError, type ShimMove } from "../lash";
+import { swapEffects, workOrderKey, type WorkOrderState } from "../check/fit";
 import { READING_VALUE_FIELDS } from "../schemas/records";
-import type { CheckStatus, LocalCheck, LocalDb, LocalEngine, LocalReading } from "./local-db";
+import { getMeta, setMeta, type CheckStatus, type LocalCheck, type LocalDb, type LocalEngine, type LocalReading } from "./local-db";
 
 /**
  * Every change the garage screens make, each a local write plus an outbox entry (lib/sync/outbox).
@@ -77,6 +79,44 @@ export async function adjustTray(db: LocalDb, size: number, delta: number) {
   const item = all.find((t) => Math.round(t.size * 1e6) === Math.round(size * 1e6));
   if (item) return saveTrayItem(db, { ...item, count: Math.max(0, item.count + delta) });
   if (delta > 0) return saveTrayItem(db, { id: crypto.randomUUID(), size, measuredSize: false, count: delta });
+}
+
+/**
+ * Fitting begins: the check moves to "fitting" and the swap list is kept on the phone with no
+ * ticks, in one transaction, so a reload mid-fit shows the same list with the same ticks. A list
+ * still being worked through is kept as it is: only a finished one gives way to a new round's.
+ */
+export function beginFit(db: LocalDb, checkId: string, moves: ShimMove[]) {
+  return db.transaction("rw", writeTables(db), async () => {
+    const open = await getMeta<WorkOrderState>(db, workOrderKey(checkId));
+    if (open && !open.moves.every((_, i) => open.done[i])) return;
+    await setMeta(db, workOrderKey(checkId), { moves, done: moves.map(() => false) } satisfies WorkOrderState);
+    await setCheckStatus(db, checkId, "fitting");
+  });
+}
+
+/**
+ * Tick (or untick) one swap: the tray move, the valve's fitted shim and the tick itself are written
+ * in one transaction, and the tick's state is read inside it, so a page closed half-way or a double
+ * tap can never take a shim from the tray twice.
+ */
+export function toggleSwap(db: LocalDb, checkId: string, index: number): Promise<boolean> {
+  return db.transaction("rw", writeTables(db), async () => {
+    const order = await getMeta<WorkOrderState>(db, workOrderKey(checkId));
+    const move = order?.moves[index];
+    if (!order || !move) throw new LashInputError("this swap is not on the list: open the Fit step again from the plan");
+    const on = !order.done[index];
+    const effects = swapEffects(move, on);
+    for (const t of effects.tray) await adjustTray(db, t.size, t.delta);
+    if (effects.fit) {
+      const { valveId, shim } = effects.fit;
+      const latest = (await db.readings.where("checkId").equals(checkId).filter((r) => r.valve === valveId).toArray()).sort((a, b) => b.round - a.round)[0];
+      if (!latest) throw new LashInputError(`${valveId} has no reading in this check to fit a shim to`);
+      await saveReading(db, checkId, { ...latest, fittedShim: shim });
+    }
+    await setMeta(db, workOrderKey(checkId), { moves: order.moves, done: order.moves.map((_, j) => (j === index ? on : !!order.done[j])) } satisfies WorkOrderState);
+    return on;
+  });
 }
 
 /** A comment by the check's owner or a mentor, kept here until the next sync sends it. */

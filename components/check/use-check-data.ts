@@ -1,0 +1,57 @@
+"use client";
+
+import { useLiveQuery } from "dexie-react-hooks";
+import { useCallback, useMemo } from "react";
+import { engineSizes, valveViews, type ValveView } from "@/lib/check/derive";
+import { lastShims, previousCheck } from "@/lib/check/previous";
+import type { LocalCheck, LocalEngine, LocalReading, LocalTrayItem } from "@/lib/sync/local-db";
+import { saveReading } from "@/lib/sync/writes";
+import { useLocal } from "@/components/sync/local-provider";
+import type { ReadingEntry } from "./valve-card";
+
+export interface CheckData {
+  check: LocalCheck;
+  engine: LocalEngine;
+  readings: LocalReading[];
+  tray: LocalTrayItem[];
+  /** each bucket's shim as the previous check of this engine left it */
+  previous: Map<string, number>;
+}
+
+/**
+ * A check and all it needs from the phone's database, kept live: undefined while loading, null
+ * when the check (or its engine) is not on this phone.
+ */
+export function useCheckData(id: string): CheckData | null | undefined {
+  const { db } = useLocal();
+  return useLiveQuery(async () => {
+    if (!db) return undefined;
+    const check = await db.checks.get(id);
+    if (!check) return null;
+    const [engine, readings, tray, checks] = await Promise.all([db.engines.get(check.engineId), db.readings.where("checkId").equals(id).toArray(), db.tray.toArray(), db.checks.where("engineId").equals(check.engineId).toArray()]);
+    if (!engine) return null;
+    const before = previousCheck(check, checks);
+    const previous = lastShims(before ? await db.readings.where("checkId").equals(before.id).toArray() : []);
+    return { check, engine, readings, tray, previous };
+  }, [db, id]);
+}
+
+/** What every step reads from the data: the engine's shim sizes and series step, and each valve's view. */
+export function useCheckModel({ engine, readings, previous }: Pick<CheckData, "engine" | "readings" | "previous">) {
+  const sizes = useMemo(() => engineSizes(engine), [engine]);
+  const seriesStep = "step" in engine.shims ? engine.shims.step : 0.05;
+  const views: ValveView[] = useMemo(() => valveViews(engine, readings, (v) => previous.get(v) ?? engine.assembledShim), [engine, readings, previous]);
+  return { sizes, seriesStep, views };
+}
+
+/** A new measurement of one valve, saved in the round it belongs to. */
+export function useSaveReading(checkId: string) {
+  const { db } = useLocal();
+  return useCallback(
+    (v: ValveView) => async (r: ReadingEntry) => {
+      if (!db) return;
+      await saveReading(db, checkId, { valve: v.valve.id, round: v.nextRound, fittedShim: null, ...r });
+    },
+    [db, checkId],
+  );
+}
