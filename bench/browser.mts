@@ -9,7 +9,7 @@ import { chromium, type Browser, type Page } from "playwright-core";
 import * as chromeLauncher from "chrome-launcher";
 import lighthouse from "lighthouse";
 // @ts-expect-error plain JS set-up module shared with npm start and npm test
-import { freePort, root } from "../scripts/lib/setup.mjs";
+import { freePort, root, spawnChild, stopChild } from "../scripts/lib/setup.mjs";
 import { CHROMIUM_ARGS, PHONE } from "../tests/support/browser";
 import { Client } from "../tests/support/api";
 import { ENGINE_FOUR } from "../tests/support/fixtures";
@@ -39,13 +39,13 @@ async function startBarePage() {
     b.on("exit", (code) => (code === 0 ? resolve() : reject(new Error(`bare page build failed (${code})`))));
   });
   const port = await freePort();
-  const server = spawn(process.execPath, [next, "start", "-H", "127.0.0.1", "-p", String(port)], { cwd: dir, env: { ...process.env, NODE_ENV: "production", NEXT_TELEMETRY_DISABLED: "1" }, stdio: "ignore" });
+  const server = spawnChild(process.execPath, [next, "start", "-H", "127.0.0.1", "-p", String(port)], { cwd: dir, env: { ...process.env, NODE_ENV: "production", NEXT_TELEMETRY_DISABLED: "1" }, stdio: "ignore" });
   const url = `http://127.0.0.1:${port}`;
   for (let i = 0; i < 200 && !(await fetch(url).then((r) => r.ok).catch(() => false)); i++) await new Promise((r) => setTimeout(r, 150));
   return {
     url,
     stop: async () => {
-      await new Promise<void>((r) => (server.once("exit", () => r()), server.kill("SIGTERM")));
+      await stopChild(server, { graceMs: 4000 });
       rmSync(dir, { recursive: true, force: true });
     },
   };

@@ -1,12 +1,11 @@
 // The production server the benchmarks measure: a throwaway MariaDB, mail catcher and photo store,
 // migrated, and `next start` on the existing build (npm test or next build makes it).
-import { spawn } from "node:child_process";
 import { existsSync, rmSync } from "node:fs";
 import path from "node:path";
 import bcrypt from "bcryptjs";
 import mysql from "mysql2/promise";
 // @ts-expect-error plain JS set-up module shared with npm start and npm test
-import { freePort, root, runTs, startMariadb, startMailCatcher, startObjectStore } from "../scripts/lib/setup.mjs";
+import { freePort, root, runTs, spawnChild, startMariadb, startMailCatcher, startObjectStore, stopChild } from "../scripts/lib/setup.mjs";
 
 export interface BenchServer {
   url: string;
@@ -32,11 +31,11 @@ export async function startBenchServer(): Promise<BenchServer> {
     const store = await startObjectStore({ port: await freePort(), dir: path.join(dir, "photos") });
     stops.push(() => store.stop());
     const env = { ...store.env, DATABASE_URL: db.url, SMTP_URL: mail.smtpUrl, NEXTAUTH_SECRET: "bench-secret-bench-secret-bench-secret-0123" };
-    runTs("db/migrate.ts", env);
+    await runTs("db/migrate.ts", env);
     const port = await freePort();
     const url = `http://127.0.0.1:${port}`;
-    const server = spawn(process.execPath, ["node_modules/next/dist/bin/next", "start", "-H", "127.0.0.1", "-p", String(port)], { cwd: root, env: { ...process.env, ...env, NODE_ENV: "production", NEXTAUTH_URL: url }, stdio: "ignore" });
-    stops.push(() => new Promise((r) => (server.once("exit", () => r()), server.kill("SIGTERM"))));
+    const server = spawnChild(process.execPath, ["node_modules/next/dist/bin/next", "start", "-H", "127.0.0.1", "-p", String(port)], { cwd: root, env: { ...process.env, ...env, NODE_ENV: "production", NEXTAUTH_URL: url }, stdio: "ignore" });
+    stops.push(() => stopChild(server, { graceMs: 4000 }));
     for (let i = 0; i < 200 && !(await fetch(url).then((r) => r.ok).catch(() => false)); i++) await new Promise((r) => setTimeout(r, 150));
     const makeUser = async (tag: string) => {
       const c = await mysql.createConnection({ uri: db.url });

@@ -1,9 +1,8 @@
 // `npm start`: everything from a fresh machine to the app with demo data on http://127.0.0.1:3000.
-import { spawn } from "node:child_process";
 import { randomBytes } from "node:crypto";
 import { existsSync, mkdirSync, readFileSync, writeFileSync } from "node:fs";
 import path from "node:path";
-import { CHROMIUM, cleanupOnExit, startMailCatcher, startObjectStore, ensureDebianPackages, ensureNodeModules, log, MARIADB, portFree, root, run, runTs, SetupError, startMariadb } from "./lib/setup.mjs";
+import { CHROMIUM, cleanupOnExit, ended, startMailCatcher, startObjectStore, ensureDebianPackages, ensureNodeModules, log, MARIADB, portFree, root, runAsync, runTs, SetupError, spawnChild, startMariadb, stopChild } from "./lib/setup.mjs";
 
 const PORT = Number(process.env.PORT ?? 3000);
 const DB_PORT = Number(process.env.DB_PORT ?? 3316);
@@ -30,33 +29,29 @@ async function main() {
     const secretFile = path.join(DATA_DIR, "auth-secret");
     if (!existsSync(secretFile)) writeFileSync(secretFile, randomBytes(32).toString("base64url"), { mode: 0o600 });
     const env = { DATABASE_URL: database.url, NEXTAUTH_URL: `http://127.0.0.1:${PORT}`, NEXTAUTH_SECRET: readFileSync(secretFile, "utf8").trim(), SMTP_URL: mail.smtpUrl, ...store.env };
-    runTs("db/migrate.ts", env);
-    runTs("db/seed.ts", env);
+    await runTs("db/migrate.ts", env);
+    await runTs("db/seed.ts", env);
     if (process.env.LASHWRIGHT_SKIP_BUILD !== "1") {
       log("building the app (next build)...");
-      run(process.execPath, ["node_modules/next/dist/bin/next", "build"], { env: { ...env, NEXT_TELEMETRY_DISABLED: "1" }, what: "next build" });
+      await runAsync(process.execPath, ["node_modules/next/dist/bin/next", "build"], { env: { ...env, NEXT_TELEMETRY_DISABLED: "1" }, what: "next build" });
     }
-    const server = spawn(process.execPath, ["node_modules/next/dist/bin/next", "start", "-H", "127.0.0.1", "-p", String(PORT)], {
+    const server = spawnChild(process.execPath, ["node_modules/next/dist/bin/next", "start", "-H", "127.0.0.1", "-p", String(PORT)], {
       cwd: root,
       stdio: ["ignore", "inherit", "inherit"],
       env: { ...process.env, ...env, NODE_ENV: "production", NEXT_TELEMETRY_DISABLED: "1" },
     });
-    cleanup.add(
-      () =>
-        new Promise((resolve) => {
-          if (server.exitCode !== null) return resolve();
-          server.once("exit", resolve);
-          server.kill("SIGTERM");
-        }),
-    );
+    cleanup.add(() => stopChild(server, { graceMs: 4000 }));
     const { DEMO_USERS, DEMO_PASSWORD } = await import("./lib/demo-users.mjs");
     log(`Lashwright is on http://127.0.0.1:${PORT}  (Ctrl-C stops the app and its database)`);
     log(`demo sign-ins, password "${DEMO_PASSWORD}":`);
     for (const u of DEMO_USERS) log(`  ${u.email.padEnd(32)} ${u.says}`);
-    server.on("exit", async (code) => {
+    // The app ending on its own (a crash, or killed) takes the rest down with it.
+    server.on("exit", async (code, signal) => {
+      if (signal || code) log(`the app stopped (${signal ?? `exit ${code}`}); stopping the rest...`);
       await cleanup.runAll();
-      process.exit(code ?? 0);
+      process.exit(code ?? 1);
     });
+    if (ended(server)) throw new SetupError("the app exited at start");
   } catch (e) {
     await cleanup.runAll();
     if (e instanceof SetupError) {

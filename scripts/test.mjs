@@ -2,11 +2,10 @@
 // lint, unit tests, a production build, integration tests over HTTP against it on a throwaway
 // MariaDB, and browser tests in real Chromium. Every process it starts is stopped again, also when a
 // step fails; the exit status is the result, and the last line reads "N passed, N failed".
-import { spawn } from "node:child_process";
 import { randomBytes } from "node:crypto";
 import { existsSync, mkdirSync, readFileSync, rmSync } from "node:fs";
 import path from "node:path";
-import { CHROMIUM, cleanupOnExit, ensureDebianPackages, ensureNodeModules, freePort, log, MARIADB, root, run, runTs, SetupError, startMailCatcher, startMariadb, startObjectStore } from "./lib/setup.mjs";
+import { CHROMIUM, cleanupOnExit, ended, ensureDebianPackages, ensureNodeModules, freePort, log, MARIADB, root, runAsync, runTs, SetupError, spawnChild, startMailCatcher, startMariadb, startObjectStore, stopChild } from "./lib/setup.mjs";
 
 const args = process.argv.slice(2);
 // `npm run soak`: the fault-injection sync test alone, with 10,000 mutations
@@ -17,10 +16,10 @@ const filters = soak ? ["tests/integration/sync/faults"] : args.filter((a) => ![
 const results = { passed: 0, failed: 0, skipped: 0 };
 const failures = [];
 
-function stage(name, fn) {
+async function stage(name, fn) {
   log(`── ${name}`);
   try {
-    fn();
+    await fn();
     return true;
   } catch (e) {
     failures.push(name);
@@ -30,11 +29,11 @@ function stage(name, fn) {
 }
 
 /** Run one vitest project and add its counts (from its JSON report) to the totals. */
-function vitest(project, env) {
+async function vitest(project, env) {
   const report = path.join(root, "test-results", `${project}.json`);
   rmSync(report, { force: true });
-  const ok = stage(`${project} tests`, () =>
-    run(process.execPath, ["node_modules/vitest/vitest.mjs", "run", "--project", project, "--reporter=default", "--reporter=json", `--outputFile.json=${report}`, ...filters], {
+  const ok = await stage(`${project} tests`, () =>
+    runAsync(process.execPath, ["node_modules/vitest/vitest.mjs", "run", "--project", project, "--reporter=default", "--reporter=json", `--outputFile.json=${report}`, ...filters], {
       env: soak ? { ...env, LASHWRIGHT_FAULT_MUTATIONS: process.env.LASHWRIGHT_FAULT_MUTATIONS ?? "10000" } : env,
       what: `vitest ${project}`,
     }),
@@ -49,7 +48,7 @@ function vitest(project, env) {
 }
 
 function startNext(port, env) {
-  const child = spawn(process.execPath, ["node_modules/next/dist/bin/next", "start", "-H", "127.0.0.1", "-p", String(port)], {
+  const child = spawnChild(process.execPath, ["node_modules/next/dist/bin/next", "start", "-H", "127.0.0.1", "-p", String(port)], {
     cwd: root,
     stdio: ["ignore", "pipe", "pipe"],
     env: { ...process.env, ...env, NODE_ENV: "production", NEXT_TELEMETRY_DISABLED: "1" },
@@ -59,7 +58,7 @@ function startNext(port, env) {
   child.stderr.on("data", (d) => (out += d));
   const ready = (async () => {
     for (let i = 0; i < 300; i++) {
-      if (child.exitCode !== null) throw new SetupError(`next start exited early:\n${out.slice(-2000)}`);
+      if (ended(child)) throw new SetupError(`next start exited early:\n${out.slice(-2000)}`);
       try {
         const res = await fetch(`http://127.0.0.1:${port}/`);
         if (res.status < 500) return;
@@ -70,12 +69,7 @@ function startNext(port, env) {
     }
     throw new SetupError("next start did not answer within 60 s");
   })();
-  const stop = () =>
-    new Promise((resolve) => {
-      if (child.exitCode !== null) return resolve();
-      child.once("exit", resolve);
-      child.kill("SIGTERM");
-    });
+  const stop = () => stopChild(child, { graceMs: 4000 });
   return { ready, stop };
 }
 
@@ -88,10 +82,10 @@ async function main() {
     mkdirSync(path.join(root, "test-results"), { recursive: true });
 
     if (!only) {
-      stage("typecheck (tsc --noEmit)", () => run(process.execPath, ["node_modules/typescript/bin/tsc", "--noEmit"], { what: "tsc" }));
-      stage("lint (eslint)", () => run(process.execPath, ["node_modules/eslint/bin/eslint.js", ".", "--max-warnings=0"], { what: "eslint" }));
+      await stage("typecheck (tsc --noEmit)", () => runAsync(process.execPath, ["node_modules/typescript/bin/tsc", "--noEmit"], { what: "tsc" }));
+      await stage("lint (eslint)", () => runAsync(process.execPath, ["node_modules/eslint/bin/eslint.js", ".", "--max-warnings=0"], { what: "eslint" }));
     }
-    if (!only || only === "unit") vitest("unit", {});
+    if (!only || only === "unit") await vitest("unit", {});
 
     if (!only || only !== "unit") {
       // A throwaway database and mail catcher: own folder and ports, removed before and after the run.
@@ -115,22 +109,22 @@ async function main() {
         LASHWRIGHT_MAIL_API: mail.apiUrl,
         NEXTAUTH_SECRET: randomBytes(32).toString("base64url"),
       };
-      runTs("db/migrate.ts", env);
+      await runTs("db/migrate.ts", env);
       // LASHWRIGHT_REUSE_BUILD=1 (for a developer iterating on tests) keeps the existing .next build
       const reuse = process.env.LASHWRIGHT_REUSE_BUILD === "1" && existsSync(path.join(root, ".next", "BUILD_ID"));
       const built =
         reuse ||
-        stage("production build (next build)", () => run(process.execPath, ["node_modules/next/dist/bin/next", "build"], { env: { ...env, NEXT_TELEMETRY_DISABLED: "1" }, what: "next build" }));
+        (await stage("production build (next build)", () => runAsync(process.execPath, ["node_modules/next/dist/bin/next", "build"], { env: { ...env, NEXT_TELEMETRY_DISABLED: "1" }, what: "next build" })));
       if (!built) failures.push("integration and browser tests skipped: the build failed");
       // Integration tests talk HTTP to the production build; they start and restart it themselves.
-      if (built && (!only || only === "integration")) vitest("integration", env);
+      if (built && (!only || only === "integration")) await vitest("integration", env);
       if (built && (!only || only === "e2e")) {
-        runTs("db/seed.ts", env);
+        await runTs("db/seed.ts", env);
         const port = await freePort();
         const server = startNext(port, { ...env, NEXTAUTH_URL: `http://127.0.0.1:${port}` });
         cleanup.add(server.stop);
         await server.ready;
-        vitest("e2e", { ...env, LASHWRIGHT_BASE_URL: `http://127.0.0.1:${port}` });
+        await vitest("e2e", { ...env, LASHWRIGHT_BASE_URL: `http://127.0.0.1:${port}` });
         await server.stop();
       }
     }

@@ -22,6 +22,9 @@ export interface App {
   output(): string;
 }
 
+// A child killed by a signal keeps exitCode null: look at signalCode too.
+const ended = (c: ChildProcess) => c.exitCode !== null || c.signalCode !== null;
+
 /** The production build (made by npm test) served by `next start` on a free loopback port. */
 export async function startApp(extraEnv: Record<string, string> = {}): Promise<App> {
   const port = await freePort();
@@ -37,17 +40,19 @@ export async function startApp(extraEnv: Record<string, string> = {}): Promise<A
     child.stdout!.on("data", (d) => (out += d));
     child.stderr!.on("data", (d) => (out += d));
     for (let i = 0; i < 300; i++) {
-      if (child.exitCode !== null) throw new Error(`next start exited:\n${out}`);
+      if (ended(child)) throw new Error(`next start exited:\n${out}`);
       const ok = await fetch(`${url}/`).then((r) => r.status < 500).catch(() => false);
       if (ok) return;
       await new Promise((r) => setTimeout(r, 150));
     }
     throw new Error("next start did not answer");
   };
+  // Bounded: a server that ignores SIGTERM is killed after 5 s, so a test never hangs on its stop.
   const stop = () =>
     new Promise<void>((resolve) => {
-      if (!child || child.exitCode !== null) return resolve();
-      child.once("exit", () => resolve());
+      if (!child || ended(child)) return resolve();
+      const kill = setTimeout(() => child.kill("SIGKILL"), 5000);
+      child.once("exit", () => (clearTimeout(kill), resolve()));
       child.kill("SIGTERM");
     });
   await boot();
