@@ -104,6 +104,7 @@ async function stopsWithin(run: ReturnType<typeof start>, signal: () => void, ms
   signal();
   while (Date.now() - t0 < ms && pids.some(alive)) await new Promise((r) => setTimeout(r, 100));
   const left = pids.filter(alive).map((p) => `${p} ${commandOf(p)}`);
+  console.log(`[start test] ${pids.length} processes, ${left.length ? `${left.length} left` : "all ended"} after ${((Date.now() - t0) / 1000).toFixed(1)} s`);
   for (const p of pids.filter(alive)) process.kill(p, "SIGKILL");
   return { left, seconds: (Date.now() - t0) / 1000 };
 }
