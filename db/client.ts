@@ -1,31 +1,89 @@
 import "server-only";
+import { AsyncLocalStorage } from "node:async_hooks";
 import { drizzle, type MySql2Database } from "drizzle-orm/mysql2";
 import mysql from "mysql2/promise";
 import { env } from "@/lib/env";
+import { overloaded } from "@/lib/errors";
 import * as schema from "./schema";
 
-export type Db = MySql2Database<typeof schema>;
+type Drizzle = MySql2Database<typeof schema>;
+export type Tx = Parameters<Parameters<Drizzle["transaction"]>[0]>[0];
+/** The pool outside a transaction: it cannot start one (use transaction()), so every write goes through it. */
+export type Db = Omit<Drizzle, "transaction">;
+/** Where a query runs: the pool (a read on its own) or the caller's transaction. */
+export type Executor = Db | Tx;
 
 // One pool per process, kept across hot reloads in development (module state is reset there).
-const globalForDb = globalThis as unknown as { lashwrightPool?: mysql.Pool; lashwrightDb?: Db };
+const globalForDb = globalThis as unknown as { lashwrightPool?: mysql.Pool; lashwrightDb?: Drizzle };
+
+/**
+ * Marks the code running inside transaction(). Asking the pool for a connection there (db()) is
+ * how pushes once deadlocked the server: each held one connection and waited for a second.
+ */
+const inTransaction = new AsyncLocalStorage<true>();
+
+export class NestedConnectionError extends Error {
+  constructor() {
+    super("db() was called inside a transaction: pass the transaction (the executor) instead of asking the pool for a second connection");
+  }
+}
+
+/**
+ * A bounded wait for a connection: mysql2's pool waits forever. A waiter that times out gets the
+ * overloaded error (503 with Retry-After); if a connection reaches it later, it goes straight back.
+ */
+function boundAcquire(p: mysql.Pool, timeoutMs: number) {
+  const core = (p as unknown as { pool: { getConnection(cb: (err: unknown, c?: { release(): void }) => void): void } }).pool;
+  const acquire = core.getConnection.bind(core);
+  core.getConnection = (cb) => {
+    let settled = false;
+    const timer = setTimeout(() => {
+      settled = true;
+      cb(overloaded("The server is busy (no database connection free): try again in a moment"));
+    }, timeoutMs);
+    acquire((err, conn) => {
+      if (settled) return conn?.release();
+      settled = true;
+      clearTimeout(timer);
+      cb(err, conn);
+    });
+  };
+}
 
 export function pool(): mysql.Pool {
   if (!globalForDb.lashwrightPool) {
-    globalForDb.lashwrightPool = mysql.createPool({
-      uri: env().DATABASE_URL,
-      connectionLimit: 10,
+    const e = env();
+    const p = mysql.createPool({
+      uri: e.DATABASE_URL,
+      connectionLimit: e.DB_POOL_SIZE,
       // decimals arrive as strings; drizzle's mode "number" converts the columns it knows
       supportBigNumbers: true,
       timezone: "Z",
       dateStrings: false,
     });
+    boundAcquire(p, e.DB_ACQUIRE_TIMEOUT_MS);
+    // a row lock is waited for at most this long (MariaDB's default is 50 s), then the write fails cleanly
+    p.pool.on("connection", (c) => c.query(`SET SESSION innodb_lock_wait_timeout = ${e.DB_LOCK_WAIT_SECONDS}`));
+    globalForDb.lashwrightPool = p;
   }
   return globalForDb.lashwrightPool;
 }
 
-export function db(): Db {
+function drizzleDb(): Drizzle {
   if (!globalForDb.lashwrightDb) globalForDb.lashwrightDb = drizzle(pool(), { schema, mode: "default" });
   return globalForDb.lashwrightDb;
+}
+
+/** The pool, for work outside a transaction. Inside one it throws: use the transaction you were given. */
+export function db(): Db {
+  if (inTransaction.getStore()) throw new NestedConnectionError();
+  return drizzleDb();
+}
+
+/** The one way to open a transaction; the code inside cannot reach the pool (see db()). */
+export function transaction<T>(fn: (tx: Tx) => Promise<T>): Promise<T> {
+  if (inTransaction.getStore()) return Promise.reject(new NestedConnectionError());
+  return inTransaction.run(true, () => drizzleDb().transaction(fn));
 }
 
 export async function closeDb(): Promise<void> {

@@ -10,13 +10,18 @@ export function mysqlErrorCode(e: unknown): string | undefined {
   return undefined;
 }
 
-/** A change the rules refuse (an unknown record, an impossible step); its message is for the user. */
-export class Refused extends Error {
-  /** 404 when the record is not the caller's to see, 409 when the step cannot be taken now */
-  constructor(
-    message: string,
-    readonly status: 404 | 409 = 409,
-  ) {
-    super(message);
+/**
+ * A failure of the moment, not of the request: a row lock waited for too long, a deadlock chose
+ * this transaction, the connection dropped. Sent again a little later, the same request succeeds,
+ * so it is answered 503 with Retry-After and a push never records it as the change's refusal.
+ */
+export function isTransientDbError(e: unknown): boolean {
+  const code = mysqlErrorCode(e);
+  if (code === "ER_LOCK_WAIT_TIMEOUT" || code === "ER_LOCK_DEADLOCK" || code === "ER_CON_COUNT_ERROR") return true;
+  for (let cur: unknown = e, depth = 0; cur && depth < 5; depth++) {
+    const c = (cur as { code?: unknown }).code;
+    if (c === "PROTOCOL_CONNECTION_LOST" || c === "ECONNREFUSED" || c === "ECONNRESET" || c === "ETIMEDOUT") return true;
+    cur = (cur as { cause?: unknown }).cause;
   }
+  return false;
 }

@@ -1,4 +1,6 @@
 import { BORROW_STATES } from "../lib/pool/rules";
+import { VERDICT_NAMES } from "../lib/check/verdicts";
+import { CHECK_STATUSES } from "../lib/schemas/records";
 import {
   bigint,
   boolean,
@@ -160,7 +162,7 @@ export const checks = mysqlTable(
     ownerId: ref("owner_id").notNull().references(() => users.id, { onDelete: "cascade" }),
     odometer: decimal("odometer", { precision: 10, scale: 1, mode: "number" }).notNull(),
     measuredHot: boolean("measured_hot").notNull().default(false),
-    status: mysqlEnum("status", ["measuring", "planned", "fitting", "verifying", "closed"]).notNull().default("measuring"),
+    status: mysqlEnum("status", CHECK_STATUSES).notNull().default("measuring"),
     notes: text("notes"),
     startedAt: timestamp("started_at", { fsp: 3 }).notNull().defaultNow(),
     closedAt: timestamp("closed_at", { fsp: 3 }),
@@ -227,7 +229,7 @@ export const trayItems = mysqlTable(
   (t) => [index("tray_items_owner_idx").on(t.ownerId, t.version)],
 );
 
-export const verdicts = ["close-up", "measure-again", "stop-and-ask"] as const;
+export const verdicts = VERDICT_NAMES;
 
 /** Spare shims a member offers to lend to one club; the count goes down as they are handed over. */
 export const poolOffers = mysqlTable(

@@ -3,7 +3,7 @@ import { eq } from "drizzle-orm";
 import { fileURLToPath } from "node:url";
 import { bladesFor, clearanceFromFeelers, METRIC_BLADES_MM, planShims, shimSeries, valveNames } from "@/lib/lash";
 import { hashPassword } from "@/lib/auth/password";
-import { closeDb, db } from "./client";
+import { closeDb, db, transaction } from "./client";
 import { checks, clubs, comments, engines, memberships, poolOffers, readings, shares, trayItems, users } from "./schema";
 import { nextVersion } from "./versions";
 import { DEMO_PASSWORD, DEMO_USERS } from "../scripts/lib/demo-users.mjs";
@@ -113,7 +113,7 @@ export async function seedDemo(): Promise<{ seeded: boolean }> {
   if (existing.length > 0) return { seeded: false };
 
   const hash = await hashPassword(DEMO_PASSWORD);
-  await d.transaction(async (tx) => {
+  await transaction(async (tx) => {
     const version = await nextVersion(tx);
     const userIds = DEMO_USERS.map(() => crypto.randomUUID());
     await tx.insert(users).values(

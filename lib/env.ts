@@ -22,6 +22,12 @@ const envSchema = z.object({
   S3_REGION: z.string().default("us-east-1"),
   S3_ACCESS_KEY: z.string().default("S3RVER"),
   S3_SECRET_KEY: z.string().default("S3RVER"),
+  /** database connections per server process (MariaDB's own max_connections must be higher) */
+  DB_POOL_SIZE: z.coerce.number({ error: "DB_POOL_SIZE must be a whole number from 1 to 500" }).int().min(1).max(500).default(10),
+  /** how long a request waits for a free connection before it is answered 503 with Retry-After */
+  DB_ACQUIRE_TIMEOUT_MS: z.coerce.number({ error: "DB_ACQUIRE_TIMEOUT_MS must be a whole number of milliseconds, 50 to 60000" }).int().min(50).max(60_000).default(5000),
+  /** how long a write waits for a row another write holds before it fails (MariaDB waits 50 s by default) */
+  DB_LOCK_WAIT_SECONDS: z.coerce.number({ error: "DB_LOCK_WAIT_SECONDS must be a whole number from 1 to 60" }).int().min(1).max(60).default(10),
 });
 
 export type Env = z.infer<typeof envSchema>;

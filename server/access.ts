@@ -1,8 +1,9 @@
 import "server-only";
 import type { Role } from "@/db/schema";
+import type { Executor } from "@/db/client";
+import { forbidden, notFound } from "@/lib/errors";
 import { getCheckRow, getEngineRow, getTrayRow } from "@/db/queries/garage";
 import { getShare, mentorSharesForCheck, rolesInClub } from "@/db/queries/clubs";
-import { forbidden, notFound } from "./http";
 import type { SessionUser } from "./auth";
 
 /**
@@ -12,56 +13,74 @@ import type { SessionUser } from "./auth";
  * their club and never reads unshared checks. A record the caller may not even read answers 404,
  * exactly as one that does not exist, so no id can be probed; one they may read but not change
  * answers 403.
+ *
+ * Every rule takes the executor it reads through: a write passes its own transaction, so the
+ * decision and the change it allows are one transaction and no second connection is asked for.
  */
 
-export async function ownEngine(user: SessionUser, engineId: string) {
-  const e = await getEngineRow(engineId);
+export async function ownEngine(ex: Executor, user: SessionUser, engineId: string) {
+  const e = await getEngineRow(ex, engineId);
   if (!e || e.ownerId !== user.id) throw notFound("engine");
   return e;
 }
 
+/** A record the caller writes by its id: theirs, or not there yet (a new one); anyone else's is "no such". */
+function ownOrNew<R extends { ownerId: string }>(row: R | undefined, user: SessionUser, what: string): R | undefined {
+  if (row && row.ownerId !== user.id) throw notFound(what);
+  return row;
+}
+
+export const ownOrNewEngine = async (ex: Executor, user: SessionUser, id: string) => ownOrNew(await getEngineRow(ex, id), user, "engine");
+export const ownOrNewTrayItem = async (ex: Executor, user: SessionUser, id: string) => ownOrNew(await getTrayRow(ex, id), user, "tray item");
+
 export type CheckAccess = { check: NonNullable<Awaited<ReturnType<typeof getCheckRow>>>; as: "owner" | "mentor"; mentorShares: { shareId: string; clubId: string }[] };
 
-export async function readableCheck(user: SessionUser, checkId: string): Promise<CheckAccess> {
-  const c = await getCheckRow(checkId);
+export async function readableCheck(ex: Executor, user: SessionUser, checkId: string): Promise<CheckAccess> {
+  const c = await getCheckRow(ex, checkId);
   if (!c) throw notFound("check");
   if (c.ownerId === user.id) return { check: c, as: "owner", mentorShares: [] };
-  const mentorShares = await mentorSharesForCheck(user.id, checkId);
+  const mentorShares = await mentorSharesForCheck(ex, user.id, checkId);
   if (mentorShares.length === 0) throw notFound("check");
   return { check: c, as: "mentor", mentorShares };
 }
 
-export async function ownCheck(user: SessionUser, checkId: string) {
-  const a = await readableCheck(user, checkId);
+export async function ownCheck(ex: Executor, user: SessionUser, checkId: string) {
+  const a = await readableCheck(ex, user, checkId);
   if (a.as !== "owner") throw forbidden("Only the check's owner can change it; mentors comment and give a verdict");
   return a.check;
 }
 
-export async function ownTrayItem(user: SessionUser, itemId: string) {
-  const t = await getTrayRow(itemId);
+/** A check written by its id: the owner's, or a new one; a mentor may not, a stranger sees "no such". */
+export async function ownOrNewCheck(ex: Executor, user: SessionUser, checkId: string) {
+  const c = await getCheckRow(ex, checkId);
+  return c ? ownCheck(ex, user, checkId) : undefined;
+}
+
+export async function ownTrayItem(ex: Executor, user: SessionUser, itemId: string) {
+  const t = await getTrayRow(ex, itemId);
   if (!t || t.ownerId !== user.id) throw notFound("tray item");
   return t;
 }
 
-export async function clubMember(user: SessionUser, clubId: string): Promise<Role[]> {
-  const roles = await rolesInClub(user.id, clubId);
+export async function clubMember(ex: Executor, user: SessionUser, clubId: string): Promise<Role[]> {
+  const roles = await rolesInClub(ex, user.id, clubId);
   if (roles.length === 0) throw notFound("club");
   return roles;
 }
 
-export async function clubRole(user: SessionUser, clubId: string, role: Role): Promise<Role[]> {
-  const roles = await clubMember(user, clubId);
+export async function clubRole(ex: Executor, user: SessionUser, clubId: string, role: Role): Promise<Role[]> {
+  const roles = await clubMember(ex, user, clubId);
   if (!roles.includes(role)) throw forbidden(`Only a club ${role} can do this`);
   return roles;
 }
 
 /** A share the caller may act on: the check's owner (withdraw) or a mentor of its club (verdict). */
-export async function shareFor(user: SessionUser, shareId: string, as: "owner" | "mentor") {
-  const s = await getShare(shareId);
+export async function shareFor(ex: Executor, user: SessionUser, shareId: string, as: "owner" | "mentor") {
+  const s = await getShare(ex, shareId);
   if (!s) throw notFound("share");
-  const c = await getCheckRow(s.checkId);
+  const c = await getCheckRow(ex, s.checkId);
   const isOwner = c?.ownerId === user.id;
-  const isMentor = !s.withdrawnAt && (await rolesInClub(user.id, s.clubId)).includes("mentor");
+  const isMentor = !s.withdrawnAt && (await rolesInClub(ex, user.id, s.clubId)).includes("mentor");
   if (!isOwner && !isMentor) throw notFound("share");
   if (as === "owner" && !isOwner) throw forbidden("Only the check's owner can withdraw a share");
   if (as === "mentor" && !isMentor) throw forbidden("Only a mentor of the club gives a verdict");

@@ -3,7 +3,7 @@ import { shimSeries } from "@/lib/lash";
 import { engineInput, readingProblems, type ReadingInput } from "@/lib/schemas/records";
 import { engineToApi, type ApiEngine } from "@/db/queries/garage";
 import type { engines } from "@/db/schema";
-import { ApiError } from "./http";
+import { invalidFields } from "@/lib/errors";
 
 /** The engine's shim sizes, from its series or explicit list. */
 export function engineSizes(e: Pick<ApiEngine, "shims">): number[] {
@@ -16,8 +16,7 @@ export function mergeEngine(row: typeof engines.$inferSelect, patch: Record<stri
   const merged = { ...current, ...patch };
   const parsed = engineInput.safeParse(merged);
   if (!parsed.success) {
-    const fields = Object.fromEntries(parsed.error.issues.map((i) => [i.path.join(".") || "_", i.message]));
-    throw new ApiError(422, "invalid", `${Object.keys(fields)[0]}: ${Object.values(fields)[0]}`, fields);
+    throw invalidFields(Object.fromEntries(parsed.error.issues.map((i) => [i.path.join(".") || "_", i.message])));
   }
   return parsed.data;
 }
@@ -25,6 +24,5 @@ export function mergeEngine(row: typeof engines.$inferSelect, patch: Record<stri
 export function checkReadingsFit(row: typeof engines.$inferSelect, rs: ReadingInput[]) {
   const e = engineToApi(row);
   const problems = readingProblems({ ...e, shimSizes: engineSizes(e) }, rs);
-  const first = Object.entries(problems)[0];
-  if (first) throw new ApiError(422, "invalid", `${first[0]}: ${first[1]}`, problems);
+  if (Object.keys(problems).length) throw invalidFields(problems);
 }

@@ -2,27 +2,42 @@ import "server-only";
 import { NextResponse, type NextRequest } from "next/server";
 import { z, ZodError } from "zod";
 import { LashInputError } from "@/lib/lash";
-import { Refused } from "@/db/errors";
+import { ID_PATTERN } from "@/lib/schemas/records";
+import { domainErrorOf, type DomainError, type DomainErrorKind } from "@/lib/errors";
+import { isTransientDbError } from "@/db/errors";
 import { currentUser, type SessionUser } from "./auth";
 
 /**
  * The one place that turns a request into validated input and an error into the error shape
- * `{ error: { code, message, fields? } }`. Every route handler is built with `route()`.
+ * `{ error: { code, message, fields? } }`. Every route handler is built with `route()`. Services
+ * throw domain errors (lib/errors.ts); this is the only place they become HTTP statuses.
  */
-export class ApiError extends Error {
-  constructor(
-    readonly status: number,
-    readonly code: string,
-    message: string,
-    readonly fields?: Record<string, string>,
-  ) {
-    super(message);
-  }
+const STATUS: Record<DomainErrorKind, number> = {
+  invalid: 422,
+  not_found: 404,
+  forbidden: 403,
+  conflict: 409,
+  refused: 409,
+  too_large: 413,
+  unsupported: 415,
+  bad_request: 400,
+  overloaded: 503,
+};
+
+/** How long a phone is asked to wait when the server is saturated; it adds its own jitter. */
+export const RETRY_AFTER_SECONDS = 2;
+
+/** 503 with Retry-After: the request was not applied and may be sent again as it is. */
+export function overloadedResponse(message = "The server is busy: try again in a moment", retryAfterSeconds = RETRY_AFTER_SECONDS) {
+  const res = errorResponse(503, "overloaded", message);
+  res.headers.set("Retry-After", String(retryAfterSeconds));
+  return res;
 }
 
-export const notFound = (what = "record") => new ApiError(404, "not_found", `No such ${what}`);
-export const forbidden = (message = "You may read this but not change it") => new ApiError(403, "forbidden", message);
-export const conflict = (message: string) => new ApiError(409, "conflict", message);
+function domainResponse(e: DomainError) {
+  if (e.kind === "overloaded") return overloadedResponse(e.message, e.extra.retryAfterSeconds);
+  return errorResponse(STATUS[e.kind], e.extra.code ?? e.kind, e.message, e.extra.fields);
+}
 
 const MAX_BODY_BYTES = 256 * 1024;
 
@@ -90,8 +105,9 @@ export function route<P extends z.ZodType = z.ZodType<Record<string, never>>, Q 
       if (status === 204) return new NextResponse(null, { status });
       return NextResponse.json(result ?? {}, { status });
     } catch (e) {
-      if (e instanceof ApiError) return errorResponse(e.status, e.code, e.message, e.fields);
-      if (e instanceof Refused) return errorResponse(e.status, e.status === 404 ? "not_found" : "conflict", e.message);
+      const d = domainErrorOf(e);
+      if (d) return domainResponse(d);
+      if (isTransientDbError(e)) return overloadedResponse();
       if (e instanceof LashInputError) {
         const fields = Object.fromEntries(e.issues.map((i) => [i.path || "_", i.message]));
         return errorResponse(422, "invalid", e.message, Object.keys(fields).length ? fields : undefined);
@@ -102,7 +118,7 @@ export function route<P extends z.ZodType = z.ZodType<Record<string, never>>, Q 
   };
 }
 
-export const uuidParam = z.string().regex(/^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/);
+export const uuidParam = z.string().regex(ID_PATTERN);
 
 // plain decimal digits only: Number() would also take "0x10", "1e3" or " 7 "
 const digits = z.string().regex(/^\d{1,7}$/, { error: "a whole number" }).transform(Number);

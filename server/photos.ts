@@ -2,7 +2,8 @@ import "server-only";
 import sharp from "sharp";
 import { PHOTO_FORMATS, PHOTO_MAX_BYTES, PHOTO_MAX_EDGE, PHOTO_MAX_LABEL, photoFields, type ApiPhoto } from "@/lib/photos/rules";
 import * as q from "@/db/queries/photos";
-import { ApiError, notFound } from "./http";
+import { conflict, DomainError, forbidden, invalid, notFound } from "@/lib/errors";
+import { db } from "@/db/client";
 import { readableCheck } from "./access";
 import { deleteObject, getObject, putObject } from "./storage";
 import type { SessionUser } from "./auth";
@@ -13,7 +14,7 @@ import type { SessionUser } from "./auth";
  * PHOTO_MAX_EDGE and carries no metadata at all (sharp drops EXIF, GPS included, unless asked to
  * keep it). Keys are made here from ids, so nothing the caller sends becomes a path.
  */
-export const tooLarge = () => new ApiError(413, "too_large", `A photo may be at most ${PHOTO_MAX_LABEL}`);
+export const tooLarge = () => new DomainError("too_large", `A photo may be at most ${PHOTO_MAX_LABEL}`);
 
 export async function preparePhoto(input: Buffer) {
   if (input.byteLength > PHOTO_MAX_BYTES) throw tooLarge();
@@ -24,7 +25,7 @@ export async function preparePhoto(input: Buffer) {
   } catch {
     format = undefined;
   }
-  if (!format || !(PHOTO_FORMATS as readonly string[]).includes(format)) throw new ApiError(415, "not_a_photo", "That file is not a JPEG, PNG or WebP picture");
+  if (!format || !(PHOTO_FORMATS as readonly string[]).includes(format)) throw new DomainError("unsupported", "That file is not a JPEG, PNG or WebP picture", { code: "not_a_photo" });
   try {
     const { data, info } = await sharp(input, { limitInputPixels: 50_000_000 })
       .rotate()
@@ -33,7 +34,7 @@ export async function preparePhoto(input: Buffer) {
       .toBuffer({ resolveWithObject: true });
     return { data, width: info.width, height: info.height, contentType: "image/jpeg" };
   } catch {
-    throw new ApiError(415, "not_a_photo", "That picture could not be read");
+    throw new DomainError("unsupported", "That picture could not be read", { code: "not_a_photo" });
   }
 }
 
@@ -42,30 +43,30 @@ export async function preparePhoto(input: Buffer) {
  * refused from its declared length (a little room for the form's other fields) before it is read.
  */
 export async function uploadPhoto(user: SessionUser, checkId: string, body: { bytes: number; read: () => Promise<FormData> }): Promise<{ photo: ApiPhoto; created: boolean }> {
-  await readableCheck(user, checkId);
+  await readableCheck(db(), user, checkId);
   if (body.bytes > PHOTO_MAX_BYTES + 64 * 1024) throw tooLarge();
   let form: FormData;
   try {
     form = await body.read();
   } catch {
-    throw new ApiError(400, "bad_form", "Send the photo as a multipart form");
+    throw new DomainError("bad_request", "Send the photo as a multipart form", { code: "bad_form" });
   }
   const file = form.get("file");
-  if (!(file instanceof Blob)) throw new ApiError(422, "invalid", "file: attach a photo", { file: "attach a photo" });
+  if (!(file instanceof Blob)) throw invalid("file: attach a photo", { file: "attach a photo" });
   if (file.size > PHOTO_MAX_BYTES) throw tooLarge();
   const fields = photoFields.safeParse({ id: form.get("id"), valve: form.get("valve") || null, commentId: form.get("commentId") || null });
   if (!fields.success) {
     const i = fields.error.issues[0]!;
-    throw new ApiError(422, "invalid", `${i.path.join(".")}: ${i.message}`, { [i.path.join(".")]: i.message });
+    throw invalid(`${i.path.join(".")}: ${i.message}`, { [i.path.join(".")]: i.message });
   }
   const f = fields.data;
   // the same photo sent again (a lost answer, a retried sync) is the one already stored
   const existing = await q.getPhoto(f.id);
   if (existing) {
-    if (existing.checkId !== checkId || existing.uploaderId !== user.id) throw new ApiError(409, "conflict", "That photo id is taken");
+    if (existing.checkId !== checkId || existing.uploaderId !== user.id) throw conflict("That photo id is taken");
     return { photo: existing, created: false };
   }
-  if (f.commentId && !(await q.commentOnCheck(f.commentId, checkId))) throw new ApiError(422, "invalid", "commentId: no such comment on this check", { commentId: "no such comment on this check" });
+  if (f.commentId && !(await q.commentOnCheck(f.commentId, checkId))) throw invalid("commentId: no such comment on this check", { commentId: "no such comment on this check" });
   const img = await preparePhoto(Buffer.from(await file.arrayBuffer()));
   const key = `checks/${checkId}/${f.id}.jpg`;
   await putObject(key, img.data, img.contentType);
@@ -82,7 +83,7 @@ export async function uploadPhoto(user: SessionUser, checkId: string, body: { by
 async function readablePhoto(user: SessionUser, photoId: string) {
   const p = await q.getPhotoRow(photoId);
   if (!p) throw notFound("photo");
-  const access = await readableCheck(user, p.checkId).catch(() => {
+  const access = await readableCheck(db(), user, p.checkId).catch(() => {
     throw notFound("photo");
   });
   return { p, as: access.as };
@@ -96,7 +97,7 @@ export async function photoBytes(user: SessionUser, photoId: string) {
 /** The uploader or the check's owner may remove a photo. */
 export async function removePhoto(user: SessionUser, photoId: string) {
   const { p, as } = await readablePhoto(user, photoId);
-  if (p.ownerId !== user.id && as !== "owner") throw new ApiError(403, "forbidden", "Only who took the photo or the check's owner can remove it");
+  if (p.ownerId !== user.id && as !== "owner") throw forbidden("Only who took the photo or the check's owner can remove it");
   await q.deletePhoto(photoId);
   await deleteObject(p.objectKey).catch(() => undefined);
 }

@@ -3,6 +3,7 @@ import { env } from "@/lib/env";
 import { VERDICTS, type Verdict } from "@/lib/check/verdicts";
 import { listComments, mentorsOfClub, usersByIds } from "@/db/queries/clubs";
 import { getEngineRow } from "@/db/queries/garage";
+import { db } from "@/db/client";
 import { noticeEach } from "./notices";
 
 /**
@@ -12,7 +13,7 @@ import { noticeEach } from "./notices";
 const checkLink = (checkId: string) => `${env().NEXTAUTH_URL}/check?id=${checkId}`;
 
 export async function noticeReviewRequested(check: { id: string; engineId: string; ownerId: string }, clubId: string, ownerName: string) {
-  const engine = await getEngineRow(check.engineId);
+  const engine = await getEngineRow(db(), check.engineId);
   await noticeEach(await mentorsOfClub(clubId), check.ownerId, {
     kind: "review-requested",
     subject: `${ownerName} asks for a review: ${engine?.name ?? "a check"}`,
@@ -28,7 +29,7 @@ export async function noticeComment(check: { id: string; ownerId: string }, auth
 
 /** After a comment is stored, by the REST route or a sync push: tell the other party. */
 export async function noticeNewComment(check: { id: string; ownerId: string }, author: { id: string; name: string }, body: string) {
-  const mentorIds = [...new Set((await listComments(check.id)).map((c) => c.authorId).filter((id) => id !== check.ownerId))];
+  const mentorIds = [...new Set((await listComments(db(), check.id)).map((c) => c.authorId).filter((id) => id !== check.ownerId))];
   await noticeComment(check, author.id, author.name, body, mentorIds);
 }
 

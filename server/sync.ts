@@ -1,26 +1,21 @@
 import "server-only";
 import { LashInputError } from "@/lib/lash";
-import { parseMutation, type MutationArgs, type PushInput } from "@/lib/sync/mutations";
-import type { ReadingInput } from "@/lib/schemas/records";
-import { db } from "@/db/client";
+import { domainErrorOf } from "@/lib/errors";
+import { parseMutation, type MutationArgs, type MutationName, type PushInput } from "@/lib/sync/mutations";
+import { transaction } from "@/db/client";
 import { nextVersion, type Tx } from "@/db/versions";
+import { isTransientDbError } from "@/db/errors";
 import * as q from "@/db/queries/sync";
-import { Refused } from "@/db/errors";
-import { mentorSharesForCheck, writeVerdict } from "@/db/queries/clubs";
-import { noticeNewComment, noticeVerdict } from "./review";
-import { shareFor } from "./access";
-import * as pool from "./pool";
-import { getCheckRow } from "@/db/queries/garage";
-import { ApiError } from "./http";
-import { checkReadingsFit } from "./engines";
+import { apply, applyReadings } from "./appliers";
+import { runAfter, type After, type WriteCtx } from "./write";
 import type { SessionUser } from "./auth";
 
 /**
  * The server side of the sync protocol (DESIGN.md section 6). A push is applied in one transaction:
  * mutations at or below the client's last applied id are skipped (replays are harmless), each new
- * one runs in its own savepoint so a refused one rolls back alone and is recorded with its reason,
- * runs of readings of one check go in as one multi-row upsert, and the new last id is written in
- * the same transaction.
+ * one runs through its applier (server/appliers.ts) in its own savepoint so a refused one rolls
+ * back alone and is recorded with its reason, runs of readings of one check go in as one multi-row
+ * upsert, and the new last id is written in the same transaction.
  */
 export interface PushResult {
   lastMutationId: number;
@@ -29,72 +24,34 @@ export interface PushResult {
 
 type Parsed = { id: number; name: string; args: unknown; reason?: string };
 
+/**
+ * Why a mutation is refused, for the phone. A failure of the moment (the server saturated, a lock
+ * waited too long) is not a refusal: it fails the whole push, nothing is recorded, and the phone
+ * sends the same outbox again later.
+ */
 function reasonOf(e: unknown): string {
-  if (e instanceof Refused || e instanceof LashInputError) return e.message;
-  if (e instanceof ApiError) return e.message;
+  const d = domainErrorOf(e);
+  if (d?.kind === "overloaded" || (!d && isTransientDbError(e))) throw e;
+  if (d) return d.message;
+  if (e instanceof LashInputError) return e.message;
+  console.error("[sync] a change could not be applied:", e instanceof Error ? e.message : e);
   return "the server could not apply this change";
 }
 
-const isMentorOf = async (user: SessionUser, checkId: string) => (await mentorSharesForCheck(user.id, checkId)).length > 0;
-
-/** Work that must wait for the push to commit (e-mail notices), returned by applyOne. */
-type After = () => Promise<void>;
-
-async function applyOne(tx: Tx, user: SessionUser, version: number, m: Parsed): Promise<After | void> {
-  const a = m.args;
-  switch (m.name) {
-    case "engine.put/1":
-      return q.applyEnginePut(tx, user.id, version, a as MutationArgs<"engine.put/1">);
-    case "engine.delete/1":
-      return q.applyEngineDelete(tx, user.id, version, a as { id: string });
-    case "check.put/1":
-      return q.applyCheckPut(tx, user.id, version, a as MutationArgs<"check.put/1">);
-    case "check.delete/1":
-      return q.applyCheckDelete(tx, user.id, version, a as { id: string });
-    case "reading.put/1": {
-      const r = a as MutationArgs<"reading.put/1">;
-      return q.applyReadings(tx, user.id, version, r.checkId, [r.reading], checkReadingsFit);
-    }
-    case "tray.put/1":
-      return q.applyTrayPut(tx, user.id, version, a as MutationArgs<"tray.put/1">);
-    case "tray.delete/1":
-      return q.applyTrayDelete(tx, user.id, version, a as { id: string });
-    case "comment.add/1": {
-      const c = a as MutationArgs<"comment.add/1">;
-      if (!(await q.applyCommentAdd(tx, user.id, version, c, (id) => isMentorOf(user, id)))) return;
-      return async () => {
-        const check = await getCheckRow(c.checkId);
-        if (check) await noticeNewComment(check, user, c.body);
-      };
-    }
-    case "pool.offer/1":
-      return pool.applyOffer(tx, version, user, a as MutationArgs<"pool.offer/1">);
-    case "pool.withdraw/1":
-      return pool.applyWithdrawOffer(tx, version, user, (a as { id: string }).id);
-    case "borrow.ask/1":
-      return pool.applyAsk(tx, version, user, a as MutationArgs<"borrow.ask/1">);
-    case "borrow.move/1":
-      return pool.applyMove(tx, version, user, a as MutationArgs<"borrow.move/1">);
-    case "verdict.set/1": {
-      const v = a as MutationArgs<"verdict.set/1">;
-      const { check } = await shareFor(user, v.shareId, "mentor");
-      await writeVerdict(tx, version, v.shareId, user.id, v.verdict);
-      return () => noticeVerdict(check, user.name, v.verdict);
-    }
-  }
+/** Run one step in a savepoint; its post-commit work is kept only if the step succeeds. */
+async function step(tx: Tx, user: SessionUser, version: number, after: After[], fn: (w: WriteCtx) => Promise<void>) {
+  const mine: After[] = [];
+  await tx.transaction((sp) => fn({ tx: sp, user, version, later: (f) => mine.push(f) }));
+  after.push(...mine);
 }
+
+const readingArgs = (m: Parsed) => m.args as MutationArgs<"reading.put/1">;
 
 export async function push(user: SessionUser, input: PushInput): Promise<PushResult> {
   const rejected: PushResult["rejected"] = [];
   const after: After[] = [];
-  const lastMutationId = await db().transaction(async (tx) => {
-    let last: number;
-    try {
-      last = await q.lockClient(tx, input.clientId, user.id);
-    } catch (e) {
-      if (e instanceof q.Refused) throw new ApiError(403, "forbidden", e.message);
-      throw e;
-    }
+  const lastMutationId = await transaction(async (tx) => {
+    const last = await q.lockClient(tx, input.clientId, user.id);
     const fresh: Parsed[] = input.mutations
       .filter((m) => m.id > last)
       .map((m) => {
@@ -107,6 +64,7 @@ export async function push(user: SessionUser, input: PushInput): Promise<PushRes
       rejected.push({ id: m.id, name: m.name, reason });
       await q.recordRejected(tx, input.clientId, m.id, m.name, reason);
     };
+    const one = (m: Parsed) => step(tx, user, version, after, (w) => apply(w, m.name as MutationName, m.args as never)).catch((e: unknown) => reject(m, reasonOf(e)));
     for (let i = 0; i < fresh.length; ) {
       const m = fresh[i]!;
       if (m.reason) {
@@ -116,30 +74,25 @@ export async function push(user: SessionUser, input: PushInput): Promise<PushRes
       }
       // a run of valid readings of one check, in order
       if (m.name === "reading.put/1") {
-        const checkId = (m.args as MutationArgs<"reading.put/1">).checkId;
+        const checkId = readingArgs(m).checkId;
         let j = i;
-        while (j < fresh.length && fresh[j]!.name === "reading.put/1" && !fresh[j]!.reason && (fresh[j]!.args as MutationArgs<"reading.put/1">).checkId === checkId) j++;
+        while (j < fresh.length && fresh[j]!.name === "reading.put/1" && !fresh[j]!.reason && readingArgs(fresh[j]!).checkId === checkId) j++;
         const run = fresh.slice(i, j);
         if (run.length > 1) {
-          const rs: ReadingInput[] = run.map((r) => (r.args as MutationArgs<"reading.put/1">).reading);
-          const ok = await tx
-            .transaction(async (sp) => q.applyReadings(sp, user.id, version, checkId, rs, checkReadingsFit))
+          const ok = await step(tx, user, version, after, (w) => applyReadings(w, checkId, run.map((r) => readingArgs(r).reading)))
             .then(() => true)
-            .catch(() => false);
+            .catch((e: unknown) => (reasonOf(e), false));
           if (ok) {
             i = j;
             continue;
           }
           // something in the run is refused: apply them one by one to find it
         }
-        for (const r of run) await tx.transaction((sp) => applyOne(sp, user, version, r)).catch((e: unknown) => reject(r, reasonOf(e)));
+        for (const r of run) await one(r);
         i = j;
         continue;
       }
-      await tx
-        .transaction((sp) => applyOne(sp, user, version, m))
-        .then((then) => then && after.push(then))
-        .catch((e: unknown) => reject(m, reasonOf(e)));
+      await one(m);
       i++;
     }
     const newLast = fresh[fresh.length - 1]!.id;
@@ -147,7 +100,7 @@ export async function push(user: SessionUser, input: PushInput): Promise<PushRes
     return newLast;
   });
   // notices are queued only once the changes are committed; a failure here never fails the push
-  for (const then of after) await then().catch((e: unknown) => console.error("[sync] notice after push failed:", e instanceof Error ? e.message : e));
+  await runAfter(after);
   return { lastMutationId, rejected };
 }
 

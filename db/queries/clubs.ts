@@ -1,12 +1,11 @@
 import "server-only";
 import { and, asc, desc, eq, gt, inArray, isNull } from "drizzle-orm";
 import { createHash, randomBytes } from "node:crypto";
-import { db } from "../client";
+import { db, transaction, type Executor, type Tx } from "../client";
 import { checks, clubs, comments, engines, invites, memberships, shares, users, type Role } from "../schema";
-import { versioned, type Tx } from "../versions";
 
-export async function rolesInClub(userId: string, clubId: string): Promise<Role[]> {
-  const rows = await db().select({ role: memberships.role }).from(memberships).where(and(eq(memberships.userId, userId), eq(memberships.clubId, clubId)));
+export async function rolesInClub(ex: Executor, userId: string, clubId: string): Promise<Role[]> {
+  const rows = await ex.select({ role: memberships.role }).from(memberships).where(and(eq(memberships.userId, userId), eq(memberships.clubId, clubId)));
   return rows.map((r) => r.role);
 }
 
@@ -26,15 +25,15 @@ export async function listMyClubs(userId: string) {
   return [...byClub.values()];
 }
 
-export async function getClub(clubId: string) {
-  const [c] = await db().select({ id: clubs.id, name: clubs.name, createdAt: clubs.createdAt }).from(clubs).where(eq(clubs.id, clubId)).limit(1);
+export async function getClub(ex: Executor, clubId: string) {
+  const [c] = await ex.select({ id: clubs.id, name: clubs.name, createdAt: clubs.createdAt }).from(clubs).where(eq(clubs.id, clubId)).limit(1);
   return c;
 }
 
 /** A new club; its creator becomes admin (and a mechanic member). */
 export async function createClub(userId: string, name: string) {
   const id = crypto.randomUUID();
-  await db().transaction(async (tx) => {
+  await transaction(async (tx) => {
     await tx.insert(clubs).values({ id, name, createdBy: userId });
     await tx.insert(memberships).values([
       { clubId: id, userId, role: "admin" },
@@ -44,8 +43,8 @@ export async function createClub(userId: string, name: string) {
   return { id, name, roles: ["admin", "mechanic"] as Role[] };
 }
 
-export async function listMembers(clubId: string) {
-  const rows = await db()
+export async function listMembers(ex: Executor, clubId: string) {
+  const rows = await ex
     .select({ userId: users.id, name: users.name, email: users.email, role: memberships.role })
     .from(memberships)
     .innerJoin(users, eq(users.id, memberships.userId))
@@ -60,25 +59,23 @@ export async function listMembers(clubId: string) {
   return [...byUser.values()];
 }
 
-export async function countAdmins(clubId: string) {
-  const rows = await db().select({ id: memberships.id }).from(memberships).where(and(eq(memberships.clubId, clubId), eq(memberships.role, "admin")));
+export async function countAdmins(ex: Executor, clubId: string) {
+  const rows = await ex.select({ id: memberships.id }).from(memberships).where(and(eq(memberships.clubId, clubId), eq(memberships.role, "admin")));
   return rows.length;
 }
 
-/** Replace a member's roles in one transaction. */
-export async function setRoles(clubId: string, userId: string, roles: Role[]) {
-  await db().transaction(async (tx) => {
-    await tx.delete(memberships).where(and(eq(memberships.clubId, clubId), eq(memberships.userId, userId)));
-    if (roles.length) await tx.insert(memberships).values([...new Set(roles)].map((role) => ({ clubId, userId, role })));
-  });
+/** Replace a member's roles, inside the caller's transaction. */
+export async function setRoles(tx: Tx, clubId: string, userId: string, roles: Role[]) {
+  await tx.delete(memberships).where(and(eq(memberships.clubId, clubId), eq(memberships.userId, userId)));
+  if (roles.length) await tx.insert(memberships).values([...new Set(roles)].map((role) => ({ clubId, userId, role })));
 }
 
 const hash = (raw: string) => createHash("sha256").update(raw).digest("hex");
 
-export async function createInvite(clubId: string, invitedBy: string, email: string, role: Role) {
+export async function createInvite(tx: Tx, clubId: string, invitedBy: string, email: string, role: Role) {
   const raw = randomBytes(32).toString("base64url");
   const id = crypto.randomUUID();
-  await db().insert(invites).values({ id, clubId, email, role, invitedBy, tokenHash: hash(raw), expiresAt: new Date(Date.now() + 14 * 86_400_000) });
+  await tx.insert(invites).values({ id, clubId, email, role, invitedBy, tokenHash: hash(raw), expiresAt: new Date(Date.now() + 14 * 86_400_000) });
   return { id, token: raw };
 }
 
@@ -92,7 +89,7 @@ export async function listInvites(clubId: string) {
 
 /** Accept an invite once: it must be unexpired, unused, and addressed to the accepting user's e-mail. */
 export async function acceptInvite(raw: string, user: { id: string; email: string }) {
-  return db().transaction(async (tx) => {
+  return transaction(async (tx) => {
     const [inv] = await tx
       .select()
       .from(invites)
@@ -110,8 +107,8 @@ export async function acceptInvite(raw: string, user: { id: string; email: strin
 type ShareRow = typeof shares.$inferSelect;
 export const shareToApi = (s: ShareRow) => ({ id: s.id, checkId: s.checkId, clubId: s.clubId, verdict: s.verdict, verdictAt: s.verdictAt, withdrawnAt: s.withdrawnAt, createdAt: s.createdAt });
 
-export async function getShare(shareId: string) {
-  const [s] = await db().select().from(shares).where(eq(shares.id, shareId)).limit(1);
+export async function getShare(ex: Executor, shareId: string) {
+  const [s] = await ex.select().from(shares).where(eq(shares.id, shareId)).limit(1);
   return s;
 }
 
@@ -121,26 +118,17 @@ export async function listSharesOfCheck(checkId: string) {
 }
 
 /** Share (or share again after a withdrawal) a check with a club. */
-export async function shareCheck(checkId: string, clubId: string, userId: string) {
-  await versioned(async (tx, version) => {
-    await tx
-      .insert(shares)
-      .values({ checkId, clubId, sharedBy: userId, version })
-      .onDuplicateKeyUpdate({ set: { withdrawnAt: null, version } });
-  });
-  const [s] = await db().select().from(shares).where(and(eq(shares.checkId, checkId), eq(shares.clubId, clubId))).limit(1);
+export async function shareCheck(tx: Tx, version: number, checkId: string, clubId: string, userId: string) {
+  await tx
+    .insert(shares)
+    .values({ checkId, clubId, sharedBy: userId, version })
+    .onDuplicateKeyUpdate({ set: { withdrawnAt: null, version } });
+  const [s] = await tx.select().from(shares).where(and(eq(shares.checkId, checkId), eq(shares.clubId, clubId))).limit(1);
   return shareToApi(s!);
 }
 
-export async function withdrawShare(shareId: string) {
-  await versioned(async (tx, version) => {
-    await tx.update(shares).set({ withdrawnAt: new Date(), version }).where(eq(shares.id, shareId));
-  });
-}
-
-export async function setVerdict(shareId: string, mentorId: string, verdict: NonNullable<ShareRow["verdict"]>) {
-  await versioned((tx, version) => writeVerdict(tx, version, shareId, mentorId, verdict));
-  return shareToApi((await getShare(shareId))!);
+export async function withdrawShare(tx: Tx, version: number, shareId: string) {
+  await tx.update(shares).set({ withdrawnAt: new Date(), version }).where(eq(shares.id, shareId));
 }
 
 /** The verdict write itself, inside the caller's transaction (the REST route's or a sync push's). */
@@ -149,8 +137,8 @@ export async function writeVerdict(tx: Tx, version: number, shareId: string, men
 }
 
 /** Clubs where the user is a mentor and the check is shared (not withdrawn). */
-export async function mentorSharesForCheck(userId: string, checkId: string) {
-  return db()
+export async function mentorSharesForCheck(ex: Executor, userId: string, checkId: string) {
+  return ex
     .select({ shareId: shares.id, clubId: shares.clubId })
     .from(shares)
     .innerJoin(memberships, and(eq(memberships.clubId, shares.clubId), eq(memberships.userId, userId), eq(memberships.role, "mentor")))
@@ -181,9 +169,8 @@ export async function reviewQueue(clubId: string, limit: number, offset: number)
     .offset(offset);
 }
 
-type CommentRow = typeof comments.$inferSelect;
-export async function listComments(checkId: string) {
-  return db()
+export async function listComments(ex: Executor, checkId: string) {
+  return ex
     .select({ id: comments.id, checkId: comments.checkId, valve: comments.valve, body: comments.body, createdAt: comments.createdAt, authorId: comments.authorId, authorName: users.name })
     .from(comments)
     .innerJoin(users, eq(users.id, comments.authorId))
@@ -191,13 +178,12 @@ export async function listComments(checkId: string) {
     .orderBy(asc(comments.createdAt), asc(comments.id));
 }
 
-export async function addComment(checkId: string, authorId: string, input: { id?: string; body: string; valve?: string | null }): Promise<CommentRow> {
-  const id = input.id ?? crypto.randomUUID();
-  await versioned(async (tx, version) => {
-    await tx.insert(comments).values({ id, checkId, authorId, body: input.body, valve: input.valve ?? null, version });
-  });
-  const [c] = await db().select().from(comments).where(eq(comments.id, id)).limit(1);
-  return c!;
+/** A comment, once: the same id sent again (a retried sync) changes nothing and answers false. */
+export async function insertComment(tx: Tx, version: number, checkId: string, authorId: string, input: { id: string; body: string; valve?: string | null }): Promise<boolean> {
+  const [c] = await tx.select({ id: comments.id }).from(comments).where(eq(comments.id, input.id)).limit(1);
+  if (c) return false;
+  await tx.insert(comments).values({ id: input.id, checkId, authorId, body: input.body, valve: input.valve ?? null, version });
+  return true;
 }
 
 export async function usersByIds(ids: string[]) {

@@ -1,9 +1,9 @@
 import "server-only";
 import { and, asc, desc, eq, sql } from "drizzle-orm";
+import { DEFAULT_TIMING } from "@/lib/lash";
 import { READING_VALUE_FIELDS, type EngineInput, type ReadingInput } from "@/lib/schemas/records";
-import { db } from "../client";
+import { db, type Executor, type Tx } from "../client";
 import { checks, engines, readingHistory, readings, tombstones, trayItems } from "../schema";
-import { versioned, type Tx } from "../versions";
 
 /**
  * The mechanic's own records. Every function takes the owner's id and scopes by it, so a query can
@@ -46,7 +46,7 @@ export function engineToRow(e: EngineInput) {
     exhaustPerCylinder: e.exhaustPerCylinder,
     firingOrder: e.firingOrder,
     firingAngles: e.firingAngles ?? null,
-    ...(e.timing ?? { ivo: 20, ivc: 50, evo: 50, evc: 20 }),
+    ...(e.timing ?? DEFAULT_TIMING),
     intakeMin: e.intake.min,
     intakeMax: e.intake.max,
     intakeTarget: e.intake.target ?? null,
@@ -68,32 +68,22 @@ export async function listEngines(ownerId: string, limit: number, offset: number
   return rows.map(engineToApi);
 }
 
-export async function getEngineRow(engineId: string) {
-  const [e] = await db().select().from(engines).where(eq(engines.id, engineId)).limit(1);
+export async function getEngineRow(ex: Executor, engineId: string) {
+  const [e] = await ex.select().from(engines).where(eq(engines.id, engineId)).limit(1);
   return e;
 }
 
-export async function createEngine(ownerId: string, input: EngineInput) {
-  const id = input.id ?? crypto.randomUUID();
-  await versioned(async (tx, version) => {
-    await tx.insert(engines).values({ id, ownerId, ...engineToRow(input), version });
-  });
-  return engineToApi((await getEngineRow(id))!);
+/** Create or replace an engine; the caller has checked the id is the owner's or new. */
+export async function putEngine(tx: Tx, ownerId: string, version: number, id: string, input: EngineInput) {
+  const row = engineToRow(input);
+  await tx.insert(engines).values({ id, ownerId, ...row, version }).onDuplicateKeyUpdate({ set: { ...row, version } });
 }
 
-export async function updateEngine(ownerId: string, engineId: string, input: EngineInput) {
-  await versioned(async (tx, version) => {
-    await tx.update(engines).set({ ...engineToRow(input), version }).where(and(eq(engines.id, engineId), eq(engines.ownerId, ownerId)));
-  });
-  return engineToApi((await getEngineRow(engineId))!);
-}
-
-export async function deleteEngine(ownerId: string, engineId: string) {
-  await versioned(async (tx, version) => {
-    const cs = await tx.select({ id: checks.id }).from(checks).where(eq(checks.engineId, engineId));
-    await tx.insert(tombstones).values([{ entity: "engine", entityId: engineId, ownerId, version }, ...cs.map((c) => ({ entity: "check", entityId: c.id, ownerId, version }))]);
-    await tx.delete(engines).where(and(eq(engines.id, engineId), eq(engines.ownerId, ownerId)));
-  });
+/** Remove an engine and its checks (the database cascades), leaving tombstones for the phones. */
+export async function removeEngine(tx: Tx, ownerId: string, version: number, engineId: string) {
+  const cs = await tx.select({ id: checks.id }).from(checks).where(eq(checks.engineId, engineId));
+  await tx.insert(tombstones).values([{ entity: "engine", entityId: engineId, ownerId, version }, ...cs.map((c) => ({ entity: "check", entityId: c.id, ownerId, version }))]);
+  await tx.delete(engines).where(and(eq(engines.id, engineId), eq(engines.ownerId, ownerId)));
 }
 
 type CheckRow = typeof checks.$inferSelect;
@@ -114,32 +104,23 @@ export async function listChecks(engineId: string, limit: number, offset: number
   return rows.map(checkToApi);
 }
 
-export async function getCheckRow(checkId: string) {
-  const [c] = await db().select().from(checks).where(eq(checks.id, checkId)).limit(1);
+export async function getCheckRow(ex: Executor, checkId: string) {
+  const [c] = await ex.select().from(checks).where(eq(checks.id, checkId)).limit(1);
   return c;
 }
 
-export async function createCheck(ownerId: string, engineId: string, input: { id?: string; odometer: number; measuredHot: boolean; notes?: string | null }) {
-  const id = input.id ?? crypto.randomUUID();
-  await versioned(async (tx, version) => {
-    await tx.insert(checks).values({ id, engineId, ownerId, odometer: input.odometer, measuredHot: input.measuredHot, notes: input.notes ?? null, version });
-  });
-  return checkToApi((await getCheckRow(id))!);
+type CheckFields = { odometer: number; measuredHot: boolean; notes?: string | null; status: CheckRow["status"] };
+
+/** Create or replace a check; closedAt is set when it first closes and cleared when it opens again. */
+export async function putCheck(tx: Tx, ownerId: string, version: number, id: string, engineId: string, a: CheckFields, existing?: CheckRow) {
+  const closedAt = a.status === "closed" ? (existing?.closedAt ?? new Date()) : null;
+  const set = { odometer: a.odometer, measuredHot: a.measuredHot, notes: a.notes ?? null, status: a.status, closedAt, version };
+  await tx.insert(checks).values({ id, engineId, ownerId, ...set }).onDuplicateKeyUpdate({ set });
 }
 
-export async function updateCheck(checkId: string, patch: Partial<{ odometer: number; measuredHot: boolean; notes: string | null; status: CheckRow["status"] }>) {
-  await versioned(async (tx, version) => {
-    const closedAt = patch.status === "closed" ? new Date() : patch.status ? null : undefined;
-    await tx.update(checks).set({ ...patch, ...(closedAt !== undefined ? { closedAt } : {}), version }).where(eq(checks.id, checkId));
-  });
-  return checkToApi((await getCheckRow(checkId))!);
-}
-
-export async function deleteCheck(ownerId: string, checkId: string) {
-  await versioned(async (tx, version) => {
-    await tx.insert(tombstones).values({ entity: "check", entityId: checkId, ownerId, version });
-    await tx.delete(checks).where(and(eq(checks.id, checkId), eq(checks.ownerId, ownerId)));
-  });
+export async function removeCheck(tx: Tx, ownerId: string, version: number, checkId: string) {
+  await tx.insert(tombstones).values({ entity: "check", entityId: checkId, ownerId, version });
+  await tx.delete(checks).where(and(eq(checks.id, checkId), eq(checks.ownerId, ownerId)));
 }
 
 type ReadingRow = typeof readings.$inferSelect;
@@ -160,8 +141,8 @@ export const readingToApi = (r: ReadingRow) => ({
   updatedAt: r.updatedAt,
 });
 
-export async function listReadings(checkId: string) {
-  const rows = await db().select().from(readings).where(eq(readings.checkId, checkId)).orderBy(asc(readings.valve), asc(readings.round));
+export async function listReadings(ex: Executor, checkId: string) {
+  const rows = await ex.select().from(readings).where(eq(readings.checkId, checkId)).orderBy(asc(readings.valve), asc(readings.round));
   return rows.map(readingToApi);
 }
 
@@ -212,11 +193,6 @@ export async function writeReadings(tx: Tx, ownerId: string, version: number, ch
   await tx.update(checks).set({ version }).where(eq(checks.id, checkId));
 }
 
-export async function upsertReadings(ownerId: string, checkId: string, input: ReadingInput[]) {
-  await versioned((tx, version) => writeReadings(tx, ownerId, version, checkId, input));
-  return listReadings(checkId);
-}
-
 type TrayRow = typeof trayItems.$inferSelect;
 export const trayToApi = (t: TrayRow) => ({ id: t.id, size: t.size, measuredSize: t.measuredSize, count: t.count, shimDiameter: t.shimDiameter, version: t.version });
 
@@ -225,29 +201,19 @@ export async function listTray(ownerId: string, limit: number, offset: number) {
   return rows.map(trayToApi);
 }
 
-export async function getTrayRow(id: string) {
-  const [t] = await db().select().from(trayItems).where(eq(trayItems.id, id)).limit(1);
+export async function getTrayRow(ex: Executor, id: string) {
+  const [t] = await ex.select().from(trayItems).where(eq(trayItems.id, id)).limit(1);
   return t;
 }
 
-export async function createTrayItem(ownerId: string, input: { id?: string; size: number; measuredSize: boolean; count: number; shimDiameter?: number | null }) {
-  const id = input.id ?? crypto.randomUUID();
-  await versioned(async (tx, version) => {
-    await tx.insert(trayItems).values({ id, ownerId, size: input.size, measuredSize: input.measuredSize, count: input.count, shimDiameter: input.shimDiameter ?? null, version });
-  });
-  return trayToApi((await getTrayRow(id))!);
+type TrayFields = { size: number; measuredSize: boolean; count: number; shimDiameter?: number | null };
+
+export async function putTrayItem(tx: Tx, ownerId: string, version: number, id: string, a: TrayFields) {
+  const set = { size: a.size, measuredSize: a.measuredSize, count: a.count, shimDiameter: a.shimDiameter ?? null, version };
+  await tx.insert(trayItems).values({ id, ownerId, ...set }).onDuplicateKeyUpdate({ set });
 }
 
-export async function updateTrayItem(id: string, patch: Partial<{ size: number; measuredSize: boolean; count: number; shimDiameter: number | null }>) {
-  await versioned(async (tx, version) => {
-    await tx.update(trayItems).set({ ...patch, version }).where(eq(trayItems.id, id));
-  });
-  return trayToApi((await getTrayRow(id))!);
-}
-
-export async function deleteTrayItem(ownerId: string, id: string) {
-  await versioned(async (tx, version) => {
-    await tx.insert(tombstones).values({ entity: "tray_item", entityId: id, ownerId, version });
-    await tx.delete(trayItems).where(and(eq(trayItems.id, id), eq(trayItems.ownerId, ownerId)));
-  });
+export async function removeTrayItem(tx: Tx, ownerId: string, version: number, id: string) {
+  await tx.insert(tombstones).values({ entity: "tray_item", entityId: id, ownerId, version });
+  await tx.delete(trayItems).where(and(eq(trayItems.id, id), eq(trayItems.ownerId, ownerId)));
 }

@@ -3,10 +3,9 @@ import { and, asc, desc, eq, gt, inArray, isNull, or } from "drizzle-orm";
 import { alias } from "drizzle-orm/mysql-core";
 import { toNm } from "@/lib/lash";
 import { HOLDING, MOVES, type ApiBorrow, type ApiOffer, type BorrowInput, type BorrowMove, type OfferInput } from "@/lib/pool/rules";
-import { db } from "../client";
-import { Refused } from "../errors";
+import { notFound, refused, DomainError } from "@/lib/errors";
+import { db, type Executor, type Tx } from "../client";
 import { borrowRequests, poolOffers, trayItems, users } from "../schema";
-import type { Tx } from "../versions";
 
 /**
  * The club pool's rows. Every write takes the caller's transaction and change version (the REST
@@ -18,7 +17,7 @@ import type { Tx } from "../versions";
  * Open requests' holds on each offer. Inside a write it is a locking read: a plain read would see
  * the transaction's snapshot, taken before a racing request committed, and count too few holds.
  */
-async function held(tx: Tx | ReturnType<typeof db>, offerIds: string[], locking = false) {
+async function held(tx: Executor, offerIds: string[], locking = false) {
   if (offerIds.length === 0) return new Map<string, number>();
   const q = tx
     .select({ offerId: borrowRequests.offerId, count: borrowRequests.count })
@@ -41,8 +40,8 @@ export async function listOffers(clubId: string): Promise<ApiOffer[]> {
   return rows.map(({ o, ownerName }) => ({ id: o.id, clubId: o.clubId, ownerId: o.ownerId, ownerName, size: o.size, measuredSize: o.measuredSize, count: o.count, available: Math.max(0, o.count - (h.get(o.id) ?? 0)), shimDiameter: o.shimDiameter, note: o.note }));
 }
 
-export async function getOffer(id: string) {
-  const [o] = await db().select().from(poolOffers).where(eq(poolOffers.id, id)).limit(1);
+export async function getOffer(ex: Executor, id: string) {
+  const [o] = await ex.select().from(poolOffers).where(eq(poolOffers.id, id)).limit(1);
   return o;
 }
 
@@ -73,17 +72,17 @@ async function adjustTray(tx: Tx, version: number, userId: string, size: number,
 
 export async function putOffer(tx: Tx, version: number, ownerId: string, a: OfferInput & { id: string }) {
   const [existing] = await tx.select().from(poolOffers).where(eq(poolOffers.id, a.id)).limit(1).for("update");
-  if (existing && existing.ownerId !== ownerId) throw new Refused("no such offer", 404);
+  if (existing && existing.ownerId !== ownerId) throw notFound("offer");
   if (existing) return existing; // the same offer sent again
   const have = await trayCount(tx, ownerId, a.size);
-  if (have < a.count) throw new Refused(`your tray holds ${have} of ${a.size} mm: offer at most that many`);
+  if (have < a.count) throw refused(`your tray holds ${have} of ${a.size} mm: offer at most that many`);
   await tx.insert(poolOffers).values({ id: a.id, clubId: a.clubId, ownerId, size: a.size, measuredSize: a.measuredSize, count: a.count, shimDiameter: a.shimDiameter ?? null, note: a.note ?? null, version });
 }
 
 /** The owner takes an offer back; open requests on it are declined. */
 export async function withdrawOffer(tx: Tx, version: number, ownerId: string, id: string) {
   const [o] = await tx.select().from(poolOffers).where(eq(poolOffers.id, id)).limit(1).for("update");
-  if (!o || o.ownerId !== ownerId) throw new Refused("no such offer", 404);
+  if (!o || o.ownerId !== ownerId) throw notFound("offer");
   if (o.withdrawnAt) return [];
   await tx.update(poolOffers).set({ withdrawnAt: new Date(), version }).where(eq(poolOffers.id, id));
   const open = await tx.select({ id: borrowRequests.id, borrowerId: borrowRequests.borrowerId }).from(borrowRequests).where(and(eq(borrowRequests.offerId, id), inArray(borrowRequests.state, [...HOLDING])));
@@ -95,14 +94,14 @@ export async function withdrawOffer(tx: Tx, version: number, ownerId: string, id
 export async function askBorrow(tx: Tx, version: number, borrowerId: string, a: BorrowInput & { id: string }, isMember: (clubId: string) => Promise<boolean>) {
   const [dup] = await tx.select({ borrowerId: borrowRequests.borrowerId }).from(borrowRequests).where(eq(borrowRequests.id, a.id)).limit(1);
   if (dup) {
-    if (dup.borrowerId !== borrowerId) throw new Refused("no such request", 404);
+    if (dup.borrowerId !== borrowerId) throw notFound("request");
     return null; // the same request sent again
   }
   const [o] = await tx.select().from(poolOffers).where(eq(poolOffers.id, a.offerId)).limit(1).for("update");
-  if (!o || o.withdrawnAt || !(await isMember(o.clubId))) throw new Refused("that offer is no longer there", 404);
-  if (o.ownerId === borrowerId) throw new Refused("these are your own shims: they are on your tray");
+  if (!o || o.withdrawnAt || !(await isMember(o.clubId))) throw new DomainError("not_found", "That offer is no longer there");
+  if (o.ownerId === borrowerId) throw refused("these are your own shims: they are on your tray");
   const left = o.count - ((await held(tx, [o.id], true)).get(o.id) ?? 0);
-  if (left < a.count) throw new Refused(left > 0 ? `only ${left} of ${o.size} mm left on offer` : `none of ${o.size} mm left on offer: another member asked first`);
+  if (left < a.count) throw refused(left > 0 ? `only ${left} of ${o.size} mm left on offer` : `none of ${o.size} mm left on offer: another member asked first`);
   await tx.insert(borrowRequests).values({ id: a.id, offerId: o.id, borrowerId, lenderId: o.ownerId, checkId: a.checkId ?? null, size: o.size, count: a.count, version });
   return o;
 }
@@ -110,13 +109,13 @@ export async function askBorrow(tx: Tx, version: number, borrowerId: string, a: 
 /** One step of a loan, by the side allowed to take it, with its effect on the trays. */
 export async function moveBorrow(tx: Tx, version: number, userId: string, id: string, move: BorrowMove, returnSize: number | null) {
   const [r] = await tx.select().from(borrowRequests).where(eq(borrowRequests.id, id)).limit(1).for("update");
-  if (!r || (r.borrowerId !== userId && r.lenderId !== userId)) throw new Refused("no such request", 404);
+  if (!r || (r.borrowerId !== userId && r.lenderId !== userId)) throw notFound("request");
   const m = MOVES[move];
   const side = r.lenderId === userId ? "lender" : "borrower";
-  if (m.by !== side) throw new Refused(`only the ${m.by} can do that`);
+  if (m.by !== side) throw refused(`only the ${m.by} can do that`);
   if (!(m.from as readonly string[]).includes(r.state)) {
     if (r.state === m.to) return null; // the same step sent twice
-    throw new Refused(`the request is ${r.state}: it cannot be ${m.to} now`);
+    throw refused(`the request is ${r.state}: it cannot be ${m.to} now`);
   }
   const [o] = await tx.select().from(poolOffers).where(eq(poolOffers.id, r.offerId)).limit(1).for("update");
   const diameter = o?.shimDiameter ?? null;

@@ -1,22 +1,16 @@
 import "server-only";
 import { and, eq, gt, lte, sql } from "drizzle-orm";
-import type { MutationArgs } from "@/lib/sync/mutations";
-import type { ReadingInput } from "@/lib/schemas/records";
-import { db } from "../client";
-import { Refused } from "../errors";
+import { forbidden } from "@/lib/errors";
+import { db, type Tx } from "../client";
 import { changeVersions, checks, comments, engines, readings, rejectedMutations, syncClients, tombstones, trayItems } from "../schema";
-import { checkToApi, engineToApi, engineToRow, readingToApi, trayToApi, writeReadings } from "./garage";
-import type { Tx } from "../versions";
+import { checkToApi, engineToApi, readingToApi, trayToApi } from "./garage";
 import type { AnyMySqlColumn } from "drizzle-orm/mysql-core";
-
-/** A change the server refuses: recorded with its reason, and the queue moves on. */
-export { Refused };
 
 /** The client row, locked for the push; created on first sight, refused if another user owns it. */
 export async function lockClient(tx: Tx, clientId: string, userId: string): Promise<number> {
   await tx.insert(syncClients).values({ id: clientId, userId }).onDuplicateKeyUpdate({ set: { id: sql`id` } });
   const [c] = await tx.select().from(syncClients).where(eq(syncClients.id, clientId)).for("update");
-  if (!c || c.userId !== userId) throw new Refused("this device belongs to another account");
+  if (!c || c.userId !== userId) throw forbidden("This device belongs to another account");
   return c.lastMutationId;
 }
 
@@ -35,84 +29,6 @@ export async function rejectedFor(clientId: string, after: number) {
 export async function clientOwner(clientId: string) {
   const [c] = await db().select().from(syncClients).where(eq(syncClients.id, clientId)).limit(1);
   return c;
-}
-
-async function ownedEngine(tx: Tx, userId: string, engineId: string) {
-  const [e] = await tx.select().from(engines).where(eq(engines.id, engineId)).limit(1);
-  if (!e || e.ownerId !== userId) throw new Refused("no such engine");
-  return e;
-}
-
-async function ownedCheck(tx: Tx, userId: string, checkId: string) {
-  const [c] = await tx.select().from(checks).where(eq(checks.id, checkId)).limit(1);
-  if (!c || c.ownerId !== userId) throw new Refused("no such check");
-  return c;
-}
-
-export async function applyEnginePut(tx: Tx, userId: string, version: number, a: MutationArgs<"engine.put/1">) {
-  const [e] = await tx.select({ ownerId: engines.ownerId }).from(engines).where(eq(engines.id, a.id)).limit(1);
-  if (e && e.ownerId !== userId) throw new Refused("no such engine");
-  const row = engineToRow(a);
-  await tx.insert(engines).values({ id: a.id, ownerId: userId, ...row, version }).onDuplicateKeyUpdate({ set: { ...row, version } });
-}
-
-export async function applyEngineDelete(tx: Tx, userId: string, version: number, a: { id: string }) {
-  const e = await ownedEngine(tx, userId, a.id).catch(() => null);
-  if (!e) return; // already gone: deleting twice is harmless
-  const cs = await tx.select({ id: checks.id }).from(checks).where(eq(checks.engineId, a.id));
-  await tx.insert(tombstones).values([{ entity: "engine", entityId: a.id, ownerId: userId, version }, ...cs.map((c) => ({ entity: "check", entityId: c.id, ownerId: userId, version }))]);
-  await tx.delete(engines).where(eq(engines.id, a.id));
-}
-
-export async function applyCheckPut(tx: Tx, userId: string, version: number, a: MutationArgs<"check.put/1">) {
-  await ownedEngine(tx, userId, a.engineId);
-  const [c] = await tx.select({ ownerId: checks.ownerId, engineId: checks.engineId }).from(checks).where(eq(checks.id, a.id)).limit(1);
-  if (c && (c.ownerId !== userId || c.engineId !== a.engineId)) throw new Refused("no such check");
-  const set = { odometer: a.odometer, measuredHot: a.measuredHot, notes: a.notes ?? null, status: a.status, closedAt: a.status === "closed" ? new Date() : null, version };
-  await tx.insert(checks).values({ id: a.id, engineId: a.engineId, ownerId: userId, ...set }).onDuplicateKeyUpdate({ set });
-}
-
-export async function applyCheckDelete(tx: Tx, userId: string, version: number, a: { id: string }) {
-  const c = await ownedCheck(tx, userId, a.id).catch(() => null);
-  if (!c) return;
-  await tx.insert(tombstones).values({ entity: "check", entityId: a.id, ownerId: userId, version });
-  await tx.delete(checks).where(eq(checks.id, a.id));
-}
-
-/** A run of readings of one check, after checking the check is the user's and the readings fit its engine. */
-export async function applyReadings(tx: Tx, userId: string, version: number, checkId: string, rs: ReadingInput[], validate: (engine: typeof engines.$inferSelect, rs: ReadingInput[]) => void) {
-  const check = await ownedCheck(tx, userId, checkId);
-  const [engine] = await tx.select().from(engines).where(eq(engines.id, check.engineId)).limit(1);
-  validate(engine!, rs);
-  await writeReadings(tx, userId, version, checkId, rs);
-}
-
-export async function applyTrayPut(tx: Tx, userId: string, version: number, a: MutationArgs<"tray.put/1">) {
-  const [t] = await tx.select({ ownerId: trayItems.ownerId }).from(trayItems).where(eq(trayItems.id, a.id)).limit(1);
-  if (t && t.ownerId !== userId) throw new Refused("no such tray item");
-  const set = { size: a.size, measuredSize: a.measuredSize, count: a.count, shimDiameter: a.shimDiameter ?? null, version };
-  await tx.insert(trayItems).values({ id: a.id, ownerId: userId, ...set }).onDuplicateKeyUpdate({ set });
-}
-
-export async function applyTrayDelete(tx: Tx, userId: string, version: number, a: { id: string }) {
-  const [t] = await tx.select({ ownerId: trayItems.ownerId }).from(trayItems).where(eq(trayItems.id, a.id)).limit(1);
-  if (!t) return;
-  if (t.ownerId !== userId) throw new Refused("no such tray item");
-  await tx.insert(tombstones).values({ entity: "tray_item", entityId: a.id, ownerId: userId, version });
-  await tx.delete(trayItems).where(eq(trayItems.id, a.id));
-}
-
-/**
- * A comment from the outbox. The check is looked up inside the push's transaction: the same push
- * may have just created it. Anyone but its owner must be a mentor of a sharing club (isMentor).
- */
-export async function applyCommentAdd(tx: Tx, userId: string, version: number, a: MutationArgs<"comment.add/1">, isMentor: (checkId: string) => Promise<boolean>) {
-  const [check] = await tx.select({ ownerId: checks.ownerId }).from(checks).where(eq(checks.id, a.checkId)).limit(1);
-  if (!check || (check.ownerId !== userId && !(await isMentor(a.checkId)))) throw new Refused("no such check");
-  const [c] = await tx.select({ id: comments.id }).from(comments).where(eq(comments.id, a.id)).limit(1);
-  if (c) return false; // the same comment sent twice
-  await tx.insert(comments).values({ id: a.id, checkId: a.checkId, authorId: userId, body: a.body, valve: a.valve ?? null, version });
-  return true;
 }
 
 /**

@@ -33,6 +33,7 @@ export async function apiFetch<T>(path: string, init: { method?: string; body?: 
 
 import type { ApiPhoto } from "../photos/rules";
 import type { ApiBorrow, ApiOffer } from "../pool/rules";
+import type { Verdict } from "../check/verdicts";
 
 export const queryKeys = {
   me: () => ["me"] as const,
@@ -96,7 +97,7 @@ export interface ApiShare {
   id: string;
   checkId: string;
   clubId: string;
-  verdict: "close-up" | "measure-again" | "stop-and-ask" | null;
+  verdict: Verdict | null;
   verdictAt: string | null;
   withdrawnAt: string | null;
 }

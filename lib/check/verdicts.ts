@@ -5,3 +5,5 @@ export const VERDICTS = {
   "stop-and-ask": { word: "Stop and ask", glyph: "✋" },
 } as const;
 export type Verdict = keyof typeof VERDICTS;
+/** The verdicts' names, in order: the schema, the database column and the screens all take them from here. */
+export const VERDICT_NAMES = Object.keys(VERDICTS) as [Verdict, ...Verdict[]];

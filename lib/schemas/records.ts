@@ -2,13 +2,21 @@ import "./zod-config";
 import { z } from "zod";
 import { lengthMm, positiveLengthMm, rotationInputSchema, shimSeries, specSchema, timingSchema, LashInputError } from "../lash";
 import { parseValveName } from "../lash/valves";
+import { VERDICT_NAMES } from "../check/verdicts";
 
 /**
  * Input schemas of the records the API and the offline outbox accept. One schema per resource; the
  * update variants are `.partial()` of the create ones, re-checked as a whole after merging.
  */
 
-export const idSchema = z.string().regex(/^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/, { error: "not a valid id" });
+/** A record's id: a lowercase uuid, made by the phone or the server. */
+export const ID_PATTERN = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/;
+export const idSchema = z.string().regex(ID_PATTERN, { error: "not a valid id" });
+
+/** A check's steps, in order (DESIGN.md): the schema, the database enum and the phone share this list. */
+export const CHECK_STATUSES = ["measuring", "planned", "fitting", "verifying", "closed"] as const;
+export const checkStatus = z.enum(CHECK_STATUSES);
+export type CheckStatus = z.infer<typeof checkStatus>;
 const name = z.string().trim().min(1, { error: "give it a name" }).max(120, { error: "at most 120 characters" });
 
 const shimSystem = z.union([
@@ -65,7 +73,7 @@ export const checkInput = z.object({
 export const checkUpdate = checkInput
   .omit({ id: true })
   .partial()
-  .extend({ status: z.enum(["measuring", "planned", "fitting", "verifying", "closed"]).optional() });
+  .extend({ status: checkStatus.optional() });
 
 export const valveKey = z.string().refine((v) => parseValveName(v) !== null, { error: 'a valve is named like "I1.1" or "E4.2"' });
 
@@ -114,7 +122,7 @@ export const commentInput = z.object({
   body: z.string().trim().min(1, { error: "write something" }).max(4000, { error: "at most 4000 characters" }),
   valve: valveKey.nullable().optional(),
 });
-export const verdictInput = z.object({ verdict: z.enum(["close-up", "measure-again", "stop-and-ask"], { error: "a verdict is close-up, measure-again or stop-and-ask" }) });
+export const verdictInput = z.object({ verdict: z.enum(VERDICT_NAMES, { error: `a verdict is ${VERDICT_NAMES.join(", ")}` }) });
 
 /**
  * Readings checked against their engine: the valve must exist on it and the shims must lie within

@@ -1,4 +1,7 @@
 import Dexie, { type EntityTable } from "dexie";
+import type { z } from "zod";
+import type { ValveTiming } from "../lash";
+import type { CheckStatus, checkInput, commentInput, EngineInput, ReadingInput, trayItemInput } from "../schemas/records";
 
 /**
  * The phone's copy of the user's records and the outbox, in IndexedDB. Every screen in the garage
@@ -6,73 +9,36 @@ import Dexie, { type EntityTable } from "dexie";
  * user, so two people sharing a phone never see each other's work. Versioned like the server's
  * schema: a new Dexie version with an upgrade function for each change.
  */
-export interface LocalEngine {
-  id: string;
-  name: string;
-  cylinders: number;
-  intakePerCylinder: number;
-  exhaustPerCylinder: number;
-  firingOrder: number[];
-  firingAngles: number[] | null;
-  timing: { ivo: number; ivc: number; evo: number; evc: number };
-  intake: { min: number; max: number; target?: number };
-  exhaust: { min: number; max: number; target?: number };
-  measuredHot: boolean;
-  shims: { min: number; max: number; step: number } | { sizes: number[] };
-  shimDiameter: number | null;
-  assembledShim: number | null;
-  displayUnit: "mm" | "in";
-  odometerUnit: "km" | "mi" | "h";
-  mirrored: boolean;
-  version?: number;
-}
+/**
+ * The phone's records are the shared input schemas' shapes as stored: every optional field is
+ * present (null when empty), plus the fields the server adds. Derived, not written again, so a
+ * field added to a schema reaches the phone's types at once.
+ */
+type Stored<T> = { [K in keyof T]-?: undefined extends T[K] ? Exclude<T[K], undefined> | null : T[K] };
+type WithId = { id: string; version?: number };
 
-export type CheckStatus = "measuring" | "planned" | "fitting" | "verifying" | "closed";
+export type LocalEngine = Omit<Stored<EngineInput>, "id" | "timing"> & WithId & { timing: ValveTiming };
 
-export interface LocalCheck {
-  id: string;
-  engineId: string;
-  odometer: number;
-  measuredHot: boolean;
-  status: CheckStatus;
-  notes: string | null;
-  startedAt: string | Date;
-  closedAt: string | Date | null;
-  version?: number;
-}
+export type { CheckStatus };
 
-export interface LocalReading {
-  checkId: string;
-  valve: string;
-  round: number;
-  installedStamp: number | null;
-  installedMicrometer: number | null;
-  feelerGo: number | null;
-  feelerNoGo: number | null;
-  measured: number | null;
-  method: "feeler" | "typed";
-  fittedShim: number | null;
-  version?: number;
-}
+export type LocalCheck = Omit<Stored<z.output<typeof checkInput>>, "id"> &
+  WithId & {
+    engineId: string;
+    status: CheckStatus;
+    startedAt: string | Date;
+    closedAt: string | Date | null;
+  };
 
-export interface LocalTrayItem {
-  id: string;
-  size: number;
-  measuredSize: boolean;
-  count: number;
-  shimDiameter: number | null;
-  version?: number;
-}
+export type LocalReading = Stored<ReadingInput> & { checkId: string; version?: number };
 
-export interface LocalComment {
-  id: string;
-  checkId: string;
-  authorId: string;
-  valve: string | null;
-  body: string;
-  createdAt: string | Date;
-  version?: number;
-}
+export type LocalTrayItem = Omit<Stored<z.output<typeof trayItemInput>>, "id"> & WithId;
+
+export type LocalComment = Omit<Stored<z.output<typeof commentInput>>, "id"> &
+  WithId & {
+    checkId: string;
+    authorId: string;
+    createdAt: string | Date;
+  };
 
 /** A photo taken on this phone: kept here until the server has it, then kept as the local copy. */
 export interface LocalPhoto {

@@ -1,6 +1,6 @@
 import { z } from "zod";
 import { borrowInput, borrowMoveInput, offerInput } from "../pool/rules";
-import { checkInput, commentInput, engineInput, idSchema, readingInput, trayItemInput, verdictInput } from "../schemas/records";
+import { checkInput, checkStatus, commentInput, engineInput, idSchema, readingInput, trayItemInput, verdictInput } from "../schemas/records";
 
 /**
  * The outbox's mutations: a versioned name and its arguments, validated by the same schemas on the
@@ -14,7 +14,7 @@ export const MUTATIONS = {
   "check.put/1": checkInput.extend({
     id: idSchema,
     engineId: idSchema,
-    status: z.enum(["measuring", "planned", "fitting", "verifying", "closed"]).default("measuring"),
+    status: checkStatus.default("measuring"),
   }),
   "check.delete/1": z.object({ id: idSchema }),
   "reading.put/1": z.object({ checkId: idSchema, reading: readingInput }),

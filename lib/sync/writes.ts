@@ -4,6 +4,7 @@ import { LashInputError, type ShimMove } from "../lash";
 import { swapEffects, workOrderKey, type WorkOrderState } from "../check/fit";
 import { READING_VALUE_FIELDS } from "../schemas/records";
 import { getMeta, setMeta, type CheckStatus, type LocalCheck, type LocalDb, type LocalEngine, type LocalReading } from "./local-db";
+import { DEFAULT_TIMING } from "../lash";
 
 /**
  * Every change the garage screens make, each a local write plus an outbox entry (lib/sync/outbox).
@@ -16,7 +17,7 @@ export function saveEngine(db: LocalDb, e: EngineArgs) {
     const local: LocalEngine = {
       ...a,
       firingAngles: a.firingAngles ?? null,
-      timing: a.timing ?? { ivo: 20, ivc: 50, evo: 50, evc: 20 },
+      timing: a.timing ?? DEFAULT_TIMING,
       shimDiameter: a.shimDiameter ?? null,
       assembledShim: a.assembledShim ?? null,
     };

@@ -25,7 +25,12 @@ export interface App {
 // A child killed by a signal keeps exitCode null: look at signalCode too.
 const ended = (c: ChildProcess) => c.exitCode !== null || c.signalCode !== null;
 
-/** The production build (made by npm test) served by `next start` on a free loopback port. */
+/**
+ * The production build (made by npm test) served by `next start` on a free loopback port. Its pool
+ * has one database connection unless a test asks for more (LASHWRIGHT_TEST_POOL_SIZE changes the
+ * default): a request that asked for a second connection inside a transaction would then wait for
+ * the one it holds, and fail its test with a 503, instead of passing on a roomy pool.
+ */
 export async function startApp(extraEnv: Record<string, string> = {}): Promise<App> {
   const port = await freePort();
   const url = `http://127.0.0.1:${port}`;
@@ -34,7 +39,7 @@ export async function startApp(extraEnv: Record<string, string> = {}): Promise<A
   const boot = async () => {
     child = spawn(process.execPath, ["node_modules/next/dist/bin/next", "start", "-H", "127.0.0.1", "-p", String(port)], {
       cwd: root,
-      env: { ...process.env, NODE_ENV: "production", NEXT_TELEMETRY_DISABLED: "1", NEXTAUTH_URL: url, ...extraEnv },
+      env: { ...process.env, NODE_ENV: "production", NEXT_TELEMETRY_DISABLED: "1", NEXTAUTH_URL: url, DB_POOL_SIZE: process.env.LASHWRIGHT_TEST_POOL_SIZE ?? "1", ...extraEnv },
       stdio: ["ignore", "pipe", "pipe"],
     });
     child.stdout!.on("data", (d) => (out += d));

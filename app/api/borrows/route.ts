@@ -1,6 +1,7 @@
 import { borrowInput } from "@/lib/pool/rules";
 import { route } from "@/server/http";
-import { applyAsk, run } from "@/server/pool";
+import { apply } from "@/server/appliers";
+import { write } from "@/server/write";
 import { listBorrows } from "@/db/queries/pool";
 
 /** The caller's loans, as borrower and as lender, newest first. */
@@ -8,6 +9,6 @@ export const GET = route({}, async ({ user }) => ({ items: await listBorrows(use
 
 export const POST = route({ body: borrowInput, status: 201 }, async ({ user, body }) => {
   const id = body.id ?? crypto.randomUUID();
-  await run((tx, version) => applyAsk(tx, version, user, { ...body, id }));
+  await write(user, (w) => apply(w, "borrow.ask/1", { ...body, id }));
   return { borrow: (await listBorrows(user.id)).find((b) => b.id === id) };
 });

@@ -1,10 +1,17 @@
 import { engineInput } from "@/lib/schemas/records";
-import { conflict, page, pageQuery, route } from "@/server/http";
-import { createEngine, getEngineRow, listEngines } from "@/db/queries/garage";
+import { conflict } from "@/lib/errors";
+import { page, pageQuery, route } from "@/server/http";
+import { apply } from "@/server/appliers";
+import { write } from "@/server/write";
+import { engineToApi, getEngineRow, listEngines } from "@/db/queries/garage";
 
 export const GET = route({ query: pageQuery }, async ({ user, query }) => page(await listEngines(user.id, query.limit, query.offset), query.limit, query.offset));
 
-export const POST = route({ body: engineInput, status: 201 }, async ({ user, body }) => {
-  if (body.id && (await getEngineRow(body.id))) throw conflict("An engine with this id exists already");
-  return { engine: await createEngine(user.id, body) };
-});
+export const POST = route({ body: engineInput, status: 201 }, async ({ user, body }) => ({
+  engine: await write(user, async (w) => {
+    const id = body.id ?? crypto.randomUUID();
+    if (body.id && (await getEngineRow(w.tx, id))) throw conflict("An engine with this id exists already");
+    await apply(w, "engine.put/1", { ...body, id });
+    return engineToApi((await getEngineRow(w.tx, id))!);
+  }),
+}));

@@ -2,22 +2,32 @@ import { z } from "zod";
 import { checkUpdate } from "@/lib/schemas/records";
 import { route, uuidParam } from "@/server/http";
 import { ownCheck, readableCheck } from "@/server/access";
-import { checkToApi, deleteCheck, engineToApi, getEngineRow, updateCheck } from "@/db/queries/garage";
+import { apply } from "@/server/appliers";
+import { write } from "@/server/write";
+import { db } from "@/db/client";
+import { checkToApi, engineToApi, getCheckRow, getEngineRow } from "@/db/queries/garage";
 
 const params = z.object({ checkId: uuidParam });
 
 /** The check with its engine: the owner and the mentors of a club it is shared with may read it. */
 export const GET = route({ params }, async ({ user, params }) => {
-  const a = await readableCheck(user, params.checkId);
-  return { check: checkToApi(a.check), engine: engineToApi((await getEngineRow(a.check.engineId))!), access: a.as };
+  const a = await readableCheck(db(), user, params.checkId);
+  return { check: checkToApi(a.check), engine: engineToApi((await getEngineRow(db(), a.check.engineId))!), access: a.as };
 });
 
-export const PATCH = route({ params, body: checkUpdate }, async ({ user, params, body }) => {
-  await ownCheck(user, params.checkId);
-  return { check: await updateCheck(params.checkId, body) };
-});
+/** A partial change, merged with the stored check and written as a whole, as a phone does. */
+export const PATCH = route({ params, body: checkUpdate }, async ({ user, params, body }) => ({
+  check: await write(user, async (w) => {
+    const c = await ownCheck(w.tx, user, params.checkId);
+    const defined = Object.fromEntries(Object.entries(body).filter(([, v]) => v !== undefined));
+    await apply(w, "check.put/1", { id: c.id, engineId: c.engineId, odometer: c.odometer, measuredHot: c.measuredHot, notes: c.notes, status: c.status, ...defined });
+    return checkToApi((await getCheckRow(w.tx, c.id))!);
+  }),
+}));
 
 export const DELETE = route({ params, status: 204 }, async ({ user, params }) => {
-  await ownCheck(user, params.checkId);
-  await deleteCheck(user.id, params.checkId);
+  await write(user, async (w) => {
+    await ownCheck(w.tx, user, params.checkId);
+    await apply(w, "check.delete/1", { id: params.checkId });
+  });
 });

@@ -3,18 +3,26 @@ import { engineUpdate } from "@/lib/schemas/records";
 import { route, uuidParam } from "@/server/http";
 import { ownEngine } from "@/server/access";
 import { mergeEngine } from "@/server/engines";
-import { deleteEngine, engineToApi, updateEngine } from "@/db/queries/garage";
+import { apply } from "@/server/appliers";
+import { write } from "@/server/write";
+import { db } from "@/db/client";
+import { engineToApi, getEngineRow } from "@/db/queries/garage";
 
 const params = z.object({ engineId: uuidParam });
 
-export const GET = route({ params }, async ({ user, params }) => ({ engine: engineToApi(await ownEngine(user, params.engineId)) }));
+export const GET = route({ params }, async ({ user, params }) => ({ engine: engineToApi(await ownEngine(db(), user, params.engineId)) }));
 
-export const PATCH = route({ params, body: engineUpdate.omit({ id: true }) }, async ({ user, params, body }) => {
-  const row = await ownEngine(user, params.engineId);
-  return { engine: await updateEngine(user.id, row.id, mergeEngine(row, body)) };
-});
+export const PATCH = route({ params, body: engineUpdate.omit({ id: true }) }, async ({ user, params, body }) => ({
+  engine: await write(user, async (w) => {
+    const row = await ownEngine(w.tx, user, params.engineId);
+    await apply(w, "engine.put/1", { ...mergeEngine(row, body), id: row.id });
+    return engineToApi((await getEngineRow(w.tx, row.id))!);
+  }),
+}));
 
 export const DELETE = route({ params, status: 204 }, async ({ user, params }) => {
-  await ownEngine(user, params.engineId);
-  await deleteEngine(user.id, params.engineId);
+  await write(user, async (w) => {
+    await ownEngine(w.tx, user, params.engineId);
+    await apply(w, "engine.delete/1", { id: params.engineId });
+  });
 });

@@ -1,9 +1,10 @@
 import { tokenInput } from "@/lib/schemas/account";
-import { ApiError, route } from "@/server/http";
+import { DomainError } from "@/lib/errors";
+import { route } from "@/server/http";
 import { acceptInvite } from "@/db/queries/clubs";
 
 export const POST = route({ body: tokenInput }, async ({ user, body }) => {
   const r = await acceptInvite(body.token, user);
-  if (!r) throw new ApiError(400, "bad_token", "This invitation has expired, was used, or was sent to another address");
+  if (!r) throw new DomainError("bad_request", "This invitation has expired, was used, or was sent to another address", { code: "bad_token" });
   return { clubId: r.clubId };
 });

@@ -2,20 +2,24 @@ import { z } from "zod";
 import { commentInput } from "@/lib/schemas/records";
 import { route, uuidParam } from "@/server/http";
 import { readableCheck } from "@/server/access";
-import { noticeNewComment } from "@/server/review";
-import { addComment, listComments } from "@/db/queries/clubs";
+import { apply } from "@/server/appliers";
+import { write } from "@/server/write";
+import { db } from "@/db/client";
+import { listComments } from "@/db/queries/clubs";
 
 const params = z.object({ checkId: uuidParam });
 
 export const GET = route({ params }, async ({ user, params }) => {
-  await readableCheck(user, params.checkId);
-  return { items: await listComments(params.checkId) };
+  await readableCheck(db(), user, params.checkId);
+  return { items: await listComments(db(), params.checkId) };
 });
 
 /** The owner and the mentors of a sharing club comment on the check or on one valve. */
 export const POST = route({ params, body: commentInput, status: 201 }, async ({ user, params, body }) => {
-  const a = await readableCheck(user, params.checkId);
-  const comment = await addComment(params.checkId, user.id, body);
-  await noticeNewComment(a.check, user, body.body);
-  return { comment: { id: comment.id, checkId: comment.checkId, valve: comment.valve, body: comment.body, createdAt: comment.createdAt, authorId: user.id, authorName: user.name } };
+  const id = body.id ?? crypto.randomUUID();
+  const comment = await write(user, async (w) => {
+    await apply(w, "comment.add/1", { ...body, id, checkId: params.checkId });
+    return (await listComments(w.tx, params.checkId)).find((c) => c.id === id)!;
+  });
+  return { comment: { id: comment.id, checkId: comment.checkId, valve: comment.valve, body: comment.body, createdAt: comment.createdAt, authorId: comment.authorId, authorName: comment.authorName } };
 });

@@ -4,11 +4,12 @@ import { route, uuidParam } from "@/server/http";
 import { readableCheck } from "@/server/access";
 import { uploadPhoto } from "@/server/photos";
 import { listPhotos } from "@/db/queries/photos";
+import { db } from "@/db/client";
 
 const params = z.object({ checkId: uuidParam });
 
 export const GET = route({ params }, async ({ user, params }) => {
-  await readableCheck(user, params.checkId);
+  await readableCheck(db(), user, params.checkId);
   return { items: await listPhotos(params.checkId) };
 });
 

@@ -4,19 +4,22 @@ import { env } from "@/lib/env";
 import { route, uuidParam } from "@/server/http";
 import { clubRole } from "@/server/access";
 import { queueNotices } from "@/server/notices";
+import { write } from "@/server/write";
+import { db } from "@/db/client";
 import { createInvite, getClub, listInvites } from "@/db/queries/clubs";
 
 const params = z.object({ clubId: uuidParam });
 
 export const GET = route({ params }, async ({ user, params }) => {
-  await clubRole(user, params.clubId, "admin");
+  await clubRole(db(), user, params.clubId, "admin");
   return { items: await listInvites(params.clubId) };
 });
 
 export const POST = route({ params, body: inviteInput, status: 201 }, async ({ user, params, body }) => {
-  await clubRole(user, params.clubId, "admin");
-  const club = (await getClub(params.clubId))!;
-  const invite = await createInvite(params.clubId, user.id, body.email, body.role);
+  const { club, invite } = await write(user, async (w) => {
+    await clubRole(w.tx, user, params.clubId, "admin");
+    return { club: (await getClub(w.tx, params.clubId))!, invite: await createInvite(w.tx, params.clubId, user.id, body.email, body.role) };
+  });
   await queueNotices([
     {
       toEmail: body.email,

@@ -2,11 +2,12 @@ import { z } from "zod";
 import { route, uuidParam } from "@/server/http";
 import { clubMember } from "@/server/access";
 import { listMembers } from "@/db/queries/clubs";
+import { db } from "@/db/client";
 
 const params = z.object({ clubId: uuidParam });
 
 /** Members see who is in their club and their roles (names and e-mails, nothing else). */
 export const GET = route({ params }, async ({ user, params }) => {
-  await clubMember(user, params.clubId);
-  return { items: await listMembers(params.clubId) };
+  await clubMember(db(), user, params.clubId);
+  return { items: await listMembers(db(), params.clubId) };
 });

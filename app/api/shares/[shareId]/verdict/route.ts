@@ -1,15 +1,15 @@
 import { z } from "zod";
 import { verdictInput } from "@/lib/schemas/records";
 import { route, uuidParam } from "@/server/http";
-import { shareFor } from "@/server/access";
-import { noticeVerdict } from "@/server/review";
-import { setVerdict } from "@/db/queries/clubs";
+import { apply } from "@/server/appliers";
+import { write } from "@/server/write";
+import { getShare, shareToApi } from "@/db/queries/clubs";
 
 const params = z.object({ shareId: uuidParam });
 
-export const PUT = route({ params, body: verdictInput }, async ({ user, params, body }) => {
-  const { check } = await shareFor(user, params.shareId, "mentor");
-  const share = await setVerdict(params.shareId, user.id, body.verdict);
-  await noticeVerdict(check, user.name, body.verdict);
-  return { share };
-});
+export const PUT = route({ params, body: verdictInput }, async ({ user, params, body }) => ({
+  share: await write(user, async (w) => {
+    await apply(w, "verdict.set/1", { shareId: params.shareId, verdict: body.verdict });
+    return shareToApi((await getShare(w.tx, params.shareId))!);
+  }),
+}));

@@ -1,26 +1,34 @@
 import { z } from "zod";
+import type { Role } from "@/db/schema";
 import { rolesInput } from "@/lib/schemas/records";
-import { conflict, notFound, route, uuidParam } from "@/server/http";
+import { conflict, notFound } from "@/lib/errors";
+import { route, uuidParam } from "@/server/http";
 import { clubRole } from "@/server/access";
+import { write } from "@/server/write";
 import { countAdmins, listMembers, rolesInClub, setRoles } from "@/db/queries/clubs";
+import type { Tx } from "@/db/client";
 
 const params = z.object({ clubId: uuidParam, userId: uuidParam });
 
-async function guardLastAdmin(clubId: string, userId: string, keepsAdmin: boolean) {
-  const roles = await rolesInClub(userId, clubId);
-  if (roles.length === 0) throw notFound("member");
-  if (roles.includes("admin") && !keepsAdmin && (await countAdmins(clubId)) <= 1) throw conflict("A club needs at least one admin");
+/** Change a member's roles in one transaction with the checks, so two admins cannot both step down. */
+async function changeRoles(tx: Tx, clubId: string, userId: string, roles: Role[]) {
+  const have = await rolesInClub(tx, userId, clubId);
+  if (have.length === 0) throw notFound("member");
+  if (have.includes("admin") && !roles.includes("admin") && (await countAdmins(tx, clubId)) <= 1) throw conflict("A club needs at least one admin");
+  await setRoles(tx, clubId, userId, roles);
 }
 
-export const PUT = route({ params, body: rolesInput }, async ({ user, params, body }) => {
-  await clubRole(user, params.clubId, "admin");
-  await guardLastAdmin(params.clubId, params.userId, body.roles.includes("admin"));
-  await setRoles(params.clubId, params.userId, body.roles);
-  return { member: (await listMembers(params.clubId)).find((m) => m.userId === params.userId) };
-});
+export const PUT = route({ params, body: rolesInput }, async ({ user, params, body }) => ({
+  member: await write(user, async (w) => {
+    await clubRole(w.tx, user, params.clubId, "admin");
+    await changeRoles(w.tx, params.clubId, params.userId, body.roles);
+    return (await listMembers(w.tx, params.clubId)).find((m) => m.userId === params.userId);
+  }),
+}));
 
 export const DELETE = route({ params, status: 204 }, async ({ user, params }) => {
-  await clubRole(user, params.clubId, "admin");
-  await guardLastAdmin(params.clubId, params.userId, false);
-  await setRoles(params.clubId, params.userId, []);
+  await write(user, async (w) => {
+    await clubRole(w.tx, user, params.clubId, "admin");
+    await changeRoles(w.tx, params.clubId, params.userId, []);
+  });
 });

@@ -1,0 +1,79 @@
+import "server-only";
+import type { MutationArgs, MutationName } from "@/lib/sync/mutations";
+import type { ReadingInput } from "@/lib/schemas/records";
+import { getCheckRow, getEngineRow, getTrayRow, putCheck, putEngine, putTrayItem, removeCheck, removeEngine, removeTrayItem, writeReadings } from "@/db/queries/garage";
+import { insertComment, writeVerdict } from "@/db/queries/clubs";
+import { notFound } from "@/lib/errors";
+import { ownCheck, ownOrNewCheck, ownOrNewEngine, ownOrNewTrayItem, ownEngine, readableCheck, shareFor } from "./access";
+import { checkReadingsFit } from "./engines";
+import { noticeNewComment, noticeVerdict } from "./review";
+import { applyAsk, applyMove, applyOffer, applyWithdrawOffer } from "./pool";
+import type { WriteCtx } from "./write";
+
+/**
+ * The one write path: each outbox mutation name and the function that applies it. The sync push
+ * and the REST write routes both come here. Every applier authorises through server/access.ts
+ * with the transaction it was given, so the decision and the change are one transaction and no
+ * second connection is ever asked for. The table's type names every mutation of
+ * lib/sync/mutations.ts: one added there without an applier here does not compile.
+ */
+type Applier<N extends MutationName> = (w: WriteCtx, a: MutationArgs<N>) => Promise<void>;
+
+/** Readings of one check in one go: the owner's check, values that fit its engine, one upsert. */
+export async function applyReadings(w: WriteCtx, checkId: string, rs: ReadingInput[]) {
+  const check = await ownCheck(w.tx, w.user, checkId);
+  checkReadingsFit((await getEngineRow(w.tx, check.engineId))!, rs);
+  await writeReadings(w.tx, w.user.id, w.version, checkId, rs);
+}
+
+export const APPLIERS: { readonly [N in MutationName]: Applier<N> } = {
+  "engine.put/1": async (w, a) => {
+    await ownOrNewEngine(w.tx, w.user, a.id);
+    await putEngine(w.tx, w.user.id, w.version, a.id, a);
+  },
+  // Deleting what is already gone is harmless (a retried delete, or one from a second phone). So
+  // is naming someone else's record: it answers exactly as a missing one, so no id can be probed.
+  "engine.delete/1": async (w, a) => {
+    if ((await getEngineRow(w.tx, a.id))?.ownerId !== w.user.id) return;
+    await removeEngine(w.tx, w.user.id, w.version, a.id);
+  },
+  "check.put/1": async (w, a) => {
+    await ownEngine(w.tx, w.user, a.engineId);
+    const existing = await ownOrNewCheck(w.tx, w.user, a.id);
+    if (existing && existing.engineId !== a.engineId) throw notFound("check");
+    await putCheck(w.tx, w.user.id, w.version, a.id, a.engineId, a, existing);
+  },
+  "check.delete/1": async (w, a) => {
+    if ((await getCheckRow(w.tx, a.id))?.ownerId !== w.user.id) return;
+    await removeCheck(w.tx, w.user.id, w.version, a.id);
+  },
+  "reading.put/1": (w, a) => applyReadings(w, a.checkId, [a.reading]),
+  "tray.put/1": async (w, a) => {
+    await ownOrNewTrayItem(w.tx, w.user, a.id);
+    await putTrayItem(w.tx, w.user.id, w.version, a.id, a);
+  },
+  "tray.delete/1": async (w, a) => {
+    if ((await getTrayRow(w.tx, a.id))?.ownerId !== w.user.id) return;
+    await removeTrayItem(w.tx, w.user.id, w.version, a.id);
+  },
+  "comment.add/1": async (w, a) => {
+    // the check is looked up in this transaction: the same push may have just created it
+    const { check } = await readableCheck(w.tx, w.user, a.checkId);
+    if (!(await insertComment(w.tx, w.version, a.checkId, w.user.id, a))) return; // the same comment sent twice
+    w.later(() => noticeNewComment(check, w.user, a.body));
+  },
+  "verdict.set/1": async (w, a) => {
+    const { check } = await shareFor(w.tx, w.user, a.shareId, "mentor");
+    await writeVerdict(w.tx, w.version, a.shareId, w.user.id, a.verdict);
+    w.later(() => noticeVerdict(check, w.user.name, a.verdict));
+  },
+  "pool.offer/1": (w, a) => applyOffer(w, a),
+  "pool.withdraw/1": (w, a) => applyWithdrawOffer(w, a.id),
+  "borrow.ask/1": (w, a) => applyAsk(w, a),
+  "borrow.move/1": (w, a) => applyMove(w, a),
+};
+
+/** Apply one mutation by name, inside the caller's write. */
+export function apply<N extends MutationName>(w: WriteCtx, name: N, args: MutationArgs<N>): Promise<void> {
+  return (APPLIERS[name] as Applier<N>)(w, args);
+}
