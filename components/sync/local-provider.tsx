@@ -5,7 +5,8 @@ import { useLiveQuery } from "dexie-react-hooks";
 import { usePathname } from "next/navigation";
 import { createContext, useCallback, useContext, useEffect, useMemo, useRef, useState, type ReactNode } from "react";
 import { openLocalDb, getMeta, type LocalDb } from "@/lib/sync/local-db";
-import { SignedOut, syncOnce, type Rejected, type SyncState } from "@/lib/sync/client";
+import { Offline, ServerBusy, SignedOut, syncOnce, type Rejected, type SyncState } from "@/lib/sync/client";
+import { retryDelay } from "@/lib/sync/transport";
 import { useIsClient, useStored } from "@/components/ui/use-stored";
 
 /**
@@ -26,6 +27,8 @@ interface LocalContext {
   ready: boolean;
   db: LocalDb | null;
   state: SyncState;
+  /** when the server was busy: the time of the next try */
+  retryAt: number | null;
   waiting: number;
   lastSyncAt: number | null;
   rejected: Rejected[];
@@ -54,6 +57,10 @@ export function LocalProvider({ children }: { children: ReactNode }) {
   const userId = user?.id;
   const db = useMemo(() => (userId ? openLocalDb(userId) : null), [userId]);
   const running = useRef<Promise<void> | null>(null);
+  const [retryAt, setRetryAt] = useState<number | null>(null);
+  // a busy server: tries so far, and no regular sync before the time it was asked to wait
+  const busyTries = useRef(0);
+  const busyUntil = useRef(0);
 
   // The identity: the stored one at once, then the server's word when it can be reached; asked
   // again on each new page while nobody is known here (for example just after signing in).
@@ -93,15 +100,23 @@ export function LocalProvider({ children }: { children: ReactNode }) {
       again.current = true;
       return running.current;
     }
+    setRetryAt(null);
     running.current = (async () => {
       do {
         again.current = false;
         setState("syncing");
         try {
           await syncOnce(db, (u, i) => fetch(u, i));
+          busyTries.current = 0;
           setState("idle");
         } catch (e) {
-          setState(e instanceof SignedOut ? "signed-out" : e instanceof TypeError ? "offline" : "error");
+          if (e instanceof ServerBusy) {
+            // the outbox stays as it is; come back when asked, later with each busy answer, with jitter
+            busyUntil.current = Date.now() + retryDelay(busyTries.current++, e.retryAfterMs);
+            setRetryAt(busyUntil.current);
+            setState("busy");
+          } else setState(e instanceof SignedOut ? "signed-out" : e instanceof Offline ? "offline" : "error");
+          if (!(e instanceof Offline || e instanceof SignedOut || e instanceof ServerBusy)) console.error("[sync] failed:", e);
           break;
         }
       } while (again.current);
@@ -110,6 +125,12 @@ export function LocalProvider({ children }: { children: ReactNode }) {
     });
     return running.current;
   }, [db]);
+  // the next try after a busy answer
+  useEffect(() => {
+    if (retryAt === null) return;
+    const t = setTimeout(() => void syncNow(), Math.max(0, retryAt - Date.now()));
+    return () => clearTimeout(t);
+  }, [retryAt, syncNow]);
 
   useEffect(() => {
     if (!db) return;
@@ -120,7 +141,8 @@ export function LocalProvider({ children }: { children: ReactNode }) {
     window.addEventListener("online", onOnline);
     document.addEventListener("visibilitychange", onFocus);
     navigator.serviceWorker?.addEventListener("message", onMessage);
-    const timer = setInterval(() => navigator.onLine && void syncNow(), SYNC_EVERY_MS);
+    // the regular sync waits while a busy server's retry is pending
+    const timer = setInterval(() => navigator.onLine && Date.now() >= busyUntil.current && void syncNow(), SYNC_EVERY_MS);
     return () => {
       window.removeEventListener("online", onOnline);
       document.removeEventListener("visibilitychange", onFocus);
@@ -144,7 +166,7 @@ export function LocalProvider({ children }: { children: ReactNode }) {
 
   const forget = useCallback(() => storeUser(null), [storeUser]);
 
-  const value: LocalContext = { user, ready, db, state, waiting, lastSyncAt, rejected, persisted, syncNow, forget };
+  const value: LocalContext = { user, ready, db, state, retryAt, waiting, lastSyncAt, rejected, persisted, syncNow, forget };
   return (
     <Ctx.Provider value={value}>
       <PersistQueries userId={userId ?? null} />

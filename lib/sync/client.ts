@@ -1,5 +1,6 @@
 import { PUSH_BATCH } from "./mutations";
 import { uploadPhotos } from "./photos";
+import { Offline, postJson, retryAfterMs, retryDelay, ServerBusy, SignedOut, type Fetch } from "./transport";
 import { getMeta, setMeta, type LocalCheck, type LocalComment, type LocalDb, type LocalEngine, type LocalReading, type LocalTrayItem } from "./local-db";
 
 /**
@@ -8,7 +9,9 @@ import { getMeta, setMeta, type LocalCheck, type LocalComment, type LocalDb, typ
  * sign-in; any other failure keeps everything for the next try. Pull then brings what changed on
  * the server since the cursor, skipping records that still have local changes waiting.
  */
-export type SyncState = "idle" | "syncing" | "offline" | "signed-out" | "error";
+export type SyncState = "idle" | "syncing" | "offline" | "signed-out" | "busy" | "error";
+
+export { Offline, retryAfterMs, retryDelay, ServerBusy, SignedOut };
 
 export interface Rejected {
   id: number;
@@ -21,10 +24,6 @@ export interface SyncStatus {
   lastSyncAt: number | null;
   rejected: Rejected[];
 }
-
-type Fetch = (input: string, init: RequestInit) => Promise<Response>;
-
-export class SignedOut extends Error {}
 
 interface PullResult {
   cursor: number;
@@ -45,17 +44,7 @@ export async function clientId(db: LocalDb): Promise<string> {
   return id;
 }
 
-async function post<T>(fetcher: Fetch, base: string, path: string, body: unknown): Promise<T> {
-  let res: Response;
-  try {
-    res = await fetcher(`${base}${path}`, { method: "POST", headers: { "content-type": "application/json" }, body: JSON.stringify(body), credentials: "same-origin" });
-  } catch {
-    throw new TypeError("offline");
-  }
-  if (res.status === 401) throw new SignedOut("sign in again to sync");
-  if (!res.ok) throw new Error(`sync answered ${res.status}`);
-  return (await res.json()) as T;
-}
+const post = <T>(fetcher: Fetch, base: string, path: string, body: unknown) => postJson<T>(fetcher, `${base}${path}`, body, path.slice(5));
 
 /** Push the whole outbox in batches. Returns how many mutations the server acknowledged. */
 export async function pushAll(db: LocalDb, fetcher: Fetch, base = ""): Promise<{ acknowledged: number; rejected: Rejected[] }> {
@@ -128,10 +117,17 @@ export async function pullOnce(db: LocalDb, fetcher: Fetch, base = ""): Promise<
   return r;
 }
 
-/** One full sync: push everything, then pull. Throws SignedOut on 401 and TypeError when offline. */
+/**
+ * One full sync: push everything, send waiting photos, then pull. Throws SignedOut on 401, Offline
+ * when there is no answer, ServerBusy when the server asks to come back later. A photo that fails
+ * on the server stays waiting for the next sync and does not keep the pull from running.
+ */
 export async function syncOnce(db: LocalDb, fetcher: Fetch, base = "") {
   const pushed = await pushAll(db, fetcher, base);
-  const photos = await uploadPhotos(db, fetcher, base);
+  const photos = await uploadPhotos(db, fetcher, base).catch((e: unknown) => {
+    if (e instanceof SignedOut) throw e;
+    return { sent: 0, refused: 0, failed: 1 };
+  });
   const pulled = await pullOnce(db, fetcher, base);
   await setMeta(db, "lastSyncAt", Date.now());
   return { pushed, photos, pulled };

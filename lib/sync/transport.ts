@@ -1,0 +1,80 @@
+/**
+ * The phone's way to the server, shared by the outbox push, the pull and the photo queue. It sorts
+ * every failure into what the phone should do about it: no answer at all (Offline: try again when
+ * a signal is back), the session is gone (SignedOut: ask to sign in), the server is saturated
+ * (ServerBusy: wait as long as it asks, plus jitter), or anything else (ServerError). A bug in the
+ * phone's own code after an answer arrived is none of these, so it never shows as "offline".
+ */
+export type Fetch = (input: string, init: RequestInit) => Promise<Response>;
+
+/** The request got no answer: no signal, the server unreachable, the connection reset. */
+export class Offline extends Error {
+  constructor(readonly cause?: unknown) {
+    super("no connection to the server");
+    this.name = "Offline";
+  }
+}
+
+export class SignedOut extends Error {
+  constructor(message = "sign in again to sync") {
+    super(message);
+    this.name = "SignedOut";
+  }
+}
+
+/** 503 or 429: nothing was applied; send the same again after retryAfterMs (or later). */
+export class ServerBusy extends Error {
+  constructor(readonly retryAfterMs: number | null) {
+    super("the server is busy");
+    this.name = "ServerBusy";
+  }
+}
+
+export class ServerError extends Error {
+  constructor(
+    readonly status: number,
+    message: string,
+  ) {
+    super(message);
+    this.name = "ServerError";
+  }
+}
+
+/** Retry-After in seconds or as a date, in milliseconds from now; null when absent or unreadable. */
+export function retryAfterMs(header: string | null, now = Date.now()): number | null {
+  if (!header) return null;
+  if (/^\d+$/.test(header.trim())) return Number(header.trim()) * 1000;
+  const at = Date.parse(header);
+  return Number.isNaN(at) ? null : Math.max(0, at - now);
+}
+
+/**
+ * How long to wait before the next try after a busy answer: at least what the server asked, growing
+ * with each failed try (2 s, 4 s, ... up to a minute), times a random factor from 1 to 2 so phones
+ * turned away together do not all come back together.
+ */
+export function retryDelay(attempt: number, askedMs: number | null, random: () => number = Math.random): number {
+  const base = Math.max(askedMs ?? 0, Math.min(60_000, 2_000 * 2 ** Math.max(0, attempt)));
+  return Math.round(base * (1 + random()));
+}
+
+/** Send one request; an answer that is not 2xx becomes one of the errors above. */
+export async function send(fetcher: Fetch, url: string, init: RequestInit): Promise<Response> {
+  let res: Response;
+  try {
+    res = await fetcher(url, { credentials: "same-origin", ...init });
+  } catch (e) {
+    throw new Offline(e);
+  }
+  if (res.ok) return res;
+  if (res.status === 401) throw new SignedOut();
+  if (res.status === 503 || res.status === 429) throw new ServerBusy(retryAfterMs(res.headers.get("retry-after")));
+  return res;
+}
+
+/** POST JSON and read the JSON answer; any answer but 2xx throws. */
+export async function postJson<T>(fetcher: Fetch, url: string, body: unknown, what: string): Promise<T> {
+  const res = await send(fetcher, url, { method: "POST", headers: { "content-type": "application/json" }, body: JSON.stringify(body) });
+  if (!res.ok) throw new ServerError(res.status, `${what} answered ${res.status}`);
+  return (await res.json()) as T;
+}
