@@ -1,10 +1,9 @@
 import type { MutationArgs } from "./mutations";
 import { record, writeTables } from "./outbox";
-import { LashInputError, type ShimMove } from "../lash";
+import { DEFAULT_TIMING, LashInputError, type ShimMove } from "../lash";
 import { swapEffects, workOrderKey, type WorkOrderState } from "../check/fit";
 import { READING_VALUE_FIELDS } from "../schemas/records";
 import { getMeta, setMeta, type CheckStatus, type LocalCheck, type LocalDb, type LocalEngine, type LocalReading } from "./local-db";
-import { DEFAULT_TIMING } from "../lash";
 
 /**
  * Every change the garage screens make, each a local write plus an outbox entry (lib/sync/outbox).
