@@ -15,7 +15,7 @@ function ago(ms: number): string {
 
 /** One small line that always says where the work is: on this phone, waiting, or synced. */
 export function SyncLine() {
-  const { waiting, lastSyncAt, state, retryAt, rejected, persisted, syncNow } = useLocal();
+  const { waiting, lastSyncAt, state, retryAt, rejected, syncNow } = useLocal();
   const [, tick] = useState(0);
   useEffect(() => {
     const t = setInterval(() => tick((n) => n + 1), 30_000);
@@ -48,7 +48,6 @@ export function SyncLine() {
           )
         )}
       </div>
-      {persisted === false && <p className="text-ink-soft">This browser may clear stored data when space runs low: sync when you can.</p>}
       {rejected.length > 0 && (
         <details className="text-tight">
           <summary className="min-h-12 cursor-pointer py-3 font-bold">✕ {rejected.length} change{rejected.length === 1 ? " was" : "s were"} refused by the server</summary>
