@@ -2,7 +2,7 @@
 
 import { useLiveQuery } from "dexie-react-hooks";
 import { useRouter, useSearchParams } from "next/navigation";
-import { useEffect, useState } from "react";
+import { useEffect, useState, type ReactNode } from "react";
 import { useForm, type Resolver } from "react-hook-form";
 import { ENGINE_PRESETS } from "@/lib/lash";
 import { engineInput } from "@/lib/schemas/records";
@@ -94,6 +94,28 @@ const BLANK: FormValues = {
   odometerUnit: "km",
 };
 
+/**
+ * What an empty required field lacks and where the figure comes from, instead of the schema's
+ * generic "must be a number".
+ */
+const MANUAL = "from the engine's service manual (the valve clearance table)";
+const MISSING: Record<string, string> = {
+  name: "Missing: give the engine a name you will recognise",
+  cylinders: "Missing: how many cylinders the engine has",
+  intakePerCylinder: "Missing: intake valves per cylinder (count the intake cam lobes over one cylinder)",
+  exhaustPerCylinder: "Missing: exhaust valves per cylinder (count the exhaust cam lobes over one cylinder)",
+  firingOrder: "Missing: the firing order, from the service manual or the cylinder head casting, e.g. 1-3-4-2",
+  "intake.min": `Missing: the smallest intake clearance allowed, ${MANUAL}`,
+  "intake.max": `Missing: the largest intake clearance allowed, ${MANUAL}`,
+  "exhaust.min": `Missing: the smallest exhaust clearance allowed, ${MANUAL}`,
+  "exhaust.max": `Missing: the largest exhaust clearance allowed, ${MANUAL}`,
+  "shims.min": "Missing: the thinnest shim of the series, from the manual or the shim kit",
+  "shims.max": "Missing: the thickest shim of the series, from the manual or the shim kit",
+  "shims.step": "Missing: the step between shim sizes, from the manual or the shim kit (often 0.05 mm)",
+};
+
+const valueAt = (v: FormValues, path: string) => path.split(".").reduce<unknown>((o, k) => (o as Record<string, unknown> | undefined)?.[k], v);
+
 const resolverFor =
   (id: string): Resolver<FormValues> =>
   async (values) => {
@@ -105,7 +127,9 @@ const resolverFor =
       if (key.startsWith("firingOrder")) key = "firingOrder";
       if (key.startsWith("firingAngles")) key = "firingAngles";
       if (key === "shims") key = "shims.step";
-      errors[key] ??= { type: "schema", message: i.message };
+      const value = valueAt(values, key);
+      const missing = typeof value === "string" && value.trim() === "" ? MISSING[key] : undefined;
+      errors[key] ??= { type: "schema", message: missing ?? i.message };
     }
     // react-hook-form wants nested error objects for nested fields
     const nested: Record<string, unknown> = {};
@@ -157,9 +181,9 @@ export function EngineForm() {
   });
 
   const err = (path: string) => path.split(".").reduce<unknown>((o, k) => (o as Record<string, unknown> | undefined)?.[k], errors) as { message?: string } | undefined;
-  const text = (name: string, label: string, opts: { hint?: string; unit?: string; numeric?: boolean } = {}) => (
+  const text = (name: string, label: string, opts: { hint?: ReactNode; unit?: string; numeric?: boolean } = {}) => (
     <Field id={name} label={opts.unit ? `${label} (${opts.unit})` : label} error={err(name)?.message} hint={opts.hint}>
-      <input id={name} inputMode={opts.numeric ? "decimal" : undefined} className={inputClass} aria-invalid={!!err(name)} {...form.register(name as never)} />
+      <input id={name} inputMode={opts.numeric ? "decimal" : undefined} className={inputClass} {...form.register(name as never)} />
     </Field>
   );
 
@@ -179,16 +203,26 @@ export function EngineForm() {
         </Field>
       )}
       {text("name", "Name", { hint: "Your own name for it, e.g. “Blue four”" })}
-      <fieldset className="grid grid-cols-3 gap-3">
+      <fieldset className="grid grid-cols-3 gap-3" aria-describedby="layout-help">
         <legend className="mb-2 text-lg font-bold">Layout</legend>
+        <p id="layout-help" className="col-span-3 text-sm text-ink-soft">
+          <strong className="text-ink">Valves per cylinder:</strong> each valve has its own bucket and shim. Count the cam lobes over one cylinder: a lobe on the
+          intake cam is an intake valve, one on the exhaust cam an exhaust valve.
+        </p>
         {text("cylinders", "Cylinders", { numeric: true })}
         {text("intakePerCylinder", "Intakes / cyl", { numeric: true })}
         {text("exhaustPerCylinder", "Exhausts / cyl", { numeric: true })}
       </fieldset>
-      {text("firingOrder", "Firing order", { hint: "e.g. 1-3-4-2" })}
+      {text("firingOrder", "Firing order", {
+        hint: "The order in which the cylinders fire, numbered as the manual numbers them, e.g. 1-3-4-2. It tells the app where to stop the crank so each valve sits closed.",
+      })}
       {text("firingAngles", "Firing angles (crank degrees, optional)", { hint: "Leave empty for even firing. A 90 degree twin: 0, 270" })}
-      <fieldset className="grid grid-cols-2 gap-3">
+      <fieldset className="grid grid-cols-2 gap-3" aria-describedby="bands-help">
         <legend className="mb-2 text-lg font-bold">Spec bands (from the manual)</legend>
+        <p id="bands-help" className="col-span-2 text-sm text-ink-soft">
+          <strong className="text-ink">Spec band:</strong> the smallest and largest gap the service manual allows between the cam and the bucket, one band for
+          the intakes and one for the exhausts. A valve inside its band needs nothing; the plan aims for the middle.
+        </p>
         {text("intake.min", "Intake from", { unit: "mm", numeric: true })}
         {text("intake.max", "Intake to", { unit: "mm", numeric: true })}
         {text("exhaust.min", "Exhaust from", { unit: "mm", numeric: true })}
@@ -198,8 +232,12 @@ export function EngineForm() {
         <input type="checkbox" className="h-6 w-6" {...form.register("measuredHot")} />
         Spec is for a hot engine (most are cold)
       </label>
-      <fieldset className="grid grid-cols-3 gap-3">
+      <fieldset className="grid grid-cols-3 gap-3" aria-describedby="series-help">
         <legend className="mb-2 text-lg font-bold">Shim series</legend>
+        <p id="series-help" className="col-span-3 text-sm text-ink-soft">
+          <strong className="text-ink">Shim series:</strong> the thicknesses your engine&apos;s shims come in, from the thinnest to the thickest, a fixed
+          step apart (often 0.05 mm). The number etched on a shim is its thickness.
+        </p>
         {text("shims.min", "Smallest", { unit: "mm", numeric: true })}
         {text("shims.max", "Largest", { unit: "mm", numeric: true })}
         {text("shims.step", "Step", { unit: "mm", numeric: true })}

@@ -1,5 +1,5 @@
 import Link from "next/link";
-import type { ComponentProps, ReactNode } from "react";
+import { cloneElement, type ComponentProps, type ReactElement, type ReactNode } from "react";
 
 /** Shared primitives: every target at least 48 px, labels always visible, errors in words. */
 const base = "inline-flex min-h-12 items-center justify-center gap-2 rounded-xl px-5 text-lg font-bold disabled:opacity-50";
@@ -17,17 +17,28 @@ export function ButtonLink({ look = "primary", className = "", ...rest }: Compon
   return <Link className={`${base} ${looks[look]} ${className}`} {...rest} />;
 }
 
-export function Field({ label, error, hint, children, id }: { label: string; error?: string; hint?: string; children: ReactNode; id: string }) {
+/**
+ * A labelled field whose hint and error are tied to its control (aria-describedby), so a screen
+ * reader reads them with the field, not only somewhere on the page. The hint stays beside an error:
+ * it often says where the value comes from.
+ */
+export function Field({ label, error, hint, children, id }: { label: string; error?: string; hint?: ReactNode; children: ReactElement<{ "aria-describedby"?: string; "aria-invalid"?: boolean }>; id: string }) {
+  const described = [error && `${id}-error`, hint && `${id}-hint`].filter(Boolean).join(" ") || undefined;
   return (
     <div className="flex flex-col gap-1">
       <label htmlFor={id} className="font-bold">
         {label}
       </label>
-      {children}
-      {hint && !error && <p className="text-sm text-ink-soft">{hint}</p>}
+      {cloneElement(children, { "aria-describedby": described, "aria-invalid": error ? true : undefined })}
       {error && (
-        <p id={`${id}-error`} role="alert" className="text-sm font-bold text-tight">
-          ✕ {error}
+        <p id={`${id}-error`} className="text-sm font-bold text-tight">
+          <span aria-hidden>✕ </span>
+          {error}
+        </p>
+      )}
+      {hint && (
+        <p id={`${id}-hint`} className="text-sm text-ink-soft">
+          {hint}
         </p>
       )}
     </div>
@@ -35,6 +46,8 @@ export function Field({ label, error, hint, children, id }: { label: string; err
 }
 
 export const inputClass = "min-h-12 rounded-xl border-2 border-line bg-surface px-3 text-lg text-ink placeholder:text-ink-soft/70";
+
+export const authTitleClass = "text-3xl font-extrabold";
 
 export function Notice({ tone = "info", children }: { tone?: "info" | "ok" | "error"; children: ReactNode }) {
   const cls = tone === "ok" ? "border-ok" : tone === "error" ? "border-tight" : "border-line";
@@ -49,13 +62,14 @@ export function Notice({ tone = "info", children }: { tone?: "info" | "ok" | "er
   );
 }
 
-export function AuthShell({ title, children }: { title: string; children: ReactNode }) {
+/** The frame of the account pages; without a title the page's content brings its own h1. */
+export function AuthShell({ title, children }: { title?: string; children: ReactNode }) {
   return (
     <main className="mx-auto flex min-h-dvh max-w-md flex-col gap-6 px-4 pt-6 pb-12">
       <Link href="/" className="text-2xl font-extrabold tracking-tight">
         Lash<span className="text-accent">wright</span>
       </Link>
-      <h1 className="text-3xl font-extrabold">{title}</h1>
+      {title && <h1 className="text-3xl font-extrabold">{title}</h1>}
       {children}
     </main>
   );
