@@ -1,6 +1,7 @@
 import "server-only";
 import nodemailer, { type Transporter } from "nodemailer";
 import { env } from "@/lib/env";
+import { mailHtml } from "@/lib/mail/html";
 
 let transport: Transporter | undefined;
 
@@ -10,6 +11,7 @@ export function mailer(): Transporter {
   return transport;
 }
 
+/** Plain text and, made from it, HTML with real links: a mail client shows whichever it prefers. */
 export async function sendMail(to: string, subject: string, text: string): Promise<void> {
-  await mailer().sendMail({ to, subject, text, from: env().MAIL_FROM });
+  await mailer().sendMail({ to, subject, text, html: mailHtml(subject, text), from: env().MAIL_FROM });
 }
