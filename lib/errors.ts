@@ -21,7 +21,9 @@ export type DomainErrorKind =
   /** a request the server cannot read, or a spent token (400) */
   | "bad_request"
   /** the server is saturated: try again after retryAfterSeconds (503) */
-  | "overloaded";
+  | "overloaded"
+  /** this caller or address has asked too often for now (429) */
+  | "throttled";
 
 export class DomainError extends Error {
   constructor(

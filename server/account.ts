@@ -3,6 +3,8 @@ import { env } from "@/lib/env";
 import { hashPassword } from "@/lib/auth/password";
 import { consumeAuthToken, createAuthToken, createUser, getCredentialsByEmail, updateUser, bumpSessionGeneration } from "@/db/queries/users";
 import { queueNotices } from "./notices";
+import { spend } from "./throttle";
+import { DomainError } from "@/lib/errors";
 
 /** Account flows that send e-mail. Each answers the same whether or not the address has an account. */
 const link = (path: string, token: string) => `${env().NEXTAUTH_URL}${path}?token=${encodeURIComponent(token)}`;
@@ -23,16 +25,34 @@ export async function signUp(input: { email: string; name: string; password: str
     return;
   }
   const id = await createUser({ email: input.email, name: input.name, passwordHash: await hashPassword(input.password) });
-  const token = await createAuthToken(id, "verify", 24 * 60);
+  await sendVerification(id, input.email, input.name);
+}
+
+async function sendVerification(userId: string, email: string, name: string) {
+  const token = await createAuthToken(userId, "verify", 24 * 60);
   await queueNotices([
     {
-      toEmail: input.email,
-      toUserId: id,
+      toEmail: email,
+      toUserId: userId,
       kind: "verify",
       subject: "Confirm your e-mail for Lashwright",
-      body: `Welcome to Lashwright, ${input.name}.\n\nConfirm this address to sign in:\n${link("/verify", token)}\n\nThe link works once, for 24 hours.`,
+      body: `Welcome to Lashwright, ${name}.\n\nConfirm this address to sign in:\n${link("/verify", token)}\n\nThe link works once, for 24 hours.`,
     },
   ]);
+}
+
+/** Three confirmation mails per address in 15 minutes at most: enough for a slow inbox, no flood. */
+export const RESEND_LIMIT = { count: 3, windowMinutes: 15 } as const;
+
+/**
+ * A new confirmation link for an account not yet confirmed; nothing for any other address, with
+ * the same answer. Refused (throttled) when the address has had its share of mails for now.
+ */
+export async function resendVerification(email: string): Promise<void> {
+  if (!(await spend(`resend:${email}`, RESEND_LIMIT.count, RESEND_LIMIT.windowMinutes)))
+    throw new DomainError("throttled", `A link was sent to this address a short while ago. Check the inbox (and the spam folder), or ask again in ${RESEND_LIMIT.windowMinutes} minutes.`);
+  const u = await getCredentialsByEmail(email);
+  if (u && !u.emailVerifiedAt) await sendVerification(u.id, email, u.name);
 }
 
 export async function verifyEmail(token: string): Promise<boolean> {

@@ -22,6 +22,7 @@ const STATUS: Record<DomainErrorKind, number> = {
   unsupported: 415,
   bad_request: 400,
   overloaded: 503,
+  throttled: 429,
 };
 
 /** How long a phone is asked to wait when the server is saturated; it adds its own jitter. */

@@ -37,3 +37,14 @@ export function clientAddress(headers: Headers | Record<string, string | string[
   };
   return (get("x-forwarded-for")?.split(",")[0]?.trim() || get("x-real-ip") || "direct").slice(0, 64);
 }
+
+/**
+ * A plain rate limit for mail a caller can ask for (a resent confirmation link): true and counted
+ * when the key has had fewer than `limit` in the window, false otherwise. Counted whether or not
+ * the address has an account, so the answer tells nothing about it.
+ */
+export async function spend(key: string, limit: number, windowMinutes: number): Promise<boolean> {
+  if ((await failuresSince(key, new Date(Date.now() - windowMinutes * 60_000))) >= limit) return false;
+  await recordFailure([key]);
+  return true;
+}

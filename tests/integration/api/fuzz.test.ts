@@ -30,6 +30,7 @@ let tried = 0;
 const EXAMPLES: Record<string, (i: Ids) => unknown> = {
   "POST /api/account/sign-up": () => ({ email: "fuzz@test.example", name: "Fuzz", password: "long-enough-1" }),
   "POST /api/account/verify": () => ({ token: "A".repeat(43) }),
+  "POST /api/account/verify/resend": () => ({ email: "fuzz@test.example" }),
   "POST /api/account/password-reset": () => ({ email: "fuzz@test.example" }),
   "POST /api/account/password": () => ({ token: "B".repeat(43), password: "long-enough-2" }),
   "POST /api/account/sign-in-link": () => ({ email: "fuzz@test.example" }),

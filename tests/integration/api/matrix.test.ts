@@ -107,6 +107,7 @@ const PUBLIC = (s: number) => ({ others: s });
 const TABLE: Row[] = [
   { route: "POST /api/account/sign-up", path: () => "/api/account/sign-up", body: () => ({ email: `m-${rand()}@test.example`, name: "M", password: "matrix-pass-123" }), expect: PUBLIC(202), bad: { as: "anon", body: { email: "x@test.example", name: "M", password: "1" }, field: "password" } },
   { route: "POST /api/account/verify", path: () => "/api/account/verify", body: () => ({ token: "A".repeat(43) }), expect: PUBLIC(400), bad: { as: "anon", body: { token: "<script>" }, field: "token" } },
+  { route: "POST /api/account/verify/resend", path: () => "/api/account/verify/resend", body: () => ({ email: `r-${rand()}@test.example` }), expect: PUBLIC(202), bad: { as: "anon", body: { email: "not an address" }, field: "email" } },
   { route: "POST /api/account/password-reset", path: () => "/api/account/password-reset", body: () => ({ email: `n-${rand()}@test.example` }), expect: PUBLIC(202), bad: { as: "anon", body: { email: 42 }, field: "email" } },
   { route: "POST /api/account/password", path: () => "/api/account/password", body: () => ({ token: "B".repeat(43), password: "new-pass-12345" }), expect: PUBLIC(400), bad: { as: "anon", body: { token: "B".repeat(43) }, field: "password" } },
   { route: "POST /api/account/sign-in-link", path: () => "/api/account/sign-in-link", body: () => ({ email: `l-${rand()}@test.example` }), expect: PUBLIC(202), bad: { as: "anon", body: {}, field: "email" } },
