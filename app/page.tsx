@@ -27,13 +27,19 @@ export default function HomePage() {
           again. It all works in a garage with no signal, and syncs when you are back in range.
         </p>
         <div className="flex flex-col gap-3 sm:flex-row">
-          <Link href="/sign-in" className="inline-flex min-h-14 items-center justify-center rounded-xl bg-accent px-6 text-lg font-extrabold text-accent-ink">
-            Start a valve check
+          <Link href="/sign-up" className="inline-flex min-h-14 items-center justify-center rounded-xl bg-accent px-6 text-lg font-extrabold text-accent-ink">
+            Create an account to start
           </Link>
           <a href="#how" className="inline-flex min-h-14 items-center justify-center rounded-xl border-2 border-line px-6 text-lg font-bold">
             How a check runs
           </a>
         </div>
+        <p className="text-ink-soft">
+          Already have an account?{" "}
+          <Link href="/sign-in" className="inline-flex min-h-12 items-center font-bold text-ink underline underline-offset-4">
+            Sign in
+          </Link>
+        </p>
       </section>
 
       <ValvePreview />

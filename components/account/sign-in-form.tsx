@@ -9,7 +9,8 @@ import { useForm } from "react-hook-form";
 import { z } from "zod";
 import { emailSchema } from "@/lib/schemas/account";
 import { mutations } from "@/lib/api/client";
-import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
+import { Button, ButtonLink, Field, inputClass, Notice } from "@/components/ui/controls";
+import { ResendLink } from "./resend-link";
 
 const schema = z.object({ email: emailSchema, password: z.string().min(1, { error: "enter your password" }) });
 
@@ -29,14 +30,20 @@ export function SignInForm() {
   const params = useSearchParams();
   const [error, setError] = useState<string | null>(params.get("error") ? (MESSAGES[params.get("error")!] ?? "Sign-in failed.") : null);
   const [sent, setSent] = useState<string | null>(null);
+  // the address that still waits for confirmation, to offer its link again
+  const [unconfirmed, setUnconfirmed] = useState<string | null>(null);
   const form = useForm<z.input<typeof schema>, unknown, z.output<typeof schema>>({ resolver: zodResolver(schema), defaultValues: { email: "", password: "" } });
   const { errors, isSubmitting } = form.formState;
 
   const onSubmit = form.handleSubmit(async (values) => {
     setError(null);
+    setUnconfirmed(null);
     const res = await signIn("password", { ...values, redirect: false });
     if (res?.ok && !res.error) router.push(safeNext(params.get("next")));
-    else setError(MESSAGES[res?.error ?? ""] ?? "Sign-in failed. Try again.");
+    else {
+      setError(MESSAGES[res?.error ?? ""] ?? "Sign-in failed. Try again.");
+      if (res?.error === "Unverified") setUnconfirmed(values.email);
+    }
   });
 
   const sendLink = async () => {
@@ -48,13 +55,14 @@ export function SignInForm() {
 
   return (
     <form onSubmit={onSubmit} noValidate className="flex flex-col gap-4">
-      {error && <Notice tone="error">{error}</Notice>}
+      {error && <Notice tone="error">{unconfirmed ? `Confirm your e-mail first: open the link we sent to ${unconfirmed} when you signed up.` : error}</Notice>}
+      {unconfirmed && <ResendLink email={unconfirmed} />}
       {sent && <Notice tone="ok">{sent}</Notice>}
       <Field id="email" label="E-mail" error={errors.email?.message}>
-        <input id="email" type="email" autoComplete="email" inputMode="email" className={inputClass} aria-invalid={!!errors.email} {...form.register("email")} />
+        <input id="email" type="email" autoComplete="email" inputMode="email" className={inputClass} {...form.register("email")} />
       </Field>
       <Field id="password" label="Password" error={errors.password?.message}>
-        <input id="password" type="password" autoComplete="current-password" className={inputClass} aria-invalid={!!errors.password} {...form.register("password")} />
+        <input id="password" type="password" autoComplete="current-password" className={inputClass} {...form.register("password")} />
       </Field>
       <Button type="submit" disabled={isSubmitting}>
         {isSubmitting ? "Signing in…" : "Sign in"}
@@ -62,13 +70,14 @@ export function SignInForm() {
       <Button type="button" look="plain" onClick={sendLink}>
         E-mail me a sign-in link instead
       </Button>
-      <div className="flex flex-col gap-1 pt-2">
-        <Link href="/forgot-password" className="inline-flex min-h-12 items-center font-bold underline underline-offset-4">
-          Forgot your password?
-        </Link>
-        <Link href="/sign-up" className="inline-flex min-h-12 items-center font-bold underline underline-offset-4">
-          New here? Create an account
-        </Link>
+      <Link href="/forgot-password" className="inline-flex min-h-12 items-center font-bold underline underline-offset-4">
+        Forgot your password?
+      </Link>
+      <div className="flex flex-col gap-2 border-t border-line pt-4">
+        <p className="font-bold">New to Lashwright?</p>
+        <ButtonLink href="/sign-up" look="plain">
+          Create an account
+        </ButtonLink>
       </div>
     </form>
   );

@@ -9,9 +9,10 @@ import { signUpInput } from "@/lib/schemas/account";
 import { PASSWORD_MIN } from "@/lib/auth/password-rules";
 import { ApiFailure, mutations } from "@/lib/api/client";
 import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
+import { ResendLink } from "./resend-link";
 
 export function SignUpForm() {
-  const [done, setDone] = useState(false);
+  const [done, setDone] = useState<string | null>(null);
   const [error, setError] = useState<string | null>(null);
   const form = useForm<z.input<typeof signUpInput>, unknown, z.output<typeof signUpInput>>({ resolver: zodResolver(signUpInput), defaultValues: { email: "", name: "", password: "" } });
   const { errors, isSubmitting } = form.formState;
@@ -20,7 +21,7 @@ export function SignUpForm() {
     setError(null);
     try {
       await mutations.signUp(values);
-      setDone(true);
+      setDone(values.email);
     } catch (e) {
       if (e instanceof ApiFailure) for (const [k, v] of Object.entries(e.fields)) form.setError(k as keyof typeof values, { message: v });
       setError(e instanceof Error ? e.message : "Sign-up failed");
@@ -29,13 +30,20 @@ export function SignUpForm() {
 
   if (done)
     return (
-      <Notice tone="ok">
-        Check your inbox: open the link we sent to confirm your address, then{" "}
-        <Link href="/sign-in" className="font-bold underline">
-          sign in
-        </Link>
-        .
-      </Notice>
+      <div className="flex flex-col gap-4">
+        <Notice tone="ok">
+          We sent a link to <strong>{done}</strong>. Open it on any device to confirm the address, then{" "}
+          <Link href="/sign-in" className="font-bold underline">
+            sign in
+          </Link>
+          .
+        </Notice>
+        <p className="text-ink-soft">Nothing after a few minutes? Look in the spam folder, or have it sent again.</p>
+        <ResendLink email={done} />
+        <Button type="button" look="quiet" onClick={() => setDone(null)}>
+          Wrong address? Sign up again
+        </Button>
+      </div>
     );
   return (
     <form onSubmit={onSubmit} noValidate className="flex flex-col gap-4">

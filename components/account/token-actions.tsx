@@ -10,7 +10,7 @@ import { z } from "zod";
 import { emailSchema } from "@/lib/schemas/account";
 import { passwordSchema } from "@/lib/auth/password-rules";
 import { ApiFailure, mutations } from "@/lib/api/client";
-import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
+import { authTitleClass, Button, ButtonLink, Field, inputClass, Notice } from "@/components/ui/controls";
 
 /** The pages that e-mail links open. Each reads its token from the address on the client. */
 
@@ -38,9 +38,22 @@ export function VerifyEmail() {
       () => setState("bad"),
     );
   });
-  if (state === "working") return <Notice>Confirming your address…</Notice>;
-  if (state === "ok") return <Notice tone="ok">Your address is confirmed. You can now {signInLink}.</Notice>;
-  return <Notice tone="error">This link has expired or was already used. Try to {signInLink}; if that fails, sign up again.</Notice>;
+  // the heading says where things stand, so it is the first thing read once the page has answered
+  if (state === "working") return <h1 className={authTitleClass}>Confirming your address…</h1>;
+  if (state === "ok")
+    return (
+      <>
+        <h1 className={authTitleClass}>Your address is confirmed</h1>
+        <Notice tone="ok">Welcome to Lashwright. You can now {signInLink}.</Notice>
+        <ButtonLink href="/sign-in">Sign in</ButtonLink>
+      </>
+    );
+  return (
+    <>
+      <h1 className={authTitleClass}>This link no longer works</h1>
+      <Notice tone="error">It has expired or was already used. Try to {signInLink}: if the address still needs confirming, the sign-in page offers a new link.</Notice>
+    </>
+  );
 }
 
 export function EmailLinkSignIn() {

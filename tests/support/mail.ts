@@ -1,19 +1,22 @@
 /** The local mail catcher's inbox (maildev's HTTP API), as npm test started it. */
 interface Mail {
+  id: string;
   subject: string;
   text: string;
+  /** absent for a plain-text mail */
+  html?: string;
   to: { address: string }[];
   date: string;
 }
 
-function api(): string {
+export function mailApi(): string {
   const url = process.env.LASHWRIGHT_MAIL_API;
   if (!url) throw new Error("LASHWRIGHT_MAIL_API is not set: run through npm test");
   return url;
 }
 
 export async function inbox(address: string): Promise<Mail[]> {
-  const all = (await (await fetch(`${api()}/api/email`)).json()) as Mail[];
+  const all = (await (await fetch(`${mailApi()}/api/email`)).json()) as Mail[];
   return all.filter((m) => m.to.some((t) => t.address.toLowerCase() === address.toLowerCase()));
 }
 

@@ -7,7 +7,7 @@ export const metadata: Metadata = { title: "Confirm your address" };
 
 export default function Page() {
   return (
-    <AuthShell title="Confirm your address">
+    <AuthShell>
       <Suspense>
         <VerifyEmail />
       </Suspense>
