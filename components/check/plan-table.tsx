@@ -39,9 +39,13 @@ export function PlanTable({ engine, plan, byId, lenders }: { engine: LocalEngine
   // eslint-disable-next-line react-hooks/incompatible-library -- TanStack Table returns fresh functions each render; the compiler skips this component
   const table = useReactTable({ data, columns, getCoreRowModel: getCoreRowModel(), autoResetAll: false });
   return (
-    <div className="-mx-4 overflow-x-auto px-4">
+    // a region that scrolls sideways on a phone is a Tab stop, so the arrow keys reach "Gives" and
+    // "From" (WCAG 2.1.1); the padding keeps its focus ring inside the scroll box
+    <div role="region" aria-labelledby="plan-table-caption" tabIndex={0} className="-mx-4 overflow-x-auto px-4 py-1.5">
       <table className="figures w-full min-w-[34rem] border-collapse text-left text-base">
-        <caption className="mb-2 text-left text-xl font-extrabold">Plan per valve</caption>
+        <caption id="plan-table-caption" className="mb-2 text-left text-xl font-extrabold">
+          Plan per valve <span className="text-sm font-bold text-ink-soft sm:hidden">(scrolls sideways)</span>
+        </caption>
         <thead>
           {table.getHeaderGroups().map((hg) => (
             <tr key={hg.id} className="border-b-2 border-line text-sm text-ink-soft">

@@ -52,7 +52,7 @@ export function PhotoStrip({ checkId, valve, commentId = null, canAdd = true, la
   return (
     <div className="flex flex-col gap-2">
       {shown.length > 0 && (
-        <ul className="flex gap-2 overflow-x-auto" aria-label={`Photos: ${label}`}>
+        <ul className="-m-1.5 flex gap-2 overflow-x-auto p-1.5" aria-label={`Photos: ${label}`}>
           {shown.map((p) => (
             <Thumb key={p.id} p={p} alt={`Photo of ${label}`} />
           ))}

@@ -4,6 +4,7 @@ import Link from "next/link";
 import { usePathname } from "next/navigation";
 import type { ReactNode } from "react";
 import { useLocal } from "@/components/sync/local-provider";
+import { StorageNotice } from "@/components/sync/storage-notice";
 import { SyncLine } from "@/components/sync/sync-line";
 import { ButtonLink, Notice } from "./controls";
 
@@ -23,6 +24,9 @@ export function AppShell({ title, children, back }: { title: string; children: R
   const { user, ready, forget } = useLocal();
   return (
     <div className="mx-auto flex min-h-dvh max-w-xl flex-col">
+      <a href="#content" className="sr-only focus:not-sr-only focus:absolute focus:top-2 focus:left-2 focus:z-50 focus:inline-flex focus:min-h-12 focus:items-center focus:rounded-xl focus:bg-accent focus:px-4 focus:font-bold focus:text-accent-ink">
+        Skip to content
+      </a>
       <header className="flex flex-col gap-1 border-b border-line px-4 pt-3 pb-1 print:hidden">
         <div className="flex items-center justify-between gap-2">
           <Link href="/engines" className="inline-flex min-h-12 items-center text-xl font-extrabold tracking-tight">
@@ -44,13 +48,14 @@ export function AppShell({ title, children, back }: { title: string; children: R
         </div>
         {user && <SyncLine />}
       </header>
-      <main className="flex flex-1 flex-col gap-5 px-4 pt-4 pb-28">
+      <main id="content" tabIndex={-1} className="flex flex-1 flex-col gap-5 px-4 pt-4 pb-28 outline-none">
         {back && (
           <Link href={back.href} className="-mb-3 inline-flex min-h-12 items-center font-bold text-ink-soft">
             ‹ {back.label}
           </Link>
         )}
         <h1 className="text-3xl font-extrabold">{title}</h1>
+        {user && <StorageNotice />}
         {!ready ? null : user ? (
           children
         ) : (
