@@ -5,7 +5,7 @@ import Credentials from "next-auth/providers/credentials";
 import { env } from "@/lib/env";
 import { emailSchema, tokenSchema } from "@/lib/schemas/account";
 import { hashPassword, verifyPassword } from "@/lib/auth/password";
-import { bumpSessionGeneration, consumeAuthToken, getCredentialsByEmail, getPublicUser, getSessionGeneration, updateUser, type PublicUser } from "@/db/queries/users";
+import { bumpSessionGeneration, consumeAuthToken, getCredentialsByEmail, getPublicUser, getSessionGeneration, getSessionUser, updateUser, type PublicUser } from "@/db/queries/users";
 import { clientAddress, isThrottled, noteFailure, noteSuccess } from "./throttle";
 
 export type SessionUser = PublicUser;
@@ -91,9 +91,11 @@ export async function currentUser(): Promise<SessionUser | null> {
   if (!raw || !secret) return null;
   const t = await decode({ token: raw, secret }).catch(() => null);
   if (typeof t?.uid !== "string" || typeof t.gen !== "number") return null;
-  const current = await getSessionGeneration(t.uid);
-  if (current === undefined || current !== t.gen) return null;
-  return (await getPublicUser(t.uid)) ?? null;
+  const u = await getSessionUser(t.uid);
+  if (!u || u.generation !== t.gen) return null;
+  const { generation: _generation, ...user } = u;
+  void _generation;
+  return user;
 }
 
 let dummyHash: Promise<string> | undefined;

@@ -23,6 +23,12 @@ export async function getCredentialsByEmail(email: string) {
   return u;
 }
 
+/** The public columns and the session generation in one read: every signed-in request makes it. */
+export async function getSessionUser(id: string): Promise<(PublicUser & { generation: number }) | undefined> {
+  const [u] = await db().select({ ...publicUserColumns, generation: users.sessionGeneration }).from(users).where(eq(users.id, id)).limit(1);
+  return u;
+}
+
 export async function getSessionGeneration(id: string): Promise<number | undefined> {
   const [u] = await db().select({ g: users.sessionGeneration }).from(users).where(eq(users.id, id)).limit(1);
   return u?.g;
