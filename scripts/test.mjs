@@ -10,9 +10,11 @@ import { CHROMIUM, cleanupOnExit, ended, ensureDebianPackages, ensureNodeModules
 const args = process.argv.slice(2);
 // `npm run soak`: the fault-injection sync test alone, with 10,000 mutations
 const soak = args.includes("soak");
-const only = soak ? "integration" : args.find((a) => ["unit", "integration", "e2e"].includes(a));
+// `npm run load`: the club-night load test alone, with 300 phones and a minute of steady work
+const load = args.includes("load");
+const only = soak || load ? "integration" : args.find((a) => ["unit", "integration", "e2e"].includes(a));
 // anything else narrows the chosen level to matching test files (vitest filters)
-const filters = soak ? ["tests/integration/sync/faults"] : args.filter((a) => !["unit", "integration", "e2e"].includes(a));
+const filters = soak ? ["tests/integration/sync/faults"] : load ? ["tests/integration/load"] : args.filter((a) => !["unit", "integration", "e2e"].includes(a));
 const results = { passed: 0, failed: 0, skipped: 0 };
 const failures = [];
 
@@ -34,7 +36,11 @@ async function vitest(project, env) {
   rmSync(report, { force: true });
   const ok = await stage(`${project} tests`, () =>
     runAsync(process.execPath, ["node_modules/vitest/vitest.mjs", "run", "--project", project, "--reporter=default", "--reporter=json", `--outputFile.json=${report}`, ...filters], {
-      env: soak ? { ...env, LASHWRIGHT_FAULT_MUTATIONS: process.env.LASHWRIGHT_FAULT_MUTATIONS ?? "10000" } : env,
+      env: soak
+        ? { ...env, LASHWRIGHT_FAULT_MUTATIONS: process.env.LASHWRIGHT_FAULT_MUTATIONS ?? "10000" }
+        : load
+          ? { ...env, LASHWRIGHT_LOAD_PHONES: process.env.LASHWRIGHT_LOAD_PHONES ?? "300", LASHWRIGHT_LOAD_SUSTAIN_SECONDS: process.env.LASHWRIGHT_LOAD_SUSTAIN_SECONDS ?? "60" }
+          : env,
       what: `vitest ${project}`,
     }),
   );
