@@ -14,6 +14,7 @@ import { CHROMIUM_ARGS, PHONE } from "../tests/support/browser";
 import { Client } from "../tests/support/api";
 import { ENGINE_FOUR } from "../tests/support/fixtures";
 import type { BenchServer } from "./server.mts";
+import { say } from "./progress.mts";
 
 const CHROMIUM = process.env.CHROMIUM_PATH ?? "/usr/bin/chromium";
 const VALVES = ["I1.1", "I1.2", "E1.1", "E1.2", "I2.1", "I2.2", "E2.1", "E2.2", "I3.1", "I3.2", "E3.1", "E3.2", "I4.1", "I4.2", "E4.1", "E4.2"];
@@ -131,7 +132,9 @@ export async function runEntryBench(srv: BenchServer, taps = 100) {
     for (const rate of [1, 4]) {
       await cdp.send("Emulation.setCPUThrottlingRate", { rate });
       await tapLoop(page, 16); // warm up: first renders, JIT
+      say(`  ${taps} taps on the check page${rate > 1 ? `, CPU slowed ${rate}x` : ""}`);
       result[`app x${rate}`] = stats(await tapLoop(page, taps));
+      say(`  ${taps} bare Dexie writes${rate > 1 ? `, CPU slowed ${rate}x` : ""}`);
       result[`bare x${rate}`] = stats(await bareDexie(page, taps));
     }
     await ctx.close();
@@ -157,7 +160,9 @@ async function firstVisitJs(browser: Browser, url: string) {
 }
 
 export async function runWeightAndAudits(srv: BenchServer) {
+  say("  building and starting the bare Next page");
   const bare = await startBarePage();
+  say("  JavaScript of a first visit: check page, home, bare page");
   const browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
   try {
     const check = await firstVisitJs(browser, `${srv.url}/check?id=${crypto.randomUUID()}`);
@@ -179,6 +184,7 @@ async function runLighthouse(pages: Record<string, string>): Promise<Record<stri
   try {
     const out: Record<string, Scores> = {};
     for (const [name, url] of Object.entries(pages)) {
+      say(`  Lighthouse, mobile: ${name} page`);
       // mobile emulation with the default simulated throttling, as Lighthouse runs by default
       let r = await lighthouse(url, { port: chrome.port, output: "json", logLevel: "error", onlyCategories: ["performance", "accessibility", "best-practices"] });
       // a run that failed to load the page (this shared machine stalls now and then) is tried once more

@@ -5,10 +5,12 @@ import { runPlannerBench } from "./planner.mts";
 import { runSyncBench } from "./sync.mts";
 import { runEntryBench, runWeightAndAudits } from "./browser.mts";
 import { startBenchServer } from "./server.mts";
+import { say, stage } from "./progress.mts";
 
 const rows: { figure: string; value: string; baseline: string; goal: string; met: boolean }[] = [];
 
-const p = runPlannerBench();
+say("npm run bench: about 4 minutes; each stage is named as it starts and ends");
+const p = await stage("planner: 48 valves + 500 tray shims, beside an LP solver", runPlannerBench);
 rows.push({
   figure: `planner, ${p.valves} valves + ${p.trayShims} tray shims`,
   value: `${p.plannerMs.toFixed(2)} ms/plan`,
@@ -17,15 +19,16 @@ rows.push({
   met: p.plannerMs <= p.goalMs,
 });
 
-const srv = await startBenchServer();
+const srv = await stage("starting the production server and a throwaway database", startBenchServer);
 let sy: Awaited<ReturnType<typeof runSyncBench>>;
 let entry: Awaited<ReturnType<typeof runEntryBench>>;
 let web: Awaited<ReturnType<typeof runWeightAndAudits>>;
 try {
-  sy = await runSyncBench(srv);
-  entry = await runEntryBench(srv);
-  web = await runWeightAndAudits(srv);
+  sy = await stage("sync: 10,000 readings pushed, beside a raw INSERT; then a full pull", () => runSyncBench(srv));
+  entry = await stage("offline entry: blade taps in Chromium, beside a bare Dexie write", () => runEntryBench(srv));
+  web = await stage("page weight and Lighthouse, beside a bare Next page built now", () => runWeightAndAudits(srv));
 } finally {
+  say("stopping the server and database");
   await srv.stop();
 }
 rows.push({
@@ -83,3 +86,4 @@ console.log(line(["figure", "value", "baseline", "goal"]) + "  met");
 for (const r of rows) console.log(line([r.figure, r.value, r.baseline, r.goal]) + `  ${r.met ? "yes" : "NO"}`);
 mkdirSync("bench/results", { recursive: true });
 writeFileSync("bench/results/latest.json", JSON.stringify({ at: new Date().toISOString(), planner: p, sync: sy, entry, web, rows }, null, 2));
+say("figures written to bench/results/latest.json");

@@ -5,6 +5,7 @@ import mysql from "mysql2/promise";
 import { startBenchServer, type BenchServer } from "./server.mts";
 import { Client } from "../tests/support/api";
 import { PUSH_BATCH } from "../lib/sync/mutations";
+import { say } from "./progress.mts";
 
 const ENGINE = { name: "Bench four", cylinders: 4, intakePerCylinder: 2, exhaustPerCylinder: 2, firingOrder: [1, 3, 4, 2], intake: { min: 0.1, max: 0.2 }, exhaust: { min: 0.2, max: 0.3 }, shims: { min: 2.5, max: 3.3, step: 0.05 } };
 const VALVES = ["I1.1", "I1.2", "E1.1", "E1.2", "I2.1", "I2.2", "E2.1", "E2.2", "I3.1", "I3.2", "E3.1", "E3.2", "I4.1", "I4.2", "E4.1", "E4.2"];
@@ -35,10 +36,13 @@ export async function runSyncBench(srv: BenchServer, n = 10_000) {
   for (let i = 0; i < mutations.length; i += PUSH_BATCH) {
     const res = await client.post("/api/sync/push", { clientId, mutations: mutations.slice(i, i + PUSH_BATCH) });
     if (res.status !== 200 || res.json.rejected.length) throw new Error(`push failed: ${res.status} ${JSON.stringify(res.json).slice(0, 200)}`);
+    const sent = i + PUSH_BATCH;
+    if (sent % 2000 === 0) say(`  pushed ${sent.toLocaleString("en")} of ${mutations.length.toLocaleString("en")} readings`);
   }
   const pushMs = performance.now() - t0;
 
   // the same rows by raw multi-row INSERT, same batch size, one connection
+  say("  the same rows by raw multi-row INSERT");
   const raw = await mysql.createConnection({ uri: srv.dbUrl });
   const rawEngine = crypto.randomUUID();
   await raw.query("INSERT INTO engines (id, owner_id, name, cylinders, intake_per_cylinder, exhaust_per_cylinder, firing_order, intake_min, intake_max, exhaust_min, exhaust_max, shim_min, shim_max, shim_step) VALUES (?, ?, 'raw', 4, 2, 2, '[1,3,4,2]', 0.1, 0.2, 0.2, 0.3, 2.5, 3.3, 0.05)", [rawEngine, u.id]);
@@ -53,6 +57,7 @@ export async function runSyncBench(srv: BenchServer, n = 10_000) {
   const [[count]] = (await raw.query("SELECT COUNT(*) AS n FROM readings WHERE owner_id = ?", [u.id])) as unknown as [[{ n: number }]];
 
   // a full pull: 50 engines, 500 checks, 8,000 readings of another user, inserted directly
+  say("  a full pull of 50 engines, 500 checks, 8,000 readings");
   const p = await srv.makeUser("puller");
   const engines = Array.from({ length: 50 }, () => crypto.randomUUID());
   await raw.query("INSERT INTO engines (id, owner_id, name, cylinders, intake_per_cylinder, exhaust_per_cylinder, firing_order, intake_min, intake_max, exhaust_min, exhaust_max, shim_min, shim_max, shim_step, version) VALUES ?", [engines.map((e, i) => [e, p.id, `Engine ${i}`, 4, 2, 2, "[1,3,4,2]", 0.1, 0.2, 0.2, 0.3, 2.5, 3.3, 0.05, 1])]);
