@@ -5,7 +5,7 @@
 import { randomBytes } from "node:crypto";
 import { existsSync, mkdirSync, readFileSync, rmSync } from "node:fs";
 import path from "node:path";
-import { CHROMIUM, cleanupOnExit, ended, ensureDebianPackages, ensureNodeModules, freePort, log, MARIADB, root, runAsync, runTs, SetupError, spawnChild, startMailCatcher, startMariadb, startObjectStore, stopChild } from "./lib/setup.mjs";
+import { CHROMIUM, POPPLER, cleanupOnExit, ended, ensureDebianPackages, ensureNodeModules, freePort, log, MARIADB, root, runAsync, runTs, SetupError, spawnChild, startMailCatcher, startMariadb, startObjectStore, stopChild } from "./lib/setup.mjs";
 
 const args = process.argv.slice(2);
 // `npm run soak`: the fault-injection sync test alone, with 10,000 mutations
@@ -83,7 +83,7 @@ async function main() {
   const cleanup = cleanupOnExit();
   const t0 = Date.now();
   try {
-    ensureDebianPackages([MARIADB, CHROMIUM]);
+    ensureDebianPackages([MARIADB, CHROMIUM, POPPLER]);
     ensureNodeModules();
     mkdirSync(path.join(root, "test-results"), { recursive: true });
 

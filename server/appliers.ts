@@ -26,6 +26,13 @@ export async function applyReadings(w: WriteCtx, checkId: string, rs: ReadingInp
   await writeReadings(w.tx, w.user.id, w.version, checkId, rs);
 }
 
+async function putOwnCheck(w: WriteCtx, a: MutationArgs<"check.put/2">) {
+  await ownEngine(w.tx, w.user, a.engineId);
+  const existing = await ownOrNewCheck(w.tx, w.user, a.id);
+  if (existing && existing.engineId !== a.engineId) throw notFound("check");
+  await putCheck(w.tx, w.user.id, w.version, a.id, a.engineId, a, existing);
+}
+
 export const APPLIERS: { readonly [N in MutationName]: Applier<N> } = {
   "engine.put/1": async (w, a) => {
     await ownOrNewEngine(w.tx, w.user, a.id);
@@ -37,12 +44,9 @@ export const APPLIERS: { readonly [N in MutationName]: Applier<N> } = {
     if ((await getEngineRow(w.tx, a.id))?.ownerId !== w.user.id) return;
     await removeEngine(w.tx, w.user.id, w.version, a.id);
   },
-  "check.put/1": async (w, a) => {
-    await ownEngine(w.tx, w.user, a.engineId);
-    const existing = await ownOrNewCheck(w.tx, w.user, a.id);
-    if (existing && existing.engineId !== a.engineId) throw notFound("check");
-    await putCheck(w.tx, w.user.id, w.version, a.id, a.engineId, a, existing);
-  },
+  "check.put/1": (w, a) => putOwnCheck(w, a),
+  // the same check with the day it was made, for one recorded after the fact (an import)
+  "check.put/2": (w, a) => putOwnCheck(w, a),
   "check.delete/1": async (w, a) => {
     if ((await getCheckRow(w.tx, a.id))?.ownerId !== w.user.id) return;
     await removeCheck(w.tx, w.user.id, w.version, a.id);

@@ -1,9 +1,9 @@
 "use client";
 
-import { useMemo, useState } from "react";
+import dynamic from "next/dynamic";
+import { useState } from "react";
 import type { ShimPlan } from "@/lib/lash";
 import type { ValveView } from "@/lib/check/derive";
-import { checkCsv } from "@/lib/check/csv";
 import type { PoolFit } from "@/lib/check/pool";
 import type { LocalCheck, LocalEngine } from "@/lib/sync/local-db";
 import type { usePool } from "@/components/pool/use-pool";
@@ -11,28 +11,27 @@ import { BorrowList } from "@/components/pool/borrow-list";
 import { Button, Notice } from "@/components/ui/controls";
 import { EngineDiagram } from "./engine-diagram";
 import { PlanTable } from "./plan-table";
-import { CAUTIONS } from "./steps";
+import { CsvDownload } from "./csv-download";
+
+// the printed worksheet loads with the plan, the step that prints
+const Worksheet = dynamic(() => import("./worksheet"), { ssr: false });
 
 /** Step 3: the diagram, the plan per valve, the buy list, borrowing, what goes back to the tray, print and CSV. */
 export function PlanStep({ engine, check, views, plan, error, mirrored, setMirrored, onFit, pool, fit }: { engine: LocalEngine; check: LocalCheck; views: ValveView[]; plan: ShimPlan | null; error: string | null; mirrored: boolean; setMirrored: (m: boolean) => void; onFit?: () => void; pool?: ReturnType<typeof usePool>; fit?: PoolFit }) {
-  const csv = useMemo(() => {
-    if (typeof window === "undefined") return null;
-    const date = new Date(check.startedAt).toISOString().slice(0, 10);
-    const text = checkCsv({ engine: engine.name, odometer: check.odometer, odometerUnit: engine.odometerUnit, date }, views, plan);
-    return { href: `data:text/csv;charset=utf-8,${encodeURIComponent(text)}`, name: `check-${date}-${check.odometer}.csv` };
-  }, [engine, check, views, plan]);
   const [copied, setCopied] = useState(false);
   const byId = new Map(views.map((v) => [v.valve.id, v]));
+  const lenders = pool ? new Map(pool.offers.map((o) => [o.ownerId, o.ownerName])) : undefined;
   const buyText = plan?.buy.map((b) => `${b.count} × ${b.size.toFixed(2)} mm shim`).join("\n") ?? "";
   const changing = plan?.assignments.filter((a) => a.source.kind !== "keep").length ?? 0;
   return (
     <section className="flex flex-col gap-4" aria-label="Shim plan">
+      <Worksheet engine={engine} check={check} views={views} plan={plan} lenders={lenders} />
       <EngineDiagram views={views} mirrored={mirrored} onMirror={setMirrored} />
       {error && <Notice tone="error">{error}</Notice>}
       {!plan && !error && <Notice>Measure some valves first: the plan fills in as readings come in.</Notice>}
       {plan && (
         <>
-          <PlanTable engine={engine} plan={plan} byId={byId} lenders={pool ? new Map(pool.offers.map((o) => [o.ownerId, o.ownerName])) : undefined} />
+          <PlanTable engine={engine} plan={plan} byId={byId} lenders={lenders} />
           <section aria-labelledby="buy-title" className="rounded-2xl border border-line bg-surface p-4">
             <h2 id="buy-title" className="text-xl font-extrabold">
               Buy list
@@ -70,20 +69,8 @@ export function PlanStep({ engine, check, views, plan, error, mirrored, setMirro
             <Button type="button" look="plain" onClick={() => window.print()}>
               Print worksheet
             </Button>
-            {csv && (
-              <a href={csv.href} download={csv.name} className="inline-flex min-h-12 items-center justify-center rounded-xl border-2 border-line px-5 text-lg font-bold">
-                Download CSV
-              </a>
-            )}
+            <CsvDownload engine={engine} check={check} views={views} plan={plan} />
           </div>
-          <section className="hidden print:block">
-            <h2 className="text-lg font-bold">Cautions</h2>
-            <ul className="list-disc pl-5">
-              {CAUTIONS.map((c) => (
-                <li key={c}>{c}</li>
-              ))}
-            </ul>
-          </section>
           {onFit && changing > 0 && (
             <Button type="button" onClick={onFit}>
               Fit the {changing} change{changing === 1 ? "" : "s"}

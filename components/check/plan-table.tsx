@@ -3,7 +3,7 @@
 import { useMemo } from "react";
 import { createColumnHelper, flexRender, getCoreRowModel, useReactTable } from "@tanstack/react-table";
 import { formatLength, type Assignment, type ShimPlan } from "@/lib/lash";
-import type { ValveView } from "@/lib/check/derive";
+import { sourceWords, type ValveView } from "@/lib/check/derive";
 import type { LocalEngine } from "@/lib/sync/local-db";
 
 interface Row {
@@ -26,11 +26,7 @@ export function PlanTable({ engine, plan, byId, lenders }: { engine: LocalEngine
     col.accessor((r) => r.a.source, {
       id: "from",
       header: "From",
-      cell: (c) => {
-        const s = c.getValue();
-        if (s.kind === "club") return `borrow from ${lenders?.get(s.ownerId) ?? "the club"}`;
-        return s.kind === "keep" ? "keep" : s.kind === "valve" ? `from ${s.valveId}` : s.kind === "tray" ? "from the tray" : "buy";
-      },
+      cell: (c) => sourceWords(c.getValue(), lenders),
     }),
   ];
   const data = useMemo(() => plan.assignments.map((a) => ({ a, v: byId.get(a.valveId)! })), [plan, byId]);

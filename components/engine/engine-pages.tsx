@@ -8,6 +8,7 @@ import { formatLength } from "@/lib/lash";
 import { saveCheck } from "@/lib/sync/writes";
 import { useLocal } from "@/components/sync/local-provider";
 import { History } from "./history";
+import { ImportChecks } from "./import-checks";
 import { Button, ButtonLink, Field, inputClass, Notice } from "@/components/ui/controls";
 
 export function EngineList() {
@@ -107,6 +108,7 @@ export function EngineDetail() {
           ))}
         </ul>
       </section>
+      <ImportChecks engine={engine} />
     </div>
   );
 }

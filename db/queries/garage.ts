@@ -109,12 +109,16 @@ export async function getCheckRow(ex: Executor, checkId: string) {
   return c;
 }
 
-type CheckFields = { odometer: number; measuredHot: boolean; notes?: string | null; status: CheckRow["status"] };
+type CheckFields = { odometer: number; measuredHot: boolean; notes?: string | null; status: CheckRow["status"]; startedAt?: string };
 
-/** Create or replace a check; closedAt is set when it first closes and cleared when it opens again. */
+/**
+ * Create or replace a check; closedAt is set when it first closes and cleared when it opens again.
+ * A check recorded after the fact (an import) names the day it was made, and was closed that day.
+ */
 export async function putCheck(tx: Tx, ownerId: string, version: number, id: string, engineId: string, a: CheckFields, existing?: CheckRow) {
-  const closedAt = a.status === "closed" ? (existing?.closedAt ?? new Date()) : null;
-  const set = { odometer: a.odometer, measuredHot: a.measuredHot, notes: a.notes ?? null, status: a.status, closedAt, version };
+  const startedAt = a.startedAt ? new Date(a.startedAt) : undefined;
+  const closedAt = a.status === "closed" ? (existing?.closedAt ?? startedAt ?? new Date()) : null;
+  const set = { odometer: a.odometer, measuredHot: a.measuredHot, notes: a.notes ?? null, status: a.status, closedAt, ...(startedAt ? { startedAt } : {}), version };
   await tx.insert(checks).values({ id, engineId, ownerId, ...set }).onDuplicateKeyUpdate({ set });
 }
 

@@ -1,37 +1,85 @@
-import { formatLength, type ShimPlan } from "../lash";
+import Papa from "papaparse";
+import { toNm, type ShimPlan } from "../lash";
 import type { ValveView } from "./derive";
 
-/** A check as CSV (RFC 4180: comma-separated, fields with commas, quotes or line breaks quoted). */
-const cell = (v: string | number | null | undefined) => {
-  const s = v == null ? "" : String(v);
-  return /[",\r\n]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
-};
+/**
+ * A check as CSV: one row per valve (the shim fitted in this check, if any, and the plan's shim),
+ * then the buy list, what to borrow and what goes back to the
+ * tray, told apart by the first column. Every length is millimetres with the same number of
+ * decimals throughout the file (the fewest, from 2, that hold every value exactly: 3 once a
+ * micrometer reading or a 0.025 series is in it, 4 for inch blades), with a point, so a
+ * spreadsheet reads each column as one kind of number. The import (csv-import.ts) reads it back.
+ */
+export const CSV_COLUMNS = ["record", "engine", "date", "odometer", "odometer_unit", "valve", "round", "shim_mm", "micrometer_mm", "go_mm", "no_go_mm", "clearance_mm", "band_min_mm", "band_max_mm", "state", "fitted_shim_mm", "plan_shim_mm", "predicted_mm", "source", "count"] as const;
+type Column = (typeof CSV_COLUMNS)[number];
+
+/** The fewest decimals (2 to 6) that write every length exactly: lengths are whole nanometres. */
+export function decimalsFor(lengths: number[]): number {
+  let places = 2;
+  for (const mm of lengths) while (places < 6 && toNm(mm) % 10 ** (6 - places) !== 0) places++;
+  return places;
+}
+
+/** The file's name: the engine's name (letters and digits only), the date and the odometer. */
+export function csvFileName(engine: string, date: string, odometer: number, unit: string): string {
+  const slug =
+    engine
+      .normalize("NFKD")
+      .replace(/[\u0300-\u036f]/g, "")
+      .toLowerCase()
+      .replace(/[^\p{L}\p{N}]+/gu, "-")
+      .replace(/^-+|-+$/g, "")
+      .slice(0, 60)
+      .replace(/-+$/, "") || "engine";
+  return `${slug}-${date}-${odometer}${unit}.csv`;
+}
 
 export function checkCsv(meta: { engine: string; odometer: number; odometerUnit: string; date: string }, views: ValveView[], plan: ShimPlan | null): string {
   const byValve = new Map(plan?.assignments.map((a) => [a.valveId, a]) ?? []);
-  const head = ["engine", "odometer", "unit", "date", "valve", "round", "shim_mm", "micrometer_mm", "go_mm", "no_go_mm", "clearance_mm", "band_min_mm", "band_max_mm", "state", "new_shim_mm", "predicted_mm", "source"];
-  const rows = views.map((v) => {
+  const rows: Partial<Record<Column, string | number | null | undefined>>[] = [];
+  const lengths: number[] = [];
+  const mm = (v: number | null | undefined) => {
+    if (v == null) return null;
+    lengths.push(v);
+    return v;
+  };
+  const base = { engine: meta.engine, date: meta.date, odometer: meta.odometer, odometer_unit: meta.odometerUnit };
+  for (const v of views) {
     const a = byValve.get(v.valve.id);
     const r = v.latest;
-    return [
-      meta.engine,
-      meta.odometer,
-      meta.odometerUnit,
-      meta.date,
-      v.valve.id,
-      r?.round ?? "",
-      r?.installedStamp ?? v.installed ?? "",
-      r?.installedMicrometer ?? "",
-      r?.feelerGo ?? "",
-      r?.feelerNoGo ?? "",
-      v.measured ?? "",
-      v.spec.min,
-      v.spec.max,
-      v.state,
-      a && a.source.kind !== "keep" ? a.size : "",
-      a ? formatLength(a.predicted, "mm").replace(" mm", "") : "",
-      a ? (a.source.kind === "valve" ? `from ${a.source.valveId}` : a.source.kind) : "",
-    ];
-  });
-  return [head, ...rows].map((r) => r.map(cell).join(",")).join("\r\n") + "\r\n";
+    rows.push({
+      record: "valve",
+      ...base,
+      valve: v.valve.id,
+      round: r?.round ?? null,
+      shim_mm: mm(r?.installedStamp ?? v.installed),
+      micrometer_mm: mm(r?.installedMicrometer),
+      go_mm: mm(r?.feelerGo),
+      no_go_mm: mm(r?.feelerNoGo),
+      clearance_mm: mm(v.measured),
+      band_min_mm: mm(v.spec.min),
+      band_max_mm: mm(v.spec.max),
+      state: v.state,
+      fitted_shim_mm: mm(r?.fittedShim),
+      plan_shim_mm: a && a.source.kind !== "keep" ? mm(a.size) : null,
+      predicted_mm: a ? mm(a.predicted) : null,
+      source: a ? (a.source.kind === "valve" ? `from ${a.source.valveId}` : a.source.kind) : null,
+    });
+  }
+  for (const b of plan?.buy ?? []) rows.push({ record: "buy", ...base, plan_shim_mm: mm(b.size), source: "buy", count: b.count });
+  for (const b of plan?.borrow ?? []) rows.push({ record: "borrow", ...base, plan_shim_mm: mm(b.size), source: "club", count: b.count });
+  for (const t of plan?.toTray ?? []) rows.push({ record: "to tray", ...base, shim_mm: mm(t.size), count: t.count });
+
+  const places = decimalsFor(lengths);
+  const data = rows.map((r) =>
+    CSV_COLUMNS.map((c) => {
+      const v = r[c];
+      if (v == null) return "";
+      // a length: fixed decimals from the exact nanometres, never the float's own digits
+      return c.endsWith("_mm") && typeof v === "number" ? (toNm(v) / 1e6).toFixed(places) : String(v);
+    }),
+  );
+  // RFC 4180 quoting, and a cell that a spreadsheet would run as a formula (a name starting "=") is
+  // written as text
+  return Papa.unparse({ fields: [...CSV_COLUMNS], data }, { newline: "\r\n", escapeFormulae: true }) + "\r\n";
 }

@@ -1,4 +1,4 @@
-import { planShims, shimSeries, valveNames, type ShimPlan, type ValveName } from "../lash";
+import { planShims, shimSeries, valveNames, type ShimPlan, type ShimSource, type ValveName } from "../lash";
 import type { LocalEngine, LocalReading } from "../sync/local-db";
 
 /**
@@ -80,4 +80,10 @@ export function recheckValves(views: ValveView[]): ValveView[] {
   const round = waiting.length ? Math.max(...waiting.map((v) => v.nextRound)) : Math.max(0, ...views.map((v) => v.latest?.round ?? 0));
   if (round === 0) return [];
   return views.filter((v) => v.state === "fitted" || (v.latest?.round === round && v.latest.fittedShim == null));
+}
+
+/** Where a valve's new shim comes from, in words (the plan table and the printed worksheet). */
+export function sourceWords(s: ShimSource, lenders?: Map<string, string>): string {
+  if (s.kind === "club") return `borrow from ${lenders?.get(s.ownerId) ?? "the club"}`;
+  return s.kind === "keep" ? "keep" : s.kind === "valve" ? `from ${s.valveId}` : s.kind === "tray" ? "from the tray" : "buy";
 }

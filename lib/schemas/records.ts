@@ -70,6 +70,18 @@ export const checkInput = z.object({
   measuredHot: z.boolean().default(false),
   notes: z.string().max(4000).nullable().optional(),
 });
+/**
+ * When a check was made, for one recorded after the fact: an ISO time, not before 1950 (older logs
+ * are not what this is for) and not more than a day ahead (time zones) of now.
+ */
+export const checkDate = z.iso.datetime({ offset: true, error: "a date and time like 2024-05-31T12:00:00Z" }).refine(
+  (s) => {
+    const t = Date.parse(s);
+    return t >= Date.UTC(1950, 0, 1) && t <= Date.now() + 86_400_000;
+  },
+  { error: "must lie between 1950 and today" },
+);
+
 export const checkUpdate = checkInput
   .omit({ id: true })
   .partial()

@@ -1,6 +1,6 @@
 import { z } from "zod";
 import { borrowInput, borrowMoveInput, offerInput } from "../pool/rules";
-import { checkInput, checkStatus, commentInput, engineInput, idSchema, readingInput, trayItemInput, verdictInput } from "../schemas/records";
+import { checkDate, checkInput, checkStatus, commentInput, engineInput, idSchema, readingInput, trayItemInput, verdictInput } from "../schemas/records";
 
 /**
  * The outbox's mutations: a versioned name and its arguments, validated by the same schemas on the
@@ -8,14 +8,18 @@ import { checkInput, checkStatus, commentInput, engineInput, idSchema, readingIn
  * shape gets a new version, and the server keeps accepting the old ones, so an outbox written by
  * an older app still goes through.
  */
+const checkPut = checkInput.extend({
+  id: idSchema,
+  engineId: idSchema,
+  status: checkStatus.default("measuring"),
+});
+
 export const MUTATIONS = {
   "engine.put/1": engineInput.and(z.object({ id: idSchema })),
   "engine.delete/1": z.object({ id: idSchema }),
-  "check.put/1": checkInput.extend({
-    id: idSchema,
-    engineId: idSchema,
-    status: checkStatus.default("measuring"),
-  }),
+  "check.put/1": checkPut,
+  // a check written down after the fact (imported from an old log) carries the day it was made
+  "check.put/2": checkPut.extend({ startedAt: checkDate.optional() }),
   "check.delete/1": z.object({ id: idSchema }),
   "reading.put/1": z.object({ checkId: idSchema, reading: readingInput }),
   "tray.put/1": trayItemInput.extend({ id: idSchema }),

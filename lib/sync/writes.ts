@@ -33,22 +33,17 @@ export function deleteEngine(db: LocalDb, id: string) {
   });
 }
 
-export async function saveCheck(db: LocalDb, c: { id: string; engineId: string; odometer: number; measuredHot: boolean; notes?: string | null; status?: CheckStatus }) {
+/** A check; `madeAt` only for one recorded after the fact (an import), which names its own day. */
+export async function saveCheck(db: LocalDb, c: { id: string; engineId: string; odometer: number; measuredHot: boolean; notes?: string | null; status?: CheckStatus }, madeAt?: string) {
   const existing = await db.checks.get(c.id);
   const args = { id: c.id, engineId: c.engineId, odometer: c.odometer, measuredHot: c.measuredHot, notes: c.notes ?? existing?.notes ?? null, status: c.status ?? existing?.status ?? "measuring" } as MutationArgs<"check.put/1">;
-  return record(db, "check.put/1", args, async (a) => {
-    const local: LocalCheck = {
-      id: a.id,
-      engineId: a.engineId,
-      odometer: a.odometer,
-      measuredHot: a.measuredHot,
-      notes: a.notes ?? null,
-      status: a.status,
-      startedAt: existing?.startedAt ?? new Date().toISOString(),
-      closedAt: a.status === "closed" ? new Date().toISOString() : null,
-    };
-    await db.checks.put(local);
-  });
+  const local = (a: MutationArgs<"check.put/1">, startedAt: string | Date) => {
+    const closedAt = a.status !== "closed" ? null : (madeAt ?? new Date().toISOString());
+    return db.checks.put({ id: a.id, engineId: a.engineId, odometer: a.odometer, measuredHot: a.measuredHot, notes: a.notes ?? null, status: a.status, startedAt, closedAt } satisfies LocalCheck);
+  };
+  // the server keeps the day as given, and so does the phone
+  if (madeAt) return record(db, "check.put/2", { ...args, startedAt: madeAt }, (a) => local(a, a.startedAt!));
+  return record(db, "check.put/1", args, (a) => local(a, existing?.startedAt ?? new Date().toISOString()));
 }
 
 export async function setCheckStatus(db: LocalDb, checkId: string, status: CheckStatus) {
@@ -58,12 +53,32 @@ export async function setCheckStatus(db: LocalDb, checkId: string, status: Check
 }
 
 export type ReadingPatch = Omit<LocalReading, "checkId" | "version">;
+type ReadingPatchInput = Pick<ReadingPatch, "valve" | "round" | "method"> & Partial<ReadingPatch>;
 
 export function saveReading(db: LocalDb, checkId: string, r: ReadingPatch) {
   // only the reading's own fields: a patch built from a stored reading also carries checkId and version
   const reading = { valve: r.valve, round: r.round, ...Object.fromEntries(READING_VALUE_FIELDS.map((f) => [f, r[f]])) } as ReadingPatch;
   return record(db, "reading.put/1", { checkId, reading } as MutationArgs<"reading.put/1">, async () => {
     await db.readings.put({ checkId, ...reading });
+  });
+}
+
+/**
+ * Past checks brought in from a file: each a closed check on its own day with its readings, all
+ * written (checks, readings and their outbox entries) in one transaction, so a failure part way
+ * leaves nothing behind. They reach the server through the outbox like every other change. A day
+ * is stored as noon UTC, so it reads as the same day in any nearby time zone.
+ */
+export function importChecks(db: LocalDb, engine: Pick<LocalEngine, "id" | "measuredHot">, checks: { date: string; odometer: number; notes: string | null; readings: ReadingPatchInput[] }[]) {
+  return db.transaction("rw", writeTables(db), async () => {
+    const ids: string[] = [];
+    for (const c of checks) {
+      const id = crypto.randomUUID();
+      await saveCheck(db, { id, engineId: engine.id, odometer: c.odometer, measuredHot: engine.measuredHot, notes: c.notes, status: "closed" }, `${c.date}T12:00:00.000Z`);
+      for (const r of c.readings) await saveReading(db, id, { installedStamp: null, installedMicrometer: null, feelerGo: null, feelerNoGo: null, measured: null, fittedShim: null, ...r });
+      ids.push(id);
+    }
+    return ids;
   });
 }
 

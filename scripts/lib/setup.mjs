@@ -54,6 +54,8 @@ export function ensureDebianPackages(wanted) {
 
 export const MARIADB = { pkg: "mariadb-server", present: () => existsSync("/usr/sbin/mariadbd") || has("mariadbd") };
 export const CHROMIUM = { pkg: "chromium", present: () => existsSync("/usr/bin/chromium") };
+// pdftotext and pdfinfo read back the printed worksheet in the browser tests
+export const POPPLER = { pkg: "poppler-utils", present: () => existsSync("/usr/bin/pdftotext") };
 
 /** npm dependencies: install when node_modules is missing or older than package-lock.json. */
 export function ensureNodeModules() {

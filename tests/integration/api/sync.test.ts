@@ -55,6 +55,29 @@ describe("sync push and pull on MariaDB", () => {
     expect(await count("SELECT COUNT(*) AS n FROM reading_history r JOIN readings x ON x.id = r.reading_id WHERE x.check_id = ?", [checkId])).toBe(0);
   });
 
+  it("a check recorded after the fact (check.put/2) keeps its own day; a day ahead of now is refused", async () => {
+    const clientId = uuid();
+    const { engineId, checkId, mutations } = engineAndCheck();
+    const later = uuid();
+    const res = await mara.post("/api/sync/push", {
+      clientId,
+      mutations: [
+        mutations[0],
+        { id: 2, name: "check.put/2", args: { id: checkId, engineId, odometer: 9000, status: "closed", startedAt: "2021-06-05T12:00:00.000Z" } },
+        { id: 3, name: "check.put/2", args: { id: later, engineId, odometer: 9500, startedAt: "2999-01-01T12:00:00.000Z" } },
+      ],
+    });
+    expect(res.json.lastMutationId).toBe(3);
+    expect(res.json.rejected).toEqual([{ id: 3, name: "check.put/2", reason: "startedAt: must lie between 1950 and today" }]);
+    const db = await rawConnection();
+    const [rows] = await db.query("SELECT DATE_FORMAT(started_at, '%Y-%m-%d %H:%i') AS s, DATE_FORMAT(closed_at, '%Y-%m-%d %H:%i') AS c, status FROM checks WHERE engine_id = ?", [engineId]);
+    await db.end();
+    expect(rows).toEqual([{ s: "2021-06-05 12:00", c: "2021-06-05 12:00", status: "closed" }]);
+    // and the pull gives the phone the same day back
+    const pull = await mara.post("/api/sync/pull", { cursor: null });
+    expect(new Date(pull.json.checks.find((c: { id: string }) => c.id === checkId).startedAt).toISOString()).toBe("2021-06-05T12:00:00.000Z");
+  });
+
   it("a push whose response is lost, retried with more behind it, applies each mutation once", async () => {
     const clientId = uuid();
     const { checkId, mutations } = engineAndCheck();

@@ -50,16 +50,3 @@ describe("engine history", () => {
     expect(verified[1]!.state).toBe("verified");
   });
 });
-
-describe("check CSV", () => {
-  it("writes one row per valve, quoting as RFC 4180 asks", async () => {
-    const { checkCsv } = await import("@/lib/check/csv");
-    const rs = [reading("a", "I1.1", 2.6, 0.13), reading("a", "E1.1", 2.6, 0.1)];
-    const views = valveViews(engine, rs, () => 2.6);
-    const csv = checkCsv({ engine: 'Single, "green"', odometer: 12000, odometerUnit: "km", date: "2026-05-30" }, views, checkPlan(engine, views, []));
-    const lines = csv.trimEnd().split("\r\n");
-    expect(lines).toHaveLength(3);
-    expect(lines[1]).toBe('"Single, ""green""",12000,km,2026-05-30,I1.1,0,2.6,,0.13,,0.13,0.1,0.15,in-band,,0.13,keep');
-    expect(lines[2]).toContain(",E1.1,0,2.6,,0.1,,0.1,0.15,0.2,tight,2.5,0.20,buy");
-  });
-});

@@ -1,0 +1,174 @@
+"use client";
+
+import { createPortal } from "react-dom";
+import { roundForDisplay, type LengthUnit, type ShimPlan, type SizeCount } from "@/lib/lash";
+import { STATE_WORDS, sourceWords, type ValveView } from "@/lib/check/derive";
+import { CAUTIONS } from "./steps";
+import type { LocalCheck, LocalEngine } from "@/lib/sync/local-db";
+
+/**
+ * The printed worksheet: one sheet of A4 or Letter for up to 24 valves, to take to the bench. It is
+ * mounted straight under <body> and is the only thing the print style shows (app/globals.css), so
+ * no button, step tab or navigation reaches the paper. Blank columns take the re-measures by hand.
+ */
+export default function Worksheet({ engine, check, views, plan, lenders }: { engine: LocalEngine; check: LocalCheck; views: ValveView[]; plan: ShimPlan | null; lenders?: Map<string, string> }) {
+  const unit = engine.displayUnit;
+  const fine = "step" in engine.shims ? engine.shims.step < 0.05 : engine.shims.sizes.some((s) => Math.round(s * 1000) % 10 !== 0);
+  const shim = (s: number | null | undefined, micrometer = false) => (s == null ? "" : s.toFixed(fine || micrometer ? 3 : 2));
+  const len = (x: number | null | undefined) => (x == null ? "" : lengthText(x, unit));
+  const byValve = new Map(plan?.assignments.map((a) => [a.valveId, a]) ?? []);
+  const cylinders = [...new Set(views.map((v) => v.valve.cylinder))].sort((a, b) => (engine.mirrored ? b - a : a - b));
+  const band = (s: ValveView["spec"]) => `${len(s.min)}–${len(s.max)}${s.target != null ? ` (target ${len(s.target)})` : ""}`;
+  const series = "step" in engine.shims ? `${shim(engine.shims.min)} to ${shim(engine.shims.max)} mm in ${engine.shims.step} mm steps` : `${engine.shims.sizes.length} sizes, ${shim(Math.min(...engine.shims.sizes))} to ${shim(Math.max(...engine.shims.sizes))} mm`;
+  const date = new Date(check.startedAt).toLocaleDateString("en-GB", { day: "numeric", month: "short", year: "numeric" });
+  const cell = (v: ValveView) => {
+    const a = byValve.get(v.valve.id);
+    const s = STATE_WORDS[v.state];
+    return (
+      <div key={v.valve.id} className={`ws-cell ws-${v.state}`}>
+        <b>{v.valve.id}</b>
+        <span>{v.measured != null ? len(v.measured) : "—"}</span>
+        <span>
+          {s.glyph} {s.word}
+        </span>
+        <span>{a && a.source.kind !== "keep" ? `→ ${shim(a.size)}` : " "}</span>
+      </div>
+    );
+  };
+  const list = (xs: SizeCount[]) => xs.map((x) => `${x.count} × ${shim(x.size)}`).join(", ");
+  const borrow = plan?.borrow.map((b) => `${b.count} × ${shim(b.size)} from ${lenders?.get(b.ownerId) ?? "a club member"}`).join(", ");
+  return createPortal(
+    <article className="worksheet" aria-label="Printed worksheet">
+      <header className="ws-head">
+        <div>
+          <p className="ws-kicker">Valve clearance worksheet</p>
+          <h1>{engine.name}</h1>
+        </div>
+        <p>
+          Check at {check.odometer.toLocaleString("en")} {engine.odometerUnit} · {date} · measured {check.measuredHot ? "hot" : "cold"}
+          <br />
+          Printed {new Date().toLocaleDateString("en-GB", { day: "numeric", month: "short", year: "numeric" })} from Lashwright
+        </p>
+      </header>
+      <dl className="ws-facts">
+        <div>
+          <dt>Intake band ({unit})</dt>
+          <dd>{band(engine.intake)}</dd>
+        </div>
+        <div>
+          <dt>Exhaust band ({unit})</dt>
+          <dd>{band(engine.exhaust)}</dd>
+        </div>
+        <div>
+          <dt>Shim series</dt>
+          <dd>
+            {series}
+            {engine.shimDiameter ? `, ⌀ ${engine.shimDiameter} mm` : ""}
+          </dd>
+        </div>
+        <div>
+          <dt>Firing order</dt>
+          <dd>{engine.firingOrder.join("-")}</dd>
+        </div>
+      </dl>
+      <figure className="ws-diagram" aria-label="Engine diagram">
+        <p>Intake side {engine.mirrored ? "· mirrored: cylinder 1 on the right" : ""}</p>
+        <div className="ws-row">
+          {cylinders.map((c) => (
+            <div key={c} className="ws-cyl">
+              {views.filter((v) => v.valve.cylinder === c && v.valve.kind === "intake").map(cell)}
+            </div>
+          ))}
+        </div>
+        <div className="ws-row ws-cyl-names">
+          {cylinders.map((c) => (
+            <span key={c}>Cyl {c}</span>
+          ))}
+        </div>
+        <div className="ws-row">
+          {cylinders.map((c) => (
+            <div key={c} className="ws-cyl">
+              {views.filter((v) => v.valve.cylinder === c && v.valve.kind === "exhaust").map(cell)}
+            </div>
+          ))}
+        </div>
+        <p>Exhaust side</p>
+      </figure>
+      <table className="ws-table">
+        <thead>
+          <tr>
+            <th>Valve</th>
+            <th>Shim in (mm)</th>
+            <th>Clearance ({unit})</th>
+            <th>State</th>
+            <th>New shim (mm)</th>
+            <th>Comes from</th>
+            <th>Gives ({unit})</th>
+            <th className="ws-blank">Fitted</th>
+            <th className="ws-blank">Re-measure</th>
+            <th className="ws-blank">Again</th>
+          </tr>
+        </thead>
+        <tbody>
+          {views.map((v) => {
+            const a = byValve.get(v.valve.id);
+            const r = v.latest;
+            const change = a && a.source.kind !== "keep";
+            return (
+              <tr key={v.valve.id} data-valve={v.valve.id}>
+                <td>
+                  <b>{v.valve.id}</b>
+                </td>
+                <td>{shim(v.installed, r?.installedMicrometer != null)}</td>
+                <td>
+                  {len(v.measured)}
+                  {r?.feelerNoGo != null && v.measured != null ? <span className="ws-soft">–{len(r.feelerNoGo)}</span> : null}
+                </td>
+                <td>
+                  {STATE_WORDS[v.state].glyph} {STATE_WORDS[v.state].word}
+                </td>
+                <td>{change ? <b>{shim(a.size)}</b> : a ? "keep" : ""}</td>
+                <td>{change ? sourceWords(a.source, lenders) : ""}</td>
+                <td>{a ? `${len(a.predicted)}${a.inSpec ? "" : " ✕"}` : ""}</td>
+                <td className="ws-blank">{change ? "☐" : ""}</td>
+                <td className="ws-blank" />
+                <td className="ws-blank" />
+              </tr>
+            );
+          })}
+        </tbody>
+      </table>
+      <p className="ws-soft ws-note">
+        A clearance written a–b: the a blade slid, the b blade would not. ✕: the nearest size still leaves the valve out of its band.
+      </p>
+      <section className="ws-lists">
+        <div>
+          <h2>Buy</h2>
+          <p>{!plan ? "Measure first." : plan.buy.length ? `${list(plan.buy)} mm` : "Nothing: swaps and the tray cover every change."}</p>
+        </div>
+        <div>
+          <h2>Borrow</h2>
+          <p>{borrow || "Nothing."}</p>
+        </div>
+        <div>
+          <h2>Back to the tray</h2>
+          <p>{plan?.toTray.length ? `${list(plan.toTray)} mm` : "Nothing."}</p>
+        </div>
+      </section>
+      <section className="ws-cautions">
+        <h2>Before you start</h2>
+        <ul>
+          {CAUTIONS.map((c) => (
+            <li key={c}>☐ {c}</li>
+          ))}
+        </ul>
+        <p>Lashwright&apos;s numbers are a calculation aid, not a specification: the service manual and a qualified mechanic have the last word.</p>
+      </section>
+    </article>,
+    document.body,
+  );
+}
+
+function lengthText(mm: number, unit: LengthUnit) {
+  return roundForDisplay(mm, unit).toFixed(unit === "in" ? 4 : 2);
+}
