@@ -52,7 +52,7 @@ async function startBarePage() {
   };
 }
 
-async function signedInPage(browser: Browser, url: string, u: { email: string; password: string }) {
+export async function signedInPage(browser: Browser, url: string, u: { email: string; password: string }) {
   const ctx = await browser.newContext({ ...PHONE, colorScheme: "dark" });
   // tsx keeps function names with a helper the page does not have; functions sent to the page need it
   await ctx.addInitScript({ content: "globalThis.__name = (f) => f;" });
@@ -66,7 +66,7 @@ async function signedInPage(browser: Browser, url: string, u: { email: string; p
 }
 
 /** 100 taps, in the page: from the click to the reading both stored (IndexedDB) and shown. */
-function tapLoop(page: Page, taps: number) {
+export function tapLoop(page: Page, taps: number) {
   return page.evaluate(
     async ({ taps, valves }) => {
       const out: number[] = [];
@@ -115,18 +115,24 @@ async function bareDexie(page: Page, n: number) {
   }, n);
 }
 
-export async function runEntryBench(srv: BenchServer, taps = 100) {
-  const u = await srv.makeUser("entry");
+/** A new user's four-cylinder check open on the measure step, offline: where the taps are timed. */
+export async function measuringPage(browser: Browser, srv: BenchServer, tag: string) {
+  const u = await srv.makeUser(tag);
   const api = new Client(srv.url);
   await api.signIn("password", { email: u.email, password: u.password });
   const engineId = (await api.post("/api/engines", ENGINE_FOUR)).json.engine.id as string;
   const checkId = (await api.post(`/api/engines/${engineId}/checks`, { odometer: 100 })).json.check.id as string;
+  const { ctx, page } = await signedInPage(browser, srv.url, u);
+  await page.goto(`${srv.url}/check?id=${checkId}&step=measure`);
+  await page.getByRole("group", { name: "Feeler blades for E4.2" }).waitFor();
+  await ctx.setOffline(true);
+  return { ctx, page };
+}
+
+export async function runEntryBench(srv: BenchServer, taps = 100) {
   const browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
   try {
-    const { ctx, page } = await signedInPage(browser, srv.url, u);
-    await page.goto(`${srv.url}/check?id=${checkId}&step=measure`);
-    await page.getByRole("group", { name: "Feeler blades for E4.2" }).waitFor();
-    await ctx.setOffline(true);
+    const { ctx, page } = await measuringPage(browser, srv, "entry");
     const cdp = await ctx.newCDPSession(page);
     const result: Record<string, { median: number; p95: number }> = {};
     for (const rate of [1, 4]) {
@@ -159,6 +165,41 @@ async function firstVisitJs(browser: Browser, url: string) {
   return { bytes: total, files };
 }
 
+/**
+ * What a signed-in mechanic's phone loads opening a check on the measure step with nothing cached
+ * (no HTTP cache, no service worker): the weight of the step the taps happen on.
+ */
+async function signedInColdJs(browser: Browser, srv: BenchServer) {
+  const u = await srv.makeUser("weight");
+  const api = new Client(srv.url);
+  await api.signIn("password", { email: u.email, password: u.password });
+  const engineId = (await api.post("/api/engines", ENGINE_FOUR)).json.engine.id as string;
+  const checkId = (await api.post(`/api/engines/${engineId}/checks`, { odometer: 100 })).json.check.id as string;
+  const ctx = await browser.newContext({ ...PHONE, serviceWorkers: "block" });
+  await ctx.addInitScript({ content: "globalThis.__name = (f) => f;" });
+  const page = await ctx.newPage();
+  await page.goto(`${srv.url}/sign-in`);
+  await page.getByLabel("E-mail").fill(u.email);
+  await page.getByLabel("Password").fill(u.password);
+  await page.getByRole("button", { name: "Sign in", exact: true }).tap();
+  await page.waitForURL("**/engines");
+  // the engine and check are on the phone now; the scripts the sign-in loaded are forgotten
+  await page.getByText(ENGINE_FOUR.name).first().waitFor();
+  const cdp = await ctx.newCDPSession(page);
+  await cdp.send("Network.clearBrowserCache");
+  const sizes: Promise<number>[] = [];
+  page.on("requestfinished", (req) => {
+    if (req.resourceType() === "script") sizes.push(req.sizes().then((s) => s.responseBodySize));
+  });
+  await page.goto(`${srv.url}/check?id=${checkId}&step=measure`, { waitUntil: "networkidle" });
+  await page.getByRole("group", { name: "Feeler blades for E4.2" }).waitFor();
+  await page.waitForLoadState("networkidle");
+  const bytes = (await Promise.all(sizes)).reduce((a, b) => a + b, 0);
+  const files = sizes.length;
+  await ctx.close();
+  return { bytes, files };
+}
+
 export async function runWeightAndAudits(srv: BenchServer) {
   say("  building and starting the bare Next page");
   const bare = await startBarePage();
@@ -168,9 +209,11 @@ export async function runWeightAndAudits(srv: BenchServer) {
     const check = await firstVisitJs(browser, `${srv.url}/check?id=${crypto.randomUUID()}`);
     const home = await firstVisitJs(browser, `${srv.url}/`);
     const barePage = await firstVisitJs(browser, bare.url);
+    say("  JavaScript of a signed-in visit to the measure step, nothing cached");
+    const measure = await signedInColdJs(browser, srv);
     await browser.close();
     const audits = await runLighthouse({ home: `${srv.url}/`, check: `${srv.url}/check?id=${crypto.randomUUID()}`, bare: bare.url });
-    return { weight: { check, home, bare: barePage, ratio: check.bytes / barePage.bytes }, audits };
+    return { weight: { check, home, bare: barePage, ratio: check.bytes / barePage.bytes, measure, measureRatio: measure.bytes / barePage.bytes }, audits };
   } finally {
     await browser.close().catch(() => undefined);
     await bare.stop();
