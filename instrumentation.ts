@@ -5,4 +5,7 @@ export async function register() {
   const every = Math.min(15, Number(process.env.NOTICE_RETRY_SECONDS ?? 30) || 30) * 1000;
   const timer = setInterval(kickDelivery, every);
   timer.unref();
+  // photos left behind by an upload that died half-way, or a deletion whose sweep failed
+  const { kickPhotoSweep } = await import("./server/photos");
+  setInterval(() => void kickPhotoSweep(), 10 * 60_000).unref();
 }

@@ -85,9 +85,34 @@ export const invites = mysqlTable(
     invitedBy: ref("invited_by").notNull().references(() => users.id),
     expiresAt: timestamp("expires_at", { fsp: 3 }).notNull(),
     acceptedAt: timestamp("accepted_at", { fsp: 3 }),
+    /** withdrawn by an admin, or ended because the admin who sent it lost the role */
+    withdrawnAt: timestamp("withdrawn_at", { fsp: 3 }),
     createdAt: createdAt(),
   },
   (t) => [uniqueIndex("invites_token_uq").on(t.tokenHash), index("invites_club_idx").on(t.clubId)],
+);
+
+export const clubLogActions = ["roles-changed", "invite-sent", "invite-withdrawn", "invite-accepted", "invites-ended"] as const;
+
+/** Who changed what in a club: roles, invitations. Read by the club's admins; never edited. */
+export const clubLog = mysqlTable(
+  "club_log",
+  {
+    id: id(),
+    clubId: ref("club_id").notNull().references(() => clubs.id, { onDelete: "cascade" }),
+    /** who did it; null once that account is deleted */
+    actorId: ref("actor_id").references(() => users.id, { onDelete: "set null" }),
+    action: mysqlEnum("action", clubLogActions).notNull(),
+    /** the member or invited address concerned */
+    subjectUserId: ref("subject_user_id").references(() => users.id, { onDelete: "set null" }),
+    subjectEmail: varchar("subject_email", { length: 254 }),
+    /** roles before and after, or the invited role */
+    detail: varchar("detail", { length: 200 }).notNull().default(""),
+    at: timestamp("at", { fsp: 3 }).notNull().defaultNow(),
+    /** the order of entries, also of two written in the same millisecond */
+    seq: bigint("seq", { mode: "number", unsigned: true }).autoincrement().notNull(),
+  },
+  (t) => [index("club_log_club_seq_idx").on(t.clubId, t.seq), uniqueIndex("club_log_seq_uq").on(t.seq)],
 );
 
 /** One-time tokens for e-mail verification, password reset and e-mail sign-in links (hashed). */
@@ -383,7 +408,10 @@ export const notices = mysqlTable(
     kind: varchar("kind", { length: 40 }).notNull(),
     subject: varchar("subject", { length: 200 }).notNull(),
     body: text("body").notNull(),
-    status: mysqlEnum("status", ["queued", "sending", "sent", "failed"]).notNull().default("queued"),
+    /** the check a notice is about: at send time the recipient must still be able to read it */
+    aboutCheckId: ref("about_check_id").references(() => checks.id, { onDelete: "cascade" }),
+    /** dropped: not sent, because the recipient lost access or the address has no account */
+    status: mysqlEnum("status", ["queued", "sending", "sent", "failed", "dropped"]).notNull().default("queued"),
     claimToken: char("claim_token", { length: 36 }),
     claimedUntil: timestamp("claimed_until", { fsp: 3 }),
     attempts: smallint("attempts").notNull().default(0),

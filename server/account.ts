@@ -1,15 +1,29 @@
 import "server-only";
 import { env } from "@/lib/env";
 import { hashPassword } from "@/lib/auth/password";
-import { consumeAuthToken, createAuthToken, createUser, getCredentialsByEmail, updateUser, bumpSessionGeneration } from "@/db/queries/users";
+import { consumeAuthToken, createAuthToken, createUser, getCredentialsByEmail, getCredentialsById, tokenOwner, updateUser, bumpSessionGeneration } from "@/db/queries/users";
 import { queueNotices } from "./notices";
-import { spend } from "./throttle";
+import { spend, mailThrottled } from "./throttle";
 import { DomainError } from "@/lib/errors";
 
-/** Account flows that send e-mail. Each answers the same whether or not the address has an account. */
-const link = (path: string, token: string) => `${env().NEXTAUTH_URL}${path}?token=${encodeURIComponent(token)}`;
+/**
+ * Account flows that send e-mail. Each answers the same, in the same time, whether or not the address
+ * has an account (OWASP ASVS 5.0 V6 Authentication; NIST SP 800-63B on not revealing which accounts
+ * exist): sign-up hashes the password on both paths, and a reset or sign-in link is only queued here,
+ * the account being looked up when the queue sends it (server/notice-compose.ts).
+ */
+export const link = (path: string, token: string) => `${env().NEXTAUTH_URL}${path}?token=${encodeURIComponent(token)}`;
 
-export async function signUp(input: { email: string; name: string; password: string }) {
+const tooMany = () => new DomainError("throttled", "Too many e-mails asked for this address. Wait 15 minutes and try again.");
+
+async function throttleMail(email: string, address: string | null) {
+  if (await mailThrottled(email, address)) throw tooMany();
+}
+
+export async function signUp(input: { email: string; name: string; password: string }, address: string | null = null) {
+  await throttleMail(input.email, address);
+  // hashed on both paths: the time taken says nothing about whether the address has an account
+  const passwordHash = await hashPassword(input.password);
   const existing = await getCredentialsByEmail(input.email);
   if (existing) {
     const token = await createAuthToken(existing.id, "reset", 60);
@@ -24,7 +38,7 @@ export async function signUp(input: { email: string; name: string; password: str
     ]);
     return;
   }
-  const id = await createUser({ email: input.email, name: input.name, passwordHash: await hashPassword(input.password) });
+  const id = await createUser({ email: input.email, name: input.name, passwordHash });
   await sendVerification(id, input.email, input.name);
 }
 
@@ -57,34 +71,58 @@ export async function resendVerification(email: string): Promise<void> {
 
 export async function verifyEmail(token: string): Promise<boolean> {
   const userId = await consumeAuthToken(token, "verify");
-  if (!userId) return false;
+  if (!userId || userId === "other") return false;
   await updateUser(userId, { emailVerifiedAt: new Date() });
   return true;
 }
 
-export async function requestPasswordReset(email: string) {
-  const u = await getCredentialsByEmail(email);
-  if (!u) return;
-  const token = await createAuthToken(u.id, "reset", 60);
+/**
+ * The address's owner has just proved it through a link sent to it. If the account was never
+ * confirmed, its password was chosen by whoever signed up, who need not be the owner: someone could
+ * sign up first with another person's address and wait. So that password is removed, every session
+ * ends, and the owner is told (NIST SP 800-63B: an authenticator is bound only once the subscriber
+ * is known to control it).
+ */
+export async function proveAddress(userId: string): Promise<void> {
+  const u = await getCredentialsById(userId);
+  if (!u || u.emailVerifiedAt) return;
+  await updateUser(userId, { emailVerifiedAt: new Date(), passwordHash: null });
+  await bumpSessionGeneration(userId);
+  if (!u.passwordHash) return;
   await queueNotices([
-    { toEmail: email, toUserId: u.id, kind: "reset", subject: "Choose a new Lashwright password", body: `To choose a new password, open:\n${link("/reset-password", token)}\n\nThe link works once, for an hour. If you did not ask for it, ignore this message.` },
+    {
+      toEmail: u.email,
+      toUserId: userId,
+      kind: "password-removed",
+      subject: "We removed a password from your Lashwright account",
+      body: `Someone signed up with this address and chose a password before the address was confirmed. You have now proved the address is yours, so that password no longer works.\n\nTo sign in with a password, choose your own: ${env().NEXTAUTH_URL}/forgot-password\n\nIf you did sign up yourself, choose the password again the same way.`,
+    },
   ]);
+}
+
+/** Queued without looking the address up: the queue finds the account, if any, when it sends. */
+export async function requestPasswordReset(email: string, address: string | null = null) {
+  await throttleMail(email, address);
+  await queueNotices([{ toEmail: email, kind: "reset", subject: "", body: "" }]);
 }
 
 /** A new password ends every existing session (the generation goes up) and proves the address. */
 export async function resetPassword(token: string, password: string): Promise<boolean> {
   const userId = await consumeAuthToken(token, "reset");
-  if (!userId) return false;
+  if (!userId || userId === "other") return false;
   await updateUser(userId, { passwordHash: await hashPassword(password), emailVerifiedAt: new Date() });
   await bumpSessionGeneration(userId);
   return true;
 }
 
-export async function requestSignInLink(email: string) {
-  const u = await getCredentialsByEmail(email);
-  if (!u) return;
-  const token = await createAuthToken(u.id, "signin", 15);
-  await queueNotices([
-    { toEmail: email, toUserId: u.id, kind: "signin", subject: "Your Lashwright sign-in link", body: `Open this link on the phone you want to sign in on:\n${link("/sign-in/link", token)}\n\nIt works once, for 15 minutes.` },
-  ]);
+export async function requestSignInLink(email: string, address: string | null = null) {
+  await throttleMail(email, address);
+  await queueNotices([{ toEmail: email, kind: "signin", subject: "", body: "" }]);
+}
+
+/** The address a usable sign-in link is for (whoever holds the link read it in that inbox). */
+export async function linkAccount(token: string): Promise<{ email: string } | null> {
+  const userId = await tokenOwner(token, "signin");
+  const u = userId ? await getCredentialsById(userId) : undefined;
+  return u ? { email: u.email } : null;
 }

@@ -8,6 +8,7 @@ import { ownCheck, ownOrNewCheck, ownOrNewEngine, ownOrNewTrayItem, ownEngine, r
 import { checkReadingsFit } from "./engines";
 import { noticeNewComment, noticeVerdict } from "./review";
 import { applyAsk, applyMove, applyOffer, applyWithdrawOffer } from "./pool";
+import { kickPhotoSweep } from "./photos";
 import type { WriteCtx } from "./write";
 
 /**
@@ -17,6 +18,9 @@ import type { WriteCtx } from "./write";
  * second connection is ever asked for. The table's type names every mutation of
  * lib/sync/mutations.ts: one added there without an applier here does not compile.
  */
+/** A deleted check's photos leave the object store after the commit; the answer does not wait for it. */
+const sweepAfterDelete = async () => void kickPhotoSweep();
+
 type Applier<N extends MutationName> = (w: WriteCtx, a: MutationArgs<N>) => Promise<void>;
 
 /** Readings of one check in one go: the owner's check, values that fit its engine, one upsert. */
@@ -43,6 +47,7 @@ export const APPLIERS: { readonly [N in MutationName]: Applier<N> } = {
   "engine.delete/1": async (w, a) => {
     if ((await getEngineRow(w.tx, a.id))?.ownerId !== w.user.id) return;
     await removeEngine(w.tx, w.user.id, w.version, a.id);
+    w.later(sweepAfterDelete);
   },
   "check.put/1": (w, a) => putOwnCheck(w, a),
   // the same check with the day it was made, for one recorded after the fact (an import)
@@ -50,6 +55,7 @@ export const APPLIERS: { readonly [N in MutationName]: Applier<N> } = {
   "check.delete/1": async (w, a) => {
     if ((await getCheckRow(w.tx, a.id))?.ownerId !== w.user.id) return;
     await removeCheck(w.tx, w.user.id, w.version, a.id);
+    w.later(sweepAfterDelete);
   },
   "reading.put/1": (w, a) => applyReadings(w, a.checkId, [a.reading]),
   "tray.put/1": async (w, a) => {

@@ -5,13 +5,22 @@ import Credentials from "next-auth/providers/credentials";
 import { env } from "@/lib/env";
 import { emailSchema, tokenSchema } from "@/lib/schemas/account";
 import { hashPassword, verifyPassword } from "@/lib/auth/password";
-import { bumpSessionGeneration, consumeAuthToken, getCredentialsByEmail, getPublicUser, getSessionGeneration, getSessionUser, updateUser, type PublicUser } from "@/db/queries/users";
-import { clientAddress, isThrottled, noteFailure, noteSuccess } from "./throttle";
+import { bumpSessionGeneration, consumeAuthToken, getCredentialsByEmail, getPublicUser, getSessionGeneration, getSessionUser, type PublicUser } from "@/db/queries/users";
+import { clientAddress, signInThrottled, signInSucceeded } from "./throttle";
+import { proveAddress } from "./account";
 
 export type SessionUser = PublicUser;
 
 /** Sign-in errors the sign-in page knows how to explain (next-auth passes the message through). */
-export const SIGN_IN_ERRORS = { throttled: "Throttled", unverified: "Unverified" } as const;
+export const SIGN_IN_ERRORS = { throttled: "Throttled", unverified: "Unverified", signedInAsOther: "SignedInAsOther" } as const;
+
+const SESSION_COOKIE = { secure: "__Secure-next-auth.session-token", plain: "next-auth.session-token" } as const;
+/**
+ * The one session cookie name: behind HTTPS only the __Secure- one, which a browser accepts only
+ * over HTTPS from this host, so a cookie planted over plain HTTP or by a sibling host is never read
+ * (OWASP ASVS 5.0 V7 Session Management).
+ */
+export const sessionCookieName = () => (env().NEXTAUTH_URL.startsWith("https:") ? SESSION_COOKIE.secure : SESSION_COOKIE.plain);
 
 /**
  * The one auth configuration. Sessions are signed JWTs carrying only the user id and a session
@@ -31,16 +40,13 @@ export const authOptions: NextAuthOptions = {
         const email = emailSchema.safeParse(credentials?.email);
         const password = typeof credentials?.password === "string" ? credentials.password : "";
         if (!email.success || password.length === 0 || password.length > 256) return null;
-        const address = clientAddress(req?.headers as Record<string, string> | undefined);
-        if (await isThrottled(email.data, address)) throw new Error(SIGN_IN_ERRORS.throttled);
+        // counted before the password is checked, so a burst sent at once gets no more tries
+        if (await signInThrottled(email.data, clientAddress(req?.headers as Record<string, string> | undefined))) throw new Error(SIGN_IN_ERRORS.throttled);
         const u = await getCredentialsByEmail(email.data);
         const ok = await verifyPassword(password, u?.passwordHash ?? (await dummy()));
-        if (!u || !ok) {
-          await noteFailure(email.data, address);
-          return null;
-        }
+        if (!u || !ok) return null;
         if (!u.emailVerifiedAt) throw new Error(SIGN_IN_ERRORS.unverified);
-        await noteSuccess(email.data);
+        await signInSucceeded(email.data);
         return { id: u.id, email: u.email, name: u.name, generation: u.sessionGeneration };
       },
     }),
@@ -48,16 +54,21 @@ export const authOptions: NextAuthOptions = {
       id: "email-link",
       name: "E-mail link",
       credentials: { token: { type: "text" } },
-      async authorize(credentials) {
+      async authorize(credentials, req) {
         const token = tokenSchema.safeParse(credentials?.token);
         if (!token.success) return null;
-        const userId = await consumeAuthToken(token.data, "signin");
+        // A link must not swap the account under someone signed in here: a link for the attacker's
+        // own account sent to a victim would otherwise log the victim's phone into it (login CSRF).
+        const cookie = (req?.headers as Record<string, string> | undefined)?.cookie ?? "";
+        const signedIn = await userFromSessionToken(readCookie(cookie, sessionCookieName()));
+        const userId = await consumeAuthToken(token.data, "signin", { onlyFor: signedIn?.id });
+        if (userId === "other") throw new Error(SIGN_IN_ERRORS.signedInAsOther);
         if (!userId) return null;
+        // following a link from the inbox proves the address (and drops a password set before that)
+        await proveAddress(userId);
         const u = await getPublicUser(userId);
         const generation = await getSessionGeneration(userId);
         if (!u || generation === undefined) return null;
-        // following a link from the inbox proves the address
-        await updateUser(userId, { emailVerifiedAt: new Date() });
         return { id: u.id, email: u.email, name: u.name, generation };
       },
     }),
@@ -86,7 +97,18 @@ export const authOptions: NextAuthOptions = {
 export async function currentUser(): Promise<SessionUser | null> {
   const { cookies } = await import("next/headers");
   const jar = await cookies();
-  const raw = jar.get("__Secure-next-auth.session-token")?.value ?? jar.get("next-auth.session-token")?.value;
+  return userFromSessionToken(jar.get(sessionCookieName())?.value);
+}
+
+function readCookie(header: string, name: string): string | undefined {
+  for (const part of header.split(";")) {
+    const i = part.indexOf("=");
+    if (i > 0 && part.slice(0, i).trim() === name) return part.slice(i + 1).trim();
+  }
+  return undefined;
+}
+
+async function userFromSessionToken(raw: string | undefined): Promise<SessionUser | null> {
   const secret = authOptions.secret;
   if (!raw || !secret) return null;
   const t = await decode({ token: raw, secret }).catch(() => null);

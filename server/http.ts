@@ -6,6 +6,7 @@ import { ID_PATTERN } from "@/lib/schemas/records";
 import { domainErrorOf, type DomainError, type DomainErrorKind } from "@/lib/errors";
 import { isTransientDbError } from "@/db/errors";
 import { currentUser, type SessionUser } from "./auth";
+import { contentTypeRefusal, readBody, sameOriginRefusal } from "./request-guard";
 
 /**
  * The one place that turns a request into validated input and an error into the error shape
@@ -65,6 +66,8 @@ interface RouteOptions<P extends z.ZodType, Q extends z.ZodType, B extends z.Zod
   auth?: A;
   /** status of a successful answer (default 200; 204 sends no body) */
   status?: number;
+  /** the handler reads a multipart form itself (photos): its content type is checked here */
+  multipart?: boolean;
 }
 
 export function route<P extends z.ZodType = z.ZodType<Record<string, never>>, Q extends z.ZodType = z.ZodType<Record<string, never>>, B extends z.ZodType = z.ZodType<undefined>, A extends boolean = true>(
@@ -74,6 +77,8 @@ export function route<P extends z.ZodType = z.ZodType<Record<string, never>>, Q 
   return async (req: NextRequest, ctx: { params: Promise<Record<string, string | string[]>> }) => {
     const requestId = crypto.randomUUID().slice(0, 8);
     try {
+      const refused = sameOriginRefusal(req) ?? (opts.body ? contentTypeRefusal(req, "json") : opts.multipart ? contentTypeRefusal(req, "multipart") : null);
+      if (refused) throw refused;
       const user = await currentUser();
       if (opts.auth !== false && !user) return errorResponse(401, "unauthorized", "Sign in first");
       const rawParams = ctx?.params ? await ctx.params : {};
@@ -84,8 +89,7 @@ export function route<P extends z.ZodType = z.ZodType<Record<string, never>>, Q 
       if (!query.success) return errorResponse(422, "invalid", "The query string is not valid", fieldsFromZod(query.error));
       let body: unknown = undefined;
       if (opts.body) {
-        const text = await req.text();
-        if (Buffer.byteLength(text) > MAX_BODY_BYTES) return errorResponse(413, "too_large", `The body is over ${MAX_BODY_BYTES / 1024} KiB`);
+        const text = new TextDecoder().decode(await readBody(req, MAX_BODY_BYTES));
         let json: unknown;
         try {
           json = text === "" ? undefined : JSON.parse(text);

@@ -2,6 +2,7 @@ import "server-only";
 import { claimDueNotices, enqueueNotices, markNoticeFailed, markNoticeSent, type NoticeInput } from "@/db/queries/notices";
 import { env } from "@/lib/env";
 import { sendMail } from "./mail";
+import { composeAtSend } from "./notice-compose";
 
 /**
  * E-mail notices go through a queue table: the request that causes one only inserts a row, so a
@@ -16,7 +17,7 @@ export async function queueNotices(items: NoticeInput[]): Promise<void> {
 /** Someone who may get a notice; those who turned notices off, and `except` (the actor), get none. */
 export type Recipient = { id: string; email: string; noticesByEmail: boolean };
 
-export async function noticeEach(recipients: Recipient[], except: string, notice: { kind: string; subject: string; body: string }) {
+export async function noticeEach(recipients: Recipient[], except: string, notice: { kind: string; subject: string; body: string; aboutCheckId?: string }) {
   const to = recipients.filter((r) => r.noticesByEmail && r.id !== except);
   if (to.length) await queueNotices(to.map((r) => ({ toEmail: r.email, toUserId: r.id, ...notice })));
 }
@@ -32,7 +33,12 @@ export function deliverDueNotices(): Promise<number> {
         if (batch.length === 0) break;
         for (const n of batch) {
           try {
-            await sendMail(n.toEmail, n.subject, n.body);
+            const mail = await composeAtSend(n);
+            if (!mail) {
+              await markNoticeSent(n.id, "dropped");
+              continue;
+            }
+            await sendMail(n.toEmail, mail.subject, mail.body);
             await markNoticeSent(n.id);
             sent++;
           } catch (e) {

@@ -5,7 +5,8 @@ import * as q from "@/db/queries/photos";
 import { conflict, DomainError, forbidden, invalid, notFound } from "@/lib/errors";
 import { db } from "@/db/client";
 import { readableCheck } from "./access";
-import { deleteObject, getObject, putObject } from "./storage";
+import { BodyTooLarge } from "./request-guard";
+import { deleteObject, getObject, listObjects, putObject } from "./storage";
 import type { SessionUser } from "./auth";
 
 /**
@@ -40,15 +41,19 @@ export async function preparePhoto(input: Buffer) {
 
 /**
  * An upload: a check the caller cannot read answers 404 whatever was sent, and an oversized body is
- * refused from its declared length (a little room for the form's other fields) before it is read.
+ * refused from its declared length (a little room for the form's other fields) before it is read,
+ * or as soon as its bytes pass that limit while it is read.
  */
-export async function uploadPhoto(user: SessionUser, checkId: string, body: { bytes: number; read: () => Promise<FormData> }): Promise<{ photo: ApiPhoto; created: boolean }> {
+export async function uploadPhoto(user: SessionUser, checkId: string, body: { bytes: number; read: (limit: number) => Promise<FormData> }): Promise<{ photo: ApiPhoto; created: boolean }> {
   await readableCheck(db(), user, checkId);
-  if (body.bytes > PHOTO_MAX_BYTES + 64 * 1024) throw tooLarge();
+  const limit = PHOTO_MAX_BYTES + 64 * 1024;
+  if (body.bytes > limit) throw tooLarge();
   let form: FormData;
   try {
-    form = await body.read();
-  } catch {
+    // counted while read, so a chunked body with no declared length stops at the limit too
+    form = await body.read(limit);
+  } catch (e) {
+    if (e instanceof BodyTooLarge) throw tooLarge();
     throw new DomainError("bad_request", "Send the photo as a multipart form", { code: "bad_form" });
   }
   const file = form.get("file");
@@ -100,4 +105,41 @@ export async function removePhoto(user: SessionUser, photoId: string) {
   if (p.ownerId !== user.id && as !== "owner") throw forbidden("Only who took the photo or the check's owner can remove it");
   await q.deletePhoto(photoId);
   await deleteObject(p.objectKey).catch(() => undefined);
+}
+
+/**
+ * Photos whose row is gone (a check or engine deleted, with every photo on it; an upload that died
+ * between storing the bytes and writing the row) are removed from the store: a deleted check's
+ * photos must not outlive it (OWASP ASVS 5.0 V14 Data Protection). An object younger than `graceMs`
+ * is left alone, as its upload may still be writing the row. Run after deletions and on a timer.
+ */
+export async function sweepPhotos(graceMs = 10 * 60_000): Promise<number> {
+  let removed = 0;
+  const before = Date.now() - graceMs;
+  const checkOf = (key: string) => key.split("/")[1] ?? "";
+  for await (const page of listObjects("checks/")) {
+    const used = await q.keysInUse(page.map((o) => o.key));
+    // a deleted check takes no new photo (its upload fails on the missing row), so no grace there
+    const alive = await q.checksThatExist([...new Set(page.map((o) => checkOf(o.key)))]);
+    for (const o of page) {
+      if (used.has(o.key) || (alive.has(checkOf(o.key)) && o.modified.getTime() > before)) continue;
+      await deleteObject(o.key);
+      removed++;
+    }
+  }
+  return removed;
+}
+
+let sweeping: Promise<number> | null = null;
+/** Start a sweep unless one runs; never fails the caller (the timer tries again). */
+export function kickPhotoSweep(graceMs?: number): Promise<number> {
+  sweeping ??= sweepPhotos(graceMs)
+    .catch((e: unknown) => {
+      console.error("[photos] sweep failed:", e instanceof Error ? e.message : e);
+      return 0;
+    })
+    .finally(() => {
+      sweeping = null;
+    });
+  return sweeping;
 }

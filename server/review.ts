@@ -16,6 +16,7 @@ export async function noticeReviewRequested(check: { id: string; engineId: strin
   const engine = await getEngineRow(db(), check.engineId);
   await noticeEach(await mentorsOfClub(clubId), check.ownerId, {
     kind: "review-requested",
+    aboutCheckId: check.id,
     subject: `${ownerName} asks for a review: ${engine?.name ?? "a check"}`,
     body: `${ownerName} has shared a valve check with your club and would like a mentor to look it over before the engine is closed up.\n\n${checkLink(check.id)}`,
   });
@@ -24,7 +25,7 @@ export async function noticeReviewRequested(check: { id: string; engineId: strin
 export async function noticeComment(check: { id: string; ownerId: string }, authorId: string, authorName: string, body: string, mentorIds: string[]) {
   // the other party: a comment by the owner goes to the mentors who have taken part; a mentor's to the owner
   const recipients = await usersByIds(authorId === check.ownerId ? mentorIds : [check.ownerId]);
-  await noticeEach(recipients, authorId, { kind: "comment", subject: `New comment from ${authorName}`, body: `${authorName} wrote:\n\n${body.slice(0, 1000)}\n\n${checkLink(check.id)}` });
+  await noticeEach(recipients, authorId, { kind: "comment", aboutCheckId: check.id, subject: `New comment from ${authorName}`, body: `${authorName} wrote:\n\n${body.slice(0, 1000)}\n\n${checkLink(check.id)}` });
 }
 
 /** After a comment is stored, by the REST route or a sync push: tell the other party. */
@@ -37,6 +38,7 @@ export async function noticeVerdict(check: { id: string; ownerId: string }, ment
   const words = VERDICTS[verdict].word.toLowerCase();
   await noticeEach(await usersByIds([check.ownerId]), "", {
     kind: "verdict",
+    aboutCheckId: check.id,
     subject: `Review verdict: ${words}`,
     body: `${mentorName} has reviewed your check: ${words}.\n\n${checkLink(check.id)}`,
   });

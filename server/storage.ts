@@ -1,5 +1,5 @@
 import "server-only";
-import { DeleteObjectCommand, GetObjectCommand, PutObjectCommand, S3Client } from "@aws-sdk/client-s3";
+import { DeleteObjectCommand, GetObjectCommand, ListObjectsV2Command, PutObjectCommand, S3Client } from "@aws-sdk/client-s3";
 import { env } from "@/lib/env";
 
 /** The photo store: any S3-compatible service; npm start and npm test run a local one. */
@@ -29,4 +29,14 @@ export async function getObject(key: string): Promise<Uint8Array> {
 
 export async function deleteObject(key: string) {
   await s3().send(new DeleteObjectCommand({ Bucket: env().S3_BUCKET, Key: key }));
+}
+
+/** Keys under a prefix with their age, a page of up to 1,000 at a time. */
+export async function* listObjects(prefix: string): AsyncGenerator<{ key: string; modified: Date }[]> {
+  let token: string | undefined;
+  do {
+    const r = await s3().send(new ListObjectsV2Command({ Bucket: env().S3_BUCKET, Prefix: prefix, ContinuationToken: token }));
+    yield (r.Contents ?? []).map((o) => ({ key: o.Key!, modified: o.LastModified ?? new Date(0) }));
+    token = r.IsTruncated ? r.NextContinuationToken : undefined;
+  } while (token);
 }

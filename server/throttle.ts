@@ -1,41 +1,53 @@
 import "server-only";
-import { clearFailures, failuresSince, recordFailure } from "@/db/queries/throttle";
+import { env } from "@/lib/env";
+import { claimAttempts, clearFailures } from "@/db/queries/throttle";
 
 /**
- * Sign-in throttling: at most 5 failed attempts per account and 20 per address in 15 minutes
- * (OWASP Authentication Cheat Sheet: limit failed attempts per account and per source).
+ * Throttles, counted before the work they guard (OWASP ASVS 5.0 V6 Authentication; NIST SP 800-63B
+ * section 5.2.2, rate limiting): sign-in at most 5 tries per account and 20 per network address in
+ * 15 minutes; e-mails asked for (sign-up, password reset, sign-in link) at most 5 per e-mail address
+ * and 20 per network address in 15 minutes (common practice). A locked account can still be reached
+ * by an e-mail link, so a stranger's wrong guesses lock nobody out for good.
  */
-export const THROTTLE = { windowMinutes: 15, perAccount: 5, perAddress: 20 } as const;
+export const THROTTLE = { windowMinutes: 15, perAccount: 5, perAddress: 20, mailsPerEmail: 5, mailsPerAddress: 20 } as const;
 
+const since = () => new Date(Date.now() - THROTTLE.windowMinutes * 60_000);
 const accountKey = (email: string) => `acct:${email}`;
-const addressKey = (addr: string) => `addr:${addr}`;
 
-export async function isThrottled(email: string, address: string): Promise<boolean> {
-  const since = new Date(Date.now() - THROTTLE.windowMinutes * 60_000);
-  const [a, b] = await Promise.all([failuresSince(accountKey(email), since), failuresSince(addressKey(address), since)]);
-  return a >= THROTTLE.perAccount || b >= THROTTLE.perAddress;
+/** Count a sign-in try; true when it must be refused without checking the password. */
+export async function signInThrottled(email: string, address: string | null): Promise<boolean> {
+  const keys: { key: string; limit: number }[] = [{ key: accountKey(email), limit: THROTTLE.perAccount }];
+  if (address) keys.push({ key: `addr:${address}`, limit: THROTTLE.perAddress });
+  return (await claimAttempts(keys, since())).length > 0;
 }
 
-export async function noteFailure(email: string, address: string): Promise<void> {
-  await recordFailure([accountKey(email), addressKey(address)]);
-}
-
-export async function noteSuccess(email: string): Promise<void> {
+/** A right password forgets the account's earlier tries (the address's stay counted). */
+export async function signInSucceeded(email: string): Promise<void> {
   await clearFailures(accountKey(email));
 }
 
+/** Count a request that sends e-mail to `email`; true when it must be refused. */
+export async function mailThrottled(email: string, address: string | null): Promise<boolean> {
+  const keys: { key: string; limit: number }[] = [{ key: `mail:${email}`, limit: THROTTLE.mailsPerEmail }];
+  if (address) keys.push({ key: `mailaddr:${address}`, limit: THROTTLE.mailsPerAddress });
+  return (await claimAttempts(keys, since())).length > 0;
+}
+
+type HeaderBag = Headers | Record<string, string | string[] | undefined> | undefined;
+
 /**
- * The caller's address. Behind a proxy that sets X-Forwarded-For, its first entry; without one, all
- * callers share one bucket and the per-account limit still holds.
+ * The caller's network address, or null when it cannot be known. Behind TRUSTED_PROXIES proxies,
+ * each appends the address it saw to X-Forwarded-For, so the N-th entry from the right is the one
+ * our nearest trusted proxy saw; anything left of it is the caller's own words. With no proxy the
+ * header is not believed at all (Next fills it from the socket only when the caller sent none).
  */
-export function clientAddress(headers: Headers | Record<string, string | string[] | undefined> | undefined): string {
-  const get = (name: string): string | undefined => {
-    if (!headers) return undefined;
-    if (headers instanceof Headers) return headers.get(name) ?? undefined;
-    const v = headers[name];
-    return Array.isArray(v) ? v[0] : v;
-  };
-  return (get("x-forwarded-for")?.split(",")[0]?.trim() || get("x-real-ip") || "direct").slice(0, 64);
+export function clientAddress(headers: HeaderBag): string | null {
+  const hops = env().TRUSTED_PROXIES;
+  if (hops === 0 || !headers) return null;
+  const raw = headers instanceof Headers ? headers.get("x-forwarded-for") : headers["x-forwarded-for"];
+  const list = (Array.isArray(raw) ? raw.join(",") : (raw ?? "")).split(",").map((s) => s.trim()).filter(Boolean);
+  const addr = list[list.length - hops];
+  return addr ? addr.slice(0, 64) : null;
 }
 
 /**
@@ -44,7 +56,6 @@ export function clientAddress(headers: Headers | Record<string, string | string[
  * the address has an account, so the answer tells nothing about it.
  */
 export async function spend(key: string, limit: number, windowMinutes: number): Promise<boolean> {
-  if ((await failuresSince(key, new Date(Date.now() - windowMinutes * 60_000))) >= limit) return false;
-  await recordFailure([key]);
-  return true;
+  // counted first, then compared, so requests sent at once cannot all slip under the limit
+  return (await claimAttempts([{ key, limit }], new Date(Date.now() - windowMinutes * 60_000))).length === 0;
 }

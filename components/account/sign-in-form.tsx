@@ -11,6 +11,7 @@ import { emailSchema } from "@/lib/schemas/account";
 import { mutations } from "@/lib/api/client";
 import { Button, ButtonLink, Field, inputClass, Notice } from "@/components/ui/controls";
 import { ResendLink } from "./resend-link";
+import { safeNext } from "@/lib/auth/safe-next";
 
 const schema = z.object({ email: emailSchema, password: z.string().min(1, { error: "enter your password" }) });
 
@@ -20,10 +21,6 @@ const MESSAGES: Record<string, string> = {
   Unverified: "Confirm your e-mail first: open the link we sent when you signed up.",
 };
 
-/** Where to go after signing in: only paths on this site, never another origin. */
-function safeNext(raw: string | null): string {
-  return raw && raw.startsWith("/") && !raw.startsWith("//") ? raw : "/engines";
-}
 
 export function SignInForm() {
   const router = useRouter();
@@ -39,7 +36,7 @@ export function SignInForm() {
     setError(null);
     setUnconfirmed(null);
     const res = await signIn("password", { ...values, redirect: false });
-    if (res?.ok && !res.error) router.push(safeNext(params.get("next")));
+    if (res?.ok && !res.error) router.push(safeNext(params.get("next"), window.location.origin));
     else {
       setError(MESSAGES[res?.error ?? ""] ?? "Sign-in failed. Try again.");
       if (res?.error === "Unverified") setUnconfirmed(values.email);

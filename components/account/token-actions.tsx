@@ -1,7 +1,7 @@
 "use client";
 
 import { zodResolver } from "@hookform/resolvers/zod";
-import { signIn } from "next-auth/react";
+import { signIn, signOut } from "next-auth/react";
 import Link from "next/link";
 import { useRouter, useSearchParams } from "next/navigation";
 import { useEffect, useRef, useState } from "react";
@@ -56,14 +56,64 @@ export function VerifyEmail() {
   );
 }
 
+/**
+ * A sign-in link signs in only after a press on a button that names the account, and never over
+ * someone already signed in on this phone: a link for another account (perhaps an attacker's own,
+ * sent to the victim) must not quietly swap the account under them. The server refuses it too.
+ */
 export function EmailLinkSignIn() {
   const token = useSearchParams().get("token") ?? "";
   const router = useRouter();
-  const [bad, setBad] = useState(false);
+  const [state, setState] = useState<{ is: "loading" } | { is: "bad" } | { is: "working" } | { is: "ready"; email: string } | { is: "other"; email: string; current: string } | { is: "same"; email: string; current: string }>({ is: "loading" });
   useOnce(() => {
-    signIn("email-link", { token, redirect: false }).then((r) => (r?.ok && !r.error ? router.replace("/engines") : setBad(true)));
+    Promise.all([
+      mutations.linkAccount(token).then((r) => r.account.email),
+      fetch("/api/auth/session", { credentials: "same-origin" })
+        .then((r) => r.json() as Promise<{ user?: { email?: string } }>)
+        .then((s) => s.user?.email ?? null),
+    ]).then(
+      ([email, current]) => setState(current === null ? { is: "ready", email } : current === email ? { is: "same", email, current } : { is: "other", email, current }),
+      () => setState({ is: "bad" }),
+    );
   });
-  return bad ? <Notice tone="error">This sign-in link has expired or was already used. Ask for a new one on the {signInLink} page.</Notice> : <Notice>Signing you in…</Notice>;
+  const signInNow = (email: string) => {
+    setState({ is: "working" });
+    void signIn("email-link", { token, redirect: false }).then((r) => {
+      if (r?.ok && !r.error) router.replace("/engines");
+      else setState(r?.error === "SignedInAsOther" ? { is: "other", email, current: "another account" } : { is: "bad" });
+    });
+  };
+  if (state.is === "loading") return <Notice>Checking the link…</Notice>;
+  if (state.is === "working") return <Notice>Signing you in…</Notice>;
+  if (state.is === "bad") return <Notice tone="error">This sign-in link has expired or was already used. Ask for a new one on the {signInLink} page.</Notice>;
+  if (state.is === "same")
+    return (
+      <Notice tone="ok">
+        You are already signed in as {state.email}.{" "}
+        <Link href="/engines" className="font-bold underline">
+          Go to your engines
+        </Link>
+      </Notice>
+    );
+  if (state.is === "other")
+    return (
+      <div className="flex flex-col gap-4">
+        <Notice tone="error">
+          This phone is signed in as {state.current}, and the link is for {state.email}. Sign out first, then open the link again.
+        </Notice>
+        <Button type="button" look="plain" onClick={() => void signOut({ callbackUrl: window.location.href })}>
+          Sign out {state.current}
+        </Button>
+      </div>
+    );
+  return (
+    <div className="flex flex-col gap-4">
+      <Notice>This link signs this phone in to the account of {state.email}. Go on only if that is you.</Notice>
+      <Button type="button" onClick={() => signInNow(state.email)}>
+        Sign in as {state.email}
+      </Button>
+    </div>
+  );
 }
 
 const forgotSchema = z.object({ email: emailSchema });

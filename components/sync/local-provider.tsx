@@ -1,7 +1,9 @@
 "use client";
 
 import { PersistQueries } from "./persist-queries";
+import Dexie from "dexie";
 import { useLiveQuery } from "dexie-react-hooks";
+import { del } from "idb-keyval";
 import { usePathname } from "next/navigation";
 import { createContext, useCallback, useContext, useEffect, useMemo, useRef, useState, type ReactNode } from "react";
 import { openLocalDb, getMeta, type LocalDb } from "@/lib/sync/local-db";
@@ -34,7 +36,8 @@ interface LocalContext {
   rejected: Rejected[];
   persisted: boolean | null;
   syncNow: () => Promise<void>;
-  forget: () => void;
+  /** delete this user's local data and identity from the phone (before signing out) */
+  forget: () => Promise<void>;
 }
 
 const Ctx = createContext<LocalContext | null>(null);
@@ -62,10 +65,11 @@ export function LocalProvider({ children }: { children: ReactNode }) {
   const busyTries = useRef(0);
   const busyUntil = useRef(0);
 
-  // The identity: the stored one at once, then the server's word when it can be reached; asked
-  // again on each new page while nobody is known here (for example just after signing in).
+  // The identity: the stored one at once, then the server's word when it can be reached, asked
+  // again on each new page: if the session now belongs to someone else (a sign-in link opened, a
+  // sign-in in another tab), the header, the local database and the sync follow it at once.
   const path = usePathname();
-  const askAgain = user ? "known" : path;
+  const askAgain = path;
   useEffect(() => {
     // next-auth's session answer first: it is 200 with no user when nobody is signed in, so a
     // visitor's page logs no failed request; only a signed-in phone asks the account route
@@ -164,7 +168,16 @@ export function LocalProvider({ children }: { children: ReactNode }) {
       .catch(() => undefined);
   }, [waiting]);
 
-  const forget = useCallback(() => storeUser(null), [storeUser]);
+  // Signing out leaves nothing of this user on the phone: their local database (records and
+  // outbox), the kept copies of other members' shared checks, and the stored identity (OWASP ASVS
+  // 5.0 V14 Data Protection, V7 Session Management: sign-out ends what the session could read).
+  const forget = useCallback(async () => {
+    if (userId) {
+      db?.close();
+      await Promise.all([Dexie.delete(`lashwright-${userId}`), del(`lashwright-cache-${userId}`)]).catch(() => undefined);
+    }
+    storeUser(null);
+  }, [db, storeUser, userId]);
 
   const value: LocalContext = { user, ready, db, state, retryAt, waiting, lastSyncAt, rejected, persisted, syncNow, forget };
   return (

@@ -1,8 +1,8 @@
 "use client";
 
 import Link from "next/link";
-import { usePathname } from "next/navigation";
-import type { ReactNode } from "react";
+import { usePathname, useSearchParams } from "next/navigation";
+import { Suspense, type ReactNode } from "react";
 import { useLocal } from "@/components/sync/local-provider";
 import { StorageNotice } from "@/components/sync/storage-notice";
 import { SyncLine } from "@/components/sync/sync-line";
@@ -21,7 +21,17 @@ const PLACES = [
  */
 export function AppShell({ title, children, back }: { title: string; children: ReactNode; back?: { href: string; label: string } }) {
   const path = usePathname();
-  const { user, ready, forget } = useLocal();
+  const { user, ready, forget, waiting } = useLocal();
+  const signOut = async () => {
+    // changes not yet on the server would be lost with the local database: say so first
+    if (waiting > 0 && !window.confirm(`${waiting === 1 ? "1 change on this phone is" : `${waiting} changes on this phone are`} not on the server yet. Signing out deletes ${waiting === 1 ? "it" : "them"}. Sign out anyway?`)) return;
+    await forget();
+    // loaded on the tap: next-auth's client is not needed by any garage screen before it
+    const { signOut: endSession } = await import("next-auth/react");
+    await endSession({ redirect: false }).catch(() => undefined);
+    await forget(); // again: a copy of the kept queries may have been written meanwhile
+    window.location.assign("/");
+  };
   return (
     <div className="mx-auto flex min-h-dvh max-w-xl flex-col">
       <a href="#content" className="sr-only focus:not-sr-only focus:absolute focus:top-2 focus:left-2 focus:z-50 focus:inline-flex focus:min-h-12 focus:items-center focus:rounded-xl focus:bg-accent focus:px-4 focus:font-bold focus:text-accent-ink">
@@ -35,11 +45,7 @@ export function AppShell({ title, children, back }: { title: string; children: R
           {user && (
             <button
               type="button"
-              onClick={() => {
-                forget();
-                // loaded on the tap: next-auth's client is not needed by any garage screen before it
-                void import("next-auth/react").then(({ signOut }) => signOut({ callbackUrl: "/" }));
-              }}
+              onClick={() => void signOut()}
               className="inline-flex min-h-12 items-center rounded-xl px-3 text-sm font-bold text-ink-soft underline"
             >
               Sign out {user.name.split(" ")[0]}
@@ -61,7 +67,9 @@ export function AppShell({ title, children, back }: { title: string; children: R
         ) : (
           <div className="flex flex-col gap-3">
             <Notice>Sign in once with a signal; after that this phone keeps your work even with none.</Notice>
-            <ButtonLink href={`/sign-in?next=${encodeURIComponent(path)}`}>Sign in</ButtonLink>
+            <Suspense fallback={<SignInHere path={path} query="" />}>
+              <SignInWithQuery path={path} />
+            </Suspense>
           </div>
         )}
       </main>
@@ -84,4 +92,13 @@ export function AppShell({ title, children, back }: { title: string; children: R
       </nav>
     </div>
   );
+}
+
+/** Sign in and come back here, query string included (/check?id=... must survive the round trip). */
+function SignInHere({ path, query }: { path: string; query: string }) {
+  return <ButtonLink href={`/sign-in?next=${encodeURIComponent(query ? `${path}?${query}` : path)}`}>Sign in</ButtonLink>;
+}
+
+function SignInWithQuery({ path }: { path: string }) {
+  return <SignInHere path={path} query={useSearchParams().toString()} />;
 }

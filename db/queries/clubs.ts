@@ -1,8 +1,9 @@
 import "server-only";
 import { and, asc, desc, eq, gt, inArray, isNull } from "drizzle-orm";
+import { alias } from "drizzle-orm/mysql-core";
 import { createHash, randomBytes } from "node:crypto";
 import { db, transaction, type Executor, type Tx } from "../client";
-import { checks, clubs, comments, engines, invites, memberships, shares, users, type Role } from "../schema";
+import { checks, clubLog, clubLogActions, clubs, comments, engines, invites, memberships, shares, users, type Role } from "../schema";
 
 export async function rolesInClub(ex: Executor, userId: string, clubId: string): Promise<Role[]> {
   const rows = await ex.select({ role: memberships.role }).from(memberships).where(and(eq(memberships.userId, userId), eq(memberships.clubId, clubId)));
@@ -39,6 +40,7 @@ export async function createClub(userId: string, name: string) {
       { clubId: id, userId, role: "admin" },
       { clubId: id, userId, role: "mechanic" },
     ]);
+    await log(tx, { clubId: id, actorId: userId, action: "roles-changed", subjectUserId: userId, detail: "none → admin, mechanic" });
   });
   return { id, name, roles: ["admin", "mechanic"] as Role[] };
 }
@@ -64,10 +66,28 @@ export async function countAdmins(ex: Executor, clubId: string) {
   return rows.length;
 }
 
-/** Replace a member's roles, inside the caller's transaction. */
-export async function setRoles(tx: Tx, clubId: string, userId: string, roles: Role[]) {
+type LogEntry = { clubId: string; actorId: string | null; action: (typeof clubLogActions)[number]; subjectUserId?: string | null; subjectEmail?: string | null; detail?: string };
+const log = (tx: Tx, e: LogEntry) => tx.insert(clubLog).values({ ...e, detail: (e.detail ?? "").slice(0, 200) });
+const rolesWord = (roles: Role[]) => (roles.length ? [...roles].sort().join(", ") : "none");
+
+/**
+ * Replace a member's roles inside the caller's transaction, with a line in the club log. An admin
+ * who loses the role loses their pending invitations with it: an invitation speaks for an admin
+ * who no longer is.
+ */
+export async function setRoles(tx: Tx, clubId: string, userId: string, roles: Role[], actorId: string) {
+  const before = (await tx.select({ role: memberships.role }).from(memberships).where(and(eq(memberships.clubId, clubId), eq(memberships.userId, userId))).for("update")).map((r) => r.role);
   await tx.delete(memberships).where(and(eq(memberships.clubId, clubId), eq(memberships.userId, userId)));
-  if (roles.length) await tx.insert(memberships).values([...new Set(roles)].map((role) => ({ clubId, userId, role })));
+  const after = [...new Set(roles)];
+  if (after.length) await tx.insert(memberships).values(after.map((role) => ({ clubId, userId, role })));
+  if (rolesWord(before) !== rolesWord(after)) await log(tx, { clubId, actorId, action: "roles-changed", subjectUserId: userId, detail: `${rolesWord(before)} → ${rolesWord(after)}` });
+  if (before.includes("admin") && !after.includes("admin")) {
+    const [res] = await tx
+      .update(invites)
+      .set({ withdrawnAt: new Date() })
+      .where(and(eq(invites.clubId, clubId), eq(invites.invitedBy, userId), isNull(invites.acceptedAt), isNull(invites.withdrawnAt), gt(invites.expiresAt, new Date())));
+    if (res.affectedRows > 0) await log(tx, { clubId, actorId, action: "invites-ended", subjectUserId: userId, detail: `${res.affectedRows} pending` });
+  }
 }
 
 const hash = (raw: string) => createHash("sha256").update(raw).digest("hex");
@@ -76,32 +96,64 @@ export async function createInvite(tx: Tx, clubId: string, invitedBy: string, em
   const raw = randomBytes(32).toString("base64url");
   const id = crypto.randomUUID();
   await tx.insert(invites).values({ id, clubId, email, role, invitedBy, tokenHash: hash(raw), expiresAt: new Date(Date.now() + 14 * 86_400_000) });
+  await log(tx, { clubId, actorId: invitedBy, action: "invite-sent", subjectEmail: email, detail: role });
   return { id, token: raw };
 }
 
 export async function listInvites(clubId: string) {
   return db()
-    .select({ id: invites.id, email: invites.email, role: invites.role, expiresAt: invites.expiresAt, acceptedAt: invites.acceptedAt, createdAt: invites.createdAt })
+    .select({ id: invites.id, email: invites.email, role: invites.role, expiresAt: invites.expiresAt, acceptedAt: invites.acceptedAt, withdrawnAt: invites.withdrawnAt, createdAt: invites.createdAt })
     .from(invites)
     .where(eq(invites.clubId, clubId))
     .orderBy(desc(invites.createdAt));
 }
 
-/** Accept an invite once: it must be unexpired, unused, and addressed to the accepting user's e-mail. */
+/** Withdraw a pending invitation, inside the caller's transaction; false when this club has no such pending one. */
+export async function withdrawInvite(tx: Tx, clubId: string, inviteId: string, actorId: string): Promise<boolean> {
+  const [inv] = await tx.select().from(invites).where(and(eq(invites.id, inviteId), eq(invites.clubId, clubId))).for("update");
+  if (!inv || inv.acceptedAt) return false;
+  if (inv.withdrawnAt) return true; // withdrawn twice: the same result
+  await tx.update(invites).set({ withdrawnAt: new Date() }).where(eq(invites.id, inviteId));
+  await log(tx, { clubId, actorId, action: "invite-withdrawn", subjectEmail: inv.email, detail: inv.role });
+  return true;
+}
+
+/**
+ * Accept an invite once: unexpired, unused, not withdrawn, addressed to the accepting user's e-mail,
+ * and sent by someone who is still an admin of the club.
+ */
 export async function acceptInvite(raw: string, user: { id: string; email: string }) {
   return transaction(async (tx) => {
     const [inv] = await tx
       .select()
       .from(invites)
-      .where(and(eq(invites.tokenHash, hash(raw)), isNull(invites.acceptedAt), gt(invites.expiresAt, new Date())))
+      .where(and(eq(invites.tokenHash, hash(raw)), isNull(invites.acceptedAt), isNull(invites.withdrawnAt), gt(invites.expiresAt, new Date())))
       .for("update");
     if (!inv || inv.email !== user.email) return null;
+    const [stillAdmin] = await tx.select({ id: memberships.id }).from(memberships).where(and(eq(memberships.clubId, inv.clubId), eq(memberships.userId, inv.invitedBy), eq(memberships.role, "admin")));
+    if (!stillAdmin) return null;
     await tx.update(invites).set({ acceptedAt: new Date() }).where(eq(invites.id, inv.id));
     const have = await tx.select({ role: memberships.role }).from(memberships).where(and(eq(memberships.clubId, inv.clubId), eq(memberships.userId, user.id)));
     const want = [...new Set<Role>(["mechanic", inv.role])].filter((r) => !have.some((h) => h.role === r));
     if (want.length) await tx.insert(memberships).values(want.map((role) => ({ clubId: inv.clubId, userId: user.id, role })));
+    const after = [...new Set([...have.map((h) => h.role), ...want])];
+    await log(tx, { clubId: inv.clubId, actorId: user.id, action: "invite-accepted", subjectUserId: user.id, subjectEmail: inv.email, detail: `${rolesWord(have.map((h) => h.role))} → ${rolesWord(after)}` });
     return { clubId: inv.clubId };
   });
+}
+
+/** The club log, newest first, with the names of who acted and on whom. */
+export async function listClubLog(clubId: string, limit: number, offset: number) {
+  const subject = alias(users, "subject");
+  return db()
+    .select({ id: clubLog.id, action: clubLog.action, at: clubLog.at, actorName: users.name, subjectName: subject.name, subjectEmail: clubLog.subjectEmail, detail: clubLog.detail })
+    .from(clubLog)
+    .leftJoin(users, eq(users.id, clubLog.actorId))
+    .leftJoin(subject, eq(subject.id, clubLog.subjectUserId))
+    .where(eq(clubLog.clubId, clubId))
+    .orderBy(desc(clubLog.seq))
+    .limit(limit + 1)
+    .offset(offset);
 }
 
 type ShareRow = typeof shares.$inferSelect;

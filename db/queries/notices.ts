@@ -9,6 +9,7 @@ export interface NoticeInput {
   kind: string;
   subject: string;
   body: string;
+  aboutCheckId?: string | null;
 }
 
 import type { Tx } from "../versions";
@@ -31,8 +32,8 @@ export async function claimDueNotices(limit: number, claimSeconds = 60) {
   return db().select().from(notices).where(and(eq(notices.claimToken, token), eq(notices.status, "sending")));
 }
 
-export async function markNoticeSent(id: string): Promise<void> {
-  await db().update(notices).set({ status: "sent", claimToken: null, lastError: null }).where(eq(notices.id, id));
+export async function markNoticeSent(id: string, status: "sent" | "dropped" = "sent"): Promise<void> {
+  await db().update(notices).set({ status, claimToken: null, lastError: null }).where(eq(notices.id, id));
 }
 
 /** Back off base, 2x base, 4x base, ... (base 30 s) and give up after `maxAttempts`. */

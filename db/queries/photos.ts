@@ -1,8 +1,8 @@
 import "server-only";
-import { and, asc, eq } from "drizzle-orm";
+import { and, asc, eq, inArray } from "drizzle-orm";
 import type { ApiPhoto } from "@/lib/photos/rules";
 import { db } from "../client";
-import { comments, uploads, users } from "../schema";
+import { checks, comments, uploads, users } from "../schema";
 import { versioned } from "../versions";
 
 const apiColumns = {
@@ -46,4 +46,18 @@ export async function insertPhoto(p: typeof uploads.$inferInsert) {
 
 export async function deletePhoto(id: string) {
   await db().delete(uploads).where(eq(uploads.id, id));
+}
+
+/** Of these object keys, the ones a photo row still names (the sweep keeps those). */
+export async function keysInUse(keys: string[]): Promise<Set<string>> {
+  if (keys.length === 0) return new Set();
+  const rows = await db().select({ k: uploads.objectKey }).from(uploads).where(inArray(uploads.objectKey, keys));
+  return new Set(rows.map((r) => r.k));
+}
+
+/** Of these check ids, the ones that still exist. */
+export async function checksThatExist(ids: string[]): Promise<Set<string>> {
+  if (ids.length === 0) return new Set();
+  const rows = await db().select({ id: checks.id }).from(checks).where(inArray(checks.id, ids));
+  return new Set(rows.map((r) => r.id));
 }

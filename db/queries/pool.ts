@@ -5,7 +5,7 @@ import { toNm } from "@/lib/lash";
 import { HOLDING, MOVES, type ApiBorrow, type ApiOffer, type BorrowInput, type BorrowMove, type OfferInput } from "@/lib/pool/rules";
 import { notFound, refused, DomainError } from "@/lib/errors";
 import { db, type Executor, type Tx } from "../client";
-import { borrowRequests, poolOffers, trayItems, users } from "../schema";
+import { borrowRequests, checks, poolOffers, trayItems, users } from "../schema";
 
 /**
  * The club pool's rows. Every write takes the caller's transaction and change version (the REST
@@ -96,6 +96,11 @@ export async function askBorrow(tx: Tx, version: number, borrowerId: string, a: 
   if (dup) {
     if (dup.borrowerId !== borrowerId) throw notFound("request");
     return null; // the same request sent again
+  }
+  if (a.checkId) {
+    // the lender is shown which check asks: it must be the asker's own, never someone else's
+    const [c] = await tx.select({ ownerId: checks.ownerId }).from(checks).where(eq(checks.id, a.checkId)).limit(1);
+    if (!c || c.ownerId !== borrowerId) throw notFound("check");
   }
   const [o] = await tx.select().from(poolOffers).where(eq(poolOffers.id, a.offerId)).limit(1).for("update");
   if (!o || o.withdrawnAt || !(await isMember(o.clubId))) throw new DomainError("not_found", "That offer is no longer there");

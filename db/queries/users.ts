@@ -13,13 +13,16 @@ export async function getPublicUser(id: string): Promise<PublicUser | undefined>
   return u;
 }
 
-/** For the sign-in check only: includes the hash, so it never leaves server/auth. */
+const credentialColumns = { id: users.id, email: users.email, name: users.name, passwordHash: users.passwordHash, emailVerifiedAt: users.emailVerifiedAt, sessionGeneration: users.sessionGeneration };
+
+/** For the sign-in check and account flows only: includes the hash, so it never leaves server/. */
 export async function getCredentialsByEmail(email: string) {
-  const [u] = await db()
-    .select({ id: users.id, email: users.email, name: users.name, passwordHash: users.passwordHash, emailVerifiedAt: users.emailVerifiedAt, sessionGeneration: users.sessionGeneration })
-    .from(users)
-    .where(eq(users.email, email))
-    .limit(1);
+  const [u] = await db().select(credentialColumns).from(users).where(eq(users.email, email)).limit(1);
+  return u;
+}
+
+export async function getCredentialsById(id: string) {
+  const [u] = await db().select(credentialColumns).from(users).where(eq(users.id, id)).limit(1);
   return u;
 }
 
@@ -44,26 +47,41 @@ export async function createUser(input: { email: string; name: string; passwordH
   return id;
 }
 
-export async function updateUser(id: string, patch: Partial<{ name: string; displayUnit: "mm" | "in"; noticesByEmail: boolean; passwordHash: string; emailVerifiedAt: Date }>) {
+export async function updateUser(id: string, patch: Partial<{ name: string; displayUnit: "mm" | "in"; noticesByEmail: boolean; passwordHash: string | null; emailVerifiedAt: Date }>) {
   await db().update(users).set(patch).where(eq(users.id, id));
 }
 
+type TokenPurpose = "verify" | "reset" | "signin";
 const hashToken = (raw: string) => createHash("sha256").update(raw).digest("hex");
 
 /** A one-time token for a link in an e-mail; only its hash is stored. */
-export async function createAuthToken(userId: string, purpose: "verify" | "reset" | "signin", ttlMinutes: number): Promise<string> {
+export async function createAuthToken(userId: string, purpose: TokenPurpose, ttlMinutes: number): Promise<string> {
   const raw = randomBytes(32).toString("base64url");
   await db().insert(authTokens).values({ userId, purpose, tokenHash: hashToken(raw), expiresAt: new Date(Date.now() + ttlMinutes * 60_000) });
   return raw;
 }
 
-/** Use a token once: the update that marks it used is the check, so two racing uses cannot both win. */
-export async function consumeAuthToken(raw: string, purpose: "verify" | "reset" | "signin"): Promise<string | null> {
+/**
+ * Use a token once: the update that marks it used is the check, so two racing uses cannot both win.
+ * With `onlyFor`, a token of another user is left unused and answers "other".
+ */
+export async function consumeAuthToken(raw: string, purpose: TokenPurpose, opts: { onlyFor?: string } = {}): Promise<string | "other" | null> {
   const tokenHash = hashToken(raw);
   const where = and(eq(authTokens.tokenHash, tokenHash), eq(authTokens.purpose, purpose), isNull(authTokens.usedAt), gt(authTokens.expiresAt, new Date()));
+  if (opts.onlyFor) {
+    const owner = await tokenOwner(raw, purpose);
+    if (owner && owner !== opts.onlyFor) return "other";
+  }
   const [res] = await db().update(authTokens).set({ usedAt: new Date() }).where(where);
   if (res.affectedRows !== 1) return null;
   const [row] = await db().select({ userId: authTokens.userId }).from(authTokens).where(eq(authTokens.tokenHash, tokenHash)).limit(1);
+  return row?.userId ?? null;
+}
+
+/** Whose a usable token is, without using it (the sign-in link page names the account first). */
+export async function tokenOwner(raw: string, purpose: TokenPurpose): Promise<string | null> {
+  const where = and(eq(authTokens.tokenHash, hashToken(raw)), eq(authTokens.purpose, purpose), isNull(authTokens.usedAt), gt(authTokens.expiresAt, new Date()));
+  const [row] = await db().select({ userId: authTokens.userId }).from(authTokens).where(where).limit(1);
   return row?.userId ?? null;
 }
 

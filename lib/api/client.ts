@@ -123,6 +123,7 @@ export const mutations = {
   resendVerification: (email: string) => apiFetch<{ message: string }>("/api/account/verify/resend", { method: "POST", body: { email } }),
   requestReset: (email: string) => apiFetch<{ message: string }>("/api/account/password-reset", { method: "POST", body: { email } }),
   setPassword: (token: string, password: string) => apiFetch("/api/account/password", { method: "POST", body: { token, password } }),
+  linkAccount: (token: string) => apiFetch<{ account: { email: string } }>("/api/account/sign-in-link/account", { method: "POST", body: { token } }),
   requestLink: (email: string) => apiFetch<{ message: string }>("/api/account/sign-in-link", { method: "POST", body: { email } }),
   createClub: (name: string) => apiFetch<{ club: ClubSummary }>("/api/clubs", { method: "POST", body: { name } }),
   invite: (clubId: string, email: string, role: string) => apiFetch(`/api/clubs/${clubId}/invites`, { method: "POST", body: { email, role } }),

@@ -34,8 +34,13 @@ export class Client {
     return [...this.cookies.keys()];
   }
 
-  async raw(method: string, path: string, init: { body?: string; headers?: Record<string, string> } = {}) {
-    const res = await fetch(this.base + path, { method, redirect: "manual", headers: { cookie: this.cookieHeader(), ...(init.headers ?? {}) }, body: init.body });
+  /** Sent on every request, as a browser sends it from the app's own pages (a test may override it). */
+  private origin() {
+    return { cookie: this.cookieHeader(), origin: this.base };
+  }
+
+  async raw(method: string, path: string, init: { body?: BodyInit; headers?: Record<string, string> } = {}) {
+    const res = await fetch(this.base + path, { method, redirect: "manual", headers: { ...this.origin(), ...(init.headers ?? {}) }, body: init.body, duplex: "half" } as RequestInit);
     this.remember(res);
     return res;
   }
@@ -46,7 +51,7 @@ export class Client {
 
   /** A multipart form, as the phone sends photos. */
   async form(method: string, path: string, form: FormData) {
-    const res = await fetch(this.base + path, { method, redirect: "manual", headers: { cookie: this.cookieHeader() }, body: form });
+    const res = await fetch(this.base + path, { method, redirect: "manual", headers: this.origin(), body: form });
     this.remember(res);
     return answer(res);
   }
@@ -58,10 +63,10 @@ export class Client {
   del = (p: string) => this.call("DELETE", p);
 
   /** Sign in with a next-auth credentials provider; returns the error code, or null on success. */
-  async signIn(provider: "password" | "email-link", fields: Record<string, string>): Promise<string | null> {
+  async signIn(provider: "password" | "email-link", fields: Record<string, string>, headers: Record<string, string> = {}): Promise<string | null> {
     const csrf = await this.call("GET", "/api/auth/csrf");
     const form = new URLSearchParams({ ...fields, csrfToken: csrf.json.csrfToken as string, json: "true" });
-    const res = await this.raw("POST", `/api/auth/callback/${provider}`, { body: form.toString(), headers: { "content-type": "application/x-www-form-urlencoded" } });
+    const res = await this.raw("POST", `/api/auth/callback/${provider}`, { body: form.toString(), headers: { "content-type": "application/x-www-form-urlencoded", ...headers } });
     const body = (await res.json().catch(() => ({}))) as { url?: string };
     const error = body.url ? new URL(body.url).searchParams.get("error") : "no-url";
     return error;

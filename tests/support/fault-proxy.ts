@@ -51,7 +51,7 @@ export async function startFaultProxy(target: string, seed: number): Promise<Fau
     for await (const c of req) chunks.push(c as Buffer);
     const body = Buffer.concat(chunks);
     const headers: Record<string, string> = {};
-    for (const h of ["content-type", "cookie"]) if (req.headers[h]) headers[h] = String(req.headers[h]);
+    for (const h of ["content-type", "cookie", "sec-fetch-site"]) if (req.headers[h]) headers[h] = String(req.headers[h]);
     const fault = pick();
     const delayMs = fault === "delay" ? uniformInt(rng, 20, 400) : 0;
     const replayMs = fault === "late-replay" ? uniformInt(rng, 100, 1500) : 0;

@@ -20,6 +20,8 @@ export interface App {
   stop(): Promise<void>;
   restart(): Promise<void>;
   output(): string;
+  /** the server process, for reading its memory from /proc */
+  pid(): number;
 }
 
 // A child killed by a signal keeps exitCode null: look at signalCode too.
@@ -61,5 +63,5 @@ export async function startApp(extraEnv: Record<string, string> = {}): Promise<A
       child.kill("SIGTERM");
     });
   await boot();
-  return { url, port, stop, restart: async () => (await stop(), await boot()), output: () => out };
+  return { url, port, stop, restart: async () => (await stop(), await boot()), output: () => out, pid: () => child.pid! };
 }

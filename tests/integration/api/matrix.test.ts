@@ -22,6 +22,7 @@ interface Ids {
   photoId: string;
   offerId: string;
   borrowId: string;
+  inviteId: string;
 }
 
 interface Row {
@@ -75,7 +76,7 @@ beforeAll(async () => {
   await addMembership(clubId, member.id, ["mechanic"]);
   photo = await cameraJpeg(320, 240);
   const photoId = (await o.form("POST", `/api/checks/${checkId}/photos`, photoForm(photo))).json.photo.id as string;
-  ids = { engineId, checkId, shareId, trayId, clubId, memberId: member.id, photoId, offerId: "", borrowId: "" };
+  ids = { engineId, checkId, shareId, trayId, clubId, memberId: member.id, photoId, offerId: "", borrowId: "", inviteId: "" };
   Object.assign(ids, await freshLoan());
 });
 afterAll(() => app?.stop());
@@ -98,6 +99,7 @@ const freshLoan = async () => {
 };
 const freshPhoto = async () => ({ photoId: (await clients.owner.form("POST", `/api/checks/${ids.checkId}/photos`, photoForm(photo))).json.photo.id as string });
 const rand = () => crypto.randomUUID().slice(0, 8);
+const freshInvite = async () => ({ inviteId: (await clients.admin.post(`/api/clubs/${ids.clubId}/invites`, { email: `fresh-inv-${rand()}@test.example`, role: "mechanic" })).json.invite.id as string });
 const OWNER_ONLY = { owner: 0, others: 404, anon: 401 };
 const CHECK_READ = { owner: 200, mentor: 200, others: 404, anon: 401 };
 const CHECK_WRITE = (ok: number) => ({ owner: ok, mentor: 403, others: 404, anon: 401 });
@@ -108,6 +110,7 @@ const TABLE: Row[] = [
   { route: "POST /api/account/sign-up", path: () => "/api/account/sign-up", body: () => ({ email: `m-${rand()}@test.example`, name: "M", password: "matrix-pass-123" }), expect: PUBLIC(202), bad: { as: "anon", body: { email: "x@test.example", name: "M", password: "1" }, field: "password" } },
   { route: "POST /api/account/verify", path: () => "/api/account/verify", body: () => ({ token: "A".repeat(43) }), expect: PUBLIC(400), bad: { as: "anon", body: { token: "<script>" }, field: "token" } },
   { route: "POST /api/account/verify/resend", path: () => "/api/account/verify/resend", body: () => ({ email: `r-${rand()}@test.example` }), expect: PUBLIC(202), bad: { as: "anon", body: { email: "not an address" }, field: "email" } },
+  { route: "POST /api/account/sign-in-link/account", path: () => "/api/account/sign-in-link/account", body: () => ({ token: "D".repeat(43) }), expect: PUBLIC(400), bad: { as: "anon", body: { token: "<script>" }, field: "token" } },
   { route: "POST /api/account/password-reset", path: () => "/api/account/password-reset", body: () => ({ email: `n-${rand()}@test.example` }), expect: PUBLIC(202), bad: { as: "anon", body: { email: 42 }, field: "email" } },
   { route: "POST /api/account/password", path: () => "/api/account/password", body: () => ({ token: "B".repeat(43), password: "new-pass-12345" }), expect: PUBLIC(400), bad: { as: "anon", body: { token: "B".repeat(43) }, field: "password" } },
   { route: "POST /api/account/sign-in-link", path: () => "/api/account/sign-in-link", body: () => ({ email: `l-${rand()}@test.example` }), expect: PUBLIC(202), bad: { as: "anon", body: {}, field: "email" } },
@@ -164,6 +167,8 @@ const TABLE: Row[] = [
   { route: "DELETE /api/clubs/:clubId/members/:userId", path: (i) => `/api/clubs/${i.clubId}/members/${i.memberId}`, fresh: freshMember, expect: { admin: 204, owner: 403, mentor: 403, others: 404, anon: 401 } },
   { route: "GET /api/clubs/:clubId/invites", path: (i) => `/api/clubs/${i.clubId}/invites`, expect: { admin: 200, owner: 403, mentor: 403, others: 404, anon: 401 } },
   { route: "POST /api/clubs/:clubId/invites", path: (i) => `/api/clubs/${i.clubId}/invites`, body: () => ({ email: `inv-${rand()}@test.example`, role: "mentor" }), expect: { admin: 201, owner: 403, mentor: 403, others: 404, anon: 401 }, bad: { as: "admin", body: { email: "nope" }, field: "email" } },
+  { route: "DELETE /api/clubs/:clubId/invites/:inviteId", path: (i) => `/api/clubs/${i.clubId}/invites/${i.inviteId}`, fresh: freshInvite, expect: { admin: 204, owner: 403, mentor: 403, others: 404, anon: 401 } },
+  { route: "GET /api/clubs/:clubId/log", path: (i) => `/api/clubs/${i.clubId}/log`, expect: { admin: 200, owner: 403, mentor: 403, others: 404, anon: 401 } },
   { route: "GET /api/clubs/:clubId/queue", path: (i) => `/api/clubs/${i.clubId}/queue`, expect: { mentor: 200, owner: 403, admin: 403, others: 404, anon: 401 } },
   { route: "GET /api/clubs/:clubId/pool", path: (i) => `/api/clubs/${i.clubId}/pool`, expect: { owner: 200, mentor: 200, admin: 200, others: 404, anon: 401 } },
   { route: "POST /api/clubs/:clubId/pool", path: (i) => `/api/clubs/${i.clubId}/pool`, body: () => ({ size: 2.6, count: 1 }), expect: { owner: 201, mentor: 409, admin: 409, others: 404, anon: 401 }, bad: { body: { size: -2.6, count: 1 }, field: "size" } },

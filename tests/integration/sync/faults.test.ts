@@ -64,7 +64,8 @@ function phone(name: string): Phone {
   return { name, db, engineId: crypto.randomUUID(), checkId, checkIds: [checkId], readings: 0, trayIds: [], commentIds: [], written: 0, syncErrors: 0 };
 }
 
-const fetcher = (url: string, init: RequestInit) => fetch(url, { ...init, headers: { ...(init.headers as Record<string, string>), cookie } });
+// the app's own pages send Sec-Fetch-Site: same-origin, as a browser does
+const fetcher = (url: string, init: RequestInit) => fetch(url, { ...init, headers: { ...(init.headers as Record<string, string>), cookie, "sec-fetch-site": "same-origin" } });
 
 async function trySync(p: Phone) {
   try {

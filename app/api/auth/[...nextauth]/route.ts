@@ -1,5 +1,24 @@
 import NextAuth from "next-auth";
+import { NextRequest, NextResponse } from "next/server";
 import { authOptions } from "@/server/auth";
+import { BodyTooLarge, readBody, sameOriginRefusal } from "@/server/request-guard";
 
 const handler = NextAuth(authOptions);
-export { handler as GET, handler as POST };
+
+// next-auth's forms are a few fields: 16 KiB is ample, and the body is counted before next-auth reads it
+const MAX_AUTH_BODY = 16 * 1024;
+
+async function post(req: NextRequest, ctx: { params: Promise<{ nextauth: string[] }> }) {
+  const refused = sameOriginRefusal(req);
+  if (refused) return NextResponse.json({ error: { code: refused.extra.code, message: refused.message } }, { status: 403 });
+  let body: Uint8Array<ArrayBuffer>;
+  try {
+    body = await readBody(req, MAX_AUTH_BODY);
+  } catch (e) {
+    if (e instanceof BodyTooLarge) return NextResponse.json({ error: { code: "too_large", message: e.message } }, { status: 413 });
+    throw e;
+  }
+  return handler(new NextRequest(req.url, { method: "POST", headers: req.headers, body }), ctx);
+}
+
+export { handler as GET, post as POST };

@@ -3,6 +3,7 @@ import { z } from "zod";
 import { route, uuidParam } from "@/server/http";
 import { readableCheck } from "@/server/access";
 import { uploadPhoto } from "@/server/photos";
+import { readForm } from "@/server/request-guard";
 import { listPhotos } from "@/db/queries/photos";
 import { db } from "@/db/client";
 
@@ -14,10 +15,10 @@ export const GET = route({ params }, async ({ user, params }) => {
 });
 
 /** A multipart form: file, id (the phone's own uuid, so a retry is harmless), valve?, commentId?. */
-export const POST = route({ params }, async ({ user, params, req }) => {
+export const POST = route({ params, multipart: true }, async ({ user, params, req }) => {
   const { photo, created } = await uploadPhoto(user, params.checkId, {
     bytes: Number(req.headers.get("content-length") ?? 0),
-    read: () => req.formData(),
+    read: (limit) => readForm(req, limit),
   });
   return NextResponse.json({ photo }, { status: created ? 201 : 200 });
 });

@@ -11,17 +11,17 @@ import type { Tx } from "@/db/client";
 const params = z.object({ clubId: uuidParam, userId: uuidParam });
 
 /** Change a member's roles in one transaction with the checks, so two admins cannot both step down. */
-async function changeRoles(tx: Tx, clubId: string, userId: string, roles: Role[]) {
+async function changeRoles(tx: Tx, clubId: string, userId: string, roles: Role[], actorId: string) {
   const have = await rolesInClub(tx, userId, clubId);
   if (have.length === 0) throw notFound("member");
   if (have.includes("admin") && !roles.includes("admin") && (await countAdmins(tx, clubId)) <= 1) throw conflict("A club needs at least one admin");
-  await setRoles(tx, clubId, userId, roles);
+  await setRoles(tx, clubId, userId, roles, actorId);
 }
 
 export const PUT = route({ params, body: rolesInput }, async ({ user, params, body }) => ({
   member: await write(user, async (w) => {
     await clubRole(w.tx, user, params.clubId, "admin");
-    await changeRoles(w.tx, params.clubId, params.userId, body.roles);
+    await changeRoles(w.tx, params.clubId, params.userId, body.roles, user.id);
     return (await listMembers(w.tx, params.clubId)).find((m) => m.userId === params.userId);
   }),
 }));
@@ -29,6 +29,6 @@ export const PUT = route({ params, body: rolesInput }, async ({ user, params, bo
 export const DELETE = route({ params, status: 204 }, async ({ user, params }) => {
   await write(user, async (w) => {
     await clubRole(w.tx, user, params.clubId, "admin");
-    await changeRoles(w.tx, params.clubId, params.userId, []);
+    await changeRoles(w.tx, params.clubId, params.userId, [], user.id);
   });
 });

@@ -1,0 +1,78 @@
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import type { Browser, Page } from "playwright-core";
+import { baseUrl, DEMO_PASSWORD, launch, phoneContext, signInAs } from "../support/browser";
+import { linkToken, waitForMail } from "../support/mail";
+
+/**
+ * The attacks of issue 15 that need a real browser. OWASP ASVS 5.0 V3 Web Frontend Security
+ * (redirects), V7 Session Management (login forgery, sign-out). Demo users from db/seed.ts.
+ */
+let browser: Browser;
+beforeAll(async () => {
+  browser = await launch();
+});
+afterAll(() => browser?.close());
+
+async function fillSignIn(page: Page, email: string) {
+  await page.getByLabel("E-mail").fill(email);
+  await page.getByLabel("Password").fill(DEMO_PASSWORD);
+  await page.getByRole("button", { name: "Sign in", exact: true }).tap();
+}
+
+async function signInLink(email: string) {
+  const res = await fetch(`${baseUrl()}/api/account/sign-in-link`, { method: "POST", headers: { "content-type": "application/json", origin: baseUrl() }, body: JSON.stringify({ email }) });
+  expect(res.status).toBe(202);
+  return `${baseUrl()}/sign-in/link?token=${encodeURIComponent(linkToken(await waitForMail(email, /sign-in link/), "/sign-in/link"))}`;
+}
+
+describe("open redirect after sign-in", () => {
+  it("next=/\\evil.example lands on our own engines, and next=/check?id=... keeps its query string", async () => {
+    const ctx = await phoneContext(browser);
+    const page = await ctx.newPage();
+    await page.goto(`${baseUrl()}/sign-in?next=${encodeURIComponent("/\\evil.example/steal")}`);
+    await fillSignIn(page, "mara@kestrel-hollow.example");
+    await page.waitForURL("**/engines");
+    expect(new URL(page.url()).origin).toBe(baseUrl());
+    await ctx.close();
+
+    // signed out on /check?id=X, the sign-in button comes back to the same check
+    const ctx2 = await phoneContext(browser);
+    const page2 = await ctx2.newPage();
+    const id = crypto.randomUUID();
+    await page2.goto(`${baseUrl()}/check?id=${id}`);
+    await page2.getByRole("link", { name: "Sign in" }).tap();
+    await page2.waitForURL("**/sign-in?next=*");
+    await fillSignIn(page2, "mara@kestrel-hollow.example");
+    await page2.waitForURL(`**/check?id=${id}`);
+    await ctx2.close();
+  });
+});
+
+describe("login forgery through a sign-in link", () => {
+  it("the link page names the account and waits for a press; with someone else signed in it refuses", async () => {
+    const ctx = await phoneContext(browser);
+    const page = await ctx.newPage();
+    await signInAs(page, "mara@kestrel-hollow.example");
+    // a link for another account, opened on Mara's phone: refused until she signs out
+    await page.goto(await signInLink("teodor@kestrel-hollow.example"));
+    await page.getByText(/This phone is signed in as mara@kestrel-hollow\.example, and the link is for teodor@kestrel-hollow\.example/).waitFor();
+    await page.screenshot({ path: "test-results/sign-in-link-refused.png" });
+    await page.goto(`${baseUrl()}/engines`);
+    await page.getByRole("button", { name: /Sign out Mara/ }).waitFor();
+    await ctx.close();
+
+    // on a phone with nobody signed in, nothing happens before the press on the named button
+    const ctx2 = await phoneContext(browser);
+    const page2 = await ctx2.newPage();
+    await page2.goto(await signInLink("teodor@kestrel-hollow.example"));
+    const button = page2.getByRole("button", { name: "Sign in as teodor@kestrel-hollow.example" });
+    await button.waitFor();
+    const session = await page2.evaluate(() => fetch("/api/auth/session").then((r) => r.json()));
+    expect(session).toEqual({});
+    await page2.screenshot({ path: "test-results/sign-in-link-named.png" });
+    await button.tap();
+    await page2.waitForURL("**/engines");
+    await page2.getByRole("button", { name: /Sign out Teodor/ }).waitFor();
+    await ctx2.close();
+  });
+});
