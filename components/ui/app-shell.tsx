@@ -30,7 +30,9 @@ export function AppShell({ title, children, back }: { title: string; children: R
     const { signOut: endSession } = await import("next-auth/react");
     await endSession({ redirect: false }).catch(() => undefined);
     await forget(); // again: a copy of the kept queries may have been written meanwhile
-    window.location.assign("/");
+    // a full load, not a client navigation: nothing of this user stays in the page's memory either
+    // eslint-disable-next-line @next/next/no-location-assign-relative-destination
+    window.location.href = "/";
   };
   return (
     <div className="mx-auto flex min-h-dvh max-w-xl flex-col">
