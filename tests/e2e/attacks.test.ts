@@ -76,3 +76,50 @@ describe("login forgery through a sign-in link", () => {
     await ctx2.close();
   });
 });
+
+describe("signing out on a shared phone", () => {
+  it("warns while changes wait, then leaves none of the user's data on the phone", async () => {
+    const ctx = await phoneContext(browser);
+    const page = await ctx.newPage();
+    await signInAs(page, "mara@kestrel-hollow.example");
+    // the phone stores who is signed in once the server has answered
+    await page.waitForFunction(() => localStorage.getItem("lashwright.user") !== null);
+    const userId = await page.evaluate(() => (JSON.parse(localStorage.getItem("lashwright.user")!) as { id: string }).id);
+    // the club page's answers are kept on the phone (the copies other members' shared checks live in)
+    await page.getByRole("link", { name: /Club/ }).tap();
+    await page.getByText(/Kestrel Hollow/).first().waitFor();
+    const stores = () =>
+      page.evaluate(async (id) => {
+        const names = (await indexedDB.databases()).map((d) => d.name);
+        const kept = await new Promise<boolean>((resolve) => {
+          const open = indexedDB.open("keyval-store");
+          open.onsuccess = () => {
+            const db = open.result;
+            if (!db.objectStoreNames.contains("keyval")) return resolve(false);
+            const get = db.transaction("keyval").objectStore("keyval").getKey(`lashwright-cache-${id}`);
+            get.onsuccess = () => resolve(get.result !== undefined);
+            get.onerror = () => resolve(false);
+          };
+          open.onerror = () => resolve(false);
+        });
+        return { local: names.includes(`lashwright-${id}`), kept, identity: localStorage.getItem("lashwright.user") !== null };
+      }, userId);
+    await expect.poll(stores, { timeout: 10_000 }).toEqual({ local: true, kept: true, identity: true });
+
+    // a change that cannot reach the server: signing out first says so, and "cancel" keeps everything
+    await page.route("**/api/sync/**", (r) => r.abort());
+    await page.getByRole("link", { name: /Tray/ }).tap();
+    await page.getByRole("button", { name: /^One more/ }).first().tap();
+    await page.getByText(/1 change waiting/).waitFor();
+    const dismissed = new Promise<string>((resolve) => page.once("dialog", (d) => (resolve(d.message()), void d.dismiss())));
+    await page.getByRole("button", { name: /Sign out Mara/ }).tap();
+    expect(await dismissed).toMatch(/1 change on this phone is not on the server yet/);
+    expect(await stores()).toEqual({ local: true, kept: true, identity: true });
+
+    page.once("dialog", (d) => void d.accept());
+    await page.getByRole("button", { name: /Sign out Mara/ }).tap();
+    await page.waitForURL(`${baseUrl()}/`);
+    await expect.poll(stores, { timeout: 10_000 }).toEqual({ local: false, kept: false, identity: false });
+    await ctx.close();
+  });
+});
