@@ -77,8 +77,8 @@ export function route<P extends z.ZodType = z.ZodType<Record<string, never>>, Q 
   return async (req: NextRequest, ctx: { params: Promise<Record<string, string | string[]>> }) => {
     const requestId = crypto.randomUUID().slice(0, 8);
     try {
-      const refused = sameOriginRefusal(req) ?? (opts.body ? contentTypeRefusal(req, "json") : opts.multipart ? contentTypeRefusal(req, "multipart") : null);
-      if (refused) throw refused;
+      const crossSite = sameOriginRefusal(req);
+      if (crossSite) throw crossSite;
       const user = await currentUser();
       if (opts.auth !== false && !user) return errorResponse(401, "unauthorized", "Sign in first");
       const rawParams = ctx?.params ? await ctx.params : {};
@@ -87,6 +87,9 @@ export function route<P extends z.ZodType = z.ZodType<Record<string, never>>, Q 
       if (!params.success) return errorResponse(404, "not_found", "No such record");
       const query = opts.query ? opts.query.safeParse(Object.fromEntries(req.nextUrl.searchParams)) : { success: true as const, data: {} };
       if (!query.success) return errorResponse(422, "invalid", "The query string is not valid", fieldsFromZod(query.error));
+      // after the ids, so a hostile id answers 404 whatever was sent; before anything is read
+      const wrongType = opts.body ? contentTypeRefusal(req, "json") : opts.multipart ? contentTypeRefusal(req, "multipart") : null;
+      if (wrongType) throw wrongType;
       let body: unknown = undefined;
       if (opts.body) {
         const text = new TextDecoder().decode(await readBody(req, MAX_BODY_BYTES));

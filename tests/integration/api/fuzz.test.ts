@@ -34,6 +34,7 @@ const EXAMPLES: Record<string, (i: Ids) => unknown> = {
   "POST /api/account/password-reset": () => ({ email: "fuzz@test.example" }),
   "POST /api/account/password": () => ({ token: "B".repeat(43), password: "long-enough-2" }),
   "POST /api/account/sign-in-link": () => ({ email: "fuzz@test.example" }),
+  "POST /api/account/sign-in-link/account": () => ({ token: "B".repeat(43) }),
   "PATCH /api/account": () => ({ name: "Fuzz", displayUnit: "mm", noticesByEmail: true }),
   "POST /api/engines": () => ENGINE_FOUR,
   "PATCH /api/engines/:engineId": () => ({ name: "Renamed", intake: { min: 0.1, max: 0.2 }, cylinders: 4 }),
