@@ -66,8 +66,6 @@ interface RouteOptions<P extends z.ZodType, Q extends z.ZodType, B extends z.Zod
   auth?: A;
   /** status of a successful answer (default 200; 204 sends no body) */
   status?: number;
-  /** the handler reads a multipart form itself (photos): its content type is checked here */
-  multipart?: boolean;
 }
 
 export function route<P extends z.ZodType = z.ZodType<Record<string, never>>, Q extends z.ZodType = z.ZodType<Record<string, never>>, B extends z.ZodType = z.ZodType<undefined>, A extends boolean = true>(
@@ -88,7 +86,7 @@ export function route<P extends z.ZodType = z.ZodType<Record<string, never>>, Q 
       const query = opts.query ? opts.query.safeParse(Object.fromEntries(req.nextUrl.searchParams)) : { success: true as const, data: {} };
       if (!query.success) return errorResponse(422, "invalid", "The query string is not valid", fieldsFromZod(query.error));
       // after the ids, so a hostile id answers 404 whatever was sent; before anything is read
-      const wrongType = opts.body ? contentTypeRefusal(req, "json") : opts.multipart ? contentTypeRefusal(req, "multipart") : null;
+      const wrongType = opts.body ? contentTypeRefusal(req, "json") : null;
       if (wrongType) throw wrongType;
       let body: unknown = undefined;
       if (opts.body) {

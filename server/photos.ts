@@ -54,6 +54,7 @@ export async function uploadPhoto(user: SessionUser, checkId: string, body: { by
     form = await body.read(limit);
   } catch (e) {
     if (e instanceof BodyTooLarge) throw tooLarge();
+    if (e instanceof DomainError) throw e;
     throw new DomainError("bad_request", "Send the photo as a multipart form", { code: "bad_form" });
   }
   const file = form.get("file");

@@ -78,8 +78,10 @@ export async function readBody(req: Request, limit: number): Promise<Uint8Array<
   return out;
 }
 
-/** A multipart form read within `limit` bytes (the photo route's). */
-export async function readForm(req: Request, limit: number): Promise<FormData> {
+/** A multipart form (and nothing else) read within `limit` bytes: the photo route's, after its access check. */
+export async function readForm(req: NextRequest, limit: number): Promise<FormData> {
+  const wrongType = contentTypeRefusal(req, "multipart");
+  if (wrongType) throw wrongType;
   const bytes = await readBody(req, limit);
   return new Response(bytes, { headers: { "content-type": req.headers.get("content-type") ?? "" } }).formData();
 }

@@ -15,7 +15,7 @@ export const GET = route({ params }, async ({ user, params }) => {
 });
 
 /** A multipart form: file, id (the phone's own uuid, so a retry is harmless), valve?, commentId?. */
-export const POST = route({ params, multipart: true }, async ({ user, params, req }) => {
+export const POST = route({ params }, async ({ user, params, req }) => {
   const { photo, created } = await uploadPhoto(user, params.checkId, {
     bytes: Number(req.headers.get("content-length") ?? 0),
     read: (limit) => readForm(req, limit),
