@@ -1,0 +1,16 @@
+// Types for the parts of galera.mjs that the cluster tests use.
+export interface ClusterNode {
+  name: string;
+  dir: string;
+  port: number;
+}
+export interface ClusterSpec {
+  name: string;
+  database: string;
+  nodes: ClusterNode[];
+  urls: string[];
+}
+export function startNode(spec: ClusterSpec, i: number, opts?: { bootstrap?: boolean; timeoutMs?: number }): Promise<number>;
+export function stopNode(spec: ClusterSpec, i: number, opts?: { timeoutMs?: number }): Promise<void>;
+export function killNode(spec: ClusterSpec, i: number): Promise<void>;
+export function waitClusterSynced(spec: ClusterSpec, timeoutMs?: number): Promise<void>;
