@@ -1,11 +1,12 @@
 "use client";
 
+import Link from "next/link";
 import { useSearchParams } from "next/navigation";
 import { useCallback, useState } from "react";
 import { LashInputError, workOrder, type ShimPlan } from "@/lib/lash";
 import { checkPlan } from "@/lib/check/derive";
 import { poolForEngine } from "@/lib/check/pool";
-import { beginFit, setCheckStatus } from "@/lib/sync/writes";
+import { beginFit, saveEngine, setCheckStatus } from "@/lib/sync/writes";
 import { usePool } from "@/components/pool/use-pool";
 import { AskReview } from "@/components/review/ask-review";
 import { useLocal } from "@/components/sync/local-provider";
@@ -29,7 +30,16 @@ export function CheckScreen() {
   const data = useCheckData(id);
 
   if (data === undefined) return null;
-  if (data === null) return <Notice tone="error">This check is not on this phone.</Notice>;
+  if (data === null)
+    return (
+      <div className="flex flex-col gap-3">
+        <Notice tone="error">This check is not on this phone.</Notice>
+        {/* a check another member shared with the club is read as a review, not kept on this phone */}
+        <Link href={`/review?id=${id}`} className="inline-flex min-h-12 items-center justify-center self-start rounded-xl border-2 border-line px-5 text-lg font-bold">
+          Open it as a club review
+        </Link>
+      </div>
+    );
   return (
     <CheckBody
       key={id}
@@ -53,7 +63,8 @@ function CheckBody({ data, step, go }: { data: CheckData; step?: Step; go: (s: S
   const fit = poolForEngine(engine, pool.offeredToMe, user?.id ?? "");
   const { sizes, seriesStep, views } = useCheckModel(data);
   const save = useSaveReading(check.id);
-  const [mirrored, setMirrored] = useState(engine.mirrored);
+  // which way the engine faces is part of its profile: saved, synced, and the same for the mentor
+  const turn = () => db && void saveEngine(db, { ...engine, mirrored: !engine.mirrored });
   const current: Step = step ?? (check.status === "closed" ? "plan" : readings.length ? "measure" : "prepare");
   let plan: ShimPlan | null = null;
   let planError: string | null = null;
@@ -87,7 +98,7 @@ function CheckBody({ data, step, go }: { data: CheckData; step?: Step; go: (s: S
         {engine.name} · {check.odometer.toLocaleString("en")} {engine.odometerUnit} · measure {check.measuredHot ? "hot" : "cold"}
       </p>
       {current === "prepare" && <PrepareStep checkId={check.id} onDone={() => go("measure")} />}
-      {current === "measure" && <MeasureStep engine={engine} views={views} sizes={sizes} step={seriesStep} save={save} mirrored={mirrored} setMirrored={setMirrored} onDone={() => go("plan")} previous={previous} checkId={check.id} />}
+      {current === "measure" && <MeasureStep engine={engine} views={views} sizes={sizes} step={seriesStep} save={save} onTurn={turn} onDone={() => go("plan")} previous={previous} checkId={check.id} />}
       {current === "plan" && (
         <PlanStep
           engine={engine}
@@ -95,8 +106,7 @@ function CheckBody({ data, step, go }: { data: CheckData; step?: Step; go: (s: S
           views={views}
           plan={plan}
           error={planError}
-          mirrored={mirrored}
-          setMirrored={setMirrored}
+          onTurn={turn}
           onFit={() => {
             startFit();
             go("fit");

@@ -14,7 +14,7 @@ import { PlanTable } from "./plan-table";
 import { CAUTIONS } from "./steps";
 
 /** Step 3: the diagram, the plan per valve, the buy list, borrowing, what goes back to the tray, print and CSV. */
-export function PlanStep({ engine, check, views, plan, error, mirrored, setMirrored, onFit, pool, fit }: { engine: LocalEngine; check: LocalCheck; views: ValveView[]; plan: ShimPlan | null; error: string | null; mirrored: boolean; setMirrored: (m: boolean) => void; onFit?: () => void; pool?: ReturnType<typeof usePool>; fit?: PoolFit }) {
+export function PlanStep({ engine, check, views, plan, error, onTurn, onFit, pool, fit }: { engine: LocalEngine; check: LocalCheck; views: ValveView[]; plan: ShimPlan | null; error: string | null; onTurn: () => void; onFit?: () => void; pool?: ReturnType<typeof usePool>; fit?: PoolFit }) {
   const csv = useMemo(() => {
     if (typeof window === "undefined") return null;
     const date = new Date(check.startedAt).toISOString().slice(0, 10);
@@ -27,7 +27,7 @@ export function PlanStep({ engine, check, views, plan, error, mirrored, setMirro
   const changing = plan?.assignments.filter((a) => a.source.kind !== "keep").length ?? 0;
   return (
     <section className="flex flex-col gap-4" aria-label="Shim plan">
-      <EngineDiagram views={views} mirrored={mirrored} onMirror={setMirrored} />
+      <EngineDiagram views={views} mirrored={engine.mirrored} onTurn={onTurn} />
       {error && <Notice tone="error">{error}</Notice>}
       {!plan && !error && <Notice>Measure some valves first: the plan fills in as readings come in.</Notice>}
       {plan && (

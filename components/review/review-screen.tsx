@@ -3,6 +3,7 @@
 import { useQuery, useQueryClient } from "@tanstack/react-query";
 import { useLiveQuery } from "dexie-react-hooks";
 import { useSearchParams } from "next/navigation";
+import Link from "next/link";
 import { useMemo } from "react";
 import { formatLength } from "@/lib/lash";
 import { checkPlan, valveViews } from "@/lib/check/derive";
@@ -86,6 +87,11 @@ export function ReviewScreen() {
       <p className="figures text-ink-soft">
         {engine.name} · {check.data.check.odometer.toLocaleString("en")} {engine.odometerUnit} · {isMentor ? "read-only: you are reviewing" : "your check"}
       </p>
+      {!isMentor && (
+        <Link href={`/check?id=${id}`} className="inline-flex min-h-12 items-center justify-center self-start rounded-xl border-2 border-line px-5 text-lg font-bold">
+          Open the check to work on it
+        </Link>
+      )}
       <EngineDiagram views={views} mirrored={engine.mirrored} commentDots={dots} />
       <section aria-labelledby="readings-title" className="flex flex-col gap-2">
         <h2 id="readings-title" className="text-xl font-extrabold">
@@ -118,7 +124,7 @@ export function ReviewScreen() {
         <PhotoStrip checkId={id} valve={null} canAdd label="the whole check" />
       </section>
       {plan && <PlanTable engine={engine} plan={plan} byId={new Map(views.map((v) => [v.valve.id, v]))} />}
-      <section aria-labelledby="verdict-title" className="flex flex-col gap-2 rounded-2xl border-2 border-accent p-4">
+      <section id="verdict" aria-labelledby="verdict-title" className="flex scroll-mt-4 flex-col gap-2 rounded-2xl border-2 border-accent p-4">
         <h2 id="verdict-title" className="text-xl font-extrabold">
           Verdict
         </h2>

@@ -13,7 +13,7 @@ export const STATE_WORDS: Record<ValveState, { word: string; glyph: string }> = 
   tight: { word: "tight", glyph: "▼" },
   loose: { word: "loose", glyph: "▲" },
   fitted: { word: "re-measure", glyph: "↻" },
-  verified: { word: "verified", glyph: "✔" },
+  verified: { word: "verified", glyph: "✓✓" },
 };
 
 export interface ValveView {
