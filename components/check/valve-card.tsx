@@ -122,7 +122,7 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded 
         : "not measured yet";
 
   return (
-    <article id={`valve-${view.valve.id}`} aria-label={valveLabel(view.valve, per)} className="flex flex-col gap-3 rounded-2xl border border-line bg-surface p-3">
+    <article id={`valve-${view.valve.id}`} data-valve={view.valve.id} aria-label={valveLabel(view.valve, per)} className="flex flex-col gap-3 rounded-2xl border border-line bg-surface p-3">
       <header className="flex items-baseline justify-between">
         <h3 className="text-xl font-extrabold">{valveLabel(view.valve, per)}</h3>
         <span className="figures text-sm text-ink-soft">

@@ -5,7 +5,7 @@ import { useLiveQuery } from "dexie-react-hooks";
 import { useSearchParams } from "next/navigation";
 import Link from "next/link";
 import { useMemo } from "react";
-import { formatLength } from "@/lib/lash";
+import { valveRounds } from "@/lib/check/rounds";
 import { checkPlan, valveViews } from "@/lib/check/derive";
 import { VERDICTS, type Verdict } from "@/lib/check/verdicts";
 import { fetchers, queryKeys } from "@/lib/api/client";
@@ -71,6 +71,7 @@ export function ReviewScreen() {
   if (!engine || !views) return null;
   const share = shares.data?.find((s) => !s.withdrawnAt);
   const unit = engine.displayUnit;
+  const allReadings = (readings.data ?? []) as unknown as LocalReading[];
   const serverComments = comments.data ?? [];
   const known = new Set(serverComments.map((c) => c.id));
   const thread: ThreadComment[] = [
@@ -98,23 +99,22 @@ export function ReviewScreen() {
           Readings and how they were found
         </h2>
         <ul className="figures flex flex-col gap-1 text-base">
-          {views.map((v) => {
-            const r = v.latest;
-            const how = !r || r.measured == null ? "not measured" : r.method === "typed" ? `${formatLength(r.measured, unit)} typed` : `${formatLength(r.feelerGo ?? r.measured, unit)} goes${r.feelerNoGo != null ? `, ${formatLength(r.feelerNoGo, unit)} does not` : ""}`;
-            const shim = r?.installedMicrometer != null ? `${r.installedMicrometer.toFixed(3)} micrometer` : r?.installedStamp != null ? `${r.installedStamp.toFixed(2)} stamp` : "shim ?";
-            return (
-              <li key={v.valve.id} className="flex flex-col gap-1 border-b border-line py-1">
-                <div className="flex justify-between gap-2">
-                <strong>{v.valve.id}</strong>
-                <span className="text-right">
-                  {shim} · {how}
-                  {r && r.round > 0 ? ` (re-check ${r.round})` : ""}
-                </span>
-                </div>
-                <PhotoStrip checkId={id} valve={v.valve.id} canAdd={false} label={`valve ${v.valve.id}`} />
-              </li>
-            );
-          })}
+          {views.map((v) => (
+            <li key={v.valve.id} className="flex flex-col gap-1 border-b border-line py-1" data-testid={`rounds-${v.valve.id}`}>
+              <strong>{v.valve.id}</strong>
+              {/* every round, the first readings and each re-check, so the reviewer reads the whole story */}
+              <ol className="flex flex-col gap-0.5">
+                {valveRounds(allReadings, v.valve.id, unit).map((r) => (
+                  <li key={r.round} className="flex flex-wrap justify-between gap-x-2">
+                    <span className="text-ink-soft">{r.title}</span>
+                    <span className="text-right">{r.text}</span>
+                  </li>
+                ))}
+                {v.latest == null && <li className="text-ink-soft">not measured</li>}
+              </ol>
+              <PhotoStrip checkId={id} valve={v.valve.id} canAdd={false} label={`valve ${v.valve.id}`} />
+            </li>
+          ))}
         </ul>
       </section>
       <section aria-labelledby="photos-title" className="flex flex-col gap-2">
