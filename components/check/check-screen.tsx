@@ -4,13 +4,14 @@ import Link from "next/link";
 import { useSearchParams } from "next/navigation";
 import { useCallback, useState } from "react";
 import { LashInputError, workOrder, type ShimPlan } from "@/lib/lash";
-import { checkPlan } from "@/lib/check/derive";
-import { poolForEngine } from "@/lib/check/pool";
+import { checkPlan, DEFAULT_PLAN_OPTIONS, type PlanOptions } from "@/lib/check/derive";
+import { poolForEngine, trayForEngine } from "@/lib/check/pool";
 import { beginFit, saveEngine, setCheckStatus } from "@/lib/sync/writes";
 import { usePool } from "@/components/pool/use-pool";
 import { AskReview } from "@/components/review/ask-review";
 import { useLocal } from "@/components/sync/local-provider";
 import { Notice } from "@/components/ui/controls";
+import { useStored } from "@/components/ui/use-stored";
 import { FitStep } from "./fit-step";
 import { MeasureStep } from "./measure-step";
 import { PlanStep } from "./plan-step";
@@ -61,6 +62,9 @@ function CheckBody({ data, step, go }: { data: CheckData; step?: Step; go: (s: S
   const { db, user } = useLocal();
   const pool = usePool();
   const fit = poolForEngine(engine, pool.offeredToMe, user?.id ?? "");
+  const trayFit = trayForEngine(engine, tray);
+  // the plan's aim is the mechanic's choice for this engine, kept on this phone
+  const [options, setOptions] = useStored<PlanOptions>(`lashwright.plan.${engine.id}`, DEFAULT_PLAN_OPTIONS);
   const { sizes, seriesStep, views } = useCheckModel(data);
   const save = useSaveReading(check.id);
   // which way the engine faces is part of its profile: saved, synced, and the same for the mentor
@@ -70,7 +74,7 @@ function CheckBody({ data, step, go }: { data: CheckData; step?: Step; go: (s: S
   let planError: string | null = null;
   try {
     // the plan is worked out only for the steps that show it: a blade tap on Measure stays cheap
-    if (current === "plan" || current === "fit") plan = checkPlan(engine, views, tray, fit.pool);
+    if (current === "plan" || current === "fit") plan = checkPlan(engine, views, trayFit.usable, fit.pool, options);
   } catch (e) {
     planError = e instanceof LashInputError ? e.message : "The plan could not be worked out";
   }
@@ -113,6 +117,9 @@ function CheckBody({ data, step, go }: { data: CheckData; step?: Step; go: (s: S
           }}
           pool={pool}
           fit={fit}
+          options={options}
+          setOptions={setOptions}
+          trayOtherSystem={trayFit.otherSystem}
         />
       )}
       {current === "plan" && <AskReview checkId={check.id} />}

@@ -21,7 +21,10 @@ const PLACES = [
  */
 export function AppShell({ title, children, back }: { title: string; children: ReactNode; back?: { href: string; label: string } }) {
   const path = usePathname();
-  const { user, ready, forget } = useLocal();
+  const { user, ready, forget, state } = useLocal();
+  // nobody known on this phone yet: ask for a sign-in only once the server has said so (or cannot be
+  // reached), not in the moment just after signing in while the identity is still on its way
+  const answered = state === "signed-out" || state === "offline";
   return (
     <div className="mx-auto flex min-h-dvh max-w-xl flex-col">
       <a href="#content" className="sr-only focus:not-sr-only focus:absolute focus:top-2 focus:left-2 focus:z-50 focus:inline-flex focus:min-h-12 focus:items-center focus:rounded-xl focus:bg-accent focus:px-4 focus:font-bold focus:text-accent-ink">
@@ -58,6 +61,8 @@ export function AppShell({ title, children, back }: { title: string; children: R
         {user && <StorageNotice />}
         {!ready ? null : user ? (
           children
+        ) : !answered ? (
+          <p className="text-ink-soft">Checking who is signed in…</p>
         ) : (
           <div className="flex flex-col gap-3">
             <Notice>Sign in once with a signal; after that this phone keeps your work even with none.</Notice>

@@ -190,7 +190,11 @@ describe("measuring a 24-valve inline six on a 390 px phone", () => {
     await page.getByRole("button", { name: "Start check" }).tap();
     await page.waitForURL(/\/check\?id=/);
     checkUrl = page.url().split("&")[0]!;
-    for (const box of await page.getByRole("checkbox").all()) await box.tap();
+    await page.getByRole("checkbox", { name: /Engine cold/ }).waitFor();
+    for (const box of await page.getByRole("checkbox").all()) {
+      await box.tap();
+      await expect.poll(() => box.getAttribute("aria-checked")).toBe("true");
+    }
     await page.getByRole("button", { name: "Start measuring" }).tap();
 
     // from here every tap is counted
@@ -305,7 +309,7 @@ describe("a mentor's links and the whole story of a check", () => {
     await m.goto(`${baseUrl()}/check?id=${checkId}`);
     await m.getByRole("link", { name: "Open it as a club review" }).tap();
     await m.waitForURL(/\/review\?id=/);
-    await m.goto(new URL(link).pathname + new URL(link).search);
+    await m.goto(`${baseUrl()}${new URL(link).pathname}${new URL(link).search}`);
     await m.getByText("read-only: you are reviewing").waitFor();
     const story = await m.getByTestId("rounds-I1.1").innerText();
     expect(story).toMatch(/First reading\s+2\.80 stamp, 2\.780 micrometer · 0\.05 mm goes, 0\.06 mm does not · then fitted 2\.70/);
