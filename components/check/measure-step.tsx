@@ -94,14 +94,16 @@ export function MeasureStep({ engine, views, sizes, step, save, onTurn, onDone, 
         </div>
       )}
       {order.problem && <Notice tone="error">{order.problem}</Notice>}
-      <h2 className="rounded-xl bg-surface-2 p-3 text-lg font-extrabold" role="status">
+      <div role="status">
+        <h2 className="rounded-xl bg-surface-2 p-3 text-lg font-extrabold">
         {order.positions.length > 0 && (
           <span className="text-accent">
             Position {position + 1} of {order.positions.length}:{" "}
           </span>
         )}
-        {order.positions[position] ? positionWords(order.positions[position]) : "Measure each valve"}
-      </h2>
+          {order.positions[position] ? positionWords(order.positions[position]) : "Measure each valve"}
+        </h2>
+      </div>
       <div className="flex items-center justify-between gap-2">
         <p className="figures font-bold" data-testid="measured-count">
           {measured} of {views.length} valves measured

@@ -125,11 +125,9 @@ describe("the engine diagram on a small phone", () => {
     const layouts: [number, number, number][] = [
       [1, 1, 1],
       [1, 3, 2],
-      [2, 2, 1],
-      [4, 2, 2],
+      [4, 2, 1],
       [6, 2, 2],
       [6, 3, 2],
-      [8, 2, 2],
       [16, 1, 1],
       [16, 2, 2],
       [16, 3, 2],
@@ -151,7 +149,7 @@ describe("the engine diagram on a small phone", () => {
       }
       await ctx.close();
     }
-  });
+  }, 300_000);
 });
 
 // The readings to enter on the inline six, by valve (invented): mostly in band, some tight, some loose.
@@ -319,10 +317,12 @@ describe("a mentor's links and the whole story of a check", () => {
     assertDiagram(l, 2, 4);
     await m.screenshot({ path: "test-results/review-rounds.png", fullPage: true });
     await m.getByRole("button", { name: /Measure again/ }).tap();
-    await m.getByTestId("verdict").getByText("waiting to send").waitFor({ state: "detached", timeout: 20_000 });
+    await m.getByTestId("verdict").getByText("↻ Measure again").waitFor();
+    // the verdict leaves the mentor's outbox with the next sync
+    await expect.poll(async () => ((await api.get(`/api/checks/${checkId}/shares`)).json.items as { verdict: string | null }[])[0]?.verdict, { timeout: 30_000 }).toBe("measure-again");
     await mctx.close();
 
-    const verdictMail = await waitForMail(owner.email, /Review verdict: measure again/);
+    const verdictMail = await waitForMail(owner.email, /Review verdict: measure again/, 30_000);
     const back = new URL(/(https?:\/\/\S+)/.exec(verdictMail.text)![1]!);
     expect(`${back.pathname}${back.search}${back.hash}`).toBe(`/review?id=${checkId}#verdict`);
 
