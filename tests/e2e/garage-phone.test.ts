@@ -2,7 +2,6 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { Browser, BrowserContext, Page } from "playwright-core";
 import { signedInClient, type Client } from "../support/api";
 import { baseUrl, launch } from "../support/browser";
-import { rawConnection } from "../support/db";
 import { addMembership, makeUser } from "../support/fixtures";
 import { waitForMail } from "../support/mail";
 
@@ -150,129 +149,6 @@ describe("the engine diagram on a small phone", () => {
       await ctx.close();
     }
   }, 300_000);
-});
-
-// The readings to enter on the inline six, by valve (invented): mostly in band, some tight, some loose.
-const SIX: Record<string, string> = {};
-for (let c = 1; c <= 6; c++) {
-  SIX[`I${c}.1`] = ["0.15", "0.13", "0.08", "0.15", "0.18", "0.10"][c - 1]!;
-  SIX[`I${c}.2`] = ["0.13", "0.15", "0.15", "0.23", "0.15", "0.13"][c - 1]!;
-  SIX[`E${c}.1`] = ["0.25", "0.23", "0.25", "0.15", "0.28", "0.25"][c - 1]!;
-  SIX[`E${c}.2`] = ["0.28", "0.25", "0.33", "0.25", "0.23", "0.20"][c - 1]!;
-}
-
-describe("measuring a 24-valve inline six on a 390 px phone", () => {
-  let ctx: BrowserContext;
-  let page: Page;
-  let checkUrl = "";
-  let engineUrl = "";
-  afterAll(() => ctx?.close());
-
-  it("enters every valve in 30 taps or fewer: the shims in one tap, then one tap per valve along the rotation guide", async () => {
-    const u = await makeUser("six");
-    ctx = await phone(390);
-    page = await ctx.newPage();
-    await signIn(page, u);
-    await page.getByRole("link", { name: /Add an engine/ }).tap();
-    await page.getByLabel("Start from a layout").selectOption("i6-24");
-    await page.getByLabel("Name").fill("Stand six");
-    await page.getByLabel("Intake from (mm)").fill("0.10");
-    await page.getByLabel("Intake to (mm)").fill("0.20");
-    await page.getByLabel("Exhaust from (mm)").fill("0.20");
-    await page.getByLabel("Exhaust to (mm)").fill("0.30");
-    await page.getByLabel("Shim fitted at assembly (optional) (mm)").fill("2.60");
-    await page.getByRole("button", { name: "Save engine" }).tap();
-    await page.waitForURL(/\/engine\?id=/);
-    engineUrl = page.url();
-    await page.getByLabel(/Odometer now/).fill("8800");
-    await page.getByRole("button", { name: "Start check" }).tap();
-    await page.waitForURL(/\/check\?id=/);
-    checkUrl = page.url().split("&")[0]!;
-    await page.getByRole("checkbox", { name: /Engine cold/ }).waitFor();
-    for (const box of await page.getByRole("checkbox").all()) {
-      await box.tap();
-      await expect.poll(() => box.getAttribute("aria-checked")).toBe("true");
-    }
-    await page.getByRole("button", { name: "Start measuring" }).tap();
-
-    // from here every tap is counted
-    let taps = 0;
-    const tap = async (l: ReturnType<Page["getByRole"]>) => {
-      taps++;
-      await l.tap();
-    };
-    await page.getByRole("heading", { name: /Position 1 of 2: Turn to cylinder 1 firing TDC/ }).waitFor();
-    await expect(page.getByLabel("Shim size for every bucket").inputValue()).resolves.toBe("2.6");
-    await tap(page.getByRole("button", { name: "Fill all 24" }));
-    await page.getByTestId("shim-I1.1").getByText("2.60").waitFor();
-    await page.screenshot({ path: "test-results/measure-six-start.png" });
-    const order: string[] = [];
-    for (let i = 0; i < 24; i++) {
-      const valve = (await page.locator("article[data-valve]").getAttribute("data-valve"))!;
-      order.push(valve);
-      await tap(page.getByRole("group", { name: `Feeler blades for ${valve}` }).getByRole("button", { name: SIX[valve]!, exact: true }));
-      await page.getByTestId("measured-count").getByText(`${i + 1} of 24 valves measured`).waitFor();
-      if (i === 11) await page.screenshot({ path: "test-results/check-measure.png" });
-    }
-    console.log(`[garage] 24 valves entered in ${taps} taps (1 fill + ${taps - 1} blades); order ${order.join(" ")}`);
-    expect(taps).toBeLessThanOrEqual(30);
-    // the guide's order (derived, shared/TRADE.md): TDC 1 frees intake 1, 2, 4 and exhaust 1, 3, 5
-    expect(order.slice(0, 12)).toEqual(["I1.1", "I1.2", "I2.1", "I2.2", "I4.1", "I4.2", "E1.1", "E1.2", "E3.1", "E3.2", "E5.1", "E5.2"]);
-    expect(new Set(order).size).toBe(24);
-    const height = await page.evaluate(() => document.documentElement.scrollHeight);
-    console.log(`[garage] measure page height ${height} px`);
-    expect(height).toBeLessThan(2600);
-  });
-
-  it("undoes the last reading, clears any reading, and saves a typed value with Enter", async () => {
-    await page.getByRole("button", { name: "Undo last" }).tap();
-    await page.getByTestId("measured-count").getByText("23 of 24 valves measured").waitFor();
-    const undone = (await page.locator("article[data-valve]").getAttribute("data-valve"))!;
-    await page.getByRole("button", { name: new RegExp(`^${undone.replace(".", "\\.")} to measure`) }).waitFor();
-    await page.getByRole("group", { name: `Feeler blades for ${undone}` }).getByRole("button", { name: SIX[undone]!, exact: true }).tap();
-    await page.getByTestId("measured-count").getByText("24 of 24 valves measured").waitFor();
-
-    await page.getByRole("button", { name: /^I3\.1 / }).tap();
-    await page.getByRole("button", { name: "Clear this reading" }).tap();
-    await page.getByTestId("measured-count").getByText("23 of 24 valves measured").waitFor();
-    await page.getByRole("button", { name: "Type a value instead" }).tap();
-    await page.getByLabel("Typed clearance of I3.1 in mm").fill("0.09");
-    await page.getByLabel("Typed clearance of I3.1 in mm").press("Enter");
-    await page.getByTestId("measured-count").getByText("24 of 24 valves measured").waitFor();
-    await page.getByRole("button", { name: /^I3\.1 tight/ }).waitFor();
-  });
-
-  it("shows the plan and draws the engine the way it faces the mechanic, saved with the engine and synced", async () => {
-    await page.getByRole("button", { name: /see the shim plan/i }).tap();
-    await page.getByText("Plan per valve").waitFor();
-    await page.screenshot({ path: "test-results/check-plan.png", fullPage: true });
-    const before = await layoutOf(page);
-    expect(before.groups[0]!.cylinder).toBe(1);
-
-    await page.goto(engineUrl.replace("/engine?", "/engine/edit?"));
-    await page.getByLabel("Cylinder 1 on your right").check();
-    await page.getByRole("button", { name: "Save engine" }).tap();
-    await page.waitForURL(/\/engine\?id=/);
-    await page.goto(`${checkUrl}&step=plan`);
-    await page.getByText("Cylinder 1 on the right").waitFor();
-    const after = await layoutOf(page);
-    // cylinder 6 first, and inside each cylinder the valves the other way round too
-    expect(after.groups[0]!.cylinder).toBe(6);
-    expect(after.groups[0]!.cells.map((c) => c.id)).toEqual(["I6.2", "I6.1", "E6.2", "E6.1"]);
-    assertDiagram(after, 6, 4);
-    const engineId = new URL(engineUrl).searchParams.get("id")!;
-    await expect
-      .poll(
-        async () => {
-          const db = await rawConnection();
-          const [rows] = await db.query("SELECT mirrored FROM engines WHERE id = ?", [engineId]);
-          await db.end();
-          return Number((rows as { mirrored: number }[])[0]?.mirrored);
-        },
-        { timeout: 20_000 },
-      )
-      .toBe(1);
-  });
 });
 
 describe("a mentor's links and the whole story of a check", () => {
