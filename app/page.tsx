@@ -1,4 +1,5 @@
 import Link from "next/link";
+import { SignedInHome } from "@/components/home/signed-in-home";
 import { ValvePreview } from "@/components/home/valve-preview";
 
 const steps = [
@@ -11,6 +12,7 @@ const steps = [
 export default function HomePage() {
   return (
     <main className="mx-auto flex max-w-xl flex-col gap-8 px-4 pt-6 pb-12">
+      <SignedInHome />
       <header className="flex items-center justify-between">
         <span className="text-2xl font-extrabold tracking-tight">
           Lash<span className="text-accent">wright</span>

@@ -10,7 +10,12 @@ import { noticeEach } from "./notices";
  * Review notices: review requested (to the club's mentors), new comment (to the other party),
  * verdict (to the mechanic). Each respects the recipient's e-mail setting and goes through the queue.
  */
-const checkLink = (checkId: string) => `${env().NEXTAUTH_URL}/check?id=${checkId}`;
+/**
+ * Each notice opens the page its reader works on: a mentor the read-only review (the check is not
+ * on their phone), the owner the comments and verdict of their own check. The address carries the
+ * whole query, so sign-in can bring the reader back to it.
+ */
+const reviewLink = (checkId: string, part?: "comments" | "verdict") => `${env().NEXTAUTH_URL}/review?id=${checkId}${part ? `#${part}` : ""}`;
 
 export async function noticeReviewRequested(check: { id: string; engineId: string; ownerId: string }, clubId: string, ownerName: string) {
   const engine = await getEngineRow(db(), check.engineId);
@@ -18,14 +23,14 @@ export async function noticeReviewRequested(check: { id: string; engineId: strin
     kind: "review-requested",
     aboutCheckId: check.id,
     subject: `${ownerName} asks for a review: ${engine?.name ?? "a check"}`,
-    body: `${ownerName} has shared a valve check with your club and would like a mentor to look it over before the engine is closed up.\n\n${checkLink(check.id)}`,
+    body: `${ownerName} has shared a valve check with your club and would like a mentor to look it over before the engine is closed up.\n\n${reviewLink(check.id)}`,
   });
 }
 
 export async function noticeComment(check: { id: string; ownerId: string }, authorId: string, authorName: string, body: string, mentorIds: string[]) {
   // the other party: a comment by the owner goes to the mentors who have taken part; a mentor's to the owner
   const recipients = await usersByIds(authorId === check.ownerId ? mentorIds : [check.ownerId]);
-  await noticeEach(recipients, authorId, { kind: "comment", aboutCheckId: check.id, subject: `New comment from ${authorName}`, body: `${authorName} wrote:\n\n${body.slice(0, 1000)}\n\n${checkLink(check.id)}` });
+  await noticeEach(recipients, authorId, { kind: "comment", aboutCheckId: check.id, subject: `New comment from ${authorName}`, body: `${authorName} wrote:\n\n${body.slice(0, 1000)}\n\n${reviewLink(check.id, "comments")}` });
 }
 
 /** After a comment is stored, by the REST route or a sync push: tell the other party. */
@@ -40,6 +45,6 @@ export async function noticeVerdict(check: { id: string; ownerId: string }, ment
     kind: "verdict",
     aboutCheckId: check.id,
     subject: `Review verdict: ${words}`,
-    body: `${mentorName} has reviewed your check: ${words}.\n\n${checkLink(check.id)}`,
+    body: `${mentorName} has reviewed your check: ${words}.\n\n${reviewLink(check.id, "verdict")}`,
   });
 }

@@ -1,15 +1,17 @@
 "use client";
 
+import Link from "next/link";
 import { useSearchParams } from "next/navigation";
 import { useCallback, useState } from "react";
 import { LashInputError, workOrder, type ShimPlan } from "@/lib/lash";
-import { checkPlan } from "@/lib/check/derive";
-import { poolForEngine } from "@/lib/check/pool";
-import { beginFit, setCheckStatus } from "@/lib/sync/writes";
+import { checkPlan, DEFAULT_PLAN_OPTIONS, type PlanOptions } from "@/lib/check/derive";
+import { poolForEngine, trayForEngine } from "@/lib/check/pool";
+import { beginFit, saveEngine, setCheckStatus } from "@/lib/sync/writes";
 import { usePool } from "@/components/pool/use-pool";
 import { AskReview } from "@/components/review/ask-review";
 import { useLocal } from "@/components/sync/local-provider";
 import { Notice } from "@/components/ui/controls";
+import { useStored } from "@/components/ui/use-stored";
 import { FitStep } from "./fit-step";
 import { MeasureStep } from "./measure-step";
 import { PlanStep } from "./plan-step";
@@ -29,7 +31,16 @@ export function CheckScreen() {
   const data = useCheckData(id);
 
   if (data === undefined) return null;
-  if (data === null) return <Notice tone="error">This check is not on this phone.</Notice>;
+  if (data === null)
+    return (
+      <div className="flex flex-col gap-3">
+        <Notice tone="error">This check is not on this phone.</Notice>
+        {/* a check another member shared with the club is read as a review, not kept on this phone */}
+        <Link href={`/review?id=${id}`} className="inline-flex min-h-12 items-center justify-center self-start rounded-xl border-2 border-line px-5 text-lg font-bold">
+          Open it as a club review
+        </Link>
+      </div>
+    );
   return (
     <CheckBody
       key={id}
@@ -51,15 +62,19 @@ function CheckBody({ data, step, go }: { data: CheckData; step?: Step; go: (s: S
   const { db, user } = useLocal();
   const pool = usePool();
   const fit = poolForEngine(engine, pool.offeredToMe, user?.id ?? "");
+  const trayFit = trayForEngine(engine, tray);
+  // the plan's aim is the mechanic's choice for this engine, kept on this phone
+  const [options, setOptions] = useStored<PlanOptions>(`lashwright.plan.${engine.id}`, DEFAULT_PLAN_OPTIONS);
   const { sizes, seriesStep, views } = useCheckModel(data);
   const save = useSaveReading(check.id);
-  const [mirrored, setMirrored] = useState(engine.mirrored);
+  // which way the engine faces is part of its profile: saved, synced, and the same for the mentor
+  const turn = () => db && void saveEngine(db, { ...engine, mirrored: !engine.mirrored });
   const current: Step = step ?? (check.status === "closed" ? "plan" : readings.length ? "measure" : "prepare");
   let plan: ShimPlan | null = null;
   let planError: string | null = null;
   try {
     // the plan is worked out only for the steps that show it: a blade tap on Measure stays cheap
-    if (current === "plan" || current === "fit") plan = checkPlan(engine, views, tray, fit.pool);
+    if (current === "plan" || current === "fit") plan = checkPlan(engine, views, trayFit.usable, fit.pool, options);
   } catch (e) {
     planError = e instanceof LashInputError ? e.message : "The plan could not be worked out";
   }
@@ -87,7 +102,7 @@ function CheckBody({ data, step, go }: { data: CheckData; step?: Step; go: (s: S
         {engine.name} · {check.odometer.toLocaleString("en")} {engine.odometerUnit} · measure {check.measuredHot ? "hot" : "cold"}
       </p>
       {current === "prepare" && <PrepareStep checkId={check.id} onDone={() => go("measure")} />}
-      {current === "measure" && <MeasureStep engine={engine} views={views} sizes={sizes} step={seriesStep} save={save} mirrored={mirrored} setMirrored={setMirrored} onDone={() => go("plan")} previous={previous} checkId={check.id} />}
+      {current === "measure" && <MeasureStep engine={engine} views={views} sizes={sizes} step={seriesStep} save={save} onTurn={turn} onDone={() => go("plan")} previous={previous} checkId={check.id} />}
       {current === "plan" && (
         <PlanStep
           engine={engine}
@@ -95,14 +110,16 @@ function CheckBody({ data, step, go }: { data: CheckData; step?: Step; go: (s: S
           views={views}
           plan={plan}
           error={planError}
-          mirrored={mirrored}
-          setMirrored={setMirrored}
+          onTurn={turn}
           onFit={() => {
             startFit();
             go("fit");
           }}
           pool={pool}
           fit={fit}
+          options={options}
+          setOptions={setOptions}
+          trayOtherSystem={trayFit.otherSystem}
         />
       )}
       {current === "plan" && <AskReview checkId={check.id} />}

@@ -1,71 +1,106 @@
 "use client";
 
+import { useLayoutEffect, useRef, useState } from "react";
 import { STATE_WORDS, type ValveState, type ValveView } from "@/lib/check/derive";
+import { CELL_GAP_PX, CELL_PX, diagramRows, GROUP_GAP_PX } from "@/lib/check/diagram";
 
 const TONE: Record<ValveState, string> = {
-  unmeasured: "border-line text-ink-soft border-dashed",
-  "in-band": "border-ok text-ok",
-  verified: "border-ok text-ok bg-ok/10",
-  tight: "border-tight text-tight",
-  loose: "border-loose text-loose",
-  fitted: "border-accent text-accent",
+  unmeasured: "border-line text-ink-soft border-dashed bg-surface",
+  "in-band": "border-ok text-ok bg-surface",
+  verified: "border-ok bg-ok text-bg",
+  tight: "border-tight text-tight bg-surface",
+  loose: "border-loose text-loose bg-surface",
+  fitted: "border-accent text-accent bg-surface",
 };
 
+/** the width a phone of 360 px leaves the diagram, until the real width is known */
+const FIRST_WIDTH = 300;
+
 /**
- * Cylinders side by side as the rider or driver sits, intakes on the top edge and exhausts on the
- * bottom; each valve a cell with a glyph and a word, so no state is told by colour alone.
+ * The engine seen from above: each cylinder one framed group with its label, its intakes on top and
+ * its exhausts below; cylinder 1 on the left, or on the right for an engine that faces the other
+ * way. Each valve a cell of one fixed size with a glyph and its name (the legend gives the words),
+ * so no state is told by colour alone and no label can sit over another cylinder's valves.
  */
-export function EngineDiagram({ views, mirrored, onMirror, onPick, commentDots }: { views: ValveView[]; mirrored: boolean; onMirror?: (m: boolean) => void; onPick?: (valveId: string) => void; commentDots?: Set<string> }) {
-  const cylinders = [...new Set(views.map((v) => v.valve.cylinder))].sort((a, b) => (mirrored ? b - a : a - b));
+export function EngineDiagram({ views, mirrored, onPick, commentDots, current, onTurn }: { views: ValveView[]; mirrored: boolean; onPick?: (valveId: string) => void; commentDots?: Set<string>; current?: string; onTurn?: () => void }) {
+  const box = useRef<HTMLDivElement>(null);
+  const [width, setWidth] = useState(FIRST_WIDTH);
+  useLayoutEffect(() => {
+    const el = box.current;
+    if (!el) return;
+    const seen = () => setWidth(el.clientWidth || FIRST_WIDTH);
+    seen();
+    const ro = new ResizeObserver(seen);
+    ro.observe(el);
+    return () => ro.disconnect();
+  }, []);
+  const rows = diagramRows(views, mirrored, width);
+  const states = new Set(views.map((v) => v.state));
   const cell = (v: ValveView) => {
     const s = STATE_WORDS[v.state];
+    const dot = commentDots?.has(v.valve.id);
+    const here = current === v.valve.id;
     return (
       <button
         key={v.valve.id}
         type="button"
         onClick={() => onPick?.(v.valve.id)}
-        aria-label={`${v.valve.id}: ${s.word}`}
-        className={`relative flex min-h-14 min-w-0 flex-1 flex-col items-center justify-center rounded-lg border-2 bg-surface px-0.5 ${TONE[v.state]}`}
+        aria-label={`${v.valve.id} ${s.word}${dot ? ", has comments" : ""}`}
+        aria-current={here ? "true" : undefined}
+        data-valve={v.valve.id}
+        style={{ width: CELL_PX }}
+        className={`relative flex h-14 shrink-0 flex-col items-center justify-center rounded-lg border-2 ${TONE[v.state]} ${here ? "outline-4 outline-offset-1 outline-accent" : ""}`}
       >
-        <span aria-hidden className="text-base leading-none">
+        <span aria-hidden className="text-base leading-none font-bold">
           {s.glyph}
         </span>
-        <span className="text-[0.65rem] leading-tight font-bold">{s.word}</span>
-        <span className="figures text-[0.6rem] text-ink-soft">{v.valve.id}</span>
-        {commentDots?.has(v.valve.id) && <span aria-label="has comments" className="absolute top-0.5 right-0.5 h-2.5 w-2.5 rounded-full bg-accent" />}
+        <span className="figures text-[0.7rem] leading-tight font-bold">{v.valve.id}</span>
+        {dot && <span aria-hidden className="absolute top-0.5 right-0.5 h-2.5 w-2.5 rounded-full bg-accent" />}
       </button>
     );
   };
+  const line = (vs: ValveView[]) => (
+    <div className="flex justify-center" style={{ gap: CELL_GAP_PX }}>
+      {vs.map(cell)}
+    </div>
+  );
   return (
     <figure aria-label="Engine diagram" className="flex flex-col gap-2 rounded-2xl border border-line bg-surface-2 p-3">
-      <p className="text-xs font-bold tracking-wide text-ink-soft uppercase">Intake side</p>
-      <div className="flex gap-2">
-        {cylinders.map((c) => (
-          <div key={c} className="flex flex-1 gap-1">
-            {views.filter((v) => v.valve.cylinder === c && v.valve.kind === "intake").map(cell)}
+      <figcaption className="text-xs font-bold text-ink-soft">
+        {mirrored ? "Cylinder 1 on the right (the engine faces the other way)" : "Cylinder 1 on the left"} · intakes on top, exhausts below
+      </figcaption>
+      <div ref={box} className="flex flex-col" style={{ gap: GROUP_GAP_PX }}>
+        {rows.map((row) => (
+          <div key={row[0]!.cylinder} className="flex justify-center" style={{ gap: GROUP_GAP_PX }}>
+            {row.map((g) => (
+              <div key={g.cylinder} role="group" aria-label={`Cyl ${g.cylinder}`} data-cylinder={g.cylinder} className="flex flex-col items-stretch gap-1 rounded-xl border border-line bg-bg/40 p-[4px]">
+                {/* the label takes the width of its cells and never widens the group past them */}
+                <span className="w-0 min-w-full overflow-hidden text-center text-xs leading-tight font-bold tracking-tight whitespace-nowrap text-ink-soft" data-cylinder-label={g.cylinder}>
+                  Cyl {g.cylinder}
+                </span>
+                {line(g.intakes)}
+                {line(g.exhausts)}
+              </div>
+            ))}
           </div>
         ))}
       </div>
-      <div className="figures flex gap-2 text-center text-sm font-bold text-ink-soft">
-        {cylinders.map((c) => (
-          <span key={c} className="flex-1">
-            Cyl {c}
-          </span>
-        ))}
-      </div>
-      <div className="flex gap-2">
-        {cylinders.map((c) => (
-          <div key={c} className="flex flex-1 gap-1">
-            {views.filter((v) => v.valve.cylinder === c && v.valve.kind === "exhaust").map(cell)}
-          </div>
-        ))}
-      </div>
-      <p className="text-xs font-bold tracking-wide text-ink-soft uppercase">Exhaust side</p>
-      {onMirror && (
-        <label className="flex min-h-12 items-center gap-3 text-sm font-bold">
-          <input type="checkbox" className="h-6 w-6" checked={mirrored} onChange={(e) => onMirror(e.target.checked)} />
-          {mirrored ? "Mirrored: seen from the other side (cylinder 1 on the right)" : "Seen from the seat (cylinder 1 on the left). Mirror it"}
-        </label>
+      <ul aria-label="Key" className="flex flex-wrap gap-x-3 gap-y-1 text-xs text-ink-soft">
+        {(Object.keys(STATE_WORDS) as ValveState[])
+          .filter((k) => states.has(k))
+          .map((k) => (
+            <li key={k}>
+              <span aria-hidden className="font-bold">
+                {STATE_WORDS[k].glyph}
+              </span>{" "}
+              {STATE_WORDS[k].word}
+            </li>
+          ))}
+      </ul>
+      {onTurn && (
+        <button type="button" onClick={onTurn} className="min-h-12 self-start text-sm font-bold underline underline-offset-4">
+          {mirrored ? "Turn the picture: cylinder 1 on the left" : "Engine faces the other way? Put cylinder 1 on the right"}
+        </button>
       )}
     </figure>
   );

@@ -1,46 +1,86 @@
 "use client";
 
-import { useMemo, useState } from "react";
-import { rotationGuide } from "@/lib/lash";
+import { useCallback, useMemo, useState } from "react";
 import type { ValveView } from "@/lib/check/derive";
-import type { LocalEngine } from "@/lib/sync/local-db";
+import { measuringOrder, positionWords } from "@/lib/check/measuring";
+import type { LocalEngine, LocalReading } from "@/lib/sync/local-db";
 import { saveReading } from "@/lib/sync/writes";
 import { useLocal } from "@/components/sync/local-provider";
 import { Button, Notice } from "@/components/ui/controls";
 import { EngineDiagram } from "./engine-diagram";
 import { ValveCard, type ReadingEntry } from "./valve-card";
 
-function stepTitle(tdc: number, angle: number) {
-  return angle === 0 ? `Turn to cylinder ${tdc} firing TDC (compression)` : `Turn on ${angle}° to cylinder ${tdc} firing TDC`;
+/** what a valve's reading was before a tap, so the tap can be undone */
+interface Undo {
+  valveId: string;
+  before: LocalReading | undefined;
 }
 
-/** Step 2: the rotation guide, each crank position with its valves' cards. */
-export function MeasureStep({ engine, views, sizes, step, save, mirrored, setMirrored, onDone, previous, checkId }: { engine: LocalEngine; views: ValveView[]; sizes: number[]; step: number; save: (v: ValveView) => (r: ReadingEntry) => Promise<void>; mirrored: boolean; setMirrored: (m: boolean) => void; onDone: () => void; previous: Map<string, number>; checkId: string }) {
+/**
+ * Step 2, the measuring mode: the rotation guide valve by valve. One card at a time, its blade strip
+ * centred on the valve's band; a blade tap records and moves on to the next valve still to measure,
+ * through the crank positions in order. The diagram shows where you are and picks any valve.
+ */
+export function MeasureStep({ engine, views, sizes, step, save, onTurn, onDone, previous, checkId }: { engine: LocalEngine; views: ValveView[]; sizes: number[]; step: number; save: (v: ValveView) => (r: ReadingEntry) => Promise<void>; onTurn: () => void; onDone: () => void; previous: Map<string, number>; checkId: string }) {
   const { db } = useLocal();
-  const guide = useMemo(() => {
-    try {
-      return rotationGuide({ firingOrder: engine.firingOrder, firingAngles: engine.firingAngles ?? undefined, timing: engine.timing }).steps;
-    } catch {
-      return null;
-    }
-  }, [engine]);
+  const order = useMemo(() => measuringOrder(engine), [engine]);
+  const byId = useMemo(() => new Map(views.map((v) => [v.valve.id, v])), [views]);
+  const [picked, setPicked] = useState<string | null>(null);
+  const firstOpen = order.stops.find((s) => byId.get(s.valveId)?.measured == null)?.valveId ?? order.stops[0]?.valveId;
+  const currentId = picked ?? firstOpen;
+  const current = currentId ? byId.get(currentId) : undefined;
+  const position = order.stops.find((s) => s.valveId === currentId)?.position ?? 0;
   const [fill, setFill] = useState(engine.assembledShim ?? sizes[Math.floor(sizes.length / 2)]!);
+  const [undo, setUndo] = useState<Undo[]>([]);
   const unset = views.filter((v) => v.latest === undefined && v.installed == null);
   const measured = views.filter((v) => v.measured != null).length;
   const fillAll = async () => {
     if (!db) return;
     for (const v of unset) await saveReading(db, checkId, { valve: v.valve.id, round: 0, installedStamp: fill, installedMicrometer: null, feelerGo: null, feelerNoGo: null, measured: null, method: "feeler", fittedShim: null });
   };
-  const pick = (valveId: string) => document.getElementById(`valve-${valveId}`)?.scrollIntoView({ behavior: "smooth", block: "start" });
+
+  // moves on past the valve just tapped (its new reading is not in these views yet, so it is skipped by place)
+  const next = useCallback(() => {
+    if (!currentId) return;
+    const at = order.stops.findIndex((s) => s.valveId === currentId);
+    const after = [...order.stops.slice(at + 1), ...order.stops.slice(0, at)];
+    const open = after.find((s) => byId.get(s.valveId)?.measured == null);
+    setPicked(open?.valveId ?? currentId);
+  }, [currentId, order, byId]);
+  const saveCurrent = useMemo(() => {
+    if (!current) return null;
+    const write = save(current);
+    return async (r: ReadingEntry) => {
+      setUndo((u) => [...u.slice(-49), { valveId: current.valve.id, before: current.latest }]);
+      await write(r);
+    };
+  }, [current, save]);
+  const undoLast = async () => {
+    const last = undo.at(-1);
+    if (!db || !last) return;
+    setUndo((u) => u.slice(0, -1));
+    const v = byId.get(last.valveId);
+    const b = last.before;
+    await saveReading(db, checkId, {
+      valve: last.valveId,
+      round: b?.round ?? v?.nextRound ?? 0,
+      installedStamp: b?.installedStamp ?? v?.latest?.installedStamp ?? null,
+      installedMicrometer: b?.installedMicrometer ?? null,
+      feelerGo: b?.feelerGo ?? null,
+      feelerNoGo: b?.feelerNoGo ?? null,
+      measured: b?.measured ?? null,
+      method: b?.method ?? "feeler",
+      fittedShim: b?.fittedShim ?? null,
+    });
+    setPicked(last.valveId);
+  };
+  const done = measured === views.length;
+
   return (
-    <section className="flex flex-col gap-4" aria-label="Measure">
-      <EngineDiagram views={views} mirrored={mirrored} onMirror={setMirrored} onPick={pick} />
-      <p className="figures font-bold" role="status">
-        {measured} of {views.length} valves measured
-      </p>
+    <section className="flex flex-col gap-3" aria-label="Measure">
       {unset.length === views.length && previous.size === 0 && (
-        <div className="flex flex-wrap items-center gap-2 rounded-xl border border-line p-3">
-          <span className="font-bold">Fresh engine? Every bucket has</span>
+        <div className="flex flex-wrap items-center gap-2 rounded-xl border-2 border-accent p-3">
+          <span className="font-bold">Every bucket has the same shim?</span>
           <select aria-label="Shim size for every bucket" value={fill} onChange={(e) => setFill(Number(e.target.value))} className="figures min-h-12 rounded-xl border-2 border-line bg-surface px-2 text-lg">
             {sizes.map((s) => (
               <option key={s} value={s}>
@@ -48,37 +88,34 @@ export function MeasureStep({ engine, views, sizes, step, save, mirrored, setMir
               </option>
             ))}
           </select>
-          <Button type="button" look="plain" onClick={fillAll}>
-            Fill all
+          <Button type="button" onClick={fillAll}>
+            Fill all {views.length}
           </Button>
         </div>
       )}
-      {!guide && <Notice tone="error">This engine&apos;s firing order and timing give no crank position where every valve is free: check the profile.</Notice>}
-      {guide?.map((s, i) => {
-        const here = s.valves.flatMap((ref) => views.filter((v) => v.valve.cylinder === ref.cylinder && v.valve.kind === ref.kind));
-        return (
-          <section key={i} aria-label={`Position ${i + 1}`} className="flex flex-col gap-3">
-            <h2 className="rounded-xl bg-surface-2 p-3 text-xl font-extrabold">
-              <span className="text-accent">
-                {i + 1}/{guide.length}
-              </span>{" "}
-              {stepTitle(s.tdcCylinder, s.crankAngle)}, then measure{" "}
-              {["intake", "exhaust"]
-                .map((k) => {
-                  const cyl = s.valves.filter((v) => v.kind === k).map((v) => v.cylinder);
-                  return cyl.length ? `${k} ${cyl.join(", ")}` : "";
-                })
-                .filter(Boolean)
-                .join("; ")}
-            </h2>
-            {here.map((v) => (
-              <ValveCard key={v.valve.id} checkId={checkId} engine={engine} view={v} sizes={sizes} step={step} onSave={save(v)} />
-            ))}
-          </section>
-        );
-      })}
-      <Button type="button" onClick={onDone} disabled={measured === 0}>
-        See the shim plan
+      {order.problem && <Notice tone="error">{order.problem}</Notice>}
+      <div role="status">
+        <h2 className="rounded-xl bg-surface-2 p-3 text-lg font-extrabold">
+        {order.positions.length > 0 && (
+          <span className="text-accent">
+            Position {position + 1} of {order.positions.length}:{" "}
+          </span>
+        )}
+          {order.positions[position] ? positionWords(order.positions[position]) : "Measure each valve"}
+        </h2>
+      </div>
+      <div className="flex items-center justify-between gap-2">
+        <p className="figures font-bold" data-testid="measured-count">
+          {measured} of {views.length} valves measured
+        </p>
+        <Button type="button" look="plain" disabled={undo.length === 0} onClick={() => void undoLast()}>
+          Undo last
+        </Button>
+      </div>
+      {current && saveCurrent && <ValveCard key={current.valve.id} checkId={checkId} engine={engine} view={current} sizes={sizes} step={step} onSave={saveCurrent} onRecorded={next} />}
+      <EngineDiagram views={views} mirrored={engine.mirrored} onPick={setPicked} current={currentId} onTurn={onTurn} />
+      <Button type="button" onClick={onDone} disabled={measured === 0} look={done ? "primary" : "plain"}>
+        {done ? "All measured: see the shim plan" : "See the shim plan"}
       </Button>
     </section>
   );

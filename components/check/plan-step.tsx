@@ -2,8 +2,8 @@
 
 import dynamic from "next/dynamic";
 import { useState } from "react";
-import type { ShimPlan } from "@/lib/lash";
-import type { ValveView } from "@/lib/check/derive";
+import { formatLength, type ShimPlan } from "@/lib/lash";
+import type { PlanOptions, ValveView } from "@/lib/check/derive";
 import type { PoolFit } from "@/lib/check/pool";
 import type { LocalCheck, LocalEngine } from "@/lib/sync/local-db";
 import type { usePool } from "@/components/pool/use-pool";
@@ -17,7 +17,7 @@ import { CsvDownload } from "./csv-download";
 const Worksheet = dynamic(() => import("./worksheet"), { ssr: false });
 
 /** Step 3: the diagram, the plan per valve, the buy list, borrowing, what goes back to the tray, print and CSV. */
-export function PlanStep({ engine, check, views, plan, error, mirrored, setMirrored, onFit, pool, fit }: { engine: LocalEngine; check: LocalCheck; views: ValveView[]; plan: ShimPlan | null; error: string | null; mirrored: boolean; setMirrored: (m: boolean) => void; onFit?: () => void; pool?: ReturnType<typeof usePool>; fit?: PoolFit }) {
+export function PlanStep({ engine, check, views, plan, error, onTurn, onFit, pool, fit, options, setOptions, trayOtherSystem = 0 }: { engine: LocalEngine; check: LocalCheck; views: ValveView[]; plan: ShimPlan | null; error: string | null; onTurn: () => void; onFit?: () => void; pool?: ReturnType<typeof usePool>; fit?: PoolFit; options?: PlanOptions; setOptions?: (o: PlanOptions) => void; trayOtherSystem?: number }) {
   const [copied, setCopied] = useState(false);
   const byId = new Map(views.map((v) => [v.valve.id, v]));
   const lenders = pool ? new Map(pool.offers.map((o) => [o.ownerId, o.ownerName])) : undefined;
@@ -26,8 +26,14 @@ export function PlanStep({ engine, check, views, plan, error, mirrored, setMirro
   return (
     <section className="flex flex-col gap-4" aria-label="Shim plan">
       <Worksheet engine={engine} check={check} views={views} plan={plan} lenders={lenders} />
-      <EngineDiagram views={views} mirrored={mirrored} onMirror={setMirrored} />
+      <EngineDiagram views={views} mirrored={engine.mirrored} onTurn={onTurn} />
+      {options && setOptions && <PlanAimChoice options={options} setOptions={setOptions} unit={engine.displayUnit} />}
       {error && <Notice tone="error">{error}</Notice>}
+      {trayOtherSystem > 0 && (
+        <Notice>
+          {trayOtherSystem} shim{trayOtherSystem === 1 ? "" : "s"} on the tray {trayOtherSystem === 1 ? "is" : "are"} for another shim diameter and {trayOtherSystem === 1 ? "is" : "are"} left out of this plan (the engine takes {engine.shimDiameter} mm).
+        </Notice>
+      )}
       {!plan && !error && <Notice>Measure some valves first: the plan fills in as readings come in.</Notice>}
       {plan && (
         <>
@@ -80,5 +86,39 @@ export function PlanStep({ engine, check, views, plan, error, mirrored, setMirro
         </>
       )}
     </section>
+  );
+}
+
+const MARGINS = [0, 0.01, 0.02, 0.03, 0.05];
+
+/** How the plan chooses: buy the fewest shims or land nearest the target, and how far to keep from the tight edge. */
+function PlanAimChoice({ options, setOptions, unit }: { options: PlanOptions; setOptions: (o: PlanOptions) => void; unit: "mm" | "in" }) {
+  return (
+    <fieldset className="flex flex-col gap-2 rounded-2xl border border-line bg-surface p-3 print:hidden">
+      <legend className="px-1 font-extrabold">The plan aims to</legend>
+      <div className="grid grid-cols-2 gap-2">
+        {(
+          [
+            ["fewest-bought", "Buy the fewest"],
+            ["nearest-target", "Land nearest the target"],
+          ] as const
+        ).map(([aim, label]) => (
+          <label key={aim} className={`flex min-h-12 items-center gap-2 rounded-xl border-2 px-2 font-bold ${options.aim === aim ? "border-accent" : "border-line"}`}>
+            <input type="radio" name="plan-aim" className="h-5 w-5" checked={options.aim === aim} onChange={() => setOptions({ ...options, aim })} />
+            {label}
+          </label>
+        ))}
+      </div>
+      <label className="flex flex-wrap items-center gap-2 text-sm font-bold">
+        Keep new shims clear of the tight edge by
+        <select value={options.tightMargin} onChange={(e) => setOptions({ ...options, tightMargin: Number(e.target.value) })} className="figures min-h-12 rounded-xl border-2 border-line bg-surface px-2 text-base">
+          {MARGINS.map((m) => (
+            <option key={m} value={m}>
+              {m === 0 ? "nothing" : formatLength(m, unit)}
+            </option>
+          ))}
+        </select>
+      </label>
+    </fieldset>
   );
 }

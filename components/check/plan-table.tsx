@@ -13,6 +13,9 @@ interface Row {
 
 const col = createColumnHelper<Row>();
 
+/** A target such as 0.125 (the middle of 0.10-0.15) is shown as it is, not rounded to 0.13. */
+const needsThousandths = (mm: number) => Math.round(mm * 1000) % 10 !== 0;
+
 /** The plan per valve: shim now, clearance, target, new shim, predicted clearance, and its source. */
 export function PlanTable({ engine, plan, byId, lenders }: { engine: LocalEngine; plan: ShimPlan; byId: Map<string, ValveView>; lenders?: Map<string, string> }) {
   const unit = engine.displayUnit;
@@ -20,7 +23,7 @@ export function PlanTable({ engine, plan, byId, lenders }: { engine: LocalEngine
     col.accessor((r) => r.a.valveId, { id: "valve", header: "Valve", cell: (c) => <strong>{c.getValue()}</strong> }),
     col.accessor((r) => r.v.installed, { id: "now", header: "Shim now", cell: (c) => c.getValue()?.toFixed(c.row.original.v.latest?.installedMicrometer != null ? 3 : 2) ?? "—" }),
     col.accessor((r) => r.v.measured, { id: "clearance", header: "Clearance", cell: (c) => (c.getValue() != null ? formatLength(c.getValue()!, unit) : "—") }),
-    col.accessor((r) => r.v.spec.target ?? (r.v.spec.min + r.v.spec.max) / 2, { id: "target", header: "Target", cell: (c) => formatLength(c.getValue(), unit) }),
+    col.accessor((r) => r.v.spec.target ?? (r.v.spec.min + r.v.spec.max) / 2, { id: "target", header: "Target", cell: (c) => formatLength(c.getValue(), unit, needsThousandths(c.getValue())) }),
     col.accessor((r) => r.a, { id: "new", header: "New shim", cell: (c) => <strong>{c.getValue().source.kind === "keep" ? "—" : c.getValue().size.toFixed(2)}</strong> }),
     col.accessor((r) => r.a, { id: "gives", header: "Gives", cell: (c) => `${formatLength(c.getValue().predicted, unit)} ${c.getValue().inSpec ? "✓" : "✕ out of band"}` }),
     col.accessor((r) => r.a.source, {

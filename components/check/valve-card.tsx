@@ -1,19 +1,12 @@
 "use client";
 
 import { memo, useEffect, useState } from "react";
-import { clearanceFromFeelers, formatLength, inchesToMm, INCH_BLADES_THOU, METRIC_BLADES_MM, recommendShim } from "@/lib/lash";
+import { clearanceFromFeelers, formatLength, recommendShim } from "@/lib/lash";
+import { bladeStrip, feelerSet, noGoOf } from "@/lib/check/blades";
 import { STATE_WORDS, valveLabel, type ValveView } from "@/lib/check/derive";
 import type { LocalEngine, LocalReading } from "@/lib/sync/local-db";
 import { READING_VALUE_FIELDS } from "@/lib/schemas/records";
 import { PhotoStrip } from "@/components/photos/photo-strip";
-
-/** The blades on the strip: the engine's set around its bands, so the usual tap is on screen. */
-export function bladesFor(engine: LocalEngine): number[] {
-  const all = engine.displayUnit === "in" ? INCH_BLADES_THOU.map((t) => inchesToMm(t / 1000)) : METRIC_BLADES_MM;
-  const lo = Math.min(engine.intake.min, engine.exhaust.min) - 0.12;
-  const hi = Math.max(engine.intake.max, engine.exhaust.max) + 0.2;
-  return all.filter((b) => b >= lo && b <= hi);
-}
 
 export type ReadingEntry = Pick<LocalReading, "installedStamp" | "installedMicrometer" | "feelerGo" | "feelerNoGo" | "measured" | "method">;
 
@@ -31,6 +24,7 @@ export const ValveCard = memo(
   ValveCardBody,
   (a, b) =>
     a.checkId === b.checkId &&
+    a.onRecorded === b.onRecorded &&
     a.step === b.step &&
     (a.engine === b.engine || JSON.stringify(a.engine) === JSON.stringify(b.engine)) &&
     a.sizes.length === b.sizes.length &&
@@ -58,7 +52,7 @@ function sameView(a: ValveView, b: ValveView) {
   );
 }
 
-function ValveCardBody({ checkId, engine, view, sizes, step, onSave }: { checkId: string; engine: LocalEngine; view: ValveView; sizes: number[]; step: number; onSave: (r: ReadingEntry) => Promise<unknown> }) {
+function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded }: { checkId: string; engine: LocalEngine; view: ValveView; sizes: number[]; step: number; onSave: (r: ReadingEntry) => Promise<unknown>; onRecorded?: () => void }) {
   const unit = engine.displayUnit;
   const r = view.latest && view.latest.round === view.nextRound ? view.latest : undefined;
   const stamp = r?.installedStamp ?? view.installed;
@@ -66,7 +60,8 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave }: { checkId
   const [typing, setTyping] = useState(false);
   const [typed, setTyped] = useState("");
   const [mic, setMic] = useState(micrometer?.toString() ?? "");
-  const blades = bladesFor(engine);
+  const set = feelerSet(unit);
+  const blades = bladeStrip(set, view.spec);
   const per = view.valve.kind === "intake" ? engine.intakePerCylinder : engine.exhaustPerCylinder;
 
   const base: ReadingEntry = {
@@ -83,14 +78,21 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave }: { checkId
     const next = Math.round((cur + dir * step) * 1e6) / 1e6;
     if (next >= sizes[0]! - 1e-9 && next <= sizes.at(-1)! + 1e-9) void save({ installedStamp: next });
   };
-  const tapBlade = (i: number) => {
-    const go = blades[i]!;
-    const noGo = blades[i + 1];
+  const tapBlade = (go: number) => {
+    const noGo = noGoOf(set, go);
     const c = clearanceFromFeelers({ go, noGo });
     // performance marks: npm run bench times a tap to the reading stored and shown
     const valve = view.valve.id;
     performance.mark("lw:tap", { detail: valve });
     void save({ feelerGo: c.min, feelerNoGo: noGo ?? null, measured: c.value, method: "feeler" }).then(() => performance.mark("lw:stored", { detail: valve }));
+    onRecorded?.();
+  };
+  const saveTyped = () => {
+    const value = Number(typed.replace(",", "."));
+    if (!typed.trim() || !Number.isFinite(value)) return;
+    void save({ measured: value, feelerGo: null, feelerNoGo: null, method: "typed" });
+    setTyped("");
+    onRecorded?.();
   };
   useEffect(() => {
     performance.mark("lw:shown", { detail: view.valve.id });
@@ -120,7 +122,7 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave }: { checkId
         : "not measured yet";
 
   return (
-    <article id={`valve-${view.valve.id}`} aria-label={valveLabel(view.valve, per)} className="flex flex-col gap-3 rounded-2xl border border-line bg-surface p-3">
+    <article id={`valve-${view.valve.id}`} data-valve={view.valve.id} aria-label={valveLabel(view.valve, per)} className="flex flex-col gap-3 rounded-2xl border border-line bg-surface p-3">
       <header className="flex items-baseline justify-between">
         <h3 className="text-xl font-extrabold">{valveLabel(view.valve, per)}</h3>
         <span className="figures text-sm text-ink-soft">
@@ -142,42 +144,61 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave }: { checkId
       </div>
       <details>
         <summary className="min-h-12 cursor-pointer py-3 text-sm font-bold text-ink-soft">Micrometer thickness {micrometer != null ? `(${micrometer.toFixed(3)} mm)` : ""}</summary>
-        <div className="flex gap-2">
-          <input aria-label={`Micrometer thickness of ${view.valve.id} in mm`} inputMode="decimal" value={mic} onChange={(e) => setMic(e.target.value)} className="figures min-h-12 w-32 rounded-xl border-2 border-line bg-surface px-3 text-lg" />
-          <button type="button" className="min-h-12 rounded-xl border-2 border-line px-4 font-bold" onClick={() => void save({ installedMicrometer: mic.trim() ? Number(mic.replace(",", ".")) : null })}>
+        <form
+          className="flex gap-2"
+          onSubmit={(e) => {
+            e.preventDefault();
+            void save({ installedMicrometer: mic.trim() ? Number(mic.replace(",", ".")) : null });
+          }}
+        >
+          <input aria-label={`Micrometer thickness of ${view.valve.id} in mm`} inputMode="decimal" enterKeyHint="done" value={mic} onChange={(e) => setMic(e.target.value)} className="figures min-h-12 w-32 rounded-xl border-2 border-line bg-surface px-3 text-lg" />
+          <button type="submit" className="min-h-12 rounded-xl border-2 border-line px-4 font-bold">
             Use
           </button>
-        </div>
+        </form>
       </details>
       <div>
         <p className="mb-1 text-sm font-bold text-ink-soft">Tap the blade that goes ({unit})</p>
-        <div role="group" aria-label={`Feeler blades for ${view.valve.id}`} className="flex gap-1.5 overflow-x-auto pb-1">
-          {blades.map((b, i) => {
+        <div role="group" aria-label={`Feeler blades for ${view.valve.id}`} className="grid grid-cols-6 gap-1.5">
+          {blades.map((b) => {
             const on = base.method === "feeler" && base.feelerGo != null && Math.abs(base.feelerGo - b) < 1e-9;
+            const inBand = b >= view.spec.min - 1e-9 && b <= view.spec.max + 1e-9;
             const label = unit === "in" ? (b / 25.4).toFixed(4).replace(/^0/, "") : b.toFixed(2);
             return (
-              <button key={b} type="button" aria-pressed={on} onClick={() => tapBlade(i)} className={`figures min-h-14 min-w-14 shrink-0 rounded-xl border-2 px-2 text-lg font-bold ${on ? "border-accent bg-accent text-accent-ink" : "border-line"}`}>
+              <button key={b} type="button" aria-pressed={on} onClick={() => tapBlade(b)} className={`figures min-h-12 min-w-0 rounded-xl border-2 px-0.5 font-bold ${unit === "in" ? "text-sm" : "text-base"} ${on ? "border-accent bg-accent text-accent-ink" : inBand ? "border-ok" : "border-line"}`}>
                 {label}
               </button>
             );
           })}
         </div>
+        <p className="mt-1 text-xs text-ink-soft">Blades with a green edge lie in the band.</p>
         <button type="button" onClick={() => setTyping((t) => !t)} className="min-h-12 text-sm font-bold underline">
           {typing ? "Hide typed value" : "Type a value instead"}
         </button>
         {typing && (
-          <div className="flex gap-2">
-            <input aria-label={`Typed clearance of ${view.valve.id} in mm`} inputMode="decimal" value={typed} onChange={(e) => setTyped(e.target.value)} className="figures min-h-12 w-32 rounded-xl border-2 border-line bg-surface px-3 text-lg" />
-            <button type="button" className="min-h-12 rounded-xl border-2 border-line px-4 font-bold" onClick={() => void save({ measured: Number(typed.replace(",", ".")), feelerGo: null, feelerNoGo: null, method: "typed" })}>
+          <form
+            className="flex gap-2"
+            onSubmit={(e) => {
+              e.preventDefault();
+              saveTyped();
+            }}
+          >
+            <input aria-label={`Typed clearance of ${view.valve.id} in mm`} inputMode="decimal" enterKeyHint="done" value={typed} onChange={(e) => setTyped(e.target.value)} className="figures min-h-12 w-32 rounded-xl border-2 border-line bg-surface px-3 text-lg" />
+            <button type="submit" className="min-h-12 rounded-xl border-2 border-line px-4 font-bold">
               Save
             </button>
-          </div>
+          </form>
         )}
       </div>
       <p className="figures text-base" data-testid={`result-${view.valve.id}`}>
         <span className="text-ink-soft">{interval}</span>
         {result && <strong className="block text-lg">{result}</strong>}
       </p>
+      {measured != null && (
+        <button type="button" onClick={() => void save({ feelerGo: null, feelerNoGo: null, measured: null, method: "feeler" })} className="min-h-12 self-start text-sm font-bold underline">
+          Clear this reading
+        </button>
+      )}
       <PhotoStrip checkId={checkId} valve={view.valve.id} label={`valve ${view.valve.id}`} />
     </article>
   );

@@ -1,6 +1,10 @@
 "use client";
 
+import { useQuery } from "@tanstack/react-query";
 import { useRouter } from "next/navigation";
+import { useState } from "react";
+import { fetchers, queryKeys } from "@/lib/api/client";
+import { VERDICTS } from "@/lib/check/verdicts";
 import { openValves, recheckValves, type ValveView } from "@/lib/check/derive";
 import type { LocalCheck, LocalEngine } from "@/lib/sync/local-db";
 import { saveCheck } from "@/lib/sync/writes";
@@ -25,8 +29,13 @@ export function VerifyStep({ engine, views, sizes, step, save, check }: { engine
   const router = useRouter();
   const changed = recheckValves(views);
   const open = openValves(views);
+  // a mentor who said "measure again" or "stop and ask" is named before the check is closed over it
+  const shares = useQuery({ queryKey: queryKeys.shares(check.id), queryFn: () => fetchers.shares(check.id), retry: false });
+  const held = (shares.data ?? []).find((s) => !s.withdrawnAt && s.verdict && s.verdict !== "close-up");
+  const [asking, setAsking] = useState(false);
   const close = async () => {
     if (!db) return;
+    if (held && !asking) return setAsking(true);
     const note = open.length ? `Closed with ${open.map((v) => `${v.valve.id} (${v.state})`).join(", ")} still open.` : check.notes;
     await saveCheck(db, { ...check, status: "closed", notes: note ?? null });
     router.push(`/engine?id=${engine.id}`);
@@ -39,9 +48,25 @@ export function VerifyStep({ engine, views, sizes, step, save, check }: { engine
         <ValveCard key={v.valve.id} checkId={check.id} engine={engine} view={v} sizes={sizes} step={step} onSave={save(v)} />
       ))}
       {open.length === 0 ? <Notice tone="ok">✓ Every valve is in its band.</Notice> : <Notice>{openWords(open)}</Notice>}
-      <Button type="button" onClick={close} look={open.length ? "plain" : "primary"}>
-        {open.length ? "Close the check with open items noted" : "Close the check"}
-      </Button>
+      {asking && held?.verdict ? (
+        <div role="alertdialog" aria-labelledby="close-ask" className="flex flex-col gap-2 rounded-2xl border-2 border-tight p-3">
+          <p id="close-ask" className="font-bold">
+            The club&apos;s verdict on this check is “{VERDICTS[held.verdict].glyph} {VERDICTS[held.verdict].word}”. Close it anyway?
+          </p>
+          <div className="flex flex-wrap gap-2">
+            <Button type="button" look="plain" onClick={() => setAsking(false)}>
+              Keep it open
+            </Button>
+            <Button type="button" onClick={close}>
+              Close anyway
+            </Button>
+          </div>
+        </div>
+      ) : (
+        <Button type="button" onClick={close} look={open.length ? "plain" : "primary"} disabled={shares.isPending && shares.fetchStatus === "fetching"}>
+          {open.length ? "Close the check with open items noted" : "Close the check"}
+        </Button>
+      )}
     </section>
   );
 }

@@ -22,8 +22,8 @@ export default function DriftChart({ h, unit }: { h: ValveHistory; unit: string 
       <ResponsiveContainer width="100%" height="100%">
         <ComposedChart margin={{ top: 8, right: 12, bottom: 8, left: 4 }}>
           <CartesianGrid stroke="var(--line)" strokeDasharray="3 3" />
-          <XAxis type="number" dataKey="x" domain={["dataMin", "dataMax"]} stroke="var(--ink-soft)" tickFormatter={(v: number) => `${Math.round(v / 1000)}k`} label={{ value: unit, position: "insideBottomRight", offset: -4, fill: "var(--ink-soft)" }} />
-          <YAxis type="number" domain={[Math.min(...ys) - pad, Math.max(...ys) + pad]} stroke="var(--ink-soft)" tickFormatter={(v: number) => v.toFixed(2)} width={48} />
+          <XAxis type="number" dataKey="x" domain={["dataMin", "dataMax"]} stroke="var(--ink-soft)" tickFormatter={(v: number) => `${Math.round(v / 1000)}k`} label={{ value: `odometer, thousand ${unit}`, position: "insideBottom", offset: -4, fill: "var(--ink-soft)" }} height={44} />
+          <YAxis type="number" domain={[Math.min(...ys) - pad, Math.max(...ys) + pad]} stroke="var(--ink-soft)" tickFormatter={(v: number) => v.toFixed(2)} width={56} label={{ value: "gap, mm", angle: -90, position: "insideLeft", fill: "var(--ink-soft)" }} />
           <Tooltip formatter={(v) => (typeof v === "number" ? `${v.toFixed(3)} mm` : String(v))} labelFormatter={(v) => `${Number(v).toLocaleString("en")} ${unit}`} />
           {limitGap != null && <ReferenceLine y={limitGap} stroke="var(--tight)" strokeDasharray="6 4" label={{ value: "lower edge with this shim", fill: "var(--tight)", position: "insideBottomLeft" }} />}
           {fit.length > 0 && <Line data={fit} dataKey="fit" stroke="var(--accent)" dot={false} strokeWidth={2} isAnimationActive={false} name="trend" />}

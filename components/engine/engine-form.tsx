@@ -26,6 +26,9 @@ interface FormValues {
   measuredHot: boolean;
   shims: { min: string; max: string; step: string };
   assembledShim: string;
+  shimDiameter: string;
+  /** where cylinder 1 is as the mechanic faces the engine at work */
+  facing: "left" | "right";
   displayUnit: "mm" | "in";
   odometerUnit: "km" | "mi" | "h";
 }
@@ -48,9 +51,10 @@ function toEngine(v: FormValues, id: string) {
     measuredHot: v.measuredHot,
     shims: { min: num(v.shims.min), max: num(v.shims.max), step: num(v.shims.step) },
     assembledShim: num(v.assembledShim) ?? null,
+    shimDiameter: num(v.shimDiameter) ?? null,
     displayUnit: v.displayUnit,
     odometerUnit: v.odometerUnit,
-    mirrored: false,
+    mirrored: v.facing === "right",
   };
 }
 
@@ -71,6 +75,8 @@ function fromEngine(e: LocalEngine): FormValues {
     measuredHot: e.measuredHot,
     shims: { min: t(s.min), max: t(s.max), step: t(s.step) },
     assembledShim: t(e.assembledShim),
+    shimDiameter: t(e.shimDiameter),
+    facing: e.mirrored ? "right" : "left",
     displayUnit: e.displayUnit,
     odometerUnit: e.odometerUnit,
   };
@@ -90,6 +96,8 @@ const BLANK: FormValues = {
   measuredHot: false,
   shims: { min: "2.50", max: "3.30", step: "0.05" },
   assembledShim: "",
+  shimDiameter: "",
+  facing: "left",
   displayUnit: "mm",
   odometerUnit: "km",
 };
@@ -243,6 +251,22 @@ export function EngineForm() {
         {text("shims.step", "Step", { unit: "mm", numeric: true })}
       </fieldset>
       {text("assembledShim", "Shim fitted at assembly (optional)", { unit: "mm", numeric: true, hint: "Offers a one-tap fill of every bucket on the first check" })}
+      {text("shimDiameter", "Shim diameter (optional)", { unit: "mm", numeric: true, hint: "The plan then uses only tray and club shims of this diameter" })}
+      <fieldset className="flex flex-col gap-2">
+        <legend className="mb-1 text-lg font-bold">As you face the engine at work</legend>
+        <p className="text-sm text-ink-soft">On a stand, in a frame or in the vehicle: the diagram is drawn the way you see it, for you and for a mentor.</p>
+        {(
+          [
+            ["left", "Cylinder 1 on your left"],
+            ["right", "Cylinder 1 on your right"],
+          ] as const
+        ).map(([value, label]) => (
+          <label key={value} className="flex min-h-12 items-center gap-3 rounded-xl border-2 border-line px-3 font-bold">
+            <input type="radio" value={value} className="h-6 w-6" {...form.register("facing")} />
+            {label}
+          </label>
+        ))}
+      </fieldset>
       <details className="rounded-xl border border-line p-3">
         <summary className="min-h-12 cursor-pointer py-3 font-bold">Valve timing (crank degrees; defaults for a street engine)</summary>
         <div className="grid grid-cols-2 gap-3">

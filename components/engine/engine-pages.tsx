@@ -30,7 +30,7 @@ export function EngineList() {
           </li>
         ))}
       </ul>
-      <ButtonLink href="/engine/edit">＋ Add an engine</ButtonLink>
+      <ButtonLink href="/engine/edit">+ Add an engine</ButtonLink>
     </div>
   );
 }

@@ -17,7 +17,9 @@ export function BorrowList({ plan, pool, fit, checkId }: { plan: ShimPlan; pool:
   const names = new Map(pool.offers.map((o) => [o.ownerId, o.ownerName]));
   const mm = (n: number) => formatLength(n, "mm");
   const misfits = fit.wrongSystem.filter((o) => plan.buy.some((b) => toNm(b.size) === toNm(o.size)));
-  if (plan.borrow.length === 0 && misfits.length === 0) return null;
+  // every offer is for another shim system (or cannot be matched): say so rather than show nothing
+  const noneFit = fit.pool.length === 0 && fit.wrongSystem.length > 0 && plan.buy.length > 0;
+  if (plan.borrow.length === 0 && misfits.length === 0 && !noneFit) return null;
   return (
     <section aria-labelledby="borrow-title" className="rounded-2xl border border-line bg-surface p-4">
       <h2 id="borrow-title" className="text-xl font-extrabold">
@@ -57,6 +59,11 @@ export function BorrowList({ plan, pool, fit, checkId }: { plan: ShimPlan; pool:
           );
         })}
       </ul>
+      {noneFit && misfits.length === 0 && (
+        <Notice>
+          None of the club&apos;s {fit.wrongSystem.length} offer{fit.wrongSystem.length === 1 ? "" : "s"} can be used for this engine: {[...new Set(fit.wrongSystem.map((o) => o.reason))].join("; ")}.
+        </Notice>
+      )}
       {misfits.length > 0 && (
         <Notice>
           {misfits.map((o) => `${mm(o.size)} is in the pool (${o.ownerName}) but cannot be used: ${o.reason}.`).join(" ")}

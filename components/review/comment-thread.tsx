@@ -27,7 +27,7 @@ export function CommentThread({
   const [photoKey, setPhotoKey] = useState(0);
   const [error, setError] = useState<string | null>(null);
   return (
-    <section aria-labelledby="comments-title" className="flex flex-col gap-3">
+    <section id="comments" aria-labelledby="comments-title" className="flex scroll-mt-4 flex-col gap-3">
       <h2 id="comments-title" className="text-xl font-extrabold">
         Comments
       </h2>

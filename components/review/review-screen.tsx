@@ -3,8 +3,9 @@
 import { useQuery, useQueryClient } from "@tanstack/react-query";
 import { useLiveQuery } from "dexie-react-hooks";
 import { useSearchParams } from "next/navigation";
+import Link from "next/link";
 import { useMemo } from "react";
-import { formatLength } from "@/lib/lash";
+import { valveRounds } from "@/lib/check/rounds";
 import { checkPlan, valveViews } from "@/lib/check/derive";
 import { VERDICTS, type Verdict } from "@/lib/check/verdicts";
 import { fetchers, queryKeys } from "@/lib/api/client";
@@ -70,6 +71,7 @@ export function ReviewScreen() {
   if (!engine || !views) return null;
   const share = shares.data?.find((s) => !s.withdrawnAt);
   const unit = engine.displayUnit;
+  const allReadings = (readings.data ?? []) as unknown as LocalReading[];
   const serverComments = comments.data ?? [];
   const known = new Set(serverComments.map((c) => c.id));
   const thread: ThreadComment[] = [
@@ -86,29 +88,33 @@ export function ReviewScreen() {
       <p className="figures text-ink-soft">
         {engine.name} · {check.data.check.odometer.toLocaleString("en")} {engine.odometerUnit} · {isMentor ? "read-only: you are reviewing" : "your check"}
       </p>
+      {!isMentor && (
+        <Link href={`/check?id=${id}`} className="inline-flex min-h-12 items-center justify-center self-start rounded-xl border-2 border-line px-5 text-lg font-bold">
+          Open the check to work on it
+        </Link>
+      )}
       <EngineDiagram views={views} mirrored={engine.mirrored} commentDots={dots} />
       <section aria-labelledby="readings-title" className="flex flex-col gap-2">
         <h2 id="readings-title" className="text-xl font-extrabold">
           Readings and how they were found
         </h2>
         <ul className="figures flex flex-col gap-1 text-base">
-          {views.map((v) => {
-            const r = v.latest;
-            const how = !r || r.measured == null ? "not measured" : r.method === "typed" ? `${formatLength(r.measured, unit)} typed` : `${formatLength(r.feelerGo ?? r.measured, unit)} goes${r.feelerNoGo != null ? `, ${formatLength(r.feelerNoGo, unit)} does not` : ""}`;
-            const shim = r?.installedMicrometer != null ? `${r.installedMicrometer.toFixed(3)} micrometer` : r?.installedStamp != null ? `${r.installedStamp.toFixed(2)} stamp` : "shim ?";
-            return (
-              <li key={v.valve.id} className="flex flex-col gap-1 border-b border-line py-1">
-                <div className="flex justify-between gap-2">
-                <strong>{v.valve.id}</strong>
-                <span className="text-right">
-                  {shim} · {how}
-                  {r && r.round > 0 ? ` (re-check ${r.round})` : ""}
-                </span>
-                </div>
-                <PhotoStrip checkId={id} valve={v.valve.id} canAdd={false} label={`valve ${v.valve.id}`} />
-              </li>
-            );
-          })}
+          {views.map((v) => (
+            <li key={v.valve.id} className="flex flex-col gap-1 border-b border-line py-1" data-testid={`rounds-${v.valve.id}`}>
+              <strong>{v.valve.id}</strong>
+              {/* every round, the first readings and each re-check, so the reviewer reads the whole story */}
+              <ol className="flex flex-col gap-0.5">
+                {valveRounds(allReadings, v.valve.id, unit).map((r) => (
+                  <li key={r.round} className="flex flex-wrap justify-between gap-x-2">
+                    <span className="text-ink-soft">{r.title}</span>
+                    <span className="text-right">{r.text}</span>
+                  </li>
+                ))}
+                {v.latest == null && <li className="text-ink-soft">not measured</li>}
+              </ol>
+              <PhotoStrip checkId={id} valve={v.valve.id} canAdd={false} label={`valve ${v.valve.id}`} />
+            </li>
+          ))}
         </ul>
       </section>
       <section aria-labelledby="photos-title" className="flex flex-col gap-2">
@@ -118,7 +124,7 @@ export function ReviewScreen() {
         <PhotoStrip checkId={id} valve={null} canAdd label="the whole check" />
       </section>
       {plan && <PlanTable engine={engine} plan={plan} byId={new Map(views.map((v) => [v.valve.id, v]))} />}
-      <section aria-labelledby="verdict-title" className="flex flex-col gap-2 rounded-2xl border-2 border-accent p-4">
+      <section id="verdict" aria-labelledby="verdict-title" className="flex scroll-mt-4 flex-col gap-2 rounded-2xl border-2 border-accent p-4">
         <h2 id="verdict-title" className="text-xl font-extrabold">
           Verdict
         </h2>

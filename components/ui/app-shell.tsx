@@ -21,7 +21,7 @@ const PLACES = [
  */
 export function AppShell({ title, children, back }: { title: string; children: ReactNode; back?: { href: string; label: string } }) {
   const path = usePathname();
-  const { user, ready, forget, waiting } = useLocal();
+  const { user, ready, forget, waiting, state } = useLocal();
   const signOut = async () => {
     // changes not yet on the server would be lost with the local database: say so first
     if (waiting > 0 && !window.confirm(`${waiting === 1 ? "1 change on this phone is" : `${waiting} changes on this phone are`} not on the server yet. Signing out deletes ${waiting === 1 ? "it" : "them"}. Sign out anyway?`)) return;
@@ -34,6 +34,9 @@ export function AppShell({ title, children, back }: { title: string; children: R
     // eslint-disable-next-line @next/next/no-location-assign-relative-destination
     window.location.href = "/";
   };
+  // nobody known on this phone yet: ask for a sign-in only once the server has said so (or cannot be
+  // reached), not in the moment just after signing in while the identity is still on its way
+  const answered = state === "signed-out" || state === "offline";
   return (
     <div className="mx-auto flex min-h-dvh max-w-xl flex-col">
       <a href="#content" className="sr-only focus:not-sr-only focus:absolute focus:top-2 focus:left-2 focus:z-50 focus:inline-flex focus:min-h-12 focus:items-center focus:rounded-xl focus:bg-accent focus:px-4 focus:font-bold focus:text-accent-ink">
@@ -66,6 +69,8 @@ export function AppShell({ title, children, back }: { title: string; children: R
         {user && <StorageNotice />}
         {!ready ? null : user ? (
           children
+        ) : !answered ? (
+          <p className="text-ink-soft">Checking who is signed in…</p>
         ) : (
           <div className="flex flex-col gap-3">
             <Notice>Sign in once with a signal; after that this phone keeps your work even with none.</Notice>

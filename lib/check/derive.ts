@@ -1,4 +1,4 @@
-import { planShims, shimSeries, valveNames, type ShimPlan, type ShimSource, type ValveName } from "../lash";
+import { planShims, shimSeries, valveNames, type PlanAim, type ShimPlan, type ShimSource, type ValveName } from "../lash";
 import type { LocalEngine, LocalReading } from "../sync/local-db";
 
 /**
@@ -13,7 +13,7 @@ export const STATE_WORDS: Record<ValveState, { word: string; glyph: string }> = 
   tight: { word: "tight", glyph: "▼" },
   loose: { word: "loose", glyph: "▲" },
   fitted: { word: "re-measure", glyph: "↻" },
-  verified: { word: "verified", glyph: "✔" },
+  verified: { word: "verified", glyph: "✓✓" },
 };
 
 export interface ValveView {
@@ -49,7 +49,15 @@ export function valveViews(engine: LocalEngine, readings: LocalReading[], fallba
 }
 
 /** The plan over every measured valve whose shim is known; in-band valves keep theirs. */
-export function checkPlan(engine: LocalEngine, views: ValveView[], tray: { size: number; count: number }[], pool: { size: number; count: number; ownerId: string }[] = []): ShimPlan | null {
+export interface PlanOptions {
+  aim: PlanAim;
+  /** mm kept clear of the band's tight edge by a new shim */
+  tightMargin: number;
+}
+
+export const DEFAULT_PLAN_OPTIONS: PlanOptions = { aim: "fewest-bought", tightMargin: 0 };
+
+export function checkPlan(engine: LocalEngine, views: ValveView[], tray: { size: number; count: number }[], pool: { size: number; count: number; ownerId: string }[] = [], options: PlanOptions = DEFAULT_PLAN_OPTIONS): ShimPlan | null {
   const ready = views.filter((v) => v.measured != null && v.installed != null && v.state !== "fitted");
   if (ready.length === 0) return null;
   return planShims({
@@ -57,6 +65,7 @@ export function checkPlan(engine: LocalEngine, views: ValveView[], tray: { size:
     sizes: engineSizes(engine),
     tray,
     pool,
+    ...options,
   });
 }
 

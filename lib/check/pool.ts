@@ -33,3 +33,19 @@ export function poolForEngine(engine: { shimDiameter: number | null }, offers: P
   }
   return { pool, wrongSystem };
 }
+
+/**
+ * The tray shims the plan may use for an engine: one's own tray, so a shim with no diameter noted is
+ * trusted; one whose noted diameter differs from the engine's is left out and counted, so the plan
+ * can say so.
+ */
+export function trayForEngine<T extends { size: number; count: number; shimDiameter: number | null }>(engine: { shimDiameter: number | null }, tray: T[]): { usable: T[]; otherSystem: number } {
+  const usable: T[] = [];
+  let otherSystem = 0;
+  for (const t of tray) {
+    if (t.count <= 0) continue;
+    if (engine.shimDiameter != null && t.shimDiameter != null && !same(t.shimDiameter, engine.shimDiameter)) otherSystem += t.count;
+    else usable.push(t);
+  }
+  return { usable, otherSystem };
+}

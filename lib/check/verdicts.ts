@@ -2,7 +2,7 @@
 export const VERDICTS = {
   "close-up": { word: "Fine to close up", glyph: "✓" },
   "measure-again": { word: "Measure again", glyph: "↻" },
-  "stop-and-ask": { word: "Stop and ask", glyph: "✋" },
+  "stop-and-ask": { word: "Stop and ask", glyph: "⚠" },
 } as const;
 export type Verdict = keyof typeof VERDICTS;
 /** The verdicts' names, in order: the schema, the database column and the screens all take them from here. */

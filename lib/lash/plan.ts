@@ -50,7 +50,9 @@ interface Row {
   id: string;
   installedNm: number;
   gapNm: number;
+  /** the band a new shim aims for: the spec's band less the tight-edge margin */
   band: BandNm;
+  spec: BandNm;
   /** the valve's own best answer from the catalog alone (buy, or keep when nothing does better) */
   fallback: ReturnType<typeof recommendNm>;
 }
@@ -60,6 +62,12 @@ type Column =
   | { kind: "tray"; sizeNm: number }
   | { kind: "club"; sizeNm: number; ownerId: string }
   | { kind: "private"; rowIndex: number };
+
+/** The band less a margin at its tight edge, its target kept inside what is left. */
+function narrowed(b: BandNm, marginNm: number): BandNm {
+  const min = Math.min(b.min + marginNm, b.max);
+  return { min, max: b.max, target: Math.max(b.target, min) };
+}
 
 function group(sizesNm: number[]): SizeCount[] {
   const counts = new Map<number, number>();
@@ -77,10 +85,13 @@ function group(sizesNm: number[]): SizeCount[] {
  * fall back to its own column (buy the catalog's best size, or keep its shim), so a full matching
  * always exists.
  */
-export function planShims(input: { valves: PlanValve[]; sizes: number[]; tray?: SizeCount[]; pool?: (SizeCount & { ownerId: string })[] }): ShimPlan {
+export type PlanAim = "fewest-bought" | "nearest-target";
+
+export function planShims(input: { valves: PlanValve[]; sizes: number[]; tray?: SizeCount[]; pool?: (SizeCount & { ownerId: string })[]; aim?: PlanAim; tightMargin?: number }): ShimPlan {
   const p = parseOrThrow(planInputSchema, input, "plan input");
   const sizesNm = [...new Set(p.sizes.map(toNm))].sort((a, b) => a - b);
   const slack = toNm(INSTALLED_RANGE_SLACK_MM);
+  const marginNm = toNm(p.tightMargin);
   const lo = sizesNm[0]! - slack;
   const hi = sizesNm[sizesNm.length - 1]! + slack;
 
@@ -92,14 +103,17 @@ export function planShims(input: { valves: PlanValve[]; sizes: number[]; tray?: 
       throw new LashInputError(`Valve ${v.id}: the installed shim ${v.installed} mm is outside this engine's shim range`, [
         { path: `valves.${index}.installed`, message: "outside the shim system's range" },
       ]);
-    const band = bandNm(v.spec);
+    const spec = bandNm(v.spec);
     const measuredNm = toNm(v.measured);
+    // a new shim aims inside the band less the margin at its tight edge (the target moves up if it
+    // falls in the margin); whether a valve needs a change, and its in-spec flag, use the band itself
+    const band = marginNm > 0 ? narrowed(spec, marginNm) : spec;
     const fallback = recommendNm(installedNm, measuredNm, band, sizesNm);
-    if (inBand(measuredNm, band)) {
+    if (inBand(measuredNm, spec)) {
       assignments[index] = { valveId: v.id, size: fromNm(installedNm), predicted: fromNm(measuredNm), source: { kind: "keep" }, inSpec: true, ideal: fromNm(fallback.idealNm) };
       return;
     }
-    rows.push({ index, id: v.id, installedNm, gapNm: installedNm + measuredNm, band, fallback });
+    rows.push({ index, id: v.id, installedNm, gapNm: installedNm + measuredNm, band, spec, fallback });
   });
 
   const outgoing: number[] = []; // installed sizes of valves whose shim comes out
@@ -129,15 +143,24 @@ export function planShims(input: { valves: PlanValve[]; sizes: number[]; tray?: 
     }
     for (const r of rows) columns.push({ kind: "private", rowIndex: r.index });
 
-    // Lexicographic weights, sized from this problem so that every sum stays an exact integer.
+    // Lexicographic weights, sized from this problem so that every sum stays an exact integer. The
+    // aim decides whether buying fewer outranks landing nearer the target, or the other way round.
     const n = rows.length;
     const dMax = Math.max(...rows.map((r) => Math.max(r.band.target - r.band.min, r.band.max - r.band.target)));
-    const wDist = n + 1; // a nanometre of distance outweighs every tie-break together
-    const rowMax = wDist * dMax + 1;
-    const BORROW = n * rowMax + 1;
-    const BUY = n * (BORROW + rowMax) + 1;
-    const OUT = n * (BUY + BORROW + rowMax) + 1;
-    if (n * (OUT + BUY + BORROW + rowMax) > Number.MAX_SAFE_INTEGER) throw new LashInputError("Plan too large to solve exactly");
+    let wDist: number, BORROW: number, BUY: number, OUT: number;
+    if (p.aim === "fewest-bought") {
+      wDist = n + 1; // a nanometre of distance outweighs every tie-break together
+      const rowMax = wDist * dMax + 1;
+      BORROW = n * rowMax + 1;
+      BUY = n * (BORROW + rowMax) + 1;
+      OUT = n * (BUY + BORROW + rowMax) + 1;
+    } else {
+      BORROW = n + 1; // one borrow outweighs every tie-break together
+      BUY = n * (BORROW + 1) + 1;
+      wDist = n * (BUY + BORROW + 1) + 1;
+      OUT = n * (wDist * dMax + BUY + BORROW + 1) + 1;
+    }
+    if (n * (OUT + BUY + BORROW + wDist * dMax + 1) > Number.MAX_SAFE_INTEGER) throw new LashInputError("Plan too large to solve exactly");
 
     const inBandCost = (r: Row, sizeNm: number) => {
       const predicted = r.gapNm - sizeNm;
@@ -185,7 +208,7 @@ export function planShims(input: { valves: PlanValve[]; sizes: number[]; tray?: 
         size: fromNm(sizeNm),
         predicted: fromNm(predictedNm),
         source,
-        inSpec: inBand(predictedNm, r.band),
+        inSpec: inBand(predictedNm, r.spec),
         ideal: fromNm(r.fallback.idealNm),
       };
     }

@@ -11,8 +11,10 @@ export interface ValveRef {
 export interface RotationStep {
   /** crank degrees from cylinder 1's firing TDC, in the engine's normal direction of rotation */
   crankAngle: number;
-  /** the cylinder that is at firing TDC (top of its compression stroke) at this position */
+  /** the cylinder that is at firing TDC (top of its compression stroke) at this position, or was last */
   tdcCylinder: number;
+  /** crank degrees past that cylinder's firing TDC: 0 at a TDC mark */
+  pastTdc: number;
   valves: ValveRef[];
 }
 
@@ -59,50 +61,66 @@ export function rotationGuide(input: {
   const offset = raw[r.firingOrder.indexOf(1)]!;
   r.firingOrder.forEach((cyl, i) => tdc.set(cyl, mod720(raw[i]! - offset)));
 
-  const candidates = [...tdc.entries()].map(([cyl, angle]) => ({ cyl, angle })).sort((a, b) => a.angle - b.angle);
+  const tdcStops = [...tdc.entries()].map(([cyl, angle]) => ({ cyl, angle, pastTdc: 0 })).sort((a, b) => a.angle - b.angle);
   const valves: ValveRef[] = [];
   for (let c = 1; c <= n; c++) valves.push({ cylinder: c, kind: "intake" }, { cylinder: c, kind: "exhaust" });
-  const checkable = candidates.map((cand) =>
-    valves.map((v) => onBaseCircle(v.kind, cand.angle - tdc.get(v.cylinder)!, timing, margin)),
-  );
-  const all = (1 << valves.length) - 1;
-  const masks = checkable.map((row) => row.reduce((m, ok, i) => (ok ? m | (1 << i) : m), 0));
+  // bit masks as bigints: 16 cylinders have 32 valve kinds, past the 31 bits a JS shift can hold
+  const all = (1n << BigInt(valves.length)) - 1n;
+  const freeAt = (angle: number) => valves.map((v) => onBaseCircle(v.kind, angle - tdc.get(v.cylinder)!, timing, margin));
 
-  // Subsets of candidates by size, and within a size in rotation order (lexicographic indices).
-  let chosen: number[] | undefined;
-  const pick = (start: number, left: number, acc: number[], mask: number): boolean => {
-    if (left === 0) {
-      if (mask === all) {
+  /** the fewest stops among these that free every valve, trying subsets by size and then in rotation order */
+  const cover = (stops: { angle: number }[]): number[] | undefined => {
+    const masks = stops.map((st) => freeAt(st.angle).reduce((m, ok, i) => (ok ? m | (1n << BigInt(i)) : m), 0n));
+    let chosen: number[] | undefined;
+    const pick = (start: number, left: number, acc: number[], mask: bigint): boolean => {
+      if (left === 0) {
+        if (mask !== all) return false;
         chosen = [...acc];
         return true;
       }
+      for (let i = start; i <= stops.length - left; i++) {
+        acc.push(i);
+        if (pick(i + 1, left - 1, acc, mask | masks[i]!)) return true;
+        acc.pop();
+      }
       return false;
-    }
-    for (let i = start; i <= candidates.length - left; i++) {
-      acc.push(i);
-      if (pick(i + 1, left - 1, acc, mask | masks[i]!)) return true;
-      acc.pop();
-    }
-    return false;
+    };
+    for (let size = 1; size <= stops.length && !chosen; size++) pick(0, size, [], 0n);
+    return chosen;
   };
-  for (let size = 1; size <= candidates.length && !chosen; size++) pick(0, size, [], 0);
+
+  // Firing TDCs first: they have marks on the engine. Long cam timing (a single or a twin with wide
+  // windows) can leave a valve lifted at every TDC; then stops every 30 degrees are offered too,
+  // named by the last TDC before them. A lift window is at most 480 degrees (the schema's timing
+  // bounds), so every valve is free for at least 200 of the 720 and a 30 degree grid always covers.
+  let candidates = tdcStops;
+  let chosen = cover(candidates);
+  if (!chosen) {
+    const extra = Array.from({ length: 24 }, (_, k) => k * 30)
+      .filter((a) => !tdcStops.some((t) => Math.abs(t.angle - a) < 1e-9))
+      .map((angle) => {
+        const before = [...tdcStops].reverse().find((t) => t.angle <= angle) ?? tdcStops.at(-1)!;
+        return { cyl: before.cyl, angle, pastTdc: mod720(angle - before.angle) };
+      });
+    candidates = [...tdcStops, ...extra].sort((a, b) => a.angle - b.angle);
+    chosen = cover(candidates);
+  }
   if (!chosen)
-    throw new LashInputError(
-      "With this valve timing and margin some valve is never on its base circle at a firing TDC: check the timing or lower the margin",
-      [{ path: "margin", message: "no crank position frees every valve" }],
-    );
+    throw new LashInputError("With this valve timing and margin some valve is never on its base circle: check the timing or lower the margin", [
+      { path: "margin", message: "no crank position frees every valve" },
+    ]);
 
   const listed = new Set<number>();
   const steps: RotationStep[] = chosen.map((ci) => {
     const list: ValveRef[] = [];
-    valves.forEach((v, vi) => {
-      if (checkable[ci]![vi] && !listed.has(vi)) {
+    freeAt(candidates[ci]!.angle).forEach((free, vi) => {
+      if (free && !listed.has(vi)) {
         listed.add(vi);
-        list.push(v);
+        list.push(valves[vi]!);
       }
     });
     const order = (a: ValveRef, b: ValveRef) => (a.kind === b.kind ? a.cylinder - b.cylinder : a.kind === "intake" ? -1 : 1);
-    return { crankAngle: candidates[ci]!.angle, tdcCylinder: candidates[ci]!.cyl, valves: list.sort(order) };
+    return { crankAngle: candidates[ci]!.angle, tdcCylinder: candidates[ci]!.cyl, pastTdc: candidates[ci]!.pastTdc, valves: list.sort(order) };
   });
   return { steps };
 }

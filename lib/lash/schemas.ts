@@ -76,6 +76,10 @@ export const planInputSchema = z
     sizes: shimSizesSchema,
     tray: z.array(trayItemSchema).max(2000).default([]),
     pool: z.array(poolItemSchema).max(2000).default([]),
+    /** "fewest-bought" (the default): buy the fewest shims, then land nearest the target; "nearest-target" the other way round */
+    aim: z.enum(["fewest-bought", "nearest-target"]).default("fewest-bought"),
+    /** a new shim must leave at least this much above the band's tight edge (mm) */
+    tightMargin: lengthMm.max(0.2, { error: "at most 0.2 mm" }).default(0),
   })
   .superRefine((p, ctx) => {
     const seen = new Set<string>();

@@ -33,10 +33,10 @@ const shimSystem = z.union([
 export const engineFields = z.object({
   id: idSchema.optional(),
   name,
-  cylinders: z.number().int().min(1, { error: "1 to 8 cylinders" }).max(8, { error: "1 to 8 cylinders" }),
+  cylinders: z.number().int().min(1, { error: "1 to 16 cylinders" }).max(16, { error: "1 to 16 cylinders" }),
   intakePerCylinder: z.number().int().min(1).max(3),
   exhaustPerCylinder: z.number().int().min(1).max(2),
-  firingOrder: z.array(z.number().int().min(1).max(8)).min(1).max(8),
+  firingOrder: z.array(z.number().int().min(1).max(16)).min(1).max(16),
   firingAngles: z.array(z.number().finite().min(0).max(720)).nullable().optional(),
   timing: timingSchema.optional(),
   intake: specSchema,

@@ -4,7 +4,7 @@ import { mkdtempSync, rmSync } from "node:fs";
 import { tmpdir } from "node:os";
 import path from "node:path";
 import { Client } from "../support/api";
-import { baseUrl, CHROMIUM_ARGS, PHONE } from "../support/browser";
+import { baseUrl, CHROMIUM_ARGS, PHONE, tapReading } from "../support/browser";
 import { rawConnection } from "../support/db";
 import { ENGINE_FOUR, makeUser } from "../support/fixtures";
 
@@ -30,10 +30,7 @@ async function server(checkId: string) {
 }
 
 async function tap(page: Page, taps: Record<string, string>) {
-  for (const [valve, blade] of Object.entries(taps)) {
-    await page.getByRole("group", { name: `Feeler blades for ${valve}` }).getByRole("button", { name: blade, exact: true }).tap();
-    await page.getByRole("group", { name: `Feeler blades for ${valve}` }).getByRole("button", { name: blade, exact: true, pressed: true }).waitFor();
-  }
+  for (const [valve, blade] of Object.entries(taps)) await tapReading(page, valve, blade);
 }
 
 describe("closing the page at the worst moments", () => {

@@ -31,3 +31,14 @@ export async function signInAs(page: Page, email: string, password = DEMO_PASSWO
   await page.getByRole("button", { name: "Sign in", exact: true }).tap();
   await page.waitForURL("**/engines");
 }
+
+/**
+ * Record one valve's reading on the measuring screen: pick the valve on the engine diagram, tap its
+ * blade, and wait until the diagram shows it measured (the screen then moves on to the next valve).
+ */
+export async function tapReading(page: Page, valve: string, blade: string) {
+  const esc = valve.replace(".", "\\.");
+  await page.getByRole("button", { name: new RegExp(`^${esc} `) }).tap();
+  await page.getByRole("group", { name: `Feeler blades for ${valve}` }).getByRole("button", { name: blade, exact: true }).tap();
+  await page.getByRole("button", { name: new RegExp(`^${esc} (in band|tight|loose|verified)`) }).waitFor();
+}

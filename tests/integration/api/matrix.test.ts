@@ -118,7 +118,7 @@ const TABLE: Row[] = [
   { route: "PATCH /api/account", path: () => "/api/account", body: () => ({ displayUnit: "mm" }), expect: EVERYONE(200), bad: { body: { displayUnit: "furlong" }, field: "displayUnit" } },
 
   { route: "GET /api/engines", path: () => "/api/engines", expect: EVERYONE(200) },
-  { route: "POST /api/engines", path: () => "/api/engines", body: () => ENGINE_FOUR, expect: EVERYONE(201), bad: { body: { ...ENGINE_FOUR, cylinders: 12 }, field: "cylinders" } },
+  { route: "POST /api/engines", path: () => "/api/engines", body: () => ENGINE_FOUR, expect: EVERYONE(201), bad: { body: { ...ENGINE_FOUR, cylinders: 17 }, field: "cylinders" } },
   { route: "GET /api/engines/:engineId", path: (i) => `/api/engines/${i.engineId}`, expect: { ...OWNER_ONLY, owner: 200 } },
   { route: "PATCH /api/engines/:engineId", path: (i) => `/api/engines/${i.engineId}`, body: () => ({ name: "Renamed four" }), expect: { ...OWNER_ONLY, owner: 200 }, bad: { body: { intake: { min: 0.3, max: 0.2 } }, field: "intake.max" } },
   { route: "DELETE /api/engines/:engineId", path: (i) => `/api/engines/${i.engineId}`, fresh: freshEngine, expect: { ...OWNER_ONLY, owner: 204 } },

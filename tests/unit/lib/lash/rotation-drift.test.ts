@@ -27,7 +27,7 @@ describe("rotationGuide", () => {
 
   it("a single checks both valves at its firing TDC", () => {
     const { steps } = rotationGuide({ firingOrder: [1] });
-    expect(steps).toEqual([{ crankAngle: 0, tdcCylinder: 1, valves: [{ cylinder: 1, kind: "intake" }, { cylinder: 1, kind: "exhaust" }] }]);
+    expect(steps).toEqual([{ crankAngle: 0, tdcCylinder: 1, pastTdc: 0, valves: [{ cylinder: 1, kind: "intake" }, { cylinder: 1, kind: "exhaust" }] }]);
   });
 
   it("90 degree V-twin firing at 0 and 270: two stops, the rear intake only at its own TDC", () => {
@@ -57,10 +57,43 @@ describe("rotationGuide", () => {
     }
   });
 
-  it("rejects a firing order that misses a cylinder, and timing that frees no valve", () => {
+  it("rejects a firing order that misses a cylinder, and firing angles that do not match it", () => {
     expect(() => rotationGuide({ firingOrder: [1, 3, 3, 2] })).toThrow(/each cylinder 1 to 4 once/);
     expect(() => rotationGuide({ firingOrder: [1, 2], firingAngles: [0] })).toThrow(LashInputError);
-    expect(() => rotationGuide({ firingOrder: [1], timing: { ivo: 90, ivc: 150, evo: 150, evc: 90 }, margin: 90 })).toThrow(/never on its base circle/);
+  });
+
+  it("offers stops between the TDC marks when long timing leaves a valve lifted at every TDC", () => {
+    // derived (shared/TRADE.md windows): with IVO 90, IVC 150 and a 90 degree margin the intake is
+    // lifted from 180 to 780 (= 60), so free only strictly between 60 and 180 degrees past firing
+    // TDC; the exhaust (EVO 150, EVC 90) from -60 to 540, so free between 540 and 660. On a 30
+    // degree grid: 90 and 570.
+    const { steps } = rotationGuide({ firingOrder: [1], timing: { ivo: 90, ivc: 150, evo: 150, evc: 90 }, margin: 90 });
+    expect(steps.map((s) => [s.tdcCylinder, s.pastTdc, s.valves.map((v) => v.kind)])).toEqual([
+      [1, 90, ["intake"]],
+      [1, 570, ["exhaust"]],
+    ]);
+  });
+
+  it("works for every engine the engine schema accepts: 1 to 16 cylinders, timing and margin at their bounds", () => {
+    // the schema's bounds (lib/lash/schemas.ts): timing -90 to 120/180 degrees, margin 0 to 90
+    const corners = [
+      { ivo: -90, ivc: -90, evo: -90, evc: -90 },
+      { ivo: 120, ivc: 180, evo: 180, evc: 120 },
+      { ivo: 120, ivc: -90, evo: -90, evc: 120 },
+      { ivo: -90, ivc: 180, evo: 180, evc: -90 },
+    ];
+    for (let n = 1; n <= 16; n++) {
+      const firingOrder = Array.from({ length: n }, (_, i) => i + 1);
+      for (const timing of [undefined, ...corners])
+        for (const margin of [0, 20, 90]) {
+          const { steps } = rotationGuide({ firingOrder, timing, margin });
+          const listed = steps.flatMap((s) => s.valves.map((v) => `${v.kind}${v.cylinder}`));
+          expect(new Set(listed).size).toBe(n * 2);
+          expect(listed).toHaveLength(n * 2);
+          // each listed valve is on its base circle at its stop
+          for (const s of steps) for (const v of s.valves) expect(onBaseCircle(v.kind, s.crankAngle - ((v.cylinder - 1) * 720) / n, timing ?? DEFAULT_TIMING, margin)).toBe(true);
+        }
+    }
   });
 });
 

@@ -1,0 +1,216 @@
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import type { Browser, BrowserContext, Page } from "playwright-core";
+import { signedInClient, type Client } from "../support/api";
+import { baseUrl, launch } from "../support/browser";
+import { addMembership, makeUser } from "../support/fixtures";
+import { waitForMail } from "../support/mail";
+
+/**
+ * The garage screens on small phones (360 and 390 px wide): the engine diagram for engines of 1 to
+ * 16 cylinders, the measuring mode on a 24-valve inline six (taps counted), the engine's facing,
+ * the mentor's links and the whole story of a check. All engines and readings are invented.
+ */
+let browser: Browser;
+beforeAll(async () => {
+  browser = await launch();
+});
+afterAll(() => browser?.close());
+
+const phone = (width: number): Promise<BrowserContext> => browser.newContext({ viewport: { width, height: 800 }, deviceScaleFactor: 2, isMobile: true, hasTouch: true, colorScheme: "dark" });
+
+async function signIn(page: Page, u: { email: string; password: string }) {
+  await page.goto(`${baseUrl()}/sign-in`);
+  await page.getByLabel("E-mail").fill(u.email);
+  await page.getByLabel("Password").fill(u.password);
+  await page.getByRole("button", { name: "Sign in", exact: true }).tap();
+  await page.waitForURL("**/engines");
+}
+
+const seq = (n: number) => Array.from({ length: n }, (_, i) => i + 1);
+// invented bands (not from any manual): intake 0.10-0.20, exhaust 0.20-0.30
+const BANDS = { intake: { min: 0.1, max: 0.2 }, exhaust: { min: 0.2, max: 0.3 } };
+
+/** Records as the phone's outbox sends them, pushed in one request. */
+async function push(api: Client, mutations: { name: string; args: unknown }[]) {
+  const res = await api.post("/api/sync/push", { clientId: crypto.randomUUID(), mutations: mutations.map((m, i) => ({ id: i + 1, ...m })) });
+  expect(res.status).toBe(200);
+  expect(res.json.rejected ?? []).toEqual([]);
+}
+
+/** An engine of this layout with one check: in band, tight, loose and unmeasured valves in turn. */
+async function engineWithCheck(api: Client, cylinders: number, intakes: number, exhausts: number, extra: Record<string, unknown> = {}) {
+  const engineId = crypto.randomUUID();
+  const checkId = crypto.randomUUID();
+  const readings: { name: string; args: unknown }[] = [];
+  let n = 0;
+  for (let c = 1; c <= cylinders; c++)
+    for (const [kind, count] of [["I", intakes], ["E", exhausts]] as const)
+      for (let i = 1; i <= count; i++) {
+        const band = kind === "I" ? BANDS.intake : BANDS.exhaust;
+        const state = n++ % 4;
+        if (state === 3) continue;
+        const measured = state === 0 ? (band.min + band.max) / 2 : state === 1 ? band.min - 0.05 : band.max + 0.1;
+        readings.push({ name: "reading.put/1", args: { checkId, reading: { valve: `${kind}${c}.${i}`, round: 0, installedStamp: 2.6, measured: Math.round(measured * 100) / 100, method: "typed" } } });
+      }
+  await push(api, [
+    {
+      name: "engine.put/1",
+      args: { id: engineId, name: `Layout ${cylinders}x${intakes + exhausts}`, cylinders, intakePerCylinder: intakes, exhaustPerCylinder: exhausts, firingOrder: seq(cylinders), ...BANDS, shims: { min: 2.5, max: 3.3, step: 0.05 }, ...extra },
+    },
+    { name: "check.put/1", args: { id: checkId, engineId, odometer: 12_000, measuredHot: false, status: "measuring" } },
+    ...readings,
+  ]);
+  return { engineId, checkId };
+}
+
+interface Box {
+  left: number;
+  right: number;
+  top: number;
+  bottom: number;
+  width: number;
+  height: number;
+}
+
+/** What the diagram and the page look like: overflow, and each cylinder's label and cells. */
+function layoutOf(page: Page) {
+  return page.evaluate(() => {
+    const box = (e: Element): Box => {
+      const r = e.getBoundingClientRect();
+      return { left: r.left, right: r.right, top: r.top, bottom: r.bottom, width: r.width, height: r.height };
+    };
+    const groups = [...document.querySelectorAll("figure [data-cylinder]")].map((g) => ({
+      cylinder: Number(g.getAttribute("data-cylinder")),
+      label: box(g.querySelector("[data-cylinder-label]")!),
+      cells: [...g.querySelectorAll("button[data-valve]")].map((b) => ({ id: b.getAttribute("data-valve")!, name: b.getAttribute("aria-label") ?? "", text: (b as HTMLElement).innerText, box: box(b) })),
+    }));
+    return { overflow: document.documentElement.scrollWidth - window.innerWidth, innerWidth: window.innerWidth, groups };
+  });
+}
+
+function assertDiagram(l: Awaited<ReturnType<typeof layoutOf>>, cylinders: number, perCylinder: number) {
+  expect(l.overflow).toBeLessThanOrEqual(0);
+  expect(l.groups.map((g) => g.cylinder).sort((a, b) => a - b)).toEqual(seq(cylinders));
+  const sizes = new Set<string>();
+  for (const g of l.groups) {
+    expect(g.cells).toHaveLength(perCylinder);
+    for (const c of g.cells) {
+      // each cell belongs to its group's cylinder, lies on screen, and its name starts with its visible text
+      expect(Number(/^[IE](\d+)\./.exec(c.id)![1])).toBe(g.cylinder);
+      expect(c.box.left).toBeGreaterThanOrEqual(0);
+      expect(c.box.right).toBeLessThanOrEqual(l.innerWidth);
+      expect(c.name.startsWith(c.id)).toBe(true);
+      sizes.add(`${c.box.width.toFixed(1)}x${c.box.height.toFixed(1)}`);
+    }
+    // the label sits above its own cells, within their span
+    const left = Math.min(...g.cells.map((c) => c.box.left));
+    const right = Math.max(...g.cells.map((c) => c.box.right));
+    const top = Math.min(...g.cells.map((c) => c.box.top));
+    expect(g.label.left).toBeGreaterThanOrEqual(left - 0.5);
+    expect(g.label.right).toBeLessThanOrEqual(right + 0.5);
+    expect(g.label.bottom).toBeLessThanOrEqual(top + 0.5);
+    // and no other cylinder's valve lies under it
+    for (const o of l.groups)
+      if (o !== g) for (const c of o.cells) expect(c.box.right <= g.label.left || c.box.left >= g.label.right || c.box.bottom <= g.label.top || c.box.top >= g.label.bottom).toBe(true);
+  }
+  // one cell size whatever the state
+  expect([...sizes]).toHaveLength(1);
+}
+
+describe("the engine diagram on a small phone", () => {
+  it("never pans sideways and keeps each cylinder's label over its own valves, for 1 to 16 cylinders and 2 to 5 valves each", async () => {
+    const u = await makeUser("layouts");
+    const api = await signedInClient(baseUrl(), u);
+    const layouts: [number, number, number][] = [
+      [1, 1, 1],
+      [1, 3, 2],
+      [4, 2, 1],
+      [6, 2, 2],
+      [6, 3, 2],
+      [16, 1, 1],
+      [16, 2, 2],
+      [16, 3, 2],
+    ];
+    const made = [];
+    for (const [cyl, i, e] of layouts) made.push({ cyl, per: i + e, ...(await engineWithCheck(api, cyl, i, e)) });
+    for (const width of [360, 390]) {
+      const ctx = await phone(width);
+      const page = await ctx.newPage();
+      await signIn(page, u);
+      for (const m of made) {
+        for (const step of ["measure", "plan"]) {
+          await page.goto(`${baseUrl()}/check?id=${m.checkId}&step=${step}`);
+          await page.locator(`figure [data-cylinder="${m.cyl}"]`).waitFor({ timeout: 20_000 });
+          assertDiagram(await layoutOf(page), m.cyl, m.per);
+          if (width === 360 && step === "plan" && [1, 6, 16].includes(m.cyl) && m.per === (m.cyl === 1 ? 5 : 4))
+            await page.locator("figure").first().screenshot({ path: `test-results/diagram-${m.cyl}-cylinders.png` });
+        }
+      }
+      await ctx.close();
+    }
+  }, 300_000);
+});
+
+describe("a mentor's links and the whole story of a check", () => {
+  it("the review notice opens the review; the mentor sees every round, both shim figures and the facing; closing over 'measure again' asks first", async () => {
+    const owner = await makeUser("owner");
+    const mentor = await makeUser("mentor");
+    const api = await signedInClient(baseUrl(), owner);
+    const club = (await api.post("/api/clubs", { name: `Stand club ${owner.id.slice(0, 6)}` })).json.club as { id: string };
+    await addMembership(club.id, mentor.id, ["mentor", "mechanic"]);
+    const engineId = crypto.randomUUID();
+    const checkId = crypto.randomUUID();
+    const r = (valve: string, round: number, fields: Record<string, unknown>) => ({ name: "reading.put/1", args: { checkId, reading: { valve, round, method: "feeler", ...fields } } });
+    await push(api, [
+      { name: "engine.put/1", args: { id: engineId, name: "Mirror twin", cylinders: 2, intakePerCylinder: 2, exhaustPerCylinder: 2, firingOrder: [1, 2], firingAngles: [0, 360], ...BANDS, shims: { min: 2.5, max: 3.3, step: 0.05 }, mirrored: true } },
+      { name: "check.put/1", args: { id: checkId, engineId, odometer: 30_500, measuredHot: false, status: "verifying" } },
+      // a 2.80 stamp measured at 2.78: tight, a 2.70 fitted, then re-measured in band
+      r("I1.1", 0, { installedStamp: 2.8, installedMicrometer: 2.78, feelerGo: 0.05, feelerNoGo: 0.06, measured: 0.05, fittedShim: 2.7 }),
+      r("I1.1", 1, { installedStamp: 2.7, feelerGo: 0.13, feelerNoGo: 0.15, measured: 0.13 }),
+      ...["I1.2", "I2.1", "I2.2"].map((v) => r(v, 0, { installedStamp: 2.6, feelerGo: 0.15, feelerNoGo: 0.18, measured: 0.15 })),
+      ...["E1.1", "E1.2", "E2.1", "E2.2"].map((v) => r(v, 0, { installedStamp: 2.6, feelerGo: 0.25, feelerNoGo: 0.28, measured: 0.25 })),
+    ]);
+    expect((await api.post(`/api/checks/${checkId}/shares`, { clubId: club.id })).status).toBe(201);
+    const mail = await waitForMail(mentor.email, /asks for a review: Mirror twin/);
+    const link = /(https?:\/\/\S+)/.exec(mail.text)![1]!;
+    expect(new URL(link).pathname).toBe("/review");
+    expect(new URL(link).searchParams.get("id")).toBe(checkId);
+
+    const mctx = await phone(360);
+    const m = await mctx.newPage();
+    await signIn(m, mentor);
+    // an old notice that named the check page still finds its way to the review
+    await m.goto(`${baseUrl()}/check?id=${checkId}`);
+    await m.getByRole("link", { name: "Open it as a club review" }).tap();
+    await m.waitForURL(/\/review\?id=/);
+    await m.goto(`${baseUrl()}${new URL(link).pathname}${new URL(link).search}`);
+    await m.getByText("read-only: you are reviewing").waitFor();
+    const story = await m.getByTestId("rounds-I1.1").innerText();
+    expect(story).toMatch(/First reading\s+2\.80 stamp, 2\.780 micrometer · 0\.05 mm goes, 0\.06 mm does not · then fitted 2\.70/);
+    expect(story).toMatch(/Re-check 1\s+2\.70 stamp · 0\.13 mm goes, 0\.15 mm does not/);
+    const l = await layoutOf(m);
+    expect(l.groups.map((g) => g.cylinder)).toEqual([2, 1]);
+    assertDiagram(l, 2, 4);
+    await m.screenshot({ path: "test-results/review-rounds.png", fullPage: true });
+    await m.getByRole("button", { name: /Measure again/ }).tap();
+    await m.getByTestId("verdict").getByText("↻ Measure again").waitFor();
+    // the verdict leaves the mentor's outbox with the next sync
+    await expect.poll(async () => ((await api.get(`/api/checks/${checkId}/shares`)).json.items as { verdict: string | null }[])[0]?.verdict, { timeout: 30_000 }).toBe("measure-again");
+    await mctx.close();
+
+    const verdictMail = await waitForMail(owner.email, /Review verdict: measure again/, 30_000);
+    const back = new URL(/(https?:\/\/\S+)/.exec(verdictMail.text)![1]!);
+    expect(`${back.pathname}${back.search}${back.hash}`).toBe(`/review?id=${checkId}#verdict`);
+
+    const octx = await phone(390);
+    const o = await octx.newPage();
+    await signIn(o, owner);
+    await o.goto(`${baseUrl()}/check?id=${checkId}&step=verify`);
+    await o.getByRole("button", { name: /Close the check/ }).tap();
+    await o.getByRole("alertdialog").getByText(/verdict on this check is “↻ Measure again”/).waitFor({ timeout: 20_000 });
+    await o.getByRole("button", { name: "Keep it open" }).tap();
+    await o.getByRole("button", { name: /Close the check/ }).waitFor();
+    expect(o.url()).toContain("/check?id=");
+    await octx.close();
+  });
+});
