@@ -1,7 +1,7 @@
 import "server-only";
 import { LashInputError } from "@/lib/lash";
 import { domainErrorOf } from "@/lib/errors";
-import { parseMutation, type MutationArgs, type MutationName, type PushInput } from "@/lib/sync/mutations";
+import { CURSOR_PREFIX, parseMutation, type Cursor, type MutationArgs, type MutationName, type PushInput } from "@/lib/sync/mutations";
 import { transaction } from "@/db/client";
 import { nextVersion, type Tx } from "@/db/versions";
 import { isTransientDbError } from "@/db/errors";
@@ -59,7 +59,7 @@ export async function push(user: SessionUser, input: PushInput): Promise<PushRes
         return p.ok ? { id: m.id, name: p.name, args: p.args } : { id: m.id, name: m.name, args: m.args, reason: p.reason };
       });
     if (fresh.length === 0) return last;
-    const version = await nextVersion(tx);
+    const version = await nextVersion(tx, user.id);
     const reject = async (m: Parsed, reason: string) => {
       rejected.push({ id: m.id, name: m.name, reason });
       await q.recordRejected(tx, input.clientId, m.id, m.name, reason);
@@ -104,9 +104,12 @@ export async function push(user: SessionUser, input: PushInput): Promise<PushRes
   return { lastMutationId, rejected };
 }
 
-export async function pull(user: SessionUser, cursor: number | null) {
-  const from = cursor ?? 0;
-  const upTo = await q.stableCursor(from);
-  const changes = await q.changesFor(user.id, from, upTo);
-  return { cursor: upTo, full: cursor === null, ...changes };
+/**
+ * Everything of the user's that changed after the cursor, in one read-only transaction (one
+ * connection, one snapshot). No cursor, or an old-style numeric one, gets a full pull.
+ */
+export async function pull(user: SessionUser, cursor: Cursor) {
+  const after = typeof cursor === "string" ? Number(cursor.slice(CURSOR_PREFIX.length)) : null;
+  const { upTo, ...changes } = await transaction((tx) => q.changesSince(tx, user.id, after), { isolationLevel: "repeatable read", accessMode: "read only" });
+  return { cursor: `${CURSOR_PREFIX}${upTo}`, ...changes };
 }

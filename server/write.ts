@@ -24,7 +24,7 @@ export async function runAfter(afters: After[]) {
 /** A REST write: one versioned transaction that authorises and applies, then the notices. */
 export async function write<T>(user: SessionUser, fn: (w: WriteCtx) => Promise<T>): Promise<T> {
   const afters: After[] = [];
-  const out = await versioned((tx, version) => fn({ tx, user, version, later: (f) => afters.push(f) }));
+  const out = await versioned(user.id, (tx, version) => fn({ tx, user, version, later: (f) => afters.push(f) }));
   await runAfter(afters);
   return out;
 }

@@ -6,6 +6,7 @@ import { HOLDING, MOVES, type ApiBorrow, type ApiOffer, type BorrowInput, type B
 import { notFound, refused, DomainError } from "@/lib/errors";
 import { db, type Executor, type Tx } from "../client";
 import { borrowRequests, checks, poolOffers, trayItems, users } from "../schema";
+import { nextVersion } from "../versions";
 
 /**
  * The club pool's rows. Every write takes the caller's transaction and change version (the REST
@@ -127,7 +128,8 @@ export async function moveBorrow(tx: Tx, version: number, userId: string, id: st
   if (move === "hand-over") {
     if (o) await tx.update(poolOffers).set({ count: Math.max(0, o.count - r.count), version }).where(eq(poolOffers.id, o.id));
     await adjustTray(tx, version, r.lenderId, r.size, -r.count, diameter);
-    await adjustTray(tx, version, r.borrowerId, r.size, r.count, diameter);
+    // the borrower's tray is synced to the borrower: their next change version
+    await adjustTray(tx, await nextVersion(tx, r.borrowerId), r.borrowerId, r.size, r.count, diameter);
   }
   const back = returnSize ?? r.size;
   if (move === "give-back") await adjustTray(tx, version, r.borrowerId, back, -r.count, diameter);
