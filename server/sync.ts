@@ -5,6 +5,7 @@ import { CURSOR_PREFIX, parseMutation, type Cursor, type MutationArgs, type Muta
 import { transaction } from "@/db/client";
 import { nextVersion, type Tx } from "@/db/versions";
 import { isTransientDbError } from "@/db/errors";
+import { retryConflicts } from "@/db/retry";
 import * as q from "@/db/queries/sync";
 import { apply, applyReadings } from "./appliers";
 import { runAfter, type After, type WriteCtx } from "./write";
@@ -48,9 +49,13 @@ async function step(tx: Tx, user: SessionUser, version: number, after: After[], 
 const readingArgs = (m: Parsed) => m.args as MutationArgs<"reading.put/1">;
 
 export async function push(user: SessionUser, input: PushInput): Promise<PushResult> {
-  const rejected: PushResult["rejected"] = [];
-  const after: After[] = [];
-  const lastMutationId = await transaction(async (tx) => {
+  let rejected: PushResult["rejected"] = [];
+  let after: After[] = [];
+  // a push that lost a write conflict (another device's push, another node) runs again from the
+  // start, its client row read afresh, so what the winner applied is skipped (db/retry.ts)
+  const lastMutationId = await retryConflicts(() => transaction(async (tx) => {
+    rejected = [];
+    after = [];
     const last = await q.lockClient(tx, input.clientId, user.id);
     const fresh: Parsed[] = input.mutations
       .filter((m) => m.id > last)
@@ -98,7 +103,7 @@ export async function push(user: SessionUser, input: PushInput): Promise<PushRes
     const newLast = fresh[fresh.length - 1]!.id;
     await q.setLastMutation(tx, input.clientId, newLast);
     return newLast;
-  });
+  }));
   // notices are queued only once the changes are committed; a failure here never fails the push
   await runAfter(after);
   return { lastMutationId, rejected };

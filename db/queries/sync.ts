@@ -14,6 +14,12 @@ export async function lockClient(tx: Tx, clientId: string, userId: string): Prom
   return c.lastMutationId;
 }
 
+/**
+ * The device's last applied id, in the push's transaction. This row write (the id always moves up)
+ * is what decides two pushes of one device racing on two nodes: the cluster lets one commit and
+ * the other retries, rereads the id and skips what the first applied. The lock lockClient takes
+ * only orders pushes on one node.
+ */
 export async function setLastMutation(tx: Tx, clientId: string, id: number) {
   await tx.update(syncClients).set({ lastMutationId: id }).where(eq(syncClients.id, clientId));
 }
