@@ -1,10 +1,10 @@
 import "server-only";
-import { mysqlErrorCode } from "./errors";
+import { isWriteConflict } from "./errors";
 
 /**
  * Run a whole transaction again when the database chose it as the loser of a conflict: a deadlock
  * on one node, or on a multi-primary cluster (Galera) a commit that failed certification because
- * another node committed a write to the same row first; both arrive as ER_LOCK_DEADLOCK, after
+ * another node committed a write to the same row first (db/errors.ts isWriteConflict), after
  * everything was rolled back. Run again, the transaction reads the winner's rows and decides
  * afresh. The retries are bounded and spread with random ("full") jitter so two losers do not
  * collide again in step; when they run out the error goes on and the request is answered 503
@@ -20,7 +20,7 @@ export async function retryConflicts<T>(fn: (attempt: number) => Promise<T>, { a
     try {
       return await fn(attempt);
     } catch (e) {
-      if (mysqlErrorCode(e) !== "ER_LOCK_DEADLOCK" || attempt >= attempts) throw e;
+      if (!isWriteConflict(e) || attempt >= attempts) throw e;
       await sleep(Math.random() * Math.min(capMs, baseMs * 2 ** attempt));
     }
   }
