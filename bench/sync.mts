@@ -65,6 +65,8 @@ export async function runSyncBench(srv: BenchServer, n = 10_000) {
   await raw.query("INSERT INTO checks (id, engine_id, owner_id, odometer, version) VALUES ?", [checks.map(([c, e]) => [c, e, p.id, 1000, 1])]);
   const readingRows = checks.flatMap(([c]) => VALVES.map((v) => [crypto.randomUUID(), c, p.id, v, 0, 2.6, 0.15, 0.15, "feeler", 1]));
   for (let i = 0; i < readingRows.length; i += 2000) await raw.query("INSERT INTO readings (id, check_id, owner_id, valve, round, installed_stamp, feeler_go, measured, method, version) VALUES ?", [readingRows.slice(i, i + 2000)]);
+  // the rows carry version 1 of the puller's own change counter (db/versions.ts)
+  await raw.query("INSERT INTO owner_versions (owner_id, version) VALUES (?, 1)", [p.id]);
   await raw.end();
   const puller = new Client(url);
   await puller.signIn("password", { email: p.email, password: p.password });

@@ -1,6 +1,7 @@
 import "server-only";
 import { AsyncLocalStorage } from "node:async_hooks";
 import { drizzle, type MySql2Database } from "drizzle-orm/mysql2";
+import type { MySqlTransactionConfig } from "drizzle-orm/mysql-core";
 import mysql from "mysql2/promise";
 import { env } from "@/lib/env";
 import { overloaded } from "@/lib/errors";
@@ -81,9 +82,9 @@ export function db(): Db {
 }
 
 /** The one way to open a transaction; the code inside cannot reach the pool (see db()). */
-export function transaction<T>(fn: (tx: Tx) => Promise<T>): Promise<T> {
+export function transaction<T>(fn: (tx: Tx) => Promise<T>, config?: MySqlTransactionConfig): Promise<T> {
   if (inTransaction.getStore()) return Promise.reject(new NestedConnectionError());
-  return inTransaction.run(true, () => drizzleDb().transaction(fn));
+  return inTransaction.run(true, () => drizzleDb().transaction(fn, config));
 }
 
 export async function closeDb(): Promise<void> {

@@ -11,13 +11,24 @@ export function mysqlErrorCode(e: unknown): string | undefined {
 }
 
 /**
+ * The database chose this transaction as the loser of a write conflict and rolled all of it back:
+ * a deadlock, or on a multi-primary cluster a commit that failed certification (both
+ * ER_LOCK_DEADLOCK). Inside a savepoint the rollback surfaces as the savepoint being gone: the
+ * driver's ROLLBACK TO SAVEPOINT fails and its error replaces the deadlock.
+ */
+export function isWriteConflict(e: unknown): boolean {
+  const code = mysqlErrorCode(e);
+  return code === "ER_LOCK_DEADLOCK" || code === "ER_SP_DOES_NOT_EXIST";
+}
+
+/**
  * A failure of the moment, not of the request: a row lock waited for too long, a deadlock chose
  * this transaction, the connection dropped. Sent again a little later, the same request succeeds,
  * so it is answered 503 with Retry-After and a push never records it as the change's refusal.
  */
 export function isTransientDbError(e: unknown): boolean {
   const code = mysqlErrorCode(e);
-  if (code === "ER_LOCK_WAIT_TIMEOUT" || code === "ER_LOCK_DEADLOCK" || code === "ER_CON_COUNT_ERROR") return true;
+  if (isWriteConflict(e) || code === "ER_LOCK_WAIT_TIMEOUT" || code === "ER_CON_COUNT_ERROR") return true;
   for (let cur: unknown = e, depth = 0; cur && depth < 5; depth++) {
     const c = (cur as { code?: unknown }).code;
     if (c === "PROTOCOL_CONNECTION_LOST" || c === "ECONNREFUSED" || c === "ECONNRESET" || c === "ETIMEDOUT") return true;

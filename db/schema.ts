@@ -21,8 +21,8 @@ import {
 /**
  * The whole product's tables. Keys are uuids made in the app (mysql-core has no RETURNING); lengths
  * are millimetres in decimal(8,5), enough for 0.0001 in (0.00254 mm) exactly; every row that the
- * offline clients copy carries `version`, a value of the global change counter, so a pull can ask
- * for "everything after N"; deletions leave a row in `tombstones`.
+ * offline clients copy carries `version`, a value of its owner's change counter (owner_versions), so
+ * a pull can ask for "everything of mine after N"; deletions leave a row in `tombstones`.
  */
 
 const id = () => char("id", { length: 36 }).primaryKey().$defaultFn(() => crypto.randomUUID());
@@ -57,6 +57,12 @@ export const clubs = mysqlTable("clubs", {
   id: id(),
   name: varchar("name", { length: 120 }).notNull(),
   createdBy: ref("created_by").notNull().references(() => users.id),
+  /**
+   * Raised by every change of the club's roles. Removing an admin counts the others; on a
+   * multi-primary cluster a lock taken on one node does not stop a writer on another, so two such
+   * changes must both write this row for the cluster to let only one of them commit.
+   */
+  roleChanges: int("role_changes").notNull().default(0),
   createdAt: createdAt(),
   updatedAt: updatedAt(),
 });
@@ -269,6 +275,8 @@ export const poolOffers = mysqlTable(
     shimDiameter: mm("shim_diameter"),
     note: varchar("note", { length: 200 }),
     withdrawnAt: timestamp("withdrawn_at", { fsp: 3 }),
+    /** raised by every request for these shims: the row write that decides a race for the last one across nodes */
+    asks: int("asks").notNull().default(0),
     version: version(),
     createdAt: createdAt(),
     updatedAt: updatedAt(),
@@ -379,10 +387,15 @@ export const rejectedMutations = mysqlTable(
   (t) => [uniqueIndex("rejected_client_mutation_uq").on(t.clientId, t.mutationId)],
 );
 
-/** The global change counter: one auto-increment row per committed change. */
-export const changeVersions = mysqlTable("change_versions", {
-  version: bigint("version", { mode: "number", unsigned: true }).autoincrement().primaryKey(),
-  at: timestamp("at", { fsp: 3 }).notNull().defaultNow(),
+/**
+ * One change counter per owner of synced rows (db/versions.ts). A write raises its owner's counter
+ * in its own transaction and stamps the rows it changes with the new value; a pull returns the
+ * owner's rows stamped above the phone's cursor. On a multi-primary cluster two writers of one
+ * owner both write this row, so the cluster lets only one of them commit and the other retries.
+ */
+export const ownerVersions = mysqlTable("owner_versions", {
+  ownerId: char("owner_id", { length: 36 }).primaryKey(),
+  version: bigint("version", { mode: "number", unsigned: true }).notNull().default(0),
 });
 
 export const tombstones = mysqlTable(

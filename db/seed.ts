@@ -114,8 +114,10 @@ export async function seedDemo(): Promise<{ seeded: boolean }> {
 
   const hash = await hashPassword(DEMO_PASSWORD);
   await transaction(async (tx) => {
-    const version = await nextVersion(tx);
     const userIds = DEMO_USERS.map(() => crypto.randomUUID());
+    // new users: each one's first change version, the same number for all (db/versions.ts)
+    let version = 0;
+    for (const id of userIds) version = await nextVersion(tx, id);
     await tx.insert(users).values(
       DEMO_USERS.map((u, i) => ({ id: userIds[i]!, email: u.email, name: u.name, passwordHash: hash, emailVerifiedAt: new Date("2023-01-10") })),
     );

@@ -5,16 +5,19 @@
 import { randomBytes } from "node:crypto";
 import { existsSync, mkdirSync, readFileSync, rmSync } from "node:fs";
 import path from "node:path";
-import { CHROMIUM, POPPLER, cleanupOnExit, ended, ensureDebianPackages, ensureNodeModules, freePort, log, MARIADB, root, runAsync, runTs, SetupError, spawnChild, startMailCatcher, startMariadb, startObjectStore, stopChild } from "./lib/setup.mjs";
+import { GALERA, RSYNC, startTestCluster } from "./lib/galera.mjs";
+import { startNext } from "./lib/next-server.mjs";
+import { CHROMIUM, POPPLER, cleanupOnExit, ensureDebianPackages, ensureNodeModules, freePort, log, MARIADB, root, runAsync, runTs, SetupError, startMailCatcher, startMariadb, startObjectStore } from "./lib/setup.mjs";
 
 const args = process.argv.slice(2);
 // `npm run soak`: the fault-injection sync test alone, with 10,000 mutations
 const soak = args.includes("soak");
 // `npm run load`: the club-night load test alone, with 300 phones and a minute of steady work
 const load = args.includes("load");
-const only = soak || load ? "integration" : args.find((a) => ["unit", "integration", "e2e"].includes(a));
+const LEVELS = ["unit", "integration", "e2e", "cluster"];
+const only = soak || load ? "integration" : args.find((a) => LEVELS.includes(a));
 // anything else narrows the chosen level to matching test files (vitest filters)
-const filters = soak ? ["tests/integration/sync/faults"] : load ? ["tests/integration/load"] : args.filter((a) => !["unit", "integration", "e2e"].includes(a));
+const filters = soak ? ["tests/integration/sync/faults"] : load ? ["tests/integration/load"] : args.filter((a) => !LEVELS.includes(a));
 const results = { passed: 0, failed: 0, skipped: 0 };
 const failures = [];
 
@@ -53,37 +56,11 @@ async function vitest(project, env) {
   } else if (!ok) results.failed += 1;
 }
 
-function startNext(port, env) {
-  const child = spawnChild(process.execPath, ["node_modules/next/dist/bin/next", "start", "-H", "127.0.0.1", "-p", String(port)], {
-    cwd: root,
-    stdio: ["ignore", "pipe", "pipe"],
-    env: { ...process.env, ...env, NODE_ENV: "production", NEXT_TELEMETRY_DISABLED: "1" },
-  });
-  let out = "";
-  child.stdout.on("data", (d) => (out += d));
-  child.stderr.on("data", (d) => (out += d));
-  const ready = (async () => {
-    for (let i = 0; i < 300; i++) {
-      if (ended(child)) throw new SetupError(`next start exited early:\n${out.slice(-2000)}`);
-      try {
-        const res = await fetch(`http://127.0.0.1:${port}/`);
-        if (res.status < 500) return;
-      } catch {
-        /* not listening yet */
-      }
-      await new Promise((r) => setTimeout(r, 200));
-    }
-    throw new SetupError("next start did not answer within 60 s");
-  })();
-  const stop = () => stopChild(child, { graceMs: 4000 });
-  return { ready, stop };
-}
-
 async function main() {
   const cleanup = cleanupOnExit();
   const t0 = Date.now();
   try {
-    ensureDebianPackages([MARIADB, CHROMIUM, POPPLER]);
+    ensureDebianPackages([MARIADB, CHROMIUM, POPPLER, GALERA, RSYNC]);
     ensureNodeModules();
     mkdirSync(path.join(root, "test-results"), { recursive: true });
 
@@ -132,6 +109,13 @@ async function main() {
         await server.ready;
         await vitest("e2e", { ...env, LASHWRIGHT_BASE_URL: `http://127.0.0.1:${port}` });
         await server.stop();
+      }
+      // The cluster level: three Galera nodes of its own, two app instances started by the tests.
+      if (built && (!only || only === "cluster")) {
+        const cluster = await startTestCluster({ dir: path.join(root, ".data", "test-cluster"), runTs });
+        cleanup.add(cluster.stop);
+        await vitest("cluster", { ...env, ...cluster.env });
+        await cluster.stop();
       }
     }
   } catch (e) {

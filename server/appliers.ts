@@ -10,6 +10,7 @@ import { noticeNewComment, noticeVerdict } from "./review";
 import { applyAsk, applyMove, applyOffer, applyWithdrawOffer } from "./pool";
 import { kickPhotoSweep } from "./photos";
 import type { WriteCtx } from "./write";
+import { nextVersion } from "@/db/versions";
 
 /**
  * The one write path: each outbox mutation name and the function that applies it. The sync push
@@ -69,7 +70,9 @@ export const APPLIERS: { readonly [N in MutationName]: Applier<N> } = {
   "comment.add/1": async (w, a) => {
     // the check is looked up in this transaction: the same push may have just created it
     const { check } = await readableCheck(w.tx, w.user, a.checkId);
-    if (!(await insertComment(w.tx, w.version, a.checkId, w.user.id, a))) return; // the same comment sent twice
+    // synced to the check's owner: a mentor's comment takes the owner's next change version
+    const version = check.ownerId === w.user.id ? w.version : await nextVersion(w.tx, check.ownerId);
+    if (!(await insertComment(w.tx, version, a.checkId, w.user.id, a))) return; // the same comment sent twice
     w.later(() => noticeNewComment(check, w.user, a.body));
   },
   "verdict.set/1": async (w, a) => {

@@ -1,10 +1,11 @@
 import "server-only";
 import { LashInputError } from "@/lib/lash";
 import { domainErrorOf } from "@/lib/errors";
-import { parseMutation, type MutationArgs, type MutationName, type PushInput } from "@/lib/sync/mutations";
+import { CURSOR_PREFIX, parseMutation, type Cursor, type MutationArgs, type MutationName, type PushInput } from "@/lib/sync/mutations";
 import { transaction } from "@/db/client";
 import { nextVersion, type Tx } from "@/db/versions";
 import { isTransientDbError } from "@/db/errors";
+import { retryConflicts } from "@/db/retry";
 import * as q from "@/db/queries/sync";
 import { apply, applyReadings } from "./appliers";
 import { runAfter, type After, type WriteCtx } from "./write";
@@ -48,9 +49,13 @@ async function step(tx: Tx, user: SessionUser, version: number, after: After[], 
 const readingArgs = (m: Parsed) => m.args as MutationArgs<"reading.put/1">;
 
 export async function push(user: SessionUser, input: PushInput): Promise<PushResult> {
-  const rejected: PushResult["rejected"] = [];
-  const after: After[] = [];
-  const lastMutationId = await transaction(async (tx) => {
+  let rejected: PushResult["rejected"] = [];
+  let after: After[] = [];
+  // a push that lost a write conflict (another device's push, another node) runs again from the
+  // start, its client row read afresh, so what the winner applied is skipped (db/retry.ts)
+  const lastMutationId = await retryConflicts(() => transaction(async (tx) => {
+    rejected = [];
+    after = [];
     const last = await q.lockClient(tx, input.clientId, user.id);
     const fresh: Parsed[] = input.mutations
       .filter((m) => m.id > last)
@@ -59,7 +64,7 @@ export async function push(user: SessionUser, input: PushInput): Promise<PushRes
         return p.ok ? { id: m.id, name: p.name, args: p.args } : { id: m.id, name: m.name, args: m.args, reason: p.reason };
       });
     if (fresh.length === 0) return last;
-    const version = await nextVersion(tx);
+    const version = await nextVersion(tx, user.id);
     const reject = async (m: Parsed, reason: string) => {
       rejected.push({ id: m.id, name: m.name, reason });
       await q.recordRejected(tx, input.clientId, m.id, m.name, reason);
@@ -98,15 +103,18 @@ export async function push(user: SessionUser, input: PushInput): Promise<PushRes
     const newLast = fresh[fresh.length - 1]!.id;
     await q.setLastMutation(tx, input.clientId, newLast);
     return newLast;
-  });
+  }));
   // notices are queued only once the changes are committed; a failure here never fails the push
   await runAfter(after);
   return { lastMutationId, rejected };
 }
 
-export async function pull(user: SessionUser, cursor: number | null) {
-  const from = cursor ?? 0;
-  const upTo = await q.stableCursor(from);
-  const changes = await q.changesFor(user.id, from, upTo);
-  return { cursor: upTo, full: cursor === null, ...changes };
+/**
+ * Everything of the user's that changed after the cursor, in one read-only transaction (one
+ * connection, one snapshot). No cursor, or an old-style numeric one, gets a full pull.
+ */
+export async function pull(user: SessionUser, cursor: Cursor) {
+  const after = typeof cursor === "string" ? Number(cursor.slice(CURSOR_PREFIX.length)) : null;
+  const { upTo, ...changes } = await transaction((tx) => q.changesSince(tx, user.id, after), { isolationLevel: "repeatable read", accessMode: "read only" });
+  return { cursor: `${CURSOR_PREFIX}${upTo}`, ...changes };
 }

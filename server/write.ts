@@ -1,5 +1,6 @@
 import "server-only";
 import { versioned, type Tx } from "@/db/versions";
+import { retryConflicts } from "@/db/retry";
 import type { SessionUser } from "./auth";
 
 /**
@@ -21,10 +22,16 @@ export async function runAfter(afters: After[]) {
   for (const then of afters) await then().catch((e: unknown) => console.error("[write] notice after commit failed:", e instanceof Error ? e.message : e));
 }
 
-/** A REST write: one versioned transaction that authorises and applies, then the notices. */
+/**
+ * A REST write: one versioned transaction that authorises and applies, then the notices. A
+ * transaction that lost a write conflict (db/retry.ts) runs again from the start.
+ */
 export async function write<T>(user: SessionUser, fn: (w: WriteCtx) => Promise<T>): Promise<T> {
-  const afters: After[] = [];
-  const out = await versioned((tx, version) => fn({ tx, user, version, later: (f) => afters.push(f) }));
+  let afters: After[] = [];
+  const out = await retryConflicts(() => {
+    afters = [];
+    return versioned(user.id, (tx, version) => fn({ tx, user, version, later: (f) => afters.push(f) }));
+  });
   await runAfter(afters);
   return out;
 }

@@ -1,5 +1,5 @@
 import "server-only";
-import { and, asc, desc, eq, gt, inArray, isNull } from "drizzle-orm";
+import { and, asc, desc, eq, gt, inArray, isNull, sql } from "drizzle-orm";
 import { alias } from "drizzle-orm/mysql-core";
 import { createHash, randomBytes } from "node:crypto";
 import { db, transaction, type Executor, type Tx } from "../client";
@@ -61,9 +61,16 @@ export async function listMembers(ex: Executor, clubId: string) {
   return [...byUser.values()];
 }
 
-export async function countAdmins(ex: Executor, clubId: string) {
-  const rows = await ex.select({ id: memberships.id }).from(memberships).where(and(eq(memberships.clubId, clubId), eq(memberships.role, "admin")));
-  return rows.length;
+/**
+ * Before a change of a club's roles, in the caller's transaction: write the club row, so that of
+ * two role changes of one club on two nodes of a multi-primary cluster only one commits (the
+ * other is retried and sees it), and count the admins with a locking read, which sees the latest
+ * commit rather than the transaction's snapshot (two admins stepping down at once on one node).
+ */
+export async function lockClubRoles(tx: Tx, clubId: string): Promise<{ admins: number }> {
+  await tx.update(clubs).set({ roleChanges: sql`${clubs.roleChanges} + 1` }).where(eq(clubs.id, clubId));
+  const rows = await tx.select({ id: memberships.id }).from(memberships).where(and(eq(memberships.clubId, clubId), eq(memberships.role, "admin"))).for("update");
+  return { admins: rows.length };
 }
 
 type LogEntry = { clubId: string; actorId: string | null; action: (typeof clubLogActions)[number]; subjectUserId?: string | null; subjectEmail?: string | null; detail?: string };

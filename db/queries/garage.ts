@@ -163,7 +163,9 @@ export async function writeReadings(tx: Tx, ownerId: string, version: number, ch
   const input = [...byKey.values()];
   // only the rows these writes replace: (valve, round) pairs, not every round of those valves
   const pairs = sql.join(input.map((r) => sql`(${r.valve}, ${r.round})`), sql`, `);
-  const existing = await tx.select().from(readings).where(and(eq(readings.checkId, checkId), sql`(${readings.valve}, ${readings.round}) IN (${pairs})`));
+  // a locking read: the row as last committed, not this transaction's snapshot, so a write that
+  // raced this one lands in the history instead of being overwritten unseen
+  const existing = await tx.select().from(readings).where(and(eq(readings.checkId, checkId), sql`(${readings.valve}, ${readings.round}) IN (${pairs})`)).for("update");
   const old = new Map(existing.map((r) => [`${r.valve}#${r.round}`, r]));
   const history = input.flatMap((r) => {
     const o = old.get(`${r.valve}#${r.round}`);

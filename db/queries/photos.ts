@@ -41,7 +41,7 @@ export async function commentOnCheck(commentId: string, checkId: string) {
 }
 
 export async function insertPhoto(p: typeof uploads.$inferInsert) {
-  await versioned((tx, version) => tx.insert(uploads).values({ ...p, version }));
+  await versioned(p.ownerId, (tx, version) => tx.insert(uploads).values({ ...p, version }));
 }
 
 export async function deletePhoto(id: string) {

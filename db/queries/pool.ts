@@ -1,11 +1,12 @@
 import "server-only";
-import { and, asc, desc, eq, gt, inArray, isNull, or } from "drizzle-orm";
+import { and, asc, desc, eq, gt, inArray, isNull, or, sql } from "drizzle-orm";
 import { alias } from "drizzle-orm/mysql-core";
 import { toNm } from "@/lib/lash";
 import { HOLDING, MOVES, type ApiBorrow, type ApiOffer, type BorrowInput, type BorrowMove, type OfferInput } from "@/lib/pool/rules";
 import { notFound, refused, DomainError } from "@/lib/errors";
 import { db, type Executor, type Tx } from "../client";
 import { borrowRequests, checks, poolOffers, trayItems, users } from "../schema";
+import { nextVersion } from "../versions";
 
 /**
  * The club pool's rows. Every write takes the caller's transaction and change version (the REST
@@ -105,6 +106,9 @@ export async function askBorrow(tx: Tx, version: number, borrowerId: string, a: 
   const [o] = await tx.select().from(poolOffers).where(eq(poolOffers.id, a.offerId)).limit(1).for("update");
   if (!o || o.withdrawnAt || !(await isMember(o.clubId))) throw new DomainError("not_found", "That offer is no longer there");
   if (o.ownerId === borrowerId) throw refused("these are your own shims: they are on your tray");
+  // the row lock above orders requests on one node only; this write to the offer row is what a
+  // multi-primary cluster certifies, so of two requests on two nodes one commits, the other retries
+  await tx.update(poolOffers).set({ asks: sql`${poolOffers.asks} + 1` }).where(eq(poolOffers.id, o.id));
   const left = o.count - ((await held(tx, [o.id], true)).get(o.id) ?? 0);
   if (left < a.count) throw refused(left > 0 ? `only ${left} of ${o.size} mm left on offer` : `none of ${o.size} mm left on offer: another member asked first`);
   await tx.insert(borrowRequests).values({ id: a.id, offerId: o.id, borrowerId, lenderId: o.ownerId, checkId: a.checkId ?? null, size: o.size, count: a.count, version });
@@ -127,7 +131,8 @@ export async function moveBorrow(tx: Tx, version: number, userId: string, id: st
   if (move === "hand-over") {
     if (o) await tx.update(poolOffers).set({ count: Math.max(0, o.count - r.count), version }).where(eq(poolOffers.id, o.id));
     await adjustTray(tx, version, r.lenderId, r.size, -r.count, diameter);
-    await adjustTray(tx, version, r.borrowerId, r.size, r.count, diameter);
+    // the borrower's tray is synced to the borrower: their next change version
+    await adjustTray(tx, await nextVersion(tx, r.borrowerId), r.borrowerId, r.size, r.count, diameter);
   }
   const back = returnSize ?? r.size;
   if (move === "give-back") await adjustTray(tx, version, r.borrowerId, back, -r.count, diameter);

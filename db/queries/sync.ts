@@ -2,7 +2,7 @@ import "server-only";
 import { and, eq, gt, lte, sql } from "drizzle-orm";
 import { forbidden } from "@/lib/errors";
 import { db, type Tx } from "../client";
-import { changeVersions, checks, comments, engines, readings, rejectedMutations, syncClients, tombstones, trayItems } from "../schema";
+import { checks, comments, engines, readings, rejectedMutations, syncClients, tombstones, trayItems } from "../schema";
 import { checkToApi, engineToApi, readingToApi, trayToApi } from "./garage";
 import type { AnyMySqlColumn } from "drizzle-orm/mysql-core";
 
@@ -14,6 +14,12 @@ export async function lockClient(tx: Tx, clientId: string, userId: string): Prom
   return c.lastMutationId;
 }
 
+/**
+ * The device's last applied id, in the push's transaction. This row write (the id always moves up)
+ * is what decides two pushes of one device racing on two nodes: the cluster lets one commit and
+ * the other retries, rereads the id and skips what the first applied. The lock lockClient takes
+ * only orders pushes on one node.
+ */
 export async function setLastMutation(tx: Tx, clientId: string, id: number) {
   await tx.update(syncClients).set({ lastMutationId: id }).where(eq(syncClients.id, clientId));
 }
@@ -32,36 +38,31 @@ export async function clientOwner(clientId: string) {
 }
 
 /**
- * The highest version V such that every change numbered V or below has committed or died. A
- * version is taken at the start of a write transaction and only becomes visible at its commit, so
- * a gap in the visible numbers is either still in flight or rolled back; a gap followed by a
- * version committed more than 30 s ago is taken as rolled back (writes here last well under 30 s).
+ * What changed for one owner after their cursor, read in the caller's (read-only) transaction.
+ * The owner's counter is read first and that read fixes the transaction's snapshot, so every row
+ * stamped at or below it is visible and nothing above it is returned. On a cluster the first read
+ * waits until this node has applied every write committed anywhere before it (wsrep_sync_wait;
+ * without Galera it has no effect), so a change made through another node is in the next pull.
+ * `after` null, or ahead of the counter (a restored database), is a full pull.
+ * Nothing changed: one primary-key read. Otherwise one (owner_id, version) index range per table,
+ * plus the owner's checks for the comments on them.
  */
-export async function stableCursor(from: number): Promise<number> {
-  const rows = await db().select({ v: changeVersions.version, at: changeVersions.at }).from(changeVersions).where(gt(changeVersions.version, from)).orderBy(changeVersions.version);
-  const settled = Date.now() - 30_000;
-  let cursor = from;
-  for (const r of rows) {
-    if (r.v !== cursor + 1 && r.at.getTime() > settled) break;
-    cursor = r.v;
-  }
-  return cursor;
-}
-
-/** Everything of the user's that changed after `after` up to `upTo`, and what was deleted. */
-export async function changesFor(userId: string, after: number, upTo: number) {
-  const range = (t: { version: AnyMySqlColumn }) => and(gt(t.version, after), lte(t.version, upTo));
-  const [es, cs, rs, ts, cms, tomb] = await Promise.all([
-    db().select().from(engines).where(and(eq(engines.ownerId, userId), range(engines))),
-    db().select().from(checks).where(and(eq(checks.ownerId, userId), range(checks))),
-    db().select().from(readings).where(and(eq(readings.ownerId, userId), range(readings))),
-    db().select().from(trayItems).where(and(eq(trayItems.ownerId, userId), range(trayItems))),
-    db()
-      .select({ id: comments.id, checkId: comments.checkId, authorId: comments.authorId, valve: comments.valve, body: comments.body, createdAt: comments.createdAt, version: comments.version })
-      .from(comments)
-      .innerJoin(checks, eq(checks.id, comments.checkId))
-      .where(and(eq(checks.ownerId, userId), gt(comments.version, after), lte(comments.version, upTo))),
-    db().select({ entity: tombstones.entity, id: tombstones.entityId, version: tombstones.version }).from(tombstones).where(and(eq(tombstones.ownerId, userId), range(tombstones))),
-  ]);
-  return { engines: es.map(engineToApi), checks: cs.map(checkToApi), readings: rs.map(readingToApi), tray: ts.map(trayToApi), comments: cms, tombstones: tomb };
+export async function changesSince(tx: Tx, userId: string, after: number | null) {
+  const [[counter]] = (await tx.execute(sql`SET STATEMENT wsrep_sync_wait = 1 FOR SELECT version FROM owner_versions WHERE owner_id = ${userId}`)) as unknown as [{ version: number | string }[]];
+  const upTo = Number(counter?.version ?? 0);
+  const from = after !== null && after <= upTo ? after : null;
+  if (from === upTo) return { upTo, full: false, engines: [], checks: [], readings: [], tray: [], comments: [], tombstones: [] };
+  const range = (t: { version: AnyMySqlColumn }) => (from === null ? lte(t.version, upTo) : and(gt(t.version, from), lte(t.version, upTo)));
+  // one connection: the queries run one after another, in the same snapshot
+  const es = await tx.select().from(engines).where(and(eq(engines.ownerId, userId), range(engines)));
+  const cs = await tx.select().from(checks).where(and(eq(checks.ownerId, userId), range(checks)));
+  const rs = await tx.select().from(readings).where(and(eq(readings.ownerId, userId), range(readings)));
+  const ts = await tx.select().from(trayItems).where(and(eq(trayItems.ownerId, userId), range(trayItems)));
+  const cms = await tx
+    .select({ id: comments.id, checkId: comments.checkId, authorId: comments.authorId, valve: comments.valve, body: comments.body, createdAt: comments.createdAt, version: comments.version })
+    .from(comments)
+    .innerJoin(checks, eq(checks.id, comments.checkId))
+    .where(and(eq(checks.ownerId, userId), range(comments)));
+  const tomb = await tx.select({ entity: tombstones.entity, id: tombstones.entityId, version: tombstones.version }).from(tombstones).where(and(eq(tombstones.ownerId, userId), range(tombstones)));
+  return { upTo, full: from === null, engines: es.map(engineToApi), checks: cs.map(checkToApi), readings: rs.map(readingToApi), tray: ts.map(trayToApi), comments: cms, tombstones: tomb };
 }

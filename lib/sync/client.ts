@@ -26,7 +26,8 @@ export interface SyncStatus {
 }
 
 interface PullResult {
-  cursor: number;
+  /** opaque: kept as it came and sent back on the next pull */
+  cursor: string;
   engines: LocalEngine[];
   checks: LocalCheck[];
   readings: (LocalReading & { id?: string })[];
@@ -84,7 +85,8 @@ async function pendingKeys(db: LocalDb) {
 }
 
 export async function pullOnce(db: LocalDb, fetcher: Fetch, base = ""): Promise<PullResult> {
-  const cursor = (await getMeta<number>(db, "cursor")) ?? null;
+  // a number is an older app's cursor: the server answers it with one full pull
+  const cursor = (await getMeta<string | number>(db, "cursor")) ?? null;
   const r = await post<PullResult>(fetcher, base, "/api/sync/pull", { cursor });
   const pending = await pendingKeys(db);
   await db.transaction("rw", [db.engines, db.checks, db.readings, db.tray, db.comments, db.meta, db.outbox], async () => {

@@ -52,7 +52,16 @@ export const pushInput = z.object({
 });
 export type PushInput = z.infer<typeof pushInput>;
 
-export const pullInput = z.object({ cursor: z.number().int().min(0).nullable() });
+/**
+ * A pull cursor. Today's is "o:N", N being the owner's change counter (db/versions.ts); the phone
+ * keeps it as it came. A bare number is a cursor into the old global counter, which phones may
+ * still hold: it is accepted and answered with one full pull.
+ */
+export const CURSOR_PREFIX = "o:";
+export const pullInput = z.object({
+  cursor: z.union([z.string().regex(/^o:\d{1,15}$/, { error: 'a cursor looks like "o:123"' }), z.number().int().min(0)]).nullable(),
+});
+export type Cursor = z.infer<typeof pullInput>["cursor"];
 
 /** Parse one mutation's arguments; returns the reason it is refused, or the parsed args. */
 export function parseMutation(name: string, args: unknown): { ok: true; name: MutationName; args: unknown } | { ok: false; reason: string } {

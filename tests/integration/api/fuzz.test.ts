@@ -12,9 +12,7 @@ import { startApp, type App } from "../../support/server";
  * swapped for a wrong-typed or hostile one (so each is certainly invalid), or not JSON at all, or
  * too large; path ids and query strings are hostile too. Every answer must be below 500, carry the
  * error shape when it is 4xx, and leave the database exactly as it was (CHECKSUM TABLE of every
- * table except the notice queue, which the server's own retry timer works on in the background, and
- * the change-version counter, where a refused write may use up a number so that pulls never wait
- * on a gap: db/versions.ts).
+ * table except the notice queue, which the server's own retry timer works on in the background).
  */
 const SEED = 20261202;
 const RUNS = Number(process.env.LASHWRIGHT_FUZZ_RUNS ?? 60);
@@ -165,7 +163,7 @@ beforeAll(async () => {
   const borrowId = (await owner.post("/api/borrows", { offerId, count: 1 })).json.borrow.id as string;
   ids = { engineId, checkId, shareId, itemId, clubId, userId: member!.id, photoId, offerId, borrowId };
   const c = await rawConnection();
-  const [rows] = await c.query("SELECT table_name AS t FROM information_schema.tables WHERE table_schema = DATABASE() AND table_name NOT IN ('notices', 'change_versions', '__drizzle_migrations')");
+  const [rows] = await c.query("SELECT table_name AS t FROM information_schema.tables WHERE table_schema = DATABASE() AND table_name NOT IN ('notices', '__drizzle_migrations')");
   await c.end();
   tables = (rows as { t: string }[]).map((r) => r.t).sort();
 }, 120_000);

@@ -165,6 +165,21 @@ describe("sync push and pull on MariaDB", () => {
     expect(JSON.stringify(theirs.json)).not.toContain(engineId);
   });
 
+  it("a phone holding an old numeric cursor gets one full pull and a cursor of today's kind", async () => {
+    const { checkId, mutations } = engineAndCheck();
+    await mara.post("/api/sync/push", { clientId: uuid(), mutations: [...mutations, { id: 3, ...reading(checkId, "I1.1", 0.15, 0.18) }] });
+    const fresh = await mara.post("/api/sync/pull", { cursor: null });
+    const old = await mara.post("/api/sync/pull", { cursor: 987_654 });
+    expect(old.status).toBe(200);
+    expect(old.json.full).toBe(true);
+    expect(old.json.cursor).toMatch(/^o:\d+$/);
+    expect(old.json.checks.map((c: { id: string }) => c.id).sort()).toEqual(fresh.json.checks.map((c: { id: string }) => c.id).sort());
+    // nothing new since: an empty answer and the same cursor
+    const again = await mara.post("/api/sync/pull", { cursor: old.json.cursor });
+    expect(again.json).toMatchObject({ cursor: old.json.cursor, full: false, engines: [], checks: [], readings: [], tombstones: [] });
+    expect((await mara.post("/api/sync/pull", { cursor: "o:x" })).status).toBe(422);
+  });
+
   it("anonymous pushes get 401 and change nothing", async () => {
     const res = await new Client(app.url).post("/api/sync/push", { clientId: uuid(), mutations: [] });
     expect(res.status).toBe(401);

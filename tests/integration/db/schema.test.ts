@@ -1,8 +1,8 @@
 import { afterAll, describe, expect, it } from "vitest";
 import { eq } from "drizzle-orm";
-import { closeDb, db } from "@/db/client";
+import { closeDb, db, transaction } from "@/db/client";
 import { checks, engines, readings, users } from "@/db/schema";
-import { nextVersion } from "@/db/versions";
+import { currentVersion, nextVersion } from "@/db/versions";
 import { mysqlErrorCode } from "@/db/errors";
 import { rawConnection } from "../../support/db";
 
@@ -69,9 +69,16 @@ describe("the schema on a real MariaDB", () => {
     expect(await db().select().from(readings).where(eq(readings.checkId, check!.id))).toEqual([]);
   });
 
-  it("hands out strictly increasing change versions", async () => {
-    const a = await nextVersion(db());
-    const b = await nextVersion(db());
-    expect(b).toBeGreaterThan(a);
+  it("hands out each owner's change versions one by one, and a rolled-back write takes its number back", async () => {
+    const [owner, other] = [await makeUser("versions"), await makeUser("versions-other")];
+    const take = (id: string) => transaction((tx) => nextVersion(tx, id));
+    expect([await take(owner), await take(owner), await take(other), await take(owner)]).toEqual([1, 2, 1, 3]);
+    const err = await transaction(async (tx) => {
+      expect(await nextVersion(tx, owner)).toBe(4);
+      throw new Error("refused");
+    }).catch((e: unknown) => e);
+    expect(err).toBeInstanceOf(Error);
+    expect(await transaction((tx) => currentVersion(tx, owner))).toBe(3);
+    expect(await take(owner)).toBe(4);
   });
 });

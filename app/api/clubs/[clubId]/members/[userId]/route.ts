@@ -5,16 +5,17 @@ import { conflict, notFound } from "@/lib/errors";
 import { route, uuidParam } from "@/server/http";
 import { clubRole } from "@/server/access";
 import { write } from "@/server/write";
-import { countAdmins, listMembers, rolesInClub, setRoles } from "@/db/queries/clubs";
+import { listMembers, lockClubRoles, rolesInClub, setRoles } from "@/db/queries/clubs";
 import type { Tx } from "@/db/client";
 
 const params = z.object({ clubId: uuidParam, userId: uuidParam });
 
 /** Change a member's roles in one transaction with the checks, so two admins cannot both step down. */
 async function changeRoles(tx: Tx, clubId: string, userId: string, roles: Role[], actorId: string) {
+  const { admins } = await lockClubRoles(tx, clubId);
   const have = await rolesInClub(tx, userId, clubId);
   if (have.length === 0) throw notFound("member");
-  if (have.includes("admin") && !roles.includes("admin") && (await countAdmins(tx, clubId)) <= 1) throw conflict("A club needs at least one admin");
+  if (have.includes("admin") && !roles.includes("admin") && admins <= 1) throw conflict("A club needs at least one admin");
   await setRoles(tx, clubId, userId, roles, actorId);
 }
 
