@@ -90,7 +90,8 @@ export class Phone {
       try {
         res = await fetch(this.base + path, {
           method: "POST",
-          headers: { "content-type": "application/json", cookie: this.cookie },
+          // a phone's browser names the app's origin on every push (state-changing routes require it)
+          headers: { "content-type": "application/json", cookie: this.cookie, origin: this.base },
           body: JSON.stringify(body()),
           signal: AbortSignal.timeout(ANSWER_WITHIN_MS),
         });
