@@ -1,10 +1,10 @@
 import "server-only";
 import { env } from "@/lib/env";
-import { hashPassword } from "@/lib/auth/password";
+import { hashPassword, verifyPassword } from "@/lib/auth/password";
 import { consumeAuthToken, createAuthToken, createUser, getCredentialsByEmail, getCredentialsById, tokenOwner, updateUser, bumpSessionGeneration } from "@/db/queries/users";
 import { queueNotices } from "./notices";
 import { spend, mailThrottled } from "./throttle";
-import { DomainError } from "@/lib/errors";
+import { DomainError, invalid } from "@/lib/errors";
 
 /**
  * Account flows that send e-mail. Each answers the same, in the same time, whether or not the address
@@ -50,7 +50,7 @@ async function sendVerification(userId: string, email: string, name: string) {
       toUserId: userId,
       kind: "verify",
       subject: "Confirm your e-mail for Lashwright",
-      body: `Welcome to Lashwright, ${name}.\n\nConfirm this address to sign in:\n${link("/verify", token)}\n\nThe link works once, for 24 hours.`,
+      body: `Welcome to Lashwright, ${name}.\n\nTo confirm this address, open the link and enter the password you chose when you signed up:\n${link("/verify", token)}\n\nThe link works once, for 24 hours. If you did not sign up, ignore this message: nobody can sign in with this address until it is confirmed, and the page behind the link lets you choose your own password instead.`,
     },
   ]);
 }
@@ -69,11 +69,32 @@ export async function resendVerification(email: string): Promise<void> {
   if (u && !u.emailVerifiedAt) await sendVerification(u.id, email, u.name);
 }
 
-export async function verifyEmail(token: string): Promise<boolean> {
-  const userId = await consumeAuthToken(token, "verify");
-  if (!userId || userId === "other") return false;
+/** Five password tries per account in 15 minutes on the confirmation page; then the link waits. */
+export const VERIFY_TRY_LIMIT = { count: 5, windowMinutes: 15 } as const;
+
+/**
+ * Confirms an address. The link proves the mailbox; the password proves that whoever holds the
+ * mailbox also chose the account's password. Without the second, someone who signed up first with
+ * another person's address would keep a working password once that person clicked the link (NIST
+ * SP 800-63B 6.1.2: bind an authenticator only to a subscriber known to control it). A wrong or
+ * missing password leaves the link usable, so the owner can still choose their own password.
+ */
+export async function verifyEmail(token: string, password: string | undefined): Promise<void> {
+  const bad = () => new DomainError("bad_request", "This link has expired or was already used", { code: "bad_token" });
+  const userId = await tokenOwner(token, "verify");
+  if (!userId) throw bad();
+  const u = await getCredentialsById(userId);
+  if (!u) throw bad();
+  if (u.passwordHash) {
+    if (!password) throw invalid("Enter the password you chose when you signed up", { password: "missing: the one you chose when you signed up" });
+    if (!(await spend(`verify:${userId}`, VERIFY_TRY_LIMIT.count, VERIFY_TRY_LIMIT.windowMinutes)))
+      throw new DomainError("throttled", `Too many tries. Wait ${VERIFY_TRY_LIMIT.windowMinutes} minutes, or choose a new password instead.`);
+    if (!(await verifyPassword(password, u.passwordHash)))
+      throw invalid("That is not the password this account was made with", { password: "not the password chosen at sign-up" });
+  }
+  const used = await consumeAuthToken(token, "verify", { onlyFor: userId });
+  if (used !== userId) throw bad();
   await updateUser(userId, { emailVerifiedAt: new Date() });
-  return true;
 }
 
 /**

@@ -29,17 +29,30 @@ const signInLink = (
   </Link>
 );
 
+const verifySchema = z.object({ password: z.string().min(1, { error: "missing: the one you chose when you signed up" }) });
+
+/**
+ * Confirming an address asks for the password chosen at sign-up. The link proves the mailbox, the
+ * password proves the account: someone who signed up first with another person's address cannot
+ * have their password confirmed by that person's click. Whoever did not sign up chooses their own.
+ */
 export function VerifyEmail() {
   const token = useSearchParams().get("token") ?? "";
-  const [state, setState] = useState<"working" | "ok" | "bad">("working");
-  useOnce(() => {
-    mutations.verify(token).then(
-      () => setState("ok"),
-      () => setState("bad"),
-    );
+  const [state, setState] = useState<"form" | "ok" | "bad">("form");
+  const [refused, setRefused] = useState<string | null>(null);
+  const form = useForm<z.input<typeof verifySchema>, unknown, z.output<typeof verifySchema>>({ resolver: zodResolver(verifySchema), defaultValues: { password: "" } });
+  const onSubmit = form.handleSubmit(async ({ password }) => {
+    setRefused(null);
+    try {
+      await mutations.verify(token, password);
+      setState("ok");
+    } catch (e) {
+      if (e instanceof ApiFailure && e.fields.password) form.setError("password", { message: e.fields.password }, { shouldFocus: true });
+      else if (e instanceof ApiFailure && e.status === 429) setRefused(e.message);
+      else setState("bad");
+    }
   });
   // the heading says where things stand, so it is the first thing read once the page has answered
-  if (state === "working") return <h1 className={authTitleClass}>Confirming your address…</h1>;
   if (state === "ok")
     return (
       <>
@@ -48,10 +61,32 @@ export function VerifyEmail() {
         <ButtonLink href="/sign-in">Sign in</ButtonLink>
       </>
     );
+  if (state === "bad")
+    return (
+      <>
+        <h1 className={authTitleClass}>This link no longer works</h1>
+        <Notice tone="error">It has expired or was already used. Try to {signInLink}: if the address still needs confirming, the sign-in page offers a new link.</Notice>
+      </>
+    );
   return (
     <>
-      <h1 className={authTitleClass}>This link no longer works</h1>
-      <Notice tone="error">It has expired or was already used. Try to {signInLink}: if the address still needs confirming, the sign-in page offers a new link.</Notice>
+      <h1 className={authTitleClass}>Confirm your address</h1>
+      <form onSubmit={onSubmit} noValidate className="flex flex-col gap-4">
+        <Field id="password" label="Password" error={form.formState.errors.password?.message} hint="The password you chose when you created the account.">
+          <input id="password" type="password" autoComplete="current-password" className={inputClass} {...form.register("password")} />
+        </Field>
+        {refused && <Notice tone="error">{refused}</Notice>}
+        <Button type="submit" disabled={form.formState.isSubmitting}>
+          Confirm
+        </Button>
+      </form>
+      <Notice>
+        Did not create this account, or forgot the password? Someone may have signed up with your address.{" "}
+        <Link href="/forgot-password" className="font-bold underline">
+          Choose your own password
+        </Link>{" "}
+        instead: it confirms the address and the other password stops working.
+      </Notice>
     </>
   );
 }

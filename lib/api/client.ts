@@ -119,7 +119,7 @@ export const fetchers = {
 
 export const mutations = {
   signUp: (body: { email: string; name: string; password: string }) => apiFetch<{ message: string }>("/api/account/sign-up", { method: "POST", body }),
-  verify: (token: string) => apiFetch("/api/account/verify", { method: "POST", body: { token } }),
+  verify: (token: string, password: string) => apiFetch("/api/account/verify", { method: "POST", body: { token, password } }),
   resendVerification: (email: string) => apiFetch<{ message: string }>("/api/account/verify/resend", { method: "POST", body: { email } }),
   requestReset: (email: string) => apiFetch<{ message: string }>("/api/account/password-reset", { method: "POST", body: { email } }),
   setPassword: (token: string, password: string) => apiFetch("/api/account/password", { method: "POST", body: { token, password } }),

@@ -50,6 +50,12 @@ describe("a newcomer's first ten minutes", () => {
     await page.goto(`${mailApi()}/api/email/${mail.id}/html`);
     await page.getByRole("link", { name: /\/verify\?token=/ }).tap();
     await page.waitForURL(/\/verify\?token=/);
+    // the link alone confirms nothing: the password chosen at sign-up goes with it
+    await page.getByRole("heading", { level: 1, name: "Confirm your address" }).waitFor();
+    await page.getByRole("button", { name: "Confirm" }).tap();
+    await page.getByText(/missing: the one you chose/).waitFor();
+    await page.getByLabel("Password").fill(password);
+    await page.getByRole("button", { name: "Confirm" }).tap();
     await page.getByRole("heading", { level: 1, name: "Your address is confirmed" }).waitFor();
     await page.getByRole("link", { name: "Sign in" }).last().tap();
 

@@ -21,8 +21,12 @@ describe("accounts through the API and the local mail catcher", () => {
 
     const verify = await waitForMail(email, /Confirm your e-mail/);
     const token = linkToken(verify, "/verify");
-    expect((await c.post("/api/account/verify", { token })).status).toBe(200);
-    expect((await c.post("/api/account/verify", { token })).status).toBe(400); // a link works once
+    // the link alone does not confirm: the sign-up's password goes with it
+    const noPassword = await c.post("/api/account/verify", { token });
+    expect(noPassword.status).toBe(422);
+    expect(noPassword.json.error.fields.password).toMatch(/missing/);
+    expect((await c.post("/api/account/verify", { token, password: "first-password-77" })).status).toBe(200);
+    expect((await c.post("/api/account/verify", { token, password: "first-password-77" })).status).toBe(400); // a link works once
 
     expect(await c.signIn("password", { email, password: "wrong-password-00" })).toBe("CredentialsSignin");
     expect(await c.signIn("password", { email, password: "first-password-77" })).toBeNull();
@@ -76,7 +80,7 @@ describe("accounts through the API and the local mail catcher", () => {
     const email = `out-${crypto.randomUUID().slice(0, 8)}@test.example`;
     const c = new Client(app.url);
     await c.post("/api/account/sign-up", { email, name: "Pia Bucket", password: "sign-out-pass-9" });
-    await c.post("/api/account/verify", { token: linkToken(await waitForMail(email, /Confirm/), "/verify") });
+    await c.post("/api/account/verify", { token: linkToken(await waitForMail(email, /Confirm/), "/verify"), password: "sign-out-pass-9" });
     await c.signIn("password", { email, password: "sign-out-pass-9" });
     const stolen = c.cookieHeader();
     expect((await c.get("/api/account")).status).toBe(200);

@@ -53,6 +53,27 @@ describe("account takeover by signing up first (ASVS V6 Authentication; NIST SP 
     // the owner's own session goes on working
     expect((await owner.get("/api/account")).status).toBe(200);
   });
+
+  it("the owner clicking the confirmation mail the attacker's sign-up caused does not confirm the attacker's password", async () => {
+    const victim = fresh("victim2");
+    const attacker = new Client(app.url);
+    expect((await attacker.post("/api/account/sign-up", { email: victim, name: "Not The Owner", password: "attacker-chose-this-2" })).status).toBe(202);
+    const token = linkToken(await waitForMail(victim, /Confirm your e-mail/), "/verify");
+    // the owner opens the link: without the sign-up's password it confirms nothing
+    const owner = new Client(app.url);
+    expect((await owner.post("/api/account/verify", { token })).status).toBe(422);
+    expect((await owner.post("/api/account/verify", { token, password: "owner-guesses-something" })).status).toBe(422);
+    expect(await new Client(app.url).signIn("password", { email: victim, password: "attacker-chose-this-2" })).toBe("Unverified");
+    // guessing the sign-up's password through the link is throttled like a sign-in (5 in 15 minutes)
+    for (let i = 0; i < 4; i++) expect((await owner.post("/api/account/verify", { token, password: `guess-number-${i}` })).status).toBe(422);
+    expect((await owner.post("/api/account/verify", { token, password: "attacker-chose-this-2" })).status).toBe(429);
+    // the page's way out: the owner chooses their own password, which confirms the address
+    expect((await owner.post("/api/account/password-reset", { email: victim })).status).toBe(202);
+    const reset = linkToken(await waitForMail(victim, /Choose a new Lashwright password/), "/reset-password");
+    expect((await owner.post("/api/account/password", { token: reset, password: "owner-own-choice-9" })).status).toBe(200);
+    expect(await new Client(app.url).signIn("password", { email: victim, password: "attacker-chose-this-2" })).toBe("CredentialsSignin");
+    expect(await new Client(app.url).signIn("password", { email: victim, password: "owner-own-choice-9" })).toBeNull();
+  });
 });
 
 describe("sign-in throttle (ASVS V6 Authentication; NIST SP 800-63B 5.2.2 rate limiting)", () => {

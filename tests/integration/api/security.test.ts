@@ -133,7 +133,7 @@ describe("sessions and passwords", () => {
     const password = "very-private-phrase-42";
     const c = new Client(app.url);
     await c.post("/api/account/sign-up", { email, name: "Secret Keeper", password });
-    await c.post("/api/account/verify", { token: linkToken(await waitForMail(email, /Confirm/), "/verify") });
+    await c.post("/api/account/verify", { token: linkToken(await waitForMail(email, /Confirm/), "/verify"), password });
     expect(await c.signIn("password", { email, password })).toBeNull();
     await c.signIn("password", { email, password: "wrong-phrase-00" });
     const bodies = [await c.get("/api/account"), await c.get("/api/clubs"), await c.patch("/api/account", { name: "Secret Keeper" })].map((r) => JSON.stringify(r.json));

@@ -1,9 +1,8 @@
-import { tokenInput } from "@/lib/schemas/account";
-import { DomainError } from "@/lib/errors";
+import { verifyInput } from "@/lib/schemas/account";
 import { route } from "@/server/http";
 import { verifyEmail } from "@/server/account";
 
-export const POST = route({ auth: false, body: tokenInput }, async ({ body }) => {
-  if (!(await verifyEmail(body.token))) throw new DomainError("bad_request", "This link has expired or was already used", { code: "bad_token" });
+export const POST = route({ auth: false, body: verifyInput }, async ({ body }) => {
+  await verifyEmail(body.token, body.password);
   return { ok: true };
 });
