@@ -1,5 +1,6 @@
 "use client";
 
+import dynamic from "next/dynamic";
 import Link from "next/link";
 import { useSearchParams } from "next/navigation";
 import { useCallback, useState } from "react";
@@ -8,17 +9,20 @@ import { checkPlan, DEFAULT_PLAN_OPTIONS, type PlanOptions } from "@/lib/check/d
 import { poolForEngine, trayForEngine } from "@/lib/check/pool";
 import { beginFit, saveEngine, setCheckStatus } from "@/lib/sync/writes";
 import { usePool } from "@/components/pool/use-pool";
-import { AskReview } from "@/components/review/ask-review";
 import { useLocal } from "@/components/sync/local-provider";
 import { Notice } from "@/components/ui/controls";
 import { useStored } from "@/components/ui/use-stored";
-import { FitStep } from "./fit-step";
 import { MeasureStep } from "./measure-step";
-import { PlanStep } from "./plan-step";
 import { PrepareStep } from "./prepare-step";
 import { STEPS, type Step } from "./steps";
 import { useCheckData, useCheckModel, useSaveReading, type CheckData } from "./use-check-data";
-import { VerifyStep } from "./verify-step";
+
+// Each step's code loads when the step is shown: the measuring step, where every tap counts, carries
+// no table, plan, pool, swap list or review code.
+const PlanStep = dynamic(() => import("./plan-step").then((m) => m.PlanStep), { ssr: false });
+const FitStep = dynamic(() => import("./fit-step").then((m) => m.FitStep), { ssr: false });
+const VerifyStep = dynamic(() => import("./verify-step").then((m) => m.VerifyStep), { ssr: false });
+const AskReview = dynamic(() => import("@/components/review/ask-review").then((m) => m.AskReview), { ssr: false });
 
 /** The check page: reads the check's id (and step) from the address and shows that step. */
 export function CheckScreen() {
@@ -60,7 +64,9 @@ export function CheckScreen() {
 function CheckBody({ data, step, go }: { data: CheckData; step?: Step; go: (s: Step) => void }) {
   const { check, engine, readings, tray, previous } = data;
   const { db, user } = useLocal();
-  const pool = usePool();
+  const current: Step = step ?? (check.status === "closed" ? "plan" : readings.length ? "measure" : "prepare");
+  // the club pool is asked for (and the outbox watched for loans) only on the steps that plan with it
+  const pool = usePool({ active: current === "plan" || current === "fit" });
   const fit = poolForEngine(engine, pool.offeredToMe, user?.id ?? "");
   const trayFit = trayForEngine(engine, tray);
   // the plan's aim is the mechanic's choice for this engine, kept on this phone
@@ -69,7 +75,6 @@ function CheckBody({ data, step, go }: { data: CheckData; step?: Step; go: (s: S
   const save = useSaveReading(check.id);
   // which way the engine faces is part of its profile: saved, synced, and the same for the mentor
   const turn = () => db && void saveEngine(db, { ...engine, mirrored: !engine.mirrored });
-  const current: Step = step ?? (check.status === "closed" ? "plan" : readings.length ? "measure" : "prepare");
   let plan: ShimPlan | null = null;
   let planError: string | null = null;
   try {

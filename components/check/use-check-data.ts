@@ -24,16 +24,20 @@ export interface CheckData {
  */
 export function useCheckData(id: string): CheckData | null | undefined {
   const { db } = useLocal();
-  return useLiveQuery(async () => {
+  // two live queries: a blade tap changes this check's readings only, so only they are read again,
+  // and the engine, check and tray keep their identity (the cards compare them cheaply)
+  const rest = useLiveQuery(async () => {
     if (!db) return undefined;
     const check = await db.checks.get(id);
     if (!check) return null;
-    const [engine, readings, tray, checks] = await Promise.all([db.engines.get(check.engineId), db.readings.where("checkId").equals(id).toArray(), db.tray.toArray(), db.checks.where("engineId").equals(check.engineId).toArray()]);
+    const [engine, tray, checks] = await Promise.all([db.engines.get(check.engineId), db.tray.toArray(), db.checks.where("engineId").equals(check.engineId).toArray()]);
     if (!engine) return null;
     const before = previousCheck(check, checks);
     const previous = lastShims(before ? await db.readings.where("checkId").equals(before.id).toArray() : []);
-    return { check, engine, readings, tray, previous };
+    return { check, engine, tray, previous };
   }, [db, id]);
+  const readings = useLiveQuery(async () => (db ? db.readings.where("checkId").equals(id).toArray() : undefined), [db, id]);
+  return useMemo(() => (rest === null ? null : rest === undefined || readings === undefined ? undefined : { ...rest, readings }), [rest, readings]);
 }
 
 /** What every step reads from the data: the engine's shim sizes and series step, and each valve's view. */

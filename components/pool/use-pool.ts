@@ -12,14 +12,15 @@ import { useLocal } from "@/components/sync/local-provider";
  * The club pools of every club the user is in, their loans, and what of theirs waits in the outbox.
  * Read through the API and kept for offline reading (persist-queries keeps "clubs" queries).
  */
-export function usePool() {
+export function usePool({ active = true }: { active?: boolean } = {}) {
   const { db, user, syncNow } = useLocal();
   const qc = useQueryClient();
-  const clubs = useQuery({ queryKey: queryKeys.clubs(), queryFn: fetchers.clubs, retry: false });
+  const clubs = useQuery({ queryKey: queryKeys.clubs(), queryFn: fetchers.clubs, retry: false, enabled: active });
   // loans change on the other side: asked again on every screen that shows them (the kept copy shows meanwhile)
-  const pools = useQueries({ queries: (clubs.data ?? []).map((c) => ({ queryKey: queryKeys.pool(c.id), queryFn: () => fetchers.pool(c.id), retry: false, refetchOnMount: "always" as const })) });
-  const borrows = useQuery({ queryKey: queryKeys.borrows(), queryFn: fetchers.borrows, retry: false, refetchOnMount: "always" });
-  const outbox = useLiveQuery(async () => (db ? db.outbox.toArray() : []), [db], []);
+  const pools = useQueries({ queries: (clubs.data ?? []).map((c) => ({ queryKey: queryKeys.pool(c.id), queryFn: () => fetchers.pool(c.id), retry: false, refetchOnMount: "always" as const, enabled: active })) });
+  const borrows = useQuery({ queryKey: queryKeys.borrows(), queryFn: fetchers.borrows, retry: false, refetchOnMount: "always", enabled: active });
+  // idle, it does not read the outbox either: on the measuring step every tap adds to it
+  const outbox = useLiveQuery(async () => (db && active ? db.outbox.toArray() : []), [db, active], []);
   const byId = new Map<string, ApiOffer>();
   for (const p of pools) for (const o of p.data ?? []) byId.set(o.id, o);
   const offers = [...byId.values()];
