@@ -3,7 +3,7 @@
 import dynamic from "next/dynamic";
 import Link from "next/link";
 import { useSearchParams } from "next/navigation";
-import { useCallback, useState } from "react";
+import { useCallback, useState, type ComponentProps } from "react";
 import { LashInputError, workOrder, type ShimPlan } from "@/lib/lash";
 import { checkPlan, DEFAULT_PLAN_OPTIONS, type PlanOptions } from "@/lib/check/derive";
 import { poolForEngine, trayForEngine } from "@/lib/check/pool";
@@ -19,10 +19,23 @@ import { useCheckData, useCheckModel, useSaveReading, type CheckData } from "./u
 
 // Each step's code loads when the step is shown: the measuring step, where every tap counts, carries
 // no table, plan, pool, swap list or review code.
-const PlanStep = dynamic(() => import("./plan-step").then((m) => m.PlanStep), { ssr: false });
+// The plan and the ask for a review below it arrive together: one appearing before the other would
+// move the page under a finger.
+const PlanStep = dynamic(
+  () =>
+    Promise.all([import("./plan-step"), import("@/components/review/ask-review")]).then(([{ PlanStep: Plan }, { AskReview }]) => {
+      const PlanWithReview = (props: ComponentProps<typeof Plan>) => (
+        <>
+          <Plan {...props} />
+          <AskReview checkId={props.check.id} />
+        </>
+      );
+      return PlanWithReview;
+    }),
+  { ssr: false },
+);
 const FitStep = dynamic(() => import("./fit-step").then((m) => m.FitStep), { ssr: false });
 const VerifyStep = dynamic(() => import("./verify-step").then((m) => m.VerifyStep), { ssr: false });
-const AskReview = dynamic(() => import("@/components/review/ask-review").then((m) => m.AskReview), { ssr: false });
 
 /** The check page: reads the check's id (and step) from the address and shows that step. */
 export function CheckScreen() {
@@ -127,7 +140,6 @@ function CheckBody({ data, step, go }: { data: CheckData; step?: Step; go: (s: S
           trayOtherSystem={trayFit.otherSystem}
         />
       )}
-      {current === "plan" && <AskReview checkId={check.id} />}
       {current === "fit" && <FitStep engine={engine} views={views} checkId={check.id} startFit={startFit} onDone={() => (db && setCheckStatus(db, check.id, "verifying"), go("verify"))} />}
       {current === "verify" && <VerifyStep engine={engine} views={views} sizes={sizes} step={seriesStep} save={save} check={check} />}
     </div>

@@ -6,10 +6,9 @@ import { bladeStrip, feelerSet, noGoOf } from "@/lib/check/blades";
 import { STATE_WORDS, valveLabel, type ValveView } from "@/lib/check/derive";
 import type { LocalEngine, LocalReading } from "@/lib/sync/local-db";
 import { READING_VALUE_FIELDS } from "@/lib/schemas/records";
-import dynamic from "next/dynamic";
-
-// the photo strip (camera, shrinking, upload queue) loads after the cards are up
-const PhotoStrip = dynamic(() => import("@/components/photos/photo-strip").then((m) => m.PhotoStrip), { ssr: false });
+// loaded with the card, not after it: a strip arriving later grows the card under the mechanic's
+// finger and moves the buttons below it, so a tap lands on something else
+import { PhotoStrip } from "@/components/photos/photo-strip";
 
 export type ReadingEntry = Pick<LocalReading, "installedStamp" | "installedMicrometer" | "feelerGo" | "feelerNoGo" | "measured" | "method">;
 

@@ -10,8 +10,9 @@ import { makeUser } from "../support/fixtures";
 
 /**
  * The garage without a signal: sign in once online, then with the network cut create an engine, a
- * check and 16 readings by taps only; reload; close the browser and open it again offline; then go
- * online and see the server hold exactly those rows, once.
+ * check and 16 readings by taps only; reload; close the browser and open it again offline and open
+ * the later steps (their code is loaded only when shown); then go online and see the server hold
+ * exactly those rows, once; fit and re-check offline again.
  */
 const profile = mkdtempSync(path.join(tmpdir(), "lashwright-profile-"));
 let ctx: BrowserContext;
@@ -126,6 +127,15 @@ describe("a whole check offline, then sync", () => {
     await expect.poll(() => measuredCount(page)).toMatch(/^16 of 16/);
     await page.getByRole("button", { name: /^I2\.2 / }).tap();
     await expect(page.getByTestId("result-I2.2").innerText()).resolves.toMatch(/tight/);
+    // each step's code loads when the step is shown: in a browser opened again offline it can only
+    // come from the service worker's precache
+    const steps = page.getByRole("navigation", { name: "Steps of the check" });
+    await steps.getByRole("button", { name: /Plan$/ }).tap();
+    await page.getByText("Plan per valve").waitFor();
+    await steps.getByRole("button", { name: /Re-check$/ }).tap();
+    await page.getByRole("heading", { name: /Measure the changed valves again/ }).waitFor();
+    await steps.getByRole("button", { name: /Measure$/ }).tap();
+    await expect.poll(() => measuredCount(page)).toMatch(/^16 of 16/);
   });
 
   it("online again: the server holds exactly those readings, once, and nothing waits", async () => {
@@ -174,6 +184,9 @@ describe("fitting, re-checking and closing", () => {
     const page = ctx.pages()[0]!;
     const errors: string[] = [];
     page.on("pageerror", (e) => errors.push(e.message));
+    // fitting and re-checking happen in the garage, offline (their code was never loaded in this
+    // browser before: it comes from the precache)
+    await ctx.setOffline(true);
     await page.getByRole("button", { name: /Fit the 4 changes/ }).tap();
     await page.waitForURL(/step=fit/);
     await page
@@ -208,6 +221,8 @@ describe("fitting, re-checking and closing", () => {
     await expect(page.getByText(/· closed/).count()).resolves.toBe(1);
     await page.getByRole("link", { name: "Tray" }).tap();
     await page.getByLabel("4 of 2.6 mm").waitFor();
+    await ctx.setOffline(false);
+    await page.evaluate(() => window.dispatchEvent(new Event("online")));
     await expect.poll(async () => (await serverReadings(checkId)).length, { timeout: 20_000 }).toBe(20);
   });
 });
