@@ -32,11 +32,14 @@ export function MeasureStep({ engine, views, sizes, step, save, onTurn, onDone, 
   const position = order.stops.find((s) => s.valveId === currentId)?.position ?? 0;
   const [fill, setFill] = useState(engine.assembledShim ?? sizes[Math.floor(sizes.length / 2)]!);
   const [undo, setUndo] = useState<Undo[]>([]);
-  const unset = views.filter((v) => v.latest === undefined && v.installed == null);
+  // the one-tap fill is offered on an engine's first check until anything is recorded: the sizes
+  // shown before that are only the profile's assembly shim (or nothing), not yet confirmed
+  const fresh = views.filter((v) => v.latest === undefined);
+  const offerFill = fresh.length === views.length && previous.size === 0;
   const measured = views.filter((v) => v.measured != null).length;
   const fillAll = async () => {
     if (!db) return;
-    for (const v of unset) await saveReading(db, checkId, { valve: v.valve.id, round: 0, installedStamp: fill, installedMicrometer: null, feelerGo: null, feelerNoGo: null, measured: null, method: "feeler", fittedShim: null });
+    for (const v of fresh) await saveReading(db, checkId, { valve: v.valve.id, round: 0, installedStamp: fill, installedMicrometer: null, feelerGo: null, feelerNoGo: null, measured: null, method: "feeler", fittedShim: null });
   };
 
   // moves on past the valve just tapped (its new reading is not in these views yet, so it is skipped by place)
@@ -78,7 +81,7 @@ export function MeasureStep({ engine, views, sizes, step, save, onTurn, onDone, 
 
   return (
     <section className="flex flex-col gap-3" aria-label="Measure">
-      {unset.length === views.length && previous.size === 0 && (
+      {offerFill && (
         <div className="flex flex-wrap items-center gap-2 rounded-xl border-2 border-accent p-3">
           <span className="font-bold">Every bucket has the same shim?</span>
           <select aria-label="Shim size for every bucket" value={fill} onChange={(e) => setFill(Number(e.target.value))} className="figures min-h-12 rounded-xl border-2 border-line bg-surface px-2 text-lg">

@@ -3,6 +3,7 @@ import type { Browser, BrowserContext, Page } from "playwright-core";
 import { signedInClient, type Client } from "../support/api";
 import { baseUrl, launch } from "../support/browser";
 import { addMembership, makeUser } from "../support/fixtures";
+import { measuringOrder } from "@/lib/check/measuring";
 import { waitForMail } from "../support/mail";
 
 /**
@@ -143,12 +144,155 @@ describe("the engine diagram on a small phone", () => {
           await page.locator(`figure [data-cylinder="${m.cyl}"]`).waitFor({ timeout: 20_000 });
           assertDiagram(await layoutOf(page), m.cyl, m.per);
           if (width === 360 && step === "plan" && [1, 6, 16].includes(m.cyl) && m.per === (m.cyl === 1 ? 5 : 4))
+          {
+            // the README's pictures: the diagram alone, without the fixed bar of places over it
+            await page.addStyleTag({ content: 'nav[aria-label="Places"] { display: none !important; }' });
             await page.locator("figure").first().screenshot({ path: `test-results/diagram-${m.cyl}-cylinders.png` });
+          }
         }
       }
       await ctx.close();
     }
   }, 300_000);
+});
+
+/** A blade button's value as the strip labels it (millimetres, two decimals). */
+const bladeValue = (label: string) => Number(label);
+
+describe("measuring a 24-valve engine on a 390 px phone", () => {
+  // an invented inline six, four valves a cylinder, firing 1-5-3-6-2-4, every bucket given the same
+  // shim at assembly, on a stand facing the other way
+  const SIX = { cylinders: 6, intakePerCylinder: 2, exhaustPerCylinder: 2, firingOrder: [1, 5, 3, 6, 2, 4], ...BANDS, shims: { min: 2.5, max: 3.3, step: 0.05 }, assembledShim: 2.75, mirrored: true };
+
+  async function sixWithCheck(api: Client) {
+    const engineId = crypto.randomUUID();
+    const checkId = crypto.randomUUID();
+    await push(api, [
+      { name: "engine.put/1", args: { id: engineId, name: "Stand six", ...SIX } },
+      { name: "check.put/1", args: { id: checkId, engineId, odometer: 41_000, measuredHot: false, status: "measuring" } },
+    ]);
+    return { engineId, checkId };
+  }
+
+  it("follows the rotation guide valve by valve: 24 readings and the installed shims in 26 taps", async () => {
+    const u = await makeUser("six");
+    const api = await signedInClient(baseUrl(), u);
+    const { checkId } = await sixWithCheck(api);
+    const ctx = await phone(390);
+    const page = await ctx.newPage();
+    await signIn(page, u);
+    await page.goto(`${baseUrl()}/check?id=${checkId}`);
+    // the safety ticks come first, every check; they are not data entry, so they are counted apart
+    let safety = 0;
+    await page.getByRole("heading", { name: "Before you start" }).waitFor({ timeout: 20_000 });
+    for (const box of await page.getByRole("checkbox").all()) {
+      await box.tap();
+      safety++;
+    }
+    await page.getByRole("button", { name: "Start measuring" }).tap();
+    safety++;
+
+    let taps = 0;
+    const tap = async (l: ReturnType<Page["getByRole"]>) => {
+      await l.tap();
+      taps++;
+    };
+    // one tap puts the assembly shim in every bucket
+    await tap(page.getByRole("button", { name: "Fill all 24" }));
+    await expect.poll(() => page.getByTestId("shim-I1.1").innerText()).toBe("2.75");
+
+    const visited: string[] = [];
+    const tight = new Set(["I3.2", "E6.1", "E2.2"]);
+    for (let i = 0; i < 24; i++) {
+      const strip = page.getByRole("group", { name: /^Feeler blades for / });
+      const valve = (await strip.getAttribute("aria-label"))!.replace("Feeler blades for ", "");
+      visited.push(valve);
+      expect(valve).toBeTruthy();
+      // the strip is centred on the valve's band: an in-band blade, and a tight one, need no scrolling
+      const band = valve.startsWith("I") ? BANDS.intake : BANDS.exhaust;
+      const labels = await strip.getByRole("button").allInnerTexts();
+      const values = labels.map(bladeValue);
+      expect(values.some((b) => b < band.min) && values.some((b) => b > band.max)).toBe(true);
+      const want = tight.has(valve) ? values.filter((b) => b < band.min).at(-1)! : values.find((b) => b >= band.min + 0.02)!;
+      await tap(strip.getByRole("button", { name: want.toFixed(2), exact: true }));
+      await expect.poll(() => page.getByTestId("measured-count").innerText()).toBe(`${i + 1} of 24 valves measured`);
+    }
+    // the order is the rotation guide's (lib/check/measuring), each valve once
+    expect(visited).toEqual(measuringOrder({ ...SIX, firingAngles: null, timing: undefined }).stops.map((s) => s.valveId));
+    const measureHeight = await page.evaluate(() => document.documentElement.scrollHeight);
+    await page.screenshot({ path: "test-results/measure-six.png" });
+    await tap(page.getByRole("button", { name: "All measured: see the shim plan" }));
+    await page.waitForURL(/step=plan/);
+    // three tight valves and nothing else to swap with: the plan buys thinner shims
+    await page.getByRole("heading", { name: "Buy list" }).waitFor({ timeout: 20_000 });
+    console.log(`[garage-phone] 24 valves: ${taps} taps to enter (1 fill, 24 blades, 1 to the plan); ${safety} taps on the safety list before; the measure page ${measureHeight} px tall`);
+    expect(taps).toBeLessThanOrEqual(30);
+    await ctx.close();
+  }, 180_000);
+
+  it("a wrong tap is undone, a reading cleared, and Enter saves a typed value", async () => {
+    const u = await makeUser("undo");
+    const api = await signedInClient(baseUrl(), u);
+    const { checkId } = await sixWithCheck(api);
+    const ctx = await phone(360);
+    const page = await ctx.newPage();
+    await signIn(page, u);
+    await page.goto(`${baseUrl()}/check?id=${checkId}&step=measure`);
+    const first = measuringOrder({ ...SIX, firingAngles: null, timing: undefined }).stops.map((s) => s.valveId) as [string, string, ...string[]];
+    const strip = page.getByRole("group", { name: /^Feeler blades for / });
+    await strip.getByRole("button", { name: "0.15", exact: true }).tap();
+    await expect.poll(() => strip.getAttribute("aria-label")).toBe(`Feeler blades for ${first[1]}`);
+    // undo: the first valve is unmeasured again and is the one on screen
+    await page.getByRole("button", { name: "Undo last" }).tap();
+    await expect.poll(() => strip.getAttribute("aria-label")).toBe(`Feeler blades for ${first[0]}`);
+    await expect.poll(() => page.getByTestId("measured-count").innerText()).toBe("0 of 24 valves measured");
+    expect(await page.getByTestId(`result-${first[0]}`).innerText()).toMatch(/not measured yet/);
+    // Enter in the typed box saves and moves on
+    await page.getByRole("button", { name: "Type a value instead" }).tap();
+    await page.getByLabel(`Typed clearance of ${first[0]} in mm`).fill("0.17");
+    await page.getByLabel(`Typed clearance of ${first[0]} in mm`).press("Enter");
+    await expect.poll(() => page.getByTestId("measured-count").innerText()).toBe("1 of 24 valves measured");
+    await expect.poll(() => strip.getAttribute("aria-label")).toBe(`Feeler blades for ${first[1]}`);
+    // clearing: pick the valve on the diagram, clear its reading
+    await page.getByRole("button", { name: new RegExp(`^${first[0].replace(".", "\\.")} `) }).tap();
+    expect(await page.getByTestId(`result-${first[0]}`).innerText()).toMatch(/0\.17 mm \(typed\)/);
+    await page.getByRole("button", { name: "Clear this reading" }).tap();
+    await expect.poll(() => page.getByTestId("measured-count").innerText()).toBe("0 of 24 valves measured");
+    await expect.poll(() => page.getByTestId(`result-${first[0]}`).innerText()).toMatch(/not measured yet/);
+    await ctx.close();
+  }, 120_000);
+
+  it("the facing is part of the engine: turned on one phone, the other phone draws it the same way", async () => {
+    const u = await makeUser("facing");
+    const api = await signedInClient(baseUrl(), u);
+    const { engineId, checkId } = await sixWithCheck(api);
+    const a = await (await phone(390)).newPage();
+    await signIn(a, u);
+    await a.goto(`${baseUrl()}/check?id=${checkId}&step=measure`);
+    await a.locator("figure [data-cylinder]").first().waitFor();
+    expect((await layoutOf(a)).groups.map((g) => g.cylinder)).toEqual([6, 5, 4, 3, 2, 1]);
+    await a.getByRole("button", { name: "Turn the picture: cylinder 1 on the left" }).tap();
+    await expect.poll(async () => (await layoutOf(a)).groups.map((g) => g.cylinder)).toEqual([1, 2, 3, 4, 5, 6]);
+    // saved with the engine and sent with the next sync
+    await expect.poll(async () => (await api.get(`/api/engines/${engineId}`)).json.engine?.mirrored, { timeout: 30_000 }).toBe(false);
+
+    const b = await (await phone(360)).newPage();
+    await signIn(b, u);
+    await b.goto(`${baseUrl()}/check?id=${checkId}&step=measure`);
+    await b.locator("figure [data-cylinder]").first().waitFor({ timeout: 20_000 });
+    const l = await layoutOf(b);
+    expect(l.groups.map((g) => g.cylinder)).toEqual([1, 2, 3, 4, 5, 6]);
+    // valves inside a cylinder follow the facing too: intake 1 before intake 2
+    expect(l.groups[0]!.cells.map((c) => c.id)).toEqual(["I1.1", "I1.2", "E1.1", "E1.2"]);
+    assertDiagram(l, 6, 4);
+    // and back again on phone B: mirrored inside each cylinder as well
+    await b.getByRole("button", { name: "Engine faces the other way? Put cylinder 1 on the right" }).tap();
+    await expect.poll(async () => (await layoutOf(b)).groups.map((g) => g.cylinder)).toEqual([6, 5, 4, 3, 2, 1]);
+    expect((await layoutOf(b)).groups.at(-1)!.cells.map((c) => c.id)).toEqual(["I1.2", "I1.1", "E1.2", "E1.1"]);
+    await expect.poll(async () => (await api.get(`/api/engines/${engineId}`)).json.engine?.mirrored, { timeout: 30_000 }).toBe(true);
+    await a.context().close();
+    await b.context().close();
+  }, 180_000);
 });
 
 describe("a mentor's links and the whole story of a check", () => {
