@@ -43,7 +43,8 @@ export function CheckScreen() {
   const id = params.get("id") ?? "";
   // the step is this screen's own state, mirrored into the address for a reload; it does not wait
   // for the router to notice a replaced history entry (which a busy render could leave behind)
-  const [stepOf, setStepOf] = useState<{ id: string; step: Step | undefined }>({ id, step: (params.get("step") as Step) ?? undefined });
+  // moved: the step was changed here (not opened from the address), so its heading takes focus
+  const [stepOf, setStepOf] = useState<{ id: string; step: Step | undefined; moved?: boolean }>({ id, step: (params.get("step") as Step) ?? undefined });
   const step = stepOf.id === id ? stepOf.step : ((params.get("step") as Step) ?? undefined);
   const data = useCheckData(id);
 
@@ -63,10 +64,11 @@ export function CheckScreen() {
       key={id}
       data={data}
       step={step}
+      moved={stepOf.id === id && !!stepOf.moved}
       go={(s: Step) => {
         // a step is a view of the same record: change the address without a navigation (no request,
         // so it behaves the same offline)
-        setStepOf({ id, step: s });
+        setStepOf({ id, step: s, moved: true });
         window.history.replaceState(null, "", `/check?id=${id}&step=${s}`);
         window.scrollTo({ top: 0 });
       }}
@@ -74,7 +76,7 @@ export function CheckScreen() {
   );
 }
 
-function CheckBody({ data, step, go }: { data: CheckData; step?: Step; go: (s: Step) => void }) {
+function CheckBody({ data, step, go, moved }: { data: CheckData; step?: Step; go: (s: Step) => void; moved: boolean }) {
   const { check, engine, readings, tray, previous } = data;
   const { db, user } = useLocal();
   const current: Step = step ?? (check.status === "closed" ? "plan" : readings.length ? "measure" : "prepare");
@@ -119,8 +121,8 @@ function CheckBody({ data, step, go }: { data: CheckData; step?: Step; go: (s: S
       <p className="figures text-ink-soft">
         {engine.name} · {check.odometer.toLocaleString("en")} {engine.odometerUnit} · measure {check.measuredHot ? "hot" : "cold"}
       </p>
-      {current === "prepare" && <PrepareStep checkId={check.id} onDone={() => go("measure")} />}
-      {current === "measure" && <MeasureStep engine={engine} views={views} sizes={sizes} step={seriesStep} save={save} onTurn={turn} onDone={() => go("plan")} previous={previous} checkId={check.id} />}
+      {current === "prepare" && <PrepareStep checkId={check.id} onDone={() => go("measure")} focusHeading={moved} />}
+      {current === "measure" && <MeasureStep engine={engine} views={views} sizes={sizes} step={seriesStep} save={save} onTurn={turn} onDone={() => go("plan")} previous={previous} checkId={check.id} focusHeading={moved} />}
       {current === "plan" && (
         <PlanStep
           engine={engine}
@@ -138,10 +140,11 @@ function CheckBody({ data, step, go }: { data: CheckData; step?: Step; go: (s: S
           options={options}
           setOptions={setOptions}
           trayOtherSystem={trayFit.otherSystem}
+          focusHeading={moved}
         />
       )}
-      {current === "fit" && <FitStep engine={engine} views={views} checkId={check.id} startFit={startFit} onDone={() => (db && setCheckStatus(db, check.id, "verifying"), go("verify"))} />}
-      {current === "verify" && <VerifyStep engine={engine} views={views} sizes={sizes} step={seriesStep} save={save} check={check} />}
+      {current === "fit" && <FitStep engine={engine} views={views} checkId={check.id} startFit={startFit} onDone={() => (db && setCheckStatus(db, check.id, "verifying"), go("verify"))} focusHeading={moved} />}
+      {current === "verify" && <VerifyStep engine={engine} views={views} sizes={sizes} step={seriesStep} save={save} check={check} focusHeading={moved} />}
     </div>
   );
 }

@@ -1,6 +1,6 @@
 "use client";
 
-import { useLayoutEffect, useRef, useState } from "react";
+import { useLayoutEffect, useRef, useState, type KeyboardEvent } from "react";
 import { STATE_WORDS, type ValveState, type ValveView } from "@/lib/check/derive";
 import { CELL_GAP_PX, CELL_PX, diagramRows, GROUP_GAP_PX } from "@/lib/check/diagram";
 
@@ -36,6 +36,22 @@ export function EngineDiagram({ views, mirrored, onPick, commentDots, current, o
   }, []);
   const rows = diagramRows(views, mirrored, width);
   const states = new Set(views.map((v) => v.state));
+  // one Tab stop for the whole diagram (the valve last moved to, else the current one): the arrow
+  // keys move between valves, so a keyboard does not pass 16 or more cells on every way round
+  const [moved, setMoved] = useState<string | null>(null);
+  const ids = views.map((v) => v.valve.id);
+  const stop = moved && ids.includes(moved) ? moved : current && ids.includes(current) ? current : ids[0];
+  const arrows = (e: KeyboardEvent<HTMLDivElement>) => {
+    const step = e.key === "ArrowRight" || e.key === "ArrowDown" ? 1 : e.key === "ArrowLeft" || e.key === "ArrowUp" ? -1 : 0;
+    if (!step && e.key !== "Home" && e.key !== "End") return;
+    const cells = [...(box.current?.querySelectorAll<HTMLButtonElement>("button[data-valve]") ?? [])];
+    const at = cells.indexOf(document.activeElement as HTMLButtonElement);
+    if (at < 0) return;
+    const to = e.key === "Home" ? 0 : e.key === "End" ? cells.length - 1 : Math.min(cells.length - 1, Math.max(0, at + step));
+    e.preventDefault();
+    cells[to]!.focus();
+    setMoved(cells[to]!.dataset.valve ?? null);
+  };
   const cell = (v: ValveView) => {
     const s = STATE_WORDS[v.state];
     const dot = commentDots?.has(v.valve.id);
@@ -44,7 +60,11 @@ export function EngineDiagram({ views, mirrored, onPick, commentDots, current, o
       <button
         key={v.valve.id}
         type="button"
-        onClick={() => onPick?.(v.valve.id)}
+        onClick={() => {
+          setMoved(v.valve.id);
+          onPick?.(v.valve.id);
+        }}
+        tabIndex={v.valve.id === stop ? 0 : -1}
         aria-label={`${v.valve.id} ${s.word}${dot ? ", has comments" : ""}`}
         aria-current={here ? "true" : undefined}
         data-valve={v.valve.id}
@@ -68,8 +88,9 @@ export function EngineDiagram({ views, mirrored, onPick, commentDots, current, o
     <figure aria-label="Engine diagram" className="flex flex-col gap-2 rounded-2xl border border-line bg-surface-2 p-3">
       <figcaption className="text-xs font-bold text-ink-soft">
         {mirrored ? "Cylinder 1 on the right (the engine faces the other way)" : "Cylinder 1 on the left"} · intakes on top, exhausts below
+        <span className="sr-only"> · the arrow keys move between valves</span>
       </figcaption>
-      <div ref={box} className="flex flex-col" style={{ gap: GROUP_GAP_PX }}>
+      <div ref={box} onKeyDown={arrows} className="flex flex-col" style={{ gap: GROUP_GAP_PX }}>
         {rows.map((row) => (
           <div key={row[0]!.cylinder} className="flex justify-center" style={{ gap: GROUP_GAP_PX }}>
             {row.map((g) => (

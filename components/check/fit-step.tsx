@@ -10,6 +10,7 @@ import { offerToClub, toggleSwap } from "@/lib/sync/writes";
 import { usePool } from "@/components/pool/use-pool";
 import { useLocal } from "@/components/sync/local-provider";
 import { Button, Notice } from "@/components/ui/controls";
+import { useFocusOnShow } from "@/components/ui/focus";
 
 function placeWords(p: ShimMove["from"]) {
   return p.kind === "valve" ? p.valveId : p.kind === "tray" ? "the tray" : p.kind === "shop" ? "the new (bought) shims" : p.kind === "club" ? "the borrowed shims" : "the side (set aside)";
@@ -43,7 +44,8 @@ function OfferReturned({ moves, engine }: { moves: ShimMove[]; engine: LocalEngi
 }
 
 /** Step 4: the swap list in working order, ticked one by one; the tray follows the ticks. */
-export function FitStep({ engine, views, checkId, startFit, onDone }: { engine: LocalEngine; views: ValveView[]; checkId: string; startFit: () => void; onDone: () => void }) {
+export function FitStep({ engine, views, checkId, startFit, onDone, focusHeading = false }: { engine: LocalEngine; views: ValveView[]; checkId: string; startFit: () => void; onDone: () => void; focusHeading?: boolean }) {
+  const headingRef = useFocusOnShow<HTMLHeadingElement>(focusHeading);
   const { db } = useLocal();
   // the list kept when fitting began (lib/check/fit), so a reload mid-fit keeps list and ticks
   const order = useLiveQuery(async () => (db ? ((await getMeta<WorkOrderState>(db, workOrderKey(checkId))) ?? null) : undefined), [db, checkId]);
@@ -74,7 +76,9 @@ export function FitStep({ engine, views, checkId, startFit, onDone }: { engine: 
   };
   return (
     <section className="flex flex-col gap-3" aria-label="Fit">
-      <h2 className="text-2xl font-extrabold">Swap list, in working order</h2>
+      <h2 ref={headingRef} tabIndex={-1} className="text-2xl font-extrabold">
+        Swap list, in working order
+      </h2>
       <p className="text-ink-soft">Work down the list: only one shim is ever loose in your hand. Lift shims with the magnet; never stack two.</p>
       <ol className="flex flex-col gap-2">
         {moves.map((m, i) => (

@@ -1,6 +1,7 @@
 "use client";
 
 import { useCallback, useMemo, useState } from "react";
+import { useFocusOnShow } from "@/components/ui/focus";
 import type { ValveView } from "@/lib/check/derive";
 import { measuringOrder, positionWords } from "@/lib/check/measuring";
 import type { LocalEngine, LocalReading } from "@/lib/sync/local-db";
@@ -21,11 +22,16 @@ interface Undo {
  * centred on the valve's band; a blade tap records and moves on to the next valve still to measure,
  * through the crank positions in order. The diagram shows where you are and picks any valve.
  */
-export function MeasureStep({ engine, views, sizes, step, save, onTurn, onDone, previous, checkId }: { engine: LocalEngine; views: ValveView[]; sizes: number[]; step: number; save: (v: ValveView) => (r: ReadingEntry) => Promise<void>; onTurn: () => void; onDone: () => void; previous: Map<string, number>; checkId: string }) {
+export function MeasureStep({ engine, views, sizes, step, save, onTurn, onDone, previous, checkId, focusHeading = false }: { engine: LocalEngine; views: ValveView[]; sizes: number[]; step: number; save: (v: ValveView) => (r: ReadingEntry) => Promise<void>; onTurn: () => void; onDone: () => void; previous: Map<string, number>; checkId: string; focusHeading?: boolean }) {
   const { db } = useLocal();
   const order = useMemo(() => measuringOrder(engine), [engine]);
   const byId = useMemo(() => new Map(views.map((v) => [v.valve.id, v])), [views]);
   const [picked, setPicked] = useState<string | null>(null);
+  // which card should take focus: the one picked on the diagram, or the next after a blade chosen
+  // with the keyboard (the card that held focus is gone); a touch leaves focus alone
+  const [focusCard, setFocusCard] = useState<{ valve: string; n: number } | null>(null);
+  const [said, setSaid] = useState("");
+  const headingRef = useFocusOnShow<HTMLHeadingElement>(focusHeading);
   const firstOpen = order.stops.find((s) => byId.get(s.valveId)?.measured == null)?.valveId ?? order.stops[0]?.valveId;
   const currentId = picked ?? firstOpen;
   const current = currentId ? byId.get(currentId) : undefined;
@@ -43,13 +49,23 @@ export function MeasureStep({ engine, views, sizes, step, save, onTurn, onDone, 
   };
 
   // moves on past the valve just tapped (its new reading is not in these views yet, so it is skipped by place)
-  const next = useCallback(() => {
-    if (!currentId) return;
-    const at = order.stops.findIndex((s) => s.valveId === currentId);
-    const after = [...order.stops.slice(at + 1), ...order.stops.slice(0, at)];
-    const open = after.find((s) => byId.get(s.valveId)?.measured == null);
-    setPicked(open?.valveId ?? currentId);
-  }, [currentId, order, byId]);
+  const next = useCallback(
+    (words: string, byKeyboard: boolean) => {
+      if (!currentId) return;
+      const at = order.stops.findIndex((s) => s.valveId === currentId);
+      const after = [...order.stops.slice(at + 1), ...order.stops.slice(0, at)];
+      const open = after.find((s) => byId.get(s.valveId)?.measured == null);
+      const to = open?.valveId ?? currentId;
+      setPicked(to);
+      setSaid(to === currentId ? words : `${words}. Next: ${to}`);
+      setFocusCard((f) => (byKeyboard ? { valve: to, n: (f?.n ?? 0) + 1 } : null));
+    },
+    [currentId, order, byId],
+  );
+  const pick = useCallback((valve: string) => {
+    setPicked(valve);
+    setFocusCard((f) => ({ valve, n: (f?.n ?? 0) + 1 }));
+  }, []);
   const saveCurrent = useMemo(() => {
     if (!current) return null;
     const write = save(current);
@@ -97,16 +113,18 @@ export function MeasureStep({ engine, views, sizes, step, save, onTurn, onDone, 
         </div>
       )}
       {order.problem && <Notice tone="error">{order.problem}</Notice>}
-      <div role="status">
-        <h2 className="rounded-xl bg-surface-2 p-3 text-lg font-extrabold">
+      <h2 ref={headingRef} tabIndex={-1} className="rounded-xl bg-surface-2 p-3 text-lg font-extrabold">
         {order.positions.length > 0 && (
           <span className="text-accent">
             Position {position + 1} of {order.positions.length}:{" "}
           </span>
         )}
-          {order.positions[position] ? positionWords(order.positions[position]) : "Measure each valve"}
-        </h2>
-      </div>
+        {order.positions[position] ? positionWords(order.positions[position]) : "Measure each valve"}
+      </h2>
+      {/* what the last blade recorded, read out politely: the card moves on to the next valve */}
+      <p role="status" aria-live="polite" className="sr-only" data-testid="measure-said">
+        {said}
+      </p>
       <div className="flex items-center justify-between gap-2">
         <p className="figures font-bold" data-testid="measured-count">
           {measured} of {views.length} valves measured
@@ -115,8 +133,8 @@ export function MeasureStep({ engine, views, sizes, step, save, onTurn, onDone, 
           Undo last
         </Button>
       </div>
-      {current && saveCurrent && <ValveCard key={current.valve.id} checkId={checkId} engine={engine} view={current} sizes={sizes} step={step} onSave={saveCurrent} onRecorded={next} />}
-      <EngineDiagram views={views} mirrored={engine.mirrored} onPick={setPicked} current={currentId} onTurn={onTurn} />
+      {current && saveCurrent && <ValveCard key={current.valve.id} checkId={checkId} engine={engine} view={current} sizes={sizes} step={step} onSave={saveCurrent} onRecorded={next} focusKey={focusCard?.valve === current.valve.id ? focusCard.n : 0} />}
+      <EngineDiagram views={views} mirrored={engine.mirrored} onPick={pick} current={currentId} onTurn={onTurn} />
       <Button type="button" onClick={onDone} disabled={measured === 0} look={done ? "primary" : "plain"}>
         {done ? "All measured: see the shim plan" : "See the shim plan"}
       </Button>

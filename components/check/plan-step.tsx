@@ -9,6 +9,7 @@ import type { LocalCheck, LocalEngine } from "@/lib/sync/local-db";
 import type { usePool } from "@/components/pool/use-pool";
 import { BorrowList } from "@/components/pool/borrow-list";
 import { Button, Notice } from "@/components/ui/controls";
+import { useFocusOnShow } from "@/components/ui/focus";
 import { EngineDiagram } from "./engine-diagram";
 import { PlanTable } from "./plan-table";
 import { CsvDownload } from "./csv-download";
@@ -17,14 +18,18 @@ import { CsvDownload } from "./csv-download";
 const Worksheet = dynamic(() => import("./worksheet"), { ssr: false });
 
 /** Step 3: the diagram, the plan per valve, the buy list, borrowing, what goes back to the tray, print and CSV. */
-export function PlanStep({ engine, check, views, plan, error, onTurn, onFit, pool, fit, options, setOptions, trayOtherSystem = 0 }: { engine: LocalEngine; check: LocalCheck; views: ValveView[]; plan: ShimPlan | null; error: string | null; onTurn: () => void; onFit?: () => void; pool?: ReturnType<typeof usePool>; fit?: PoolFit; options?: PlanOptions; setOptions?: (o: PlanOptions) => void; trayOtherSystem?: number }) {
+export function PlanStep({ engine, check, views, plan, error, onTurn, onFit, pool, fit, options, setOptions, trayOtherSystem = 0, focusHeading = false }: { engine: LocalEngine; check: LocalCheck; views: ValveView[]; plan: ShimPlan | null; error: string | null; onTurn: () => void; onFit?: () => void; pool?: ReturnType<typeof usePool>; fit?: PoolFit; options?: PlanOptions; setOptions?: (o: PlanOptions) => void; trayOtherSystem?: number; focusHeading?: boolean }) {
   const [copied, setCopied] = useState(false);
+  const headingRef = useFocusOnShow<HTMLHeadingElement>(focusHeading);
   const byId = new Map(views.map((v) => [v.valve.id, v]));
   const lenders = pool ? new Map(pool.offers.map((o) => [o.ownerId, o.ownerName])) : undefined;
   const buyText = plan?.buy.map((b) => `${b.count} × ${b.size.toFixed(2)} mm shim`).join("\n") ?? "";
   const changing = plan?.assignments.filter((a) => a.source.kind !== "keep").length ?? 0;
   return (
-    <section className="flex flex-col gap-4" aria-label="Shim plan">
+    <section className="flex flex-col gap-4" aria-labelledby="plan-title">
+      <h2 id="plan-title" ref={headingRef} tabIndex={-1} className="text-2xl font-extrabold">
+        Shim plan
+      </h2>
       <Worksheet engine={engine} check={check} views={views} plan={plan} lenders={lenders} />
       <EngineDiagram views={views} mirrored={engine.mirrored} onTurn={onTurn} />
       {options && setOptions && <PlanAimChoice options={options} setOptions={setOptions} unit={engine.displayUnit} />}

@@ -1,18 +1,20 @@
 "use client";
 
 import { Button } from "@/components/ui/controls";
+import { useFocusOnShow } from "@/components/ui/focus";
 import { useStored } from "@/components/ui/use-stored";
 import { CAUTIONS } from "./steps";
 
 const NONE_TICKED: boolean[] = [];
 
 /** Step 1: the cautions as a tick list; measuring starts when all are ticked. */
-export function PrepareStep({ checkId, onDone }: { checkId: string; onDone: () => void }) {
+export function PrepareStep({ checkId, onDone, focusHeading = false }: { checkId: string; onDone: () => void; focusHeading?: boolean }) {
+  const headingRef = useFocusOnShow<HTMLHeadingElement>(focusHeading);
   const [ticked, setTicked] = useStored<boolean[]>(`lashwright.cautions.${checkId}`, NONE_TICKED);
   const toggle = (i: number) => setTicked(CAUTIONS.map((_, j) => (j === i ? !ticked[j] : !!ticked[j])));
   return (
     <section aria-labelledby="prepare-title" className="flex flex-col gap-3">
-      <h2 id="prepare-title" className="text-2xl font-extrabold">
+      <h2 id="prepare-title" ref={headingRef} tabIndex={-1} className="text-2xl font-extrabold">
         Before you start
       </h2>
       <ul className="flex flex-col gap-2">

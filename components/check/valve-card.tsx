@@ -1,9 +1,9 @@
 "use client";
 
-import { memo, useEffect, useState } from "react";
+import { memo, useEffect, useRef, useState, type MouseEvent } from "react";
 import { clearanceFromFeelers, formatLength, recommendShim } from "@/lib/lash";
 import { bladeStrip, feelerSet, noGoOf } from "@/lib/check/blades";
-import { STATE_WORDS, valveLabel, type ValveView } from "@/lib/check/derive";
+import { STATE_WORDS, valveLabel, type ValveState, type ValveView } from "@/lib/check/derive";
 import type { LocalEngine, LocalReading } from "@/lib/sync/local-db";
 import { READING_VALUE_FIELDS } from "@/lib/schemas/records";
 // loaded with the card, not after it: a strip arriving later grows the card under the mechanic's
@@ -27,6 +27,7 @@ export const ValveCard = memo(
   (a, b) =>
     a.checkId === b.checkId &&
     a.onRecorded === b.onRecorded &&
+    a.focusKey === b.focusKey &&
     a.step === b.step &&
     (a.engine === b.engine || JSON.stringify(a.engine) === JSON.stringify(b.engine)) &&
     a.sizes.length === b.sizes.length &&
@@ -54,7 +55,30 @@ function sameView(a: ValveView, b: ValveView) {
   );
 }
 
-function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded }: { checkId: string; engine: LocalEngine; view: ValveView; sizes: number[]; step: number; onSave: (r: ReadingEntry) => Promise<unknown>; onRecorded?: () => void }) {
+/** what a reading says, in words: the state's glyph and word, and for one out of band the shim it needs */
+function resultWords(view: ValveView, measured: number, installed: number, sizes: number[], unit: LocalEngine["displayUnit"]): string {
+  const state: ValveState = measured < view.spec.min - 1e-9 ? "tight" : measured > view.spec.max + 1e-9 ? "loose" : view.nextRound === 0 ? "in-band" : "verified";
+  const s = STATE_WORDS[state];
+  if (state === "in-band" || state === "verified") return `${s.glyph} in band`;
+  try {
+    const rec = recommendShim({ installed, measured, spec: view.spec, sizes });
+    return `${s.glyph} ${s.word} · needs ${formatLength(rec.size, "mm")} (gives ${formatLength(rec.predicted, unit)})`;
+  } catch {
+    return `${s.glyph} out of band: check the reading`;
+  }
+}
+
+/**
+ * onRecorded hears what a blade or typed value recorded, in words for a live region (the card moves
+ * on to the next valve, so its own result line is gone), and whether it came from the keyboard.
+ * focusKey: a new number asks the card to take focus (its heading), as when its valve was picked on
+ * the diagram.
+ */
+function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded, focusKey = 0 }: { checkId: string; engine: LocalEngine; view: ValveView; sizes: number[]; step: number; onSave: (r: ReadingEntry) => Promise<unknown>; onRecorded?: (said: string, byKeyboard: boolean) => void; focusKey?: number }) {
+  const heading = useRef<HTMLHeadingElement>(null);
+  useEffect(() => {
+    if (focusKey > 0) heading.current?.focus();
+  }, [focusKey]);
   const unit = engine.displayUnit;
   const r = view.latest && view.latest.round === view.nextRound ? view.latest : undefined;
   const stamp = r?.installedStamp ?? view.installed;
@@ -80,21 +104,26 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded 
     const next = Math.round((cur + dir * step) * 1e6) / 1e6;
     if (next >= sizes[0]! - 1e-9 && next <= sizes.at(-1)! + 1e-9) void save({ installedStamp: next });
   };
-  const tapBlade = (go: number) => {
+  const said = (interval: string, value: number) => {
+    const inside = micrometer ?? stamp;
+    return `${view.valve.id}: ${interval}, ${inside != null ? resultWords(view, value, inside, sizes, unit) : "shim not set"}`;
+  };
+  // a click with no pointer behind it (detail 0) came from Enter or Space
+  const tapBlade = (go: number, e: MouseEvent) => {
     const noGo = noGoOf(set, go);
     const c = clearanceFromFeelers({ go, noGo });
     // performance marks: npm run bench times a tap to the reading stored and shown
     const valve = view.valve.id;
     performance.mark("lw:tap", { detail: valve });
     void save({ feelerGo: c.min, feelerNoGo: noGo ?? null, measured: c.value, method: "feeler" }).then(() => performance.mark("lw:stored", { detail: valve }));
-    onRecorded?.();
+    onRecorded?.(said(noGo != null ? `${formatLength(c.min, unit)} goes, ${formatLength(noGo, unit)} does not` : `${formatLength(c.min, unit)} goes`, c.value), e.detail === 0);
   };
   const saveTyped = () => {
     const value = Number(typed.replace(",", "."));
     if (!typed.trim() || !Number.isFinite(value)) return;
     void save({ measured: value, feelerGo: null, feelerNoGo: null, method: "typed" });
     setTyped("");
-    onRecorded?.();
+    onRecorded?.(said(`${formatLength(value, unit)} (typed)`, value), true);
   };
   useEffect(() => {
     performance.mark("lw:shown", { detail: view.valve.id });
@@ -102,20 +131,7 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded 
 
   const installed = micrometer ?? stamp;
   const measured = base.measured;
-  let result: string | null = null;
-  if (measured != null && installed != null) {
-    const s = STATE_WORDS[view.state];
-    const band = measured >= view.spec.min - 1e-9 && measured <= view.spec.max + 1e-9;
-    if (band) result = `${s.glyph} in band`;
-    else {
-      try {
-        const rec = recommendShim({ installed, measured, spec: view.spec, sizes });
-        result = `${s.glyph} ${measured < view.spec.min ? "tight" : "loose"} · needs ${formatLength(rec.size, "mm")} (gives ${formatLength(rec.predicted, unit)})`;
-      } catch {
-        result = `${s.glyph} out of band: check the reading`;
-      }
-    }
-  }
+  const result = measured != null && installed != null ? resultWords(view, measured, installed, sizes, unit) : null;
   const interval =
     base.feelerGo != null && base.feelerNoGo != null && base.method === "feeler"
       ? `${formatLength(base.feelerGo, unit)} goes, ${formatLength(base.feelerNoGo, unit)} does not`
@@ -126,7 +142,9 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded 
   return (
     <article id={`valve-${view.valve.id}`} data-valve={view.valve.id} aria-label={valveLabel(view.valve, per)} className="flex flex-col gap-3 rounded-2xl border border-line bg-surface p-3">
       <header className="flex items-baseline justify-between">
-        <h3 className="text-xl font-extrabold">{valveLabel(view.valve, per)}</h3>
+        <h3 ref={heading} tabIndex={-1} className="text-xl font-extrabold">
+          {valveLabel(view.valve, per)}
+        </h3>
         <span className="figures text-sm text-ink-soft">
           band {formatLength(view.spec.min, unit)}–{formatLength(view.spec.max, unit)}
         </span>
@@ -136,13 +154,14 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded 
         <button type="button" aria-label={`Thinner shim for ${view.valve.id}`} onClick={() => stepShim(-1)} className="min-h-12 min-w-12 rounded-xl border-2 border-line text-2xl font-bold">
           −
         </button>
-        <span className="figures min-w-24 text-center text-2xl font-extrabold" data-testid={`shim-${view.valve.id}`}>
-          {stamp != null ? stamp.toFixed(step < 0.05 ? 3 : 2) : "—"}
+        {/* a changed shim is read out where it is shown; an unset one says so in words */}
+        <span aria-live="polite" className={`figures min-w-24 text-center ${stamp != null ? "text-2xl font-extrabold" : "text-base font-bold text-ink-soft"}`} data-testid={`shim-${view.valve.id}`}>
+          {stamp != null ? stamp.toFixed(step < 0.05 ? 3 : 2) : "not set"}
         </span>
         <button type="button" aria-label={`Thicker shim for ${view.valve.id}`} onClick={() => stepShim(1)} className="min-h-12 min-w-12 rounded-xl border-2 border-line text-2xl font-bold">
           +
         </button>
-        <span className="text-sm text-ink-soft">mm</span>
+        {stamp != null && <span className="text-sm text-ink-soft">mm</span>}
       </div>
       <details>
         <summary className="min-h-12 cursor-pointer py-3 text-sm font-bold text-ink-soft">Micrometer thickness {micrometer != null ? `(${micrometer.toFixed(3)} mm)` : ""}</summary>
@@ -167,7 +186,7 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded 
             const inBand = b >= view.spec.min - 1e-9 && b <= view.spec.max + 1e-9;
             const label = unit === "in" ? (b / 25.4).toFixed(4).replace(/^0/, "") : b.toFixed(2);
             return (
-              <button key={b} type="button" aria-pressed={on} onClick={() => tapBlade(b)} className={`figures min-h-12 min-w-0 rounded-xl border-2 px-0.5 font-bold ${unit === "in" ? "text-sm" : "text-base"} ${on ? "border-accent bg-accent text-accent-ink" : inBand ? "border-ok" : "border-line"}`}>
+              <button key={b} type="button" aria-pressed={on} onClick={(e) => tapBlade(b, e)} className={`figures min-h-12 min-w-0 rounded-xl border-2 px-0.5 font-bold ${unit === "in" ? "text-sm" : "text-base"} ${on ? "border-accent bg-accent text-accent-ink" : inBand ? "border-ok" : "border-line"}`}>
                 {label}
               </button>
             );
@@ -192,7 +211,9 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded 
           </form>
         )}
       </div>
-      <p className="figures text-base" data-testid={`result-${view.valve.id}`}>
+      {/* on the re-check the card stays after a reading and says the result itself; the measuring
+          step moves on to the next valve and says it in its own live region */}
+      <p className="figures text-base" data-testid={`result-${view.valve.id}`} aria-live={onRecorded ? undefined : "polite"}>
         <span className="text-ink-soft">{interval}</span>
         {result && <strong className="block text-lg">{result}</strong>}
       </p>

@@ -10,6 +10,7 @@ import type { LocalCheck, LocalEngine } from "@/lib/sync/local-db";
 import { saveCheck } from "@/lib/sync/writes";
 import { useLocal } from "@/components/sync/local-provider";
 import { Button, Notice } from "@/components/ui/controls";
+import { useFocusOnShow } from "@/components/ui/focus";
 import { ValveCard, type ReadingEntry } from "./valve-card";
 
 const valves = (n: number) => `${n} valve${n === 1 ? "" : "s"}`;
@@ -24,7 +25,8 @@ function openWords(open: ValveView[]) {
 }
 
 /** Step 5: re-measure the valves of this fit until all are in band, or close with the open ones noted. */
-export function VerifyStep({ engine, views, sizes, step, save, check }: { engine: LocalEngine; views: ValveView[]; sizes: number[]; step: number; save: (v: ValveView) => (r: ReadingEntry) => Promise<void>; check: LocalCheck }) {
+export function VerifyStep({ engine, views, sizes, step, save, check, focusHeading = false }: { engine: LocalEngine; views: ValveView[]; sizes: number[]; step: number; save: (v: ValveView) => (r: ReadingEntry) => Promise<void>; check: LocalCheck; focusHeading?: boolean }) {
+  const headingRef = useFocusOnShow<HTMLHeadingElement>(focusHeading);
   const { db } = useLocal();
   const router = useRouter();
   const changed = recheckValves(views);
@@ -42,7 +44,9 @@ export function VerifyStep({ engine, views, sizes, step, save, check }: { engine
   };
   return (
     <section className="flex flex-col gap-3" aria-label="Re-check">
-      <h2 className="text-2xl font-extrabold">Measure the changed valves again</h2>
+      <h2 ref={headingRef} tabIndex={-1} className="text-2xl font-extrabold">
+        Measure the changed valves again
+      </h2>
       {changed.length === 0 && <Notice>No valve has been changed in this check.</Notice>}
       {changed.map((v) => (
         <ValveCard key={v.valve.id} checkId={check.id} engine={engine} view={v} sizes={sizes} step={step} onSave={save(v)} />

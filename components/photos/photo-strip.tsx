@@ -66,6 +66,8 @@ export function PhotoStrip({ checkId, valve, commentId = null, canAdd = true, la
             accept="image/jpeg,image/png,image/webp"
             capture="environment"
             className="sr-only"
+            // the button beside it opens it: one Tab stop, and never an invisible focused control
+            tabIndex={-1}
             aria-label={`Add a photo of ${label}`}
             onChange={async (e) => {
               const file = e.target.files?.[0];

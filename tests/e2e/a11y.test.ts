@@ -28,7 +28,7 @@ const VARIANTS = [
   { name: "light 360", scheme: "light", width: 360 },
 ] as const;
 
-const incomplete = new Map<string, number>();
+const incomplete = new Map<string, { n: number; why: Set<string> }>();
 
 interface Found {
   variant: string;
@@ -47,7 +47,15 @@ async function audit(page: Page, variant: string, screen: string) {
   const result = await new AxeBuilder({ page }).options({ rules: ALSO }).withTags(TAGS).analyze();
   audits++;
   // what axe could not decide (a colour over an image, say) is counted for a person to look at
-  for (const v of result.incomplete) incomplete.set(v.id, (incomplete.get(v.id) ?? 0) + v.nodes.length);
+  for (const v of result.incomplete) {
+    const seen = incomplete.get(v.id) ?? { n: 0, why: new Set<string>() };
+    seen.n += v.nodes.length;
+    for (const node of v.nodes) {
+      const why = [...node.any, ...node.all, ...node.none].map((c) => c.message).join("; ");
+      if (seen.why.size < 6) seen.why.add(`${screen}: ${node.target.map(String).join(" ")}: ${why}`);
+    }
+    incomplete.set(v.id, seen);
+  }
   for (const v of result.violations) {
     const f = { variant, screen, rule: v.id, impact: v.impact ?? "none", targets: v.nodes.map((n) => n.target.map(String).join(" ")) };
     found.push(f);
@@ -110,7 +118,8 @@ afterAll(async () => {
   totals.violations = found.length;
   totals.elements = found.reduce((n, f) => n + f.targets.length, 0);
   console.log(`[a11y] ${totals.audits} audits, ${totals.violations} violations, ${totals.elements} elements affected`);
-  console.log(`[a11y] left for a person (axe's "incomplete"): ${[...incomplete].map(([id, n]) => `${id} ${n}`).join(", ") || "nothing"}`);
+  console.log(`[a11y] left for a person (axe's "incomplete"): ${[...incomplete].map(([id, s]) => `${id} ${s.n}`).join(", ") || "nothing"}`);
+  for (const [id, s] of incomplete) for (const why of s.why) console.log(`[a11y]   ${id}: ${why}`);
 });
 
 async function context(scheme: "light" | "dark", width: number): Promise<{ ctx: BrowserContext; page: Page }> {
