@@ -100,7 +100,7 @@ export function MeasureStep({ engine, views, sizes, step, save, onTurn, onDone, 
       {offerFill && (
         <div className="flex flex-wrap items-center gap-2 rounded-xl border-2 border-accent p-3">
           <span className="font-bold">Every bucket has the same shim?</span>
-          <select aria-label="Shim size for every bucket" value={fill} onChange={(e) => setFill(Number(e.target.value))} className="figures min-h-12 rounded-xl border-2 border-line bg-surface px-2 text-lg">
+          <select aria-label="Shim size for every bucket" value={fill} onChange={(e) => setFill(Number(e.target.value))} className="figures min-h-12 rounded-xl border-2 border-field bg-surface px-2 text-lg">
             {sizes.map((s) => (
               <option key={s} value={s}>
                 {s.toFixed(step < 0.05 ? 3 : 2)} mm

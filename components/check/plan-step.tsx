@@ -116,7 +116,7 @@ function PlanAimChoice({ options, setOptions, unit }: { options: PlanOptions; se
       </div>
       <label className="flex flex-wrap items-center gap-2 text-sm font-bold">
         Keep new shims clear of the tight edge by
-        <select value={options.tightMargin} onChange={(e) => setOptions({ ...options, tightMargin: Number(e.target.value) })} className="figures min-h-12 rounded-xl border-2 border-line bg-surface px-2 text-base">
+        <select value={options.tightMargin} onChange={(e) => setOptions({ ...options, tightMargin: Number(e.target.value) })} className="figures min-h-12 rounded-xl border-2 border-field bg-surface px-2 text-base">
           {MARGINS.map((m) => (
             <option key={m} value={m}>
               {m === 0 ? "nothing" : formatLength(m, unit)}

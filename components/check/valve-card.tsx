@@ -172,7 +172,7 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded,
             void save({ installedMicrometer: mic.trim() ? Number(mic.replace(",", ".")) : null });
           }}
         >
-          <input aria-label={`Micrometer thickness of ${view.valve.id} in mm`} inputMode="decimal" enterKeyHint="done" value={mic} onChange={(e) => setMic(e.target.value)} className="figures min-h-12 w-32 rounded-xl border-2 border-line bg-surface px-3 text-lg" />
+          <input aria-label={`Micrometer thickness of ${view.valve.id} in mm`} inputMode="decimal" enterKeyHint="done" value={mic} onChange={(e) => setMic(e.target.value)} className="figures min-h-12 w-32 rounded-xl border-2 border-field bg-surface px-3 text-lg" />
           <button type="submit" className="min-h-12 rounded-xl border-2 border-line px-4 font-bold">
             Use
           </button>
@@ -204,7 +204,7 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded,
               saveTyped();
             }}
           >
-            <input aria-label={`Typed clearance of ${view.valve.id} in mm`} inputMode="decimal" enterKeyHint="done" value={typed} onChange={(e) => setTyped(e.target.value)} className="figures min-h-12 w-32 rounded-xl border-2 border-line bg-surface px-3 text-lg" />
+            <input aria-label={`Typed clearance of ${view.valve.id} in mm`} inputMode="decimal" enterKeyHint="done" value={typed} onChange={(e) => setTyped(e.target.value)} className="figures min-h-12 w-32 rounded-xl border-2 border-field bg-surface px-3 text-lg" />
             <button type="submit" className="min-h-12 rounded-xl border-2 border-line px-4 font-bold">
               Save
             </button>

@@ -50,9 +50,10 @@ export function TrayPage() {
               <button type="button" aria-label={`One fewer ${t.size} mm`} disabled={t.count === 0} onClick={() => db && saveTrayItem(db, { ...t, count: t.count - 1 })} className="min-h-12 min-w-12 rounded-xl border-2 border-line text-2xl font-bold disabled:opacity-40">
                 −
               </button>
-              <span className="figures min-w-10 text-center text-xl font-bold" aria-label={`${t.count} of ${t.size} mm`}>
+              {/* the count the buttons change: an output (a status) may carry a name, a plain span may not */}
+              <output className="figures min-w-10 text-center text-xl font-bold" aria-label={`${t.count} of ${t.size} mm`}>
                 ×{t.count}
-              </span>
+              </output>
               <button type="button" aria-label={`One more ${t.size} mm`} onClick={() => db && saveTrayItem(db, { ...t, count: t.count + 1 })} className="min-h-12 min-w-12 rounded-xl border-2 border-line text-2xl font-bold">
                 +
               </button>

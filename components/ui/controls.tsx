@@ -45,7 +45,7 @@ export function Field({ label, error, hint, children, id }: { label: string; err
   );
 }
 
-export const inputClass = "min-h-12 rounded-xl border-2 border-line bg-surface px-3 text-lg text-ink placeholder:text-ink-soft/70";
+export const inputClass = "min-h-12 rounded-xl border-2 border-field bg-surface px-3 text-lg text-ink placeholder:text-ink-soft/70";
 
 export const authTitleClass = "text-3xl font-extrabold";
 
