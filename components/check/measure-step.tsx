@@ -57,10 +57,13 @@ export function MeasureStep({ engine, views, sizes, step, save, onTurn, onDone, 
       const open = after.find((s) => byId.get(s.valveId)?.measured == null);
       const to = open?.valveId ?? currentId;
       setPicked(to);
-      setSaid(to === currentId ? words : `${words}. Next: ${to}`);
+      // a new crank position is said too: the heading that shows it is not a live region
+      const at2 = order.stops.find((s) => s.valveId === to)?.position ?? 0;
+      const turn = at2 !== position && order.positions[at2] ? `. Position ${at2 + 1} of ${order.positions.length}: ${positionWords(order.positions[at2])}` : "";
+      setSaid(to === currentId ? words : `${words}. Next: ${to}${turn}`);
       setFocusCard((f) => (byKeyboard ? { valve: to, n: (f?.n ?? 0) + 1 } : null));
     },
-    [currentId, order, byId],
+    [currentId, order, byId, position],
   );
   const pick = useCallback((valve: string) => {
     setPicked(valve);
