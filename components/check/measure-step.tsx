@@ -132,7 +132,7 @@ export function MeasureStep({ engine, views, sizes, step, save, onTurn, onDone, 
         <p className="figures font-bold" data-testid="measured-count">
           {measured} of {views.length} valves measured
         </p>
-        <Button type="button" look="plain" disabled={undo.length === 0} onClick={() => void undoLast()}>
+        <Button type="button" look="plain" className="shrink-0 whitespace-nowrap" disabled={undo.length === 0} onClick={() => void undoLast()}>
           Undo last
         </Button>
       </div>
