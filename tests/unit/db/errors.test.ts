@@ -1,0 +1,27 @@
+import { describe, expect, it } from "vitest";
+import { isTransientDbError, isWriteConflict } from "@/db/errors";
+
+/** An error as mysql2 raises it (code and errno from MariaDB's error reference), wrapped as drizzle wraps it. */
+const dbError = (code: string, errno: number) => {
+  const inner = Object.assign(new Error(code), { code, errno });
+  return Object.assign(new Error("Failed query"), { cause: inner });
+};
+
+describe("which database errors are of the moment (503 and Retry-After) and which are not", () => {
+  it("a Galera node that is not ready, a commit cut off by a view change and a killed connection are transient", () => {
+    expect(isTransientDbError(dbError("ER_UNKNOWN_COM_ERROR", 1047))).toBe(true);
+    expect(isTransientDbError(dbError("ER_ERROR_DURING_COMMIT", 1180))).toBe(true);
+    expect(isTransientDbError(dbError("ER_CONNECTION_KILLED", 1927))).toBe(true);
+    expect(isTransientDbError(dbError("ER_LOCK_WAIT_TIMEOUT", 1205))).toBe(true);
+    expect(isTransientDbError(Object.assign(new Error("gone"), { code: "ECONNREFUSED" }))).toBe(true);
+  });
+
+  it("a write conflict is transient and is a conflict; a broken query or a duplicate key is neither", () => {
+    expect(isWriteConflict(dbError("ER_LOCK_DEADLOCK", 1213))).toBe(true);
+    expect(isTransientDbError(dbError("ER_LOCK_DEADLOCK", 1213))).toBe(true);
+    expect(isWriteConflict(dbError("ER_UNKNOWN_COM_ERROR", 1047))).toBe(false);
+    expect(isTransientDbError(dbError("ER_DUP_ENTRY", 1062))).toBe(false);
+    expect(isTransientDbError(dbError("ER_PARSE_ERROR", 1064))).toBe(false);
+    expect(isTransientDbError(new Error("plain"))).toBe(false);
+  });
+});
