@@ -3,9 +3,11 @@
 import { memo, useEffect, useRef, useState, type MouseEvent } from "react";
 import { clearanceFromFeelers, formatLength, recommendShim } from "@/lib/lash";
 import { bladeStrip, feelerSet, noGoOf } from "@/lib/check/blades";
-import { STATE_WORDS, valveLabel, type ValveState, type ValveView } from "@/lib/check/derive";
+import { measuredState, STATE_WORDS, valveLabel, type ValveView } from "@/lib/check/derive";
+import { foundWords } from "@/lib/check/rounds";
 import type { LocalEngine, LocalReading } from "@/lib/sync/local-db";
 import { READING_VALUE_FIELDS } from "@/lib/schemas/records";
+import { inputClass } from "@/components/ui/controls";
 // loaded with the card, not after it: a strip arriving later grows the card under the mechanic's
 // finger and moves the buttons below it, so a tap lands on something else
 import { PhotoStrip } from "@/components/photos/photo-strip";
@@ -57,7 +59,7 @@ function sameView(a: ValveView, b: ValveView) {
 
 /** what a reading says, in words: the state's glyph and word, and for one out of band the shim it needs */
 function resultWords(view: ValveView, measured: number, installed: number, sizes: number[], unit: LocalEngine["displayUnit"]): string {
-  const state: ValveState = measured < view.spec.min - 1e-9 ? "tight" : measured > view.spec.max + 1e-9 ? "loose" : view.nextRound === 0 ? "in-band" : "verified";
+  const state = measuredState(measured, view.spec, view.nextRound);
   const s = STATE_WORDS[state];
   if (state === "in-band" || state === "verified") return `${s.glyph} in band`;
   try {
@@ -116,7 +118,7 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded,
     const valve = view.valve.id;
     performance.mark("lw:tap", { detail: valve });
     void save({ feelerGo: c.min, feelerNoGo: noGo ?? null, measured: c.value, method: "feeler" }).then(() => performance.mark("lw:stored", { detail: valve }));
-    onRecorded?.(said(noGo != null ? `${formatLength(c.min, unit)} goes, ${formatLength(noGo, unit)} does not` : `${formatLength(c.min, unit)} goes`, c.value), e.detail === 0);
+    onRecorded?.(said(foundWords({ measured: c.value, method: "feeler", feelerGo: c.min, feelerNoGo: noGo ?? null }, unit), c.value), e.detail === 0);
   };
   const saveTyped = () => {
     const value = Number(typed.replace(",", "."));
@@ -134,7 +136,7 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded,
   const result = measured != null && installed != null ? resultWords(view, measured, installed, sizes, unit) : null;
   const interval =
     base.feelerGo != null && base.feelerNoGo != null && base.method === "feeler"
-      ? `${formatLength(base.feelerGo, unit)} goes, ${formatLength(base.feelerNoGo, unit)} does not`
+      ? foundWords(base, unit)
       : measured != null
         ? `${formatLength(measured, unit)}${base.method === "typed" ? " (typed)" : ""}`
         : "not measured yet";
@@ -172,7 +174,7 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded,
             void save({ installedMicrometer: mic.trim() ? Number(mic.replace(",", ".")) : null });
           }}
         >
-          <input aria-label={`Micrometer thickness of ${view.valve.id} in mm`} inputMode="decimal" enterKeyHint="done" value={mic} onChange={(e) => setMic(e.target.value)} className="figures min-h-12 w-32 rounded-xl border-2 border-field bg-surface px-3 text-lg" />
+          <input aria-label={`Micrometer thickness of ${view.valve.id} in mm`} inputMode="decimal" enterKeyHint="done" value={mic} onChange={(e) => setMic(e.target.value)} className={`${inputClass} figures w-32`} />
           <button type="submit" className="min-h-12 rounded-xl border-2 border-line px-4 font-bold">
             Use
           </button>
@@ -204,7 +206,7 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded,
               saveTyped();
             }}
           >
-            <input aria-label={`Typed clearance of ${view.valve.id} in mm`} inputMode="decimal" enterKeyHint="done" value={typed} onChange={(e) => setTyped(e.target.value)} className="figures min-h-12 w-32 rounded-xl border-2 border-field bg-surface px-3 text-lg" />
+            <input aria-label={`Typed clearance of ${view.valve.id} in mm`} inputMode="decimal" enterKeyHint="done" value={typed} onChange={(e) => setTyped(e.target.value)} className={`${inputClass} figures w-32`} />
             <button type="submit" className="min-h-12 rounded-xl border-2 border-line px-4 font-bold">
               Save
             </button>

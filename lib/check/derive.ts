@@ -34,6 +34,11 @@ export function engineSizes(e: Pick<LocalEngine, "shims">): number[] {
 
 export const installedOf = (r: Pick<LocalReading, "installedMicrometer" | "installedStamp">) => r.installedMicrometer ?? r.installedStamp;
 
+/** A clearance against its band: tight, loose, or in band (on a re-check round, verified). */
+export function measuredState(measured: number, spec: { min: number; max: number }, round: number): "tight" | "loose" | "in-band" | "verified" {
+  return measured < spec.min - 1e-9 ? "tight" : measured > spec.max + 1e-9 ? "loose" : round === 0 ? "in-band" : "verified";
+}
+
 export function valveViews(engine: LocalEngine, readings: LocalReading[], fallbackShim: (valveId: string) => number | null): ValveView[] {
   return valveNames(engine).map((valve) => {
     const spec = valve.kind === "intake" ? engine.intake : engine.exhaust;
@@ -43,7 +48,7 @@ export function valveViews(engine: LocalEngine, readings: LocalReading[], fallba
     const installed = latest.fittedShim ?? installedOf(latest);
     if (latest.fittedShim != null) return { valve, state: "fitted", spec, latest, nextRound: latest.round + 1, installed, measured: null };
     const m = latest.measured;
-    const state: ValveState = m == null ? "unmeasured" : m < spec.min - 1e-9 ? "tight" : m > spec.max + 1e-9 ? "loose" : latest.round === 0 ? "in-band" : "verified";
+    const state: ValveState = m == null ? "unmeasured" : measuredState(m, spec, latest.round);
     return { valve, state, spec, latest, nextRound: latest.round, installed, measured: m };
   });
 }

@@ -173,14 +173,21 @@ describe("measuring a 24-valve engine on a 390 px phone", () => {
     ]);
     return { engineId, checkId };
   }
+  // the order the measuring mode must follow, from the rotation guide in lib/check/measuring
+  const SIX_ORDER = measuringOrder({ ...SIX, firingAngles: null, timing: undefined }).stops.map((s) => s.valveId);
+
+  /** A new user with the six and one check, signed in on a phone of this width. */
+  async function sixOnPhone(tag: string, width: number) {
+    const u = await makeUser(tag);
+    const api = await signedInClient(baseUrl(), u);
+    const ids = await sixWithCheck(api);
+    const page = await (await phone(width)).newPage();
+    await signIn(page, u);
+    return { u, api, page, ...ids };
+  }
 
   it("follows the rotation guide valve by valve: 24 readings and the installed shims in 26 taps", async () => {
-    const u = await makeUser("six");
-    const api = await signedInClient(baseUrl(), u);
-    const { checkId } = await sixWithCheck(api);
-    const ctx = await phone(390);
-    const page = await ctx.newPage();
-    await signIn(page, u);
+    const { page, checkId } = await sixOnPhone("six", 390);
     await page.goto(`${baseUrl()}/check?id=${checkId}`);
     // the safety ticks come first, every check; they are not data entry, so they are counted apart
     let safety = 0;
@@ -218,7 +225,7 @@ describe("measuring a 24-valve engine on a 390 px phone", () => {
       await expect.poll(() => page.getByTestId("measured-count").innerText()).toBe(`${i + 1} of 24 valves measured`);
     }
     // the order is the rotation guide's (lib/check/measuring), each valve once
-    expect(visited).toEqual(measuringOrder({ ...SIX, firingAngles: null, timing: undefined }).stops.map((s) => s.valveId));
+    expect(visited).toEqual(SIX_ORDER);
     const measureHeight = await page.evaluate(() => document.documentElement.scrollHeight);
     await page.screenshot({ path: "test-results/measure-six.png" });
     await tap(page.getByRole("button", { name: "All measured: see the shim plan" }));
@@ -227,18 +234,13 @@ describe("measuring a 24-valve engine on a 390 px phone", () => {
     await page.getByRole("heading", { name: "Buy list" }).waitFor({ timeout: 20_000 });
     console.log(`[garage-phone] 24 valves: ${taps} taps to enter (1 fill, 24 blades, 1 to the plan); ${safety} taps on the safety list before; the measure page ${measureHeight} px tall`);
     expect(taps).toBeLessThanOrEqual(30);
-    await ctx.close();
+    await page.context().close();
   }, 180_000);
 
   it("a wrong tap is undone, a reading cleared, and Enter saves a typed value", async () => {
-    const u = await makeUser("undo");
-    const api = await signedInClient(baseUrl(), u);
-    const { checkId } = await sixWithCheck(api);
-    const ctx = await phone(360);
-    const page = await ctx.newPage();
-    await signIn(page, u);
+    const { page, checkId } = await sixOnPhone("undo", 360);
     await page.goto(`${baseUrl()}/check?id=${checkId}&step=measure`);
-    const first = measuringOrder({ ...SIX, firingAngles: null, timing: undefined }).stops.map((s) => s.valveId) as [string, string, ...string[]];
+    const first = SIX_ORDER as [string, string, ...string[]];
     const strip = page.getByRole("group", { name: /^Feeler blades for / });
     await strip.getByRole("button", { name: "0.15", exact: true }).tap();
     await expect.poll(() => strip.getAttribute("aria-label")).toBe(`Feeler blades for ${first[1]}`);
@@ -259,15 +261,11 @@ describe("measuring a 24-valve engine on a 390 px phone", () => {
     await page.getByRole("button", { name: "Clear this reading" }).tap();
     await expect.poll(() => page.getByTestId("measured-count").innerText()).toBe("0 of 24 valves measured");
     await expect.poll(() => page.getByTestId(`result-${first[0]}`).innerText()).toMatch(/not measured yet/);
-    await ctx.close();
+    await page.context().close();
   }, 120_000);
 
   it("the facing is part of the engine: turned on one phone, the other phone draws it the same way", async () => {
-    const u = await makeUser("facing");
-    const api = await signedInClient(baseUrl(), u);
-    const { engineId, checkId } = await sixWithCheck(api);
-    const a = await (await phone(390)).newPage();
-    await signIn(a, u);
+    const { u, api, engineId, checkId, page: a } = await sixOnPhone("facing", 390);
     await a.goto(`${baseUrl()}/check?id=${checkId}&step=measure`);
     await a.locator("figure [data-cylinder]").first().waitFor();
     expect((await layoutOf(a)).groups.map((g) => g.cylinder)).toEqual([6, 5, 4, 3, 2, 1]);
