@@ -137,6 +137,16 @@ export const authTokens = mysqlTable(
 );
 
 /** Failed sign-ins per account and per address, kept in the database so a restart forgets nothing. */
+/**
+ * Budgets counted by rate-limiter-flexible's MySQL store (server/budgets.ts): its own row shape
+ * (key, points, expire in epoch ms), created here so the app's database user needs no CREATE right.
+ */
+export const rateLimits = mysqlTable("rate_limits", {
+  key: varchar("key", { length: 255 }).primaryKey(),
+  points: int("points").notNull().default(0),
+  expire: bigint("expire", { mode: "number", unsigned: true }),
+});
+
 export const signInAttempts = mysqlTable(
   "sign_in_attempts",
   {
