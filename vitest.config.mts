@@ -8,6 +8,7 @@ export default defineConfig({
   // server-only throws outside a React server build; under test it is the empty module it is there.
   resolve: { alias: { "@": root, "server-only": `${root}node_modules/server-only/empty.js` } },
   test: {
+    setupFiles: ["tests/support/fast-check-seed.ts"],
     projects: [
       { extends: true, test: { name: "unit", include: ["tests/unit/**/*.test.ts"], environment: "node" } },
       {

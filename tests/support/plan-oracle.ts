@@ -1,4 +1,4 @@
-import { recommendShim, type PlanValve, type ShimPlan } from "@/lib/lash";
+import type { PlanValve, ShimPlan } from "@/lib/lash";
 
 /** The planner's oracle for tests: its objective, and exhaustive search over every plan. */
 const nm = (mm: number) => Math.round(mm * 1e6);
@@ -30,6 +30,32 @@ function lexLess(a: readonly number[], b: readonly number[]) {
 }
 
 /**
+ * A valve's own answer from the catalog, enumerated here rather than asked of the code under test
+ * (DESIGN.md section 4.2 read literally): every size whose predicted clearance lands in the band,
+ * nearest the target, the thinner on a tie; when none lands, the installed shim or the size nearest
+ * the band that still leaves a clearance, the thinner on a tie.
+ */
+function catalogAnswer(v: PlanValve, sizes: number[]) {
+  const lo = nm(v.spec.min);
+  const hi = nm(v.spec.max);
+  const target = nm(v.spec.target ?? (v.spec.min + v.spec.max) / 2);
+  const gap = nm(v.installed) + nm(v.measured);
+  const all = [...new Set(sizes.map(nm))].sort((a, b) => a - b).map((s) => ({ s, p: gap - s }));
+  const landing = all.filter((c) => c.p >= lo && c.p <= hi);
+  if (landing.length > 0) {
+    // sorted thinnest first, so a strict "nearer" keeps the thinner of two equally near
+    let best = landing[0]!;
+    for (const c of landing) if (Math.abs(c.p - target) < Math.abs(best.p - target)) best = c;
+    return { inSpec: true, change: best.s !== nm(v.installed), predicted: best.p / 1e6 };
+  }
+  const outside = (p: number) => (p < lo ? lo - p : p > hi ? p - hi : 0);
+  const options = [{ s: nm(v.installed), p: nm(v.measured) }, ...all].filter((c) => c.p > 0);
+  let best = options[0]!;
+  for (const c of options) if (outside(c.p) < outside(best.p) || (outside(c.p) === outside(best.p) && c.s < best.s)) best = c;
+  return { inSpec: false, change: best.s !== nm(v.installed), predicted: best.p / 1e6 };
+}
+
+/**
  * Exhaustive search over every way to give each valve that needs a change one shim: another such
  * valve's shim, one from the tray, or its own fallback (buy the catalog's best size, or keep the shim
  * when nothing in the catalog does better). Physical shims are used only where they land in the band.
@@ -37,7 +63,7 @@ function lexLess(a: readonly number[], b: readonly number[]) {
 export function bruteForce(valves: PlanValve[], sizes: number[], tray: { size: number; count: number }[], club: { size: number; count: number; ownerId: string }[] = []) {
   const inBand = (p: number, v: PlanValve) => p >= nm(v.spec.min) && p <= nm(v.spec.max);
   const rows = valves.filter((v) => !inBand(nm(v.measured), v));
-  const fallbacks = rows.map((v) => recommendShim({ installed: v.installed, measured: v.measured, spec: v.spec, sizes }));
+  const fallbacks = rows.map((v) => catalogAnswer(v, sizes));
   const pool: { size: number; from: string | null; club?: string }[] = [];
   rows.forEach((v, i) => {
     if (fallbacks[i]!.change) pool.push({ size: v.installed, from: v.id });

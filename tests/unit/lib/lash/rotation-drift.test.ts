@@ -31,7 +31,14 @@ describe("rotationGuide", () => {
   });
 
   it("90 degree V-twin firing at 0 and 270: two stops, the rear intake only at its own TDC", () => {
-    // derived (shared/TRADE.md): a common-crankpin 90 degree twin fires 270/450
+    // derived (shared/TRADE.md): a common-crankpin 90 degree twin fires 270/450. Working, with the
+    // default timing (IVO 20, IVC 50, EVO 50, EVC 20) and the 20 degree ramp margin, in degrees after
+    // each cylinder's own firing TDC: intake lifted 360-20-20 = 320 to 540+50+20 = 610, exhaust lifted
+    // 180-50-20 = 110 to 360+20+20 = 400; free everywhere else.
+    // At 0: cylinder 1 is at 0 (intake free, exhaust free); cylinder 2 fires at 270, so it is at
+    // 0-270 = -270 = 450 (intake lifted, 320 < 450 < 610; exhaust free, 450 > 400): I1, E1, E2.
+    // At 270: cylinder 2 at 0 (both free), cylinder 1 at 270 (intake free, exhaust lifted, 110 < 270
+    // < 400): I2 is the only valve not yet listed. No single stop frees all four.
     const { steps } = rotationGuide({ firingOrder: [1, 2], firingAngles: [0, 270] });
     expect(steps.map((s) => s.crankAngle)).toEqual([0, 270]);
     expect(steps[0]!.valves).toEqual([{ cylinder: 1, kind: "intake" }, { cylinder: 1, kind: "exhaust" }, { cylinder: 2, kind: "exhaust" }]);
