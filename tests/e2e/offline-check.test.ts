@@ -40,6 +40,18 @@ async function serverReadings(checkId: string) {
   return rows as { valve: string; round: number; installed_stamp: string; feeler_go: string; feeler_no_go: string; measured: string }[];
 }
 
+/** What the server has applied for this check's owner: overwritten readings, and each device's last id. */
+async function applied(checkId: string) {
+  const db = await rawConnection();
+  const [h] = await db.query("SELECT COUNT(*) AS n FROM reading_history h JOIN readings r ON r.id = h.reading_id WHERE r.check_id = ?", [checkId]);
+  const [c] = await db.query(
+    "SELECT s.id, s.last_mutation_id FROM sync_clients s JOIN checks k ON k.owner_id = s.user_id WHERE k.id = ? ORDER BY s.id",
+    [checkId],
+  );
+  await db.end();
+  return { history: Number((h as { n: number }[])[0]!.n), clients: c as { id: string; last_mutation_id: number }[] };
+}
+
 let checkUrl = "";
 let checkId = "";
 
@@ -153,9 +165,15 @@ describe("a whole check offline, then sync", () => {
       expect(Number(r.feeler_no_go)).toBe(BLADES[BLADES.indexOf(go) + 1]);
       expect(r.round).toBe(0);
     }
-    // a second sync sends nothing again
+    // a second sync applies nothing again: no reading is overwritten (an upsert would keep the count
+    // but leave the earlier value in reading_history) and the device's last applied id stays put
+    const before = await applied(checkId);
+    expect(before.history).toBe(0);
+    const pulled = page.waitForResponse((r) => r.url().includes("/api/sync/pull"), { timeout: 20_000 });
     await page.evaluate(() => window.dispatchEvent(new Event("online")));
-    await new Promise((r) => setTimeout(r, 1500));
+    await pulled;
+    await page.getByTestId("sync-line").getByText(/All synced/).waitFor({ timeout: 20_000 });
+    expect(await applied(checkId)).toEqual(before);
     expect(await serverReadings(checkId)).toHaveLength(16);
   });
 
