@@ -181,7 +181,14 @@ describe("sync push and pull on MariaDB", () => {
   });
 
   it("anonymous pushes get 401 and change nothing", async () => {
-    const res = await new Client(app.url).post("/api/sync/push", { clientId: uuid(), mutations: [] });
+    // a whole engine and check, as a phone would send them: none of it may be written, nor the device
+    const { engineId, checkId, mutations } = engineAndCheck();
+    const clientId = uuid();
+    const res = await new Client(app.url).post("/api/sync/push", { clientId, mutations: [...mutations, { id: 3, ...reading(checkId, "I1.1", 0.1, 0.13) }] });
     expect(res.status).toBe(401);
+    expect(await count("SELECT COUNT(*) AS n FROM engines WHERE id = ?", [engineId])).toBe(0);
+    expect(await count("SELECT COUNT(*) AS n FROM checks WHERE id = ?", [checkId])).toBe(0);
+    expect(await count("SELECT COUNT(*) AS n FROM readings WHERE check_id = ?", [checkId])).toBe(0);
+    expect(await count("SELECT COUNT(*) AS n FROM sync_clients WHERE id = ?", [clientId])).toBe(0);
   });
 });
