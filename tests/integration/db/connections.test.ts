@@ -33,11 +33,15 @@ describe("database connections", () => {
   it("answers a request waiting for a busy pool with 'overloaded' after the acquire timeout, not never", async () => {
     let release!: () => void;
     const held = new Promise<void>((r) => (release = r));
+    let entered!: () => void;
+    const holding = new Promise<void>((r) => (entered = r));
     const holder = transaction(async (tx) => {
       await tx.execute(sql`SELECT 1`);
+      entered();
       await held;
     });
-    await new Promise((r) => setTimeout(r, 50));
+    // ordered by an event, not a head start: the only connection is taken before anyone waits for it
+    await holding;
     const t0 = Date.now();
     const waiting = db()
       .execute(sql`SELECT 1`)
