@@ -6,11 +6,14 @@ import type { ValveHistory } from "@/lib/check/history";
 /** One valve's gap over the odometer, its fitted line, and the gap at which it reaches the band's lower edge. */
 export default function DriftChart({ h, unit }: { h: ValveHistory; unit: string }) {
   const pts = h.points.map((p) => ({ x: p.odometer, gap: p.gap }));
-  const slope = h.drift.slopePerThousandKm;
+  // a line is drawn only where the checks hold a trend (driftProjection's verdict), so the picture
+  // says no more than the words under it
+  const trend = h.drift.verdict === "closing" || h.drift.verdict === "opening" || h.drift.verdict === "steady";
+  const slope = trend ? h.drift.slopePerThousandKm : null;
   const limitGap = h.currentShim != null ? h.lowerLimit + h.currentShim : null;
   const xs = pts.map((p) => p.x);
   const x0 = Math.min(...xs);
-  const xEnd = Math.max(...xs, h.drift.limitAtOdometer != null && h.drift.limitAtOdometer < x0 + 4 * (Math.max(...xs) - x0 + 1) ? h.drift.limitAtOdometer : -Infinity);
+  const xEnd = Math.max(...xs, h.drift.verdict === "closing" && h.drift.limitAtOdometer != null && h.drift.limitAtOdometer < x0 + 4 * (Math.max(...xs) - x0 + 1) ? h.drift.limitAtOdometer : -Infinity);
   // the least-squares line through the mean point
   const mx = xs.reduce((a, b) => a + b, 0) / xs.length;
   const my = pts.reduce((a, p) => a + p.gap, 0) / pts.length;

@@ -3,7 +3,7 @@
 import { useLiveQuery } from "dexie-react-hooks";
 import dynamic from "next/dynamic";
 import { useMemo, useState } from "react";
-import { engineHistory } from "@/lib/check/history";
+import { driftWords, engineHistory } from "@/lib/check/history";
 import type { LocalEngine } from "@/lib/sync/local-db";
 import { useLocal } from "@/components/sync/local-provider";
 import { Notice } from "@/components/ui/controls";
@@ -45,18 +45,10 @@ export function History({ engine }: { engine: LocalEngine }) {
         ))}
       </div>
       <div className="rounded-2xl border border-line bg-surface p-2" data-testid="drift-chart">
-        {chosen.points.length >= 2 ? <DriftChart h={chosen} unit={u} /> : <p className="p-3 text-ink-soft">One measurement so far: a trend needs two checks.</p>}
+        {chosen.points.length >= 2 ? <DriftChart h={chosen} unit={u} /> : <p className="p-3 text-ink-soft">One measurement so far: a trend needs three checks.</p>}
       </div>
-      <p className="figures text-base">
-        {chosen.drift.slopePerThousandKm == null
-          ? "No trend yet."
-          : chosen.drift.slopePerThousandKm < 0
-            ? `${chosen.valveId} closes ${Math.abs(chosen.drift.slopePerThousandKm).toFixed(4)} mm per 1,000 ${u}.`
-            : `${chosen.valveId} is not closing (${chosen.drift.slopePerThousandKm.toFixed(4)} mm per 1,000 ${u}).`}{" "}
-        {chosen.drift.limitAtOdometer != null &&
-          (chosen.drift.limitAtOdometer <= chosen.points.at(-1)!.odometer
-            ? `With the shim now in it is past the band's lower edge (since about ${Math.round(chosen.drift.limitAtOdometer).toLocaleString("en")} ${u}).`
-            : `With the shim now in it reaches the band's lower edge near ${Math.round(chosen.drift.limitAtOdometer).toLocaleString("en")} ${u}.`)}
+      <p className="figures text-base" data-testid="drift-words">
+        {driftWords(chosen, u)}
       </p>
       <p className="text-sm text-ink-soft">A projection from past checks, not a service interval: check when the manual says.</p>
     </section>

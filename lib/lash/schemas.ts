@@ -130,4 +130,8 @@ export const driftInputSchema = z.object({
   points: z.array(driftPointSchema).max(1000),
   lowerLimit: lengthMm,
   currentShim: positiveLengthMm.optional(),
+  /** the smallest change the readings can show: the blade step (mm) */
+  resolution: positiveLengthMm.max(1).optional(),
+  /** the shortest odometer span a trend may be drawn over, in the engine's odometer unit */
+  minSpan: z.number().finite().min(0).max(1_000_000).optional(),
 });

@@ -129,7 +129,7 @@ describe("driftProjection", () => {
     const opening = driftProjection({ points: [{ odometer: 0, installed: 2.6, measured: 0.2 }, { odometer: 10_000, installed: 2.6, measured: 0.22 }], lowerLimit: 0.15 });
     expect(opening.slopePerThousandKm).toBeCloseTo(0.002, 12);
     expect(opening.limitAtOdometer).toBeNull();
-    expect(driftProjection({ points: points.slice(0, 1), lowerLimit: 0.2 })).toEqual({ slopePerThousandKm: null, limitAtOdometer: null });
+    expect(driftProjection({ points: points.slice(0, 1), lowerLimit: 0.2 })).toMatchObject({ slopePerThousandKm: null, limitAtOdometer: null, verdict: "few-checks" });
   });
 
   it("rejects negative clearances and odometers", () => {
