@@ -3,7 +3,7 @@
 import dynamic from "next/dynamic";
 import Link from "next/link";
 import { useSearchParams } from "next/navigation";
-import { useCallback, useState, type ComponentProps } from "react";
+import { useCallback, useEffect, useRef, useState, type ComponentProps } from "react";
 import { LashInputError, workOrder, type ShimPlan } from "@/lib/lash";
 import { checkPlan, DEFAULT_PLAN_OPTIONS, type PlanOptions } from "@/lib/check/derive";
 import { poolForEngine, trayForEngine } from "@/lib/check/pool";
@@ -14,7 +14,7 @@ import { Notice } from "@/components/ui/controls";
 import { useStored } from "@/components/ui/use-stored";
 import { MeasureStep } from "./measure-step";
 import { PrepareStep } from "./prepare-step";
-import { STEPS, type Step } from "./steps";
+import { STEPS, stepOfStatus, type Step } from "./steps";
 import { useCheckData, useCheckModel, useSaveReading, type CheckData } from "./use-check-data";
 
 // Each step's code loads when the step is shown: the measuring step, where every tap counts, carries
@@ -79,7 +79,7 @@ export function CheckScreen() {
 function CheckBody({ data, step, go, moved }: { data: CheckData; step?: Step; go: (s: Step) => void; moved: boolean }) {
   const { check, engine, readings, tray, previous } = data;
   const { db, user } = useLocal();
-  const current: Step = step ?? (check.status === "closed" ? "plan" : readings.length ? "measure" : "prepare");
+  const current: Step = step ?? stepOfStatus(check.status, readings.length > 0);
   // the club pool is asked for (and the outbox watched for loans) only on the steps that plan with it
   const pool = usePool({ active: current === "plan" || current === "fit" });
   const fit = poolForEngine(engine, pool.offeredToMe, user?.id ?? "");
@@ -105,13 +105,18 @@ function CheckBody({ data, step, go, moved }: { data: CheckData; step?: Step; go
     void beginFit(db, check.id, workOrder(plan.assignments, installed));
   }, [db, plan, views, check.id]);
 
+  // on a narrow phone the strip of steps scrolls sideways: keep the current one in view
+  const currentTab = useRef<HTMLButtonElement>(null);
+  useEffect(() => currentTab.current?.scrollIntoView({ block: "nearest", inline: "nearest" }), [current]);
+  const later = data.laterClosed;
+
   return (
     <div className="flex flex-col gap-4">
       <nav aria-label="Steps of the check" className="-mx-4 overflow-x-auto px-4">
         <ol className="flex gap-1.5">
           {STEPS.map((s, i) => (
             <li key={s.key}>
-              <button type="button" aria-current={current === s.key ? "step" : undefined} onClick={() => go(s.key)} className={`min-h-12 rounded-xl border-2 px-3 font-bold whitespace-nowrap ${current === s.key ? "border-accent bg-accent text-accent-ink" : "border-line"}`}>
+              <button type="button" ref={current === s.key ? currentTab : undefined} aria-current={current === s.key ? "step" : undefined} onClick={() => go(s.key)} className={`min-h-12 rounded-xl border-2 px-3 font-bold whitespace-nowrap ${current === s.key ? "border-accent bg-accent text-accent-ink" : "border-line"}`}>
                 {i + 1}. {s.label}
               </button>
             </li>
@@ -121,6 +126,11 @@ function CheckBody({ data, step, go, moved }: { data: CheckData; step?: Step; go
       <p className="figures text-ink-soft">
         {engine.name} · {check.odometer.toLocaleString("en")} {engine.odometerUnit} · measure {check.measuredHot ? "hot" : "cold"}
       </p>
+      {later && check.status !== "closed" && (
+        <Notice tone="error">
+          A later check of this engine, at {later.odometer.toLocaleString("en")} {engine.odometerUnit}, is already closed. This one is older: its readings are not the engine as it is now, so do not fit shims from its plan. Close it, or measure again in a new check.
+        </Notice>
+      )}
       {current === "prepare" && <PrepareStep checkId={check.id} onDone={() => go("measure")} focusHeading={moved} />}
       {current === "measure" && <MeasureStep engine={engine} views={views} sizes={sizes} step={seriesStep} save={save} onTurn={turn} onDone={() => go("plan")} previous={previous} checkId={check.id} focusHeading={moved} />}
       {current === "plan" && (

@@ -16,6 +16,8 @@ export interface CheckData {
   tray: LocalTrayItem[];
   /** each bucket's shim as the previous check of this engine left it */
   previous: Map<string, number>;
+  /** a closed check of this engine at a higher odometer: this one is out of date */
+  laterClosed: LocalCheck | null;
 }
 
 /**
@@ -34,7 +36,8 @@ export function useCheckData(id: string): CheckData | null | undefined {
     if (!engine) return null;
     const before = previousCheck(check, checks);
     const previous = lastShims(before ? await db.readings.where("checkId").equals(before.id).toArray() : []);
-    return { check, engine, tray, previous };
+    const laterClosed = checks.filter((c) => c.id !== check.id && c.status === "closed" && c.odometer > check.odometer).sort((a, b) => b.odometer - a.odometer)[0] ?? null;
+    return { check, engine, tray, previous, laterClosed };
   }, [db, id]);
   const readings = useLiveQuery(async () => (db ? db.readings.where("checkId").equals(id).toArray() : undefined), [db, id]);
   return useMemo(() => (rest === null ? null : rest === undefined || readings === undefined ? undefined : { ...rest, readings }), [rest, readings]);

@@ -45,6 +45,7 @@ export function EngineDetail() {
   const [error, setError] = useState<string | null>(null);
   if (engine === undefined) return null;
   if (engine === null) return <Notice tone="error">This engine is not on this phone.</Notice>;
+  const open = checks?.find((c) => c.status !== "closed");
   const unit = engine.displayUnit;
   const start = async () => {
     if (!db) return;
@@ -80,15 +81,30 @@ export function EngineDetail() {
           Edit profile
         </Link>
       </section>
-      <section className="flex flex-col gap-3 rounded-2xl border-2 border-accent p-4">
-        <h2 className="text-xl font-extrabold">Start a check</h2>
-        <Field id="odometer" label={`Odometer now (${engine.odometerUnit})`} error={error ?? undefined}>
-          <input id="odometer" inputMode="decimal" value={odometer} onChange={(e) => setOdometer(e.target.value)} className={`${inputClass} figures`} />
-        </Field>
-        <Button type="button" onClick={start}>
-          Start check
-        </Button>
-      </section>
+      {open ? (
+        // one open check per engine: a second would plan from the same buckets and the same tray twice
+        <section className="flex flex-col gap-3 rounded-2xl border-2 border-accent p-4" data-testid="open-check">
+          <h2 className="text-xl font-extrabold">A check is under way</h2>
+          <p>
+            Started {new Date(open.startedAt).toLocaleDateString("en-GB")} at{" "}
+            <span className="figures">
+              {open.odometer.toLocaleString("en")} {engine.odometerUnit}
+            </span>
+            . Finish it, or close it from its Re-check step, before starting another: one check at a time keeps the plan and the tray right.
+          </p>
+          <ButtonLink href={`/check?id=${open.id}`}>Continue this check</ButtonLink>
+        </section>
+      ) : (
+        <section className="flex flex-col gap-3 rounded-2xl border-2 border-accent p-4">
+          <h2 className="text-xl font-extrabold">Start a check</h2>
+          <Field id="odometer" label={`Odometer now (${engine.odometerUnit})`} error={error ?? undefined}>
+            <input id="odometer" inputMode="decimal" value={odometer} onChange={(e) => setOdometer(e.target.value)} className={`${inputClass} figures`} />
+          </Field>
+          <Button type="button" onClick={start}>
+            Start check
+          </Button>
+        </section>
+      )}
       <History engine={engine} />
       <section className="flex flex-col gap-2">
         <h2 className="text-xl font-extrabold">Checks</h2>
