@@ -11,7 +11,7 @@ import { BorrowList } from "@/components/pool/borrow-list";
 import { Button, Notice } from "@/components/ui/controls";
 import { useFocusOnShow } from "@/components/ui/focus";
 import { EngineDiagram } from "./engine-diagram";
-import { PlanTable } from "./plan-table";
+import { PlanChanges, PlanTable } from "./plan-table";
 import { CsvDownload } from "./csv-download";
 
 // the printed worksheet loads with the plan, the step that prints
@@ -42,6 +42,7 @@ export function PlanStep({ engine, check, views, plan, error, onTurn, onFit, poo
       {!plan && !error && <Notice>Measure some valves first: the plan fills in as readings come in.</Notice>}
       {plan && (
         <>
+          <PlanChanges plan={plan} byId={byId} lenders={lenders} />
           <PlanTable engine={engine} plan={plan} byId={byId} lenders={lenders} />
           <section aria-labelledby="buy-title" className="rounded-2xl border border-line bg-surface p-4">
             <h2 id="buy-title" className="text-xl font-extrabold">

@@ -15,6 +15,38 @@ const col = createColumnHelper<Row>();
 
 /** A target such as 0.125 (the middle of 0.10-0.15) is shown as it is, not rounded to 0.13. */
 const needsThousandths = (mm: number) => Math.round(mm * 1000) % 10 !== 0;
+/** A shim size as its series names it: 2.525 from a 0.025 mm series stays 2.525, never 2.53. */
+const shimText = (mm: number) => mm.toFixed(needsThousandths(mm) ? 3 : 2);
+
+/** The valve column stays put while the rest scrolls sideways, so "Gives" is never read without its valve. */
+const PINNED = "sticky left-0 z-10 bg-bg pl-1";
+
+/**
+ * Only the valves that change, one line each ("I3.1: 2.50 to 2.60, buy"): what a phone at the bench
+ * needs without scrolling a wide table sideways.
+ */
+export function PlanChanges({ plan, byId, lenders }: { plan: ShimPlan; byId: Map<string, ValveView>; lenders?: Map<string, string> }) {
+  const changed = plan.assignments.filter((a) => a.source.kind !== "keep");
+  if (changed.length === 0) return <p className="font-bold text-ok">✓ Every valve keeps its shim.</p>;
+  return (
+    <section aria-labelledby="changes-title" className="flex flex-col gap-1">
+      <h3 id="changes-title" className="text-xl font-extrabold">
+        What changes ({changed.length} of {plan.assignments.length} valves)
+      </h3>
+      <ul className="figures text-lg" data-testid="plan-changes">
+        {changed.map((a) => {
+          const v = byId.get(a.valveId);
+          const now = v?.installed != null ? v.installed.toFixed(v.latest?.installedMicrometer != null ? 3 : 2) : "—";
+          return (
+            <li key={a.valveId}>
+              <strong>{a.valveId}</strong>: {now} to <strong>{shimText(a.size)}</strong>, {sourceWords(a.source, lenders)}
+            </li>
+          );
+        })}
+      </ul>
+    </section>
+  );
+}
 
 /** The plan per valve: shim now, clearance, target, new shim, predicted clearance, and its source. */
 export function PlanTable({ engine, plan, byId, lenders }: { engine: LocalEngine; plan: ShimPlan; byId: Map<string, ValveView>; lenders?: Map<string, string> }) {
@@ -24,7 +56,7 @@ export function PlanTable({ engine, plan, byId, lenders }: { engine: LocalEngine
     col.accessor((r) => r.v.installed, { id: "now", header: "Shim now", cell: (c) => c.getValue()?.toFixed(c.row.original.v.latest?.installedMicrometer != null ? 3 : 2) ?? "—" }),
     col.accessor((r) => r.v.measured, { id: "clearance", header: "Clearance", cell: (c) => (c.getValue() != null ? formatLength(c.getValue()!, unit) : "—") }),
     col.accessor((r) => r.v.spec.target ?? (r.v.spec.min + r.v.spec.max) / 2, { id: "target", header: "Target", cell: (c) => formatLength(c.getValue(), unit, needsThousandths(c.getValue())) }),
-    col.accessor((r) => r.a, { id: "new", header: "New shim", cell: (c) => <strong>{c.getValue().source.kind === "keep" ? "—" : c.getValue().size.toFixed(2)}</strong> }),
+    col.accessor((r) => r.a, { id: "new", header: "New shim", cell: (c) => <strong>{c.getValue().source.kind === "keep" ? "—" : shimText(c.getValue().size)}</strong> }),
     col.accessor((r) => r.a, { id: "gives", header: "Gives", cell: (c) => `${formatLength(c.getValue().predicted, unit)} ${c.getValue().inSpec ? "✓" : "✕ out of band"}` }),
     col.accessor((r) => r.a.source, {
       id: "from",
@@ -49,7 +81,7 @@ export function PlanTable({ engine, plan, byId, lenders }: { engine: LocalEngine
           {table.getHeaderGroups().map((hg) => (
             <tr key={hg.id} className="border-b-2 border-line text-sm text-ink-soft">
               {hg.headers.map((h) => (
-                <th key={h.id} scope="col" className="py-2 pr-2">
+                <th key={h.id} scope="col" className={`py-2 pr-2 ${h.column.id === "valve" ? PINNED : ""}`}>
                   {flexRender(h.column.columnDef.header, h.getContext())}
                 </th>
               ))}
@@ -60,7 +92,7 @@ export function PlanTable({ engine, plan, byId, lenders }: { engine: LocalEngine
           {table.getRowModel().rows.map((row) => (
             <tr key={row.id} className="border-b border-line" data-testid={`plan-${row.original.a.valveId}`}>
               {row.getVisibleCells().map((c) => (
-                <td key={c.id} className="py-2 pr-2">
+                <td key={c.id} className={`py-2 pr-2 ${c.column.id === "valve" ? PINNED : ""}`}>
                   {flexRender(c.column.columnDef.cell, c.getContext())}
                 </td>
               ))}

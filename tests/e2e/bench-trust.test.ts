@@ -42,6 +42,22 @@ async function singleWithHistory(api: Client) {
   return { engineId, ...ids };
 }
 
+/** An invented twin whose one check is planned: I1.1 loose, E2.1 loose, the rest in band. */
+async function plannedTwin(api: Client) {
+  const engineId = crypto.randomUUID();
+  const checkId = crypto.randomUUID();
+  const typed = (valve: string, measured: number) => ({ name: "reading.put/1", args: { checkId, reading: { valve, round: 0, installedStamp: 2.6, measured, method: "typed" } } });
+  await push(api, [
+    { name: "engine.put/1", args: { id: engineId, name: "Bench twin with a rather long name for a narrow phone", cylinders: 2, intakePerCylinder: 1, exhaustPerCylinder: 1, firingOrder: [1, 2], ...BANDS, shims: { min: 2.5, max: 3.3, step: 0.05 } } },
+    { name: "check.put/1", args: { id: checkId, engineId, odometer: 8_000, status: "planned" } },
+    typed("I1.1", 0.3),
+    typed("E1.1", 0.25),
+    typed("I2.1", 0.15),
+    typed("E2.1", 0.4),
+  ]);
+  return checkId;
+}
+
 async function signIn(page: Page, u: { email: string; password: string }) {
   await page.goto(`${baseUrl()}/sign-in`);
   await page.getByLabel("E-mail").fill(u.email);
@@ -90,6 +106,21 @@ describe("trust at the bench on a 360 px phone", () => {
       expect(box.x).toBeGreaterThanOrEqual(0);
       expect(box.x + box.width).toBeLessThanOrEqual(360);
       await page.screenshot({ path: `test-results/bench-open-check-${scheme}.png` });
+
+      // a planned check opens on Plan: the changed valves as a list, and the wide table keeps its
+      // valve column in view when scrolled sideways
+      const twin = await plannedTwin(api);
+      await page.goto(`${baseUrl()}/check?id=${twin}`);
+      await expect(steps.locator('[aria-current="step"]').innerText({ timeout: 20_000 })).resolves.toBe("3. Plan");
+      // worked by hand: I1.1 2.60 + 0.30 = 2.90, target 0.15 -> 2.75; E2.1 2.60 + 0.40 = 3.00, target
+      // 0.25 -> 2.75, from the 0.05 mm series; the others are in band and keep their shims
+      await expect(page.getByTestId("plan-changes").innerText()).resolves.toBe("I1.1: 2.60 to 2.75, buy\nE2.1: 2.60 to 2.75, buy");
+      const table = page.getByRole("region", { name: /Plan per valve/ });
+      await table.evaluate((el) => (el.scrollLeft = el.scrollWidth));
+      const cell = (await page.getByTestId("plan-E2.1").locator("td").first().boundingBox())!;
+      expect(cell.x).toBeGreaterThanOrEqual(0);
+      expect(cell.x + cell.width).toBeLessThanOrEqual(360);
+      await page.screenshot({ path: `test-results/bench-plan-${scheme}.png`, fullPage: true });
 
       // a closed check opens on its plan, with no out-of-date notice
       await page.goto(`${baseUrl()}/check?id=${ids.c20}`);
