@@ -76,6 +76,22 @@ export function EngineDetail() {
           </dd>
           <dt className="text-ink-soft">Measure</dt>
           <dd>{engine.measuredHot ? "hot" : "cold"}</dd>
+          <dt className="text-ink-soft">Shims</dt>
+          <dd>{"step" in engine.shims ? `${engine.shims.min.toFixed(2)} to ${engine.shims.max.toFixed(2)} mm in ${engine.shims.step} mm steps` : `${engine.shims.sizes.length} sizes listed`}</dd>
+          {engine.shimDiameter != null && (
+            <>
+              <dt className="text-ink-soft">Shim diameter</dt>
+              <dd>{engine.shimDiameter} mm</dd>
+            </>
+          )}
+          {engine.assembledShim != null && (
+            <>
+              <dt className="text-ink-soft">Fitted at assembly</dt>
+              <dd>{engine.assembledShim.toFixed(2)} mm in every bucket</dd>
+            </>
+          )}
+          <dt className="text-ink-soft">Drawn with</dt>
+          <dd>cylinder 1 on the {engine.mirrored ? "right" : "left"}</dd>
         </dl>
         <Link href={`/engine/edit?id=${engine.id}`} className="mt-2 inline-flex min-h-12 items-center font-bold underline">
           Edit profile
