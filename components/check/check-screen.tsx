@@ -112,7 +112,7 @@ function CheckBody({ data, step, go, moved }: { data: CheckData; step?: Step; go
 
   return (
     <div className="flex flex-col gap-4">
-      <nav aria-label="Steps of the check" className="-mx-4 overflow-x-auto px-4">
+      <nav aria-label="Steps of the check" className="-mx-4 scroll-px-4 overflow-x-auto px-4">
         <ol className="flex gap-1.5">
           {STEPS.map((s, i) => (
             <li key={s.key}>
