@@ -19,7 +19,8 @@ const needsThousandths = (mm: number) => Math.round(mm * 1000) % 10 !== 0;
 const shimText = (mm: number) => mm.toFixed(needsThousandths(mm) ? 3 : 2);
 
 /** The valve column stays put while the rest scrolls sideways, so "Gives" is never read without its valve. */
-const PINNED = "sticky left-0 z-10 bg-bg pl-1";
+// The shadow paints the page colour over the scroll box's left padding, where scrolled cells would show.
+const PINNED = "sticky left-0 z-10 bg-bg pl-1 shadow-[-1rem_0_0_var(--bg)]";
 
 /**
  * Only the valves that change, one line each ("I3.1: 2.50 to 2.60, buy"): what a phone at the bench
