@@ -8,8 +8,13 @@ import { borrowRequests, checks, clubLog, clubLogActions, clubs, comments, engin
 import { nextVersion } from "../versions";
 import { HOLDING } from "@/lib/pool/rules";
 
-export async function rolesInClub(ex: Executor, userId: string, clubId: string): Promise<Role[]> {
-  const rows = await ex.select({ role: memberships.role }).from(memberships).where(and(eq(memberships.userId, userId), eq(memberships.clubId, clubId)));
+/**
+ * A user's roles in a club. `locking` (inside a write) reads the latest commit and holds the rows
+ * until the write ends: a removal running at the same moment either waits for it or is seen.
+ */
+export async function rolesInClub(ex: Executor, userId: string, clubId: string, locking = false): Promise<Role[]> {
+  const q = ex.select({ role: memberships.role }).from(memberships).where(and(eq(memberships.userId, userId), eq(memberships.clubId, clubId)));
+  const rows = locking ? await q.for("update") : await q;
   return rows.map((r) => r.role);
 }
 
