@@ -340,6 +340,12 @@ export const comments = mysqlTable(
     id: id(),
     checkId: ref("check_id").notNull().references(() => checks.id, { onDelete: "cascade" }),
     authorId: ref("author_id").notNull().references(() => users.id),
+    /**
+     * The club whose thread a mentor's comment belongs to (null for the owner's, seen by every club
+     * the check is shared with): a check shared with two clubs has one thread per club
+     * (server/access.ts visibleComments).
+     */
+    clubId: ref("club_id").references(() => clubs.id, { onDelete: "set null" }),
     valve: varchar("valve", { length: 16 }),
     body: text("body").notNull(),
     version: version(),

@@ -44,6 +44,25 @@ export async function readableCheck(ex: Executor, user: SessionUser, checkId: st
   return { check: c, as: "mentor", mentorShares };
 }
 
+/**
+ * Who reads which comments of a check shared with several clubs: each club's review is its own
+ * thread. The owner reads every thread; a mentor reads the owner's comments (addressed to every
+ * club it is shared with), their own, and those written in a club where they are a mentor of a live
+ * share. One club's mentors never read another club's discussion of the same check (OWASP ASVS 5.0
+ * V8 Authorization: data is reachable only through the relationship that grants it).
+ */
+export function visibleComments<C extends { authorId: string; clubId: string | null }>(a: CheckAccess, user: SessionUser, all: C[]): C[] {
+  if (a.as === "owner") return all;
+  const clubs = new Set(a.mentorShares.map((s) => s.clubId));
+  return all.filter((c) => c.authorId === a.check.ownerId || c.authorId === user.id || (c.clubId !== null && clubs.has(c.clubId)));
+}
+
+/**
+ * The thread a new comment joins: none for the owner's (read by all); a mentor's, the club of their
+ * earliest live share of the check (a mentor of several such clubs reads all their threads anyway).
+ */
+export const commentClub = (a: CheckAccess): string | null => (a.as === "owner" ? null : a.mentorShares[0]!.clubId);
+
 export async function ownCheck(ex: Executor, user: SessionUser, checkId: string) {
   const a = await readableCheck(ex, user, checkId);
   if (a.as !== "owner") throw forbidden("Only the check's owner can change it; mentors comment and give a verdict");
@@ -84,5 +103,16 @@ export async function shareFor(ex: Executor, user: SessionUser, shareId: string,
   if (!isOwner && !isMentor) throw notFound("share");
   if (as === "owner" && !isOwner) throw forbidden("Only the check's owner can withdraw a share");
   if (as === "mentor" && !isMentor) throw forbidden("Only a mentor of the club gives a verdict");
+  // a review is a second pair of eyes: nobody passes their own check, whatever their role
+  if (as === "mentor" && isOwner) throw forbidden("A mentor cannot give a verdict on their own check: another mentor of the club reviews it");
   return { share: s, check: c! };
+}
+
+/**
+ * Who may end a membership: a club admin (removing a member), or the member themselves (leaving).
+ * The last admin rule is the caller's (it needs the club's roles locked).
+ */
+export async function memberRemover(ex: Executor, user: SessionUser, clubId: string, memberId: string): Promise<Role[]> {
+  if (memberId === user.id) return clubMember(ex, user, clubId);
+  return clubRole(ex, user, clubId, "admin");
 }

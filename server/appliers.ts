@@ -4,7 +4,7 @@ import type { ReadingInput } from "@/lib/schemas/records";
 import { getCheckRow, getEngineRow, getTrayRow, putCheck, putEngine, putTrayItem, removeCheck, removeEngine, removeTrayItem, writeReadings } from "@/db/queries/garage";
 import { insertComment, writeVerdict } from "@/db/queries/clubs";
 import { notFound } from "@/lib/errors";
-import { ownCheck, ownOrNewCheck, ownOrNewEngine, ownOrNewTrayItem, ownEngine, readableCheck, shareFor } from "./access";
+import { commentClub, ownCheck, ownOrNewCheck, ownOrNewEngine, ownOrNewTrayItem, ownEngine, readableCheck, shareFor } from "./access";
 import { checkReadingsFit } from "./engines";
 import { noticeNewComment, noticeVerdict } from "./review";
 import { applyAsk, applyMove, applyOffer, applyWithdrawOffer } from "./pool";
@@ -69,10 +69,11 @@ export const APPLIERS: { readonly [N in MutationName]: Applier<N> } = {
   },
   "comment.add/1": async (w, a) => {
     // the check is looked up in this transaction: the same push may have just created it
-    const { check } = await readableCheck(w.tx, w.user, a.checkId);
+    const access = await readableCheck(w.tx, w.user, a.checkId);
+    const { check } = access;
     // synced to the check's owner: a mentor's comment takes the owner's next change version
     const version = check.ownerId === w.user.id ? w.version : await nextVersion(w.tx, check.ownerId);
-    if (!(await insertComment(w.tx, version, a.checkId, w.user.id, a))) return; // the same comment sent twice
+    if (!(await insertComment(w.tx, version, a.checkId, w.user.id, commentClub(access), a))) return; // the same comment sent twice
     w.later(() => noticeNewComment(check, w.user, a.body));
   },
   "verdict.set/1": async (w, a) => {

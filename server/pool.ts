@@ -35,7 +35,8 @@ export async function applyWithdrawOffer({ tx, version, user, later }: WriteCtx,
 }
 
 export async function applyAsk({ tx, version, user, later }: WriteCtx, a: BorrowInput & { id: string }) {
-  const offer = await q.askBorrow(tx, version, user.id, a, async (clubId) => (await rolesInClub(tx, user.id, clubId)).length > 0);
+  // a locking read: an ask racing the asker's removal from the club cannot slip in after it
+  const offer = await q.askBorrow(tx, version, user.id, a, async (clubId) => (await rolesInClub(tx, user.id, clubId, true)).length > 0);
   if (!offer) return;
   later(() => tell(offer.ownerId, "borrow", `${user.name} asks to borrow ${a.count} × ${mm(offer.size)}`, `${user.name} would like to borrow ${a.count} of your ${mm(offer.size)} shims from the club pool. Agree or decline on the club page.`));
 }

@@ -1,12 +1,20 @@
 import "server-only";
-import { and, asc, desc, eq, gt, inArray, isNull, sql } from "drizzle-orm";
+import { and, asc, desc, eq, gt, inArray, isNull, or, sql } from "drizzle-orm";
 import { alias } from "drizzle-orm/mysql-core";
 import { createHash, randomBytes } from "node:crypto";
+import { conflict } from "@/lib/errors";
 import { db, transaction, type Executor, type Tx } from "../client";
-import { checks, clubLog, clubLogActions, clubs, comments, engines, invites, memberships, shares, users, type Role } from "../schema";
+import { borrowRequests, checks, clubLog, clubLogActions, clubs, comments, engines, invites, memberships, poolOffers, shares, users, type Role } from "../schema";
+import { nextVersion } from "../versions";
+import { HOLDING } from "@/lib/pool/rules";
 
-export async function rolesInClub(ex: Executor, userId: string, clubId: string): Promise<Role[]> {
-  const rows = await ex.select({ role: memberships.role }).from(memberships).where(and(eq(memberships.userId, userId), eq(memberships.clubId, clubId)));
+/**
+ * A user's roles in a club. `locking` (inside a write) reads the latest commit and holds the rows
+ * until the write ends: a removal running at the same moment either waits for it or is seen.
+ */
+export async function rolesInClub(ex: Executor, userId: string, clubId: string, locking = false): Promise<Role[]> {
+  const q = ex.select({ role: memberships.role }).from(memberships).where(and(eq(memberships.userId, userId), eq(memberships.clubId, clubId)));
+  const rows = locking ? await q.for("update") : await q;
   return rows.map((r) => r.role);
 }
 
@@ -87,7 +95,8 @@ export async function setRoles(tx: Tx, clubId: string, userId: string, roles: Ro
   await tx.delete(memberships).where(and(eq(memberships.clubId, clubId), eq(memberships.userId, userId)));
   const after = [...new Set(roles)];
   if (after.length) await tx.insert(memberships).values(after.map((role) => ({ clubId, userId, role })));
-  if (rolesWord(before) !== rolesWord(after)) await log(tx, { clubId, actorId, action: "roles-changed", subjectUserId: userId, detail: `${rolesWord(before)} → ${rolesWord(after)}` });
+  const ended = before.length > 0 && after.length === 0 ? await endMembership(tx, clubId, userId) : "";
+  if (rolesWord(before) !== rolesWord(after)) await log(tx, { clubId, actorId, action: "roles-changed", subjectUserId: userId, detail: `${rolesWord(before)} → ${rolesWord(after)}${ended}` });
   if (before.includes("admin") && !after.includes("admin")) {
     const [res] = await tx
       .update(invites)
@@ -95,6 +104,48 @@ export async function setRoles(tx: Tx, clubId: string, userId: string, roles: Ro
       .where(and(eq(invites.clubId, clubId), eq(invites.invitedBy, userId), isNull(invites.acceptedAt), isNull(invites.withdrawnAt), gt(invites.expiresAt, new Date())));
     if (res.affectedRows > 0) await log(tx, { clubId, actorId, action: "invites-ended", subjectUserId: userId, detail: `${res.affectedRows} pending` });
   }
+}
+
+/**
+ * What a membership held open ends with it, in the removal's (or leaving's) transaction, so that no
+ * moment exists when the member is out but their records still reach the club (OWASP ASVS 5.0 V8
+ * Authorization: access follows the current relationship):
+ * - their checks' shares with the club are withdrawn: its mentors stop reading them at once;
+ * - their pool offers in the club are withdrawn;
+ * - open requests ("asked" or "agreed": no shim has moved yet) on their offers are declined, and
+ *   theirs on other members' offers withdrawn, so no ask reaches them or is held for them.
+ * A loan already handed over stays until it is given back and settled: the shims are in someone's
+ * hands, and both sides still see it in their own loans (a person's loans are theirs, not the club's).
+ * Answers a few words for the club log ("" when nothing was open).
+ */
+async function endMembership(tx: Tx, clubId: string, userId: string): Promise<string> {
+  const now = new Date();
+  const shareIds = (
+    await tx
+      .select({ id: shares.id })
+      .from(shares)
+      .innerJoin(checks, eq(checks.id, shares.checkId))
+      .where(and(eq(shares.clubId, clubId), eq(checks.ownerId, userId), isNull(shares.withdrawnAt)))
+      .for("update")
+  ).map((r) => r.id);
+  const offerIds = (await tx.select({ id: poolOffers.id }).from(poolOffers).where(and(eq(poolOffers.clubId, clubId), eq(poolOffers.ownerId, userId), isNull(poolOffers.withdrawnAt))).for("update")).map((r) => r.id);
+  const open = await tx
+    .select({ id: borrowRequests.id, lenderId: borrowRequests.lenderId })
+    .from(borrowRequests)
+    .innerJoin(poolOffers, eq(poolOffers.id, borrowRequests.offerId))
+    .where(and(eq(poolOffers.clubId, clubId), or(eq(borrowRequests.lenderId, userId), eq(borrowRequests.borrowerId, userId)), inArray(borrowRequests.state, [...HOLDING])))
+    .for("update");
+  if (shareIds.length + offerIds.length + open.length === 0) return "";
+  // the member's rows: their next change version, whoever removes them
+  const version = await nextVersion(tx, userId);
+  if (shareIds.length) await tx.update(shares).set({ withdrawnAt: now, version }).where(inArray(shares.id, shareIds));
+  if (offerIds.length) await tx.update(poolOffers).set({ withdrawnAt: now, version }).where(inArray(poolOffers.id, offerIds));
+  const lent = open.filter((r) => r.lenderId === userId).map((r) => r.id);
+  const asked = open.filter((r) => r.lenderId !== userId).map((r) => r.id);
+  if (lent.length) await tx.update(borrowRequests).set({ state: "declined", version }).where(inArray(borrowRequests.id, lent));
+  if (asked.length) await tx.update(borrowRequests).set({ state: "withdrawn", version }).where(inArray(borrowRequests.id, asked));
+  const n = (k: number, one: string) => (k ? [`${k} ${one}${k > 1 ? "s" : ""}`] : []);
+  return `; ended ${[...n(shareIds.length, "share"), ...n(offerIds.length, "offer"), ...n(open.length, "request")].join(", ")}`;
 }
 
 const hash = (raw: string) => createHash("sha256").update(raw).digest("hex");
@@ -195,13 +246,14 @@ export async function writeVerdict(tx: Tx, version: number, shareId: string, men
   await tx.update(shares).set({ verdict, verdictBy: mentorId, verdictAt: new Date(), version }).where(eq(shares.id, shareId));
 }
 
-/** Clubs where the user is a mentor and the check is shared (not withdrawn). */
+/** Clubs where the user is a mentor and the check is shared (not withdrawn), the earliest share first. */
 export async function mentorSharesForCheck(ex: Executor, userId: string, checkId: string) {
   return ex
     .select({ shareId: shares.id, clubId: shares.clubId })
     .from(shares)
     .innerJoin(memberships, and(eq(memberships.clubId, shares.clubId), eq(memberships.userId, userId), eq(memberships.role, "mentor")))
-    .where(and(eq(shares.checkId, checkId), isNull(shares.withdrawnAt)));
+    .where(and(eq(shares.checkId, checkId), isNull(shares.withdrawnAt)))
+    .orderBy(asc(shares.createdAt), asc(shares.id));
 }
 
 /** The review queue of a club: shared checks, newest first. */
@@ -228,20 +280,28 @@ export async function reviewQueue(clubId: string, limit: number, offset: number)
     .offset(offset);
 }
 
+/** Every comment on a check, of every club's thread: callers filter with server/access.ts visibleComments. */
 export async function listComments(ex: Executor, checkId: string) {
   return ex
-    .select({ id: comments.id, checkId: comments.checkId, valve: comments.valve, body: comments.body, createdAt: comments.createdAt, authorId: comments.authorId, authorName: users.name })
+    .select({ id: comments.id, checkId: comments.checkId, clubId: comments.clubId, valve: comments.valve, body: comments.body, createdAt: comments.createdAt, authorId: comments.authorId, authorName: users.name })
     .from(comments)
     .innerJoin(users, eq(users.id, comments.authorId))
     .where(eq(comments.checkId, checkId))
     .orderBy(asc(comments.createdAt), asc(comments.id));
 }
 
-/** A comment, once: the same id sent again (a retried sync) changes nothing and answers false. */
-export async function insertComment(tx: Tx, version: number, checkId: string, authorId: string, input: { id: string; body: string; valve?: string | null }): Promise<boolean> {
-  const [c] = await tx.select({ id: comments.id }).from(comments).where(eq(comments.id, input.id)).limit(1);
-  if (c) return false;
-  await tx.insert(comments).values({ id: input.id, checkId, authorId, body: input.body, valve: input.valve ?? null, version });
+/**
+ * A comment, once: the same id sent again by its author on the same check (a retried sync) changes
+ * nothing and answers false. An id already used by anyone else, or on another check, is refused:
+ * dropping it silently would tell the phone its comment was stored when it was not.
+ */
+export async function insertComment(tx: Tx, version: number, checkId: string, authorId: string, clubId: string | null, input: { id: string; body: string; valve?: string | null }): Promise<boolean> {
+  const [c] = await tx.select({ checkId: comments.checkId, authorId: comments.authorId }).from(comments).where(eq(comments.id, input.id)).limit(1);
+  if (c) {
+    if (c.checkId === checkId && c.authorId === authorId) return false;
+    throw conflict("That comment id is already used: send the comment with a new id");
+  }
+  await tx.insert(comments).values({ id: input.id, checkId, authorId, clubId, body: input.body, valve: input.valve ?? null, version });
   return true;
 }
 

@@ -111,7 +111,7 @@ function headerKey(h: string): { field: Field | null; unit: LengthUnit | "thou" 
 }
 
 /** A spreadsheet cell that was protected from running as a formula starts with an apostrophe. */
-const clean = (s: string | undefined) => (s ?? "").trim().replace(/^'(?=[=+\-@])/, "");
+const clean = (s: string | undefined) => (s ?? "").trim().replace(/^'(?=[=+\-@\t\r])/, "").trim();
 
 function parseLength(raw: string, unit: LengthUnit | "thou", decimalComma: boolean): number | string {
   let s = raw.replace(/\s/g, "");

@@ -76,10 +76,23 @@ export function checkCsv(meta: { engine: string; odometer: number; odometerUnit:
       const v = r[c];
       if (v == null) return "";
       // a length: fixed decimals from the exact nanometres, never the float's own digits
-      return c.endsWith("_mm") && typeof v === "number" ? (toNm(v) / 1e6).toFixed(places) : String(v);
+      if (c.endsWith("_mm") && typeof v === "number") return (toNm(v) / 1e6).toFixed(places);
+      return typeof v === "number" ? String(v) : defuseFormula(v);
     }),
   );
-  // RFC 4180 quoting, and a cell that a spreadsheet would run as a formula (a name starting "=") is
-  // written as text
-  return Papa.unparse({ fields: [...CSV_COLUMNS], data }, { newline: "\r\n", escapeFormulae: true }) + "\r\n";
+  // RFC 4180 quoting (a cell with a comma, a quote or a line break is quoted, quotes doubled)
+  return Papa.unparse({ fields: [...CSV_COLUMNS], data }, { newline: "\r\n" }) + "\r\n";
+}
+
+/** The first characters that make a spreadsheet read a cell as a formula (OWASP "CSV Injection"). */
+const FORMULA_START = /^[=+\-@\t\r]/;
+
+/**
+ * A text cell a spreadsheet would run as a formula is written as text, behind an apostrophe. Decided
+ * by the first character alone, whatever follows: a library's guard that matched the whole cell
+ * missed "=HYPERLINK(...)" followed by a line break. Numbers are written by us and never guarded (a
+ * negative one stays a number). The import (csv-import.ts) takes the apostrophe off again.
+ */
+export function defuseFormula(text: string): string {
+  return FORMULA_START.test(text) ? `'${text}` : text;
 }

@@ -2,6 +2,7 @@ import { z } from "zod";
 import "../schemas/zod-config";
 import { positiveLengthMm } from "../lash";
 import { idSchema } from "../schemas/records";
+import { optionalLabelSchema } from "../schemas/label";
 
 /**
  * The club shim pool: offers of spare shims to a club, and loans between members, as states of our
@@ -45,7 +46,7 @@ export const offerInput = z.object({
   measuredSize: z.boolean().default(false),
   count: z.number().int().min(1, { error: "offer at least one" }).max(1000),
   shimDiameter: positiveLengthMm.nullable().optional(),
-  note: z.string().trim().max(200, { error: "at most 200 characters" }).nullable().optional(),
+  note: optionalLabelSchema(200).nullable().optional(),
 });
 export type OfferInput = z.infer<typeof offerInput>;
 

@@ -1,6 +1,7 @@
 import "./zod-config";
 import { z } from "zod";
 import { passwordSchema } from "../auth/password-rules";
+import { labelSchema } from "./label";
 
 export const emailSchema = z
   .string({ error: "enter an e-mail address" })
@@ -13,7 +14,7 @@ export const tokenSchema = z.string().regex(/^[A-Za-z0-9_-]{20,100}$/, { error: 
 
 export const signUpInput = z.object({
   email: emailSchema,
-  name: z.string().trim().min(1, { error: "enter your name" }).max(120),
+  name: labelSchema(120, "enter your name"),
   password: passwordSchema,
 });
 
@@ -25,7 +26,7 @@ export const newPasswordInput = z.object({ token: tokenSchema, password: passwor
 
 export const settingsInput = z
   .object({
-    name: z.string().trim().min(1).max(120),
+    name: labelSchema(120, "enter your name"),
     displayUnit: z.enum(["mm", "in"]),
     noticesByEmail: z.boolean(),
   })

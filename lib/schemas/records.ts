@@ -3,6 +3,7 @@ import { z } from "zod";
 import { lengthMm, positiveLengthMm, rotationInputSchema, shimSeries, specSchema, timingSchema, LashInputError } from "../lash";
 import { parseValveName } from "../lash/valves";
 import { VERDICT_NAMES } from "../check/verdicts";
+import { labelSchema } from "./label";
 
 /**
  * Input schemas of the records the API and the offline outbox accept. One schema per resource; the
@@ -17,7 +18,7 @@ export const idSchema = z.string().regex(ID_PATTERN, { error: "not a valid id" }
 export const CHECK_STATUSES = ["measuring", "planned", "fitting", "verifying", "closed"] as const;
 export const checkStatus = z.enum(CHECK_STATUSES);
 export type CheckStatus = z.infer<typeof checkStatus>;
-const name = z.string().trim().min(1, { error: "give it a name" }).max(120, { error: "at most 120 characters" });
+const name = labelSchema(120, "give it a name");
 
 const shimSystem = z.union([
   z.object({ min: positiveLengthMm, max: positiveLengthMm, step: positiveLengthMm }).superRefine((s, ctx) => {

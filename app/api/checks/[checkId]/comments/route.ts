@@ -1,7 +1,7 @@
 import { z } from "zod";
 import { commentInput } from "@/lib/schemas/records";
 import { route, uuidParam } from "@/server/http";
-import { readableCheck } from "@/server/access";
+import { readableCheck, visibleComments } from "@/server/access";
 import { apply } from "@/server/appliers";
 import { write } from "@/server/write";
 import { db } from "@/db/client";
@@ -10,8 +10,9 @@ import { listComments } from "@/db/queries/clubs";
 const params = z.object({ checkId: uuidParam });
 
 export const GET = route({ params }, async ({ user, params }) => {
-  await readableCheck(db(), user, params.checkId);
-  return { items: await listComments(db(), params.checkId) };
+  const a = await readableCheck(db(), user, params.checkId);
+  // a check shared with several clubs: each club's mentors read their own thread and the owner's words
+  return { items: visibleComments(a, user, await listComments(db(), params.checkId)).map(({ id, checkId, valve, body, createdAt, authorId, authorName }) => ({ id, checkId, valve, body, createdAt, authorId, authorName })) };
 });
 
 /** The owner and the mentors of a sharing club comment on the check or on one valve. */

@@ -3,7 +3,7 @@ import type { Role } from "@/db/schema";
 import { rolesInput } from "@/lib/schemas/records";
 import { conflict, notFound } from "@/lib/errors";
 import { route, uuidParam } from "@/server/http";
-import { clubRole } from "@/server/access";
+import { clubRole, memberRemover } from "@/server/access";
 import { write } from "@/server/write";
 import { listMembers, lockClubRoles, rolesInClub, setRoles } from "@/db/queries/clubs";
 import type { Tx } from "@/db/client";
@@ -27,9 +27,13 @@ export const PUT = route({ params, body: rolesInput }, async ({ user, params, bo
   }),
 }));
 
+/**
+ * Remove a member (an admin), or leave (the member themselves). Either ends, in the same
+ * transaction, what the membership held open: shares with the club, pool offers, open requests.
+ */
 export const DELETE = route({ params, status: 204 }, async ({ user, params }) => {
   await write(user, async (w) => {
-    await clubRole(w.tx, user, params.clubId, "admin");
+    await memberRemover(w.tx, user, params.clubId, params.userId);
     await changeRoles(w.tx, params.clubId, params.userId, [], user.id);
   });
 });
