@@ -3,7 +3,7 @@ import { PHOTO_MAX_BYTES, PHOTO_QUOTA_CODE, formatBytes, photoFields, usageLabel
 import * as q from "@/db/queries/photos";
 import { conflict, DomainError, forbidden, invalid, notFound, overloaded, throttled } from "@/lib/errors";
 import { env } from "@/lib/env";
-import { db } from "@/db/client";
+import { db, type Executor } from "@/db/client";
 import { mysqlErrorCode } from "@/db/errors";
 import { readableCheck } from "./access";
 import { budget } from "./budgets";
@@ -150,27 +150,30 @@ export async function uploadPhoto(user: SessionUser, checkId: string, body: { by
 }
 
 /** A photo may be read by whoever may read its check; the answer says as whom. */
-async function readablePhoto(user: SessionUser, photoId: string) {
-  const p = await q.getPhotoRow(db(), photoId);
+async function readablePhoto(ex: Executor, user: SessionUser, photoId: string) {
+  const p = await q.getPhotoRow(ex, photoId);
   // a row whose bytes are not stored yet is an upload in flight: nothing to show
   if (!p?.storedAt) throw notFound("photo");
-  const access = await readableCheck(db(), user, p.checkId).catch(() => {
-    throw notFound("photo");
+  const access = await readableCheck(ex, user, p.checkId).catch((e: unknown) => {
+    throw e instanceof DomainError ? notFound("photo") : e;
   });
   return { p, as: access.as };
 }
 
 export async function photoBytes(user: SessionUser, photoId: string) {
-  const { p } = await readablePhoto(user, photoId);
+  const { p } = await readablePhoto(db(), user, photoId);
   return { row: p, bytes: await getObject(p.objectKey) };
 }
 
-/** The uploader or the check's owner may remove a photo. */
+/** The uploader or the check's owner may remove a photo: decided and done in one write, the bytes after it. */
 export async function removePhoto(user: SessionUser, photoId: string) {
-  const { p, as } = await readablePhoto(user, photoId);
-  if (p.ownerId !== user.id && as !== "owner") throw forbidden("Only who took the photo or the check's owner can remove it");
-  await q.deletePhoto(photoId);
-  await deleteObject(p.objectKey).catch(() => undefined);
+  const key = await write(user, async (w) => {
+    const { p, as } = await readablePhoto(w.tx, w.user, photoId);
+    if (p.ownerId !== w.user.id && as !== "owner") throw forbidden("Only who took the photo or the check's owner can remove it");
+    await q.deletePhoto(w.tx, photoId);
+    return p.objectKey;
+  });
+  await deleteObject(key).catch(() => undefined);
 }
 
 const STALE_CLAIM_MS = 24 * 3600_000;

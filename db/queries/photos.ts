@@ -78,8 +78,8 @@ export async function markStored(ex: Executor, id: string, version: number): Pro
   return r.affectedRows > 0;
 }
 
-export async function deletePhoto(id: string) {
-  await db().delete(uploads).where(eq(uploads.id, id));
+export async function deletePhoto(ex: Executor, id: string) {
+  await ex.delete(uploads).where(eq(uploads.id, id));
 }
 
 /** Claims whose bytes never came (the phone that sent them is gone): they give their space back. */
