@@ -69,7 +69,7 @@ async function claimPhoto(w: WriteCtx, checkId: string, f: PhotoFields, img: Pre
   try {
     await q.insertClaim(w.tx, p);
   } catch (e) {
-    // another account's claim of the same id committed first (ours waited on no lock of theirs)
+    // another account claimed the same id at the same moment (our locking read found no row yet)
     if (mysqlErrorCode(e) === "ER_DUP_ENTRY") throw conflict("That photo id is taken");
     throw e;
   }
