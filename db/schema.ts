@@ -370,6 +370,11 @@ export const uploads = mysqlTable(
     bytes: int("bytes").notNull(),
     width: smallint("width"),
     height: smallint("height"),
+    /**
+     * When the object store had the bytes. The row is written first (it claims the id) and the bytes
+     * after it, so a row without this is an upload still in flight or cut off: its retry completes it.
+     */
+    storedAt: timestamp("stored_at", { fsp: 3 }),
     version: version(),
     createdAt: createdAt(),
   },

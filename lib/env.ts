@@ -22,6 +22,14 @@ const envSchema = z.object({
   S3_REGION: z.string().default("us-east-1"),
   S3_ACCESS_KEY: z.string().default("S3RVER"),
   S3_SECRET_KEY: z.string().default("S3RVER"),
+  /** photo space per account, in bytes, counted from the stored photos' sizes (500 MB: about 1,500 photos of a valve) */
+  PHOTO_QUOTA_BYTES: z.coerce.number({ error: "PHOTO_QUOTA_BYTES must be a whole number of bytes" }).int().min(1).max(2 ** 52).default(500 * 1024 * 1024),
+  /** photos one account may send per hour (120: two of every valve of a 24-valve engine, twice over, and room to spare) */
+  PHOTO_UPLOADS_PER_HOUR: z.coerce.number({ error: "PHOTO_UPLOADS_PER_HOUR must be a whole number from 1 to 100000" }).int().min(1).max(100_000).default(120),
+  /** pictures decoded at once per server process (each may take up to about 100 MB and a thread of the pool) */
+  PHOTO_DECODE_SLOTS: z.coerce.number({ error: "PHOTO_DECODE_SLOTS must be a whole number from 1 to 64" }).int().min(1).max(64).default(2),
+  /** uploads that may wait for a decode slot; one more is answered 503 with Retry-After */
+  PHOTO_DECODE_QUEUE: z.coerce.number({ error: "PHOTO_DECODE_QUEUE must be a whole number from 0 to 1000" }).int().min(0).max(1000).default(8),
   /** database connections per server process (MariaDB's own max_connections must be higher) */
   DB_POOL_SIZE: z.coerce.number({ error: "DB_POOL_SIZE must be a whole number from 1 to 500" }).int().min(1).max(500).default(10),
   /** how long a request waits for a free connection before it is answered 503 with Retry-After */

@@ -1,42 +1,79 @@
 import "server-only";
-import sharp from "sharp";
-import { PHOTO_FORMATS, PHOTO_MAX_BYTES, PHOTO_MAX_EDGE, PHOTO_MAX_LABEL, photoFields, type ApiPhoto } from "@/lib/photos/rules";
+import { PHOTO_MAX_BYTES, PHOTO_QUOTA_CODE, formatBytes, photoFields, usageLabel, type ApiPhoto, type PhotoFields, type PhotoUsage } from "@/lib/photos/rules";
 import * as q from "@/db/queries/photos";
-import { conflict, DomainError, forbidden, invalid, notFound } from "@/lib/errors";
-import { db } from "@/db/client";
+import { conflict, DomainError, forbidden, invalid, notFound, overloaded, throttled } from "@/lib/errors";
+import { env } from "@/lib/env";
+import { db, type Executor } from "@/db/client";
+import { mysqlErrorCode } from "@/db/errors";
 import { readableCheck } from "./access";
+import { budget } from "./budgets";
 import { BodyTooLarge } from "./request-guard";
+import { preparePhoto, tooLarge } from "./photo-decode";
 import { deleteObject, getObject, listObjects, putObject } from "./storage";
+import { write, type WriteCtx } from "./write";
 import type { SessionUser } from "./auth";
 
 /**
- * Photos on readings and comments. The type is judged from the bytes (sharp decodes them), never
- * from the name or the declared type; the stored copy is re-encoded, turned upright, scaled to
- * PHOTO_MAX_EDGE and carries no metadata at all (sharp drops EXIF, GPS included, unless asked to
- * keep it). Keys are made here from ids, so nothing the caller sends becomes a path.
+ * Photos on readings and comments. Decoding is bounded in server/photo-decode.ts; keys are made here
+ * from ids, so nothing the caller sends becomes a path. An upload writes its row first, claiming the
+ * id, and stores the bytes after: a retry sent while the first try is still in flight, or after it
+ * was cut off, finds the row and completes it, and nothing in the upload path ever deletes a stored
+ * object (a loser that did once took the winner's photo with it).
  */
-export const tooLarge = () => new DomainError("too_large", `A photo may be at most ${PHOTO_MAX_LABEL}`);
+export { tooLarge };
 
-export async function preparePhoto(input: Buffer) {
-  if (input.byteLength > PHOTO_MAX_BYTES) throw tooLarge();
-  let format: string | undefined;
-  try {
-    // limitInputPixels: a tiny file that unpacks to a huge picture is refused before decoding
-    format = (await sharp(input, { limitInputPixels: 50_000_000 }).metadata()).format;
-  } catch {
-    format = undefined;
+/**
+ * Photos one account may send in an hour (PHOTO_UPLOADS_PER_HOUR, 120 by default): each is a decode
+ * and a store, and 120 covers two photos of every valve of a 24-valve engine twice over. A retry of
+ * a photo already stored is answered before this is spent, and a send the server turned away
+ * (busy) or that turned out to be a duplicate gives its unit back, so the owner's retries never eat it.
+ */
+const uploadBudget = () => budget({ name: "photo-upload:account", points: env().PHOTO_UPLOADS_PER_HOUR, seconds: 3600 });
+
+const objectKey = (checkId: string, id: string) => `checks/${checkId}/${id}.jpg`;
+
+export async function photoUsage(user: SessionUser): Promise<PhotoUsage> {
+  return { usedBytes: await q.bytesStored(db(), user.id), quotaBytes: env().PHOTO_QUOTA_BYTES };
+}
+
+/** The account's photo space is spent: the message names the quota, and the phone keeps the photo. */
+function quotaFull(usage: PhotoUsage, needs?: number) {
+  const full = usage.usedBytes >= usage.quotaBytes;
+  return new DomainError(
+    "refused",
+    `${full ? "Your photo space is full" : "This photo does not fit in your photo space"}: ${usageLabel(usage)}${needs ? `, and this photo takes ${formatBytes(needs)}` : ""}. Remove photos you no longer need to make room; this one waits on your phone until then.`,
+    { code: PHOTO_QUOTA_CODE },
+  );
+}
+
+type Prepared = Awaited<ReturnType<typeof preparePhoto>>;
+
+/**
+ * Claim the photo's id in the write path: the check's access, the id, the comment and the quota are
+ * decided in the one transaction that writes the row. "stored": the same photo is already there;
+ * "unstored": its row is there but not its bytes (a try in flight or cut off), so this one stores them.
+ */
+async function claimPhoto(w: WriteCtx, checkId: string, f: PhotoFields, img: Prepared): Promise<"new" | "unstored" | "stored"> {
+  await readableCheck(w.tx, w.user, checkId);
+  const existing = await q.lockPhotoRow(w.tx, f.id);
+  if (existing) {
+    if (existing.checkId !== checkId || existing.ownerId !== w.user.id) throw conflict("That photo id is taken");
+    // the same picture re-encoded gives the same bytes; another picture under this id is not a retry
+    if (!existing.storedAt && existing.bytes !== img.data.byteLength) throw conflict("That photo id is taken by another picture");
+    return existing.storedAt ? "stored" : "unstored";
   }
-  if (!format || !(PHOTO_FORMATS as readonly string[]).includes(format)) throw new DomainError("unsupported", "That file is not a JPEG, PNG or WebP picture", { code: "not_a_photo" });
+  if (f.commentId && !(await q.commentOnCheck(w.tx, f.commentId, checkId))) throw invalid("commentId: no such comment on this check", { commentId: "no such comment on this check" });
+  const usage = { usedBytes: await q.bytesStored(w.tx, w.user.id, true), quotaBytes: env().PHOTO_QUOTA_BYTES };
+  if (usage.usedBytes + img.data.byteLength > usage.quotaBytes) throw quotaFull(usage, img.data.byteLength);
+  const p = { id: f.id, ownerId: w.user.id, checkId, valve: f.valve ?? null, commentId: f.commentId ?? null, objectKey: objectKey(checkId, f.id), contentType: img.contentType, bytes: img.data.byteLength, width: img.width, height: img.height, version: w.version };
   try {
-    const { data, info } = await sharp(input, { limitInputPixels: 50_000_000 })
-      .rotate()
-      .resize({ width: PHOTO_MAX_EDGE, height: PHOTO_MAX_EDGE, fit: "inside", withoutEnlargement: true })
-      .jpeg({ quality: 82, mozjpeg: true })
-      .toBuffer({ resolveWithObject: true });
-    return { data, width: info.width, height: info.height, contentType: "image/jpeg" };
-  } catch {
-    throw new DomainError("unsupported", "That picture could not be read", { code: "not_a_photo" });
+    await q.insertClaim(w.tx, p);
+  } catch (e) {
+    // another account claimed the same id at the same moment (our locking read found no row yet)
+    if (mysqlErrorCode(e) === "ER_DUP_ENTRY") throw conflict("That photo id is taken");
+    throw e;
   }
+  return "new";
 }
 
 /**
@@ -44,7 +81,7 @@ export async function preparePhoto(input: Buffer) {
  * refused from its declared length (a little room for the form's other fields) before it is read,
  * or as soon as its bytes pass that limit while it is read.
  */
-export async function uploadPhoto(user: SessionUser, checkId: string, body: { bytes: number; read: (limit: number) => Promise<FormData> }): Promise<{ photo: ApiPhoto; created: boolean }> {
+export async function uploadPhoto(user: SessionUser, checkId: string, body: { bytes: number; read: (limit: number) => Promise<FormData> }): Promise<{ photo: ApiPhoto; created: boolean; usage: PhotoUsage }> {
   await readableCheck(db(), user, checkId);
   const limit = PHOTO_MAX_BYTES + 64 * 1024;
   if (body.bytes > limit) throw tooLarge();
@@ -66,55 +103,90 @@ export async function uploadPhoto(user: SessionUser, checkId: string, body: { by
     throw invalid(`${i.path.join(".")}: ${i.message}`, { [i.path.join(".")]: i.message });
   }
   const f = fields.data;
-  // the same photo sent again (a lost answer, a retried sync) is the one already stored
-  const existing = await q.getPhoto(f.id);
-  if (existing) {
-    if (existing.checkId !== checkId || existing.uploaderId !== user.id) throw conflict("That photo id is taken");
-    return { photo: existing, created: false };
+  const done = async (created: boolean) => ({ photo: (await q.getPhoto(db(), f.id))!, created, usage: await photoUsage(user) });
+
+  // The same photo sent again (a lost answer, a retried sync) is answered before anything costly.
+  const existing = await q.getPhotoRow(db(), f.id);
+  if (existing && (existing.checkId !== checkId || existing.ownerId !== user.id)) throw conflict("That photo id is taken");
+  if (existing?.storedAt) return done(false);
+  if (!existing) {
+    // a full account is told so before its photo is decoded or its budget spent
+    const usage = await photoUsage(user);
+    if (usage.usedBytes >= usage.quotaBytes) throw quotaFull(usage);
   }
-  if (f.commentId && !(await q.commentOnCheck(f.commentId, checkId))) throw invalid("commentId: no such comment on this check", { commentId: "no such comment on this check" });
-  const img = await preparePhoto(Buffer.from(await file.arrayBuffer()));
-  const key = `checks/${checkId}/${f.id}.jpg`;
-  await putObject(key, img.data, img.contentType);
+
+  const spent = await uploadBudget().take(user.id);
+  if (!spent.ok) {
+    const minutes = Math.ceil(spent.retryAfterSeconds / 60);
+    throw throttled(`You have sent ${uploadBudget().spec.points} photos in the last hour, the most an hour allows: the rest wait on your phone and are sent in ${minutes} minute${minutes === 1 ? "" : "s"}.`, spent.retryAfterSeconds);
+  }
+  const giveBack = () => uploadBudget().refund(user.id).catch(() => undefined);
+  let img: Prepared;
   try {
-    await q.insertPhoto({ id: f.id, ownerId: user.id, checkId, valve: f.valve ?? null, commentId: f.commentId ?? null, objectKey: key, contentType: img.contentType, bytes: img.data.byteLength, width: img.width, height: img.height });
+    img = await preparePhoto(Buffer.from(await file.arrayBuffer()));
   } catch (e) {
-    await deleteObject(key).catch(() => undefined);
+    // turned away before any work: the phone sends it again, and that try pays
+    if (e instanceof DomainError && e.kind === "overloaded") await giveBack();
     throw e;
   }
-  return { photo: (await q.getPhoto(f.id))!, created: true };
+
+  const claim = await write(user, (w) => claimPhoto(w, checkId, f, img));
+  if (claim === "stored") {
+    await giveBack();
+    return done(false);
+  }
+  // Row first, bytes second: a failure from here on leaves a claim that the phone's retry completes.
+  // Two tries of one photo write the same bytes under the same key, which harms neither.
+  try {
+    await putObject(objectKey(checkId, f.id), img.data, img.contentType);
+  } catch (e) {
+    console.error("[photos] store failed:", e instanceof Error ? e.message : e);
+    throw overloaded("The photo store did not take the photo: it is sent again in a moment");
+  }
+  const marked = await write(user, (w) => q.markStored(w.tx, f.id, w.version));
+  // removed while its bytes were on their way: a new try claims it afresh
+  if (!marked) throw overloaded("The photo changed while it was stored: it is sent again in a moment");
+  return done(claim === "new");
 }
 
 /** A photo may be read by whoever may read its check; the answer says as whom. */
-async function readablePhoto(user: SessionUser, photoId: string) {
-  const p = await q.getPhotoRow(photoId);
-  if (!p) throw notFound("photo");
-  const access = await readableCheck(db(), user, p.checkId).catch(() => {
-    throw notFound("photo");
+async function readablePhoto(ex: Executor, user: SessionUser, photoId: string) {
+  const p = await q.getPhotoRow(ex, photoId);
+  // a row whose bytes are not stored yet is an upload in flight: nothing to show
+  if (!p?.storedAt) throw notFound("photo");
+  const access = await readableCheck(ex, user, p.checkId).catch((e: unknown) => {
+    throw e instanceof DomainError ? notFound("photo") : e;
   });
   return { p, as: access.as };
 }
 
 export async function photoBytes(user: SessionUser, photoId: string) {
-  const { p } = await readablePhoto(user, photoId);
+  const { p } = await readablePhoto(db(), user, photoId);
   return { row: p, bytes: await getObject(p.objectKey) };
 }
 
-/** The uploader or the check's owner may remove a photo. */
+/** The uploader or the check's owner may remove a photo: decided and done in one write, the bytes after it. */
 export async function removePhoto(user: SessionUser, photoId: string) {
-  const { p, as } = await readablePhoto(user, photoId);
-  if (p.ownerId !== user.id && as !== "owner") throw forbidden("Only who took the photo or the check's owner can remove it");
-  await q.deletePhoto(photoId);
-  await deleteObject(p.objectKey).catch(() => undefined);
+  const key = await write(user, async (w) => {
+    const { p, as } = await readablePhoto(w.tx, w.user, photoId);
+    if (p.ownerId !== w.user.id && as !== "owner") throw forbidden("Only who took the photo or the check's owner can remove it");
+    await q.deletePhoto(w.tx, photoId);
+    return p.objectKey;
+  });
+  await deleteObject(key).catch(() => undefined);
 }
 
+const STALE_CLAIM_MS = 24 * 3600_000;
+
 /**
- * Photos whose row is gone (a check or engine deleted, with every photo on it; an upload that died
- * between storing the bytes and writing the row) are removed from the store: a deleted check's
- * photos must not outlive it (OWASP ASVS 5.0 V14 Data Protection). An object younger than `graceMs`
- * is left alone, as its upload may still be writing the row. Run after deletions and on a timer.
+ * Photos whose row is gone (a check or engine deleted, with every photo on it; a claim never
+ * completed) are removed from the store: a deleted check's photos must not outlive it (OWASP ASVS
+ * 5.0 V14 Data Protection). An object younger than `graceMs` is left alone, as a try of its upload
+ * may still be storing it. Run after deletions and on a timer.
  */
 export async function sweepPhotos(graceMs = 10 * 60_000): Promise<number> {
+  // a claim whose bytes never came in a day (the phone that sent it lost it) gives its space back
+  await q.dropStaleClaims(new Date(Date.now() - STALE_CLAIM_MS));
   let removed = 0;
   const before = Date.now() - graceMs;
   const checkOf = (key: string) => key.split("/")[1] ?? "";

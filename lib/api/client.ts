@@ -31,7 +31,7 @@ export async function apiFetch<T>(path: string, init: { method?: string; body?: 
   return json as T;
 }
 
-import type { ApiPhoto } from "../photos/rules";
+import type { ApiPhoto, PhotoUsage } from "../photos/rules";
 import type { ApiBorrow, ApiOffer } from "../pool/rules";
 import type { Verdict } from "../check/verdicts";
 
@@ -50,6 +50,7 @@ export const queryKeys = {
   queue: (clubId: string) => ["clubs", clubId, "queue"] as const,
   shares: (checkId: string) => ["checks", checkId, "shares"] as const,
   photos: (checkId: string) => ["checks", checkId, "photos"] as const,
+  photoUsage: () => ["photo-usage"] as const,
   pool: (clubId: string) => ["clubs", clubId, "pool"] as const,
   borrows: () => ["clubs", "borrows"] as const,
 };
@@ -112,6 +113,7 @@ export const fetchers = {
   comments: (id: string) => apiFetch<{ items: ApiComment[] }>(`/api/checks/${id}/comments`).then((r) => r.items),
   shares: (id: string) => apiFetch<{ items: ApiShare[] }>(`/api/checks/${id}/shares`).then((r) => r.items),
   photos: (id: string) => apiFetch<{ items: ApiPhoto[] }>(`/api/checks/${id}/photos`).then((r) => r.items),
+  photoUsage: () => apiFetch<PhotoUsage>("/api/photos/usage"),
   pool: (clubId: string) => apiFetch<{ items: ApiOffer[] }>(`/api/clubs/${clubId}/pool`).then((r) => r.items),
   borrows: () => apiFetch<{ items: ApiBorrow[] }>("/api/borrows").then((r) => r.items),
   engines: () => apiFetch<{ items: { id: string; name: string; cylinders: number }[] }>("/api/engines?limit=200").then((r) => r.items),

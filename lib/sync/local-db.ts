@@ -50,6 +50,8 @@ export interface LocalPhoto {
   takenAt: number;
   state: "waiting" | "sent" | "refused";
   reason?: string;
+  /** waiting because the account's photo space was full: the usage then, tried again once it shrinks or grows */
+  held?: { usedBytes: number; quotaBytes: number };
 }
 
 export interface OutboxEntry {

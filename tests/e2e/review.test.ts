@@ -122,6 +122,8 @@ describe("a mentor reviews a shared check", () => {
     await mechCtx.setOffline(false);
     await mech.evaluate(() => window.dispatchEvent(new Event("online")));
     await card.getByText("sent", { exact: true }).waitFor({ timeout: 20_000 });
+    // where photos are added, the account's photo space: how much is used of how much
+    await card.getByText(/Photo space: [\d.]+ (bytes|KB|MB) of 500 MB used/).waitFor();
     step("photo sent after the signal came back");
     await mechCtx.close();
 

@@ -143,6 +143,7 @@ const TABLE: Row[] = [
   { route: "GET /api/checks/:checkId/photos", path: (i) => `/api/checks/${i.checkId}/photos`, expect: CHECK_READ },
   { route: "POST /api/checks/:checkId/photos", path: (i) => `/api/checks/${i.checkId}/photos`, form: async () => photoForm(photo), expect: { owner: 201, mentor: 201, others: 404, anon: 401 } },
   { route: "GET /api/photos/:photoId", path: (i) => `/api/photos/${i.photoId}`, expect: CHECK_READ },
+  { route: "GET /api/photos/usage", path: () => "/api/photos/usage", expect: EVERYONE(200) },
   { route: "DELETE /api/photos/:photoId", path: (i) => `/api/photos/${i.photoId}`, fresh: freshPhoto, expect: CHECK_WRITE(204) },
   { route: "DELETE /api/shares/:shareId", path: (i) => `/api/shares/${i.shareId}`, fresh: () => freshCheck(), expect: CHECK_WRITE(204) },
   { route: "PUT /api/shares/:shareId/verdict", path: (i) => `/api/shares/${i.shareId}/verdict`, body: () => ({ verdict: "measure-again" }), expect: { owner: 403, mentor: 200, others: 404, anon: 401 }, bad: { as: "mentor", body: { verdict: "ok" }, field: "verdict" } },

@@ -16,9 +16,9 @@ export const GET = route({ params }, async ({ user, params }) => {
 
 /** A multipart form: file, id (the phone's own uuid, so a retry is harmless), valve?, commentId?. */
 export const POST = route({ params }, async ({ user, params, req }) => {
-  const { photo, created } = await uploadPhoto(user, params.checkId, {
+  const { photo, created, usage } = await uploadPhoto(user, params.checkId, {
     bytes: Number(req.headers.get("content-length") ?? 0),
     read: (limit) => readForm(req, limit),
   });
-  return NextResponse.json({ photo }, { status: created ? 201 : 200 });
+  return NextResponse.json({ photo, usage }, { status: created ? 201 : 200 });
 });
