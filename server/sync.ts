@@ -36,13 +36,19 @@ function writeBudget() {
   });
 }
 
+/**
+ * A device's budget is counted under the account too: anyone may name any device id in a push, and
+ * naming someone else's must not spend theirs (a limit never locks the rightful owner out).
+ */
+const deviceKey = (user: SessionUser, clientId: string) => `${user.id}:${clientId}`;
+
 /** Spend `cost` of both budgets, or refuse the push (nothing spent of the one that said yes). */
 async function spendWrites(user: SessionUser, clientId: string, cost: number) {
   const { account, device } = writeBudget();
-  const d = await device.take(clientId, cost);
+  const d = await device.take(deviceKey(user, clientId), cost);
   const a = d.ok ? await account.take(user.id, cost) : null;
   if (d.ok && a?.ok) return;
-  if (d.ok) await device.refund(clientId, cost);
+  if (d.ok) await device.refund(deviceKey(user, clientId), cost);
   const wait = !d.ok ? d.retryAfterSeconds : a && !a.ok ? a.retryAfterSeconds : 60;
   throw tooMany(`Too many changes sent in the last minute: they are kept on this phone and sent again in ${wait} s`, wait);
 }
@@ -50,7 +56,7 @@ async function spendWrites(user: SessionUser, clientId: string, cost: number) {
 async function refundWrites(user: SessionUser, clientId: string, cost: number) {
   if (cost <= 0) return;
   const { account, device } = writeBudget();
-  await Promise.all([device.refund(clientId, cost), account.refund(user.id, cost)]).catch(() => undefined);
+  await Promise.all([device.refund(deviceKey(user, clientId), cost), account.refund(user.id, cost)]).catch(() => undefined);
 }
 
 /**
