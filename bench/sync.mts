@@ -71,10 +71,22 @@ export async function runSyncBench(srv: BenchServer, n = 10_000) {
   const puller = new Client(url);
   await puller.signIn("password", { email: p.email, password: p.password });
   const t2 = performance.now();
-  const res = await puller.raw("POST", "/api/sync/pull", { body: JSON.stringify({ cursor: null }), headers: { "content-type": "application/json" } });
-  const text = await res.text();
+  // page after page, as the phone does
+  const pulled = { readings: [] as unknown[], checks: [] as unknown[], engines: [] as unknown[] };
+  let bytes = 0;
+  let pages = 0;
+  for (let cursor: string | null = null, more = true; more; pages++) {
+    const res = await puller.raw("POST", "/api/sync/pull", { body: JSON.stringify({ cursor }), headers: { "content-type": "application/json" } });
+    const text = await res.text();
+    bytes += Buffer.byteLength(text);
+    const page = JSON.parse(text) as { cursor: string; more?: boolean; readings: unknown[]; checks: unknown[]; engines: unknown[] };
+    pulled.readings.push(...page.readings);
+    pulled.checks.push(...page.checks);
+    pulled.engines.push(...page.engines);
+    ({ cursor } = page);
+    more = page.more === true;
+  }
   const pullMs = performance.now() - t2;
-  const pulled = JSON.parse(text) as { readings: unknown[]; checks: unknown[]; engines: unknown[] };
   return {
     mutations: n,
     batch: PUSH_BATCH,
@@ -82,7 +94,7 @@ export async function runSyncBench(srv: BenchServer, n = 10_000) {
     pushRowsPerSec: (n / pushMs) * 1000,
     rawRowsPerSec: (n / rawMs) * 1000,
     ratio: rawMs / pushMs,
-    pull: { ms: pullMs, bytes: Buffer.byteLength(text), engines: pulled.engines.length, checks: pulled.checks.length, readings: pulled.readings.length },
+    pull: { ms: pullMs, pages, bytes, engines: pulled.engines.length, checks: pulled.checks.length, readings: pulled.readings.length },
   };
 }
 

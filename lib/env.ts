@@ -43,6 +43,12 @@ const envSchema = z.object({
    * right is the caller.
    */
   TRUSTED_PROXIES: z.coerce.number().int().min(0).max(10).default(0),
+  /**
+   * The write budget: mutations one account may push per minute (each of its devices half of it).
+   * Sized in server/sync.ts; at least two full pushes per device, so a budget never refuses a push
+   * for good. Raised only for robots that write faster than people (the fault-injection tests, the bench).
+   */
+  SYNC_WRITES_PER_MINUTE: z.coerce.number({ error: "SYNC_WRITES_PER_MINUTE must be a whole number from 800 to 10000000" }).int().min(800).max(10_000_000).default(1200),
 });
 
 export type Env = z.infer<typeof envSchema>;

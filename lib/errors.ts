@@ -43,6 +43,8 @@ export const refused = (message: string) => new DomainError("refused", message);
 export const invalid = (message: string, fields?: Record<string, string>) => new DomainError("invalid", message, { fields });
 export const throttled = (message: string, retryAfterSeconds: number) => new DomainError("throttled", message, { retryAfterSeconds });
 export const overloaded = (message = "The server is busy: try again in a moment", retryAfterSeconds = 2) => new DomainError("overloaded", message, { retryAfterSeconds });
+/** A caller beyond one of its budgets (server/budgets.ts): 429 with Retry-After; nothing of the refused request was done. */
+export const tooMany = (message: string, retryAfterSeconds: number) => new DomainError("throttled", message, { retryAfterSeconds });
 
 /** The first issue of a set of field problems as one message ("intake.max: below the minimum"). */
 export function invalidFields(fields: Record<string, string>): DomainError {

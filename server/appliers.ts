@@ -3,7 +3,7 @@ import type { MutationArgs, MutationName } from "@/lib/sync/mutations";
 import type { ReadingInput } from "@/lib/schemas/records";
 import { getCheckRow, getEngineRow, getTrayRow, putCheck, putEngine, putTrayItem, removeCheck, removeEngine, removeTrayItem, writeReadings } from "@/db/queries/garage";
 import { insertComment, writeVerdict } from "@/db/queries/clubs";
-import { notFound } from "@/lib/errors";
+import { invalid, notFound } from "@/lib/errors";
 import { commentClub, ownCheck, ownOrNewCheck, ownOrNewEngine, ownOrNewTrayItem, ownEngine, readableCheck, shareFor } from "./access";
 import { checkReadingsFit } from "./engines";
 import { noticeNewComment, noticeVerdict } from "./review";
@@ -87,7 +87,11 @@ export const APPLIERS: { readonly [N in MutationName]: Applier<N> } = {
   "borrow.move/1": (w, a) => applyMove(w, a),
 };
 
-/** Apply one mutation by name, inside the caller's write. */
+/**
+ * Apply one mutation by name, inside the caller's write. Only the table's own names: a name every
+ * object inherits ("constructor", "toString") is refused like any unknown one, never called.
+ */
 export function apply<N extends MutationName>(w: WriteCtx, name: N, args: MutationArgs<N>): Promise<void> {
+  if (!Object.hasOwn(APPLIERS, name)) return Promise.reject(invalid(`unknown change "${String(name)}"`));
   return (APPLIERS[name] as Applier<N>)(w, args);
 }

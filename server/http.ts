@@ -39,8 +39,8 @@ export function overloadedResponse(message = "The server is busy: try again in a
 function domainResponse(e: DomainError) {
   if (e.kind === "overloaded") return overloadedResponse(e.message, e.extra.retryAfterSeconds);
   const res = errorResponse(STATUS[e.kind], e.extra.code ?? e.kind, e.message, e.extra.fields);
-  // a spent budget (429) says when it refills (RFC 6585 section 4)
-  if (e.extra.retryAfterSeconds) res.headers.set("Retry-After", String(e.extra.retryAfterSeconds));
+  // a refusal that names its wait (a spent budget: 429) says it as RFC 9110 section 10.2.3 asks
+  if (e.extra.retryAfterSeconds !== undefined) res.headers.set("Retry-After", String(Math.max(1, Math.ceil(e.extra.retryAfterSeconds))));
   return res;
 }
 
@@ -51,12 +51,13 @@ function errorResponse(status: number, code: string, message: string, fields?: R
 }
 
 function fieldsFromZod(e: ZodError): Record<string, string> {
-  const fields: Record<string, string> = {};
+  // a Map, not an object: a field named "__proto__" or "constructor" by the caller stays a plain key
+  const fields = new Map<string, string>();
   for (const i of e.issues) {
     const key = i.path.map(String).join(".") || "_";
-    fields[key] ??= i.message;
+    if (!fields.has(key)) fields.set(key, i.message);
   }
-  return fields;
+  return Object.fromEntries(fields);
 }
 
 type Ctx<P, Q, B, A extends boolean> = { req: NextRequest; params: P; query: Q; body: B; user: A extends true ? SessionUser : SessionUser | null };

@@ -1,6 +1,7 @@
 import "server-only";
 import { LashInputError } from "@/lib/lash";
-import { domainErrorOf } from "@/lib/errors";
+import { domainErrorOf, tooMany } from "@/lib/errors";
+import { env } from "@/lib/env";
 import { CURSOR_PREFIX, parseMutation, type Cursor, type MutationArgs, type MutationName, type PushInput } from "@/lib/sync/mutations";
 import { transaction } from "@/db/client";
 import { nextVersion, type Tx } from "@/db/versions";
@@ -9,7 +10,54 @@ import { retryConflicts } from "@/db/retry";
 import * as q from "@/db/queries/sync";
 import { apply, applyReadings } from "./appliers";
 import { runAfter, type After, type WriteCtx } from "./write";
+import { budget, type Budget } from "./budgets";
 import type { SessionUser } from "./auth";
+
+/**
+ * The write budget (DESIGN.md section 5, fair use; OWASP ASVS 5.0 V2 Validation and Business Logic,
+ * anti-automation): mutations per minute, counted per account and per device, spent before the
+ * push's transaction opens (a budget asks the pool for a connection, which a transaction must not).
+ * Size: a 24-valve check measured wholly offline and synced at once is about 300 mutations
+ * (24 valves x 2 rounds x up to 4 saves: stamp, go and no-go blades, a correction; 24 swaps x 3:
+ * two tray moves and the fitted shim; a few statuses and comments; photos go by their own route and
+ * do not count). So a device may push 600 a minute (twice that check) and an account 1,200 (two
+ * phones doing so at the same minute); `SYNC_WRITES_PER_MINUTE` sets the account's figure. A
+ * script that pushes 200 comments a request is refused from its fourth request in a minute.
+ * Beyond it the push answers 429 with Retry-After and applies nothing of that request; the phone
+ * keeps its outbox and comes back after the wait, so the owner is delayed, never locked out.
+ * Replayed mutations (at or below the device's last applied id) cost nothing.
+ */
+let writeBudgets: { account: Budget; device: Budget } | undefined;
+function writeBudget() {
+  const perMinute = env().SYNC_WRITES_PER_MINUTE;
+  return (writeBudgets ??= {
+    account: budget({ name: "push:account", points: perMinute, seconds: 60 }),
+    device: budget({ name: "push:device", points: Math.floor(perMinute / 2), seconds: 60 }),
+  });
+}
+
+/**
+ * A device's budget is counted under the account too: anyone may name any device id in a push, and
+ * naming someone else's must not spend theirs (a limit never locks the rightful owner out).
+ */
+const deviceKey = (user: SessionUser, clientId: string) => `${user.id}:${clientId}`;
+
+/** Spend `cost` of both budgets, or refuse the push (nothing spent of the one that said yes). */
+async function spendWrites(user: SessionUser, clientId: string, cost: number) {
+  const { account, device } = writeBudget();
+  const d = await device.take(deviceKey(user, clientId), cost);
+  const a = d.ok ? await account.take(user.id, cost) : null;
+  if (d.ok && a?.ok) return;
+  if (d.ok) await device.refund(deviceKey(user, clientId), cost);
+  const wait = !d.ok ? d.retryAfterSeconds : a && !a.ok ? a.retryAfterSeconds : 60;
+  throw tooMany(`Too many changes sent in the last minute: they are kept on this phone and sent again in ${wait} s`, wait);
+}
+
+async function refundWrites(user: SessionUser, clientId: string, cost: number) {
+  if (cost <= 0) return;
+  const { account, device } = writeBudget();
+  await Promise.all([device.refund(deviceKey(user, clientId), cost), account.refund(user.id, cost)]).catch(() => undefined);
+}
 
 /**
  * The server side of the sync protocol (DESIGN.md section 6). A push is applied in one transaction:
@@ -51,11 +99,17 @@ const readingArgs = (m: Parsed) => m.args as MutationArgs<"reading.put/1">;
 export async function push(user: SessionUser, input: PushInput): Promise<PushResult> {
   let rejected: PushResult["rejected"] = [];
   let after: After[] = [];
+  // what this push would apply, as the device's row says now: only that is charged
+  const known = await q.clientOwner(input.clientId);
+  const charged = input.mutations.filter((m) => m.id > (known?.userId === user.id ? known.lastMutationId : 0)).length;
+  if (charged > 0) await spendWrites(user, input.clientId, charged);
+  let applied = 0;
   // a push that lost a write conflict (another device's push, another node) runs again from the
   // start, its client row read afresh, so what the winner applied is skipped (db/retry.ts)
   const lastMutationId = await retryConflicts(() => transaction(async (tx) => {
     rejected = [];
     after = [];
+    applied = 0;
     const last = await q.lockClient(tx, input.clientId, user.id);
     const fresh: Parsed[] = input.mutations
       .filter((m) => m.id > last)
@@ -63,6 +117,7 @@ export async function push(user: SessionUser, input: PushInput): Promise<PushRes
         const p = parseMutation(m.name, m.args);
         return p.ok ? { id: m.id, name: p.name, args: p.args } : { id: m.id, name: m.name, args: m.args, reason: p.reason };
       });
+    applied = fresh.length;
     if (fresh.length === 0) return last;
     const version = await nextVersion(tx, user.id);
     const reject = async (m: Parsed, reason: string) => {
@@ -103,18 +158,32 @@ export async function push(user: SessionUser, input: PushInput): Promise<PushRes
     const newLast = fresh[fresh.length - 1]!.id;
     await q.setLastMutation(tx, input.clientId, newLast);
     return newLast;
-  }));
+  })).catch(async (e: unknown) => {
+    // nothing was applied (a refusal of the whole push, a failure of the moment): nothing is spent
+    await refundWrites(user, input.clientId, charged);
+    throw e;
+  });
+  // a replay that raced this push applied some of it first: those were not this push's work
+  await refundWrites(user, input.clientId, charged - applied);
   // notices are queued only once the changes are committed; a failure here never fails the push
   await runAfter(after);
   return { lastMutationId, rejected };
 }
 
+/** A cursor as the phone sent it, as a place in the owner's changes (null: from the start). */
+function positionOf(cursor: Cursor): q.PullPosition | null {
+  // a number is an old global cursor: a full pull
+  if (typeof cursor !== "string") return null;
+  const [version, kind, id] = cursor.slice(CURSOR_PREFIX.length).split(":");
+  return kind === undefined ? { version: Number(version), kind: q.END, id: "" } : { version: Number(version), kind: Math.min(Number(kind), q.END), id: id ?? "" };
+}
+
 /**
- * Everything of the user's that changed after the cursor, in one read-only transaction (one
- * connection, one snapshot). No cursor, or an old-style numeric one, gets a full pull.
+ * One page of the user's changes after the cursor, in one read-only transaction (one connection,
+ * one snapshot): at most PULL_PAGE_ROWS rows, with `more` when another page follows; its cursor
+ * says where (db/queries/sync.ts). No cursor, or an old-style numeric one, starts a full pull.
  */
 export async function pull(user: SessionUser, cursor: Cursor) {
-  const after = typeof cursor === "string" ? Number(cursor.slice(CURSOR_PREFIX.length)) : null;
-  const { upTo, ...changes } = await transaction((tx) => q.changesSince(tx, user.id, after), { isolationLevel: "repeatable read", accessMode: "read only" });
-  return { cursor: `${CURSOR_PREFIX}${upTo}`, ...changes };
+  const { upTo, next, ...changes } = await transaction((tx) => q.changesSince(tx, user.id, positionOf(cursor)), { isolationLevel: "repeatable read", accessMode: "read only" });
+  return { cursor: next ? `${CURSOR_PREFIX}${next.version}:${next.kind}:${next.id}` : `${CURSOR_PREFIX}${upTo}`, more: next !== null, ...changes };
 }

@@ -31,6 +31,8 @@ interface LocalContext {
   state: SyncState;
   /** when the server was busy: the time of the next try */
   retryAt: number | null;
+  /** the wait is this account's write budget (429), not a saturated server */
+  limited: boolean;
   waiting: number;
   lastSyncAt: number | null;
   rejected: Rejected[];
@@ -61,6 +63,7 @@ export function LocalProvider({ children }: { children: ReactNode }) {
   const db = useMemo(() => (userId ? openLocalDb(userId) : null), [userId]);
   const running = useRef<Promise<void> | null>(null);
   const [retryAt, setRetryAt] = useState<number | null>(null);
+  const [limited, setLimited] = useState(false);
   // a busy server: tries so far, and no regular sync before the time it was asked to wait
   const busyTries = useRef(0);
   const busyUntil = useRef(0);
@@ -118,6 +121,7 @@ export function LocalProvider({ children }: { children: ReactNode }) {
             // the outbox stays as it is; come back when asked, later with each busy answer, with jitter
             busyUntil.current = Date.now() + retryDelay(busyTries.current++, e.retryAfterMs);
             setRetryAt(busyUntil.current);
+            setLimited(e.status === 429);
             setState("busy");
           } else setState(e instanceof SignedOut ? "signed-out" : e instanceof Offline ? "offline" : "error");
           if (!(e instanceof Offline || e instanceof SignedOut || e instanceof ServerBusy)) console.error("[sync] failed:", e);
@@ -179,7 +183,7 @@ export function LocalProvider({ children }: { children: ReactNode }) {
     storeUser(null);
   }, [db, storeUser, userId]);
 
-  const value: LocalContext = { user, ready, db, state, retryAt, waiting, lastSyncAt, rejected, persisted, syncNow, forget };
+  const value: LocalContext = { user, ready, db, state, retryAt, limited, waiting, lastSyncAt, rejected, persisted, syncNow, forget };
   return (
     <Ctx.Provider value={value}>
       <PersistQueries userId={userId ?? null} />

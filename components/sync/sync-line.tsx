@@ -15,7 +15,7 @@ function ago(ms: number): string {
 
 /** One small line that always says where the work is: on this phone, waiting, or synced. */
 export function SyncLine() {
-  const { waiting, lastSyncAt, state, retryAt, rejected, syncNow } = useLocal();
+  const { waiting, lastSyncAt, state, retryAt, limited, rejected, syncNow } = useLocal();
   const [, tick] = useState(0);
   useEffect(() => {
     const t = setInterval(() => tick((n) => n + 1), 30_000);
@@ -25,7 +25,7 @@ export function SyncLine() {
   let text: string;
   if (state === "signed-out") text = `Saved on this phone · ${changes} · sign in to sync`;
   else if (state === "syncing") text = `Syncing ${changes}…`;
-  else if (state === "busy") text = `Saved on this phone · ${changes} · waiting for the server (busy)${retryAt ? `, next try at ${new Date(retryAt).toLocaleTimeString([], { hour: "2-digit", minute: "2-digit", second: "2-digit" })}` : ""}`;
+  else if (state === "busy") text = `Saved on this phone · ${changes} · waiting for the server (${limited ? "many changes at once, sent in parts" : "busy"})${retryAt ? `, next try at ${new Date(retryAt).toLocaleTimeString([], { hour: "2-digit", minute: "2-digit", second: "2-digit" })}` : ""}`;
   else if (waiting > 0) text = `Saved on this phone · ${changes}`;
   else if (lastSyncAt) text = `All synced · ${ago(lastSyncAt)}`;
   else text = "Saved on this phone";

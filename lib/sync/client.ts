@@ -28,6 +28,8 @@ export interface SyncStatus {
 interface PullResult {
   /** opaque: kept as it came and sent back on the next pull */
   cursor: string;
+  /** another page follows (an older server never says so: its one answer is the whole pull) */
+  more?: boolean;
   engines: LocalEngine[];
   checks: LocalCheck[];
   readings: (LocalReading & { id?: string })[];
@@ -120,8 +122,23 @@ export async function pullOnce(db: LocalDb, fetcher: Fetch, base = ""): Promise<
 }
 
 /**
- * One full sync: push everything, send waiting photos, then pull. Throws SignedOut on 401, Offline
- * when there is no answer, ServerBusy when the server asks to come back later. A photo that fails
+ * Pull page after page until the server says there is no more. Each page is saved with its cursor
+ * before the next is asked for, so a pull cut short by a lost signal goes on from there next time.
+ */
+export async function pullAll(db: LocalDb, fetcher: Fetch, base = ""): Promise<PullResult & { pages: number }> {
+  // a bound on a server that kept answering "more" without moving on: the next sync goes on
+  for (let pages = 1; ; pages++) {
+    const before = await getMeta<string | number>(db, "cursor");
+    const r = await pullOnce(db, fetcher, base);
+    if (!r.more || r.cursor === before || pages >= 10_000) return { ...r, pages };
+  }
+}
+
+/**
+ * One full sync: push everything, send waiting photos, then pull every page. Throws SignedOut on
+ * 401, Offline when there is no answer, ServerBusy when the server asks to come back later (503,
+ * or 429 when this phone or account spent its write budget): what was not acknowledged stays in
+ * the outbox, and the caller waits as asked before the next try. A photo that fails
  * on the server stays waiting for the next sync and does not keep the pull from running.
  */
 export async function syncOnce(db: LocalDb, fetcher: Fetch, base = "") {
@@ -130,7 +147,7 @@ export async function syncOnce(db: LocalDb, fetcher: Fetch, base = "") {
     if (e instanceof SignedOut) throw e;
     return { sent: 0, refused: 0, failed: 1 };
   });
-  const pulled = await pullOnce(db, fetcher, base);
+  const pulled = await pullAll(db, fetcher, base);
   await setMeta(db, "lastSyncAt", Date.now());
   return { pushed, photos, pulled };
 }

@@ -37,6 +37,13 @@ export type MutationArgs<N extends MutationName> = z.output<(typeof MUTATIONS)[N
 
 export const mutationNames = Object.keys(MUTATIONS) as MutationName[];
 
+/**
+ * How many mutations one push may carry, and so the phone's batch: every app ever shipped sent 200
+ * at most, so a longer list is a script, refused whole (422) before anything is read from the
+ * database. A push's cost is bounded by it; the rate of pushes by the write budget (server/sync.ts).
+ */
+export const PUSH_BATCH = 200;
+
 export const pushInput = z.object({
   clientId: idSchema,
   mutations: z
@@ -47,25 +54,35 @@ export const pushInput = z.object({
         args: z.unknown(),
       }),
     )
-    .max(1000, { error: "at most 1000 mutations in one push" })
+    .max(PUSH_BATCH, { error: `at most ${PUSH_BATCH} mutations in one push: send the rest in the next` })
     .refine((ms) => ms.every((m, i) => i === 0 || m.id > ms[i - 1]!.id), { error: "mutation ids must increase" }),
 });
 export type PushInput = z.infer<typeof pushInput>;
 
 /**
- * A pull cursor. Today's is "o:N", N being the owner's change counter (db/versions.ts); the phone
- * keeps it as it came. A bare number is a cursor into the old global counter, which phones may
- * still hold: it is accepted and answered with one full pull.
+ * A pull cursor. Today's is "o:N", N being the owner's change counter (db/versions.ts): every row
+ * stamped at or below N has been pulled. Between the pages of one pull it is "o:N:K:ID": every row
+ * below N, and those at N up to table K's row ID, have been pulled (db/queries/sync.ts). The phone
+ * keeps either as it came. A bare number is a cursor into the old global counter, which phones may
+ * still hold: it is accepted and answered with a full pull.
  */
 export const CURSOR_PREFIX = "o:";
 export const pullInput = z.object({
-  cursor: z.union([z.string().regex(/^o:\d{1,15}$/, { error: 'a cursor looks like "o:123"' }), z.number().int().min(0)]).nullable(),
+  cursor: z.union([z.string().regex(/^o:\d{1,15}(?::[0-9]:[0-9A-Za-z-]{1,36})?$/, { error: 'a cursor looks like "o:123"' }), z.number().int().min(0)]).nullable(),
 });
 export type Cursor = z.infer<typeof pullInput>["cursor"];
 
+/** A name of this table's own (never one every object inherits, such as "constructor"). */
+export function isMutationName(name: string): name is MutationName {
+  return Object.hasOwn(MUTATIONS, name);
+}
+
 /** Parse one mutation's arguments; returns the reason it is refused, or the parsed args. */
 export function parseMutation(name: string, args: unknown): { ok: true; name: MutationName; args: unknown } | { ok: false; reason: string } {
-  if (!(name in MUTATIONS)) return { ok: false, reason: `unknown change "${name}"` };
+  // own properties only: "constructor", "__proto__" or "toString" are names of every object's
+  // prototype, and `in` would find them (OWASP Prototype Pollution Prevention Cheat Sheet; ASVS 5.0
+  // V15 Secure Coding and Architecture)
+  if (!isMutationName(name)) return { ok: false, reason: `unknown change "${name}"` };
   const r = MUTATIONS[name as MutationName].safeParse(args);
   if (!r.success) {
     const i = r.error.issues[0]!;
@@ -73,6 +90,3 @@ export function parseMutation(name: string, args: unknown): { ok: true; name: Mu
   }
   return { ok: true, name: name as MutationName, args: r.data };
 }
-
-/** How many mutations the client sends in one push. */
-export const PUSH_BATCH = 200;

@@ -22,10 +22,16 @@ export class SignedOut extends Error {
   }
 }
 
-/** 503 or 429: nothing was applied; send the same again after retryAfterMs (or later). */
+/**
+ * 503 or 429: nothing was applied; send the same again after retryAfterMs (or later). 429 is this
+ * phone's or account's own budget spent (many changes sent at once), 503 the server saturated.
+ */
 export class ServerBusy extends Error {
-  constructor(readonly retryAfterMs: number | null) {
-    super("the server is busy");
+  constructor(
+    readonly retryAfterMs: number | null,
+    readonly status: 503 | 429 = 503,
+  ) {
+    super(status === 429 ? "too many changes sent at once" : "the server is busy");
     this.name = "ServerBusy";
   }
 }
@@ -68,7 +74,7 @@ export async function send(fetcher: Fetch, url: string, init: RequestInit): Prom
   }
   if (res.ok) return res;
   if (res.status === 401) throw new SignedOut();
-  if (res.status === 503 || res.status === 429) throw new ServerBusy(retryAfterMs(res.headers.get("retry-after")));
+  if (res.status === 503 || res.status === 429) throw new ServerBusy(retryAfterMs(res.headers.get("retry-after")), res.status);
   return res;
 }
 

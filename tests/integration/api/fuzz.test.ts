@@ -107,11 +107,14 @@ function badBody(example: unknown): fc.Arbitrary<Sent> {
   return fc.oneof({ weight: 6, arbitrary: broken }, { weight: 1, arbitrary: notAnObject }, { weight: 1, arbitrary: notJson }, { weight: 1, arbitrary: wrongType }, { weight: 1, arbitrary: tooBig });
 }
 
+// names every JavaScript object inherits: a lookup by `in` or `obj[name]` finds them (issue 24 item 10)
+const PROTOTYPE_NAMES = ["constructor", "__proto__", "toString", "hasOwnProperty", "valueOf", "isPrototypeOf", "propertyIsEnumerable", "toLocaleString", "__defineGetter__", "__lookupSetter__", "prototype"];
+
 const hostileId = fc.oneof(fc.constantFrom("1 OR 1=1", "..%2F..%2Fetc", "%27%3B--", "00000000-0000-0000-0000-00000000000g", "NaN", "-1", "9".repeat(40), "%F0%9F%94%A7"), fc.uuid().map((u) => u.toUpperCase()), fc.uuid());
 
-async function checksum(): Promise<string> {
+async function checksum(except: string[] = []): Promise<string> {
   const c = await rawConnection();
-  const [rows] = await c.query(`CHECKSUM TABLE ${tables.map((t) => `\`${t}\``).join(", ")}`);
+  const [rows] = await c.query(`CHECKSUM TABLE ${tables.filter((t) => !except.includes(t)).map((t) => `\`${t}\``).join(", ")}`);
   await c.end();
   return (rows as { Table: string; Checksum: number }[]).map((r) => `${r.Table}:${r.Checksum}`).join(" ");
 }
@@ -237,5 +240,32 @@ describe("fuzzing the API", () => {
     }
     expect(await checksum()).toBe(before);
     console.log(`[fuzz] ${tried} hostile requests over ${routes.length} routes: every one refused with a 4xx and the error shape; the database unchanged`);
+  });
+
+  it("mutation names that are prototype names or hostile strings: each refused as an unknown change, never a 500, no record changed", { timeout: 300_000 }, async () => {
+    // a push of unknown names is answered 200 with each refused (as the phone expects of any name it
+    // cannot know): the device's row, the refusals and the write budget change, the records do not
+    const bookkeeping = ["sync_clients", "rejected_mutations", "rate_limits"];
+    const before = await checksum(bookkeeping);
+    const args = fc.oneof(fc.constant({}), fc.constant(null), fc.dictionary(fc.constantFrom(...PROTOTYPE_NAMES), fc.oneof(hostileString, fc.constant({ polluted: true })), { maxKeys: 3 }), hostileString);
+    const mutationName = fc.oneof(fc.constantFrom(...PROTOTYPE_NAMES), hostileString.map((t) => t.slice(0, 60)));
+    let sent = 0;
+    await fc.assert(
+      fc.asyncProperty(fc.array(fc.tuple(mutationName, args), { minLength: 1, maxLength: 5 }), async (ms) => {
+        const mutations = ms.map(([name, a], i) => ({ id: i + 1, name, args: a }));
+        const res = await owner.raw("POST", "/api/sync/push", { body: JSON.stringify({ clientId: crypto.randomUUID(), mutations }), headers: { "content-type": "application/json" } });
+        sent++;
+        // many runs (LASHWRIGHT_FUZZ_RUNS) may spend the account's write budget: a 429 is an answer too
+        if (res.status === 429) return void expect(res.headers.get("retry-after")).toMatch(/^\d+$/);
+        expect(res.status, `push of ${JSON.stringify(ms.map(([n]) => n))}`).toBe(200);
+        const json = (await res.json()) as { rejected: { id: number; reason: string }[] };
+        expect(json.rejected.map((r) => r.id)).toEqual(mutations.map((m) => m.id));
+        for (const r of json.rejected) expect(r.reason).toMatch(/^unknown change/);
+      }),
+      { seed: SEED, numRuns: RUNS },
+    );
+    expect(await checksum(bookkeeping)).toBe(before);
+    expect(({} as Record<string, unknown>).polluted).toBeUndefined();
+    console.log(`[fuzz] ${sent} pushes naming prototype names and hostile strings: every mutation refused as unknown, no record changed`);
   });
 });
