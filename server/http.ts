@@ -38,7 +38,9 @@ export function overloadedResponse(message = "The server is busy: try again in a
 
 function domainResponse(e: DomainError) {
   if (e.kind === "overloaded") return overloadedResponse(e.message, e.extra.retryAfterSeconds);
-  return errorResponse(STATUS[e.kind], e.extra.code ?? e.kind, e.message, e.extra.fields);
+  const res = errorResponse(STATUS[e.kind], e.extra.code ?? e.kind, e.message, e.extra.fields);
+  if (e.extra.retryAfterSeconds) res.headers.set("Retry-After", String(e.extra.retryAfterSeconds));
+  return res;
 }
 
 const MAX_BODY_BYTES = 256 * 1024;
