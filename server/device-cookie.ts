@@ -68,11 +68,12 @@ export async function trustedDevice(email: string): Promise<string | null> {
   } catch {
     return null;
   }
-  return (await entries(value)).find((e) => e.email === email)?.nonce ?? null;
+  return (await entries(value)).find((e) => e.email === email.toLowerCase())?.nonce ?? null;
 }
 
 /** After a successful sign-in: a fresh entry for `email` (first), keeping the browser's others. */
-export async function rememberDevice(email: string): Promise<void> {
+export async function rememberDevice(address: string): Promise<void> {
+  const email = address.toLowerCase();
   const key = await macKey();
   if (!key) return;
   const cookies = await jar().catch(() => null);

@@ -12,7 +12,7 @@ import { signInSucceeded } from "./throttle";
  * one the owner uses (device cookie).
  */
 export async function passwordAccepted(u: { id: string; email: string; passwordHash: string | null }, password: string, address: string | null): Promise<void> {
-  await signInSucceeded(u.email, address);
+  await signInSucceeded(u.email.toLowerCase(), address);
   if (u.passwordHash && needsRehash(u.passwordHash)) {
     try {
       await upgradePasswordHash(u.id, u.passwordHash, await hashPassword(password));
