@@ -1,6 +1,10 @@
-// Runs once per server instance: retry queued e-mail notices (every 15 s, sooner if retries are).
+// Runs once per server instance, before Next hands any request to a handler: note each request's
+// socket address, and retry queued e-mail notices (every 15 s, sooner if retries are).
 export async function register() {
   if (process.env.NEXT_RUNTIME !== "nodejs") return;
+  // first: every request after this knows its socket's address (limits per network address)
+  const { installPeerAddress } = await import("./server/peer-address");
+  installPeerAddress();
   const { kickDelivery } = await import("./server/notices");
   const every = Math.min(15, Number(process.env.NOTICE_RETRY_SECONDS ?? 30) || 30) * 1000;
   const timer = setInterval(kickDelivery, every);

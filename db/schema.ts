@@ -147,16 +147,6 @@ export const rateLimits = mysqlTable("rate_limits", {
   expire: bigint("expire", { mode: "number", unsigned: true }),
 });
 
-export const signInAttempts = mysqlTable(
-  "sign_in_attempts",
-  {
-    id: id(),
-    key: varchar("attempt_key", { length: 300 }).notNull(),
-    at: timestamp("at", { fsp: 3 }).notNull().defaultNow(),
-  },
-  (t) => [index("sign_in_attempts_key_at_idx").on(t.key, t.at)],
-);
-
 export const engines = mysqlTable(
   "engines",
   {

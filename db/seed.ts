@@ -2,7 +2,7 @@ import "server-only";
 import { eq } from "drizzle-orm";
 import { fileURLToPath } from "node:url";
 import { bladesFor, clearanceFromFeelers, METRIC_BLADES_MM, planShims, shimSeries, valveNames } from "@/lib/lash";
-import { hashPassword } from "@/lib/auth/password";
+import { hashPassword } from "@/server/password";
 import { closeDb, db, transaction } from "./client";
 import { checks, clubs, comments, engines, memberships, poolOffers, readings, shares, trayItems, users } from "./schema";
 import { nextVersion } from "./versions";

@@ -38,9 +38,9 @@ const envSchema = z.object({
   DB_LOCK_WAIT_SECONDS: z.coerce.number({ error: "DB_LOCK_WAIT_SECONDS must be a whole number from 1 to 60" }).int().min(1).max(60).default(10),
   /**
    * How many reverse proxies in front of the app append to X-Forwarded-For. 0 (no proxy): the header
-   * is the caller's own words and is never believed, so limits per network address are off and only
-   * the limits per account and per e-mail address hold. Behind N proxies the N-th entry from the
-   * right is the caller.
+   * is the caller's own words and is never believed; limits per network address count the address
+   * of the socket the request came in on (server/peer-address.ts). Behind N proxies the N-th entry
+   * from the right is the caller.
    */
   TRUSTED_PROXIES: z.coerce.number().int().min(0).max(10).default(0),
   /**

@@ -41,7 +41,6 @@ export const forbidden = (message = "You may read this but not change it") => ne
 export const conflict = (message: string) => new DomainError("conflict", message);
 export const refused = (message: string) => new DomainError("refused", message);
 export const invalid = (message: string, fields?: Record<string, string>) => new DomainError("invalid", message, { fields });
-export const throttled = (message: string, retryAfterSeconds: number) => new DomainError("throttled", message, { retryAfterSeconds });
 export const overloaded = (message = "The server is busy: try again in a moment", retryAfterSeconds = 2) => new DomainError("overloaded", message, { retryAfterSeconds });
 /** A caller beyond one of its budgets (server/budgets.ts): 429 with Retry-After; nothing of the refused request was done. */
 export const tooMany = (message: string, retryAfterSeconds: number) => new DomainError("throttled", message, { retryAfterSeconds });

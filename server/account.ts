@@ -1,10 +1,11 @@
 import "server-only";
 import { env } from "@/lib/env";
-import { hashPassword, verifyPassword } from "@/lib/auth/password";
+import { hashPassword, verifyPassword } from "./password";
 import { consumeAuthToken, createAuthToken, createUser, getCredentialsByEmail, getCredentialsById, tokenOwner, updateUser, bumpSessionGeneration } from "@/db/queries/users";
 import { queueNotices } from "./notices";
-import { spend, mailThrottled } from "./throttle";
-import { DomainError, invalid } from "@/lib/errors";
+import { mailThrottled } from "./throttle";
+import { budget } from "./budgets";
+import { DomainError, invalid, tooMany } from "@/lib/errors";
 
 /**
  * Account flows that send e-mail. Each answers the same, in the same time, whether or not the address
@@ -14,10 +15,9 @@ import { DomainError, invalid } from "@/lib/errors";
  */
 export const link = (path: string, token: string) => `${env().NEXTAUTH_URL}${path}?token=${encodeURIComponent(token)}`;
 
-const tooMany = () => new DomainError("throttled", "Too many e-mails asked for this address. Wait 15 minutes and try again.");
-
 async function throttleMail(email: string, address: string | null) {
-  if (await mailThrottled(email, address)) throw tooMany();
+  const refused = await mailThrottled(email, address);
+  if (refused) throw tooMany(`Too many e-mails asked for this address. Wait ${Math.ceil(refused.retryAfterSeconds / 60)} minutes and try again.`, refused.retryAfterSeconds);
 }
 
 export async function signUp(input: { email: string; name: string; password: string }, address: string | null = null) {
@@ -57,20 +57,23 @@ async function sendVerification(userId: string, email: string, name: string) {
 
 /** Three confirmation mails per address in 15 minutes at most: enough for a slow inbox, no flood. */
 export const RESEND_LIMIT = { count: 3, windowMinutes: 15 } as const;
+const resends = budget({ name: "mail:resend", points: RESEND_LIMIT.count, seconds: RESEND_LIMIT.windowMinutes * 60 });
 
 /**
  * A new confirmation link for an account not yet confirmed; nothing for any other address, with
  * the same answer. Refused (throttled) when the address has had its share of mails for now.
  */
 export async function resendVerification(email: string): Promise<void> {
-  if (!(await spend(`resend:${email}`, RESEND_LIMIT.count, RESEND_LIMIT.windowMinutes)))
-    throw new DomainError("throttled", `A link was sent to this address a short while ago. Check the inbox (and the spam folder), or ask again in ${RESEND_LIMIT.windowMinutes} minutes.`);
+  const spent = await resends.take(email);
+  if (!spent.ok)
+    throw tooMany(`A link was sent to this address a short while ago. Check the inbox (and the spam folder), or ask again in ${RESEND_LIMIT.windowMinutes} minutes.`, spent.retryAfterSeconds);
   const u = await getCredentialsByEmail(email);
   if (u && !u.emailVerifiedAt) await sendVerification(u.id, email, u.name);
 }
 
 /** Five password tries per account in 15 minutes on the confirmation page; then the link waits. */
 export const VERIFY_TRY_LIMIT = { count: 5, windowMinutes: 15 } as const;
+const verifyTries = budget({ name: "verify:account", points: VERIFY_TRY_LIMIT.count, seconds: VERIFY_TRY_LIMIT.windowMinutes * 60 });
 
 /**
  * Confirms an address. The link proves the mailbox; the password proves that whoever holds the
@@ -87,8 +90,8 @@ export async function verifyEmail(token: string, password: string | undefined): 
   if (!u) throw bad();
   if (u.passwordHash) {
     if (!password) throw invalid("Enter the password you chose when you signed up", { password: "missing: the one you chose when you signed up" });
-    if (!(await spend(`verify:${userId}`, VERIFY_TRY_LIMIT.count, VERIFY_TRY_LIMIT.windowMinutes)))
-      throw new DomainError("throttled", `Too many tries. Wait ${VERIFY_TRY_LIMIT.windowMinutes} minutes, or choose a new password instead.`);
+    const spent = await verifyTries.take(userId);
+    if (!spent.ok) throw tooMany(`Too many tries. Wait ${VERIFY_TRY_LIMIT.windowMinutes} minutes, or choose a new password instead.`, spent.retryAfterSeconds);
     if (!(await verifyPassword(password, u.passwordHash)))
       throw invalid("That is not the password this account was made with", { password: "not the password chosen at sign-up" });
   }

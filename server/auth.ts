@@ -4,15 +4,17 @@ import { decode } from "next-auth/jwt";
 import Credentials from "next-auth/providers/credentials";
 import { env } from "@/lib/env";
 import { emailSchema, tokenSchema } from "@/lib/schemas/account";
-import { hashPassword, verifyPassword } from "@/lib/auth/password";
+import { dummyHash, verifyPassword } from "./password";
 import { bumpSessionGeneration, consumeAuthToken, getCredentialsByEmail, getPublicUser, getSessionGeneration, getSessionUser, type PublicUser } from "@/db/queries/users";
-import { clientAddress, signInThrottled, signInSucceeded } from "./throttle";
+import { clientAddress, signInThrottled } from "./throttle";
+import { passwordAccepted } from "./sign-in";
+import { rememberDevice } from "./device-cookie";
 import { proveAddress } from "./account";
 
 export type SessionUser = PublicUser;
 
 /** Sign-in errors the sign-in page knows how to explain (next-auth passes the message through). */
-export const SIGN_IN_ERRORS = { throttled: "Throttled", unverified: "Unverified", signedInAsOther: "SignedInAsOther" } as const;
+export const SIGN_IN_ERRORS = { throttled: "Throttled", unverified: "Unverified", signedInAsOther: "SignedInAsOther", busy: "Busy" } as const;
 
 const SESSION_COOKIE = { secure: "__Secure-next-auth.session-token", plain: "next-auth.session-token" } as const;
 /**
@@ -41,12 +43,13 @@ export const authOptions: NextAuthOptions = {
         const password = typeof credentials?.password === "string" ? credentials.password : "";
         if (!email.success || password.length === 0 || password.length > 256) return null;
         // counted before the password is checked, so a burst sent at once gets no more tries
-        if (await signInThrottled(email.data, clientAddress(req?.headers as Record<string, string> | undefined))) throw new Error(SIGN_IN_ERRORS.throttled);
+        const address = clientAddress(req?.headers as Record<string, string> | undefined);
+        if (await signInThrottled(email.data, address)) throw new Error(SIGN_IN_ERRORS.throttled);
         const u = await getCredentialsByEmail(email.data);
         const ok = await verifyPassword(password, u?.passwordHash ?? (await dummy()));
         if (!u || !ok) return null;
         if (!u.emailVerifiedAt) throw new Error(SIGN_IN_ERRORS.unverified);
-        await signInSucceeded(email.data);
+        await passwordAccepted(u, password, address);
         return { id: u.id, email: u.email, name: u.name, generation: u.sessionGeneration };
       },
     }),
@@ -69,6 +72,7 @@ export const authOptions: NextAuthOptions = {
         const u = await getPublicUser(userId);
         const generation = await getSessionGeneration(userId);
         if (!u || generation === undefined) return null;
+        await rememberDevice(u.email);
         return { id: u.id, email: u.email, name: u.name, generation };
       },
     }),
@@ -120,9 +124,7 @@ async function userFromSessionToken(raw: string | undefined): Promise<SessionUse
   return user;
 }
 
-let dummyHash: Promise<string> | undefined;
 /** A real hash to compare against when the account does not exist, so timing tells nothing. */
 function dummy(): Promise<string> {
-  dummyHash ??= hashPassword(crypto.randomUUID());
-  return dummyHash;
+  return dummyHash();
 }

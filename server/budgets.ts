@@ -1,4 +1,5 @@
 import "server-only";
+import { createHash } from "node:crypto";
 import { RateLimiterMemory, RateLimiterMySQL, RateLimiterRes } from "rate-limiter-flexible";
 import { env } from "@/lib/env";
 import { pool } from "@/db/client";
@@ -38,6 +39,9 @@ function databaseName(): string {
 
 const made = new Map<string, Budget>();
 
+/** rate_limits.key is 255 characters and holds the name too: a long key (an e-mail address may be 254) is counted by its hash. */
+const short = (key: string) => (key.length <= 160 ? key : `#${createHash("sha256").update(key).digest("base64url")}`);
+
 export function budget(spec: BudgetSpec): Budget {
   const existing = made.get(spec.name);
   if (existing) return existing;
@@ -55,14 +59,17 @@ export function budget(spec: BudgetSpec): Budget {
       keyPrefix: spec.name,
       points: spec.points,
       duration: spec.seconds,
-      inMemoryBlockOnConsumed: spec.points,
+      // blocked in memory once a take is refused (consumed beyond points), not at the last unit allowed:
+      // a refund (a success, work that did not happen) does not lift a block, so none may be set
+      // while the count is still within the budget
+      inMemoryBlockOnConsumed: spec.points + 1,
       insuranceLimiter: new RateLimiterMemory({ keyPrefix: spec.name, points: spec.points, duration: spec.seconds }),
     }));
   const b: Budget = {
     spec,
     async take(key, cost = 1) {
       try {
-        const r = await get().consume(key, cost);
+        const r = await get().consume(short(key), cost);
         return { ok: true, left: r.remainingPoints };
       } catch (e) {
         if (e instanceof RateLimiterRes) {
@@ -73,10 +80,10 @@ export function budget(spec: BudgetSpec): Budget {
       }
     },
     async refund(key, cost = 1) {
-      await get().reward(key, cost);
+      await get().reward(short(key), cost);
     },
     async reset(key) {
-      await get().delete(key);
+      await get().delete(short(key));
     },
   };
   made.set(spec.name, b);

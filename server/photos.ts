@@ -1,7 +1,7 @@
 import "server-only";
 import { PHOTO_MAX_BYTES, PHOTO_QUOTA_CODE, formatBytes, photoFields, usageLabel, type ApiPhoto, type PhotoFields, type PhotoUsage } from "@/lib/photos/rules";
 import * as q from "@/db/queries/photos";
-import { conflict, DomainError, forbidden, invalid, notFound, overloaded, throttled } from "@/lib/errors";
+import { conflict, DomainError, forbidden, invalid, notFound, overloaded, tooMany } from "@/lib/errors";
 import { env } from "@/lib/env";
 import { db, type Executor } from "@/db/client";
 import { mysqlErrorCode } from "@/db/errors";
@@ -118,7 +118,7 @@ export async function uploadPhoto(user: SessionUser, checkId: string, body: { by
   const spent = await uploadBudget().take(user.id);
   if (!spent.ok) {
     const minutes = Math.ceil(spent.retryAfterSeconds / 60);
-    throw throttled(`You have sent ${uploadBudget().spec.points} photos in the last hour, the most an hour allows: the rest wait on your phone and are sent in ${minutes} minute${minutes === 1 ? "" : "s"}.`, spent.retryAfterSeconds);
+    throw tooMany(`You have sent ${uploadBudget().spec.points} photos in the last hour, the most an hour allows: the rest wait on your phone and are sent in ${minutes} minute${minutes === 1 ? "" : "s"}.`, spent.retryAfterSeconds);
   }
   const giveBack = () => uploadBudget().refund(user.id).catch(() => undefined);
   let img: Prepared;

@@ -19,6 +19,7 @@ const MESSAGES: Record<string, string> = {
   CredentialsSignin: "That e-mail and password do not match an account.",
   Throttled: "Too many failed attempts. Wait 15 minutes, or sign in with an e-mail link.",
   Unverified: "Confirm your e-mail first: open the link we sent when you signed up.",
+  Busy: "Too many people are signing in right now. Try again in a moment.",
 };
 
 

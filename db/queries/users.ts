@@ -86,3 +86,11 @@ export async function tokenOwner(raw: string, purpose: TokenPurpose): Promise<st
 }
 
 export { hashToken };
+
+/**
+ * Replace a password hash by a stronger one of the same password (at sign-in), only if it is still
+ * the hash that was checked: a password changed meanwhile is never overwritten by the old one.
+ */
+export async function upgradePasswordHash(id: string, checked: string, stronger: string): Promise<void> {
+  await db().update(users).set({ passwordHash: stronger }).where(and(eq(users.id, id), eq(users.passwordHash, checked)));
+}

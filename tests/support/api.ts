@@ -1,3 +1,46 @@
+import net from "node:net";
+
+/**
+ * Each Client talks from an address of its own, as each phone would: Linux answers the whole of
+ * 127.0.0.0/8 on the loopback, so a Client binds its sockets to a random 127.x.y.z and the server's
+ * limits per network address (the socket's address) see one caller per Client, not one for the
+ * whole suite. Pass `from` to make several Clients one address (a flood from one place).
+ * Node's fetch is undici, whose Agent class is not exported: it is taken from the global dispatcher
+ * fetch installs on first use, and given a connector that binds the local address.
+ */
+type Dispatcher = { close(): Promise<void> };
+type Connector = (opts: { hostname: string; port: string }, cb: (err: Error | null, socket: net.Socket | null) => void) => void;
+let Agent: (new (o: { connect: Connector }) => Dispatcher) | undefined;
+const agents = new Map<string, Dispatcher>();
+
+async function dispatcherFrom(localAddress: string): Promise<Dispatcher> {
+  if (!Agent) {
+    await fetch("data:,");
+    Agent = ((globalThis as Record<symbol, unknown>)[Symbol.for("undici.globalDispatcher.1")] as { constructor: typeof Agent }).constructor;
+  }
+  let a = agents.get(localAddress);
+  if (!a) {
+    a = new Agent!({
+      connect: (opts, cb) => {
+        const s = net.connect({ host: opts.hostname, port: Number(opts.port), localAddress });
+        const fail = (e: Error) => cb(e, null);
+        s.once("error", fail);
+        s.once("connect", () => (s.off("error", fail), s.setNoDelay(true), cb(null, s)));
+      },
+    });
+    agents.set(localAddress, a);
+  }
+  return a;
+}
+
+const byte = (lo: number, hi: number) => lo + Math.floor(Math.random() * (hi - lo + 1));
+/** A random loopback address for a Client of a loopback server over plain HTTP, else null. */
+export function loopbackAddress(base: string): string | null {
+  const u = new URL(base);
+  if (u.protocol !== "http:" || !["127.0.0.1", "localhost"].includes(u.hostname)) return null;
+  return `127.${byte(1, 254)}.${byte(0, 255)}.${byte(1, 254)}`;
+}
+
 /** Status and parsed body (or the text, when it is not JSON). */
 async function answer(res: Response) {
   const text = await res.text();
@@ -13,7 +56,15 @@ async function answer(res: Response) {
 /** A tiny HTTP client with a cookie jar, signing in through next-auth like a browser does. */
 export class Client {
   private cookies = new Map<string, string>();
-  constructor(readonly base: string) {}
+  constructor(
+    readonly base: string,
+    /** the local address this Client's requests come from (null: the system's choice) */
+    readonly from: string | null = loopbackAddress(base),
+  ) {}
+
+  private async via() {
+    return this.from ? { dispatcher: await dispatcherFrom(this.from) } : {};
+  }
 
   private remember(res: Response) {
     for (const c of res.headers.getSetCookie()) {
@@ -40,7 +91,7 @@ export class Client {
   }
 
   async raw(method: string, path: string, init: { body?: BodyInit; headers?: Record<string, string> } = {}) {
-    const res = await fetch(this.base + path, { method, redirect: "manual", headers: { ...this.origin(), ...(init.headers ?? {}) }, body: init.body, duplex: "half" } as RequestInit);
+    const res = await fetch(this.base + path, { method, redirect: "manual", headers: { ...this.origin(), ...(init.headers ?? {}) }, body: init.body, duplex: "half", ...(await this.via()) } as unknown as RequestInit);
     this.remember(res);
     return res;
   }
@@ -51,7 +102,7 @@ export class Client {
 
   /** A multipart form, as the phone sends photos. */
   async form(method: string, path: string, form: FormData) {
-    const res = await fetch(this.base + path, { method, redirect: "manual", headers: this.origin(), body: form });
+    const res = await fetch(this.base + path, { method, redirect: "manual", headers: this.origin(), body: form, ...(await this.via()) } as RequestInit);
     this.remember(res);
     return answer(res);
   }

@@ -50,8 +50,8 @@ describe("accounts through the API and the local mail catcher", () => {
     const db = await rawConnection();
     const [rows] = await db.query("SELECT password_hash FROM users WHERE email = ?", [email]);
     await db.end();
-    // bcrypt at cost 12 (OWASP Password Storage Cheat Sheet: at least 10)
-    expect((rows as { password_hash: string }[])[0]!.password_hash).toMatch(/^\$2[aby]\$12\$/);
+    // Argon2id at the OWASP Password Storage Cheat Sheet's parameters (m = 19456 KiB, t = 2, p = 1)
+    expect((rows as { password_hash: string }[])[0]!.password_hash).toMatch(/^\$argon2id\$v=19\$m=19456,t=2,p=1\$/);
   });
 
   it("signs in by an e-mail link, once", async () => {

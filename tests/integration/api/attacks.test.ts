@@ -1,4 +1,3 @@
-import bcrypt from "bcryptjs";
 import { readFileSync } from "node:fs";
 import mysql from "mysql2/promise";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
@@ -8,6 +7,7 @@ import { addMembership, ENGINE_FOUR, makeUser } from "../../support/fixtures";
 import { cameraJpeg, photoForm, storedKeys } from "../../support/photos";
 import { inbox, linkToken, waitForMail } from "../../support/mail";
 import { startApp, type App } from "../../support/server";
+import { hashPassword } from "@/server/password";
 
 /**
  * What an attacker tries first, one test per attack (issue 15). References beside each:
@@ -22,12 +22,12 @@ afterAll(() => app?.stop());
 
 const fresh = (tag: string) => `${tag}-${crypto.randomUUID().slice(0, 8)}@test.example`;
 
-/** A verified user whose password is hashed at the app's real cost (12), so a check takes real time. */
+/** A verified user whose password is hashed as the app hashes (server/password.ts), so a check takes real time. */
 async function userAtRealCost(tag: string) {
   const email = fresh(tag);
   const password = "right-password-12";
   const c = await mysql.createConnection({ uri: testDbUrl() });
-  await c.query("INSERT INTO users (id, email, name, password_hash, email_verified_at) VALUES (UUID(), ?, ?, ?, NOW(3))", [email, `Test ${tag}`, await bcrypt.hash(password, 12)]);
+  await c.query("INSERT INTO users (id, email, name, password_hash, email_verified_at) VALUES (UUID(), ?, ?, ?, NOW(3))", [email, `Test ${tag}`, await hashPassword(password)]);
   await c.end();
   return { email, password };
 }

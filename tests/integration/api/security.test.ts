@@ -110,7 +110,7 @@ describe("sessions and passwords", () => {
     }
   });
 
-  it("passwords: 8 to 128 characters, common ones refused, stored as bcrypt at cost 12", async () => {
+  it("passwords: 8 to 128 characters, common ones refused, stored as Argon2id (m=19456 KiB, t=2, p=1)", async () => {
     const c = new Client(app.url);
     const tryPw = async (password: string) => (await c.post("/api/account/sign-up", { email: `pw-${crypto.randomUUID().slice(0, 8)}@test.example`, name: "Pw Test", password })).status;
     expect(await tryPw("seven77")).toBe(422);
@@ -125,7 +125,8 @@ describe("sessions and passwords", () => {
     const db = await rawConnection();
     const [rows] = await db.query("SELECT password_hash FROM users WHERE email = ?", [email]);
     await db.end();
-    expect((rows as { password_hash: string }[])[0]!.password_hash).toMatch(/^\$2[aby]\$12\$[./A-Za-z0-9]{53}$/);
+    // OWASP Password Storage Cheat Sheet: Argon2id, 19 MiB, 2 passes, 1 lane; a 16-byte salt and a 32-byte hash
+    expect((rows as { password_hash: string }[])[0]!.password_hash).toMatch(/^\$argon2id\$v=19\$m=19456,t=2,p=1\$[A-Za-z0-9+/]{22}\$[A-Za-z0-9+/]{43}$/);
   });
 
   it("no secret reaches a response or the server's log", async () => {

@@ -1,9 +1,9 @@
 import { writeFileSync, mkdirSync } from "node:fs";
 import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import bcrypt from "bcryptjs";
 import type { RowDataPacket } from "mysql2";
 import { retryDelay } from "@/lib/sync/transport";
+import { hashPassword } from "@/server/password";
 import { Client } from "../../support/api";
 import { rawConnection } from "../../support/db";
 import { giveUp, Phone, sessionCookie, sleep, Stats, table, type Mutation } from "../../support/load";
@@ -26,8 +26,6 @@ const SUSTAIN_S = Number(process.env.LASHWRIGHT_LOAD_SUSTAIN_SECONDS ?? 20);
 const POOL = process.env.LASHWRIGHT_LOAD_POOL_SIZE ?? "10";
 // the direct part runs the server's own code in this process (set 0 to load an older server alone)
 const DIRECT = process.env.LASHWRIGHT_LOAD_DIRECT !== "0";
-// production's cost (lib/auth/password.ts), so signing in costs what it costs for real accounts
-const BCRYPT_COST = 12;
 const MENTORS = Math.max(2, Math.round(PHONES * 0.1));
 const MEMBERS = Math.max(5, Math.round(PHONES * 0.2));
 const MECHANICS = PHONES - MENTORS - MEMBERS;
@@ -155,7 +153,8 @@ function mentorWork(t: { checkId: string; shareId: string; comments: string[]; v
 }
 
 beforeAll(async () => {
-  const hash = await bcrypt.hash(PASSWORD, BCRYPT_COST);
+  // production's hash (server/password.ts), so signing in costs what it costs for real accounts
+  const hash = await hashPassword(PASSWORD);
   const [founder] = await makeUsers(1, "night-founder", hash);
   lender = founder!;
   clubId = uuid();
@@ -367,7 +366,7 @@ describe(`club night: ${PHONES} phones (${MECHANICS} mechanics, ${MENTORS} mento
     giveUp.at = performance.now() + Number(process.env.LASHWRIGHT_LOAD_GIVE_UP_SECONDS ?? SUSTAIN_S + 300) * 1000;
     await burst();
     // a fresh sign-in right after the burst, by someone who was not part of it
-    const [late] = await makeUsers(1, "night-late", await bcrypt.hash(PASSWORD, BCRYPT_COST));
+    const [late] = await makeUsers(1, "night-late", await hashPassword(PASSWORD));
     const t0 = performance.now();
     const lateError = await new Client(app.url).signIn("password", { email: late!.email, password: PASSWORD });
     freshSignInMs = performance.now() - t0;

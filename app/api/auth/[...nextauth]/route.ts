@@ -1,6 +1,7 @@
 import NextAuth from "next-auth";
 import { NextRequest, NextResponse } from "next/server";
-import { authOptions } from "@/server/auth";
+import { authOptions, SIGN_IN_ERRORS } from "@/server/auth";
+import { hashRefusals, type HashWatch } from "@/server/password";
 import { BodyTooLarge, readBody, sameOriginRefusal } from "@/server/request-guard";
 
 const handler = NextAuth(authOptions);
@@ -18,7 +19,16 @@ async function post(req: NextRequest, ctx: { params: Promise<{ nextauth: string[
     if (e instanceof BodyTooLarge) return NextResponse.json({ error: { code: "too_large", message: e.message } }, { status: 413 });
     throw e;
   }
-  return handler(new NextRequest(req.url, { method: "POST", headers: req.headers, body }), ctx);
+  const hashing: HashWatch = { retryAfterSeconds: null, undo: [] };
+  const res: Response = await hashRefusals.run(hashing, () => handler(new NextRequest(req.url, { method: "POST", headers: req.headers, body }), ctx));
+  if (hashing.retryAfterSeconds === null) return res;
+  await Promise.all(hashing.undo.map((f) => f()));
+  // The password could not be checked: the hashing queue was full. 503 with Retry-After (the tries
+  // counted for it were given back), with the url next-auth's client reads the error from ("Busy" on the page).
+  const url = new URL("/sign-in", req.nextUrl.origin);
+  url.searchParams.set("error", SIGN_IN_ERRORS.busy);
+  const message = "Too many sign-ins at once: try again in a moment";
+  return NextResponse.json({ error: { code: "overloaded", message }, url: url.toString() }, { status: 503, headers: { "Retry-After": String(hashing.retryAfterSeconds) } });
 }
 
 export { handler as GET, post as POST };
