@@ -1,7 +1,7 @@
 import "server-only";
 import { env } from "@/lib/env";
 import { hashPassword, verifyPassword } from "./password";
-import { consumeAuthToken, createAuthToken, createUser, getCredentialsByEmail, getCredentialsById, tokenOwner, updateUser, bumpSessionGeneration } from "@/db/queries/users";
+import { consumeAuthToken, createAuthToken, createUser, getCredentialsByEmail, getCredentialsById, tokenOwner, updateUser, bumpSessionGeneration, voidAuthTokens } from "@/db/queries/users";
 import { queueNotices } from "./notices";
 import { mailThrottled } from "./throttle";
 import { budget } from "./budgets";
@@ -111,6 +111,7 @@ export async function proveAddress(userId: string): Promise<void> {
   const u = await getCredentialsById(userId);
   if (!u || u.emailVerifiedAt) return;
   await updateUser(userId, { emailVerifiedAt: new Date(), passwordHash: null });
+  await voidAuthTokens(userId);
   await bumpSessionGeneration(userId);
   if (!u.passwordHash) return;
   await queueNotices([
@@ -130,11 +131,15 @@ export async function requestPasswordReset(email: string, address: string | null
   await queueNotices([{ toEmail: email, kind: "reset", subject: "", body: "" }]);
 }
 
-/** A new password ends every existing session (the generation goes up) and proves the address. */
+/**
+ * A new password ends every existing session (the generation goes up), voids every other link still
+ * pending for the account (reset, sign-in, confirmation), and proves the address.
+ */
 export async function resetPassword(token: string, password: string): Promise<boolean> {
   const userId = await consumeAuthToken(token, "reset");
   if (!userId || userId === "other") return false;
   await updateUser(userId, { passwordHash: await hashPassword(password), emailVerifiedAt: new Date() });
+  await voidAuthTokens(userId);
   await bumpSessionGeneration(userId);
   return true;
 }

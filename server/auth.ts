@@ -14,7 +14,10 @@ import { proveAddress } from "./account";
 export type SessionUser = PublicUser;
 
 /** Sign-in errors the sign-in page knows how to explain (next-auth passes the message through). */
-export const SIGN_IN_ERRORS = { throttled: "Throttled", unverified: "Unverified", signedInAsOther: "SignedInAsOther", busy: "Busy" } as const;
+export const SIGN_IN_ERRORS = { throttled: "Throttled", signedInAsOther: "SignedInAsOther", busy: "Busy" } as const;
+
+/** next-auth's answer to a cookie minted under an older session generation (thrown, so it clears it). */
+const SESSION_REVOKED = "SessionRevoked";
 
 const SESSION_COOKIE = { secure: "__Secure-next-auth.session-token", plain: "next-auth.session-token" } as const;
 /**
@@ -47,8 +50,10 @@ export const authOptions: NextAuthOptions = {
         if (await signInThrottled(email.data, address)) throw new Error(SIGN_IN_ERRORS.throttled);
         const u = await getCredentialsByEmail(email.data);
         const ok = await verifyPassword(password, u?.passwordHash ?? (await dummy()));
-        if (!u || !ok) return null;
-        if (!u.emailVerifiedAt) throw new Error(SIGN_IN_ERRORS.unverified);
+        // An address not yet confirmed answers like a wrong password: a sign-up followed by a sign-in
+        // with the same password must not tell a new address from one that has an account (OWASP ASVS
+        // 5.0 V6 Authentication: no account enumeration). The sign-in page's one message covers both.
+        if (!u || !ok || !u.emailVerifiedAt) return null;
         await passwordAccepted(u, password, address);
         return { id: u.id, email: u.email, name: u.name, generation: u.sessionGeneration };
       },
@@ -82,7 +87,11 @@ export const authOptions: NextAuthOptions = {
       if (user) {
         token.uid = user.id;
         token.gen = (user as { generation?: number }).generation ?? 0;
+        return token;
       }
+      // next-auth's own readings of the cookie (its session answer, an update) check the generation
+      // as currentUser() does: a revoked cookie shows no name (OWASP ASVS 5.0 V7 Session Management)
+      if (typeof token.uid !== "string" || (await getSessionGeneration(token.uid)) !== token.gen) throw new Error(SESSION_REVOKED);
       return token;
     },
     async session({ session, token }) {
@@ -92,16 +101,30 @@ export const authOptions: NextAuthOptions = {
   },
   events: {
     async signOut({ token }) {
-      if (token?.uid) await bumpSessionGeneration(token.uid as string);
+      // only a session still current ends the others: a revoked cookie (a lost phone after a new
+      // password) must not sign its owner out everywhere whenever it likes
+      if (typeof token?.uid === "string" && typeof token.gen === "number") await bumpSessionGeneration(token.uid, token.gen);
     },
   },
 };
 
-/** The signed-in user, checked against the database on every call (deleted or signed out: null). */
-export async function currentUser(): Promise<SessionUser | null> {
+/**
+ * A session cookie read against the database: a user; nobody (no cookie, not ours, expired); or
+ * revoked: signed by us but minted under an older session generation (a sign-out everywhere, a new
+ * password) or for an account that is gone. A phone told "revoked" wipes its local copy.
+ */
+export type SessionCheck = { user: SessionUser; revoked: false } | { user: null; revoked: boolean };
+
+/** The request's session, checked against the database on every call. */
+export async function currentSession(): Promise<SessionCheck> {
   const { cookies } = await import("next/headers");
   const jar = await cookies();
-  return userFromSessionToken(jar.get(sessionCookieName())?.value);
+  return sessionFromToken(jar.get(sessionCookieName())?.value);
+}
+
+/** The signed-in user, checked against the database on every call (deleted or signed out: null). */
+export async function currentUser(): Promise<SessionUser | null> {
+  return (await currentSession()).user;
 }
 
 function readCookie(header: string, name: string): string | undefined {
@@ -113,15 +136,19 @@ function readCookie(header: string, name: string): string | undefined {
 }
 
 async function userFromSessionToken(raw: string | undefined): Promise<SessionUser | null> {
+  return (await sessionFromToken(raw)).user;
+}
+
+async function sessionFromToken(raw: string | undefined): Promise<SessionCheck> {
   const secret = authOptions.secret;
-  if (!raw || !secret) return null;
+  if (!raw || !secret) return { user: null, revoked: false };
   const t = await decode({ token: raw, secret }).catch(() => null);
-  if (typeof t?.uid !== "string" || typeof t.gen !== "number") return null;
+  if (typeof t?.uid !== "string" || typeof t.gen !== "number") return { user: null, revoked: false };
   const u = await getSessionUser(t.uid);
-  if (!u || u.generation !== t.gen) return null;
+  if (!u || u.generation !== t.gen) return { user: null, revoked: true };
   const { generation: _generation, ...user } = u;
   void _generation;
-  return user;
+  return { user, revoked: false };
 }
 
 /** A real hash to compare against when the account does not exist, so timing tells nothing. */

@@ -5,7 +5,8 @@ import { LashInputError } from "@/lib/lash";
 import { ID_PATTERN } from "@/lib/schemas/records";
 import { domainErrorOf, type DomainError, type DomainErrorKind } from "@/lib/errors";
 import { isTransientDbError } from "@/db/errors";
-import { currentUser, type SessionUser } from "./auth";
+import { SESSION_REVOKED_CODE } from "@/lib/sync/transport";
+import { currentSession, type SessionUser } from "./auth";
 import { contentTypeRefusal, readBody, sameOriginRefusal } from "./request-guard";
 
 /**
@@ -81,8 +82,10 @@ export function route<P extends z.ZodType = z.ZodType<Record<string, never>>, Q 
     try {
       const crossSite = sameOriginRefusal(req);
       if (crossSite) throw crossSite;
-      const user = await currentUser();
-      if (opts.auth !== false && !user) return errorResponse(401, "unauthorized", "Sign in first");
+      const { user, revoked } = await currentSession();
+      // "revoked" tells a phone that its session was ended elsewhere, so it wipes its local copy
+      // (lib/sync/client.ts); only a cookie signed by us can earn it (OWASP ASVS 5.0 V7)
+      if (opts.auth !== false && !user) return revoked ? errorResponse(401, SESSION_REVOKED_CODE, "This session was ended (signed out everywhere, or a new password): sign in again") : errorResponse(401, "unauthorized", "Sign in first");
       const rawParams = ctx?.params ? await ctx.params : {};
       const params = opts.params ? opts.params.safeParse(rawParams) : { success: true as const, data: rawParams };
       // A malformed id is just an id that names nothing.

@@ -4,8 +4,11 @@ import { useState } from "react";
 import { ApiFailure, mutations } from "@/lib/api/client";
 import { Button } from "@/components/ui/controls";
 
-/** "Send the link again" for an address not yet confirmed; the server limits how often. */
-export function ResendLink({ email }: { email: string }) {
+/**
+ * "Send the link again" for an address not yet confirmed; the server limits how often. With
+ * `unsure` (the sign-in page, which must not know whether the address waits), the outcome says so.
+ */
+export function ResendLink({ email, unsure = false }: { email: string; unsure?: boolean }) {
   const [state, setState] = useState<{ kind: "idle" | "sending" | "sent" | "failed"; message?: string }>({ kind: "idle" });
   const send = async () => {
     setState({ kind: "sending" });
@@ -23,7 +26,7 @@ export function ResendLink({ email }: { email: string }) {
       </Button>
       {/* one polite region for the outcome, so a screen reader hears it after the tap */}
       <p role="status" className="text-ink-soft">
-        {state.kind === "sent" && `Sent again to ${email}. It can take a minute; look in the spam folder too.`}
+        {state.kind === "sent" && `Sent again to ${email}${unsure ? " if that address waits for confirmation" : ""}. It can take a minute; look in the spam folder too.`}
         {state.kind === "failed" && state.message}
       </p>
     </div>

@@ -15,10 +15,14 @@ import { safeNext } from "@/lib/auth/safe-next";
 
 const schema = z.object({ email: emailSchema, password: z.string().min(1, { error: "enter your password" }) });
 
+/**
+ * One answer for a wrong password and for an address not yet confirmed, so a sign-up followed by a
+ * sign-in cannot tell which addresses have accounts (OWASP ASVS 5.0 V6 Authentication). The message
+ * names both, so a newcomer who has not opened the mail yet knows what to do.
+ */
 const MESSAGES: Record<string, string> = {
-  CredentialsSignin: "That e-mail and password do not match an account.",
+  CredentialsSignin: "That e-mail and password do not match an account. Signed up just now? Confirm your e-mail first: open the link we sent you, then sign in here.",
   Throttled: "Too many failed attempts. Wait 15 minutes, or sign in with an e-mail link.",
-  Unverified: "Confirm your e-mail first: open the link we sent when you signed up.",
   Busy: "Too many people are signing in right now. Try again in a moment.",
 };
 
@@ -28,7 +32,7 @@ export function SignInForm() {
   const params = useSearchParams();
   const [error, setError] = useState<string | null>(params.get("error") ? (MESSAGES[params.get("error")!] ?? "Sign-in failed.") : null);
   const [sent, setSent] = useState<string | null>(null);
-  // the address that still waits for confirmation, to offer its link again
+  // the address typed, which may be one still waiting for confirmation: its link is offered again
   const [unconfirmed, setUnconfirmed] = useState<string | null>(null);
   const form = useForm<z.input<typeof schema>, unknown, z.output<typeof schema>>({ resolver: zodResolver(schema), defaultValues: { email: "", password: "" } });
   const { errors, isSubmitting } = form.formState;
@@ -40,7 +44,7 @@ export function SignInForm() {
     if (res?.ok && !res.error) router.push(safeNext(params.get("next"), window.location.origin));
     else {
       setError(MESSAGES[res?.error ?? ""] ?? "Sign-in failed. Try again.");
-      if (res?.error === "Unverified") setUnconfirmed(values.email);
+      if (res?.error === "CredentialsSignin") setUnconfirmed(values.email);
     }
   });
 
@@ -53,8 +57,8 @@ export function SignInForm() {
 
   return (
     <form onSubmit={onSubmit} noValidate className="flex flex-col gap-4">
-      {error && <Notice tone="error">{unconfirmed ? `Confirm your e-mail first: open the link we sent to ${unconfirmed} when you signed up.` : error}</Notice>}
-      {unconfirmed && <ResendLink email={unconfirmed} />}
+      {error && <Notice tone="error">{error}</Notice>}
+      {unconfirmed && <ResendLink email={unconfirmed} unsure />}
       {sent && <Notice tone="ok">{sent}</Notice>}
       <Field id="email" label="E-mail" error={errors.email?.message}>
         <input id="email" type="email" autoComplete="email" inputMode="email" className={inputClass} {...form.register("email")} />

@@ -7,7 +7,7 @@ import { del } from "idb-keyval";
 import { usePathname } from "next/navigation";
 import { createContext, useCallback, useContext, useEffect, useMemo, useRef, useState, type ReactNode } from "react";
 import { openLocalDb, getMeta, type LocalDb } from "@/lib/sync/local-db";
-import { Offline, ServerBusy, SignedOut, syncOnce, type Rejected, type SyncState } from "@/lib/sync/client";
+import { Offline, ServerBusy, SessionRevoked, SignedOut, syncOnce, wipeRevoked, type Rejected, type SyncState } from "@/lib/sync/client";
 import { retryDelay } from "@/lib/sync/transport";
 import { useIsClient, useStored } from "@/components/ui/use-stored";
 
@@ -40,10 +40,20 @@ interface LocalContext {
   syncNow: () => Promise<void>;
   /** delete this user's local data and identity from the phone (before signing out) */
   forget: () => Promise<void>;
+  /** the last session here was ended elsewhere: whose it was and how much unsent work it left */
+  revoked: Revoked | null;
+}
+
+/** What the phone says after a session ended elsewhere wiped its copy (no records, only counts). */
+export interface Revoked {
+  email: string;
+  changes: number;
+  photos: number;
 }
 
 const Ctx = createContext<LocalContext | null>(null);
 const USER_KEY = "lashwright.user";
+const REVOKED_KEY = "lashwright.revoked";
 const SYNC_EVERY_MS = 30_000;
 
 function storedUser(): LocalUser | null {
@@ -56,6 +66,7 @@ function storedUser(): LocalUser | null {
 
 export function LocalProvider({ children }: { children: ReactNode }) {
   const [user, storeUser] = useStored<LocalUser | null>(USER_KEY, null);
+  const [revoked, storeRevoked] = useStored<Revoked | null>(REVOKED_KEY, null);
   const ready = useIsClient();
   const [state, setState] = useState<SyncState>("idle");
   const [persisted, setPersisted] = useState<boolean | null>(null);
@@ -68,6 +79,25 @@ export function LocalProvider({ children }: { children: ReactNode }) {
   const busyTries = useRef(0);
   const busyUntil = useRef(0);
 
+  // The session was ended elsewhere: wipe this user's copy, keep the unsent work for their next
+  // sign-in here (lib/sync/client.ts wipeRevoked), drop the kept copies of shared checks and clubs
+  // and the identity, and say what happened. The kept queries' writer is throttled (1 s): a write
+  // already scheduled may land after the first delete, hence the second.
+  const revoke = useCallback(async () => {
+    setState("signed-out");
+    if (!userId) return;
+    const kept = db ? await wipeRevoked(db).catch(() => ({ changes: 0, photos: 0 })) : { changes: 0, photos: 0 };
+    storeRevoked({ email: user?.email ?? "", ...kept });
+    storeUser(null);
+    const cache = `lashwright-cache-${userId}`;
+    await del(cache).catch(() => undefined);
+    setTimeout(() => void del(cache).catch(() => undefined), 2_000);
+  }, [db, storeRevoked, storeUser, user?.email, userId]);
+  const revokeNow = useRef(revoke);
+  useEffect(() => {
+    revokeNow.current = revoke;
+  }, [revoke]);
+
   // The identity: the stored one at once, then the server's word when it can be reached, asked
   // again on each new page: if the session now belongs to someone else (a sign-in link opened, a
   // sign-in in another tab), the header, the local database and the sync follow it at once.
@@ -75,11 +105,13 @@ export function LocalProvider({ children }: { children: ReactNode }) {
   const askAgain = path;
   useEffect(() => {
     // next-auth's session answer first: it is 200 with no user when nobody is signed in, so a
-    // visitor's page logs no failed request; only a signed-in phone asks the account route
+    // visitor's page logs no failed request; only a signed-in phone asks the account route. A cookie
+    // minted before a sign-out everywhere or a new password answers { revoked: true }.
     fetch("/api/auth/session", { credentials: "same-origin" })
-      .then(async (res) => ((await res.json().catch(() => ({}))) as { user?: unknown }).user)
-      .then((someone) => (someone ? fetch("/api/account", { credentials: "same-origin" }) : new Response(null, { status: 401 })))
+      .then(async (res) => (await res.json().catch(() => ({}))) as { user?: unknown; revoked?: boolean })
+      .then((s) => (s.revoked ? "revoked" : s.user ? fetch("/api/account", { credentials: "same-origin" }) : new Response(null, { status: 401 })))
       .then(async (res) => {
+        if (res === "revoked") return void revokeNow.current();
         if (res.status === 401) {
           setState("signed-out");
           return;
@@ -89,9 +121,10 @@ export function LocalProvider({ children }: { children: ReactNode }) {
         const prev = storedUser();
         const keep: LocalUser = { id: u.id, name: u.name, email: u.email, displayUnit: u.displayUnit };
         if (!prev || prev.id !== keep.id || prev.name !== keep.name || prev.displayUnit !== keep.displayUnit) storeUser(keep);
+        storeRevoked(null);
       })
       .catch(() => setState("offline"));
-  }, [storeUser, askAgain]);
+  }, [storeUser, storeRevoked, askAgain]);
 
   // Ask the browser to keep our data; the answer is shown in the status line.
   useEffect(() => {
@@ -123,7 +156,8 @@ export function LocalProvider({ children }: { children: ReactNode }) {
             setRetryAt(busyUntil.current);
             setLimited(e.status === 429);
             setState("busy");
-          } else setState(e instanceof SignedOut ? "signed-out" : e instanceof Offline ? "offline" : "error");
+          } else if (e instanceof SessionRevoked) await revokeNow.current();
+          else setState(e instanceof SignedOut ? "signed-out" : e instanceof Offline ? "offline" : "error");
           if (!(e instanceof Offline || e instanceof SignedOut || e instanceof ServerBusy)) console.error("[sync] failed:", e);
           break;
         }
@@ -183,7 +217,7 @@ export function LocalProvider({ children }: { children: ReactNode }) {
     storeUser(null);
   }, [db, storeUser, userId]);
 
-  const value: LocalContext = { user, ready, db, state, retryAt, limited, waiting, lastSyncAt, rejected, persisted, syncNow, forget };
+  const value: LocalContext = { user, ready, db, state, retryAt, limited, waiting, lastSyncAt, rejected, persisted, syncNow, forget, revoked };
   return (
     <Ctx.Provider value={value}>
       <PersistQueries userId={userId ?? null} />

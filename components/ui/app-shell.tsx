@@ -21,7 +21,7 @@ const PLACES = [
  */
 export function AppShell({ title, children, back }: { title: string; children: ReactNode; back?: { href: string; label: string } }) {
   const path = usePathname();
-  const { user, ready, forget, waiting, state } = useLocal();
+  const { user, ready, forget, waiting, state, revoked } = useLocal();
   const signOut = async () => {
     // changes not yet on the server would be lost with the local database: say so first
     if (waiting > 0 && !window.confirm(`${waiting === 1 ? "1 change on this phone is" : `${waiting} changes on this phone are`} not on the server yet. Signing out deletes ${waiting === 1 ? "it" : "them"}. Sign out anyway?`)) return;
@@ -73,6 +73,7 @@ export function AppShell({ title, children, back }: { title: string; children: R
           <p className="text-ink-soft">Checking who is signed in…</p>
         ) : (
           <div className="flex flex-col gap-3">
+            {revoked && <Notice>{revokedText(revoked)}</Notice>}
             <Notice>Sign in once with a signal; after that this phone keeps your work even with none.</Notice>
             <Suspense fallback={<SignInHere path={path} query="" />}>
               <SignInWithQuery path={path} />
@@ -99,6 +100,14 @@ export function AppShell({ title, children, back }: { title: string; children: R
       </nav>
     </div>
   );
+}
+
+/** Why the phone's copy is gone, and where the unsent work waits (lib/sync/client.ts wipeRevoked). */
+function revokedText(r: { email: string; changes: number; photos: number }) {
+  const who = r.email ? ` for ${r.email}` : "";
+  const work = [r.changes && `${r.changes} change${r.changes === 1 ? "" : "s"}`, r.photos && `${r.photos} photo${r.photos === 1 ? "" : "s"}`].filter(Boolean).join(" and ");
+  const kept = work ? ` ${work} made here and not yet sent ${r.changes + r.photos === 1 ? "is" : "are"} kept: sign in again${who} to send them.` : "";
+  return `The session${who} was ended elsewhere (signed out everywhere, or a new password), so this phone's copy of its data was removed.${kept}`;
 }
 
 /** Sign in and come back here, query string included (/check?id=... must survive the round trip). */

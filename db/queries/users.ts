@@ -37,8 +37,10 @@ export async function getSessionGeneration(id: string): Promise<number | undefin
   return u?.g;
 }
 
-export async function bumpSessionGeneration(id: string): Promise<void> {
-  await db().update(users).set({ sessionGeneration: sql`${users.sessionGeneration} + 1` }).where(eq(users.id, id));
+/** Ends every session of the account; with `from`, only if the generation is still that one. */
+export async function bumpSessionGeneration(id: string, from?: number): Promise<void> {
+  const where = from === undefined ? eq(users.id, id) : and(eq(users.id, id), eq(users.sessionGeneration, from));
+  await db().update(users).set({ sessionGeneration: sql`${users.sessionGeneration} + 1` }).where(where);
 }
 
 export async function createUser(input: { email: string; name: string; passwordHash: string }): Promise<string> {
@@ -76,6 +78,15 @@ export async function consumeAuthToken(raw: string, purpose: TokenPurpose, opts:
   if (res.affectedRows !== 1) return null;
   const [row] = await db().select({ userId: authTokens.userId }).from(authTokens).where(eq(authTokens.tokenHash, tokenHash)).limit(1);
   return row?.userId ?? null;
+}
+
+/**
+ * Every link of the account not yet used stops working: a link asked for before a new password
+ * (or before a password was removed) must not outlive it, or whoever read the old mail keeps a way in
+ * (OWASP ASVS 5.0 V6 Authentication: a password change ends pending recovery).
+ */
+export async function voidAuthTokens(userId: string): Promise<void> {
+  await db().delete(authTokens).where(and(eq(authTokens.userId, userId), isNull(authTokens.usedAt)));
 }
 
 /** Whose a usable token is, without using it (the sign-in link page names the account first). */

@@ -1,6 +1,6 @@
 import { PUSH_BATCH } from "./mutations";
 import { uploadPhotos } from "./photos";
-import { Offline, postJson, retryAfterMs, retryDelay, ServerBusy, SignedOut, type Fetch } from "./transport";
+import { Offline, postJson, retryAfterMs, retryDelay, ServerBusy, SessionRevoked, SignedOut, type Fetch } from "./transport";
 import { getMeta, setMeta, type LocalCheck, type LocalComment, type LocalDb, type LocalEngine, type LocalReading, type LocalTrayItem } from "./local-db";
 
 /**
@@ -11,7 +11,7 @@ import { getMeta, setMeta, type LocalCheck, type LocalComment, type LocalDb, typ
  */
 export type SyncState = "idle" | "syncing" | "offline" | "signed-out" | "busy" | "error";
 
-export { Offline, retryAfterMs, retryDelay, ServerBusy, SignedOut };
+export { Offline, retryAfterMs, retryDelay, ServerBusy, SessionRevoked, SignedOut };
 
 export interface Rejected {
   id: number;
@@ -121,6 +121,30 @@ export async function pullOnce(db: LocalDb, fetcher: Fetch, base = ""): Promise<
   return r;
 }
 
+/** What of the phone's data is work not yet on the server, kept through a revoked session. */
+const WORK_META = ["clientId", "nextMutationId", "rejected"];
+
+/**
+ * The session this phone syncs with was ended elsewhere (a sign-out everywhere, a new password, the
+ * account gone): whoever holds the phone now may not be its owner, so the local copy of the user's
+ * records stops being readable here (OWASP ASVS 5.0 V14 Data Protection, V7 Session Management).
+ *
+ * Work not yet on the server is never deleted silently (DESIGN 6): the outbox, photos not sent (or
+ * refused, with their reason), the refusals and the ids that keep the outbox's order (clientId,
+ * nextMutationId) stay, in this user's own database, and are sent when the same user signs in again
+ * on this phone (another person signing in opens another database and never sends them). Everything
+ * else goes: the engines, checks, readings, tray, comments, photos already sent and the pull cursor,
+ * so the next sign-in pulls a full copy. Returns how much unsent work was kept.
+ */
+export async function wipeRevoked(db: LocalDb): Promise<{ changes: number; photos: number }> {
+  return db.transaction("rw", [db.engines, db.checks, db.readings, db.tray, db.comments, db.photos, db.meta, db.outbox], async () => {
+    await Promise.all([db.engines.clear(), db.checks.clear(), db.readings.clear(), db.tray.clear(), db.comments.clear()]);
+    await db.photos.where("state").equals("sent").delete();
+    await db.meta.where("key").noneOf(WORK_META).delete();
+    return { changes: await db.outbox.count(), photos: await db.photos.count() };
+  });
+}
+
 /**
  * Pull page after page until the server says there is no more. Each page is saved with its cursor
  * before the next is asked for, so a pull cut short by a lost signal goes on from there next time.
@@ -138,16 +162,22 @@ export async function pullAll(db: LocalDb, fetcher: Fetch, base = ""): Promise<P
  * One full sync: push everything, send waiting photos, then pull every page. Throws SignedOut on
  * 401, Offline when there is no answer, ServerBusy when the server asks to come back later (503,
  * or 429 when this phone or account spent its write budget): what was not acknowledged stays in
- * the outbox, and the caller waits as asked before the next try. A photo that fails
- * on the server stays waiting for the next sync and does not keep the pull from running.
+ * the outbox, and the caller waits as asked before the next try. A photo that fails on the server
+ * stays waiting for the next sync and does not keep the pull from running. A session ended
+ * elsewhere (SessionRevoked) wipes the local copy first and keeps the unsent work.
  */
 export async function syncOnce(db: LocalDb, fetcher: Fetch, base = "") {
-  const pushed = await pushAll(db, fetcher, base);
-  const photos = await uploadPhotos(db, fetcher, base).catch((e: unknown) => {
-    if (e instanceof SignedOut) throw e;
-    return { sent: 0, refused: 0, failed: 1 };
-  });
-  const pulled = await pullAll(db, fetcher, base);
-  await setMeta(db, "lastSyncAt", Date.now());
-  return { pushed, photos, pulled };
+  try {
+    const pushed = await pushAll(db, fetcher, base);
+    const photos = await uploadPhotos(db, fetcher, base).catch((e: unknown) => {
+      if (e instanceof SignedOut) throw e;
+      return { sent: 0, refused: 0, failed: 1 };
+    });
+    const pulled = await pullAll(db, fetcher, base);
+    await setMeta(db, "lastSyncAt", Date.now());
+    return { pushed, photos, pulled };
+  } catch (e) {
+    if (e instanceof SessionRevoked) await wipeRevoked(db);
+    throw e;
+  }
 }

@@ -22,6 +22,20 @@ export class SignedOut extends Error {
   }
 }
 
+/** The code of the server's 401 for a session ended elsewhere (server/http.ts sends it). */
+export const SESSION_REVOKED_CODE = "session_revoked";
+
+/**
+ * A 401 whose session was ended elsewhere (signed out everywhere, a new password, the account gone),
+ * not merely missing or expired: the phone wipes its local copy of that user's data (client.ts).
+ */
+export class SessionRevoked extends SignedOut {
+  constructor() {
+    super("this session was ended elsewhere: sign in again");
+    this.name = "SessionRevoked";
+  }
+}
+
 /**
  * 503 or 429: nothing was applied; send the same again after retryAfterMs (or later). 429 is this
  * phone's or account's own budget spent (many changes sent at once), 503 the server saturated.
@@ -73,7 +87,10 @@ export async function send(fetcher: Fetch, url: string, init: RequestInit): Prom
     throw new Offline(e);
   }
   if (res.ok) return res;
-  if (res.status === 401) throw new SignedOut();
+  if (res.status === 401) {
+    const body = (await res.json().catch(() => null)) as { error?: { code?: unknown } } | null;
+    throw body?.error?.code === SESSION_REVOKED_CODE ? new SessionRevoked() : new SignedOut();
+  }
   if (res.status === 503 || res.status === 429) throw new ServerBusy(retryAfterMs(res.headers.get("retry-after")), res.status);
   return res;
 }

@@ -63,7 +63,7 @@ describe("account takeover by signing up first (ASVS V6 Authentication; NIST SP 
     const owner = new Client(app.url);
     expect((await owner.post("/api/account/verify", { token })).status).toBe(422);
     expect((await owner.post("/api/account/verify", { token, password: "owner-guesses-something" })).status).toBe(422);
-    expect(await new Client(app.url).signIn("password", { email: victim, password: "attacker-chose-this-2" })).toBe("Unverified");
+    expect(await new Client(app.url).signIn("password", { email: victim, password: "attacker-chose-this-2" })).toBe("CredentialsSignin");
     // guessing the sign-up's password through the link is throttled like a sign-in (5 in 15 minutes)
     for (let i = 0; i < 4; i++) expect((await owner.post("/api/account/verify", { token, password: `guess-number-${i}` })).status).toBe(422);
     expect((await owner.post("/api/account/verify", { token, password: "attacker-chose-this-2" })).status).toBe(429);

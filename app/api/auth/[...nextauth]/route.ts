@@ -1,6 +1,6 @@
 import NextAuth from "next-auth";
 import { NextRequest, NextResponse } from "next/server";
-import { authOptions, SIGN_IN_ERRORS } from "@/server/auth";
+import { authOptions, currentSession, SIGN_IN_ERRORS } from "@/server/auth";
 import { hashRefusals, type HashWatch } from "@/server/password";
 import { BodyTooLarge, readBody, sameOriginRefusal } from "@/server/request-guard";
 
@@ -31,4 +31,16 @@ async function post(req: NextRequest, ctx: { params: Promise<{ nextauth: string[
   return NextResponse.json({ error: { code: "overloaded", message }, url: url.toString() }, { status: 503, headers: { "Retry-After": String(hashing.retryAfterSeconds) } });
 }
 
-export { handler as GET, post as POST };
+/**
+ * The phone asks /api/auth/session on every page. A cookie minted before a sign-out everywhere or a
+ * new password shows no user (next-auth's jwt callback refuses it too) and answers { revoked: true },
+ * the phone's signal to wipe its local copy (components/sync/local-provider.tsx). The cookie is left
+ * as it is: it opens nothing, and it keeps telling the phone until the wipe is done.
+ */
+async function get(req: NextRequest, ctx: { params: Promise<{ nextauth: string[] }> }) {
+  if (req.nextUrl.pathname === "/api/auth/session" && (await currentSession()).revoked)
+    return NextResponse.json({ revoked: true }, { headers: { "cache-control": "private, no-cache, no-store" } });
+  return handler(req, ctx);
+}
+
+export { get as GET, post as POST };

@@ -1,0 +1,67 @@
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import type { Browser } from "playwright-core";
+import { signedInClient } from "../support/api";
+import { baseUrl, launch, phoneContext } from "../support/browser";
+import { ENGINE_FOUR, makeUser } from "../support/fixtures";
+
+/**
+ * A phone left signed in after its owner signed out everywhere (issue 24, item 12; OWASP ASVS 5.0
+ * V14 Data Protection, V7 Session Management): at its next contact with the server the phone wipes
+ * its local copy, so the engines are no longer readable on it with the network cut.
+ */
+let browser: Browser;
+beforeAll(async () => {
+  browser = await launch();
+});
+afterAll(() => browser?.close());
+
+describe("a phone whose session was ended elsewhere", () => {
+  it("wipes its copy at its next contact and shows nothing of it offline", async () => {
+    const u = await makeUser("revoked-phone");
+    const pc = await signedInClient(baseUrl(), u);
+    const engineId = crypto.randomUUID();
+    expect((await pc.post("/api/sync/push", { clientId: crypto.randomUUID(), mutations: [{ id: 1, name: "engine.put/1", args: { ...ENGINE_FOUR, id: engineId, name: "Kept-secret four" } }] })).status).toBe(200);
+
+    const ctx = await phoneContext(browser);
+    const page = await ctx.newPage();
+    await page.goto(`${baseUrl()}/sign-in`);
+    await page.getByLabel("E-mail").fill(u.email);
+    await page.getByLabel("Password").fill(u.password);
+    await page.getByRole("button", { name: "Sign in", exact: true }).tap();
+    await page.waitForURL("**/engines");
+    await page.getByText("Kept-secret four").waitFor();
+    // the service worker serves the garage shells offline
+    await page.evaluate(async () => {
+      await navigator.serviceWorker.ready;
+      if (!navigator.serviceWorker.controller) await new Promise((r) => navigator.serviceWorker.addEventListener("controllerchange", r, { once: true }));
+    });
+    const localEngines = () =>
+      page.evaluate(
+        (name) =>
+          new Promise<number>((resolve) => {
+            const req = indexedDB.open(name);
+            req.onsuccess = () => {
+              const db = req.result;
+              if (!db.objectStoreNames.contains("engines")) return resolve(0);
+              const count = db.transaction("engines").objectStore("engines").count();
+              count.onsuccess = () => (resolve(count.result), db.close());
+            };
+          }),
+        `lashwright-${u.id}`,
+      );
+    expect(await localEngines()).toBe(1);
+
+    // "sign out" on the computer ends every session of the account
+    await pc.signOut();
+    // the phone's next contact: any page it opens with a signal
+    await page.reload();
+    await page.getByText(/was ended elsewhere/).waitFor();
+    expect(await localEngines()).toBe(0);
+
+    await ctx.setOffline(true);
+    await page.reload();
+    await page.getByText(/was ended elsewhere/).waitFor();
+    expect(await page.getByText("Kept-secret four").count()).toBe(0);
+    await ctx.close();
+  });
+});
