@@ -41,6 +41,8 @@ export const forbidden = (message = "You may read this but not change it") => ne
 export const conflict = (message: string) => new DomainError("conflict", message);
 export const refused = (message: string) => new DomainError("refused", message);
 export const invalid = (message: string, fields?: Record<string, string>) => new DomainError("invalid", message, { fields });
+/** Beyond a budget (429 with Retry-After): wait and try again; the owner is never held beyond the wait. */
+export const tooMany = (message: string, retryAfterSeconds: number) => new DomainError("throttled", message, { retryAfterSeconds });
 export const overloaded = (message = "The server is busy: try again in a moment", retryAfterSeconds = 2) => new DomainError("overloaded", message, { retryAfterSeconds });
 
 /** The first issue of a set of field problems as one message ("intake.max: below the minimum"). */

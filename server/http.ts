@@ -38,7 +38,10 @@ export function overloadedResponse(message = "The server is busy: try again in a
 
 function domainResponse(e: DomainError) {
   if (e.kind === "overloaded") return overloadedResponse(e.message, e.extra.retryAfterSeconds);
-  return errorResponse(STATUS[e.kind], e.extra.code ?? e.kind, e.message, e.extra.fields);
+  const res = errorResponse(STATUS[e.kind], e.extra.code ?? e.kind, e.message, e.extra.fields);
+  // a budget's refusal says how long to wait (RFC 9110 10.2.3, RFC 6585 4)
+  if (e.extra.retryAfterSeconds) res.headers.set("Retry-After", String(Math.ceil(e.extra.retryAfterSeconds)));
+  return res;
 }
 
 const MAX_BODY_BYTES = 256 * 1024;
@@ -66,6 +69,12 @@ interface RouteOptions<P extends z.ZodType, Q extends z.ZodType, B extends z.Zod
   auth?: A;
   /** status of a successful answer (default 200; 204 sends no body) */
   status?: number;
+  /**
+   * Take state-changing calls from anywhere: only for a route whose authority is a signed token in
+   * its address, POSTed by a mail provider's server rather than our pages (RFC 8058 one-click
+   * unsubscribe). Every other route refuses a call that is not from our own pages.
+   */
+  anyOrigin?: true;
 }
 
 export function route<P extends z.ZodType = z.ZodType<Record<string, never>>, Q extends z.ZodType = z.ZodType<Record<string, never>>, B extends z.ZodType = z.ZodType<undefined>, A extends boolean = true>(
@@ -75,7 +84,7 @@ export function route<P extends z.ZodType = z.ZodType<Record<string, never>>, Q 
   return async (req: NextRequest, ctx: { params: Promise<Record<string, string | string[]>> }) => {
     const requestId = crypto.randomUUID().slice(0, 8);
     try {
-      const crossSite = sameOriginRefusal(req);
+      const crossSite = opts.anyOrigin ? null : sameOriginRefusal(req);
       if (crossSite) throw crossSite;
       const user = await currentUser();
       if (opts.auth !== false && !user) return errorResponse(401, "unauthorized", "Sign in first");

@@ -7,6 +7,14 @@ interface Mail {
   html?: string;
   to: { address: string }[];
   date: string;
+  /** the raw headers, names in lower case */
+  headers?: Record<string, string | string[]>;
+}
+
+/** One header of a mail, by name in any case. */
+export function header(mail: Mail, name: string): string | undefined {
+  const entry = Object.entries(mail.headers ?? {}).find(([k]) => k.toLowerCase() === name.toLowerCase());
+  return entry ? String(entry[1]) : undefined;
 }
 
 export function mailApi(): string {

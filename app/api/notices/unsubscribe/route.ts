@@ -1,0 +1,18 @@
+import { z } from "zod";
+import { DomainError } from "@/lib/errors";
+import { route } from "@/server/http";
+import { unsubscribe } from "@/server/notices";
+
+const query = z.object({ token: z.string().min(1).max(600) });
+
+/**
+ * RFC 8058 one-click unsubscribe: the mail provider POSTs here (body "List-Unsubscribe=One-Click",
+ * no cookies, from its own servers, so not from our pages) and our /unsubscribe page does the same
+ * for a reader who opened the link. The signed token in the address is the only authority needed
+ * and all it can do is stop mail; it turns off that address's notices (an account's setting, which
+ * the account page turns back on) or, for an address with no account, all but account mail.
+ */
+export const POST = route({ query, auth: false, anyOrigin: true }, async ({ query }) => {
+  if (!(await unsubscribe(query.token))) throw new DomainError("bad_request", "This unsubscribe link is not one of ours", { code: "bad_token" });
+  return { stopped: true };
+});
