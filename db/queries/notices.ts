@@ -21,7 +21,7 @@ export async function enqueueNotices(items: NoticeInput[], tx?: Tx): Promise<voi
   if (items.length === 0) return;
   const now = Date.now();
   await (tx ?? db()).insert(notices).values(
-    items.map(({ delaySeconds, ...n }) => ({ ...n, toUserId: n.toUserId ?? null, ...(delaySeconds ? { nextAttemptAt: new Date(now + delaySeconds * 1000) } : {}) })),
+    items.map(({ delaySeconds, ...n }) => ({ ...n, subject: n.subject.slice(0, 200), toUserId: n.toUserId ?? null, ...(delaySeconds ? { nextAttemptAt: new Date(now + delaySeconds * 1000) } : {}) })),
   );
 }
 

@@ -1,4 +1,6 @@
+import { NextResponse } from "next/server";
 import { z } from "zod";
+import { env } from "@/lib/env";
 import { DomainError } from "@/lib/errors";
 import { route } from "@/server/http";
 import { unsubscribe } from "@/server/notices";
@@ -16,3 +18,12 @@ export const POST = route({ query, auth: false, anyOrigin: true }, async ({ quer
   if (!(await unsubscribe(query.token))) throw new DomainError("bad_request", "This unsubscribe link is not one of ours", { code: "bad_token" });
   return { stopped: true };
 });
+
+/**
+ * A mail client without one-click support opens the same address in a browser: a GET changes nothing
+ * (link scanners and previews fetch addresses on their own, RFC 8058 3.2) and leads to the page that
+ * asks first.
+ */
+export const GET = route({ query, auth: false }, async ({ query }) =>
+  NextResponse.redirect(`${env().NEXTAUTH_URL.replace(/\/$/, "")}/unsubscribe?token=${encodeURIComponent(query.token)}`, 303),
+);
