@@ -6,6 +6,7 @@ import { mentorSharesForCheck, usersByIds } from "@/db/queries/clubs";
 import { takesNotices, type NoticeRow } from "@/db/queries/notices";
 import { createAuthToken, getCredentialsByEmail } from "@/db/queries/users";
 import { digest } from "@/lib/mail/digest";
+import { isAccountMail } from "@/lib/mail/kinds";
 
 export type Composed = { subject: string; body: string } | null;
 
@@ -26,8 +27,9 @@ const link = (path: string, token: string) => `${env().NEXTAUTH_URL}${path}?toke
 export async function composeGroup(group: NoticeRow[]): Promise<{ mail: Composed; keep: string[]; drop: string[] }> {
   const all = group.map((n) => n.id);
   const first = group[0]!;
-  if (group.length === 1 && (first.kind === "reset" || first.kind === "signin") && first.body === "") {
-    const mail = await accountLink(first);
+  // account mail is sent whatever the notice setting: it is what the reader asked for, or must know
+  if (isAccountMail(first.kind)) {
+    const mail = (first.kind === "reset" || first.kind === "signin") && first.body === "" ? await accountLink(first) : { subject: first.subject, body: first.body };
     return mail ? { mail, keep: all, drop: [] } : { mail: null, keep: [], drop: all };
   }
   if (first.kind === "invite") return (await takesNotices(first.toEmail)) ? { mail: { subject: first.subject, body: first.body }, keep: all, drop: [] } : { mail: null, keep: [], drop: all };

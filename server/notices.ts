@@ -5,6 +5,7 @@ import { claimDueNotices, enqueueNotices, markNoticesFailed, markNoticesSent, po
 import { usersByIds } from "@/db/queries/clubs";
 import { env } from "@/lib/env";
 import { merge } from "@/lib/mail/digest";
+import { isAccountMail, isGathered, SINGLE_KINDS } from "@/lib/mail/kinds";
 import { budget } from "./budgets";
 import { sendMail } from "./mail";
 import { composeGroup } from "./notice-compose";
@@ -14,17 +15,11 @@ import { composeGroup } from "./notice-compose";
  * slow or failing mail server never blocks or fails it. Delivery is kicked right after, and a timer
  * (instrumentation.ts) retries what failed.
  *
- * Three sorts of mail leave through it:
- * - account mail (a link someone asked for, a confirmation): at once, alone, never stopped;
- * - an invitation: at once, alone, and stoppable by its reader (the address may have no account);
- * - notices (comments, verdicts, review requests, the pool's loans): gathered per address into one
- *   mail per window (NOTICE_DIGEST_SECONDS), stoppable, and under the address's mail budget.
- */
-export const ACCOUNT_KINDS = ["verify", "reset", "signin", "account-exists", "password-removed"] as const;
-const SINGLE_KINDS: readonly string[] = [...ACCOUNT_KINDS, "invite"];
-export const isGathered = (kind: string) => !SINGLE_KINDS.includes(kind);
-const isAccountMail = (kind: string) => (ACCOUNT_KINDS as readonly string[]).includes(kind);
 
+ * Account mail goes at once and is never stopped; an invitation goes at once and can be stopped;
+ * notices are gathered per address into one mail per window (NOTICE_DIGEST_SECONDS), can be
+ * stopped, and are under the address's mail budget (lib/mail/kinds.ts).
+ */
 export async function queueNotices(items: NoticeInput[]): Promise<void> {
   const wait = env().NOTICE_DIGEST_SECONDS;
   await enqueueNotices(items.map((n) => (isGathered(n.kind) ? { ...n, delaySeconds: wait } : n)));
@@ -184,6 +179,7 @@ function groups(rows: NoticeRow[]): NoticeRow[][] {
 async function deliver(group: NoticeRow[]): Promise<number> {
   const first = group[0]!;
   let pending = group.map((n) => n.id);
+  let spent = false;
   try {
     const { mail, keep, drop } = await composeGroup(group);
     await markNoticesSent(drop, "dropped");
@@ -196,12 +192,15 @@ async function deliver(group: NoticeRow[]): Promise<number> {
         await postponeNotices(keep, wait);
         return 0;
       }
+      spent = true;
     }
     const text = stoppable ? `${mail.body}\n\n${footer(first.toEmail, first.kind !== "invite")}` : mail.body;
     await sendMail(first.toEmail, mail.subject, text, stoppable ? { unsubscribeUrl: unsubscribePostUrl(first.toEmail) } : {});
     await markNoticesSent(keep);
     return 1;
   } catch (e) {
+    // a mail that did not leave costs its address nothing
+    if (spent) await Promise.all([mailsPerHour.refund(first.toEmail.toLowerCase()), mailsPerDay.refund(first.toEmail.toLowerCase())]).catch(() => undefined);
     const attempts = Math.max(...group.map((n) => n.attempts)) + 1;
     await markNoticesFailed(pending, attempts, e instanceof Error ? e.message : String(e), 8, env().NOTICE_RETRY_SECONDS);
     return 0;
