@@ -15,7 +15,6 @@ import { composeGroup } from "./notice-compose";
  * slow or failing mail server never blocks or fails it. Delivery is kicked right after, and a timer
  * (instrumentation.ts) retries what failed.
  *
-
  * Account mail goes at once and is never stopped; an invitation goes at once and can be stopped;
  * notices are gathered per address into one mail per window (NOTICE_DIGEST_SECONDS), can be
  * stopped, and are under the address's mail budget (lib/mail/kinds.ts).
