@@ -192,6 +192,8 @@ describe("one-click unsubscribe (RFC 8058)", () => {
     expect((await new Client(app.url).post("/api/account/password-reset", { email: s.owner.email })).status).toBe(202);
     const reset = await waitForMail(s.owner.email, /Choose a new Lashwright password/);
     expect(header(reset, "List-Unsubscribe")).toBeUndefined();
+    expect((await new Client(app.url).post("/api/account/sign-up", { email: s.owner.email, name: "Again", password: "a-long-password-2" })).status).toBe(202);
+    expect(header(await waitForMail(s.owner.email, /already have a Lashwright account/), "List-Unsubscribe")).toBeUndefined();
 
     // the account page's setting turns them back on
     expect((await s.o.patch("/api/account", { noticesByEmail: true })).status).toBe(200);
