@@ -55,7 +55,7 @@ async function dueElsewhere(): Promise<number> {
 }
 
 describe("a push's notices are worked out once", () => {
-  it("N comments by the owner: the same statements and rows read for 10 as for 200, and one queued notice", { timeout: 180_000 }, async () => {
+  it("N comments by the owner: the same statements for 10 as for 200, and one queued notice", { timeout: 180_000 }, async () => {
     const { pool } = await import("@/db/client");
     const { runAfter } = await import("@/server/write");
     const { noticeNewComment } = await import("@/server/review");
