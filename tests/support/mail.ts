@@ -7,14 +7,14 @@ interface Mail {
   html?: string;
   to: { address: string }[];
   date: string;
-  /** the raw headers, names in lower case */
-  headers?: Record<string, string | string[]>;
 }
 
-/** One header of a mail, by name in any case. */
-export function header(mail: Mail, name: string): string | undefined {
-  const entry = Object.entries(mail.headers ?? {}).find(([k]) => k.toLowerCase() === name.toLowerCase());
-  return entry ? String(entry[1]) : undefined;
+/** One header of a mail as it was sent (read from its source: the parsed list reshapes List-* headers). */
+export async function header(mail: Mail, name: string): Promise<string | undefined> {
+  const source = await (await fetch(`${mailApi()}/api/email/${mail.id}/source`)).text();
+  const head = source.split(/\r?\n\r?\n/)[0]!.replace(/\r?\n[ \t]+/g, " ");
+  const line = head.split(/\r?\n/).find((l) => l.toLowerCase().startsWith(`${name.toLowerCase()}:`));
+  return line?.slice(name.length + 1).trim();
 }
 
 export function mailApi(): string {

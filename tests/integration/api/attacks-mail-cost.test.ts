@@ -89,7 +89,7 @@ describe("a push's notices are worked out once", () => {
       const r2 = await reads();
       const [queued] = await raw.query("SELECT COUNT(*) AS n FROM notices WHERE to_email = ? AND created_at >= ?", [mentorEmail, t]);
       // the queue's claims (how many runs a kick makes depends on timing) apart from the notice work
-      const delivery = sent.filter((q) => /claim_token|claimed_until/.test(q));
+      const delivery = sent.filter((q) => !/^\s*insert/i.test(q) && /claim_token/.test(q));
       return { statements: sent.length - delivery.length, delivery: delivery.length, rowsRead: r2 - r1 - (r1 - r0), queued: Number((queued as { n: number }[])[0]!.n), sql: [...sent] };
     };
 
@@ -98,7 +98,8 @@ describe("a push's notices are worked out once", () => {
     console.log(`[notice cost] 10 comments: ${small.statements} statements (+${small.delivery} claims), ${small.rowsRead} rows read; 200 comments: ${large.statements} statements (+${large.delivery} claims), ${large.rowsRead} rows read`);
     expect(large.statements, large.sql.join("\n")).toBe(small.statements);
     expect(large.statements).toBeLessThanOrEqual(4);
-    expect(large.delivery).toBeLessThanOrEqual(6);
+    // a run of the queue is two statements (claim, read back), four when it gathers a digest; a kick makes one or two runs
+    expect(large.delivery).toBeLessThanOrEqual(8);
     // the 200 notices to the mentor are one queued notice, carrying them all
     expect(small.queued).toBe(1);
     expect(large.queued).toBe(1);
