@@ -444,5 +444,21 @@ export const notices = mysqlTable(
     createdAt: createdAt(),
     updatedAt: updatedAt(),
   },
-  (t) => [index("notices_status_next_idx").on(t.status, t.nextAttemptAt)],
+  (t) => [
+    index("notices_status_next_idx").on(t.status, t.nextAttemptAt),
+    // a digest gathers every queued notice of one address: found by address, not by scanning the queue
+    index("notices_to_status_idx").on(t.toEmail, t.status),
+    // the rows of one claim are read back by its token: without an index, every claim read the whole queue
+    index("notices_claim_idx").on(t.claimToken),
+  ],
 );
+
+/**
+ * Addresses with no account whose owner pressed "unsubscribe" in a mail (an invitation): nothing but
+ * account mail (a link they asked for) goes to them again. An account holder's choice is
+ * users.notices_by_email instead, which the account page can turn back on (RFC 8058).
+ */
+export const mailStops = mysqlTable("mail_stops", {
+  email: varchar("email", { length: 254 }).primaryKey(),
+  createdAt: createdAt(),
+});

@@ -16,6 +16,8 @@ const envSchema = z.object({
   MAIL_FROM: z.string().default("Lashwright <no-reply@lashwright.example>"),
   /** first retry delay of a failed e-mail notice; later ones double */
   NOTICE_RETRY_SECONDS: z.coerce.number().int().min(1).max(3600).default(30),
+  /** notices to one address are gathered this long into one mail (npm test shortens it) */
+  NOTICE_DIGEST_SECONDS: z.coerce.number().int().min(1).max(3600).default(180),
   /** the S3-compatible photo store (npm start and npm test run a local one) */
   S3_ENDPOINT: z.url({ error: "S3_ENDPOINT must be the photo store's address, e.g. http://127.0.0.1:4569" }).default("http://127.0.0.1:4569"),
   S3_BUCKET: z.string().min(3).default("lashwright-photos"),

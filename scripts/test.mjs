@@ -91,6 +91,8 @@ async function main() {
         SMTP_URL: mail.smtpUrl,
         LASHWRIGHT_MAIL_API: mail.apiUrl,
         NEXTAUTH_SECRET: randomBytes(32).toString("base64url"),
+        // notices gathered for 2 s instead of minutes, so a test waits seconds for its mail
+        NOTICE_DIGEST_SECONDS: "2",
       };
       await runTs("db/migrate.ts", env);
       // LASHWRIGHT_REUSE_BUILD=1 (for a developer iterating on tests) keeps the existing .next build

@@ -39,10 +39,14 @@ export async function signUp(input: { email: string; name: string; password: str
     return;
   }
   const id = await createUser({ email: input.email, name: input.name, passwordHash });
-  await sendVerification(id, input.email, input.name);
+  await sendVerification(id, input.email);
 }
 
-async function sendVerification(userId: string, email: string, name: string) {
+/**
+ * The confirmation mail goes to an address whose owner may never have heard of us: it carries no
+ * word the sign-up chose (the name could be a lure with a link), only our own.
+ */
+async function sendVerification(userId: string, email: string) {
   const token = await createAuthToken(userId, "verify", 24 * 60);
   await queueNotices([
     {
@@ -50,7 +54,7 @@ async function sendVerification(userId: string, email: string, name: string) {
       toUserId: userId,
       kind: "verify",
       subject: "Confirm your e-mail for Lashwright",
-      body: `Welcome to Lashwright, ${name}.\n\nTo confirm this address, open the link and enter the password you chose when you signed up:\n${link("/verify", token)}\n\nThe link works once, for 24 hours. If you did not sign up, ignore this message: nobody can sign in with this address until it is confirmed, and the page behind the link lets you choose your own password instead.`,
+      body: `Welcome to Lashwright.\n\nTo confirm this address, open the link and enter the password you chose when you signed up:\n${link("/verify", token)}\n\nThe link works once, for 24 hours. If you did not sign up, ignore this message: nobody can sign in with this address until it is confirmed, and the page behind the link lets you choose your own password instead.`,
     },
   ]);
 }
@@ -68,7 +72,7 @@ export async function resendVerification(email: string): Promise<void> {
   if (!spent.ok)
     throw tooMany(`A link was sent to this address a short while ago. Check the inbox (and the spam folder), or ask again in ${RESEND_LIMIT.windowMinutes} minutes.`, spent.retryAfterSeconds);
   const u = await getCredentialsByEmail(email);
-  if (u && !u.emailVerifiedAt) await sendVerification(u.id, email, u.name);
+  if (u && !u.emailVerifiedAt) await sendVerification(u.id, email);
 }
 
 /** Five password tries per account in 15 minutes on the confirmation page; then the link waits. */

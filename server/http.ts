@@ -71,6 +71,12 @@ interface RouteOptions<P extends z.ZodType, Q extends z.ZodType, B extends z.Zod
   auth?: A;
   /** status of a successful answer (default 200; 204 sends no body) */
   status?: number;
+  /**
+   * Take state-changing calls from anywhere: only for a route whose authority is a signed token in
+   * its address, POSTed by a mail provider's server rather than our pages (RFC 8058 one-click
+   * unsubscribe). Every other route refuses a call that is not from our own pages.
+   */
+  anyOrigin?: true;
 }
 
 export function route<P extends z.ZodType = z.ZodType<Record<string, never>>, Q extends z.ZodType = z.ZodType<Record<string, never>>, B extends z.ZodType = z.ZodType<undefined>, A extends boolean = true>(
@@ -80,7 +86,7 @@ export function route<P extends z.ZodType = z.ZodType<Record<string, never>>, Q 
   return async (req: NextRequest, ctx: { params: Promise<Record<string, string | string[]>> }) => {
     const requestId = crypto.randomUUID().slice(0, 8);
     try {
-      const crossSite = sameOriginRefusal(req);
+      const crossSite = opts.anyOrigin ? null : sameOriginRefusal(req);
       if (crossSite) throw crossSite;
       const { user, revoked } = await currentSession();
       // "revoked" tells a phone that its session was ended elsewhere, so it wipes its local copy

@@ -2,11 +2,11 @@ import "server-only";
 import { env } from "@/lib/env";
 import { formatLength } from "@/lib/lash";
 import { MOVES, STATE_WORDS, type BorrowInput, type BorrowMove, type OfferInput } from "@/lib/pool/rules";
-import { rolesInClub, usersByIds } from "@/db/queries/clubs";
+import { rolesInClub } from "@/db/queries/clubs";
 import { db } from "@/db/client";
 import * as q from "@/db/queries/pool";
 import { clubMember } from "./access";
-import { noticeEach } from "./notices";
+import { noticeTo } from "./notices";
 import type { WriteCtx } from "./write";
 import type { SessionUser } from "./auth";
 
@@ -19,7 +19,7 @@ const mm = (n: number) => formatLength(n, "mm");
 const link = () => `${env().NEXTAUTH_URL}/club`;
 
 async function tell(toId: string, kind: string, subject: string, body: string) {
-  await noticeEach(await usersByIds([toId]), "", { kind, subject, body: `${body}\n\n${link()}` });
+  await noticeTo([toId], "", { kind, subject, body: `${body}\n\n${link()}` });
 }
 
 export async function applyOffer({ tx, version, user }: WriteCtx, a: OfferInput & { id: string }) {

@@ -1,10 +1,11 @@
 import "server-only";
 import { env } from "@/lib/env";
 import { VERDICTS, type Verdict } from "@/lib/check/verdicts";
-import { listComments, mentorsOfClub, usersByIds } from "@/db/queries/clubs";
+import { mentorsOfClub } from "@/db/queries/clubs";
+import { commentersOf } from "@/db/queries/notices";
 import { getEngineRow } from "@/db/queries/garage";
 import { db } from "@/db/client";
-import { noticeEach } from "./notices";
+import { noticeEach, noticeTo, shared } from "./notices";
 
 /**
  * Review notices: review requested (to the club's mentors), new comment (to the other party),
@@ -29,19 +30,22 @@ export async function noticeReviewRequested(check: { id: string; engineId: strin
 
 export async function noticeComment(check: { id: string; ownerId: string }, authorId: string, authorName: string, body: string, mentorIds: string[]) {
   // the other party: a comment by the owner goes to the mentors who have taken part; a mentor's to the owner
-  const recipients = await usersByIds(authorId === check.ownerId ? mentorIds : [check.ownerId]);
-  await noticeEach(recipients, authorId, { kind: "comment", aboutCheckId: check.id, subject: `New comment from ${authorName}`, body: `${authorName} wrote:\n\n${body.slice(0, 1000)}\n\n${reviewLink(check.id, "comments")}` });
+  await noticeTo(authorId === check.ownerId ? mentorIds : [check.ownerId], authorId, { kind: "comment", aboutCheckId: check.id, subject: `New comment from ${authorName}`, body: `${authorName} wrote:\n\n${body.slice(0, 1000)}\n\n${reviewLink(check.id, "comments")}` });
 }
 
-/** After a comment is stored, by the REST route or a sync push: tell the other party. */
+/**
+ * After a comment is stored, by the REST route or a sync push: tell the other party. Who has taken
+ * part is read once per push (not once per comment: 500 comments each re-reading the thread made a
+ * push grow with the square of its size), as distinct authors, not every comment.
+ */
 export async function noticeNewComment(check: { id: string; ownerId: string }, author: { id: string; name: string }, body: string) {
-  const mentorIds = [...new Set((await listComments(db(), check.id)).map((c) => c.authorId).filter((id) => id !== check.ownerId))];
+  const mentorIds = author.id === check.ownerId ? await shared(`commenters:${check.id}`, () => commentersOf(check.id, check.ownerId)) : [];
   await noticeComment(check, author.id, author.name, body, mentorIds);
 }
 
 export async function noticeVerdict(check: { id: string; ownerId: string }, mentorName: string, verdict: Verdict) {
   const words = VERDICTS[verdict].word.toLowerCase();
-  await noticeEach(await usersByIds([check.ownerId]), "", {
+  await noticeTo([check.ownerId], "", {
     kind: "verdict",
     aboutCheckId: check.id,
     subject: `Review verdict: ${words}`,

@@ -1,6 +1,7 @@
 import "server-only";
 import { versioned, type Tx } from "@/db/versions";
 import { retryConflicts } from "@/db/retry";
+import { gatherNotices } from "./notices";
 import type { SessionUser } from "./auth";
 
 /**
@@ -17,9 +18,14 @@ export interface WriteCtx {
   later(fn: After): void;
 }
 
-/** Run post-commit work; a failure there never fails the write that has already committed. */
+/**
+ * Run post-commit work; a failure there never fails the write that has already committed. The
+ * notices it makes are worked out together (one lookup, one insert, however many mutations).
+ */
 export async function runAfter(afters: After[]) {
-  for (const then of afters) await then().catch((e: unknown) => console.error("[write] notice after commit failed:", e instanceof Error ? e.message : e));
+  await gatherNotices(async () => {
+    for (const then of afters) await then().catch((e: unknown) => console.error("[write] notice after commit failed:", e instanceof Error ? e.message : e));
+  });
 }
 
 /**

@@ -48,13 +48,18 @@ export function AppShell({ title, children, back }: { title: string; children: R
             Lash<span className="text-accent">wright</span>
           </Link>
           {user && (
-            <button
-              type="button"
-              onClick={() => void signOut()}
-              className="inline-flex min-h-12 items-center rounded-xl px-3 text-sm font-bold text-ink-soft underline"
-            >
-              Sign out {user.name.split(" ")[0]}
-            </button>
+            <div className="flex items-center">
+              <Link href="/account" className="inline-flex min-h-12 items-center rounded-xl px-3 text-sm font-bold text-ink-soft underline">
+                Account
+              </Link>
+              <button
+                type="button"
+                onClick={() => void signOut()}
+                className="inline-flex min-h-12 items-center rounded-xl px-3 text-sm font-bold text-ink-soft underline"
+              >
+                Sign out {user.name.split(" ")[0]}
+              </button>
+            </div>
           )}
         </div>
         {user && <SyncLine />}

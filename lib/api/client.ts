@@ -134,5 +134,7 @@ export const mutations = {
   withdraw: (shareId: string) => apiFetch(`/api/shares/${shareId}`, { method: "DELETE" }),
   comment: (checkId: string, body: string, valve: string | null) => apiFetch<{ comment: ApiComment }>(`/api/checks/${checkId}/comments`, { method: "POST", body: { body, valve } }),
   verdict: (shareId: string, verdict: string) => apiFetch<{ share: ApiShare }>(`/api/shares/${shareId}/verdict`, { method: "PUT", body: { verdict } }),
+  unsubscribe: (token: string) => apiFetch<{ stopped: true }>(`/api/notices/unsubscribe?token=${encodeURIComponent(token)}`, { method: "POST" }),
+  settings: (patch: Partial<Pick<Me, "name" | "displayUnit" | "noticesByEmail">>) => apiFetch<{ user: Me }>("/api/account", { method: "PATCH", body: patch }),
   acceptInvite: (token: string) => apiFetch<{ clubId: string }>("/api/invites/accept", { method: "POST", body: { token } }),
 };

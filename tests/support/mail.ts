@@ -9,6 +9,14 @@ interface Mail {
   date: string;
 }
 
+/** One header of a mail as it was sent (read from its source: the parsed list reshapes List-* headers). */
+export async function header(mail: Mail, name: string): Promise<string | undefined> {
+  const source = await (await fetch(`${mailApi()}/api/email/${mail.id}/source`)).text();
+  const head = source.split(/\r?\n\r?\n/)[0]!.replace(/\r?\n[ \t]+/g, " ");
+  const line = head.split(/\r?\n/).find((l) => l.toLowerCase().startsWith(`${name.toLowerCase()}:`));
+  return line?.slice(name.length + 1).trim();
+}
+
 export function mailApi(): string {
   const url = process.env.LASHWRIGHT_MAIL_API;
   if (!url) throw new Error("LASHWRIGHT_MAIL_API is not set: run through npm test");

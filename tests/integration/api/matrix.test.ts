@@ -179,6 +179,9 @@ const TABLE: Row[] = [
   { route: "PUT /api/borrows/:borrowId", path: (i) => `/api/borrows/${i.borrowId}`, body: () => ({ move: "agree" }), fresh: freshLoan, expect: { owner: 200, mentor: 409, others: 404, anon: 401 }, bad: { body: { move: "steal" }, field: "move" } },
   { route: "POST /api/sync/push", path: () => "/api/sync/push", body: () => ({ clientId: crypto.randomUUID(), mutations: [] }), expect: EVERYONE(200), bad: { body: { clientId: "x", mutations: [] }, field: "clientId" } },
   { route: "POST /api/sync/pull", path: () => "/api/sync/pull", body: () => ({ cursor: null }), expect: EVERYONE(200), bad: { body: { cursor: -1 }, field: "cursor" } },
+  // one-click unsubscribe: no sign-in, a signed token in the address; a token we did not make is 400 for everyone
+  { route: "GET /api/notices/unsubscribe", path: () => `/api/notices/unsubscribe?token=${"A".repeat(20)}.${"B".repeat(43)}`, expect: PUBLIC(303) },
+  { route: "POST /api/notices/unsubscribe", path: () => `/api/notices/unsubscribe?token=${"A".repeat(20)}.${"B".repeat(43)}`, expect: PUBLIC(400) },
   { route: "POST /api/invites/accept", path: () => "/api/invites/accept", body: () => ({ token: "C".repeat(43) }), expect: EVERYONE(400), bad: { body: { token: 5 }, field: "token" } },
 ];
 

@@ -1,0 +1,13 @@
+import type { Metadata } from "next";
+import { AppShell } from "@/components/ui/app-shell";
+import { NoticeSetting } from "@/components/account/notice-setting";
+
+export const metadata: Metadata = { title: "Account" };
+
+export default function Page() {
+  return (
+    <AppShell title="Account">
+      <NoticeSetting />
+    </AppShell>
+  );
+}
