@@ -121,7 +121,7 @@ function CheckBody({ data, step, go, moved }: { data: CheckData; step?: Step; go
       <p className="figures text-ink-soft">
         {engine.name} · {check.odometer.toLocaleString("en")} {engine.odometerUnit} · measure {check.measuredHot ? "hot" : "cold"}
       </p>
-      {current === "prepare" && <PrepareStep checkId={check.id} onDone={() => go("measure")} focusHeading={moved} />}
+      {current === "prepare" && <PrepareStep checkId={check.id} engine={engine} onDone={() => go("measure")} focusHeading={moved} />}
       {current === "measure" && <MeasureStep engine={engine} views={views} sizes={sizes} step={seriesStep} save={save} onTurn={turn} onDone={() => go("plan")} previous={previous} checkId={check.id} focusHeading={moved} />}
       {current === "plan" && (
         <PlanStep

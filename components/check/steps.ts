@@ -7,12 +7,3 @@ export const STEPS = [
   { key: "verify", label: "Re-check" },
 ] as const;
 export type Step = (typeof STEPS)[number]["key"];
-
-export const CAUTIONS = [
-  "Engine cold (unless the manual's spec is hot)",
-  "Ignition off and battery disconnected",
-  "Plugs out; turn the crank by hand, in its normal direction only",
-  "Rag in the cam-chain tunnel and drain-backs so nothing can drop in",
-  "Magnet ready for lifting shims; the proper bucket tool at hand",
-  "The service manual has the last word on figures, torques and method",
-];

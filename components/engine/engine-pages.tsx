@@ -6,6 +6,7 @@ import { useRouter, useSearchParams } from "next/navigation";
 import { useState } from "react";
 import { formatLength } from "@/lib/lash";
 import { saveCheck } from "@/lib/sync/writes";
+import { SHIM_POSITION_WORDS } from "@/lib/check/shim-position";
 import { useLocal } from "@/components/sync/local-provider";
 import { History } from "./history";
 import { ImportChecks } from "./import-checks";
@@ -75,6 +76,8 @@ export function EngineDetail() {
           </dd>
           <dt className="text-ink-soft">Measure</dt>
           <dd>{engine.measuredHot ? "hot" : "cold"}</dd>
+          <dt className="text-ink-soft">Shims</dt>
+          <dd data-testid="engine-shim-position">{engine.shimPosition ? SHIM_POSITION_WORDS[engine.shimPosition].short.replace(/^Shims /, "") : "not said: set it in the profile"}</dd>
         </dl>
         <Link href={`/engine/edit?id=${engine.id}`} className="mt-2 inline-flex min-h-12 items-center font-bold underline">
           Edit profile
