@@ -50,6 +50,17 @@ describe("check CSV export", () => {
     expect(row).toMatchObject({ engine: `'=Four, "red"`, shim_mm: "2.600", micrometer_mm: "2.613", clearance_mm: "0.150" });
   });
 
+  it("says on every row where the engine's shims sit, and reads back the same with the column there", () => {
+    const rs = [reading("I1.1", 2.8, 0.3)];
+    const views = valveViews(four, rs, () => 2.6);
+    const csv = checkCsv({ engine: "Test four", odometer: 12000, odometerUnit: "km", date: "2026-05-30", shimPosition: "under" }, views, checkPlan(four, views, []));
+    const rows = rowsOf(csv);
+    expect(rows.length).toBeGreaterThan(1);
+    for (const r of rows) expect(r.shim_position).toBe("under");
+    expect(rowsOf(checkCsv({ engine: "Test four", odometer: 1, odometerUnit: "km", date: "2026-05-30" }, views, null))[0]!.shim_position).toBe("");
+    expect(readChecksCsv(csv, four, [], { today: TODAY }).ok).toBe(true);
+  });
+
   it("names the file after the engine", () => {
     expect(csvFileName("Mara's Four (1983)", "2026-05-30", 12000, "km")).toBe("mara-s-four-1983-2026-05-30-12000km.csv");
     expect(csvFileName("Čelik twin", "2026-05-30", 300, "h")).toBe("celik-twin-2026-05-30-300h.csv");
