@@ -1,6 +1,7 @@
 import { BORROW_STATES } from "../lib/pool/rules";
 import { VERDICT_NAMES } from "../lib/check/verdicts";
 import { CHECK_STATUSES } from "../lib/schemas/records";
+import { SHIM_POSITIONS } from "../lib/lash/schemas";
 import {
   bigint,
   boolean,
@@ -178,6 +179,8 @@ export const engines = mysqlTable(
     displayUnit: mysqlEnum("display_unit", ["mm", "in"]).notNull().default("mm"),
     odometerUnit: mysqlEnum("odometer_unit", ["km", "mi", "h"]).notNull().default("km"),
     mirrored: boolean("mirrored").notNull().default(false),
+    /** where the shims sit, over or under the bucket; null: not said (an engine from before it was asked) */
+    shimPosition: mysqlEnum("shim_position", SHIM_POSITIONS),
     version: version(),
     createdAt: createdAt(),
     updatedAt: updatedAt(),

@@ -41,6 +41,8 @@ interface EngineSeed {
   /** wear per 1,000 km of the gap (mm), intake and exhaust; one valve wears faster */
   wear: [number, number];
   fastValve?: string;
+  /** where the shims sit: one engine of each kind, so both ways of fitting can be tried */
+  shimPosition: "over" | "under";
 }
 
 /** the bucket shims of the demo engines (invented for the demo) */
@@ -67,6 +69,7 @@ const ENGINES: EngineSeed[] = [
     ],
     wear: [0.0012, 0.0022],
     fastValve: "E3.1",
+    shimPosition: "under",
   },
   {
     name: "Green single (two valves)",
@@ -86,6 +89,7 @@ const ENGINES: EngineSeed[] = [
       { odometer: 19_400, date: "2026-05-30" },
     ],
     wear: [0.001, 0.002],
+    shimPosition: "over",
   },
   {
     name: "Red twin (90 degree V-twin, 8 valves)",
@@ -104,6 +108,7 @@ const ENGINES: EngineSeed[] = [
       { odometer: 24_000, date: "2026-07-05" },
     ],
     wear: [0.0008, 0.0015],
+    shimPosition: "under",
   },
 ];
 
@@ -151,6 +156,7 @@ export async function seedDemo(): Promise<{ seeded: boolean }> {
         shimStep: e.series[2],
         assembledShim: e.startShim,
         shimDiameter: e.series[0] === 2.5 ? DEMO_SHIM_DIAMETER : null,
+        shimPosition: e.shimPosition,
         version,
       });
       const sizes = shimSeries(...e.series);

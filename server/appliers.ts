@@ -39,7 +39,12 @@ async function putOwnCheck(w: WriteCtx, a: MutationArgs<"check.put/2">) {
 }
 
 export const APPLIERS: { readonly [N in MutationName]: Applier<N> } = {
+  // an older phone's engine: where the shims sit is not in it, so the stored answer stays
   "engine.put/1": async (w, a) => {
+    await ownOrNewEngine(w.tx, w.user, a.id);
+    await putEngine(w.tx, w.user.id, w.version, a.id, a);
+  },
+  "engine.put/2": async (w, a) => {
     await ownOrNewEngine(w.tx, w.user, a.id);
     await putEngine(w.tx, w.user.id, w.version, a.id, a);
   },

@@ -131,7 +131,7 @@ function CheckBody({ data, step, go, moved }: { data: CheckData; step?: Step; go
           A later check of this engine, at {later.odometer.toLocaleString("en")} {engine.odometerUnit}, is already closed. This one is older: its readings are not the engine as it is now, so do not fit shims from its plan. Close it, or measure again in a new check.
         </Notice>
       )}
-      {current === "prepare" && <PrepareStep checkId={check.id} onDone={() => go("measure")} focusHeading={moved} />}
+      {current === "prepare" && <PrepareStep checkId={check.id} engine={engine} onDone={() => go("measure")} focusHeading={moved} />}
       {current === "measure" && <MeasureStep engine={engine} views={views} sizes={sizes} step={seriesStep} save={save} onTurn={turn} onDone={() => go("plan")} previous={previous} checkId={check.id} focusHeading={moved} />}
       {current === "plan" && (
         <PlanStep

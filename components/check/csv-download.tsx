@@ -10,7 +10,7 @@ export function CsvDownload({ engine, check, views, plan }: { engine: LocalEngin
   const download = async () => {
     const { checkCsv, csvFileName } = await import("@/lib/check/csv");
     const date = new Date(check.startedAt).toISOString().slice(0, 10);
-    const text = checkCsv({ engine: engine.name, odometer: check.odometer, odometerUnit: engine.odometerUnit, date }, views, plan);
+    const text = checkCsv({ engine: engine.name, odometer: check.odometer, odometerUnit: engine.odometerUnit, date, shimPosition: engine.shimPosition ?? null }, views, plan);
     const url = URL.createObjectURL(new Blob([text], { type: "text/csv;charset=utf-8" }));
     const a = document.createElement("a");
     a.href = url;

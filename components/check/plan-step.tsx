@@ -2,7 +2,8 @@
 
 import dynamic from "next/dynamic";
 import { useState } from "react";
-import { formatLength, type ShimPlan } from "@/lib/lash";
+import { camsOut, camsOutWords, formatLength, type ShimPlan } from "@/lib/lash";
+import { SHIM_POSITION_WORDS } from "@/lib/check/shim-position";
 import type { PlanOptions, ValveView } from "@/lib/check/derive";
 import type { PoolFit } from "@/lib/check/pool";
 import type { LocalCheck, LocalEngine } from "@/lib/sync/local-db";
@@ -13,6 +14,7 @@ import { useFocusOnShow } from "@/components/ui/focus";
 import { EngineDiagram } from "./engine-diagram";
 import { PlanChanges, PlanTable } from "./plan-table";
 import { CsvDownload } from "./csv-download";
+import { ShimPositionAsk } from "./shim-position-ask";
 
 // the printed worksheet loads with the plan, the step that prints
 const Worksheet = dynamic(() => import("./worksheet"), { ssr: false });
@@ -83,6 +85,7 @@ export function PlanStep({ engine, check, views, plan, error, onTurn, onFit, poo
             </Button>
             <CsvDownload engine={engine} check={check} views={views} plan={plan} />
           </div>
+          {changing > 0 && <CamsLine engine={engine} plan={plan} />}
           {onFit && changing > 0 && (
             <Button type="button" onClick={onFit}>
               Fit the {changing} change{changing === 1 ? "" : "s"}
@@ -91,6 +94,21 @@ export function PlanStep({ engine, check, views, plan, error, onTurn, onFit, poo
           {changing === 0 && plan.assignments.length === views.length && <Notice tone="ok">Every valve is in its band. Nothing to change.</Notice>}
         </>
       )}
+    </section>
+  );
+}
+
+/** Before fitting starts: which cams come out (shims under the buckets), or that they stay in. */
+function CamsLine({ engine, plan }: { engine: LocalEngine; plan: ShimPlan }) {
+  if (!engine.shimPosition) return <ShimPositionAsk engine={engine} />;
+  const valves = plan.assignments.filter((a) => a.source.kind !== "keep").map((a) => a.valveId);
+  return (
+    <section aria-labelledby="cams-title" className="rounded-2xl border-2 border-line bg-surface p-4" data-testid="plan-cams-out">
+      <h2 id="cams-title" className="text-xl font-extrabold">
+        {SHIM_POSITION_WORDS[engine.shimPosition].short}
+      </h2>
+      <p className="text-lg font-bold">{engine.shimPosition === "under" ? camsOutWords(camsOut({ shimPosition: "under", valves })) : "Cams stay in: each shim comes out over its bucket with the bucket tool."}</p>
+      {engine.shimPosition === "under" && <p className="text-ink-soft">The cams go back in time with the marks aligned; the Fit step takes you through it.</p>}
     </section>
   );
 }

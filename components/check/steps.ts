@@ -27,12 +27,3 @@ export function stepOfStatus(status: CheckStatus, hasReadings: boolean): Step {
       return "verify";
   }
 }
-
-export const CAUTIONS = [
-  "Engine cold (unless the manual's spec is hot)",
-  "Ignition off and battery disconnected",
-  "Plugs out; turn the crank by hand, in its normal direction only",
-  "Rag in the cam-chain tunnel and drain-backs so nothing can drop in",
-  "Magnet ready for lifting shims; the proper bucket tool at hand",
-  "The service manual has the last word on figures, torques and method",
-];

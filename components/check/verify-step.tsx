@@ -2,12 +2,15 @@
 
 import { useQuery } from "@tanstack/react-query";
 import { useRouter } from "next/navigation";
+import { useLiveQuery } from "dexie-react-hooks";
 import { useState } from "react";
+import { workOrderKey, type WorkOrderState } from "@/lib/check/fit";
+import { RECHECK_TURN, RECHECK_TURN_CAUTION } from "@/lib/check/shim-position";
 import { fetchers, queryKeys } from "@/lib/api/client";
 import { VERDICTS } from "@/lib/check/verdicts";
 import { openValves, recheckValves, type ValveView } from "@/lib/check/derive";
-import type { LocalCheck, LocalEngine } from "@/lib/sync/local-db";
-import { saveCheck } from "@/lib/sync/writes";
+import { getMeta, type LocalCheck, type LocalEngine } from "@/lib/sync/local-db";
+import { saveCheck, setTurned } from "@/lib/sync/writes";
 import { useLocal } from "@/components/sync/local-provider";
 import { Button, Notice } from "@/components/ui/controls";
 import { useFocusOnShow } from "@/components/ui/focus";
@@ -31,6 +34,11 @@ export function VerifyStep({ engine, views, sizes, step, save, check, focusHeadi
   const router = useRouter();
   const changed = recheckValves(views);
   const open = openValves(views);
+  const order = useLiveQuery(async () => (db ? ((await getMeta<WorkOrderState>(db, workOrderKey(check.id))) ?? null) : undefined), [db, check.id]);
+  // after an under-bucket fit the cams went back in: two crank turns by hand and the marks checked
+  // again come before the first reading of the re-check (common practice; from memory)
+  const readingStarted = changed.some((v) => v.state !== "fitted");
+  const mustTurn = engine.shimPosition === "under" && !!order && order.moves.length > 0 && !order.turned && !readingStarted;
   // a mentor who said "measure again" or "stop and ask" is named before the check is closed over it
   const shares = useQuery({ queryKey: queryKeys.shares(check.id), queryFn: () => fetchers.shares(check.id), retry: false });
   const held = (shares.data ?? []).find((s) => !s.withdrawnAt && s.verdict && s.verdict !== "close-up");
@@ -48,9 +56,25 @@ export function VerifyStep({ engine, views, sizes, step, save, check, focusHeadi
         Measure the changed valves again
       </h2>
       {changed.length === 0 && <Notice>No valve has been changed in this check.</Notice>}
-      {changed.map((v) => (
-        <ValveCard key={v.valve.id} checkId={check.id} engine={engine} view={v} sizes={sizes} step={step} onSave={save(v)} />
-      ))}
+      {engine.shimPosition === "under" && order && order.moves.length > 0 && !readingStarted && (
+        <div data-testid="recheck-turn" className="flex flex-col gap-1">
+          <button type="button" role="checkbox" aria-checked={!!order.turned} onClick={() => db && void setTurned(db, check.id, !order.turned)} className={`flex min-h-16 w-full items-center gap-3 rounded-xl border-2 p-3 text-left ${order.turned ? "border-ok" : "border-tight"}`}>
+            <span aria-hidden className="text-2xl">
+              {order.turned ? "☑" : "☐"}
+            </span>
+            <span className="text-lg font-bold">{RECHECK_TURN}</span>
+          </button>
+          <p className="border-l-4 border-tight pl-3 text-sm">
+            <span aria-hidden>⚠ </span>
+            <strong>Caution:</strong> {RECHECK_TURN_CAUTION}
+          </p>
+        </div>
+      )}
+      {engine.shimPosition === "under" && order === undefined ? null : mustTurn ? (
+        <Notice>Tick the two-turn check first: the valves to measure again show once it is done.</Notice>
+      ) : (
+        changed.map((v) => <ValveCard key={v.valve.id} checkId={check.id} engine={engine} view={v} sizes={sizes} step={step} onSave={save(v)} />)
+      )}
       {open.length === 0 ? <Notice tone="ok">✓ Every valve is in its band.</Notice> : <Notice>{openWords(open)}</Notice>}
       {asking && held?.verdict ? (
         <div role="alertdialog" aria-labelledby="close-ask" className="flex flex-col gap-2 rounded-2xl border-2 border-tight p-3">

@@ -1,9 +1,9 @@
 "use client";
 
 import { createPortal } from "react-dom";
-import { roundForDisplay, type LengthUnit, type ShimPlan, type SizeCount } from "@/lib/lash";
+import { camsOut, camsOutWords, roundForDisplay, type LengthUnit, type ShimPlan, type SizeCount } from "@/lib/lash";
 import { STATE_WORDS, sourceWords, type ValveView } from "@/lib/check/derive";
-import { CAUTIONS } from "./steps";
+import { prepareCautions, shimPositionWords, UNDER_BUCKET_FIT } from "@/lib/check/shim-position";
 import type { LocalCheck, LocalEngine } from "@/lib/sync/local-db";
 
 /**
@@ -36,6 +36,10 @@ export default function Worksheet({ engine, check, views, plan, lenders }: { eng
     );
   };
   const list = (xs: SizeCount[]) => xs.map((x) => `${x.count} × ${shim(x.size)}`).join(", ");
+  const position = engine.shimPosition;
+  const changing = plan?.assignments.filter((a) => a.source.kind !== "keep").map((a) => a.valveId) ?? [];
+  // the cams to take out, before anyone starts (an under-bucket engine); over the bucket they stay in
+  const cams = position === "under" ? camsOutWords(camsOut({ shimPosition: "under", valves: changing })) : position === "over" ? "Cams stay in: each shim comes out over its bucket with the bucket tool." : "Say in the engine's profile where the shims sit before fitting.";
   const borrow = plan?.borrow.map((b) => `${b.count} × ${shim(b.size)} from ${lenders?.get(b.ownerId) ?? "a club member"}`).join(", ");
   return createPortal(
     <article className="worksheet" aria-label="Printed worksheet">
@@ -71,6 +75,9 @@ export default function Worksheet({ engine, check, views, plan, lenders }: { eng
           <dd>{engine.firingOrder.join("-")}</dd>
         </div>
       </dl>
+      <p className="ws-position" data-testid="ws-position">
+        {shimPositionWords(position)} · {cams}
+      </p>
       <figure className="ws-diagram" aria-label="Engine diagram">
         <p>Intake side {engine.mirrored ? "· mirrored: cylinder 1 on the right" : ""}</p>
         <div className="ws-row">
@@ -158,10 +165,22 @@ export default function Worksheet({ engine, check, views, plan, lenders }: { eng
       <section className="ws-cautions">
         <h2>Before you start</h2>
         <ul>
-          {CAUTIONS.map((c) => (
+          {prepareCautions(position).map((c) => (
             <li key={c}>☐ {c}</li>
           ))}
         </ul>
+        {position === "under" && (
+          <>
+            <h2>Fit with the cams out</h2>
+            <ol className="ws-fit">
+              {UNDER_BUCKET_FIT.map((t, n) => (
+                <li key={t.key}>
+                  ☐ {n + 1}. {t.task}.
+                </li>
+              ))}
+            </ol>
+          </>
+        )}
         <p>Lashwright&apos;s numbers are a calculation aid, not a specification: the service manual and a qualified mechanic have the last word.</p>
       </section>
     </article>,

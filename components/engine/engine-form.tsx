@@ -4,7 +4,8 @@ import { useLiveQuery } from "dexie-react-hooks";
 import { useRouter, useSearchParams } from "next/navigation";
 import { useEffect, useState, type ReactNode } from "react";
 import { useForm, type Resolver } from "react-hook-form";
-import { ENGINE_PRESETS } from "@/lib/lash";
+import { ENGINE_PRESETS, type ShimPosition } from "@/lib/lash";
+import { SHIM_POSITION_WORDS } from "@/lib/check/shim-position";
 import { engineInput } from "@/lib/schemas/records";
 import { saveEngine } from "@/lib/sync/writes";
 import type { LocalEngine } from "@/lib/sync/local-db";
@@ -27,6 +28,8 @@ interface FormValues {
   shims: { min: string; max: string; step: string };
   assembledShim: string;
   shimDiameter: string;
+  /** over or under the bucket; empty: not said yet (an engine from before it was asked) */
+  shimPosition: "" | ShimPosition;
   /** where cylinder 1 is as the mechanic faces the engine at work */
   facing: "left" | "right";
   displayUnit: "mm" | "in";
@@ -52,6 +55,7 @@ function toEngine(v: FormValues, id: string) {
     shims: { min: num(v.shims.min), max: num(v.shims.max), step: num(v.shims.step) },
     assembledShim: num(v.assembledShim) ?? null,
     shimDiameter: num(v.shimDiameter) ?? null,
+    shimPosition: v.shimPosition || null,
     displayUnit: v.displayUnit,
     odometerUnit: v.odometerUnit,
     mirrored: v.facing === "right",
@@ -76,6 +80,7 @@ function fromEngine(e: LocalEngine): FormValues {
     shims: { min: t(s.min), max: t(s.max), step: t(s.step) },
     assembledShim: t(e.assembledShim),
     shimDiameter: t(e.shimDiameter),
+    shimPosition: e.shimPosition ?? "",
     facing: e.mirrored ? "right" : "left",
     displayUnit: e.displayUnit,
     odometerUnit: e.odometerUnit,
@@ -97,6 +102,7 @@ const BLANK: FormValues = {
   shims: { min: "2.50", max: "3.30", step: "0.05" },
   assembledShim: "",
   shimDiameter: "",
+  shimPosition: "",
   facing: "left",
   displayUnit: "mm",
   odometerUnit: "km",
@@ -120,6 +126,7 @@ const MISSING: Record<string, string> = {
   "shims.min": "Missing: the thinnest shim of the series, from the manual or the shim kit",
   "shims.max": "Missing: the thickest shim of the series, from the manual or the shim kit",
   "shims.step": "Missing: the step between shim sizes, from the manual or the shim kit (often 0.05 mm)",
+  shimPosition: "Missing: where the shims sit. With the cam cover off, a shim in a recess on top of the bucket is over it; none to be seen, it is under (the manual says which)",
 };
 
 const valueAt = (v: FormValues, path: string) => path.split(".").reduce<unknown>((o, k) => (o as Record<string, unknown> | undefined)?.[k], v);
@@ -128,9 +135,12 @@ const resolverFor =
   (id: string): Resolver<FormValues> =>
   async (values) => {
     const parsed = engineInput.safeParse(toEngine(values, id));
-    if (parsed.success) return { values, errors: {} };
+    // the profile asks where the shims sit: the Fit step's whole method follows from it
+    const unsaid = values.shimPosition === "";
+    if (parsed.success && !unsaid) return { values, errors: {} };
     const errors: Record<string, { type: string; message: string }> = {};
-    for (const i of parsed.error.issues) {
+    if (unsaid) errors.shimPosition = { type: "required", message: MISSING.shimPosition! };
+    for (const i of parsed.success ? [] : parsed.error.issues) {
       let key = i.path.map(String).join(".");
       if (key.startsWith("firingOrder")) key = "firingOrder";
       if (key.startsWith("firingAngles")) key = "firingAngles";
@@ -173,6 +183,7 @@ export function EngineForm() {
     form.setValue("exhaustPerCylinder", String(p.exhaustPerCylinder));
     form.setValue("firingOrder", p.firingOrder.join("-"));
     form.setValue("firingAngles", p.firingAngles?.join(", ") ?? "");
+    form.setValue("shimPosition", p.shimPosition);
     form.setValue("shims", { min: p.shims.min.toFixed(p.shims.step < 0.05 ? 3 : 2), max: p.shims.max.toFixed(p.shims.step < 0.05 ? 3 : 2), step: String(p.shims.step) });
   };
 
@@ -181,7 +192,7 @@ export function EngineForm() {
     setFailure(null);
     try {
       const parsed = engineInput.parse(toEngine(values, id));
-      await saveEngine(db, { ...parsed, id });
+      await saveEngine(db, { ...parsed, id, shimPosition: parsed.shimPosition ?? null });
       router.push(`/engine?id=${id}`);
     } catch (e) {
       setFailure(e instanceof Error ? e.message : "Could not save");
@@ -249,6 +260,24 @@ export function EngineForm() {
         {text("shims.min", "Smallest", { unit: "mm", numeric: true })}
         {text("shims.max", "Largest", { unit: "mm", numeric: true })}
         {text("shims.step", "Step", { unit: "mm", numeric: true })}
+      </fieldset>
+      <fieldset className="flex flex-col gap-2" aria-describedby="position-help">
+        <legend className="mb-1 text-lg font-bold">Where the shims sit</legend>
+        <p id="position-help" className="text-sm text-ink-soft">
+          Over the bucket, a shim is changed with the cams in, using a bucket tool. Under it, the camshaft over the valve comes out and goes back in time.
+        </p>
+        {(["over", "under"] as const).map((value) => (
+          <label key={value} className="flex min-h-12 items-center gap-3 rounded-xl border-2 border-line px-3 font-bold">
+            <input type="radio" value={value} className="h-6 w-6" aria-describedby={err("shimPosition") ? "shimPosition-error" : undefined} {...form.register("shimPosition")} />
+            {SHIM_POSITION_WORDS[value].long}
+          </label>
+        ))}
+        {err("shimPosition")?.message && (
+          <p id="shimPosition-error" className="text-sm font-bold text-tight">
+            <span aria-hidden>✕ </span>
+            {err("shimPosition")!.message}
+          </p>
+        )}
       </fieldset>
       {text("assembledShim", "Shim fitted at assembly (optional)", { unit: "mm", numeric: true, hint: "Offers a one-tap fill of every bucket on the first check" })}
       {text("shimDiameter", "Shim diameter (optional)", { unit: "mm", numeric: true, hint: "The plan then uses only tray and club shims of this diameter" })}

@@ -6,6 +6,7 @@ import { useRouter, useSearchParams } from "next/navigation";
 import { useState } from "react";
 import { formatLength } from "@/lib/lash";
 import { saveCheck } from "@/lib/sync/writes";
+import { SHIM_POSITION_WORDS } from "@/lib/check/shim-position";
 import { useLocal } from "@/components/sync/local-provider";
 import { History } from "./history";
 import { ImportChecks } from "./import-checks";
@@ -77,6 +78,8 @@ export function EngineDetail() {
           <dt className="text-ink-soft">Measure</dt>
           <dd>{engine.measuredHot ? "hot" : "cold"}</dd>
           <dt className="text-ink-soft">Shims</dt>
+          <dd data-testid="engine-shim-position">{engine.shimPosition ? SHIM_POSITION_WORDS[engine.shimPosition].short.replace(/^Shims /, "") : "not said: set it in the profile"}</dd>
+          <dt className="text-ink-soft">Shim series</dt>
           <dd>{"step" in engine.shims ? `${engine.shims.min.toFixed(2)} to ${engine.shims.max.toFixed(2)} mm in ${engine.shims.step} mm steps` : `${engine.shims.sizes.length} sizes listed`}</dd>
           {engine.shimDiameter != null && (
             <>

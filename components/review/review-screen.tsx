@@ -6,6 +6,8 @@ import { useSearchParams } from "next/navigation";
 import Link from "next/link";
 import { useMemo } from "react";
 import { valveRounds } from "@/lib/check/rounds";
+import { camsOut, camsOutWords } from "@/lib/lash";
+import { shimPositionWords } from "@/lib/check/shim-position";
 import { checkPlan, valveViews } from "@/lib/check/derive";
 import { VERDICTS, type Verdict } from "@/lib/check/verdicts";
 import { fetchers, queryKeys } from "@/lib/api/client";
@@ -87,6 +89,11 @@ export function ReviewScreen() {
     <div className="flex flex-col gap-5">
       <p className="figures text-ink-soft">
         {engine.name} · {check.data.check.odometer.toLocaleString("en")} {engine.odometerUnit} · {isMentor ? "read-only: you are reviewing" : "your check"}
+      </p>
+      {/* how the shims are reached: under the buckets, the mentor sees which cams come out */}
+      <p className="font-bold" data-testid="review-shim-position">
+        {shimPositionWords(engine.shimPosition)}
+        {engine.shimPosition === "under" && plan ? ` · ${camsOutWords(camsOut({ shimPosition: "under", valves: plan.assignments.filter((a) => a.source.kind !== "keep").map((a) => a.valveId) }))}` : ""}
       </p>
       {!isMentor && (
         <Link href={`/check?id=${id}`} className="inline-flex min-h-12 items-center justify-center self-start rounded-xl border-2 border-line px-5 text-lg font-bold">

@@ -31,6 +31,7 @@ export function engineToApi(e: EngineRow) {
     displayUnit: e.displayUnit,
     odometerUnit: e.odometerUnit,
     mirrored: e.mirrored,
+    shimPosition: e.shimPosition ?? null,
     version: e.version,
     updatedAt: e.updatedAt,
   };
@@ -60,6 +61,8 @@ export function engineToRow(e: EngineInput) {
     displayUnit: e.displayUnit,
     odometerUnit: e.odometerUnit,
     mirrored: e.mirrored,
+    // absent from an older phone's "engine.put/1": the stored answer is kept (a new engine: not said)
+    ...(e.shimPosition !== undefined ? { shimPosition: e.shimPosition } : {}),
   };
 }
 

@@ -1,16 +1,16 @@
 import Papa from "papaparse";
-import { toNm, type ShimPlan } from "../lash";
+import { toNm, type ShimPlan, type ShimPosition } from "../lash";
 import type { ValveView } from "./derive";
 
 /**
- * A check as CSV: one row per valve (the shim fitted in this check, if any, and the plan's shim),
+ * A check as CSV: one row per valve (each row also says where the engine's shims sit) (the shim fitted in this check, if any, and the plan's shim),
  * then the buy list, what to borrow and what goes back to the
  * tray, told apart by the first column. Every length is millimetres with the same number of
  * decimals throughout the file (the fewest, from 2, that hold every value exactly: 3 once a
  * micrometer reading or a 0.025 series is in it, 4 for inch blades), with a point, so a
  * spreadsheet reads each column as one kind of number. The import (csv-import.ts) reads it back.
  */
-export const CSV_COLUMNS = ["record", "engine", "date", "odometer", "odometer_unit", "valve", "round", "shim_mm", "micrometer_mm", "go_mm", "no_go_mm", "clearance_mm", "band_min_mm", "band_max_mm", "state", "fitted_shim_mm", "plan_shim_mm", "predicted_mm", "source", "count"] as const;
+export const CSV_COLUMNS = ["record", "engine", "date", "odometer", "odometer_unit", "shim_position", "valve", "round", "shim_mm", "micrometer_mm", "go_mm", "no_go_mm", "clearance_mm", "band_min_mm", "band_max_mm", "state", "fitted_shim_mm", "plan_shim_mm", "predicted_mm", "source", "count"] as const;
 type Column = (typeof CSV_COLUMNS)[number];
 
 /** The fewest decimals (2 to 6) that write every length exactly: lengths are whole nanometres. */
@@ -34,7 +34,7 @@ export function csvFileName(engine: string, date: string, odometer: number, unit
   return `${slug}-${date}-${odometer}${unit}.csv`;
 }
 
-export function checkCsv(meta: { engine: string; odometer: number; odometerUnit: string; date: string }, views: ValveView[], plan: ShimPlan | null): string {
+export function checkCsv(meta: { engine: string; odometer: number; odometerUnit: string; date: string; shimPosition?: ShimPosition | null }, views: ValveView[], plan: ShimPlan | null): string {
   const byValve = new Map(plan?.assignments.map((a) => [a.valveId, a]) ?? []);
   const rows: Partial<Record<Column, string | number | null | undefined>>[] = [];
   const lengths: number[] = [];
@@ -43,7 +43,8 @@ export function checkCsv(meta: { engine: string; odometer: number; odometerUnit:
     lengths.push(v);
     return v;
   };
-  const base = { engine: meta.engine, date: meta.date, odometer: meta.odometer, odometer_unit: meta.odometerUnit };
+  // where the shims sit ("over" or "under" the bucket; empty: not said), beside the odometer's unit
+  const base = { engine: meta.engine, date: meta.date, odometer: meta.odometer, odometer_unit: meta.odometerUnit, shim_position: meta.shimPosition ?? null };
   for (const v of views) {
     const a = byValve.get(v.valve.id);
     const r = v.latest;

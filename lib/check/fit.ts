@@ -8,6 +8,10 @@ import type { ShimMove } from "../lash";
 export interface WorkOrderState {
   moves: ShimMove[];
   done: boolean[];
+  /** under-bucket fit: the tasks ticked (lib/check/shim-position, by key), kept with this list */
+  tasks?: string[];
+  /** under-bucket fit: the two-turn check said done at the re-check, before its first reading */
+  turned?: boolean;
 }
 
 export const workOrderKey = (checkId: string) => `fit:${checkId}`;
@@ -19,4 +23,11 @@ export function swapEffects(m: ShimMove, on: boolean): { tray: { size: number; d
   if (m.to.kind === "tray") tray.push({ size: m.size, delta: on ? 1 : -1 });
   const fit = m.to.kind === "valve" ? { valveId: m.to.valveId, shim: on ? m.size : null } : null;
   return { tray, fit };
+}
+
+/** The valves whose shim changes in a swap list: a valve that gives its shim away gets another. */
+export function valvesOfMoves(moves: ShimMove[]): string[] {
+  const out = new Set<string>();
+  for (const m of moves) for (const p of [m.from, m.to]) if (p.kind === "valve") out.add(p.valveId);
+  return [...out];
 }

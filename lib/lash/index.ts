@@ -10,3 +10,4 @@ export { driftProjection, fastClosingValves, roundOdometer, t95, MIN_TREND_SPAN,
 export { valveNames, parseValveName, bladesFor, METRIC_BLADES_MM, INCH_BLADES_THOU, type ValveName } from "./valves";
 export { ENGINE_PRESETS, type EnginePreset } from "./presets";
 export { workOrder, type ShimMove, type Place } from "./work-order";
+export { camsOut, camsOutWords, type CamOut } from "./cams";

@@ -135,3 +135,21 @@ export const driftInputSchema = z.object({
   /** the shortest odometer span a trend may be drawn over, in the engine's odometer unit */
   minSpan: z.number().finite().min(0).max(1_000_000).optional(),
 });
+
+/**
+ * Where an engine's shims sit (common practice; from memory): over the bucket, in a recess under the
+ * cam lobe, changed with the cam in place; or under the bucket, on the valve stem, changed only with
+ * the camshaft over that valve taken out and refitted in time.
+ */
+export const SHIM_POSITIONS = ["over", "under"] as const;
+export const shimPositionSchema = z.enum(SHIM_POSITIONS, { error: 'where the shims sit is "over" or "under" the bucket' });
+export type ShimPosition = z.infer<typeof shimPositionSchema>;
+
+/** Valve names as the check uses them: "I2.1" is intake, cylinder 2, first intake valve. */
+export const valveNameSchema = z.string().regex(/^[IE]\d{1,2}\.\d$/, { error: 'a valve is named like "I1.1" or "E4.2"' });
+
+export const camsOutInputSchema = z.object({
+  shimPosition: shimPositionSchema,
+  /** the valves whose shim changes in this fit */
+  valves: z.array(valveNameSchema).max(128, { error: "at most 128 valves" }),
+});

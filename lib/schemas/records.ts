@@ -1,6 +1,6 @@
 import "./zod-config";
 import { z } from "zod";
-import { lengthMm, positiveLengthMm, rotationInputSchema, shimSeries, specSchema, timingSchema, LashInputError } from "../lash";
+import { lengthMm, positiveLengthMm, rotationInputSchema, shimPositionSchema, shimSeries, specSchema, timingSchema, LashInputError } from "../lash";
 import { parseValveName } from "../lash/valves";
 import { VERDICT_NAMES } from "../check/verdicts";
 import { labelSchema } from "./label";
@@ -31,7 +31,8 @@ const shimSystem = z.union([
   z.object({ sizes: z.array(positiveLengthMm).min(1, { error: "list at least one size" }).max(400) }),
 ]);
 
-export const engineFields = z.object({
+/** The engine profile as the first app versions sent it ("engine.put/1" keeps exactly this shape). */
+const engineFieldsV1 = z.object({
   id: idSchema.optional(),
   name,
   cylinders: z.number().int().min(1, { error: "1 to 16 cylinders" }).max(16, { error: "1 to 16 cylinders" }),
@@ -51,7 +52,13 @@ export const engineFields = z.object({
   mirrored: z.boolean().default(false),
 });
 
-function engineRules(e: z.infer<typeof engineFields>, ctx: z.RefinementCtx) {
+/**
+ * Where the shims sit (lib/lash/schemas.ts). Null is "not said": an engine made before the profile
+ * asked, or by an older phone; the screens then ask before anything depends on it.
+ */
+export const engineFields = engineFieldsV1.extend({ shimPosition: shimPositionSchema.nullable().optional() });
+
+function engineRules(e: z.infer<typeof engineFieldsV1>, ctx: z.RefinementCtx) {
   if (e.firingOrder.length !== e.cylinders) {
     ctx.addIssue({ code: "custom", path: ["firingOrder"], message: `name all ${e.cylinders} cylinders once` });
     return;
@@ -61,6 +68,8 @@ function engineRules(e: z.infer<typeof engineFields>, ctx: z.RefinementCtx) {
 }
 
 export const engineInput = engineFields.superRefine(engineRules);
+/** The first shape, without where the shims sit: what an older phone's outbox holds. */
+export const engineInputV1 = engineFieldsV1.superRefine(engineRules);
 export const engineUpdate = engineFields.partial();
 export type EngineInput = z.infer<typeof engineInput>;
 export { engineRules };

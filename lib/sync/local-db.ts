@@ -91,6 +91,17 @@ export function openLocalDb(userId: string, indexedDB?: IDBFactory, keyRange?: t
   });
   // photos are their own queue: a blob is sent by itself, after the outbox (it may name a comment)
   db.version(2).stores({ photos: "id, checkId, state" });
+  // engines learn where their shims sit; one kept from before is "not said" until the mechanic says
+  db.version(3)
+    .stores({})
+    .upgrade((tx) =>
+      tx
+        .table("engines")
+        .toCollection()
+        .modify((e: { shimPosition?: unknown }) => {
+          if (e.shimPosition === undefined) e.shimPosition = null;
+        }),
+    );
   return db;
 }
 

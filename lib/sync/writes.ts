@@ -1,6 +1,6 @@
 import type { MutationArgs } from "./mutations";
 import { record, writeTables } from "./outbox";
-import { DEFAULT_TIMING, LashInputError, type ShimMove } from "../lash";
+import { DEFAULT_TIMING, LashInputError, type ShimMove, type ShimPosition } from "../lash";
 import { swapEffects, workOrderKey, type WorkOrderState } from "../check/fit";
 import { READING_VALUE_FIELDS } from "../schemas/records";
 import { getMeta, setMeta, type CheckStatus, type LocalCheck, type LocalDb, type LocalEngine, type LocalReading } from "./local-db";
@@ -9,10 +9,11 @@ import { getMeta, setMeta, type CheckStatus, type LocalCheck, type LocalDb, type
  * Every change the garage screens make, each a local write plus an outbox entry (lib/sync/outbox).
  * The shapes are the server's, so a pulled record and a local one look alike.
  */
-type EngineArgs = MutationArgs<"engine.put/1">;
+type EngineArgs = Omit<MutationArgs<"engine.put/2">, "shimPosition"> & { shimPosition?: ShimPosition | null };
 
+/** The engine profile, with where its shims sit (null: not said). */
 export function saveEngine(db: LocalDb, e: EngineArgs) {
-  return record(db, "engine.put/1", e, async (a) => {
+  return record(db, "engine.put/2", { ...e, shimPosition: e.shimPosition ?? null }, async (a) => {
     const local: LocalEngine = {
       ...a,
       firingAngles: a.firingAngles ?? null,
@@ -129,8 +130,31 @@ export function toggleSwap(db: LocalDb, checkId: string, index: number): Promise
       if (!latest) throw new LashInputError(`${valveId} has no reading in this check to fit a shim to`);
       await saveReading(db, checkId, { ...latest, fittedShim: shim });
     }
-    await setMeta(db, workOrderKey(checkId), { moves: order.moves, done: order.moves.map((_, j) => (j === index ? on : !!order.done[j])) } satisfies WorkOrderState);
+    await setMeta(db, workOrderKey(checkId), { ...order, done: order.moves.map((_, j) => (j === index ? on : !!order.done[j])) } satisfies WorkOrderState);
     return on;
+  });
+}
+
+/** Tick (or untick) one task of an under-bucket fit (cams out, cams in...), kept with the swap list. */
+export function toggleFitTask(db: LocalDb, checkId: string, key: string): Promise<boolean> {
+  return db.transaction("rw", writeTables(db), async () => {
+    const order = await getMeta<WorkOrderState>(db, workOrderKey(checkId));
+    if (!order) throw new LashInputError("there is no fit under way: open the Fit step again from the plan");
+    const tasks = new Set(order.tasks ?? []);
+    const on = !tasks.has(key);
+    if (on) tasks.add(key);
+    else tasks.delete(key);
+    await setMeta(db, workOrderKey(checkId), { ...order, tasks: [...tasks] } satisfies WorkOrderState);
+    return on;
+  });
+}
+
+/** The re-check's two-turn check after an under-bucket fit, said done (or not). */
+export function setTurned(db: LocalDb, checkId: string, turned: boolean) {
+  return db.transaction("rw", writeTables(db), async () => {
+    const order = await getMeta<WorkOrderState>(db, workOrderKey(checkId));
+    if (!order) throw new LashInputError("there is no fit under way: open the Fit step again from the plan");
+    await setMeta(db, workOrderKey(checkId), { ...order, turned } satisfies WorkOrderState);
   });
 }
 

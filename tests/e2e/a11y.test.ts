@@ -92,7 +92,7 @@ const MEASURED: Record<string, number> = {
 };
 const ENGINE_NAME = "Audit four";
 let mech: { email: string; password: string };
-const ids = { engine: crypto.randomUUID(), fresh: crypto.randomUUID(), measured: crypto.randomUUID(), recheck: crypto.randomUUID() };
+const ids = { engine: crypto.randomUUID(), fresh: crypto.randomUUID(), measured: crypto.randomUUID(), recheck: crypto.randomUUID(), under: crypto.randomUUID(), underCheck: crypto.randomUUID() };
 
 async function push(api: Client, mutations: { name: string; args: unknown }[]) {
   const res = await api.post("/api/sync/push", { clientId: crypto.randomUUID(), mutations: mutations.map((m, i) => ({ id: i + 1, ...m })) });
@@ -123,6 +123,10 @@ beforeAll(async () => {
     ...valves.map((v) => reading(ids.recheck, v, { measured: MEASURED[v], method: "typed", fittedShim: v === "I1.2" || v === "E1.2" || v === "E4.1" ? 2.7 : null })),
     { name: "reading.put/1", args: { checkId: ids.recheck, reading: { valve: "E4.1", round: 1, installedStamp: 2.7, feelerGo: 0.25, feelerNoGo: 0.28, measured: 0.25, method: "feeler" } } },
     { name: "tray.put/1", args: { id: crypto.randomUUID(), size: 2.75, count: 2 } },
+    // an engine with its shims under the buckets: the Fit step's cams-out sequence and the re-check's two-turn check
+    { name: "engine.put/2", args: { id: ids.under, ...ENGINE_FOUR, name: "Under-bucket four", shimPosition: "under" } },
+    { name: "check.put/1", args: { id: ids.underCheck, engineId: ids.under, odometer: 12_000, measuredHot: false, status: "measuring" } },
+    ...valves.map((v) => reading(ids.underCheck, v, { measured: MEASURED[v], method: "typed" })),
   ]);
   const share = await api.post(`/api/checks/${ids.measured}/shares`, { clubId });
   expect(share.status).toBe(201);
@@ -269,6 +273,13 @@ describe("axe finds nothing on any screen", () => {
         await page.getByRole("heading", { name: /Swap list/ }).waitFor();
         await page.getByRole("checkbox").first().waitFor();
         await run(page, "check: Fit");
+        await page.goto(check(ids.underCheck, "fit"));
+        await page.getByRole("heading", { name: "Fit with the cams out" }).waitFor();
+        await page.getByTestId("task-turn").getByRole("checkbox").waitFor();
+        await run(page, "check: Fit, shims under the buckets");
+        await page.goto(check(ids.underCheck, "verify"));
+        await page.getByTestId("recheck-turn").waitFor();
+        await run(page, "check: Re-check, the two-turn check first");
         await page.goto(check(ids.recheck, "verify"));
         await page.getByRole("heading", { name: /Measure the changed valves again/ }).waitFor();
         await page.locator("article[data-valve]").nth(2).waitFor();

@@ -91,6 +91,8 @@ describe("a whole check offline, then sync", () => {
     await ctx.setOffline(true);
     await page.getByRole("link", { name: /Add an engine/ }).tap();
     await page.getByLabel("Start from a layout").selectOption("i4-16");
+    // the preset says the shims sit under the buckets (common practice); this engine has them over
+    await page.getByLabel(/^Shims over the buckets/).check();
     await page.getByLabel("Name").fill("Offline four");
     await page.getByLabel("Intake from (mm)").fill("0.10");
     await page.getByLabel("Intake to (mm)").fill("0.20");

@@ -4,6 +4,7 @@ import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { Browser } from "playwright-core";
 import { checkPlan, valveViews } from "@/lib/check/derive";
+import { camsOut, camsOutWords } from "@/lib/lash";
 import type { LocalEngine, LocalReading } from "@/lib/sync/local-db";
 import { baseUrl, launch, phoneContext } from "../support/browser";
 import { signedInClient } from "../support/api";
@@ -20,8 +21,10 @@ const OUT = path.resolve(__dirname, "../../test-results/worksheet");
 // Invented engines (test data): a twin with one intake and one exhaust per cylinder and a 0.025 mm
 // series (TRADE.md: common practice), and an inline six with four
 // valves per cylinder firing 1-5-3-6-2-4 (the preset's order).
-const TWIN = { name: "Test twin, ‘green’ & co", cylinders: 2, intakePerCylinder: 1, exhaustPerCylinder: 1, firingOrder: [1, 2], intake: { min: 0.1, max: 0.15 }, exhaust: { min: 0.15, max: 0.2 }, shims: { min: 1.2, max: 3.0, step: 0.025 }, shimDiameter: 7.48 };
-const SIX = { name: "Test six", cylinders: 6, intakePerCylinder: 2, exhaustPerCylinder: 2, firingOrder: [1, 5, 3, 6, 2, 4], intake: { min: 0.1, max: 0.2 }, exhaust: { min: 0.2, max: 0.3 }, shims: { min: 2.5, max: 3.3, step: 0.05 } };
+// The twin's shims sit over its buckets, the six's under them (the six's cams-out steps must still
+// leave the sheet on one page).
+const TWIN = { name: "Test twin, ‘green’ & co", cylinders: 2, intakePerCylinder: 1, exhaustPerCylinder: 1, firingOrder: [1, 2], intake: { min: 0.1, max: 0.15 }, exhaust: { min: 0.15, max: 0.2 }, shims: { min: 1.2, max: 3.0, step: 0.025 }, shimDiameter: 7.48, shimPosition: "over" };
+const SIX = { name: "Test six", cylinders: 6, intakePerCylinder: 2, exhaustPerCylinder: 2, firingOrder: [1, 5, 3, 6, 2, 4], intake: { min: 0.1, max: 0.2 }, exhaust: { min: 0.2, max: 0.3 }, shims: { min: 2.5, max: 3.3, step: 0.05 }, shimPosition: "under" };
 
 // Clearances from the default blade strips, some out of band, so the plan swaps and buys.
 const TWIN_READINGS = [
@@ -107,6 +110,20 @@ describe("the printed worksheet", () => {
             expect(line).toContain(shim(a.size));
             expect(line).toContain(a.source.kind === "valve" ? `from ${a.source.valveId}` : a.source.kind === "buy" ? "buy" : "from the tray");
           } else expect(line).toContain("keep");
+        }
+        // where the shims sit, and (under the buckets) which cams come out, from the plan's changed
+        // valves (common practice: the cam over a valve comes out to reach a shim under its bucket)
+        if (key === "six") {
+          expect(flow).toContain("Shims under the buckets");
+          const changed = plan.assignments.filter((a) => a.source.kind !== "keep").map((a) => a.valveId);
+          expect(flow).toContain(camsOutWords(camsOut({ shimPosition: "under", valves: changed })));
+          expect(flow).toMatch(/Cams out: intake \(cylinders [\d, ]+\), exhaust \(cylinders [\d, ]+\)\./);
+          expect(flow).toContain("Fit with the cams out");
+          expect(flow).toContain("two full turns by hand");
+        } else {
+          expect(flow).toContain("Shims over the buckets · Cams stay in");
+          expect(flow).toContain("bucket tool");
+          expect(flow).not.toContain("Cams out:");
         }
         // the buy list, as counts and sizes
         for (const b of plan.buy) expect(text).toContain(`${b.count} × ${shim(b.size)}`);

@@ -11,7 +11,7 @@ export const POST = route({ body: engineInput, status: 201 }, async ({ user, bod
   engine: await write(user, async (w) => {
     const id = body.id ?? crypto.randomUUID();
     if (body.id && (await getEngineRow(w.tx, id))) throw conflict("An engine with this id exists already");
-    await apply(w, "engine.put/1", { ...body, id });
+    await apply(w, "engine.put/2", { ...body, id, shimPosition: body.shimPosition ?? null });
     return engineToApi((await getEngineRow(w.tx, id))!);
   }),
 }));

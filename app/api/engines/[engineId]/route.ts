@@ -15,7 +15,8 @@ export const GET = route({ params }, async ({ user, params }) => ({ engine: engi
 export const PATCH = route({ params, body: engineUpdate.omit({ id: true }) }, async ({ user, params, body }) => ({
   engine: await write(user, async (w) => {
     const row = await ownEngine(w.tx, user, params.engineId);
-    await apply(w, "engine.put/1", { ...mergeEngine(row, body), id: row.id });
+    const merged = mergeEngine(row, body);
+    await apply(w, "engine.put/2", { ...merged, id: row.id, shimPosition: merged.shimPosition ?? null });
     return engineToApi((await getEngineRow(w.tx, row.id))!);
   }),
 }));

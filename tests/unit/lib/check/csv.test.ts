@@ -13,7 +13,7 @@ import { importChecks } from "@/lib/sync/writes";
 const four: LocalEngine = {
   id: "0b6f5c2e-2222-4a4a-9a9a-000000000001", name: "Test four", cylinders: 4, intakePerCylinder: 2, exhaustPerCylinder: 2, firingOrder: [1, 3, 4, 2], firingAngles: null,
   timing: { ivo: 20, ivc: 50, evo: 50, evc: 20 }, intake: { min: 0.1, max: 0.2 }, exhaust: { min: 0.2, max: 0.3 }, measuredHot: false,
-  shims: { min: 2.5, max: 3.3, step: 0.05 }, shimDiameter: null, assembledShim: 2.6, displayUnit: "mm", odometerUnit: "km", mirrored: false,
+  shims: { min: 2.5, max: 3.3, step: 0.05 }, shimDiameter: null, assembledShim: 2.6, displayUnit: "mm", odometerUnit: "km", mirrored: false, shimPosition: null,
 };
 const reading = (valve: string, installed: number, measured: number, extra: Partial<LocalReading> = {}): LocalReading => ({
   checkId: "c", valve, round: 0, installedStamp: installed, installedMicrometer: null, feelerGo: measured, feelerNoGo: null, measured, method: "feeler", fittedShim: null, ...extra,
@@ -48,6 +48,17 @@ describe("check CSV export", () => {
     const csv = checkCsv({ engine: '=Four, "red"', odometer: 1, odometerUnit: "km", date: "2026-05-30" }, views, null);
     const row = rowsOf(csv)[0]!;
     expect(row).toMatchObject({ engine: `'=Four, "red"`, shim_mm: "2.600", micrometer_mm: "2.613", clearance_mm: "0.150" });
+  });
+
+  it("says on every row where the engine's shims sit, and reads back the same with the column there", () => {
+    const rs = [reading("I1.1", 2.8, 0.3)];
+    const views = valveViews(four, rs, () => 2.6);
+    const csv = checkCsv({ engine: "Test four", odometer: 12000, odometerUnit: "km", date: "2026-05-30", shimPosition: "under" }, views, checkPlan(four, views, []));
+    const rows = rowsOf(csv);
+    expect(rows.length).toBeGreaterThan(1);
+    for (const r of rows) expect(r.shim_position).toBe("under");
+    expect(rowsOf(checkCsv({ engine: "Test four", odometer: 1, odometerUnit: "km", date: "2026-05-30" }, views, null))[0]!.shim_position).toBe("");
+    expect(readChecksCsv(csv, four, [], { today: TODAY }).ok).toBe(true);
   });
 
   it("names the file after the engine", () => {

@@ -1,0 +1,1 @@
+ALTER TABLE `engines` ADD `shim_position` enum('over','under');

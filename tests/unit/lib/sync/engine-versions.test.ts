@@ -1,0 +1,84 @@
+import "fake-indexeddb/auto";
+import Dexie from "dexie";
+import { describe, expect, it } from "vitest";
+import { parseMutation } from "@/lib/sync/mutations";
+import { openLocalDb, getMeta } from "@/lib/sync/local-db";
+import { beginFit, saveCheck, saveEngine, saveReading, setTurned, toggleFitTask, toggleSwap } from "@/lib/sync/writes";
+import { valvesOfMoves, workOrderKey, type WorkOrderState } from "@/lib/check/fit";
+import type { ShimMove } from "@/lib/lash";
+
+// An invented four (test data): bands and series are placeholders, not trade data.
+const id = "0b6f5c2e-3333-4a4a-9a9a-000000000001";
+const FOUR = { id, name: "Test four", cylinders: 4, intakePerCylinder: 2, exhaustPerCylinder: 2, firingOrder: [1, 3, 4, 2], intake: { min: 0.1, max: 0.2 }, exhaust: { min: 0.2, max: 0.3 }, shims: { min: 2.5, max: 3.3, step: 0.05 } };
+
+describe("engine mutations: the shape an older phone sent still means what it meant", () => {
+  it('"engine.put/1" accepts the first shape, and drops where the shims sit if it is sent there', () => {
+    const old = parseMutation("engine.put/1", FOUR);
+    expect(old.ok).toBe(true);
+    const sent = parseMutation("engine.put/1", { ...FOUR, shimPosition: "under" });
+    expect(sent.ok && "shimPosition" in (sent.args as object)).toBe(false);
+  });
+
+  it('"engine.put/2" carries it: over, under, or null (not said); anything else is refused with its field', () => {
+    for (const p of ["over", "under", null]) {
+      const r = parseMutation("engine.put/2", { ...FOUR, shimPosition: p });
+      expect(r.ok && (r.args as { shimPosition: unknown }).shimPosition).toBe(p);
+    }
+    expect(parseMutation("engine.put/2", FOUR)).toMatchObject({ ok: false, reason: expect.stringMatching(/^shimPosition:/) });
+    expect(parseMutation("engine.put/2", { ...FOUR, shimPosition: "beside" })).toMatchObject({ ok: false, reason: expect.stringMatching(/over" or "under/) });
+    // the profile's other rules still hold in the new version
+    expect(parseMutation("engine.put/2", { ...FOUR, shimPosition: "over", firingOrder: [1, 2] })).toMatchObject({ ok: false, reason: expect.stringMatching(/^firingOrder/) });
+  });
+
+  it("the phone saves an engine as engine.put/2, keeping the answer locally", async () => {
+    const db = openLocalDb(crypto.randomUUID());
+    await saveEngine(db, { ...FOUR, shimPosition: "under" } as never);
+    expect((await db.engines.get(id))?.shimPosition).toBe("under");
+    expect((await db.outbox.toArray()).map((o) => [o.name, (o.args as { shimPosition: unknown }).shimPosition])).toEqual([["engine.put/2", "under"]]);
+  });
+});
+
+describe("the phone's database, version 3", () => {
+  it("an engine kept by an older app version opens as not said (null), nothing else changed", async () => {
+    const userId = crypto.randomUUID();
+    // the database as version 2 of the app left it
+    const old = new Dexie(`lashwright-${userId}`);
+    old.version(1).stores({ engines: "id, name", checks: "id, engineId, startedAt", readings: "[checkId+valve+round], checkId", tray: "id, size", comments: "id, checkId", outbox: "++seq, &mutationId", meta: "key" });
+    old.version(2).stores({ photos: "id, checkId, state" });
+    await old.open();
+    await old.table("engines").put({ ...FOUR, mirrored: true });
+    old.close();
+    const db = openLocalDb(userId);
+    const e = await db.engines.get(id);
+    expect(e?.shimPosition).toBeNull();
+    expect(e?.mirrored).toBe(true);
+    expect(db.verno).toBe(3);
+  });
+});
+
+describe("an under-bucket fit's ticks", () => {
+  const checkId = "0b6f5c2e-3333-4a4a-9a9a-0000000000c1";
+  const moves: ShimMove[] = [
+    { size: 2.6, from: { kind: "valve", valveId: "E2.1" }, to: { kind: "valve", valveId: "I1.1" } },
+    { size: 2.55, from: { kind: "tray" }, to: { kind: "valve", valveId: "E2.1" } },
+  ];
+
+  it("the changed valves are every valve a shim leaves or reaches", () => {
+    expect(valvesOfMoves(moves).sort()).toEqual(["E2.1", "I1.1"]);
+  });
+
+  it("tasks, swaps and the re-check's two-turn check are kept together, none wiping another", async () => {
+    const db = openLocalDb(crypto.randomUUID());
+    await db.engines.put({ id } as never);
+    await saveCheck(db, { id: checkId, engineId: id, odometer: 1000, measuredHot: false });
+    for (const v of ["I1.1", "E2.1"]) await saveReading(db, checkId, { valve: v, round: 0, installedStamp: 2.6, installedMicrometer: null, feelerGo: 0.05, feelerNoGo: null, measured: 0.05, method: "feeler", fittedShim: null });
+    await beginFit(db, checkId, moves);
+    expect(await toggleFitTask(db, checkId, "timing")).toBe(true);
+    await toggleFitTask(db, checkId, "mark");
+    await toggleSwap(db, checkId, 0);
+    expect(await toggleFitTask(db, checkId, "mark")).toBe(false);
+    await setTurned(db, checkId, true);
+    const order = await getMeta<WorkOrderState>(db, workOrderKey(checkId));
+    expect(order).toMatchObject({ done: [true, false], tasks: ["timing"], turned: true });
+  });
+});
