@@ -2,6 +2,7 @@
 
 import Link from "next/link";
 import { useEffect, useState } from "react";
+import type { OutboxEntry } from "@/lib/sync/local-db";
 import { useLocal } from "./local-provider";
 
 function ago(ms: number): string {
@@ -13,9 +14,31 @@ function ago(ms: number): string {
   return h < 48 ? `${h} h ago` : `${Math.round(h / 24)} days ago`;
 }
 
+const KINDS: Record<string, string> = {
+  engine: "an engine",
+  check: "a check",
+  reading: "a reading",
+  tray: "a shim in the tray",
+  comment: "a comment",
+  verdict: "a review verdict",
+  pool: "a club pool offer",
+  borrow: "a shim loan",
+};
+
+/** A queued change in the mechanic's words: what it is about, and the valve for a reading. */
+function whatChange(m: OutboxEntry): string {
+  const [kind = "", verb = ""] = m.name.split("/")[0]!.split(".");
+  const what = KINDS[kind] ?? "a change";
+  const valve = (m.args as { reading?: { valve?: unknown } } | null)?.reading?.valve;
+  const action = verb === "delete" || verb === "withdraw" ? "deleting " : "";
+  return `${action}${what}${typeof valve === "string" ? ` (${valve})` : ""}`;
+}
+
 /** One small line that always says where the work is: on this phone, waiting, or synced. */
 export function SyncLine() {
-  const { waiting, lastSyncAt, state, retryAt, rejected, syncNow } = useLocal();
+  const { waiting, lastSyncAt, state, retryAt, held, syncNow, retry, discard } = useLocal();
+  const refused = held.filter((m) => m.held?.kind === "refused");
+  const later = held.find((m) => m.held?.kind === "later");
   const [, tick] = useState(0);
   useEffect(() => {
     const t = setInterval(() => tick((n) => n + 1), 30_000);
@@ -48,12 +71,36 @@ export function SyncLine() {
           )
         )}
       </div>
-      {rejected.length > 0 && (
-        <details className="text-tight">
-          <summary className="min-h-12 cursor-pointer py-3 font-bold">✕ {rejected.length} change{rejected.length === 1 ? " was" : "s were"} refused by the server</summary>
-          <ul className="list-disc pl-5">
-            {rejected.slice(-5).map((r) => (
-              <li key={r.id}>{r.reason}</li>
+      {later && (
+        <p className="text-ink-soft" data-testid="sync-later">
+          The server could not take {whatChange(later)} yet ({later.held!.reason}); it stays on this phone and is sent again at the next sync.
+        </p>
+      )}
+      {refused.length > 0 && (
+        <details className="text-tight" open data-testid="sync-refused">
+          <summary className="min-h-12 cursor-pointer py-3 font-bold">
+            ✕ The server refused {refused.length} change{refused.length === 1 ? "" : "s"}: kept on this phone until you decide
+          </summary>
+          <ul className="flex flex-col gap-2 text-ink">
+            {refused.map((m) => (
+              <li key={m.seq} className="flex flex-col gap-1 rounded-xl border-2 border-line p-2">
+                <span>
+                  {whatChange(m)}: <span className="font-bold">{m.held!.reason}</span>
+                </span>
+                <span className="flex flex-wrap gap-2">
+                  {/* retry after fixing what it depends on (the engine, the check); discard takes the server's copy */}
+                  <button type="button" onClick={() => void retry(m.seq!)} className="min-h-12 rounded-xl border-2 border-line px-3 font-bold">
+                    Send again
+                  </button>
+                  <button
+                    type="button"
+                    onClick={() => window.confirm(`Discard ${whatChange(m)}? What the server has stays as it is.`) && void discard(m.seq!)}
+                    className="min-h-12 rounded-xl border-2 border-line px-3 font-bold"
+                  >
+                    Discard
+                  </button>
+                </span>
+              </li>
             ))}
           </ul>
         </details>

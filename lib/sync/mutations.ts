@@ -64,8 +64,8 @@ export const pullInput = z.object({
 export type Cursor = z.infer<typeof pullInput>["cursor"];
 
 /** Parse one mutation's arguments; returns the reason it is refused, or the parsed args. */
-export function parseMutation(name: string, args: unknown): { ok: true; name: MutationName; args: unknown } | { ok: false; reason: string } {
-  if (!(name in MUTATIONS)) return { ok: false, reason: `unknown change "${name}"` };
+export function parseMutation(name: string, args: unknown): { ok: true; name: MutationName; args: unknown } | { ok: false; reason: string; unknown?: true } {
+  if (!Object.hasOwn(MUTATIONS, name)) return { ok: false, reason: `unknown change "${name}"`, unknown: true };
   const r = MUTATIONS[name as MutationName].safeParse(args);
   if (!r.success) {
     const i = r.error.issues[0]!;
