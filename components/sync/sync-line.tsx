@@ -72,9 +72,19 @@ export function SyncLine() {
         )}
       </div>
       {later && (
-        <p className="text-ink-soft" data-testid="sync-later">
-          The server could not take {whatChange(later)} yet ({later.held!.reason}); it stays on this phone and is sent again at the next sync.
-        </p>
+        <div className="flex flex-wrap items-center gap-2 text-ink-soft" data-testid="sync-later">
+          <span>
+            The server could not take {whatChange(later)} yet ({later.held!.reason}); it stays on this phone, and it and the changes after it are sent
+            again at the next sync.
+          </span>
+          <button
+            type="button"
+            onClick={() => window.confirm(`Discard ${whatChange(later)}? The changes after it then go through.`) && void discard(later.seq!)}
+            className="min-h-12 rounded-xl border-2 border-line px-3 font-bold"
+          >
+            Discard it
+          </button>
+        </div>
       )}
       {refused.length > 0 && (
         <details className="text-tight" open data-testid="sync-refused">

@@ -116,11 +116,17 @@ export async function retryHeld(db: LocalDb, seq: number): Promise<void> {
   });
 }
 
-/** The mechanic chose to drop a change the server did not take; the next pull brings the server's copy. */
+/**
+ * The mechanic chose to drop a change the server did not take. The phone's copy of that record
+ * still shows the change, and the server's unchanged row would never come in a pull after the
+ * cursor: the cursor is cleared, so the next pull is a full one and brings the server's copy.
+ */
 export async function discardHeld(db: LocalDb, seq: number): Promise<void> {
-  await db.transaction("rw", db.outbox, async () => {
+  await db.transaction("rw", db.outbox, db.meta, async () => {
     const m = await db.outbox.get(seq);
-    if (m?.held) await db.outbox.delete(seq);
+    if (!m?.held) return;
+    await db.outbox.delete(seq);
+    await db.meta.delete("cursor");
   });
 }
 

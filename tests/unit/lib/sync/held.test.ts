@@ -101,8 +101,11 @@ describe("a change the server does not apply stays on the phone", () => {
     await pushAll(db, s.fetcher);
     expect(s.applied).toEqual(["I5.1"]);
     expect((await heldEntries(db)).map((m) => valveOf(m.args))).toEqual(["I6.1"]);
+    await db.meta.put({ key: "cursor", value: "o:7" });
     await discardHeld(db, b!.seq!);
     expect(await db.outbox.count()).toBe(0);
+    // the next pull is a full one, so the server's copy of that record replaces the discarded change
+    expect(await db.meta.get("cursor")).toBeUndefined();
   });
 
   it("discard never removes a change that is only waiting", async () => {
