@@ -266,3 +266,22 @@ describe("a deploy while a check is open", () => {
     await second.getByTestId("release").getByText("Release B").waitFor({ timeout: 30_000 });
   });
 });
+
+describe("a newer build's database upgrade in another window", () => {
+  it("the older window is told to reload, not left failing to save", async () => {
+    const page = ctx.pages()[0]!;
+    const other = await ctx.newPage();
+    await other.goto(`${base}/offline`);
+    // what a later build's first open does: a higher version of the same database
+    await other.evaluate(async () => {
+      const user = JSON.parse(localStorage.getItem("lashwright.user") ?? "null") as { id: string };
+      await new Promise<void>((resolve, reject) => {
+        const req = indexedDB.open(`lashwright-${user.id}`, 1000);
+        req.onsuccess = () => (req.result.close(), resolve());
+        req.onerror = () => reject(req.error);
+      });
+    });
+    await page.getByTestId("db-notice").getByText(/needs this one to reload \(your readings are saved\)/).waitFor({ timeout: 10_000 });
+    await other.close();
+  });
+});
