@@ -140,8 +140,9 @@ async function keepPreviousBuild() {
     const u = new URL(r.url);
     return u.pathname.startsWith("/_next/static/") && !current.has(u.pathname);
   });
-  if (stale.length === 0) return;
   const open = (await self.clients.matchAll({ type: "window", includeUncontrolled: true })).map((c) => c.id);
+  // with no page open nothing runs the previous build; with no file of its own it still has its page data to keep
+  if (open.length === 0) return;
   // the build that ran until now: the one whose page data is here and not yet a previous build's
   const known = new Set((await previousBuilds()).map((p) => p.meta.build));
   const rscOld = (await caches.keys()).filter((k) => k.startsWith(`${RSC_CACHE}-`) && k !== RSC_THIS).map((k) => k.slice(RSC_CACHE.length + 1));
