@@ -15,5 +15,5 @@ export default defineConfig([
       ],
     },
   },
-  globalIgnores([".next/**", "node_modules/**", ".data/**", "public/serwist/**", "next-env.d.ts", "test-results/**"]),
+  globalIgnores([".next/**", ".next-*/**", "node_modules/**", ".data/**", "public/serwist/**", "next-env.d.ts", "test-results/**"]),
 ]);

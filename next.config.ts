@@ -34,6 +34,11 @@ const COMMON = [
 ];
 
 const nextConfig: NextConfig = {
+  // A second build beside the first (tests/e2e/update.test.ts deploys one over the other); the
+  // service worker's precache list reads the same folder (app/serwist/[path]/route.ts).
+  distDir: process.env.LASHWRIGHT_DIST_DIR || ".next",
+  // source maps for a build being debugged on a phone; they also give every file a new name
+  productionBrowserSourceMaps: process.env.LASHWRIGHT_SOURCE_MAPS === "1",
   reactStrictMode: true,
   poweredByHeader: false,
   // The app runs from its own folder; keep Turbopack from guessing a workspace root above it.

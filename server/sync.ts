@@ -68,15 +68,26 @@ async function refundWrites(user: SessionUser, clientId: string, cost: number) {
  */
 export interface PushResult {
   lastMutationId: number;
+  /** refused for good: the phone keeps each one, shows its reason, and the mechanic decides */
   rejected: { id: number; name: string; reason: string }[];
+  /**
+   * Not applied, to be sent again later under the same id: a name this server does not know yet
+   * (a phone already on a newer build than this server during a deploy) or an unexpected failure
+   * in the server's own code. Nothing after it was applied, so the queue keeps its order.
+   */
+  later?: { id: number; name: string; reason: string };
 }
 
-type Parsed = { id: number; name: string; args: unknown; reason?: string };
+type Parsed = { id: number; name: string; args: unknown; reason?: string; unknown?: boolean };
+
+/** A mutation not applied now that must be sent again later (see PushResult.later). */
+class Later extends Error {}
 
 /**
  * Why a mutation is refused, for the phone. A failure of the moment (the server saturated, a lock
  * waited too long) is not a refusal: it fails the whole push, nothing is recorded, and the phone
- * sends the same outbox again later.
+ * sends the same outbox again later. A failure in the server's own code is not the mechanic's
+ * doing either: it is "later" (the fix ships, the change goes through), never a refusal.
  */
 function reasonOf(e: unknown): string {
   const d = domainErrorOf(e);
@@ -84,7 +95,7 @@ function reasonOf(e: unknown): string {
   if (d) return d.message;
   if (e instanceof LashInputError) return e.message;
   console.error("[sync] a change could not be applied:", e instanceof Error ? e.message : e);
-  return "the server could not apply this change";
+  throw new Later("the server could not apply this change yet");
 }
 
 /** Run one step in a savepoint; its post-commit work is kept only if the step succeeds. */
@@ -98,6 +109,7 @@ const readingArgs = (m: Parsed) => m.args as MutationArgs<"reading.put/1">;
 
 export async function push(user: SessionUser, input: PushInput): Promise<PushResult> {
   let rejected: PushResult["rejected"] = [];
+  let later: PushResult["later"];
   let after: After[] = [];
   // what this push would apply, as the device's row says now: only that is charged
   const known = await q.clientOwner(input.clientId);
@@ -108,14 +120,18 @@ export async function push(user: SessionUser, input: PushInput): Promise<PushRes
   // start, its client row read afresh, so what the winner applied is skipped (db/retry.ts)
   const lastMutationId = await retryConflicts(() => transaction(async (tx) => {
     rejected = [];
+    later = undefined;
     after = [];
     applied = 0;
     const last = await q.lockClient(tx, input.clientId, user.id);
+    // a push sent again because its answer was lost: what was refused then is said again, so the
+    // phone never takes a refused change for an applied one and drops it
+    rejected = await q.rejectedAmong(tx, input.clientId, input.mutations.filter((m) => m.id <= last).map((m) => m.id));
     const fresh: Parsed[] = input.mutations
       .filter((m) => m.id > last)
       .map((m) => {
         const p = parseMutation(m.name, m.args);
-        return p.ok ? { id: m.id, name: p.name, args: p.args } : { id: m.id, name: m.name, args: m.args, reason: p.reason };
+        return p.ok ? { id: m.id, name: p.name, args: p.args } : { id: m.id, name: m.name, args: m.args, reason: p.reason, unknown: p.unknown };
       });
     applied = fresh.length;
     if (fresh.length === 0) return last;
@@ -124,11 +140,32 @@ export async function push(user: SessionUser, input: PushInput): Promise<PushRes
       rejected.push({ id: m.id, name: m.name, reason });
       await q.recordRejected(tx, input.clientId, m.id, m.name, reason);
     };
-    const one = (m: Parsed) => step(tx, user, version, after, (w) => apply(w, m.name as MutationName, m.args as never)).catch((e: unknown) => reject(m, reasonOf(e)));
-    for (let i = 0; i < fresh.length; ) {
+    const one = (m: Parsed) =>
+      step(tx, user, version, after, (w) => apply(w, m.name as MutationName, m.args as never)).catch((e: unknown) => {
+        // reasonOf decides before the savepoint's rollback is forgotten: Later stops the push below
+        const reason = (() => {
+          try {
+            return reasonOf(e);
+          } catch (x) {
+            if (x instanceof Later) later = { id: m.id, name: m.name, reason: x.message };
+            else throw x;
+            return null;
+          }
+        })();
+        if (reason !== null) return reject(m, reason);
+      });
+    // the id of the last mutation this push has dealt with (applied or refused for good)
+    let done = last;
+    for (let i = 0; i < fresh.length && !later; ) {
       const m = fresh[i]!;
+      // a name this server does not know may come from a newer app: kept for later, never refused
+      if (m.unknown) {
+        later = { id: m.id, name: m.name, reason: m.reason! };
+        break;
+      }
       if (m.reason) {
         await reject(m, m.reason);
+        done = m.id;
         i++;
         continue;
       }
@@ -139,25 +176,37 @@ export async function push(user: SessionUser, input: PushInput): Promise<PushRes
         while (j < fresh.length && fresh[j]!.name === "reading.put/1" && !fresh[j]!.reason && readingArgs(fresh[j]!).checkId === checkId) j++;
         const run = fresh.slice(i, j);
         if (run.length > 1) {
+          // a transient failure throws (the whole push is tried again); any other one means
+          // something in the run is refused or failed: apply them one by one to find it
           const ok = await step(tx, user, version, after, (w) => applyReadings(w, checkId, run.map((r) => readingArgs(r).reading)))
             .then(() => true)
-            .catch((e: unknown) => (reasonOf(e), false));
+            .catch((e: unknown) => {
+              const d = domainErrorOf(e);
+              if (d?.kind === "overloaded" || (!d && isTransientDbError(e))) throw e;
+              return false;
+            });
           if (ok) {
+            done = run[run.length - 1]!.id;
             i = j;
             continue;
           }
-          // something in the run is refused: apply them one by one to find it
         }
-        for (const r of run) await one(r);
+        for (const r of run) {
+          await one(r);
+          if (later) break;
+          done = r.id;
+        }
         i = j;
         continue;
       }
       await one(m);
+      if (!later) done = m.id;
       i++;
     }
-    const newLast = fresh[fresh.length - 1]!.id;
-    await q.setLastMutation(tx, input.clientId, newLast);
-    return newLast;
+    if (done > last) await q.setLastMutation(tx, input.clientId, done);
+    // what a change held for later stopped is not this push's work either
+    applied = fresh.filter((m) => m.id <= done).length;
+    return done;
   })).catch(async (e: unknown) => {
     // nothing was applied (a refusal of the whole push, a failure of the moment): nothing is spent
     await refundWrites(user, input.clientId, charged);
@@ -167,7 +216,7 @@ export async function push(user: SessionUser, input: PushInput): Promise<PushRes
   await refundWrites(user, input.clientId, charged - applied);
   // notices are queued only once the changes are committed; a failure here never fails the push
   await runAfter(after);
-  return { lastMutationId, rejected };
+  return later ? { lastMutationId, rejected, later } : { lastMutationId, rejected };
 }
 
 /** A cursor as the phone sent it, as a place in the owner's changes (null: from the start). */

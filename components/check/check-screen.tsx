@@ -11,6 +11,7 @@ import { beginFit, saveEngine, setCheckStatus } from "@/lib/sync/writes";
 import { usePool } from "@/components/pool/use-pool";
 import { useLocal } from "@/components/sync/local-provider";
 import { Notice } from "@/components/ui/controls";
+import { StepBoundary } from "@/components/sync/load-failed";
 import { useStored } from "@/components/ui/use-stored";
 import { MeasureStep } from "./measure-step";
 import { PrepareStep } from "./prepare-step";
@@ -36,6 +37,24 @@ const PlanStep = dynamic(
 );
 const FitStep = dynamic(() => import("./fit-step").then((m) => m.FitStep), { ssr: false });
 const VerifyStep = dynamic(() => import("./verify-step").then((m) => m.VerifyStep), { ssr: false });
+
+/**
+ * Once a check is open, the later steps' code is fetched in the background (when the phone is
+ * idle), so it is in memory before the garage: a step then opens even if a deploy removed its
+ * files from the server and the phone's caches were cleared. Failures are left to the step itself.
+ */
+function useLaterStepsLoaded() {
+  useEffect(() => {
+    const load = () =>
+      void Promise.all([import("./plan-step"), import("@/components/review/ask-review"), import("./worksheet"), import("./fit-step"), import("./verify-step")]).catch(() => undefined);
+    if (typeof window.requestIdleCallback === "function") {
+      const h = window.requestIdleCallback(load, { timeout: 3000 });
+      return () => window.cancelIdleCallback(h);
+    }
+    const t = setTimeout(load, 1000);
+    return () => clearTimeout(t);
+  }, []);
+}
 
 /** The check page: reads the check's id (and step) from the address and shows that step. */
 export function CheckScreen() {
@@ -79,6 +98,7 @@ export function CheckScreen() {
 function CheckBody({ data, step, go, moved }: { data: CheckData; step?: Step; go: (s: Step) => void; moved: boolean }) {
   const { check, engine, readings, tray, previous } = data;
   const { db, user } = useLocal();
+  useLaterStepsLoaded();
   const current: Step = step ?? stepOfStatus(check.status, readings.length > 0);
   // the club pool is asked for (and the outbox watched for loans) only on the steps that plan with it
   const pool = usePool({ active: current === "plan" || current === "fit" });
@@ -131,30 +151,32 @@ function CheckBody({ data, step, go, moved }: { data: CheckData; step?: Step; go
           A later check of this engine, at {later.odometer.toLocaleString("en")} {engine.odometerUnit}, is already closed. This one is older: its readings are not the engine as it is now, so do not fit shims from its plan. Close it, or measure again in a new check.
         </Notice>
       )}
-      {current === "prepare" && <PrepareStep checkId={check.id} engine={engine} onDone={() => go("measure")} focusHeading={moved} />}
-      {current === "measure" && <MeasureStep engine={engine} views={views} sizes={sizes} step={seriesStep} save={save} onTurn={turn} onDone={() => go("plan")} previous={previous} checkId={check.id} focusHeading={moved} />}
-      {current === "plan" && (
-        <PlanStep
-          engine={engine}
-          check={check}
-          views={views}
-          plan={plan}
-          error={planError}
-          onTurn={turn}
-          onFit={() => {
-            startFit();
-            go("fit");
-          }}
-          pool={pool}
-          fit={fit}
-          options={options}
-          setOptions={setOptions}
-          trayOtherSystem={trayFit.otherSystem}
-          focusHeading={moved}
-        />
-      )}
-      {current === "fit" && <FitStep engine={engine} views={views} checkId={check.id} startFit={startFit} onDone={() => (db && setCheckStatus(db, check.id, "verifying"), go("verify"))} focusHeading={moved} />}
-      {current === "verify" && <VerifyStep engine={engine} views={views} sizes={sizes} step={seriesStep} save={save} check={check} focusHeading={moved} />}
+      <StepBoundary key={current}>
+        {current === "prepare" && <PrepareStep checkId={check.id} engine={engine} onDone={() => go("measure")} focusHeading={moved} />}
+        {current === "measure" && <MeasureStep engine={engine} views={views} sizes={sizes} step={seriesStep} save={save} onTurn={turn} onDone={() => go("plan")} previous={previous} checkId={check.id} focusHeading={moved} />}
+        {current === "plan" && (
+          <PlanStep
+            engine={engine}
+            check={check}
+            views={views}
+            plan={plan}
+            error={planError}
+            onTurn={turn}
+            onFit={() => {
+              startFit();
+              go("fit");
+            }}
+            pool={pool}
+            fit={fit}
+            options={options}
+            setOptions={setOptions}
+            trayOtherSystem={trayFit.otherSystem}
+            focusHeading={moved}
+          />
+        )}
+        {current === "fit" && <FitStep engine={engine} views={views} checkId={check.id} startFit={startFit} onDone={() => (db && setCheckStatus(db, check.id, "verifying"), go("verify"))} focusHeading={moved} />}
+        {current === "verify" && <VerifyStep engine={engine} views={views} sizes={sizes} step={seriesStep} save={save} check={check} focusHeading={moved} />}
+      </StepBoundary>
     </div>
   );
 }

@@ -6,8 +6,9 @@ import { useLiveQuery } from "dexie-react-hooks";
 import { del } from "idb-keyval";
 import { usePathname } from "next/navigation";
 import { createContext, useCallback, useContext, useEffect, useMemo, useRef, useState, type ReactNode } from "react";
-import { openLocalDb, getMeta, type LocalDb } from "@/lib/sync/local-db";
-import { Offline, ServerBusy, SessionRevoked, SignedOut, syncOnce, wipeRevoked, type Rejected, type SyncState } from "@/lib/sync/client";
+import { openLocalDb, getMeta, type LocalDb, type OutboxEntry } from "@/lib/sync/local-db";
+import { discardHeld, heldEntries, Offline, retryHeld, ServerBusy, SessionRevoked, SignedOut, syncOnce, wipeRevoked, type SyncState } from "@/lib/sync/client";
+import { waitingCount } from "@/lib/sync/outbox";
 import { retryDelay } from "@/lib/sync/transport";
 import { useIsClient, useStored } from "@/components/ui/use-stored";
 
@@ -35,9 +36,19 @@ interface LocalContext {
   limited: boolean;
   waiting: number;
   lastSyncAt: number | null;
-  rejected: Rejected[];
+  /** changes the server did not apply: kept, with the reason, until sent or discarded */
+  held: OutboxEntry[];
   persisted: boolean | null;
+  /**
+   * "closed": a newer build's window upgraded the phone's database and this window had to let go
+   * of it (it can no longer save until reloaded); "blocked": this window waits for an older one.
+   */
+  dbNotice: "closed" | "blocked" | null;
   syncNow: () => Promise<void>;
+  /** send a refused change again (the mechanic may have fixed what it depends on) */
+  retry: (seq: number) => Promise<void>;
+  /** drop a refused change by the mechanic's choice; the server's copy comes back at the next sync */
+  discard: (seq: number) => Promise<void>;
   /** delete this user's local data and identity from the phone (before signing out) */
   forget: () => Promise<void>;
   /** the last session here was ended elsewhere: whose it was and how much unsent work it left */
@@ -72,6 +83,19 @@ export function LocalProvider({ children }: { children: ReactNode }) {
   const [persisted, setPersisted] = useState<boolean | null>(null);
   const userId = user?.id;
   const db = useMemo(() => (userId ? openLocalDb(userId) : null), [userId]);
+  const [dbNotice, setDbNotice] = useState<"closed" | "blocked" | null>(null);
+  useEffect(() => {
+    if (!db) return;
+    // a deletion (signing out in another window) has newVersion null: nothing to say then
+    const onChange = (ev: IDBVersionChangeEvent) => void (ev.newVersion && setDbNotice("closed"));
+    const onBlocked = (ev: IDBVersionChangeEvent) => void (ev.newVersion && ev.newVersion > ev.oldVersion && setDbNotice("blocked"));
+    db.on("versionchange", onChange);
+    db.on("blocked", onBlocked);
+    return () => {
+      db.on("versionchange").unsubscribe(onChange);
+      db.on("blocked").unsubscribe(onBlocked);
+    };
+  }, [db]);
   const running = useRef<Promise<void> | null>(null);
   const [retryAt, setRetryAt] = useState<number | null>(null);
   const [limited, setLimited] = useState(false);
@@ -194,9 +218,18 @@ export function LocalProvider({ children }: { children: ReactNode }) {
   }, [db, syncNow]);
 
   // changes and photos not yet on the server
-  const waiting = useLiveQuery(async () => (db ? (await db.outbox.count()) + (await db.photos.where("state").equals("waiting").count()) : 0), [db], 0);
+  const waiting = useLiveQuery(async () => (db ? (await waitingCount(db)) + (await db.photos.where("state").equals("waiting").count()) : 0), [db], 0);
   const lastSyncAt = useLiveQuery(async () => (db ? ((await getMeta<number>(db, "lastSyncAt")) ?? null) : null), [db, state], null);
-  const rejected = useLiveQuery(async () => (db ? ((await getMeta<Rejected[]>(db, "rejected")) ?? []) : []), [db, state], []);
+  const held = useLiveQuery(async () => (db ? await heldEntries(db) : []), [db], []);
+  const retry = useCallback(
+    async (seq: number) => {
+      if (!db) return;
+      await retryHeld(db, seq);
+      await syncNow();
+    },
+    [db, syncNow],
+  );
+  const discard = useCallback(async (seq: number) => void (db && (await discardHeld(db, seq))), [db]);
 
   // When changes wait and a signal may be back, ask for Background Sync where the browser has it.
   useEffect(() => {
@@ -217,7 +250,7 @@ export function LocalProvider({ children }: { children: ReactNode }) {
     storeUser(null);
   }, [db, storeUser, userId]);
 
-  const value: LocalContext = { user, ready, db, state, retryAt, limited, waiting, lastSyncAt, rejected, persisted, syncNow, forget, revoked };
+  const value: LocalContext = { user, ready, db, state, retryAt, limited, waiting, lastSyncAt, held, persisted, dbNotice, syncNow, retry, discard, forget, revoked };
   return (
     <Ctx.Provider value={value}>
       <PersistQueries userId={userId ?? null} />

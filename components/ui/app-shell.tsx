@@ -6,6 +6,7 @@ import { Suspense, type ReactNode } from "react";
 import { useLocal } from "@/components/sync/local-provider";
 import { StorageNotice } from "@/components/sync/storage-notice";
 import { SyncLine } from "@/components/sync/sync-line";
+import { UpdateNotice } from "@/components/sync/update-notice";
 import { ButtonLink, Notice } from "./controls";
 
 const PLACES = [
@@ -63,6 +64,9 @@ export function AppShell({ title, children, back }: { title: string; children: R
           )}
         </div>
         {user && <SyncLine />}
+        <UpdateNotice />
+        {/* the release a build was made as, when it was given one (set at build time) */}
+        {process.env.NEXT_PUBLIC_LASHWRIGHT_RELEASE && <p className="text-xs text-ink-soft" data-testid="release">Release {process.env.NEXT_PUBLIC_LASHWRIGHT_RELEASE}</p>}
       </header>
       <main id="content" tabIndex={-1} className="flex flex-1 flex-col gap-5 px-4 pt-4 pb-28 outline-none">
         {back && (

@@ -1,5 +1,5 @@
 import "server-only";
-import { and, asc, eq, gt, gte, lte, or, sql } from "drizzle-orm";
+import { and, asc, eq, gt, gte, inArray, lte, or, sql } from "drizzle-orm";
 import { forbidden } from "@/lib/errors";
 import { db, type Tx } from "../client";
 import { checks, comments, engines, readings, rejectedMutations, syncClients, tombstones, trayItems } from "../schema";
@@ -26,6 +26,16 @@ export async function setLastMutation(tx: Tx, clientId: string, id: number) {
 
 export async function recordRejected(tx: Tx, clientId: string, mutationId: number, name: string, reason: string) {
   await tx.insert(rejectedMutations).values({ clientId, mutationId, name: name.slice(0, 60), reason: reason.slice(0, 500) }).onDuplicateKeyUpdate({ set: { reason: reason.slice(0, 500) } });
+}
+
+/** The refusals already recorded among these ids: a push sent again after a lost answer gets them again. */
+export async function rejectedAmong(tx: Tx, clientId: string, ids: number[]) {
+  if (ids.length === 0) return [];
+  return tx
+    .select({ id: rejectedMutations.mutationId, name: rejectedMutations.name, reason: rejectedMutations.reason })
+    .from(rejectedMutations)
+    .where(and(eq(rejectedMutations.clientId, clientId), inArray(rejectedMutations.mutationId, ids)))
+    .orderBy(rejectedMutations.mutationId);
 }
 
 export async function rejectedFor(clientId: string, after: number) {

@@ -7,4 +7,11 @@ export const SHELL_PATHS = ["/", "/engines", "/engine", "/engine/edit", "/check"
 /** Query parameters that name a record; the precache ignores them when matching a shell. */
 export const SHELL_PARAMS = [/^id$/, /^engine$/, /^valve$/, /^step$/];
 
+/** The shells' page data, one cache per build: `${RSC_CACHE}-${build}` (a build never serves another's). */
 export const RSC_CACHE = "lashwright-shell-rsc";
+
+/** The hashed files of a build no longer current, kept while a page of that build is open. */
+export const PREVIOUS_CACHE = "lashwright-previous";
+
+/** Messages between the pages and the worker. */
+export const SKIP_WAITING = "SKIP_WAITING";

@@ -1,11 +1,12 @@
 import { PUSH_BATCH } from "./mutations";
 import { uploadPhotos } from "./photos";
 import { Offline, postJson, retryAfterMs, retryDelay, ServerBusy, SessionRevoked, SignedOut, type Fetch } from "./transport";
-import { getMeta, setMeta, type LocalCheck, type LocalComment, type LocalDb, type LocalEngine, type LocalReading, type LocalTrayItem } from "./local-db";
+import { getMeta, setMeta, type OutboxEntry, type LocalCheck, type LocalComment, type LocalDb, type LocalEngine, type LocalReading, type LocalTrayItem } from "./local-db";
 
 /**
  * The client side of the sync protocol, one module. Push sends the outbox in order, in batches, and
- * deletes entries only once the server says it applied them; a 401 keeps everything and asks for
+ * deletes entries only once the server says it applied them (a refused one is kept, marked, until
+ * the mechanic decides); a 401 keeps everything and asks for
  * sign-in; any other failure keeps everything for the next try. Pull then brings what changed on
  * the server since the cursor, skipping records that still have local changes waiting.
  */
@@ -49,30 +50,86 @@ export async function clientId(db: LocalDb): Promise<string> {
 
 const post = <T>(fetcher: Fetch, base: string, path: string, body: unknown) => postJson<T>(fetcher, `${base}${path}`, body, path.slice(5));
 
-/** Push the whole outbox in batches. Returns how many mutations the server acknowledged. */
-export async function pushAll(db: LocalDb, fetcher: Fetch, base = ""): Promise<{ acknowledged: number; rejected: Rejected[] }> {
+/** What the server answers to a push (server/sync.ts). */
+interface PushAnswer {
+  lastMutationId: number;
+  rejected: Rejected[];
+  later?: Rejected;
+}
+
+const isRefused = (m: OutboxEntry) => m.held?.kind === "refused";
+
+/**
+ * Push the outbox in batches. An entry leaves the outbox only once the server says it applied it;
+ * one it refused for good stays, marked with the reason, and is no longer sent until the mechanic
+ * retries it (retryHeld) or discards it (discardHeld); one it could not take yet is marked and sent
+ * again, in its place, at the next sync. Nothing queued is deleted because the server said no.
+ */
+export async function pushAll(db: LocalDb, fetcher: Fetch, base = ""): Promise<{ acknowledged: number; rejected: Rejected[]; later?: Rejected }> {
   const id = await clientId(db);
   let acknowledged = 0;
   const rejected: Rejected[] = [];
   for (;;) {
-    const batch = await db.outbox.orderBy("mutationId").limit(PUSH_BATCH).toArray();
+    const batch = await db.outbox.orderBy("mutationId").filter((m) => !isRefused(m)).limit(PUSH_BATCH).toArray();
     if (batch.length === 0) break;
-    const r = await post<{ lastMutationId: number; rejected: Rejected[] }>(fetcher, base, "/api/sync/push", {
+    const r = await post<PushAnswer>(fetcher, base, "/api/sync/push", {
       clientId: id,
       mutations: batch.map((m) => ({ id: m.mutationId, name: m.name, args: m.args })),
     });
     rejected.push(...r.rejected);
-    const done = await db.outbox.where("mutationId").belowOrEqual(r.lastMutationId).primaryKeys();
-    await db.outbox.bulkDelete(done);
-    acknowledged += done.length;
-    if (r.rejected.length) {
-      const all = (await getMeta<Rejected[]>(db, "rejected")) ?? [];
-      await setMeta(db, "rejected", [...all, ...r.rejected].slice(-50));
-    }
-    // the server acknowledged nothing new: stop rather than loop (it will be retried later)
-    if (done.length === 0) break;
+    const refused = new Map(r.rejected.map((x) => [x.id, x.reason]));
+    const at = Date.now();
+    let done = 0;
+    await db.transaction("rw", db.outbox, async () => {
+      for (const m of batch) {
+        if (m.mutationId > r.lastMutationId) continue;
+        const reason = refused.get(m.mutationId);
+        if (reason !== undefined) await db.outbox.update(m.seq!, { held: { kind: "refused", reason, at } });
+        else await db.outbox.delete(m.seq!);
+        done++;
+      }
+      const later = r.later && batch.find((m) => m.mutationId === r.later!.id);
+      if (later) await db.outbox.update(later.seq!, { held: { kind: "later", reason: r.later!.reason, at } });
+    });
+    acknowledged += done;
+    // the server is holding one back, or acknowledged nothing new: stop rather than loop (next sync)
+    if (r.later) return { acknowledged, rejected, later: r.later };
+    if (done === 0) break;
   }
   return { acknowledged, rejected };
+}
+
+/** The outbox entries the server did not apply, oldest first. */
+export async function heldEntries(db: LocalDb): Promise<OutboxEntry[]> {
+  return (await db.outbox.orderBy("mutationId").toArray()).filter((m) => m.held);
+}
+
+/**
+ * Send a refused change again: it takes the next mutation id (the server has moved past its old
+ * one, and would skip it as a replay), so it goes after everything queued since.
+ */
+export async function retryHeld(db: LocalDb, seq: number): Promise<void> {
+  await db.transaction("rw", db.outbox, db.meta, async () => {
+    const m = await db.outbox.get(seq);
+    if (!m?.held) return;
+    const next = (await getMeta<number>(db, "nextMutationId")) ?? 1;
+    await setMeta(db, "nextMutationId", next + 1);
+    await db.outbox.update(seq, { mutationId: next, held: undefined });
+  });
+}
+
+/**
+ * The mechanic chose to drop a change the server did not take. The phone's copy of that record
+ * still shows the change, and the server's unchanged row would never come in a pull after the
+ * cursor: the cursor is cleared, so the next pull is a full one and brings the server's copy.
+ */
+export async function discardHeld(db: LocalDb, seq: number): Promise<void> {
+  await db.transaction("rw", db.outbox, db.meta, async () => {
+    const m = await db.outbox.get(seq);
+    if (!m?.held) return;
+    await db.outbox.delete(seq);
+    await db.meta.delete("cursor");
+  });
 }
 
 /** Ids of records with local changes still waiting, which a pull must not overwrite. */

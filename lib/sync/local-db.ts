@@ -60,6 +60,12 @@ export interface OutboxEntry {
   name: string;
   args: unknown;
   createdAt: number;
+  /**
+   * Set when the server did not apply it. "refused": for good (the record is not the mechanic's,
+   * a value the server will not take); it is no longer sent and waits for the mechanic to retry
+   * or discard it. "later": the server could not take it yet; it is sent again at each sync.
+   */
+  held?: { kind: "refused" | "later"; reason: string; at: number };
 }
 
 export interface MetaEntry {

@@ -82,11 +82,12 @@ export function isMutationName(name: string): name is MutationName {
 }
 
 /** Parse one mutation's arguments; returns the reason it is refused, or the parsed args. */
-export function parseMutation(name: string, args: unknown): { ok: true; name: MutationName; args: unknown } | { ok: false; reason: string } {
+export function parseMutation(name: string, args: unknown): { ok: true; name: MutationName; args: unknown } | { ok: false; reason: string; unknown?: true } {
   // own properties only: "constructor", "__proto__" or "toString" are names of every object's
   // prototype, and `in` would find them (OWASP Prototype Pollution Prevention Cheat Sheet; ASVS 5.0
-  // V15 Secure Coding and Architecture)
-  if (!isMutationName(name)) return { ok: false, reason: `unknown change "${name}"` };
+  // V15 Secure Coding and Architecture). Such a name was never a change of any version: refused for
+  // good. Any other name we do not know may be a newer phone's: held for later (unknown).
+  if (!isMutationName(name)) return { ok: false, reason: `unknown change "${name}"`, ...(name in Object.prototype ? {} : { unknown: true as const }) };
   const r = MUTATIONS[name as MutationName].safeParse(args);
   if (!r.success) {
     const i = r.error.issues[0]!;

@@ -26,6 +26,7 @@ export function writeTables(db: LocalDb) {
   return [db.outbox, db.meta, db.engines, db.checks, db.readings, db.tray, db.comments];
 }
 
+/** Changes still to be sent: a refused one waits for the mechanic, not for a signal. */
 export async function waitingCount(db: LocalDb): Promise<number> {
-  return db.outbox.count();
+  return db.outbox.filter((m) => m.held?.kind !== "refused").count();
 }

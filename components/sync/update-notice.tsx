@@ -1,0 +1,84 @@
+"use client";
+
+import { useEffect, useState } from "react";
+import { SKIP_WAITING } from "@/lib/offline/shells";
+import { useLocal } from "./local-provider";
+
+/**
+ * A new build never takes over the page under the mechanic's finger (worker/sw.ts waits): this
+ * says one is ready and reloads only on a tap. Every tap is already saved in the phone's database
+ * with its outbox entry, so a reload loses nothing. It also says when another window of a newer
+ * build asks this one to let go of the phone's database (or this one waits for an older window).
+ */
+export function UpdateNotice() {
+  const { dbNotice } = useLocal();
+  const [ready, setReady] = useState(false);
+  const [reloading, setReloading] = useState(false);
+
+  useEffect(() => {
+    const sw = typeof navigator !== "undefined" ? navigator.serviceWorker : undefined;
+    if (!sw) return;
+    let stop = false;
+    // the page had a worker when it loaded: a change of worker after that is a new build taking over
+    const hadController = !!sw.controller;
+    const onControllerChange = () => {
+      if (hadController && !stop) setReady(true);
+    };
+    sw.addEventListener("controllerchange", onControllerChange);
+    let reg: ServiceWorkerRegistration | undefined;
+    const watch = (w: ServiceWorker | null) => w?.addEventListener("statechange", () => w.state === "installed" && sw.controller && !stop && setReady(true));
+    const onFound = () => watch(reg?.installing ?? null);
+    // a signal again, or the page back in view: a good moment to ask whether a new build is out
+    const check = () => navigator.onLine && reg?.update().catch(() => undefined);
+    void sw.ready.then((r) => {
+      if (stop) return;
+      reg = r;
+      if (r.waiting && sw.controller) setReady(true);
+      watch(r.installing);
+      r.addEventListener("updatefound", onFound);
+    });
+    window.addEventListener("online", check);
+    document.addEventListener("visibilitychange", check);
+    return () => {
+      stop = true;
+      sw.removeEventListener("controllerchange", onControllerChange);
+      reg?.removeEventListener("updatefound", onFound);
+      window.removeEventListener("online", check);
+      document.removeEventListener("visibilitychange", check);
+    };
+  }, []);
+
+  const reload = async () => {
+    setReloading(true);
+    const sw = navigator.serviceWorker;
+    const waiting = (await sw?.getRegistration())?.waiting;
+    if (waiting) {
+      // reload once the new worker has taken over, so the page comes from the new build
+      sw.addEventListener("controllerchange", () => window.location.reload(), { once: true });
+      waiting.postMessage({ type: SKIP_WAITING });
+    } else window.location.reload();
+  };
+
+  if (dbNotice === "closed" || dbNotice === "blocked")
+    return (
+      <div role="status" className="flex flex-wrap items-center gap-2 rounded-xl border-2 border-accent bg-surface p-2 text-sm" data-testid="db-notice">
+        <span>
+          {dbNotice === "closed"
+            ? "A newer version of Lashwright opened in another window and needs this one to reload (your readings are saved)."
+            : "Lashwright is open in an older window: close it or reload it to finish the update (your readings are saved)."}
+        </span>
+        <button type="button" onClick={() => window.location.reload()} className="ml-auto min-h-12 rounded-xl bg-accent px-4 font-bold text-accent-ink">
+          Reload
+        </button>
+      </div>
+    );
+  if (!ready) return null;
+  return (
+    <div role="status" className="flex flex-wrap items-center gap-2 rounded-xl border-2 border-accent bg-surface p-2 text-sm" data-testid="update-notice">
+      <span>A new version is ready: reload (your readings are saved)</span>
+      <button type="button" disabled={reloading} onClick={() => void reload()} className="ml-auto min-h-12 rounded-xl bg-accent px-4 font-bold text-accent-ink">
+        Reload
+      </button>
+    </div>
+  );
+}
