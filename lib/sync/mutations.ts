@@ -76,6 +76,9 @@ export const pullInput = z.object({
 });
 export type Cursor = z.infer<typeof pullInput>["cursor"];
 
+/** The form of every mutation name any version has used: "engine.put/2", "borrow.ask/1". */
+export const MUTATION_NAME_FORM = /^[a-z]+\.[a-z]+\/[1-9][0-9]{0,2}$/;
+
 /** A name of this table's own (never one every object inherits, such as "constructor"). */
 export function isMutationName(name: string): name is MutationName {
   return Object.hasOwn(MUTATIONS, name);
@@ -85,9 +88,10 @@ export function isMutationName(name: string): name is MutationName {
 export function parseMutation(name: string, args: unknown): { ok: true; name: MutationName; args: unknown } | { ok: false; reason: string; unknown?: true } {
   // own properties only: "constructor", "__proto__" or "toString" are names of every object's
   // prototype, and `in` would find them (OWASP Prototype Pollution Prevention Cheat Sheet; ASVS 5.0
-  // V15 Secure Coding and Architecture). Such a name was never a change of any version: refused for
-  // good. Any other name we do not know may be a newer phone's: held for later (unknown).
-  if (!isMutationName(name)) return { ok: false, reason: `unknown change "${name}"`, ...(name in Object.prototype ? {} : { unknown: true as const }) };
+  // V15 Secure Coding and Architecture). A name not of the form every version uses ("thing.verb/N")
+  // was never a change: refused for good. A well-formed name we do not know may be a newer phone's:
+  // held for later (unknown), never refused.
+  if (!isMutationName(name)) return { ok: false, reason: `unknown change "${name}"`, ...(MUTATION_NAME_FORM.test(name) ? { unknown: true as const } : {}) };
   const r = MUTATIONS[name as MutationName].safeParse(args);
   if (!r.success) {
     const i = r.error.issues[0]!;

@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { mutationNames, parseMutation } from "@/lib/sync/mutations";
+import { MUTATION_NAME_FORM, mutationNames, parseMutation } from "@/lib/sync/mutations";
 import { SHIPPED, withIds } from "../../../fixtures/shipped-outbox";
 
 /**
@@ -19,6 +19,12 @@ describe("every mutation name and shape ever shipped", () => {
   it.each(SHIPPED.map((m) => [`${m.name} (${m.shape})`, m] as const))("%s is still accepted", (_, m) => {
     const r = parseMutation(m.name, withIds(m.args, ids));
     expect(r.ok ? "accepted" : r.reason).toBe("accepted");
+  });
+
+  it("a newer phone's well-formed name waits for a newer server; a name no version could send is refused for good", () => {
+    for (const n of mutationNames) expect(MUTATION_NAME_FORM.test(n), n).toBe(true);
+    expect(parseMutation("engine.put/9", {})).toMatchObject({ ok: false, unknown: true });
+    for (const n of ["constructor", "__proto__", "prototype", "toString", "engine.put", "Engine.put/1", "engine.put/1 "]) expect(parseMutation(n, {}), n).not.toHaveProperty("unknown");
   });
 
   it("fixtures are kept, not rewritten: each shape is named once", () => {
