@@ -54,12 +54,13 @@ describe("safeNext: where sign-in may send the phone", () => {
           const url = lands(out);
           return url.origin === ORIGIN && out.startsWith("/") && !out.startsWith("//") && lands(url.href.slice(ORIGIN.length)).href === url.href;
         }),
-        { numRuns: 2000, seed },
+        { numRuns: 1000, seed },
       );
     } catch (e) {
       // run it again with LASHWRIGHT_PROPERTY_SEED=<seed> to replay the same strings
       console.error(`safeNext property failed with seed ${seed}`);
       throw e;
     }
-  });
+    // counted in runs, not time: a loaded machine only makes it slower
+  }, 60_000);
 });
