@@ -21,7 +21,8 @@ describe("open redirect through dot segments", () => {
     it(`sign-in with next=${next} lands on the app's own origin`, async () => {
       const ctx = await phoneContext(browser);
       const evil: string[] = [];
-      await ctx.route(/evil\.example/, (r) => {
+      // by host: the sign-in page's own address names evil.example in its query string
+      await ctx.route((u) => u.hostname.endsWith("evil.example"), (r) => {
         evil.push(r.request().url());
         return r.fulfill({ status: 200, contentType: "text/html", body: "<h1>evil.example</h1>" });
       });
@@ -31,7 +32,7 @@ describe("open redirect through dot segments", () => {
       await page.getByLabel("Password").fill(DEMO_PASSWORD);
       await page.getByRole("button", { name: "Sign in", exact: true }).tap();
       // wherever the sign-in sends the phone: away from the sign-in page
-      await page.waitForURL((u) => u.pathname !== "/sign-in" || u.hostname.includes("evil"));
+      await page.waitForURL((u) => u.pathname !== "/sign-in" || u.hostname.endsWith("evil.example"));
       expect(new URL(page.url()).origin).toBe(new URL(baseUrl()).origin);
       await page.getByText("Blue four (inline four, 16 valves)").waitFor();
       expect(evil).toEqual([]);
