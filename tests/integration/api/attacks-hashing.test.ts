@@ -20,7 +20,16 @@ beforeAll(async () => {
 });
 afterAll(() => app?.stop());
 
-const hashesSoFar = () => app.output().split("\n").filter((l) => l.includes("[password] hash computed")).length;
+const printed = () => app.output().split("\n").filter((l) => l.includes("[password] hash computed")).length;
+/** Hashes counted so far, read once the server's output has stopped growing (it arrives on its own pipe). */
+async function hashesSoFar() {
+  for (let last = -1; ; ) {
+    const now = printed();
+    if (now === last) return now;
+    last = now;
+    await new Promise((r) => setTimeout(r, 250));
+  }
+}
 const fresh = (tag: string) => `${tag}-${crypto.randomUUID().slice(0, 8)}@test.example`;
 /** Budget of failed sign-in tries per network address (server/throttle.ts). */
 const PER_ADDRESS = 20;
@@ -56,17 +65,17 @@ describe("hashing flood (OWASP ASVS 5.0 V2 anti-automation, V6 Authentication; N
     const user = await signedInClient(app.url, owner);
     // the counter counts: one failed try for a missing account costs at least one hash (the dummy's
     // first making counts too)
-    const before0 = hashesSoFar();
+    const before0 = await hashesSoFar();
     expect(await new Client(app.url).signIn("password", { email: fresh("warm-up"), password: "warm-up-guess-1" })).toBe("CredentialsSignin");
-    expect(hashesSoFar() - before0).toBeGreaterThanOrEqual(1);
+    expect((await hashesSoFar()) - before0).toBeGreaterThanOrEqual(1);
 
     const idle = await keepAsking(user, Promise.resolve());
     const attacker = loopbackAddress(app.url)!;
-    const before = hashesSoFar();
+    const before = await hashesSoFar();
     const flood = Promise.all(Array.from({ length: 60 }, (_, i) => tryPassword(new Client(app.url, attacker), fresh(`flood${i}`), `flood-guess-${i}-xx`)));
     const during = await keepAsking(user, flood);
     const answers = await flood;
-    const hashed = hashesSoFar() - before;
+    const hashed = (await hashesSoFar()) - before;
 
     console.log(
       `[hashing flood, one address] ${hashed} hashes for 60 tries; answers ${JSON.stringify(count(answers.map((a) => `${a.status} ${a.error}`)))}; ` +
@@ -89,11 +98,11 @@ describe("hashing flood (OWASP ASVS 5.0 V2 anti-automation, V6 Authentication; N
     // the dummy hash exists before counting starts (made once per server)
     await new Client(app.url).signIn("password", { email: fresh("warm-up"), password: "warm-up-guess-2" });
     const idle = await keepAsking(user, Promise.resolve());
-    const before = hashesSoFar();
+    const before = await hashesSoFar();
     const flood = Promise.all(Array.from({ length: 60 }, (_, i) => tryPassword(new Client(app.url), fresh(`spread${i}`), `spread-guess-${i}-xx`)));
     const during = await keepAsking(user, flood);
     const answers = await flood;
-    const hashed = hashesSoFar() - before;
+    const hashed = (await hashesSoFar()) - before;
     console.log(
       `[hashing flood, 60 addresses] ${hashed} hashes for 60 tries; answers ${JSON.stringify(count(answers.map((a) => `${a.status} ${a.error}`)))}; ` +
         `signed-in user's GET /api/account p95 ${p95(idle.times).toFixed(0)} ms idle (n=${idle.times.length}), ${p95(during.times).toFixed(0)} ms during the flood (n=${during.times.length})`,
