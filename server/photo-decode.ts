@@ -7,10 +7,10 @@ import { env } from "@/lib/env";
 /**
  * Decoding a sent picture is the costliest thing an upload does (memory in proportion to its
  * pixels, and a thread of libuv's pool, which password hashing shares), so it is bounded three
- * ways (OWASP ASVS 5.0 V5 File Handling: limits on size and on decompressed size; V2 business logic
- * limits on resources): the header's dimensions are read first and a picture over PHOTO_MAX_PIXELS
- * is refused before a single pixel is decoded; sharp's own limitInputPixels stands behind that; and
- * only a few decodes run at once per process, with a short queue.
+ * ways: the header's dimensions are read first and a picture over PHOTO_MAX_PIXELS is refused before
+ * a single pixel is decoded (OWASP ASVS 5.0 5.2.6, pixel flood); sharp's own limitInputPixels stands
+ * behind that; and only a few decodes run at once per process, with a short queue (5.2.1: only what
+ * can be processed without a loss of performance).
  */
 export const tooLarge = () => new DomainError("too_large", `A photo may be at most ${PHOTO_MAX_LABEL}`);
 const notAPhoto = (message = "That file is not a JPEG, PNG or WebP picture") => new DomainError("unsupported", message, { code: "not_a_photo" });

@@ -23,7 +23,8 @@ import type { SessionUser } from "./auth";
 export { tooLarge };
 
 /**
- * Photos one account may send in an hour (PHOTO_UPLOADS_PER_HOUR, 120 by default): each is a decode
+ * Photos one account may send in an hour (PHOTO_UPLOADS_PER_HOUR, 120 by default; OWASP ASVS 5.0
+ * 2.4.1, anti-automation against overuse of costly resources): each is a decode
  * and a store, and 120 covers two photos of every valve of a 24-valve engine twice over. A retry of
  * a photo already stored is answered before this is spent, and a send the server turned away
  * (busy) or that turned out to be a duplicate gives its unit back, so the owner's retries never eat it.
@@ -36,7 +37,10 @@ export async function photoUsage(user: SessionUser): Promise<PhotoUsage> {
   return { usedBytes: await q.bytesStored(db(), user.id), quotaBytes: env().PHOTO_QUOTA_BYTES };
 }
 
-/** The account's photo space is spent: the message names the quota, and the phone keeps the photo. */
+/**
+ * The account's photo space is spent (a quota per user, OWASP ASVS 5.0 5.2.4): the message names the
+ * quota, and the phone keeps the photo.
+ */
 function quotaFull(usage: PhotoUsage, needs?: number) {
   const full = usage.usedBytes >= usage.quotaBytes;
   return new DomainError(

@@ -88,7 +88,8 @@ describe("a photo sent again while it is being stored", () => {
         objects: [`checks/${checkId}/${id}.jpg`],
       });
     }
-  });
+    // 400 sends: about 25 s on a quiet machine, more beside other builds
+  }, 180_000);
 
   it("a send cut off after its row was written (no bytes stored) shows nothing, and its retry completes it", async () => {
     const { c, checkId } = await owner("ph-half");
