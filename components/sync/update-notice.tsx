@@ -10,21 +10,34 @@ import { useLocal } from "./local-provider";
  * with its outbox entry, so a reload loses nothing. It also says when another window of a newer
  * build asks this one to let go of the phone's database (or this one waits for an older window).
  */
+/**
+ * Kept for the life of the page, not of the component: the notice is remounted on each client-side
+ * navigation, and a page still running the previous build under the new worker (another window
+ * took the update) must keep saying so. The controller at page load tells an update from the first
+ * install.
+ */
+let takenOver = false;
+const onTakeOver = new Set<() => void>();
+if (typeof navigator !== "undefined" && navigator.serviceWorker) {
+  const hadController = !!navigator.serviceWorker.controller;
+  navigator.serviceWorker.addEventListener("controllerchange", () => {
+    if (!hadController) return;
+    takenOver = true;
+    for (const f of onTakeOver) f();
+  });
+}
+
 export function UpdateNotice() {
   const { dbNotice } = useLocal();
-  const [ready, setReady] = useState(false);
+  const [ready, setReady] = useState(takenOver);
   const [reloading, setReloading] = useState(false);
 
   useEffect(() => {
     const sw = typeof navigator !== "undefined" ? navigator.serviceWorker : undefined;
     if (!sw) return;
     let stop = false;
-    // the page had a worker when it loaded: a change of worker after that is a new build taking over
-    const hadController = !!sw.controller;
-    const onControllerChange = () => {
-      if (hadController && !stop) setReady(true);
-    };
-    sw.addEventListener("controllerchange", onControllerChange);
+    const onControllerChange = () => !stop && setReady(true);
+    onTakeOver.add(onControllerChange);
     let reg: ServiceWorkerRegistration | undefined;
     const watch = (w: ServiceWorker | null) => w?.addEventListener("statechange", () => w.state === "installed" && sw.controller && !stop && setReady(true));
     const onFound = () => watch(reg?.installing ?? null);
@@ -41,7 +54,7 @@ export function UpdateNotice() {
     document.addEventListener("visibilitychange", check);
     return () => {
       stop = true;
-      sw.removeEventListener("controllerchange", onControllerChange);
+      onTakeOver.delete(onControllerChange);
       reg?.removeEventListener("updatefound", onFound);
       window.removeEventListener("online", check);
       document.removeEventListener("visibilitychange", check);

@@ -144,13 +144,13 @@ describe("a deploy while a check is open", () => {
     const readings = Object.entries(TAPS)
       .filter(([v]) => v !== LAST)
       .map(([valve, go], i) => ({ id: i + 3, name: "reading.put/1", args: { checkId, reading: { valve, installedStamp: 2.6, feelerGo: go, feelerNoGo: BLADES[BLADES.indexOf(go) + 1], measured: go } } }));
-    const push = await page.request.post(`${base}/api/sync/push`, {
-      data: {
-        clientId: crypto.randomUUID(),
-        mutations: [{ id: 1, name: "engine.put/1", args: { ...ENGINE_FOUR, name: "Update four", id: engineId } }, { id: 2, name: "check.put/1", args: { id: checkId, engineId, odometer: 15_200 } }, ...readings],
-      },
-    });
-    expect(await push.json()).toEqual({ lastMutationId: 17, rejected: [] });
+    const body = {
+      clientId: crypto.randomUUID(),
+      mutations: [{ id: 1, name: "engine.put/1", args: { ...ENGINE_FOUR, name: "Update four", id: engineId } }, { id: 2, name: "check.put/1", args: { id: checkId, engineId, odometer: 15_200 } }, ...readings],
+    };
+    // sent from the app's own page: the API takes changes only from there
+    const pushed = await page.evaluate(async (b) => (await fetch("/api/sync/push", { method: "POST", headers: { "content-type": "application/json" }, body: JSON.stringify(b) })).json(), body);
+    expect(pushed).toEqual({ lastMutationId: 17, rejected: [] });
     // the step files build A loads, to show below that B is a real second build
     page.on("request", (r) => {
       const p = new URL(r.url()).pathname;
