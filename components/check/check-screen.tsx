@@ -127,7 +127,11 @@ function CheckBody({ data, step, go, moved }: { data: CheckData; step?: Step; go
 
   // on a narrow phone the strip of steps scrolls sideways: keep the current one in view
   const currentTab = useRef<HTMLButtonElement>(null);
-  useEffect(() => currentTab.current?.scrollIntoView({ block: "nearest", inline: "nearest" }), [current]);
+  // (a block body: scrollIntoView returns a promise in newer browsers, and React would take a
+  // returned value for the effect's clean-up and call it)
+  useEffect(() => {
+    currentTab.current?.scrollIntoView({ block: "nearest", inline: "nearest" });
+  }, [current]);
   const later = data.laterClosed;
 
   return (
