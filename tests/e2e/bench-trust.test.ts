@@ -1,7 +1,7 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser, Page } from "playwright-core";
+import type { Browser } from "playwright-core";
 import { signedInClient, type Client } from "../support/api";
-import { baseUrl, launch } from "../support/browser";
+import { baseUrl, launch, signInAs } from "../support/browser";
 import { makeUser } from "../support/fixtures";
 
 /**
@@ -58,14 +58,6 @@ async function plannedTwin(api: Client) {
   return checkId;
 }
 
-async function signIn(page: Page, u: { email: string; password: string }) {
-  await page.goto(`${baseUrl()}/sign-in`);
-  await page.getByLabel("E-mail").fill(u.email);
-  await page.getByLabel("Password").fill(u.password);
-  await page.getByRole("button", { name: "Sign in", exact: true }).tap();
-  await page.waitForURL("**/engines");
-}
-
 describe("trust at the bench on a 360 px phone", () => {
   for (const scheme of ["light", "dark"] as const)
     it(`opens where the work is, one check at a time, and claims only real trends (${scheme})`, async () => {
@@ -74,7 +66,7 @@ describe("trust at the bench on a 360 px phone", () => {
       const ids = await singleWithHistory(api);
       const ctx = await browser.newContext({ viewport: { width: 360, height: 780 }, deviceScaleFactor: 2, isMobile: true, hasTouch: true, colorScheme: scheme });
       const page = await ctx.newPage();
-      await signIn(page, u);
+      await signInAs(page, u.email, u.password);
 
       await page.goto(`${baseUrl()}/engine?id=${ids.engineId}`);
       // one check under way: no second start form, a way back to the open one
