@@ -19,8 +19,8 @@ const needsThousandths = (mm: number) => Math.round(mm * 1000) % 10 !== 0;
 const shimText = (mm: number) => mm.toFixed(needsThousandths(mm) ? 3 : 2);
 
 /** The valve column stays put while the rest scrolls sideways, so "Gives" is never read without its valve. */
-// The shadow paints the page colour over the scroll box's left padding, where scrolled cells would show.
-const PINNED = "sticky left-0 z-10 bg-bg pl-1 shadow-[-1rem_0_0_var(--bg)]";
+// The box has no left padding (scrolled cells would show through it): the pinned cells carry it.
+const PINNED = "sticky left-0 z-10 bg-bg pl-4";
 
 /**
  * Only the valves that change, one line each ("I3.1: 2.50 to 2.60, buy"): what a phone at the bench
@@ -73,9 +73,9 @@ export function PlanTable({ engine, plan, byId, lenders }: { engine: LocalEngine
   return (
     // a region that scrolls sideways on a phone is a Tab stop, so the arrow keys reach "Gives" and
     // "From" (WCAG 2.1.1); the padding keeps its focus ring inside the scroll box
-    <div role="region" aria-labelledby="plan-table-caption" tabIndex={0} className="-mx-4 overflow-x-auto px-4 py-1.5">
+    <div role="region" aria-labelledby="plan-table-caption" tabIndex={0} className="-mx-4 overflow-x-auto py-1.5 pr-4">
       <table className="figures w-full min-w-[34rem] border-collapse text-left text-base">
-        <caption id="plan-table-caption" className="mb-2 text-left text-xl font-extrabold">
+        <caption id="plan-table-caption" className="mb-2 pl-4 text-left text-xl font-extrabold">
           Plan per valve <span className="text-sm font-bold text-ink-soft sm:hidden">(scrolls sideways)</span>
         </caption>
         <thead>
