@@ -1,7 +1,7 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { Browser, BrowserContext, Page } from "playwright-core";
 import { signedInClient } from "../support/api";
-import { baseUrl, launch } from "../support/browser";
+import { baseUrl, launch, signInAs } from "../support/browser";
 import { makeUser } from "../support/fixtures";
 import { OVER_BUCKET_CAUTIONS, OVER_BUCKET_METHOD, prepareCautions, UNDER_BUCKET_FIT } from "@/lib/check/shim-position";
 
@@ -51,11 +51,7 @@ beforeAll(async () => {
   browser = await launch();
   ctx = await browser.newContext({ viewport: { width: 390, height: 844 }, deviceScaleFactor: 2, isMobile: true, hasTouch: true, colorScheme: "dark" });
   page = await ctx.newPage();
-  await page.goto(`${baseUrl()}/sign-in`);
-  await page.getByLabel("E-mail").fill(u.email);
-  await page.getByLabel("Password").fill(u.password);
-  await page.getByRole("button", { name: "Sign in", exact: true }).tap();
-  await page.waitForURL("**/engines");
+  await signInAs(page, u.email, u.password);
   await page.getByText(UNDER.name).waitFor({ timeout: 20_000 });
 });
 afterAll(() => browser?.close());

@@ -31,3 +31,17 @@ export async function storedKeys(prefix = ""): Promise<string[]> {
   const r = await s3.send(new ListObjectsV2Command({ Bucket: process.env.S3_BUCKET ?? "lashwright-photos", Prefix: prefix }));
   return (r.Contents ?? []).map((o) => o.Key!);
 }
+
+/**
+ * A 400 x 300 picture of noise from a fixed seed (about 70 KB stored): it barely shrinks when
+ * re-encoded, and storing it takes long enough for concurrent tries to overlap.
+ */
+export function noisyPng(seed: number) {
+  const b = Buffer.alloc(400 * 300 * 3);
+  let x = seed;
+  for (let i = 0; i < b.length; i++) {
+    x = (x * 1103515245 + 12345) >>> 0;
+    b[i] = x >>> 24;
+  }
+  return sharp(b, { raw: { width: 400, height: 300, channels: 3 } }).png().toBuffer();
+}

@@ -4,7 +4,7 @@ import { DeleteObjectCommand, S3Client } from "@aws-sdk/client-s3";
 import { signedInClient, type Client } from "../../support/api";
 import { rawConnection } from "../../support/db";
 import { ENGINE_FOUR, makeUser } from "../../support/fixtures";
-import { photoForm, storedKeys } from "../../support/photos";
+import { noisyPng, photoForm, storedKeys } from "../../support/photos";
 import { startApp, type App } from "../../support/server";
 
 /**
@@ -41,16 +41,6 @@ async function fetchPhoto(c: Client, id: string) {
   return { status: res.status, bytes: Buffer.from(await res.arrayBuffer()) };
 }
 
-/** A 400 x 300 picture of noise (about 70 KB stored): storing it takes long enough for the tries to overlap. */
-function noisyPng(seed: number) {
-  const b = Buffer.alloc(400 * 300 * 3);
-  let x = seed;
-  for (let i = 0; i < b.length; i++) {
-    x = (x * 1103515245 + 12345) >>> 0;
-    b[i] = x >>> 24;
-  }
-  return sharp(b, { raw: { width: 400, height: 300, channels: 3 } }).png().toBuffer();
-}
 
 describe("a photo sent again while it is being stored", () => {
   it("20 concurrent sends of one id, 20 times over: GET returns the bytes, one row and one object each time", async () => {

@@ -3,7 +3,7 @@ import sharp from "sharp";
 import { signedInClient, type Client } from "../../support/api";
 import { rawConnection } from "../../support/db";
 import { ENGINE_FOUR, makeUser } from "../../support/fixtures";
-import { photoForm, storedKeys } from "../../support/photos";
+import { noisyPng, photoForm, storedKeys } from "../../support/photos";
 import { startApp, type App } from "../../support/server";
 
 /**
@@ -35,16 +35,6 @@ async function upload(c: Client, checkId: string, form: FormData) {
   return { status: res.status, json, retryAfter: res.headers.get("retry-after") };
 }
 
-/** A 400 x 300 picture of noise: it does not shrink much when re-encoded, so a few fill the small quota. */
-function noisyPng(seed: number) {
-  const b = Buffer.alloc(400 * 300 * 3);
-  let x = seed;
-  for (let i = 0; i < b.length; i++) {
-    x = (x * 1103515245 + 12345) >>> 0;
-    b[i] = x >>> 24;
-  }
-  return sharp(b, { raw: { width: 400, height: 300, channels: 3 } }).png().toBuffer();
-}
 const tinyJpeg = () => sharp({ create: { width: 64, height: 48, channels: 3, background: "#7a5a3a" } }).jpeg().toBuffer();
 
 async function rowsOf(userId: string) {
