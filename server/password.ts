@@ -5,6 +5,7 @@ import { availableParallelism } from "node:os";
 import { hash, parseOptions, verify, type Options } from "@node-rs/argon2";
 import bcrypt from "bcryptjs";
 import { overloaded } from "@/lib/errors";
+import { Slots } from "./slots";
 
 /**
  * Password hashing, off the event loop and capped. Argon2id with the OWASP Password Storage Cheat
@@ -33,37 +34,27 @@ export const HASHING_AT_ONCE = Math.min(3, Math.max(1, availableParallelism() - 
 export const HASH_QUEUE_LIMIT = 16 * HASHING_AT_ONCE;
 
 /**
- * A bounded semaphore, by hand: the libraries at hand queue without a bound and so cannot refuse,
- * which is the point here.
- */
-let running = 0;
-const waiting: (() => void)[] = [];
-
-/**
  * Set while a sign-in is handled: a refused hash is noted, so the route answers 503 with Retry-After,
  * and the tries counted for it are given back (`undo`), since no password was checked.
  */
 export type HashWatch = { retryAfterSeconds: number | null; undo: (() => Promise<void>)[] };
 export const hashRefusals = new AsyncLocalStorage<HashWatch>();
 
-async function turn<T>(work: () => Promise<T>): Promise<T> {
-  if (running >= HASHING_AT_ONCE) {
-    if (waiting.length >= HASH_QUEUE_LIMIT) {
-      const seen = hashRefusals.getStore();
-      if (seen) seen.retryAfterSeconds = 1;
-      throw overloaded("Too many sign-ins at once: try again in a moment", 1);
-    }
-    await new Promise<void>((resolve) => waiting.push(resolve));
-  } else running++;
-  try {
+/** How long a hash may wait for its turn before the caller is answered busy (nothing waits unbounded). */
+export const HASH_WAIT_MS = 10_000;
+
+const hashSlots = new Slots(HASHING_AT_ONCE, HASH_QUEUE_LIMIT, HASH_WAIT_MS, () => {
+  // a sign-in being handled notes the refusal, so its route answers 503 and gives the tries back
+  const seen = hashRefusals.getStore();
+  if (seen) seen.retryAfterSeconds = 1;
+  return overloaded("Too many sign-ins at once: try again in a moment", 1);
+});
+
+function turn<T>(work: () => Promise<T>): Promise<T> {
+  return hashSlots.run(() => {
     count();
-    return await work();
-  } finally {
-    // hand the slot straight to the next in line, or free it
-    const next = waiting.shift();
-    if (next) next();
-    else running--;
-  }
+    return work();
+  });
 }
 
 /**

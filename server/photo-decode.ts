@@ -3,6 +3,9 @@ import sharp from "sharp";
 import { PHOTO_FORMATS, PHOTO_MAX_BYTES, PHOTO_MAX_EDGE, PHOTO_MAX_LABEL, PHOTO_MAX_PIXELS, PHOTO_MAX_PIXELS_LABEL } from "@/lib/photos/rules";
 import { DomainError, overloaded } from "@/lib/errors";
 import { env } from "@/lib/env";
+import { Slots } from "./slots";
+
+export { Slots };
 
 /**
  * Decoding a sent picture is the costliest thing an upload does (memory in proportion to its
@@ -20,78 +23,10 @@ const tooManyPixels = (w?: number, h?: number) =>
 /** How much decoding this process has done: tests count work with it, never time. */
 export const decodeStats = { decodes: 0, refusedByHeader: 0 };
 
-/**
- * A counting semaphore that refuses rather than queues without end: `size` run at once, up to
- * `maxWaiting` wait (each at most `maxWaitMs`), and any more are answered "busy" at once (503 with
- * Retry-After). Written here because the limiters at hand queue without a bound and cannot refuse.
- */
-export class Slots {
-  private running = 0;
-  private readonly waiting: { go: () => void }[] = [];
-  /** the most that ever ran at once */
-  peak = 0;
-  constructor(
-    readonly size: number,
-    readonly maxWaiting: number,
-    readonly maxWaitMs: number,
-    private readonly busy: () => Error = () => overloaded("Too many photos are being processed: try again in a moment", 3),
-  ) {}
-
-  get inUse() {
-    return this.running;
-  }
-  get queued() {
-    return this.waiting.length;
-  }
-
-  private take() {
-    this.running++;
-    this.peak = Math.max(this.peak, this.running);
-  }
-
-  private acquire(): Promise<void> {
-    if (this.running < this.size) {
-      this.take();
-      return Promise.resolve();
-    }
-    if (this.waiting.length >= this.maxWaiting) return Promise.reject(this.busy());
-    return new Promise<void>((resolve, reject) => {
-      const w = {
-        go: () => {
-          clearTimeout(timer);
-          this.take();
-          resolve();
-        },
-      };
-      const timer = setTimeout(() => {
-        const i = this.waiting.indexOf(w);
-        if (i >= 0) this.waiting.splice(i, 1);
-        reject(this.busy());
-      }, this.maxWaitMs);
-      timer.unref?.();
-      this.waiting.push(w);
-    });
-  }
-
-  private release() {
-    this.running--;
-    this.waiting.shift()?.go();
-  }
-
-  async run<T>(fn: () => Promise<T>): Promise<T> {
-    await this.acquire();
-    try {
-      return await fn();
-    } finally {
-      this.release();
-    }
-  }
-}
-
 let slots: Slots | undefined;
 /** The process's decode slots, sized by PHOTO_DECODE_SLOTS and PHOTO_DECODE_QUEUE; a waiter gives up after 10 s. */
 export function decodeSlots(): Slots {
-  slots ??= new Slots(env().PHOTO_DECODE_SLOTS, env().PHOTO_DECODE_QUEUE, 10_000);
+  slots ??= new Slots(env().PHOTO_DECODE_SLOTS, env().PHOTO_DECODE_QUEUE, 10_000, () => overloaded("Too many photos are being processed: try again in a moment", 3));
   return slots;
 }
 
