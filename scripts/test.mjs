@@ -14,10 +14,13 @@ const args = process.argv.slice(2);
 const soak = args.includes("soak");
 // `npm run load`: the club-night load test alone, with 300 phones and a minute of steady work
 const load = args.includes("load");
+// `npm run test:fast`: unit tests, then the appliers and access rules against a real MariaDB
+// (tests/integration/db), with no build, browser or mail: a change checked in about a minute
+const fast = args.includes("fast");
 const LEVELS = ["unit", "integration", "e2e", "cluster"];
-const only = soak || load ? "integration" : args.find((a) => LEVELS.includes(a));
+const only = fast ? "fast" : soak || load ? "integration" : args.find((a) => LEVELS.includes(a));
 // anything else narrows the chosen level to matching test files (vitest filters)
-const filters = soak ? ["tests/integration/sync/faults"] : load ? ["tests/integration/load"] : args.filter((a) => !LEVELS.includes(a));
+const filters = soak ? ["tests/integration/sync/faults"] : load ? ["tests/integration/load"] : args.filter((a) => !LEVELS.includes(a) && a !== "fast");
 const results = { passed: 0, failed: 0, skipped: 0 };
 const failures = [];
 
@@ -34,11 +37,11 @@ async function stage(name, fn) {
 }
 
 /** Run one vitest project and add its counts (from its JSON report) to the totals. */
-async function vitest(project, env) {
+async function vitest(project, env, fileFilters = filters) {
   const report = path.join(root, "test-results", `${project}.json`);
   rmSync(report, { force: true });
   const ok = await stage(`${project} tests`, () =>
-    runAsync(process.execPath, ["node_modules/vitest/vitest.mjs", "run", "--project", project, "--reporter=default", "--reporter=json", `--outputFile.json=${report}`, ...filters], {
+    runAsync(process.execPath, ["node_modules/vitest/vitest.mjs", "run", "--project", project, "--reporter=default", "--reporter=json", `--outputFile.json=${report}`, ...fileFilters], {
       env: soak
         ? { ...env, LASHWRIGHT_FAULT_MUTATIONS: process.env.LASHWRIGHT_FAULT_MUTATIONS ?? "10000" }
         : load
@@ -68,7 +71,7 @@ async function main() {
       await stage("typecheck (tsc --noEmit)", () => runAsync(process.execPath, ["node_modules/typescript/bin/tsc", "--noEmit"], { what: "tsc" }));
       await stage("lint (eslint)", () => runAsync(process.execPath, ["node_modules/eslint/bin/eslint.js", ".", "--max-warnings=0"], { what: "eslint" }));
     }
-    if (!only || only === "unit") await vitest("unit", {});
+    if (!only || only === "unit" || only === "fast") await vitest("unit", {});
 
     if (!only || only !== "unit") {
       // A throwaway database and mail catcher: own folder and ports, removed before and after the run.
@@ -80,6 +83,10 @@ async function main() {
         await database.stop();
         rmSync(dir, { recursive: true, force: true });
       });
+      if (only === "fast") {
+        await runTs("db/migrate.ts", { DATABASE_URL: database.url });
+        await vitest("integration", { DATABASE_URL: database.url, LASHWRIGHT_TEST_DB_URL: database.url }, ["tests/integration/db"]);
+      } else {
       const mail = await startMailCatcher({ smtpPort: await freePort(), webPort: await freePort(), dir: path.join(dir, "mail") });
       cleanup.add(mail.stop);
       const store = await startObjectStore({ port: await freePort(), dir: path.join(dir, "photos") });
@@ -118,6 +125,7 @@ async function main() {
         cleanup.add(cluster.stop);
         await vitest("cluster", { ...env, ...cluster.env });
         await cluster.stop();
+      }
       }
     }
   } catch (e) {

@@ -1,5 +1,6 @@
 import { PUSH_BATCH } from "./mutations";
 import { uploadPhotos } from "./photos";
+import { pendingKey, readingKey } from "./pending";
 import { Offline, postJson, retryAfterMs, retryDelay, ServerBusy, SessionRevoked, SignedOut, type Fetch } from "./transport";
 import { getMeta, setMeta, type OutboxEntry, type LocalCheck, type LocalComment, type LocalDb, type LocalEngine, type LocalReading, type LocalTrayItem } from "./local-db";
 
@@ -136,9 +137,8 @@ export async function discardHeld(db: LocalDb, seq: number): Promise<void> {
 async function pendingKeys(db: LocalDb) {
   const keys = new Set<string>();
   await db.outbox.each((m) => {
-    const a = m.args as { id?: string; checkId?: string; reading?: { valve: string; round?: number } };
-    if (m.name.startsWith("reading.") && a.checkId && a.reading) keys.add(`reading:${a.checkId}:${a.reading.valve}:${a.reading.round ?? 0}`);
-    else if (a.id) keys.add(`${m.name.split(".")[0]}:${a.id}`);
+    const key = pendingKey(m.name, m.args);
+    if (key) keys.add(key);
   });
   return keys;
 }
@@ -153,7 +153,7 @@ export async function pullOnce(db: LocalDb, fetcher: Fetch, base = ""): Promise<
     await db.checks.bulkPut(r.checks.filter((c) => !pending.has(`check:${c.id}`)));
     await db.readings.bulkPut(
       r.readings
-        .filter((x) => !pending.has(`reading:${x.checkId}:${x.valve}:${x.round}`))
+        .filter((x) => !pending.has(readingKey(x.checkId, x.valve, x.round)))
         .map(({ id: _serverId, ...x }) => {
           void _serverId;
           return x;
