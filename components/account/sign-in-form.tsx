@@ -6,14 +6,12 @@ import Link from "next/link";
 import { useRouter, useSearchParams } from "next/navigation";
 import { useState } from "react";
 import { useForm } from "react-hook-form";
-import { z } from "zod";
-import { emailSchema } from "@/lib/schemas/account";
+import { signInForm as schema, type z } from "@/lib/schemas/forms";
 import { mutations } from "@/lib/api/client";
 import { Button, ButtonLink, Field, inputClass, Notice } from "@/components/ui/controls";
 import { ResendLink } from "./resend-link";
 import { safeNext } from "@/lib/auth/safe-next";
 
-const schema = z.object({ email: emailSchema, password: z.string().min(1, { error: "enter your password" }) });
 
 /**
  * One answer for a wrong password and for an address not yet confirmed, so a sign-up followed by a

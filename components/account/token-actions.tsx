@@ -6,9 +6,7 @@ import Link from "next/link";
 import { useRouter, useSearchParams } from "next/navigation";
 import { useEffect, useRef, useState } from "react";
 import { useForm } from "react-hook-form";
-import { z } from "zod";
-import { emailSchema } from "@/lib/schemas/account";
-import { passwordSchema } from "@/lib/auth/password-rules";
+import { forgotForm as forgotSchema, resetForm as resetSchema, verifyForm as verifySchema, type z } from "@/lib/schemas/forms";
 import { ApiFailure, mutations } from "@/lib/api/client";
 import { authTitleClass, Button, ButtonLink, Field, inputClass, Notice } from "@/components/ui/controls";
 
@@ -29,7 +27,6 @@ const signInLink = (
   </Link>
 );
 
-const verifySchema = z.object({ password: z.string().min(1, { error: "missing: the one you chose when you signed up" }) });
 
 /**
  * Confirming an address asks for the password chosen at sign-up. The link proves the mailbox, the
@@ -151,7 +148,6 @@ export function EmailLinkSignIn() {
   );
 }
 
-const forgotSchema = z.object({ email: emailSchema });
 export function ForgotPassword() {
   const [sent, setSent] = useState(false);
   const form = useForm<z.input<typeof forgotSchema>, unknown, z.output<typeof forgotSchema>>({ resolver: zodResolver(forgotSchema), defaultValues: { email: "" } });
@@ -172,7 +168,6 @@ export function ForgotPassword() {
   );
 }
 
-const resetSchema = z.object({ password: passwordSchema });
 export function ResetPassword() {
   const token = useSearchParams().get("token") ?? "";
   const [state, setState] = useState<"form" | "ok" | "bad">("form");

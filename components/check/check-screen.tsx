@@ -7,7 +7,7 @@ import { useCallback, useEffect, useRef, useState, type ComponentProps } from "r
 import { LashInputError, workOrder, type ShimPlan } from "@/lib/lash";
 import { checkPlan, DEFAULT_PLAN_OPTIONS, type PlanOptions } from "@/lib/check/derive";
 import { poolForEngine, trayForEngine } from "@/lib/check/pool";
-import { beginFit, saveEngine, setCheckStatus } from "@/lib/sync/writes";
+import { beginFit, saveEngine, setCheckStatus } from "@/lib/sync/later";
 import { usePool } from "@/components/pool/use-pool";
 import { useLocal } from "@/components/sync/local-provider";
 import { Notice } from "@/components/ui/controls";

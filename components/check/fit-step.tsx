@@ -1,14 +1,15 @@
 "use client";
 
-import { useLiveQuery } from "dexie-react-hooks";
+import { useLiveQuery } from "@/components/sync/use-live-query";
 import { useEffect, useRef, useState, type ReactNode } from "react";
 import type { ShimMove } from "@/lib/lash";
 import { valveLabel, type ValveView } from "@/lib/check/derive";
 import { camsOut, camsOutWords } from "@/lib/lash";
 import { valvesOfMoves, workOrderKey, type WorkOrderState } from "@/lib/check/fit";
 import { OVER_BUCKET_CAUTIONS, OVER_BUCKET_METHOD, SHIM_POSITION_WORDS, UNDER_BUCKET_FIT } from "@/lib/check/shim-position";
-import { getMeta, type LocalEngine } from "@/lib/sync/local-db";
-import { offerToClub, toggleFitTask, toggleSwap } from "@/lib/sync/writes";
+import { getMeta } from "@/lib/sync/later";
+import type { LocalEngine } from "@/lib/sync/local-db";
+import { offerToClub, toggleFitTask, toggleSwap } from "@/lib/sync/later";
 import { usePool } from "@/components/pool/use-pool";
 import { useLocal } from "@/components/sync/local-provider";
 import { Button, Notice } from "@/components/ui/controls";

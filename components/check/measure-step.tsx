@@ -5,7 +5,7 @@ import { useFocusOnShow } from "@/components/ui/focus";
 import type { ValveView } from "@/lib/check/derive";
 import { measuringOrder, positionWords } from "@/lib/check/measuring";
 import type { LocalEngine, LocalReading } from "@/lib/sync/local-db";
-import { saveReading } from "@/lib/sync/writes";
+import { saveReading } from "@/lib/sync/later";
 import { useLocal } from "@/components/sync/local-provider";
 import { Button, Notice } from "@/components/ui/controls";
 import { EngineDiagram } from "./engine-diagram";

@@ -4,7 +4,7 @@ import { useState } from "react";
 import type { ShimPosition } from "@/lib/lash";
 import { SHIM_POSITION_WORDS } from "@/lib/check/shim-position";
 import type { LocalEngine } from "@/lib/sync/local-db";
-import { saveEngine } from "@/lib/sync/writes";
+import { saveEngine } from "@/lib/sync/later";
 import { useLocal } from "@/components/sync/local-provider";
 import { Button } from "@/components/ui/controls";
 

@@ -1,11 +1,11 @@
 "use client";
 
-import { useLiveQuery } from "dexie-react-hooks";
+import { useLiveQuery } from "@/components/sync/use-live-query";
 import { useCallback, useMemo } from "react";
 import { engineSizes, valveViews, type ValveView } from "@/lib/check/derive";
 import { lastShims, previousCheck } from "@/lib/check/previous";
 import type { LocalCheck, LocalEngine, LocalReading, LocalTrayItem } from "@/lib/sync/local-db";
-import { saveReading } from "@/lib/sync/writes";
+import { saveReading } from "@/lib/sync/later";
 import { useLocal } from "@/components/sync/local-provider";
 import type { ReadingEntry } from "./valve-card";
 

@@ -2,15 +2,16 @@
 
 import { useQuery } from "@tanstack/react-query";
 import { useRouter } from "next/navigation";
-import { useLiveQuery } from "dexie-react-hooks";
+import { useLiveQuery } from "@/components/sync/use-live-query";
 import { useState } from "react";
 import { workOrderKey, type WorkOrderState } from "@/lib/check/fit";
 import { RECHECK_TURN, RECHECK_TURN_CAUTION } from "@/lib/check/shim-position";
 import { fetchers, queryKeys } from "@/lib/api/client";
 import { VERDICTS } from "@/lib/check/verdicts";
 import { openValves, recheckValves, type ValveView } from "@/lib/check/derive";
-import { getMeta, type LocalCheck, type LocalEngine } from "@/lib/sync/local-db";
-import { saveCheck, setTurned } from "@/lib/sync/writes";
+import { getMeta } from "@/lib/sync/later";
+import type { LocalCheck, LocalEngine } from "@/lib/sync/local-db";
+import { saveCheck, setTurned } from "@/lib/sync/later";
 import { useLocal } from "@/components/sync/local-provider";
 import { Button, Notice } from "@/components/ui/controls";
 import { useFocusOnShow } from "@/components/ui/focus";

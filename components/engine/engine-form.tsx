@@ -1,13 +1,13 @@
 "use client";
 
-import { useLiveQuery } from "dexie-react-hooks";
+import { useLiveQuery } from "@/components/sync/use-live-query";
 import { useRouter, useSearchParams } from "next/navigation";
 import { useEffect, useState, type ReactNode } from "react";
 import { useForm, type Resolver } from "react-hook-form";
 import { ENGINE_PRESETS, type ShimPosition } from "@/lib/lash";
 import { SHIM_POSITION_WORDS } from "@/lib/check/shim-position";
 import { engineInput } from "@/lib/schemas/records";
-import { saveEngine } from "@/lib/sync/writes";
+import { saveEngine } from "@/lib/sync/later";
 import type { LocalEngine } from "@/lib/sync/local-db";
 import { useLocal } from "@/components/sync/local-provider";
 import { Button, Field, inputClass, Notice } from "@/components/ui/controls";

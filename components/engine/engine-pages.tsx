@@ -1,11 +1,11 @@
 "use client";
 
-import { useLiveQuery } from "dexie-react-hooks";
+import { useLiveQuery } from "@/components/sync/use-live-query";
 import Link from "next/link";
 import { useRouter, useSearchParams } from "next/navigation";
 import { useState } from "react";
 import { formatLength } from "@/lib/lash";
-import { saveCheck } from "@/lib/sync/writes";
+import { saveCheck } from "@/lib/sync/later";
 import { SHIM_POSITION_WORDS } from "@/lib/check/shim-position";
 import { useLocal } from "@/components/sync/local-provider";
 import { History } from "./history";

@@ -1,6 +1,6 @@
 "use client";
 
-import { useLiveQuery } from "dexie-react-hooks";
+import { useLiveQuery } from "@/components/sync/use-live-query";
 import dynamic from "next/dynamic";
 import { useMemo, useState } from "react";
 import { driftWords, engineHistory } from "@/lib/check/history";

@@ -3,7 +3,7 @@
 import { useId, useState } from "react";
 import type { DateOrder, ImportPreview } from "@/lib/check/csv-import";
 import type { LocalEngine } from "@/lib/sync/local-db";
-import { importChecks } from "@/lib/sync/writes";
+import { importChecks } from "@/lib/sync/later";
 import { useLocal } from "@/components/sync/local-provider";
 import { Button, Notice } from "@/components/ui/controls";
 

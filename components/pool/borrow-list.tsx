@@ -3,7 +3,7 @@
 import { formatLength, toNm, type ShimPlan } from "@/lib/lash";
 import type { PoolFit } from "@/lib/check/pool";
 import { STATE_WORDS } from "@/lib/pool/rules";
-import { askToBorrow } from "@/lib/sync/writes";
+import { askToBorrow } from "@/lib/sync/later";
 import { useLocal } from "@/components/sync/local-provider";
 import { Button, Notice } from "@/components/ui/controls";
 import type { usePool } from "./use-pool";

@@ -2,7 +2,7 @@
 
 import { useState } from "react";
 import type { LocalTrayItem } from "@/lib/sync/local-db";
-import { offerToClub } from "@/lib/sync/writes";
+import { offerToClub } from "@/lib/sync/later";
 import { useLocal } from "@/components/sync/local-provider";
 import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
 import { usePool } from "./use-pool";

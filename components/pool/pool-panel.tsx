@@ -2,7 +2,7 @@
 
 import { formatLength } from "@/lib/lash";
 import { movesFor, MOVES, STATE_WORDS, type ApiBorrow, type BorrowMove } from "@/lib/pool/rules";
-import { moveLoan, withdrawOffer } from "@/lib/sync/writes";
+import { moveLoan, withdrawOffer } from "@/lib/sync/later";
 import type { ClubSummary } from "@/lib/api/client";
 import { useLocal } from "@/components/sync/local-provider";
 import { useId, useState } from "react";

@@ -1,7 +1,7 @@
 "use client";
 
 import { useQueries, useQuery, useQueryClient } from "@tanstack/react-query";
-import { useLiveQuery } from "dexie-react-hooks";
+import { useLiveQuery } from "@/components/sync/use-live-query";
 import { useCallback } from "react";
 import { fetchers, queryKeys } from "@/lib/api/client";
 import { HOLDING, type ApiOffer } from "@/lib/pool/rules";

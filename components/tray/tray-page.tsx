@@ -1,8 +1,8 @@
 "use client";
 
-import { useLiveQuery } from "dexie-react-hooks";
+import { useLiveQuery } from "@/components/sync/use-live-query";
 import { useState } from "react";
-import { saveTrayItem } from "@/lib/sync/writes";
+import { saveTrayItem } from "@/lib/sync/later";
 import { useLocal } from "@/components/sync/local-provider";
 import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
 import { OfferForm } from "@/components/pool/offer-form";

@@ -1,4 +1,5 @@
 import "server-only";
+import { phase } from "@/server/timing";
 import { and, asc, desc, eq, sql } from "drizzle-orm";
 import { DEFAULT_TIMING } from "@/lib/lash";
 import { READING_VALUE_FIELDS, type EngineInput, type ReadingInput } from "@/lib/schemas/records";
@@ -170,11 +171,13 @@ export async function writeReadings(tx: Tx, ownerId: string, version: number, ch
   // raced this one lands in the history instead of being overwritten unseen
   const existing = await tx.select().from(readings).where(and(eq(readings.checkId, checkId), sql`(${readings.valve}, ${readings.round}) IN (${pairs})`)).for("update");
   const old = new Map(existing.map((r) => [`${r.valve}#${r.round}`, r]));
+  phase("readings lock read");
   const history = input.flatMap((r) => {
     const o = old.get(`${r.valve}#${r.round}`);
     return o ? [{ readingId: o.id, previous: Object.fromEntries(READING_FIELDS.map((f) => [f, o[f]])) }] : [];
   });
   if (history.length) await tx.insert(readingHistory).values(history);
+  phase("history copy");
   await tx
     .insert(readings)
     .values(
@@ -198,8 +201,10 @@ export async function writeReadings(tx: Tx, ownerId: string, version: number, ch
     .onDuplicateKeyUpdate({
       set: Object.fromEntries([...READING_FIELDS, "fittedAt", "version"].map((f) => [f, sql.raw(`VALUES(\`${f.replace(/[A-Z]/g, (m) => `_${m.toLowerCase()}`)}\`)`)])),
     });
+  phase("readings upsert");
   // a reading changes its check too, so other devices see the check move on
   await tx.update(checks).set({ version }).where(eq(checks.id, checkId));
+  phase("check version");
 }
 
 type TrayRow = typeof trayItems.$inferSelect;
