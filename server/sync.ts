@@ -130,7 +130,7 @@ export async function push(user: SessionUser, input: PushInput): Promise<PushRes
     later = undefined;
     after = [];
     applied = 0;
-    const last = await q.lockClient(tx, input.clientId, user.id);
+    const last = await q.lockClient(tx, input.clientId, user.id, known !== undefined);
     phase("device lock");
     // a push sent again because its answer was lost: what was refused then is said again, so the
     // phone never takes a refused change for an applied one and drops it

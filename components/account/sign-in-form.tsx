@@ -1,7 +1,6 @@
 "use client";
 
 import { zodResolver } from "@hookform/resolvers/zod";
-import { signIn } from "next-auth/react";
 import Link from "next/link";
 import { useRouter, useSearchParams } from "next/navigation";
 import { useState } from "react";
@@ -38,6 +37,8 @@ export function SignInForm() {
   const onSubmit = form.handleSubmit(async (values) => {
     setError(null);
     setUnconfirmed(null);
+    // next-auth's client is loaded on the tap: the page paints and takes typing without it
+    const { signIn } = await import("next-auth/react");
     const res = await signIn("password", { ...values, redirect: false });
     if (res?.ok && !res.error) router.push(safeNext(params.get("next"), window.location.origin));
     else {
