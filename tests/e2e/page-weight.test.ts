@@ -2,7 +2,8 @@ import { readFileSync } from "node:fs";
 import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { Browser } from "playwright-core";
-import { baseUrl, launch } from "../support/browser";
+import { baseUrl, launch, PHONE, signInAs } from "../support/browser";
+import { makeUser } from "../support/fixtures";
 import { firstVisitJs, WEIGHED_PAGES } from "../support/page-weight";
 
 /**
@@ -44,4 +45,48 @@ describe("the first-visit JavaScript of each page stays within its budget", () =
       else expect(allowed, `${name} now weighs ${w.bytes} bytes: lower its budget to that`).toBeLessThanOrEqual(Math.ceil(w.bytes * (1 + RATCHET)));
     });
   }
+});
+
+/** Words only the local database (Dexie) and the sync client carry in the built scripts. */
+const DEXIE = "DatabaseClosedError";
+const SYNC_CLIENT = "/api/sync/pull";
+
+/** The text of every script a page loads, nothing cached and no service worker. */
+async function scriptsOf(storageState: Awaited<ReturnType<import("playwright-core").BrowserContext["storageState"]>> | undefined, path: string, ready: string) {
+  const ctx = await browser.newContext({ ...PHONE, serviceWorkers: "block", storageState });
+  const page = await ctx.newPage();
+  const urls: string[] = [];
+  page.on("requestfinished", (r) => void (r.resourceType() === "script" && urls.push(r.url())));
+  await page.goto(`${baseUrl()}${path}`, { waitUntil: "networkidle" });
+  await page.getByText(ready, { exact: false }).first().waitFor();
+  // a page with the phone's records has opened its database by now (so its scripts have all come)
+  if (storageState && !path.startsWith("/review")) await page.waitForFunction(async () => (await indexedDB.databases()).some((d) => d.name?.startsWith("lashwright-")));
+  await page.waitForLoadState("networkidle");
+  const texts = await Promise.all(urls.map((u) => fetch(u).then((r) => r.text())));
+  await ctx.close();
+  return texts.join("\n");
+}
+
+describe("pages that only read load neither the local database nor the sync client", () => {
+  it("home, sign-in and sign-up for a visitor; a review opened with a signal by a signed-in member; the check page does load them", async () => {
+    for (const [path, ready] of [["/", "How a check runs"], ["/sign-in", "Password"], ["/sign-up", "Password"]] as const) {
+      const js = await scriptsOf(undefined, path, ready);
+      expect(js.includes(DEXIE), `${path} loads Dexie`).toBe(false);
+      expect(js.includes(SYNC_CLIENT), `${path} loads the sync client`).toBe(false);
+    }
+    const u = await makeUser("weight");
+    const ctx = await browser.newContext({ ...PHONE });
+    const page = await ctx.newPage();
+    await signInAs(page, u.email, u.password);
+    const signedIn = await ctx.storageState();
+    await ctx.close();
+    // a check nobody shared with this member: the review answers that it cannot be read
+    const review = await scriptsOf(signedIn, `/review?id=${crypto.randomUUID()}`, "Open the check once with a signal");
+    expect(review.includes(DEXIE), "the review loads Dexie").toBe(false);
+    expect(review.includes(SYNC_CLIENT), "the review loads the sync client").toBe(false);
+    // the same member's check page needs the phone's records: both come in (and the words above are theirs)
+    const check = await scriptsOf(signedIn, `/check?id=${crypto.randomUUID()}`, "Valve check");
+    expect(check.includes(DEXIE)).toBe(true);
+    expect(check.includes(SYNC_CLIENT)).toBe(true);
+  });
 });
