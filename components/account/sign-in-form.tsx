@@ -1,11 +1,11 @@
 "use client";
 
-import { zodResolver } from "@hookform/resolvers/zod";
 import Link from "next/link";
 import { useRouter, useSearchParams } from "next/navigation";
 import { useState } from "react";
 import { useForm } from "react-hook-form";
-import { signInForm as schema, type z } from "@/lib/schemas/forms";
+import { signInForm } from "@/lib/schemas/forms";
+import { checkedBy } from "./form-check";
 import { mutations } from "@/lib/api/client";
 import { Button, ButtonLink, Field, inputClass, Notice } from "@/components/ui/controls";
 import { ResendLink } from "./resend-link";
@@ -31,7 +31,7 @@ export function SignInForm() {
   const [sent, setSent] = useState<string | null>(null);
   // the address typed, which may be one still waiting for confirmation: its link is offered again
   const [unconfirmed, setUnconfirmed] = useState<string | null>(null);
-  const form = useForm<z.input<typeof schema>, unknown, z.output<typeof schema>>({ resolver: zodResolver(schema), defaultValues: { email: "", password: "" } });
+  const form = useForm<{ email: string; password: string }>({ resolver: checkedBy(signInForm), defaultValues: { email: "", password: "" } });
   const { errors, isSubmitting } = form.formState;
 
   const onSubmit = form.handleSubmit(async (values) => {

@@ -1,10 +1,10 @@
 "use client";
 
-import { zodResolver } from "@hookform/resolvers/zod";
 import Link from "next/link";
 import { useState } from "react";
 import { useForm } from "react-hook-form";
-import { signUpForm as signUpInput, type z } from "@/lib/schemas/forms";
+import { signUpForm } from "@/lib/schemas/forms";
+import { checkedBy } from "./form-check";
 import { PASSWORD_MIN } from "@/lib/auth/password-list";
 import { ApiFailure, mutations } from "@/lib/api/client";
 import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
@@ -13,7 +13,7 @@ import { ResendLink } from "./resend-link";
 export function SignUpForm() {
   const [done, setDone] = useState<string | null>(null);
   const [error, setError] = useState<string | null>(null);
-  const form = useForm<z.input<typeof signUpInput>, unknown, z.output<typeof signUpInput>>({ resolver: zodResolver(signUpInput), defaultValues: { email: "", name: "", password: "" } });
+  const form = useForm<{ email: string; name: string; password: string }>({ resolver: checkedBy(signUpForm), defaultValues: { email: "", name: "", password: "" } });
   const { errors, isSubmitting } = form.formState;
 
   const onSubmit = form.handleSubmit(async (values) => {

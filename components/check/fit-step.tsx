@@ -11,7 +11,7 @@ import { getMeta } from "@/lib/sync/later";
 import type { LocalEngine } from "@/lib/sync/local-db";
 import { offerToClub, toggleFitTask, toggleSwap } from "@/lib/sync/later";
 import { usePool } from "@/components/pool/use-pool";
-import { useLocal } from "@/components/sync/local-provider";
+import { useLocalCore } from "@/components/sync/local-provider";
 import { Button, Notice } from "@/components/ui/controls";
 import { useFocusOnShow } from "@/components/ui/focus";
 import { ShimPositionAsk } from "./shim-position-ask";
@@ -22,7 +22,7 @@ function placeWords(p: ShimMove["from"]) {
 
 /** One tap: offer the club the shims this check sent back to the tray. */
 function OfferReturned({ moves, engine }: { moves: ShimMove[]; engine: LocalEngine }) {
-  const { db } = useLocal();
+  const { db } = useLocalCore();
   const pool = usePool();
   const [sent, setSent] = useState(false);
   const back = new Map<number, number>();
@@ -79,7 +79,7 @@ function Tick({ on, onClick, children, testId }: { on: boolean; onClick: () => v
  */
 export function FitStep({ engine, views, checkId, startFit, onDone, focusHeading = false }: { engine: LocalEngine; views: ValveView[]; checkId: string; startFit: () => void; onDone: () => void; focusHeading?: boolean }) {
   const headingRef = useFocusOnShow<HTMLHeadingElement>(focusHeading);
-  const { db } = useLocal();
+  const { db } = useLocalCore();
   // the list kept when fitting began (lib/check/fit), so a reload mid-fit keeps list and ticks
   const order = useLiveQuery(async () => (db ? ((await getMeta<WorkOrderState>(db, workOrderKey(checkId))) ?? null) : undefined), [db, checkId]);
   const [error, setError] = useState<string | null>(null);

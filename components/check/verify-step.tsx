@@ -12,7 +12,7 @@ import { openValves, recheckValves, type ValveView } from "@/lib/check/derive";
 import { getMeta } from "@/lib/sync/later";
 import type { LocalCheck, LocalEngine } from "@/lib/sync/local-db";
 import { saveCheck, setTurned } from "@/lib/sync/later";
-import { useLocal } from "@/components/sync/local-provider";
+import { useLocalCore } from "@/components/sync/local-provider";
 import { Button, Notice } from "@/components/ui/controls";
 import { useFocusOnShow } from "@/components/ui/focus";
 import { ValveCard, type ReadingEntry } from "./valve-card";
@@ -31,7 +31,7 @@ function openWords(open: ValveView[]) {
 /** Step 5: re-measure the valves of this fit until all are in band, or close with the open ones noted. */
 export function VerifyStep({ engine, views, sizes, step, save, check, focusHeading = false }: { engine: LocalEngine; views: ValveView[]; sizes: number[]; step: number; save: (v: ValveView) => (r: ReadingEntry) => Promise<void>; check: LocalCheck; focusHeading?: boolean }) {
   const headingRef = useFocusOnShow<HTMLHeadingElement>(focusHeading);
-  const { db } = useLocal();
+  const { db } = useLocalCore();
   const router = useRouter();
   const changed = recheckValves(views);
   const open = openValves(views);

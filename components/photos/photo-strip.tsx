@@ -10,7 +10,7 @@ import { getMeta, queuePhoto } from "@/lib/sync/later";
 import { USAGE_META } from "@/lib/sync/meta-keys";
 import type { KnownUsage } from "@/lib/sync/photos";
 import type { LocalPhoto } from "@/lib/sync/local-db";
-import { useLocal } from "@/components/sync/local-provider";
+import { useLocalCore } from "@/components/sync/local-provider";
 import { Notice } from "@/components/ui/controls";
 
 type Shown = { id: string; src: string | null; blob?: Blob; state: LocalPhoto["state"] | "stored"; reason?: string; held?: boolean; by?: string };
@@ -40,7 +40,7 @@ function Thumb({ p, alt }: { p: Shown; alt: string }) {
  */
 export function PhotoStrip({ checkId, valve, commentId = null, canAdd = true, label }: { checkId: string; valve: string | null; commentId?: string | null; canAdd?: boolean; label: string }) {
   const belongs = (p: { valve: string | null; commentId: string | null }) => (commentId ? p.commentId === commentId : p.valve === valve && !p.commentId);
-  const { db, user, syncNow, needDb } = useLocal();
+  const { db, user, syncNow, needDb } = useLocalCore();
   const input = useRef<HTMLInputElement>(null);
   const [error, setError] = useState<string | null>(null);
   const local = useLiveQuery(async () => (db ? (await db.photos.where("checkId").equals(checkId).toArray()).filter(belongs) : []), [db, checkId, valve, commentId], []);

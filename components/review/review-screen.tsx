@@ -15,7 +15,7 @@ import { addComment, giveVerdict } from "@/lib/sync/later";
 import { queuePhoto } from "@/lib/sync/later";
 import { shrinkPhoto } from "@/lib/photos/shrink";
 import type { MutationArgs } from "@/lib/sync/mutations";
-import { useLocal } from "@/components/sync/local-provider";
+import { useLocalCore } from "@/components/sync/local-provider";
 import { PhotoStrip } from "@/components/photos/photo-strip";
 import type { LocalEngine, LocalReading } from "@/lib/sync/local-db";
 import { EngineDiagram } from "@/components/check/engine-diagram";
@@ -46,7 +46,7 @@ export function ReviewScreen() {
       return null;
     }
   }, [engine, views]);
-  const { db, user, syncNow, needDb } = useLocal();
+  const { db, user, syncNow, needDb } = useLocalCore();
   // opened with a signal, the review reads only the server; without one, this phone's own comments
   // and verdict waiting to be sent come from the local database, which then loads
   useEffect(() => {

@@ -2,7 +2,7 @@
 
 import { del } from "idb-keyval";
 import { usePathname } from "next/navigation";
-import { createContext, lazy, Suspense, useCallback, useContext, useEffect, useRef, useState, type ReactNode } from "react";
+import { createContext, lazy, Suspense, useCallback, useContext, useEffect, useMemo, useRef, useState, type ReactNode } from "react";
 import type { LocalDb, OutboxEntry } from "@/lib/sync/local-db";
 import type { SyncState } from "@/lib/sync/client";
 import { useIsClient, useStored } from "@/components/ui/use-stored";
@@ -79,6 +79,10 @@ export interface Revoked {
 }
 
 const Ctx = createContext<LocalContext | null>(null);
+
+/** What the screens need of the phone's side: it changes with the user or the database, not with every saved change. */
+export type LocalCore = Pick<LocalContext, "user" | "ready" | "db" | "live" | "needDb" | "syncNow" | "forget">;
+const CoreCtx = createContext<LocalCore | null>(null);
 const USER_KEY = "lashwright.user";
 const REVOKED_KEY = "lashwright.revoked";
 
@@ -212,20 +216,26 @@ export function LocalProvider({ children }: { children: ReactNode }) {
     forget,
     revoked,
   };
+  // the screens read this one: a tap's new outbox entry changes the counts above, and only the
+  // frame's sync line shows them, so the screen is not drawn again for it
+  const { db, live } = value;
+  const core = useMemo<LocalCore>(() => ({ user, ready, db, live, needDb, syncNow, forget }), [user, ready, db, live, needDb, syncNow, forget]);
   return (
-    <Ctx.Provider value={value}>
-      {ready && userId && (
-        <Suspense fallback={null}>
-          <PersistQueries userId={userId} />
-        </Suspense>
-      )}
-      {ready && userId && wanted && (
-        <Suspense fallback={null}>
-          <LocalEngine key={userId} userId={userId} state={state} setState={setState} onChange={onEngine} onRevoked={onRevoked} />
-        </Suspense>
-      )}
-      {children}
-    </Ctx.Provider>
+    <CoreCtx.Provider value={core}>
+      <Ctx.Provider value={value}>
+        {ready && userId && (
+          <Suspense fallback={null}>
+            <PersistQueries userId={userId} />
+          </Suspense>
+        )}
+        {ready && userId && wanted && (
+          <Suspense fallback={null}>
+            <LocalEngine key={userId} userId={userId} state={state} setState={setState} onChange={onEngine} onRevoked={onRevoked} />
+          </Suspense>
+        )}
+        {children}
+      </Ctx.Provider>
+    </CoreCtx.Provider>
   );
 }
 
@@ -234,5 +244,12 @@ const NONE: OutboxEntry[] = [];
 export function useLocal(): LocalContext {
   const v = useContext(Ctx);
   if (!v) throw new Error("useLocal outside LocalProvider");
+  return v;
+}
+
+/** The user, the local database and the sync trigger, without the sync's counts (see LocalCore). */
+export function useLocalCore(): LocalCore {
+  const v = useContext(CoreCtx);
+  if (!v) throw new Error("useLocalCore outside LocalProvider");
   return v;
 }

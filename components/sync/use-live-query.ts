@@ -1,7 +1,7 @@
 "use client";
 
 import { useEffect, useMemo, useReducer, useRef } from "react";
-import { useLocal } from "./local-provider";
+import { useLocalCore } from "./local-provider";
 
 /** Dexie's liveQuery, as the local database's module (loaded behind the first paint) hands it over. */
 type Live = <T>(querier: () => T | Promise<T>) => { subscribe(next: (v: T) => void, error?: (e: unknown) => void): { unsubscribe(): void }; getValue?(): T; hasValue?(): boolean };
@@ -13,7 +13,7 @@ type Live = <T>(querier: () => T | Promise<T>) => { subscribe(next: (v: T) => vo
  * dependencies change; an error is thrown to the nearest error boundary).
  */
 export function useLiveQuery<T, D = undefined>(querier: () => T | Promise<T>, deps: unknown[], defaultResult?: D, liveOverride?: Live): T | D {
-  const { live: fromContext } = useLocal();
+  const { live: fromContext } = useLocalCore();
   const live = (liveOverride ?? fromContext) as Live | null;
   const monitor = useRef<{ hasResult: boolean; result: T | D; error: unknown }>({ hasResult: false, result: defaultResult as D, error: null });
   const [, rerender] = useReducer((x: number) => x + 1, 0);
