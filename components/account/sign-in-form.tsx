@@ -71,12 +71,12 @@ export function SignInForm() {
       <Button type="button" look="plain" onClick={sendLink}>
         E-mail me a sign-in link instead
       </Button>
-      <Link href="/forgot-password" className="inline-flex min-h-12 items-center font-bold underline underline-offset-4">
+      <Link href="/forgot-password" prefetch={false} className="inline-flex min-h-12 items-center font-bold underline underline-offset-4">
         Forgot your password?
       </Link>
       <div className="flex flex-col gap-2 border-t border-line pt-4">
         <p className="font-bold">New to Lashwright?</p>
-        <ButtonLink href="/sign-up" look="plain">
+        <ButtonLink href="/sign-up" look="plain" prefetch={false}>
           Create an account
         </ButtonLink>
       </div>

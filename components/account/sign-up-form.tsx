@@ -32,7 +32,7 @@ export function SignUpForm() {
       <div className="flex flex-col gap-4">
         <Notice tone="ok">
           We sent a link to <strong>{done}</strong>. Open it on any device to confirm the address, then{" "}
-          <Link href="/sign-in" className="font-bold underline">
+          <Link href="/sign-in" prefetch={false} className="font-bold underline">
             sign in
           </Link>
           .
@@ -59,7 +59,7 @@ export function SignUpForm() {
       <Button type="submit" disabled={isSubmitting}>
         {isSubmitting ? "Creating…" : "Create account"}
       </Button>
-      <Link href="/sign-in" className="inline-flex min-h-12 items-center font-bold underline underline-offset-4">
+      <Link href="/sign-in" prefetch={false} className="inline-flex min-h-12 items-center font-bold underline underline-offset-4">
         I have an account: sign in
       </Link>
     </form>
