@@ -9,6 +9,8 @@ const steps = [
   { n: "4", title: "Keep the record", text: "Each valve's drift over the years, with a warning when one closes faster than its neighbours." },
 ];
 
+// The account pages' links are not prefetched: a visitor on mobile data loads the landing page's
+// code alone, and the sign-in form's only when they tap (npm run bench, first-visit JavaScript).
 export default function HomePage() {
   return (
     <main className="mx-auto flex max-w-xl flex-col gap-8 px-4 pt-6 pb-12">
@@ -17,7 +19,7 @@ export default function HomePage() {
         <span className="text-2xl font-extrabold tracking-tight">
           Lash<span className="text-accent">wright</span>
         </span>
-        <Link href="/sign-in" className="inline-flex min-h-12 items-center rounded-xl border-2 border-line px-4 font-bold">
+        <Link href="/sign-in" prefetch={false} className="inline-flex min-h-12 items-center rounded-xl border-2 border-line px-4 font-bold">
           Sign in
         </Link>
       </header>
@@ -29,7 +31,7 @@ export default function HomePage() {
           again. It all works in a garage with no signal, and syncs when you are back in range.
         </p>
         <div className="flex flex-col gap-3 sm:flex-row">
-          <Link href="/sign-up" className="inline-flex min-h-14 items-center justify-center rounded-xl bg-accent px-6 text-lg font-extrabold text-accent-ink">
+          <Link href="/sign-up" prefetch={false} className="inline-flex min-h-14 items-center justify-center rounded-xl bg-accent px-6 text-lg font-extrabold text-accent-ink">
             Create an account to start
           </Link>
           <a href="#how" className="inline-flex min-h-14 items-center justify-center rounded-xl border-2 border-line px-6 text-lg font-bold">
@@ -38,7 +40,7 @@ export default function HomePage() {
         </div>
         <p className="text-ink-soft">
           Already have an account?{" "}
-          <Link href="/sign-in" className="inline-flex min-h-12 items-center font-bold text-ink underline underline-offset-4">
+          <Link href="/sign-in" prefetch={false} className="inline-flex min-h-12 items-center font-bold text-ink underline underline-offset-4">
             Sign in
           </Link>
         </p>

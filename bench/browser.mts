@@ -11,6 +11,7 @@ import lighthouse from "lighthouse";
 // @ts-expect-error plain JS set-up module shared with npm start and npm test
 import { freePort, root, spawnChild, stopChild } from "../scripts/lib/setup.mjs";
 import { CHROMIUM_ARGS, PHONE } from "../tests/support/browser";
+import { firstVisitJs, WEIGHED_PAGES } from "../tests/support/page-weight";
 import { Client } from "../tests/support/api";
 import { ENGINE_FOUR } from "../tests/support/fixtures";
 import type { BenchServer } from "./server.mts";
@@ -152,21 +153,6 @@ export async function runEntryBench(srv: BenchServer, taps = 100) {
   }
 }
 
-/** Compressed bytes of JavaScript a first visit loads (from the browser's network log). */
-async function firstVisitJs(browser: Browser, url: string) {
-  const ctx = await browser.newContext({ ...PHONE });
-  const page = await ctx.newPage();
-  const sizes: Promise<number>[] = [];
-  page.on("requestfinished", (req) => {
-    if (req.resourceType() === "script") sizes.push(req.sizes().then((s) => s.responseBodySize));
-  });
-  await page.goto(url, { waitUntil: "networkidle" });
-  const total = (await Promise.all(sizes)).reduce((a, b) => a + b, 0);
-  const files = sizes.length;
-  await ctx.close();
-  return { bytes: total, files };
-}
-
 /**
  * What a signed-in mechanic's phone loads opening a check on the measure step with nothing cached
  * (no HTTP cache, no service worker): the weight of the step the taps happen on.
@@ -208,14 +194,19 @@ export async function runWeightAndAudits(srv: BenchServer) {
   say("  JavaScript of a first visit: check page, home, bare page");
   const browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
   try {
-    const check = await firstVisitJs(browser, `${srv.url}/check?id=${crypto.randomUUID()}`);
-    const home = await firstVisitJs(browser, `${srv.url}/`);
-    const barePage = await firstVisitJs(browser, bare.url);
+    const pages = {} as Record<keyof typeof WEIGHED_PAGES, { bytes: number; files: number }>;
+    for (const [name, path] of Object.entries(WEIGHED_PAGES) as [keyof typeof WEIGHED_PAGES, string][]) {
+      const { bytes, files } = await firstVisitJs(browser, `${srv.url}${path}`);
+      pages[name] = { bytes, files };
+    }
+    const { check, home } = pages;
+    const { bytes: bareBytes, files: bareFiles } = await firstVisitJs(browser, bare.url);
+    const barePage = { bytes: bareBytes, files: bareFiles };
     say("  JavaScript of a signed-in visit to the measure step, nothing cached");
     const measure = await signedInColdJs(browser, srv);
     await browser.close();
-    const audits = await runLighthouse({ home: `${srv.url}/`, check: `${srv.url}/check?id=${crypto.randomUUID()}`, bare: bare.url });
-    return { weight: { check, home, bare: barePage, ratio: check.bytes / barePage.bytes, measure, measureRatio: measure.bytes / barePage.bytes }, audits };
+    const audits = await runLighthouse({ home: `${srv.url}/`, "sign-in": `${srv.url}/sign-in`, review: `${srv.url}/review?id=${crypto.randomUUID()}`, check: `${srv.url}/check?id=${crypto.randomUUID()}`, bare: bare.url });
+    return { weight: { pages, check, home, bare: barePage, ratio: check.bytes / barePage.bytes, measure, measureRatio: measure.bytes / barePage.bytes }, audits };
   } finally {
     await browser.close().catch(() => undefined);
     await bare.stop();

@@ -30,7 +30,7 @@ export async function startBenchServer(): Promise<BenchServer> {
     stops.push(() => mail.stop());
     const store = await startObjectStore({ port: await freePort(), dir: path.join(dir, "photos") });
     stops.push(() => store.stop());
-    const env = { ...store.env, DATABASE_URL: db.url, SMTP_URL: mail.smtpUrl, NEXTAUTH_SECRET: "bench-secret-bench-secret-bench-secret-0123", SYNC_WRITES_PER_MINUTE: "10000000" };
+    const env = { ...store.env, DATABASE_URL: db.url, SMTP_URL: mail.smtpUrl, NEXTAUTH_SECRET: "bench-secret-bench-secret-bench-secret-0123", SYNC_WRITES_PER_MINUTE: "10000000", LASHWRIGHT_SERVER_TIMING: "1" };
     await runTs("db/migrate.ts", env);
     const port = await freePort();
     const url = `http://127.0.0.1:${port}`;

@@ -19,6 +19,11 @@ function readingPlan(n: number) {
   return { checkIds, rows };
 }
 
+function pushPhases(phases: Map<string, number>, roundTrips: number, pushes: number) {
+  const server = [...phases.values()].reduce((a, b) => a + b, 0);
+  return [...[...phases].map(([name, ms]) => ({ name, ms: ms / pushes })), { name: "outside the handler (HTTP, Next, transfer)", ms: (roundTrips - server) / pushes }, { name: "round trip", ms: roundTrips / pushes }];
+}
+
 export async function runSyncBench(srv: BenchServer, n = 10_000) {
   const { url } = srv;
   // push through the route
@@ -32,9 +37,21 @@ export async function runSyncBench(srv: BenchServer, n = 10_000) {
   const setup = [{ id: ++id, name: "engine.put/1", args: { ...ENGINE, id: engineId } }, ...checkIds.map((c) => ({ id: ++id, name: "check.put/1", args: { id: c, engineId, odometer: 1000 } }))];
   await client.post("/api/sync/push", { clientId, mutations: setup });
   const mutations = rows.map((r) => ({ id: ++id, name: "reading.put/1", args: { checkId: r.checkId, reading: { valve: r.valve, round: r.round, installedStamp: 2.6, feelerGo: r.go, method: "feeler" } } }));
+  // where each push's milliseconds go: the server's Server-Timing phases (server/timing.ts), summed
+  // over the pushes; what the server does not see (the socket, HTTP parsing, Next's routing, the
+  // answer's transfer) is the rest of the round trip the bench measures here
+  const phases = new Map<string, number>();
+  let roundTrips = 0;
   const t0 = performance.now();
   for (let i = 0; i < mutations.length; i += PUSH_BATCH) {
-    const res = await client.post("/api/sync/push", { clientId, mutations: mutations.slice(i, i + PUSH_BATCH) });
+    const r0 = performance.now();
+    const raw = await client.raw("POST", "/api/sync/push", { body: JSON.stringify({ clientId, mutations: mutations.slice(i, i + PUSH_BATCH) }), headers: { "content-type": "application/json" } });
+    const res = { status: raw.status, json: (await raw.json()) as { rejected: unknown[] } };
+    roundTrips += performance.now() - r0;
+    for (const entry of (raw.headers.get("server-timing") ?? "").split(",")) {
+      const m = /^\s*([^;]+);dur=([\d.]+)/.exec(entry);
+      if (m) phases.set(m[1]!, (phases.get(m[1]!) ?? 0) + Number(m[2]));
+    }
     if (res.status !== 200 || res.json.rejected.length) throw new Error(`push failed: ${res.status} ${JSON.stringify(res.json).slice(0, 200)}`);
     const sent = i + PUSH_BATCH;
     if (sent % 2000 === 0) say(`  pushed ${sent.toLocaleString("en")} of ${mutations.length.toLocaleString("en")} readings`);
@@ -94,6 +111,9 @@ export async function runSyncBench(srv: BenchServer, n = 10_000) {
     pushRowsPerSec: (n / pushMs) * 1000,
     rawRowsPerSec: (n / rawMs) * 1000,
     ratio: rawMs / pushMs,
+    rawMsPerBatch: rawMs / (n / PUSH_BATCH),
+    /** milliseconds per push of PUSH_BATCH readings, by phase, in the order the server ends them */
+    pushPhases: pushPhases(phases, roundTrips, n / PUSH_BATCH),
     pull: { ms: pullMs, pages, bytes, engines: pulled.engines.length, checks: pulled.checks.length, readings: pulled.readings.length },
   };
 }

@@ -51,6 +51,8 @@ const envSchema = z.object({
    * for good. Raised only for robots that write faster than people (the fault-injection tests, the bench).
    */
   SYNC_WRITES_PER_MINUTE: z.coerce.number({ error: "SYNC_WRITES_PER_MINUTE must be a whole number from 800 to 10000000" }).int().min(800).max(10_000_000).default(1200),
+  /** "1": answer each sync push with a Server-Timing header (where its milliseconds went), for npm run bench */
+  LASHWRIGHT_SERVER_TIMING: z.enum(["0", "1"]).default("0"),
 });
 
 export type Env = z.infer<typeof envSchema>;

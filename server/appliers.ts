@@ -11,6 +11,7 @@ import { applyAsk, applyMove, applyOffer, applyWithdrawOffer } from "./pool";
 import { kickPhotoSweep } from "./photos";
 import type { WriteCtx } from "./write";
 import { nextVersion } from "@/db/versions";
+import { phase } from "./timing";
 
 /**
  * The one write path: each outbox mutation name and the function that applies it. The sync push
@@ -27,7 +28,11 @@ type Applier<N extends MutationName> = (w: WriteCtx, a: MutationArgs<N>) => Prom
 /** Readings of one check in one go: the owner's check, values that fit its engine, one upsert. */
 export async function applyReadings(w: WriteCtx, checkId: string, rs: ReadingInput[]) {
   const check = await ownCheck(w.tx, w.user, checkId);
-  checkReadingsFit((await getEngineRow(w.tx, check.engineId))!, rs);
+  phase("check read");
+  const engine = (await getEngineRow(w.tx, check.engineId))!;
+  phase("engine read");
+  checkReadingsFit(engine, rs);
+  phase("range check");
   await writeReadings(w.tx, w.user.id, w.version, checkId, rs);
 }
 

@@ -1,4 +1,5 @@
 import "server-only";
+import { phase } from "./timing";
 import type { NextAuthOptions } from "next-auth";
 import { decode } from "next-auth/jwt";
 import Credentials from "next-auth/providers/credentials";
@@ -143,8 +144,10 @@ async function sessionFromToken(raw: string | undefined): Promise<SessionCheck> 
   const secret = authOptions.secret;
   if (!raw || !secret) return { user: null, revoked: false };
   const t = await decode({ token: raw, secret }).catch(() => null);
+  phase("session token");
   if (typeof t?.uid !== "string" || typeof t.gen !== "number") return { user: null, revoked: false };
   const u = await getSessionUser(t.uid);
+  phase("session user");
   if (!u || u.generation !== t.gen) return { user: null, revoked: true };
   const { generation: _generation, ...user } = u;
   void _generation;

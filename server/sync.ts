@@ -12,6 +12,7 @@ import { apply, applyReadings } from "./appliers";
 import { runAfter, type After, type WriteCtx } from "./write";
 import { budget, type Budget } from "./budgets";
 import type { SessionUser } from "./auth";
+import { phase } from "./timing";
 
 /**
  * The write budget (DESIGN.md section 5, fair use; OWASP ASVS 5.0 V2 Validation and Business Logic,
@@ -101,7 +102,11 @@ function reasonOf(e: unknown): string {
 /** Run one step in a savepoint; its post-commit work is kept only if the step succeeds. */
 async function step(tx: Tx, user: SessionUser, version: number, after: After[], fn: (w: WriteCtx) => Promise<void>) {
   const mine: After[] = [];
-  await tx.transaction((sp) => fn({ tx: sp, user, version, later: (f) => mine.push(f) }));
+  await tx.transaction((sp) => {
+    phase("savepoint");
+    return fn({ tx: sp, user, version, later: (f) => mine.push(f) });
+  });
+  phase("savepoint release");
   after.push(...mine);
 }
 
@@ -113,8 +118,10 @@ export async function push(user: SessionUser, input: PushInput): Promise<PushRes
   let after: After[] = [];
   // what this push would apply, as the device's row says now: only that is charged
   const known = await q.clientOwner(input.clientId);
+  phase("device read");
   const charged = input.mutations.filter((m) => m.id > (known?.userId === user.id ? known.lastMutationId : 0)).length;
   if (charged > 0) await spendWrites(user, input.clientId, charged);
+  phase("write budget");
   let applied = 0;
   // a push that lost a write conflict (another device's push, another node) runs again from the
   // start, its client row read afresh, so what the winner applied is skipped (db/retry.ts)
@@ -123,10 +130,12 @@ export async function push(user: SessionUser, input: PushInput): Promise<PushRes
     later = undefined;
     after = [];
     applied = 0;
-    const last = await q.lockClient(tx, input.clientId, user.id);
+    const last = await q.lockClient(tx, input.clientId, user.id, known !== undefined);
+    phase("device lock");
     // a push sent again because its answer was lost: what was refused then is said again, so the
     // phone never takes a refused change for an applied one and drops it
     rejected = await q.rejectedAmong(tx, input.clientId, input.mutations.filter((m) => m.id <= last).map((m) => m.id));
+    phase("replays");
     const fresh: Parsed[] = input.mutations
       .filter((m) => m.id > last)
       .map((m) => {
@@ -134,8 +143,10 @@ export async function push(user: SessionUser, input: PushInput): Promise<PushRes
         return p.ok ? { id: m.id, name: p.name, args: p.args } : { id: m.id, name: m.name, args: m.args, reason: p.reason, unknown: p.unknown };
       });
     applied = fresh.length;
+    phase("validate");
     if (fresh.length === 0) return last;
     const version = await nextVersion(tx, user.id);
+    phase("version");
     const reject = async (m: Parsed, reason: string) => {
       rejected.push({ id: m.id, name: m.name, reason });
       await q.recordRejected(tx, input.clientId, m.id, m.name, reason);
@@ -204,6 +215,7 @@ export async function push(user: SessionUser, input: PushInput): Promise<PushRes
       i++;
     }
     if (done > last) await q.setLastMutation(tx, input.clientId, done);
+    phase("device last id");
     // what a change held for later stopped is not this push's work either
     applied = fresh.filter((m) => m.id <= done).length;
     return done;
@@ -212,10 +224,12 @@ export async function push(user: SessionUser, input: PushInput): Promise<PushRes
     await refundWrites(user, input.clientId, charged);
     throw e;
   });
+  phase("commit");
   // a replay that raced this push applied some of it first: those were not this push's work
   await refundWrites(user, input.clientId, charged - applied);
   // notices are queued only once the changes are committed; a failure here never fails the push
   await runAfter(after);
+  phase("after commit");
   return later ? { lastMutationId, rejected, later } : { lastMutationId, rejected };
 }
 

@@ -1,19 +1,16 @@
 "use client";
 
-import { zodResolver } from "@hookform/resolvers/zod";
-import { signIn } from "next-auth/react";
 import Link from "next/link";
 import { useRouter, useSearchParams } from "next/navigation";
 import { useState } from "react";
 import { useForm } from "react-hook-form";
-import { z } from "zod";
-import { emailSchema } from "@/lib/schemas/account";
+import { signInForm } from "@/lib/schemas/forms";
+import { checkedBy } from "./form-check";
 import { mutations } from "@/lib/api/client";
 import { Button, ButtonLink, Field, inputClass, Notice } from "@/components/ui/controls";
 import { ResendLink } from "./resend-link";
 import { safeNext } from "@/lib/auth/safe-next";
 
-const schema = z.object({ email: emailSchema, password: z.string().min(1, { error: "enter your password" }) });
 
 /**
  * One answer for a wrong password and for an address not yet confirmed, so a sign-up followed by a
@@ -34,12 +31,14 @@ export function SignInForm() {
   const [sent, setSent] = useState<string | null>(null);
   // the address typed, which may be one still waiting for confirmation: its link is offered again
   const [unconfirmed, setUnconfirmed] = useState<string | null>(null);
-  const form = useForm<z.input<typeof schema>, unknown, z.output<typeof schema>>({ resolver: zodResolver(schema), defaultValues: { email: "", password: "" } });
+  const form = useForm<{ email: string; password: string }>({ resolver: checkedBy(signInForm), defaultValues: { email: "", password: "" } });
   const { errors, isSubmitting } = form.formState;
 
   const onSubmit = form.handleSubmit(async (values) => {
     setError(null);
     setUnconfirmed(null);
+    // next-auth's client is loaded on the tap: the page paints and takes typing without it
+    const { signIn } = await import("next-auth/react");
     const res = await signIn("password", { ...values, redirect: false });
     if (res?.ok && !res.error) router.push(safeNext(params.get("next"), window.location.origin));
     else {
@@ -72,12 +71,12 @@ export function SignInForm() {
       <Button type="button" look="plain" onClick={sendLink}>
         E-mail me a sign-in link instead
       </Button>
-      <Link href="/forgot-password" className="inline-flex min-h-12 items-center font-bold underline underline-offset-4">
+      <Link href="/forgot-password" prefetch={false} className="inline-flex min-h-12 items-center font-bold underline underline-offset-4">
         Forgot your password?
       </Link>
       <div className="flex flex-col gap-2 border-t border-line pt-4">
         <p className="font-bold">New to Lashwright?</p>
-        <ButtonLink href="/sign-up" look="plain">
+        <ButtonLink href="/sign-up" look="plain" prefetch={false}>
           Create an account
         </ButtonLink>
       </div>

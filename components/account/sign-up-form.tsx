@@ -1,12 +1,11 @@
 "use client";
 
-import { zodResolver } from "@hookform/resolvers/zod";
 import Link from "next/link";
 import { useState } from "react";
 import { useForm } from "react-hook-form";
-import type { z } from "zod";
-import { signUpInput } from "@/lib/schemas/account";
-import { PASSWORD_MIN } from "@/lib/auth/password-rules";
+import { signUpForm } from "@/lib/schemas/forms";
+import { checkedBy } from "./form-check";
+import { PASSWORD_MIN } from "@/lib/auth/password-list";
 import { ApiFailure, mutations } from "@/lib/api/client";
 import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
 import { ResendLink } from "./resend-link";
@@ -14,7 +13,7 @@ import { ResendLink } from "./resend-link";
 export function SignUpForm() {
   const [done, setDone] = useState<string | null>(null);
   const [error, setError] = useState<string | null>(null);
-  const form = useForm<z.input<typeof signUpInput>, unknown, z.output<typeof signUpInput>>({ resolver: zodResolver(signUpInput), defaultValues: { email: "", name: "", password: "" } });
+  const form = useForm<{ email: string; name: string; password: string }>({ resolver: checkedBy(signUpForm), defaultValues: { email: "", name: "", password: "" } });
   const { errors, isSubmitting } = form.formState;
 
   const onSubmit = form.handleSubmit(async (values) => {
@@ -33,7 +32,7 @@ export function SignUpForm() {
       <div className="flex flex-col gap-4">
         <Notice tone="ok">
           We sent a link to <strong>{done}</strong>. Open it on any device to confirm the address, then{" "}
-          <Link href="/sign-in" className="font-bold underline">
+          <Link href="/sign-in" prefetch={false} className="font-bold underline">
             sign in
           </Link>
           .
@@ -60,7 +59,7 @@ export function SignUpForm() {
       <Button type="submit" disabled={isSubmitting}>
         {isSubmitting ? "Creating…" : "Create account"}
       </Button>
-      <Link href="/sign-in" className="inline-flex min-h-12 items-center font-bold underline underline-offset-4">
+      <Link href="/sign-in" prefetch={false} className="inline-flex min-h-12 items-center font-bold underline underline-offset-4">
         I have an account: sign in
       </Link>
     </form>

@@ -1,14 +1,11 @@
 "use client";
 
-import { zodResolver } from "@hookform/resolvers/zod";
-import { signIn, signOut } from "next-auth/react";
 import Link from "next/link";
 import { useRouter, useSearchParams } from "next/navigation";
 import { useEffect, useRef, useState } from "react";
 import { useForm } from "react-hook-form";
-import { z } from "zod";
-import { emailSchema } from "@/lib/schemas/account";
-import { passwordSchema } from "@/lib/auth/password-rules";
+import { forgotForm, resetForm, verifyForm } from "@/lib/schemas/forms";
+import { checkedBy } from "./form-check";
 import { ApiFailure, mutations } from "@/lib/api/client";
 import { authTitleClass, Button, ButtonLink, Field, inputClass, Notice } from "@/components/ui/controls";
 
@@ -29,7 +26,6 @@ const signInLink = (
   </Link>
 );
 
-const verifySchema = z.object({ password: z.string().min(1, { error: "missing: the one you chose when you signed up" }) });
 
 /**
  * Confirming an address asks for the password chosen at sign-up. The link proves the mailbox, the
@@ -40,7 +36,7 @@ export function VerifyEmail() {
   const token = useSearchParams().get("token") ?? "";
   const [state, setState] = useState<"form" | "ok" | "bad">("form");
   const [refused, setRefused] = useState<string | null>(null);
-  const form = useForm<z.input<typeof verifySchema>, unknown, z.output<typeof verifySchema>>({ resolver: zodResolver(verifySchema), defaultValues: { password: "" } });
+  const form = useForm<{ password: string }>({ resolver: checkedBy(verifyForm), defaultValues: { password: "" } });
   const onSubmit = form.handleSubmit(async ({ password }) => {
     setRefused(null);
     try {
@@ -113,7 +109,8 @@ export function EmailLinkSignIn() {
   });
   const signInNow = (email: string) => {
     setState({ is: "working" });
-    void signIn("email-link", { token, redirect: false }).then((r) => {
+    // next-auth's client is loaded on the tap: the forms' pages paint without it
+    void import("next-auth/react").then(({ signIn }) => signIn("email-link", { token, redirect: false })).then((r) => {
       if (r?.ok && !r.error) router.replace("/engines");
       else setState(r?.error === "SignedInAsOther" ? { is: "other", email, current: "another account" } : { is: "bad" });
     });
@@ -136,7 +133,7 @@ export function EmailLinkSignIn() {
         <Notice tone="error">
           This phone is signed in as {state.current}, and the link is for {state.email}. Sign out first, then open the link again.
         </Notice>
-        <Button type="button" look="plain" onClick={() => void signOut({ callbackUrl: window.location.href })}>
+        <Button type="button" look="plain" onClick={() => void import("next-auth/react").then(({ signOut }) => signOut({ callbackUrl: window.location.href }))}>
           Sign out {state.current}
         </Button>
       </div>
@@ -151,10 +148,9 @@ export function EmailLinkSignIn() {
   );
 }
 
-const forgotSchema = z.object({ email: emailSchema });
 export function ForgotPassword() {
   const [sent, setSent] = useState(false);
-  const form = useForm<z.input<typeof forgotSchema>, unknown, z.output<typeof forgotSchema>>({ resolver: zodResolver(forgotSchema), defaultValues: { email: "" } });
+  const form = useForm<{ email: string }>({ resolver: checkedBy(forgotForm), defaultValues: { email: "" } });
   const onSubmit = form.handleSubmit(async ({ email }) => {
     await mutations.requestReset(email);
     setSent(true);
@@ -172,11 +168,10 @@ export function ForgotPassword() {
   );
 }
 
-const resetSchema = z.object({ password: passwordSchema });
 export function ResetPassword() {
   const token = useSearchParams().get("token") ?? "";
   const [state, setState] = useState<"form" | "ok" | "bad">("form");
-  const form = useForm<z.input<typeof resetSchema>, unknown, z.output<typeof resetSchema>>({ resolver: zodResolver(resetSchema), defaultValues: { password: "" } });
+  const form = useForm<{ password: string }>({ resolver: checkedBy(resetForm), defaultValues: { password: "" } });
   const onSubmit = form.handleSubmit(async ({ password }) => {
     try {
       await mutations.setPassword(token, password);

@@ -7,9 +7,9 @@ import { useCallback, useEffect, useRef, useState, type ComponentProps } from "r
 import { LashInputError, workOrder, type ShimPlan } from "@/lib/lash";
 import { checkPlan, DEFAULT_PLAN_OPTIONS, type PlanOptions } from "@/lib/check/derive";
 import { poolForEngine, trayForEngine } from "@/lib/check/pool";
-import { beginFit, saveEngine, setCheckStatus } from "@/lib/sync/writes";
+import { beginFit, saveEngine, setCheckStatus } from "@/lib/sync/later";
 import { usePool } from "@/components/pool/use-pool";
-import { useLocal } from "@/components/sync/local-provider";
+import { useLocalCore } from "@/components/sync/local-provider";
 import { Notice } from "@/components/ui/controls";
 import { StepBoundary } from "@/components/sync/load-failed";
 import { useStored } from "@/components/ui/use-stored";
@@ -97,7 +97,7 @@ export function CheckScreen() {
 
 function CheckBody({ data, step, go, moved }: { data: CheckData; step?: Step; go: (s: Step) => void; moved: boolean }) {
   const { check, engine, readings, tray, previous } = data;
-  const { db, user } = useLocal();
+  const { db, user } = useLocalCore();
   useLaterStepsLoaded();
   const current: Step = step ?? stepOfStatus(check.status, readings.length > 0);
   // the club pool is asked for (and the outbox watched for loans) only on the steps that plan with it

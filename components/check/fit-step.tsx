@@ -1,16 +1,17 @@
 "use client";
 
-import { useLiveQuery } from "dexie-react-hooks";
+import { useLiveQuery } from "@/components/sync/use-live-query";
 import { useEffect, useRef, useState, type ReactNode } from "react";
 import type { ShimMove } from "@/lib/lash";
 import { valveLabel, type ValveView } from "@/lib/check/derive";
 import { camsOut, camsOutWords } from "@/lib/lash";
 import { valvesOfMoves, workOrderKey, type WorkOrderState } from "@/lib/check/fit";
 import { OVER_BUCKET_CAUTIONS, OVER_BUCKET_METHOD, SHIM_POSITION_WORDS, UNDER_BUCKET_FIT } from "@/lib/check/shim-position";
-import { getMeta, type LocalEngine } from "@/lib/sync/local-db";
-import { offerToClub, toggleFitTask, toggleSwap } from "@/lib/sync/writes";
+import { getMeta } from "@/lib/sync/later";
+import type { LocalEngine } from "@/lib/sync/local-db";
+import { offerToClub, toggleFitTask, toggleSwap } from "@/lib/sync/later";
 import { usePool } from "@/components/pool/use-pool";
-import { useLocal } from "@/components/sync/local-provider";
+import { useLocalCore } from "@/components/sync/local-provider";
 import { Button, Notice } from "@/components/ui/controls";
 import { useFocusOnShow } from "@/components/ui/focus";
 import { ShimPositionAsk } from "./shim-position-ask";
@@ -21,7 +22,7 @@ function placeWords(p: ShimMove["from"]) {
 
 /** One tap: offer the club the shims this check sent back to the tray. */
 function OfferReturned({ moves, engine }: { moves: ShimMove[]; engine: LocalEngine }) {
-  const { db } = useLocal();
+  const { db } = useLocalCore();
   const pool = usePool();
   const [sent, setSent] = useState(false);
   const back = new Map<number, number>();
@@ -78,7 +79,7 @@ function Tick({ on, onClick, children, testId }: { on: boolean; onClick: () => v
  */
 export function FitStep({ engine, views, checkId, startFit, onDone, focusHeading = false }: { engine: LocalEngine; views: ValveView[]; checkId: string; startFit: () => void; onDone: () => void; focusHeading?: boolean }) {
   const headingRef = useFocusOnShow<HTMLHeadingElement>(focusHeading);
-  const { db } = useLocal();
+  const { db } = useLocalCore();
   // the list kept when fitting began (lib/check/fit), so a reload mid-fit keeps list and ticks
   const order = useLiveQuery(async () => (db ? ((await getMeta<WorkOrderState>(db, workOrderKey(checkId))) ?? null) : undefined), [db, checkId]);
   const [error, setError] = useState<string | null>(null);

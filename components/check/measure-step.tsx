@@ -5,8 +5,8 @@ import { useFocusOnShow } from "@/components/ui/focus";
 import type { ValveView } from "@/lib/check/derive";
 import { measuringOrder, positionWords } from "@/lib/check/measuring";
 import type { LocalEngine, LocalReading } from "@/lib/sync/local-db";
-import { saveReading } from "@/lib/sync/writes";
-import { useLocal } from "@/components/sync/local-provider";
+import { saveReading } from "@/lib/sync/later";
+import { useLocalCore } from "@/components/sync/local-provider";
 import { Button, Notice } from "@/components/ui/controls";
 import { EngineDiagram } from "./engine-diagram";
 import { ValveCard, type ReadingEntry } from "./valve-card";
@@ -23,7 +23,7 @@ interface Undo {
  * through the crank positions in order. The diagram shows where you are and picks any valve.
  */
 export function MeasureStep({ engine, views, sizes, step, save, onTurn, onDone, previous, checkId, focusHeading = false }: { engine: LocalEngine; views: ValveView[]; sizes: number[]; step: number; save: (v: ValveView) => (r: ReadingEntry) => Promise<void>; onTurn: () => void; onDone: () => void; previous: Map<string, number>; checkId: string; focusHeading?: boolean }) {
-  const { db } = useLocal();
+  const { db } = useLocalCore();
   const order = useMemo(() => measuringOrder(engine), [engine]);
   const byId = useMemo(() => new Map(views.map((v) => [v.valve.id, v])), [views]);
   const [picked, setPicked] = useState<string | null>(null);

@@ -4,8 +4,8 @@ import { useState } from "react";
 import type { ShimPosition } from "@/lib/lash";
 import { SHIM_POSITION_WORDS } from "@/lib/check/shim-position";
 import type { LocalEngine } from "@/lib/sync/local-db";
-import { saveEngine } from "@/lib/sync/writes";
-import { useLocal } from "@/components/sync/local-provider";
+import { saveEngine } from "@/lib/sync/later";
+import { useLocalCore } from "@/components/sync/local-provider";
 import { Button } from "@/components/ui/controls";
 
 /**
@@ -13,7 +13,7 @@ import { Button } from "@/components/ui/controls";
  * one tap answers it for this check and every later one, saved and synced with the profile.
  */
 export function ShimPositionAsk({ engine }: { engine: LocalEngine }) {
-  const { db } = useLocal();
+  const { db } = useLocalCore();
   const [error, setError] = useState<string | null>(null);
   const choose = async (p: ShimPosition) => {
     if (!db) return;

@@ -1,12 +1,12 @@
 "use client";
 
-import { useLiveQuery } from "dexie-react-hooks";
+import { useLiveQuery } from "@/components/sync/use-live-query";
 import { useCallback, useMemo } from "react";
 import { engineSizes, valveViews, type ValveView } from "@/lib/check/derive";
 import { lastShims, previousCheck } from "@/lib/check/previous";
 import type { LocalCheck, LocalEngine, LocalReading, LocalTrayItem } from "@/lib/sync/local-db";
-import { saveReading } from "@/lib/sync/writes";
-import { useLocal } from "@/components/sync/local-provider";
+import { saveReading } from "@/lib/sync/later";
+import { useLocalCore } from "@/components/sync/local-provider";
 import type { ReadingEntry } from "./valve-card";
 
 export interface CheckData {
@@ -25,7 +25,7 @@ export interface CheckData {
  * when the check (or its engine) is not on this phone.
  */
 export function useCheckData(id: string): CheckData | null | undefined {
-  const { db } = useLocal();
+  const { db } = useLocalCore();
   // two live queries: a blade tap changes this check's readings only, so only they are read again,
   // and the engine, check and tray keep their identity (the cards compare them cheaply)
   const rest = useLiveQuery(async () => {
@@ -53,7 +53,7 @@ export function useCheckModel({ engine, readings, previous }: Pick<CheckData, "e
 
 /** A new measurement of one valve, saved in the round it belongs to. */
 export function useSaveReading(checkId: string) {
-  const { db } = useLocal();
+  const { db } = useLocalCore();
   return useCallback(
     (v: ValveView) => async (r: ReadingEntry) => {
       if (!db) return;

@@ -2,16 +2,17 @@
 
 import { useQuery } from "@tanstack/react-query";
 import { useRouter } from "next/navigation";
-import { useLiveQuery } from "dexie-react-hooks";
+import { useLiveQuery } from "@/components/sync/use-live-query";
 import { useState } from "react";
 import { workOrderKey, type WorkOrderState } from "@/lib/check/fit";
 import { RECHECK_TURN, RECHECK_TURN_CAUTION } from "@/lib/check/shim-position";
 import { fetchers, queryKeys } from "@/lib/api/client";
 import { VERDICTS } from "@/lib/check/verdicts";
 import { openValves, recheckValves, type ValveView } from "@/lib/check/derive";
-import { getMeta, type LocalCheck, type LocalEngine } from "@/lib/sync/local-db";
-import { saveCheck, setTurned } from "@/lib/sync/writes";
-import { useLocal } from "@/components/sync/local-provider";
+import { getMeta } from "@/lib/sync/later";
+import type { LocalCheck, LocalEngine } from "@/lib/sync/local-db";
+import { saveCheck, setTurned } from "@/lib/sync/later";
+import { useLocalCore } from "@/components/sync/local-provider";
 import { Button, Notice } from "@/components/ui/controls";
 import { useFocusOnShow } from "@/components/ui/focus";
 import { ValveCard, type ReadingEntry } from "./valve-card";
@@ -30,7 +31,7 @@ function openWords(open: ValveView[]) {
 /** Step 5: re-measure the valves of this fit until all are in band, or close with the open ones noted. */
 export function VerifyStep({ engine, views, sizes, step, save, check, focusHeading = false }: { engine: LocalEngine; views: ValveView[]; sizes: number[]; step: number; save: (v: ValveView) => (r: ReadingEntry) => Promise<void>; check: LocalCheck; focusHeading?: boolean }) {
   const headingRef = useFocusOnShow<HTMLHeadingElement>(focusHeading);
-  const { db } = useLocal();
+  const { db } = useLocalCore();
   const router = useRouter();
   const changed = recheckValves(views);
   const open = openValves(views);

@@ -1,15 +1,15 @@
 "use client";
 
-import { useLiveQuery } from "dexie-react-hooks";
+import { useLiveQuery } from "@/components/sync/use-live-query";
 import { useRouter, useSearchParams } from "next/navigation";
 import { useEffect, useState, type ReactNode } from "react";
 import { useForm, type Resolver } from "react-hook-form";
 import { ENGINE_PRESETS, type ShimPosition } from "@/lib/lash";
 import { SHIM_POSITION_WORDS } from "@/lib/check/shim-position";
 import { engineInput } from "@/lib/schemas/records";
-import { saveEngine } from "@/lib/sync/writes";
+import { saveEngine } from "@/lib/sync/later";
 import type { LocalEngine } from "@/lib/sync/local-db";
-import { useLocal } from "@/components/sync/local-provider";
+import { useLocalCore } from "@/components/sync/local-provider";
 import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
 
 /** Form values are what the fields hold (text); the shared engine schema decides what is valid. */
@@ -163,7 +163,7 @@ const resolverFor =
 export function EngineForm() {
   const params = useSearchParams();
   const router = useRouter();
-  const { db } = useLocal();
+  const { db } = useLocalCore();
   const editing = params.get("id");
   const [id] = useState(() => editing ?? crypto.randomUUID());
   const existing = useLiveQuery(() => (db && editing ? db.engines.get(editing) : undefined), [db, editing]);

@@ -1,19 +1,19 @@
 "use client";
 
-import { useLiveQuery } from "dexie-react-hooks";
+import { useLiveQuery } from "@/components/sync/use-live-query";
 import Link from "next/link";
 import { useRouter, useSearchParams } from "next/navigation";
 import { useState } from "react";
 import { formatLength } from "@/lib/lash";
-import { saveCheck } from "@/lib/sync/writes";
+import { saveCheck } from "@/lib/sync/later";
 import { SHIM_POSITION_WORDS } from "@/lib/check/shim-position";
-import { useLocal } from "@/components/sync/local-provider";
+import { useLocalCore } from "@/components/sync/local-provider";
 import { History } from "./history";
 import { ImportChecks } from "./import-checks";
 import { Button, ButtonLink, Field, inputClass, Notice } from "@/components/ui/controls";
 
 export function EngineList() {
-  const { db } = useLocal();
+  const { db } = useLocalCore();
   const engines = useLiveQuery(async () => db?.engines.orderBy("name").toArray(), [db]);
   if (!engines) return null;
   return (
@@ -39,7 +39,7 @@ export function EngineList() {
 export function EngineDetail() {
   const id = useSearchParams().get("id") ?? "";
   const router = useRouter();
-  const { db } = useLocal();
+  const { db } = useLocalCore();
   const engine = useLiveQuery(async () => (db ? ((await db.engines.get(id)) ?? null) : undefined), [db, id]);
   const checks = useLiveQuery(async () => db?.checks.where("engineId").equals(id).reverse().sortBy("startedAt"), [db, id]);
   const [odometer, setOdometer] = useState("");
@@ -149,7 +149,7 @@ export function EngineDetail() {
 }
 
 export function CheckList() {
-  const { db } = useLocal();
+  const { db } = useLocalCore();
   const rows = useLiveQuery(async () => {
     if (!db) return undefined;
     const [checks, engines] = await Promise.all([db.checks.orderBy("startedAt").reverse().toArray(), db.engines.toArray()]);

@@ -1,18 +1,18 @@
 "use client";
 
-import { useLiveQuery } from "dexie-react-hooks";
+import { useLiveQuery } from "@/components/sync/use-live-query";
 import dynamic from "next/dynamic";
 import { useMemo, useState } from "react";
 import { driftWords, engineHistory } from "@/lib/check/history";
 import type { LocalEngine } from "@/lib/sync/local-db";
-import { useLocal } from "@/components/sync/local-provider";
+import { useLocalCore } from "@/components/sync/local-provider";
 import { Notice } from "@/components/ui/controls";
 
 // the chart library loads only where a chart is shown
 const DriftChart = dynamic(() => import("./drift-chart"), { ssr: false, loading: () => <div className="h-64" /> });
 
 export function History({ engine }: { engine: LocalEngine }) {
-  const { db } = useLocal();
+  const { db } = useLocalCore();
   const data = useLiveQuery(async () => {
     if (!db) return undefined;
     const checks = await db.checks.where("engineId").equals(engine.id).toArray();

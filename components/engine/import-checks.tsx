@@ -3,8 +3,8 @@
 import { useId, useState } from "react";
 import type { DateOrder, ImportPreview } from "@/lib/check/csv-import";
 import type { LocalEngine } from "@/lib/sync/local-db";
-import { importChecks } from "@/lib/sync/writes";
-import { useLocal } from "@/components/sync/local-provider";
+import { importChecks } from "@/lib/sync/later";
+import { useLocalCore } from "@/components/sync/local-provider";
 import { Button, Notice } from "@/components/ui/controls";
 
 const SHOWN_PROBLEMS = 100;
@@ -16,7 +16,7 @@ const SHOWN_PROBLEMS = 100;
  * The reader (with its CSV parser) loads when a file is chosen, not with the page.
  */
 export function ImportChecks({ engine }: { engine: LocalEngine }) {
-  const { db, syncNow } = useLocal();
+  const { db, syncNow } = useLocalCore();
   const input = useId();
   const [file, setFile] = useState<{ name: string; text: string } | null>(null);
   const [dateOrder, setDateOrder] = useState<DateOrder | undefined>(undefined);

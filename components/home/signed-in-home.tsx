@@ -2,11 +2,11 @@
 
 import { useRouter } from "next/navigation";
 import { useEffect } from "react";
-import { useLocal } from "@/components/sync/local-provider";
+import { useLocalCore } from "@/components/sync/local-provider";
 
 /** Someone signed in on this phone opens the app at their engines, not at the landing page. */
 export function SignedInHome() {
-  const { user } = useLocal();
+  const { user } = useLocalCore();
   const router = useRouter();
   useEffect(() => {
     if (user) router.replace("/engines");

@@ -1,14 +1,16 @@
 "use client";
 
 import { useQuery } from "@tanstack/react-query";
-import { useLiveQuery } from "dexie-react-hooks";
+import { useLiveQuery } from "@/components/sync/use-live-query";
 import { useEffect, useMemo, useRef, useState } from "react";
 import { fetchers, queryKeys } from "@/lib/api/client";
 import { PHOTO_MAX_BYTES, PHOTO_MAX_LABEL, photoUrl, usageLabel } from "@/lib/photos/rules";
 import { shrinkPhoto } from "@/lib/photos/shrink";
-import { queuePhoto, USAGE_META, type KnownUsage } from "@/lib/sync/photos";
-import { getMeta, type LocalPhoto } from "@/lib/sync/local-db";
-import { useLocal } from "@/components/sync/local-provider";
+import { getMeta, queuePhoto } from "@/lib/sync/later";
+import { USAGE_META } from "@/lib/sync/meta-keys";
+import type { KnownUsage } from "@/lib/sync/photos";
+import type { LocalPhoto } from "@/lib/sync/local-db";
+import { useLocalCore } from "@/components/sync/local-provider";
 import { Notice } from "@/components/ui/controls";
 
 type Shown = { id: string; src: string | null; blob?: Blob; state: LocalPhoto["state"] | "stored"; reason?: string; held?: boolean; by?: string };
@@ -38,7 +40,7 @@ function Thumb({ p, alt }: { p: Shown; alt: string }) {
  */
 export function PhotoStrip({ checkId, valve, commentId = null, canAdd = true, label }: { checkId: string; valve: string | null; commentId?: string | null; canAdd?: boolean; label: string }) {
   const belongs = (p: { valve: string | null; commentId: string | null }) => (commentId ? p.commentId === commentId : p.valve === valve && !p.commentId);
-  const { db, syncNow } = useLocal();
+  const { db, user, syncNow, needDb } = useLocalCore();
   const input = useRef<HTMLInputElement>(null);
   const [error, setError] = useState<string | null>(null);
   const local = useLiveQuery(async () => (db ? (await db.photos.where("checkId").equals(checkId).toArray()).filter(belongs) : []), [db, checkId, valve, commentId], []);
@@ -63,7 +65,7 @@ export function PhotoStrip({ checkId, valve, commentId = null, canAdd = true, la
           ))}
         </ul>
       )}
-      {canAdd && db && (
+      {canAdd && user && (
         <div className="flex flex-wrap items-center gap-2">
           <input
             ref={input}
@@ -80,7 +82,7 @@ export function PhotoStrip({ checkId, valve, commentId = null, canAdd = true, la
               if (!file) return;
               if (file.size > PHOTO_MAX_BYTES) return setError(`That photo is over ${PHOTO_MAX_LABEL}`);
               setError(null);
-              await queuePhoto(db, { checkId, valve, blob: await shrinkPhoto(file) });
+              await queuePhoto(await needDb(), { checkId, valve, blob: await shrinkPhoto(file) });
               if (navigator.onLine) void syncNow();
             }}
           />

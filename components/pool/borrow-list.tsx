@@ -3,8 +3,8 @@
 import { formatLength, toNm, type ShimPlan } from "@/lib/lash";
 import type { PoolFit } from "@/lib/check/pool";
 import { STATE_WORDS } from "@/lib/pool/rules";
-import { askToBorrow } from "@/lib/sync/writes";
-import { useLocal } from "@/components/sync/local-provider";
+import { askToBorrow } from "@/lib/sync/later";
+import { useLocalCore } from "@/components/sync/local-provider";
 import { Button, Notice } from "@/components/ui/controls";
 import type { usePool } from "./use-pool";
 
@@ -13,7 +13,7 @@ import type { usePool } from "./use-pool";
  * state or a button to ask; and sizes on offer that this engine cannot use, with the reason.
  */
 export function BorrowList({ plan, pool, fit, checkId }: { plan: ShimPlan; pool: ReturnType<typeof usePool>; fit: PoolFit; checkId: string }) {
-  const { db, user } = useLocal();
+  const { db, user } = useLocalCore();
   const names = new Map(pool.offers.map((o) => [o.ownerId, o.ownerName]));
   const mm = (n: number) => formatLength(n, "mm");
   const misfits = fit.wrongSystem.filter((o) => plan.buy.some((b) => toNm(b.size) === toNm(o.size)));

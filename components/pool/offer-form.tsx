@@ -2,14 +2,14 @@
 
 import { useState } from "react";
 import type { LocalTrayItem } from "@/lib/sync/local-db";
-import { offerToClub } from "@/lib/sync/writes";
-import { useLocal } from "@/components/sync/local-provider";
+import { offerToClub } from "@/lib/sync/later";
+import { useLocalCore } from "@/components/sync/local-provider";
 import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
 import { usePool } from "./use-pool";
 
 /** Offer spare shims from the tray to a club's pool: only the shims and the note are shared. */
 export function OfferForm({ items }: { items: LocalTrayItem[] }) {
-  const { db } = useLocal();
+  const { db } = useLocalCore();
   const pool = usePool();
   const stocked = items.filter((t) => t.count > 0);
   const [itemId, setItemId] = useState("");

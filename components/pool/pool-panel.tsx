@@ -2,9 +2,9 @@
 
 import { formatLength } from "@/lib/lash";
 import { movesFor, MOVES, STATE_WORDS, type ApiBorrow, type BorrowMove } from "@/lib/pool/rules";
-import { moveLoan, withdrawOffer } from "@/lib/sync/writes";
+import { moveLoan, withdrawOffer } from "@/lib/sync/later";
 import type { ClubSummary } from "@/lib/api/client";
-import { useLocal } from "@/components/sync/local-provider";
+import { useLocalCore } from "@/components/sync/local-provider";
 import { useId, useState } from "react";
 import { Button, Field, inputClass } from "@/components/ui/controls";
 import { usePool } from "./use-pool";
@@ -65,7 +65,7 @@ function Loan({ b, side, pending, onMove }: { b: ApiBorrow; side: "lender" | "bo
 
 /** A club's shim pool and the loans of the signed-in member, with the steps they may take. */
 export function PoolPanel({ club }: { club: ClubSummary }) {
-  const { db, user } = useLocal();
+  const { db, user } = useLocalCore();
   const pool = usePool();
   const offers = pool.offers.filter((o) => o.clubId === club.id);
   const loans = pool.borrows.filter((b) => b.clubId === club.id && !["declined", "withdrawn", "settled"].includes(b.state));

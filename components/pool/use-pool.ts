@@ -1,19 +1,19 @@
 "use client";
 
 import { useQueries, useQuery, useQueryClient } from "@tanstack/react-query";
-import { useLiveQuery } from "dexie-react-hooks";
+import { useLiveQuery } from "@/components/sync/use-live-query";
 import { useCallback } from "react";
 import { fetchers, queryKeys } from "@/lib/api/client";
 import { HOLDING, type ApiOffer } from "@/lib/pool/rules";
 import type { MutationArgs } from "@/lib/sync/mutations";
-import { useLocal } from "@/components/sync/local-provider";
+import { useLocalCore } from "@/components/sync/local-provider";
 
 /**
  * The club pools of every club the user is in, their loans, and what of theirs waits in the outbox.
  * Read through the API and kept for offline reading (persist-queries keeps "clubs" queries).
  */
 export function usePool({ active = true }: { active?: boolean } = {}) {
-  const { db, user, syncNow } = useLocal();
+  const { db, user, syncNow } = useLocalCore();
   const qc = useQueryClient();
   const clubs = useQuery({ queryKey: queryKeys.clubs(), queryFn: fetchers.clubs, retry: false, enabled: active });
   // loans change on the other side: asked again on every screen that shows them (the kept copy shows meanwhile)

@@ -1,21 +1,21 @@
 "use client";
 
 import { useQuery, useQueryClient } from "@tanstack/react-query";
-import { useLiveQuery } from "dexie-react-hooks";
+import { useLiveQuery } from "@/components/sync/use-live-query";
 import { useSearchParams } from "next/navigation";
 import Link from "next/link";
-import { useMemo } from "react";
+import { useEffect, useMemo } from "react";
 import { valveRounds } from "@/lib/check/rounds";
 import { camsOut, camsOutWords } from "@/lib/lash";
 import { shimPositionWords } from "@/lib/check/shim-position";
 import { checkPlan, valveViews } from "@/lib/check/derive";
 import { VERDICTS, type Verdict } from "@/lib/check/verdicts";
 import { fetchers, queryKeys } from "@/lib/api/client";
-import { addComment, giveVerdict } from "@/lib/sync/writes";
-import { queuePhoto } from "@/lib/sync/photos";
+import { addComment, giveVerdict } from "@/lib/sync/later";
+import { queuePhoto } from "@/lib/sync/later";
 import { shrinkPhoto } from "@/lib/photos/shrink";
 import type { MutationArgs } from "@/lib/sync/mutations";
-import { useLocal } from "@/components/sync/local-provider";
+import { useLocalCore } from "@/components/sync/local-provider";
 import { PhotoStrip } from "@/components/photos/photo-strip";
 import type { LocalEngine, LocalReading } from "@/lib/sync/local-db";
 import { EngineDiagram } from "@/components/check/engine-diagram";
@@ -46,7 +46,12 @@ export function ReviewScreen() {
       return null;
     }
   }, [engine, views]);
-  const { db, user, syncNow } = useLocal();
+  const { db, user, syncNow, needDb } = useLocalCore();
+  // opened with a signal, the review reads only the server; without one, this phone's own comments
+  // and verdict waiting to be sent come from the local database, which then loads
+  useEffect(() => {
+    if (user && !navigator.onLine) void needDb();
+  }, [user, needDb]);
   const local = useLiveQuery(async () => (db ? db.comments.where("checkId").equals(id).toArray() : []), [db, id], []);
   const outbox = useLiveQuery(async () => (db ? db.outbox.toArray() : []), [db], []);
   const pendingIds = new Set(outbox.filter((m) => m.name === "comment.add/1").map((m) => (m.args as { id: string }).id));
@@ -56,15 +61,16 @@ export function ReviewScreen() {
     await Promise.all([qc.invalidateQueries({ queryKey: queryKeys.comments(id) }), qc.invalidateQueries({ queryKey: queryKeys.shares(id) }), qc.invalidateQueries({ queryKey: queryKeys.photos(id) })]);
   };
   const onComment = async (body: string, valve: string | null, photo: File | null) => {
-    if (!db || !user) throw new Error("Sign in on this phone first");
+    if (!user) throw new Error("Sign in on this phone first");
+    const db = await needDb();
     const commentId = crypto.randomUUID();
     await addComment(db, { id: commentId, checkId: id, authorId: user.id, body, valve });
     if (photo) await queuePhoto(db, { checkId: id, commentId, blob: await shrinkPhoto(photo) });
     void refresh();
   };
   const onVerdict = async (shareId: string, v: Verdict) => {
-    if (!db) return;
-    await giveVerdict(db, shareId, v);
+    if (!user) return;
+    await giveVerdict(await needDb(), shareId, v);
     void refresh();
   };
 

@@ -1,21 +1,32 @@
 "use client";
 
-import { PersistQueries } from "./persist-queries";
-import Dexie from "dexie";
-import { useLiveQuery } from "dexie-react-hooks";
 import { del } from "idb-keyval";
 import { usePathname } from "next/navigation";
-import { createContext, useCallback, useContext, useEffect, useMemo, useRef, useState, type ReactNode } from "react";
-import { openLocalDb, getMeta, type LocalDb, type OutboxEntry } from "@/lib/sync/local-db";
-import { discardHeld, heldEntries, Offline, retryHeld, ServerBusy, SessionRevoked, SignedOut, syncOnce, wipeRevoked, type SyncState } from "@/lib/sync/client";
-import { waitingCount } from "@/lib/sync/outbox";
-import { retryDelay } from "@/lib/sync/transport";
+import { createContext, lazy, Suspense, useCallback, useContext, useEffect, useMemo, useRef, useState, type ReactNode } from "react";
+import type { LocalDb, OutboxEntry } from "@/lib/sync/local-db";
+import type { SyncState } from "@/lib/sync/client";
 import { useIsClient, useStored } from "@/components/ui/use-stored";
+import type { EngineState } from "./local-engine";
+
+// Dexie, the outbox, the sync client and the validation they run: loaded behind the first paint,
+// and only by a page that needs the phone's records (see needsLocalDb)
+const LocalEngine = lazy(() => import("./local-engine"));
+// the kept copies of what the screens read through the API: only a signed-in phone has any
+const PersistQueries = lazy(() => import("./persist-queries").then((m) => ({ default: m.PersistQueries })));
+
+/**
+ * Pages that read no local records: the landing page, the account pages and a review opened with a
+ * signal (it reads the server through the API; it asks for the database when it writes or has no
+ * signal). They never load the local database or the sync client.
+ */
+const WITHOUT_LOCAL_DB = ["/", "/review", "/sign-in", "/sign-up", "/forgot-password", "/reset-password", "/verify", "/invite", "/unsubscribe", "/offline"];
+export function needsLocalDb(path: string): boolean {
+  return !WITHOUT_LOCAL_DB.some((p) => path === p || (p !== "/" && path.startsWith(`${p}/`)));
+}
 
 /**
  * The phone's side of the app: who is signed in (kept locally so the garage screens open with no
- * signal), their local database, and the sync loop: at start, on reconnect, on focus, every 30 s
- * while online, and when the service worker's Background Sync fires.
+ * signal), their local database and the sync loop (components/sync/local-engine, loaded on demand).
  */
 export interface LocalUser {
   id: string;
@@ -28,7 +39,12 @@ interface LocalContext {
   user: LocalUser | null;
   /** false until the stored identity has been read */
   ready: boolean;
+  /** the phone's records: null until the local database has loaded (or on a page without it) */
   db: LocalDb | null;
+  /** Dexie's liveQuery, from the same module as db (components/sync/use-live-query reads it) */
+  live: EngineState["live"] | null;
+  /** load the local database on a page that does not by itself (a review that writes), and wait for it */
+  needDb: () => Promise<LocalDb>;
   state: SyncState;
   /** when the server was busy: the time of the next try */
   retryAt: number | null;
@@ -63,9 +79,12 @@ export interface Revoked {
 }
 
 const Ctx = createContext<LocalContext | null>(null);
+
+/** What the screens need of the phone's side: it changes with the user or the database, not with every saved change. */
+export type LocalCore = Pick<LocalContext, "user" | "ready" | "db" | "live" | "needDb" | "syncNow" | "forget">;
+const CoreCtx = createContext<LocalCore | null>(null);
 const USER_KEY = "lashwright.user";
 const REVOKED_KEY = "lashwright.revoked";
-const SYNC_EVERY_MS = 30_000;
 
 function storedUser(): LocalUser | null {
   try {
@@ -82,26 +101,23 @@ export function LocalProvider({ children }: { children: ReactNode }) {
   const [state, setState] = useState<SyncState>("idle");
   const [persisted, setPersisted] = useState<boolean | null>(null);
   const userId = user?.id;
-  const db = useMemo(() => (userId ? openLocalDb(userId) : null), [userId]);
-  const [dbNotice, setDbNotice] = useState<"closed" | "blocked" | null>(null);
-  useEffect(() => {
-    if (!db) return;
-    // a deletion (signing out in another window) has newVersion null: nothing to say then
-    const onChange = (ev: IDBVersionChangeEvent) => void (ev.newVersion && setDbNotice("closed"));
-    const onBlocked = (ev: IDBVersionChangeEvent) => void (ev.newVersion && ev.newVersion > ev.oldVersion && setDbNotice("blocked"));
-    db.on("versionchange", onChange);
-    db.on("blocked", onBlocked);
-    return () => {
-      db.on("versionchange").unsubscribe(onChange);
-      db.on("blocked").unsubscribe(onBlocked);
-    };
-  }, [db]);
-  const running = useRef<Promise<void> | null>(null);
-  const [retryAt, setRetryAt] = useState<number | null>(null);
-  const [limited, setLimited] = useState(false);
-  // a busy server: tries so far, and no regular sync before the time it was asked to wait
-  const busyTries = useRef(0);
-  const busyUntil = useRef(0);
+  const [engine, setEngine] = useState<EngineState | null>(null);
+  const engineNow = useRef<EngineState | null>(null);
+  const waiters = useRef<((db: LocalDb) => void)[]>([]);
+  const onEngine = useCallback((e: EngineState | null) => {
+    engineNow.current = e;
+    setEngine(e);
+    if (e) for (const w of waiters.current.splice(0)) w(e.db);
+  }, []);
+  // once a page of this visit needed the database it stays open: the next page reuses it
+  const path = usePathname();
+  const [asked, setAsked] = useState(false);
+  const wanted = asked || needsLocalDb(path);
+  const needDb = useCallback(() => {
+    if (engineNow.current) return Promise.resolve(engineNow.current.db);
+    setAsked(true);
+    return new Promise<LocalDb>((resolve) => waiters.current.push(resolve));
+  }, []);
 
   // The session was ended elsewhere: wipe this user's copy, keep the unsent work for their next
   // sign-in here (lib/sync/client.ts wipeRevoked), drop the kept copies of shared checks and clubs
@@ -110,22 +126,27 @@ export function LocalProvider({ children }: { children: ReactNode }) {
   const revoke = useCallback(async () => {
     setState("signed-out");
     if (!userId) return;
-    const kept = db ? await wipeRevoked(db).catch(() => ({ changes: 0, photos: 0 })) : { changes: 0, photos: 0 };
+    const wipe = async () => {
+      const [{ wipeRevoked }, { openLocalDb }] = await Promise.all([import("@/lib/sync/client"), import("@/lib/sync/local-db")]);
+      const db = engineNow.current?.db ?? openLocalDb(userId);
+      return wipeRevoked(db);
+    };
+    const kept = await wipe().catch(() => ({ changes: 0, photos: 0 }));
     storeRevoked({ email: user?.email ?? "", ...kept });
     storeUser(null);
     const cache = `lashwright-cache-${userId}`;
     await del(cache).catch(() => undefined);
     setTimeout(() => void del(cache).catch(() => undefined), 2_000);
-  }, [db, storeRevoked, storeUser, user?.email, userId]);
+  }, [storeRevoked, storeUser, user?.email, userId]);
   const revokeNow = useRef(revoke);
   useEffect(() => {
     revokeNow.current = revoke;
   }, [revoke]);
+  const onRevoked = useCallback(() => revokeNow.current(), []);
 
   // The identity: the stored one at once, then the server's word when it can be reached, asked
   // again on each new page: if the session now belongs to someone else (a sign-in link opened, a
   // sign-in in another tab), the header, the local database and the sync follow it at once.
-  const path = usePathname();
   const askAgain = path;
   useEffect(() => {
     // next-auth's session answer first: it is 200 with no user when nobody is signed in, so a
@@ -156,111 +177,79 @@ export function LocalProvider({ children }: { children: ReactNode }) {
     navigator.storage.persisted().then((already) => (already ? setPersisted(true) : navigator.storage.persist().then(setPersisted)));
   }, []);
 
-  // a request made while a sync runs (a change written meanwhile) gets one more run after it
-  const again = useRef(false);
   const syncNow = useCallback(async () => {
-    if (!db) return;
-    if (running.current) {
-      again.current = true;
-      return running.current;
-    }
-    setRetryAt(null);
-    running.current = (async () => {
-      do {
-        again.current = false;
-        setState("syncing");
-        try {
-          await syncOnce(db, (u, i) => fetch(u, i));
-          busyTries.current = 0;
-          setState("idle");
-        } catch (e) {
-          if (e instanceof ServerBusy) {
-            // the outbox stays as it is; come back when asked, later with each busy answer, with jitter
-            busyUntil.current = Date.now() + retryDelay(busyTries.current++, e.retryAfterMs);
-            setRetryAt(busyUntil.current);
-            setLimited(e.status === 429);
-            setState("busy");
-          } else if (e instanceof SessionRevoked) await revokeNow.current();
-          else setState(e instanceof SignedOut ? "signed-out" : e instanceof Offline ? "offline" : "error");
-          if (!(e instanceof Offline || e instanceof SignedOut || e instanceof ServerBusy)) console.error("[sync] failed:", e);
-          break;
-        }
-      } while (again.current);
-    })().finally(() => {
-      running.current = null;
-    });
-    return running.current;
-  }, [db]);
-  // the next try after a busy answer
-  useEffect(() => {
-    if (retryAt === null) return;
-    const t = setTimeout(() => void syncNow(), Math.max(0, retryAt - Date.now()));
-    return () => clearTimeout(t);
-  }, [retryAt, syncNow]);
-
-  useEffect(() => {
-    if (!db) return;
-    void syncNow();
-    const onOnline = () => void syncNow();
-    const onFocus = () => document.visibilityState === "visible" && void syncNow();
-    const onMessage = (e: MessageEvent) => (e.data as { type?: string })?.type === "lashwright-sync" && void syncNow();
-    window.addEventListener("online", onOnline);
-    document.addEventListener("visibilitychange", onFocus);
-    navigator.serviceWorker?.addEventListener("message", onMessage);
-    // the regular sync waits while a busy server's retry is pending
-    const timer = setInterval(() => navigator.onLine && Date.now() >= busyUntil.current && void syncNow(), SYNC_EVERY_MS);
-    return () => {
-      window.removeEventListener("online", onOnline);
-      document.removeEventListener("visibilitychange", onFocus);
-      navigator.serviceWorker?.removeEventListener("message", onMessage);
-      clearInterval(timer);
-    };
-  }, [db, syncNow]);
-
-  // changes and photos not yet on the server
-  const waiting = useLiveQuery(async () => (db ? (await waitingCount(db)) + (await db.photos.where("state").equals("waiting").count()) : 0), [db], 0);
-  const lastSyncAt = useLiveQuery(async () => (db ? ((await getMeta<number>(db, "lastSyncAt")) ?? null) : null), [db, state], null);
-  const held = useLiveQuery(async () => (db ? await heldEntries(db) : []), [db], []);
-  const retry = useCallback(
-    async (seq: number) => {
-      if (!db) return;
-      await retryHeld(db, seq);
-      await syncNow();
-    },
-    [db, syncNow],
-  );
-  const discard = useCallback(async (seq: number) => void (db && (await discardHeld(db, seq))), [db]);
-
-  // When changes wait and a signal may be back, ask for Background Sync where the browser has it.
-  useEffect(() => {
-    if (waiting === 0 || !("serviceWorker" in navigator)) return;
-    navigator.serviceWorker.ready
-      .then((reg) => (reg as ServiceWorkerRegistration & { sync?: { register(tag: string): Promise<void> } }).sync?.register("lashwright-sync"))
-      .catch(() => undefined);
-  }, [waiting]);
+    await engineNow.current?.syncNow();
+  }, []);
+  const retry = useCallback(async (seq: number) => void (await engineNow.current?.retry(seq)), []);
+  const discard = useCallback(async (seq: number) => void (await engineNow.current?.discard(seq)), []);
 
   // Signing out leaves nothing of this user on the phone: their local database (records and
   // outbox), the kept copies of other members' shared checks, and the stored identity (OWASP ASVS
   // 5.0 V14 Data Protection, V7 Session Management: sign-out ends what the session could read).
   const forget = useCallback(async () => {
     if (userId) {
-      db?.close();
-      await Promise.all([Dexie.delete(`lashwright-${userId}`), del(`lashwright-cache-${userId}`)]).catch(() => undefined);
+      engineNow.current?.db.close();
+      const deleteDb = import("dexie").then(({ default: Dexie }) => Dexie.delete(`lashwright-${userId}`));
+      await Promise.all([deleteDb, del(`lashwright-cache-${userId}`)]).catch(() => undefined);
     }
     storeUser(null);
-  }, [db, storeUser, userId]);
+  }, [storeUser, userId]);
 
-  const value: LocalContext = { user, ready, db, state, retryAt, limited, waiting, lastSyncAt, held, persisted, dbNotice, syncNow, retry, discard, forget, revoked };
+  const e = engine && userId ? engine : null;
+  const value: LocalContext = {
+    user,
+    ready,
+    db: e?.db ?? null,
+    live: e?.live ?? null,
+    needDb,
+    state,
+    retryAt: e?.retryAt ?? null,
+    limited: e?.limited ?? false,
+    waiting: e?.waiting ?? 0,
+    lastSyncAt: e?.lastSyncAt ?? null,
+    held: e?.held ?? NONE,
+    persisted,
+    dbNotice: e?.dbNotice ?? null,
+    syncNow,
+    retry,
+    discard,
+    forget,
+    revoked,
+  };
+  // the screens read this one: a tap's new outbox entry changes the counts above, and only the
+  // frame's sync line shows them, so the screen is not drawn again for it
+  const { db, live } = value;
+  const core = useMemo<LocalCore>(() => ({ user, ready, db, live, needDb, syncNow, forget }), [user, ready, db, live, needDb, syncNow, forget]);
   return (
-    <Ctx.Provider value={value}>
-      <PersistQueries userId={userId ?? null} />
-      {children}
-    </Ctx.Provider>
+    <CoreCtx.Provider value={core}>
+      <Ctx.Provider value={value}>
+        {ready && userId && (
+          <Suspense fallback={null}>
+            <PersistQueries userId={userId} />
+          </Suspense>
+        )}
+        {ready && userId && wanted && (
+          <Suspense fallback={null}>
+            <LocalEngine key={userId} userId={userId} state={state} setState={setState} onChange={onEngine} onRevoked={onRevoked} />
+          </Suspense>
+        )}
+        {children}
+      </Ctx.Provider>
+    </CoreCtx.Provider>
   );
 }
+
+const NONE: OutboxEntry[] = [];
 
 export function useLocal(): LocalContext {
   const v = useContext(Ctx);
   if (!v) throw new Error("useLocal outside LocalProvider");
+  return v;
+}
+
+/** The user, the local database and the sync trigger, without the sync's counts (see LocalCore). */
+export function useLocalCore(): LocalCore {
+  const v = useContext(CoreCtx);
+  if (!v) throw new Error("useLocalCore outside LocalProvider");
   return v;
 }

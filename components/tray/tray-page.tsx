@@ -1,15 +1,15 @@
 "use client";
 
-import { useLiveQuery } from "dexie-react-hooks";
+import { useLiveQuery } from "@/components/sync/use-live-query";
 import { useState } from "react";
-import { saveTrayItem } from "@/lib/sync/writes";
-import { useLocal } from "@/components/sync/local-provider";
+import { saveTrayItem } from "@/lib/sync/later";
+import { useLocalCore } from "@/components/sync/local-provider";
 import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
 import { OfferForm } from "@/components/pool/offer-form";
 
 /** The loose shims on hand, by size and count; the plan takes from here and fitting updates it. */
 export function TrayPage() {
-  const { db } = useLocal();
+  const { db } = useLocalCore();
   const items = useLiveQuery(async () => db?.tray.orderBy("size").toArray(), [db]);
   const [size, setSize] = useState("");
   const [measured, setMeasured] = useState(false);

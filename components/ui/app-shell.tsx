@@ -121,7 +121,12 @@ function revokedText(r: { email: string; changes: number; photos: number }) {
 
 /** Sign in and come back here, query string included (/check?id=... must survive the round trip). */
 function SignInHere({ path, query }: { path: string; query: string }) {
-  return <ButtonLink href={`/sign-in?next=${encodeURIComponent(query ? `${path}?${query}` : path)}`}>Sign in</ButtonLink>;
+  // not prefetched: a visitor sent here loads the sign-in form's code only if they tap
+  return (
+    <ButtonLink href={`/sign-in?next=${encodeURIComponent(query ? `${path}?${query}` : path)}`} prefetch={false}>
+      Sign in
+    </ButtonLink>
+  );
 }
 
 function SignInWithQuery({ path }: { path: string }) {

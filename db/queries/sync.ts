@@ -7,7 +7,15 @@ import { checkToApi, engineToApi, readingToApi, trayToApi } from "./garage";
 import type { AnyMySqlColumn } from "drizzle-orm/mysql-core";
 
 /** The client row, locked for the push; created on first sight, refused if another user owns it. */
-export async function lockClient(tx: Tx, clientId: string, userId: string): Promise<number> {
+export async function lockClient(tx: Tx, clientId: string, userId: string, known = false): Promise<number> {
+  // a device seen before (the push read its row just now): the locking read alone, one round trip
+  if (known) {
+    const [c] = await tx.select().from(syncClients).where(eq(syncClients.id, clientId)).for("update");
+    if (c) {
+      if (c.userId !== userId) throw forbidden("This device belongs to another account");
+      return c.lastMutationId;
+    }
+  }
   await tx.insert(syncClients).values({ id: clientId, userId }).onDuplicateKeyUpdate({ set: { id: sql`id` } });
   const [c] = await tx.select().from(syncClients).where(eq(syncClients.id, clientId)).for("update");
   if (!c || c.userId !== userId) throw forbidden("This device belongs to another account");

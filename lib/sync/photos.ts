@@ -2,6 +2,7 @@ import { PHOTO_QUOTA_CODE, photoFields, type PhotoUsage } from "../photos/rules"
 import { LashInputError } from "../lash";
 import { setMeta, type LocalDb, type LocalPhoto } from "./local-db";
 import { send, SignedOut, type Fetch } from "./transport";
+import { USAGE_META } from "./meta-keys";
 
 /**
  * The phone's photo queue. A photo is stored in IndexedDB at once (it survives a closed page) and
@@ -18,7 +19,7 @@ export async function queuePhoto(db: LocalDb, p: { checkId: string; valve?: stri
 
 /** The account's photo space as last heard from the server, with when (the strip shows it offline too). */
 export type KnownUsage = PhotoUsage & { at: number };
-export const USAGE_META = "photoUsage";
+export { USAGE_META };
 
 async function fetchUsage(db: LocalDb, fetcher: Fetch, base: string): Promise<PhotoUsage | null> {
   const res = await send(fetcher, `${base}/api/photos/usage`, { method: "GET" }).catch((e: unknown) => {

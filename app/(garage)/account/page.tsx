@@ -1,13 +1,13 @@
 import type { Metadata } from "next";
 import { AppShell } from "@/components/ui/app-shell";
-import { NoticeSetting } from "@/components/account/notice-setting";
+import { AccountScreen } from "@/components/ui/screens";
 
 export const metadata: Metadata = { title: "Account" };
 
 export default function Page() {
   return (
     <AppShell title="Account">
-      <NoticeSetting />
+      <AccountScreen />
     </AppShell>
   );
 }

@@ -1,7 +1,7 @@
 import type { Metadata } from "next";
 import { Suspense } from "react";
 import { AppShell } from "@/components/ui/app-shell";
-import { CheckPage } from "@/components/check/check-page";
+import { CheckScreen } from "@/components/ui/screens";
 
 export const metadata: Metadata = { title: "Check" };
 
@@ -9,7 +9,7 @@ export default function Page() {
   return (
     <AppShell title="Valve check" back={{ href: "/checks", label: "Checks" }}>
       <Suspense>
-        <CheckPage />
+        <CheckScreen />
       </Suspense>
     </AppShell>
   );

@@ -1,7 +1,7 @@
 import type { Metadata } from "next";
 import { Suspense } from "react";
 import { AppShell } from "@/components/ui/app-shell";
-import { CheckList } from "@/components/engine/engine-pages";
+import { CheckListScreen } from "@/components/ui/screens";
 
 export const metadata: Metadata = { title: "Checks" };
 
@@ -9,7 +9,7 @@ export default function Page() {
   return (
     <AppShell title="Checks">
       <Suspense>
-        <CheckList />
+        <CheckListScreen />
       </Suspense>
     </AppShell>
   );

@@ -1,13 +1,13 @@
 import type { Metadata } from "next";
 import { AppShell } from "@/components/ui/app-shell";
-import { ClubPanel } from "@/components/club/club-panel";
+import { ClubScreen } from "@/components/ui/screens";
 
 export const metadata: Metadata = { title: "Club" };
 
 export default function ClubPage() {
   return (
     <AppShell title="Club">
-      <ClubPanel />
+      <ClubScreen />
     </AppShell>
   );
 }

@@ -1,7 +1,7 @@
 import type { Metadata } from "next";
 import { Suspense } from "react";
 import { AppShell } from "@/components/ui/app-shell";
-import { EngineDetail } from "@/components/engine/engine-pages";
+import { EngineScreen } from "@/components/ui/screens";
 
 export const metadata: Metadata = { title: "Engine" };
 
@@ -9,7 +9,7 @@ export default function Page() {
   return (
     <AppShell title="Engine" back={{ href: "/engines", label: "Engines" }}>
       <Suspense>
-        <EngineDetail />
+        <EngineScreen />
       </Suspense>
     </AppShell>
   );

@@ -1,7 +1,7 @@
 import type { Metadata } from "next";
 import { Suspense } from "react";
 import { AppShell } from "@/components/ui/app-shell";
-import { EngineList } from "@/components/engine/engine-pages";
+import { EngineListScreen } from "@/components/ui/screens";
 
 export const metadata: Metadata = { title: "Engines" };
 
@@ -9,7 +9,7 @@ export default function Page() {
   return (
     <AppShell title="Engines">
       <Suspense>
-        <EngineList />
+        <EngineListScreen />
       </Suspense>
     </AppShell>
   );

@@ -1,7 +1,7 @@
 import type { Metadata } from "next";
 import { Suspense } from "react";
 import { AppShell } from "@/components/ui/app-shell";
-import { ReviewScreen } from "@/components/review/review-screen";
+import { ReviewScreen } from "@/components/ui/screens";
 
 export const metadata: Metadata = { title: "Review" };
 

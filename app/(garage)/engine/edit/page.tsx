@@ -1,7 +1,7 @@
 import type { Metadata } from "next";
 import { Suspense } from "react";
 import { AppShell } from "@/components/ui/app-shell";
-import { EngineForm } from "@/components/engine/engine-form";
+import { EngineFormScreen } from "@/components/ui/screens";
 
 export const metadata: Metadata = { title: "Engine profile" };
 
@@ -9,7 +9,7 @@ export default function Page() {
   return (
     <AppShell title="Engine profile" back={{ href: "/engines", label: "Engines" }}>
       <Suspense>
-        <EngineForm />
+        <EngineFormScreen />
       </Suspense>
     </AppShell>
   );
