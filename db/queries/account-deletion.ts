@@ -18,6 +18,7 @@ import {
   objectDeletions,
   ownerVersions,
   poolOffers,
+  rateLimits,
   readings,
   shares,
   syncClients,
@@ -174,7 +175,9 @@ export async function eraseRows(tx: Tx, userId: string, email: string): Promise<
   await tx.update(clubs).set({ createdBy: null }).where(eq(clubs.createdBy, userId));
   await tx.delete(ownerVersions).where(eq(ownerVersions.ownerId, userId));
   // the account's budgets (keys "name:<id>" or "name:<address>"): a count must not outlive whom it counts
-  await tx.execute(sql`DELETE FROM rate_limits WHERE \`key\` LIKE ${`%:${likeText(userId)}`} OR \`key\` LIKE ${`%:${likeText(email)}`}`);
+  // found by a plain read (a locking LIKE scan would hold every budget row until the commit), then deleted by key
+  const [found] = (await tx.execute(sql`SELECT \`key\` AS k FROM rate_limits WHERE \`key\` LIKE ${`%:${likeText(userId)}`} OR \`key\` LIKE ${`%:${likeText(email)}`}`)) as unknown as [{ k: string }[]];
+  if (found.length) await tx.delete(rateLimits).where(inArray(rateLimits.key, found.map((r) => r.k)));
   await tx.delete(users).where(eq(users.id, userId));
 }
 
