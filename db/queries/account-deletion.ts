@@ -174,9 +174,11 @@ export async function eraseRows(tx: Tx, userId: string, email: string): Promise<
   await tx.update(shares).set({ verdictBy: null }).where(eq(shares.verdictBy, userId));
   await tx.update(clubs).set({ createdBy: null }).where(eq(clubs.createdBy, userId));
   await tx.delete(ownerVersions).where(eq(ownerVersions.ownerId, userId));
-  // the account's budgets (keys "name:<id>" or "name:<address>"): a count must not outlive whom it counts
+  // the account's budgets (keys "name:<id>" or "name:<address>"): a count must not outlive whom it counts;
   // found by a plain read (a locking LIKE scan would hold every budget row until the commit), then deleted by key
-  const [found] = (await tx.execute(sql`SELECT \`key\` AS k FROM rate_limits WHERE \`key\` LIKE ${`%:${likeText(userId)}`} OR \`key\` LIKE ${`%:${likeText(email)}`}`)) as unknown as [{ k: string }[]];
+  // (a key names it whole, at its end or before another part: "push:device:<id>:<device>")
+  const named = (v: string) => sql`(\`key\` LIKE ${`%:${likeText(v)}`} OR \`key\` LIKE ${`%:${likeText(v)}:%`})`;
+  const [found] = (await tx.execute(sql`SELECT \`key\` AS k FROM rate_limits WHERE ${named(userId)} OR ${named(email)}`)) as unknown as [{ k: string }[]];
   if (found.length) await tx.delete(rateLimits).where(inArray(rateLimits.key, found.map((r) => r.k)));
   await tx.delete(users).where(eq(users.id, userId));
 }
