@@ -205,7 +205,8 @@ export async function acceptInvite(raw: string, user: { id: string; email: strin
 export async function listClubLog(clubId: string, limit: number, offset: number) {
   const subject = alias(users, "subject");
   return db()
-    .select({ id: clubLog.id, action: clubLog.action, at: clubLog.at, actorName: users.name, subjectName: subject.name, subjectEmail: clubLog.subjectEmail, detail: clubLog.detail })
+    // an actor whose account was deleted is named as such (the entry stays: it is the club's record)
+    .select({ id: clubLog.id, action: clubLog.action, at: clubLog.at, actorName: sql<string>`coalesce(${users.name}, ${FORMER_MEMBER})`, subjectName: subject.name, subjectEmail: clubLog.subjectEmail, detail: clubLog.detail })
     .from(clubLog)
     .leftJoin(users, eq(users.id, clubLog.actorId))
     .leftJoin(subject, eq(subject.id, clubLog.subjectUserId))
