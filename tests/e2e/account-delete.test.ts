@@ -1,5 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { Browser, Page } from "playwright-core";
+import { AxeBuilder } from "@axe-core/playwright";
 import { signedInClient } from "../support/api";
 import { baseUrl, launch, signInAs } from "../support/browser";
 import { addMembership, ENGINE_FOUR, makeUser } from "../support/fixtures";
@@ -16,6 +17,9 @@ beforeAll(async () => {
 afterAll(() => browser?.close());
 
 const overflows = (page: Page) => page.evaluate(() => document.documentElement.scrollWidth > window.innerWidth);
+/** axe-core on the deletion's section (the rest of the page is audited by a11y.test.ts), WCAG 2.1 A/AA and best practice. */
+const axe = async (page: Page) =>
+  (await new AxeBuilder({ page }).include('section[aria-labelledby="delete-heading"]').withTags(["wcag2a", "wcag2aa", "wcag21a", "wcag21aa", "best-practice"]).analyze()).violations.map((v) => `${v.id}: ${v.nodes.map((n) => n.target.join(" ")).join(", ")}`);
 const localDatabases = (page: Page) => page.evaluate(async () => (await indexedDB.databases()).map((d) => d.name ?? ""));
 
 describe("deleting the account on a phone", () => {
@@ -39,6 +43,7 @@ describe("deleting the account on a phone", () => {
     await page.getByText(/You are the only admin of Thursday Garage Club/).waitFor();
     expect(await page.getByLabel("Your password, to confirm").count()).toBe(0);
     expect(await overflows(page)).toBe(false);
+    expect(await axe(page)).toEqual([]);
     await page.screenshot({ path: "test-results/account-delete-blocked.png", fullPage: true });
 
     // another member takes over as admin; the screen asked again now offers the deletion
@@ -49,8 +54,10 @@ describe("deleting the account on a phone", () => {
     await password.waitFor();
     await page.getByText(/comments you write on other members' checks would stay, shown as from “a former member”/).waitFor();
     expect(await overflows(page)).toBe(false);
+    expect(await axe(page)).toEqual([]);
     await page.screenshot({ path: "test-results/account-delete-confirm.png", fullPage: true });
     await page.emulateMedia({ colorScheme: "dark" });
+    expect(await axe(page)).toEqual([]);
     await page.screenshot({ path: "test-results/account-delete-confirm-dark.png", fullPage: true });
     await page.emulateMedia({ colorScheme: "light" });
 
