@@ -1,6 +1,5 @@
 "use client";
 
-import Link from "next/link";
 import { useCallback, useEffect, useState } from "react";
 import { apiFetch, ApiFailure } from "@/lib/api/client";
 import { blockerText, FORMER_MEMBER, type DeletionPreview } from "@/lib/account/deletion";
@@ -28,9 +27,7 @@ export function DeleteAccount() {
   const [fieldError, setFieldError] = useState<string | undefined>();
   const [sent, setSent] = useState(false);
   const [busy, setBusy] = useState(false);
-  const [done, setDone] = useState(false);
   const headingRef = useFocusOnShow<HTMLHeadingElement>(!!preview);
-  const doneRef = useFocusOnShow<HTMLHeadingElement>(done);
 
   const load = useCallback(
     () =>
@@ -72,9 +69,11 @@ export function DeleteAccount() {
     setFieldError(undefined);
     try {
       await apiFetch("/api/account", { method: "DELETE", body: preview?.hasPassword ? { password } : { token } });
-      // the server's copy is gone: the phone's goes too, unsent changes included (no account can take them now)
+      // the server's copy is gone: the phone's goes too, unsent changes included (no account can take them
+      // now), then a full load, so nothing of the account stays in the page's memory either
       await forget();
-      setDone(true);
+      // eslint-disable-next-line @next/next/no-location-assign-relative-destination
+      window.location.href = "/account-deleted";
     } catch (e) {
       if (e instanceof ApiFailure && e.fields.password) setFieldError(e.fields.password);
       setError(e instanceof ApiFailure && e.status !== 0 ? e.message : "No connection: nothing was deleted. Try again when online.");
@@ -82,19 +81,6 @@ export function DeleteAccount() {
       setBusy(false);
     }
   };
-
-  if (done)
-    return (
-      <section className="flex flex-col gap-3" aria-labelledby="deleted-heading">
-        <h2 id="deleted-heading" ref={doneRef} tabIndex={-1} className="text-xl font-bold">
-          Your account is deleted
-        </h2>
-        <p>Its records are gone from the server and from this phone. The photos leave the photo store within minutes.</p>
-        <Link href="/" className="inline-flex min-h-12 items-center font-bold underline underline-offset-4">
-          Back to the start page
-        </Link>
-      </section>
-    );
 
   return (
     <section className="flex flex-col gap-3 border-t border-line pt-4" aria-labelledby="delete-heading">

@@ -69,7 +69,9 @@ describe("deleting the account on a phone", () => {
 
     await password.fill(u.password);
     await page.getByRole("button", { name: "Delete the account for good" }).tap();
+    await page.waitForURL("**/account-deleted");
     await page.getByRole("heading", { name: "Your account is deleted" }).waitFor();
+    expect(await overflows(page)).toBe(false);
     await page.screenshot({ path: "test-results/account-delete-done.png", fullPage: true });
     expect(await localDatabases(page)).not.toContain(`lashwright-${u.id}`);
     // the computer still signed in is told its session ended
