@@ -57,7 +57,8 @@ export const users = mysqlTable(
 export const clubs = mysqlTable("clubs", {
   id: id(),
   name: varchar("name", { length: 120 }).notNull(),
-  createdBy: ref("created_by").notNull().references(() => users.id),
+  /** null once that account is deleted (the club stays with its other admins) */
+  createdBy: ref("created_by").references(() => users.id, { onDelete: "set null" }),
   /**
    * Raised by every change of the club's roles. Removing an admin counts the others; on a
    * multi-primary cluster a lock taken on one node does not stop a writer on another, so two such
@@ -89,7 +90,8 @@ export const invites = mysqlTable(
     email: varchar("email", { length: 254 }).notNull(),
     role: mysqlEnum("role", roles).notNull().default("mechanic"),
     tokenHash: char("token_hash", { length: 64 }).notNull(),
-    invitedBy: ref("invited_by").notNull().references(() => users.id),
+    /** null once that account is deleted (its pending invitations are withdrawn first) */
+    invitedBy: ref("invited_by").references(() => users.id, { onDelete: "set null" }),
     expiresAt: timestamp("expires_at", { fsp: 3 }).notNull(),
     acceptedAt: timestamp("accepted_at", { fsp: 3 }),
     /** withdrawn by an admin, or ended because the admin who sent it lost the role */
@@ -128,7 +130,8 @@ export const authTokens = mysqlTable(
   {
     id: id(),
     userId: ref("user_id").notNull().references(() => users.id, { onDelete: "cascade" }),
-    purpose: mysqlEnum("purpose", ["verify", "reset", "signin"]).notNull(),
+    /** "delete": the mailed confirmation that deletes an account without a password */
+    purpose: mysqlEnum("purpose", ["verify", "reset", "signin", "delete"]).notNull(),
     tokenHash: char("token_hash", { length: 64 }).notNull(),
     expiresAt: timestamp("expires_at", { fsp: 3 }).notNull(),
     usedAt: timestamp("used_at", { fsp: 3 }),
@@ -317,7 +320,8 @@ export const shares = mysqlTable(
     clubId: ref("club_id").notNull().references(() => clubs.id, { onDelete: "cascade" }),
     sharedBy: ref("shared_by").notNull().references(() => users.id),
     verdict: mysqlEnum("verdict", verdicts),
-    verdictBy: ref("verdict_by").references(() => users.id),
+    /** null once the mentor's account is deleted: the verdict stays, from "a former member" */
+    verdictBy: ref("verdict_by").references(() => users.id, { onDelete: "set null" }),
     verdictAt: timestamp("verdict_at", { fsp: 3 }),
     withdrawnAt: timestamp("withdrawn_at", { fsp: 3 }),
     version: version(),
@@ -332,7 +336,8 @@ export const comments = mysqlTable(
   {
     id: id(),
     checkId: ref("check_id").notNull().references(() => checks.id, { onDelete: "cascade" }),
-    authorId: ref("author_id").notNull().references(() => users.id),
+    /** null once the author's account is deleted: the comment stays on the check, from "a former member" */
+    authorId: ref("author_id").references(() => users.id, { onDelete: "set null" }),
     /**
      * The club whose thread a mentor's comment belongs to (null for the owner's, seen by every club
      * the check is shared with): a check shared with two clubs has one thread per club
@@ -465,3 +470,20 @@ export const mailStops = mysqlTable("mail_stops", {
   email: varchar("email", { length: 254 }).primaryKey(),
   createdAt: createdAt(),
 });
+
+/**
+ * Objects the photo store must lose: written in the transaction that deletes their rows (an
+ * account's deletion), removed one by one by the background sweep (server/object-deletions.ts),
+ * each retried with a growing wait until the store confirms it. A store that is down keeps them here.
+ */
+export const objectDeletions = mysqlTable(
+  "object_deletions",
+  {
+    objectKey: varchar("object_key", { length: 200 }).primaryKey(),
+    attempts: int("attempts").notNull().default(0),
+    nextAttemptAt: timestamp("next_attempt_at", { fsp: 3 }).notNull().defaultNow(),
+    lastError: varchar("last_error", { length: 500 }),
+    createdAt: createdAt(),
+  },
+  (t) => [index("object_deletions_next_idx").on(t.nextAttemptAt)],
+);

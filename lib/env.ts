@@ -16,6 +16,8 @@ const envSchema = z.object({
   MAIL_FROM: z.string().default("Lashwright <no-reply@lashwright.example>"),
   /** first retry delay of a failed e-mail notice; later ones double */
   NOTICE_RETRY_SECONDS: z.coerce.number().int().min(1).max(3600).default(30),
+  /** first retry delay of a photo the store did not delete (a deleted account's); later ones double, up to an hour */
+  OBJECT_DELETE_RETRY_SECONDS: z.coerce.number().int().min(1).max(3600).default(30),
   /** notices to one address are gathered this long into one mail (npm test shortens it) */
   NOTICE_DIGEST_SECONDS: z.coerce.number().int().min(1).max(3600).default(180),
   /** the S3-compatible photo store (npm start and npm test run a local one) */

@@ -51,7 +51,7 @@ export async function readableCheck(ex: Executor, user: SessionUser, checkId: st
  * share. One club's mentors never read another club's discussion of the same check (OWASP ASVS 5.0
  * V8 Authorization: data is reachable only through the relationship that grants it).
  */
-export function visibleComments<C extends { authorId: string; clubId: string | null }>(a: CheckAccess, user: SessionUser, all: C[]): C[] {
+export function visibleComments<C extends { authorId: string | null; clubId: string | null }>(a: CheckAccess, user: SessionUser, all: C[]): C[] {
   if (a.as === "owner") return all;
   const clubs = new Set(a.mentorShares.map((s) => s.clubId));
   return all.filter((c) => c.authorId === a.check.ownerId || c.authorId === user.id || (c.clubId !== null && clubs.has(c.clubId)));

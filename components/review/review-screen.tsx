@@ -22,6 +22,7 @@ import { EngineDiagram } from "@/components/check/engine-diagram";
 import { PlanTable } from "@/components/check/plan-table";
 import { Notice } from "@/components/ui/controls";
 import { CommentThread, type ThreadComment } from "./comment-thread";
+import { FORMER_MEMBER } from "@/lib/account/deletion";
 
 /**
  * A mentor's view of a shared check: read-only readings with how each was found, the diagram, the
@@ -86,7 +87,7 @@ export function ReviewScreen() {
     ...serverComments.map((c) => ({ ...c, pending: pendingIds.has(c.id) })),
     ...local
       .filter((c) => !known.has(c.id))
-      .map((c) => ({ id: c.id, checkId: c.checkId, valve: c.valve, body: c.body, authorId: c.authorId, authorName: c.authorId === user?.id ? user.name : "club member", createdAt: String(c.createdAt), pending: pendingIds.has(c.id) })),
+      .map((c) => ({ id: c.id, checkId: c.checkId, valve: c.valve, body: c.body, authorId: c.authorId, authorName: c.authorId === user?.id ? user.name : c.authorId === null ? FORMER_MEMBER : "club member", createdAt: String(c.createdAt), pending: pendingIds.has(c.id) })),
   ].sort((a, b) => new Date(a.createdAt).getTime() - new Date(b.createdAt).getTime());
   const dots = new Set(thread.map((c) => c.valve).filter((v): v is string => !!v));
   const shownVerdict = pendingVerdict && pendingVerdict.shareId === share?.id ? pendingVerdict.verdict : share?.verdict;

@@ -7,6 +7,7 @@ import { db, transaction, type Executor, type Tx } from "../client";
 import { borrowRequests, checks, clubLog, clubLogActions, clubs, comments, engines, invites, memberships, poolOffers, shares, users, type Role } from "../schema";
 import { nextVersion } from "../versions";
 import { HOLDING } from "@/lib/pool/rules";
+import { FORMER_MEMBER } from "@/lib/account/deletion";
 
 /**
  * A user's roles in a club. `locking` (inside a write) reads the latest commit and holds the rows
@@ -187,7 +188,7 @@ export async function acceptInvite(raw: string, user: { id: string; email: strin
       .from(invites)
       .where(and(eq(invites.tokenHash, hash(raw)), isNull(invites.acceptedAt), isNull(invites.withdrawnAt), gt(invites.expiresAt, new Date())))
       .for("update");
-    if (!inv || inv.email !== user.email) return null;
+    if (!inv || inv.email !== user.email || !inv.invitedBy) return null;
     const [stillAdmin] = await tx.select({ id: memberships.id }).from(memberships).where(and(eq(memberships.clubId, inv.clubId), eq(memberships.userId, inv.invitedBy), eq(memberships.role, "admin")));
     if (!stillAdmin) return null;
     await tx.update(invites).set({ acceptedAt: new Date() }).where(eq(invites.id, inv.id));
@@ -204,7 +205,8 @@ export async function acceptInvite(raw: string, user: { id: string; email: strin
 export async function listClubLog(clubId: string, limit: number, offset: number) {
   const subject = alias(users, "subject");
   return db()
-    .select({ id: clubLog.id, action: clubLog.action, at: clubLog.at, actorName: users.name, subjectName: subject.name, subjectEmail: clubLog.subjectEmail, detail: clubLog.detail })
+    // an actor whose account was deleted is named as such (the entry stays: it is the club's record)
+    .select({ id: clubLog.id, action: clubLog.action, at: clubLog.at, actorName: sql<string>`coalesce(${users.name}, ${FORMER_MEMBER})`, subjectName: subject.name, subjectEmail: clubLog.subjectEmail, detail: clubLog.detail })
     .from(clubLog)
     .leftJoin(users, eq(users.id, clubLog.actorId))
     .leftJoin(subject, eq(subject.id, clubLog.subjectUserId))
@@ -283,9 +285,10 @@ export async function reviewQueue(clubId: string, limit: number, offset: number)
 /** Every comment on a check, of every club's thread: callers filter with server/access.ts visibleComments. */
 export async function listComments(ex: Executor, checkId: string) {
   return ex
-    .select({ id: comments.id, checkId: comments.checkId, clubId: comments.clubId, valve: comments.valve, body: comments.body, createdAt: comments.createdAt, authorId: comments.authorId, authorName: users.name })
+    // a deleted account's comments stay, without its name (lib/account/deletion.ts)
+    .select({ id: comments.id, checkId: comments.checkId, clubId: comments.clubId, valve: comments.valve, body: comments.body, createdAt: comments.createdAt, authorId: comments.authorId, authorName: sql<string>`coalesce(${users.name}, ${FORMER_MEMBER})` })
     .from(comments)
-    .innerJoin(users, eq(users.id, comments.authorId))
+    .leftJoin(users, eq(users.id, comments.authorId))
     .where(eq(comments.checkId, checkId))
     .orderBy(asc(comments.createdAt), asc(comments.id));
 }

@@ -96,7 +96,7 @@ export async function commentersOf(checkId: string, ownerId: string): Promise<st
     .selectDistinct({ id: comments.authorId })
     .from(comments)
     .where(and(eq(comments.checkId, checkId), ne(comments.authorId, ownerId)));
-  return rows.map((r) => r.id);
+  return rows.flatMap((r) => (r.id ? [r.id] : []));
 }
 
 /** Whether an address takes mail that is not account mail: its account's setting, or no stop for it. */

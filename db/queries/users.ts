@@ -53,7 +53,7 @@ export async function updateUser(id: string, patch: Partial<{ name: string; disp
   await db().update(users).set(patch).where(eq(users.id, id));
 }
 
-type TokenPurpose = "verify" | "reset" | "signin";
+type TokenPurpose = "verify" | "reset" | "signin" | "delete";
 const hashToken = (raw: string) => createHash("sha256").update(raw).digest("hex");
 
 /** A one-time token for a link in an e-mail; only its hash is stored. */

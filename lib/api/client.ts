@@ -91,7 +91,8 @@ export interface ApiComment {
   valve: string | null;
   body: string;
   createdAt: string;
-  authorId: string;
+  /** null: the author deleted their account (authorName is then FORMER_MEMBER) */
+  authorId: string | null;
   authorName: string;
 }
 export interface ApiShare {

@@ -36,7 +36,8 @@ export type LocalTrayItem = Omit<Stored<z.output<typeof trayItemInput>>, "id"> &
 export type LocalComment = Omit<Stored<z.output<typeof commentInput>>, "id"> &
   WithId & {
     checkId: string;
-    authorId: string;
+    /** null: the author deleted their account */
+    authorId: string | null;
     createdAt: string | Date;
   };
 
