@@ -1,7 +1,7 @@
 "use client";
 
 import { useQueryClient } from "@tanstack/react-query";
-import { useState } from "react";
+import { useEffect, useState } from "react";
 import { apiFetch, ApiFailure } from "@/lib/api/client";
 import type { ApiPhoto } from "@/lib/photos/rules";
 import { useLocal } from "@/components/sync/local-provider";
@@ -40,6 +40,10 @@ export function DataExport() {
   const queryClient = useQueryClient();
   const [busy, setBusy] = useState<"server" | "phone" | "import" | null>(null);
   const [said, setSaid] = useState<Said>(null);
+  // the phone's zip writer is fetched while there is a signal, so the tap works without one
+  useEffect(() => {
+    void import("@/lib/export/offline").catch(() => undefined);
+  }, []);
 
   const fromServer = async () => {
     setBusy("server");
