@@ -158,6 +158,8 @@ function rezip(files: Record<string, Uint8Array>, change: (doc: Record<string, u
   return zipSync(out, { level: 1 });
 }
 
+const halfOf = (zip: Uint8Array) => zip.slice(0, Math.floor(zip.byteLength / 2));
+
 describe("account export and import", () => {
   let original: Record<string, Uint8Array>;
 
@@ -225,7 +227,8 @@ describe("account export and import", () => {
     const c = await signedIn(u);
     const tries: [string, Uint8Array, number, string, RegExp][] = [
       ["newer version", rezip(original, (d) => ({ ...d, schemaVersion: 2 })), 409, "export_newer", /newer Lashwright/],
-      ["damaged zip", zipSync(original as Zippable, { level: 1 }).slice(0, 5_000), 400, "export_damaged", /not a zip, or it is damaged/],
+      // cut off halfway, as a download that broke (the test's photos are small: the whole zip is a few KB)
+      ["damaged zip", halfOf(zipSync(original as Zippable, { level: 1 })), 400, "export_damaged", /not a zip, or it is damaged/],
       ["bad JSON", zipSync({ ...original, [EXPORT_DATA_ENTRY]: strToU8('{"format": "lashwright-export", ') } as Zippable), 400, "export_damaged", /not valid JSON/],
       ["ids that do not match", rezip(original, (d) => ({ ...d, checks: (d.checks as { engineId: string }[]).map((x) => ({ ...x, engineId: crypto.randomUUID() })) })), 400, "export_damaged", /names engine/],
       // declares 65 MB unpacked (and packs to a few KB): refused from its header, before it is inflated
