@@ -2,6 +2,7 @@ import { readFile } from "node:fs/promises";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { strFromU8, unzipSync } from "fflate";
 import type { Browser, BrowserContext, Page } from "playwright-core";
+import { AxeBuilder } from "@axe-core/playwright";
 import { baseUrl, launch } from "../support/browser";
 import { signedInClient } from "../support/api";
 import { ENGINE_FOUR, makeUser } from "../support/fixtures";
@@ -51,13 +52,21 @@ async function zipOf(tap: () => Promise<void>) {
 }
 
 describe("the account export at 360 px", () => {
-  it("fits the narrow screen, light and dark", async () => {
+  it("fits the narrow screen, light and dark, with nothing for axe to find", async () => {
     const width = await page.evaluate(() => document.documentElement.scrollWidth);
     expect(width).toBeLessThanOrEqual(360);
     await page.getByRole("heading", { name: "Your data" }).scrollIntoViewIfNeeded();
-    await page.screenshot({ path: "test-results/account-export-360-light.png", fullPage: true });
-    await page.emulateMedia({ colorScheme: "dark" });
-    await page.screenshot({ path: "test-results/account-export-360-dark.png", fullPage: true });
+    for (const scheme of ["light", "dark"] as const) {
+      await page.emulateMedia({ colorScheme: scheme });
+      await page.evaluate(() => document.fonts.ready);
+      await page.screenshot({ path: `test-results/account-export-360-${scheme}.png`, fullPage: true });
+      // the whole page in view, so the contrast of text below the fold is read too
+      const tall = await page.evaluate(() => document.documentElement.scrollHeight);
+      await page.setViewportSize({ width: 360, height: Math.max(780, Math.min(tall, 4000)) });
+      const result = await new AxeBuilder({ page }).withTags(["wcag2a", "wcag2aa", "wcag21a", "wcag21aa", "best-practice"]).analyze();
+      await page.setViewportSize({ width: 360, height: 780 });
+      expect(result.violations.map((v) => `${scheme}: ${v.id} ${v.nodes.map((n) => n.target.join(" ")).join(", ")}`)).toEqual([]);
+    }
     await page.emulateMedia({ colorScheme: "light" });
   });
 
