@@ -35,10 +35,10 @@ export function sameOriginRefusal(req: NextRequest): DomainError | null {
   return new DomainError("forbidden", "This change must come from Lashwright's own pages", { code: "cross_site" });
 }
 
-/** A body must be sent as `kind`: JSON for every route with a body, multipart for photos. */
-export function contentTypeRefusal(req: NextRequest, kind: "json" | "multipart"): DomainError | null {
+/** A body must be sent as `kind`: JSON for every route with a body, multipart for photos, a zip for an account import. */
+export function contentTypeRefusal(req: NextRequest, kind: "json" | "multipart" | "zip"): DomainError | null {
   const type = (req.headers.get("content-type") ?? "").split(";")[0]!.trim().toLowerCase();
-  const want = kind === "json" ? "application/json" : "multipart/form-data";
+  const want = kind === "json" ? "application/json" : kind === "zip" ? "application/zip" : "multipart/form-data";
   return type === want ? null : new DomainError("unsupported", `Send the body as ${want}`, { code: "unsupported_type" });
 }
 

@@ -1,5 +1,6 @@
 import "server-only";
 import { DeleteObjectCommand, GetObjectCommand, ListObjectsV2Command, PutObjectCommand, S3Client } from "@aws-sdk/client-s3";
+import type { Readable } from "node:stream";
 import { env } from "@/lib/env";
 
 /** The photo store: any S3-compatible service; npm start and npm test run a local one. */
@@ -25,6 +26,12 @@ export async function putObject(key: string, body: Buffer, contentType: string) 
 export async function getObject(key: string): Promise<Uint8Array> {
   const r = await s3().send(new GetObjectCommand({ Bucket: env().S3_BUCKET, Key: key }));
   return r.Body!.transformToByteArray();
+}
+
+/** An object's bytes as a stream, for an export that must not hold every photo at once. */
+export async function getObjectStream(key: string, signal?: AbortSignal): Promise<Readable> {
+  const r = await s3().send(new GetObjectCommand({ Bucket: env().S3_BUCKET, Key: key }), { abortSignal: signal });
+  return r.Body as Readable;
 }
 
 export async function deleteObject(key: string) {

@@ -56,6 +56,9 @@ const EXAMPLES: Record<string, (i: Ids) => unknown> = {
   "POST /api/clubs/:clubId/pool": () => ({ size: 2.6, count: 1, shimDiameter: 9.48, note: "bench" }),
   "POST /api/borrows": (i) => ({ offerId: i.offerId, count: 1 }),
   "PUT /api/borrows/:borrowId": () => ({ move: "agree" }),
+  "POST /api/account/export": () => ({}),
+  // the body is a zip (application/zip): anything sent as JSON or a form is refused before it is read
+  "POST /api/account/import": () => ({}),
 };
 const SKIP = new Set(["GET /api/auth/:nextauth", "POST /api/auth/:nextauth"]);
 const MULTIPART = new Set(["POST /api/checks/:checkId/photos"]);

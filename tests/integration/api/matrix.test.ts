@@ -115,6 +115,10 @@ const TABLE: Row[] = [
   { route: "POST /api/account/password", path: () => "/api/account/password", body: () => ({ token: "B".repeat(43), password: "new-pass-12345" }), expect: PUBLIC(400), bad: { as: "anon", body: { token: "B".repeat(43) }, field: "password" } },
   { route: "POST /api/account/sign-in-link", path: () => "/api/account/sign-in-link", body: () => ({ email: `l-${rand()}@test.example` }), expect: PUBLIC(202), bad: { as: "anon", body: {}, field: "email" } },
   { route: "GET /api/account", path: () => "/api/account", expect: EVERYONE(200) },
+  { route: "POST /api/account/export", path: () => "/api/account/export", body: () => ({}), expect: EVERYONE(200) },
+  { route: "GET /api/account/export", path: () => "/api/account/export?ticket=0000000000.not-a-signature", expect: EVERYONE(400) },
+  // a zip body only (tests/integration/api/account-export.test.ts sends real ones)
+  { route: "POST /api/account/import", path: () => "/api/account/import", body: () => ({}), expect: EVERYONE(415) },
   { route: "PATCH /api/account", path: () => "/api/account", body: () => ({ displayUnit: "mm" }), expect: EVERYONE(200), bad: { body: { displayUnit: "furlong" }, field: "displayUnit" } },
   // the deletion needs a body with the password (the table sends none: 415), so no caller is deleted here
   { route: "DELETE /api/account", path: () => "/api/account", expect: EVERYONE(415), bad: { body: { password: 42 }, field: "password" } },
