@@ -75,16 +75,15 @@ export function haproxyConfig({ dir, frontPort, apps, db, statsPort, healthPath 
   const busy = path.join(dir, "busy.http");
   const check = path.join(dir, "galera-ready.sh");
   const lines = [
+    // alerts and servers going up or down reach HAProxy's stderr in the foreground (-db); no access
+    // log: the app logs its requests
     "global",
-    // alerts and servers going up or down, on HAProxy's stderr (no access log: the app logs requests)
-    "  log stderr format raw local0 notice",
     "  maxconn 4096",
     // external checks fork a process; HAProxy refuses to fork unless told it is wanted
     "  external-check",
     "  insecure-fork-wanted",
     "",
     "defaults",
-    "  log global",
     "  timeout connect 2s",
     "  timeout check 2s",
     // a phone's request is bounded at 30 s on the phone; the app answers sooner or 503s
