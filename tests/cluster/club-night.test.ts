@@ -257,6 +257,24 @@ async function compareWithServer(): Promise<string[]> {
   return problems;
 }
 
+/** Rows and bytes (data and indexes) per row of the tables a check fills, for the capacity figures. */
+async function tableSizes(): Promise<string> {
+  const db = await rawConnection();
+  try {
+    const names = ["readings", "checks", "engines", "owner_versions", "sync_clients"];
+    await db.query(`ANALYZE TABLE ${names.join(", ")}`);
+    const [rows] = await db.query<RowDataPacket[]>(
+      "SELECT table_name AS t, table_rows AS n, data_length AS d, index_length AS i FROM information_schema.tables WHERE table_schema = DATABASE() AND table_name IN (?)",
+      [names],
+    );
+    return rows.map((r) => `${r.t} ${r.n} rows, ${Math.round((Number(r.d) + Number(r.i)) / Math.max(1, Number(r.n)))} B/row`).join("; ");
+  } catch (e) {
+    return `not read (${(e as Error).message})`;
+  } finally {
+    await db.end();
+  }
+}
+
 describe(`club night on the cluster: ${PHONES} phones through HAProxy, an app instance and two database nodes lost and back`, () => {
   it("loses nothing, applies nothing twice, answers only success or 503 with Retry-After, and takes every machine back", async () => {
     giveUp.at = performance.now() + 600_000;
@@ -299,6 +317,7 @@ describe(`club night on the cluster: ${PHONES} phones through HAProxy, an app in
     await proxy.waitUp(["app/app1", "app/app2", "galera/n1", "galera/n2", "galera/n3"]);
 
     const problems = phoneErrors.length ? [] : await compareWithServer();
+    const sizes = await tableSizes();
     const answers = stats.counted();
     const report = [
       `club night on the cluster: ${PHONES} phones through HAProxy (${SIGNING_IN} sign in first), two app instances, three Galera nodes`,
@@ -315,6 +334,7 @@ describe(`club night on the cluster: ${PHONES} phones through HAProxy, an app in
       `answers other than 2xx: ${answers.length ? answers.join("; ") : "none"}`,
       `phones that did not finish: ${phoneErrors.length}${phoneErrors.length ? ` (first: ${phoneErrors[0]})` : ""}`,
       `lost or applied twice: ${problems.length ? problems.slice(0, 5).join("; ") : "none"}`,
+      `stored (for README Scaling): ${sizes}`,
     ].join("\n");
     console.log(`\n${report}\n`);
     mkdirSync(path.resolve(__dirname, "../../test-results"), { recursive: true });
