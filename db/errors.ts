@@ -48,6 +48,10 @@ export function isTransientDbError(e: unknown): boolean {
     const c = (cur as { code?: unknown }).code;
     if (c === "PROTOCOL_CONNECTION_LOST" || c === "ECONNREFUSED" || c === "ECONNRESET" || c === "ETIMEDOUT") return true;
     if ((cur as { errno?: unknown }).errno === ER_CONNECTION_KILLED) return true;
+    // mysql2 marks errors that ended the connection "fatal"; one without a code is a pooled
+    // connection closed under it ("Can't add new command when connection is in closed state"), as
+    // when HAProxy closes the connections of a node that left the cluster
+    if ((cur as { fatal?: unknown }).fatal === true) return true;
     cur = (cur as { cause?: unknown }).cause;
   }
   return false;

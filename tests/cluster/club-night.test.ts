@@ -339,7 +339,7 @@ describe(`club night on the cluster: ${PHONES} phones through HAProxy, an app in
     console.log(`\n${report}\n`);
     // an answer that was neither success nor 503 names its cause here: the instances' errors, HAProxy's alerts
     if (answers.some((a) => /server error|connection failed|unanswered/.test(a))) {
-      for (const [i, a] of apps.entries()) console.log(`[club night] instance ${i + 1}, error lines:\n${a.output().split("\n").filter((l) => /error|Error|ER_|500/.test(l)).slice(-40).join("\n")}`);
+      for (const [i, a] of apps.entries()) console.log(`[club night] instance ${i + 1}, error lines:\n${a.output().split("\n").filter((l) => /error|Error|ER_|500|failed/.test(l)).slice(-40).join("\n")}`);
       console.log(`[club night] HAProxy:\n${proxy.output().slice(-3000)}`);
     }
     mkdirSync(path.resolve(__dirname, "../../test-results"), { recursive: true });
