@@ -27,12 +27,13 @@ export function isWriteConflict(e: unknown): boolean {
  * the primary component or is rejoining answers ER_UNKNOWN_COM_ERROR, "WSREP has not yet prepared
  * node for application use"; a commit cut off by a view change fails with ER_ERROR_DURING_COMMIT; a
  * restarting node kills its connections with error 1927, ER_CONNECTION_KILLED, a MariaDB number
- * mysql2's table of names lacks, so it is matched by number). Codes from memory of MariaDB's error
+ * mysql2's table of names lacks, so it is matched by number; a node stopped cleanly answers a
+ * query it was running with ER_SERVER_SHUTDOWN, and the connection's next one goes to another node). Codes from memory of MariaDB's error
  * reference, checked against mysql2's table of names. Why listed: in one CI run a steady writer
  * through a surviving node got 26 answers that were neither success nor 503 while another node was
  * killed (the cluster fault test now prints what such answers were; that run did not say).
  */
-const NODE_NOT_READY = new Set(["ER_LOCK_WAIT_TIMEOUT", "ER_CON_COUNT_ERROR", "ER_UNKNOWN_COM_ERROR", "ER_ERROR_DURING_COMMIT"]);
+const NODE_NOT_READY = new Set(["ER_LOCK_WAIT_TIMEOUT", "ER_CON_COUNT_ERROR", "ER_UNKNOWN_COM_ERROR", "ER_ERROR_DURING_COMMIT", "ER_SERVER_SHUTDOWN"]);
 const ER_CONNECTION_KILLED = 1927;
 
 /**
@@ -47,6 +48,10 @@ export function isTransientDbError(e: unknown): boolean {
     const c = (cur as { code?: unknown }).code;
     if (c === "PROTOCOL_CONNECTION_LOST" || c === "ECONNREFUSED" || c === "ECONNRESET" || c === "ETIMEDOUT") return true;
     if ((cur as { errno?: unknown }).errno === ER_CONNECTION_KILLED) return true;
+    // mysql2 marks errors that ended the connection "fatal"; one without a code is a pooled
+    // connection closed under it ("Can't add new command when connection is in closed state"), as
+    // when HAProxy closes the connections of a node that left the cluster
+    if ((cur as { fatal?: unknown }).fatal === true) return true;
     cur = (cur as { cause?: unknown }).cause;
   }
   return false;

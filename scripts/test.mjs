@@ -6,6 +6,7 @@ import { randomBytes } from "node:crypto";
 import { existsSync, mkdirSync, readFileSync, rmSync } from "node:fs";
 import path from "node:path";
 import { GALERA, RSYNC, startTestCluster } from "./lib/galera.mjs";
+import { HAPROXY } from "./lib/haproxy.mjs";
 import { startNext } from "./lib/next-server.mjs";
 import { CHROMIUM, POPPLER, cleanupOnExit, ensureDebianPackages, ensureNodeModules, freePort, log, MARIADB, root, runAsync, runTs, SetupError, startMailCatcher, startMariadb, startObjectStore } from "./lib/setup.mjs";
 
@@ -14,13 +15,21 @@ const args = process.argv.slice(2);
 const soak = args.includes("soak");
 // `npm run load`: the club-night load test alone, with 300 phones and a minute of steady work
 const load = args.includes("load");
+// `npm run load -- --cluster`: the club night on the cluster, through HAProxy, with machines lost
+const clusterLoad = load && args.includes("--cluster");
 // `npm run test:fast`: unit tests, then the appliers and access rules against a real MariaDB
 // (tests/integration/db), with no build, browser or mail: a change checked in about a minute
 const fast = args.includes("fast");
 const LEVELS = ["unit", "integration", "e2e", "cluster"];
-const only = fast ? "fast" : soak || load ? "integration" : args.find((a) => LEVELS.includes(a));
+const only = fast ? "fast" : clusterLoad ? "cluster" : soak || load ? "integration" : args.find((a) => LEVELS.includes(a));
 // anything else narrows the chosen level to matching test files (vitest filters)
-const filters = soak ? ["tests/integration/sync/faults"] : load ? ["tests/integration/load"] : args.filter((a) => !LEVELS.includes(a) && a !== "fast");
+const filters = soak
+  ? ["tests/integration/sync/faults"]
+  : clusterLoad
+    ? ["tests/cluster/club-night"]
+    : load
+      ? ["tests/integration/load"]
+      : args.filter((a) => !LEVELS.includes(a) && a !== "fast" && a !== "--cluster");
 const results = { passed: 0, failed: 0, skipped: 0 };
 const failures = [];
 
@@ -63,7 +72,7 @@ async function main() {
   const cleanup = cleanupOnExit();
   const t0 = Date.now();
   try {
-    ensureDebianPackages([MARIADB, CHROMIUM, POPPLER, GALERA, RSYNC]);
+    ensureDebianPackages([MARIADB, CHROMIUM, POPPLER, GALERA, RSYNC, HAPROXY]);
     ensureNodeModules();
     mkdirSync(path.join(root, "test-results"), { recursive: true });
 

@@ -5,7 +5,9 @@ import { decode } from "next-auth/jwt";
 import Credentials from "next-auth/providers/credentials";
 import { env } from "@/lib/env";
 import { emailSchema, tokenSchema } from "@/lib/schemas/account";
-import { dummyHash, verifyPassword } from "./password";
+import { domainErrorOf } from "@/lib/errors";
+import { isTransientDbError } from "@/db/errors";
+import { dummyHash, hashRefusals, verifyPassword } from "./password";
 import { bumpSessionGeneration, consumeAuthToken, getCredentialsByEmail, getPublicUser, getSessionGeneration, getSessionUser, type PublicUser } from "@/db/queries/users";
 import { clientAddress, signInThrottled } from "./throttle";
 import { passwordAccepted } from "./sign-in";
@@ -16,6 +18,20 @@ export type SessionUser = PublicUser;
 
 /** Sign-in errors the sign-in page knows how to explain (next-auth passes the message through). */
 export const SIGN_IN_ERRORS = { throttled: "Throttled", signedInAsOther: "SignedInAsOther", busy: "Busy" } as const;
+
+/**
+ * A failure of the moment while a password is checked (no database connection free in a burst of
+ * sign-ins, a node between cluster views) is "busy", like a full hashing queue: the sign-in route
+ * answers 503 with Retry-After and gives the counted tries back, and the phone tries again. Without
+ * this, next-auth turned the thrown error into a refusal whose text was the failed query.
+ */
+function busyIfMomentary(e: unknown): unknown {
+  const d = domainErrorOf(e);
+  const seen = hashRefusals.getStore();
+  if (!seen || !(d?.kind === "overloaded" || (!d && isTransientDbError(e)))) return e;
+  seen.retryAfterSeconds ??= d?.extra.retryAfterSeconds ?? 1;
+  return new Error(SIGN_IN_ERRORS.busy);
+}
 
 /** next-auth's answer to a cookie minted under an older session generation (thrown, so it clears it). */
 const SESSION_REVOKED = "SessionRevoked";
@@ -48,15 +64,19 @@ export const authOptions: NextAuthOptions = {
         if (!email.success || password.length === 0 || password.length > 256) return null;
         // counted before the password is checked, so a burst sent at once gets no more tries
         const address = clientAddress(req?.headers as Record<string, string> | undefined);
-        if (await signInThrottled(email.data, address)) throw new Error(SIGN_IN_ERRORS.throttled);
-        const u = await getCredentialsByEmail(email.data);
-        const ok = await verifyPassword(password, u?.passwordHash ?? (await dummy()));
-        // An address not yet confirmed answers like a wrong password: a sign-up followed by a sign-in
-        // with the same password must not tell a new address from one that has an account (OWASP ASVS
-        // 5.0 V6 Authentication: no account enumeration). The sign-in page's one message covers both.
-        if (!u || !ok || !u.emailVerifiedAt) return null;
-        await passwordAccepted(u, password, address);
-        return { id: u.id, email: u.email, name: u.name, generation: u.sessionGeneration };
+        try {
+          if (await signInThrottled(email.data, address)) throw new Error(SIGN_IN_ERRORS.throttled);
+          const u = await getCredentialsByEmail(email.data);
+          const ok = await verifyPassword(password, u?.passwordHash ?? (await dummy()));
+          // An address not yet confirmed answers like a wrong password: a sign-up followed by a sign-in
+          // with the same password must not tell a new address from one that has an account (OWASP ASVS
+          // 5.0 V6 Authentication: no account enumeration). The sign-in page's one message covers both.
+          if (!u || !ok || !u.emailVerifiedAt) return null;
+          await passwordAccepted(u, password, address);
+          return { id: u.id, email: u.email, name: u.name, generation: u.sessionGeneration };
+        } catch (e) {
+          throw busyIfMomentary(e);
+        }
       },
     }),
     Credentials({

@@ -5,7 +5,10 @@ export interface ClusterNode {
   port: number;
 }
 export interface ClusterSpec {
+  dir: string;
   name: string;
+  user: string;
+  password: string;
   database: string;
   nodes: ClusterNode[];
   urls: string[];
@@ -14,3 +17,4 @@ export function startNode(spec: ClusterSpec, i: number, opts?: { bootstrap?: boo
 export function stopNode(spec: ClusterSpec, i: number, opts?: { timeoutMs?: number }): Promise<void>;
 export function killNode(spec: ClusterSpec, i: number): Promise<void>;
 export function waitClusterSynced(spec: ClusterSpec, timeoutMs?: number): Promise<void>;
+export function freePorts(n: number): Promise<number[]>;

@@ -33,8 +33,9 @@ const ended = (c: ChildProcess) => c.exitCode !== null || c.signalCode !== null;
  * default): a request that asked for a second connection inside a transaction would then wait for
  * the one it holds, and fail its test with a 503, instead of passing on a roomy pool.
  */
-export async function startApp(extraEnv: Record<string, string> = {}): Promise<App> {
-  const port = await freePort();
+export async function startApp(extraEnv: Record<string, string> = {}, opts: { port?: number } = {}): Promise<App> {
+  // a given port lets a load balancer's configuration name the instance before it starts
+  const port = opts.port ?? (await freePort());
   const url = `http://127.0.0.1:${port}`;
   let child: ChildProcess;
   let out = "";
