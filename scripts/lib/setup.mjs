@@ -62,7 +62,8 @@ export function ensureNodeModules() {
   const lock = path.join(root, "package-lock.json");
   const stamp = path.join(root, "node_modules", ".lashwright-lock-sha256");
   const want = createHash("sha256").update(readFileSync(lock)).digest("hex");
-  if (existsSync(stamp) && readFileSync(stamp, "utf8") === want) return;
+  // trimmed: a stamp written by hand (sha256sum) ends in a newline, and must not cost an npm ci
+  if (existsSync(stamp) && readFileSync(stamp, "utf8").trim() === want) return;
   log("installing npm dependencies (npm ci)...");
   run("npm", ["ci", "--no-audit", "--no-fund", "--loglevel=error"], { what: "npm ci" });
   writeFileSync(stamp, want);
