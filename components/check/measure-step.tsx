@@ -10,6 +10,7 @@ import { useLocal } from "@/components/sync/local-provider";
 import { Button, Notice } from "@/components/ui/controls";
 import { EngineDiagram } from "./engine-diagram";
 import { ValveCard, type ReadingEntry } from "./valve-card";
+import { facingOf } from "@/lib/check/diagram";
 
 /** what a valve's reading was before a tap, so the tap can be undone */
 interface Undo {
@@ -137,7 +138,7 @@ export function MeasureStep({ engine, views, sizes, step, save, onTurn, onDone, 
         </Button>
       </div>
       {current && saveCurrent && <ValveCard key={current.valve.id} checkId={checkId} engine={engine} view={current} sizes={sizes} step={step} onSave={saveCurrent} onRecorded={next} focusKey={focusCard?.valve === current.valve.id ? focusCard.n : 0} />}
-      <EngineDiagram views={views} mirrored={engine.mirrored} onPick={pick} current={currentId} onTurn={onTurn} />
+      <EngineDiagram views={views} facing={facingOf(engine)} onPick={pick} current={currentId} onTurn={onTurn} />
       <Button type="button" onClick={onDone} disabled={measured === 0} look={done ? "primary" : "plain"}>
         {done ? "All measured: see the shim plan" : "See the shim plan"}
       </Button>

@@ -15,6 +15,7 @@ import { EngineDiagram } from "./engine-diagram";
 import { PlanChanges, PlanTable } from "./plan-table";
 import { CsvDownload } from "./csv-download";
 import { ShimPositionAsk } from "./shim-position-ask";
+import { facingOf } from "@/lib/check/diagram";
 
 // the printed worksheet loads with the plan, the step that prints
 const Worksheet = dynamic(() => import("./worksheet"), { ssr: false });
@@ -33,7 +34,7 @@ export function PlanStep({ engine, check, views, plan, error, onTurn, onFit, poo
         Shim plan
       </h2>
       <Worksheet engine={engine} check={check} views={views} plan={plan} lenders={lenders} />
-      <EngineDiagram views={views} mirrored={engine.mirrored} onTurn={onTurn} />
+      <EngineDiagram views={views} facing={facingOf(engine)} onTurn={onTurn} />
       {options && setOptions && <PlanAimChoice options={options} setOptions={setOptions} unit={engine.displayUnit} />}
       {error && <Notice tone="error">{error}</Notice>}
       {trayOtherSystem > 0 && (

@@ -69,11 +69,12 @@ export function EngineDetail() {
           <dd>{engine.firingOrder.join("-")}</dd>
           <dt className="text-ink-soft">Intake</dt>
           <dd>
-            {formatLength(engine.intake.min, unit)} – {formatLength(engine.intake.max, unit)}
+            {/* a length and its unit stay on one line ("0.20 mm", never "0.20" above "mm") */}
+            <span className="whitespace-nowrap">{formatLength(engine.intake.min, unit)}</span> – <span className="whitespace-nowrap">{formatLength(engine.intake.max, unit)}</span>
           </dd>
           <dt className="text-ink-soft">Exhaust</dt>
           <dd>
-            {formatLength(engine.exhaust.min, unit)} – {formatLength(engine.exhaust.max, unit)}
+            <span className="whitespace-nowrap">{formatLength(engine.exhaust.min, unit)}</span> – <span className="whitespace-nowrap">{formatLength(engine.exhaust.max, unit)}</span>
           </dd>
           <dt className="text-ink-soft">Measure</dt>
           <dd>{engine.measuredHot ? "hot" : "cold"}</dd>
@@ -94,7 +95,9 @@ export function EngineDetail() {
             </>
           )}
           <dt className="text-ink-soft">Drawn with</dt>
-          <dd>cylinder 1 on the {engine.mirrored ? "right" : "left"}</dd>
+          <dd data-testid="engine-facing">
+            cylinder 1 on the {engine.mirrored ? "right" : "left"}, {engine.nearSide === "intake" ? "intake" : "exhaust"} side nearest you
+          </dd>
         </dl>
         <Link href={`/engine/edit?id=${engine.id}`} className="mt-2 inline-flex min-h-12 items-center font-bold underline">
           Edit profile

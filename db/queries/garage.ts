@@ -32,6 +32,7 @@ export function engineToApi(e: EngineRow) {
     odometerUnit: e.odometerUnit,
     mirrored: e.mirrored,
     shimPosition: e.shimPosition ?? null,
+    nearSide: e.nearSide,
     version: e.version,
     updatedAt: e.updatedAt,
   };
@@ -63,6 +64,8 @@ export function engineToRow(e: EngineInput) {
     mirrored: e.mirrored,
     // absent from an older phone's "engine.put/1": the stored answer is kept (a new engine: not said)
     ...(e.shimPosition !== undefined ? { shimPosition: e.shimPosition } : {}),
+    // absent from "engine.put/1" and "/2": the stored side is kept (a new engine: the exhausts)
+    ...(e.nearSide != null ? { nearSide: e.nearSide } : {}),
   };
 }
 
