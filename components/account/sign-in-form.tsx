@@ -34,7 +34,7 @@ export function SignInForm() {
   const [sent, setSent] = useState<string | null>(null);
   // the address typed, which may be one still waiting for confirmation: its link is offered again
   const [unconfirmed, setUnconfirmed] = useState<string | null>(null);
-  const form = useForm<z.input<typeof schema>, unknown, z.output<typeof schema>>({ resolver: zodResolver(schema), defaultValues: { email: "", password: "" } });
+  const form = useForm<z.input<typeof schema>, unknown, z.output<typeof schema>>({ resolver: zodResolver(schema), defaultValues: { email: params.get("email") ?? "", password: "" } });
   const { errors, isSubmitting } = form.formState;
 
   const onSubmit = form.handleSubmit(async (values) => {
