@@ -3,7 +3,7 @@ import { env } from "@/lib/env";
 import { VERDICTS, type Verdict } from "@/lib/check/verdicts";
 import { mentorsOfClub } from "@/db/queries/clubs";
 import { commentersOf } from "@/db/queries/notices";
-import { getCheckRow, getEngineRow } from "@/db/queries/garage";
+import { checkTitleRow, getEngineRow } from "@/db/queries/garage";
 import { db } from "@/db/client";
 import { noticeEach, noticeTo, shared } from "./notices";
 
@@ -25,9 +25,8 @@ const reviewLink = (checkId: string, part?: "comments" | "verdict") => `${env().
 export function checkTitle(checkId: string | null | undefined): Promise<string | null> {
   if (!checkId) return Promise.resolve(null);
   return shared(`title:${checkId}`, async () => {
-    const c = await getCheckRow(db(), checkId);
-    const e = c && (await getEngineRow(db(), c.engineId));
-    return c && e ? `${e.name}, check at ${c.odometer.toLocaleString("en")} ${e.odometerUnit}` : null;
+    const r = await checkTitleRow(db(), checkId);
+    return r ? `${r.name}, check at ${r.odometer.toLocaleString("en")} ${r.unit}` : null;
   });
 }
 

@@ -86,9 +86,9 @@ export function PoolPanel({ club }: { club: ClubSummary }) {
         <ul className="flex flex-col gap-1" data-testid="pool-offers">
           {offers.map((o) => (
             <li key={o.id} className="flex flex-wrap items-baseline justify-between gap-2 border-b border-line py-1">
-              {/* an offer whose shims are all out is said in words, not as "0 ×" */}
+              {/* an offer whose shims are all lent or asked for is said in words, not as "0 ×" */}
               <span className="figures text-lg font-bold" data-testid={`offer-${o.id}`}>
-                {o.available > 0 ? `${o.available} × ${shimNumber(o.size, o.measuredSize)} mm` : `${shimNumber(o.size, o.measuredSize)} mm: all lent out`}
+                {o.available > 0 ? `${o.available} × ${shimNumber(o.size, o.measuredSize)} mm` : `${shimNumber(o.size, o.measuredSize)} mm: all lent out or asked for`}
               </span>
               <span className="text-sm text-ink-soft">
                 {o.ownerId === user?.id ? "yours" : o.ownerName}

@@ -74,6 +74,12 @@ export async function listEngines(ownerId: string, limit: number, offset: number
   return rows.map(engineToApi);
 }
 
+/** A check's odometer with its engine's name and unit, in one read: what a notice names. */
+export async function checkTitleRow(ex: Executor, checkId: string) {
+  const [r] = await ex.select({ name: engines.name, odometer: checks.odometer, unit: engines.odometerUnit }).from(checks).innerJoin(engines, eq(engines.id, checks.engineId)).where(eq(checks.id, checkId)).limit(1);
+  return r;
+}
+
 export async function getEngineRow(ex: Executor, engineId: string) {
   const [e] = await ex.select().from(engines).where(eq(engines.id, engineId)).limit(1);
   return e;

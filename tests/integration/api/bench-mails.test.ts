@@ -66,6 +66,8 @@ describe("mails name the engine and the check", () => {
     const ask = await waitForMail(lender.email, /asks to borrow/);
     expect(ask.subject).toMatch(/asks to borrow 2 × 2\.55 mm for Bench six, check at 8,000 km$/);
 
+    // every shim on offer is held by the request: none left (the screen says so in words, never "0 ×")
+    expect((await b.get(`/api/clubs/${clubId}/pool`)).json.items[0]).toMatchObject({ count: 2, available: 0 });
     expect((await l.put(`/api/borrows/${id}`, { move: "agree" })).status).toBe(200);
     const agreed = await waitForMail(borrower.email, /Shim loan agreed/);
     expect(agreed.subject).toBe("Shim loan agreed: 2 × 2.55 mm (Bench six, check at 8,000 km)");
@@ -74,8 +76,8 @@ describe("mails name the engine and the check", () => {
 
     expect((await l.put(`/api/borrows/${id}`, { move: "hand-over" })).status).toBe(200);
     await waitForMail(borrower.email, /Shim loan handed over/);
-    // the pool says the offer is all out; the count is zero, never shown as "0 ×" (the screen's words)
-    expect((await b.get(`/api/clubs/${clubId}/pool`)).json.items[0]).toMatchObject({ count: 0, available: 0 });
+    // handed over, the offer has none left and is no longer listed
+    expect((await b.get(`/api/clubs/${clubId}/pool`)).json.items).toEqual([]);
     expect((await b.put(`/api/borrows/${id}`, { move: "give-back" })).status).toBe(200);
     const back = await waitForMail(lender.email, /Shim loan/);
     expect(back.subject).toBe("Shim loan on its way back: 2 × 2.55 mm (Bench six, check at 8,000 km)");
