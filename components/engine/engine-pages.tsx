@@ -4,7 +4,7 @@ import { useLiveQuery } from "dexie-react-hooks";
 import Link from "next/link";
 import { useRouter, useSearchParams } from "next/navigation";
 import { useState } from "react";
-import { formatLength } from "@/lib/lash";
+import { formatLength, shimNumber } from "@/lib/lash";
 import { saveCheck } from "@/lib/sync/writes";
 import { SHIM_POSITION_WORDS } from "@/lib/check/shim-position";
 import { useLocal } from "@/components/sync/local-provider";
@@ -81,7 +81,7 @@ export function EngineDetail() {
           <dt className="text-ink-soft">Shims</dt>
           <dd data-testid="engine-shim-position">{engine.shimPosition ? SHIM_POSITION_WORDS[engine.shimPosition].short.replace(/^Shims /, "") : "not said: set it in the profile"}</dd>
           <dt className="text-ink-soft">Shim series</dt>
-          <dd>{"step" in engine.shims ? `${engine.shims.min.toFixed(2)} to ${engine.shims.max.toFixed(2)} mm in ${engine.shims.step} mm steps` : `${engine.shims.sizes.length} sizes listed`}</dd>
+          <dd>{"step" in engine.shims ? `${shimNumber(engine.shims.min, engine.shims.step < 0.05)} to ${shimNumber(engine.shims.max, engine.shims.step < 0.05)} mm in ${engine.shims.step} mm steps` : `${engine.shims.sizes.length} sizes listed`}</dd>
           {engine.shimDiameter != null && (
             <>
               <dt className="text-ink-soft">Shim diameter</dt>
@@ -91,7 +91,7 @@ export function EngineDetail() {
           {engine.assembledShim != null && (
             <>
               <dt className="text-ink-soft">Fitted at assembly</dt>
-              <dd>{engine.assembledShim.toFixed(2)} mm in every bucket</dd>
+              <dd>{shimNumber(engine.assembledShim)} mm in every bucket</dd>
             </>
           )}
           <dt className="text-ink-soft">Drawn with</dt>
