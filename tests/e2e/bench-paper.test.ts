@@ -89,8 +89,11 @@ const lines = (l: Locator) =>
     return new Set([...r.getClientRects()].filter((x) => x.width > 0).map((x) => Math.round(x.top))).size;
   });
 
-async function compareDrawings(page: Page, checkId: string, facing: { mirrored: boolean; nearSide: "intake" | "exhaust" }, shot: string) {
+async function compareDrawings(page: Page, api: Client, six: { engineId: string; checkId: string }, facing: { mirrored: boolean; nearSide: "intake" | "exhaust" }, shot: string) {
+  const { checkId } = six;
   const want = drawnValveOrder(sixViews, facing);
+  // the review reads the engine from the server: wait until the phone's change has reached it
+  await expect.poll(async () => (await api.get(`/api/engines/${six.engineId}`)).json.engine, { timeout: 30_000 }).toMatchObject(facing);
   await page.goto(`${baseUrl()}/check?id=${checkId}&step=plan`);
   await page.getByTestId("plan-I1.1").waitFor({ timeout: 20_000 });
   await expect.poll(() => drawn(phoneDiagram(page)), { timeout: 10_000 }).toEqual(want);
@@ -99,7 +102,7 @@ async function compareDrawings(page: Page, checkId: string, facing: { mirrored: 
   await page.screenshot({ path: `test-results/${shot}-phone.png` });
   await page.goto(`${baseUrl()}/review?id=${checkId}`);
   await page.getByTestId("rounds-I1.1").waitFor({ timeout: 20_000 });
-  expect(await drawn(phoneDiagram(page))).toEqual(want);
+  await expect.poll(() => drawn(phoneDiagram(page)), { timeout: 20_000 }).toEqual(want);
   await page.screenshot({ path: `test-results/${shot}-review.png` });
   return want;
 }
@@ -116,7 +119,7 @@ describe("paper that matches the phone, numbers as they were given (360 px)", ()
       await signInAs(page, u.email, u.password);
 
       // mirrored, the exhausts nearest: the phone, the paper and the review agree, I1.2 left of I1.1
-      const mirrored = await compareDrawings(page, six.checkId, { mirrored: true, nearSide: "exhaust" }, `paper-mirrored-${scheme}`);
+      const mirrored = await compareDrawings(page, api, six, { mirrored: true, nearSide: "exhaust" }, `paper-mirrored-${scheme}`);
       expect(mirrored.top.slice(-2)).toEqual(["I1.2", "I1.1"]);
       expect(mirrored.bottom.slice(-2)).toEqual(["E1.2", "E1.1"]);
 
@@ -156,7 +159,7 @@ describe("paper that matches the phone, numbers as they were given (360 px)", ()
       await page.goto(`${baseUrl()}/check?id=${six.checkId}&step=plan`);
       await page.getByRole("button", { name: "Turn the picture: cylinder 1 on the left" }).tap();
       await expect.poll(() => drawn(phoneDiagram(page)), { timeout: 10_000 }).toEqual(drawnValveOrder(sixViews, { mirrored: false, nearSide: "exhaust" }));
-      const left = await compareDrawings(page, six.checkId, { mirrored: false, nearSide: "exhaust" }, `paper-left-${scheme}`);
+      const left = await compareDrawings(page, api, six, { mirrored: false, nearSide: "exhaust" }, `paper-left-${scheme}`);
       expect(left.top.slice(0, 2)).toEqual(["I1.1", "I1.2"]);
 
       // the profile says the intake side is nearest: the intakes are drawn at the bottom everywhere
@@ -167,7 +170,7 @@ describe("paper that matches the phone, numbers as they were given (360 px)", ()
       await expect(page.getByTestId("engine-facing").innerText()).resolves.toBe("cylinder 1 on the left, intake side nearest you");
       // a band's length and its unit stay on one line
       for (const s of await page.locator("dd span.whitespace-nowrap").all()) expect(await lines(s)).toBe(1);
-      const near = await compareDrawings(page, six.checkId, { mirrored: false, nearSide: "intake" }, `paper-intake-near-${scheme}`);
+      const near = await compareDrawings(page, api, six, { mirrored: false, nearSide: "intake" }, `paper-intake-near-${scheme}`);
       expect(near.bottom.every((v) => v.startsWith("I"))).toBe(true);
       await page.goto(`${baseUrl()}/check?id=${six.checkId}&step=plan`);
       await page.locator("article.worksheet").waitFor({ state: "attached" });
