@@ -100,6 +100,23 @@ async function compareDrawings(page: Page, api: Client, six: { engineId: string;
   await page.locator("article.worksheet").waitFor({ state: "attached" });
   expect(await drawn(paperDiagram(page))).toEqual(want);
   await page.screenshot({ path: `test-results/${shot}-phone.png` });
+  // the review's kept copy of the check (components/sync/persist-queries, idb-keyval's store) counts
+  // as fresh for 30 s: it is dropped, so the review reads the engine as the server now has it
+  await page.evaluate(
+    () =>
+      new Promise<void>((done, fail) => {
+        const open = indexedDB.open("keyval-store");
+        open.onerror = () => fail(open.error);
+        open.onsuccess = () => {
+          const db = open.result;
+          if (!db.objectStoreNames.contains("keyval")) return (db.close(), done());
+          const tx = db.transaction("keyval", "readwrite");
+          tx.objectStore("keyval").clear();
+          tx.oncomplete = () => (db.close(), done());
+          tx.onerror = () => fail(tx.error);
+        };
+      }),
+  );
   await page.goto(`${baseUrl()}/review?id=${checkId}`);
   await page.getByTestId("rounds-I1.1").waitFor({ timeout: 20_000 });
   await expect.poll(() => drawn(phoneDiagram(page)), { timeout: 20_000 }).toEqual(want);
