@@ -107,6 +107,8 @@ async function compareDrawings(page: Page, api: Client, six: { engineId: string;
       new Promise<void>((done, fail) => {
         const open = indexedDB.open("keyval-store");
         open.onerror = () => fail(open.error);
+        // as idb-keyval makes it, should the page not have made it yet
+        open.onupgradeneeded = () => open.result.createObjectStore("keyval");
         open.onsuccess = () => {
           const db = open.result;
           if (!db.objectStoreNames.contains("keyval")) return (db.close(), done());
