@@ -1,7 +1,7 @@
 import { BORROW_STATES } from "../lib/pool/rules";
 import { VERDICT_NAMES } from "../lib/check/verdicts";
 import { CHECK_STATUSES } from "../lib/schemas/records";
-import { SHIM_POSITIONS } from "../lib/lash/schemas";
+import { NEAR_SIDES, SHIM_POSITIONS } from "../lib/lash/schemas";
 import {
   bigint,
   boolean,
@@ -184,6 +184,8 @@ export const engines = mysqlTable(
     mirrored: boolean("mirrored").notNull().default(false),
     /** where the shims sit, over or under the bucket; null: not said (an engine from before it was asked) */
     shimPosition: mysqlEnum("shim_position", SHIM_POSITIONS),
+    /** the side nearest the mechanic at the bench, drawn at the bottom; an engine from before it was asked: the exhausts, as drawn then */
+    nearSide: mysqlEnum("near_side", NEAR_SIDES).notNull().default("exhaust"),
     version: version(),
     createdAt: createdAt(),
     updatedAt: updatedAt(),

@@ -86,7 +86,8 @@ const verifyTries = budget({ name: "verify:account", points: VERIFY_TRY_LIMIT.co
  * SP 800-63B 6.1.2: bind an authenticator only to a subscriber known to control it). A wrong or
  * missing password leaves the link usable, so the owner can still choose their own password.
  */
-export async function verifyEmail(token: string, password: string | undefined): Promise<void> {
+/** Confirms the address; answers it, so the page can sign the newcomer in with the password just proved. */
+export async function verifyEmail(token: string, password: string | undefined): Promise<{ email: string }> {
   const bad = () => new DomainError("bad_request", "This link has expired or was already used", { code: "bad_token" });
   const userId = await tokenOwner(token, "verify");
   if (!userId) throw bad();
@@ -102,6 +103,8 @@ export async function verifyEmail(token: string, password: string | undefined): 
   const used = await consumeAuthToken(token, "verify", { onlyFor: userId });
   if (used !== userId) throw bad();
   await updateUser(userId, { emailVerifiedAt: new Date() });
+  // the caller holds the mailbox's link (and the password, where the account has one): the address is theirs to see
+  return { email: u.email };
 }
 
 /**

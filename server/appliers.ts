@@ -53,6 +53,11 @@ export const APPLIERS: { readonly [N in MutationName]: Applier<N> } = {
     await ownOrNewEngine(w.tx, w.user, a.id);
     await putEngine(w.tx, w.user.id, w.version, a.id, a);
   },
+  // with the side nearest the mechanic; /1 and /2 keep the stored side
+  "engine.put/3": async (w, a) => {
+    await ownOrNewEngine(w.tx, w.user, a.id);
+    await putEngine(w.tx, w.user.id, w.version, a.id, a);
+  },
   // Deleting what is already gone is harmless (a retried delete, or one from a second phone). So
   // is naming someone else's record: it answers exactly as a missing one, so no id can be probed.
   "engine.delete/1": async (w, a) => {

@@ -1,12 +1,13 @@
 import "server-only";
 import { env } from "@/lib/env";
 import { formatLength } from "@/lib/lash";
-import { MOVES, STATE_WORDS, type BorrowInput, type BorrowMove, type OfferInput } from "@/lib/pool/rules";
+import { loanWords, MOVE_WORDS, MOVES, type BorrowInput, type BorrowMove, type OfferInput } from "@/lib/pool/rules";
 import { rolesInClub } from "@/db/queries/clubs";
 import { db } from "@/db/client";
 import * as q from "@/db/queries/pool";
 import { clubMember } from "./access";
 import { noticeTo } from "./notices";
+import { checkTitle } from "./review";
 import type { WriteCtx } from "./write";
 import type { SessionUser } from "./auth";
 
@@ -38,14 +39,25 @@ export async function applyAsk({ tx, version, user, later }: WriteCtx, a: Borrow
   // a locking read: an ask racing the asker's removal from the club cannot slip in after it
   const offer = await q.askBorrow(tx, version, user.id, a, async (clubId) => (await rolesInClub(tx, user.id, clubId, true)).length > 0);
   if (!offer) return;
-  later(() => tell(offer.ownerId, "borrow", `${user.name} asks to borrow ${a.count} × ${mm(offer.size)}`, `${user.name} would like to borrow ${a.count} of your ${mm(offer.size)} shims from the club pool. Agree or decline on the club page.`));
+  later(async () => {
+    const title = await checkTitle(a.checkId);
+    const forWhat = title ? ` for ${title}` : "";
+    await tell(offer.ownerId, "borrow", `${user.name} asks to borrow ${a.count} × ${mm(offer.size)}${forWhat}`, `${user.name} would like to borrow ${a.count} of your ${mm(offer.size)} shims from the club pool${forWhat}. Agree or decline on the club page.`);
+  });
 }
 
 export async function applyMove({ tx, version, user, later }: WriteCtx, a: { id: string; move: BorrowMove; returnSize?: number | null }) {
   const r = await q.moveBorrow(tx, version, user.id, a.id, a.move, a.returnSize ?? null);
   if (!r) return;
   const other = r.side === "lender" ? r.borrowerId : r.lenderId;
-  later(() => tell(other, "borrow", `Shim loan ${a.move === "hand-over" ? "handed over" : MOVES[a.move].to}: ${r.count} × ${mm(r.size)}`, `${user.name} marked the loan of ${r.count} × ${mm(r.size)}: ${STATE_WORDS[MOVES[a.move].to]}.`));
+  later(async () => {
+    // the engine and check the loan is for; an agreed loan carries the lender's note on where to collect
+    const title = await checkTitle(r.checkId);
+    const forWhat = title ? ` for ${title}` : "";
+    const collect = a.move === "agree" && r.note ? `\n\nWhere to collect them (${user.name}'s note): ${r.note}` : "";
+    const state = loanWords(MOVES[a.move].to, r.side === "lender" ? "borrower" : "lender");
+    await tell(other, "borrow", `Shim loan ${MOVE_WORDS[a.move]}: ${r.count} × ${mm(r.size)}${title ? ` (${title})` : ""}`, `${user.name} marked the loan of ${r.count} × ${mm(r.size)}${forWhat}: ${state}.${collect}`);
+  });
 }
 
 export async function clubPool(user: SessionUser, clubId: string) {

@@ -3,7 +3,7 @@ import { env } from "@/lib/env";
 import { VERDICTS, type Verdict } from "@/lib/check/verdicts";
 import { mentorsOfClub } from "@/db/queries/clubs";
 import { commentersOf } from "@/db/queries/notices";
-import { getEngineRow } from "@/db/queries/garage";
+import { checkTitleRow, getEngineRow } from "@/db/queries/garage";
 import { db } from "@/db/client";
 import { noticeEach, noticeTo, shared } from "./notices";
 
@@ -18,6 +18,18 @@ import { noticeEach, noticeTo, shared } from "./notices";
  */
 const reviewLink = (checkId: string, part?: "comments" | "verdict") => `${env().NEXTAUTH_URL}/review?id=${checkId}${part ? `#${part}` : ""}`;
 
+/**
+ * Which engine and which check a notice is about ("Bench six, check at 23,456 km"), so a mail about a
+ * comment, a verdict or a loan says what it concerns before it is opened. Read once per batch.
+ */
+export function checkTitle(checkId: string | null | undefined): Promise<string | null> {
+  if (!checkId) return Promise.resolve(null);
+  return shared(`title:${checkId}`, async () => {
+    const r = await checkTitleRow(db(), checkId);
+    return r ? `${r.name}, check at ${r.odometer.toLocaleString("en")} ${r.unit}` : null;
+  });
+}
+
 export async function noticeReviewRequested(check: { id: string; engineId: string; ownerId: string }, clubId: string, ownerName: string) {
   const engine = await getEngineRow(db(), check.engineId);
   await noticeEach(await mentorsOfClub(clubId), check.ownerId, {
@@ -30,7 +42,8 @@ export async function noticeReviewRequested(check: { id: string; engineId: strin
 
 export async function noticeComment(check: { id: string; ownerId: string }, authorId: string, authorName: string, body: string, mentorIds: string[]) {
   // the other party: a comment by the owner goes to the mentors who have taken part; a mentor's to the owner
-  await noticeTo(authorId === check.ownerId ? mentorIds : [check.ownerId], authorId, { kind: "comment", aboutCheckId: check.id, subject: `New comment from ${authorName}`, body: `${authorName} wrote:\n\n${body.slice(0, 1000)}\n\n${reviewLink(check.id, "comments")}` });
+  const title = (await checkTitle(check.id)) ?? "a check";
+  await noticeTo(authorId === check.ownerId ? mentorIds : [check.ownerId], authorId, { kind: "comment", aboutCheckId: check.id, subject: `New comment from ${authorName} on ${title}`, body: `${authorName} wrote about ${title}:\n\n${body.slice(0, 1000)}\n\n${reviewLink(check.id, "comments")}` });
 }
 
 /**
@@ -45,10 +58,11 @@ export async function noticeNewComment(check: { id: string; ownerId: string }, a
 
 export async function noticeVerdict(check: { id: string; ownerId: string }, mentorName: string, verdict: Verdict) {
   const words = VERDICTS[verdict].word.toLowerCase();
+  const title = (await checkTitle(check.id)) ?? "your check";
   await noticeTo([check.ownerId], "", {
     kind: "verdict",
     aboutCheckId: check.id,
-    subject: `Review verdict: ${words}`,
-    body: `${mentorName} has reviewed your check: ${words}.\n\n${reviewLink(check.id, "verdict")}`,
+    subject: `Review verdict: ${words} (${title})`,
+    body: `${mentorName} has reviewed ${title}: ${words}.\n\n${reviewLink(check.id, "verdict")}`,
   });
 }

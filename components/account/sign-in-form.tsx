@@ -31,7 +31,7 @@ export function SignInForm() {
   const [sent, setSent] = useState<string | null>(null);
   // the address typed, which may be one still waiting for confirmation: its link is offered again
   const [unconfirmed, setUnconfirmed] = useState<string | null>(null);
-  const form = useForm<{ email: string; password: string }>({ resolver: checkedBy(signInForm), defaultValues: { email: "", password: "" } });
+  const form = useForm<{ email: string; password: string }>({ resolver: checkedBy(signInForm), defaultValues: { email: params.get("email") ?? "", password: "" } });
   const { errors, isSubmitting } = form.formState;
 
   const onSubmit = form.handleSubmit(async (values) => {

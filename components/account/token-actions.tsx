@@ -34,13 +34,21 @@ const signInLink = (
  */
 export function VerifyEmail() {
   const token = useSearchParams().get("token") ?? "";
+  const router = useRouter();
   const [state, setState] = useState<"form" | "ok" | "bad">("form");
+  const [email, setEmail] = useState<string | null>(null);
   const [refused, setRefused] = useState<string | null>(null);
   const form = useForm<{ password: string }>({ resolver: checkedBy(verifyForm), defaultValues: { password: "" } });
   const onSubmit = form.handleSubmit(async ({ password }) => {
     setRefused(null);
     try {
-      await mutations.verify(token, password);
+      const r = await mutations.verify(token, password);
+      setEmail(r.email);
+      // the password was just proved with the mailbox's link: sign the newcomer in with it rather
+      // than leave them on an empty sign-in form (if that fails, the form below has the address)
+      const { signIn } = await import("next-auth/react");
+      const signedIn = await signIn("password", { email: r.email, password, redirect: false }).catch(() => null);
+      if (signedIn?.ok && !signedIn.error) return router.replace("/engines");
       setState("ok");
     } catch (e) {
       if (e instanceof ApiFailure && e.fields.password) form.setError("password", { message: e.fields.password }, { shouldFocus: true });
@@ -54,7 +62,7 @@ export function VerifyEmail() {
       <>
         <h1 className={authTitleClass}>Your address is confirmed</h1>
         <Notice tone="ok">Welcome to Lashwright. You can now {signInLink}.</Notice>
-        <ButtonLink href="/sign-in">Sign in</ButtonLink>
+        <ButtonLink href={email ? `/sign-in?email=${encodeURIComponent(email)}` : "/sign-in"}>Sign in</ButtonLink>
       </>
     );
   if (state === "bad")
@@ -197,14 +205,24 @@ export function ResetPassword() {
 
 export function AcceptInvite() {
   const token = useSearchParams().get("token") ?? "";
-  const router = useRouter();
-  const [state, setState] = useState<"working" | "signin" | "bad">("working");
+  const [state, setState] = useState<"working" | "signin" | "bad" | { joined: string }>("working");
   useOnce(() => {
     mutations.acceptInvite(token).then(
-      () => router.replace("/club"),
+      (r) => setState({ joined: r.clubName }),
       (e: unknown) => setState(e instanceof ApiFailure && e.status === 401 ? "signin" : "bad"),
     );
   });
+  // say what the link did: it joined a club, by name
+  if (typeof state === "object")
+    return (
+      <>
+        <h2 className="text-2xl font-extrabold" data-testid="joined">
+          You joined {state.joined}
+        </h2>
+        <Notice tone="ok">You are now a member: its shim pool, checks shared with it and its mentors are on the club page.</Notice>
+        <ButtonLink href="/club">Open the club page</ButtonLink>
+      </>
+    );
   const back = `/sign-in?next=${encodeURIComponent(`/invite?token=${token}`)}`;
   if (state === "signin")
     return (

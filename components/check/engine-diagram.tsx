@@ -2,7 +2,7 @@
 
 import { useLayoutEffect, useRef, useState, type KeyboardEvent } from "react";
 import { STATE_WORDS, type ValveState, type ValveView } from "@/lib/check/derive";
-import { CELL_GAP_PX, CELL_PX, diagramRows, GROUP_GAP_PX } from "@/lib/check/diagram";
+import { CELL_GAP_PX, CELL_PX, diagramRows, GROUP_GAP_PX, type Facing } from "@/lib/check/diagram";
 
 const TONE: Record<ValveState, string> = {
   unmeasured: "border-line text-ink-soft border-dashed bg-surface",
@@ -17,12 +17,12 @@ const TONE: Record<ValveState, string> = {
 const FIRST_WIDTH = 300;
 
 /**
- * The engine seen from above: each cylinder one framed group with its label, its intakes on top and
- * its exhausts below; cylinder 1 on the left, or on the right for an engine that faces the other
- * way. Each valve a cell of one fixed size with a glyph and its name (the legend gives the words),
+ * The engine seen from above (lib/check/diagram.ts: drawingOrder, the order the worksheet and the
+ * review draw too): each cylinder one framed group with its label, the side nearest the mechanic at
+ * the bottom; cylinder 1 on the left, or on the right for an engine that faces the other way. Each valve a cell of one fixed size with a glyph and its name (the legend gives the words),
  * so no state is told by colour alone and no label can sit over another cylinder's valves.
  */
-export function EngineDiagram({ views, mirrored, onPick, commentDots, current, onTurn }: { views: ValveView[]; mirrored: boolean; onPick?: (valveId: string) => void; commentDots?: Set<string>; current?: string; onTurn?: () => void }) {
+export function EngineDiagram({ views, facing, onPick, commentDots, current, onTurn }: { views: ValveView[]; facing: Facing; onPick?: (valveId: string) => void; commentDots?: Set<string>; current?: string; onTurn?: () => void }) {
   const box = useRef<HTMLDivElement>(null);
   const [width, setWidth] = useState(FIRST_WIDTH);
   useLayoutEffect(() => {
@@ -34,7 +34,8 @@ export function EngineDiagram({ views, mirrored, onPick, commentDots, current, o
     ro.observe(el);
     return () => ro.disconnect();
   }, []);
-  const rows = diagramRows(views, mirrored, width);
+  const rows = diagramRows(views, facing, width);
+  const { mirrored, nearSide } = facing;
   const states = new Set(views.map((v) => v.state));
   // one Tab stop for the whole diagram (the valve last moved to, else the current one): the arrow
   // keys move between valves, so a keyboard does not pass 16 or more cells on every way round
@@ -79,15 +80,15 @@ export function EngineDiagram({ views, mirrored, onPick, commentDots, current, o
       </button>
     );
   };
-  const line = (vs: ValveView[]) => (
-    <div className="flex justify-center" style={{ gap: CELL_GAP_PX }}>
+  const line = (vs: ValveView[], side: "top" | "bottom") => (
+    <div className="flex justify-center" style={{ gap: CELL_GAP_PX }} data-row={side}>
       {vs.map(cell)}
     </div>
   );
   return (
     <figure aria-label="Engine diagram" className="flex flex-col gap-2 rounded-2xl border border-line bg-surface-2 p-3">
       <figcaption className="text-xs font-bold text-ink-soft">
-        {mirrored ? "Cylinder 1 on the right (the engine faces the other way)" : "Cylinder 1 on the left"} · intakes on top, exhausts below
+        {mirrored ? "Cylinder 1 on the right (the engine faces the other way)" : "Cylinder 1 on the left"} · {nearSide === "exhaust" ? "intakes on top, exhausts nearest you" : "exhausts on top, intakes nearest you"}
         <span className="sr-only"> · the arrow keys move between valves</span>
       </figcaption>
       <div ref={box} onKeyDown={arrows} className="flex flex-col" style={{ gap: GROUP_GAP_PX }}>
@@ -99,8 +100,8 @@ export function EngineDiagram({ views, mirrored, onPick, commentDots, current, o
                 <span className="w-0 min-w-full overflow-hidden text-center text-xs leading-tight font-bold tracking-tight whitespace-nowrap text-ink-soft" data-cylinder-label={g.cylinder}>
                   Cyl {g.cylinder}
                 </span>
-                {line(g.intakes)}
-                {line(g.exhausts)}
+                {line(g.top, "top")}
+                {line(g.bottom, "bottom")}
               </div>
             ))}
           </div>

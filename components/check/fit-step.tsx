@@ -4,7 +4,7 @@ import { useLiveQuery } from "@/components/sync/use-live-query";
 import { useEffect, useRef, useState, type ReactNode } from "react";
 import type { ShimMove } from "@/lib/lash";
 import { valveLabel, type ValveView } from "@/lib/check/derive";
-import { camsOut, camsOutWords } from "@/lib/lash";
+import { camsOut, camsOutWords, shimNumber } from "@/lib/lash";
 import { valvesOfMoves, workOrderKey, type WorkOrderState } from "@/lib/check/fit";
 import { OVER_BUCKET_CAUTIONS, OVER_BUCKET_METHOD, SHIM_POSITION_WORDS, UNDER_BUCKET_FIT } from "@/lib/check/shim-position";
 import { getMeta } from "@/lib/sync/later";
@@ -119,7 +119,7 @@ export function FitStep({ engine, views, checkId, startFit, onDone, focusHeading
         <li key={i}>
           <Tick on={done[i]!} onClick={() => tick(i)}>
             <span className="figures">
-              <strong>{i + 1}.</strong> Take the <strong>{m.size.toFixed(2)}</strong> {m.from.kind === "valve" ? `out of ${per(m.from.valveId)}` : `from ${placeWords(m.from)}`} and {m.to.kind === "valve" ? <>fit it to <strong>{per(m.to.valveId)}</strong></> : m.to.kind === "tray" ? "put it on the tray" : "set it aside"}
+              <strong>{i + 1}.</strong> Take the <strong>{shimNumber(m.size)}</strong> {m.from.kind === "valve" ? `out of ${per(m.from.valveId)}` : `from ${placeWords(m.from)}`} and {m.to.kind === "valve" ? <>fit it to <strong>{per(m.to.valveId)}</strong></> : m.to.kind === "tray" ? "put it on the tray" : "set it aside"}
             </span>
           </Tick>
         </li>

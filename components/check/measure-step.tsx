@@ -10,6 +10,8 @@ import { useLocalCore } from "@/components/sync/local-provider";
 import { Button, Notice } from "@/components/ui/controls";
 import { EngineDiagram } from "./engine-diagram";
 import { ValveCard, type ReadingEntry } from "./valve-card";
+import { facingOf } from "@/lib/check/diagram";
+import { shimNumber } from "@/lib/lash";
 
 /** what a valve's reading was before a tap, so the tap can be undone */
 interface Undo {
@@ -106,7 +108,7 @@ export function MeasureStep({ engine, views, sizes, step, save, onTurn, onDone, 
           <select aria-label="Shim size for every bucket" value={fill} onChange={(e) => setFill(Number(e.target.value))} className="figures min-h-12 rounded-xl border-2 border-field bg-surface px-2 text-lg">
             {sizes.map((s) => (
               <option key={s} value={s}>
-                {s.toFixed(step < 0.05 ? 3 : 2)} mm
+                {shimNumber(s, step < 0.05)} mm
               </option>
             ))}
           </select>
@@ -137,7 +139,7 @@ export function MeasureStep({ engine, views, sizes, step, save, onTurn, onDone, 
         </Button>
       </div>
       {current && saveCurrent && <ValveCard key={current.valve.id} checkId={checkId} engine={engine} view={current} sizes={sizes} step={step} onSave={saveCurrent} onRecorded={next} focusKey={focusCard?.valve === current.valve.id ? focusCard.n : 0} />}
-      <EngineDiagram views={views} mirrored={engine.mirrored} onPick={pick} current={currentId} onTurn={onTurn} />
+      <EngineDiagram views={views} facing={facingOf(engine)} onPick={pick} current={currentId} onTurn={onTurn} />
       <Button type="button" onClick={onDone} disabled={measured === 0} look={done ? "primary" : "plain"}>
         {done ? "All measured: see the shim plan" : "See the shim plan"}
       </Button>

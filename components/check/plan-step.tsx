@@ -2,7 +2,7 @@
 
 import dynamic from "next/dynamic";
 import { useState } from "react";
-import { camsOut, camsOutWords, formatLength, type ShimPlan } from "@/lib/lash";
+import { camsOut, camsOutWords, formatLength, shimNumber, type ShimPlan } from "@/lib/lash";
 import { SHIM_POSITION_WORDS } from "@/lib/check/shim-position";
 import type { PlanOptions, ValveView } from "@/lib/check/derive";
 import type { PoolFit } from "@/lib/check/pool";
@@ -15,6 +15,7 @@ import { EngineDiagram } from "./engine-diagram";
 import { PlanChanges, PlanTable } from "./plan-table";
 import { CsvDownload } from "./csv-download";
 import { ShimPositionAsk } from "./shim-position-ask";
+import { facingOf } from "@/lib/check/diagram";
 
 // the printed worksheet loads with the plan, the step that prints
 const Worksheet = dynamic(() => import("./worksheet"), { ssr: false });
@@ -25,7 +26,7 @@ export function PlanStep({ engine, check, views, plan, error, onTurn, onFit, poo
   const headingRef = useFocusOnShow<HTMLHeadingElement>(focusHeading);
   const byId = new Map(views.map((v) => [v.valve.id, v]));
   const lenders = pool ? new Map(pool.offers.map((o) => [o.ownerId, o.ownerName])) : undefined;
-  const buyText = plan?.buy.map((b) => `${b.count} × ${b.size.toFixed(2)} mm shim`).join("\n") ?? "";
+  const buyText = plan?.buy.map((b) => `${b.count} × ${shimNumber(b.size)} mm shim`).join("\n") ?? "";
   const changing = plan?.assignments.filter((a) => a.source.kind !== "keep").length ?? 0;
   return (
     <section className="flex flex-col gap-4" aria-labelledby="plan-title">
@@ -33,7 +34,7 @@ export function PlanStep({ engine, check, views, plan, error, onTurn, onFit, poo
         Shim plan
       </h2>
       <Worksheet engine={engine} check={check} views={views} plan={plan} lenders={lenders} />
-      <EngineDiagram views={views} mirrored={engine.mirrored} onTurn={onTurn} />
+      <EngineDiagram views={views} facing={facingOf(engine)} onTurn={onTurn} />
       {options && setOptions && <PlanAimChoice options={options} setOptions={setOptions} unit={engine.displayUnit} />}
       {error && <Notice tone="error">{error}</Notice>}
       {trayOtherSystem > 0 && (
@@ -57,7 +58,7 @@ export function PlanStep({ engine, check, views, plan, error, onTurn, onFit, poo
                 <ul className="figures text-lg" data-testid="buy-list">
                   {plan.buy.map((b) => (
                     <li key={b.size}>
-                      {b.count} × {b.size.toFixed(2)} mm
+                      {b.count} × {shimNumber(b.size)} mm
                     </li>
                   ))}
                 </ul>
@@ -77,7 +78,7 @@ export function PlanStep({ engine, check, views, plan, error, onTurn, onFit, poo
             <h2 id="tray-title" className="text-xl font-extrabold">
               Back to the tray
             </h2>
-            {plan.toTray.length === 0 ? <p className="text-ink-soft">Nothing: every shim that comes out is used again.</p> : <p className="figures text-lg">{plan.toTray.map((t) => `${t.count} × ${t.size.toFixed(2)} mm`).join(", ")}</p>}
+            {plan.toTray.length === 0 ? <p className="text-ink-soft">Nothing: every shim that comes out is used again.</p> : <p className="figures text-lg">{plan.toTray.map((t) => `${t.count} × ${shimNumber(t.size)} mm`).join(", ")}</p>}
           </section>
           <div className="flex flex-wrap gap-2 print:hidden">
             <Button type="button" look="plain" onClick={() => window.print()}>

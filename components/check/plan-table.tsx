@@ -2,7 +2,7 @@
 
 import { useMemo } from "react";
 import { createColumnHelper, flexRender, getCoreRowModel, useReactTable } from "@tanstack/react-table";
-import { formatLength, type Assignment, type ShimPlan } from "@/lib/lash";
+import { formatLength, shimNumber, type Assignment, type ShimPlan } from "@/lib/lash";
 import { sourceWords, type ValveView } from "@/lib/check/derive";
 import type { LocalEngine } from "@/lib/sync/local-db";
 
@@ -13,10 +13,10 @@ interface Row {
 
 const col = createColumnHelper<Row>();
 
-/** A target such as 0.125 (the middle of 0.10-0.15) is shown as it is, not rounded to 0.13. */
-const needsThousandths = (mm: number) => Math.round(mm * 1000) % 10 !== 0;
 /** A shim size as its series names it: 2.525 from a 0.025 mm series stays 2.525, never 2.53. */
-const shimText = (mm: number) => mm.toFixed(needsThousandths(mm) ? 3 : 2);
+const shimText = (mm: number) => shimNumber(mm);
+/** The shim in the bucket now: a micrometer reading to 0.001 mm, a stamp as it is marked. */
+const nowText = (v: ValveView | undefined) => (v?.installed != null ? shimNumber(v.installed, v.latest?.installedMicrometer != null) : "—");
 
 /** The valve column stays put while the rest scrolls sideways, so "Gives" is never read without its valve. */
 // The box has no left padding (scrolled cells would show through it): the pinned cells carry it.
@@ -37,7 +37,7 @@ export function PlanChanges({ plan, byId, lenders }: { plan: ShimPlan; byId: Map
       <ul className="figures text-lg" data-testid="plan-changes">
         {changed.map((a) => {
           const v = byId.get(a.valveId);
-          const now = v?.installed != null ? v.installed.toFixed(v.latest?.installedMicrometer != null ? 3 : 2) : "—";
+          const now = nowText(v);
           return (
             <li key={a.valveId}>
               <strong>{a.valveId}</strong>: {now} to <strong>{shimText(a.size)}</strong>, {sourceWords(a.source, lenders)}
@@ -54,9 +54,9 @@ export function PlanTable({ engine, plan, byId, lenders }: { engine: LocalEngine
   const unit = engine.displayUnit;
   const columns = [
     col.accessor((r) => r.a.valveId, { id: "valve", header: "Valve", cell: (c) => <strong>{c.getValue()}</strong> }),
-    col.accessor((r) => r.v.installed, { id: "now", header: "Shim now", cell: (c) => c.getValue()?.toFixed(c.row.original.v.latest?.installedMicrometer != null ? 3 : 2) ?? "—" }),
+    col.accessor((r) => r.v.installed, { id: "now", header: "Shim now", cell: (c) => nowText(c.row.original.v) }),
     col.accessor((r) => r.v.measured, { id: "clearance", header: "Clearance", cell: (c) => (c.getValue() != null ? formatLength(c.getValue()!, unit) : "—") }),
-    col.accessor((r) => r.v.spec.target ?? (r.v.spec.min + r.v.spec.max) / 2, { id: "target", header: "Target", cell: (c) => formatLength(c.getValue(), unit, needsThousandths(c.getValue())) }),
+    col.accessor((r) => r.v.spec.target ?? (r.v.spec.min + r.v.spec.max) / 2, { id: "target", header: "Target", cell: (c) => formatLength(c.getValue(), unit) }),
     col.accessor((r) => r.a, { id: "new", header: "New shim", cell: (c) => <strong>{c.getValue().source.kind === "keep" ? "—" : shimText(c.getValue().size)}</strong> }),
     col.accessor((r) => r.a, { id: "gives", header: "Gives", cell: (c) => `${formatLength(c.getValue().predicted, unit)} ${c.getValue().inSpec ? "✓" : "✕ out of band"}` }),
     col.accessor((r) => r.a.source, {

@@ -1,7 +1,7 @@
 "use client";
 
 import { memo, useEffect, useRef, useState, type MouseEvent } from "react";
-import { clearanceFromFeelers, formatLength, recommendShim } from "@/lib/lash";
+import { clearanceFromFeelers, formatLength, lengthNumber, recommendShim, shimNumber } from "@/lib/lash";
 import { bladeStrip, feelerSet, noGoOf } from "@/lib/check/blades";
 import { measuredState, STATE_WORDS, valveLabel, type ValveView } from "@/lib/check/derive";
 import { foundWords } from "@/lib/check/rounds";
@@ -61,7 +61,9 @@ function sameView(a: ValveView, b: ValveView) {
 function resultWords(view: ValveView, measured: number, installed: number, sizes: number[], unit: LocalEngine["displayUnit"]): string {
   const state = measuredState(measured, view.spec, view.nextRound);
   const s = STATE_WORDS[state];
-  if (state === "in-band" || state === "verified") return `${s.glyph} in band`;
+  if (state === "in-band") return `${s.glyph} in band`;
+  // the double tick is said where it shows, not only in the diagram's key
+  if (state === "verified") return `${s.glyph} verified: in band again after the new shim`;
   try {
     const rec = recommendShim({ installed, measured, spec: view.spec, sizes });
     return `${s.glyph} ${s.word} · needs ${formatLength(rec.size, "mm")} (gives ${formatLength(rec.predicted, unit)})`;
@@ -143,11 +145,12 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded,
 
   return (
     <article id={`valve-${view.valve.id}`} data-valve={view.valve.id} aria-label={valveLabel(view.valve, per)} className="flex flex-col gap-3 rounded-2xl border border-line bg-surface p-3">
-      <header className="flex items-baseline justify-between">
-        <h3 ref={heading} tabIndex={-1} className="text-xl font-extrabold">
+      {/* the heading and the band each stay whole: the band goes under the heading when both do not fit */}
+      <header className="flex flex-wrap items-baseline justify-between gap-x-2">
+        <h3 ref={heading} tabIndex={-1} className="text-xl font-extrabold whitespace-nowrap">
           {valveLabel(view.valve, per)}
         </h3>
-        <span className="figures text-sm text-ink-soft">
+        <span className="figures text-sm whitespace-nowrap text-ink-soft">
           band {formatLength(view.spec.min, unit)}–{formatLength(view.spec.max, unit)}
         </span>
       </header>
@@ -158,7 +161,7 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded,
         </button>
         {/* a changed shim is read out where it is shown; an unset one says so in words */}
         <span aria-live="polite" className={`figures min-w-24 text-center ${stamp != null ? "text-2xl font-extrabold" : "text-base font-bold text-ink-soft"}`} data-testid={`shim-${view.valve.id}`}>
-          {stamp != null ? stamp.toFixed(step < 0.05 ? 3 : 2) : "not set"}
+          {stamp != null ? shimNumber(stamp, step < 0.05) : "not set"}
         </span>
         <button type="button" aria-label={`Thicker shim for ${view.valve.id}`} onClick={() => stepShim(1)} className="min-h-12 min-w-12 rounded-xl border-2 border-line text-2xl font-bold">
           +
@@ -166,7 +169,7 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded,
         {stamp != null && <span className="text-sm text-ink-soft">mm</span>}
       </div>
       <details>
-        <summary className="min-h-12 cursor-pointer py-3 text-sm font-bold text-ink-soft">Micrometer thickness {micrometer != null ? `(${micrometer.toFixed(3)} mm)` : ""}</summary>
+        <summary className="min-h-12 cursor-pointer py-3 text-sm font-bold text-ink-soft">Micrometer thickness {micrometer != null ? `(${shimNumber(micrometer, true)} mm)` : ""}</summary>
         <form
           className="flex gap-2"
           onSubmit={(e) => {
@@ -186,7 +189,8 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded,
           {blades.map((b) => {
             const on = base.method === "feeler" && base.feelerGo != null && Math.abs(base.feelerGo - b) < 1e-9;
             const inBand = b >= view.spec.min - 1e-9 && b <= view.spec.max + 1e-9;
-            const label = unit === "in" ? (b / 25.4).toFixed(4).replace(/^0/, "") : b.toFixed(2);
+            // the blade's own label (an inch blade without its leading zero, to fit six across)
+            const label = unit === "in" ? lengthNumber(b, "in").replace(/^0/, "") : lengthNumber(b, "mm");
             return (
               <button key={b} type="button" aria-pressed={on} onClick={(e) => tapBlade(b, e)} className={`figures min-h-12 min-w-0 rounded-xl border-2 px-0.5 font-bold ${unit === "in" ? "text-sm" : "text-base"} ${on ? "border-accent bg-accent text-accent-ink" : inBand ? "border-ok" : "border-line"}`}>
                 {label}

@@ -1,7 +1,8 @@
 "use client";
 
 import { createPortal } from "react-dom";
-import { camsOut, camsOutWords, roundForDisplay, type LengthUnit, type ShimPlan, type SizeCount } from "@/lib/lash";
+import { camsOut, camsOutWords, lengthNumber, shimNumber, type ShimPlan, type SizeCount } from "@/lib/lash";
+import { drawingOrder, facingOf } from "@/lib/check/diagram";
 import { STATE_WORDS, sourceWords, type ValveView } from "@/lib/check/derive";
 import { prepareCautions, shimPositionWords, UNDER_BUCKET_FIT } from "@/lib/check/shim-position";
 import type { LocalCheck, LocalEngine } from "@/lib/sync/local-db";
@@ -14,10 +15,13 @@ import type { LocalCheck, LocalEngine } from "@/lib/sync/local-db";
 export default function Worksheet({ engine, check, views, plan, lenders }: { engine: LocalEngine; check: LocalCheck; views: ValveView[]; plan: ShimPlan | null; lenders?: Map<string, string> }) {
   const unit = engine.displayUnit;
   const fine = "step" in engine.shims ? engine.shims.step < 0.05 : engine.shims.sizes.some((s) => Math.round(s * 1000) % 10 !== 0);
-  const shim = (s: number | null | undefined, micrometer = false) => (s == null ? "" : s.toFixed(fine || micrometer ? 3 : 2));
-  const len = (x: number | null | undefined) => (x == null ? "" : lengthText(x, unit));
+  // each value as it was entered or measured (lib/lash/units.ts): a typed 0.075 stays 0.075
+  const shim = (s: number | null | undefined, micrometer = false) => (s == null ? "" : shimNumber(s, fine || micrometer));
+  const len = (x: number | null | undefined) => (x == null ? "" : lengthNumber(x, unit));
   const byValve = new Map(plan?.assignments.map((a) => [a.valveId, a]) ?? []);
-  const cylinders = [...new Set(views.map((v) => v.valve.cylinder))].sort((a, b) => (engine.mirrored ? b - a : a - b));
+  // the phone's and the review's drawing order, so a shim read off the paper goes into the bucket the phone showed
+  const drawn = drawingOrder(views, facingOf(engine));
+  const sideName = (k: "intake" | "exhaust") => (k === "intake" ? "Intake side" : "Exhaust side");
   const band = (s: ValveView["spec"]) => `${len(s.min)}–${len(s.max)}${s.target != null ? ` (target ${len(s.target)})` : ""}`;
   const series = "step" in engine.shims ? `${shim(engine.shims.min)} to ${shim(engine.shims.max)} mm in ${engine.shims.step} mm steps` : `${engine.shims.sizes.length} sizes, ${shim(Math.min(...engine.shims.sizes))} to ${shim(Math.max(...engine.shims.sizes))} mm`;
   const date = new Date(check.startedAt).toLocaleDateString("en-GB", { day: "numeric", month: "short", year: "numeric" });
@@ -25,7 +29,7 @@ export default function Worksheet({ engine, check, views, plan, lenders }: { eng
     const a = byValve.get(v.valve.id);
     const s = STATE_WORDS[v.state];
     return (
-      <div key={v.valve.id} className={`ws-cell ws-${v.state}`}>
+      <div key={v.valve.id} className={`ws-cell ws-${v.state}`} data-valve={v.valve.id}>
         <b>{v.valve.id}</b>
         <span>{v.measured != null ? len(v.measured) : "—"}</span>
         <span>
@@ -79,27 +83,29 @@ export default function Worksheet({ engine, check, views, plan, lenders }: { eng
         {shimPositionWords(position)} · {cams}
       </p>
       <figure className="ws-diagram" aria-label="Engine diagram">
-        <p>Intake side {engine.mirrored ? "· mirrored: cylinder 1 on the right" : ""}</p>
-        <div className="ws-row">
-          {cylinders.map((c) => (
-            <div key={c} className="ws-cyl">
-              {views.filter((v) => v.valve.cylinder === c && v.valve.kind === "intake").map(cell)}
+        <p>
+          {sideName(drawn.top)} · {engine.mirrored ? "mirrored: cylinder 1 on the right" : "cylinder 1 on the left"}
+        </p>
+        <div className="ws-row" data-row="top">
+          {drawn.cylinders.map((g) => (
+            <div key={g.cylinder} className="ws-cyl" data-cylinder={g.cylinder}>
+              {g.top.map(cell)}
             </div>
           ))}
         </div>
         <div className="ws-row ws-cyl-names">
-          {cylinders.map((c) => (
-            <span key={c}>Cyl {c}</span>
+          {drawn.cylinders.map((g) => (
+            <span key={g.cylinder}>Cyl {g.cylinder}</span>
           ))}
         </div>
-        <div className="ws-row">
-          {cylinders.map((c) => (
-            <div key={c} className="ws-cyl">
-              {views.filter((v) => v.valve.cylinder === c && v.valve.kind === "exhaust").map(cell)}
+        <div className="ws-row" data-row="bottom">
+          {drawn.cylinders.map((g) => (
+            <div key={g.cylinder} className="ws-cyl" data-cylinder={g.cylinder}>
+              {g.bottom.map(cell)}
             </div>
           ))}
         </div>
-        <p>Exhaust side</p>
+        <p>{sideName(drawn.bottom)}, nearest you</p>
       </figure>
       <table className="ws-table">
         <thead>
@@ -186,8 +192,4 @@ export default function Worksheet({ engine, check, views, plan, lenders }: { eng
     </article>,
     document.body,
   );
-}
-
-function lengthText(mm: number, unit: LengthUnit) {
-  return roundForDisplay(mm, unit).toFixed(unit === "in" ? 4 : 2);
 }

@@ -4,7 +4,7 @@ import { useLiveQuery } from "@/components/sync/use-live-query";
 import { useRouter, useSearchParams } from "next/navigation";
 import { useEffect, useState, type ReactNode } from "react";
 import { useForm, type Resolver } from "react-hook-form";
-import { ENGINE_PRESETS, type ShimPosition } from "@/lib/lash";
+import { ENGINE_PRESETS, type NearSide, type ShimPosition } from "@/lib/lash";
 import { SHIM_POSITION_WORDS } from "@/lib/check/shim-position";
 import { engineInput } from "@/lib/schemas/records";
 import { saveEngine } from "@/lib/sync/later";
@@ -32,6 +32,8 @@ interface FormValues {
   shimPosition: "" | ShimPosition;
   /** where cylinder 1 is as the mechanic faces the engine at work */
   facing: "left" | "right";
+  /** the side of the head nearest the mechanic, drawn at the bottom */
+  nearSide: NearSide;
   displayUnit: "mm" | "in";
   odometerUnit: "km" | "mi" | "h";
 }
@@ -59,6 +61,7 @@ function toEngine(v: FormValues, id: string) {
     displayUnit: v.displayUnit,
     odometerUnit: v.odometerUnit,
     mirrored: v.facing === "right",
+    nearSide: v.nearSide,
   };
 }
 
@@ -82,6 +85,7 @@ function fromEngine(e: LocalEngine): FormValues {
     shimDiameter: t(e.shimDiameter),
     shimPosition: e.shimPosition ?? "",
     facing: e.mirrored ? "right" : "left",
+    nearSide: e.nearSide ?? "exhaust",
     displayUnit: e.displayUnit,
     odometerUnit: e.odometerUnit,
   };
@@ -104,6 +108,7 @@ const BLANK: FormValues = {
   shimDiameter: "",
   shimPosition: "",
   facing: "left",
+  nearSide: "exhaust",
   displayUnit: "mm",
   odometerUnit: "km",
 };
@@ -292,6 +297,21 @@ export function EngineForm() {
         ).map(([value, label]) => (
           <label key={value} className="flex min-h-12 items-center gap-3 rounded-xl border-2 border-line px-3 font-bold">
             <input type="radio" value={value} className="h-6 w-6" {...form.register("facing")} />
+            {label}
+          </label>
+        ))}
+      </fieldset>
+      <fieldset className="flex flex-col gap-2">
+        <legend className="mb-1 text-lg font-bold">Side nearest you</legend>
+        <p className="text-sm text-ink-soft">The diagram and the printed sheet draw this side at the bottom, so the rows match the head in front of you.</p>
+        {(
+          [
+            ["exhaust", "Exhaust side nearest me"],
+            ["intake", "Intake side nearest me"],
+          ] as const
+        ).map(([value, label]) => (
+          <label key={value} className="flex min-h-12 items-center gap-3 rounded-xl border-2 border-line px-3 font-bold">
+            <input type="radio" value={value} className="h-6 w-6" {...form.register("nearSide")} />
             {label}
           </label>
         ))}

@@ -4,7 +4,7 @@ import { useLiveQuery } from "@/components/sync/use-live-query";
 import Link from "next/link";
 import { useRouter, useSearchParams } from "next/navigation";
 import { useState } from "react";
-import { formatLength } from "@/lib/lash";
+import { formatLength, shimNumber } from "@/lib/lash";
 import { saveCheck } from "@/lib/sync/later";
 import { SHIM_POSITION_WORDS } from "@/lib/check/shim-position";
 import { useLocalCore } from "@/components/sync/local-provider";
@@ -69,18 +69,19 @@ export function EngineDetail() {
           <dd>{engine.firingOrder.join("-")}</dd>
           <dt className="text-ink-soft">Intake</dt>
           <dd>
-            {formatLength(engine.intake.min, unit)} – {formatLength(engine.intake.max, unit)}
+            {/* a length and its unit stay on one line ("0.20 mm", never "0.20" above "mm") */}
+            <span className="whitespace-nowrap">{formatLength(engine.intake.min, unit)}</span> – <span className="whitespace-nowrap">{formatLength(engine.intake.max, unit)}</span>
           </dd>
           <dt className="text-ink-soft">Exhaust</dt>
           <dd>
-            {formatLength(engine.exhaust.min, unit)} – {formatLength(engine.exhaust.max, unit)}
+            <span className="whitespace-nowrap">{formatLength(engine.exhaust.min, unit)}</span> – <span className="whitespace-nowrap">{formatLength(engine.exhaust.max, unit)}</span>
           </dd>
           <dt className="text-ink-soft">Measure</dt>
           <dd>{engine.measuredHot ? "hot" : "cold"}</dd>
           <dt className="text-ink-soft">Shims</dt>
           <dd data-testid="engine-shim-position">{engine.shimPosition ? SHIM_POSITION_WORDS[engine.shimPosition].short.replace(/^Shims /, "") : "not said: set it in the profile"}</dd>
           <dt className="text-ink-soft">Shim series</dt>
-          <dd>{"step" in engine.shims ? `${engine.shims.min.toFixed(2)} to ${engine.shims.max.toFixed(2)} mm in ${engine.shims.step} mm steps` : `${engine.shims.sizes.length} sizes listed`}</dd>
+          <dd>{"step" in engine.shims ? `${shimNumber(engine.shims.min, engine.shims.step < 0.05)} to ${shimNumber(engine.shims.max, engine.shims.step < 0.05)} mm in ${engine.shims.step} mm steps` : `${engine.shims.sizes.length} sizes listed`}</dd>
           {engine.shimDiameter != null && (
             <>
               <dt className="text-ink-soft">Shim diameter</dt>
@@ -90,11 +91,13 @@ export function EngineDetail() {
           {engine.assembledShim != null && (
             <>
               <dt className="text-ink-soft">Fitted at assembly</dt>
-              <dd>{engine.assembledShim.toFixed(2)} mm in every bucket</dd>
+              <dd>{shimNumber(engine.assembledShim)} mm in every bucket</dd>
             </>
           )}
           <dt className="text-ink-soft">Drawn with</dt>
-          <dd>cylinder 1 on the {engine.mirrored ? "right" : "left"}</dd>
+          <dd data-testid="engine-facing">
+            cylinder 1 on the {engine.mirrored ? "right" : "left"}, {engine.nearSide === "intake" ? "intake" : "exhaust"} side nearest you
+          </dd>
         </dl>
         <Link href={`/engine/edit?id=${engine.id}`} className="mt-2 inline-flex min-h-12 items-center font-bold underline">
           Edit profile

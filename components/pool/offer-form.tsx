@@ -6,6 +6,7 @@ import { offerToClub } from "@/lib/sync/later";
 import { useLocalCore } from "@/components/sync/local-provider";
 import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
 import { usePool } from "./use-pool";
+import { shimNumber } from "@/lib/lash";
 
 /** Offer spare shims from the tray to a club's pool: only the shims and the note are shared. */
 export function OfferForm({ items }: { items: LocalTrayItem[] }) {
@@ -31,7 +32,7 @@ export function OfferForm({ items }: { items: LocalTrayItem[] }) {
         <select id="offer-size" className={inputClass} value={item.id} onChange={(e) => setItemId(e.target.value)}>
           {stocked.map((t) => (
             <option key={t.id} value={t.id}>
-              {t.size.toFixed(t.measuredSize ? 3 : 2)} mm ({t.count} on the tray)
+              {shimNumber(t.size, t.measuredSize)} mm ({t.count} on the tray)
             </option>
           ))}
         </select>
@@ -67,7 +68,7 @@ export function OfferForm({ items }: { items: LocalTrayItem[] }) {
           if (!Number.isInteger(n) || n < 1 || n > item.count) return setMessage({ tone: "error", text: `Offer 1 to ${item.count}` });
           if (d != null && !(d > 0 && d < 50)) return setMessage({ tone: "error", text: "Enter the diameter in mm, e.g. 9.48" });
           await offerToClub(db, { id: crypto.randomUUID(), clubId: club.id, size: item.size, measuredSize: item.measuredSize, count: n, shimDiameter: d, note: note.trim() || null });
-          setMessage({ tone: "ok", text: `✓ Offered ${n} × ${item.size.toFixed(2)} mm to ${club.name}${navigator.onLine ? "" : " (sent on the next sync)"}` });
+          setMessage({ tone: "ok", text: `✓ Offered ${n} × ${shimNumber(item.size, item.measuredSize)} mm to ${club.name}${navigator.onLine ? "" : " (sent on the next sync)"}` });
           void pool.refresh();
         }}
       >

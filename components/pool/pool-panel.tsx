@@ -1,7 +1,7 @@
 "use client";
 
-import { formatLength } from "@/lib/lash";
-import { movesFor, MOVES, STATE_WORDS, type ApiBorrow, type BorrowMove } from "@/lib/pool/rules";
+import { formatLength, shimNumber } from "@/lib/lash";
+import { loanWords, movesFor, MOVES, type ApiBorrow, type BorrowMove } from "@/lib/pool/rules";
 import { moveLoan, withdrawOffer } from "@/lib/sync/later";
 import type { ClubSummary } from "@/lib/api/client";
 import { useLocalCore } from "@/components/sync/local-provider";
@@ -46,7 +46,7 @@ function Loan({ b, side, pending, onMove }: { b: ApiBorrow; side: "lender" | "bo
         <span className="figures font-bold">
           {b.count} × {mm(b.size)}
         </span>{" "}
-        {side === "lender" ? "to" : "from"} <strong>{other}</strong>: {pending ? `${MOVES[pending].to} (waiting to send)` : STATE_WORDS[b.state]}
+        {side === "lender" ? "to" : "from"} <strong>{other}</strong>: {pending ? `${loanWords(MOVES[pending].to, side)} (waiting to send)` : loanWords(b.state, side)}
         {b.returnSize != null && b.returnSize !== b.size ? <span className="block text-sm text-ink-soft">coming back as {mm(b.returnSize)}</span> : null}
       </p>
       {moves.length > 0 && (
@@ -86,8 +86,9 @@ export function PoolPanel({ club }: { club: ClubSummary }) {
         <ul className="flex flex-col gap-1" data-testid="pool-offers">
           {offers.map((o) => (
             <li key={o.id} className="flex flex-wrap items-baseline justify-between gap-2 border-b border-line py-1">
-              <span className="figures text-lg font-bold">
-                {o.available} × {o.size.toFixed(o.measuredSize ? 3 : 2)} mm
+              {/* an offer whose shims are all lent or asked for is said in words, not as "0 ×" */}
+              <span className="figures text-lg font-bold" data-testid={`offer-${o.id}`}>
+                {o.available > 0 ? `${o.available} × ${shimNumber(o.size, o.measuredSize)} mm` : `${shimNumber(o.size, o.measuredSize)} mm: all lent out or asked for`}
               </span>
               <span className="text-sm text-ink-soft">
                 {o.ownerId === user?.id ? "yours" : o.ownerName}

@@ -23,6 +23,7 @@ import { PlanTable } from "@/components/check/plan-table";
 import { Notice } from "@/components/ui/controls";
 import { CommentThread, type ThreadComment } from "./comment-thread";
 import { FORMER_MEMBER } from "@/lib/account/deletion";
+import { facingOf } from "@/lib/check/diagram";
 
 /**
  * A mentor's view of a shared check: read-only readings with how each was found, the diagram, the
@@ -107,7 +108,7 @@ export function ReviewScreen() {
           Open the check to work on it
         </Link>
       )}
-      <EngineDiagram views={views} mirrored={engine.mirrored} commentDots={dots} />
+      <EngineDiagram views={views} facing={facingOf(engine)} commentDots={dots} />
       <section aria-labelledby="readings-title" className="flex flex-col gap-2">
         <h2 id="readings-title" className="text-xl font-extrabold">
           Readings and how they were found

@@ -6,6 +6,7 @@ import { saveTrayItem } from "@/lib/sync/later";
 import { useLocalCore } from "@/components/sync/local-provider";
 import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
 import { OfferForm } from "@/components/pool/offer-form";
+import { shimNumber } from "@/lib/lash";
 
 /** The loose shims on hand, by size and count; the plan takes from here and fitting updates it. */
 export function TrayPage() {
@@ -41,7 +42,7 @@ export function TrayPage() {
           .filter((t) => t.count > 0)
           .map((t) => (
           <li key={t.id} className="flex items-center gap-3 rounded-xl border border-line bg-surface p-3">
-            <span className="figures min-w-28 text-2xl font-extrabold">{t.size.toFixed(t.measuredSize ? 3 : 2)}</span>
+            <span className="figures min-w-28 text-2xl font-extrabold">{shimNumber(t.size, t.measuredSize)}</span>
             <span className="text-sm text-ink-soft">
                   mm{t.measuredSize ? " (micrometer)" : ""}
                   {t.shimDiameter != null ? <span className="block">{t.shimDiameter} mm across</span> : null}

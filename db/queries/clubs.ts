@@ -197,7 +197,9 @@ export async function acceptInvite(raw: string, user: { id: string; email: strin
     if (want.length) await tx.insert(memberships).values(want.map((role) => ({ clubId: inv.clubId, userId: user.id, role })));
     const after = [...new Set([...have.map((h) => h.role), ...want])];
     await log(tx, { clubId: inv.clubId, actorId: user.id, action: "invite-accepted", subjectUserId: user.id, subjectEmail: inv.email, detail: `${rolesWord(have.map((h) => h.role))} → ${rolesWord(after)}` });
-    return { clubId: inv.clubId };
+    // the page says which club was joined, not a silent move to the club list
+    const [club] = await tx.select({ name: clubs.name }).from(clubs).where(eq(clubs.id, inv.clubId)).limit(1);
+    return { clubId: inv.clubId, clubName: club?.name ?? "the club" };
   });
 }
 

@@ -34,6 +34,7 @@ export function engineToApi(e: EngineRow) {
     odometerUnit: e.odometerUnit,
     mirrored: e.mirrored,
     shimPosition: e.shimPosition ?? null,
+    nearSide: e.nearSide,
     version: e.version,
     updatedAt: e.updatedAt,
   };
@@ -65,12 +66,20 @@ export function engineToRow(e: EngineInput) {
     mirrored: e.mirrored,
     // absent from an older phone's "engine.put/1": the stored answer is kept (a new engine: not said)
     ...(e.shimPosition !== undefined ? { shimPosition: e.shimPosition } : {}),
+    // absent from "engine.put/1" and "/2": the stored side is kept (a new engine: the exhausts)
+    ...(e.nearSide != null ? { nearSide: e.nearSide } : {}),
   };
 }
 
 export async function listEngines(ownerId: string, limit: number, offset: number) {
   const rows = await db().select().from(engines).where(eq(engines.ownerId, ownerId)).orderBy(asc(engines.name), asc(engines.id)).limit(limit + 1).offset(offset);
   return rows.map(engineToApi);
+}
+
+/** A check's odometer with its engine's name and unit, in one read: what a notice names. */
+export async function checkTitleRow(ex: Executor, checkId: string) {
+  const [r] = await ex.select({ name: engines.name, odometer: checks.odometer, unit: engines.odometerUnit }).from(checks).innerJoin(engines, eq(engines.id, checks.engineId)).where(eq(checks.id, checkId)).limit(1);
+  return r;
 }
 
 export async function getEngineRow(ex: Executor, engineId: string) {

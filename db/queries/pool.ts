@@ -141,7 +141,8 @@ export async function moveBorrow(tx: Tx, version: number, userId: string, id: st
     .update(borrowRequests)
     .set({ state: m.to, version, ...(move === "give-back" ? { returnSize: back } : {}) })
     .where(eq(borrowRequests.id, id));
-  return { ...r, state: m.to, side };
+  // the offer's note says where to collect the shims: the agreed notice carries it
+  return { ...r, state: m.to, side, note: o?.note ?? null };
 }
 
 export async function listBorrows(userId: string): Promise<ApiBorrow[]> {

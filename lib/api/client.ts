@@ -122,7 +122,7 @@ export const fetchers = {
 
 export const mutations = {
   signUp: (body: { email: string; name: string; password: string }) => apiFetch<{ message: string }>("/api/account/sign-up", { method: "POST", body }),
-  verify: (token: string, password: string) => apiFetch("/api/account/verify", { method: "POST", body: { token, password } }),
+  verify: (token: string, password: string) => apiFetch<{ ok: true; email: string }>("/api/account/verify", { method: "POST", body: { token, password } }),
   resendVerification: (email: string) => apiFetch<{ message: string }>("/api/account/verify/resend", { method: "POST", body: { email } }),
   requestReset: (email: string) => apiFetch<{ message: string }>("/api/account/password-reset", { method: "POST", body: { email } }),
   setPassword: (token: string, password: string) => apiFetch("/api/account/password", { method: "POST", body: { token, password } }),
@@ -137,5 +137,5 @@ export const mutations = {
   verdict: (shareId: string, verdict: string) => apiFetch<{ share: ApiShare }>(`/api/shares/${shareId}/verdict`, { method: "PUT", body: { verdict } }),
   unsubscribe: (token: string) => apiFetch<{ stopped: true }>(`/api/notices/unsubscribe?token=${encodeURIComponent(token)}`, { method: "POST" }),
   settings: (patch: Partial<Pick<Me, "name" | "displayUnit" | "noticesByEmail">>) => apiFetch<{ user: Me }>("/api/account", { method: "PATCH", body: patch }),
-  acceptInvite: (token: string) => apiFetch<{ clubId: string }>("/api/invites/accept", { method: "POST", body: { token } }),
+  acceptInvite: (token: string) => apiFetch<{ clubId: string; clubName: string }>("/api/invites/accept", { method: "POST", body: { token } }),
 };

@@ -191,8 +191,10 @@ export function readChecksCsv(text: string, engine: Engine, existing: { date: st
     out.fileErrors.push(`The first row must name the columns; missing: ${missing.map((f) => WORDS[f]).join(", ")}. Found: ${header.map((h) => `"${h}"`).join(", ") || "nothing"}.`);
     return done();
   }
-  if (LENGTHS.some((f) => at[f] && !at[f]!.unit))
-    out.warnings.push(`Columns without a unit in their name (like "shim_mm" or "clearance_in") are read in ${engine.displayUnit === "mm" ? "millimetres" : "inches"}, this engine's unit.`);
+  // the file's own columns without a unit are named, and the example of a named unit has one
+  const unitless = LENGTHS.filter((f) => at[f] && !at[f]!.unit).map((f) => `"${header[at[f]!.index]}"`);
+  if (unitless.length)
+    out.warnings.push(`${unitless.length === 1 ? "The column" : "The columns"} ${unitless.join(", ")} ${unitless.length === 1 ? "has" : "have"} no unit in ${unitless.length === 1 ? "its name and is" : "their names and are"} read in ${engine.displayUnit === "mm" ? "millimetres" : "inches"}, this engine's unit. To say the unit, end a name with it, like "clearance_mm" or "clearance_in".`);
 
   // the day and month order of dates like 03/04/2024: from the file when a day above 12 shows it
   const cells = (f: Field) => dataRows.map((r) => clean(r[at[f]!.index]));

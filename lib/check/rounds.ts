@@ -1,15 +1,15 @@
-import { formatLength, type LengthUnit } from "../lash";
+import { formatLength, shimNumber, type LengthUnit } from "../lash";
 import type { LocalReading } from "../sync/local-db";
 
 type Reading = Pick<LocalReading, "valve" | "round" | "installedStamp" | "installedMicrometer" | "feelerGo" | "feelerNoGo" | "measured" | "method" | "fittedShim">;
 
 /** "2.80 stamp, 2.78 micrometer": both when both were taken, since a worn stamp is the reason to measure. */
 export function shimWords(r: Pick<Reading, "installedStamp" | "installedMicrometer">): string {
-  const parts = [r.installedStamp != null ? `${r.installedStamp.toFixed(2)} stamp` : null, r.installedMicrometer != null ? `${r.installedMicrometer.toFixed(3)} micrometer` : null].filter(Boolean);
+  const parts = [r.installedStamp != null ? `${shimNumber(r.installedStamp)} stamp` : null, r.installedMicrometer != null ? `${shimNumber(r.installedMicrometer, true)} micrometer` : null].filter(Boolean);
   return parts.length ? parts.join(", ") : "shim ?";
 }
 
-/** How the clearance was found: the go and no-go blades, or a typed value. */
+/** How the clearance was found: the go and no-go blades as their labels, or a typed value as typed (0.075 stays 0.075). */
 export function foundWords(r: Pick<Reading, "measured" | "method" | "feelerGo" | "feelerNoGo">, unit: LengthUnit): string {
   if (r.measured == null) return "not measured";
   if (r.method === "typed") return `${formatLength(r.measured, unit)} typed`;
@@ -27,6 +27,6 @@ export function valveRounds(readings: Reading[], valve: string, unit: LengthUnit
     .map((r) => ({
       round: r.round,
       title: r.round === 0 ? "First reading" : `Re-check ${r.round}`,
-      text: `${shimWords(r)} · ${foundWords(r, unit)}${r.fittedShim != null ? ` · then fitted ${r.fittedShim.toFixed(2)}` : ""}`,
+      text: `${shimWords(r)} · ${foundWords(r, unit)}${r.fittedShim != null ? ` · then fitted ${shimNumber(r.fittedShim)}` : ""}`,
     }));
 }

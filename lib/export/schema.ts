@@ -274,6 +274,7 @@ export const engineForScreens = (e: ExportEngine): LocalEngine => ({
   shimDiameter: e.shimDiameter ?? null,
   assembledShim: e.assembledShim ?? null,
   shimPosition: e.shimPosition ?? null,
+  nearSide: e.nearSide ?? "exhaust",
 });
 
 const readingForScreens = (r: ExportReading): LocalReading => ({

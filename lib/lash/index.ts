@@ -1,6 +1,6 @@
 /** The valve-clearance computation core: pure functions shared by the browser and the server. */
 export { LashInputError, parseOrThrow, type LashIssue } from "./errors";
-export { inchesToMm, mmToInches, toNm, fromNm, roundForDisplay, formatLength, NM_PER_MM, MM_PER_INCH, type LengthUnit } from "./units";
+export { inchesToMm, mmToInches, toNm, fromNm, roundForDisplay, formatLength, lengthNumber, shimNumber, NM_PER_MM, MM_PER_INCH, type LengthUnit } from "./units";
 export * from "./schemas";
 export { clearanceFromFeelers, type Clearance } from "./feeler";
 export { shimSeries, recommendShim, bandNm, inBand, distanceFromBand, type ShimRecommendation, type BandNm } from "./shim";

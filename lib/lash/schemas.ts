@@ -145,6 +145,14 @@ export const SHIM_POSITIONS = ["over", "under"] as const;
 export const shimPositionSchema = z.enum(SHIM_POSITIONS, { error: 'where the shims sit is "over" or "under" the bucket' });
 export type ShimPosition = z.infer<typeof shimPositionSchema>;
 
+/**
+ * Which side of the head is nearest the mechanic at the bench (the engine's intake or its exhaust
+ * side): the diagram and the worksheet draw that side's row at the bottom, as it is seen from there.
+ */
+export const NEAR_SIDES = ["intake", "exhaust"] as const;
+export const nearSideSchema = z.enum(NEAR_SIDES, { error: 'the side nearest you is "intake" or "exhaust"' });
+export type NearSide = z.infer<typeof nearSideSchema>;
+
 /** Valve names as the check uses them: "I2.1" is intake, cylinder 2, first intake valve. */
 export const valveNameSchema = z.string().regex(/^[IE]\d{1,2}\.\d$/, { error: 'a valve is named like "I1.1" or "E4.2"' });
 

@@ -40,9 +40,40 @@ export function roundForDisplay(mm: number, unit: LengthUnit, fine = false): num
   return Math.round(toNm(mm) / (NM_PER_MM / places)) / places;
 }
 
-/** A length as text with its unit, e.g. "0.27 mm", "0.0106 in". */
+/**
+ * The fewest decimals, from `least` to `most`, that write a length exactly in this unit (lengths are
+ * whole nanometres, so the test is exact); `least` when none does, which is the display rounding of
+ * DESIGN.md section 4. So a typed 0.075 mm stays 0.075, a 0.08 blade is 0.08, and a band given in mm
+ * on an engine shown in inches is rounded to 0.0001 in.
+ */
+function placesFor(mm: number, unit: LengthUnit, least: number, most: number): number {
+  const nm = toNm(mm);
+  for (let p = least; p <= most; p++) {
+    if (unit === "mm" ? nm % 10 ** (6 - p) === 0 : (nm * 10 ** p) % NM_PER_INCH === 0) return p;
+  }
+  return least;
+}
+
+/**
+ * A length as the number it was entered or measured as, in the display unit and without the unit:
+ * millimetres with 2 or 3 decimals (as many as the value holds; "fine" always 3, for a micrometer
+ * reading to 0.001 mm or a shim series in 0.025 mm steps), inches with 4 or 5. The one formatter of
+ * lengths on every screen, the printed worksheet and the mails.
+ */
+export function lengthNumber(mm: number, unit: LengthUnit, fine = false): string {
+  if (!Number.isFinite(mm)) throw new RangeError("lengthNumber: not a finite number");
+  const places = unit === "in" ? placesFor(mm, "in", 4, 5) : fine ? 3 : placesFor(mm, "mm", 2, 3);
+  const value = unit === "in" ? toNm(mm) / NM_PER_INCH : toNm(mm) / NM_PER_MM;
+  // toFixed on the double nearest the exact decimal: at most 5 places, far inside a double's 15 digits
+  return (Math.round(value * 10 ** places) / 10 ** places).toFixed(places);
+}
+
+/** A length as text with its unit, e.g. "0.27 mm", "0.075 mm", "0.0106 in" (see lengthNumber). */
 export function formatLength(mm: number, unit: LengthUnit, fine = false): string {
-  const value = roundForDisplay(mm, unit, fine);
-  const digits = unit === "in" ? 4 : fine ? 3 : 2;
-  return `${value.toFixed(digits)} ${unit}`;
+  return `${lengthNumber(mm, unit, fine)} ${unit}`;
+}
+
+/** A shim's size in mm: a micrometer reading or a fine series to 0.001, a stamp as it is marked. */
+export function shimNumber(mm: number, fine = false): string {
+  return lengthNumber(mm, "mm", fine);
 }

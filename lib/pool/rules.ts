@@ -35,6 +35,31 @@ export const STATE_WORDS: Record<BorrowState, string> = {
   settled: "settled",
 };
 
+/**
+ * A loan's state as each side reads it: the lender is the one asked, so "waiting for the lender"
+ * is the borrower's words, never the lender's.
+ */
+const LENDER_WORDS: Record<BorrowState, string> = {
+  ...STATE_WORDS,
+  asked: "asks you for them: agree or decline",
+  agreed: "agreed: they will collect them",
+  "giving-back": "on the way back to you",
+};
+
+export function loanWords(state: BorrowState, side: "lender" | "borrower"): string {
+  return side === "lender" ? LENDER_WORDS[state] : STATE_WORDS[state];
+}
+
+/** What a step did, in plain words, for a mail's subject ("Shim loan agreed"). */
+export const MOVE_WORDS: Record<BorrowMove, string> = {
+  agree: "agreed",
+  decline: "declined",
+  withdraw: "withdrawn",
+  "hand-over": "handed over",
+  "give-back": "on its way back",
+  settle: "received back",
+};
+
 export function movesFor(state: BorrowState, side: "lender" | "borrower"): BorrowMove[] {
   return (Object.keys(MOVES) as BorrowMove[]).filter((m) => MOVES[m].by === side && (MOVES[m].from as readonly BorrowState[]).includes(state));
 }

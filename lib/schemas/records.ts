@@ -1,6 +1,6 @@
 import "./zod-config";
 import { z } from "zod";
-import { lengthMm, positiveLengthMm, rotationInputSchema, shimPositionSchema, shimSeries, specSchema, timingSchema, LashInputError } from "../lash";
+import { lengthMm, nearSideSchema, positiveLengthMm, rotationInputSchema, shimPositionSchema, shimSeries, specSchema, timingSchema, LashInputError } from "../lash";
 import { parseValveName } from "../lash/valves";
 import { VERDICT_NAMES } from "../check/verdicts";
 import { labelSchema } from "./label";
@@ -56,7 +56,13 @@ const engineFieldsV1 = z.object({
  * Where the shims sit (lib/lash/schemas.ts). Null is "not said": an engine made before the profile
  * asked, or by an older phone; the screens then ask before anything depends on it.
  */
-export const engineFields = engineFieldsV1.extend({ shimPosition: shimPositionSchema.nullable().optional() });
+export const engineFieldsV2 = engineFieldsV1.extend({ shimPosition: shimPositionSchema.nullable().optional() });
+
+/**
+ * Which side is nearest the mechanic (lib/lash/schemas.ts). Absent or null from an older phone: the
+ * stored answer is kept, and an engine that never said has its exhausts nearest (drawn as before).
+ */
+export const engineFields = engineFieldsV2.extend({ nearSide: nearSideSchema.nullable().optional() });
 
 function engineRules(e: z.infer<typeof engineFieldsV1>, ctx: z.RefinementCtx) {
   if (e.firingOrder.length !== e.cylinders) {

@@ -109,6 +109,18 @@ export function openLocalDb(userId: string, indexedDB?: IDBFactory, keyRange?: t
           if (e.shimPosition === undefined) e.shimPosition = null;
         }),
     );
+  // engines learn which side is nearest the mechanic; one kept from before has its exhausts nearest,
+  // the way its diagram was always drawn
+  db.version(4)
+    .stores({})
+    .upgrade((tx) =>
+      tx
+        .table("engines")
+        .toCollection()
+        .modify((e: { nearSide?: unknown }) => {
+          if (e.nearSide == null) e.nearSide = "exhaust";
+        }),
+    );
   return db;
 }
 

@@ -1,7 +1,7 @@
 import { z } from "zod";
-import { shimPositionSchema } from "../lash";
+import { nearSideSchema, shimPositionSchema } from "../lash";
 import { borrowInput, borrowMoveInput, offerInput } from "../pool/rules";
-import { checkDate, checkInput, checkStatus, commentInput, engineFields, engineInputV1, engineRules, idSchema, readingInput, trayItemInput, verdictInput } from "../schemas/records";
+import { checkDate, checkInput, checkStatus, commentInput, engineFields, engineFieldsV2, engineInputV1, engineRules, idSchema, readingInput, trayItemInput, verdictInput } from "../schemas/records";
 
 /**
  * The outbox's mutations: a versioned name and its arguments, validated by the same schemas on the
@@ -19,7 +19,9 @@ export const MUTATIONS = {
   // an older phone's engine, without where the shims sit: applied, the stored answer is kept
   "engine.put/1": engineInputV1.and(z.object({ id: idSchema })),
   // the engine with where the shims sit ("over", "under", or null: not said)
-  "engine.put/2": engineFields.extend({ id: idSchema, shimPosition: shimPositionSchema.nullable() }).superRefine(engineRules),
+  "engine.put/2": engineFieldsV2.extend({ id: idSchema, shimPosition: shimPositionSchema.nullable() }).superRefine(engineRules),
+  // the engine with which side is nearest the mechanic ("intake" or "exhaust"), as well
+  "engine.put/3": engineFields.extend({ id: idSchema, shimPosition: shimPositionSchema.nullable(), nearSide: nearSideSchema }).superRefine(engineRules),
   "engine.delete/1": z.object({ id: idSchema }),
   "check.put/1": checkPut,
   // a check written down after the fact (imported from an old log) carries the day it was made

@@ -10,6 +10,7 @@ import { isMutationName, type MutationArgs, type MutationName } from "./mutation
 export const PENDING_KEY: { readonly [N in MutationName]: (a: MutationArgs<N>) => string | null } = {
   "engine.put/1": (a) => `engine:${a.id}`,
   "engine.put/2": (a) => `engine:${a.id}`,
+  "engine.put/3": (a) => `engine:${a.id}`,
   "engine.delete/1": (a) => `engine:${a.id}`,
   "check.put/1": (a) => `check:${a.id}`,
   "check.put/2": (a) => `check:${a.id}`,

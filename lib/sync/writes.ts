@@ -1,6 +1,6 @@
 import type { MutationArgs } from "./mutations";
 import { record, writeTables } from "./outbox";
-import { DEFAULT_TIMING, LashInputError, type ShimMove, type ShimPosition } from "../lash";
+import { DEFAULT_TIMING, LashInputError, type NearSide, type ShimMove, type ShimPosition } from "../lash";
 import { swapEffects, workOrderKey, type WorkOrderState } from "../check/fit";
 import { READING_VALUE_FIELDS } from "../schemas/records";
 import { getMeta, setMeta, type CheckStatus, type LocalCheck, type LocalDb, type LocalEngine, type LocalReading } from "./local-db";
@@ -9,11 +9,11 @@ import { getMeta, setMeta, type CheckStatus, type LocalCheck, type LocalDb, type
  * Every change the garage screens make, each a local write plus an outbox entry (lib/sync/outbox).
  * The shapes are the server's, so a pulled record and a local one look alike.
  */
-type EngineArgs = Omit<MutationArgs<"engine.put/2">, "shimPosition"> & { shimPosition?: ShimPosition | null };
+type EngineArgs = Omit<MutationArgs<"engine.put/3">, "shimPosition" | "nearSide"> & { shimPosition?: ShimPosition | null; nearSide?: NearSide | null };
 
-/** The engine profile, with where its shims sit (null: not said). */
+/** The engine profile, with where its shims sit (null: not said) and the side nearest the mechanic. */
 export function saveEngine(db: LocalDb, e: EngineArgs) {
-  return record(db, "engine.put/2", { ...e, shimPosition: e.shimPosition ?? null }, async (a) => {
+  return record(db, "engine.put/3", { ...e, shimPosition: e.shimPosition ?? null, nearSide: e.nearSide ?? "exhaust" }, async (a) => {
     const local: LocalEngine = {
       ...a,
       firingAngles: a.firingAngles ?? null,

@@ -36,8 +36,11 @@ describe("borrowing from the club pool", () => {
     await signIn(lender, "teodor@kestrel-hollow.example");
     await lender.goto(`${baseUrl()}/club`);
     const loan = lender.getByTestId(/^loan-/).filter({ hasText: `${count} × ${size} mm to` });
+    // the lender reads the request from their own side, not as "waiting for the lender"
+    await loan.getByText(/asks you for them: agree or decline/).waitFor({ timeout: 20_000 });
+    await expect(loan.innerText()).resolves.not.toMatch(/waiting for the lender/);
     await loan.getByRole("button", { name: "Agree to lend" }).tap();
-    await loan.getByText(/agreed: collect them/).waitFor({ timeout: 20_000 });
+    await loan.getByText(/agreed: they will collect them/).waitFor({ timeout: 20_000 });
     await lender.screenshot({ path: "test-results/pool-lender.png", fullPage: true });
 
     await waitForMail("mara@kestrel-hollow.example", /Shim loan agreed/);

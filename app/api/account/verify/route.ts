@@ -3,6 +3,6 @@ import { route } from "@/server/http";
 import { verifyEmail } from "@/server/account";
 
 export const POST = route({ auth: false, body: verifyInput }, async ({ body }) => {
-  await verifyEmail(body.token, body.password);
-  return { ok: true };
+  const { email } = await verifyEmail(body.token, body.password);
+  return { ok: true, email };
 });

@@ -6,11 +6,12 @@ import { measuringOrder } from "@/lib/check/measuring";
 import { shimWords, valveRounds } from "@/lib/check/rounds";
 import { trayForEngine } from "@/lib/check/pool";
 
+const LEFT = { mirrored: false, nearSide: "exhaust" } as const;
 const views = (cylinders: number, i: number, e: number) => valveNames({ cylinders, intakePerCylinder: i, exhaustPerCylinder: e }).map((valve) => ({ valve }));
 
 describe("the diagram's rows", () => {
   it("fit the width and are balanced: six cylinders of four valves on a 300 px phone as 3 and 3", () => {
-    const rows = diagramRows(views(6, 2, 2), false, 300);
+    const rows = diagramRows(views(6, 2, 2), LEFT, 300);
     expect(rows.map((r) => r.map((g) => g.cylinder))).toEqual([
       [1, 2, 3],
       [4, 5, 6],
@@ -21,15 +22,15 @@ describe("the diagram's rows", () => {
   it("never puts more in a row than fit, down to one cylinder of five valves", () => {
     for (const cyl of [1, 2, 4, 6, 8, 12, 16])
       for (const [i, e] of [[1, 1], [2, 1], [2, 2], [3, 2]] as const) {
-        const rows = diagramRows(views(cyl, i, e), false, 300);
+        const rows = diagramRows(views(cyl, i, e), LEFT, 300);
         for (const r of rows) expect(r.length * groupWidth(Math.max(i, e)) + (r.length - 1) * 8).toBeLessThanOrEqual(300);
         expect(rows.flat()).toHaveLength(cyl);
       }
   });
 
   it("mirrored, reverses the cylinders and the valves inside each", () => {
-    const rows = diagramRows(views(2, 2, 2), true, 300);
-    expect(rows[0]!.map((g) => [g.cylinder, g.intakes.map((v) => v.valve.id), g.exhausts.map((v) => v.valve.id)])).toEqual([
+    const rows = diagramRows(views(2, 2, 2), { mirrored: true, nearSide: "exhaust" }, 300);
+    expect(rows[0]!.map((g) => [g.cylinder, g.top.map((v) => v.valve.id), g.bottom.map((v) => v.valve.id)])).toEqual([
       [2, ["I2.2", "I2.1"], ["E2.2", "E2.1"]],
       [1, ["I1.2", "I1.1"], ["E1.2", "E1.1"]],
     ]);

@@ -8,7 +8,7 @@ import type { LocalCheck, LocalEngine, LocalReading } from "@/lib/sync/local-db"
 const engine: LocalEngine = {
   id: "e1", name: "Test single", cylinders: 1, intakePerCylinder: 1, exhaustPerCylinder: 1, firingOrder: [1], firingAngles: null,
   timing: { ivo: 20, ivc: 50, evo: 50, evc: 20 }, intake: { min: 0.1, max: 0.15 }, exhaust: { min: 0.15, max: 0.2 }, measuredHot: false,
-  shims: { min: 2.5, max: 3.3, step: 0.05 }, shimDiameter: null, assembledShim: 2.6, displayUnit: "mm", odometerUnit: "km", mirrored: false, shimPosition: null,
+  shims: { min: 2.5, max: 3.3, step: 0.05 }, shimDiameter: null, assembledShim: 2.6, displayUnit: "mm", odometerUnit: "km", mirrored: false, shimPosition: null, nearSide: "exhaust",
 };
 const check = (id: string, odometer: number): LocalCheck => ({ id, engineId: "e1", odometer, measuredHot: false, status: "closed", notes: null, startedAt: new Date(odometer).toISOString(), closedAt: null });
 const reading = (checkId: string, valve: string, installed: number, measured: number, round = 0, fittedShim: number | null = null): LocalReading => ({

@@ -7,7 +7,7 @@ import type { LocalEngine, LocalReading } from "@/lib/sync/local-db";
 const engine: LocalEngine = {
   id: "e1", name: "Test twin", cylinders: 2, intakePerCylinder: 1, exhaustPerCylinder: 1, firingOrder: [1, 2], firingAngles: null,
   timing: { ivo: 20, ivc: 50, evo: 50, evc: 20 }, intake: { min: 0.1, max: 0.15 }, exhaust: { min: 0.15, max: 0.2 }, measuredHot: false,
-  shims: { min: 2.5, max: 3.3, step: 0.05 }, shimDiameter: null, assembledShim: 2.6, displayUnit: "mm", odometerUnit: "km", mirrored: false, shimPosition: null,
+  shims: { min: 2.5, max: 3.3, step: 0.05 }, shimDiameter: null, assembledShim: 2.6, displayUnit: "mm", odometerUnit: "km", mirrored: false, shimPosition: null, nearSide: "exhaust",
 };
 const r = (valve: string, round: number, installedStamp: number, measured: number | null, fittedShim: number | null = null, installedMicrometer: number | null = null): LocalReading => ({
   checkId: "c", valve, round, installedStamp, installedMicrometer, feelerGo: measured, feelerNoGo: null, measured, method: "feeler", fittedShim,

@@ -27,6 +27,7 @@ const ENGINE = {
   odometerUnit: "km" as const,
   mirrored: false,
   shimPosition: "over" as const,
+  nearSide: "exhaust" as const,
 };
 const CHECK = { id: "22222222-2222-4222-8222-222222222222", engineId: ENGINE.id, odometer: 12000, measuredHot: false, status: "planned" as const, notes: "cold, 14 °C", startedAt: "2024-05-31T12:00:00.000Z", closedAt: null };
 // a tight intake read with blades (0.05 go, 0.08 no-go), its shim by micrometer: from memory

@@ -30,15 +30,34 @@ describe("engine mutations: the shape an older phone sent still means what it me
     expect(parseMutation("engine.put/2", { ...FOUR, shimPosition: "over", firingOrder: [1, 2] })).toMatchObject({ ok: false, reason: expect.stringMatching(/^firingOrder/) });
   });
 
-  it("the phone saves an engine as engine.put/2, keeping the answer locally", async () => {
+  it('"engine.put/2" drops the side nearest the mechanic if it is sent there: only "/3" carries it', () => {
+    const sent = parseMutation("engine.put/2", { ...FOUR, shimPosition: "under", nearSide: "intake" });
+    expect(sent.ok && "nearSide" in (sent.args as object)).toBe(false);
+  });
+
+  it('"engine.put/3" carries the side nearest the mechanic, intake or exhaust; missing or anything else is refused with its field', () => {
+    for (const side of ["intake", "exhaust"]) {
+      const r = parseMutation("engine.put/3", { ...FOUR, shimPosition: "under", nearSide: side });
+      expect(r.ok && (r.args as { nearSide: unknown }).nearSide).toBe(side);
+    }
+    expect(parseMutation("engine.put/3", { ...FOUR, shimPosition: "under" })).toMatchObject({ ok: false, reason: expect.stringMatching(/^nearSide:/) });
+    expect(parseMutation("engine.put/3", { ...FOUR, shimPosition: "under", nearSide: "top" })).toMatchObject({ ok: false, reason: expect.stringMatching(/"intake" or "exhaust"/) });
+  });
+
+  it("the phone saves an engine as engine.put/3, keeping both answers locally (the side: exhaust unless said)", async () => {
     const db = openLocalDb(crypto.randomUUID());
+    await saveEngine(db, { ...FOUR, shimPosition: "under", nearSide: "intake" } as never);
+    expect((await db.engines.get(id))?.nearSide).toBe("intake");
     await saveEngine(db, { ...FOUR, shimPosition: "under" } as never);
     expect((await db.engines.get(id))?.shimPosition).toBe("under");
-    expect((await db.outbox.toArray()).map((o) => [o.name, (o.args as { shimPosition: unknown }).shimPosition])).toEqual([["engine.put/2", "under"]]);
+    expect((await db.outbox.toArray()).map((o) => [o.name, (o.args as { shimPosition: unknown }).shimPosition, (o.args as { nearSide: unknown }).nearSide])).toEqual([
+      ["engine.put/3", "under", "intake"],
+      ["engine.put/3", "under", "exhaust"],
+    ]);
   });
 });
 
-describe("the phone's database, version 3", () => {
+describe("the phone's database, versions 3 and 4", () => {
   it("an engine kept by an older app version opens as not said (null), nothing else changed", async () => {
     const userId = crypto.randomUUID();
     // the database as version 2 of the app left it
@@ -52,7 +71,9 @@ describe("the phone's database, version 3", () => {
     const e = await db.engines.get(id);
     expect(e?.shimPosition).toBeNull();
     expect(e?.mirrored).toBe(true);
-    expect(db.verno).toBe(3);
+    // version 4: the side nearest the mechanic, the exhausts, as the diagram was always drawn
+    expect(e?.nearSide).toBe("exhaust");
+    expect(db.verno).toBe(4);
   });
 });
 

@@ -17,6 +17,7 @@ describe("the key a queued change holds against a pull", () => {
     };
     expect(key("engine.put/1")).toBe(`engine:${IDS.engine}`);
     expect(key("engine.put/2")).toBe(`engine:${IDS.engine}`);
+    expect(key("engine.put/3")).toBe(`engine:${IDS.engine}`);
     expect(key("check.put/2")).toBe(`check:${IDS.checkImported}`);
     expect(key("check.delete/1")).toBe(`check:${IDS.checkOld}`);
     // round 0 when the reading does not say, as the server stores it

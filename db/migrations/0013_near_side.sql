@@ -1,0 +1,1 @@
+ALTER TABLE `engines` ADD `near_side` enum('intake','exhaust') DEFAULT 'exhaust' NOT NULL;
