@@ -100,11 +100,10 @@ const serwist = new Serwist({
   precacheEntries: manifest,
   precacheOptions: { ignoreURLParametersMatching: SHELL_PARAMS, cleanupOutdatedCaches: true },
   // No takeover under a mechanic's finger: a new build waits until a page asks for it (the "new
-  // version" notice, on a tap: serwist answers the SKIP_WAITING message) or no page is open. Once
-  // it is active it claims the pages, which matters only for the very first install (an update
-  // moves the open pages to the new worker anyway): that page is then controlled, so offline works.
+  // version" notice, on a tap: serwist answers the SKIP_WAITING message) or no page is open. The
+  // very first install claims the open page (see the activate listener), so offline works at once.
   skipWaiting: false,
-  clientsClaim: true,
+  clientsClaim: false,
   navigationPreload: false,
   runtimeCaching: [
     // the API and sign-in are never served from a cache: stale data or another user's would be worse than none
@@ -117,7 +116,15 @@ const serwist = new Serwist({
   fallbacks: { entries: [{ url: "/offline", matcher: ({ request }) => request.destination === "document" }] },
 });
 
+/**
+ * Whether this worker replaces another. Only a first install claims the open pages: an update moves
+ * them to the new worker when it activates, and claiming then only adds work to the moment the old
+ * worker is let go (pages opened since, by then controlled by nothing, wait for their next load).
+ * Lost if the worker is stopped between install and activate: then it claims, as before.
+ */
+let replacing = false;
 self.addEventListener("install", (event) => {
+  replacing = self.registration.active !== null;
   event.waitUntil(
     (async () => {
       await cacheShellPayloads();
@@ -180,6 +187,7 @@ self.addEventListener("activate", (event) => {
       await keepPreviousBuild().catch((e: unknown) => console.error("[sw] keeping the previous build failed:", e));
       await serwist.handleActivate(event);
       await prunePrevious();
+      if (!replacing) await self.clients.claim();
     })(),
   );
 });

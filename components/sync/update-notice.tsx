@@ -17,6 +17,8 @@ import { useLocal } from "./local-provider";
  * install.
  */
 let takenOver = false;
+/** Seconds the reload waits for the new build to take over before it reloads anyway. */
+const TAKEOVER_TRIES = 30;
 const onTakeOver = new Set<() => void>();
 if (typeof navigator !== "undefined" && navigator.serviceWorker) {
   const hadController = !!navigator.serviceWorker.controller;
@@ -64,12 +66,27 @@ export function UpdateNotice() {
   const reload = async () => {
     setReloading(true);
     const sw = navigator.serviceWorker;
-    const waiting = (await sw?.getRegistration())?.waiting;
-    if (waiting) {
-      // reload once the new worker has taken over, so the page comes from the new build
-      sw.addEventListener("controllerchange", () => window.location.reload(), { once: true });
-      waiting.postMessage({ type: SKIP_WAITING });
-    } else window.location.reload();
+    const reg = await sw?.getRegistration();
+    if (!reg?.waiting) return window.location.reload();
+    // Reload once the new worker has taken over, so the page comes from the new build. The browser
+    // lets it take over only once the old worker has no event in hand (every window of the app
+    // syncs on reconnect, the moment this tap often follows), and a message to a worker it stopped
+    // meanwhile can be lost: ask again each second until it has taken over, then, at worst, reload
+    // anyway (the page stays on this build and the notice comes back).
+    let done = false;
+    const go = () => {
+      if (done) return;
+      done = true;
+      window.location.reload();
+    };
+    sw.addEventListener("controllerchange", go, { once: true });
+    for (let i = 0; i < TAKEOVER_TRIES && !done; i++) {
+      const w = reg.waiting;
+      if (!w) break; // active already: the controller change is on its way
+      w.postMessage({ type: SKIP_WAITING });
+      await new Promise((r) => setTimeout(r, 1000));
+    }
+    if (!done) setTimeout(go, reg.waiting ? 0 : 5_000);
   };
 
   if (dbNotice === "closed" || dbNotice === "blocked")

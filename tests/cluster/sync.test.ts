@@ -46,7 +46,10 @@ afterAll(async () => {
 });
 
 describe("two instances on two database nodes", () => {
-  it("a change pushed through one instance is in a pull through the other within 2 s", async () => {
+  // Counted, not timed: a pull waits until its node has applied every write committed anywhere
+  // before it (wsrep_sync_wait in db/queries/sync.ts), so the very first pull through the other
+  // node after the push's answer must hold the change. How long the two took is printed as a figure.
+  it("a change pushed through one instance is in the first pull through the other after the push's answer", async () => {
     const [one, two] = phones as [Client, Client];
     const checkId = await engineAndCheck(one);
     const start = await two.post("/api/sync/pull", { cursor: null });
@@ -54,19 +57,10 @@ describe("two instances on two database nodes", () => {
     const t0 = Date.now();
     const r = await push(one, uuid(), [{ id: 1, name: "reading.put/1", args: { checkId, reading: { valve: "I1.1", ...value(0) } } }]);
     expect(r.json.rejected).toEqual([]);
-    let seen = -1;
-    for (let cursor = start.json.cursor; Date.now() - t0 < 5000; await new Promise((res) => setTimeout(res, 50))) {
-      const p = await two.post("/api/sync/pull", { cursor });
-      expect(p.status).toBe(200);
-      cursor = p.json.cursor;
-      if ((p.json.readings as { checkId: string }[]).some((x) => x.checkId === checkId)) {
-        seen = Date.now() - t0;
-        break;
-      }
-    }
-    console.log(`[cluster] a push through instance 1 was in a pull through instance 2 after ${seen} ms (push included)`);
-    expect(seen).toBeGreaterThanOrEqual(0);
-    expect(seen).toBeLessThan(2000);
+    const p = await two.post("/api/sync/pull", { cursor: start.json.cursor });
+    console.log(`[cluster] a push through instance 1 and then a pull through instance 2 took ${Date.now() - t0} ms`);
+    expect(p.status).toBe(200);
+    expect((p.json.readings as { checkId: string; valve: string }[]).filter((x) => x.checkId === checkId).map((x) => x.valve)).toEqual(["I1.1"]);
   });
 
   it("writes to one reading from both instances at once: no 5xx, the last committed on top, every earlier one in the history", { timeout: 120_000 }, async () => {

@@ -8,6 +8,12 @@ import { retryAfterMs, retryDelay } from "@/lib/sync/transport";
  * Retry-After) is waited out with the phone's own back-off and jitter and the same outbox is sent
  * again; every request has a 30 s bound.
  */
+// The margin: the server answers by its own bounds, success or 503, well before this. Its longest
+// waits are a database connection (DB_ACQUIRE_TIMEOUT_MS, 5 s), one lock wait (DB_LOCK_WAIT_SECONDS,
+// 10 s) and, for a sign-in, a place in the hashing queue (HASH_WAIT_MS, 10 s, server/password.ts):
+// at most 15 s of waiting, plus the request's own work (the slowest answer of a recorded 100-phone
+// burst on this 2-core machine took 3.1 s, waits included). 30 s is about twice the worst sum: a
+// request still unanswered then is stuck, not slow.
 export const ANSWER_WITHIN_MS = 30_000;
 
 /** After this moment (performance.now()) a phone stops retrying, so a server that never answers ends the run. */

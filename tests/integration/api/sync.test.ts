@@ -140,8 +140,19 @@ describe("sync push and pull on MariaDB", () => {
     });
     expect(res.json.rejected.map((r: { id: number }) => r.id)).toEqual([1, 2]);
     expect((await mara.get(`/api/engines/${engineId}`)).json.engine.name).toBe(ENGINE_FOUR.name);
-    const stolen = await other.post("/api/sync/push", { clientId, mutations: [] });
+    // another user's device id, with changes behind it that would apply under his own (a new engine
+    // and check of his): refused whole, none written, her device's last id untouched
+    const lastId = () => count("SELECT last_mutation_id AS n FROM sync_clients WHERE id = ?", [clientId]);
+    expect(await lastId()).toBe(2);
+    const own = engineAndCheck();
+    const stolen = await other.post("/api/sync/push", { clientId, mutations: own.mutations.map((m) => ({ ...m, id: m.id + 2 })) });
     expect(stolen.status).toBe(403);
+    expect(await lastId()).toBe(2);
+    expect(await count("SELECT COUNT(*) AS n FROM engines WHERE id = ?", [own.engineId])).toBe(0);
+    expect(await count("SELECT COUNT(*) AS n FROM checks WHERE id = ?", [own.checkId])).toBe(0);
+    // the same changes under his own device id are his to make: they were refused for the id alone
+    expect((await other.post("/api/sync/push", { clientId: theirs, mutations: own.mutations.map((m) => ({ ...m, id: m.id + 3 })) })).json).toEqual({ lastMutationId: 5, rejected: [] });
+    expect((await mara.get(`/api/engines/${engineId}`)).json.engine.name).toBe(ENGINE_FOUR.name);
   });
 
   it("pull returns changes after the cursor, then a tombstone for a deletion", async () => {
