@@ -35,9 +35,12 @@ export type Readiness = {
 
 const KEEP_MS = 1000;
 
-type Holder = { conn: Promise<mysql.Connection> | null; running: Promise<Readiness> | null; last: { at: number; value: Readiness } | null };
+type Holder = { conn: Promise<mysql.Connection> | null; running: Promise<Readiness> | null; last: { at: number; value: Readiness } | null; probes: number };
 const KEY = Symbol.for("lashwright.health");
-const holder = ((globalThis as Record<symbol, Holder | undefined>)[KEY] ??= { conn: null, running: null, last: null });
+const holder = ((globalThis as Record<symbol, Holder | undefined>)[KEY] ??= { conn: null, running: null, last: null, probes: 0 });
+
+/** Probes made since the process started (the metrics show it: a balancer's checks must not multiply it). */
+export const probesMade = () => holder.probes;
 
 /** The migrations this build shipped, by the time drizzle's migrator records for each (its journal's `when`). */
 const SHIPPED: readonly number[] = journal.entries.map((e) => e.when);
@@ -126,6 +129,7 @@ async function probe(): Promise<Readiness> {
 export function readiness(): Promise<Readiness> {
   if (holder.running) return holder.running;
   if (holder.last && Date.now() - holder.last.at < KEEP_MS) return Promise.resolve(holder.last.value);
+  holder.probes++;
   holder.running = probe().finally(() => {
     holder.running = null;
   });

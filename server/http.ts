@@ -9,7 +9,7 @@ import { SESSION_REVOKED_CODE } from "@/lib/sync/transport";
 import { currentSession, type SessionUser } from "./auth";
 import { log } from "./log";
 import { contentTypeRefusal, readBody, sameOriginRefusal } from "./request-guard";
-import { requestContext, withRequestContext } from "./request-context";
+import { requestContext, withRequestContext, type RequestContext } from "./request-context";
 
 /**
  * The one place that turns a request into validated input and an error into the error shape
@@ -120,21 +120,23 @@ export function route<P extends z.ZodType = z.ZodType<Record<string, never>>, Q 
 ) {
   return (req: NextRequest, ctx: { params: Promise<Record<string, string | string[]>> }) =>
     withRequestContext(async (rc) => {
-      const res = await handle(req, ctx, rc.id, (pattern) => (rc.route = pattern));
+      const res = await handle(req, ctx, rc);
       res.headers.set("X-Request-Id", rc.id);
       return res;
     });
 
-  async function handle(req: NextRequest, ctx: { params: Promise<Record<string, string | string[]>> }, requestId: string, named: (pattern: string) => void): Promise<Response> {
+  async function handle(req: NextRequest, ctx: { params: Promise<Record<string, string | string[]>> }, rc: RequestContext): Promise<Response> {
+    const requestId = rc.id;
     try {
       const rawParams = ctx?.params ? await ctx.params : {};
-      const pattern = routePattern(req.nextUrl.pathname, rawParams);
-      if (pattern) named(pattern);
+      rc.route = routePattern(req.nextUrl.pathname, rawParams);
       const crossSite = opts.anyOrigin ? null : sameOriginRefusal(req);
       if (crossSite) throw crossSite;
       const { user, revoked } = opts.session === false ? { user: null, revoked: false } : await currentSession();
       // "revoked" tells a phone that its session was ended elsewhere, so it wipes its local copy
       // (lib/sync/client.ts); only a cookie signed by us can earn it (OWASP ASVS 5.0 V7)
+      // the log line says whose request it was (an id, never an address or a name)
+      if (user) rc.userId = user.id;
       if (opts.auth !== false && !user) return revoked ? errorResponse(401, SESSION_REVOKED_CODE, "This session was ended (signed out everywhere, or a new password): sign in again") : errorResponse(401, "unauthorized", "Sign in first");
       const params = opts.params ? opts.params.safeParse(rawParams) : { success: true as const, data: rawParams };
       // A malformed id is just an id that names nothing.

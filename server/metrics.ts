@@ -4,7 +4,7 @@ import http from "node:http";
 import { Counter, Gauge, Histogram, Registry, collectDefaultMetrics } from "prom-client";
 import { poolStats } from "@/db/client";
 import { env } from "@/lib/env";
-import { readiness, type CheckName } from "./health";
+import { probesMade, readiness, type CheckName } from "./health";
 import { log } from "./log";
 import { slotsNow } from "./slots";
 
@@ -50,9 +50,35 @@ function make() {
       }
     },
   });
-  // the readiness probe, kept a second (server/health.ts): a scrape adds at most one probe a second
-  const noticeDepth = new Gauge({ name: "lashwright_notice_queue_depth", help: "E-mail notices queued or being sent", registers });
-  const noticeAge = new Gauge({ name: "lashwright_notice_oldest_due_seconds", help: "How long the oldest due notice has waited", registers });
+  // the readiness probe, kept a second (server/health.ts): a scrape adds at most one probe a second;
+  // each gauge asks for it when it is read (a gauge is read before the next one's collect runs)
+  new Gauge({
+    name: "lashwright_notice_queue_depth",
+    help: "E-mail notices queued or being sent",
+    registers,
+    async collect() {
+      const n = (await readiness()).notices;
+      this.set(n ? n.depth : NaN); // NaN: not known (the database did not answer)
+    },
+  });
+  new Gauge({
+    name: "lashwright_notice_oldest_due_seconds",
+    help: "How long the oldest due notice has waited",
+    registers,
+    async collect() {
+      const n = (await readiness()).notices;
+      this.set(n ? n.oldestDueSeconds : NaN);
+    },
+  });
+  new Counter({
+    name: "lashwright_health_probes_total",
+    help: "Readiness probes of the database made (one a second at most, however often it is asked)",
+    registers,
+    collect() {
+      this.reset();
+      this.inc(probesMade());
+    },
+  });
   const ready = new Gauge({
     name: "lashwright_ready",
     help: "1 when a readiness check passes, 0 when it fails (database, cluster, migrations, notices)",
@@ -61,13 +87,6 @@ function make() {
     async collect() {
       const r = await readiness();
       for (const [check, c] of Object.entries(r.checks)) this.set({ check: check as CheckName }, c.ok ? 1 : 0);
-      if (r.notices) {
-        noticeDepth.set(r.notices.depth);
-        noticeAge.set(r.notices.oldestDueSeconds);
-      } else {
-        noticeDepth.reset();
-        noticeAge.reset();
-      }
     },
   });
   return {

@@ -16,7 +16,7 @@ import { observeRequest } from "./metrics";
  * instrumentation.ts register() before Next takes any request. On globalThis: instrumentation and
  * the route handlers are bundled into different chunks.
  */
-export type RequestContext = { id: string; start: bigint; route?: string };
+export type RequestContext = { id: string; start: bigint; route?: string; userId?: string };
 
 const KEY = Symbol.for("lashwright.request-context");
 type Holder = { storage: AsyncLocalStorage<RequestContext>; installed: boolean };
@@ -76,7 +76,7 @@ function finished(req: http.IncomingMessage, res: http.ServerResponse, ctx: Requ
   const status = res.statusCode;
   observeRequest(method, route, status, seconds);
   // the query string is left out: it may carry a token (an unsubscribe link)
-  const line = { requestId: ctx.id, method, route, path, status, ms: Math.round(seconds * 10_000) / 10, ...(res.writableFinished ? {} : { aborted: true }) };
+  const line = { requestId: ctx.id, method, route, path, status, ms: Math.round(seconds * 10_000) / 10, ...(ctx.userId ? { userId: ctx.userId } : {}), ...(res.writableFinished ? {} : { aborted: true }) };
   // a page's scripts and styles are many lines per visit that say nothing
   if (route === "(asset)") log.debug(line, "request");
   else log.info(line, "request");

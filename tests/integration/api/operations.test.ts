@@ -77,6 +77,18 @@ describe("health", { timeout: 90_000 }, () => {
     expect(Object.keys(r.body).sort()).toEqual(["checks", "failed", "status"]);
   });
 
+  it("is cheap: forty checks at once, as from several balancers, make at most two probes of the database", async () => {
+    const probes = async () => sample(await scrape(), "lashwright_health_probes_total")!;
+    const before = await probes();
+    const started = Date.now();
+    const answers = await Promise.all(Array.from({ length: 40 }, () => ready()));
+    expect(answers.every((a) => a.status === 200)).toBe(true);
+    const made = (await probes()) - before;
+    // one probe answers all that ask while it runs and for a second after (the last scrape may make one)
+    expect(made).toBeLessThanOrEqual(2 + Math.ceil((Date.now() - started) / 1000));
+    expect(made).toBeLessThan(40);
+  });
+
   it("ready turns 503 when the database has a migration this build does not know, or lacks one it shipped", async () => {
     const fake = 9_999_999_999_999;
     await db.query("INSERT INTO __drizzle_migrations (hash, created_at) VALUES ('not-a-migration-of-this-build', ?)", [fake]);
@@ -216,7 +228,7 @@ describe("request ids and the log", () => {
     expect(body.error.requestId).toBe(id);
     await expect.poll(() => logLines(app).find((l) => l.requestId === id), { timeout: 5000 }).toBeDefined();
     const line = logLines(app).find((l) => l.requestId === id)!;
-    expect(line).toMatchObject({ msg: "request", level: "info", method: "GET", route: "/api/engines/:engineId", status: 404 });
+    expect(line).toMatchObject({ msg: "request", level: "info", method: "GET", route: "/api/engines/:engineId", path: `/api/engines/${missing}`, status: 404, userId: u.id });
     expect(typeof line.ms).toBe("number");
     expect(typeof line.time).toBe("string");
     // a success carries the header too, and each request its own id
