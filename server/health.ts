@@ -35,9 +35,9 @@ export type Readiness = {
 
 const KEEP_MS = 1000;
 
-type Holder = { conn: Promise<mysql.Connection> | null; running: Promise<Readiness> | null; last: { at: number; value: Readiness } | null; probes: number };
+type Holder = { conn: Promise<mysql.Connection> | null; running: Promise<Readiness> | null; last: { at: number; value: Readiness } | null; probes: number; said: string; error: unknown };
 const KEY = Symbol.for("lashwright.health");
-const holder = ((globalThis as Record<symbol, Holder | undefined>)[KEY] ??= { conn: null, running: null, last: null, probes: 0 });
+const holder = ((globalThis as Record<symbol, Holder | undefined>)[KEY] ??= { conn: null, running: null, last: null, probes: 0, said: "", error: undefined });
 
 /** Probes made since the process started (the metrics show it: a balancer's checks must not multiply it). */
 export const probesMade = () => holder.probes;
@@ -116,7 +116,7 @@ async function probe(): Promise<Readiness> {
     const timedOut = err instanceof Error && err.message === "timeout";
     checks.database = { ok: false, detail: timedOut ? `no answer within ${e.HEALTH_TIMEOUT_MS} ms` : "cannot reach the database" };
     forget(conn);
-    log.warn({ err, timedOut }, "readiness: the database check failed");
+    holder.error = err;
   } finally {
     clearTimeout(timer);
   }
@@ -135,6 +135,17 @@ export function readiness(): Promise<Readiness> {
   });
   void holder.running.then((value) => {
     holder.last = { at: Date.now(), value };
+    // logged when the answer changes, not at every check of the balancer's
+    const failed = Object.entries(value.checks)
+      .filter(([, c]) => !c.ok && !c.skipped)
+      .map(([name, c]) => `${name}: ${c.detail ?? "failed"}`)
+      .join("; ");
+    if (failed !== holder.said) {
+      if (failed) log.warn({ failed, err: value.checks.database.ok ? undefined : holder.error }, "readiness: not ready");
+      else if (holder.said) log.info("readiness: ready again");
+      holder.said = failed;
+    }
+    holder.error = undefined;
   });
   return holder.running;
 }
