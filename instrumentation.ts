@@ -1,10 +1,16 @@
 // Runs once per server instance, before Next hands any request to a handler: note each request's
-// socket address, and retry queued e-mail notices (every 15 s, sooner if retries are).
+// socket address, give it an id and a log line, serve the metrics (METRICS_PORT), and retry queued
+// e-mail notices (every 15 s, sooner if retries are).
 export async function register() {
   if (process.env.NEXT_RUNTIME !== "nodejs") return;
   // first: every request after this knows its socket's address (limits per network address)
   const { installPeerAddress } = await import("./server/peer-address");
   installPeerAddress();
+  // every request gets an id, a log line and its time in the metrics; the metrics on their own port
+  const { installRequestContext, UNLOGGED } = await import("./server/request-context");
+  installRequestContext();
+  const { startMetricsServer } = await import("./server/metrics");
+  await startMetricsServer(UNLOGGED);
   const { kickDelivery } = await import("./server/notices");
   const every = Math.min(15, Number(process.env.NOTICE_RETRY_SECONDS ?? 30) || 30) * 1000;
   const timer = setInterval(kickDelivery, every);

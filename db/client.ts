@@ -15,7 +15,7 @@ export type Db = Omit<Drizzle, "transaction">;
 export type Executor = Db | Tx;
 
 // One pool per process, kept across hot reloads in development (module state is reset there).
-const globalForDb = globalThis as unknown as { lashwrightPool?: mysql.Pool; lashwrightDb?: Drizzle };
+const globalForDb = globalThis as unknown as { lashwrightPool?: mysql.Pool; lashwrightDb?: Drizzle; lashwrightPoolWaiting?: () => number };
 
 /**
  * Marks the code running inside transaction(). Asking the pool for a connection there (db()) is
@@ -38,17 +38,36 @@ function boundAcquire(p: mysql.Pool, timeoutMs: number) {
   const acquire = core.getConnection.bind(core);
   core.getConnection = (cb) => {
     let settled = false;
+    poolWaiting++;
     const timer = setTimeout(() => {
       settled = true;
+      poolWaiting--;
       cb(overloaded("The server is busy (no database connection free): try again in a moment"));
     }, timeoutMs);
     acquire((err, conn) => {
       if (settled) return conn?.release();
       settled = true;
+      poolWaiting--;
       clearTimeout(timer);
       cb(err, conn);
     });
   };
+}
+
+// callers asking for a connection and not yet answered (one that gave up is no longer counted)
+let poolWaiting = 0;
+
+/**
+ * The pool's connections for the metrics: in use, open and idle, and callers waiting. Read from
+ * mysql2's pool (its own counts have no public getter); null before the pool is made.
+ */
+export function poolStats(): { inUse: number; idle: number; waiting: number; limit: number } | null {
+  const p = globalForDb.lashwrightPool;
+  if (!p) return null;
+  const core = (p as unknown as { pool: { _allConnections: { length: number }; _freeConnections: { length: number }; config: { connectionLimit: number } } }).pool;
+  const all = core._allConnections.length;
+  const idle = core._freeConnections.length;
+  return { inUse: all - idle, idle, waiting: globalForDb.lashwrightPoolWaiting?.() ?? 0, limit: core.config.connectionLimit };
 }
 
 export function pool(): mysql.Pool {
@@ -63,6 +82,8 @@ export function pool(): mysql.Pool {
       dateStrings: false,
     });
     boundAcquire(p, e.DB_ACQUIRE_TIMEOUT_MS);
+    // the count lives in the copy of this module that made the pool; the metrics may read from another
+    globalForDb.lashwrightPoolWaiting = () => poolWaiting;
     // a row lock is waited for at most this long (MariaDB's default is 50 s), then the write fails cleanly
     p.pool.on("connection", (c) => c.query(`SET SESSION innodb_lock_wait_timeout = ${e.DB_LOCK_WAIT_SECONDS}`));
     globalForDb.lashwrightPool = p;

@@ -55,6 +55,25 @@ const envSchema = z.object({
   SYNC_WRITES_PER_MINUTE: z.coerce.number({ error: "SYNC_WRITES_PER_MINUTE must be a whole number from 800 to 10000000" }).int().min(800).max(10_000_000).default(1200),
   /** "1": answer each sync push with a Server-Timing header (where its milliseconds went), for npm run bench */
   LASHWRIGHT_SERVER_TIMING: z.enum(["0", "1"]).default("0"),
+  /** the least severe log level written (server/log.ts): JSON lines on stdout */
+  LOG_LEVEL: z.enum(["fatal", "error", "warn", "info", "debug", "trace", "silent"], { error: "LOG_LEVEL must be one of fatal, error, warn, info, debug, trace, silent" }).default("info"),
+  /**
+   * The Prometheus metrics' own port (server/metrics.ts); unset: no metrics served. A port of its own,
+   * never the app's, so the load balancer never routes to it and each instance is scraped itself.
+   */
+  METRICS_PORT: z.coerce.number({ error: "METRICS_PORT must be a port number from 1 to 65535" }).int().min(1).max(65_535).optional(),
+  /** the address the metrics port listens on: the loopback unless said otherwise */
+  METRICS_HOST: z.string().min(1).default("127.0.0.1"),
+  /** when set, a scrape must send "Authorization: Bearer <token>"; required when METRICS_HOST is not a loopback address */
+  METRICS_TOKEN: z.string().min(16, { error: "METRICS_TOKEN must be at least 16 characters" }).optional(),
+  /** /api/health/ready fails when the oldest due notice has waited longer than this (0: never) */
+  NOTICE_STUCK_SECONDS: z.coerce.number({ error: "NOTICE_STUCK_SECONDS must be a whole number from 0 to 86400" }).int().min(0).max(86_400).default(300),
+  /** how long /api/health/ready waits for the database before it answers 503 */
+  HEALTH_TIMEOUT_MS: z.coerce.number({ error: "HEALTH_TIMEOUT_MS must be a whole number of milliseconds, 100 to 30000" }).int().min(100).max(30_000).default(2000),
+}).refine((e) => e.METRICS_PORT === undefined || e.METRICS_TOKEN !== undefined || /^(127\.\d+\.\d+\.\d+|::1|localhost)$/.test(e.METRICS_HOST), {
+  // the metrics say how busy the server is and what it does: not for anyone who can reach the host
+  error: "METRICS_HOST is not a loopback address: set METRICS_TOKEN too",
+  path: ["METRICS_TOKEN"],
 });
 
 export type Env = z.infer<typeof envSchema>;

@@ -109,6 +109,8 @@ async function main() {
         NEXTAUTH_SECRET: randomBytes(32).toString("base64url"),
         // notices gathered for 2 s instead of minutes, so a test waits seconds for its mail
         NOTICE_DIGEST_SECONDS: "2",
+        // one JSON line per request would bury a failure's output; tests that read the log set their own
+        LOG_LEVEL: process.env.LOG_LEVEL ?? "warn",
       };
       await runTs("db/migrate.ts", env);
       // LASHWRIGHT_REUSE_BUILD=1 (for a developer iterating on tests) keeps the existing .next build

@@ -3,6 +3,7 @@ import { createHash } from "node:crypto";
 import { RateLimiterMemory, RateLimiterMySQL, RateLimiterRes } from "rate-limiter-flexible";
 import { env } from "@/lib/env";
 import { pool } from "@/db/client";
+import { countBudgetRefusal } from "./metrics";
 
 /**
  * Fair use: every costly action has a budget per caller (account, device, network address) and per
@@ -74,6 +75,7 @@ export function budget(spec: BudgetSpec): Budget {
       } catch (e) {
         if (e instanceof RateLimiterRes) {
           // a refused try stays counted (the window does not restart), so hammering a spent key gains nothing
+          countBudgetRefusal(spec.name);
           return { ok: false, retryAfterSeconds: Math.max(1, Math.ceil(e.msBeforeNext / 1000)) };
         }
         throw e;

@@ -7,11 +7,14 @@ import { domainErrorOf, type DomainError, type DomainErrorKind } from "@/lib/err
 import { isTransientDbError } from "@/db/errors";
 import { SESSION_REVOKED_CODE } from "@/lib/sync/transport";
 import { currentSession, type SessionUser } from "./auth";
+import { log } from "./log";
 import { contentTypeRefusal, readBody, sameOriginRefusal } from "./request-guard";
+import { requestContext, withRequestContext, type RequestContext } from "./request-context";
 
 /**
  * The one place that turns a request into validated input and an error into the error shape
- * `{ error: { code, message, fields? } }`. Every route handler is built with `route()`. Services
+ * `{ error: { code, message, fields?, requestId } }` (the id is also in the X-Request-Id header and
+ * in the request's log line, server/request-context.ts). Every route handler is built with `route()`. Services
  * throw domain errors (lib/errors.ts); this is the only place they become HTTP statuses.
  */
 const STATUS: Record<DomainErrorKind, number> = {
@@ -47,8 +50,38 @@ function domainResponse(e: DomainError) {
 
 const MAX_BODY_BYTES = 256 * 1024;
 
-function errorResponse(status: number, code: string, message: string, fields?: Record<string, string>) {
-  return NextResponse.json({ error: fields ? { code, message, fields } : { code, message } }, { status });
+/** The error shape, carrying the request's id. */
+export function errorBody(code: string, message: string, fields?: Record<string, string>) {
+  const requestId = requestContext()?.id;
+  return { error: { code, message, ...(fields ? { fields } : {}), ...(requestId ? { requestId } : {}) } };
+}
+
+export function errorResponse(status: number, code: string, message: string, fields?: Record<string, string>) {
+  return NextResponse.json(errorBody(code, message, fields), { status });
+}
+
+/**
+ * The route's pattern ("/api/engines/:engineId/checks") for the metrics and the log: each segment
+ * that is a parameter's value is put back as its name. Undefined when that does not account for
+ * every parameter (an odd encoding), so no sent text ever becomes a metric's label.
+ */
+function routePattern(path: string, params: Record<string, string | string[]>): string | undefined {
+  const names = new Map<string, string>();
+  for (const [k, v] of Object.entries(params)) if (typeof v === "string") names.set(v, k);
+  const used = new Set<string>();
+  const out = path.split("/").map((seg) => {
+    let value = seg;
+    try {
+      value = decodeURIComponent(seg);
+    } catch {
+      /* not valid percent-encoding: compared as sent */
+    }
+    const k = names.get(value);
+    if (k === undefined) return seg;
+    used.add(k);
+    return `:${k}`;
+  });
+  return used.size === Object.keys(params).length ? out.join("/") : undefined;
 }
 
 function fieldsFromZod(e: ZodError): Record<string, string> {
@@ -77,22 +110,34 @@ interface RouteOptions<P extends z.ZodType, Q extends z.ZodType, B extends z.Zod
    * unsubscribe). Every other route refuses a call that is not from our own pages.
    */
   anyOrigin?: true;
+  /** false: the session is not read (no cookie decoded, no database asked): only with auth: false (health checks) */
+  session?: A extends false ? false : never;
 }
 
 export function route<P extends z.ZodType = z.ZodType<Record<string, never>>, Q extends z.ZodType = z.ZodType<Record<string, never>>, B extends z.ZodType = z.ZodType<undefined>, A extends boolean = true>(
   opts: RouteOptions<P, Q, B, A>,
   fn: (ctx: Ctx<z.output<P>, z.output<Q>, z.output<B>, A>) => Promise<unknown>,
 ) {
-  return async (req: NextRequest, ctx: { params: Promise<Record<string, string | string[]>> }) => {
-    const requestId = crypto.randomUUID().slice(0, 8);
+  return (req: NextRequest, ctx: { params: Promise<Record<string, string | string[]>> }) =>
+    withRequestContext(async (rc) => {
+      const res = await handle(req, ctx, rc);
+      res.headers.set("X-Request-Id", rc.id);
+      return res;
+    });
+
+  async function handle(req: NextRequest, ctx: { params: Promise<Record<string, string | string[]>> }, rc: RequestContext): Promise<Response> {
+    const requestId = rc.id;
     try {
+      const rawParams = ctx?.params ? await ctx.params : {};
+      rc.route = routePattern(req.nextUrl.pathname, rawParams);
       const crossSite = opts.anyOrigin ? null : sameOriginRefusal(req);
       if (crossSite) throw crossSite;
-      const { user, revoked } = await currentSession();
+      const { user, revoked } = opts.session === false ? { user: null, revoked: false } : await currentSession();
       // "revoked" tells a phone that its session was ended elsewhere, so it wipes its local copy
       // (lib/sync/client.ts); only a cookie signed by us can earn it (OWASP ASVS 5.0 V7)
+      // the log line says whose request it was (an id, never an address or a name)
+      if (user) rc.userId = user.id;
       if (opts.auth !== false && !user) return revoked ? errorResponse(401, SESSION_REVOKED_CODE, "This session was ended (signed out everywhere, or a new password): sign in again") : errorResponse(401, "unauthorized", "Sign in first");
-      const rawParams = ctx?.params ? await ctx.params : {};
       const params = opts.params ? opts.params.safeParse(rawParams) : { success: true as const, data: rawParams };
       // A malformed id is just an id that names nothing.
       if (!params.success) return errorResponse(404, "not_found", "No such record");
@@ -131,10 +176,10 @@ export function route<P extends z.ZodType = z.ZodType<Record<string, never>>, Q 
         const fields = Object.fromEntries(e.issues.map((i) => [i.path || "_", i.message]));
         return errorResponse(422, "invalid", e.message, Object.keys(fields).length ? fields : undefined);
       }
-      console.error(`[api ${requestId}] ${req.method} ${req.nextUrl.pathname} failed:`, e instanceof Error ? e.message : e);
+      log.error({ err: e, requestId, method: req.method, path: req.nextUrl.pathname }, "request failed");
       return errorResponse(500, "internal", `Something went wrong on the server (request ${requestId})`);
     }
-  };
+  }
 }
 
 export const uuidParam = z.string().regex(ID_PATTERN);

@@ -9,6 +9,7 @@ import { isAccountMail, isGathered, SINGLE_KINDS } from "@/lib/mail/kinds";
 import { budget } from "./budgets";
 import { sendMail } from "./mail";
 import { composeGroup } from "./notice-compose";
+import { log } from "./log";
 
 /**
  * E-mail notices go through a queue table: the request that causes one only inserts a row, so a
@@ -52,7 +53,7 @@ export async function gatherNotices<T>(fn: () => Promise<T>): Promise<T> {
   try {
     return await batches.run(batch, fn);
   } finally {
-    await flush(batch.intents).catch((e: unknown) => console.error("[notices] queueing failed:", e instanceof Error ? e.message : e));
+    await flush(batch.intents).catch((e: unknown) => log.error({ err: e }, "notices: queueing failed"));
   }
 }
 
@@ -240,5 +241,5 @@ export function deliverDueNotices(): Promise<number> {
 }
 
 export function kickDelivery(): void {
-  deliverDueNotices().catch((e: unknown) => console.error("[notices] delivery failed:", e instanceof Error ? e.message : e));
+  deliverDueNotices().catch((e: unknown) => log.error({ err: e }, "notices: delivery failed"));
 }

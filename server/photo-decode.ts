@@ -3,7 +3,7 @@ import sharp from "sharp";
 import { PHOTO_FORMATS, PHOTO_MAX_BYTES, PHOTO_MAX_EDGE, PHOTO_MAX_LABEL, PHOTO_MAX_PIXELS, PHOTO_MAX_PIXELS_LABEL } from "@/lib/photos/rules";
 import { DomainError, overloaded } from "@/lib/errors";
 import { env } from "@/lib/env";
-import { Slots } from "./slots";
+import { Slots, watchSlots } from "./slots";
 
 export { Slots };
 
@@ -26,7 +26,7 @@ export const decodeStats = { decodes: 0, refusedByHeader: 0 };
 let slots: Slots | undefined;
 /** The process's decode slots, sized by PHOTO_DECODE_SLOTS and PHOTO_DECODE_QUEUE; a waiter gives up after 10 s. */
 export function decodeSlots(): Slots {
-  slots ??= new Slots(env().PHOTO_DECODE_SLOTS, env().PHOTO_DECODE_QUEUE, 10_000, () => overloaded("Too many photos are being processed: try again in a moment", 3));
+  slots ??= watchSlots("photo_decode", new Slots(env().PHOTO_DECODE_SLOTS, env().PHOTO_DECODE_QUEUE, 10_000, () => overloaded("Too many photos are being processed: try again in a moment", 3)));
   return slots;
 }
 

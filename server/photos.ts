@@ -12,6 +12,7 @@ import { preparePhoto, tooLarge } from "./photo-decode";
 import { deleteObject, getObject, listObjects, putObject } from "./storage";
 import { write, type WriteCtx } from "./write";
 import type { SessionUser } from "./auth";
+import { log } from "./log";
 
 /**
  * Photos on readings and comments. Decoding is bounded in server/photo-decode.ts; keys are made here
@@ -144,7 +145,7 @@ export async function uploadPhoto(user: SessionUser, checkId: string, body: { by
   try {
     await putObject(objectKey(checkId, f.id), img.data, img.contentType);
   } catch (e) {
-    console.error("[photos] store failed:", e instanceof Error ? e.message : e);
+    log.error({ err: e }, "photos: storing failed");
     throw overloaded("The photo store did not take the photo: it is sent again in a moment");
   }
   const marked = await write(user, (w) => q.markStored(w.tx, f.id, w.version));
@@ -212,7 +213,7 @@ let sweeping: Promise<number> | null = null;
 export function kickPhotoSweep(graceMs?: number): Promise<number> {
   sweeping ??= sweepPhotos(graceMs)
     .catch((e: unknown) => {
-      console.error("[photos] sweep failed:", e instanceof Error ? e.message : e);
+      log.error({ err: e }, "photos: the sweep failed");
       return 0;
     })
     .finally(() => {

@@ -69,3 +69,23 @@ export class Slots {
     }
   }
 }
+
+/**
+ * Slots the metrics report (server/metrics.ts), by kind. On globalThis: the metrics are read from
+ * instrumentation's chunk, the slots are used by the route handlers' (each chunk has its own copy of
+ * a module), so every copy's slots are listed and summed.
+ */
+const WATCHED = Symbol.for("lashwright.slots");
+const watched = ((globalThis as Record<symbol, Map<string, Set<Slots>> | undefined>)[WATCHED] ??= new Map());
+
+export function watchSlots(kind: string, slots: Slots): Slots {
+  let set = watched.get(kind);
+  if (!set) watched.set(kind, (set = new Set()));
+  set.add(slots);
+  return slots;
+}
+
+/** Work of a kind running and waiting now, over every copy of its slots. */
+export function slotsNow(): { kind: string; running: number; queued: number }[] {
+  return [...watched].map(([kind, set]) => ({ kind, running: [...set].reduce((n, s) => n + s.inUse, 0), queued: [...set].reduce((n, s) => n + s.queued, 0) }));
+}

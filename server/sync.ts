@@ -13,6 +13,8 @@ import { runAfter, type After, type WriteCtx } from "./write";
 import { budget, type Budget } from "./budgets";
 import type { SessionUser } from "./auth";
 import { phase } from "./timing";
+import { log } from "./log";
+import { countSyncRows } from "./metrics";
 
 /**
  * The write budget (DESIGN.md section 5, fair use; OWASP ASVS 5.0 V2 Validation and Business Logic,
@@ -95,7 +97,7 @@ function reasonOf(e: unknown): string {
   if (d?.kind === "overloaded" || (!d && isTransientDbError(e))) throw e;
   if (d) return d.message;
   if (e instanceof LashInputError) return e.message;
-  console.error("[sync] a change could not be applied:", e instanceof Error ? e.message : e);
+  log.error({ err: e }, "sync: a change could not be applied");
   throw new Later("the server could not apply this change yet");
 }
 
@@ -230,6 +232,7 @@ export async function push(user: SessionUser, input: PushInput): Promise<PushRes
   // notices are queued only once the changes are committed; a failure here never fails the push
   await runAfter(after);
   phase("after commit");
+  countSyncRows("push", applied);
   return later ? { lastMutationId, rejected, later } : { lastMutationId, rejected };
 }
 
@@ -248,5 +251,6 @@ function positionOf(cursor: Cursor): q.PullPosition | null {
  */
 export async function pull(user: SessionUser, cursor: Cursor) {
   const { upTo, next, ...changes } = await transaction((tx) => q.changesSince(tx, user.id, positionOf(cursor)), { isolationLevel: "repeatable read", accessMode: "read only" });
+  countSyncRows("pull", Object.values(changes).reduce((n, rows) => n + (Array.isArray(rows) ? rows.length : 0), 0));
   return { cursor: next ? `${CURSOR_PREFIX}${next.version}:${next.kind}:${next.id}` : `${CURSOR_PREFIX}${upTo}`, more: next !== null, ...changes };
 }

@@ -4,6 +4,7 @@ import { budget, type Budget } from "./budgets";
 import { trustedDevice } from "./device-cookie";
 import { hashRefusals } from "./password";
 import { addressKey, socketAddress } from "./peer-address";
+import { log } from "./log";
 
 /**
  * Throttles for sign-in and for the mail a caller can ask for, counted before the work they guard
@@ -100,7 +101,7 @@ export function clientAddress(headers: HeaderBag): string | null {
     const addr = addressKey(socketAddress());
     if (!addr && !warned) {
       warned = true;
-      console.warn("[throttle] a request without a socket address: limits per network address do not hold for it");
+      log.warn("throttle: a request without a socket address: limits per network address do not hold for it");
     }
     return addr;
   }

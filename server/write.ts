@@ -3,6 +3,7 @@ import { versioned, type Tx } from "@/db/versions";
 import { retryConflicts } from "@/db/retry";
 import { gatherNotices } from "./notices";
 import type { SessionUser } from "./auth";
+import { log } from "./log";
 
 /**
  * The context every write runs in: the caller's transaction (the only way to the database inside
@@ -24,7 +25,7 @@ export interface WriteCtx {
  */
 export async function runAfter(afters: After[]) {
   await gatherNotices(async () => {
-    for (const then of afters) await then().catch((e: unknown) => console.error("[write] notice after commit failed:", e instanceof Error ? e.message : e));
+    for (const then of afters) await then().catch((e: unknown) => log.error({ err: e }, "write: work after the commit failed"));
   });
 }
 

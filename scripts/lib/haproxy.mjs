@@ -11,13 +11,12 @@ export const HAPROXY = { pkg: "haproxy", present: () => spawnSync("sh", ["-c", "
 const BIN = "/usr/sbin/haproxy";
 
 /**
- * The path HAProxy asks every instance for, each second: 200 means "send me requests". The final one
- * is /api/health/ready (database reachable, node synced, migrations current, notice queue moving;
- * issue 27 item 3, built in another branch). Until it lands, a route every build has and that runs
- * the app's own request handling: an instance that is gone or wedged fails it all the same.
+ * The path HAProxy asks every instance for, each second: 200 means "send me requests":
+ * /api/health/ready (server/health.ts: database reachable, node synced, migrations current, notice
+ * queue moving). LASHWRIGHT_HEALTH_PATH overrides it.
  */
 export const READY_PATH = "/api/health/ready";
-export const HEALTH_PATH = process.env.LASHWRIGHT_HEALTH_PATH ?? "/api/auth/providers";
+export const HEALTH_PATH = process.env.LASHWRIGHT_HEALTH_PATH ?? READY_PATH;
 
 /**
  * Requests HAProxy may send again to the other instance when the first one died after the request

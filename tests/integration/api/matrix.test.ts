@@ -191,6 +191,9 @@ const TABLE: Row[] = [
   // one-click unsubscribe: no sign-in, a signed token in the address; a token we did not make is 400 for everyone
   { route: "GET /api/notices/unsubscribe", path: () => `/api/notices/unsubscribe?token=${"A".repeat(20)}.${"B".repeat(43)}`, expect: PUBLIC(303) },
   { route: "POST /api/notices/unsubscribe", path: () => `/api/notices/unsubscribe?token=${"A".repeat(20)}.${"B".repeat(43)}`, expect: PUBLIC(400) },
+  // for the load balancer: no sign-in, the same answer for everyone (tests/integration/api/operations.test.ts)
+  { route: "GET /api/health/live", path: () => "/api/health/live", expect: PUBLIC(200) },
+  { route: "GET /api/health/ready", path: () => "/api/health/ready", expect: PUBLIC(200) },
   { route: "POST /api/invites/accept", path: () => "/api/invites/accept", body: () => ({ token: "C".repeat(43) }), expect: EVERYONE(400), bad: { body: { token: 5 }, field: "token" } },
 ];
 

@@ -1,6 +1,7 @@
 import NextAuth from "next-auth";
 import { NextRequest, NextResponse } from "next/server";
 import { authOptions, currentSession, SIGN_IN_ERRORS } from "@/server/auth";
+import { errorBody, errorResponse } from "@/server/http";
 import { hashRefusals, type HashWatch } from "@/server/password";
 import { BodyTooLarge, readBody, sameOriginRefusal } from "@/server/request-guard";
 
@@ -11,12 +12,12 @@ const MAX_AUTH_BODY = 16 * 1024;
 
 async function post(req: NextRequest, ctx: { params: Promise<{ nextauth: string[] }> }) {
   const refused = sameOriginRefusal(req);
-  if (refused) return NextResponse.json({ error: { code: refused.extra.code, message: refused.message } }, { status: 403 });
+  if (refused) return errorResponse(403, refused.extra.code ?? "forbidden", refused.message);
   let body: Uint8Array<ArrayBuffer>;
   try {
     body = await readBody(req, MAX_AUTH_BODY);
   } catch (e) {
-    if (e instanceof BodyTooLarge) return NextResponse.json({ error: { code: "too_large", message: e.message } }, { status: 413 });
+    if (e instanceof BodyTooLarge) return errorResponse(413, "too_large", e.message);
     throw e;
   }
   const hashing: HashWatch = { retryAfterSeconds: null, undo: [] };
@@ -28,7 +29,7 @@ async function post(req: NextRequest, ctx: { params: Promise<{ nextauth: string[
   const url = new URL("/sign-in", req.nextUrl.origin);
   url.searchParams.set("error", SIGN_IN_ERRORS.busy);
   const message = "Too many sign-ins at once: try again in a moment";
-  return NextResponse.json({ error: { code: "overloaded", message }, url: url.toString() }, { status: 503, headers: { "Retry-After": String(hashing.retryAfterSeconds) } });
+  return NextResponse.json({ ...errorBody("overloaded", message), url: url.toString() }, { status: 503, headers: { "Retry-After": String(hashing.retryAfterSeconds) } });
 }
 
 /**
