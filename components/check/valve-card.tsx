@@ -182,7 +182,7 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded,
       </details>
       <div>
         <p className="mb-1 text-sm font-bold text-ink-soft">Tap the blade that goes ({unit})</p>
-        <div role="group" aria-label={`Feeler blades for ${view.valve.id}`} className="grid grid-cols-6 gap-1.5">
+        <div role="group" aria-label={`Feeler blades for ${view.valve.id}`} className="grid grid-cols-[repeat(auto-fill,minmax(3rem,1fr))] gap-2">
           {blades.map((b) => {
             const on = base.method === "feeler" && base.feelerGo != null && Math.abs(base.feelerGo - b) < 1e-9;
             const inBand = b >= view.spec.min - 1e-9 && b <= view.spec.max + 1e-9;
