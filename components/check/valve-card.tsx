@@ -143,7 +143,7 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded,
 
   return (
     <article id={`valve-${view.valve.id}`} data-valve={view.valve.id} aria-label={valveLabel(view.valve, per)} className="flex flex-col gap-3 rounded-2xl border border-line bg-surface p-3">
-      <header className="flex items-baseline justify-between">
+      <header className="flex flex-wrap items-baseline justify-between gap-x-2">
         <h3 ref={heading} tabIndex={-1} className="text-xl font-extrabold">
           {valveLabel(view.valve, per)}
         </h3>
@@ -151,13 +151,13 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded,
           band {formatLength(view.spec.min, unit)}–{formatLength(view.spec.max, unit)}
         </span>
       </header>
-      <div className="flex items-center gap-2">
-        <span className="w-16 text-sm font-bold text-ink-soft">Shim</span>
+      <div className="flex flex-wrap items-center gap-2">
+        <span className="w-12 text-sm font-bold text-ink-soft">Shim</span>
         <button type="button" aria-label={`Thinner shim for ${view.valve.id}`} onClick={() => stepShim(-1)} className="min-h-12 min-w-12 rounded-xl border-2 border-line text-2xl font-bold">
           −
         </button>
         {/* a changed shim is read out where it is shown; an unset one says so in words */}
-        <span aria-live="polite" className={`figures min-w-24 text-center ${stamp != null ? "text-2xl font-extrabold" : "text-base font-bold text-ink-soft"}`} data-testid={`shim-${view.valve.id}`}>
+        <span aria-live="polite" className={`figures min-w-20 text-center ${stamp != null ? "text-2xl font-extrabold" : "text-base font-bold text-ink-soft"}`} data-testid={`shim-${view.valve.id}`}>
           {stamp != null ? stamp.toFixed(step < 0.05 ? 3 : 2) : "not set"}
         </span>
         <button type="button" aria-label={`Thicker shim for ${view.valve.id}`} onClick={() => stepShim(1)} className="min-h-12 min-w-12 rounded-xl border-2 border-line text-2xl font-bold">

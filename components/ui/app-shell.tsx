@@ -44,7 +44,7 @@ export function AppShell({ title, children, back }: { title: string; children: R
         Skip to content
       </a>
       <header className="flex flex-col gap-1 border-b border-line px-4 pt-3 pb-1 print:hidden">
-        <div className="flex items-center justify-between gap-2">
+        <div className="flex flex-wrap items-center justify-between gap-x-2">
           <Link href="/engines" className="inline-flex min-h-12 items-center text-xl font-extrabold tracking-tight">
             Lash<span className="text-accent">wright</span>
           </Link>
