@@ -2,7 +2,7 @@
 
 import Link from "next/link";
 import { usePathname, useSearchParams } from "next/navigation";
-import { Suspense, type ReactNode } from "react";
+import { Suspense, useSyncExternalStore, type ReactNode } from "react";
 import { useLocal } from "@/components/sync/local-provider";
 import { StorageNotice } from "@/components/sync/storage-notice";
 import { SyncLine } from "@/components/sync/sync-line";
@@ -120,10 +120,18 @@ function revokedText(r: { email: string; changes: number; photos: number }) {
 }
 
 /** Sign in and come back here, query string included (/check?id=... must survive the round trip). */
-function SignInHere({ path, query }: { path: string; query: string }) {
-  return <ButtonLink href={`/sign-in?next=${encodeURIComponent(query ? `${path}?${query}` : path)}`}>Sign in</ButtonLink>;
+function SignInHere({ path, query, hash = "" }: { path: string; query: string; hash?: string }) {
+  return <ButtonLink href={`/sign-in?next=${encodeURIComponent(`${query ? `${path}?${query}` : path}${hash}`)}`}>Sign in</ButtonLink>;
+}
+
+function onHashChange(then: () => void) {
+  window.addEventListener("hashchange", then);
+  return () => window.removeEventListener("hashchange", then);
 }
 
 function SignInWithQuery({ path }: { path: string }) {
-  return <SignInHere path={path} query={useSearchParams().toString()} />;
+  // a mail's link to #comments or #verdict keeps its fragment through sign-in (read after the first
+  // render: the server never sees it)
+  const hash = useSyncExternalStore(onHashChange, () => window.location.hash, () => "");
+  return <SignInHere path={path} query={useSearchParams().toString()} hash={hash} />;
 }

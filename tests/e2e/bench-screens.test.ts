@@ -187,5 +187,19 @@ describe("the bench screens on a 360 px phone", () => {
       await dot.tap();
       await expect(page.getByTestId("valve-panel").getByRole("list", { name: "Comments on E2.1" }).innerText()).resolves.toContain("E2.1 closed up a lot");
       await ctx.close();
+
+      // signed out, the verdict mail's link keeps its #verdict through sign-in and lands there
+      const octx = await phone(scheme);
+      const out = await octx.newPage();
+      await out.goto(`${baseUrl()}/review?id=${ids.shared}#verdict`);
+      await out.getByRole("link", { name: "Sign in" }).tap();
+      await out.waitForURL(/\/sign-in\?next=/);
+      expect(decodeURIComponent(new URL(out.url()).searchParams.get("next") ?? "")).toBe(`/review?id=${ids.shared}#verdict`);
+      await out.getByLabel("E-mail").fill(u.email);
+      await out.getByLabel("Password").fill(u.password);
+      await out.getByRole("button", { name: "Sign in", exact: true }).tap();
+      await out.waitForURL(/\/review\?id=/);
+      await expect.poll(async () => (await focused(out)).id, { timeout: 20_000 }).toBe("verdict");
+      await octx.close();
     }, 180_000);
 });
