@@ -87,23 +87,28 @@ export function ReviewScreen() {
   const sharesIn = shares.isFetchedAfterMount || shares.isError;
   const drawn = !!views;
   useEffect(() => {
-    if (landed.current || !drawn) return;
-    const hash = decodeURIComponent(window.location.hash.slice(1));
-    if (!hash) {
-      landed.current = true;
-      return;
-    }
-    if (hash === "verdict" ? !sharesIn : !commentsIn) return;
-    let el: HTMLElement | null;
-    if (hash === "comments") {
-      // the newest comment by someone else is the one the mail was about
-      const theirs = [...document.querySelectorAll<HTMLElement>("#comments li[id^='comment-']")].filter((li) => li.dataset.mine !== "true");
-      el = theirs.at(-1) ?? document.getElementById("comments");
-    } else el = document.getElementById(hash);
-    landed.current = true;
-    if (!el) return;
-    el.scrollIntoView({ block: "start" });
-    el.focus({ preventScroll: true });
+    const land = () => {
+      const hash = decodeURIComponent(window.location.hash.slice(1));
+      if (!hash) return true;
+      if (hash === "verdict" ? !sharesIn : !commentsIn) return false;
+      let el: HTMLElement | null;
+      if (hash === "comments") {
+        // the newest comment by someone else is the one the mail was about
+        const theirs = [...document.querySelectorAll<HTMLElement>("#comments li[id^='comment-']")].filter((li) => li.dataset.mine !== "true");
+        el = theirs.at(-1) ?? document.getElementById("comments");
+      } else el = document.getElementById(hash);
+      if (el) {
+        el.scrollIntoView({ block: "start" });
+        el.focus({ preventScroll: true });
+      }
+      return true;
+    };
+    if (!drawn) return;
+    if (!landed.current) landed.current = land();
+    // a link to another part of this page (a second mail opened in the same tab)
+    const again = () => void land();
+    window.addEventListener("hashchange", again);
+    return () => window.removeEventListener("hashchange", again);
   }, [drawn, commentsIn, sharesIn]);
 
   if (check.isPending) return <p className="text-ink-soft">Loading the check…</p>;

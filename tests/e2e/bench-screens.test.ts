@@ -192,7 +192,7 @@ describe("the bench screens on a 360 px phone", () => {
       const octx = await phone(scheme);
       const out = await octx.newPage();
       await out.goto(`${baseUrl()}/review?id=${ids.shared}#verdict`);
-      await out.getByRole("link", { name: "Sign in" }).tap();
+      await out.getByRole("link", { name: "Sign in", exact: true }).tap();
       await out.waitForURL(/\/sign-in\?next=/);
       expect(decodeURIComponent(new URL(out.url()).searchParams.get("next") ?? "")).toBe(`/review?id=${ids.shared}#verdict`);
       await out.getByLabel("E-mail").fill(u.email);
