@@ -363,7 +363,7 @@ describe("every screen reflows at 320 px with long names", () => {
       { name: "check.put/1", args: { id: long.planned, engineId: long.engine, odometer: 99_000, measuredHot: false, status: "planned" } },
       ...valves.map((v) => reading(long.planned, v, { measured: MEASURED[v], method: "typed" })),
       { name: "tray.put/1", args: { id: crypto.randomUUID(), size: 2.555, measuredSize: true, count: 12, shimDiameter: 10.48 } },
-      { name: "pool.offer/1", args: { id: crypto.randomUUID(), clubId, size: 2.75, count: 3, note: LONG.word } },
+      { name: "pool.offer/1", args: { id: crypto.randomUUID(), clubId, size: 2.555, measuredSize: true, count: 3, shimDiameter: 10.48, note: LONG.word } },
       { name: "comment.add/1", args: { id: crypto.randomUUID(), checkId: long.planned, body: `Look at ${LONG.word} first.`, valve: "E4.1" } },
     ]);
     const share = await api.post(`/api/checks/${long.planned}/shares`, { clubId });

@@ -167,6 +167,9 @@ describe("the bench screens on a 360 px phone", () => {
       await expect(panel.getByRole("list", { name: "Comments on E2.1" }).innerText()).resolves.toMatch(/on E2\.1/);
       await mentor.screenshot({ path: `test-results/screens-review-tap-${scheme}.png`, fullPage: true });
       await mentor.getByRole("button", { name: /Measure again/ }).tap();
+      await mentor.getByTestId("verdict").getByText("↻ Measure again").waitFor();
+      // sent: nothing of the mentor's waits on the phone any more
+      await mentor.getByTestId("verdict").getByText("waiting to send").waitFor({ state: "detached", timeout: 20_000 });
       await mentor.getByText("waiting to send").first().waitFor({ state: "detached", timeout: 20_000 });
       await mctx.close();
 
