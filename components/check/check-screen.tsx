@@ -4,7 +4,7 @@ import dynamic from "next/dynamic";
 import Link from "next/link";
 import { useSearchParams } from "next/navigation";
 import { useCallback, useEffect, useRef, useState, type ComponentProps } from "react";
-import { LashInputError, workOrder, type ShimPlan } from "@/lib/lash";
+import { LashInputError, samePlan, workOrder, type ShimPlan } from "@/lib/lash";
 import { checkPlan, DEFAULT_PLAN_OPTIONS, type PlanOptions } from "@/lib/check/derive";
 import { poolForEngine, trayForEngine } from "@/lib/check/pool";
 import { beginFit, saveEngine, setCheckStatus } from "@/lib/sync/later";
@@ -112,9 +112,15 @@ function CheckBody({ data, step, go, moved }: { data: CheckData; step?: Step; go
   const turn = () => db && void saveEngine(db, { ...engine, mirrored: !engine.mirrored });
   let plan: ShimPlan | null = null;
   let planError: string | null = null;
+  // whether the other aim gives this very plan, so the screen can say why the choice changes nothing
+  let bothAims = false;
   try {
     // the plan is worked out only for the steps that show it: a blade tap on Measure stays cheap
     if (current === "plan" || current === "fit") plan = checkPlan(engine, views, trayFit.usable, fit.pool, options);
+    if (plan && current === "plan") {
+      const other = checkPlan(engine, views, trayFit.usable, fit.pool, { ...options, aim: options.aim === "fewest-bought" ? "nearest-target" : "fewest-bought" });
+      bothAims = !!other && samePlan(plan, other);
+    }
   } catch (e) {
     planError = e instanceof LashInputError ? e.message : "The plan could not be worked out";
   }
@@ -174,6 +180,7 @@ function CheckBody({ data, step, go, moved }: { data: CheckData; step?: Step; go
             fit={fit}
             options={options}
             setOptions={setOptions}
+            bothAims={bothAims}
             trayOtherSystem={trayFit.otherSystem}
             focusHeading={moved}
           />

@@ -95,7 +95,7 @@ export function EngineDiagram({ views, facing, onPick, commentDots, current, onT
         {rows.map((row) => (
           <div key={row[0]!.cylinder} className="flex justify-center" style={{ gap: GROUP_GAP_PX }}>
             {row.map((g) => (
-              <div key={g.cylinder} role="group" aria-label={`Cyl ${g.cylinder}`} data-cylinder={g.cylinder} className="flex flex-col items-stretch gap-1 rounded-xl border border-line bg-bg/40 p-[4px]">
+              <div key={g.cylinder} role="group" aria-label={`Cyl ${g.cylinder}`} data-cylinder={g.cylinder} style={{ gap: CELL_GAP_PX }} className="flex flex-col items-stretch rounded-xl border border-line bg-bg/40 p-[4px]">
                 {/* the label takes the width of its cells and never widens the group past them */}
                 <span className="w-0 min-w-full overflow-hidden text-center text-xs leading-tight font-bold tracking-tight whitespace-nowrap text-ink-soft" data-cylinder-label={g.cylinder}>
                   Cyl {g.cylinder}

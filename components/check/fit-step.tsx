@@ -5,11 +5,11 @@ import { useEffect, useRef, useState, type ReactNode } from "react";
 import type { ShimMove } from "@/lib/lash";
 import { valveLabel, type ValveView } from "@/lib/check/derive";
 import { camsOut, camsOutWords, shimNumber } from "@/lib/lash";
-import { valvesOfMoves, workOrderKey, type WorkOrderState } from "@/lib/check/fit";
+import { fitTicks, valvesOfMoves, workOrderKey, type WorkOrderState } from "@/lib/check/fit";
 import { OVER_BUCKET_CAUTIONS, OVER_BUCKET_METHOD, SHIM_POSITION_WORDS, UNDER_BUCKET_FIT } from "@/lib/check/shim-position";
 import { getMeta } from "@/lib/sync/later";
 import type { LocalEngine } from "@/lib/sync/local-db";
-import { offerToClub, toggleFitTask, toggleSwap } from "@/lib/sync/later";
+import { offerToClub, toggleFitTask, toggleSwaps } from "@/lib/sync/later";
 import { usePool } from "@/components/pool/use-pool";
 import { useLocalCore } from "@/components/sync/local-provider";
 import { Button, Notice } from "@/components/ui/controls";
@@ -112,14 +112,43 @@ export function FitStep({ engine, views, checkId, startFit, onDone, focusHeading
       setError(e instanceof Error ? e.message : "The tick could not be saved");
     }
   };
-  const tick = (i: number) => void guard(() => toggleSwap(db!, checkId, i));
+  const ticks = fitTicks(moves);
+  const tick = (t: number[]) => void guard(() => toggleSwaps(db!, checkId, t));
+  const sz = (n: number) => <strong>{shimNumber(n)}</strong>;
+  // what goes into the valve: from where the shim is taken
+  const fitWords = (m: ShimMove) =>
+    m.from.kind === "valve" ? (
+      <>
+        take the {sz(m.size)} out of {per(m.from.valveId)} and fit it
+      </>
+    ) : m.from.kind === "tray" ? (
+      <>fit a {sz(m.size)} from the tray</>
+    ) : m.from.kind === "shop" ? (
+      <>fit a new {sz(m.size)} (bought)</>
+    ) : m.from.kind === "club" ? (
+      <>fit the borrowed {sz(m.size)}</>
+    ) : (
+      <>fit the {sz(m.size)} set aside</>
+    );
+  const tickWords = (t: number[]) => {
+    const ms = t.map((i) => moves[i]!);
+    const last = ms.at(-1)!;
+    if (last.to.kind !== "valve") return <>Take the {sz(last.size)} out of {last.from.kind === "valve" ? per(last.from.valveId) : placeWords(last.from)} and {last.to.kind === "tray" ? "put it on the tray" : "set it aside"}</>;
+    const out = ms.length === 2 ? ms[0]! : null;
+    return (
+      <>
+        <strong>{per(last.to.valveId)}</strong>: {out && <>take out its {sz(out.size)} and {out.to.kind === "tray" ? "put it on the tray" : "set it aside"}, then </>}
+        {fitWords(last)}
+      </>
+    );
+  };
   const swapList = (
-    <ol className="flex flex-col gap-2" aria-label="Swaps">
-      {moves.map((m, i) => (
-        <li key={i}>
-          <Tick on={done[i]!} onClick={() => tick(i)}>
+    <ol className="flex flex-col gap-2" aria-label="Swaps, one tick per valve">
+      {ticks.map((t, n) => (
+        <li key={t[0]} data-testid="fit-tick" data-valve={moves[t.at(-1)!]!.to.kind === "valve" ? (moves[t.at(-1)!]!.to as { valveId: string }).valveId : undefined}>
+          <Tick on={t.every((i) => done[i])} onClick={() => tick(t)}>
             <span className="figures">
-              <strong>{i + 1}.</strong> Take the <strong>{shimNumber(m.size)}</strong> {m.from.kind === "valve" ? `out of ${per(m.from.valveId)}` : `from ${placeWords(m.from)}`} and {m.to.kind === "valve" ? <>fit it to <strong>{per(m.to.valveId)}</strong></> : m.to.kind === "tray" ? "put it on the tray" : "set it aside"}
+              <strong>{n + 1}.</strong> {tickWords(t)}
             </span>
           </Tick>
         </li>

@@ -9,6 +9,7 @@ import { saveReading } from "@/lib/sync/later";
 import { useLocalCore } from "@/components/sync/local-provider";
 import { Button, Notice } from "@/components/ui/controls";
 import { EngineDiagram } from "./engine-diagram";
+import { PositionGuide } from "./position-guide";
 import { ValveCard, type ReadingEntry } from "./valve-card";
 import { facingOf } from "@/lib/check/diagram";
 import { shimNumber } from "@/lib/lash";
@@ -118,14 +119,7 @@ export function MeasureStep({ engine, views, sizes, step, save, onTurn, onDone, 
         </div>
       )}
       {order.problem && <Notice tone="error">{order.problem}</Notice>}
-      <h2 ref={headingRef} tabIndex={-1} className="rounded-xl bg-surface-2 p-3 text-lg font-extrabold">
-        {order.positions.length > 0 && (
-          <span className="text-accent">
-            Position {position + 1} of {order.positions.length}:{" "}
-          </span>
-        )}
-        {order.positions[position] ? positionWords(order.positions[position]) : "Measure each valve"}
-      </h2>
+      <PositionGuide ref={headingRef} at={position} of={order.positions.length} step={order.positions[position]} />
       {/* what the last blade recorded, read out politely: the card moves on to the next valve */}
       <p role="status" aria-live="polite" className="sr-only" data-testid="measure-said">
         {said}

@@ -21,7 +21,7 @@ import { facingOf } from "@/lib/check/diagram";
 const Worksheet = dynamic(() => import("./worksheet"), { ssr: false });
 
 /** Step 3: the diagram, the plan per valve, the buy list, borrowing, what goes back to the tray, print and CSV. */
-export function PlanStep({ engine, check, views, plan, error, onTurn, onFit, pool, fit, options, setOptions, trayOtherSystem = 0, focusHeading = false }: { engine: LocalEngine; check: LocalCheck; views: ValveView[]; plan: ShimPlan | null; error: string | null; onTurn: () => void; onFit?: () => void; pool?: ReturnType<typeof usePool>; fit?: PoolFit; options?: PlanOptions; setOptions?: (o: PlanOptions) => void; trayOtherSystem?: number; focusHeading?: boolean }) {
+export function PlanStep({ engine, check, views, plan, error, onTurn, onFit, pool, fit, options, setOptions, bothAims = false, trayOtherSystem = 0, focusHeading = false }: { engine: LocalEngine; check: LocalCheck; views: ValveView[]; plan: ShimPlan | null; error: string | null; onTurn: () => void; onFit?: () => void; pool?: ReturnType<typeof usePool>; fit?: PoolFit; options?: PlanOptions; setOptions?: (o: PlanOptions) => void; bothAims?: boolean; trayOtherSystem?: number; focusHeading?: boolean }) {
   const [copied, setCopied] = useState(false);
   const headingRef = useFocusOnShow<HTMLHeadingElement>(focusHeading);
   const byId = new Map(views.map((v) => [v.valve.id, v]));
@@ -35,7 +35,7 @@ export function PlanStep({ engine, check, views, plan, error, onTurn, onFit, poo
       </h2>
       <Worksheet engine={engine} check={check} views={views} plan={plan} lenders={lenders} />
       <EngineDiagram views={views} facing={facingOf(engine)} onTurn={onTurn} />
-      {options && setOptions && <PlanAimChoice options={options} setOptions={setOptions} unit={engine.displayUnit} />}
+      {options && setOptions && <PlanAimChoice options={options} setOptions={setOptions} unit={engine.displayUnit} bothAims={!!plan && bothAims} plan={plan} />}
       {error && <Notice tone="error">{error}</Notice>}
       {trayOtherSystem > 0 && (
         <Notice>
@@ -116,15 +116,23 @@ function CamsLine({ engine, plan }: { engine: LocalEngine; plan: ShimPlan }) {
 
 const MARGINS = [0, 0.01, 0.02, 0.03, 0.05];
 
+/** Why the two aims agree, from what the plan needs: the plan is the best by both orders at once. */
+function bothAimsWords(plan: ShimPlan | null): string {
+  const fetched = plan ? plan.buy.length + plan.borrow.length : 0;
+  return fetched === 0
+    ? "Both aims give this plan: it buys and borrows nothing, and no other choice of shims lands nearer the target."
+    : "Both aims give this plan: no other choice of shims lands nearer the target, and none needs fewer shims bought or lenders asked.";
+}
+
 /** How the plan chooses: buy the fewest shims or land nearest the target, and how far to keep from the tight edge. */
-function PlanAimChoice({ options, setOptions, unit }: { options: PlanOptions; setOptions: (o: PlanOptions) => void; unit: "mm" | "in" }) {
+function PlanAimChoice({ options, setOptions, unit, bothAims, plan }: { options: PlanOptions; setOptions: (o: PlanOptions) => void; unit: "mm" | "in"; bothAims: boolean; plan: ShimPlan | null }) {
   return (
     <fieldset className="flex flex-col gap-2 rounded-2xl border border-line bg-surface p-3 print:hidden">
       <legend className="px-1 font-extrabold">The plan aims to</legend>
       <div className="grid grid-cols-2 gap-2">
         {(
           [
-            ["fewest-bought", "Buy the fewest"],
+            ["fewest-bought", "Fewest to buy or fetch"],
             ["nearest-target", "Land nearest the target"],
           ] as const
         ).map(([aim, label]) => (
@@ -134,6 +142,13 @@ function PlanAimChoice({ options, setOptions, unit }: { options: PlanOptions; se
           </label>
         ))}
       </div>
+      {/* a lender is a trip (to collect and to give back), so borrowing is not free */}
+      <p className="text-sm text-ink-soft">Each lender to ask counts as one trip, like one shim bought; when two plans are even, the one with fewer lenders is chosen.</p>
+      {bothAims && (
+        <p className="text-sm font-bold" data-testid="both-aims">
+          {bothAimsWords(plan)}
+        </p>
+      )}
       <label className="flex flex-wrap items-center gap-2 text-sm font-bold">
         Keep new shims clear of the tight edge by
         <select value={options.tightMargin} onChange={(e) => setOptions({ ...options, tightMargin: Number(e.target.value) })} className="figures min-h-12 rounded-xl border-2 border-field bg-surface px-2 text-base">

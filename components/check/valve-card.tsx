@@ -154,8 +154,8 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded,
           band {formatLength(view.spec.min, unit)}–{formatLength(view.spec.max, unit)}
         </span>
       </header>
-      <div className="flex items-center gap-2">
-        <span className="w-16 text-sm font-bold text-ink-soft">Shim</span>
+      <div className="flex flex-wrap items-center gap-2">
+        <span className="w-12 text-sm font-bold text-ink-soft">Shim</span>
         <button type="button" aria-label={`Thinner shim for ${view.valve.id}`} onClick={() => stepShim(-1)} className="min-h-12 min-w-12 rounded-xl border-2 border-line text-2xl font-bold">
           −
         </button>
@@ -185,7 +185,7 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded,
       </details>
       <div>
         <p className="mb-1 text-sm font-bold text-ink-soft">Tap the blade that goes ({unit})</p>
-        <div role="group" aria-label={`Feeler blades for ${view.valve.id}`} className="grid grid-cols-6 gap-1.5">
+        <div role="group" aria-label={`Feeler blades for ${view.valve.id}`} className="grid grid-cols-[repeat(auto-fill,minmax(3rem,1fr))] gap-2">
           {blades.map((b) => {
             const on = base.method === "feeler" && base.feelerGo != null && Math.abs(base.feelerGo - b) < 1e-9;
             const inBand = b >= view.spec.min - 1e-9 && b <= view.spec.max + 1e-9;

@@ -3,7 +3,8 @@
 import { useQuery } from "@tanstack/react-query";
 import { useRouter } from "next/navigation";
 import { useLiveQuery } from "@/components/sync/use-live-query";
-import { useState } from "react";
+import { useMemo, useState, type ReactNode } from "react";
+import { measuringOrder } from "@/lib/check/measuring";
 import { workOrderKey, type WorkOrderState } from "@/lib/check/fit";
 import { RECHECK_TURN, RECHECK_TURN_CAUTION } from "@/lib/check/shim-position";
 import { fetchers, queryKeys } from "@/lib/api/client";
@@ -16,6 +17,7 @@ import { useLocalCore } from "@/components/sync/local-provider";
 import { Button, Notice } from "@/components/ui/controls";
 import { useFocusOnShow } from "@/components/ui/focus";
 import { ValveCard, type ReadingEntry } from "./valve-card";
+import { PositionGuide } from "./position-guide";
 
 const valves = (n: number) => `${n} valve${n === 1 ? "" : "s"}`;
 
@@ -26,6 +28,35 @@ function openWords(open: ValveView[]) {
   const never = open.filter((v) => v.state === "unmeasured").length;
   const parts = [waiting && `${valves(waiting)} to re-measure`, out && `${valves(out)} out of band: plan again, or close the check with them noted`, never && `${valves(never)} never measured`].filter(Boolean);
   return `${parts.join("; ")}.`;
+}
+
+/**
+ * The changed valves in the order the crank turns, as Measure takes them: one group per position of
+ * the rotation guide that has a changed valve, headed by the same guide (turn to where, and which of
+ * the changed valves to measure there), numbered among the positions this re-check needs.
+ */
+function ByPosition({ engine, changed, render }: { engine: LocalEngine; changed: ValveView[]; render: (v: ValveView) => ReactNode }) {
+  const order = useMemo(() => measuringOrder(engine), [engine]);
+  const byId = new Map(changed.map((v) => [v.valve.id, v]));
+  const groups = order.positions
+    .map((p, position) => ({ p, views: order.stops.filter((s) => s.position === position && byId.has(s.valveId)).map((s) => byId.get(s.valveId)!) }))
+    .filter((g) => g.views.length > 0);
+  if (order.positions.length === 0) return <>{changed.map(render)}</>;
+  return (
+    <>
+      {groups.map((g, n) => {
+        // the guide's words name only the changed valves at this position
+        const here = new Set(g.views.map((v) => `${v.valve.kind}${v.valve.cylinder}`));
+        const step = { ...g.p, valves: g.p.valves.filter((r) => here.has(`${r.kind}${r.cylinder}`)) };
+        return (
+          <section key={g.p.crankAngle} aria-label={`Position ${n + 1} of ${groups.length}`} data-testid="recheck-position" className="flex flex-col gap-3">
+            <PositionGuide at={n} of={groups.length} step={step} level={3} />
+            {g.views.map(render)}
+          </section>
+        );
+      })}
+    </>
+  );
 }
 
 /** Step 5: re-measure the valves of this fit until all are in band, or close with the open ones noted. */
@@ -74,7 +105,7 @@ export function VerifyStep({ engine, views, sizes, step, save, check, focusHeadi
       {engine.shimPosition === "under" && order === undefined ? null : mustTurn ? (
         <Notice>Tick the two-turn check first: the valves to measure again show once it is done.</Notice>
       ) : (
-        changed.map((v) => <ValveCard key={v.valve.id} checkId={check.id} engine={engine} view={v} sizes={sizes} step={step} onSave={save(v)} />)
+        <ByPosition engine={engine} changed={changed} render={(v) => <ValveCard key={v.valve.id} checkId={check.id} engine={engine} view={v} sizes={sizes} step={step} onSave={save(v)} />} />
       )}
       {open.length === 0 ? <Notice tone="ok">✓ Every valve is in its band.</Notice> : <Notice>{openWords(open)}</Notice>}
       {asking && held?.verdict ? (

@@ -112,7 +112,7 @@ function Queue({ club }: { club: ClubSummary }) {
   }, [qc, queue.data]);
   if (!queue.data) return null;
   return (
-    <section className="flex flex-col gap-2" aria-label="Waiting for review">
+    <section className="flex flex-col gap-2" aria-label={`Waiting for review in ${club.name}`}>
       <h3 className="text-lg font-bold">Waiting for review</h3>
       {queue.data.length === 0 && <p className="text-ink-soft">Nothing shared with the club right now.</p>}
       <ul className="flex flex-col gap-2">

@@ -4,7 +4,7 @@ import { useQuery, useQueryClient } from "@tanstack/react-query";
 import { useLiveQuery } from "@/components/sync/use-live-query";
 import { useSearchParams } from "next/navigation";
 import Link from "next/link";
-import { useEffect, useMemo } from "react";
+import { useEffect, useMemo, useRef, useState } from "react";
 import { valveRounds } from "@/lib/check/rounds";
 import { camsOut, camsOutWords } from "@/lib/lash";
 import { shimPositionWords } from "@/lib/check/shim-position";
@@ -21,7 +21,7 @@ import type { LocalEngine, LocalReading } from "@/lib/sync/local-db";
 import { EngineDiagram } from "@/components/check/engine-diagram";
 import { PlanTable } from "@/components/check/plan-table";
 import { Notice } from "@/components/ui/controls";
-import { CommentThread, type ThreadComment } from "./comment-thread";
+import { CommentForm, CommentItem, CommentThread, type ThreadComment } from "./comment-thread";
 import { FORMER_MEMBER } from "@/lib/account/deletion";
 import { facingOf } from "@/lib/check/diagram";
 
@@ -54,6 +54,17 @@ export function ReviewScreen() {
   useEffect(() => {
     if (user && !navigator.onLine) void needDb();
   }, [user, needDb]);
+  // the valve tapped on the diagram: its readings, its comments and a box to comment on it
+  const [picked, setPicked] = useState<string | null>(null);
+  const [pickN, setPickN] = useState(0);
+  const panelHeading = useRef<HTMLHeadingElement>(null);
+  useEffect(() => {
+    if (pickN === 0) return;
+    const h = panelHeading.current;
+    if (!h) return;
+    h.scrollIntoView({ block: "start" });
+    h.focus({ preventScroll: true });
+  }, [pickN]);
   const local = useLiveQuery(async () => (db ? db.comments.where("checkId").equals(id).toArray() : []), [db, id], []);
   const outbox = useLiveQuery(async () => (db ? db.outbox.toArray() : []), [db], []);
   const pendingIds = new Set(outbox.filter((m) => m.name === "comment.add/1").map((m) => (m.args as { id: string }).id));
@@ -76,6 +87,38 @@ export function ReviewScreen() {
     void refresh();
   };
 
+  // A mail's link ends in #comments, #verdict or #comment-<id>: that part is drawn only once the
+  // check and its comments are here, so the browser's own jump finds nothing. Land there once the
+  // answer after this visit is in (or failed, offline: the kept copy is then shown).
+  const landed = useRef(false);
+  const commentsIn = comments.isFetchedAfterMount || comments.isError;
+  const sharesIn = shares.isFetchedAfterMount || shares.isError;
+  const drawn = !!views;
+  useEffect(() => {
+    const land = () => {
+      const hash = decodeURIComponent(window.location.hash.slice(1));
+      if (!hash) return true;
+      if (hash === "verdict" ? !sharesIn : !commentsIn) return false;
+      let el: HTMLElement | null;
+      if (hash === "comments") {
+        // the newest comment by someone else is the one the mail was about
+        const theirs = [...document.querySelectorAll<HTMLElement>("#comments li[id^='comment-']")].filter((li) => li.dataset.mine !== "true");
+        el = theirs.at(-1) ?? document.getElementById("comments");
+      } else el = document.getElementById(hash);
+      if (el) {
+        el.scrollIntoView({ block: "start" });
+        el.focus({ preventScroll: true });
+      }
+      return true;
+    };
+    if (!drawn) return;
+    if (!landed.current) landed.current = land();
+    // a link to another part of this page (a second mail opened in the same tab)
+    const again = () => void land();
+    window.addEventListener("hashchange", again);
+    return () => window.removeEventListener("hashchange", again);
+  }, [drawn, commentsIn, sharesIn]);
+
   if (check.isPending) return <p className="text-ink-soft">Loading the check…</p>;
   if (check.isError) return <Notice tone="error">{check.error.message}. Open the check once with a signal to keep it for reading offline.</Notice>;
   if (!engine || !views) return null;
@@ -91,6 +134,8 @@ export function ReviewScreen() {
       .map((c) => ({ id: c.id, checkId: c.checkId, valve: c.valve, body: c.body, authorId: c.authorId, authorName: c.authorId === user?.id ? user.name : c.authorId === null ? FORMER_MEMBER : "club member", createdAt: String(c.createdAt), pending: pendingIds.has(c.id) })),
   ].sort((a, b) => new Date(a.createdAt).getTime() - new Date(b.createdAt).getTime());
   const dots = new Set(thread.map((c) => c.valve).filter((v): v is string => !!v));
+  const pickedView = picked ? views.find((v) => v.valve.id === picked) : undefined;
+  const pickedComments = thread.filter((c) => c.valve === picked);
   const shownVerdict = pendingVerdict && pendingVerdict.shareId === share?.id ? pendingVerdict.verdict : share?.verdict;
   const isMentor = check.data.access === "mentor";
   return (
@@ -108,7 +153,50 @@ export function ReviewScreen() {
           Open the check to work on it
         </Link>
       )}
-      <EngineDiagram views={views} facing={facingOf(engine)} commentDots={dots} />
+      <p className="text-sm text-ink-soft">Tap a valve for its readings and comments{isMentor ? ", and to comment on it" : ""}.</p>
+      <EngineDiagram
+        views={views}
+        facing={facingOf(engine)}
+        commentDots={dots}
+        current={picked ?? undefined}
+        onPick={(v) => {
+          setPicked(v);
+          setPickN((n) => n + 1);
+        }}
+      />
+      {picked && pickedView && (
+        <section aria-labelledby="valve-panel-title" data-testid="valve-panel" className="flex scroll-mt-4 flex-col gap-3 rounded-2xl border-2 border-accent bg-surface p-3">
+          <div className="flex flex-wrap items-center justify-between gap-2">
+            <h2 id="valve-panel-title" ref={panelHeading} tabIndex={-1} className="figures text-xl font-extrabold">
+              Valve {picked}
+            </h2>
+            <button type="button" onClick={() => setPicked(null)} className="min-h-12 rounded-xl border-2 border-line px-4 font-bold">
+              Close
+            </button>
+          </div>
+          <ol className="figures flex flex-col gap-0.5" aria-label={`Readings of ${picked}`}>
+            {valveRounds(allReadings, picked, unit).map((r) => (
+              <li key={r.round} className="flex flex-wrap justify-between gap-x-2">
+                <span className="text-ink-soft">{r.title}</span>
+                <span className="text-right">{r.text}</span>
+              </li>
+            ))}
+            {pickedView.latest == null && <li className="text-ink-soft">not measured</li>}
+          </ol>
+          <PhotoStrip checkId={id} valve={picked} canAdd={false} label={`valve ${picked}`} />
+          <h3 className="font-extrabold">Comments on {picked}</h3>
+          {pickedComments.length === 0 ? (
+            <p className="text-ink-soft">None yet.</p>
+          ) : (
+            <ol className="flex flex-col gap-2" aria-label={`Comments on ${picked}`}>
+              {pickedComments.map((c) => (
+                <CommentItem key={c.id} c={c} />
+              ))}
+            </ol>
+          )}
+          <CommentForm key={picked} idPrefix="valve-comment" valve={picked} onAdd={onComment} />
+        </section>
+      )}
       <section aria-labelledby="readings-title" className="flex flex-col gap-2">
         <h2 id="readings-title" className="text-xl font-extrabold">
           Readings and how they were found
@@ -139,7 +227,7 @@ export function ReviewScreen() {
         <PhotoStrip checkId={id} valve={null} canAdd label="the whole check" />
       </section>
       {plan && <PlanTable engine={engine} plan={plan} byId={new Map(views.map((v) => [v.valve.id, v]))} />}
-      <section id="verdict" aria-labelledby="verdict-title" className="flex scroll-mt-4 flex-col gap-2 rounded-2xl border-2 border-accent p-4">
+      <section id="verdict" tabIndex={-1} aria-labelledby="verdict-title" className="flex scroll-mt-4 flex-col gap-2 rounded-2xl border-2 border-accent p-4">
         <h2 id="verdict-title" className="text-xl font-extrabold">
           Verdict
         </h2>
@@ -157,7 +245,7 @@ export function ReviewScreen() {
           </div>
         )}
       </section>
-      <CommentThread comments={thread} valves={views.map((v) => v.valve.id)} onAdd={onComment} photosOf={(cid) => <PhotoStrip checkId={id} valve={null} commentId={cid} canAdd={false} label="this comment" />} />
+      <CommentThread me={user?.id} comments={thread} valves={views.map((v) => v.valve.id)} onAdd={onComment} photosOf={(cid) => <PhotoStrip checkId={id} valve={null} commentId={cid} canAdd={false} label="this comment" />} />
     </div>
   );
 }

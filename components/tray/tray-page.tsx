@@ -41,8 +41,8 @@ export function TrayPage() {
         {items
           .filter((t) => t.count > 0)
           .map((t) => (
-          <li key={t.id} className="flex items-center gap-3 rounded-xl border border-line bg-surface p-3">
-            <span className="figures min-w-28 text-2xl font-extrabold">{shimNumber(t.size, t.measuredSize)}</span>
+          <li key={t.id} className="flex flex-wrap items-center gap-x-3 gap-y-2 rounded-xl border border-line bg-surface p-3">
+            <span className="figures min-w-20 text-2xl font-extrabold">{shimNumber(t.size, t.measuredSize)}</span>
             <span className="text-sm text-ink-soft">
                   mm{t.measuredSize ? " (micrometer)" : ""}
                   {t.shimDiameter != null ? <span className="block">{t.shimDiameter} mm across</span> : null}

@@ -2,7 +2,7 @@
 
 import Link from "next/link";
 import { usePathname, useSearchParams } from "next/navigation";
-import { Suspense, type ReactNode } from "react";
+import { Suspense, useSyncExternalStore, type ReactNode } from "react";
 import { useLocal } from "@/components/sync/local-provider";
 import { StorageNotice } from "@/components/sync/storage-notice";
 import { SyncLine } from "@/components/sync/sync-line";
@@ -44,7 +44,7 @@ export function AppShell({ title, children, back }: { title: string; children: R
         Skip to content
       </a>
       <header className="flex flex-col gap-1 border-b border-line px-4 pt-3 pb-1 print:hidden">
-        <div className="flex items-center justify-between gap-2">
+        <div className="flex flex-wrap items-center justify-between gap-x-2">
           <Link href="/engines" className="inline-flex min-h-12 items-center text-xl font-extrabold tracking-tight">
             Lash<span className="text-accent">wright</span>
           </Link>
@@ -120,15 +120,23 @@ function revokedText(r: { email: string; changes: number; photos: number }) {
 }
 
 /** Sign in and come back here, query string included (/check?id=... must survive the round trip). */
-function SignInHere({ path, query }: { path: string; query: string }) {
+function SignInHere({ path, query, hash = "" }: { path: string; query: string; hash?: string }) {
   // not prefetched: a visitor sent here loads the sign-in form's code only if they tap
   return (
-    <ButtonLink href={`/sign-in?next=${encodeURIComponent(query ? `${path}?${query}` : path)}`} prefetch={false}>
+    <ButtonLink href={`/sign-in?next=${encodeURIComponent(`${query ? `${path}?${query}` : path}${hash}`)}`} prefetch={false}>
       Sign in
     </ButtonLink>
   );
 }
 
+function onHashChange(then: () => void) {
+  window.addEventListener("hashchange", then);
+  return () => window.removeEventListener("hashchange", then);
+}
+
 function SignInWithQuery({ path }: { path: string }) {
-  return <SignInHere path={path} query={useSearchParams().toString()} />;
+  // a mail's link to #comments or #verdict keeps its fragment through sign-in (read after the first
+  // render: the server never sees it)
+  const hash = useSyncExternalStore(onHashChange, () => window.location.hash, () => "");
+  return <SignInHere path={path} query={useSearchParams().toString()} hash={hash} />;
 }

@@ -31,3 +31,26 @@ export function valvesOfMoves(moves: ShimMove[]): string[] {
   for (const m of moves) for (const p of [m.from, m.to]) if (p.kind === "valve") out.add(p.valveId);
   return [...out];
 }
+
+/**
+ * The ticks of the Fit step: one per valve that gets a shim. A tick is the change made at one
+ * valve, and it holds every move that change needs: a valve whose own shim goes to the tray (or is
+ * set aside, to start a ring of swaps) is emptied and filled in one tick; a shim passed from one
+ * valve to the next is one tick that takes it out of the one and fits it in the other (its two
+ * ends), since the giving valve is then filled by the next tick. A bought, borrowed or tray shim
+ * fitted to a valve already emptied is one tick too. The moves, and the tick per move kept on the
+ * phone, are as before: a tick sets or clears all of its moves.
+ */
+export function fitTicks(moves: ShimMove[]): number[][] {
+  const ticks: number[][] = [];
+  for (let i = 0; i < moves.length; i++) {
+    const m = moves[i]!;
+    const next = moves[i + 1];
+    const emptied = (m.to.kind === "tray" || m.to.kind === "aside") && m.from.kind === "valve";
+    if (emptied && next && next.to.kind === "valve" && next.to.valveId === (m.from as { valveId: string }).valveId) {
+      ticks.push([i, i + 1]);
+      i++;
+    } else ticks.push([i]);
+  }
+  return ticks;
+}

@@ -30,6 +30,7 @@ export const saveTrayItem = later<typeof Writes, "saveTrayItem">(writes, "saveTr
 export const adjustTray = later<typeof Writes, "adjustTray">(writes, "adjustTray");
 export const beginFit = later<typeof Writes, "beginFit">(writes, "beginFit");
 export const toggleSwap = later<typeof Writes, "toggleSwap">(writes, "toggleSwap");
+export const toggleSwaps = later<typeof Writes, "toggleSwaps">(writes, "toggleSwaps");
 export const toggleFitTask = later<typeof Writes, "toggleFitTask">(writes, "toggleFitTask");
 export const setTurned = later<typeof Writes, "setTurned">(writes, "setTurned");
 export const addComment = later<typeof Writes, "addComment">(writes, "addComment");

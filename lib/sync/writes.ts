@@ -117,20 +117,32 @@ export function beginFit(db: LocalDb, checkId: string, moves: ShimMove[]) {
  * tap can never take a shim from the tray twice.
  */
 export function toggleSwap(db: LocalDb, checkId: string, index: number): Promise<boolean> {
+  return toggleSwaps(db, checkId, [index]);
+}
+
+/**
+ * Tick (or untick) one change of the Fit step: the moves it holds (lib/check/fit, fitTicks) all
+ * together, in one transaction. Ticked when any of them is not yet done; unticking goes backwards.
+ */
+export function toggleSwaps(db: LocalDb, checkId: string, indexes: number[]): Promise<boolean> {
   return db.transaction("rw", writeTables(db), async () => {
     const order = await getMeta<WorkOrderState>(db, workOrderKey(checkId));
-    const move = order?.moves[index];
-    if (!order || !move) throw new LashInputError("this swap is not on the list: open the Fit step again from the plan");
-    const on = !order.done[index];
-    const effects = swapEffects(move, on);
-    for (const t of effects.tray) await adjustTray(db, t.size, t.delta);
-    if (effects.fit) {
-      const { valveId, shim } = effects.fit;
-      const latest = (await db.readings.where("checkId").equals(checkId).filter((r) => r.valve === valveId).toArray()).sort((a, b) => b.round - a.round)[0];
-      if (!latest) throw new LashInputError(`${valveId} has no reading in this check to fit a shim to`);
-      await saveReading(db, checkId, { ...latest, fittedShim: shim });
+    if (!order || indexes.length === 0 || indexes.some((i) => !order.moves[i])) throw new LashInputError("this swap is not on the list: open the Fit step again from the plan");
+    const on = indexes.some((i) => !order.done[i]);
+    const done = order.moves.map((_, j) => !!order.done[j]);
+    for (const index of on ? indexes : [...indexes].reverse()) {
+      if (done[index] === on) continue;
+      const effects = swapEffects(order.moves[index]!, on);
+      for (const t of effects.tray) await adjustTray(db, t.size, t.delta);
+      if (effects.fit) {
+        const { valveId, shim } = effects.fit;
+        const latest = (await db.readings.where("checkId").equals(checkId).filter((r) => r.valve === valveId).toArray()).sort((a, b) => b.round - a.round)[0];
+        if (!latest) throw new LashInputError(`${valveId} has no reading in this check to fit a shim to`);
+        await saveReading(db, checkId, { ...latest, fittedShim: shim });
+      }
+      done[index] = on;
     }
-    await setMeta(db, workOrderKey(checkId), { ...order, done: order.moves.map((_, j) => (j === index ? on : !!order.done[j])) } satisfies WorkOrderState);
+    await setMeta(db, workOrderKey(checkId), { ...order, done } satisfies WorkOrderState);
     return on;
   });
 }

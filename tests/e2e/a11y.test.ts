@@ -8,9 +8,12 @@ import { addMembership, ENGINE_FOUR, makeUser } from "../support/fixtures";
 
 /**
  * axe-core on every screen and every step of a check, as a mechanic and as a mentor, in light and
- * dark at 390 px and in light at 360 px. Any violation fails, with its rule, impact and elements.
+ * dark at 390 px and in light at 360 px; and again at 320 px (WCAG 1.4.10 Reflow) in light and dark
+ * with long names everywhere (engine, club, member, one long unbroken word), where no screen may
+ * be wider than the phone. Any violation fails, with its rule, impact and elements.
  *
- * WCAG 2.1 levels A and AA (the tags wcag2a, wcag2aa, wcag21a, wcag21aa) plus axe's best practice.
+ * WCAG 2.2 levels A and AA (the tags wcag2a, wcag2aa, wcag21a, wcag21aa, wcag22aa: 2.5.8 Target
+ * Size (Minimum) among them) plus axe's best practice.
  * Among the success criteria the rules test: 1.1.1 Non-text Content, 1.3.1 Info and Relationships,
  * 1.4.3 Contrast (Minimum), 1.4.4 Resize Text, 1.4.12 Text Spacing, 2.1.1 Keyboard (scrollable
  * regions reachable), 2.4.1 Bypass Blocks, 2.4.2 Page Titled, 2.4.4 Link Purpose, 3.1.1 Language of
@@ -19,7 +22,7 @@ import { addMembership, ENGINE_FOUR, makeUser } from "../support/fixtures";
  * runs only when asked: it is asked for here, since the valve cells' names must carry their
  * visible text. No rule is turned off.
  */
-const TAGS = ["wcag2a", "wcag2aa", "wcag21a", "wcag21aa", "best-practice"];
+const TAGS = ["wcag2a", "wcag2aa", "wcag21a", "wcag21aa", "wcag22aa", "best-practice"];
 const ALSO = { "label-content-name-mismatch": { enabled: true } };
 
 const VARIANTS = [
@@ -305,4 +308,125 @@ describe("axe finds nothing on any screen", () => {
       expect(mine.map((f) => `${f.screen}: ${f.rule} (${f.impact}) ${f.targets.join(" | ")}`)).toEqual([]);
     });
   }
+});
+
+/**
+ * Long names, as people type them (invented): a member's double name, an engine named with one
+ * German compound, a club named by a pasted link, a note with a long unbroken word.
+ */
+const LONG = {
+  member: "Maximiliane-Friederike Oberhausen-Wittgensteinova",
+  engine: "Ventilspieleinstellungsgemeinschaftsversammlungsmotorrad",
+  club: "https://forum.example/KestrelHollowMotorcycleRestorationFellowshipNorth",
+  word: "Nockenwellenlagerdeckelschraubenanzugsdrehmomentangabe",
+};
+
+/** What sticks out past the right edge of the phone (a scrolling box's own content aside). */
+function overflow(page: Page) {
+  return page.evaluate(() => {
+    const w = document.documentElement.clientWidth;
+    const wide: string[] = [];
+    for (const el of document.querySelectorAll<HTMLElement>("body *")) {
+      const r = el.getBoundingClientRect();
+      if (r.width === 0 || r.right <= w + 0.5) continue;
+      // inside a box that scrolls sideways, it is that box's content
+      let inScroller = false;
+      for (let a = el.parentElement; a && a !== document.body; a = a.parentElement) {
+        const o = getComputedStyle(a).overflowX;
+        if (o === "auto" || o === "scroll" || o === "hidden") inScroller = true;
+      }
+      if (!inScroller) wide.push(`${el.tagName.toLowerCase()}${el.id ? `#${el.id}` : ""}.${String(el.className).split(" ").slice(0, 3).join(".")} right ${Math.round(r.right)}`);
+    }
+    return { page: document.documentElement.scrollWidth, width: w, wide: wide.slice(0, 6) };
+  });
+}
+
+describe("every screen reflows at 320 px with long names", () => {
+  const long = { engine: crypto.randomUUID(), check: crypto.randomUUID(), planned: crypto.randomUUID() };
+  let user: { email: string; password: string };
+  beforeAll(async () => {
+    const u = await makeUser("a11y-long");
+    user = u;
+    const db = await rawConnection();
+    await db.query("UPDATE users SET name = ? WHERE id = ?", [LONG.member, u.id]);
+    await db.end();
+    const api = await signedInClient(baseUrl(), u);
+    const club = await api.post("/api/clubs", { name: LONG.club });
+    expect(club.status).toBe(201);
+    const clubId = (club.json.club as { id: string }).id;
+    const valves = Object.keys(MEASURED);
+    const reading = (checkId: string, valve: string, extra: Record<string, unknown>) => ({ name: "reading.put/1", args: { checkId, reading: { valve, round: 0, installedStamp: 2.6, ...extra } } });
+    await push(api, [
+      { name: "engine.put/1", args: { id: long.engine, ...ENGINE_FOUR, name: LONG.engine } },
+      { name: "check.put/1", args: { id: long.check, engineId: long.engine, odometer: 123_456, measuredHot: false, status: "verifying", notes: LONG.word } },
+      ...valves.map((v) => reading(long.check, v, { measured: MEASURED[v], method: "typed", fittedShim: v === "I1.2" || v === "E4.1" ? 2.7 : null })),
+      { name: "check.put/1", args: { id: long.planned, engineId: long.engine, odometer: 99_000, measuredHot: false, status: "planned" } },
+      ...valves.map((v) => reading(long.planned, v, { measured: MEASURED[v], method: "typed" })),
+      { name: "tray.put/1", args: { id: crypto.randomUUID(), size: 2.555, measuredSize: true, count: 12, shimDiameter: 10.48 } },
+      { name: "pool.offer/1", args: { id: crypto.randomUUID(), clubId, size: 2.555, measuredSize: true, count: 3, shimDiameter: 10.48, note: LONG.word } },
+      { name: "comment.add/1", args: { id: crypto.randomUUID(), checkId: long.planned, body: `Look at ${LONG.word} first.`, valve: "E4.1" } },
+    ]);
+    const share = await api.post(`/api/checks/${long.planned}/shares`, { clubId });
+    expect(share.status).toBe(201);
+  });
+
+  for (const scheme of ["light", "dark"] as const)
+    it(`in ${scheme} at 320 px: no screen is wider than the phone, and axe finds nothing`, { timeout: 300_000 }, async () => {
+      const before = found.length;
+      const variant = `${scheme} 320, long names`;
+      const wide: string[] = [];
+      const { ctx, page } = await context(scheme, 320);
+      const look = async (screen: string) => {
+        await audit(page, variant, screen);
+        const o = await overflow(page);
+        if (o.page > o.width) wide.push(`${screen}: ${o.page} px wide (${o.wide.join("; ")})`);
+        await page.screenshot({ path: `test-results/a11y-320-${scheme}-${screen.replace(/[^a-z0-9]+/gi, "-")}.png`, fullPage: true });
+      };
+      await page.goto(`${baseUrl()}/sign-in`);
+      await page.getByRole("heading", { level: 1, name: /Sign in/ }).waitFor();
+      await look("sign in");
+      await signInAs(page, user.email, user.password);
+      await page.getByRole("link", { name: new RegExp(LONG.engine) }).waitFor();
+      await look("engines");
+      await page.goto(`${baseUrl()}/engine?id=${long.engine}`);
+      await page.getByRole("heading", { name: LONG.engine }).waitFor();
+      await page.getByText(/123,456/).first().waitFor();
+      await look("an engine");
+      await page.goto(`${baseUrl()}/engine/edit?id=${long.engine}`);
+      await page.getByRole("button", { name: "Save engine" }).waitFor();
+      await look("engine form");
+      await page.goto(`${baseUrl()}/checks`);
+      await page.getByText(/123,456/).first().waitFor();
+      await look("checks");
+      await page.goto(`${baseUrl()}/tray`);
+      await page.getByText(/2\.555/).first().waitFor();
+      await look("tray");
+      // the tray's buttons are on the phone, not past its edge
+      const plus = (await page.getByRole("button", { name: "One more 2.555 mm" }).boundingBox())!;
+      expect(plus.x + plus.width).toBeLessThanOrEqual(320);
+      await page.goto(`${baseUrl()}/club`);
+      await page.getByRole("heading", { name: LONG.club }).waitFor();
+      await look("club");
+      await page.goto(`${baseUrl()}/account`);
+      await page.getByRole("checkbox", { name: /E-mail me about/ }).waitFor();
+      await look("account");
+      for (const [id, step, ready] of [
+        [long.planned, "prepare", () => page.getByRole("checkbox", { name: /Engine cold/ }).waitFor()],
+        [long.planned, "measure", () => page.locator("article[data-valve]").waitFor()],
+        [long.planned, "plan", () => page.getByText("Plan per valve").waitFor()],
+        [long.planned, "fit", () => page.getByRole("checkbox").first().waitFor()],
+        [long.check, "verify", () => page.locator("article[data-valve]").nth(1).waitFor()],
+      ] as const) {
+        await page.goto(check(id, step));
+        await ready();
+        await look(`check: ${step}`);
+      }
+      await page.goto(`${baseUrl()}/review?id=${long.planned}`);
+      await page.getByText(/Look at Nocken/).waitFor();
+      await look("review, the owner's view");
+      await ctx.close();
+      expect(wide).toEqual([]);
+      const mine = found.slice(before);
+      expect(mine.map((f) => `${f.screen}: ${f.rule} (${f.impact}) ${f.targets.join(" | ")}`)).toEqual([]);
+    });
 });

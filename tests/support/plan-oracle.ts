@@ -3,25 +3,32 @@ import type { PlanValve, ShimPlan } from "@/lib/lash";
 /** The planner's oracle for tests: its objective, and exhaustive search over every plan. */
 const nm = (mm: number) => Math.round(mm * 1e6);
 
-/** The plan's objective in the order the core promises: out of band, bought, borrowed, distance, tight. */
+/**
+ * The plan's objective in the order the core promises: out of band, bought plus lenders (each lender
+ * a trip), lenders, bought, borrowed, distance, tight.
+ */
 export function score(plan: ShimPlan, valves: PlanValve[]) {
   let out = 0;
   let buys = 0;
   let borrows = 0;
   let dist = 0;
   let tight = 0;
+  const lenders = new Set<string>();
   for (const a of plan.assignments) {
     const v = valves.find((x) => x.id === a.valveId)!;
     const s = { ...v.spec, target: v.spec.target ?? (v.spec.min + v.spec.max) / 2 };
     if (!a.inSpec) out++;
     if (a.source.kind === "buy") buys++;
-    if (a.source.kind === "club") borrows++;
+    if (a.source.kind === "club") {
+      borrows++;
+      lenders.add(a.source.ownerId);
+    }
     if (a.source.kind !== "keep" && a.inSpec) {
       dist += Math.abs(nm(a.predicted) - nm(s.target));
       if (nm(a.predicted) < nm(s.target)) tight++;
     }
   }
-  return [out, buys, borrows, dist, tight] as const;
+  return [out, buys + lenders.size, lenders.size, buys, borrows, dist, tight] as const;
 }
 
 function lexLess(a: readonly number[], b: readonly number[]) {
@@ -73,9 +80,13 @@ export function bruteForce(valves: PlanValve[], sizes: number[], tray: { size: n
   let best: readonly number[] | null = null;
   const used = new Array(pool.length).fill(false);
   const acc = [0, 0, 0, 0, 0];
+  const lent = new Map<string, number>(); // lender -> shims taken from them on this path
   const walk = (i: number) => {
     if (i === rows.length) {
-      if (!best || lexLess(acc, best)) best = [...acc];
+      const [out, buys, borrows, dist, tight] = acc as [number, number, number, number, number];
+      const l = lent.size;
+      const total = [out, buys + l, l, buys, borrows, dist, tight];
+      if (!best || lexLess(total, best)) best = total;
       return;
     }
     const v = rows[i]!;
@@ -97,10 +108,16 @@ export function bruteForce(valves: PlanValve[], sizes: number[], tray: { size: n
       if (s.from === null && triedSizes.has(key)) return; // tray (or one lender's) copies of a size are interchangeable
       triedSizes.add(key);
       used[j] = true;
+      if (s.club) lent.set(s.club, (lent.get(s.club) ?? 0) + 1);
       const d = [0, 0, s.club ? 1 : 0, Math.abs(p - target), p < target ? 1 : 0];
       add(d);
       walk(i + 1);
       sub(d);
+      if (s.club) {
+        const left = lent.get(s.club)! - 1;
+        if (left) lent.set(s.club, left);
+        else lent.delete(s.club);
+      }
       used[j] = false;
     });
   };

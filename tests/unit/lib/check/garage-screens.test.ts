@@ -10,13 +10,15 @@ const LEFT = { mirrored: false, nearSide: "exhaust" } as const;
 const views = (cylinders: number, i: number, e: number) => valveNames({ cylinders, intakePerCylinder: i, exhaustPerCylinder: e }).map((valve) => ({ valve }));
 
 describe("the diagram's rows", () => {
-  it("fit the width and are balanced: six cylinders of four valves on a 300 px phone as 3 and 3", () => {
+  it("fit the width and are balanced: six cylinders of four 44 px cells on a 300 px phone as 2, 2 and 2", () => {
     const rows = diagramRows(views(6, 2, 2), LEFT, 300);
     expect(rows.map((r) => r.map((g) => g.cylinder))).toEqual([
-      [1, 2, 3],
-      [4, 5, 6],
+      [1, 2],
+      [3, 4],
+      [5, 6],
     ]);
-    expect(3 * groupWidth(2) + 2 * 8).toBeLessThanOrEqual(300);
+    expect(2 * groupWidth(2) + 8).toBeLessThanOrEqual(300);
+    expect(3 * groupWidth(2) + 2 * 8).toBeGreaterThan(300);
   });
 
   it("never puts more in a row than fit, down to one cylinder of five valves", () => {

@@ -138,7 +138,7 @@ describe("planShims", () => {
       }));
       const tray = Array.from({ length: 5 }, () => ({ size: series[next(17)]!, count: 1 + next(2) }));
       const plan = planShims({ valves, sizes: series, tray });
-      const [, buys, , dist] = score(plan, valves);
+      const [, , , buys, , dist] = score(plan, valves);
 
       const model: { optimize: string; opType: "min"; constraints: Record<string, { equal?: number; max?: number }>; variables: Record<string, Record<string, number>> } = {
         optimize: "cost",

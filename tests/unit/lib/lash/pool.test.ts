@@ -14,15 +14,19 @@ const spec = { min: 0.2, max: 0.3 };
 const nm = (mm: number) => Math.round(mm * 1e6);
 
 describe("planner with a club pool", () => {
-  it("borrows a size rather than buying it", () => {
-    // E1: 2.60 + 0.10 = 2.70 of gap; target 0.25 wants 2.45, below the series: 2.50 gives 0.20, in band
-    const valves: PlanValve[] = [{ id: "E1", installed: 2.6, measured: 0.1, spec }];
+  it("borrows from one lender rather than buying two", () => {
+    // E1 and E2: 2.60 + 0.10 = 2.70 of gap; target 0.25 wants 2.45, below the series: 2.50 gives 0.20, in band
+    const valves: PlanValve[] = [
+      { id: "E1", installed: 2.6, measured: 0.1, spec },
+      { id: "E2", installed: 2.6, measured: 0.1, spec },
+    ];
     const alone = planShims({ valves, sizes: series });
-    expect(alone.buy).toEqual([{ size: 2.5, count: 1 }]);
+    expect(alone.buy).toEqual([{ size: 2.5, count: 2 }]);
+    // one trip to lender-1 (1) against two bought (2)
     const plan = planShims({ valves, sizes: series, pool: [{ size: 2.5, count: 2, ownerId: "lender-1" }] });
     expect(plan.assignments[0]).toMatchObject({ size: 2.5, source: { kind: "club", ownerId: "lender-1" }, inSpec: true });
     expect(plan.buy).toEqual([]);
-    expect(plan.borrow).toEqual([{ size: 2.5, count: 1, ownerId: "lender-1" }]);
+    expect(plan.borrow).toEqual([{ size: 2.5, count: 2, ownerId: "lender-1" }]);
   });
 
   it("a swap inside the engine or the own tray beats borrowing", () => {
@@ -36,27 +40,34 @@ describe("planner with a club pool", () => {
     expect(plan.borrow).toEqual([]);
   });
 
-  it("buying the fewest comes first: one borrow more is worth one purchase less, never the other way", () => {
+  it("a lender is a trip, like a bought shim: one shim from each of two lenders loses to buying two", () => {
+    // I1 and I2 both want 2.45-2.50 (2.70 of gap, band 0.20-0.30 with 2.50 the only series size in
+    // it). Two lenders: 0 bought + 2 trips = 2; one lender and one bought: 1 + 1 = 2; two bought:
+    // 2 + 0 = 2. All even, and then the fewer lenders wins: the shop trip covers both
     const valves: PlanValve[] = [
       { id: "I1", installed: 2.6, measured: 0.1, spec },
       { id: "I2", installed: 2.6, measured: 0.1, spec },
     ];
     const plan = planShims({ valves, sizes: series, pool: [{ size: 2.5, count: 1, ownerId: "a" }, { size: 2.45, count: 1, ownerId: "b" }] });
-    expect(plan.buy).toEqual([]);
-    expect(plan.borrow.reduce((n, b) => n + b.count, 0)).toBe(2);
+    expect(plan.buy).toEqual([{ size: 2.5, count: 2 }]);
+    expect(plan.borrow).toEqual([]);
   });
 
   it("a pool shim of another shim system is left out, and the plan says so", () => {
     const engine = { shimDiameter: 9.48, shims: { min: 2.5, max: 3.3, step: 0.05 } };
     const offers = [
       { id: "o1", size: 2.5, count: 1, ownerId: "a", ownerName: "Ana", shimDiameter: 7.48 },
-      { id: "o2", size: 2.45, count: 1, ownerId: "b", ownerName: "Bo", shimDiameter: 9.48 },
+      { id: "o2", size: 2.45, count: 2, ownerId: "b", ownerName: "Bo", shimDiameter: 9.48 },
       { id: "o3", size: 2.55, count: 2, ownerId: "c", ownerName: "Cy", shimDiameter: null },
     ];
     const { pool, wrongSystem } = poolForEngine(engine, offers, "me");
-    expect(pool).toEqual([{ size: 2.45, count: 1, ownerId: "b" }]);
+    expect(pool).toEqual([{ size: 2.45, count: 2, ownerId: "b" }]);
     expect(wrongSystem.map((o) => o.id)).toEqual(["o1", "o3"]);
-    const valves: PlanValve[] = [{ id: "E1", installed: 2.6, measured: 0.1, spec }];
+    // two valves from one lender (one trip) rather than two bought
+    const valves: PlanValve[] = [
+      { id: "E1", installed: 2.6, measured: 0.1, spec },
+      { id: "E2", installed: 2.6, measured: 0.1, spec },
+    ];
     const plan = planShims({ valves, sizes: series, pool });
     expect(plan.assignments[0]!.source).toEqual({ kind: "club", ownerId: "b" });
     // one's own offers are not borrowed from oneself
