@@ -11,9 +11,34 @@ export default defineConfig([
     rules: {
       "no-restricted-imports": [
         "error",
-        { patterns: [{ group: ["react", "react-dom", "next", "next/*", "@/db/*", "@/app/*", "@/components/*", "drizzle-orm*", "mysql2*"], message: "lib/ stays free of React, Next.js and the database." }] },
+        {
+          patterns: [
+            {
+              group: [
+                "react",
+                "react-dom",
+                "next",
+                "next/*",
+                "@/db/*",
+                "@/app/*",
+                "@/components/*",
+                "drizzle-orm*",
+                "mysql2*",
+              ],
+              message: "lib/ stays free of React, Next.js and the database.",
+            },
+          ],
+        },
       ],
     },
   },
-  globalIgnores([".next/**", ".next-*/**", "node_modules/**", ".data/**", "public/serwist/**", "next-env.d.ts", "test-results/**"]),
+  globalIgnores([
+    ".next/**",
+    ".next-*/**",
+    "node_modules/**",
+    ".data/**",
+    "public/serwist/**",
+    "next-env.d.ts",
+    "test-results/**",
+  ]),
 ]);

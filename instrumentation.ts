@@ -20,5 +20,8 @@ export async function register() {
   setInterval(() => void kickPhotoSweep(), 10 * 60_000).unref();
   // a deleted account's photos, until the store has removed every one (server/object-deletions.ts)
   const { kickObjectDeletions } = await import("./server/object-deletions");
-  setInterval(kickObjectDeletions, Math.min(60, Number(process.env.OBJECT_DELETE_RETRY_SECONDS ?? 30) || 30) * 1000).unref();
+  setInterval(
+    kickObjectDeletions,
+    Math.min(60, Number(process.env.OBJECT_DELETE_RETRY_SECONDS ?? 30) || 30) * 1000,
+  ).unref();
 }

@@ -13,16 +13,37 @@ export default defineConfig({
       { extends: true, test: { name: "unit", include: ["tests/unit/**/*.test.ts"], environment: "node" } },
       {
         extends: true,
-        test: { name: "integration", include: ["tests/integration/**/*.test.ts"], environment: "node", fileParallelism: false, testTimeout: 30_000, hookTimeout: 60_000 },
+        test: {
+          name: "integration",
+          include: ["tests/integration/**/*.test.ts"],
+          environment: "node",
+          fileParallelism: false,
+          testTimeout: 30_000,
+          hookTimeout: 60_000,
+        },
       },
       {
         extends: true,
         // two app instances on a three-node Galera cluster started by scripts/test.mjs
-        test: { name: "cluster", include: ["tests/cluster/**/*.test.ts"], environment: "node", fileParallelism: false, testTimeout: 60_000, hookTimeout: 120_000 },
+        test: {
+          name: "cluster",
+          include: ["tests/cluster/**/*.test.ts"],
+          environment: "node",
+          fileParallelism: false,
+          testTimeout: 60_000,
+          hookTimeout: 120_000,
+        },
       },
       {
         extends: true,
-        test: { name: "e2e", include: ["tests/e2e/**/*.test.ts"], environment: "node", fileParallelism: false, testTimeout: 90_000, hookTimeout: 120_000 },
+        test: {
+          name: "e2e",
+          include: ["tests/e2e/**/*.test.ts"],
+          environment: "node",
+          fileParallelism: false,
+          testTimeout: 90_000,
+          hookTimeout: 120_000,
+        },
       },
     ],
   },

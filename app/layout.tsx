@@ -19,7 +19,8 @@ const figures = localFont({
 
 export const metadata: Metadata = {
   title: { default: "Lashwright: valve clearance workbook", template: "%s · Lashwright" },
-  description: "Measure valve clearances, plan shims with swaps and a buy list, fit and re-check, keep the history and get a mentor's review, all without a signal.",
+  description:
+    "Measure valve clearances, plan shims with swaps and a buy list, fit and re-check, keep the history and get a mentor's review, all without a signal.",
   applicationName: "Lashwright",
   icons: { icon: "/icons/icon-192.png", apple: "/icons/apple-touch-icon.png" },
 };

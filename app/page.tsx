@@ -3,10 +3,26 @@ import { SignedInHome } from "@/components/home/signed-in-home";
 import { ValvePreview } from "@/components/home/valve-preview";
 
 const steps = [
-  { n: "1", title: "Measure", text: "Follow the crank-rotation guide and tap the feeler blade that goes. Every tap is saved on the phone at once." },
-  { n: "2", title: "Plan shims", text: "See the shim each valve needs, which ones swap around the engine, what the tray covers and the short buy list." },
-  { n: "3", title: "Fit and re-check", text: "Tick each swap, measure the changed valves again, and loop until every valve sits in its band." },
-  { n: "4", title: "Keep the record", text: "Each valve's drift over the years, with a warning when one closes faster than its neighbours." },
+  {
+    n: "1",
+    title: "Measure",
+    text: "Follow the crank-rotation guide and tap the feeler blade that goes. Every tap is saved on the phone at once.",
+  },
+  {
+    n: "2",
+    title: "Plan shims",
+    text: "See the shim each valve needs, which ones swap around the engine, what the tray covers and the short buy list.",
+  },
+  {
+    n: "3",
+    title: "Fit and re-check",
+    text: "Tick each swap, measure the changed valves again, and loop until every valve sits in its band.",
+  },
+  {
+    n: "4",
+    title: "Keep the record",
+    text: "Each valve's drift over the years, with a warning when one closes faster than its neighbours.",
+  },
 ];
 
 // The account pages' links are not prefetched: a visitor on mobile data loads the landing page's
@@ -19,7 +35,11 @@ export default function HomePage() {
         <span className="text-2xl font-extrabold tracking-tight">
           Lash<span className="text-accent">wright</span>
         </span>
-        <Link href="/sign-in" prefetch={false} className="inline-flex min-h-12 items-center rounded-xl border-2 border-line px-4 font-bold">
+        <Link
+          href="/sign-in"
+          prefetch={false}
+          className="inline-flex min-h-12 items-center rounded-xl border-2 border-line px-4 font-bold"
+        >
           Sign in
         </Link>
       </header>
@@ -27,20 +47,31 @@ export default function HomePage() {
       <section className="flex flex-col gap-4">
         <h1 className="text-4xl leading-tight font-extrabold">The valve-clearance workbook for shim-type engines.</h1>
         <p className="text-lg text-ink-soft">
-          Measure every valve cold, work out the shims, find them among the engine, your tray and the club, fit them and measure
-          again. It all works in a garage with no signal, and syncs when you are back in range.
+          Measure every valve cold, work out the shims, find them among the engine, your tray and the club, fit them and
+          measure again. It all works in a garage with no signal, and syncs when you are back in range.
         </p>
         <div className="flex flex-col gap-3 sm:flex-row">
-          <Link href="/sign-up" prefetch={false} className="inline-flex min-h-14 items-center justify-center rounded-xl bg-accent px-6 text-lg font-extrabold text-accent-ink">
+          <Link
+            href="/sign-up"
+            prefetch={false}
+            className="inline-flex min-h-14 items-center justify-center rounded-xl bg-accent px-6 text-lg font-extrabold text-accent-ink"
+          >
             Create an account to start
           </Link>
-          <a href="#how" className="inline-flex min-h-14 items-center justify-center rounded-xl border-2 border-line px-6 text-lg font-bold">
+          <a
+            href="#how"
+            className="inline-flex min-h-14 items-center justify-center rounded-xl border-2 border-line px-6 text-lg font-bold"
+          >
             How a check runs
           </a>
         </div>
         <p className="text-ink-soft">
           Already have an account?{" "}
-          <Link href="/sign-in" prefetch={false} className="inline-flex min-h-12 items-center font-bold text-ink underline underline-offset-4">
+          <Link
+            href="/sign-in"
+            prefetch={false}
+            className="inline-flex min-h-12 items-center font-bold text-ink underline underline-offset-4"
+          >
             Sign in
           </Link>
         </p>
@@ -55,7 +86,10 @@ export default function HomePage() {
         <ol className="flex flex-col gap-3">
           {steps.map((s) => (
             <li key={s.n} className="flex gap-4 rounded-2xl border border-line bg-surface p-4">
-              <span aria-hidden className="figures flex h-12 w-12 shrink-0 items-center justify-center rounded-full bg-surface-2 text-2xl font-extrabold text-accent">
+              <span
+                aria-hidden
+                className="figures flex h-12 w-12 shrink-0 items-center justify-center rounded-full bg-surface-2 text-2xl font-extrabold text-accent"
+              >
                 {s.n}
               </span>
               <div>
@@ -72,16 +106,17 @@ export default function HomePage() {
           A second pair of eyes
         </h2>
         <p className="text-ink-soft">
-          Share a check with your club before you close the engine up. A mentor reads your numbers, comments on a valve or the whole
-          check, and gives a verdict.
+          Share a check with your club before you close the engine up. A mentor reads your numbers, comments on a valve
+          or the whole check, and gives a verdict.
         </p>
       </section>
 
       <footer className="border-t border-line pt-4 text-sm text-ink-soft">
         <p>
-          <strong className="text-ink">Work safely:</strong> engine cold, ignition off and battery disconnected, turn the crank by hand
-          in its normal direction, and cover openings so no shim can drop in. Lashwright is a calculation aid, not a specification: the
-          engine&apos;s service manual and a qualified mechanic have the last word.
+          <strong className="text-ink">Work safely:</strong> engine cold, ignition off and battery disconnected, turn
+          the crank by hand in its normal direction, and cover openings so no shim can drop in. Lashwright is a
+          calculation aid, not a specification: the engine&apos;s service manual and a qualified mechanic have the last
+          word.
         </p>
       </footer>
     </main>

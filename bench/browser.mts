@@ -31,18 +31,43 @@ async function startBarePage() {
   rmSync(dir, { recursive: true, force: true });
   mkdirSync(path.join(dir, "app"), { recursive: true });
   writeFileSync(path.join(dir, "package.json"), JSON.stringify({ name: "bare-page", private: true }));
-  writeFileSync(path.join(dir, "next.config.mjs"), `export default { turbopack: { root: ${JSON.stringify(root)} } };\n`);
-  writeFileSync(path.join(dir, "app", "layout.jsx"), `export const metadata = { title: "Bare page", description: "A page with no app code" };\nexport default function RootLayout({ children }) {\n  return (<html lang="en"><body>{children}</body></html>);\n}\n`);
-  writeFileSync(path.join(dir, "app", "page.jsx"), `export default function Page() {\n  return (<main><h1>Bare page</h1><p>No app code: the yardstick for page weight and audits.</p></main>);\n}\n`);
+  writeFileSync(
+    path.join(dir, "next.config.mjs"),
+    `export default { turbopack: { root: ${JSON.stringify(root)} } };\n`,
+  );
+  writeFileSync(
+    path.join(dir, "app", "layout.jsx"),
+    `export const metadata = { title: "Bare page", description: "A page with no app code" };\nexport default function RootLayout({ children }) {\n  return (<html lang="en"><body>{children}</body></html>);\n}\n`,
+  );
+  writeFileSync(
+    path.join(dir, "app", "page.jsx"),
+    `export default function Page() {\n  return (<main><h1>Bare page</h1><p>No app code: the yardstick for page weight and audits.</p></main>);\n}\n`,
+  );
   const next = path.join(root, "node_modules/next/dist/bin/next");
   await new Promise<void>((resolve, reject) => {
-    const b = spawn(process.execPath, [next, "build"], { cwd: dir, env: { ...process.env, NEXT_TELEMETRY_DISABLED: "1" }, stdio: "ignore" });
+    const b = spawn(process.execPath, [next, "build"], {
+      cwd: dir,
+      env: { ...process.env, NEXT_TELEMETRY_DISABLED: "1" },
+      stdio: "ignore",
+    });
     b.on("exit", (code) => (code === 0 ? resolve() : reject(new Error(`bare page build failed (${code})`))));
   });
   const port = await freePort();
-  const server = spawnChild(process.execPath, [next, "start", "-H", "127.0.0.1", "-p", String(port)], { cwd: dir, env: { ...process.env, NODE_ENV: "production", NEXT_TELEMETRY_DISABLED: "1" }, stdio: "ignore" });
+  const server = spawnChild(process.execPath, [next, "start", "-H", "127.0.0.1", "-p", String(port)], {
+    cwd: dir,
+    env: { ...process.env, NODE_ENV: "production", NEXT_TELEMETRY_DISABLED: "1" },
+    stdio: "ignore",
+  });
   const url = `http://127.0.0.1:${port}`;
-  for (let i = 0; i < 200 && !(await fetch(url).then((r) => r.ok).catch(() => false)); i++) await new Promise((r) => setTimeout(r, 150));
+  for (
+    let i = 0;
+    i < 200 &&
+    !(await fetch(url)
+      .then((r) => r.ok)
+      .catch(() => false));
+    i++
+  )
+    await new Promise((r) => setTimeout(r, 150));
   return {
     url,
     stop: async () => {
@@ -73,13 +98,18 @@ export function tapLoop(page: Page, taps: number) {
   return page.evaluate(
     async ({ taps }) => {
       const out: number[] = [];
-      const after = (name: string, t0: number, valve?: string) => performance.getEntriesByName(name).some((e) => (valve === undefined || (e as PerformanceMark).detail === valve) && e.startTime >= t0);
+      const after = (name: string, t0: number, valve?: string) =>
+        performance
+          .getEntriesByName(name)
+          .some((e) => (valve === undefined || (e as PerformanceMark).detail === valve) && e.startTime >= t0);
       for (let i = 0; i < taps; i++) {
         const valve = document.querySelector("article[data-valve]")!.getAttribute("data-valve")!;
         const group = document.querySelector(`[role="group"][aria-label="Feeler blades for ${valve}"]`)!;
         const buttons = group.querySelectorAll("button");
         // the blade that is not pressed now, so every tap changes the reading
-        const button = (buttons[9]!.getAttribute("aria-pressed") === "true" ? buttons[8] : buttons[9]) as HTMLButtonElement;
+        const button = (
+          buttons[9]!.getAttribute("aria-pressed") === "true" ? buttons[8] : buttons[9]
+        ) as HTMLButtonElement;
         performance.clearMarks();
         const t0 = performance.now();
         button.click();
@@ -87,7 +117,12 @@ export function tapLoop(page: Page, taps: number) {
           if (performance.now() - t0 > 5000) throw new Error(`tap ${i} on ${valve}: not stored and shown within 5 s`);
           await new Promise((r) => setTimeout(r, 0));
         }
-        const end = Math.max(...performance.getEntriesByName("lw:stored").concat(performance.getEntriesByName("lw:shown")).map((e) => e.startTime));
+        const end = Math.max(
+          ...performance
+            .getEntriesByName("lw:stored")
+            .concat(performance.getEntriesByName("lw:shown"))
+            .map((e) => e.startTime),
+        );
         out.push(end - t0);
       }
       return out;
@@ -100,17 +135,39 @@ export function tapLoop(page: Page, taps: number) {
 async function bareDexie(page: Page, n: number) {
   await page.addScriptTag({ content: readFileSync(path.join(root, "node_modules/dexie/dist/dexie.min.js"), "utf8") });
   return page.evaluate(async (n) => {
-    const D = (window as unknown as { Dexie: new (name: string) => { version(n: number): { stores(s: Record<string, string>): void }; open(): Promise<void>; transaction(mode: string, t: unknown[], fn: () => Promise<void>): Promise<void>; table(n: string): { put(v: unknown): Promise<unknown>; add(v: unknown): Promise<unknown> } } }).Dexie;
+    const D = (
+      window as unknown as {
+        Dexie: new (name: string) => {
+          version(n: number): { stores(s: Record<string, string>): void };
+          open(): Promise<void>;
+          transaction(mode: string, t: unknown[], fn: () => Promise<void>): Promise<void>;
+          table(n: string): { put(v: unknown): Promise<unknown>; add(v: unknown): Promise<unknown> };
+        };
+      }
+    ).Dexie;
     const db = new D(`bench-bare-${Math.random()}`);
     db.version(1).stores({ readings: "[checkId+valve+round], checkId", outbox: "++seq, &mutationId" });
     await db.open();
     const out: number[] = [];
     for (let i = 0; i < n; i++) {
       const t0 = performance.now();
-      const reading = { checkId: "c", valve: `I${(i % 4) + 1}.1`, round: 0, installedStamp: 2.6, feelerGo: 0.15, feelerNoGo: 0.18, measured: 0.15, method: "feeler", installedMicrometer: null, fittedShim: null };
+      const reading = {
+        checkId: "c",
+        valve: `I${(i % 4) + 1}.1`,
+        round: 0,
+        installedStamp: 2.6,
+        feelerGo: 0.15,
+        feelerNoGo: 0.18,
+        measured: 0.15,
+        method: "feeler",
+        installedMicrometer: null,
+        fittedShim: null,
+      };
       await db.transaction("rw", [db.table("readings"), db.table("outbox")], async () => {
         await db.table("readings").put(reading);
-        await db.table("outbox").add({ mutationId: i + 1, name: "reading.put/1", args: { checkId: "c", reading }, createdAt: Date.now() });
+        await db
+          .table("outbox")
+          .add({ mutationId: i + 1, name: "reading.put/1", args: { checkId: "c", reading }, createdAt: Date.now() });
       });
       out.push(performance.now() - t0);
     }
@@ -205,8 +262,25 @@ export async function runWeightAndAudits(srv: BenchServer) {
     say("  JavaScript of a signed-in visit to the measure step, nothing cached");
     const measure = await signedInColdJs(browser, srv);
     await browser.close();
-    const audits = await runLighthouse({ home: `${srv.url}/`, "sign-in": `${srv.url}/sign-in`, review: `${srv.url}/review?id=${crypto.randomUUID()}`, check: `${srv.url}/check?id=${crypto.randomUUID()}`, bare: bare.url });
-    return { weight: { pages, check, home, bare: barePage, ratio: check.bytes / barePage.bytes, measure, measureRatio: measure.bytes / barePage.bytes }, audits };
+    const audits = await runLighthouse({
+      home: `${srv.url}/`,
+      "sign-in": `${srv.url}/sign-in`,
+      review: `${srv.url}/review?id=${crypto.randomUUID()}`,
+      check: `${srv.url}/check?id=${crypto.randomUUID()}`,
+      bare: bare.url,
+    });
+    return {
+      weight: {
+        pages,
+        check,
+        home,
+        bare: barePage,
+        ratio: check.bytes / barePage.bytes,
+        measure,
+        measureRatio: measure.bytes / barePage.bytes,
+      },
+      audits,
+    };
   } finally {
     await browser.close().catch(() => undefined);
     await bare.stop();
@@ -216,22 +290,43 @@ export async function runWeightAndAudits(srv: BenchServer) {
 type Scores = { performance: number; accessibility: number; "best-practices": number };
 
 async function runLighthouse(pages: Record<string, string>): Promise<Record<string, Scores>> {
-  const chrome = await chromeLauncher.launch({ chromePath: CHROMIUM, chromeFlags: ["--headless=new", ...CHROMIUM_ARGS] });
+  const chrome = await chromeLauncher.launch({
+    chromePath: CHROMIUM,
+    chromeFlags: ["--headless=new", ...CHROMIUM_ARGS],
+  });
   try {
     const out: Record<string, Scores> = {};
     for (const [name, url] of Object.entries(pages)) {
       say(`  Lighthouse, mobile: ${name} page`);
       // mobile emulation with the default simulated throttling, as Lighthouse runs by default
-      let r = await lighthouse(url, { port: chrome.port, output: "json", logLevel: "error", onlyCategories: ["performance", "accessibility", "best-practices"] });
+      let r = await lighthouse(url, {
+        port: chrome.port,
+        output: "json",
+        logLevel: "error",
+        onlyCategories: ["performance", "accessibility", "best-practices"],
+      });
       // a run that failed to load the page (this shared machine stalls now and then) is tried once more
       if (r?.lhr.runtimeError || r?.lhr.categories.performance?.score == null) {
         console.log(`[lighthouse] ${name}: run failed (${r?.lhr.runtimeError?.code ?? "no score"}), trying again`);
-        r = await lighthouse(url, { port: chrome.port, output: "json", logLevel: "error", onlyCategories: ["performance", "accessibility", "best-practices"] });
+        r = await lighthouse(url, {
+          port: chrome.port,
+          output: "json",
+          logLevel: "error",
+          onlyCategories: ["performance", "accessibility", "best-practices"],
+        });
       }
       const c = r!.lhr.categories;
-      out[name] = { performance: Math.round((c.performance?.score ?? 0) * 100), accessibility: Math.round((c.accessibility?.score ?? 0) * 100), "best-practices": Math.round((c["best-practices"]?.score ?? 0) * 100) };
-      for (const a of Object.values(r!.lhr.audits).filter((a) => a.score !== null && a.score < 1 && a.scoreDisplayMode === "binary")) {
-        const items = ((a.details as { items?: Record<string, unknown>[] } | undefined)?.items ?? []).map((i) => JSON.stringify(i).slice(0, 300));
+      out[name] = {
+        performance: Math.round((c.performance?.score ?? 0) * 100),
+        accessibility: Math.round((c.accessibility?.score ?? 0) * 100),
+        "best-practices": Math.round((c["best-practices"]?.score ?? 0) * 100),
+      };
+      for (const a of Object.values(r!.lhr.audits).filter(
+        (a) => a.score !== null && a.score < 1 && a.scoreDisplayMode === "binary",
+      )) {
+        const items = ((a.details as { items?: Record<string, unknown>[] } | undefined)?.items ?? []).map((i) =>
+          JSON.stringify(i).slice(0, 300),
+        );
         console.log(`[lighthouse] ${name}: ${a.id} not passed${items.length ? `: ${items.join(" | ")}` : ""}`);
       }
     }

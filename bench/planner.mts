@@ -5,7 +5,7 @@ import { planShims, shimSeries, type PlanValve } from "../lib/lash/index";
 
 const series = shimSeries(2.5, 3.3, 0.05);
 let seed = 424242;
-const rand = () => ((seed = (seed * 1664525 + 1013904223) >>> 0) / 2 ** 32);
+const rand = () => (seed = (seed * 1664525 + 1013904223) >>> 0) / 2 ** 32;
 
 export function bigCase(valveCount = 48, trayCount = 500) {
   const valves: PlanValve[] = Array.from({ length: valveCount }, (_, i) => {
@@ -25,9 +25,17 @@ export function bigCase(valveCount = 48, trayCount = 500) {
 
 function lpPlan(input: ReturnType<typeof bigCase>) {
   const nm = (x: number) => Math.round(x * 1e6);
-  const model = { optimize: "cost", opType: "min" as const, constraints: {} as Record<string, { equal?: number; max?: number }>, variables: {} as Record<string, Record<string, number>> };
+  const model = {
+    optimize: "cost",
+    opType: "min" as const,
+    constraints: {} as Record<string, { equal?: number; max?: number }>,
+    variables: {} as Record<string, Record<string, number>>,
+  };
   const rows = input.valves.filter((v) => v.measured < v.spec.min || v.measured > v.spec.max);
-  const sources = [...rows.map((v) => ({ size: v.installed, cap: 1, from: v.id as string | null })), ...input.tray.map((t) => ({ size: t.size, cap: t.count, from: null }))];
+  const sources = [
+    ...rows.map((v) => ({ size: v.installed, cap: 1, from: v.id as string | null })),
+    ...input.tray.map((t) => ({ size: t.size, cap: t.count, from: null })),
+  ];
   sources.forEach((s, j) => (model.constraints[`s${j}`] = { max: s.cap }));
   for (const v of rows) {
     model.constraints[`v_${v.id}`] = { equal: 1 };
@@ -72,7 +80,11 @@ export function runPlannerBench() {
 
 if (import.meta.url === `file://${process.argv[1]}`) {
   const r = runPlannerBench();
-  console.log(`planner: ${r.valves} valves (${r.changing} need a change), ${r.trayShims} tray shims, ${r.bought} bought`);
+  console.log(
+    `planner: ${r.valves} valves (${r.changing} need a change), ${r.trayShims} tray shims, ${r.bought} bought`,
+  );
   console.log(`  planShims (Hungarian, munkres): ${r.plannerMs.toFixed(2)} ms per plan   goal <= ${r.goalMs} ms`);
-  console.log(`  javascript-lp-solver, same LP:   ${r.lpMs.toFixed(1)} ms per plan   ratio ${(r.lpMs / r.plannerMs).toFixed(1)}x`);
+  console.log(
+    `  javascript-lp-solver, same LP:   ${r.lpMs.toFixed(1)} ms per plan   ratio ${(r.lpMs / r.plannerMs).toFixed(1)}x`,
+  );
 }

@@ -31,7 +31,10 @@ const KINDS: [string, RegExp][] = [
 ];
 
 export async function profileTaps(srv: BenchServer, taps = 50, rate = 1) {
-  const browser = await chromium.launch({ executablePath: process.env.CHROMIUM_PATH ?? "/usr/bin/chromium", args: CHROMIUM_ARGS });
+  const browser = await chromium.launch({
+    executablePath: process.env.CHROMIUM_PATH ?? "/usr/bin/chromium",
+    args: CHROMIUM_ARGS,
+  });
   try {
     const { ctx, page } = await measuringPage(browser, srv, "profile");
     const cdp = await ctx.newCDPSession(page);
@@ -64,7 +67,9 @@ export async function profileTaps(srv: BenchServer, taps = 50, rate = 1) {
         kindOf.set(url, url);
         continue;
       }
-      const text = await fetch(url.replace(/^https?:\/\/[^/]+/, srv.url)).then((r) => r.text()).catch(() => "");
+      const text = await fetch(url.replace(/^https?:\/\/[^/]+/, srv.url))
+        .then((r) => r.text())
+        .catch(() => "");
       kindOf.set(url, KINDS.find(([, re]) => re.test(text))?.[0] ?? `app code (${url.split("/").pop()})`);
     }
     const byKind = new Map<string, number>();
@@ -77,7 +82,10 @@ export async function profileTaps(srv: BenchServer, taps = 50, rate = 1) {
       medianMs: sorted[Math.floor(taps / 2)]!,
       wallMsPerTap: wall / taps,
       byKind: [...byKind].sort((a, b) => b[1] - a[1]).map(([k, ms]) => ({ what: k, msPerTap: Number(per(ms)) })),
-      topFunctions: [...byFn].sort((a, b) => b[1] - a[1]).slice(0, 15).map(([k, ms]) => ({ fn: k, msPerTap: Number(per(ms)) })),
+      topFunctions: [...byFn]
+        .sort((a, b) => b[1] - a[1])
+        .slice(0, 15)
+        .map(([k, ms]) => ({ fn: k, msPerTap: Number(per(ms)) })),
     };
   } finally {
     await browser.close();
@@ -88,7 +96,9 @@ if (import.meta.url === `file://${process.argv[1]}`) {
   const srv = await stage("starting the production server and a throwaway database", startBenchServer);
   try {
     for (const rate of [1, 4]) {
-      const p = await stage(`profiling 50 taps${rate > 1 ? `, CPU slowed ${rate}x` : ""}`, () => profileTaps(srv, 50, rate));
+      const p = await stage(`profiling 50 taps${rate > 1 ? `, CPU slowed ${rate}x` : ""}`, () =>
+        profileTaps(srv, 50, rate),
+      );
       say(`median ${p.medianMs.toFixed(1)} ms per tap; main-thread self time per tap, by script:`);
       for (const k of p.byKind) console.log(`  ${k.msPerTap.toFixed(2).padStart(7)} ms  ${k.what}`);
       console.log("  top functions:");

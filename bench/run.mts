@@ -39,7 +39,9 @@ rows.push({
   met: sy.ratio >= 0.5,
 });
 const pushTable = sy.pushPhases.map((p) => `  ${p.name.padEnd(44)} ${p.ms.toFixed(2).padStart(7)} ms`).join("\n");
-console.log(`where a push of ${sy.batch} readings spends its time (per push; a raw multi-row INSERT of the same rows: ${sy.rawMsPerBatch.toFixed(2)} ms):\n${pushTable}`);
+console.log(
+  `where a push of ${sy.batch} readings spends its time (per push; a raw multi-row INSERT of the same rows: ${sy.rawMsPerBatch.toFixed(2)} ms):\n${pushTable}`,
+);
 rows.push({
   figure: `full pull, ${sy.pull.engines} engines / ${sy.pull.checks} checks / ${sy.pull.readings} readings`,
   value: `${Math.round(sy.pull.ms)} ms, ${(sy.pull.bytes / 1e6).toFixed(1)} MB`,
@@ -93,10 +95,18 @@ for (const page of ["home", "sign-in", "review", "check"] as const) {
   });
 }
 
-const w = [0, 1, 2, 3].map((i) => Math.max(...rows.map((r) => Object.values(r)[i]!.toString().length), ["figure", "value", "baseline", "goal"][i]!.length));
+const w = [0, 1, 2, 3].map((i) =>
+  Math.max(
+    ...rows.map((r) => Object.values(r)[i]!.toString().length),
+    ["figure", "value", "baseline", "goal"][i]!.length,
+  ),
+);
 const line = (cells: string[]) => cells.map((c, i) => c.padEnd(w[i]!)).join("  ");
 console.log(line(["figure", "value", "baseline", "goal"]) + "  met");
 for (const r of rows) console.log(line([r.figure, r.value, r.baseline, r.goal]) + `  ${r.met ? "yes" : "NO"}`);
 mkdirSync("bench/results", { recursive: true });
-writeFileSync("bench/results/latest.json", JSON.stringify({ at: new Date().toISOString(), planner: p, sync: sy, entry, web, rows }, null, 2));
+writeFileSync(
+  "bench/results/latest.json",
+  JSON.stringify({ at: new Date().toISOString(), planner: p, sync: sy, entry, web, rows }, null, 2),
+);
 say("figures written to bench/results/latest.json");

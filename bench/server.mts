@@ -4,6 +4,7 @@ import { existsSync, rmSync } from "node:fs";
 import path from "node:path";
 import bcrypt from "bcryptjs";
 import mysql from "mysql2/promise";
+// prettier-ignore
 // @ts-expect-error plain JS set-up module shared with npm start and npm test
 import { freePort, root, runTs, spawnChild, startMariadb, startMailCatcher, startObjectStore, stopChild } from "../scripts/lib/setup.mjs";
 
@@ -15,7 +16,8 @@ export interface BenchServer {
 }
 
 export async function startBenchServer(): Promise<BenchServer> {
-  if (!existsSync(path.join(root, ".next", "BUILD_ID"))) throw new Error("no production build: run npm test (or next build) first");
+  if (!existsSync(path.join(root, ".next", "BUILD_ID")))
+    throw new Error("no production build: run npm test (or next build) first");
   const dir = path.join(root, ".data", "bench");
   rmSync(dir, { recursive: true, force: true });
   const stops: (() => Promise<void>)[] = [];
@@ -26,22 +28,48 @@ export async function startBenchServer(): Promise<BenchServer> {
   try {
     const db = await startMariadb({ dir, port: await freePort(), database: "lashwright_bench" });
     stops.push(() => db.stop());
-    const mail = await startMailCatcher({ smtpPort: await freePort(), webPort: await freePort(), dir: path.join(dir, "mail") });
+    const mail = await startMailCatcher({
+      smtpPort: await freePort(),
+      webPort: await freePort(),
+      dir: path.join(dir, "mail"),
+    });
     stops.push(() => mail.stop());
     const store = await startObjectStore({ port: await freePort(), dir: path.join(dir, "photos") });
     stops.push(() => store.stop());
-    const env = { ...store.env, DATABASE_URL: db.url, SMTP_URL: mail.smtpUrl, NEXTAUTH_SECRET: "bench-secret-bench-secret-bench-secret-0123", SYNC_WRITES_PER_MINUTE: "10000000", LASHWRIGHT_SERVER_TIMING: "1" };
+    const env = {
+      ...store.env,
+      DATABASE_URL: db.url,
+      SMTP_URL: mail.smtpUrl,
+      NEXTAUTH_SECRET: "bench-secret-bench-secret-bench-secret-0123",
+      SYNC_WRITES_PER_MINUTE: "10000000",
+      LASHWRIGHT_SERVER_TIMING: "1",
+    };
     await runTs("db/migrate.ts", env);
     const port = await freePort();
     const url = `http://127.0.0.1:${port}`;
-    const server = spawnChild(process.execPath, ["node_modules/next/dist/bin/next", "start", "-H", "127.0.0.1", "-p", String(port)], { cwd: root, env: { ...process.env, ...env, NODE_ENV: "production", NEXTAUTH_URL: url }, stdio: "ignore" });
+    const server = spawnChild(
+      process.execPath,
+      ["node_modules/next/dist/bin/next", "start", "-H", "127.0.0.1", "-p", String(port)],
+      { cwd: root, env: { ...process.env, ...env, NODE_ENV: "production", NEXTAUTH_URL: url }, stdio: "ignore" },
+    );
     stops.push(() => stopChild(server, { graceMs: 4000 }));
-    for (let i = 0; i < 200 && !(await fetch(url).then((r) => r.ok).catch(() => false)); i++) await new Promise((r) => setTimeout(r, 150));
+    for (
+      let i = 0;
+      i < 200 &&
+      !(await fetch(url)
+        .then((r) => r.ok)
+        .catch(() => false));
+      i++
+    )
+      await new Promise((r) => setTimeout(r, 150));
     const makeUser = async (tag: string) => {
       const c = await mysql.createConnection({ uri: db.url });
       const id = crypto.randomUUID();
       const email = `${tag}-${id.slice(0, 6)}@bench.example`;
-      await c.query("INSERT INTO users (id, email, name, password_hash, email_verified_at) VALUES (?, ?, ?, ?, NOW(3))", [id, email, tag, await bcrypt.hash("bench-password-1", 4)]);
+      await c.query(
+        "INSERT INTO users (id, email, name, password_hash, email_verified_at) VALUES (?, ?, ?, ?, NOW(3))",
+        [id, email, tag, await bcrypt.hash("bench-password-1", 4)],
+      );
       await c.end();
       return { id, email, password: "bench-password-1" };
     };

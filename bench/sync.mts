@@ -7,21 +7,56 @@ import { Client } from "../tests/support/api";
 import { PUSH_BATCH } from "../lib/sync/mutations";
 import { say } from "./progress.mts";
 
-const ENGINE = { name: "Bench four", cylinders: 4, intakePerCylinder: 2, exhaustPerCylinder: 2, firingOrder: [1, 3, 4, 2], intake: { min: 0.1, max: 0.2 }, exhaust: { min: 0.2, max: 0.3 }, shims: { min: 2.5, max: 3.3, step: 0.05 } };
-const VALVES = ["I1.1", "I1.2", "E1.1", "E1.2", "I2.1", "I2.2", "E2.1", "E2.2", "I3.1", "I3.2", "E3.1", "E3.2", "I4.1", "I4.2", "E4.1", "E4.2"];
+const ENGINE = {
+  name: "Bench four",
+  cylinders: 4,
+  intakePerCylinder: 2,
+  exhaustPerCylinder: 2,
+  firingOrder: [1, 3, 4, 2],
+  intake: { min: 0.1, max: 0.2 },
+  exhaust: { min: 0.2, max: 0.3 },
+  shims: { min: 2.5, max: 3.3, step: 0.05 },
+};
+const VALVES = [
+  "I1.1",
+  "I1.2",
+  "E1.1",
+  "E1.2",
+  "I2.1",
+  "I2.2",
+  "E2.1",
+  "E2.2",
+  "I3.1",
+  "I3.2",
+  "E3.1",
+  "E3.2",
+  "I4.1",
+  "I4.2",
+  "E4.1",
+  "E4.2",
+];
 
 /** Readings for n mutations: 16 valves x 50 rounds per check, as many checks as it takes. */
 function readingPlan(n: number) {
   const perCheck = VALVES.length * 50;
   const checks = Math.ceil(n / perCheck);
   const checkIds = Array.from({ length: checks }, () => crypto.randomUUID());
-  const rows = Array.from({ length: n }, (_, i) => ({ checkId: checkIds[Math.floor(i / perCheck)]!, valve: VALVES[i % VALVES.length]!, round: Math.floor((i % perCheck) / VALVES.length), go: 0.1 + (i % 20) / 100 }));
+  const rows = Array.from({ length: n }, (_, i) => ({
+    checkId: checkIds[Math.floor(i / perCheck)]!,
+    valve: VALVES[i % VALVES.length]!,
+    round: Math.floor((i % perCheck) / VALVES.length),
+    go: 0.1 + (i % 20) / 100,
+  }));
   return { checkIds, rows };
 }
 
 function pushPhases(phases: Map<string, number>, roundTrips: number, pushes: number) {
   const server = [...phases.values()].reduce((a, b) => a + b, 0);
-  return [...[...phases].map(([name, ms]) => ({ name, ms: ms / pushes })), { name: "outside the handler (HTTP, Next, transfer)", ms: (roundTrips - server) / pushes }, { name: "round trip", ms: roundTrips / pushes }];
+  return [
+    ...[...phases].map(([name, ms]) => ({ name, ms: ms / pushes })),
+    { name: "outside the handler (HTTP, Next, transfer)", ms: (roundTrips - server) / pushes },
+    { name: "round trip", ms: roundTrips / pushes },
+  ];
 }
 
 export async function runSyncBench(srv: BenchServer, n = 10_000) {
@@ -29,14 +64,25 @@ export async function runSyncBench(srv: BenchServer, n = 10_000) {
   // push through the route
   const u = await srv.makeUser("pusher");
   const client = new Client(url);
-  if ((await client.signIn("password", { email: u.email, password: u.password })) !== null) throw new Error("bench sign-in failed");
+  if ((await client.signIn("password", { email: u.email, password: u.password })) !== null)
+    throw new Error("bench sign-in failed");
   const engineId = crypto.randomUUID();
   const { checkIds, rows } = readingPlan(n);
   const clientId = crypto.randomUUID();
   let id = 0;
-  const setup = [{ id: ++id, name: "engine.put/1", args: { ...ENGINE, id: engineId } }, ...checkIds.map((c) => ({ id: ++id, name: "check.put/1", args: { id: c, engineId, odometer: 1000 } }))];
+  const setup = [
+    { id: ++id, name: "engine.put/1", args: { ...ENGINE, id: engineId } },
+    ...checkIds.map((c) => ({ id: ++id, name: "check.put/1", args: { id: c, engineId, odometer: 1000 } })),
+  ];
   await client.post("/api/sync/push", { clientId, mutations: setup });
-  const mutations = rows.map((r) => ({ id: ++id, name: "reading.put/1", args: { checkId: r.checkId, reading: { valve: r.valve, round: r.round, installedStamp: 2.6, feelerGo: r.go, method: "feeler" } } }));
+  const mutations = rows.map((r) => ({
+    id: ++id,
+    name: "reading.put/1",
+    args: {
+      checkId: r.checkId,
+      reading: { valve: r.valve, round: r.round, installedStamp: 2.6, feelerGo: r.go, method: "feeler" },
+    },
+  }));
   // where each push's milliseconds go: the server's Server-Timing phases (server/timing.ts), summed
   // over the pushes; what the server does not see (the socket, HTTP parsing, Next's routing, the
   // answer's transfer) is the rest of the round trip the bench measures here
@@ -45,16 +91,21 @@ export async function runSyncBench(srv: BenchServer, n = 10_000) {
   const t0 = performance.now();
   for (let i = 0; i < mutations.length; i += PUSH_BATCH) {
     const r0 = performance.now();
-    const raw = await client.raw("POST", "/api/sync/push", { body: JSON.stringify({ clientId, mutations: mutations.slice(i, i + PUSH_BATCH) }), headers: { "content-type": "application/json" } });
+    const raw = await client.raw("POST", "/api/sync/push", {
+      body: JSON.stringify({ clientId, mutations: mutations.slice(i, i + PUSH_BATCH) }),
+      headers: { "content-type": "application/json" },
+    });
     const res = { status: raw.status, json: (await raw.json()) as { rejected: unknown[] } };
     roundTrips += performance.now() - r0;
     for (const entry of (raw.headers.get("server-timing") ?? "").split(",")) {
       const m = /^\s*([^;]+);dur=([\d.]+)/.exec(entry);
       if (m) phases.set(m[1]!, (phases.get(m[1]!) ?? 0) + Number(m[2]));
     }
-    if (res.status !== 200 || res.json.rejected.length) throw new Error(`push failed: ${res.status} ${JSON.stringify(res.json).slice(0, 200)}`);
+    if (res.status !== 200 || res.json.rejected.length)
+      throw new Error(`push failed: ${res.status} ${JSON.stringify(res.json).slice(0, 200)}`);
     const sent = i + PUSH_BATCH;
-    if (sent % 2000 === 0) say(`  pushed ${sent.toLocaleString("en")} of ${mutations.length.toLocaleString("en")} readings`);
+    if (sent % 2000 === 0)
+      say(`  pushed ${sent.toLocaleString("en")} of ${mutations.length.toLocaleString("en")} readings`);
   }
   const pushMs = performance.now() - t0;
 
@@ -62,26 +113,50 @@ export async function runSyncBench(srv: BenchServer, n = 10_000) {
   say("  the same rows by raw multi-row INSERT");
   const raw = await mysql.createConnection({ uri: srv.dbUrl });
   const rawEngine = crypto.randomUUID();
-  await raw.query("INSERT INTO engines (id, owner_id, name, cylinders, intake_per_cylinder, exhaust_per_cylinder, firing_order, intake_min, intake_max, exhaust_min, exhaust_max, shim_min, shim_max, shim_step) VALUES (?, ?, 'raw', 4, 2, 2, '[1,3,4,2]', 0.1, 0.2, 0.2, 0.3, 2.5, 3.3, 0.05)", [rawEngine, u.id]);
+  await raw.query(
+    "INSERT INTO engines (id, owner_id, name, cylinders, intake_per_cylinder, exhaust_per_cylinder, firing_order, intake_min, intake_max, exhaust_min, exhaust_max, shim_min, shim_max, shim_step) VALUES (?, ?, 'raw', 4, 2, 2, '[1,3,4,2]', 0.1, 0.2, 0.2, 0.3, 2.5, 3.3, 0.05)",
+    [rawEngine, u.id],
+  );
   const rawPlan = readingPlan(n);
-  for (const c of rawPlan.checkIds) await raw.query("INSERT INTO checks (id, engine_id, owner_id, odometer) VALUES (?, ?, ?, 1000)", [c, rawEngine, u.id]);
+  for (const c of rawPlan.checkIds)
+    await raw.query("INSERT INTO checks (id, engine_id, owner_id, odometer) VALUES (?, ?, ?, 1000)", [
+      c,
+      rawEngine,
+      u.id,
+    ]);
   const t1 = performance.now();
   for (let i = 0; i < rawPlan.rows.length; i += PUSH_BATCH) {
     const batch = rawPlan.rows.slice(i, i + PUSH_BATCH);
-    await raw.query("INSERT INTO readings (id, check_id, owner_id, valve, round, installed_stamp, feeler_go, measured, method) VALUES ?", [batch.map((r) => [crypto.randomUUID(), r.checkId, u.id, r.valve, r.round, 2.6, r.go, r.go, "feeler"])]);
+    await raw.query(
+      "INSERT INTO readings (id, check_id, owner_id, valve, round, installed_stamp, feeler_go, measured, method) VALUES ?",
+      [batch.map((r) => [crypto.randomUUID(), r.checkId, u.id, r.valve, r.round, 2.6, r.go, r.go, "feeler"])],
+    );
   }
   const rawMs = performance.now() - t1;
-  const [[count]] = (await raw.query("SELECT COUNT(*) AS n FROM readings WHERE owner_id = ?", [u.id])) as unknown as [[{ n: number }]];
+  const [[count]] = (await raw.query("SELECT COUNT(*) AS n FROM readings WHERE owner_id = ?", [u.id])) as unknown as [
+    [{ n: number }],
+  ];
 
   // a full pull: 50 engines, 500 checks, 8,000 readings of another user, inserted directly
   say("  a full pull of 50 engines, 500 checks, 8,000 readings");
   const p = await srv.makeUser("puller");
   const engines = Array.from({ length: 50 }, () => crypto.randomUUID());
-  await raw.query("INSERT INTO engines (id, owner_id, name, cylinders, intake_per_cylinder, exhaust_per_cylinder, firing_order, intake_min, intake_max, exhaust_min, exhaust_max, shim_min, shim_max, shim_step, version) VALUES ?", [engines.map((e, i) => [e, p.id, `Engine ${i}`, 4, 2, 2, "[1,3,4,2]", 0.1, 0.2, 0.2, 0.3, 2.5, 3.3, 0.05, 1])]);
+  await raw.query(
+    "INSERT INTO engines (id, owner_id, name, cylinders, intake_per_cylinder, exhaust_per_cylinder, firing_order, intake_min, intake_max, exhaust_min, exhaust_max, shim_min, shim_max, shim_step, version) VALUES ?",
+    [engines.map((e, i) => [e, p.id, `Engine ${i}`, 4, 2, 2, "[1,3,4,2]", 0.1, 0.2, 0.2, 0.3, 2.5, 3.3, 0.05, 1])],
+  );
   const checks = engines.flatMap((e) => Array.from({ length: 10 }, () => [crypto.randomUUID(), e]));
-  await raw.query("INSERT INTO checks (id, engine_id, owner_id, odometer, version) VALUES ?", [checks.map(([c, e]) => [c, e, p.id, 1000, 1])]);
-  const readingRows = checks.flatMap(([c]) => VALVES.map((v) => [crypto.randomUUID(), c, p.id, v, 0, 2.6, 0.15, 0.15, "feeler", 1]));
-  for (let i = 0; i < readingRows.length; i += 2000) await raw.query("INSERT INTO readings (id, check_id, owner_id, valve, round, installed_stamp, feeler_go, measured, method, version) VALUES ?", [readingRows.slice(i, i + 2000)]);
+  await raw.query("INSERT INTO checks (id, engine_id, owner_id, odometer, version) VALUES ?", [
+    checks.map(([c, e]) => [c, e, p.id, 1000, 1]),
+  ]);
+  const readingRows = checks.flatMap(([c]) =>
+    VALVES.map((v) => [crypto.randomUUID(), c, p.id, v, 0, 2.6, 0.15, 0.15, "feeler", 1]),
+  );
+  for (let i = 0; i < readingRows.length; i += 2000)
+    await raw.query(
+      "INSERT INTO readings (id, check_id, owner_id, valve, round, installed_stamp, feeler_go, measured, method, version) VALUES ?",
+      [readingRows.slice(i, i + 2000)],
+    );
   // the rows carry version 1 of the puller's own change counter (db/versions.ts)
   await raw.query("INSERT INTO owner_versions (owner_id, version) VALUES (?, 1)", [p.id]);
   await raw.end();
@@ -93,10 +168,19 @@ export async function runSyncBench(srv: BenchServer, n = 10_000) {
   let bytes = 0;
   let pages = 0;
   for (let cursor: string | null = null, more = true; more; pages++) {
-    const res = await puller.raw("POST", "/api/sync/pull", { body: JSON.stringify({ cursor }), headers: { "content-type": "application/json" } });
+    const res = await puller.raw("POST", "/api/sync/pull", {
+      body: JSON.stringify({ cursor }),
+      headers: { "content-type": "application/json" },
+    });
     const text = await res.text();
     bytes += Buffer.byteLength(text);
-    const page = JSON.parse(text) as { cursor: string; more?: boolean; readings: unknown[]; checks: unknown[]; engines: unknown[] };
+    const page = JSON.parse(text) as {
+      cursor: string;
+      more?: boolean;
+      readings: unknown[];
+      checks: unknown[];
+      engines: unknown[];
+    };
     pulled.readings.push(...page.readings);
     pulled.checks.push(...page.checks);
     pulled.engines.push(...page.engines);
@@ -114,7 +198,14 @@ export async function runSyncBench(srv: BenchServer, n = 10_000) {
     rawMsPerBatch: rawMs / (n / PUSH_BATCH),
     /** milliseconds per push of PUSH_BATCH readings, by phase, in the order the server ends them */
     pushPhases: pushPhases(phases, roundTrips, n / PUSH_BATCH),
-    pull: { ms: pullMs, pages, bytes, engines: pulled.engines.length, checks: pulled.checks.length, readings: pulled.readings.length },
+    pull: {
+      ms: pullMs,
+      pages,
+      bytes,
+      engines: pulled.engines.length,
+      checks: pulled.checks.length,
+      readings: pulled.readings.length,
+    },
   };
 }
 

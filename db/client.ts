@@ -15,7 +15,11 @@ export type Db = Omit<Drizzle, "transaction">;
 export type Executor = Db | Tx;
 
 // One pool per process, kept across hot reloads in development (module state is reset there).
-const globalForDb = globalThis as unknown as { lashwrightPool?: mysql.Pool; lashwrightDb?: Drizzle; lashwrightPoolWaiting?: () => number };
+const globalForDb = globalThis as unknown as {
+  lashwrightPool?: mysql.Pool;
+  lashwrightDb?: Drizzle;
+  lashwrightPoolWaiting?: () => number;
+};
 
 /**
  * Marks the code running inside transaction(). Asking the pool for a connection there (db()) is
@@ -25,7 +29,9 @@ const inTransaction = new AsyncLocalStorage<true>();
 
 export class NestedConnectionError extends Error {
   constructor() {
-    super("db() was called inside a transaction: pass the transaction (the executor) instead of asking the pool for a second connection");
+    super(
+      "db() was called inside a transaction: pass the transaction (the executor) instead of asking the pool for a second connection",
+    );
   }
 }
 
@@ -34,7 +40,8 @@ export class NestedConnectionError extends Error {
  * overloaded error (503 with Retry-After); if a connection reaches it later, it goes straight back.
  */
 function boundAcquire(p: mysql.Pool, timeoutMs: number) {
-  const core = (p as unknown as { pool: { getConnection(cb: (err: unknown, c?: { release(): void }) => void): void } }).pool;
+  const core = (p as unknown as { pool: { getConnection(cb: (err: unknown, c?: { release(): void }) => void): void } })
+    .pool;
   const acquire = core.getConnection.bind(core);
   core.getConnection = (cb) => {
     let settled = false;
@@ -64,10 +71,23 @@ let poolWaiting = 0;
 export function poolStats(): { inUse: number; idle: number; waiting: number; limit: number } | null {
   const p = globalForDb.lashwrightPool;
   if (!p) return null;
-  const core = (p as unknown as { pool: { _allConnections: { length: number }; _freeConnections: { length: number }; config: { connectionLimit: number } } }).pool;
+  const core = (
+    p as unknown as {
+      pool: {
+        _allConnections: { length: number };
+        _freeConnections: { length: number };
+        config: { connectionLimit: number };
+      };
+    }
+  ).pool;
   const all = core._allConnections.length;
   const idle = core._freeConnections.length;
-  return { inUse: all - idle, idle, waiting: globalForDb.lashwrightPoolWaiting?.() ?? 0, limit: core.config.connectionLimit };
+  return {
+    inUse: all - idle,
+    idle,
+    waiting: globalForDb.lashwrightPoolWaiting?.() ?? 0,
+    limit: core.config.connectionLimit,
+  };
 }
 
 export function pool(): mysql.Pool {

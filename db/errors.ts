@@ -33,7 +33,13 @@ export function isWriteConflict(e: unknown): boolean {
  * through a surviving node got 26 answers that were neither success nor 503 while another node was
  * killed (the cluster fault test now prints what such answers were; that run did not say).
  */
-const NODE_NOT_READY = new Set(["ER_LOCK_WAIT_TIMEOUT", "ER_CON_COUNT_ERROR", "ER_UNKNOWN_COM_ERROR", "ER_ERROR_DURING_COMMIT", "ER_SERVER_SHUTDOWN"]);
+const NODE_NOT_READY = new Set([
+  "ER_LOCK_WAIT_TIMEOUT",
+  "ER_CON_COUNT_ERROR",
+  "ER_UNKNOWN_COM_ERROR",
+  "ER_ERROR_DURING_COMMIT",
+  "ER_SERVER_SHUTDOWN",
+]);
 const ER_CONNECTION_KILLED = 1927;
 
 /**
@@ -46,7 +52,8 @@ export function isTransientDbError(e: unknown): boolean {
   if (isWriteConflict(e) || (code !== undefined && NODE_NOT_READY.has(code))) return true;
   for (let cur: unknown = e, depth = 0; cur && depth < 5; depth++) {
     const c = (cur as { code?: unknown }).code;
-    if (c === "PROTOCOL_CONNECTION_LOST" || c === "ECONNREFUSED" || c === "ECONNRESET" || c === "ETIMEDOUT") return true;
+    if (c === "PROTOCOL_CONNECTION_LOST" || c === "ECONNREFUSED" || c === "ECONNRESET" || c === "ETIMEDOUT")
+      return true;
     if ((cur as { errno?: unknown }).errno === ER_CONNECTION_KILLED) return true;
     // mysql2 marks errors that ended the connection "fatal"; one without a code is a pooled
     // connection closed under it ("Can't add new command when connection is in closed state"), as

@@ -6,7 +6,9 @@ import { closeDb, db } from "./client";
 /** Apply the committed migrations (never `drizzle-kit push`: it misbehaves on MariaDB). */
 export async function runMigrations(): Promise<void> {
   // the migrator runs its own transaction on the session, outside transaction()
-  await migrate(db() as unknown as Parameters<typeof migrate>[0], { migrationsFolder: fileURLToPath(new URL("./migrations", import.meta.url)) });
+  await migrate(db() as unknown as Parameters<typeof migrate>[0], {
+    migrationsFolder: fileURLToPath(new URL("./migrations", import.meta.url)),
+  });
 }
 
 if (process.argv[1] && fileURLToPath(import.meta.url) === process.argv[1]) {

@@ -15,7 +15,10 @@ export const CONFLICT_ATTEMPTS = 6;
 
 const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
 
-export async function retryConflicts<T>(fn: (attempt: number) => Promise<T>, { attempts = CONFLICT_ATTEMPTS, baseMs = 10, capMs = 500 } = {}): Promise<T> {
+export async function retryConflicts<T>(
+  fn: (attempt: number) => Promise<T>,
+  { attempts = CONFLICT_ATTEMPTS, baseMs = 10, capMs = 500 } = {},
+): Promise<T> {
   for (let attempt = 1; ; attempt++) {
     try {
       return await fn(attempt);

@@ -26,7 +26,10 @@ import {
  * a pull can ask for "everything of mine after N"; deletions leave a row in `tombstones`.
  */
 
-const id = () => char("id", { length: 36 }).primaryKey().$defaultFn(() => crypto.randomUUID());
+const id = () =>
+  char("id", { length: 36 })
+    .primaryKey()
+    .$defaultFn(() => crypto.randomUUID());
 const ref = (name: string) => char(name, { length: 36 });
 const mm = (name: string) => decimal(name, { precision: 8, scale: 5, mode: "number" });
 const createdAt = () => timestamp("created_at", { fsp: 3 }).notNull().defaultNow();
@@ -74,19 +77,28 @@ export const memberships = mysqlTable(
   "memberships",
   {
     id: id(),
-    clubId: ref("club_id").notNull().references(() => clubs.id, { onDelete: "cascade" }),
-    userId: ref("user_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    clubId: ref("club_id")
+      .notNull()
+      .references(() => clubs.id, { onDelete: "cascade" }),
+    userId: ref("user_id")
+      .notNull()
+      .references(() => users.id, { onDelete: "cascade" }),
     role: mysqlEnum("role", roles).notNull(),
     createdAt: createdAt(),
   },
-  (t) => [uniqueIndex("memberships_club_user_role_uq").on(t.clubId, t.userId, t.role), index("memberships_user_idx").on(t.userId)],
+  (t) => [
+    uniqueIndex("memberships_club_user_role_uq").on(t.clubId, t.userId, t.role),
+    index("memberships_user_idx").on(t.userId),
+  ],
 );
 
 export const invites = mysqlTable(
   "invites",
   {
     id: id(),
-    clubId: ref("club_id").notNull().references(() => clubs.id, { onDelete: "cascade" }),
+    clubId: ref("club_id")
+      .notNull()
+      .references(() => clubs.id, { onDelete: "cascade" }),
     email: varchar("email", { length: 254 }).notNull(),
     role: mysqlEnum("role", roles).notNull().default("mechanic"),
     tokenHash: char("token_hash", { length: 64 }).notNull(),
@@ -101,14 +113,22 @@ export const invites = mysqlTable(
   (t) => [uniqueIndex("invites_token_uq").on(t.tokenHash), index("invites_club_idx").on(t.clubId)],
 );
 
-export const clubLogActions = ["roles-changed", "invite-sent", "invite-withdrawn", "invite-accepted", "invites-ended"] as const;
+export const clubLogActions = [
+  "roles-changed",
+  "invite-sent",
+  "invite-withdrawn",
+  "invite-accepted",
+  "invites-ended",
+] as const;
 
 /** Who changed what in a club: roles, invitations. Read by the club's admins; never edited. */
 export const clubLog = mysqlTable(
   "club_log",
   {
     id: id(),
-    clubId: ref("club_id").notNull().references(() => clubs.id, { onDelete: "cascade" }),
+    clubId: ref("club_id")
+      .notNull()
+      .references(() => clubs.id, { onDelete: "cascade" }),
     /** who did it; null once that account is deleted */
     actorId: ref("actor_id").references(() => users.id, { onDelete: "set null" }),
     action: mysqlEnum("action", clubLogActions).notNull(),
@@ -129,7 +149,9 @@ export const authTokens = mysqlTable(
   "auth_tokens",
   {
     id: id(),
-    userId: ref("user_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    userId: ref("user_id")
+      .notNull()
+      .references(() => users.id, { onDelete: "cascade" }),
     /** "delete": the mailed confirmation that deletes an account without a password */
     purpose: mysqlEnum("purpose", ["verify", "reset", "signin", "delete"]).notNull(),
     tokenHash: char("token_hash", { length: 64 }).notNull(),
@@ -155,7 +177,9 @@ export const engines = mysqlTable(
   "engines",
   {
     id: id(),
-    ownerId: ref("owner_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    ownerId: ref("owner_id")
+      .notNull()
+      .references(() => users.id, { onDelete: "cascade" }),
     name: varchar("name", { length: 120 }).notNull(),
     cylinders: smallint("cylinders").notNull(),
     intakePerCylinder: smallint("intake_per_cylinder").notNull(),
@@ -197,8 +221,12 @@ export const checks = mysqlTable(
   "checks",
   {
     id: id(),
-    engineId: ref("engine_id").notNull().references(() => engines.id, { onDelete: "cascade" }),
-    ownerId: ref("owner_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    engineId: ref("engine_id")
+      .notNull()
+      .references(() => engines.id, { onDelete: "cascade" }),
+    ownerId: ref("owner_id")
+      .notNull()
+      .references(() => users.id, { onDelete: "cascade" }),
     odometer: decimal("odometer", { precision: 10, scale: 1, mode: "number" }).notNull(),
     measuredHot: boolean("measured_hot").notNull().default(false),
     status: mysqlEnum("status", CHECK_STATUSES).notNull().default("measuring"),
@@ -221,8 +249,12 @@ export const readings = mysqlTable(
   "readings",
   {
     id: id(),
-    checkId: ref("check_id").notNull().references(() => checks.id, { onDelete: "cascade" }),
-    ownerId: ref("owner_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    checkId: ref("check_id")
+      .notNull()
+      .references(() => checks.id, { onDelete: "cascade" }),
+    ownerId: ref("owner_id")
+      .notNull()
+      .references(() => users.id, { onDelete: "cascade" }),
     valve: varchar("valve", { length: 16 }).notNull(),
     round: smallint("round").notNull().default(0),
     installedStamp: mm("installed_stamp"),
@@ -237,7 +269,10 @@ export const readings = mysqlTable(
     createdAt: createdAt(),
     updatedAt: updatedAt(),
   },
-  (t) => [uniqueIndex("readings_check_valve_round_uq").on(t.checkId, t.valve, t.round), index("readings_owner_idx").on(t.ownerId, t.version)],
+  (t) => [
+    uniqueIndex("readings_check_valve_round_uq").on(t.checkId, t.valve, t.round),
+    index("readings_owner_idx").on(t.ownerId, t.version),
+  ],
 );
 
 /** Earlier values of a reading overwritten by a later write (two devices, or a correction). */
@@ -245,7 +280,9 @@ export const readingHistory = mysqlTable(
   "reading_history",
   {
     id: id(),
-    readingId: ref("reading_id").notNull().references(() => readings.id, { onDelete: "cascade" }),
+    readingId: ref("reading_id")
+      .notNull()
+      .references(() => readings.id, { onDelete: "cascade" }),
     previous: json("previous").$type<Record<string, unknown>>().notNull(),
     replacedAt: timestamp("replaced_at", { fsp: 3 }).notNull().defaultNow(),
   },
@@ -256,7 +293,9 @@ export const trayItems = mysqlTable(
   "tray_items",
   {
     id: id(),
-    ownerId: ref("owner_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    ownerId: ref("owner_id")
+      .notNull()
+      .references(() => users.id, { onDelete: "cascade" }),
     size: mm("size").notNull(),
     measuredSize: boolean("measured_size").notNull().default(false),
     count: int("count").notNull().default(0),
@@ -275,8 +314,12 @@ export const poolOffers = mysqlTable(
   "pool_offers",
   {
     id: id(),
-    clubId: ref("club_id").notNull().references(() => clubs.id, { onDelete: "cascade" }),
-    ownerId: ref("owner_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    clubId: ref("club_id")
+      .notNull()
+      .references(() => clubs.id, { onDelete: "cascade" }),
+    ownerId: ref("owner_id")
+      .notNull()
+      .references(() => users.id, { onDelete: "cascade" }),
     size: mm("size").notNull(),
     measuredSize: boolean("measured_size").notNull().default(false),
     count: int("count").notNull(),
@@ -292,14 +335,19 @@ export const poolOffers = mysqlTable(
   (t) => [index("pool_offers_club_idx").on(t.clubId, t.withdrawnAt), index("pool_offers_owner_idx").on(t.ownerId)],
 );
 
-
 export const borrowRequests = mysqlTable(
   "borrow_requests",
   {
     id: id(),
-    offerId: ref("offer_id").notNull().references(() => poolOffers.id, { onDelete: "cascade" }),
-    borrowerId: ref("borrower_id").notNull().references(() => users.id, { onDelete: "cascade" }),
-    lenderId: ref("lender_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    offerId: ref("offer_id")
+      .notNull()
+      .references(() => poolOffers.id, { onDelete: "cascade" }),
+    borrowerId: ref("borrower_id")
+      .notNull()
+      .references(() => users.id, { onDelete: "cascade" }),
+    lenderId: ref("lender_id")
+      .notNull()
+      .references(() => users.id, { onDelete: "cascade" }),
     checkId: ref("check_id").references(() => checks.id, { onDelete: "set null" }),
     size: mm("size").notNull(),
     count: int("count").notNull(),
@@ -311,16 +359,26 @@ export const borrowRequests = mysqlTable(
     createdAt: createdAt(),
     updatedAt: updatedAt(),
   },
-  (t) => [index("borrow_requests_offer_idx").on(t.offerId, t.state), index("borrow_requests_borrower_idx").on(t.borrowerId), index("borrow_requests_lender_idx").on(t.lenderId)],
+  (t) => [
+    index("borrow_requests_offer_idx").on(t.offerId, t.state),
+    index("borrow_requests_borrower_idx").on(t.borrowerId),
+    index("borrow_requests_lender_idx").on(t.lenderId),
+  ],
 );
 
 export const shares = mysqlTable(
   "shares",
   {
     id: id(),
-    checkId: ref("check_id").notNull().references(() => checks.id, { onDelete: "cascade" }),
-    clubId: ref("club_id").notNull().references(() => clubs.id, { onDelete: "cascade" }),
-    sharedBy: ref("shared_by").notNull().references(() => users.id),
+    checkId: ref("check_id")
+      .notNull()
+      .references(() => checks.id, { onDelete: "cascade" }),
+    clubId: ref("club_id")
+      .notNull()
+      .references(() => clubs.id, { onDelete: "cascade" }),
+    sharedBy: ref("shared_by")
+      .notNull()
+      .references(() => users.id),
     verdict: mysqlEnum("verdict", verdicts),
     /** null once the mentor's account is deleted: the verdict stays, from "a former member" */
     verdictBy: ref("verdict_by").references(() => users.id, { onDelete: "set null" }),
@@ -330,14 +388,19 @@ export const shares = mysqlTable(
     createdAt: createdAt(),
     updatedAt: updatedAt(),
   },
-  (t) => [uniqueIndex("shares_check_club_uq").on(t.checkId, t.clubId), index("shares_club_idx").on(t.clubId, t.createdAt)],
+  (t) => [
+    uniqueIndex("shares_check_club_uq").on(t.checkId, t.clubId),
+    index("shares_club_idx").on(t.clubId, t.createdAt),
+  ],
 );
 
 export const comments = mysqlTable(
   "comments",
   {
     id: id(),
-    checkId: ref("check_id").notNull().references(() => checks.id, { onDelete: "cascade" }),
+    checkId: ref("check_id")
+      .notNull()
+      .references(() => checks.id, { onDelete: "cascade" }),
     /** null once the author's account is deleted: the comment stays on the check, from "a former member" */
     authorId: ref("author_id").references(() => users.id, { onDelete: "set null" }),
     /**
@@ -359,8 +422,12 @@ export const uploads = mysqlTable(
   "uploads",
   {
     id: id(),
-    ownerId: ref("owner_id").notNull().references(() => users.id, { onDelete: "cascade" }),
-    checkId: ref("check_id").notNull().references(() => checks.id, { onDelete: "cascade" }),
+    ownerId: ref("owner_id")
+      .notNull()
+      .references(() => users.id, { onDelete: "cascade" }),
+    checkId: ref("check_id")
+      .notNull()
+      .references(() => checks.id, { onDelete: "cascade" }),
     readingId: ref("reading_id").references(() => readings.id, { onDelete: "set null" }),
     commentId: ref("comment_id").references(() => comments.id, { onDelete: "set null" }),
     /** the valve the photo shows (blade in its gap, its shim), or null for the whole check */
@@ -386,7 +453,9 @@ export const syncClients = mysqlTable(
   "sync_clients",
   {
     id: char("id", { length: 36 }).primaryKey(),
-    userId: ref("user_id").notNull().references(() => users.id, { onDelete: "cascade" }),
+    userId: ref("user_id")
+      .notNull()
+      .references(() => users.id, { onDelete: "cascade" }),
     lastMutationId: bigint("last_mutation_id", { mode: "number", unsigned: true }).notNull().default(0),
     createdAt: createdAt(),
     updatedAt: updatedAt(),
@@ -399,7 +468,9 @@ export const rejectedMutations = mysqlTable(
   "rejected_mutations",
   {
     id: id(),
-    clientId: char("client_id", { length: 36 }).notNull().references(() => syncClients.id, { onDelete: "cascade" }),
+    clientId: char("client_id", { length: 36 })
+      .notNull()
+      .references(() => syncClients.id, { onDelete: "cascade" }),
     mutationId: bigint("mutation_id", { mode: "number", unsigned: true }).notNull(),
     name: varchar("name", { length: 60 }).notNull(),
     reason: varchar("reason", { length: 500 }).notNull(),

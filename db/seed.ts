@@ -4,7 +4,18 @@ import { fileURLToPath } from "node:url";
 import { bladesFor, clearanceFromFeelers, METRIC_BLADES_MM, planShims, shimSeries, valveNames } from "@/lib/lash";
 import { hashPassword } from "@/server/password";
 import { closeDb, db, transaction } from "./client";
-import { checks, clubs, comments, engines, memberships, poolOffers, readings, shares, trayItems, users } from "./schema";
+import {
+  checks,
+  clubs,
+  comments,
+  engines,
+  memberships,
+  poolOffers,
+  readings,
+  shares,
+  trayItems,
+  users,
+} from "./schema";
 import { nextVersion } from "./versions";
 import { DEMO_PASSWORD, DEMO_USERS } from "../scripts/lib/demo-users.mjs";
 
@@ -124,12 +135,24 @@ export async function seedDemo(): Promise<{ seeded: boolean }> {
     let version = 0;
     for (const id of userIds) version = await nextVersion(tx, id);
     await tx.insert(users).values(
-      DEMO_USERS.map((u, i) => ({ id: userIds[i]!, email: u.email, name: u.name, passwordHash: hash, emailVerifiedAt: new Date("2023-01-10") })),
+      DEMO_USERS.map((u, i) => ({
+        id: userIds[i]!,
+        email: u.email,
+        name: u.name,
+        passwordHash: hash,
+        emailVerifiedAt: new Date("2023-01-10"),
+      })),
     );
     const clubId = crypto.randomUUID();
     await tx.insert(clubs).values({ id: clubId, name: CLUB_NAME, createdBy: userIds[2]! });
     await tx.insert(memberships).values(
-      DEMO_USERS.flatMap((u, i) => [...new Set<string>(["mechanic", ...u.roles])].map((role) => ({ clubId, userId: userIds[i]!, role: role as "mechanic" | "mentor" | "admin" }))),
+      DEMO_USERS.flatMap((u, i) =>
+        [...new Set<string>(["mechanic", ...u.roles])].map((role) => ({
+          clubId,
+          userId: userIds[i]!,
+          role: role as "mechanic" | "mentor" | "admin",
+        })),
+      ),
     );
 
     const random = rng(20231);
@@ -160,7 +183,11 @@ export async function seedDemo(): Promise<{ seeded: boolean }> {
         version,
       });
       const sizes = shimSeries(...e.series);
-      const valves = valveNames({ cylinders: e.cylinders, intakePerCylinder: e.intakePer, exhaustPerCylinder: e.exhaustPer });
+      const valves = valveNames({
+        cylinders: e.cylinders,
+        intakePerCylinder: e.intakePer,
+        exhaustPerCylinder: e.exhaustPer,
+      });
       // Each valve's gap (shim + clearance) at assembly, a little above the middle of its band.
       const state = new Map(
         valves.map((v) => {
@@ -189,11 +216,29 @@ export async function seedDemo(): Promise<{ seeded: boolean }> {
           const gap = s.gapAt0 - (rate * c.odometer) / 1000 + (random() - 0.5) * 0.01;
           const blades = bladesFor(gap - s.shim, METRIC_BLADES_MM) ?? { go: 0.02, noGo: 0.03 };
           const clearance = clearanceFromFeelers(blades);
-          const spec = v.kind === "intake" ? { min: e.intake[0], max: e.intake[1] } : { min: e.exhaust[0], max: e.exhaust[1] };
+          const spec =
+            v.kind === "intake" ? { min: e.intake[0], max: e.intake[1] } : { min: e.exhaust[0], max: e.exhaust[1] };
           return { v, s, blades, clearance, spec };
         });
-        const plan = planShims({ valves: planValves.map((p) => ({ id: p.v.id, installed: p.s.shim, measured: p.clearance.value, spec: p.spec })), sizes });
-        if (last && e.cylinders === 4 && e.owner === 0) latestBluePlan = { valves: planValves.map((p) => ({ id: p.v.id, installed: p.s.shim, measured: p.clearance.value, spec: p.spec })), sizes };
+        const plan = planShims({
+          valves: planValves.map((p) => ({
+            id: p.v.id,
+            installed: p.s.shim,
+            measured: p.clearance.value,
+            spec: p.spec,
+          })),
+          sizes,
+        });
+        if (last && e.cylinders === 4 && e.owner === 0)
+          latestBluePlan = {
+            valves: planValves.map((p) => ({
+              id: p.v.id,
+              installed: p.s.shim,
+              measured: p.clearance.value,
+              spec: p.spec,
+            })),
+            sizes,
+          };
         await tx.insert(readings).values(
           planValves.map((p, i) => {
             const a = plan.assignments[i]!;
@@ -228,21 +273,43 @@ export async function seedDemo(): Promise<{ seeded: boolean }> {
       { size: 2.7, count: 1 },
       { size: 2.85, count: 1 },
     ];
-    await tx.insert(trayItems).values(maraTray.map((t) => ({ ownerId: userIds[0]!, ...t, shimDiameter: DEMO_SHIM_DIAMETER, version })));
+    await tx
+      .insert(trayItems)
+      .values(maraTray.map((t) => ({ ownerId: userIds[0]!, ...t, shimDiameter: DEMO_SHIM_DIAMETER, version })));
 
     // Teodor lends spares through the club: one size of them is what Mara's open plan would buy.
     const buy = latestBluePlan ? planShims({ ...latestBluePlan, tray: maraTray }).buy[0] : undefined;
     const teodorTray = [{ size: 2.45, count: 3 }, ...(buy ? [{ size: buy.size, count: buy.count + 1 }] : [])];
-    const teodorItems = teodorTray.map((t) => ({ id: crypto.randomUUID(), ownerId: userIds[1]!, ...t, shimDiameter: DEMO_SHIM_DIAMETER, version }));
+    const teodorItems = teodorTray.map((t) => ({
+      id: crypto.randomUUID(),
+      ownerId: userIds[1]!,
+      ...t,
+      shimDiameter: DEMO_SHIM_DIAMETER,
+      version,
+    }));
     await tx.insert(trayItems).values(teodorItems);
     await tx.insert(poolOffers).values(
-      teodorTray.map((t) => ({ clubId, ownerId: userIds[1]!, size: t.size, count: t.count, shimDiameter: DEMO_SHIM_DIAMETER, note: "In the blue tin on the club bench", version })),
+      teodorTray.map((t) => ({
+        clubId,
+        ownerId: userIds[1]!,
+        size: t.size,
+        count: t.count,
+        shimDiameter: DEMO_SHIM_DIAMETER,
+        note: "In the blue tin on the club bench",
+        version,
+      })),
     );
 
     // Mara asked the club to look over the latest check of the four; Teodor has commented.
     await tx.insert(shares).values({ checkId: latestBlueCheck, clubId, sharedBy: userIds[0]!, version });
     await tx.insert(comments).values([
-      { checkId: latestBlueCheck, authorId: userIds[1]!, valve: null, body: "Readings look careful. Blade pairs are consistent across the head.", version },
+      {
+        checkId: latestBlueCheck,
+        authorId: userIds[1]!,
+        valve: null,
+        body: "Readings look careful. Blade pairs are consistent across the head.",
+        version,
+      },
       {
         checkId: latestBlueCheck,
         authorId: userIds[1]!,

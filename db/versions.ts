@@ -24,13 +24,18 @@ export type { Tx };
  */
 export async function nextVersion(tx: Executor, ownerId: string): Promise<number> {
   // one statement: LAST_INSERT_ID(expr) hands the new value back as the result's insertId
-  const [r] = (await tx.execute(sql`INSERT INTO owner_versions (owner_id, version) VALUES (${ownerId}, LAST_INSERT_ID(1)) ON DUPLICATE KEY UPDATE version = LAST_INSERT_ID(version + 1)`)) as unknown as [ResultSetHeader];
+  const [r] = (await tx.execute(
+    sql`INSERT INTO owner_versions (owner_id, version) VALUES (${ownerId}, LAST_INSERT_ID(1)) ON DUPLICATE KEY UPDATE version = LAST_INSERT_ID(version + 1)`,
+  )) as unknown as [ResultSetHeader];
   return Number(r.insertId);
 }
 
 /** The owner's counter as this transaction sees it (0 before their first write). */
 export async function currentVersion(tx: Executor, ownerId: string): Promise<number> {
-  const [row] = await tx.select({ v: ownerVersions.version }).from(ownerVersions).where(eq(ownerVersions.ownerId, ownerId));
+  const [row] = await tx
+    .select({ v: ownerVersions.version })
+    .from(ownerVersions)
+    .where(eq(ownerVersions.ownerId, ownerId));
   return row?.v ?? 0;
 }
 

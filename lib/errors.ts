@@ -40,10 +40,13 @@ export const notFound = (what = "record") => new DomainError("not_found", `No su
 export const forbidden = (message = "You may read this but not change it") => new DomainError("forbidden", message);
 export const conflict = (message: string) => new DomainError("conflict", message);
 export const refused = (message: string) => new DomainError("refused", message);
-export const invalid = (message: string, fields?: Record<string, string>) => new DomainError("invalid", message, { fields });
-export const overloaded = (message = "The server is busy: try again in a moment", retryAfterSeconds = 2) => new DomainError("overloaded", message, { retryAfterSeconds });
+export const invalid = (message: string, fields?: Record<string, string>) =>
+  new DomainError("invalid", message, { fields });
+export const overloaded = (message = "The server is busy: try again in a moment", retryAfterSeconds = 2) =>
+  new DomainError("overloaded", message, { retryAfterSeconds });
 /** A caller beyond one of its budgets (server/budgets.ts): 429 with Retry-After; nothing of the refused request was done. */
-export const tooMany = (message: string, retryAfterSeconds: number) => new DomainError("throttled", message, { retryAfterSeconds });
+export const tooMany = (message: string, retryAfterSeconds: number) =>
+  new DomainError("throttled", message, { retryAfterSeconds });
 
 /** The first issue of a set of field problems as one message ("intake.max: below the minimum"). */
 export function invalidFields(fields: Record<string, string>): DomainError {

@@ -7,7 +7,20 @@
 import { randomBytes } from "node:crypto";
 import { existsSync, mkdirSync, readFileSync, writeFileSync } from "node:fs";
 import path from "node:path";
-import { cleanupOnExit, ensureDebianPackages, ensureNodeModules, log, MARIADB, portFree, root, runAsync, runTs, SetupError, startMailCatcher, startObjectStore } from "./lib/setup.mjs";
+import {
+  cleanupOnExit,
+  ensureDebianPackages,
+  ensureNodeModules,
+  log,
+  MARIADB,
+  portFree,
+  root,
+  runAsync,
+  runTs,
+  SetupError,
+  startMailCatcher,
+  startObjectStore,
+} from "./lib/setup.mjs";
 import { clusterSpec, freePorts, GALERA, RSYNC, startCluster, stopCluster } from "./lib/galera.mjs";
 import { HAPROXY, HEALTH_PATH, startHaproxy } from "./lib/haproxy.mjs";
 import { startNext } from "./lib/next-server.mjs";
@@ -31,12 +44,16 @@ function supervise(name, port, env) {
       if (stopping) return;
       ends.push(Date.now());
       while (ends.length && ends[0] < Date.now() - 60_000) ends.shift();
-      if (ends.length > RESTARTS_PER_MINUTE) return log(`${name} ended ${ends.length} times within a minute (last: ${how}); left down`);
+      if (ends.length > RESTARTS_PER_MINUTE)
+        return log(`${name} ended ${ends.length} times within a minute (last: ${how}); left down`);
       log(`${name} ended (${how}); starting it again`);
       setTimeout(() => {
         if (stopping) return;
         current = startNext(port, env, { inherit: true });
-        current.ready.then(() => log(`${name} is back`), (e) => log(`${name} did not come back: ${e.message}`));
+        current.ready.then(
+          () => log(`${name} is back`),
+          (e) => log(`${name} did not come back: ${e.message}`),
+        );
         watch();
       }, 1000);
     });
@@ -57,19 +74,36 @@ async function main() {
     const appPorts = [PORT + 1, PORT + 2];
     const statsPort = PORT + 9;
     const dbPorts = [DB_PORT, DB_PORT + 1, DB_PORT + 2];
-    for (const p of [PORT, ...appPorts, statsPort, ...dbPorts]) if (!Number.isInteger(p) || p < 1 || p > 65535 || !(await portFree(p))) throw new SetupError(`port ${p} is not free: choose others with PORT=4000 DB_PORT=4326 npm run cluster`);
+    for (const p of [PORT, ...appPorts, statsPort, ...dbPorts])
+      if (!Number.isInteger(p) || p < 1 || p > 65535 || !(await portFree(p)))
+        throw new SetupError(`port ${p} is not free: choose others with PORT=4000 DB_PORT=4326 npm run cluster`);
     ensureDebianPackages([MARIADB, GALERA, RSYNC, HAPROXY]);
     ensureNodeModules();
     mkdirSync(DATA_DIR, { recursive: true });
     const p = await freePorts(11);
-    const spec = clusterSpec({ dir: DATA_DIR, sqlPorts: dbPorts, groupPorts: p.slice(0, 3), istPorts: p.slice(3, 6), sstPorts: p.slice(6) });
-    log("starting three database nodes (Galera); a node joining for the first time copies the data, about 15 s each...");
+    const spec = clusterSpec({
+      dir: DATA_DIR,
+      sqlPorts: dbPorts,
+      groupPorts: p.slice(0, 3),
+      istPorts: p.slice(3, 6),
+      sstPorts: p.slice(6),
+    });
+    log(
+      "starting three database nodes (Galera); a node joining for the first time copies the data, about 15 s each...",
+    );
     await startCluster(spec);
     cleanup.add(() => stopCluster(spec));
     log(`database nodes on 127.0.0.1:${dbPorts.join(", ")} (data in ${path.relative(root, DATA_DIR)})`);
-    const mail = await startMailCatcher({ smtpPort: Number(process.env.SMTP_PORT ?? 1025), webPort: Number(process.env.MAIL_WEB_PORT ?? 1080), dir: path.join(DATA_DIR, "mail") });
+    const mail = await startMailCatcher({
+      smtpPort: Number(process.env.SMTP_PORT ?? 1025),
+      webPort: Number(process.env.MAIL_WEB_PORT ?? 1080),
+      dir: path.join(DATA_DIR, "mail"),
+    });
     cleanup.add(mail.stop);
-    const store = await startObjectStore({ port: Number(process.env.S3_PORT ?? 4569), dir: path.join(DATA_DIR, "photos") });
+    const store = await startObjectStore({
+      port: Number(process.env.S3_PORT ?? 4569),
+      dir: path.join(DATA_DIR, "photos"),
+    });
     cleanup.add(store.stop);
     // one signing key for both instances: a session made on one is good on the other
     const secretFile = path.join(DATA_DIR, "auth-secret");
@@ -80,33 +114,56 @@ async function main() {
     await runTs("db/seed.ts", first);
     if (process.env.LASHWRIGHT_SKIP_BUILD !== "1") {
       log("building the app (next build)...");
-      await runAsync(process.execPath, ["node_modules/next/dist/bin/next", "build"], { env: { ...first, NEXT_TELEMETRY_DISABLED: "1" }, what: "next build" });
+      await runAsync(process.execPath, ["node_modules/next/dist/bin/next", "build"], {
+        env: { ...first, NEXT_TELEMETRY_DISABLED: "1" },
+        what: "next build",
+      });
     }
     // each instance's own database address: HAProxy's TCP listener that prefers node i
     const proxy = await startHaproxy({
       dir: path.join(DATA_DIR, "haproxy"),
       frontPort: PORT,
       apps: appPorts.map((port, i) => ({ name: `app${i + 1}`, port })),
-      db: { nodes: spec.nodes.map((n) => ({ name: n.name, port: n.port })), listeners: appPorts.map((_, i) => ({ port: p[9 + i], prefer: i })), user: spec.user, password: spec.password, database: spec.database },
+      db: {
+        nodes: spec.nodes.map((n) => ({ name: n.name, port: n.port })),
+        listeners: appPorts.map((_, i) => ({ port: p[9 + i], prefer: i })),
+        user: spec.user,
+        password: spec.password,
+        database: spec.database,
+      },
       statsPort,
       echo: true,
     });
     cleanup.add(proxy.stop);
     // every instance signs links and checks Origin against the one address phones use; HAProxy adds
     // one X-Forwarded-For entry, the only one the app believes
-    const apps = appPorts.map((port, i) => supervise(`app instance ${i + 1}`, port, { ...shared, DATABASE_URL: proxy.dbUrls[i], NEXTAUTH_URL: proxy.url, TRUSTED_PROXIES: "1" }));
+    const apps = appPorts.map((port, i) =>
+      supervise(`app instance ${i + 1}`, port, {
+        ...shared,
+        DATABASE_URL: proxy.dbUrls[i],
+        NEXTAUTH_URL: proxy.url,
+        TRUSTED_PROXIES: "1",
+      }),
+    );
     for (const a of apps) cleanup.add(a.stop);
     await Promise.all(apps.map((a) => a.ready()));
     await proxy.waitUp(["app/app1", "app/app2"]);
     const { DEMO_USERS, DEMO_PASSWORD } = await import("./lib/demo-users.mjs");
-    log(`the app, for phones and browsers: ${proxy.url}  (HAProxy; checks ${HEALTH_PATH} on each instance every second)`);
-    for (const [i, port] of appPorts.entries()) log(`  app instance ${i + 1}: http://127.0.0.1:${port}, database through 127.0.0.1:${p[9 + i]} (node ${i + 1} first, then the others)`);
+    log(
+      `the app, for phones and browsers: ${proxy.url}  (HAProxy; checks ${HEALTH_PATH} on each instance every second)`,
+    );
+    for (const [i, port] of appPorts.entries())
+      log(
+        `  app instance ${i + 1}: http://127.0.0.1:${port}, database through 127.0.0.1:${p[9 + i]} (node ${i + 1} first, then the others)`,
+      );
     log(`HAProxy's page (which instance and node is up): ${proxy.statsUrl}`);
     log(`database nodes: 127.0.0.1:${dbPorts.join(", ")} (data in ${path.relative(root, DATA_DIR)})`);
     log(`mail catcher: ${mail.apiUrl}; photo store: ${store.env.S3_ENDPOINT}`);
     log(`demo sign-ins, password "${DEMO_PASSWORD}":`);
     for (const u of DEMO_USERS) log(`  ${u.email.padEnd(32)} ${u.says}`);
-    log("an instance that ends is started again; Ctrl-C stops HAProxy, both instances, the three nodes, the mail catcher and the photo store");
+    log(
+      "an instance that ends is started again; Ctrl-C stops HAProxy, both instances, the three nodes, the mail catcher and the photo store",
+    );
     await new Promise(() => {});
   } catch (e) {
     await cleanup.runAll();

@@ -8,7 +8,23 @@ import path from "node:path";
 import { GALERA, RSYNC, startTestCluster } from "./lib/galera.mjs";
 import { HAPROXY } from "./lib/haproxy.mjs";
 import { startNext } from "./lib/next-server.mjs";
-import { CHROMIUM, POPPLER, cleanupOnExit, ensureDebianPackages, ensureNodeModules, freePort, log, MARIADB, root, runAsync, runTs, SetupError, startMailCatcher, startMariadb, startObjectStore } from "./lib/setup.mjs";
+import {
+  CHROMIUM,
+  POPPLER,
+  cleanupOnExit,
+  ensureDebianPackages,
+  ensureNodeModules,
+  freePort,
+  log,
+  MARIADB,
+  root,
+  runAsync,
+  runTs,
+  SetupError,
+  startMailCatcher,
+  startMariadb,
+  startObjectStore,
+} from "./lib/setup.mjs";
 
 const args = process.argv.slice(2);
 // `npm run soak`: the fault-injection sync test alone, with 10,000 mutations
@@ -21,7 +37,13 @@ const clusterLoad = load && args.includes("--cluster");
 // (tests/integration/db), with no build, browser or mail: a change checked in about a minute
 const fast = args.includes("fast");
 const LEVELS = ["unit", "integration", "e2e", "cluster"];
-const only = fast ? "fast" : clusterLoad ? "cluster" : soak || load ? "integration" : args.find((a) => LEVELS.includes(a));
+const only = fast
+  ? "fast"
+  : clusterLoad
+    ? "cluster"
+    : soak || load
+      ? "integration"
+      : args.find((a) => LEVELS.includes(a));
 // anything else narrows the chosen level to matching test files (vitest filters)
 const filters = soak
   ? ["tests/integration/sync/faults"]
@@ -50,14 +72,31 @@ async function vitest(project, env, fileFilters = filters) {
   const report = path.join(root, "test-results", `${project}.json`);
   rmSync(report, { force: true });
   const ok = await stage(`${project} tests`, () =>
-    runAsync(process.execPath, ["node_modules/vitest/vitest.mjs", "run", "--project", project, "--reporter=default", "--reporter=json", `--outputFile.json=${report}`, ...fileFilters], {
-      env: soak
-        ? { ...env, LASHWRIGHT_FAULT_MUTATIONS: process.env.LASHWRIGHT_FAULT_MUTATIONS ?? "10000" }
-        : load
-          ? { ...env, LASHWRIGHT_LOAD_PHONES: process.env.LASHWRIGHT_LOAD_PHONES ?? "300", LASHWRIGHT_LOAD_SUSTAIN_SECONDS: process.env.LASHWRIGHT_LOAD_SUSTAIN_SECONDS ?? "60" }
-          : env,
-      what: `vitest ${project}`,
-    }),
+    runAsync(
+      process.execPath,
+      [
+        "node_modules/vitest/vitest.mjs",
+        "run",
+        "--project",
+        project,
+        "--reporter=default",
+        "--reporter=json",
+        `--outputFile.json=${report}`,
+        ...fileFilters,
+      ],
+      {
+        env: soak
+          ? { ...env, LASHWRIGHT_FAULT_MUTATIONS: process.env.LASHWRIGHT_FAULT_MUTATIONS ?? "10000" }
+          : load
+            ? {
+                ...env,
+                LASHWRIGHT_LOAD_PHONES: process.env.LASHWRIGHT_LOAD_PHONES ?? "300",
+                LASHWRIGHT_LOAD_SUSTAIN_SECONDS: process.env.LASHWRIGHT_LOAD_SUSTAIN_SECONDS ?? "60",
+              }
+            : env,
+        what: `vitest ${project}`,
+      },
+    ),
   );
   if (existsSync(report)) {
     const r = JSON.parse(readFileSync(report, "utf8"));
@@ -77,8 +116,18 @@ async function main() {
     mkdirSync(path.join(root, "test-results"), { recursive: true });
 
     if (!only) {
-      await stage("typecheck (tsc --noEmit)", () => runAsync(process.execPath, ["node_modules/typescript/bin/tsc", "--noEmit"], { what: "tsc" }));
-      await stage("lint (eslint)", () => runAsync(process.execPath, ["node_modules/eslint/bin/eslint.js", ".", "--max-warnings=0"], { what: "eslint" }));
+      await stage("typecheck (tsc --noEmit)", () =>
+        runAsync(process.execPath, ["node_modules/typescript/bin/tsc", "--noEmit"], { what: "tsc" }),
+      );
+      await stage("lint (eslint)", () =>
+        runAsync(process.execPath, ["node_modules/eslint/bin/eslint.js", ".", "--max-warnings=0"], { what: "eslint" }),
+      );
+      // one layout for everyone (.prettierrc.json, 120 columns): `npm run format` writes it
+      await stage("format (prettier --check)", () =>
+        runAsync(process.execPath, ["node_modules/prettier/bin/prettier.cjs", "--check", "--log-level=warn", "."], {
+          what: "prettier",
+        }),
+      );
     }
     if (!only || only === "unit" || only === "fast") await vitest("unit", {});
 
@@ -87,56 +136,71 @@ async function main() {
       const dir = path.join(root, ".data", "test");
       rmSync(dir, { recursive: true, force: true });
       mkdirSync(dir, { recursive: true });
-      const database = await startMariadb({ dir, port: await freePort(Number(process.env.TEST_DB_PORT ?? 3317)), database: "lashwright_test" });
+      const database = await startMariadb({
+        dir,
+        port: await freePort(Number(process.env.TEST_DB_PORT ?? 3317)),
+        database: "lashwright_test",
+      });
       cleanup.add(async () => {
         await database.stop();
         rmSync(dir, { recursive: true, force: true });
       });
       if (only === "fast") {
         await runTs("db/migrate.ts", { DATABASE_URL: database.url });
-        await vitest("integration", { DATABASE_URL: database.url, LASHWRIGHT_TEST_DB_URL: database.url }, ["tests/integration/db"]);
+        await vitest("integration", { DATABASE_URL: database.url, LASHWRIGHT_TEST_DB_URL: database.url }, [
+          "tests/integration/db",
+        ]);
       } else {
-      const mail = await startMailCatcher({ smtpPort: await freePort(), webPort: await freePort(), dir: path.join(dir, "mail") });
-      cleanup.add(mail.stop);
-      const store = await startObjectStore({ port: await freePort(), dir: path.join(dir, "photos") });
-      cleanup.add(store.stop);
-      const env = {
-        ...store.env,
-        DATABASE_URL: database.url,
-        LASHWRIGHT_TEST_DB_URL: database.url,
-        SMTP_URL: mail.smtpUrl,
-        LASHWRIGHT_MAIL_API: mail.apiUrl,
-        NEXTAUTH_SECRET: randomBytes(32).toString("base64url"),
-        // notices gathered for 2 s instead of minutes, so a test waits seconds for its mail
-        NOTICE_DIGEST_SECONDS: "2",
-        // one JSON line per request would bury a failure's output; tests that read the log set their own
-        LOG_LEVEL: process.env.LOG_LEVEL ?? "warn",
-      };
-      await runTs("db/migrate.ts", env);
-      // LASHWRIGHT_REUSE_BUILD=1 (for a developer iterating on tests) keeps the existing .next build
-      const reuse = process.env.LASHWRIGHT_REUSE_BUILD === "1" && existsSync(path.join(root, ".next", "BUILD_ID"));
-      const built =
-        reuse ||
-        (await stage("production build (next build)", () => runAsync(process.execPath, ["node_modules/next/dist/bin/next", "build"], { env: { ...env, NEXT_TELEMETRY_DISABLED: "1" }, what: "next build" })));
-      if (!built) failures.push("integration and browser tests skipped: the build failed");
-      // Integration tests talk HTTP to the production build; they start and restart it themselves.
-      if (built && (!only || only === "integration")) await vitest("integration", env);
-      if (built && (!only || only === "e2e")) {
-        await runTs("db/seed.ts", env);
-        const port = await freePort();
-        const server = startNext(port, { ...env, NEXTAUTH_URL: `http://127.0.0.1:${port}` });
-        cleanup.add(server.stop);
-        await server.ready;
-        await vitest("e2e", { ...env, LASHWRIGHT_BASE_URL: `http://127.0.0.1:${port}` });
-        await server.stop();
-      }
-      // The cluster level: three Galera nodes of its own, two app instances started by the tests.
-      if (built && (!only || only === "cluster")) {
-        const cluster = await startTestCluster({ dir: path.join(root, ".data", "test-cluster"), runTs });
-        cleanup.add(cluster.stop);
-        await vitest("cluster", { ...env, ...cluster.env });
-        await cluster.stop();
-      }
+        const mail = await startMailCatcher({
+          smtpPort: await freePort(),
+          webPort: await freePort(),
+          dir: path.join(dir, "mail"),
+        });
+        cleanup.add(mail.stop);
+        const store = await startObjectStore({ port: await freePort(), dir: path.join(dir, "photos") });
+        cleanup.add(store.stop);
+        const env = {
+          ...store.env,
+          DATABASE_URL: database.url,
+          LASHWRIGHT_TEST_DB_URL: database.url,
+          SMTP_URL: mail.smtpUrl,
+          LASHWRIGHT_MAIL_API: mail.apiUrl,
+          NEXTAUTH_SECRET: randomBytes(32).toString("base64url"),
+          // notices gathered for 2 s instead of minutes, so a test waits seconds for its mail
+          NOTICE_DIGEST_SECONDS: "2",
+          // one JSON line per request would bury a failure's output; tests that read the log set their own
+          LOG_LEVEL: process.env.LOG_LEVEL ?? "warn",
+        };
+        await runTs("db/migrate.ts", env);
+        // LASHWRIGHT_REUSE_BUILD=1 (for a developer iterating on tests) keeps the existing .next build
+        const reuse = process.env.LASHWRIGHT_REUSE_BUILD === "1" && existsSync(path.join(root, ".next", "BUILD_ID"));
+        const built =
+          reuse ||
+          (await stage("production build (next build)", () =>
+            runAsync(process.execPath, ["node_modules/next/dist/bin/next", "build"], {
+              env: { ...env, NEXT_TELEMETRY_DISABLED: "1" },
+              what: "next build",
+            }),
+          ));
+        if (!built) failures.push("integration and browser tests skipped: the build failed");
+        // Integration tests talk HTTP to the production build; they start and restart it themselves.
+        if (built && (!only || only === "integration")) await vitest("integration", env);
+        if (built && (!only || only === "e2e")) {
+          await runTs("db/seed.ts", env);
+          const port = await freePort();
+          const server = startNext(port, { ...env, NEXTAUTH_URL: `http://127.0.0.1:${port}` });
+          cleanup.add(server.stop);
+          await server.ready;
+          await vitest("e2e", { ...env, LASHWRIGHT_BASE_URL: `http://127.0.0.1:${port}` });
+          await server.stop();
+        }
+        // The cluster level: three Galera nodes of its own, two app instances started by the tests.
+        if (built && (!only || only === "cluster")) {
+          const cluster = await startTestCluster({ dir: path.join(root, ".data", "test-cluster"), runTs });
+          cleanup.add(cluster.stop);
+          await vitest("cluster", { ...env, ...cluster.env });
+          await cluster.stop();
+        }
       }
     }
   } catch (e) {
@@ -147,7 +211,9 @@ async function main() {
   }
   if (failures.length) log(`failed steps: ${failures.join("; ")}`);
   log(`finished in ${Math.round((Date.now() - t0) / 1000)} s`);
-  console.log(`${results.passed} passed, ${results.failed} failed${results.skipped ? `, ${results.skipped} skipped` : ""}`);
+  console.log(
+    `${results.passed} passed, ${results.failed} failed${results.skipped ? `, ${results.skipped} skipped` : ""}`,
+  );
   process.exit(failures.length || results.failed ? 1 : 0);
 }
 

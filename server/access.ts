@@ -7,7 +7,7 @@ import { getShare, mentorSharesForCheck, rolesInClub } from "@/db/queries/clubs"
 import type { SessionUser } from "./auth";
 
 /**
- * The authorisation rules of DESIGN.md section 2, in one place. Owners do everything with their
+ * The authorisation rules of README "Club review and photos", in one place. Owners do everything with their
  * own engines, checks, readings and tray. A mentor reads only checks shared with a club in which
  * they are a mentor, and writes only comments and verdicts there. An admin manages the members of
  * their club and never reads unshared checks. A record the caller may not even read answers 404,
@@ -30,10 +30,16 @@ function ownOrNew<R extends { ownerId: string }>(row: R | undefined, user: Sessi
   return row;
 }
 
-export const ownOrNewEngine = async (ex: Executor, user: SessionUser, id: string) => ownOrNew(await getEngineRow(ex, id), user, "engine");
-export const ownOrNewTrayItem = async (ex: Executor, user: SessionUser, id: string) => ownOrNew(await getTrayRow(ex, id), user, "tray item");
+export const ownOrNewEngine = async (ex: Executor, user: SessionUser, id: string) =>
+  ownOrNew(await getEngineRow(ex, id), user, "engine");
+export const ownOrNewTrayItem = async (ex: Executor, user: SessionUser, id: string) =>
+  ownOrNew(await getTrayRow(ex, id), user, "tray item");
 
-export type CheckAccess = { check: NonNullable<Awaited<ReturnType<typeof getCheckRow>>>; as: "owner" | "mentor"; mentorShares: { shareId: string; clubId: string }[] };
+export type CheckAccess = {
+  check: NonNullable<Awaited<ReturnType<typeof getCheckRow>>>;
+  as: "owner" | "mentor";
+  mentorShares: { shareId: string; clubId: string }[];
+};
 
 export async function readableCheck(ex: Executor, user: SessionUser, checkId: string): Promise<CheckAccess> {
   const c = await getCheckRow(ex, checkId);
@@ -51,10 +57,16 @@ export async function readableCheck(ex: Executor, user: SessionUser, checkId: st
  * share. One club's mentors never read another club's discussion of the same check (OWASP ASVS 5.0
  * V8 Authorization: data is reachable only through the relationship that grants it).
  */
-export function visibleComments<C extends { authorId: string | null; clubId: string | null }>(a: CheckAccess, user: SessionUser, all: C[]): C[] {
+export function visibleComments<C extends { authorId: string | null; clubId: string | null }>(
+  a: CheckAccess,
+  user: SessionUser,
+  all: C[],
+): C[] {
   if (a.as === "owner") return all;
   const clubs = new Set(a.mentorShares.map((s) => s.clubId));
-  return all.filter((c) => c.authorId === a.check.ownerId || c.authorId === user.id || (c.clubId !== null && clubs.has(c.clubId)));
+  return all.filter(
+    (c) => c.authorId === a.check.ownerId || c.authorId === user.id || (c.clubId !== null && clubs.has(c.clubId)),
+  );
 }
 
 /**
@@ -104,7 +116,8 @@ export async function shareFor(ex: Executor, user: SessionUser, shareId: string,
   if (as === "owner" && !isOwner) throw forbidden("Only the check's owner can withdraw a share");
   if (as === "mentor" && !isMentor) throw forbidden("Only a mentor of the club gives a verdict");
   // a review is a second pair of eyes: nobody passes their own check, whatever their role
-  if (as === "mentor" && isOwner) throw forbidden("A mentor cannot give a verdict on their own check: another mentor of the club reviews it");
+  if (as === "mentor" && isOwner)
+    throw forbidden("A mentor cannot give a verdict on their own check: another mentor of the club reviews it");
   return { share: s, check: c! };
 }
 
@@ -112,7 +125,12 @@ export async function shareFor(ex: Executor, user: SessionUser, shareId: string,
  * Who may end a membership: a club admin (removing a member), or the member themselves (leaving).
  * The last admin rule is the caller's (it needs the club's roles locked).
  */
-export async function memberRemover(ex: Executor, user: SessionUser, clubId: string, memberId: string): Promise<Role[]> {
+export async function memberRemover(
+  ex: Executor,
+  user: SessionUser,
+  clubId: string,
+  memberId: string,
+): Promise<Role[]> {
   if (memberId === user.id) return clubMember(ex, user, clubId);
   return clubRole(ex, user, clubId, "admin");
 }

@@ -1,7 +1,12 @@
 import "server-only";
 import { eq } from "drizzle-orm";
 import { env } from "@/lib/env";
-import { blockerText, type DeleteAccountInput, type DeletionBlocker, type DeletionPreview } from "@/lib/account/deletion";
+import {
+  blockerText,
+  type DeleteAccountInput,
+  type DeletionBlocker,
+  type DeletionPreview,
+} from "@/lib/account/deletion";
 import { DomainError, domainErrorOf, invalid, notFound, refused, tooMany } from "@/lib/errors";
 import { db, type Executor } from "@/db/client";
 import { users } from "@/db/schema";
@@ -39,7 +44,8 @@ async function blockersAndClubs(ex: Executor, userId: string, locking: boolean) 
   const clubs: { id: string; name: string; solo: boolean }[] = [];
   for (const c of await q.clubsOf(ex, userId)) {
     const head = await q.clubHeadcount(ex, c.id, locking && c.admin);
-    if (c.admin && head.admins === 1 && head.members > 1) blockers.push({ kind: "last-admin", clubId: c.id, clubName: c.name, members: head.members });
+    if (c.admin && head.admins === 1 && head.members > 1)
+      blockers.push({ kind: "last-admin", clubId: c.id, clubName: c.name, members: head.members });
     clubs.push({ id: c.id, name: c.name, solo: head.members === 1 });
   }
   blockers.push(...(await q.openLoans(ex, userId, locking)));
@@ -69,7 +75,11 @@ export async function requestDeleteLink(user: SessionUser, address: string | nul
   if (!cred) throw notFound("account");
   if (cred.passwordHash) throw refused("This account has a password: enter it to delete the account.");
   const spent = await mailThrottled(cred.email, address);
-  if (spent) throw tooMany(`A link was sent a short while ago. Check the inbox, or ask again in ${Math.ceil(spent.retryAfterSeconds / 60)} minutes.`, spent.retryAfterSeconds);
+  if (spent)
+    throw tooMany(
+      `A link was sent a short while ago. Check the inbox, or ask again in ${Math.ceil(spent.retryAfterSeconds / 60)} minutes.`,
+      spent.retryAfterSeconds,
+    );
   const token = await createAuthToken(user.id, "delete", LINK_MINUTES);
   await queueNotices([
     {
@@ -82,16 +92,27 @@ export async function requestDeleteLink(user: SessionUser, address: string | nul
   ]);
 }
 
-const badLink = () => new DomainError("bad_request", "This link has expired or was already used: ask for a new one", { code: "bad_token" });
+const badLink = () =>
+  new DomainError("bad_request", "This link has expired or was already used: ask for a new one", { code: "bad_token" });
 
-export async function deleteAccount(user: SessionUser, input: DeleteAccountInput): Promise<{ photos: number; commentsKept: number }> {
+export async function deleteAccount(
+  user: SessionUser,
+  input: DeleteAccountInput,
+): Promise<{ photos: number; commentsKept: number }> {
   const cred = await getCredentialsById(user.id);
   if (!cred) throw notFound("account");
   // counted before the password is checked, so a burst sent at once gets no more tries
   const spent = await deleteTries.take(user.id);
-  if (!spent.ok) throw tooMany(`Too many tries. Wait ${Math.ceil(spent.retryAfterSeconds / 60)} minutes and try again.`, spent.retryAfterSeconds);
+  if (!spent.ok)
+    throw tooMany(
+      `Too many tries. Wait ${Math.ceil(spent.retryAfterSeconds / 60)} minutes and try again.`,
+      spent.retryAfterSeconds,
+    );
   if (input.password !== undefined) {
-    if (!cred.passwordHash) throw invalid("This account has no password: ask for a link by e-mail instead", { password: "this account has no password" });
+    if (!cred.passwordHash)
+      throw invalid("This account has no password: ask for a link by e-mail instead", {
+        password: "this account has no password",
+      });
     let ok: boolean;
     try {
       ok = await verifyPassword(input.password, cred.passwordHash);
@@ -100,7 +121,10 @@ export async function deleteAccount(user: SessionUser, input: DeleteAccountInput
       if (domainErrorOf(e)?.kind === "overloaded") await deleteTries.refund(user.id).catch(() => undefined);
       throw e;
     }
-    if (!ok) throw invalid("That is not this account's password: nothing was deleted", { password: "not this account's password" });
+    if (!ok)
+      throw invalid("That is not this account's password: nothing was deleted", {
+        password: "not this account's password",
+      });
     await deleteTries.reset(user.id);
   } else if (cred.passwordHash) {
     // a password was set after the link was sent: the password is the proof now
@@ -110,10 +134,17 @@ export async function deleteAccount(user: SessionUser, input: DeleteAccountInput
   return write(user, async (w) => {
     if (input.token !== undefined && !(await q.consumeDeleteToken(w.tx, input.token, user.id))) throw badLink();
     // the account's row, locked: two deletions (two phones) are one after the other, the second finds nothing
-    const [me] = await w.tx.select({ id: users.id, email: users.email }).from(users).where(eq(users.id, user.id)).for("update");
+    const [me] = await w.tx
+      .select({ id: users.id, email: users.email })
+      .from(users)
+      .where(eq(users.id, user.id))
+      .for("update");
     if (!me) throw notFound("account");
     const { blockers, clubs } = await blockersAndClubs(w.tx, user.id, true);
-    if (blockers.length) throw new DomainError("refused", `Nothing was deleted. ${blockers.map(blockerText).join(" ")}`, { code: "deletion_blocked" });
+    if (blockers.length)
+      throw new DomainError("refused", `Nothing was deleted. ${blockers.map(blockerText).join(" ")}`, {
+        code: "deletion_blocked",
+      });
     for (const c of clubs) {
       // a club of one goes with its only member; any other keeps its records and loses this member
       if (c.solo) await q.deleteClub(w.tx, c.id);

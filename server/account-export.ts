@@ -5,7 +5,21 @@ import { PassThrough, Readable } from "node:stream";
 import { finished, pipeline } from "node:stream/promises";
 import yazl from "yazl";
 import { tooMany, DomainError } from "@/lib/errors";
-import { EXPORT_DATA_ENTRY, EXPORT_FORMAT, EXPORT_SCHEMA_VERSION, checkFiles, exportFileName, foundOf, photoEntryName, previousOf, type ExportCheck, type ExportDocument, type ExportEngine, type ExportReading, type ExportTrayItem } from "@/lib/export/schema";
+import {
+  EXPORT_DATA_ENTRY,
+  EXPORT_FORMAT,
+  EXPORT_SCHEMA_VERSION,
+  checkFiles,
+  exportFileName,
+  foundOf,
+  photoEntryName,
+  previousOf,
+  type ExportCheck,
+  type ExportDocument,
+  type ExportEngine,
+  type ExportReading,
+  type ExportTrayItem,
+} from "@/lib/export/schema";
 import { engineToApi } from "@/db/queries/garage";
 import { getPublicUser } from "@/db/queries/users";
 import * as q from "@/db/queries/account-export";
@@ -36,7 +50,8 @@ async function ticketKey(): Promise<Buffer> {
   const { authOptions } = await import("./auth"); // the one place the secret (and its development stand-in) is chosen
   const secret = authOptions.secret;
   if (!secret) throw new Error("no secret to sign export tickets with");
-  if (keyFor?.secret !== secret) keyFor = { secret, key: createHmac("sha256", secret).update("lashwright export ticket v1").digest() };
+  if (keyFor?.secret !== secret)
+    keyFor = { secret, key: createHmac("sha256", secret).update("lashwright export ticket v1").digest() };
   return keyFor.key;
 }
 const mac = (key: Buffer, body: string) => createHmac("sha256", key).update(body).digest("base64url");
@@ -50,7 +65,10 @@ export async function startExport(user: SessionUser): Promise<{ href: string; fi
   const spent = await exportBudget().take(user.id);
   if (!spent.ok) {
     const minutes = Math.ceil(spent.retryAfterSeconds / 60);
-    throw tooMany(`You have made ${exportBudget().spec.points} exports in the last hour, the most an hour allows: try again in ${minutes} minute${minutes === 1 ? "" : "s"}.`, spent.retryAfterSeconds);
+    throw tooMany(
+      `You have made ${exportBudget().spec.points} exports in the last hour, the most an hour allows: try again in ${minutes} minute${minutes === 1 ? "" : "s"}.`,
+      spent.retryAfterSeconds,
+    );
   }
   const until = Math.floor(Date.now() / 1000) + TICKET_SECONDS;
   const body = `${user.id}.${until.toString(36)}`;
@@ -70,7 +88,10 @@ async function ticketValid(user: SessionUser, ticket: string): Promise<boolean> 
 }
 
 export async function openExport(user: SessionUser, ticket: string): Promise<Response> {
-  if (!(await ticketValid(user, ticket))) throw new DomainError("bad_request", "This download link has expired: press Export again", { code: "ticket_expired" });
+  if (!(await ticketValid(user, ticket)))
+    throw new DomainError("bad_request", "This download link has expired: press Export again", {
+      code: "ticket_expired",
+    });
   const at = new Date();
   const zip = new yazl.ZipFile();
   const out = zip.outputStream as Readable;
@@ -93,7 +114,13 @@ export async function openExport(user: SessionUser, ticket: string): Promise<Res
 }
 
 /** One entry: added, filled as the zip reads it (back-pressure from the download), and read to its end before the next. */
-async function entry(zip: yazl.ZipFile, name: string, opts: { mtime: Date; compress: boolean }, signal: AbortSignal, fill: (write: (chunk: string | Buffer) => Promise<void>, sink: PassThrough) => Promise<void>) {
+async function entry(
+  zip: yazl.ZipFile,
+  name: string,
+  opts: { mtime: Date; compress: boolean },
+  signal: AbortSignal,
+  fill: (write: (chunk: string | Buffer) => Promise<void>, sink: PassThrough) => Promise<void>,
+) {
   const sink = new PassThrough();
   const read = finished(sink, { signal });
   zip.addReadStream(sink, name, opts);
@@ -139,7 +166,13 @@ const readingOut = (r: typeof readings.$inferSelect): ExportReading => ({
   found: foundOf(r),
 });
 
-const commentOut = (c: typeof comments.$inferSelect) => ({ id: c.id, checkId: c.checkId, valve: c.valve, body: c.body, createdAt: c.createdAt.toISOString() });
+const commentOut = (c: typeof comments.$inferSelect) => ({
+  id: c.id,
+  checkId: c.checkId,
+  valve: c.valve,
+  body: c.body,
+  createdAt: c.createdAt.toISOString(),
+});
 
 const photoOut = (p: typeof uploads.$inferSelect, userId: string) => ({
   id: p.id,
@@ -181,15 +214,26 @@ async function writeZip(zip: yazl.ZipFile, user: SessionUser, at: Date, signal: 
   const opts = { mtime: at, compress: true };
   const account = await getPublicUser(user.id);
   const tray: ExportTrayItem[] = [];
-  for await (const t of q.pages((after) => q.trayPage(user.id, after), (t) => t.id)) tray.push({ id: t.id, size: t.size, measuredSize: t.measuredSize, count: t.count, shimDiameter: t.shimDiameter });
+  for await (const t of q.pages(
+    (after) => q.trayPage(user.id, after),
+    (t) => t.id,
+  ))
+    tray.push({ id: t.id, size: t.size, measuredSize: t.measuredSize, count: t.count, shimDiameter: t.shimDiameter });
   // the engines, and each one's checks (ids, dates, odometers): what every later part refers to
   const engineList: ExportEngine[] = [];
-  for await (const e of q.pages((after) => q.enginePage(user.id, after), (e) => e.id)) engineList.push(engineOut(e));
+  for await (const e of q.pages(
+    (after) => q.enginePage(user.id, after),
+    (e) => e.id,
+  ))
+    engineList.push(engineOut(e));
   const checksOf = new Map<string, ExportCheck[]>();
   const checkIds = new Set<string>();
   for (const e of engineList) {
     const list: ExportCheck[] = [];
-    for await (const c of q.pages((after) => q.checkPage(user.id, e.id, after), (c) => c.id)) {
+    for await (const c of q.pages(
+      (after) => q.checkPage(user.id, e.id, after),
+      (c) => c.id,
+    )) {
       list.push(checkOut(c));
       checkIds.add(c.id);
     }
@@ -205,7 +249,17 @@ async function writeZip(zip: yazl.ZipFile, user: SessionUser, at: Date, signal: 
       for (const c of list) {
         const rs = (await q.readingsOfCheck(user.id, c.id)).map(readingOut);
         const prev = previousOf(c, list);
-        yield { engine: e, check: c, readings: rs, previous: prev ? { check: prev, readings: readingsOf.get(prev.id) ?? (await q.readingsOfCheck(user.id, prev.id)).map(readingOut) } : null };
+        yield {
+          engine: e,
+          check: c,
+          readings: rs,
+          previous: prev
+            ? {
+                check: prev,
+                readings: readingsOf.get(prev.id) ?? (await q.readingsOfCheck(user.id, prev.id)).map(readingOut),
+              }
+            : null,
+        };
         // only the one before is kept: checks are in order of their start
         readingsOf.clear();
         readingsOf.set(c.id, rs);
@@ -214,10 +268,20 @@ async function writeZip(zip: yazl.ZipFile, user: SessionUser, at: Date, signal: 
   }
 
   await entry(zip, EXPORT_DATA_ENTRY, opts, signal, async (write) => {
-    const head = { format: EXPORT_FORMAT, schemaVersion: EXPORT_SCHEMA_VERSION, exportedAt: at.toISOString(), source: "server", account: account ? { name: account.name, email: account.email, displayUnit: account.displayUnit } : null };
+    const head = {
+      format: EXPORT_FORMAT,
+      schemaVersion: EXPORT_SCHEMA_VERSION,
+      exportedAt: at.toISOString(),
+      source: "server",
+      account: account ? { name: account.name, email: account.email, displayUnit: account.displayUnit } : null,
+    };
     await write(JSON.stringify(head).slice(0, -1));
     await array(write, "engines", engineList);
-    await array(write, "checks", engineList.flatMap((e) => checksOf.get(e.id)!));
+    await array(
+      write,
+      "checks",
+      engineList.flatMap((e) => checksOf.get(e.id)!),
+    );
     await array(
       write,
       "readings",
@@ -239,22 +303,34 @@ async function writeZip(zip: yazl.ZipFile, user: SessionUser, at: Date, signal: 
       write,
       "comments",
       (async function* () {
-        for await (const r of q.pages((after) => q.commentsOnOwnChecksPage(user.id, after), (r) => r.c.id))
-          if (checkIds.has(r.c.checkId)) yield { ...commentOut(r.c), byMe: r.c.authorId === user.id, authorName: r.authorName };
+        for await (const r of q.pages(
+          (after) => q.commentsOnOwnChecksPage(user.id, after),
+          (r) => r.c.id,
+        ))
+          if (checkIds.has(r.c.checkId))
+            yield { ...commentOut(r.c), byMe: r.c.authorId === user.id, authorName: r.authorName };
       })(),
     );
     await array(
       write,
       "commentsElsewhere",
       (async function* () {
-        for await (const r of q.pages((after) => q.ownCommentsElsewherePage(user.id, after), (r) => r.c.id)) yield commentOut(r.c);
+        for await (const r of q.pages(
+          (after) => q.ownCommentsElsewherePage(user.id, after),
+          (r) => r.c.id,
+        ))
+          yield commentOut(r.c);
       })(),
     );
     await array(
       write,
       "photos",
       (async function* () {
-        for await (const r of q.pages((after) => q.photoPage(user.id, after), (r) => r.p.id)) if (checkIds.has(r.p.checkId)) yield photoOut(r.p, user.id);
+        for await (const r of q.pages(
+          (after) => q.photoPage(user.id, after),
+          (r) => r.p.id,
+        ))
+          if (checkIds.has(r.p.checkId)) yield photoOut(r.p, user.id);
       })(),
     );
     await array(write, "tray", tray);
@@ -262,7 +338,11 @@ async function writeZip(zip: yazl.ZipFile, user: SessionUser, at: Date, signal: 
       write,
       "loans",
       (async function* () {
-        for await (const l of q.pages((after) => q.loanPage(user.id, after), (l) => l.id)) yield loanOut(l, user.id);
+        for await (const l of q.pages(
+          (after) => q.loanPage(user.id, after),
+          (l) => l.id,
+        ))
+          yield loanOut(l, user.id);
       })(),
     );
     await write("\n}\n");
@@ -273,7 +353,10 @@ async function writeZip(zip: yazl.ZipFile, user: SessionUser, at: Date, signal: 
     await entry(zip, csvName, opts, signal, (write) => write(csv));
   }
 
-  for await (const r of q.pages((after) => q.photoPage(user.id, after), (r) => r.p.id)) {
+  for await (const r of q.pages(
+    (after) => q.photoPage(user.id, after),
+    (r) => r.p.id,
+  )) {
     if (!checkIds.has(r.p.checkId)) continue;
     // JPEG is compressed already: stored as it is, piped from the store as the download takes it
     await entry(zip, photoEntryName(r.p.id), { mtime: at, compress: false }, signal, async (_write, sink) => {

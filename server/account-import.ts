@@ -9,7 +9,14 @@ import yauzl from "yauzl";
 import { DomainError, tooMany } from "@/lib/errors";
 import { env } from "@/lib/env";
 import { formatBytes } from "@/lib/photos/rules";
-import { CSV_ENTRY, EXPORT_DATA_ENTRY, IMPORT_LIMITS, PHOTO_ENTRY, parseExport, type ExportDocument } from "@/lib/export/schema";
+import {
+  CSV_ENTRY,
+  EXPORT_DATA_ENTRY,
+  IMPORT_LIMITS,
+  PHOTO_ENTRY,
+  parseExport,
+  type ExportDocument,
+} from "@/lib/export/schema";
 import { putEngine } from "@/db/queries/garage";
 import * as q from "@/db/queries/account-import";
 import { bytesStored } from "@/db/queries/photos";
@@ -41,8 +48,10 @@ const importBudget = () => budget({ name: "import:account", points: 5, seconds: 
 /** The zip as uploaded: at most the photo space, the data and the CSVs beside it. */
 export const importMaxBytes = () => env().PHOTO_QUOTA_BYTES + IMPORT_LIMITS.dataBytes + 64 * 1024 * 1024;
 
-const damaged = (message: string) => new DomainError("bad_request", `${message}. Nothing was imported.`, { code: "export_damaged" });
-const tooBig = (message: string) => new DomainError("too_large", `${message}. Nothing was imported.`, { code: "export_too_large" });
+const damaged = (message: string) =>
+  new DomainError("bad_request", `${message}. Nothing was imported.`, { code: "export_damaged" });
+const tooBig = (message: string) =>
+  new DomainError("too_large", `${message}. Nothing was imported.`, { code: "export_too_large" });
 
 export interface ImportResult {
   engines: number;
@@ -56,7 +65,10 @@ export interface ImportResult {
   commentsNotRestored: number;
 }
 
-export async function importAccount(user: SessionUser, body: { bytes: number; stream: ReadableStream<Uint8Array> | null }): Promise<ImportResult> {
+export async function importAccount(
+  user: SessionUser,
+  body: { bytes: number; stream: ReadableStream<Uint8Array> | null },
+): Promise<ImportResult> {
   const counts = await q.accountRecordCounts(db(), user.id);
   if (counts.engines || counts.tray) throw notEmpty(counts);
   const limit = importMaxBytes();
@@ -64,7 +76,10 @@ export async function importAccount(user: SessionUser, body: { bytes: number; st
   const spent = await importBudget().take(user.id);
   if (!spent.ok) {
     const minutes = Math.ceil(spent.retryAfterSeconds / 60);
-    throw tooMany(`You have tried ${importBudget().spec.points} imports in the last hour, the most an hour allows: try again in ${minutes} minute${minutes === 1 ? "" : "s"}.`, spent.retryAfterSeconds);
+    throw tooMany(
+      `You have tried ${importBudget().spec.points} imports in the last hour, the most an hour allows: try again in ${minutes} minute${minutes === 1 ? "" : "s"}.`,
+      spent.retryAfterSeconds,
+    );
   }
   const dir = await mkdtemp(join(tmpdir(), "lashwright-import-"));
   try {
@@ -77,8 +92,17 @@ export async function importAccount(user: SessionUser, body: { bytes: number; st
 }
 
 function notEmpty(c: { engines: number; tray: number }) {
-  const has = [c.engines ? `${c.engines} engine${c.engines === 1 ? "" : "s"}` : "", c.tray ? `${c.tray} tray size${c.tray === 1 ? "" : "s"}` : ""].filter(Boolean).join(" and ");
-  return new DomainError("refused", `An export is brought back only into an account that holds nothing yet, and this one has ${has}. Nothing was imported.`, { code: "account_not_empty" });
+  const has = [
+    c.engines ? `${c.engines} engine${c.engines === 1 ? "" : "s"}` : "",
+    c.tray ? `${c.tray} tray size${c.tray === 1 ? "" : "s"}` : "",
+  ]
+    .filter(Boolean)
+    .join(" and ");
+  return new DomainError(
+    "refused",
+    `An export is brought back only into an account that holds nothing yet, and this one has ${has}. Nothing was imported.`,
+    { code: "account_not_empty" },
+  );
 }
 
 /** The upload to a file on disk, counted as it arrives: a zip is read by its end, and memory holds a chunk at a time. */
@@ -91,14 +115,22 @@ async function spool(stream: ReadableStream<Uint8Array> | null, file: string, li
       done(n > limit ? tooBig(`The file is over ${formatBytes(limit)}, the most an import takes`) : null, chunk);
     },
   });
-  await pipeline(Readable.fromWeb(stream as import("node:stream/web").ReadableStream<Uint8Array>), count, createWriteStream(file));
+  await pipeline(
+    Readable.fromWeb(stream as import("node:stream/web").ReadableStream<Uint8Array>),
+    count,
+    createWriteStream(file),
+  );
 }
 
 type Zip = yauzl.ZipFile;
 
 function openZip(file: string): Promise<Zip> {
   return new Promise((resolve, reject) =>
-    yauzl.open(file, { lazyEntries: true, autoClose: false, validateEntrySizes: true, strictFileNames: true }, (err, zf) => (err || !zf ? reject(damaged("The file is not a zip, or it is damaged")) : resolve(zf))),
+    yauzl.open(
+      file,
+      { lazyEntries: true, autoClose: false, validateEntrySizes: true, strictFileNames: true },
+      (err, zf) => (err || !zf ? reject(damaged("The file is not a zip, or it is damaged")) : resolve(zf)),
+    ),
   );
 }
 
@@ -114,7 +146,8 @@ function listEntries(zf: Zip): Promise<{ data: yauzl.Entry; photos: Map<string, 
     zf.on("error", () => fail(damaged("The zip is damaged")));
     zf.on("entry", (e: yauzl.Entry) => {
       const name = e.fileName;
-      if (names.size >= IMPORT_LIMITS.entries) return fail(tooBig(`The zip holds more than ${IMPORT_LIMITS.entries.toLocaleString("en")} files`));
+      if (names.size >= IMPORT_LIMITS.entries)
+        return fail(tooBig(`The zip holds more than ${IMPORT_LIMITS.entries.toLocaleString("en")} files`));
       if (names.has(name)) return fail(damaged(`The zip holds ${name} twice`));
       names.add(name);
       if (e.isEncrypted()) return fail(damaged(`${name} in the zip is encrypted`));
@@ -133,11 +166,21 @@ function listEntries(zf: Zip): Promise<{ data: yauzl.Entry; photos: Map<string, 
       } else {
         return fail(damaged(`The zip holds ${name.slice(0, 80)}, which an export never has`));
       }
-      if (e.uncompressedSize > max) return fail(tooBig(`${name.slice(0, 80)} in the zip is ${formatBytes(e.uncompressedSize)} unpacked; the most it may be is ${formatBytes(max)}`));
-      if (photoBytes > env().PHOTO_QUOTA_BYTES) return fail(tooBig(`The photos in the zip are more than your photo space (${formatBytes(env().PHOTO_QUOTA_BYTES)})`));
+      if (e.uncompressedSize > max)
+        return fail(
+          tooBig(
+            `${name.slice(0, 80)} in the zip is ${formatBytes(e.uncompressedSize)} unpacked; the most it may be is ${formatBytes(max)}`,
+          ),
+        );
+      if (photoBytes > env().PHOTO_QUOTA_BYTES)
+        return fail(
+          tooBig(`The photos in the zip are more than your photo space (${formatBytes(env().PHOTO_QUOTA_BYTES)})`),
+        );
       zf.readEntry();
     });
-    zf.on("end", () => (data ? resolve({ data, photos }) : fail(damaged(`The zip has no ${EXPORT_DATA_ENTRY}: it is not an export`))));
+    zf.on("end", () =>
+      data ? resolve({ data, photos }) : fail(damaged(`The zip has no ${EXPORT_DATA_ENTRY}: it is not an export`)),
+    );
     zf.readEntry();
   });
 }
@@ -165,7 +208,17 @@ function readEntry(zf: Zip, e: yauzl.Entry, limit: number): Promise<Buffer> {
 interface Prepared {
   doc: ExportDocument;
   ids: Map<string, string>;
-  photos: { id: string; key: string; checkId: string; valve: string | null; commentId: string | null; bytes: number; width: number; height: number; createdAt: Date | null }[];
+  photos: {
+    id: string;
+    key: string;
+    checkId: string;
+    valve: string | null;
+    commentId: string | null;
+    bytes: number;
+    width: number;
+    height: number;
+    createdAt: Date | null;
+  }[];
   photosNotIncluded: number;
 }
 
@@ -182,7 +235,10 @@ async function importFile(user: SessionUser, file: string): Promise<ImportResult
       throw damaged(`${EXPORT_DATA_ENTRY} in the zip is not valid JSON`);
     }
     const parsed = parseExport(json);
-    if (!parsed.ok) throw parsed.refusal.kind === "newer" ? new DomainError("refused", parsed.refusal.message, { code: "export_newer" }) : damaged(parsed.refusal.message);
+    if (!parsed.ok)
+      throw parsed.refusal.kind === "newer"
+        ? new DomainError("refused", parsed.refusal.message, { code: "export_newer" })
+        : damaged(parsed.refusal.message);
     const doc = parsed.doc;
     // every id is new: the same history may still be in another account (that is what an export is for)
     const ids = new Map<string, string>();
@@ -191,7 +247,8 @@ async function importFile(user: SessionUser, file: string): Promise<ImportResult
       if (!id) ids.set(old, (id = crypto.randomUUID()));
       return id;
     };
-    for (const list of [doc.engines, doc.checks, doc.tray, doc.comments.filter((c) => c.byMe), doc.photos]) for (const r of list) fresh(r.id);
+    for (const list of [doc.engines, doc.checks, doc.tray, doc.comments.filter((c) => c.byMe), doc.photos])
+      for (const r of list) fresh(r.id);
 
     const prepared: Prepared = { doc, ids, photos: [], photosNotIncluded: 0 };
     const quota = env().PHOTO_QUOTA_BYTES;
@@ -214,7 +271,17 @@ async function importFile(user: SessionUser, file: string): Promise<ImportResult
       const key = `checks/${checkId}/${id}.jpg`;
       await putObject(key, img.data, img.contentType);
       stored.push(key);
-      prepared.photos.push({ id, key, checkId, valve: p.valve, commentId: p.commentId ? (ids.get(p.commentId) ?? null) : null, bytes: img.data.byteLength, width: img.width, height: img.height, createdAt: p.createdAt ? new Date(p.createdAt) : null });
+      prepared.photos.push({
+        id,
+        key,
+        checkId,
+        valve: p.valve,
+        commentId: p.commentId ? (ids.get(p.commentId) ?? null) : null,
+        bytes: img.data.byteLength,
+        width: img.width,
+        height: img.height,
+        createdAt: p.createdAt ? new Date(p.createdAt) : null,
+      });
     }
     const result = await write(user, (w) => applyImport(w, prepared));
     stored.length = 0; // the rows hold them now
@@ -241,7 +308,18 @@ export async function applyImport(w: WriteCtx, p: Prepared): Promise<ImportResul
   for (const e of doc.engines) await putEngine(w.tx, owner, version, id(e.id), e);
   await q.insertChecks(
     w.tx,
-    doc.checks.map((c) => ({ id: id(c.id), engineId: id(c.engineId), ownerId: owner, odometer: c.odometer, measuredHot: c.measuredHot, status: c.status, notes: c.notes, startedAt: new Date(c.startedAt), closedAt: c.closedAt ? new Date(c.closedAt) : null, version })),
+    doc.checks.map((c) => ({
+      id: id(c.id),
+      engineId: id(c.engineId),
+      ownerId: owner,
+      odometer: c.odometer,
+      measuredHot: c.measuredHot,
+      status: c.status,
+      notes: c.notes,
+      startedAt: new Date(c.startedAt),
+      closedAt: c.closedAt ? new Date(c.closedAt) : null,
+      version,
+    })),
   );
   await q.insertReadings(
     w.tx,
@@ -265,16 +343,47 @@ export async function applyImport(w: WriteCtx, p: Prepared): Promise<ImportResul
   const own = doc.comments.filter((c) => c.byMe);
   await q.insertComments(
     w.tx,
-    own.map((c) => ({ id: id(c.id), checkId: id(c.checkId), authorId: owner, clubId: null, valve: c.valve, body: c.body, createdAt: new Date(c.createdAt), version })),
+    own.map((c) => ({
+      id: id(c.id),
+      checkId: id(c.checkId),
+      authorId: owner,
+      clubId: null,
+      valve: c.valve,
+      body: c.body,
+      createdAt: new Date(c.createdAt),
+      version,
+    })),
   );
   const now = new Date();
   await q.insertUploads(
     w.tx,
-    p.photos.map((ph) => ({ id: ph.id, ownerId: owner, checkId: ph.checkId, commentId: ph.commentId, valve: ph.valve, objectKey: ph.key, contentType: "image/jpeg", bytes: ph.bytes, width: ph.width, height: ph.height, storedAt: now, ...(ph.createdAt ? { createdAt: ph.createdAt } : {}), version })),
+    p.photos.map((ph) => ({
+      id: ph.id,
+      ownerId: owner,
+      checkId: ph.checkId,
+      commentId: ph.commentId,
+      valve: ph.valve,
+      objectKey: ph.key,
+      contentType: "image/jpeg",
+      bytes: ph.bytes,
+      width: ph.width,
+      height: ph.height,
+      storedAt: now,
+      ...(ph.createdAt ? { createdAt: ph.createdAt } : {}),
+      version,
+    })),
   );
   await q.insertTray(
     w.tx,
-    doc.tray.map((t) => ({ id: id(t.id), ownerId: owner, size: t.size, measuredSize: t.measuredSize, count: t.count, shimDiameter: t.shimDiameter, version })),
+    doc.tray.map((t) => ({
+      id: id(t.id),
+      ownerId: owner,
+      size: t.size,
+      measuredSize: t.measuredSize,
+      count: t.count,
+      shimDiameter: t.shimDiameter,
+      version,
+    })),
   );
   return {
     engines: doc.engines.length,

@@ -1,7 +1,17 @@
 import "server-only";
 import { env } from "@/lib/env";
 import { hashPassword, verifyPassword } from "./password";
-import { consumeAuthToken, createAuthToken, createUser, getCredentialsByEmail, getCredentialsById, tokenOwner, updateUser, bumpSessionGeneration, voidAuthTokens } from "@/db/queries/users";
+import {
+  consumeAuthToken,
+  createAuthToken,
+  createUser,
+  getCredentialsByEmail,
+  getCredentialsById,
+  tokenOwner,
+  updateUser,
+  bumpSessionGeneration,
+  voidAuthTokens,
+} from "@/db/queries/users";
 import { queueNotices } from "./notices";
 import { mailThrottled } from "./throttle";
 import { budget } from "./budgets";
@@ -17,7 +27,11 @@ export const link = (path: string, token: string) => `${env().NEXTAUTH_URL}${pat
 
 async function throttleMail(email: string, address: string | null) {
   const refused = await mailThrottled(email, address);
-  if (refused) throw tooMany(`Too many e-mails asked for this address. Wait ${Math.ceil(refused.retryAfterSeconds / 60)} minutes and try again.`, refused.retryAfterSeconds);
+  if (refused)
+    throw tooMany(
+      `Too many e-mails asked for this address. Wait ${Math.ceil(refused.retryAfterSeconds / 60)} minutes and try again.`,
+      refused.retryAfterSeconds,
+    );
 }
 
 export async function signUp(input: { email: string; name: string; password: string }, address: string | null = null) {
@@ -70,14 +84,21 @@ const resends = budget({ name: "mail:resend", points: RESEND_LIMIT.count, second
 export async function resendVerification(email: string): Promise<void> {
   const spent = await resends.take(email);
   if (!spent.ok)
-    throw tooMany(`A link was sent to this address a short while ago. Check the inbox (and the spam folder), or ask again in ${RESEND_LIMIT.windowMinutes} minutes.`, spent.retryAfterSeconds);
+    throw tooMany(
+      `A link was sent to this address a short while ago. Check the inbox (and the spam folder), or ask again in ${RESEND_LIMIT.windowMinutes} minutes.`,
+      spent.retryAfterSeconds,
+    );
   const u = await getCredentialsByEmail(email);
   if (u && !u.emailVerifiedAt) await sendVerification(u.id, email);
 }
 
 /** Five password tries per account in 15 minutes on the confirmation page; then the link waits. */
 export const VERIFY_TRY_LIMIT = { count: 5, windowMinutes: 15 } as const;
-const verifyTries = budget({ name: "verify:account", points: VERIFY_TRY_LIMIT.count, seconds: VERIFY_TRY_LIMIT.windowMinutes * 60 });
+const verifyTries = budget({
+  name: "verify:account",
+  points: VERIFY_TRY_LIMIT.count,
+  seconds: VERIFY_TRY_LIMIT.windowMinutes * 60,
+});
 
 /**
  * Confirms an address. The link proves the mailbox; the password proves that whoever holds the
@@ -94,11 +115,20 @@ export async function verifyEmail(token: string, password: string | undefined): 
   const u = await getCredentialsById(userId);
   if (!u) throw bad();
   if (u.passwordHash) {
-    if (!password) throw invalid("Enter the password you chose when you signed up", { password: "missing: the one you chose when you signed up" });
+    if (!password)
+      throw invalid("Enter the password you chose when you signed up", {
+        password: "missing: the one you chose when you signed up",
+      });
     const spent = await verifyTries.take(userId);
-    if (!spent.ok) throw tooMany(`Too many tries. Wait ${VERIFY_TRY_LIMIT.windowMinutes} minutes, or choose a new password instead.`, spent.retryAfterSeconds);
+    if (!spent.ok)
+      throw tooMany(
+        `Too many tries. Wait ${VERIFY_TRY_LIMIT.windowMinutes} minutes, or choose a new password instead.`,
+        spent.retryAfterSeconds,
+      );
     if (!(await verifyPassword(password, u.passwordHash)))
-      throw invalid("That is not the password this account was made with", { password: "not the password chosen at sign-up" });
+      throw invalid("That is not the password this account was made with", {
+        password: "not the password chosen at sign-up",
+      });
   }
   const used = await consumeAuthToken(token, "verify", { onlyFor: userId });
   if (used !== userId) throw bad();

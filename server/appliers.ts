@@ -1,10 +1,30 @@
 import "server-only";
 import type { MutationArgs, MutationName } from "@/lib/sync/mutations";
 import type { ReadingInput } from "@/lib/schemas/records";
-import { getCheckRow, getEngineRow, getTrayRow, putCheck, putEngine, putTrayItem, removeCheck, removeEngine, removeTrayItem, writeReadings } from "@/db/queries/garage";
+import {
+  getCheckRow,
+  getEngineRow,
+  getTrayRow,
+  putCheck,
+  putEngine,
+  putTrayItem,
+  removeCheck,
+  removeEngine,
+  removeTrayItem,
+  writeReadings,
+} from "@/db/queries/garage";
 import { insertComment, writeVerdict } from "@/db/queries/clubs";
 import { invalid, notFound } from "@/lib/errors";
-import { commentClub, ownCheck, ownOrNewCheck, ownOrNewEngine, ownOrNewTrayItem, ownEngine, readableCheck, shareFor } from "./access";
+import {
+  commentClub,
+  ownCheck,
+  ownOrNewCheck,
+  ownOrNewEngine,
+  ownOrNewTrayItem,
+  ownEngine,
+  readableCheck,
+  shareFor,
+} from "./access";
 import { checkReadingsFit } from "./engines";
 import { noticeNewComment, noticeVerdict } from "./review";
 import { applyAsk, applyMove, applyOffer, applyWithdrawOffer } from "./pool";

@@ -8,7 +8,15 @@ import { emailSchema, tokenSchema } from "@/lib/schemas/account";
 import { domainErrorOf } from "@/lib/errors";
 import { isTransientDbError } from "@/db/errors";
 import { dummyHash, hashRefusals, verifyPassword } from "./password";
-import { bumpSessionGeneration, consumeAuthToken, getCredentialsByEmail, getPublicUser, getSessionGeneration, getSessionUser, type PublicUser } from "@/db/queries/users";
+import {
+  bumpSessionGeneration,
+  consumeAuthToken,
+  getCredentialsByEmail,
+  getPublicUser,
+  getSessionGeneration,
+  getSessionUser,
+  type PublicUser,
+} from "@/db/queries/users";
 import { clientAddress, signInThrottled } from "./throttle";
 import { passwordAccepted } from "./sign-in";
 import { rememberDevice } from "./device-cookie";
@@ -42,7 +50,8 @@ const SESSION_COOKIE = { secure: "__Secure-next-auth.session-token", plain: "nex
  * over HTTPS from this host, so a cookie planted over plain HTTP or by a sibling host is never read
  * (OWASP ASVS 5.0 V7 Session Management).
  */
-export const sessionCookieName = () => (env().NEXTAUTH_URL.startsWith("https:") ? SESSION_COOKIE.secure : SESSION_COOKIE.plain);
+export const sessionCookieName = () =>
+  env().NEXTAUTH_URL.startsWith("https:") ? SESSION_COOKIE.secure : SESSION_COOKIE.plain;
 
 /**
  * The one auth configuration. Sessions are signed JWTs carrying only the user id and a session
@@ -50,7 +59,9 @@ export const sessionCookieName = () => (env().NEXTAUTH_URL.startsWith("https:") 
  * signing out raises the generation so the old token stops working everywhere.
  */
 export const authOptions: NextAuthOptions = {
-  secret: env().NEXTAUTH_SECRET ?? (env().NODE_ENV === "production" ? undefined : "lashwright-development-secret-not-for-production"),
+  secret:
+    env().NEXTAUTH_SECRET ??
+    (env().NODE_ENV === "production" ? undefined : "lashwright-development-secret-not-for-production"),
   session: { strategy: "jwt", maxAge: 30 * 24 * 60 * 60 },
   pages: { signIn: "/sign-in", error: "/sign-in" },
   providers: [
@@ -112,7 +123,8 @@ export const authOptions: NextAuthOptions = {
       }
       // next-auth's own readings of the cookie (its session answer, an update) check the generation
       // as currentUser() does: a revoked cookie shows no name (OWASP ASVS 5.0 V7 Session Management)
-      if (typeof token.uid !== "string" || (await getSessionGeneration(token.uid)) !== token.gen) throw new Error(SESSION_REVOKED);
+      if (typeof token.uid !== "string" || (await getSessionGeneration(token.uid)) !== token.gen)
+        throw new Error(SESSION_REVOKED);
       return token;
     },
     async session({ session, token }) {
@@ -124,7 +136,8 @@ export const authOptions: NextAuthOptions = {
     async signOut({ token }) {
       // only a session still current ends the others: a revoked cookie (a lost phone after a new
       // password) must not sign its owner out everywhere whenever it likes
-      if (typeof token?.uid === "string" && typeof token.gen === "number") await bumpSessionGeneration(token.uid, token.gen);
+      if (typeof token?.uid === "string" && typeof token.gen === "number")
+        await bumpSessionGeneration(token.uid, token.gen);
     },
   },
 };

@@ -16,7 +16,8 @@ import { env } from "@/lib/env";
 const ACCOUNTS_PER_BROWSER = 4;
 const LIFETIME_DAYS = 365;
 
-export const deviceCookieName = () => (env().NEXTAUTH_URL.startsWith("https:") ? "__Host-lashwright-device" : "lashwright-device");
+export const deviceCookieName = () =>
+  env().NEXTAUTH_URL.startsWith("https:") ? "__Host-lashwright-device" : "lashwright-device";
 
 let keyFor: { secret: string; key: Buffer } | undefined;
 /** A key of its own, derived from NEXTAUTH_SECRET, so a device mac is never valid as anything else. */
@@ -24,7 +25,8 @@ async function macKey(): Promise<Buffer | null> {
   const { authOptions } = await import("./auth"); // the one place the secret (and its development stand-in) is chosen
   const secret = authOptions.secret;
   if (!secret) return null;
-  if (keyFor?.secret !== secret) keyFor = { secret, key: createHmac("sha256", secret).update("lashwright device cookie v1").digest() };
+  if (keyFor?.secret !== secret)
+    keyFor = { secret, key: createHmac("sha256", secret).update("lashwright device cookie v1").digest() };
   return keyFor.key;
 }
 

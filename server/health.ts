@@ -35,9 +35,23 @@ export type Readiness = {
 
 const KEEP_MS = 1000;
 
-type Holder = { conn: Promise<mysql.Connection> | null; running: Promise<Readiness> | null; last: { at: number; value: Readiness } | null; probes: number; said: string; error: unknown };
+type Holder = {
+  conn: Promise<mysql.Connection> | null;
+  running: Promise<Readiness> | null;
+  last: { at: number; value: Readiness } | null;
+  probes: number;
+  said: string;
+  error: unknown;
+};
 const KEY = Symbol.for("lashwright.health");
-const holder = ((globalThis as Record<symbol, Holder | undefined>)[KEY] ??= { conn: null, running: null, last: null, probes: 0, said: "", error: undefined });
+const holder = ((globalThis as Record<symbol, Holder | undefined>)[KEY] ??= {
+  conn: null,
+  running: null,
+  last: null,
+  probes: 0,
+  said: "",
+  error: undefined,
+});
 
 /** Probes made since the process started (the metrics show it: a balancer's checks must not multiply it). */
 export const probesMade = () => holder.probes;
@@ -47,7 +61,12 @@ const SHIPPED: readonly number[] = journal.entries.map((e) => e.when);
 
 function connection(): Promise<mysql.Connection> {
   holder.conn ??= mysql
-    .createConnection({ uri: env().DATABASE_URL, connectTimeout: env().HEALTH_TIMEOUT_MS, supportBigNumbers: true, bigNumberStrings: false })
+    .createConnection({
+      uri: env().DATABASE_URL,
+      connectTimeout: env().HEALTH_TIMEOUT_MS,
+      supportBigNumbers: true,
+      bigNumberStrings: false,
+    })
     .then((c) => {
       // a connection the server dropped (a restart, a failover) is made again at the next probe
       c.on("error", () => forget(c));
@@ -69,7 +88,12 @@ const NOT_CHECKED: Check = { ok: false, skipped: true, detail: "not checked: the
 
 async function probe(): Promise<Readiness> {
   const e = env();
-  const checks: Record<CheckName, Check> = { database: { ok: true }, cluster: { ok: true }, migrations: NOT_CHECKED, notices: NOT_CHECKED };
+  const checks: Record<CheckName, Check> = {
+    database: { ok: true },
+    cluster: { ok: true },
+    migrations: NOT_CHECKED,
+    notices: NOT_CHECKED,
+  };
   let notices: Readiness["notices"] = null;
   let conn: mysql.Connection | undefined;
   let timer: NodeJS.Timeout | undefined;
@@ -87,7 +111,11 @@ async function probe(): Promise<Readiness> {
           const comment = String((state as { Value?: string }[])[0]?.Value ?? "unknown");
           if (comment !== "Synced") {
             checks.cluster = { ok: false, detail: `the node is ${comment.slice(0, 40)}, not Synced` };
-            checks.migrations = checks.notices = { ok: false, skipped: true, detail: "not checked: the node is not synced" };
+            checks.migrations = checks.notices = {
+              ok: false,
+              skipped: true,
+              detail: "not checked: the node is not synced",
+            };
             return;
           }
         }
@@ -97,7 +125,15 @@ async function probe(): Promise<Readiness> {
         const unknown = [...applied].filter((w) => !SHIPPED.includes(w)).length;
         checks.migrations =
           missing || unknown
-            ? { ok: false, detail: [missing ? `${missing} of this build's migrations not applied` : "", unknown ? `${unknown} applied that this build does not know (a newer build's)` : ""].filter(Boolean).join("; ") }
+            ? {
+                ok: false,
+                detail: [
+                  missing ? `${missing} of this build's migrations not applied` : "",
+                  unknown ? `${unknown} applied that this build does not know (a newer build's)` : "",
+                ]
+                  .filter(Boolean)
+                  .join("; "),
+              }
             : { ok: true };
         // due: queued and its time has come, or claimed by a sender whose claim ran out (it died)
         const [q] = await conn.query(`
@@ -108,13 +144,22 @@ async function probe(): Promise<Readiness> {
         const row = (q as { depth: number | string; waited: number | string }[])[0]!;
         notices = { depth: Number(row.depth), oldestDueSeconds: Number(row.waited) };
         const bound = e.NOTICE_STUCK_SECONDS;
-        checks.notices = bound > 0 && notices.oldestDueSeconds > bound ? { ok: false, detail: `the oldest due notice has waited ${notices.oldestDueSeconds} s (more than ${bound} s)` } : { ok: true };
+        checks.notices =
+          bound > 0 && notices.oldestDueSeconds > bound
+            ? {
+                ok: false,
+                detail: `the oldest due notice has waited ${notices.oldestDueSeconds} s (more than ${bound} s)`,
+              }
+            : { ok: true };
       })(),
     ]);
   } catch (err) {
     // no database message in the answer (it may name hosts or users); the log has it
     const timedOut = err instanceof Error && err.message === "timeout";
-    checks.database = { ok: false, detail: timedOut ? `no answer within ${e.HEALTH_TIMEOUT_MS} ms` : "cannot reach the database" };
+    checks.database = {
+      ok: false,
+      detail: timedOut ? `no answer within ${e.HEALTH_TIMEOUT_MS} ms` : "cannot reach the database",
+    };
     forget(conn);
     holder.error = err;
   } finally {
@@ -141,7 +186,8 @@ export function readiness(): Promise<Readiness> {
       .map(([name, c]) => `${name}: ${c.detail ?? "failed"}`)
       .join("; ");
     if (failed !== holder.said) {
-      if (failed) log.warn({ failed, err: value.checks.database.ok ? undefined : holder.error }, "readiness: not ready");
+      if (failed)
+        log.warn({ failed, err: value.checks.database.ok ? undefined : holder.error }, "readiness: not ready");
       else if (holder.said) log.info("readiness: ready again");
       holder.said = failed;
     }

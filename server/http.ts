@@ -34,7 +34,10 @@ const STATUS: Record<DomainErrorKind, number> = {
 export const RETRY_AFTER_SECONDS = 2;
 
 /** 503 with Retry-After: the request was not applied and may be sent again as it is. */
-export function overloadedResponse(message = "The server is busy: try again in a moment", retryAfterSeconds = RETRY_AFTER_SECONDS) {
+export function overloadedResponse(
+  message = "The server is busy: try again in a moment",
+  retryAfterSeconds = RETRY_AFTER_SECONDS,
+) {
   const res = errorResponse(503, "overloaded", message);
   res.headers.set("Retry-After", String(retryAfterSeconds));
   return res;
@@ -44,7 +47,8 @@ function domainResponse(e: DomainError) {
   if (e.kind === "overloaded") return overloadedResponse(e.message, e.extra.retryAfterSeconds);
   const res = errorResponse(STATUS[e.kind], e.extra.code ?? e.kind, e.message, e.extra.fields);
   // a refusal that names its wait (a spent budget: 429) says it as RFC 9110 section 10.2.3 asks
-  if (e.extra.retryAfterSeconds !== undefined) res.headers.set("Retry-After", String(Math.max(1, Math.ceil(e.extra.retryAfterSeconds))));
+  if (e.extra.retryAfterSeconds !== undefined)
+    res.headers.set("Retry-After", String(Math.max(1, Math.ceil(e.extra.retryAfterSeconds))));
   return res;
 }
 
@@ -94,7 +98,13 @@ function fieldsFromZod(e: ZodError): Record<string, string> {
   return Object.fromEntries(fields);
 }
 
-type Ctx<P, Q, B, A extends boolean> = { req: NextRequest; params: P; query: Q; body: B; user: A extends true ? SessionUser : SessionUser | null };
+type Ctx<P, Q, B, A extends boolean> = {
+  req: NextRequest;
+  params: P;
+  query: Q;
+  body: B;
+  user: A extends true ? SessionUser : SessionUser | null;
+};
 
 interface RouteOptions<P extends z.ZodType, Q extends z.ZodType, B extends z.ZodType, A extends boolean> {
   params?: P;
@@ -114,10 +124,12 @@ interface RouteOptions<P extends z.ZodType, Q extends z.ZodType, B extends z.Zod
   session?: A extends false ? false : never;
 }
 
-export function route<P extends z.ZodType = z.ZodType<Record<string, never>>, Q extends z.ZodType = z.ZodType<Record<string, never>>, B extends z.ZodType = z.ZodType<undefined>, A extends boolean = true>(
-  opts: RouteOptions<P, Q, B, A>,
-  fn: (ctx: Ctx<z.output<P>, z.output<Q>, z.output<B>, A>) => Promise<unknown>,
-) {
+export function route<
+  P extends z.ZodType = z.ZodType<Record<string, never>>,
+  Q extends z.ZodType = z.ZodType<Record<string, never>>,
+  B extends z.ZodType = z.ZodType<undefined>,
+  A extends boolean = true,
+>(opts: RouteOptions<P, Q, B, A>, fn: (ctx: Ctx<z.output<P>, z.output<Q>, z.output<B>, A>) => Promise<unknown>) {
   return (req: NextRequest, ctx: { params: Promise<Record<string, string | string[]>> }) =>
     withRequestContext(async (rc) => {
       const res = await handle(req, ctx, rc);
@@ -125,7 +137,11 @@ export function route<P extends z.ZodType = z.ZodType<Record<string, never>>, Q 
       return res;
     });
 
-  async function handle(req: NextRequest, ctx: { params: Promise<Record<string, string | string[]>> }, rc: RequestContext): Promise<Response> {
+  async function handle(
+    req: NextRequest,
+    ctx: { params: Promise<Record<string, string | string[]>> },
+    rc: RequestContext,
+  ): Promise<Response> {
     const requestId = rc.id;
     try {
       const rawParams = ctx?.params ? await ctx.params : {};
@@ -137,12 +153,22 @@ export function route<P extends z.ZodType = z.ZodType<Record<string, never>>, Q 
       // (lib/sync/client.ts); only a cookie signed by us can earn it (OWASP ASVS 5.0 V7)
       // the log line says whose request it was (an id, never an address or a name)
       if (user) rc.userId = user.id;
-      if (opts.auth !== false && !user) return revoked ? errorResponse(401, SESSION_REVOKED_CODE, "This session was ended (signed out everywhere, or a new password): sign in again") : errorResponse(401, "unauthorized", "Sign in first");
+      if (opts.auth !== false && !user)
+        return revoked
+          ? errorResponse(
+              401,
+              SESSION_REVOKED_CODE,
+              "This session was ended (signed out everywhere, or a new password): sign in again",
+            )
+          : errorResponse(401, "unauthorized", "Sign in first");
       const params = opts.params ? opts.params.safeParse(rawParams) : { success: true as const, data: rawParams };
       // A malformed id is just an id that names nothing.
       if (!params.success) return errorResponse(404, "not_found", "No such record");
-      const query = opts.query ? opts.query.safeParse(Object.fromEntries(req.nextUrl.searchParams)) : { success: true as const, data: {} };
-      if (!query.success) return errorResponse(422, "invalid", "The query string is not valid", fieldsFromZod(query.error));
+      const query = opts.query
+        ? opts.query.safeParse(Object.fromEntries(req.nextUrl.searchParams))
+        : { success: true as const, data: {} };
+      if (!query.success)
+        return errorResponse(422, "invalid", "The query string is not valid", fieldsFromZod(query.error));
       // after the ids, so a hostile id answers 404 whatever was sent; before anything is read
       const wrongType = opts.body ? contentTypeRefusal(req, "json") : null;
       if (wrongType) throw wrongType;
@@ -163,7 +189,12 @@ export function route<P extends z.ZodType = z.ZodType<Record<string, never>>, Q 
         }
         body = parsed.data;
       }
-      const result = await fn({ req, params: params.data, query: query.data, body, user } as Ctx<z.output<P>, z.output<Q>, z.output<B>, A>);
+      const result = await fn({ req, params: params.data, query: query.data, body, user } as Ctx<
+        z.output<P>,
+        z.output<Q>,
+        z.output<B>,
+        A
+      >);
       if (result instanceof Response) return result;
       const status = opts.status ?? 200;
       if (status === 204) return new NextResponse(null, { status });
@@ -185,7 +216,10 @@ export function route<P extends z.ZodType = z.ZodType<Record<string, never>>, Q 
 export const uuidParam = z.string().regex(ID_PATTERN);
 
 // plain decimal digits only: Number() would also take "0x10", "1e3" or " 7 "
-const digits = z.string().regex(/^\d{1,7}$/, { error: "a whole number" }).transform(Number);
+const digits = z
+  .string()
+  .regex(/^\d{1,7}$/, { error: "a whole number" })
+  .transform(Number);
 export const pageQuery = z.object({
   limit: digits.pipe(z.number().int().min(1).max(200)).default(50),
   offset: digits.pipe(z.number().int().min(0).max(1_000_000)).default(0),

@@ -32,9 +32,18 @@ async function spend(b: Budget, key: string, message: (wait: number) => string) 
  */
 export async function withInviteBudget<T>(senderId: string, email: string, make: () => Promise<T>): Promise<T> {
   const to = email.toLowerCase();
-  await spend(bySender, senderId, (w) => `You have sent the invitations one account may send in a day (${bySender.spec.points}). Try again in ${hours(w)} hours.`);
+  await spend(
+    bySender,
+    senderId,
+    (w) =>
+      `You have sent the invitations one account may send in a day (${bySender.spec.points}). Try again in ${hours(w)} hours.`,
+  );
   try {
-    await spend(byAddress, to, (w) => `This address has had enough invitations for today. Try again in ${hours(w)} hours.`);
+    await spend(
+      byAddress,
+      to,
+      (w) => `This address has had enough invitations for today. Try again in ${hours(w)} hours.`,
+    );
   } catch (e) {
     await bySender.refund(senderId);
     throw e;
@@ -47,7 +56,13 @@ export async function withInviteBudget<T>(senderId: string, email: string, make:
   }
 }
 
-export async function sendInvitation(a: { email: string; inviterName: string; clubName: string; role: Role; token: string }) {
+export async function sendInvitation(a: {
+  email: string;
+  inviterName: string;
+  clubName: string;
+  role: Role;
+  token: string;
+}) {
   await queueNotices([
     {
       toEmail: a.email,

@@ -17,7 +17,15 @@ const KEY = Symbol.for("lashwright.log");
  * query's error carries its parameters (drizzle puts them in the message, mysql2 the whole SQL in
  * `sql`), which may be anyone's data, so the parameters are cut out and `sql` is not copied.
  */
-type Serialized = { type: string; message: string; stack?: string; code?: unknown; errno?: unknown; sqlState?: unknown; cause?: Serialized | string };
+type Serialized = {
+  type: string;
+  message: string;
+  stack?: string;
+  code?: unknown;
+  errno?: unknown;
+  sqlState?: unknown;
+  cause?: Serialized | string;
+};
 const scrub = (s: string) => s.replace(/\nparams: [\s\S]*?(?=\n\s+at |$)/, "\nparams: [not logged]");
 export function serializeError(e: unknown, depth = 0): Serialized | string {
   if (!(e instanceof Error)) return typeof e === "string" ? e : String(e);

@@ -18,7 +18,21 @@ export function mailer(): Transporter {
  * which lets the mail provider's own button stop it with one POST (RFC 8058 3.1; the outgoing
  * server must DKIM-sign both headers for providers to trust them, RFC 8058 4).
  */
-export async function sendMail(to: string, subject: string, text: string, opts: { unsubscribeUrl?: string } = {}): Promise<void> {
-  const headers = opts.unsubscribeUrl ? { "List-Unsubscribe": `<${opts.unsubscribeUrl}>`, "List-Unsubscribe-Post": "List-Unsubscribe=One-Click" } : undefined;
-  await mailer().sendMail({ to, subject, text, html: mailHtml(subject, text, { linkOrigin: env().NEXTAUTH_URL }), from: env().MAIL_FROM, headers });
+export async function sendMail(
+  to: string,
+  subject: string,
+  text: string,
+  opts: { unsubscribeUrl?: string } = {},
+): Promise<void> {
+  const headers = opts.unsubscribeUrl
+    ? { "List-Unsubscribe": `<${opts.unsubscribeUrl}>`, "List-Unsubscribe-Post": "List-Unsubscribe=One-Click" }
+    : undefined;
+  await mailer().sendMail({
+    to,
+    subject,
+    text,
+    html: mailHtml(subject, text, { linkOrigin: env().NEXTAUTH_URL }),
+    from: env().MAIL_FROM,
+    headers,
+  });
 }

@@ -104,9 +104,24 @@ function make() {
       buckets: [0.005, 0.01, 0.025, 0.05, 0.1, 0.25, 0.5, 1, 2, 5, 10, 30],
       registers,
     }),
-    shed: new Counter({ name: "lashwright_requests_shed_total", help: "Requests answered 503 (busy: try again), by route pattern", labelNames: ["route"] as const, registers }),
-    syncRows: new Counter({ name: "lashwright_sync_rows_total", help: "Sync rows: mutations applied by pushes (push), rows and tombstones sent by pulls (pull)", labelNames: ["direction"] as const, registers }),
-    budgetRefusals: new Counter({ name: "lashwright_budget_refusals_total", help: "Takes refused by a fair-use budget (server/budgets.ts), by budget name", labelNames: ["budget"] as const, registers }),
+    shed: new Counter({
+      name: "lashwright_requests_shed_total",
+      help: "Requests answered 503 (busy: try again), by route pattern",
+      labelNames: ["route"] as const,
+      registers,
+    }),
+    syncRows: new Counter({
+      name: "lashwright_sync_rows_total",
+      help: "Sync rows: mutations applied by pushes (push), rows and tombstones sent by pulls (pull)",
+      labelNames: ["direction"] as const,
+      registers,
+    }),
+    budgetRefusals: new Counter({
+      name: "lashwright_budget_refusals_total",
+      help: "Takes refused by a fair-use budget (server/budgets.ts), by budget name",
+      labelNames: ["budget"] as const,
+      registers,
+    }),
   };
 }
 
@@ -164,20 +179,31 @@ export async function startMetricsServer(unlogged: symbol): Promise<http.Server 
       return;
     }
     if (!authorised(req.headers.authorization, e.METRICS_TOKEN)) {
-      res.writeHead(401, { "content-type": "text/plain", "www-authenticate": 'Bearer realm="metrics"' }).end("a bearer token is required\n");
+      res
+        .writeHead(401, { "content-type": "text/plain", "www-authenticate": 'Bearer realm="metrics"' })
+        .end("a bearer token is required\n");
       return;
     }
     m.registry
       .metrics()
-      .then((text) => res.writeHead(200, { "content-type": m.registry.contentType, "cache-control": "no-store" }).end(text))
+      .then((text) =>
+        res.writeHead(200, { "content-type": m.registry.contentType, "cache-control": "no-store" }).end(text),
+      )
       .catch((err: unknown) => {
         log.error({ err }, "metrics: a scrape failed");
         res.writeHead(500, { "content-type": "text/plain" }).end("the metrics could not be gathered\n");
       });
   });
   (server as unknown as Record<symbol, true>)[unlogged] = true;
-  server.on("error", (err) => log.error({ err, port: e.METRICS_PORT, host: e.METRICS_HOST }, "metrics: the listener could not start; serving without metrics"));
-  server.listen(e.METRICS_PORT, e.METRICS_HOST, () => log.info({ port: e.METRICS_PORT, host: e.METRICS_HOST, token: !!e.METRICS_TOKEN }, "metrics: listening"));
+  server.on("error", (err) =>
+    log.error(
+      { err, port: e.METRICS_PORT, host: e.METRICS_HOST },
+      "metrics: the listener could not start; serving without metrics",
+    ),
+  );
+  server.listen(e.METRICS_PORT, e.METRICS_HOST, () =>
+    log.info({ port: e.METRICS_PORT, host: e.METRICS_HOST, token: !!e.METRICS_TOKEN }, "metrics: listening"),
+  );
   server.unref();
   return server;
 }

@@ -29,10 +29,16 @@ export async function composeGroup(group: NoticeRow[]): Promise<{ mail: Composed
   const first = group[0]!;
   // account mail is sent whatever the notice setting: it is what the reader asked for, or must know
   if (isAccountMail(first.kind)) {
-    const mail = (first.kind === "reset" || first.kind === "signin") && first.body === "" ? await accountLink(first) : { subject: first.subject, body: first.body };
+    const mail =
+      (first.kind === "reset" || first.kind === "signin") && first.body === ""
+        ? await accountLink(first)
+        : { subject: first.subject, body: first.body };
     return mail ? { mail, keep: all, drop: [] } : { mail: null, keep: [], drop: all };
   }
-  if (first.kind === "invite") return (await takesNotices(first.toEmail)) ? { mail: { subject: first.subject, body: first.body }, keep: all, drop: [] } : { mail: null, keep: [], drop: all };
+  if (first.kind === "invite")
+    return (await takesNotices(first.toEmail))
+      ? { mail: { subject: first.subject, body: first.body }, keep: all, drop: [] }
+      : { mail: null, keep: [], drop: all };
 
   const readable = new Map<string, Promise<boolean>>();
   const canRead = (userId: string, checkId: string) => {
@@ -67,8 +73,14 @@ async function accountLink(n: NoticeRow): Promise<Composed> {
   if (!u) return null;
   if (n.kind === "reset") {
     const token = await createAuthToken(u.id, "reset", 60);
-    return { subject: "Choose a new Lashwright password", body: `To choose a new password, open:\n${link("/reset-password", token)}\n\nThe link works once, for an hour. If you did not ask for it, ignore this message.` };
+    return {
+      subject: "Choose a new Lashwright password",
+      body: `To choose a new password, open:\n${link("/reset-password", token)}\n\nThe link works once, for an hour. If you did not ask for it, ignore this message.`,
+    };
   }
   const token = await createAuthToken(u.id, "signin", 15);
-  return { subject: "Your Lashwright sign-in link", body: `Open this link on the phone you want to sign in on:\n${link("/sign-in/link", token)}\n\nIt works once, for 15 minutes.` };
+  return {
+    subject: "Your Lashwright sign-in link",
+    body: `Open this link on the phone you want to sign in on:\n${link("/sign-in/link", token)}\n\nIt works once, for 15 minutes.`,
+  };
 }

@@ -1,7 +1,16 @@
 import "server-only";
 import { AsyncLocalStorage } from "node:async_hooks";
 import { createHmac, randomBytes, timingSafeEqual } from "node:crypto";
-import { claimDueNotices, enqueueNotices, markNoticesFailed, markNoticesSent, postponeNotices, stopNotices, type NoticeInput, type NoticeRow } from "@/db/queries/notices";
+import {
+  claimDueNotices,
+  enqueueNotices,
+  markNoticesFailed,
+  markNoticesSent,
+  postponeNotices,
+  stopNotices,
+  type NoticeInput,
+  type NoticeRow,
+} from "@/db/queries/notices";
 import { usersByIds } from "@/db/queries/clubs";
 import { env } from "@/lib/env";
 import { merge } from "@/lib/mail/digest";
@@ -86,7 +95,18 @@ async function flush(intents: Intent[]): Promise<void> {
       const key = `${r.id}\n${notice.kind}\n${notice.aboutCheckId ?? ""}`;
       const m = merged.get(key);
       if (m) m.texts.push(notice);
-      else merged.set(key, { input: { toEmail: r.email, toUserId: r.id, kind: notice.kind, aboutCheckId: notice.aboutCheckId ?? null, subject: "", body: "" }, texts: [notice] });
+      else
+        merged.set(key, {
+          input: {
+            toEmail: r.email,
+            toUserId: r.id,
+            kind: notice.kind,
+            aboutCheckId: notice.aboutCheckId ?? null,
+            subject: "",
+            body: "",
+          },
+          texts: [notice],
+        });
     }
   }
   if (!merged.size) return;
@@ -148,7 +168,8 @@ export async function unsubscribe(token: string): Promise<boolean> {
 
 const base = () => env().NEXTAUTH_URL.replace(/\/$/, "");
 /** What a mail client POSTs to (List-Unsubscribe) and the page a reader opens from the mail's text. */
-export const unsubscribePostUrl = (email: string) => `${base()}/api/notices/unsubscribe?token=${unsubscribeToken(email)}`;
+export const unsubscribePostUrl = (email: string) =>
+  `${base()}/api/notices/unsubscribe?token=${unsubscribeToken(email)}`;
 const unsubscribePageUrl = (email: string) => `${base()}/unsubscribe?token=${unsubscribeToken(email)}`;
 
 function footer(email: string, account: boolean): string {
@@ -195,14 +216,29 @@ async function deliver(group: NoticeRow[]): Promise<number> {
       spent = true;
     }
     const text = stoppable ? `${mail.body}\n\n${footer(first.toEmail, first.kind !== "invite")}` : mail.body;
-    await sendMail(first.toEmail, mail.subject, text, stoppable ? { unsubscribeUrl: unsubscribePostUrl(first.toEmail) } : {});
+    await sendMail(
+      first.toEmail,
+      mail.subject,
+      text,
+      stoppable ? { unsubscribeUrl: unsubscribePostUrl(first.toEmail) } : {},
+    );
     await markNoticesSent(keep);
     return 1;
   } catch (e) {
     // a mail that did not leave costs its address nothing
-    if (spent) await Promise.all([mailsPerHour.refund(first.toEmail.toLowerCase()), mailsPerDay.refund(first.toEmail.toLowerCase())]).catch(() => undefined);
+    if (spent)
+      await Promise.all([
+        mailsPerHour.refund(first.toEmail.toLowerCase()),
+        mailsPerDay.refund(first.toEmail.toLowerCase()),
+      ]).catch(() => undefined);
     const attempts = Math.max(...group.map((n) => n.attempts)) + 1;
-    await markNoticesFailed(pending, attempts, e instanceof Error ? e.message : String(e), 8, env().NOTICE_RETRY_SECONDS);
+    await markNoticesFailed(
+      pending,
+      attempts,
+      e instanceof Error ? e.message : String(e),
+      8,
+      env().NOTICE_RETRY_SECONDS,
+    );
     return 0;
   }
 }

@@ -30,7 +30,7 @@ export const HASHING_AT_ONCE = Math.min(3, Math.max(1, availableParallelism() - 
 /**
  * At most this many wait for a turn (a hash takes about 40 ms here, so the last waits well under a
  * second); beyond it the caller is answered 503 with Retry-After at once rather than queued without
- * end (OWASP ASVS 5.0 V2 Validation and Business Logic: anti-automation; DESIGN.md "Fair use").
+ * end (OWASP ASVS 5.0 V2 Validation and Business Logic: anti-automation; DEVELOPERS.md "Fair use").
  */
 export const HASH_QUEUE_LIMIT = 16 * HASHING_AT_ONCE;
 

@@ -19,7 +19,10 @@ type Peer = { address: string | undefined };
 // on globalThis: instrumentation and the route handlers are bundled into different chunks
 const KEY = Symbol.for("lashwright.peer-address");
 type Holder = { storage: AsyncLocalStorage<Peer>; installed: boolean };
-const holder = ((globalThis as Record<symbol, Holder | undefined>)[KEY] ??= { storage: new AsyncLocalStorage<Peer>(), installed: false });
+const holder = ((globalThis as Record<symbol, Holder | undefined>)[KEY] ??= {
+  storage: new AsyncLocalStorage<Peer>(),
+  installed: false,
+});
 
 export function installPeerAddress(): void {
   if (holder.installed) return;
@@ -28,7 +31,9 @@ export function installPeerAddress(): void {
   http.Server.prototype.emit = function (this: http.Server, event: string | symbol, ...args: unknown[]): boolean {
     if (event !== "request") return Reflect.apply(emit, this, [event, ...args]);
     const req = args[0] as http.IncomingMessage | undefined;
-    return holder.storage.run({ address: req?.socket?.remoteAddress }, () => Reflect.apply(emit, this, [event, ...args]));
+    return holder.storage.run({ address: req?.socket?.remoteAddress }, () =>
+      Reflect.apply(emit, this, [event, ...args]),
+    );
   } as typeof emit;
 }
 

@@ -1,6 +1,13 @@
 import "server-only";
 import sharp from "sharp";
-import { PHOTO_FORMATS, PHOTO_MAX_BYTES, PHOTO_MAX_EDGE, PHOTO_MAX_LABEL, PHOTO_MAX_PIXELS, PHOTO_MAX_PIXELS_LABEL } from "@/lib/photos/rules";
+import {
+  PHOTO_FORMATS,
+  PHOTO_MAX_BYTES,
+  PHOTO_MAX_EDGE,
+  PHOTO_MAX_LABEL,
+  PHOTO_MAX_PIXELS,
+  PHOTO_MAX_PIXELS_LABEL,
+} from "@/lib/photos/rules";
 import { DomainError, overloaded } from "@/lib/errors";
 import { env } from "@/lib/env";
 import { Slots, watchSlots } from "./slots";
@@ -16,9 +23,14 @@ export { Slots };
  * can be processed without a loss of performance).
  */
 export const tooLarge = () => new DomainError("too_large", `A photo may be at most ${PHOTO_MAX_LABEL}`);
-const notAPhoto = (message = "That file is not a JPEG, PNG or WebP picture") => new DomainError("unsupported", message, { code: "not_a_photo" });
+const notAPhoto = (message = "That file is not a JPEG, PNG or WebP picture") =>
+  new DomainError("unsupported", message, { code: "not_a_photo" });
 const tooManyPixels = (w?: number, h?: number) =>
-  new DomainError("too_large", `A photo may have at most ${PHOTO_MAX_PIXELS_LABEL}${w && h ? `; this one is ${w} × ${h}` : ""}. Send a smaller copy.`, { code: "too_many_pixels" });
+  new DomainError(
+    "too_large",
+    `A photo may have at most ${PHOTO_MAX_PIXELS_LABEL}${w && h ? `; this one is ${w} × ${h}` : ""}. Send a smaller copy.`,
+    { code: "too_many_pixels" },
+  );
 
 /** How much decoding this process has done: tests count work with it, never time. */
 export const decodeStats = { decodes: 0, refusedByHeader: 0 };
@@ -26,7 +38,12 @@ export const decodeStats = { decodes: 0, refusedByHeader: 0 };
 let slots: Slots | undefined;
 /** The process's decode slots, sized by PHOTO_DECODE_SLOTS and PHOTO_DECODE_QUEUE; a waiter gives up after 10 s. */
 export function decodeSlots(): Slots {
-  slots ??= watchSlots("photo_decode", new Slots(env().PHOTO_DECODE_SLOTS, env().PHOTO_DECODE_QUEUE, 10_000, () => overloaded("Too many photos are being processed: try again in a moment", 3)));
+  slots ??= watchSlots(
+    "photo_decode",
+    new Slots(env().PHOTO_DECODE_SLOTS, env().PHOTO_DECODE_QUEUE, 10_000, () =>
+      overloaded("Too many photos are being processed: try again in a moment", 3),
+    ),
+  );
   return slots;
 }
 
@@ -65,7 +82,8 @@ export async function decodeAndShrink(input: Buffer, limitInputPixels = PHOTO_MA
 export async function preparePhoto(input: Buffer, within: Slots = decodeSlots()) {
   if (input.byteLength > PHOTO_MAX_BYTES) throw tooLarge();
   const h = await readHeader(input);
-  if (!h?.format || !(PHOTO_FORMATS as readonly string[]).includes(h.format) || !h.width || !h.height) throw notAPhoto();
+  if (!h?.format || !(PHOTO_FORMATS as readonly string[]).includes(h.format) || !h.width || !h.height)
+    throw notAPhoto();
   if (h.width * h.height > PHOTO_MAX_PIXELS) {
     decodeStats.refusedByHeader++;
     throw tooManyPixels(h.width, h.height);

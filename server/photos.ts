@@ -1,5 +1,14 @@
 import "server-only";
-import { PHOTO_MAX_BYTES, PHOTO_QUOTA_CODE, formatBytes, photoFields, usageLabel, type ApiPhoto, type PhotoFields, type PhotoUsage } from "@/lib/photos/rules";
+import {
+  PHOTO_MAX_BYTES,
+  PHOTO_QUOTA_CODE,
+  formatBytes,
+  photoFields,
+  usageLabel,
+  type ApiPhoto,
+  type PhotoFields,
+  type PhotoUsage,
+} from "@/lib/photos/rules";
 import * as q from "@/db/queries/photos";
 import { conflict, DomainError, forbidden, invalid, notFound, overloaded, tooMany } from "@/lib/errors";
 import { env } from "@/lib/env";
@@ -30,7 +39,8 @@ export { tooLarge };
  * a photo already stored is answered before this is spent, and a send the server turned away
  * (busy) or that turned out to be a duplicate gives its unit back, so the owner's retries never eat it.
  */
-const uploadBudget = () => budget({ name: "photo-upload:account", points: env().PHOTO_UPLOADS_PER_HOUR, seconds: 3600 });
+const uploadBudget = () =>
+  budget({ name: "photo-upload:account", points: env().PHOTO_UPLOADS_PER_HOUR, seconds: 3600 });
 
 const objectKey = (checkId: string, id: string) => `checks/${checkId}/${id}.jpg`;
 
@@ -58,19 +68,38 @@ type Prepared = Awaited<ReturnType<typeof preparePhoto>>;
  * decided in the one transaction that writes the row. "stored": the same photo is already there;
  * "unstored": its row is there but not its bytes (a try in flight or cut off), so this one stores them.
  */
-async function claimPhoto(w: WriteCtx, checkId: string, f: PhotoFields, img: Prepared): Promise<"new" | "unstored" | "stored"> {
+async function claimPhoto(
+  w: WriteCtx,
+  checkId: string,
+  f: PhotoFields,
+  img: Prepared,
+): Promise<"new" | "unstored" | "stored"> {
   await readableCheck(w.tx, w.user, checkId);
   const existing = await q.lockPhotoRow(w.tx, f.id);
   if (existing) {
     if (existing.checkId !== checkId || existing.ownerId !== w.user.id) throw conflict("That photo id is taken");
     // the same picture re-encoded gives the same bytes; another picture under this id is not a retry
-    if (!existing.storedAt && existing.bytes !== img.data.byteLength) throw conflict("That photo id is taken by another picture");
+    if (!existing.storedAt && existing.bytes !== img.data.byteLength)
+      throw conflict("That photo id is taken by another picture");
     return existing.storedAt ? "stored" : "unstored";
   }
-  if (f.commentId && !(await q.commentOnCheck(w.tx, f.commentId, checkId))) throw invalid("commentId: no such comment on this check", { commentId: "no such comment on this check" });
+  if (f.commentId && !(await q.commentOnCheck(w.tx, f.commentId, checkId)))
+    throw invalid("commentId: no such comment on this check", { commentId: "no such comment on this check" });
   const usage = { usedBytes: await q.bytesStored(w.tx, w.user.id, true), quotaBytes: env().PHOTO_QUOTA_BYTES };
   if (usage.usedBytes + img.data.byteLength > usage.quotaBytes) throw quotaFull(usage, img.data.byteLength);
-  const p = { id: f.id, ownerId: w.user.id, checkId, valve: f.valve ?? null, commentId: f.commentId ?? null, objectKey: objectKey(checkId, f.id), contentType: img.contentType, bytes: img.data.byteLength, width: img.width, height: img.height, version: w.version };
+  const p = {
+    id: f.id,
+    ownerId: w.user.id,
+    checkId,
+    valve: f.valve ?? null,
+    commentId: f.commentId ?? null,
+    objectKey: objectKey(checkId, f.id),
+    contentType: img.contentType,
+    bytes: img.data.byteLength,
+    width: img.width,
+    height: img.height,
+    version: w.version,
+  };
   try {
     await q.insertClaim(w.tx, p);
   } catch (e) {
@@ -86,7 +115,11 @@ async function claimPhoto(w: WriteCtx, checkId: string, f: PhotoFields, img: Pre
  * refused from its declared length (a little room for the form's other fields) before it is read,
  * or as soon as its bytes pass that limit while it is read.
  */
-export async function uploadPhoto(user: SessionUser, checkId: string, body: { bytes: number; read: (limit: number) => Promise<FormData> }): Promise<{ photo: ApiPhoto; created: boolean; usage: PhotoUsage }> {
+export async function uploadPhoto(
+  user: SessionUser,
+  checkId: string,
+  body: { bytes: number; read: (limit: number) => Promise<FormData> },
+): Promise<{ photo: ApiPhoto; created: boolean; usage: PhotoUsage }> {
   await readableCheck(db(), user, checkId);
   const limit = PHOTO_MAX_BYTES + 64 * 1024;
   if (body.bytes > limit) throw tooLarge();
@@ -102,17 +135,26 @@ export async function uploadPhoto(user: SessionUser, checkId: string, body: { by
   const file = form.get("file");
   if (!(file instanceof Blob)) throw invalid("file: attach a photo", { file: "attach a photo" });
   if (file.size > PHOTO_MAX_BYTES) throw tooLarge();
-  const fields = photoFields.safeParse({ id: form.get("id"), valve: form.get("valve") || null, commentId: form.get("commentId") || null });
+  const fields = photoFields.safeParse({
+    id: form.get("id"),
+    valve: form.get("valve") || null,
+    commentId: form.get("commentId") || null,
+  });
   if (!fields.success) {
     const i = fields.error.issues[0]!;
     throw invalid(`${i.path.join(".")}: ${i.message}`, { [i.path.join(".")]: i.message });
   }
   const f = fields.data;
-  const done = async (created: boolean) => ({ photo: (await q.getPhoto(db(), f.id))!, created, usage: await photoUsage(user) });
+  const done = async (created: boolean) => ({
+    photo: (await q.getPhoto(db(), f.id))!,
+    created,
+    usage: await photoUsage(user),
+  });
 
   // The same photo sent again (a lost answer, a retried sync) is answered before anything costly.
   const existing = await q.getPhotoRow(db(), f.id);
-  if (existing && (existing.checkId !== checkId || existing.ownerId !== user.id)) throw conflict("That photo id is taken");
+  if (existing && (existing.checkId !== checkId || existing.ownerId !== user.id))
+    throw conflict("That photo id is taken");
   if (existing?.storedAt) return done(false);
   if (!existing) {
     // a full account is told so before its photo is decoded or its budget spent
@@ -123,9 +165,15 @@ export async function uploadPhoto(user: SessionUser, checkId: string, body: { by
   const spent = await uploadBudget().take(user.id);
   if (!spent.ok) {
     const minutes = Math.ceil(spent.retryAfterSeconds / 60);
-    throw tooMany(`You have sent ${uploadBudget().spec.points} photos in the last hour, the most an hour allows: the rest wait on your phone and are sent in ${minutes} minute${minutes === 1 ? "" : "s"}.`, spent.retryAfterSeconds);
+    throw tooMany(
+      `You have sent ${uploadBudget().spec.points} photos in the last hour, the most an hour allows: the rest wait on your phone and are sent in ${minutes} minute${minutes === 1 ? "" : "s"}.`,
+      spent.retryAfterSeconds,
+    );
   }
-  const giveBack = () => uploadBudget().refund(user.id).catch(() => undefined);
+  const giveBack = () =>
+    uploadBudget()
+      .refund(user.id)
+      .catch(() => undefined);
   let img: Prepared;
   try {
     img = await preparePhoto(Buffer.from(await file.arrayBuffer()));
@@ -174,7 +222,8 @@ export async function photoBytes(user: SessionUser, photoId: string) {
 export async function removePhoto(user: SessionUser, photoId: string) {
   const key = await write(user, async (w) => {
     const { p, as } = await readablePhoto(w.tx, w.user, photoId);
-    if (p.ownerId !== w.user.id && as !== "owner") throw forbidden("Only who took the photo or the check's owner can remove it");
+    if (p.ownerId !== w.user.id && as !== "owner")
+      throw forbidden("Only who took the photo or the check's owner can remove it");
     await q.deletePhoto(w.tx, photoId);
     return p.objectKey;
   });

@@ -31,22 +31,42 @@ export async function applyOffer({ tx, version, user }: WriteCtx, a: OfferInput 
 export async function applyWithdrawOffer({ tx, version, user, later }: WriteCtx, id: string) {
   const declined = await q.withdrawOffer(tx, version, user.id, id);
   later(async () => {
-    for (const r of declined) await tell(r.borrowerId, "borrow", `${user.name} has taken back an offer`, `${user.name} no longer offers the shims you asked for; your request is declined.`);
+    for (const r of declined)
+      await tell(
+        r.borrowerId,
+        "borrow",
+        `${user.name} has taken back an offer`,
+        `${user.name} no longer offers the shims you asked for; your request is declined.`,
+      );
   });
 }
 
 export async function applyAsk({ tx, version, user, later }: WriteCtx, a: BorrowInput & { id: string }) {
   // a locking read: an ask racing the asker's removal from the club cannot slip in after it
-  const offer = await q.askBorrow(tx, version, user.id, a, async (clubId) => (await rolesInClub(tx, user.id, clubId, true)).length > 0);
+  const offer = await q.askBorrow(
+    tx,
+    version,
+    user.id,
+    a,
+    async (clubId) => (await rolesInClub(tx, user.id, clubId, true)).length > 0,
+  );
   if (!offer) return;
   later(async () => {
     const title = await checkTitle(a.checkId);
     const forWhat = title ? ` for ${title}` : "";
-    await tell(offer.ownerId, "borrow", `${user.name} asks to borrow ${a.count} × ${mm(offer.size)}${forWhat}`, `${user.name} would like to borrow ${a.count} of your ${mm(offer.size)} shims from the club pool${forWhat}. Agree or decline on the club page.`);
+    await tell(
+      offer.ownerId,
+      "borrow",
+      `${user.name} asks to borrow ${a.count} × ${mm(offer.size)}${forWhat}`,
+      `${user.name} would like to borrow ${a.count} of your ${mm(offer.size)} shims from the club pool${forWhat}. Agree or decline on the club page.`,
+    );
   });
 }
 
-export async function applyMove({ tx, version, user, later }: WriteCtx, a: { id: string; move: BorrowMove; returnSize?: number | null }) {
+export async function applyMove(
+  { tx, version, user, later }: WriteCtx,
+  a: { id: string; move: BorrowMove; returnSize?: number | null },
+) {
   const r = await q.moveBorrow(tx, version, user.id, a.id, a.move, a.returnSize ?? null);
   if (!r) return;
   const other = r.side === "lender" ? r.borrowerId : r.lenderId;
@@ -56,7 +76,12 @@ export async function applyMove({ tx, version, user, later }: WriteCtx, a: { id:
     const forWhat = title ? ` for ${title}` : "";
     const collect = a.move === "agree" && r.note ? `\n\nWhere to collect them (${user.name}'s note): ${r.note}` : "";
     const state = loanWords(MOVES[a.move].to, r.side === "lender" ? "borrower" : "lender");
-    await tell(other, "borrow", `Shim loan ${MOVE_WORDS[a.move]}: ${r.count} × ${mm(r.size)}${title ? ` (${title})` : ""}`, `${user.name} marked the loan of ${r.count} × ${mm(r.size)}${forWhat}: ${state}.${collect}`);
+    await tell(
+      other,
+      "borrow",
+      `Shim loan ${MOVE_WORDS[a.move]}: ${r.count} × ${mm(r.size)}${title ? ` (${title})` : ""}`,
+      `${user.name} marked the loan of ${r.count} × ${mm(r.size)}${forWhat}: ${state}.${collect}`,
+    );
   });
 }
 

@@ -20,7 +20,10 @@ export type RequestContext = { id: string; start: bigint; route?: string; userId
 
 const KEY = Symbol.for("lashwright.request-context");
 type Holder = { storage: AsyncLocalStorage<RequestContext>; installed: boolean };
-const holder = ((globalThis as Record<symbol, Holder | undefined>)[KEY] ??= { storage: new AsyncLocalStorage<RequestContext>(), installed: false });
+const holder = ((globalThis as Record<symbol, Holder | undefined>)[KEY] ??= {
+  storage: new AsyncLocalStorage<RequestContext>(),
+  installed: false,
+});
 
 /** A server marked with this is not logged or timed (the metrics listener: a scrape is not a request of the app's). */
 export const UNLOGGED = Symbol.for("lashwright.request-context.unlogged");
@@ -76,7 +79,16 @@ function finished(req: http.IncomingMessage, res: http.ServerResponse, ctx: Requ
   const status = res.statusCode;
   observeRequest(method, route, status, seconds);
   // the query string is left out: it may carry a token (an unsubscribe link)
-  const line = { requestId: ctx.id, method, route, path, status, ms: Math.round(seconds * 10_000) / 10, ...(ctx.userId ? { userId: ctx.userId } : {}), ...(res.writableFinished ? {} : { aborted: true }) };
+  const line = {
+    requestId: ctx.id,
+    method,
+    route,
+    path,
+    status,
+    ms: Math.round(seconds * 10_000) / 10,
+    ...(ctx.userId ? { userId: ctx.userId } : {}),
+    ...(res.writableFinished ? {} : { aborted: true }),
+  };
   // a page's scripts and styles are many lines per visit that say nothing
   if (route === "(asset)") log.debug(line, "request");
   else log.info(line, "request");
@@ -86,7 +98,11 @@ export function installRequestContext(): void {
   if (holder.installed) return;
   holder.installed = true;
   const emit = http.Server.prototype.emit;
-  http.Server.prototype.emit = function (this: http.Server & { [UNLOGGED]?: true }, event: string | symbol, ...args: unknown[]): boolean {
+  http.Server.prototype.emit = function (
+    this: http.Server & { [UNLOGGED]?: true },
+    event: string | symbol,
+    ...args: unknown[]
+  ): boolean {
     if (event !== "request" || this[UNLOGGED]) return Reflect.apply(emit, this, [event, ...args]);
     const req = args[0] as http.IncomingMessage;
     const res = args[1] as http.ServerResponse;

@@ -39,7 +39,9 @@ export function sameOriginRefusal(req: NextRequest): DomainError | null {
 export function contentTypeRefusal(req: NextRequest, kind: "json" | "multipart" | "zip"): DomainError | null {
   const type = (req.headers.get("content-type") ?? "").split(";")[0]!.trim().toLowerCase();
   const want = kind === "json" ? "application/json" : kind === "zip" ? "application/zip" : "multipart/form-data";
-  return type === want ? null : new DomainError("unsupported", `Send the body as ${want}`, { code: "unsupported_type" });
+  return type === want
+    ? null
+    : new DomainError("unsupported", `Send the body as ${want}`, { code: "unsupported_type" });
 }
 
 export class BodyTooLarge extends DomainError {

@@ -16,7 +16,8 @@ import { noticeEach, noticeTo, shared } from "./notices";
  * on their phone), the owner the comments and verdict of their own check. The address carries the
  * whole query, so sign-in can bring the reader back to it.
  */
-const reviewLink = (checkId: string, part?: "comments" | "verdict") => `${env().NEXTAUTH_URL}/review?id=${checkId}${part ? `#${part}` : ""}`;
+const reviewLink = (checkId: string, part?: "comments" | "verdict") =>
+  `${env().NEXTAUTH_URL}/review?id=${checkId}${part ? `#${part}` : ""}`;
 
 /**
  * Which engine and which check a notice is about ("Bench six, check at 23,456 km"), so a mail about a
@@ -30,7 +31,11 @@ export function checkTitle(checkId: string | null | undefined): Promise<string |
   });
 }
 
-export async function noticeReviewRequested(check: { id: string; engineId: string; ownerId: string }, clubId: string, ownerName: string) {
+export async function noticeReviewRequested(
+  check: { id: string; engineId: string; ownerId: string },
+  clubId: string,
+  ownerName: string,
+) {
   const engine = await getEngineRow(db(), check.engineId);
   await noticeEach(await mentorsOfClub(clubId), check.ownerId, {
     kind: "review-requested",
@@ -40,10 +45,21 @@ export async function noticeReviewRequested(check: { id: string; engineId: strin
   });
 }
 
-export async function noticeComment(check: { id: string; ownerId: string }, authorId: string, authorName: string, body: string, mentorIds: string[]) {
+export async function noticeComment(
+  check: { id: string; ownerId: string },
+  authorId: string,
+  authorName: string,
+  body: string,
+  mentorIds: string[],
+) {
   // the other party: a comment by the owner goes to the mentors who have taken part; a mentor's to the owner
   const title = (await checkTitle(check.id)) ?? "a check";
-  await noticeTo(authorId === check.ownerId ? mentorIds : [check.ownerId], authorId, { kind: "comment", aboutCheckId: check.id, subject: `New comment from ${authorName} on ${title}`, body: `${authorName} wrote about ${title}:\n\n${body.slice(0, 1000)}\n\n${reviewLink(check.id, "comments")}` });
+  await noticeTo(authorId === check.ownerId ? mentorIds : [check.ownerId], authorId, {
+    kind: "comment",
+    aboutCheckId: check.id,
+    subject: `New comment from ${authorName} on ${title}`,
+    body: `${authorName} wrote about ${title}:\n\n${body.slice(0, 1000)}\n\n${reviewLink(check.id, "comments")}`,
+  });
 }
 
 /**
@@ -51,8 +67,15 @@ export async function noticeComment(check: { id: string; ownerId: string }, auth
  * part is read once per push (not once per comment: 500 comments each re-reading the thread made a
  * push grow with the square of its size), as distinct authors, not every comment.
  */
-export async function noticeNewComment(check: { id: string; ownerId: string }, author: { id: string; name: string }, body: string) {
-  const mentorIds = author.id === check.ownerId ? await shared(`commenters:${check.id}`, () => commentersOf(check.id, check.ownerId)) : [];
+export async function noticeNewComment(
+  check: { id: string; ownerId: string },
+  author: { id: string; name: string },
+  body: string,
+) {
+  const mentorIds =
+    author.id === check.ownerId
+      ? await shared(`commenters:${check.id}`, () => commentersOf(check.id, check.ownerId))
+      : [];
   await noticeComment(check, author.id, author.name, body, mentorIds);
 }
 

@@ -11,7 +11,11 @@ import { signInSucceeded } from "./throttle";
  * (OWASP Password Storage Cheat Sheet, upgrading legacy hashes), and the browser is remembered as
  * one the owner uses (device cookie).
  */
-export async function passwordAccepted(u: { id: string; email: string; passwordHash: string | null }, password: string, address: string | null): Promise<void> {
+export async function passwordAccepted(
+  u: { id: string; email: string; passwordHash: string | null },
+  password: string,
+  address: string | null,
+): Promise<void> {
   await signInSucceeded(u.email.toLowerCase(), address);
   if (u.passwordHash && needsRehash(u.passwordHash)) {
     try {

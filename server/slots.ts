@@ -87,5 +87,9 @@ export function watchSlots(kind: string, slots: Slots): Slots {
 
 /** Work of a kind running and waiting now, over every copy of its slots. */
 export function slotsNow(): { kind: string; running: number; queued: number }[] {
-  return [...watched].map(([kind, set]) => ({ kind, running: [...set].reduce((n, s) => n + s.inUse, 0), queued: [...set].reduce((n, s) => n + s.queued, 0) }));
+  return [...watched].map(([kind, set]) => ({
+    kind,
+    running: [...set].reduce((n, s) => n + s.inUse, 0),
+    queued: [...set].reduce((n, s) => n + s.queued, 0),
+  }));
 }

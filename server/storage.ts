@@ -1,5 +1,11 @@
 import "server-only";
-import { DeleteObjectCommand, GetObjectCommand, ListObjectsV2Command, PutObjectCommand, S3Client } from "@aws-sdk/client-s3";
+import {
+  DeleteObjectCommand,
+  GetObjectCommand,
+  ListObjectsV2Command,
+  PutObjectCommand,
+  S3Client,
+} from "@aws-sdk/client-s3";
 import type { Readable } from "node:stream";
 import { env } from "@/lib/env";
 
@@ -42,7 +48,9 @@ export async function deleteObject(key: string) {
 export async function* listObjects(prefix: string): AsyncGenerator<{ key: string; modified: Date }[]> {
   let token: string | undefined;
   do {
-    const r = await s3().send(new ListObjectsV2Command({ Bucket: env().S3_BUCKET, Prefix: prefix, ContinuationToken: token }));
+    const r = await s3().send(
+      new ListObjectsV2Command({ Bucket: env().S3_BUCKET, Prefix: prefix, ContinuationToken: token }),
+    );
     yield (r.Contents ?? []).map((o) => ({ key: o.Key!, modified: o.LastModified ?? new Date(0) }));
     token = r.IsTruncated ? r.NextContinuationToken : undefined;
   } while (token);

@@ -2,7 +2,14 @@ import "server-only";
 import { LashInputError } from "@/lib/lash";
 import { domainErrorOf, tooMany } from "@/lib/errors";
 import { env } from "@/lib/env";
-import { CURSOR_PREFIX, parseMutation, type Cursor, type MutationArgs, type MutationName, type PushInput } from "@/lib/sync/mutations";
+import {
+  CURSOR_PREFIX,
+  parseMutation,
+  type Cursor,
+  type MutationArgs,
+  type MutationName,
+  type PushInput,
+} from "@/lib/sync/mutations";
 import { transaction } from "@/db/client";
 import { nextVersion, type Tx } from "@/db/versions";
 import { isTransientDbError } from "@/db/errors";
@@ -17,7 +24,7 @@ import { log } from "./log";
 import { countSyncRows } from "./metrics";
 
 /**
- * The write budget (DESIGN.md section 5, fair use; OWASP ASVS 5.0 V2 Validation and Business Logic,
+ * The write budget (DEVELOPERS.md "Fair use"; OWASP ASVS 5.0 V2 Validation and Business Logic,
  * anti-automation): mutations per minute, counted per account and per device, spent before the
  * push's transaction opens (a budget asks the pool for a connection, which a transaction must not).
  * Size: a 24-valve check measured wholly offline and synced at once is about 300 mutations
@@ -53,17 +60,22 @@ async function spendWrites(user: SessionUser, clientId: string, cost: number) {
   if (d.ok && a?.ok) return;
   if (d.ok) await device.refund(deviceKey(user, clientId), cost);
   const wait = !d.ok ? d.retryAfterSeconds : a && !a.ok ? a.retryAfterSeconds : 60;
-  throw tooMany(`Too many changes sent in the last minute: they are kept on this phone and sent again in ${wait} s`, wait);
+  throw tooMany(
+    `Too many changes sent in the last minute: they are kept on this phone and sent again in ${wait} s`,
+    wait,
+  );
 }
 
 async function refundWrites(user: SessionUser, clientId: string, cost: number) {
   if (cost <= 0) return;
   const { account, device } = writeBudget();
-  await Promise.all([device.refund(deviceKey(user, clientId), cost), account.refund(user.id, cost)]).catch(() => undefined);
+  await Promise.all([device.refund(deviceKey(user, clientId), cost), account.refund(user.id, cost)]).catch(
+    () => undefined,
+  );
 }
 
 /**
- * The server side of the sync protocol (DESIGN.md section 6). A push is applied in one transaction:
+ * The server side of the sync protocol (README "Working without a signal"). A push is applied in one transaction:
  * mutations at or below the client's last applied id are skipped (replays are harmless), each new
  * one runs through its applier (server/appliers.ts) in its own savepoint so a refused one rolls
  * back alone and is recorded with its reason, runs of readings of one check go in as one multi-row
@@ -127,101 +139,121 @@ export async function push(user: SessionUser, input: PushInput): Promise<PushRes
   let applied = 0;
   // a push that lost a write conflict (another device's push, another node) runs again from the
   // start, its client row read afresh, so what the winner applied is skipped (db/retry.ts)
-  const lastMutationId = await retryConflicts(() => transaction(async (tx) => {
-    rejected = [];
-    later = undefined;
-    after = [];
-    applied = 0;
-    const last = await q.lockClient(tx, input.clientId, user.id, known !== undefined);
-    phase("device lock");
-    // a push sent again because its answer was lost: what was refused then is said again, so the
-    // phone never takes a refused change for an applied one and drops it
-    rejected = await q.rejectedAmong(tx, input.clientId, input.mutations.filter((m) => m.id <= last).map((m) => m.id));
-    phase("replays");
-    const fresh: Parsed[] = input.mutations
-      .filter((m) => m.id > last)
-      .map((m) => {
-        const p = parseMutation(m.name, m.args);
-        return p.ok ? { id: m.id, name: p.name, args: p.args } : { id: m.id, name: m.name, args: m.args, reason: p.reason, unknown: p.unknown };
-      });
-    applied = fresh.length;
-    phase("validate");
-    if (fresh.length === 0) return last;
-    const version = await nextVersion(tx, user.id);
-    phase("version");
-    const reject = async (m: Parsed, reason: string) => {
-      rejected.push({ id: m.id, name: m.name, reason });
-      await q.recordRejected(tx, input.clientId, m.id, m.name, reason);
-    };
-    const one = (m: Parsed) =>
-      step(tx, user, version, after, (w) => apply(w, m.name as MutationName, m.args as never)).catch((e: unknown) => {
-        // reasonOf decides before the savepoint's rollback is forgotten: Later stops the push below
-        const reason = (() => {
-          try {
-            return reasonOf(e);
-          } catch (x) {
-            if (x instanceof Later) later = { id: m.id, name: m.name, reason: x.message };
-            else throw x;
-            return null;
+  const lastMutationId = await retryConflicts(() =>
+    transaction(async (tx) => {
+      rejected = [];
+      later = undefined;
+      after = [];
+      applied = 0;
+      const last = await q.lockClient(tx, input.clientId, user.id, known !== undefined);
+      phase("device lock");
+      // a push sent again because its answer was lost: what was refused then is said again, so the
+      // phone never takes a refused change for an applied one and drops it
+      rejected = await q.rejectedAmong(
+        tx,
+        input.clientId,
+        input.mutations.filter((m) => m.id <= last).map((m) => m.id),
+      );
+      phase("replays");
+      const fresh: Parsed[] = input.mutations
+        .filter((m) => m.id > last)
+        .map((m) => {
+          const p = parseMutation(m.name, m.args);
+          return p.ok
+            ? { id: m.id, name: p.name, args: p.args }
+            : { id: m.id, name: m.name, args: m.args, reason: p.reason, unknown: p.unknown };
+        });
+      applied = fresh.length;
+      phase("validate");
+      if (fresh.length === 0) return last;
+      const version = await nextVersion(tx, user.id);
+      phase("version");
+      const reject = async (m: Parsed, reason: string) => {
+        rejected.push({ id: m.id, name: m.name, reason });
+        await q.recordRejected(tx, input.clientId, m.id, m.name, reason);
+      };
+      const one = (m: Parsed) =>
+        step(tx, user, version, after, (w) => apply(w, m.name as MutationName, m.args as never)).catch((e: unknown) => {
+          // reasonOf decides before the savepoint's rollback is forgotten: Later stops the push below
+          const reason = (() => {
+            try {
+              return reasonOf(e);
+            } catch (x) {
+              if (x instanceof Later) later = { id: m.id, name: m.name, reason: x.message };
+              else throw x;
+              return null;
+            }
+          })();
+          if (reason !== null) return reject(m, reason);
+        });
+      // the id of the last mutation this push has dealt with (applied or refused for good)
+      let done = last;
+      for (let i = 0; i < fresh.length && !later;) {
+        const m = fresh[i]!;
+        // a name this server does not know may come from a newer app: kept for later, never refused
+        if (m.unknown) {
+          later = { id: m.id, name: m.name, reason: m.reason! };
+          break;
+        }
+        if (m.reason) {
+          await reject(m, m.reason);
+          done = m.id;
+          i++;
+          continue;
+        }
+        // a run of valid readings of one check, in order
+        if (m.name === "reading.put/1") {
+          const checkId = readingArgs(m).checkId;
+          let j = i;
+          while (
+            j < fresh.length &&
+            fresh[j]!.name === "reading.put/1" &&
+            !fresh[j]!.reason &&
+            readingArgs(fresh[j]!).checkId === checkId
+          )
+            j++;
+          const run = fresh.slice(i, j);
+          if (run.length > 1) {
+            // a transient failure throws (the whole push is tried again); any other one means
+            // something in the run is refused or failed: apply them one by one to find it
+            const ok = await step(tx, user, version, after, (w) =>
+              applyReadings(
+                w,
+                checkId,
+                run.map((r) => readingArgs(r).reading),
+              ),
+            )
+              .then(() => true)
+              .catch((e: unknown) => {
+                const d = domainErrorOf(e);
+                if (d?.kind === "overloaded" || (!d && isTransientDbError(e))) throw e;
+                return false;
+              });
+            if (ok) {
+              done = run[run.length - 1]!.id;
+              i = j;
+              continue;
+            }
           }
-        })();
-        if (reason !== null) return reject(m, reason);
-      });
-    // the id of the last mutation this push has dealt with (applied or refused for good)
-    let done = last;
-    for (let i = 0; i < fresh.length && !later; ) {
-      const m = fresh[i]!;
-      // a name this server does not know may come from a newer app: kept for later, never refused
-      if (m.unknown) {
-        later = { id: m.id, name: m.name, reason: m.reason! };
-        break;
-      }
-      if (m.reason) {
-        await reject(m, m.reason);
-        done = m.id;
+          for (const r of run) {
+            await one(r);
+            if (later) break;
+            done = r.id;
+          }
+          i = j;
+          continue;
+        }
+        await one(m);
+        if (!later) done = m.id;
         i++;
-        continue;
       }
-      // a run of valid readings of one check, in order
-      if (m.name === "reading.put/1") {
-        const checkId = readingArgs(m).checkId;
-        let j = i;
-        while (j < fresh.length && fresh[j]!.name === "reading.put/1" && !fresh[j]!.reason && readingArgs(fresh[j]!).checkId === checkId) j++;
-        const run = fresh.slice(i, j);
-        if (run.length > 1) {
-          // a transient failure throws (the whole push is tried again); any other one means
-          // something in the run is refused or failed: apply them one by one to find it
-          const ok = await step(tx, user, version, after, (w) => applyReadings(w, checkId, run.map((r) => readingArgs(r).reading)))
-            .then(() => true)
-            .catch((e: unknown) => {
-              const d = domainErrorOf(e);
-              if (d?.kind === "overloaded" || (!d && isTransientDbError(e))) throw e;
-              return false;
-            });
-          if (ok) {
-            done = run[run.length - 1]!.id;
-            i = j;
-            continue;
-          }
-        }
-        for (const r of run) {
-          await one(r);
-          if (later) break;
-          done = r.id;
-        }
-        i = j;
-        continue;
-      }
-      await one(m);
-      if (!later) done = m.id;
-      i++;
-    }
-    if (done > last) await q.setLastMutation(tx, input.clientId, done);
-    phase("device last id");
-    // what a change held for later stopped is not this push's work either
-    applied = fresh.filter((m) => m.id <= done).length;
-    return done;
-  })).catch(async (e: unknown) => {
+      if (done > last) await q.setLastMutation(tx, input.clientId, done);
+      phase("device last id");
+      // what a change held for later stopped is not this push's work either
+      applied = fresh.filter((m) => m.id <= done).length;
+      return done;
+    }),
+  ).catch(async (e: unknown) => {
     // nothing was applied (a refusal of the whole push, a failure of the moment): nothing is spent
     await refundWrites(user, input.clientId, charged);
     throw e;
@@ -241,7 +273,9 @@ function positionOf(cursor: Cursor): q.PullPosition | null {
   // a number is an old global cursor: a full pull
   if (typeof cursor !== "string") return null;
   const [version, kind, id] = cursor.slice(CURSOR_PREFIX.length).split(":");
-  return kind === undefined ? { version: Number(version), kind: q.END, id: "" } : { version: Number(version), kind: Math.min(Number(kind), q.END), id: id ?? "" };
+  return kind === undefined
+    ? { version: Number(version), kind: q.END, id: "" }
+    : { version: Number(version), kind: Math.min(Number(kind), q.END), id: id ?? "" };
 }
 
 /**
@@ -250,7 +284,17 @@ function positionOf(cursor: Cursor): q.PullPosition | null {
  * says where (db/queries/sync.ts). No cursor, or an old-style numeric one, starts a full pull.
  */
 export async function pull(user: SessionUser, cursor: Cursor) {
-  const { upTo, next, ...changes } = await transaction((tx) => q.changesSince(tx, user.id, positionOf(cursor)), { isolationLevel: "repeatable read", accessMode: "read only" });
-  countSyncRows("pull", Object.values(changes).reduce((n, rows) => n + (Array.isArray(rows) ? rows.length : 0), 0));
-  return { cursor: next ? `${CURSOR_PREFIX}${next.version}:${next.kind}:${next.id}` : `${CURSOR_PREFIX}${upTo}`, more: next !== null, ...changes };
+  const { upTo, next, ...changes } = await transaction((tx) => q.changesSince(tx, user.id, positionOf(cursor)), {
+    isolationLevel: "repeatable read",
+    accessMode: "read only",
+  });
+  countSyncRows(
+    "pull",
+    Object.values(changes).reduce((n, rows) => n + (Array.isArray(rows) ? rows.length : 0), 0),
+  );
+  return {
+    cursor: next ? `${CURSOR_PREFIX}${next.version}:${next.kind}:${next.id}` : `${CURSOR_PREFIX}${upTo}`,
+    more: next !== null,
+    ...changes,
+  };
 }

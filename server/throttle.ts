@@ -35,7 +35,14 @@ const mailsPerDevice = budget({ name: "mail:device", points: 5, seconds: WINDOW 
 /** Mails asked for from one network address, to any addresses: 20. */
 const mailsPerAddress = budget({ name: "mail:address", points: 20, seconds: WINDOW });
 
-export const THROTTLE = { windowMinutes: WINDOW / 60, perAccount: 5, perDevice: 5, perAddress: 20, mailsPerEmail: 5, mailsPerAddress: 20 } as const;
+export const THROTTLE = {
+  windowMinutes: WINDOW / 60,
+  perAccount: 5,
+  perDevice: 5,
+  perAddress: 20,
+  mailsPerEmail: 5,
+  mailsPerAddress: 20,
+} as const;
 
 export type Throttled = { retryAfterSeconds: number };
 
@@ -63,10 +70,13 @@ async function spendAll(parts: [Budget, string][]): Promise<Throttled | null> {
  */
 export async function signInThrottled(email: string, address: string | null): Promise<Throttled | null> {
   const device = await trustedDevice(email);
-  const parts: [Budget, string][] = device ? [[deviceTries, device]] : [...(address ? [[addressTries, address] as [Budget, string]] : []), [accountTries, email]];
+  const parts: [Budget, string][] = device
+    ? [[deviceTries, device]]
+    : [...(address ? [[addressTries, address] as [Budget, string]] : []), [accountTries, email]];
   const refused = await spendAll(parts);
   // if the hash is then refused (queue full), these tries are given back: no password was checked
-  if (!refused) hashRefusals.getStore()?.undo.push(() => Promise.all(parts.map(([b, k]) => b.refund(k))).then(() => undefined));
+  if (!refused)
+    hashRefusals.getStore()?.undo.push(() => Promise.all(parts.map(([b, k]) => b.refund(k))).then(() => undefined));
   return refused;
 }
 
@@ -107,6 +117,9 @@ export function clientAddress(headers: HeaderBag): string | null {
   }
   if (!headers) return null;
   const raw = headers instanceof Headers ? headers.get("x-forwarded-for") : headers["x-forwarded-for"];
-  const list = (Array.isArray(raw) ? raw.join(",") : (raw ?? "")).split(",").map((s) => s.trim()).filter(Boolean);
+  const list = (Array.isArray(raw) ? raw.join(",") : (raw ?? ""))
+    .split(",")
+    .map((s) => s.trim())
+    .filter(Boolean);
   return addressKey(list[list.length - hops]);
 }

@@ -23,7 +23,9 @@ export function phase(name: string): void {
   c.last = now;
 }
 
-export function timed<A extends unknown[]>(handler: (...args: A) => Promise<Response>): (...args: A) => Promise<Response> {
+export function timed<A extends unknown[]>(
+  handler: (...args: A) => Promise<Response>,
+): (...args: A) => Promise<Response> {
   return async (...args: A) => {
     if (env().LASHWRIGHT_SERVER_TIMING !== "1") return handler(...args);
     const clock: Clock = { last: performance.now(), phases: [] };

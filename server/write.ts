@@ -25,7 +25,8 @@ export interface WriteCtx {
  */
 export async function runAfter(afters: After[]) {
   await gatherNotices(async () => {
-    for (const then of afters) await then().catch((e: unknown) => log.error({ err: e }, "write: work after the commit failed"));
+    for (const then of afters)
+      await then().catch((e: unknown) => log.error({ err: e }, "write: work after the commit failed"));
   });
 }
 

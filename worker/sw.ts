@@ -14,7 +14,8 @@ const shells = new Set<string>(SHELL_PATHS);
 const manifest = self.__SW_MANIFEST ?? [];
 
 /** This build's name: the shells' revision, which app/serwist/[path]/route.ts makes anew per build. */
-const BUILD = manifest.map((e) => (typeof e === "string" ? null : e.url === "/" ? e.revision : null)).find(Boolean) ?? "dev";
+const BUILD =
+  manifest.map((e) => (typeof e === "string" ? null : e.url === "/" ? e.revision : null)).find(Boolean) ?? "dev";
 const RSC_THIS = `${RSC_CACHE}-${BUILD}`;
 /** Where the clients of a previous build are listed, inside that build's previous cache. */
 const CLIENTS_KEY = "/__lashwright/clients";
@@ -49,7 +50,10 @@ async function previousBuilds(): Promise<{ cache: string; meta: PreviousBuild }[
   const out: { cache: string; meta: PreviousBuild }[] = [];
   for (const name of names) {
     const res = await (await caches.open(name)).match(CLIENTS_KEY);
-    out.push({ cache: name, meta: res ? ((await res.json()) as PreviousBuild) : { build: name.slice(PREVIOUS_CACHE.length + 1), clients: [] } });
+    out.push({
+      cache: name,
+      meta: res ? ((await res.json()) as PreviousBuild) : { build: name.slice(PREVIOUS_CACHE.length + 1), clients: [] },
+    });
   }
   return out;
 }
@@ -61,7 +65,15 @@ async function previousBuildOf(clientId: string | undefined): Promise<string | n
   return null;
 }
 
-async function shellPayload({ request, url, event }: { request: Request; url: URL; event: ExtendableEvent }): Promise<Response> {
+async function shellPayload({
+  request,
+  url,
+  event,
+}: {
+  request: Request;
+  url: URL;
+  event: ExtendableEvent;
+}): Promise<Response> {
   const prefetch = request.headers.has("next-router-prefetch");
   const clientId = (event as FetchEvent).clientId;
   try {
@@ -69,13 +81,19 @@ async function shellPayload({ request, url, event }: { request: Request; url: UR
     const old = await previousBuildOf(clientId);
     if (res.ok && !prefetch && !old) {
       const copy = res.clone();
-      void caches.open(RSC_THIS).then(async (c) => c.put(url.pathname, new Response(await copy.blob(), { status: 200, headers: copy.headers })));
+      void caches
+        .open(RSC_THIS)
+        .then(async (c) =>
+          c.put(url.pathname, new Response(await copy.blob(), { status: 200, headers: copy.headers })),
+        );
     }
     return res;
   } catch (e) {
     // a prefetch may fail quietly; a real navigation gets the stored payload of the page's own build
     const old = prefetch ? null : await previousBuildOf(clientId);
-    const cached = prefetch ? undefined : await (await caches.open(old ? `${RSC_CACHE}-${old}` : RSC_THIS)).match(url.pathname);
+    const cached = prefetch
+      ? undefined
+      : await (await caches.open(old ? `${RSC_CACHE}-${old}` : RSC_THIS)).match(url.pathname);
     // A fresh Response takes the request's URL; the stored one carries the shell's own URL, and
     // the router would read that difference as a redirect and drop the record's id from the address.
     if (cached) return new Response(await cached.blob(), { status: 200, headers: cached.headers });
@@ -108,9 +126,16 @@ const serwist = new Serwist({
   runtimeCaching: [
     // the API and sign-in are never served from a cache: stale data or another user's would be worse than none
     { matcher: ({ url, sameOrigin }) => sameOrigin && url.pathname.startsWith("/api/"), handler: new NetworkOnly() },
-    { matcher: ({ request, url, sameOrigin }) => sameOrigin && request.headers.get("RSC") === "1" && shells.has(url.pathname), handler: shellPayload },
+    {
+      matcher: ({ request, url, sameOrigin }) =>
+        sameOrigin && request.headers.get("RSC") === "1" && shells.has(url.pathname),
+      handler: shellPayload,
+    },
     // this build's own files are answered by the precache before this; what reaches here is another build's
-    { matcher: ({ url, sameOrigin }) => sameOrigin && url.pathname.startsWith("/_next/static/"), handler: previousStatic },
+    {
+      matcher: ({ url, sameOrigin }) => sameOrigin && url.pathname.startsWith("/_next/static/"),
+      handler: previousStatic,
+    },
     ...defaultCache,
   ],
   fallbacks: { entries: [{ url: "/offline", matcher: ({ request }) => request.destination === "document" }] },
@@ -152,7 +177,9 @@ async function keepPreviousBuild() {
   if (open.length === 0) return;
   // the build that ran until now: the one whose page data is here and not yet a previous build's
   const known = new Set((await previousBuilds()).map((p) => p.meta.build));
-  const rscOld = (await caches.keys()).filter((k) => k.startsWith(`${RSC_CACHE}-`) && k !== RSC_THIS).map((k) => k.slice(RSC_CACHE.length + 1));
+  const rscOld = (await caches.keys())
+    .filter((k) => k.startsWith(`${RSC_CACHE}-`) && k !== RSC_THIS)
+    .map((k) => k.slice(RSC_CACHE.length + 1));
   const build = rscOld.find((b) => !known.has(b)) ?? `before-${BUILD}`;
   const keep = await caches.open(`${PREVIOUS_CACHE}-${build}`);
   for (const r of stale) {
@@ -174,7 +201,9 @@ async function prunePrevious() {
     if (p.meta.clients.some((id) => alive.has(id))) kept.add(p.meta.build);
     else await caches.delete(p.cache);
   }
-  for (const k of await caches.keys()) if (k.startsWith(`${RSC_CACHE}-`) && k !== RSC_THIS && !kept.has(k.slice(RSC_CACHE.length + 1))) await caches.delete(k);
+  for (const k of await caches.keys())
+    if (k.startsWith(`${RSC_CACHE}-`) && k !== RSC_THIS && !kept.has(k.slice(RSC_CACHE.length + 1)))
+      await caches.delete(k);
   // the page data cache of builds before per-build names
   await caches.delete(RSC_CACHE);
 }

@@ -11,8 +11,13 @@ export default function OfflinePage() {
         Lash<span className="text-accent">wright</span>
       </p>
       <h1 className="text-3xl font-extrabold">No signal for this page</h1>
-      <p className="text-ink-soft">This page needs the network. Your engines, checks and tray are kept on this phone and work without one.</p>
-      <Link href="/engines" className="inline-flex min-h-14 items-center justify-center rounded-xl bg-accent px-6 text-lg font-extrabold text-accent-ink">
+      <p className="text-ink-soft">
+        This page needs the network. Your engines, checks and tray are kept on this phone and work without one.
+      </p>
+      <Link
+        href="/engines"
+        className="inline-flex min-h-14 items-center justify-center rounded-xl bg-accent px-6 text-lg font-extrabold text-accent-ink"
+      >
         Go to my engines
       </Link>
     </main>

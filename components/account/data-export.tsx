@@ -49,11 +49,22 @@ export function DataExport() {
     setBusy("server");
     setSaid(null);
     try {
-      const { href, fileName } = await apiFetch<{ href: string; fileName: string }>("/api/account/export", { method: "POST", body: {} });
+      const { href, fileName } = await apiFetch<{ href: string; fileName: string }>("/api/account/export", {
+        method: "POST",
+        body: {},
+      });
       save(href, fileName, false);
       setSaid({ tone: "ok", text: `Your export is downloading as ${fileName}.` });
     } catch (e) {
-      setSaid({ tone: "error", text: e instanceof ApiFailure && e.status === 0 ? "No connection to the server: make the file from this phone instead." : e instanceof Error ? e.message : "The export could not be started." });
+      setSaid({
+        tone: "error",
+        text:
+          e instanceof ApiFailure && e.status === 0
+            ? "No connection to the server: make the file from this phone instead."
+            : e instanceof Error
+              ? e.message
+              : "The export could not be started.",
+      });
     } finally {
       setBusy(null);
     }
@@ -89,7 +100,12 @@ export function DataExport() {
     setBusy("import");
     setSaid(null);
     try {
-      const res = await fetch("/api/account/import", { method: "POST", headers: { "content-type": "application/zip" }, body: file, credentials: "same-origin" });
+      const res = await fetch("/api/account/import", {
+        method: "POST",
+        headers: { "content-type": "application/zip" },
+        body: file,
+        credentials: "same-origin",
+      });
       const json = (await res.json().catch(() => null)) as { imported?: Imported; error?: { message: string } } | null;
       if (!res.ok || !json?.imported) throw new Error(json?.error?.message ?? `The server answered ${res.status}`);
       const n = json.imported;
@@ -99,7 +115,15 @@ export function DataExport() {
       });
       void syncNow();
     } catch (e) {
-      setSaid({ tone: "error", text: e instanceof TypeError ? "No connection to the server: an import needs one." : e instanceof Error ? e.message : "The file could not be imported." });
+      setSaid({
+        tone: "error",
+        text:
+          e instanceof TypeError
+            ? "No connection to the server: an import needs one."
+            : e instanceof Error
+              ? e.message
+              : "The file could not be imported.",
+      });
     } finally {
       setBusy(null);
     }
@@ -111,7 +135,8 @@ export function DataExport() {
         Your data
       </h2>
       <p>
-        One zip file with every engine, check and reading (and how each was found), the shim plans, comments, tray, loans and photos, plus a CSV of each check. A few exports an hour.
+        One zip file with every engine, check and reading (and how each was found), the shim plans, comments, tray,
+        loans and photos, plus a CSV of each check. A few exports an hour.
       </p>
       <div className="flex flex-wrap gap-3">
         <Button type="button" disabled={busy !== null} onClick={() => void fromServer()}>
@@ -121,9 +146,15 @@ export function DataExport() {
           {busy === "phone" ? "Making the file…" : "Export from this phone"}
         </Button>
       </div>
-      <p className="text-sm text-ink-soft">From this phone works without a signal: it writes what the phone holds, and lists photos it does not hold as not included.</p>
+      <p className="text-sm text-ink-soft">
+        From this phone works without a signal: it writes what the phone holds, and lists photos it does not hold as not
+        included.
+      </p>
       <h3 className="text-lg font-bold">Bring an export back</h3>
-      <p className="text-sm text-ink-soft">Only into an account with no engines and an empty tray. A damaged file, or one from a newer version, is refused and nothing changes.</p>
+      <p className="text-sm text-ink-soft">
+        Only into an account with no engines and an empty tray. A damaged file, or one from a newer version, is refused
+        and nothing changes.
+      </p>
       <label className="flex min-h-12 flex-col gap-1 text-lg">
         Export file (.zip)
         <input

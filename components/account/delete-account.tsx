@@ -21,7 +21,9 @@ export function DeleteAccount() {
   const [preview, setPreview] = useState<DeletionPreview | null>(null);
   const [opened, setOpened] = useState(false);
   // the mailed link lands here (/account?delete=...); read once, and shown only after a tap or the effect below
-  const [token, setToken] = useState<string | null>(() => (typeof window === "undefined" ? null : new URLSearchParams(window.location.search).get("delete")));
+  const [token, setToken] = useState<string | null>(() =>
+    typeof window === "undefined" ? null : new URLSearchParams(window.location.search).get("delete"),
+  );
   const [password, setPassword] = useState("");
   const [error, setError] = useState<string | null>(null);
   const [fieldError, setFieldError] = useState<string | undefined>();
@@ -33,7 +35,12 @@ export function DeleteAccount() {
     () =>
       apiFetch<{ preview: DeletionPreview }>("/api/account/deletion").then(
         (r) => setPreview(r.preview),
-        (e: unknown) => setError(e instanceof ApiFailure && e.status !== 0 ? e.message : "Could not read what the account holds: check the connection and try again."),
+        (e: unknown) =>
+          setError(
+            e instanceof ApiFailure && e.status !== 0
+              ? e.message
+              : "Could not read what the account holds: check the connection and try again.",
+          ),
       ),
     [],
   );
@@ -57,7 +64,11 @@ export function DeleteAccount() {
       await apiFetch("/api/account/deletion/link", { method: "POST" });
       setSent(true);
     } catch (e) {
-      setError(e instanceof ApiFailure && e.status !== 0 ? e.message : "Could not send the link: check the connection and try again.");
+      setError(
+        e instanceof ApiFailure && e.status !== 0
+          ? e.message
+          : "Could not send the link: check the connection and try again.",
+      );
     } finally {
       setBusy(false);
     }
@@ -76,7 +87,11 @@ export function DeleteAccount() {
       window.location.href = "/account-deleted";
     } catch (e) {
       if (e instanceof ApiFailure && e.fields.password) setFieldError(e.fields.password);
-      setError(e instanceof ApiFailure && e.status !== 0 ? e.message : "No connection: nothing was deleted. Try again when online.");
+      setError(
+        e instanceof ApiFailure && e.status !== 0
+          ? e.message
+          : "No connection: nothing was deleted. Try again when online.",
+      );
     } finally {
       setBusy(false);
     }
@@ -89,7 +104,9 @@ export function DeleteAccount() {
       </h2>
       {!showing && (
         <>
-          <p className="text-ink-soft">Removes your garage and photos from Lashwright for good. You see exactly what goes before anything happens.</p>
+          <p className="text-ink-soft">
+            Removes your garage and photos from Lashwright for good. You see exactly what goes before anything happens.
+          </p>
           <Button type="button" look="plain" onClick={open}>
             Delete my account…
           </Button>
@@ -105,17 +122,26 @@ export function DeleteAccount() {
             <p className="font-bold">Removed for good</p>
             <ul className="list-disc pl-5">
               <li>
-                {plural(preview.engines, "engine")}, {plural(preview.checks, "check")} and {plural(preview.readings, "reading")}
+                {plural(preview.engines, "engine")}, {plural(preview.checks, "check")} and{" "}
+                {plural(preview.readings, "reading")}
               </li>
               <li>{plural(preview.photos, "photo")} (yours, and any taken on your checks)</li>
               <li>{plural(preview.trayItems, "size", "sizes")} on your shim tray</li>
-              {preview.soloClubs.length > 0 && <li>your club{preview.soloClubs.length > 1 ? "s" : ""} with no other member: {names(preview.soloClubs)}</li>}
+              {preview.soloClubs.length > 0 && (
+                <li>
+                  your club{preview.soloClubs.length > 1 ? "s" : ""} with no other member: {names(preview.soloClubs)}
+                </li>
+              )}
             </ul>
           </div>
           <div>
             <p className="font-bold">Ended</p>
             <ul className="list-disc pl-5">
-              <li>{preview.shares ? `${plural(preview.shares, "shared check")} withdrawn from review` : "no checks shared with a club"}</li>
+              <li>
+                {preview.shares
+                  ? `${plural(preview.shares, "shared check")} withdrawn from review`
+                  : "no checks shared with a club"}
+              </li>
               <li>{preview.clubs.length ? `membership of ${names(preview.clubs)}` : "no club memberships"}</li>
               <li>every session: each phone signed in wipes its copy when it next reaches the server</li>
               <li>all mail to {preview.email}, at once</li>
@@ -147,7 +173,14 @@ export function DeleteAccount() {
               }}
             >
               <Field id="delete-password" label="Your password, to confirm" error={fieldError}>
-                <input id="delete-password" type="password" autoComplete="current-password" className={inputClass} value={password} onChange={(e) => setPassword(e.target.value)} />
+                <input
+                  id="delete-password"
+                  type="password"
+                  autoComplete="current-password"
+                  className={inputClass}
+                  value={password}
+                  onChange={(e) => setPassword(e.target.value)}
+                />
               </Field>
               <Button type="submit" disabled={busy || password.length === 0}>
                 {busy ? "Deleting…" : "Delete the account for good"}
@@ -158,7 +191,9 @@ export function DeleteAccount() {
               {busy ? "Deleting…" : "Delete the account for good"}
             </Button>
           ) : sent ? (
-            <Notice tone="ok">A link is on its way to {preview.email}. Open it on this phone to confirm; it works once, for 30 minutes.</Notice>
+            <Notice tone="ok">
+              A link is on its way to {preview.email}. Open it on this phone to confirm; it works once, for 30 minutes.
+            </Notice>
           ) : (
             <>
               <p>This account has no password: confirm through a link sent to {preview.email}.</p>

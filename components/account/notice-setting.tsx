@@ -10,7 +10,9 @@ export function NoticeSetting() {
   const [error, setError] = useState<string | null>(null);
   const [saving, setSaving] = useState(false);
   useEffect(() => {
-    fetchers.me().then(setMe, () => setError("The account could not be read: check the connection and open the page again."));
+    fetchers
+      .me()
+      .then(setMe, () => setError("The account could not be read: check the connection and open the page again."));
   }, []);
   const set = async (on: boolean) => {
     setSaving(true);
@@ -31,11 +33,18 @@ export function NoticeSetting() {
         E-mail notices
       </h2>
       <label className="flex min-h-12 items-center gap-3 text-lg">
-        <input type="checkbox" className="size-6" checked={me.noticesByEmail} disabled={saving} onChange={(e) => void set(e.target.checked)} />
+        <input
+          type="checkbox"
+          className="size-6"
+          checked={me.noticesByEmail}
+          disabled={saving}
+          onChange={(e) => void set(e.target.checked)}
+        />
         E-mail me about comments, verdicts, review requests and shim loans
       </label>
       <p className="text-sm text-ink-soft">
-        They come gathered, at most one mail every few minutes, to {me.email}. Sign-in links and password mails always come.
+        They come gathered, at most one mail every few minutes, to {me.email}. Sign-in links and password mails always
+        come.
       </p>
       {error && <Notice tone="error">{error}</Notice>}
     </section>

@@ -11,27 +11,31 @@ import { Button, ButtonLink, Field, inputClass, Notice } from "@/components/ui/c
 import { ResendLink } from "./resend-link";
 import { safeNext } from "@/lib/auth/safe-next";
 
-
 /**
  * One answer for a wrong password and for an address not yet confirmed, so a sign-up followed by a
  * sign-in cannot tell which addresses have accounts (OWASP ASVS 5.0 V6 Authentication). The message
  * names both, so a newcomer who has not opened the mail yet knows what to do.
  */
 const MESSAGES: Record<string, string> = {
-  CredentialsSignin: "That e-mail and password do not match an account. Signed up just now? Confirm your e-mail first: open the link we sent you, then sign in here.",
+  CredentialsSignin:
+    "That e-mail and password do not match an account. Signed up just now? Confirm your e-mail first: open the link we sent you, then sign in here.",
   Throttled: "Too many failed attempts. Wait 15 minutes, or sign in with an e-mail link.",
   Busy: "Too many people are signing in right now. Try again in a moment.",
 };
 
-
 export function SignInForm() {
   const router = useRouter();
   const params = useSearchParams();
-  const [error, setError] = useState<string | null>(params.get("error") ? (MESSAGES[params.get("error")!] ?? "Sign-in failed.") : null);
+  const [error, setError] = useState<string | null>(
+    params.get("error") ? (MESSAGES[params.get("error")!] ?? "Sign-in failed.") : null,
+  );
   const [sent, setSent] = useState<string | null>(null);
   // the address typed, which may be one still waiting for confirmation: its link is offered again
   const [unconfirmed, setUnconfirmed] = useState<string | null>(null);
-  const form = useForm<{ email: string; password: string }>({ resolver: checkedBy(signInForm), defaultValues: { email: params.get("email") ?? "", password: "" } });
+  const form = useForm<{ email: string; password: string }>({
+    resolver: checkedBy(signInForm),
+    defaultValues: { email: params.get("email") ?? "", password: "" },
+  });
   const { errors, isSubmitting } = form.formState;
 
   const onSubmit = form.handleSubmit(async (values) => {
@@ -51,7 +55,11 @@ export function SignInForm() {
     const ok = await form.trigger("email");
     if (!ok) return;
     const r = await mutations.requestLink(form.getValues("email")).catch(() => null);
-    setSent(r ? "If that address has an account, a sign-in link is on its way. Open it on this phone." : "Could not send the link: are you online?");
+    setSent(
+      r
+        ? "If that address has an account, a sign-in link is on its way. Open it on this phone."
+        : "Could not send the link: are you online?",
+    );
   };
 
   return (
@@ -60,10 +68,23 @@ export function SignInForm() {
       {unconfirmed && <ResendLink email={unconfirmed} unsure />}
       {sent && <Notice tone="ok">{sent}</Notice>}
       <Field id="email" label="E-mail" error={errors.email?.message}>
-        <input id="email" type="email" autoComplete="email" inputMode="email" className={inputClass} {...form.register("email")} />
+        <input
+          id="email"
+          type="email"
+          autoComplete="email"
+          inputMode="email"
+          className={inputClass}
+          {...form.register("email")}
+        />
       </Field>
       <Field id="password" label="Password" error={errors.password?.message}>
-        <input id="password" type="password" autoComplete="current-password" className={inputClass} {...form.register("password")} />
+        <input
+          id="password"
+          type="password"
+          autoComplete="current-password"
+          className={inputClass}
+          {...form.register("password")}
+        />
       </Field>
       <Button type="submit" disabled={isSubmitting}>
         {isSubmitting ? "Signing in…" : "Sign in"}
@@ -71,7 +92,11 @@ export function SignInForm() {
       <Button type="button" look="plain" onClick={sendLink}>
         E-mail me a sign-in link instead
       </Button>
-      <Link href="/forgot-password" prefetch={false} className="inline-flex min-h-12 items-center font-bold underline underline-offset-4">
+      <Link
+        href="/forgot-password"
+        prefetch={false}
+        className="inline-flex min-h-12 items-center font-bold underline underline-offset-4"
+      >
         Forgot your password?
       </Link>
       <div className="flex flex-col gap-2 border-t border-line pt-4">

@@ -13,7 +13,10 @@ import { ResendLink } from "./resend-link";
 export function SignUpForm() {
   const [done, setDone] = useState<string | null>(null);
   const [error, setError] = useState<string | null>(null);
-  const form = useForm<{ email: string; name: string; password: string }>({ resolver: checkedBy(signUpForm), defaultValues: { email: "", name: "", password: "" } });
+  const form = useForm<{ email: string; name: string; password: string }>({
+    resolver: checkedBy(signUpForm),
+    defaultValues: { email: "", name: "", password: "" },
+  });
   const { errors, isSubmitting } = form.formState;
 
   const onSubmit = form.handleSubmit(async (values) => {
@@ -22,7 +25,8 @@ export function SignUpForm() {
       await mutations.signUp(values);
       setDone(values.email);
     } catch (e) {
-      if (e instanceof ApiFailure) for (const [k, v] of Object.entries(e.fields)) form.setError(k as keyof typeof values, { message: v });
+      if (e instanceof ApiFailure)
+        for (const [k, v] of Object.entries(e.fields)) form.setError(k as keyof typeof values, { message: v });
       setError(e instanceof Error ? e.message : "Sign-up failed");
     }
   });
@@ -51,15 +55,37 @@ export function SignUpForm() {
         <input id="name" autoComplete="name" className={inputClass} {...form.register("name")} />
       </Field>
       <Field id="email" label="E-mail" error={errors.email?.message}>
-        <input id="email" type="email" autoComplete="email" inputMode="email" className={inputClass} {...form.register("email")} />
+        <input
+          id="email"
+          type="email"
+          autoComplete="email"
+          inputMode="email"
+          className={inputClass}
+          {...form.register("email")}
+        />
       </Field>
-      <Field id="password" label="Password" error={errors.password?.message} hint={`At least ${PASSWORD_MIN} characters. A few words you will remember work well.`}>
-        <input id="password" type="password" autoComplete="new-password" className={inputClass} {...form.register("password")} />
+      <Field
+        id="password"
+        label="Password"
+        error={errors.password?.message}
+        hint={`At least ${PASSWORD_MIN} characters. A few words you will remember work well.`}
+      >
+        <input
+          id="password"
+          type="password"
+          autoComplete="new-password"
+          className={inputClass}
+          {...form.register("password")}
+        />
       </Field>
       <Button type="submit" disabled={isSubmitting}>
         {isSubmitting ? "Creating…" : "Create account"}
       </Button>
-      <Link href="/sign-in" prefetch={false} className="inline-flex min-h-12 items-center font-bold underline underline-offset-4">
+      <Link
+        href="/sign-in"
+        prefetch={false}
+        className="inline-flex min-h-12 items-center font-bold underline underline-offset-4"
+      >
         I have an account: sign in
       </Link>
     </form>

@@ -26,7 +26,6 @@ const signInLink = (
   </Link>
 );
 
-
 /**
  * Confirming an address asks for the password chosen at sign-up. The link proves the mailbox, the
  * password proves the account: someone who signed up first with another person's address cannot
@@ -51,7 +50,8 @@ export function VerifyEmail() {
       if (signedIn?.ok && !signedIn.error) return router.replace("/engines");
       setState("ok");
     } catch (e) {
-      if (e instanceof ApiFailure && e.fields.password) form.setError("password", { message: e.fields.password }, { shouldFocus: true });
+      if (e instanceof ApiFailure && e.fields.password)
+        form.setError("password", { message: e.fields.password }, { shouldFocus: true });
       else if (e instanceof ApiFailure && e.status === 429) setRefused(e.message);
       else setState("bad");
     }
@@ -69,15 +69,29 @@ export function VerifyEmail() {
     return (
       <>
         <h1 className={authTitleClass}>This link no longer works</h1>
-        <Notice tone="error">It has expired or was already used. Try to {signInLink}: if the address still needs confirming, the sign-in page offers a new link.</Notice>
+        <Notice tone="error">
+          It has expired or was already used. Try to {signInLink}: if the address still needs confirming, the sign-in
+          page offers a new link.
+        </Notice>
       </>
     );
   return (
     <>
       <h1 className={authTitleClass}>Confirm your address</h1>
       <form onSubmit={onSubmit} noValidate className="flex flex-col gap-4">
-        <Field id="password" label="Password" error={form.formState.errors.password?.message} hint="The password you chose when you created the account.">
-          <input id="password" type="password" autoComplete="current-password" className={inputClass} {...form.register("password")} />
+        <Field
+          id="password"
+          label="Password"
+          error={form.formState.errors.password?.message}
+          hint="The password you chose when you created the account."
+        >
+          <input
+            id="password"
+            type="password"
+            autoComplete="current-password"
+            className={inputClass}
+            {...form.register("password")}
+          />
         </Field>
         {refused && <Notice tone="error">{refused}</Notice>}
         <Button type="submit" disabled={form.formState.isSubmitting}>
@@ -103,7 +117,14 @@ export function VerifyEmail() {
 export function EmailLinkSignIn() {
   const token = useSearchParams().get("token") ?? "";
   const router = useRouter();
-  const [state, setState] = useState<{ is: "loading" } | { is: "bad" } | { is: "working" } | { is: "ready"; email: string } | { is: "other"; email: string; current: string } | { is: "same"; email: string; current: string }>({ is: "loading" });
+  const [state, setState] = useState<
+    | { is: "loading" }
+    | { is: "bad" }
+    | { is: "working" }
+    | { is: "ready"; email: string }
+    | { is: "other"; email: string; current: string }
+    | { is: "same"; email: string; current: string }
+  >({ is: "loading" });
   useOnce(() => {
     Promise.all([
       mutations.linkAccount(token).then((r) => r.account.email),
@@ -111,21 +132,36 @@ export function EmailLinkSignIn() {
         .then((r) => r.json() as Promise<{ user?: { email?: string } }>)
         .then((s) => s.user?.email ?? null),
     ]).then(
-      ([email, current]) => setState(current === null ? { is: "ready", email } : current === email ? { is: "same", email, current } : { is: "other", email, current }),
+      ([email, current]) =>
+        setState(
+          current === null
+            ? { is: "ready", email }
+            : current === email
+              ? { is: "same", email, current }
+              : { is: "other", email, current },
+        ),
       () => setState({ is: "bad" }),
     );
   });
   const signInNow = (email: string) => {
     setState({ is: "working" });
     // next-auth's client is loaded on the tap: the forms' pages paint without it
-    void import("next-auth/react").then(({ signIn }) => signIn("email-link", { token, redirect: false })).then((r) => {
-      if (r?.ok && !r.error) router.replace("/engines");
-      else setState(r?.error === "SignedInAsOther" ? { is: "other", email, current: "another account" } : { is: "bad" });
-    });
+    void import("next-auth/react")
+      .then(({ signIn }) => signIn("email-link", { token, redirect: false }))
+      .then((r) => {
+        if (r?.ok && !r.error) router.replace("/engines");
+        else
+          setState(r?.error === "SignedInAsOther" ? { is: "other", email, current: "another account" } : { is: "bad" });
+      });
   };
   if (state.is === "loading") return <Notice>Checking the link…</Notice>;
   if (state.is === "working") return <Notice>Signing you in…</Notice>;
-  if (state.is === "bad") return <Notice tone="error">This sign-in link has expired or was already used. Ask for a new one on the {signInLink} page.</Notice>;
+  if (state.is === "bad")
+    return (
+      <Notice tone="error">
+        This sign-in link has expired or was already used. Ask for a new one on the {signInLink} page.
+      </Notice>
+    );
   if (state.is === "same")
     return (
       <Notice tone="ok">
@@ -139,9 +175,16 @@ export function EmailLinkSignIn() {
     return (
       <div className="flex flex-col gap-4">
         <Notice tone="error">
-          This phone is signed in as {state.current}, and the link is for {state.email}. Sign out first, then open the link again.
+          This phone is signed in as {state.current}, and the link is for {state.email}. Sign out first, then open the
+          link again.
         </Notice>
-        <Button type="button" look="plain" onClick={() => void import("next-auth/react").then(({ signOut }) => signOut({ callbackUrl: window.location.href }))}>
+        <Button
+          type="button"
+          look="plain"
+          onClick={() =>
+            void import("next-auth/react").then(({ signOut }) => signOut({ callbackUrl: window.location.href }))
+          }
+        >
           Sign out {state.current}
         </Button>
       </div>
@@ -163,7 +206,12 @@ export function ForgotPassword() {
     await mutations.requestReset(email);
     setSent(true);
   });
-  if (sent) return <Notice tone="ok">If that address has an account, a link to choose a new password is on its way. It works for an hour.</Notice>;
+  if (sent)
+    return (
+      <Notice tone="ok">
+        If that address has an account, a link to choose a new password is on its way. It works for an hour.
+      </Notice>
+    );
   return (
     <form onSubmit={onSubmit} noValidate className="flex flex-col gap-4">
       <Field id="email" label="E-mail" error={form.formState.errors.email?.message}>
@@ -189,12 +237,20 @@ export function ResetPassword() {
       else setState("bad");
     }
   });
-  if (state === "ok") return <Notice tone="ok">Your new password is set and other devices are signed out. Now {signInLink}.</Notice>;
-  if (state === "bad") return <Notice tone="error">This link has expired or was already used. Ask for a new one.</Notice>;
+  if (state === "ok")
+    return <Notice tone="ok">Your new password is set and other devices are signed out. Now {signInLink}.</Notice>;
+  if (state === "bad")
+    return <Notice tone="error">This link has expired or was already used. Ask for a new one.</Notice>;
   return (
     <form onSubmit={onSubmit} noValidate className="flex flex-col gap-4">
       <Field id="password" label="New password" error={form.formState.errors.password?.message}>
-        <input id="password" type="password" autoComplete="new-password" className={inputClass} {...form.register("password")} />
+        <input
+          id="password"
+          type="password"
+          autoComplete="new-password"
+          className={inputClass}
+          {...form.register("password")}
+        />
       </Field>
       <Button type="submit" disabled={form.formState.isSubmitting}>
         Set the new password
@@ -219,7 +275,9 @@ export function AcceptInvite() {
         <h2 className="text-2xl font-extrabold" data-testid="joined">
           You joined {state.joined}
         </h2>
-        <Notice tone="ok">You are now a member: its shim pool, checks shared with it and its mentors are on the club page.</Notice>
+        <Notice tone="ok">
+          You are now a member: its shim pool, checks shared with it and its mentors are on the club page.
+        </Notice>
         <ButtonLink href="/club">Open the club page</ButtonLink>
       </>
     );
@@ -233,6 +291,7 @@ export function AcceptInvite() {
         </Link>
       </Notice>
     );
-  if (state === "bad") return <Notice tone="error">This invitation has expired, was used already, or was sent to another address.</Notice>;
+  if (state === "bad")
+    return <Notice tone="error">This invitation has expired, was used already, or was sent to another address.</Notice>;
   return <Notice>Joining the club…</Notice>;
 }

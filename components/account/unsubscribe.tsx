@@ -27,7 +27,8 @@ export function Unsubscribe() {
       <>
         <h1 className={authTitleClass}>No more notices</h1>
         <Notice tone="ok">
-          Lashwright will send this address no more notices or invitations. Links you ask for (a sign-in link, a new password) still come. With an account, you can turn notices back on from your{" "}
+          Lashwright will send this address no more notices or invitations. Links you ask for (a sign-in link, a new
+          password) still come. With an account, you can turn notices back on from your{" "}
           <Link href="/account" className="font-bold underline">
             account page
           </Link>
@@ -39,7 +40,10 @@ export function Unsubscribe() {
     return (
       <>
         <h1 className={authTitleClass}>This link does not work</h1>
-        <Notice tone="error">It is not a link Lashwright made, or it was cut short. Open it again from the mail, or turn notices off on your account page.</Notice>
+        <Notice tone="error">
+          It is not a link Lashwright made, or it was cut short. Open it again from the mail, or turn notices off on
+          your account page.
+        </Notice>
       </>
     );
   return (

@@ -24,15 +24,17 @@ import { useCheckData, useCheckModel, useSaveReading, type CheckData } from "./u
 // move the page under a finger.
 const PlanStep = dynamic(
   () =>
-    Promise.all([import("./plan-step"), import("@/components/review/ask-review")]).then(([{ PlanStep: Plan }, { AskReview }]) => {
-      const PlanWithReview = (props: ComponentProps<typeof Plan>) => (
-        <>
-          <Plan {...props} />
-          <AskReview checkId={props.check.id} />
-        </>
-      );
-      return PlanWithReview;
-    }),
+    Promise.all([import("./plan-step"), import("@/components/review/ask-review")]).then(
+      ([{ PlanStep: Plan }, { AskReview }]) => {
+        const PlanWithReview = (props: ComponentProps<typeof Plan>) => (
+          <>
+            <Plan {...props} />
+            <AskReview checkId={props.check.id} />
+          </>
+        );
+        return PlanWithReview;
+      },
+    ),
   { ssr: false },
 );
 const FitStep = dynamic(() => import("./fit-step").then((m) => m.FitStep), { ssr: false });
@@ -46,7 +48,13 @@ const VerifyStep = dynamic(() => import("./verify-step").then((m) => m.VerifySte
 function useLaterStepsLoaded() {
   useEffect(() => {
     const load = () =>
-      void Promise.all([import("./plan-step"), import("@/components/review/ask-review"), import("./worksheet"), import("./fit-step"), import("./verify-step")]).catch(() => undefined);
+      void Promise.all([
+        import("./plan-step"),
+        import("@/components/review/ask-review"),
+        import("./worksheet"),
+        import("./fit-step"),
+        import("./verify-step"),
+      ]).catch(() => undefined);
     if (typeof window.requestIdleCallback === "function") {
       const h = window.requestIdleCallback(load, { timeout: 3000 });
       return () => window.cancelIdleCallback(h);
@@ -63,7 +71,10 @@ export function CheckScreen() {
   // the step is this screen's own state, mirrored into the address for a reload; it does not wait
   // for the router to notice a replaced history entry (which a busy render could leave behind)
   // moved: the step was changed here (not opened from the address), so its heading takes focus
-  const [stepOf, setStepOf] = useState<{ id: string; step: Step | undefined; moved?: boolean }>({ id, step: (params.get("step") as Step) ?? undefined });
+  const [stepOf, setStepOf] = useState<{ id: string; step: Step | undefined; moved?: boolean }>({
+    id,
+    step: (params.get("step") as Step) ?? undefined,
+  });
   const step = stepOf.id === id ? stepOf.step : ((params.get("step") as Step) ?? undefined);
   const data = useCheckData(id);
 
@@ -73,7 +84,10 @@ export function CheckScreen() {
       <div className="flex flex-col gap-3">
         <Notice tone="error">This check is not on this phone.</Notice>
         {/* a check another member shared with the club is read as a review, not kept on this phone */}
-        <Link href={`/review?id=${id}`} className="inline-flex min-h-12 items-center justify-center self-start rounded-xl border-2 border-line px-5 text-lg font-bold">
+        <Link
+          href={`/review?id=${id}`}
+          className="inline-flex min-h-12 items-center justify-center self-start rounded-xl border-2 border-line px-5 text-lg font-bold"
+        >
           Open it as a club review
         </Link>
       </div>
@@ -118,7 +132,10 @@ function CheckBody({ data, step, go, moved }: { data: CheckData; step?: Step; go
     // the plan is worked out only for the steps that show it: a blade tap on Measure stays cheap
     if (current === "plan" || current === "fit") plan = checkPlan(engine, views, trayFit.usable, fit.pool, options);
     if (plan && current === "plan") {
-      const other = checkPlan(engine, views, trayFit.usable, fit.pool, { ...options, aim: options.aim === "fewest-bought" ? "nearest-target" : "fewest-bought" });
+      const other = checkPlan(engine, views, trayFit.usable, fit.pool, {
+        ...options,
+        aim: options.aim === "fewest-bought" ? "nearest-target" : "fewest-bought",
+      });
       bothAims = !!other && samePlan(plan, other);
     }
   } catch (e) {
@@ -146,7 +163,13 @@ function CheckBody({ data, step, go, moved }: { data: CheckData; step?: Step; go
         <ol className="flex gap-1.5">
           {STEPS.map((s, i) => (
             <li key={s.key}>
-              <button type="button" ref={current === s.key ? currentTab : undefined} aria-current={current === s.key ? "step" : undefined} onClick={() => go(s.key)} className={`min-h-12 rounded-xl border-2 px-3 font-bold whitespace-nowrap ${current === s.key ? "border-accent bg-accent text-accent-ink" : "border-line"}`}>
+              <button
+                type="button"
+                ref={current === s.key ? currentTab : undefined}
+                aria-current={current === s.key ? "step" : undefined}
+                onClick={() => go(s.key)}
+                className={`min-h-12 rounded-xl border-2 px-3 font-bold whitespace-nowrap ${current === s.key ? "border-accent bg-accent text-accent-ink" : "border-line"}`}
+              >
                 {i + 1}. {s.label}
               </button>
             </li>
@@ -154,16 +177,34 @@ function CheckBody({ data, step, go, moved }: { data: CheckData; step?: Step; go
         </ol>
       </nav>
       <p className="figures text-ink-soft">
-        {engine.name} · {check.odometer.toLocaleString("en")} {engine.odometerUnit} · measure {check.measuredHot ? "hot" : "cold"}
+        {engine.name} · {check.odometer.toLocaleString("en")} {engine.odometerUnit} · measure{" "}
+        {check.measuredHot ? "hot" : "cold"}
       </p>
       {later && check.status !== "closed" && (
         <Notice tone="error">
-          A later check of this engine, at {later.odometer.toLocaleString("en")} {engine.odometerUnit}, is already closed. This one is older: its readings are not the engine as it is now, so do not fit shims from its plan. Close it, or measure again in a new check.
+          A later check of this engine, at {later.odometer.toLocaleString("en")} {engine.odometerUnit}, is already
+          closed. This one is older: its readings are not the engine as it is now, so do not fit shims from its plan.
+          Close it, or measure again in a new check.
         </Notice>
       )}
       <StepBoundary key={current}>
-        {current === "prepare" && <PrepareStep checkId={check.id} engine={engine} onDone={() => go("measure")} focusHeading={moved} />}
-        {current === "measure" && <MeasureStep engine={engine} views={views} sizes={sizes} step={seriesStep} save={save} onTurn={turn} onDone={() => go("plan")} previous={previous} checkId={check.id} focusHeading={moved} />}
+        {current === "prepare" && (
+          <PrepareStep checkId={check.id} engine={engine} onDone={() => go("measure")} focusHeading={moved} />
+        )}
+        {current === "measure" && (
+          <MeasureStep
+            engine={engine}
+            views={views}
+            sizes={sizes}
+            step={seriesStep}
+            save={save}
+            onTurn={turn}
+            onDone={() => go("plan")}
+            previous={previous}
+            checkId={check.id}
+            focusHeading={moved}
+          />
+        )}
         {current === "plan" && (
           <PlanStep
             engine={engine}
@@ -185,8 +226,27 @@ function CheckBody({ data, step, go, moved }: { data: CheckData; step?: Step; go
             focusHeading={moved}
           />
         )}
-        {current === "fit" && <FitStep engine={engine} views={views} checkId={check.id} startFit={startFit} onDone={() => (db && setCheckStatus(db, check.id, "verifying"), go("verify"))} focusHeading={moved} />}
-        {current === "verify" && <VerifyStep engine={engine} views={views} sizes={sizes} step={seriesStep} save={save} check={check} focusHeading={moved} />}
+        {current === "fit" && (
+          <FitStep
+            engine={engine}
+            views={views}
+            checkId={check.id}
+            startFit={startFit}
+            onDone={() => (db && setCheckStatus(db, check.id, "verifying"), go("verify"))}
+            focusHeading={moved}
+          />
+        )}
+        {current === "verify" && (
+          <VerifyStep
+            engine={engine}
+            views={views}
+            sizes={sizes}
+            step={seriesStep}
+            save={save}
+            check={check}
+            focusHeading={moved}
+          />
+        )}
       </StepBoundary>
     </div>
   );

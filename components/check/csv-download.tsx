@@ -6,11 +6,31 @@ import type { LocalCheck, LocalEngine } from "@/lib/sync/local-db";
 import { Button } from "@/components/ui/controls";
 
 /** The check as a CSV file named after the engine; the writer loads on the tap, not with the page. */
-export function CsvDownload({ engine, check, views, plan }: { engine: LocalEngine; check: LocalCheck; views: ValveView[]; plan: ShimPlan | null }) {
+export function CsvDownload({
+  engine,
+  check,
+  views,
+  plan,
+}: {
+  engine: LocalEngine;
+  check: LocalCheck;
+  views: ValveView[];
+  plan: ShimPlan | null;
+}) {
   const download = async () => {
     const { checkCsv, csvFileName } = await import("@/lib/check/csv");
     const date = new Date(check.startedAt).toISOString().slice(0, 10);
-    const text = checkCsv({ engine: engine.name, odometer: check.odometer, odometerUnit: engine.odometerUnit, date, shimPosition: engine.shimPosition ?? null }, views, plan);
+    const text = checkCsv(
+      {
+        engine: engine.name,
+        odometer: check.odometer,
+        odometerUnit: engine.odometerUnit,
+        date,
+        shimPosition: engine.shimPosition ?? null,
+      },
+      views,
+      plan,
+    );
     const url = URL.createObjectURL(new Blob([text], { type: "text/csv;charset=utf-8" }));
     const a = document.createElement("a");
     a.href = url;

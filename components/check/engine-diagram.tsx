@@ -22,7 +22,21 @@ const FIRST_WIDTH = 300;
  * the bottom; cylinder 1 on the left, or on the right for an engine that faces the other way. Each valve a cell of one fixed size with a glyph and its name (the legend gives the words),
  * so no state is told by colour alone and no label can sit over another cylinder's valves.
  */
-export function EngineDiagram({ views, facing, onPick, commentDots, current, onTurn }: { views: ValveView[]; facing: Facing; onPick?: (valveId: string) => void; commentDots?: Set<string>; current?: string; onTurn?: () => void }) {
+export function EngineDiagram({
+  views,
+  facing,
+  onPick,
+  commentDots,
+  current,
+  onTurn,
+}: {
+  views: ValveView[];
+  facing: Facing;
+  onPick?: (valveId: string) => void;
+  commentDots?: Set<string>;
+  current?: string;
+  onTurn?: () => void;
+}) {
   const box = useRef<HTMLDivElement>(null);
   const [width, setWidth] = useState(FIRST_WIDTH);
   useLayoutEffect(() => {
@@ -43,12 +57,14 @@ export function EngineDiagram({ views, facing, onPick, commentDots, current, onT
   const ids = views.map((v) => v.valve.id);
   const stop = moved && ids.includes(moved) ? moved : current && ids.includes(current) ? current : ids[0];
   const arrows = (e: KeyboardEvent<HTMLDivElement>) => {
-    const step = e.key === "ArrowRight" || e.key === "ArrowDown" ? 1 : e.key === "ArrowLeft" || e.key === "ArrowUp" ? -1 : 0;
+    const step =
+      e.key === "ArrowRight" || e.key === "ArrowDown" ? 1 : e.key === "ArrowLeft" || e.key === "ArrowUp" ? -1 : 0;
     if (!step && e.key !== "Home" && e.key !== "End") return;
     const cells = [...(box.current?.querySelectorAll<HTMLButtonElement>("button[data-valve]") ?? [])];
     const at = cells.indexOf(document.activeElement as HTMLButtonElement);
     if (at < 0) return;
-    const to = e.key === "Home" ? 0 : e.key === "End" ? cells.length - 1 : Math.min(cells.length - 1, Math.max(0, at + step));
+    const to =
+      e.key === "Home" ? 0 : e.key === "End" ? cells.length - 1 : Math.min(cells.length - 1, Math.max(0, at + step));
     e.preventDefault();
     cells[to]!.focus();
     setMoved(cells[to]!.dataset.valve ?? null);
@@ -88,16 +104,27 @@ export function EngineDiagram({ views, facing, onPick, commentDots, current, onT
   return (
     <figure aria-label="Engine diagram" className="flex flex-col gap-2 rounded-2xl border border-line bg-surface-2 p-3">
       <figcaption className="text-xs font-bold text-ink-soft">
-        {mirrored ? "Cylinder 1 on the right (the engine faces the other way)" : "Cylinder 1 on the left"} · {nearSide === "exhaust" ? "intakes on top, exhausts nearest you" : "exhausts on top, intakes nearest you"}
+        {mirrored ? "Cylinder 1 on the right (the engine faces the other way)" : "Cylinder 1 on the left"} ·{" "}
+        {nearSide === "exhaust" ? "intakes on top, exhausts nearest you" : "exhausts on top, intakes nearest you"}
         <span className="sr-only"> · the arrow keys move between valves</span>
       </figcaption>
       <div ref={box} onKeyDown={arrows} className="flex flex-col" style={{ gap: GROUP_GAP_PX }}>
         {rows.map((row) => (
           <div key={row[0]!.cylinder} className="flex justify-center" style={{ gap: GROUP_GAP_PX }}>
             {row.map((g) => (
-              <div key={g.cylinder} role="group" aria-label={`Cyl ${g.cylinder}`} data-cylinder={g.cylinder} style={{ gap: CELL_GAP_PX }} className="flex flex-col items-stretch rounded-xl border border-line bg-bg/40 p-[4px]">
+              <div
+                key={g.cylinder}
+                role="group"
+                aria-label={`Cyl ${g.cylinder}`}
+                data-cylinder={g.cylinder}
+                style={{ gap: CELL_GAP_PX }}
+                className="flex flex-col items-stretch rounded-xl border border-line bg-bg/40 p-[4px]"
+              >
                 {/* the label takes the width of its cells and never widens the group past them */}
-                <span className="w-0 min-w-full overflow-hidden text-center text-xs leading-tight font-bold tracking-tight whitespace-nowrap text-ink-soft" data-cylinder-label={g.cylinder}>
+                <span
+                  className="w-0 min-w-full overflow-hidden text-center text-xs leading-tight font-bold tracking-tight whitespace-nowrap text-ink-soft"
+                  data-cylinder-label={g.cylinder}
+                >
                   Cyl {g.cylinder}
                 </span>
                 {line(g.top, "top")}
@@ -120,8 +147,14 @@ export function EngineDiagram({ views, facing, onPick, commentDots, current, onT
           ))}
       </ul>
       {onTurn && (
-        <button type="button" onClick={onTurn} className="min-h-12 self-start text-sm font-bold underline underline-offset-4">
-          {mirrored ? "Turn the picture: cylinder 1 on the left" : "Engine faces the other way? Put cylinder 1 on the right"}
+        <button
+          type="button"
+          onClick={onTurn}
+          className="min-h-12 self-start text-sm font-bold underline underline-offset-4"
+        >
+          {mirrored
+            ? "Turn the picture: cylinder 1 on the left"
+            : "Engine faces the other way? Put cylinder 1 on the right"}
         </button>
       )}
     </figure>

@@ -6,7 +6,12 @@ import type { ShimMove } from "@/lib/lash";
 import { valveLabel, type ValveView } from "@/lib/check/derive";
 import { camsOut, camsOutWords, shimNumber } from "@/lib/lash";
 import { fitTicks, valvesOfMoves, workOrderKey, type WorkOrderState } from "@/lib/check/fit";
-import { OVER_BUCKET_CAUTIONS, OVER_BUCKET_METHOD, SHIM_POSITION_WORDS, UNDER_BUCKET_FIT } from "@/lib/check/shim-position";
+import {
+  OVER_BUCKET_CAUTIONS,
+  OVER_BUCKET_METHOD,
+  SHIM_POSITION_WORDS,
+  UNDER_BUCKET_FIT,
+} from "@/lib/check/shim-position";
 import { getMeta } from "@/lib/sync/later";
 import type { LocalEngine } from "@/lib/sync/local-db";
 import { offerToClub, toggleFitTask, toggleSwaps } from "@/lib/sync/later";
@@ -17,7 +22,15 @@ import { useFocusOnShow } from "@/components/ui/focus";
 import { ShimPositionAsk } from "./shim-position-ask";
 
 function placeWords(p: ShimMove["from"]) {
-  return p.kind === "valve" ? p.valveId : p.kind === "tray" ? "the tray" : p.kind === "shop" ? "the new (bought) shims" : p.kind === "club" ? "the borrowed shims" : "the side (set aside)";
+  return p.kind === "valve"
+    ? p.valveId
+    : p.kind === "tray"
+      ? "the tray"
+      : p.kind === "shop"
+        ? "the new (bought) shims"
+        : p.kind === "club"
+          ? "the borrowed shims"
+          : "the side (set aside)";
 }
 
 /** One tap: offer the club the shims this check sent back to the tray. */
@@ -30,14 +43,28 @@ function OfferReturned({ moves, engine }: { moves: ShimMove[]; engine: LocalEngi
   const club = pool.clubs[0];
   if (!club || back.size === 0) return null;
   const total = [...back.values()].reduce((a, b) => a + b, 0);
-  if (sent) return <Notice tone="ok">✓ Offered to {club.name}: {total} shim{total === 1 ? "" : "s"}.</Notice>;
+  if (sent)
+    return (
+      <Notice tone="ok">
+        ✓ Offered to {club.name}: {total} shim{total === 1 ? "" : "s"}.
+      </Notice>
+    );
   return (
     <Button
       type="button"
       look="plain"
       onClick={async () => {
         if (!db) return;
-        for (const [size, count] of back) await offerToClub(db, { id: crypto.randomUUID(), clubId: club.id, size, measuredSize: false, count, shimDiameter: engine.shimDiameter ?? null, note: `came out of ${engine.name}` });
+        for (const [size, count] of back)
+          await offerToClub(db, {
+            id: crypto.randomUUID(),
+            clubId: club.id,
+            size,
+            measuredSize: false,
+            count,
+            shimDiameter: engine.shimDiameter ?? null,
+            note: `came out of ${engine.name}`,
+          });
         setSent(true);
         void pool.refresh();
       }}
@@ -61,9 +88,26 @@ function Cautions({ items, label }: { items: string[]; label: string }) {
   );
 }
 
-function Tick({ on, onClick, children, testId }: { on: boolean; onClick: () => void; children: ReactNode; testId?: string }) {
+function Tick({
+  on,
+  onClick,
+  children,
+  testId,
+}: {
+  on: boolean;
+  onClick: () => void;
+  children: ReactNode;
+  testId?: string;
+}) {
   return (
-    <button type="button" role="checkbox" aria-checked={on} onClick={onClick} data-testid={testId} className={`flex min-h-16 w-full items-center gap-3 rounded-xl border-2 p-3 text-left ${on ? "border-ok" : "border-line"}`}>
+    <button
+      type="button"
+      role="checkbox"
+      aria-checked={on}
+      onClick={onClick}
+      data-testid={testId}
+      className={`flex min-h-16 w-full items-center gap-3 rounded-xl border-2 p-3 text-left ${on ? "border-ok" : "border-line"}`}
+    >
       <span aria-hidden className="text-2xl">
         {on ? "☑" : "☐"}
       </span>
@@ -77,11 +121,28 @@ function Tick({ on, onClick, children, testId }: { on: boolean; onClick: () => v
  * shims are reached follows the engine: over the bucket, the method for each valve beside the list;
  * under it, the cams-out sequence as ticks with the swap list at its middle (lib/check/shim-position).
  */
-export function FitStep({ engine, views, checkId, startFit, onDone, focusHeading = false }: { engine: LocalEngine; views: ValveView[]; checkId: string; startFit: () => void; onDone: () => void; focusHeading?: boolean }) {
+export function FitStep({
+  engine,
+  views,
+  checkId,
+  startFit,
+  onDone,
+  focusHeading = false,
+}: {
+  engine: LocalEngine;
+  views: ValveView[];
+  checkId: string;
+  startFit: () => void;
+  onDone: () => void;
+  focusHeading?: boolean;
+}) {
   const headingRef = useFocusOnShow<HTMLHeadingElement>(focusHeading);
   const { db } = useLocalCore();
   // the list kept when fitting began (lib/check/fit), so a reload mid-fit keeps list and ticks
-  const order = useLiveQuery(async () => (db ? ((await getMeta<WorkOrderState>(db, workOrderKey(checkId))) ?? null) : undefined), [db, checkId]);
+  const order = useLiveQuery(
+    async () => (db ? ((await getMeta<WorkOrderState>(db, workOrderKey(checkId))) ?? null) : undefined),
+    [db, checkId],
+  );
   const [error, setError] = useState<string | null>(null);
   const started = useRef(false);
   useEffect(() => {
@@ -101,7 +162,9 @@ export function FitStep({ engine, views, checkId, startFit, onDone, focusHeading
   const allDone = swapsDone && tasksDone;
   const per = (id: string) => {
     const v = views.find((x) => x.valve.id === id);
-    return v ? valveLabel(v.valve, v.valve.kind === "intake" ? engine.intakePerCylinder : engine.exhaustPerCylinder) : id;
+    return v
+      ? valveLabel(v.valve, v.valve.kind === "intake" ? engine.intakePerCylinder : engine.exhaustPerCylinder)
+      : id;
   };
   const guard = async (f: () => Promise<unknown>) => {
     if (!db) return;
@@ -133,11 +196,22 @@ export function FitStep({ engine, views, checkId, startFit, onDone, focusHeading
   const tickWords = (t: number[]) => {
     const ms = t.map((i) => moves[i]!);
     const last = ms.at(-1)!;
-    if (last.to.kind !== "valve") return <>Take the {sz(last.size)} out of {last.from.kind === "valve" ? per(last.from.valveId) : placeWords(last.from)} and {last.to.kind === "tray" ? "put it on the tray" : "set it aside"}</>;
+    if (last.to.kind !== "valve")
+      return (
+        <>
+          Take the {sz(last.size)} out of {last.from.kind === "valve" ? per(last.from.valveId) : placeWords(last.from)}{" "}
+          and {last.to.kind === "tray" ? "put it on the tray" : "set it aside"}
+        </>
+      );
     const out = ms.length === 2 ? ms[0]! : null;
     return (
       <>
-        <strong>{per(last.to.valveId)}</strong>: {out && <>take out its {sz(out.size)} and {out.to.kind === "tray" ? "put it on the tray" : "set it aside"}, then </>}
+        <strong>{per(last.to.valveId)}</strong>:{" "}
+        {out && (
+          <>
+            take out its {sz(out.size)} and {out.to.kind === "tray" ? "put it on the tray" : "set it aside"}, then{" "}
+          </>
+        )}
         {fitWords(last)}
       </>
     );
@@ -145,7 +219,13 @@ export function FitStep({ engine, views, checkId, startFit, onDone, focusHeading
   const swapList = (
     <ol className="flex flex-col gap-2" aria-label="Swaps, one tick per valve">
       {ticks.map((t, n) => (
-        <li key={t[0]} data-testid="fit-tick" data-valve={moves[t.at(-1)!]!.to.kind === "valve" ? (moves[t.at(-1)!]!.to as { valveId: string }).valveId : undefined}>
+        <li
+          key={t[0]}
+          data-testid="fit-tick"
+          data-valve={
+            moves[t.at(-1)!]!.to.kind === "valve" ? (moves[t.at(-1)!]!.to as { valveId: string }).valveId : undefined
+          }
+        >
           <Tick on={t.every((i) => done[i])} onClick={() => tick(t)}>
             <span className="figures">
               <strong>{n + 1}.</strong> {tickWords(t)}
@@ -160,7 +240,11 @@ export function FitStep({ engine, views, checkId, startFit, onDone, focusHeading
       {error && <Notice tone="error">{error}</Notice>}
       {swapsDone && <OfferReturned moves={moves} engine={engine} />}
       <Button type="button" disabled={!allDone} onClick={onDone}>
-        {allDone ? "Re-measure the changed valves" : position === "under" ? "Tick every step and swap to continue" : "Tick every swap to continue"}
+        {allDone
+          ? "Re-measure the changed valves"
+          : position === "under"
+            ? "Tick every step and swap to continue"
+            : "Tick every swap to continue"}
       </Button>
     </>
   );
@@ -175,12 +259,16 @@ export function FitStep({ engine, views, checkId, startFit, onDone, focusHeading
         <p className="text-lg font-bold" data-testid="cams-out">
           {camsOutWords(cams)}
         </p>
-        <p className="text-ink-soft">{SHIM_POSITION_WORDS.under.long}. Work down the steps; the manual&apos;s figures and order govern.</p>
+        <p className="text-ink-soft">
+          {SHIM_POSITION_WORDS.under.long}. Work down the steps; the manual&apos;s figures and order govern.
+        </p>
         <ol className="flex flex-col gap-4" aria-label="Under-bucket fit">
           {UNDER_BUCKET_FIT.map((t, n) => (
             <li key={t.key} data-testid={`task-${t.key}`}>
               {t.key === "swap" ? (
-                <div className={`flex flex-col gap-2 rounded-xl border-2 p-3 ${swapsDone ? "border-ok" : "border-line"}`}>
+                <div
+                  className={`flex flex-col gap-2 rounded-xl border-2 p-3 ${swapsDone ? "border-ok" : "border-line"}`}
+                >
                   <h3 className="text-lg font-extrabold">
                     <span aria-hidden>{swapsDone ? "☑ " : "☐ "}</span>
                     {n + 1}. {t.task}: swap list, in working order
@@ -208,7 +296,11 @@ export function FitStep({ engine, views, checkId, startFit, onDone, focusHeading
         Swap list, in working order
       </h2>
       {position === "over" ? (
-        <section aria-labelledby="over-method" className="flex flex-col gap-2 rounded-xl border-2 border-line p-3" data-testid="over-method">
+        <section
+          aria-labelledby="over-method"
+          className="flex flex-col gap-2 rounded-xl border-2 border-line p-3"
+          data-testid="over-method"
+        >
           <h3 id="over-method" className="text-lg font-extrabold">
             The cams stay in. For each valve on the list:
           </h3>
@@ -222,7 +314,9 @@ export function FitStep({ engine, views, checkId, startFit, onDone, focusHeading
       ) : (
         <ShimPositionAsk engine={engine} />
       )}
-      <p className="text-ink-soft">Work down the list: only one shim is ever loose in your hand. Lift shims with the magnet; never stack two.</p>
+      <p className="text-ink-soft">
+        Work down the list: only one shim is ever loose in your hand. Lift shims with the magnet; never stack two.
+      </p>
       {swapList}
       {finish}
     </section>

@@ -25,7 +25,29 @@ interface Undo {
  * centred on the valve's band; a blade tap records and moves on to the next valve still to measure,
  * through the crank positions in order. The diagram shows where you are and picks any valve.
  */
-export function MeasureStep({ engine, views, sizes, step, save, onTurn, onDone, previous, checkId, focusHeading = false }: { engine: LocalEngine; views: ValveView[]; sizes: number[]; step: number; save: (v: ValveView) => (r: ReadingEntry) => Promise<void>; onTurn: () => void; onDone: () => void; previous: Map<string, number>; checkId: string; focusHeading?: boolean }) {
+export function MeasureStep({
+  engine,
+  views,
+  sizes,
+  step,
+  save,
+  onTurn,
+  onDone,
+  previous,
+  checkId,
+  focusHeading = false,
+}: {
+  engine: LocalEngine;
+  views: ValveView[];
+  sizes: number[];
+  step: number;
+  save: (v: ValveView) => (r: ReadingEntry) => Promise<void>;
+  onTurn: () => void;
+  onDone: () => void;
+  previous: Map<string, number>;
+  checkId: string;
+  focusHeading?: boolean;
+}) {
   const { db } = useLocalCore();
   const order = useMemo(() => measuringOrder(engine), [engine]);
   const byId = useMemo(() => new Map(views.map((v) => [v.valve.id, v])), [views]);
@@ -48,7 +70,18 @@ export function MeasureStep({ engine, views, sizes, step, save, onTurn, onDone, 
   const measured = views.filter((v) => v.measured != null).length;
   const fillAll = async () => {
     if (!db) return;
-    for (const v of fresh) await saveReading(db, checkId, { valve: v.valve.id, round: 0, installedStamp: fill, installedMicrometer: null, feelerGo: null, feelerNoGo: null, measured: null, method: "feeler", fittedShim: null });
+    for (const v of fresh)
+      await saveReading(db, checkId, {
+        valve: v.valve.id,
+        round: 0,
+        installedStamp: fill,
+        installedMicrometer: null,
+        feelerGo: null,
+        feelerNoGo: null,
+        measured: null,
+        method: "feeler",
+        fittedShim: null,
+      });
   };
 
   // moves on past the valve just tapped (its new reading is not in these views yet, so it is skipped by place)
@@ -62,7 +95,10 @@ export function MeasureStep({ engine, views, sizes, step, save, onTurn, onDone, 
       setPicked(to);
       // a new crank position is said too: the heading that shows it is not a live region
       const at2 = order.stops.find((s) => s.valveId === to)?.position ?? 0;
-      const turn = at2 !== position && order.positions[at2] ? `. Position ${at2 + 1} of ${order.positions.length}: ${positionWords(order.positions[at2])}` : "";
+      const turn =
+        at2 !== position && order.positions[at2]
+          ? `. Position ${at2 + 1} of ${order.positions.length}: ${positionWords(order.positions[at2])}`
+          : "";
       setSaid(to === currentId ? words : `${words}. Next: ${to}${turn}`);
       setFocusCard((f) => (byKeyboard ? { valve: to, n: (f?.n ?? 0) + 1 } : null));
     },
@@ -106,7 +142,12 @@ export function MeasureStep({ engine, views, sizes, step, save, onTurn, onDone, 
       {offerFill && (
         <div className="flex flex-wrap items-center gap-2 rounded-xl border-2 border-accent p-3">
           <span className="font-bold">Every bucket has the same shim?</span>
-          <select aria-label="Shim size for every bucket" value={fill} onChange={(e) => setFill(Number(e.target.value))} className="figures min-h-12 rounded-xl border-2 border-field bg-surface px-2 text-lg">
+          <select
+            aria-label="Shim size for every bucket"
+            value={fill}
+            onChange={(e) => setFill(Number(e.target.value))}
+            className="figures min-h-12 rounded-xl border-2 border-field bg-surface px-2 text-lg"
+          >
             {sizes.map((s) => (
               <option key={s} value={s}>
                 {shimNumber(s, step < 0.05)} mm
@@ -128,11 +169,29 @@ export function MeasureStep({ engine, views, sizes, step, save, onTurn, onDone, 
         <p className="figures font-bold" data-testid="measured-count">
           {measured} of {views.length} valves measured
         </p>
-        <Button type="button" look="plain" className="shrink-0 whitespace-nowrap" disabled={undo.length === 0} onClick={() => void undoLast()}>
+        <Button
+          type="button"
+          look="plain"
+          className="shrink-0 whitespace-nowrap"
+          disabled={undo.length === 0}
+          onClick={() => void undoLast()}
+        >
           Undo last
         </Button>
       </div>
-      {current && saveCurrent && <ValveCard key={current.valve.id} checkId={checkId} engine={engine} view={current} sizes={sizes} step={step} onSave={saveCurrent} onRecorded={next} focusKey={focusCard?.valve === current.valve.id ? focusCard.n : 0} />}
+      {current && saveCurrent && (
+        <ValveCard
+          key={current.valve.id}
+          checkId={checkId}
+          engine={engine}
+          view={current}
+          sizes={sizes}
+          step={step}
+          onSave={saveCurrent}
+          onRecorded={next}
+          focusKey={focusCard?.valve === current.valve.id ? focusCard.n : 0}
+        />
+      )}
       <EngineDiagram views={views} facing={facingOf(engine)} onPick={pick} current={currentId} onTurn={onTurn} />
       <Button type="button" onClick={onDone} disabled={measured === 0} look={done ? "primary" : "plain"}>
         {done ? "All measured: see the shim plan" : "See the shim plan"}

@@ -21,7 +21,37 @@ import { facingOf } from "@/lib/check/diagram";
 const Worksheet = dynamic(() => import("./worksheet"), { ssr: false });
 
 /** Step 3: the diagram, the plan per valve, the buy list, borrowing, what goes back to the tray, print and CSV. */
-export function PlanStep({ engine, check, views, plan, error, onTurn, onFit, pool, fit, options, setOptions, bothAims = false, trayOtherSystem = 0, focusHeading = false }: { engine: LocalEngine; check: LocalCheck; views: ValveView[]; plan: ShimPlan | null; error: string | null; onTurn: () => void; onFit?: () => void; pool?: ReturnType<typeof usePool>; fit?: PoolFit; options?: PlanOptions; setOptions?: (o: PlanOptions) => void; bothAims?: boolean; trayOtherSystem?: number; focusHeading?: boolean }) {
+export function PlanStep({
+  engine,
+  check,
+  views,
+  plan,
+  error,
+  onTurn,
+  onFit,
+  pool,
+  fit,
+  options,
+  setOptions,
+  bothAims = false,
+  trayOtherSystem = 0,
+  focusHeading = false,
+}: {
+  engine: LocalEngine;
+  check: LocalCheck;
+  views: ValveView[];
+  plan: ShimPlan | null;
+  error: string | null;
+  onTurn: () => void;
+  onFit?: () => void;
+  pool?: ReturnType<typeof usePool>;
+  fit?: PoolFit;
+  options?: PlanOptions;
+  setOptions?: (o: PlanOptions) => void;
+  bothAims?: boolean;
+  trayOtherSystem?: number;
+  focusHeading?: boolean;
+}) {
   const [copied, setCopied] = useState(false);
   const headingRef = useFocusOnShow<HTMLHeadingElement>(focusHeading);
   const byId = new Map(views.map((v) => [v.valve.id, v]));
@@ -35,11 +65,21 @@ export function PlanStep({ engine, check, views, plan, error, onTurn, onFit, poo
       </h2>
       <Worksheet engine={engine} check={check} views={views} plan={plan} lenders={lenders} />
       <EngineDiagram views={views} facing={facingOf(engine)} onTurn={onTurn} />
-      {options && setOptions && <PlanAimChoice options={options} setOptions={setOptions} unit={engine.displayUnit} bothAims={!!plan && bothAims} plan={plan} />}
+      {options && setOptions && (
+        <PlanAimChoice
+          options={options}
+          setOptions={setOptions}
+          unit={engine.displayUnit}
+          bothAims={!!plan && bothAims}
+          plan={plan}
+        />
+      )}
       {error && <Notice tone="error">{error}</Notice>}
       {trayOtherSystem > 0 && (
         <Notice>
-          {trayOtherSystem} shim{trayOtherSystem === 1 ? "" : "s"} on the tray {trayOtherSystem === 1 ? "is" : "are"} for another shim diameter and {trayOtherSystem === 1 ? "is" : "are"} left out of this plan (the engine takes {engine.shimDiameter} mm).
+          {trayOtherSystem} shim{trayOtherSystem === 1 ? "" : "s"} on the tray {trayOtherSystem === 1 ? "is" : "are"}{" "}
+          for another shim diameter and {trayOtherSystem === 1 ? "is" : "are"} left out of this plan (the engine takes{" "}
+          {engine.shimDiameter} mm).
         </Notice>
       )}
       {!plan && !error && <Notice>Measure some valves first: the plan fills in as readings come in.</Notice>}
@@ -66,7 +106,16 @@ export function PlanStep({ engine, check, views, plan, error, onTurn, onFit, poo
                   type="button"
                   look="plain"
                   className="mt-2 print:hidden"
-                  onClick={() => navigator.clipboard?.writeText(`Shims for ${engine.name}${engine.shimDiameter ? ` (${engine.shimDiameter} mm diameter)` : ""}:\n${buyText}`).then(() => setCopied(true), () => setCopied(false))}
+                  onClick={() =>
+                    navigator.clipboard
+                      ?.writeText(
+                        `Shims for ${engine.name}${engine.shimDiameter ? ` (${engine.shimDiameter} mm diameter)` : ""}:\n${buyText}`,
+                      )
+                      .then(
+                        () => setCopied(true),
+                        () => setCopied(false),
+                      )
+                  }
                 >
                   {copied ? "✓ Copied" : "Copy as text"}
                 </Button>
@@ -78,7 +127,13 @@ export function PlanStep({ engine, check, views, plan, error, onTurn, onFit, poo
             <h2 id="tray-title" className="text-xl font-extrabold">
               Back to the tray
             </h2>
-            {plan.toTray.length === 0 ? <p className="text-ink-soft">Nothing: every shim that comes out is used again.</p> : <p className="figures text-lg">{plan.toTray.map((t) => `${t.count} × ${shimNumber(t.size)} mm`).join(", ")}</p>}
+            {plan.toTray.length === 0 ? (
+              <p className="text-ink-soft">Nothing: every shim that comes out is used again.</p>
+            ) : (
+              <p className="figures text-lg">
+                {plan.toTray.map((t) => `${t.count} × ${shimNumber(t.size)} mm`).join(", ")}
+              </p>
+            )}
           </section>
           <div className="flex flex-wrap gap-2 print:hidden">
             <Button type="button" look="plain" onClick={() => window.print()}>
@@ -92,7 +147,9 @@ export function PlanStep({ engine, check, views, plan, error, onTurn, onFit, poo
               Fit the {changing} change{changing === 1 ? "" : "s"}
             </Button>
           )}
-          {changing === 0 && plan.assignments.length === views.length && <Notice tone="ok">Every valve is in its band. Nothing to change.</Notice>}
+          {changing === 0 && plan.assignments.length === views.length && (
+            <Notice tone="ok">Every valve is in its band. Nothing to change.</Notice>
+          )}
         </>
       )}
     </section>
@@ -104,12 +161,24 @@ function CamsLine({ engine, plan }: { engine: LocalEngine; plan: ShimPlan }) {
   if (!engine.shimPosition) return <ShimPositionAsk engine={engine} />;
   const valves = plan.assignments.filter((a) => a.source.kind !== "keep").map((a) => a.valveId);
   return (
-    <section aria-labelledby="cams-title" className="rounded-2xl border-2 border-line bg-surface p-4" data-testid="plan-cams-out">
+    <section
+      aria-labelledby="cams-title"
+      className="rounded-2xl border-2 border-line bg-surface p-4"
+      data-testid="plan-cams-out"
+    >
       <h2 id="cams-title" className="text-xl font-extrabold">
         {SHIM_POSITION_WORDS[engine.shimPosition].short}
       </h2>
-      <p className="text-lg font-bold">{engine.shimPosition === "under" ? camsOutWords(camsOut({ shimPosition: "under", valves })) : "Cams stay in: each shim comes out over its bucket with the bucket tool."}</p>
-      {engine.shimPosition === "under" && <p className="text-ink-soft">The cams go back in time with the marks aligned; the Fit step takes you through it.</p>}
+      <p className="text-lg font-bold">
+        {engine.shimPosition === "under"
+          ? camsOutWords(camsOut({ shimPosition: "under", valves }))
+          : "Cams stay in: each shim comes out over its bucket with the bucket tool."}
+      </p>
+      {engine.shimPosition === "under" && (
+        <p className="text-ink-soft">
+          The cams go back in time with the marks aligned; the Fit step takes you through it.
+        </p>
+      )}
     </section>
   );
 }
@@ -125,7 +194,19 @@ function bothAimsWords(plan: ShimPlan | null): string {
 }
 
 /** How the plan chooses: buy the fewest shims or land nearest the target, and how far to keep from the tight edge. */
-function PlanAimChoice({ options, setOptions, unit, bothAims, plan }: { options: PlanOptions; setOptions: (o: PlanOptions) => void; unit: "mm" | "in"; bothAims: boolean; plan: ShimPlan | null }) {
+function PlanAimChoice({
+  options,
+  setOptions,
+  unit,
+  bothAims,
+  plan,
+}: {
+  options: PlanOptions;
+  setOptions: (o: PlanOptions) => void;
+  unit: "mm" | "in";
+  bothAims: boolean;
+  plan: ShimPlan | null;
+}) {
   return (
     <fieldset className="flex flex-col gap-2 rounded-2xl border border-line bg-surface p-3 print:hidden">
       <legend className="px-1 font-extrabold">The plan aims to</legend>
@@ -136,14 +217,26 @@ function PlanAimChoice({ options, setOptions, unit, bothAims, plan }: { options:
             ["nearest-target", "Land nearest the target"],
           ] as const
         ).map(([aim, label]) => (
-          <label key={aim} className={`flex min-h-12 items-center gap-2 rounded-xl border-2 px-2 font-bold ${options.aim === aim ? "border-accent" : "border-line"}`}>
-            <input type="radio" name="plan-aim" className="h-5 w-5" checked={options.aim === aim} onChange={() => setOptions({ ...options, aim })} />
+          <label
+            key={aim}
+            className={`flex min-h-12 items-center gap-2 rounded-xl border-2 px-2 font-bold ${options.aim === aim ? "border-accent" : "border-line"}`}
+          >
+            <input
+              type="radio"
+              name="plan-aim"
+              className="h-5 w-5"
+              checked={options.aim === aim}
+              onChange={() => setOptions({ ...options, aim })}
+            />
             {label}
           </label>
         ))}
       </div>
       {/* a lender is a trip (to collect and to give back), so borrowing is not free */}
-      <p className="text-sm text-ink-soft">Each lender to ask counts as one trip, like one shim bought; when two plans are even, the one with fewer lenders is chosen.</p>
+      <p className="text-sm text-ink-soft">
+        Each lender to ask counts as one trip, like one shim bought; when two plans are even, the one with fewer lenders
+        is chosen.
+      </p>
       {bothAims && (
         <p className="text-sm font-bold" data-testid="both-aims">
           {bothAimsWords(plan)}
@@ -151,7 +244,11 @@ function PlanAimChoice({ options, setOptions, unit, bothAims, plan }: { options:
       )}
       <label className="flex flex-wrap items-center gap-2 text-sm font-bold">
         Keep new shims clear of the tight edge by
-        <select value={options.tightMargin} onChange={(e) => setOptions({ ...options, tightMargin: Number(e.target.value) })} className="figures min-h-12 rounded-xl border-2 border-field bg-surface px-2 text-base">
+        <select
+          value={options.tightMargin}
+          onChange={(e) => setOptions({ ...options, tightMargin: Number(e.target.value) })}
+          className="figures min-h-12 rounded-xl border-2 border-field bg-surface px-2 text-base"
+        >
           {MARGINS.map((m) => (
             <option key={m} value={m}>
               {m === 0 ? "nothing" : formatLength(m, unit)}

@@ -16,7 +16,8 @@ const col = createColumnHelper<Row>();
 /** A shim size as its series names it: 2.525 from a 0.025 mm series stays 2.525, never 2.53. */
 const shimText = (mm: number) => shimNumber(mm);
 /** The shim in the bucket now: a micrometer reading to 0.001 mm, a stamp as it is marked. */
-const nowText = (v: ValveView | undefined) => (v?.installed != null ? shimNumber(v.installed, v.latest?.installedMicrometer != null) : "—");
+const nowText = (v: ValveView | undefined) =>
+  v?.installed != null ? shimNumber(v.installed, v.latest?.installedMicrometer != null) : "—";
 
 /** The valve column stays put while the rest scrolls sideways, so "Gives" is never read without its valve. */
 // The box has no left padding (scrolled cells would show through it): the pinned cells carry it.
@@ -26,7 +27,15 @@ const PINNED = "sticky left-0 z-10 bg-bg pl-4";
  * Only the valves that change, one line each ("I3.1: 2.50 to 2.60, buy"): what a phone at the bench
  * needs without scrolling a wide table sideways.
  */
-export function PlanChanges({ plan, byId, lenders }: { plan: ShimPlan; byId: Map<string, ValveView>; lenders?: Map<string, string> }) {
+export function PlanChanges({
+  plan,
+  byId,
+  lenders,
+}: {
+  plan: ShimPlan;
+  byId: Map<string, ValveView>;
+  lenders?: Map<string, string>;
+}) {
   const changed = plan.assignments.filter((a) => a.source.kind !== "keep");
   if (changed.length === 0) return <p className="font-bold text-ok">✓ Every valve keeps its shim.</p>;
   return (
@@ -40,7 +49,8 @@ export function PlanChanges({ plan, byId, lenders }: { plan: ShimPlan; byId: Map
           const now = nowText(v);
           return (
             <li key={a.valveId}>
-              <strong>{a.valveId}</strong>: {now} to <strong>{shimText(a.size)}</strong>, {sourceWords(a.source, lenders)}
+              <strong>{a.valveId}</strong>: {now} to <strong>{shimText(a.size)}</strong>,{" "}
+              {sourceWords(a.source, lenders)}
             </li>
           );
         })}
@@ -50,15 +60,41 @@ export function PlanChanges({ plan, byId, lenders }: { plan: ShimPlan; byId: Map
 }
 
 /** The plan per valve: shim now, clearance, target, new shim, predicted clearance, and its source. */
-export function PlanTable({ engine, plan, byId, lenders }: { engine: LocalEngine; plan: ShimPlan; byId: Map<string, ValveView>; lenders?: Map<string, string> }) {
+export function PlanTable({
+  engine,
+  plan,
+  byId,
+  lenders,
+}: {
+  engine: LocalEngine;
+  plan: ShimPlan;
+  byId: Map<string, ValveView>;
+  lenders?: Map<string, string>;
+}) {
   const unit = engine.displayUnit;
   const columns = [
     col.accessor((r) => r.a.valveId, { id: "valve", header: "Valve", cell: (c) => <strong>{c.getValue()}</strong> }),
     col.accessor((r) => r.v.installed, { id: "now", header: "Shim now", cell: (c) => nowText(c.row.original.v) }),
-    col.accessor((r) => r.v.measured, { id: "clearance", header: "Clearance", cell: (c) => (c.getValue() != null ? formatLength(c.getValue()!, unit) : "—") }),
-    col.accessor((r) => r.v.spec.target ?? (r.v.spec.min + r.v.spec.max) / 2, { id: "target", header: "Target", cell: (c) => formatLength(c.getValue(), unit) }),
-    col.accessor((r) => r.a, { id: "new", header: "New shim", cell: (c) => <strong>{c.getValue().source.kind === "keep" ? "—" : shimText(c.getValue().size)}</strong> }),
-    col.accessor((r) => r.a, { id: "gives", header: "Gives", cell: (c) => `${formatLength(c.getValue().predicted, unit)} ${c.getValue().inSpec ? "✓" : "✕ out of band"}` }),
+    col.accessor((r) => r.v.measured, {
+      id: "clearance",
+      header: "Clearance",
+      cell: (c) => (c.getValue() != null ? formatLength(c.getValue()!, unit) : "—"),
+    }),
+    col.accessor((r) => r.v.spec.target ?? (r.v.spec.min + r.v.spec.max) / 2, {
+      id: "target",
+      header: "Target",
+      cell: (c) => formatLength(c.getValue(), unit),
+    }),
+    col.accessor((r) => r.a, {
+      id: "new",
+      header: "New shim",
+      cell: (c) => <strong>{c.getValue().source.kind === "keep" ? "—" : shimText(c.getValue().size)}</strong>,
+    }),
+    col.accessor((r) => r.a, {
+      id: "gives",
+      header: "Gives",
+      cell: (c) => `${formatLength(c.getValue().predicted, unit)} ${c.getValue().inSpec ? "✓" : "✕ out of band"}`,
+    }),
     col.accessor((r) => r.a.source, {
       id: "from",
       header: "From",

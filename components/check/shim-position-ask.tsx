@@ -24,11 +24,17 @@ export function ShimPositionAsk({ engine }: { engine: LocalEngine }) {
     }
   };
   return (
-    <section aria-labelledby="position-ask" className="flex flex-col gap-2 rounded-2xl border-2 border-tight p-3" data-testid="shim-position-ask">
+    <section
+      aria-labelledby="position-ask"
+      className="flex flex-col gap-2 rounded-2xl border-2 border-tight p-3"
+      data-testid="shim-position-ask"
+    >
       <h3 id="position-ask" className="text-lg font-extrabold">
         Where do this engine&apos;s shims sit?
       </h3>
-      <p className="text-sm text-ink-soft">The profile does not say yet. Fitting differs: under the bucket, the cams come out. The manual says which.</p>
+      <p className="text-sm text-ink-soft">
+        The profile does not say yet. Fitting differs: under the bucket, the cams come out. The manual says which.
+      </p>
       {(["over", "under"] as const).map((p) => (
         <Button key={p} type="button" look="plain" className="justify-start text-left" onClick={() => void choose(p)}>
           {SHIM_POSITION_WORDS[p].long}

@@ -32,22 +32,38 @@ export function useCheckData(id: string): CheckData | null | undefined {
     if (!db) return undefined;
     const check = await db.checks.get(id);
     if (!check) return null;
-    const [engine, tray, checks] = await Promise.all([db.engines.get(check.engineId), db.tray.toArray(), db.checks.where("engineId").equals(check.engineId).toArray()]);
+    const [engine, tray, checks] = await Promise.all([
+      db.engines.get(check.engineId),
+      db.tray.toArray(),
+      db.checks.where("engineId").equals(check.engineId).toArray(),
+    ]);
     if (!engine) return null;
     const before = previousCheck(check, checks);
     const previous = lastShims(before ? await db.readings.where("checkId").equals(before.id).toArray() : []);
-    const laterClosed = checks.filter((c) => c.id !== check.id && c.status === "closed" && c.odometer > check.odometer).sort((a, b) => b.odometer - a.odometer)[0] ?? null;
+    const laterClosed =
+      checks
+        .filter((c) => c.id !== check.id && c.status === "closed" && c.odometer > check.odometer)
+        .sort((a, b) => b.odometer - a.odometer)[0] ?? null;
     return { check, engine, tray, previous, laterClosed };
   }, [db, id]);
-  const readings = useLiveQuery(async () => (db ? db.readings.where("checkId").equals(id).toArray() : undefined), [db, id]);
-  return useMemo(() => (rest === null ? null : rest === undefined || readings === undefined ? undefined : { ...rest, readings }), [rest, readings]);
+  const readings = useLiveQuery(
+    async () => (db ? db.readings.where("checkId").equals(id).toArray() : undefined),
+    [db, id],
+  );
+  return useMemo(
+    () => (rest === null ? null : rest === undefined || readings === undefined ? undefined : { ...rest, readings }),
+    [rest, readings],
+  );
 }
 
 /** What every step reads from the data: the engine's shim sizes and series step, and each valve's view. */
 export function useCheckModel({ engine, readings, previous }: Pick<CheckData, "engine" | "readings" | "previous">) {
   const sizes = useMemo(() => engineSizes(engine), [engine]);
   const seriesStep = "step" in engine.shims ? engine.shims.step : 0.05;
-  const views: ValveView[] = useMemo(() => valveViews(engine, readings, (v) => previous.get(v) ?? engine.assembledShim), [engine, readings, previous]);
+  const views: ValveView[] = useMemo(
+    () => valveViews(engine, readings, (v) => previous.get(v) ?? engine.assembledShim),
+    [engine, readings, previous],
+  );
   return { sizes, seriesStep, views };
 }
 

@@ -12,7 +12,10 @@ import { inputClass } from "@/components/ui/controls";
 // finger and moves the buttons below it, so a tap lands on something else
 import { PhotoStrip } from "@/components/photos/photo-strip";
 
-export type ReadingEntry = Pick<LocalReading, "installedStamp" | "installedMicrometer" | "feelerGo" | "feelerNoGo" | "measured" | "method">;
+export type ReadingEntry = Pick<
+  LocalReading,
+  "installedStamp" | "installedMicrometer" | "feelerGo" | "feelerNoGo" | "measured" | "method"
+>;
 
 /**
  * One valve: the shim in it (a stepper of one series step, or a micrometer reading), the feeler
@@ -58,7 +61,13 @@ function sameView(a: ValveView, b: ValveView) {
 }
 
 /** what a reading says, in words: the state's glyph and word, and for one out of band the shim it needs */
-function resultWords(view: ValveView, measured: number, installed: number, sizes: number[], unit: LocalEngine["displayUnit"]): string {
+function resultWords(
+  view: ValveView,
+  measured: number,
+  installed: number,
+  sizes: number[],
+  unit: LocalEngine["displayUnit"],
+): string {
   const state = measuredState(measured, view.spec, view.nextRound);
   const s = STATE_WORDS[state];
   if (state === "in-band") return `${s.glyph} in band`;
@@ -78,7 +87,25 @@ function resultWords(view: ValveView, measured: number, installed: number, sizes
  * focusKey: a new number asks the card to take focus (its heading), as when its valve was picked on
  * the diagram.
  */
-function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded, focusKey = 0 }: { checkId: string; engine: LocalEngine; view: ValveView; sizes: number[]; step: number; onSave: (r: ReadingEntry) => Promise<unknown>; onRecorded?: (said: string, byKeyboard: boolean) => void; focusKey?: number }) {
+function ValveCardBody({
+  checkId,
+  engine,
+  view,
+  sizes,
+  step,
+  onSave,
+  onRecorded,
+  focusKey = 0,
+}: {
+  checkId: string;
+  engine: LocalEngine;
+  view: ValveView;
+  sizes: number[];
+  step: number;
+  onSave: (r: ReadingEntry) => Promise<unknown>;
+  onRecorded?: (said: string, byKeyboard: boolean) => void;
+  focusKey?: number;
+}) {
   const heading = useRef<HTMLHeadingElement>(null);
   useEffect(() => {
     if (focusKey > 0) heading.current?.focus();
@@ -119,8 +146,16 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded,
     // performance marks: npm run bench times a tap to the reading stored and shown
     const valve = view.valve.id;
     performance.mark("lw:tap", { detail: valve });
-    void save({ feelerGo: c.min, feelerNoGo: noGo ?? null, measured: c.value, method: "feeler" }).then(() => performance.mark("lw:stored", { detail: valve }));
-    onRecorded?.(said(foundWords({ measured: c.value, method: "feeler", feelerGo: c.min, feelerNoGo: noGo ?? null }, unit), c.value), e.detail === 0);
+    void save({ feelerGo: c.min, feelerNoGo: noGo ?? null, measured: c.value, method: "feeler" }).then(() =>
+      performance.mark("lw:stored", { detail: valve }),
+    );
+    onRecorded?.(
+      said(
+        foundWords({ measured: c.value, method: "feeler", feelerGo: c.min, feelerNoGo: noGo ?? null }, unit),
+        c.value,
+      ),
+      e.detail === 0,
+    );
   };
   const saveTyped = () => {
     const value = Number(typed.replace(",", "."));
@@ -144,7 +179,12 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded,
         : "not measured yet";
 
   return (
-    <article id={`valve-${view.valve.id}`} data-valve={view.valve.id} aria-label={valveLabel(view.valve, per)} className="flex flex-col gap-3 rounded-2xl border border-line bg-surface p-3">
+    <article
+      id={`valve-${view.valve.id}`}
+      data-valve={view.valve.id}
+      aria-label={valveLabel(view.valve, per)}
+      className="flex flex-col gap-3 rounded-2xl border border-line bg-surface p-3"
+    >
       {/* the heading and the band each stay whole: the band goes under the heading when both do not fit */}
       <header className="flex flex-wrap items-baseline justify-between gap-x-2">
         <h3 ref={heading} tabIndex={-1} className="text-xl font-extrabold whitespace-nowrap">
@@ -156,20 +196,36 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded,
       </header>
       <div className="flex flex-wrap items-center gap-2">
         <span className="w-12 text-sm font-bold text-ink-soft">Shim</span>
-        <button type="button" aria-label={`Thinner shim for ${view.valve.id}`} onClick={() => stepShim(-1)} className="min-h-12 min-w-12 rounded-xl border-2 border-line text-2xl font-bold">
+        <button
+          type="button"
+          aria-label={`Thinner shim for ${view.valve.id}`}
+          onClick={() => stepShim(-1)}
+          className="min-h-12 min-w-12 rounded-xl border-2 border-line text-2xl font-bold"
+        >
           −
         </button>
         {/* a changed shim is read out where it is shown; an unset one says so in words */}
-        <span aria-live="polite" className={`figures min-w-24 text-center ${stamp != null ? "text-2xl font-extrabold" : "text-base font-bold text-ink-soft"}`} data-testid={`shim-${view.valve.id}`}>
+        <span
+          aria-live="polite"
+          className={`figures min-w-24 text-center ${stamp != null ? "text-2xl font-extrabold" : "text-base font-bold text-ink-soft"}`}
+          data-testid={`shim-${view.valve.id}`}
+        >
           {stamp != null ? shimNumber(stamp, step < 0.05) : "not set"}
         </span>
-        <button type="button" aria-label={`Thicker shim for ${view.valve.id}`} onClick={() => stepShim(1)} className="min-h-12 min-w-12 rounded-xl border-2 border-line text-2xl font-bold">
+        <button
+          type="button"
+          aria-label={`Thicker shim for ${view.valve.id}`}
+          onClick={() => stepShim(1)}
+          className="min-h-12 min-w-12 rounded-xl border-2 border-line text-2xl font-bold"
+        >
           +
         </button>
         {stamp != null && <span className="text-sm text-ink-soft">mm</span>}
       </div>
       <details>
-        <summary className="min-h-12 cursor-pointer py-3 text-sm font-bold text-ink-soft">Micrometer thickness {micrometer != null ? `(${shimNumber(micrometer, true)} mm)` : ""}</summary>
+        <summary className="min-h-12 cursor-pointer py-3 text-sm font-bold text-ink-soft">
+          Micrometer thickness {micrometer != null ? `(${shimNumber(micrometer, true)} mm)` : ""}
+        </summary>
         <form
           className="flex gap-2"
           onSubmit={(e) => {
@@ -177,7 +233,14 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded,
             void save({ installedMicrometer: mic.trim() ? Number(mic.replace(",", ".")) : null });
           }}
         >
-          <input aria-label={`Micrometer thickness of ${view.valve.id} in mm`} inputMode="decimal" enterKeyHint="done" value={mic} onChange={(e) => setMic(e.target.value)} className={`${inputClass} figures w-32`} />
+          <input
+            aria-label={`Micrometer thickness of ${view.valve.id} in mm`}
+            inputMode="decimal"
+            enterKeyHint="done"
+            value={mic}
+            onChange={(e) => setMic(e.target.value)}
+            className={`${inputClass} figures w-32`}
+          />
           <button type="submit" className="min-h-12 rounded-xl border-2 border-line px-4 font-bold">
             Use
           </button>
@@ -185,14 +248,24 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded,
       </details>
       <div>
         <p className="mb-1 text-sm font-bold text-ink-soft">Tap the blade that goes ({unit})</p>
-        <div role="group" aria-label={`Feeler blades for ${view.valve.id}`} className="grid grid-cols-[repeat(auto-fill,minmax(3rem,1fr))] gap-2">
+        <div
+          role="group"
+          aria-label={`Feeler blades for ${view.valve.id}`}
+          className="grid grid-cols-[repeat(auto-fill,minmax(3rem,1fr))] gap-2"
+        >
           {blades.map((b) => {
             const on = base.method === "feeler" && base.feelerGo != null && Math.abs(base.feelerGo - b) < 1e-9;
             const inBand = b >= view.spec.min - 1e-9 && b <= view.spec.max + 1e-9;
             // the blade's own label (an inch blade without its leading zero, to fit six across)
             const label = unit === "in" ? lengthNumber(b, "in").replace(/^0/, "") : lengthNumber(b, "mm");
             return (
-              <button key={b} type="button" aria-pressed={on} onClick={(e) => tapBlade(b, e)} className={`figures min-h-12 min-w-0 rounded-xl border-2 px-0.5 font-bold ${unit === "in" ? "text-sm" : "text-base"} ${on ? "border-accent bg-accent text-accent-ink" : inBand ? "border-ok" : "border-line"}`}>
+              <button
+                key={b}
+                type="button"
+                aria-pressed={on}
+                onClick={(e) => tapBlade(b, e)}
+                className={`figures min-h-12 min-w-0 rounded-xl border-2 px-0.5 font-bold ${unit === "in" ? "text-sm" : "text-base"} ${on ? "border-accent bg-accent text-accent-ink" : inBand ? "border-ok" : "border-line"}`}
+              >
                 {label}
               </button>
             );
@@ -210,7 +283,14 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded,
               saveTyped();
             }}
           >
-            <input aria-label={`Typed clearance of ${view.valve.id} in mm`} inputMode="decimal" enterKeyHint="done" value={typed} onChange={(e) => setTyped(e.target.value)} className={`${inputClass} figures w-32`} />
+            <input
+              aria-label={`Typed clearance of ${view.valve.id} in mm`}
+              inputMode="decimal"
+              enterKeyHint="done"
+              value={typed}
+              onChange={(e) => setTyped(e.target.value)}
+              className={`${inputClass} figures w-32`}
+            />
             <button type="submit" className="min-h-12 rounded-xl border-2 border-line px-4 font-bold">
               Save
             </button>
@@ -219,12 +299,20 @@ function ValveCardBody({ checkId, engine, view, sizes, step, onSave, onRecorded,
       </div>
       {/* on the re-check the card stays after a reading and says the result itself; the measuring
           step moves on to the next valve and says it in its own live region */}
-      <p className="figures text-base" data-testid={`result-${view.valve.id}`} aria-live={onRecorded ? undefined : "polite"}>
+      <p
+        className="figures text-base"
+        data-testid={`result-${view.valve.id}`}
+        aria-live={onRecorded ? undefined : "polite"}
+      >
         <span className="text-ink-soft">{interval}</span>
         {result && <strong className="block text-lg">{result}</strong>}
       </p>
       {measured != null && (
-        <button type="button" onClick={() => void save({ feelerGo: null, feelerNoGo: null, measured: null, method: "feeler" })} className="min-h-12 self-start text-sm font-bold underline">
+        <button
+          type="button"
+          onClick={() => void save({ feelerGo: null, feelerNoGo: null, measured: null, method: "feeler" })}
+          className="min-h-12 self-start text-sm font-bold underline"
+        >
           Clear this reading
         </button>
       )}

@@ -26,7 +26,11 @@ function openWords(open: ValveView[]) {
   const waiting = open.filter((v) => v.state === "fitted").length;
   const out = open.filter((v) => v.state === "tight" || v.state === "loose").length;
   const never = open.filter((v) => v.state === "unmeasured").length;
-  const parts = [waiting && `${valves(waiting)} to re-measure`, out && `${valves(out)} out of band: plan again, or close the check with them noted`, never && `${valves(never)} never measured`].filter(Boolean);
+  const parts = [
+    waiting && `${valves(waiting)} to re-measure`,
+    out && `${valves(out)} out of band: plan again, or close the check with them noted`,
+    never && `${valves(never)} never measured`,
+  ].filter(Boolean);
   return `${parts.join("; ")}.`;
 }
 
@@ -35,11 +39,22 @@ function openWords(open: ValveView[]) {
  * the rotation guide that has a changed valve, headed by the same guide (turn to where, and which of
  * the changed valves to measure there), numbered among the positions this re-check needs.
  */
-function ByPosition({ engine, changed, render }: { engine: LocalEngine; changed: ValveView[]; render: (v: ValveView) => ReactNode }) {
+function ByPosition({
+  engine,
+  changed,
+  render,
+}: {
+  engine: LocalEngine;
+  changed: ValveView[];
+  render: (v: ValveView) => ReactNode;
+}) {
   const order = useMemo(() => measuringOrder(engine), [engine]);
   const byId = new Map(changed.map((v) => [v.valve.id, v]));
   const groups = order.positions
-    .map((p, position) => ({ p, views: order.stops.filter((s) => s.position === position && byId.has(s.valveId)).map((s) => byId.get(s.valveId)!) }))
+    .map((p, position) => ({
+      p,
+      views: order.stops.filter((s) => s.position === position && byId.has(s.valveId)).map((s) => byId.get(s.valveId)!),
+    }))
     .filter((g) => g.views.length > 0);
   if (order.positions.length === 0) return <>{changed.map(render)}</>;
   return (
@@ -49,7 +64,12 @@ function ByPosition({ engine, changed, render }: { engine: LocalEngine; changed:
         const here = new Set(g.views.map((v) => `${v.valve.kind}${v.valve.cylinder}`));
         const step = { ...g.p, valves: g.p.valves.filter((r) => here.has(`${r.kind}${r.cylinder}`)) };
         return (
-          <section key={g.p.crankAngle} aria-label={`Position ${n + 1} of ${groups.length}`} data-testid="recheck-position" className="flex flex-col gap-3">
+          <section
+            key={g.p.crankAngle}
+            aria-label={`Position ${n + 1} of ${groups.length}`}
+            data-testid="recheck-position"
+            className="flex flex-col gap-3"
+          >
             <PositionGuide at={n} of={groups.length} step={step} level={3} />
             {g.views.map(render)}
           </section>
@@ -60,25 +80,51 @@ function ByPosition({ engine, changed, render }: { engine: LocalEngine; changed:
 }
 
 /** Step 5: re-measure the valves of this fit until all are in band, or close with the open ones noted. */
-export function VerifyStep({ engine, views, sizes, step, save, check, focusHeading = false }: { engine: LocalEngine; views: ValveView[]; sizes: number[]; step: number; save: (v: ValveView) => (r: ReadingEntry) => Promise<void>; check: LocalCheck; focusHeading?: boolean }) {
+export function VerifyStep({
+  engine,
+  views,
+  sizes,
+  step,
+  save,
+  check,
+  focusHeading = false,
+}: {
+  engine: LocalEngine;
+  views: ValveView[];
+  sizes: number[];
+  step: number;
+  save: (v: ValveView) => (r: ReadingEntry) => Promise<void>;
+  check: LocalCheck;
+  focusHeading?: boolean;
+}) {
   const headingRef = useFocusOnShow<HTMLHeadingElement>(focusHeading);
   const { db } = useLocalCore();
   const router = useRouter();
   const changed = recheckValves(views);
   const open = openValves(views);
-  const order = useLiveQuery(async () => (db ? ((await getMeta<WorkOrderState>(db, workOrderKey(check.id))) ?? null) : undefined), [db, check.id]);
+  const order = useLiveQuery(
+    async () => (db ? ((await getMeta<WorkOrderState>(db, workOrderKey(check.id))) ?? null) : undefined),
+    [db, check.id],
+  );
   // after an under-bucket fit the cams went back in: two crank turns by hand and the marks checked
   // again come before the first reading of the re-check (common practice; from memory)
   const readingStarted = changed.some((v) => v.state !== "fitted");
-  const mustTurn = engine.shimPosition === "under" && !!order && order.moves.length > 0 && !order.turned && !readingStarted;
+  const mustTurn =
+    engine.shimPosition === "under" && !!order && order.moves.length > 0 && !order.turned && !readingStarted;
   // a mentor who said "measure again" or "stop and ask" is named before the check is closed over it
-  const shares = useQuery({ queryKey: queryKeys.shares(check.id), queryFn: () => fetchers.shares(check.id), retry: false });
+  const shares = useQuery({
+    queryKey: queryKeys.shares(check.id),
+    queryFn: () => fetchers.shares(check.id),
+    retry: false,
+  });
   const held = (shares.data ?? []).find((s) => !s.withdrawnAt && s.verdict && s.verdict !== "close-up");
   const [asking, setAsking] = useState(false);
   const close = async () => {
     if (!db) return;
     if (held && !asking) return setAsking(true);
-    const note = open.length ? `Closed with ${open.map((v) => `${v.valve.id} (${v.state})`).join(", ")} still open.` : check.notes;
+    const note = open.length
+      ? `Closed with ${open.map((v) => `${v.valve.id} (${v.state})`).join(", ")} still open.`
+      : check.notes;
     await saveCheck(db, { ...check, status: "closed", notes: note ?? null });
     router.push(`/engine?id=${engine.id}`);
   };
@@ -90,7 +136,13 @@ export function VerifyStep({ engine, views, sizes, step, save, check, focusHeadi
       {changed.length === 0 && <Notice>No valve has been changed in this check.</Notice>}
       {engine.shimPosition === "under" && order && order.moves.length > 0 && !readingStarted && (
         <div data-testid="recheck-turn" className="flex flex-col gap-1">
-          <button type="button" role="checkbox" aria-checked={!!order.turned} onClick={() => db && void setTurned(db, check.id, !order.turned)} className={`flex min-h-16 w-full items-center gap-3 rounded-xl border-2 p-3 text-left ${order.turned ? "border-ok" : "border-tight"}`}>
+          <button
+            type="button"
+            role="checkbox"
+            aria-checked={!!order.turned}
+            onClick={() => db && void setTurned(db, check.id, !order.turned)}
+            className={`flex min-h-16 w-full items-center gap-3 rounded-xl border-2 p-3 text-left ${order.turned ? "border-ok" : "border-tight"}`}
+          >
             <span aria-hidden className="text-2xl">
               {order.turned ? "☑" : "☐"}
             </span>
@@ -105,13 +157,36 @@ export function VerifyStep({ engine, views, sizes, step, save, check, focusHeadi
       {engine.shimPosition === "under" && order === undefined ? null : mustTurn ? (
         <Notice>Tick the two-turn check first: the valves to measure again show once it is done.</Notice>
       ) : (
-        <ByPosition engine={engine} changed={changed} render={(v) => <ValveCard key={v.valve.id} checkId={check.id} engine={engine} view={v} sizes={sizes} step={step} onSave={save(v)} />} />
+        <ByPosition
+          engine={engine}
+          changed={changed}
+          render={(v) => (
+            <ValveCard
+              key={v.valve.id}
+              checkId={check.id}
+              engine={engine}
+              view={v}
+              sizes={sizes}
+              step={step}
+              onSave={save(v)}
+            />
+          )}
+        />
       )}
-      {open.length === 0 ? <Notice tone="ok">✓ Every valve is in its band.</Notice> : <Notice>{openWords(open)}</Notice>}
+      {open.length === 0 ? (
+        <Notice tone="ok">✓ Every valve is in its band.</Notice>
+      ) : (
+        <Notice>{openWords(open)}</Notice>
+      )}
       {asking && held?.verdict ? (
-        <div role="alertdialog" aria-labelledby="close-ask" className="flex flex-col gap-2 rounded-2xl border-2 border-tight p-3">
+        <div
+          role="alertdialog"
+          aria-labelledby="close-ask"
+          className="flex flex-col gap-2 rounded-2xl border-2 border-tight p-3"
+        >
           <p id="close-ask" className="font-bold">
-            The club&apos;s verdict on this check is “{VERDICTS[held.verdict].glyph} {VERDICTS[held.verdict].word}”. Close it anyway?
+            The club&apos;s verdict on this check is “{VERDICTS[held.verdict].glyph} {VERDICTS[held.verdict].word}”.
+            Close it anyway?
           </p>
           <div className="flex flex-wrap gap-2">
             <Button type="button" look="plain" onClick={() => setAsking(false)}>
@@ -123,7 +198,12 @@ export function VerifyStep({ engine, views, sizes, step, save, check, focusHeadi
           </div>
         </div>
       ) : (
-        <Button type="button" onClick={close} look={open.length ? "plain" : "primary"} disabled={shares.isPending && shares.fetchStatus === "fetching"}>
+        <Button
+          type="button"
+          onClick={close}
+          look={open.length ? "plain" : "primary"}
+          disabled={shares.isPending && shares.fetchStatus === "fetching"}
+        >
           {open.length ? "Close the check with open items noted" : "Close the check"}
         </Button>
       )}

@@ -12,19 +12,41 @@ import type { LocalCheck, LocalEngine } from "@/lib/sync/local-db";
  * mounted straight under <body> and is the only thing the print style shows (app/globals.css), so
  * no button, step tab or navigation reaches the paper. Blank columns take the re-measures by hand.
  */
-export default function Worksheet({ engine, check, views, plan, lenders }: { engine: LocalEngine; check: LocalCheck; views: ValveView[]; plan: ShimPlan | null; lenders?: Map<string, string> }) {
+export default function Worksheet({
+  engine,
+  check,
+  views,
+  plan,
+  lenders,
+}: {
+  engine: LocalEngine;
+  check: LocalCheck;
+  views: ValveView[];
+  plan: ShimPlan | null;
+  lenders?: Map<string, string>;
+}) {
   const unit = engine.displayUnit;
-  const fine = "step" in engine.shims ? engine.shims.step < 0.05 : engine.shims.sizes.some((s) => Math.round(s * 1000) % 10 !== 0);
+  const fine =
+    "step" in engine.shims ? engine.shims.step < 0.05 : engine.shims.sizes.some((s) => Math.round(s * 1000) % 10 !== 0);
   // each value as it was entered or measured (lib/lash/units.ts): a typed 0.075 stays 0.075
-  const shim = (s: number | null | undefined, micrometer = false) => (s == null ? "" : shimNumber(s, fine || micrometer));
+  const shim = (s: number | null | undefined, micrometer = false) =>
+    s == null ? "" : shimNumber(s, fine || micrometer);
   const len = (x: number | null | undefined) => (x == null ? "" : lengthNumber(x, unit));
   const byValve = new Map(plan?.assignments.map((a) => [a.valveId, a]) ?? []);
   // the phone's and the review's drawing order, so a shim read off the paper goes into the bucket the phone showed
   const drawn = drawingOrder(views, facingOf(engine));
   const sideName = (k: "intake" | "exhaust") => (k === "intake" ? "Intake side" : "Exhaust side");
-  const band = (s: ValveView["spec"]) => `${len(s.min)}–${len(s.max)}${s.target != null ? ` (target ${len(s.target)})` : ""}`;
-  const series = "step" in engine.shims ? `${shim(engine.shims.min)} to ${shim(engine.shims.max)} mm in ${engine.shims.step} mm steps` : `${engine.shims.sizes.length} sizes, ${shim(Math.min(...engine.shims.sizes))} to ${shim(Math.max(...engine.shims.sizes))} mm`;
-  const date = new Date(check.startedAt).toLocaleDateString("en-GB", { day: "numeric", month: "short", year: "numeric" });
+  const band = (s: ValveView["spec"]) =>
+    `${len(s.min)}–${len(s.max)}${s.target != null ? ` (target ${len(s.target)})` : ""}`;
+  const series =
+    "step" in engine.shims
+      ? `${shim(engine.shims.min)} to ${shim(engine.shims.max)} mm in ${engine.shims.step} mm steps`
+      : `${engine.shims.sizes.length} sizes, ${shim(Math.min(...engine.shims.sizes))} to ${shim(Math.max(...engine.shims.sizes))} mm`;
+  const date = new Date(check.startedAt).toLocaleDateString("en-GB", {
+    day: "numeric",
+    month: "short",
+    year: "numeric",
+  });
   const cell = (v: ValveView) => {
     const a = byValve.get(v.valve.id);
     const s = STATE_WORDS[v.state];
@@ -43,8 +65,15 @@ export default function Worksheet({ engine, check, views, plan, lenders }: { eng
   const position = engine.shimPosition;
   const changing = plan?.assignments.filter((a) => a.source.kind !== "keep").map((a) => a.valveId) ?? [];
   // the cams to take out, before anyone starts (an under-bucket engine); over the bucket they stay in
-  const cams = position === "under" ? camsOutWords(camsOut({ shimPosition: "under", valves: changing })) : position === "over" ? "Cams stay in: each shim comes out over its bucket with the bucket tool." : "Say in the engine's profile where the shims sit before fitting.";
-  const borrow = plan?.borrow.map((b) => `${b.count} × ${shim(b.size)} from ${lenders?.get(b.ownerId) ?? "a club member"}`).join(", ");
+  const cams =
+    position === "under"
+      ? camsOutWords(camsOut({ shimPosition: "under", valves: changing }))
+      : position === "over"
+        ? "Cams stay in: each shim comes out over its bucket with the bucket tool."
+        : "Say in the engine's profile where the shims sit before fitting.";
+  const borrow = plan?.borrow
+    .map((b) => `${b.count} × ${shim(b.size)} from ${lenders?.get(b.ownerId) ?? "a club member"}`)
+    .join(", ");
   return createPortal(
     <article className="worksheet" aria-label="Printed worksheet">
       <header className="ws-head">
@@ -53,9 +82,11 @@ export default function Worksheet({ engine, check, views, plan, lenders }: { eng
           <h1>{engine.name}</h1>
         </div>
         <p>
-          Check at {check.odometer.toLocaleString("en")} {engine.odometerUnit} · {date} · measured {check.measuredHot ? "hot" : "cold"}
+          Check at {check.odometer.toLocaleString("en")} {engine.odometerUnit} · {date} · measured{" "}
+          {check.measuredHot ? "hot" : "cold"}
           <br />
-          Printed {new Date().toLocaleDateString("en-GB", { day: "numeric", month: "short", year: "numeric" })} from Lashwright
+          Printed {new Date().toLocaleDateString("en-GB", { day: "numeric", month: "short", year: "numeric" })} from
+          Lashwright
         </p>
       </header>
       <dl className="ws-facts">
@@ -135,7 +166,9 @@ export default function Worksheet({ engine, check, views, plan, lenders }: { eng
                 <td>{shim(v.installed, r?.installedMicrometer != null)}</td>
                 <td>
                   {len(v.measured)}
-                  {r?.feelerNoGo != null && v.measured != null ? <span className="ws-soft">–{len(r.feelerNoGo)}</span> : null}
+                  {r?.feelerNoGo != null && v.measured != null ? (
+                    <span className="ws-soft">–{len(r.feelerNoGo)}</span>
+                  ) : null}
                 </td>
                 <td>
                   {STATE_WORDS[v.state].glyph} {STATE_WORDS[v.state].word}
@@ -152,12 +185,19 @@ export default function Worksheet({ engine, check, views, plan, lenders }: { eng
         </tbody>
       </table>
       <p className="ws-soft ws-note">
-        A clearance written a–b: the a blade slid, the b blade would not. ✕: the nearest size still leaves the valve out of its band.
+        A clearance written a–b: the a blade slid, the b blade would not. ✕: the nearest size still leaves the valve out
+        of its band.
       </p>
       <section className="ws-lists">
         <div>
           <h2>Buy</h2>
-          <p>{!plan ? "Measure first." : plan.buy.length ? `${list(plan.buy)} mm` : "Nothing: swaps and the tray cover every change."}</p>
+          <p>
+            {!plan
+              ? "Measure first."
+              : plan.buy.length
+                ? `${list(plan.buy)} mm`
+                : "Nothing: swaps and the tray cover every change."}
+          </p>
         </div>
         <div>
           <h2>Borrow</h2>
@@ -187,7 +227,10 @@ export default function Worksheet({ engine, check, views, plan, lenders }: { eng
             </ol>
           </>
         )}
-        <p>Lashwright&apos;s numbers are a calculation aid, not a specification: the service manual and a qualified mechanic have the last word.</p>
+        <p>
+          Lashwright&apos;s numbers are a calculation aid, not a specification: the service manual and a qualified
+          mechanic have the last word.
+        </p>
       </section>
     </article>,
     document.body,

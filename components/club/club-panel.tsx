@@ -39,7 +39,12 @@ function Members({ club }: { club: ClubSummary }) {
                       key={r}
                       type="button"
                       aria-pressed={on}
-                      onClick={() => setRoles.mutate({ userId: m.userId, roles: on ? m.roles.filter((x) => x !== r) : [...m.roles, r] })}
+                      onClick={() =>
+                        setRoles.mutate({
+                          userId: m.userId,
+                          roles: on ? m.roles.filter((x) => x !== r) : [...m.roles, r],
+                        })
+                      }
                       className={`min-h-12 rounded-xl border-2 px-3 font-bold ${on ? "border-accent text-ink" : "border-line text-ink-soft"}`}
                     >
                       {on ? "✓ " : ""}
@@ -69,7 +74,10 @@ function InviteForm({ club }: { club: ClubSummary }) {
       setNote({ tone: "ok", text: `Invitation sent to ${email}.` });
       setEmail("");
     } catch (err) {
-      setNote({ tone: "error", text: err instanceof ApiFailure ? (err.fields.email ?? err.message) : "Could not send the invitation" });
+      setNote({
+        tone: "error",
+        text: err instanceof ApiFailure ? (err.fields.email ?? err.message) : "Could not send the invitation",
+      });
     }
   };
   return (
@@ -77,10 +85,21 @@ function InviteForm({ club }: { club: ClubSummary }) {
       <h3 className="text-lg font-bold">Invite someone</h3>
       {note && <Notice tone={note.tone}>{note.text}</Notice>}
       <Field id={`invite-${club.id}`} label="Their e-mail">
-        <input id={`invite-${club.id}`} type="email" value={email} onChange={(e) => setEmail(e.target.value)} className={inputClass} />
+        <input
+          id={`invite-${club.id}`}
+          type="email"
+          value={email}
+          onChange={(e) => setEmail(e.target.value)}
+          className={inputClass}
+        />
       </Field>
       <Field id={`role-${club.id}`} label="As">
-        <select id={`role-${club.id}`} value={role} onChange={(e) => setRole(e.target.value as Role)} className={inputClass}>
+        <select
+          id={`role-${club.id}`}
+          value={role}
+          onChange={(e) => setRole(e.target.value as Role)}
+          className={inputClass}
+        >
           {(Object.keys(ROLE_WORDS) as Role[]).map((r) => (
             <option key={r} value={r}>
               {ROLE_WORDS[r]}
@@ -98,7 +117,11 @@ function InviteForm({ club }: { club: ClubSummary }) {
 function Queue({ club }: { club: ClubSummary }) {
   const qc = useQueryClient();
   // asked again on every visit: the kept copy (for offline) shows until the answer comes
-  const queue = useQuery({ queryKey: queryKeys.queue(club.id), queryFn: () => fetchers.queue(club.id), refetchOnMount: "always" });
+  const queue = useQuery({
+    queryKey: queryKeys.queue(club.id),
+    queryFn: () => fetchers.queue(club.id),
+    refetchOnMount: "always",
+  });
   // fetch each waiting check now, while there is a signal: it is kept for reading offline
   useEffect(() => {
     for (const q of queue.data ?? []) {
@@ -119,10 +142,11 @@ function Queue({ club }: { club: ClubSummary }) {
         {queue.data.map((q) => (
           <li key={q.shareId}>
             <Link href={`/review?id=${q.checkId}`} className="block rounded-xl border border-line p-3">
-            <p className="font-bold">{q.engineName}</p>
-            <p className="text-ink-soft">
-              {q.ownerName} · <span className="figures">{q.odometer.toLocaleString("en")}</span> {q.odometerUnit} · {q.verdict ? "reviewed" : "no verdict yet"}
-            </p>
+              <p className="font-bold">{q.engineName}</p>
+              <p className="text-ink-soft">
+                {q.ownerName} · <span className="figures">{q.odometer.toLocaleString("en")}</span> {q.odometerUnit} ·{" "}
+                {q.verdict ? "reviewed" : "no verdict yet"}
+              </p>
             </Link>
           </li>
         ))}
@@ -135,7 +159,10 @@ export function ClubPanel() {
   const qc = useQueryClient();
   const clubs = useQuery({ queryKey: queryKeys.clubs(), queryFn: fetchers.clubs });
   const [name, setName] = useState("");
-  const create = useMutation({ mutationFn: () => mutations.createClub(name), onSuccess: () => (setName(""), qc.invalidateQueries({ queryKey: queryKeys.clubs() })) });
+  const create = useMutation({
+    mutationFn: () => mutations.createClub(name),
+    onSuccess: () => (setName(""), qc.invalidateQueries({ queryKey: queryKeys.clubs() })),
+  });
   if (clubs.isPending) return <p className="text-ink-soft">Loading your clubs…</p>;
   if (clubs.isError) return <Notice tone="error">{clubs.error.message}</Notice>;
   return (
@@ -160,7 +187,13 @@ export function ClubPanel() {
         className="flex flex-col gap-3 rounded-2xl border border-dashed border-line p-4"
       >
         <h2 className="text-xl font-bold">Start a club</h2>
-        {create.error && <Notice tone="error">{create.error instanceof ApiFailure ? (create.error.fields.name ?? create.error.message) : "Could not create the club"}</Notice>}
+        {create.error && (
+          <Notice tone="error">
+            {create.error instanceof ApiFailure
+              ? (create.error.fields.name ?? create.error.message)
+              : "Could not create the club"}
+          </Notice>
+        )}
         <Field id="club-name" label="Club name" hint="You become its admin and can invite members.">
           <input id="club-name" value={name} onChange={(e) => setName(e.target.value)} className={inputClass} />
         </Field>

@@ -39,7 +39,11 @@ interface FormValues {
 }
 
 const num = (s: string) => (s.trim() === "" ? undefined : Number(s.replace(",", ".")));
-const list = (s: string) => s.split(/[\s,;-]+/).filter(Boolean).map(Number);
+const list = (s: string) =>
+  s
+    .split(/[\s,;-]+/)
+    .filter(Boolean)
+    .map(Number);
 
 function toEngine(v: FormValues, id: string) {
   return {
@@ -66,7 +70,8 @@ function toEngine(v: FormValues, id: string) {
 }
 
 function fromEngine(e: LocalEngine): FormValues {
-  const s = "step" in e.shims ? e.shims : { min: Math.min(...e.shims.sizes), max: Math.max(...e.shims.sizes), step: 0.05 };
+  const s =
+    "step" in e.shims ? e.shims : { min: Math.min(...e.shims.sizes), max: Math.max(...e.shims.sizes), step: 0.05 };
   const t = (n: number | undefined | null) => (n == null ? "" : String(n));
   return {
     preset: "",
@@ -131,10 +136,12 @@ const MISSING: Record<string, string> = {
   "shims.min": "Missing: the thinnest shim of the series, from the manual or the shim kit",
   "shims.max": "Missing: the thickest shim of the series, from the manual or the shim kit",
   "shims.step": "Missing: the step between shim sizes, from the manual or the shim kit (often 0.05 mm)",
-  shimPosition: "Missing: where the shims sit. With the cam cover off, a shim in a recess on top of the bucket is over it; none to be seen, it is under (the manual says which)",
+  shimPosition:
+    "Missing: where the shims sit. With the cam cover off, a shim in a recess on top of the bucket is over it; none to be seen, it is under (the manual says which)",
 };
 
-const valueAt = (v: FormValues, path: string) => path.split(".").reduce<unknown>((o, k) => (o as Record<string, unknown> | undefined)?.[k], v);
+const valueAt = (v: FormValues, path: string) =>
+  path.split(".").reduce<unknown>((o, k) => (o as Record<string, unknown> | undefined)?.[k], v);
 
 const resolverFor =
   (id: string): Resolver<FormValues> =>
@@ -189,7 +196,11 @@ export function EngineForm() {
     form.setValue("firingOrder", p.firingOrder.join("-"));
     form.setValue("firingAngles", p.firingAngles?.join(", ") ?? "");
     form.setValue("shimPosition", p.shimPosition);
-    form.setValue("shims", { min: p.shims.min.toFixed(p.shims.step < 0.05 ? 3 : 2), max: p.shims.max.toFixed(p.shims.step < 0.05 ? 3 : 2), step: String(p.shims.step) });
+    form.setValue("shims", {
+      min: p.shims.min.toFixed(p.shims.step < 0.05 ? 3 : 2),
+      max: p.shims.max.toFixed(p.shims.step < 0.05 ? 3 : 2),
+      step: String(p.shims.step),
+    });
   };
 
   const onSubmit = form.handleSubmit(async (values) => {
@@ -204,10 +215,17 @@ export function EngineForm() {
     }
   });
 
-  const err = (path: string) => path.split(".").reduce<unknown>((o, k) => (o as Record<string, unknown> | undefined)?.[k], errors) as { message?: string } | undefined;
+  const err = (path: string) =>
+    path.split(".").reduce<unknown>((o, k) => (o as Record<string, unknown> | undefined)?.[k], errors) as
+      { message?: string } | undefined;
   const text = (name: string, label: string, opts: { hint?: ReactNode; unit?: string; numeric?: boolean } = {}) => (
     <Field id={name} label={opts.unit ? `${label} (${opts.unit})` : label} error={err(name)?.message} hint={opts.hint}>
-      <input id={name} inputMode={opts.numeric ? "decimal" : undefined} className={inputClass} {...form.register(name as never)} />
+      <input
+        id={name}
+        inputMode={opts.numeric ? "decimal" : undefined}
+        className={inputClass}
+        {...form.register(name as never)}
+      />
     </Field>
   );
 
@@ -215,8 +233,16 @@ export function EngineForm() {
     <form onSubmit={onSubmit} noValidate className="flex flex-col gap-5">
       {failure && <Notice tone="error">{failure}</Notice>}
       {!editing && (
-        <Field id="preset" label="Start from a layout" hint="Fills the layout and shim series; enter the spec from your service manual.">
-          <select id="preset" className={inputClass} {...form.register("preset", { onChange: (e) => applyPreset(e.target.value) })}>
+        <Field
+          id="preset"
+          label="Start from a layout"
+          hint="Fills the layout and shim series; enter the spec from your service manual."
+        >
+          <select
+            id="preset"
+            className={inputClass}
+            {...form.register("preset", { onChange: (e) => applyPreset(e.target.value) })}
+          >
             <option value="">Choose a layout…</option>
             {ENGINE_PRESETS.map((p) => (
               <option key={p.key} value={p.key}>
@@ -230,8 +256,9 @@ export function EngineForm() {
       <fieldset className="grid grid-cols-3 gap-3" aria-describedby="layout-help">
         <legend className="mb-2 text-lg font-bold">Layout</legend>
         <p id="layout-help" className="col-span-3 text-sm text-ink-soft">
-          <strong className="text-ink">Valves per cylinder:</strong> each valve has its own bucket and shim. Count the cam lobes over one cylinder: a lobe on the
-          intake cam is an intake valve, one on the exhaust cam an exhaust valve.
+          <strong className="text-ink">Valves per cylinder:</strong> each valve has its own bucket and shim. Count the
+          cam lobes over one cylinder: a lobe on the intake cam is an intake valve, one on the exhaust cam an exhaust
+          valve.
         </p>
         {text("cylinders", "Cylinders", { numeric: true })}
         {text("intakePerCylinder", "Intakes / cyl", { numeric: true })}
@@ -240,12 +267,15 @@ export function EngineForm() {
       {text("firingOrder", "Firing order", {
         hint: "The order in which the cylinders fire, numbered as the manual numbers them, e.g. 1-3-4-2. It tells the app where to stop the crank so each valve sits closed.",
       })}
-      {text("firingAngles", "Firing angles (crank degrees, optional)", { hint: "Leave empty for even firing. A 90 degree twin: 0, 270" })}
+      {text("firingAngles", "Firing angles (crank degrees, optional)", {
+        hint: "Leave empty for even firing. A 90 degree twin: 0, 270",
+      })}
       <fieldset className="grid grid-cols-2 gap-3" aria-describedby="bands-help">
         <legend className="mb-2 text-lg font-bold">Spec bands (from the manual)</legend>
         <p id="bands-help" className="col-span-2 text-sm text-ink-soft">
-          <strong className="text-ink">Spec band:</strong> the smallest and largest gap the service manual allows between the cam and the bucket, one band for
-          the intakes and one for the exhausts. A valve inside its band needs nothing; the plan aims for the middle.
+          <strong className="text-ink">Spec band:</strong> the smallest and largest gap the service manual allows
+          between the cam and the bucket, one band for the intakes and one for the exhausts. A valve inside its band
+          needs nothing; the plan aims for the middle.
         </p>
         {text("intake.min", "Intake from", { unit: "mm", numeric: true })}
         {text("intake.max", "Intake to", { unit: "mm", numeric: true })}
@@ -259,8 +289,8 @@ export function EngineForm() {
       <fieldset className="grid grid-cols-3 gap-3" aria-describedby="series-help">
         <legend className="mb-2 text-lg font-bold">Shim series</legend>
         <p id="series-help" className="col-span-3 text-sm text-ink-soft">
-          <strong className="text-ink">Shim series:</strong> the thicknesses your engine&apos;s shims come in, from the thinnest to the thickest, a fixed
-          step apart (often 0.05 mm). The number etched on a shim is its thickness.
+          <strong className="text-ink">Shim series:</strong> the thicknesses your engine&apos;s shims come in, from the
+          thinnest to the thickest, a fixed step apart (often 0.05 mm). The number etched on a shim is its thickness.
         </p>
         {text("shims.min", "Smallest", { unit: "mm", numeric: true })}
         {text("shims.max", "Largest", { unit: "mm", numeric: true })}
@@ -269,11 +299,21 @@ export function EngineForm() {
       <fieldset className="flex flex-col gap-2" aria-describedby="position-help">
         <legend className="mb-1 text-lg font-bold">Where the shims sit</legend>
         <p id="position-help" className="text-sm text-ink-soft">
-          Over the bucket, a shim is changed with the cams in, using a bucket tool. Under it, the camshaft over the valve comes out and goes back in time.
+          Over the bucket, a shim is changed with the cams in, using a bucket tool. Under it, the camshaft over the
+          valve comes out and goes back in time.
         </p>
         {(["over", "under"] as const).map((value) => (
-          <label key={value} className="flex min-h-12 items-center gap-3 rounded-xl border-2 border-line px-3 font-bold">
-            <input type="radio" value={value} className="h-6 w-6" aria-describedby={err("shimPosition") ? "shimPosition-error" : undefined} {...form.register("shimPosition")} />
+          <label
+            key={value}
+            className="flex min-h-12 items-center gap-3 rounded-xl border-2 border-line px-3 font-bold"
+          >
+            <input
+              type="radio"
+              value={value}
+              className="h-6 w-6"
+              aria-describedby={err("shimPosition") ? "shimPosition-error" : undefined}
+              {...form.register("shimPosition")}
+            />
             {SHIM_POSITION_WORDS[value].long}
           </label>
         ))}
@@ -284,18 +324,31 @@ export function EngineForm() {
           </p>
         )}
       </fieldset>
-      {text("assembledShim", "Shim fitted at assembly (optional)", { unit: "mm", numeric: true, hint: "Offers a one-tap fill of every bucket on the first check" })}
-      {text("shimDiameter", "Shim diameter (optional)", { unit: "mm", numeric: true, hint: "The plan then uses only tray and club shims of this diameter" })}
+      {text("assembledShim", "Shim fitted at assembly (optional)", {
+        unit: "mm",
+        numeric: true,
+        hint: "Offers a one-tap fill of every bucket on the first check",
+      })}
+      {text("shimDiameter", "Shim diameter (optional)", {
+        unit: "mm",
+        numeric: true,
+        hint: "The plan then uses only tray and club shims of this diameter",
+      })}
       <fieldset className="flex flex-col gap-2">
         <legend className="mb-1 text-lg font-bold">As you face the engine at work</legend>
-        <p className="text-sm text-ink-soft">On a stand, in a frame or in the vehicle: the diagram is drawn the way you see it, for you and for a mentor.</p>
+        <p className="text-sm text-ink-soft">
+          On a stand, in a frame or in the vehicle: the diagram is drawn the way you see it, for you and for a mentor.
+        </p>
         {(
           [
             ["left", "Cylinder 1 on your left"],
             ["right", "Cylinder 1 on your right"],
           ] as const
         ).map(([value, label]) => (
-          <label key={value} className="flex min-h-12 items-center gap-3 rounded-xl border-2 border-line px-3 font-bold">
+          <label
+            key={value}
+            className="flex min-h-12 items-center gap-3 rounded-xl border-2 border-line px-3 font-bold"
+          >
             <input type="radio" value={value} className="h-6 w-6" {...form.register("facing")} />
             {label}
           </label>
@@ -303,21 +356,28 @@ export function EngineForm() {
       </fieldset>
       <fieldset className="flex flex-col gap-2">
         <legend className="mb-1 text-lg font-bold">Side nearest you</legend>
-        <p className="text-sm text-ink-soft">The diagram and the printed sheet draw this side at the bottom, so the rows match the head in front of you.</p>
+        <p className="text-sm text-ink-soft">
+          The diagram and the printed sheet draw this side at the bottom, so the rows match the head in front of you.
+        </p>
         {(
           [
             ["exhaust", "Exhaust side nearest me"],
             ["intake", "Intake side nearest me"],
           ] as const
         ).map(([value, label]) => (
-          <label key={value} className="flex min-h-12 items-center gap-3 rounded-xl border-2 border-line px-3 font-bold">
+          <label
+            key={value}
+            className="flex min-h-12 items-center gap-3 rounded-xl border-2 border-line px-3 font-bold"
+          >
             <input type="radio" value={value} className="h-6 w-6" {...form.register("nearSide")} />
             {label}
           </label>
         ))}
       </fieldset>
       <details className="rounded-xl border border-line p-3">
-        <summary className="min-h-12 cursor-pointer py-3 font-bold">Valve timing (crank degrees; defaults for a street engine)</summary>
+        <summary className="min-h-12 cursor-pointer py-3 font-bold">
+          Valve timing (crank degrees; defaults for a street engine)
+        </summary>
         <div className="grid grid-cols-2 gap-3">
           {text("timing.ivo", "Intake opens BTDC", { numeric: true })}
           {text("timing.ivc", "Intake closes ABDC", { numeric: true })}

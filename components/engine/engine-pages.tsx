@@ -18,14 +18,20 @@ export function EngineList() {
   if (!engines) return null;
   return (
     <div className="flex flex-col gap-3">
-      {engines.length === 0 && <Notice>No engines on this phone yet. Add the first one: it takes a minute with a layout preset.</Notice>}
+      {engines.length === 0 && (
+        <Notice>No engines on this phone yet. Add the first one: it takes a minute with a layout preset.</Notice>
+      )}
       <ul className="flex flex-col gap-3">
         {engines.map((e) => (
           <li key={e.id}>
-            <Link href={`/engine?id=${e.id}`} className="flex min-h-16 flex-col justify-center rounded-2xl border border-line bg-surface p-4">
+            <Link
+              href={`/engine?id=${e.id}`}
+              className="flex min-h-16 flex-col justify-center rounded-2xl border border-line bg-surface p-4"
+            >
               <span className="text-lg font-bold">{e.name}</span>
               <span className="text-ink-soft">
-                {e.cylinders} cyl · {e.cylinders * (e.intakePerCylinder + e.exhaustPerCylinder)} valves · fires {e.firingOrder.join("-")}
+                {e.cylinders} cyl · {e.cylinders * (e.intakePerCylinder + e.exhaustPerCylinder)} valves · fires{" "}
+                {e.firingOrder.join("-")}
               </span>
             </Link>
           </li>
@@ -41,7 +47,10 @@ export function EngineDetail() {
   const router = useRouter();
   const { db } = useLocalCore();
   const engine = useLiveQuery(async () => (db ? ((await db.engines.get(id)) ?? null) : undefined), [db, id]);
-  const checks = useLiveQuery(async () => db?.checks.where("engineId").equals(id).reverse().sortBy("startedAt"), [db, id]);
+  const checks = useLiveQuery(
+    async () => db?.checks.where("engineId").equals(id).reverse().sortBy("startedAt"),
+    [db, id],
+  );
   const [odometer, setOdometer] = useState("");
   const [error, setError] = useState<string | null>(null);
   if (engine === undefined) return null;
@@ -51,7 +60,8 @@ export function EngineDetail() {
   const start = async () => {
     if (!db) return;
     const value = Number(odometer.replace(",", "."));
-    if (odometer.trim() === "" || !Number.isFinite(value) || value < 0) return setError(`Enter the odometer in ${engine.odometerUnit}`);
+    if (odometer.trim() === "" || !Number.isFinite(value) || value < 0)
+      return setError(`Enter the odometer in ${engine.odometerUnit}`);
     const checkId = crypto.randomUUID();
     await saveCheck(db, { id: checkId, engineId: engine.id, odometer: value, measuredHot: engine.measuredHot });
     router.push(`/check?id=${checkId}`);
@@ -70,18 +80,28 @@ export function EngineDetail() {
           <dt className="text-ink-soft">Intake</dt>
           <dd>
             {/* a length and its unit stay on one line ("0.20 mm", never "0.20" above "mm") */}
-            <span className="whitespace-nowrap">{formatLength(engine.intake.min, unit)}</span> – <span className="whitespace-nowrap">{formatLength(engine.intake.max, unit)}</span>
+            <span className="whitespace-nowrap">{formatLength(engine.intake.min, unit)}</span> –{" "}
+            <span className="whitespace-nowrap">{formatLength(engine.intake.max, unit)}</span>
           </dd>
           <dt className="text-ink-soft">Exhaust</dt>
           <dd>
-            <span className="whitespace-nowrap">{formatLength(engine.exhaust.min, unit)}</span> – <span className="whitespace-nowrap">{formatLength(engine.exhaust.max, unit)}</span>
+            <span className="whitespace-nowrap">{formatLength(engine.exhaust.min, unit)}</span> –{" "}
+            <span className="whitespace-nowrap">{formatLength(engine.exhaust.max, unit)}</span>
           </dd>
           <dt className="text-ink-soft">Measure</dt>
           <dd>{engine.measuredHot ? "hot" : "cold"}</dd>
           <dt className="text-ink-soft">Shims</dt>
-          <dd data-testid="engine-shim-position">{engine.shimPosition ? SHIM_POSITION_WORDS[engine.shimPosition].short.replace(/^Shims /, "") : "not said: set it in the profile"}</dd>
+          <dd data-testid="engine-shim-position">
+            {engine.shimPosition
+              ? SHIM_POSITION_WORDS[engine.shimPosition].short.replace(/^Shims /, "")
+              : "not said: set it in the profile"}
+          </dd>
           <dt className="text-ink-soft">Shim series</dt>
-          <dd>{"step" in engine.shims ? `${shimNumber(engine.shims.min, engine.shims.step < 0.05)} to ${shimNumber(engine.shims.max, engine.shims.step < 0.05)} mm in ${engine.shims.step} mm steps` : `${engine.shims.sizes.length} sizes listed`}</dd>
+          <dd>
+            {"step" in engine.shims
+              ? `${shimNumber(engine.shims.min, engine.shims.step < 0.05)} to ${shimNumber(engine.shims.max, engine.shims.step < 0.05)} mm in ${engine.shims.step} mm steps`
+              : `${engine.shims.sizes.length} sizes listed`}
+          </dd>
           {engine.shimDiameter != null && (
             <>
               <dt className="text-ink-soft">Shim diameter</dt>
@@ -96,10 +116,14 @@ export function EngineDetail() {
           )}
           <dt className="text-ink-soft">Drawn with</dt>
           <dd data-testid="engine-facing">
-            cylinder 1 on the {engine.mirrored ? "right" : "left"}, {engine.nearSide === "intake" ? "intake" : "exhaust"} side nearest you
+            cylinder 1 on the {engine.mirrored ? "right" : "left"},{" "}
+            {engine.nearSide === "intake" ? "intake" : "exhaust"} side nearest you
           </dd>
         </dl>
-        <Link href={`/engine/edit?id=${engine.id}`} className="mt-2 inline-flex min-h-12 items-center font-bold underline">
+        <Link
+          href={`/engine/edit?id=${engine.id}`}
+          className="mt-2 inline-flex min-h-12 items-center font-bold underline"
+        >
           Edit profile
         </Link>
       </section>
@@ -112,7 +136,8 @@ export function EngineDetail() {
             <span className="figures">
               {open.odometer.toLocaleString("en")} {engine.odometerUnit}
             </span>
-            . Finish it, or close it from its Re-check step, before starting another: one check at a time keeps the plan and the tray right.
+            . Finish it, or close it from its Re-check step, before starting another: one check at a time keeps the plan
+            and the tray right.
           </p>
           <ButtonLink href={`/check?id=${open.id}`}>Continue this check</ButtonLink>
         </section>
@@ -120,7 +145,13 @@ export function EngineDetail() {
         <section className="flex flex-col gap-3 rounded-2xl border-2 border-accent p-4">
           <h2 className="text-xl font-extrabold">Start a check</h2>
           <Field id="odometer" label={`Odometer now (${engine.odometerUnit})`} error={error ?? undefined}>
-            <input id="odometer" inputMode="decimal" value={odometer} onChange={(e) => setOdometer(e.target.value)} className={`${inputClass} figures`} />
+            <input
+              id="odometer"
+              inputMode="decimal"
+              value={odometer}
+              onChange={(e) => setOdometer(e.target.value)}
+              className={`${inputClass} figures`}
+            />
           </Field>
           <Button type="button" onClick={start}>
             Start check
@@ -134,7 +165,10 @@ export function EngineDetail() {
         <ul className="flex flex-col gap-2">
           {checks?.map((c) => (
             <li key={c.id}>
-              <Link href={`/check?id=${c.id}`} className="flex min-h-14 items-center justify-between rounded-xl border border-line bg-surface px-4">
+              <Link
+                href={`/check?id=${c.id}`}
+                className="flex min-h-14 items-center justify-between rounded-xl border border-line bg-surface px-4"
+              >
                 <span className="figures font-bold">
                   {c.odometer.toLocaleString("en")} {engine.odometerUnit}
                 </span>
@@ -155,7 +189,10 @@ export function CheckList() {
   const { db } = useLocalCore();
   const rows = useLiveQuery(async () => {
     if (!db) return undefined;
-    const [checks, engines] = await Promise.all([db.checks.orderBy("startedAt").reverse().toArray(), db.engines.toArray()]);
+    const [checks, engines] = await Promise.all([
+      db.checks.orderBy("startedAt").reverse().toArray(),
+      db.engines.toArray(),
+    ]);
     const names = new Map(engines.map((e) => [e.id, e]));
     return checks.map((c) => ({ c, e: names.get(c.engineId) }));
   }, [db]);
@@ -165,10 +202,14 @@ export function CheckList() {
     <ul className="flex flex-col gap-2">
       {rows.map(({ c, e }) => (
         <li key={c.id}>
-          <Link href={`/check?id=${c.id}`} className={`flex min-h-16 flex-col justify-center rounded-xl border bg-surface px-4 ${c.status === "closed" ? "border-line" : "border-accent"}`}>
+          <Link
+            href={`/check?id=${c.id}`}
+            className={`flex min-h-16 flex-col justify-center rounded-xl border bg-surface px-4 ${c.status === "closed" ? "border-line" : "border-accent"}`}
+          >
             <span className="font-bold">{e?.name ?? "Engine"}</span>
             <span className="figures text-ink-soft">
-              {c.odometer.toLocaleString("en")} {e?.odometerUnit} · {new Date(c.startedAt).toLocaleDateString("en-GB")} · {c.status === "closed" ? "closed" : "in progress"}
+              {c.odometer.toLocaleString("en")} {e?.odometerUnit} · {new Date(c.startedAt).toLocaleDateString("en-GB")}{" "}
+              · {c.status === "closed" ? "closed" : "in progress"}
             </span>
           </Link>
         </li>

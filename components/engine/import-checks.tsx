@@ -28,7 +28,10 @@ export function ImportChecks({ engine }: { engine: LocalEngine }) {
   const read = async (f: { name: string; text: string }, order: DateOrder | undefined) => {
     if (!db) return;
     const { readChecksCsv } = await import("@/lib/check/csv-import");
-    const existing = (await db.checks.where("engineId").equals(engine.id).toArray()).map((c) => ({ date: new Date(c.startedAt).toISOString().slice(0, 10), odometer: c.odometer }));
+    const existing = (await db.checks.where("engineId").equals(engine.id).toArray()).map((c) => ({
+      date: new Date(c.startedAt).toISOString().slice(0, 10),
+      odometer: c.odometer,
+    }));
     setPreview(readChecksCsv(f.text, engine, existing, { dateOrder: order }));
   };
 
@@ -39,7 +42,10 @@ export function ImportChecks({ engine }: { engine: LocalEngine }) {
     setFile(null);
     if (!chosen) return;
     const { IMPORT_MAX_BYTES } = await import("@/lib/check/csv-import");
-    if (chosen.size > IMPORT_MAX_BYTES) return setError(`${chosen.name} is ${(chosen.size / 1024 / 1024).toFixed(1)} MB; a file of past checks is at most ${IMPORT_MAX_BYTES / 1024 / 1024} MB. Split it.`);
+    if (chosen.size > IMPORT_MAX_BYTES)
+      return setError(
+        `${chosen.name} is ${(chosen.size / 1024 / 1024).toFixed(1)} MB; a file of past checks is at most ${IMPORT_MAX_BYTES / 1024 / 1024} MB. Split it.`,
+      );
     const f = { name: chosen.name, text: await chosen.text() };
     setFile(f);
     await read(f, dateOrder);
@@ -51,7 +57,9 @@ export function ImportChecks({ engine }: { engine: LocalEngine }) {
     try {
       await importChecks(db, engine, preview.checks);
       const n = preview.checks.length;
-      setAdded(`Added ${n} past check${n === 1 ? "" : "s"} (${preview.checks.reduce((s, c) => s + c.readings.length, 0)} readings) from ${file?.name}. They go to the server with the next sync.`);
+      setAdded(
+        `Added ${n} past check${n === 1 ? "" : "s"} (${preview.checks.reduce((s, c) => s + c.readings.length, 0)} readings) from ${file?.name}. They go to the server with the next sync.`,
+      );
       setPreview(null);
       setFile(null);
       void syncNow();
@@ -66,19 +74,33 @@ export function ImportChecks({ engine }: { engine: LocalEngine }) {
   const skipped = preview?.rows.filter((r) => r.skipped) ?? [];
   const readings = preview?.checks.reduce((s, c) => s + c.readings.length, 0) ?? 0;
   return (
-    <section aria-labelledby="import-title" className="flex flex-col gap-3 rounded-2xl border border-line bg-surface p-4">
+    <section
+      aria-labelledby="import-title"
+      className="flex flex-col gap-3 rounded-2xl border border-line bg-surface p-4"
+    >
       <h2 id="import-title" className="text-xl font-extrabold">
         Bring in past checks
       </h2>
       <p className="text-ink-soft">
-        From a spreadsheet or a paper log typed up, saved as CSV. The first row names the columns: <span className="figures">date</span>, <span className="figures">odometer</span>, <span className="figures">valve</span> (like I1.1 or E4.2) and{" "}
-        <span className="figures">clearance</span> or <span className="figures">go</span>; <span className="figures">shim</span>, <span className="figures">micrometer</span>, <span className="figures">no_go</span>, <span className="figures">new_shim</span> and{" "}
-        <span className="figures">notes</span> are read too. Lengths are in {engine.displayUnit} unless a column name ends in _mm, _in or _thou. A CSV downloaded from a check reads back as it is.
+        From a spreadsheet or a paper log typed up, saved as CSV. The first row names the columns:{" "}
+        <span className="figures">date</span>, <span className="figures">odometer</span>,{" "}
+        <span className="figures">valve</span> (like I1.1 or E4.2) and <span className="figures">clearance</span> or{" "}
+        <span className="figures">go</span>; <span className="figures">shim</span>,{" "}
+        <span className="figures">micrometer</span>, <span className="figures">no_go</span>,{" "}
+        <span className="figures">new_shim</span> and <span className="figures">notes</span> are read too. Lengths are
+        in {engine.displayUnit} unless a column name ends in _mm, _in or _thou. A CSV downloaded from a check reads back
+        as it is.
       </p>
       <label htmlFor={input} className="font-bold">
         Choose a CSV file
       </label>
-      <input id={input} type="file" accept=".csv,.txt,text/csv,text/plain" onChange={(e) => void choose(e.target.files?.[0])} className="min-h-12 rounded-xl border-2 border-line p-2 text-base file:mr-3 file:min-h-10 file:rounded-lg file:border-0 file:bg-surface-2 file:px-3 file:font-bold file:text-ink" />
+      <input
+        id={input}
+        type="file"
+        accept=".csv,.txt,text/csv,text/plain"
+        onChange={(e) => void choose(e.target.files?.[0])}
+        className="min-h-12 rounded-xl border-2 border-line p-2 text-base file:mr-3 file:min-h-10 file:rounded-lg file:border-0 file:bg-surface-2 file:px-3 file:font-bold file:text-ink"
+      />
       {error && <Notice tone="error">{error}</Notice>}
       {added && <Notice tone="ok">{added}</Notice>}
       {preview && (
@@ -118,18 +140,25 @@ export function ImportChecks({ engine }: { engine: LocalEngine }) {
                 .filter((c) => c.reads)
                 .map((c) => `${c.reads}${c.unit ? ` (${c.unit})` : ""} from “${c.header}”`)
                 .join(", ")}
-              {preview.columns.some((c) => !c.reads) && `; not read: ${preview.columns.filter((c) => !c.reads).map((c) => `“${c.header}”`).join(", ")}`}.
+              {preview.columns.some((c) => !c.reads) &&
+                `; not read: ${preview.columns
+                  .filter((c) => !c.reads)
+                  .map((c) => `“${c.header}”`)
+                  .join(", ")}`}
+              .
             </p>
           )}
           {preview.checks.length > 0 && (
             <div>
               <h3 className="font-bold">
-                {preview.checks.length} check{preview.checks.length === 1 ? "" : "s"}, {readings} reading{readings === 1 ? "" : "s"}
+                {preview.checks.length} check{preview.checks.length === 1 ? "" : "s"}, {readings} reading
+                {readings === 1 ? "" : "s"}
               </h3>
               <ul className="figures text-base">
                 {preview.checks.slice(0, 50).map((c) => (
                   <li key={`${c.date}#${c.odometer}`}>
-                    {c.date} · {c.odometer.toLocaleString("en")} {engine.odometerUnit} · {c.readings.length} valve{c.readings.length === 1 ? "" : "s"}
+                    {c.date} · {c.odometer.toLocaleString("en")} {engine.odometerUnit} · {c.readings.length} valve
+                    {c.readings.length === 1 ? "" : "s"}
                     {c.notes ? ` · “${c.notes}”` : ""}
                   </li>
                 ))}
@@ -154,7 +183,8 @@ export function ImportChecks({ engine }: { engine: LocalEngine }) {
           )}
           {skipped.length > 0 && (
             <p className="text-sm text-ink-soft">
-              Left out: {skipped.length} row{skipped.length === 1 ? "" : "s"} ({[...new Set(skipped.map((r) => r.skipped))].join("; ")}).
+              Left out: {skipped.length} row{skipped.length === 1 ? "" : "s"} (
+              {[...new Set(skipped.map((r) => r.skipped))].join("; ")}).
             </p>
           )}
           {preview.ok ? (

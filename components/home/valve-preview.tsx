@@ -17,7 +17,11 @@ const cells: { cyl: number; side: "in" | "ex"; states: [State, State] }[] = [
 
 const glyph: Record<State, string> = { ok: "✓", tight: "▼", loose: "▲" };
 const word: Record<State, string> = { ok: "in band", tight: "tight", loose: "loose" };
-const tone: Record<State, string> = { ok: "border-ok text-ok", tight: "border-tight text-tight", loose: "border-loose text-loose" };
+const tone: Record<State, string> = {
+  ok: "border-ok text-ok",
+  tight: "border-tight text-tight",
+  loose: "border-loose text-loose",
+};
 
 export function ValvePreview() {
   const row = (side: "in" | "ex") => (
@@ -27,7 +31,10 @@ export function ValvePreview() {
         .map((c) => (
           <div key={`${side}${c.cyl}`} className="grid grid-cols-2 gap-1">
             {c.states.map((s, i) => (
-              <div key={i} className={`flex flex-col items-center rounded-md border-2 bg-surface px-0.5 py-1 ${tone[s]}`}>
+              <div
+                key={i}
+                className={`flex flex-col items-center rounded-md border-2 bg-surface px-0.5 py-1 ${tone[s]}`}
+              >
                 <span aria-hidden className="text-base leading-none">
                   {glyph[s]}
                 </span>
@@ -39,7 +46,10 @@ export function ValvePreview() {
     </div>
   );
   return (
-    <figure aria-label="Example engine diagram: an inline four with two valves tight and one loose" className="rounded-2xl border border-line bg-surface-2 p-3">
+    <figure
+      aria-label="Example engine diagram: an inline four with two valves tight and one loose"
+      className="rounded-2xl border border-line bg-surface-2 p-3"
+    >
       <p className="mb-2 text-xs font-semibold tracking-wide text-ink-soft uppercase">Intake side</p>
       {row("in")}
       <div className="figures my-2 grid grid-cols-4 gap-2 text-center text-sm font-bold text-ink-soft">

@@ -13,7 +13,15 @@ import type { LocalPhoto } from "@/lib/sync/local-db";
 import { useLocalCore } from "@/components/sync/local-provider";
 import { Notice } from "@/components/ui/controls";
 
-type Shown = { id: string; src: string | null; blob?: Blob; state: LocalPhoto["state"] | "stored"; reason?: string; held?: boolean; by?: string };
+type Shown = {
+  id: string;
+  src: string | null;
+  blob?: Blob;
+  state: LocalPhoto["state"] | "stored";
+  reason?: string;
+  held?: boolean;
+  by?: string;
+};
 
 function Thumb({ p, alt }: { p: Shown; alt: string }) {
   const blobUrl = useMemo(() => (p.blob ? URL.createObjectURL(p.blob) : null), [p.blob]);
@@ -28,7 +36,17 @@ function Thumb({ p, alt }: { p: Shown; alt: string }) {
           <img src={url} alt={alt} className="h-28 w-28 object-cover" data-testid="photo" />
         </a>
       )}
-      <span className="text-xs text-ink-soft">{p.state === "waiting" ? (p.held ? "waiting for photo space" : "waiting to send") : p.state === "refused" ? `not sent: ${p.reason}` : p.by ? `by ${p.by}` : "sent"}</span>
+      <span className="text-xs text-ink-soft">
+        {p.state === "waiting"
+          ? p.held
+            ? "waiting for photo space"
+            : "waiting to send"
+          : p.state === "refused"
+            ? `not sent: ${p.reason}`
+            : p.by
+              ? `by ${p.by}`
+              : "sent"}
+      </span>
     </li>
   );
 }
@@ -38,22 +56,54 @@ function Thumb({ p, alt }: { p: Shown; alt: string }) {
  * and the ones others added from the server when there is a signal. Adding one stores it here
  * first; the next sync sends it.
  */
-export function PhotoStrip({ checkId, valve, commentId = null, canAdd = true, label }: { checkId: string; valve: string | null; commentId?: string | null; canAdd?: boolean; label: string }) {
-  const belongs = (p: { valve: string | null; commentId: string | null }) => (commentId ? p.commentId === commentId : p.valve === valve && !p.commentId);
+export function PhotoStrip({
+  checkId,
+  valve,
+  commentId = null,
+  canAdd = true,
+  label,
+}: {
+  checkId: string;
+  valve: string | null;
+  commentId?: string | null;
+  canAdd?: boolean;
+  label: string;
+}) {
+  const belongs = (p: { valve: string | null; commentId: string | null }) =>
+    commentId ? p.commentId === commentId : p.valve === valve && !p.commentId;
   const { db, user, syncNow, needDb } = useLocalCore();
   const input = useRef<HTMLInputElement>(null);
   const [error, setError] = useState<string | null>(null);
-  const local = useLiveQuery(async () => (db ? (await db.photos.where("checkId").equals(checkId).toArray()).filter(belongs) : []), [db, checkId, valve, commentId], []);
-  const server = useQuery({ queryKey: queryKeys.photos(checkId), queryFn: () => fetchers.photos(checkId), retry: false });
+  const local = useLiveQuery(
+    async () => (db ? (await db.photos.where("checkId").equals(checkId).toArray()).filter(belongs) : []),
+    [db, checkId, valve, commentId],
+    [],
+  );
+  const server = useQuery({
+    queryKey: queryKeys.photos(checkId),
+    queryFn: () => fetchers.photos(checkId),
+    retry: false,
+  });
   // the account's photo space: from the server when there is a signal, else as the last sync heard it
-  const fetched = useQuery({ queryKey: queryKeys.photoUsage(), queryFn: fetchers.photoUsage, retry: false, enabled: canAdd });
-  const synced = useLiveQuery(async () => (db ? ((await getMeta<KnownUsage>(db, USAGE_META)) ?? null) : null), [db], null);
+  const fetched = useQuery({
+    queryKey: queryKeys.photoUsage(),
+    queryFn: fetchers.photoUsage,
+    retry: false,
+    enabled: canAdd,
+  });
+  const synced = useLiveQuery(
+    async () => (db ? ((await getMeta<KnownUsage>(db, USAGE_META)) ?? null) : null),
+    [db],
+    null,
+  );
   const usage = fetched.data && (!synced || fetched.dataUpdatedAt >= synced.at) ? fetched.data : synced;
   const heldFor = local.find((p) => p.state === "waiting" && p.held);
   const mine = new Set(local.map((p) => p.id));
   const shown: Shown[] = [
     ...local.map((p) => ({ id: p.id, src: null, blob: p.blob, state: p.state, reason: p.reason, held: !!p.held })),
-    ...(server.data ?? []).filter((p) => belongs(p) && !mine.has(p.id)).map((p) => ({ id: p.id, src: photoUrl(p.id), state: "stored" as const, by: p.uploaderName })),
+    ...(server.data ?? [])
+      .filter((p) => belongs(p) && !mine.has(p.id))
+      .map((p) => ({ id: p.id, src: photoUrl(p.id), state: "stored" as const, by: p.uploaderName })),
   ];
   if (!canAdd && shown.length === 0) return null;
   return (
@@ -86,7 +136,11 @@ export function PhotoStrip({ checkId, valve, commentId = null, canAdd = true, la
               if (navigator.onLine) void syncNow();
             }}
           />
-          <button type="button" onClick={() => input.current?.click()} className="min-h-12 rounded-xl border-2 border-line px-4 font-bold">
+          <button
+            type="button"
+            onClick={() => input.current?.click()}
+            className="min-h-12 rounded-xl border-2 border-line px-4 font-bold"
+          >
             Add photo
           </button>
           <span className="text-xs text-ink-soft">
@@ -97,7 +151,8 @@ export function PhotoStrip({ checkId, valve, commentId = null, canAdd = true, la
       )}
       {heldFor && (
         <Notice tone="error">
-          Not sent yet: {heldFor.reason ?? "your photo space is full. The photo waits on this phone until there is room."}
+          Not sent yet:{" "}
+          {heldFor.reason ?? "your photo space is full. The photo waits on this phone until there is room."}
         </Notice>
       )}
       {error && <Notice tone="error">{error}</Notice>}

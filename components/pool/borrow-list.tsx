@@ -12,7 +12,17 @@ import type { usePool } from "./use-pool";
  * The plan's borrowing: each lender and size the plan takes from the club pool, with the request's
  * state or a button to ask; and sizes on offer that this engine cannot use, with the reason.
  */
-export function BorrowList({ plan, pool, fit, checkId }: { plan: ShimPlan; pool: ReturnType<typeof usePool>; fit: PoolFit; checkId: string }) {
+export function BorrowList({
+  plan,
+  pool,
+  fit,
+  checkId,
+}: {
+  plan: ShimPlan;
+  pool: ReturnType<typeof usePool>;
+  fit: PoolFit;
+  checkId: string;
+}) {
   const { db, user } = useLocalCore();
   const names = new Map(pool.offers.map((o) => [o.ownerId, o.ownerName]));
   const mm = (n: number) => formatLength(n, "mm");
@@ -28,7 +38,13 @@ export function BorrowList({ plan, pool, fit, checkId }: { plan: ShimPlan; pool:
       <ul className="flex flex-col gap-3" data-testid="borrow-list">
         {plan.borrow.map((b) => {
           const offers = pool.offeredToMe.filter((o) => o.ownerId === b.ownerId && toNm(o.size) === toNm(b.size));
-          const asked = pool.borrows.filter((r) => r.borrowerId === user?.id && r.lenderId === b.ownerId && toNm(r.size) === toNm(b.size) && !["declined", "withdrawn", "settled"].includes(r.state));
+          const asked = pool.borrows.filter(
+            (r) =>
+              r.borrowerId === user?.id &&
+              r.lenderId === b.ownerId &&
+              toNm(r.size) === toNm(b.size) &&
+              !["declined", "withdrawn", "settled"].includes(r.state),
+          );
           const waiting = pool.pendingAsks.filter((a) => offers.some((o) => o.id === a.offerId));
           const who = names.get(b.ownerId) ?? "a member";
           return (
@@ -61,12 +77,15 @@ export function BorrowList({ plan, pool, fit, checkId }: { plan: ShimPlan; pool:
       </ul>
       {noneFit && misfits.length === 0 && (
         <Notice>
-          None of the club&apos;s {fit.wrongSystem.length} offer{fit.wrongSystem.length === 1 ? "" : "s"} can be used for this engine: {[...new Set(fit.wrongSystem.map((o) => o.reason))].join("; ")}.
+          None of the club&apos;s {fit.wrongSystem.length} offer{fit.wrongSystem.length === 1 ? "" : "s"} can be used
+          for this engine: {[...new Set(fit.wrongSystem.map((o) => o.reason))].join("; ")}.
         </Notice>
       )}
       {misfits.length > 0 && (
         <Notice>
-          {misfits.map((o) => `${mm(o.size)} is in the pool (${o.ownerName}) but cannot be used: ${o.reason}.`).join(" ")}
+          {misfits
+            .map((o) => `${mm(o.size)} is in the pool (${o.ownerName}) but cannot be used: ${o.reason}.`)
+            .join(" ")}
         </Notice>
       )}
     </section>

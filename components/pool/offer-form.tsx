@@ -23,11 +23,16 @@ export function OfferForm({ items }: { items: LocalTrayItem[] }) {
   const item = stocked.find((t) => t.id === itemId) ?? stocked[0]!;
   const club = pool.clubs.find((c) => c.id === clubId) ?? pool.clubs[0]!;
   return (
-    <section aria-labelledby="offer-title" className="flex flex-col gap-3 rounded-2xl border border-line bg-surface p-4">
+    <section
+      aria-labelledby="offer-title"
+      className="flex flex-col gap-3 rounded-2xl border border-line bg-surface p-4"
+    >
       <h2 id="offer-title" className="text-xl font-extrabold">
         Lend spares to the club
       </h2>
-      <p className="text-sm text-ink-soft">Members of the club see the size, how many, the diameter and your note; nothing else of yours.</p>
+      <p className="text-sm text-ink-soft">
+        Members of the club see the size, how many, the diameter and your note; nothing else of yours.
+      </p>
       <Field id="offer-size" label="Shims">
         <select id="offer-size" className={inputClass} value={item.id} onChange={(e) => setItemId(e.target.value)}>
           {stocked.map((t) => (
@@ -38,13 +43,32 @@ export function OfferForm({ items }: { items: LocalTrayItem[] }) {
         </select>
       </Field>
       <Field id="offer-count" label="How many">
-        <input id="offer-count" inputMode="numeric" className={inputClass} value={count} onChange={(e) => setCount(e.target.value)} />
+        <input
+          id="offer-count"
+          inputMode="numeric"
+          className={inputClass}
+          value={count}
+          onChange={(e) => setCount(e.target.value)}
+        />
       </Field>
       <Field id="offer-diameter" label="Shim diameter (mm)" hint="Only engines with the same diameter can use them">
-        <input id="offer-diameter" inputMode="decimal" className={inputClass} placeholder={item.shimDiameter?.toString() ?? "e.g. 9.48"} value={diameter} onChange={(e) => setDiameter(e.target.value)} />
+        <input
+          id="offer-diameter"
+          inputMode="decimal"
+          className={inputClass}
+          placeholder={item.shimDiameter?.toString() ?? "e.g. 9.48"}
+          value={diameter}
+          onChange={(e) => setDiameter(e.target.value)}
+        />
       </Field>
       <Field id="offer-note" label="Note (optional)" hint="Where to collect them, for example">
-        <input id="offer-note" className={inputClass} maxLength={200} value={note} onChange={(e) => setNote(e.target.value)} />
+        <input
+          id="offer-note"
+          className={inputClass}
+          maxLength={200}
+          value={note}
+          onChange={(e) => setNote(e.target.value)}
+        />
       </Field>
       {pool.clubs.length > 1 && (
         <Field id="offer-club" label="Club">
@@ -65,10 +89,23 @@ export function OfferForm({ items }: { items: LocalTrayItem[] }) {
           if (!db) return;
           const n = Number(count);
           const d = diameter.trim() ? Number(diameter.replace(",", ".")) : (item.shimDiameter ?? null);
-          if (!Number.isInteger(n) || n < 1 || n > item.count) return setMessage({ tone: "error", text: `Offer 1 to ${item.count}` });
-          if (d != null && !(d > 0 && d < 50)) return setMessage({ tone: "error", text: "Enter the diameter in mm, e.g. 9.48" });
-          await offerToClub(db, { id: crypto.randomUUID(), clubId: club.id, size: item.size, measuredSize: item.measuredSize, count: n, shimDiameter: d, note: note.trim() || null });
-          setMessage({ tone: "ok", text: `✓ Offered ${n} × ${shimNumber(item.size, item.measuredSize)} mm to ${club.name}${navigator.onLine ? "" : " (sent on the next sync)"}` });
+          if (!Number.isInteger(n) || n < 1 || n > item.count)
+            return setMessage({ tone: "error", text: `Offer 1 to ${item.count}` });
+          if (d != null && !(d > 0 && d < 50))
+            return setMessage({ tone: "error", text: "Enter the diameter in mm, e.g. 9.48" });
+          await offerToClub(db, {
+            id: crypto.randomUUID(),
+            clubId: club.id,
+            size: item.size,
+            measuredSize: item.measuredSize,
+            count: n,
+            shimDiameter: d,
+            note: note.trim() || null,
+          });
+          setMessage({
+            tone: "ok",
+            text: `✓ Offered ${n} × ${shimNumber(item.size, item.measuredSize)} mm to ${club.name}${navigator.onLine ? "" : " (sent on the next sync)"}`,
+          });
           void pool.refresh();
         }}
       >

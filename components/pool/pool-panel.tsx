@@ -19,7 +19,13 @@ function SwapBack({ onGive }: { onGive: (size: number) => void }) {
   return (
     <div className="flex flex-wrap items-end gap-2">
       <Field id={id} label="or give back another size (mm)" error={error ?? undefined}>
-        <input id={id} inputMode="decimal" className={`${inputClass} w-32`} value={size} onChange={(e) => setSize(e.target.value)} />
+        <input
+          id={id}
+          inputMode="decimal"
+          className={`${inputClass} w-32`}
+          value={size}
+          onChange={(e) => setSize(e.target.value)}
+        />
       </Field>
       <Button
         type="button"
@@ -37,7 +43,17 @@ function SwapBack({ onGive }: { onGive: (size: number) => void }) {
   );
 }
 
-function Loan({ b, side, pending, onMove }: { b: ApiBorrow; side: "lender" | "borrower"; pending: BorrowMove | undefined; onMove: (m: BorrowMove, returnSize?: number | null) => void }) {
+function Loan({
+  b,
+  side,
+  pending,
+  onMove,
+}: {
+  b: ApiBorrow;
+  side: "lender" | "borrower";
+  pending: BorrowMove | undefined;
+  onMove: (m: BorrowMove, returnSize?: number | null) => void;
+}) {
   const other = side === "lender" ? b.borrowerName : b.lenderName;
   const moves = pending ? [] : movesFor(b.state, side);
   return (
@@ -46,13 +62,21 @@ function Loan({ b, side, pending, onMove }: { b: ApiBorrow; side: "lender" | "bo
         <span className="figures font-bold">
           {b.count} × {mm(b.size)}
         </span>{" "}
-        {side === "lender" ? "to" : "from"} <strong>{other}</strong>: {pending ? `${loanWords(MOVES[pending].to, side)} (waiting to send)` : loanWords(b.state, side)}
-        {b.returnSize != null && b.returnSize !== b.size ? <span className="block text-sm text-ink-soft">coming back as {mm(b.returnSize)}</span> : null}
+        {side === "lender" ? "to" : "from"} <strong>{other}</strong>:{" "}
+        {pending ? `${loanWords(MOVES[pending].to, side)} (waiting to send)` : loanWords(b.state, side)}
+        {b.returnSize != null && b.returnSize !== b.size ? (
+          <span className="block text-sm text-ink-soft">coming back as {mm(b.returnSize)}</span>
+        ) : null}
       </p>
       {moves.length > 0 && (
         <div className="flex flex-wrap gap-2">
           {moves.map((m) => (
-            <Button key={m} type="button" look={m === "decline" || m === "withdraw" ? "quiet" : "plain"} onClick={() => onMove(m)}>
+            <Button
+              key={m}
+              type="button"
+              look={m === "decline" || m === "withdraw" ? "quiet" : "plain"}
+              onClick={() => onMove(m)}
+            >
               {MOVES[m].label}
             </Button>
           ))}
@@ -68,7 +92,9 @@ export function PoolPanel({ club }: { club: ClubSummary }) {
   const { db, user } = useLocalCore();
   const pool = usePool();
   const offers = pool.offers.filter((o) => o.clubId === club.id);
-  const loans = pool.borrows.filter((b) => b.clubId === club.id && !["declined", "withdrawn", "settled"].includes(b.state));
+  const loans = pool.borrows.filter(
+    (b) => b.clubId === club.id && !["declined", "withdrawn", "settled"].includes(b.state),
+  );
   const pendingMove = (id: string) => pool.pendingMoves.filter((m) => m.id === id).at(-1)?.move;
   const move = async (id: string, m: BorrowMove, returnSize?: number | null) => {
     if (!db) return;
@@ -88,7 +114,9 @@ export function PoolPanel({ club }: { club: ClubSummary }) {
             <li key={o.id} className="flex flex-wrap items-baseline justify-between gap-2 border-b border-line py-1">
               {/* an offer whose shims are all lent or asked for is said in words, not as "0 ×" */}
               <span className="figures text-lg font-bold" data-testid={`offer-${o.id}`}>
-                {o.available > 0 ? `${o.available} × ${shimNumber(o.size, o.measuredSize)} mm` : `${shimNumber(o.size, o.measuredSize)} mm: all lent out or asked for`}
+                {o.available > 0
+                  ? `${o.available} × ${shimNumber(o.size, o.measuredSize)} mm`
+                  : `${shimNumber(o.size, o.measuredSize)} mm: all lent out or asked for`}
               </span>
               <span className="text-sm text-ink-soft">
                 {o.ownerId === user?.id ? "yours" : o.ownerName}
@@ -96,7 +124,11 @@ export function PoolPanel({ club }: { club: ClubSummary }) {
                 {o.note ? ` · ${o.note}` : ""}
               </span>
               {o.ownerId === user?.id && (
-                <Button type="button" look="quiet" onClick={() => db && withdrawOffer(db, o.id).then(() => pool.refresh())}>
+                <Button
+                  type="button"
+                  look="quiet"
+                  onClick={() => db && withdrawOffer(db, o.id).then(() => pool.refresh())}
+                >
                   Take back
                 </Button>
               )}
@@ -109,7 +141,13 @@ export function PoolPanel({ club }: { club: ClubSummary }) {
           <h3 className="text-lg font-bold">Loans</h3>
           <ul className="flex flex-col gap-2">
             {loans.map((b) => (
-              <Loan key={b.id} b={b} side={b.lenderId === user?.id ? "lender" : "borrower"} pending={pendingMove(b.id)} onMove={(m, r) => void move(b.id, m, r)} />
+              <Loan
+                key={b.id}
+                b={b}
+                side={b.lenderId === user?.id ? "lender" : "borrower"}
+                pending={pendingMove(b.id)}
+                onMove={(m, r) => void move(b.id, m, r)}
+              />
             ))}
           </ul>
         </>

@@ -12,7 +12,12 @@ export function AskReview({ checkId }: { checkId: string }) {
   const qc = useQueryClient();
   const { syncNow, waiting } = useLocal();
   const clubs = useQuery({ queryKey: queryKeys.clubs(), queryFn: fetchers.clubs, retry: false });
-  const shares = useQuery({ queryKey: queryKeys.shares(checkId), queryFn: () => fetchers.shares(checkId), retry: false, refetchOnMount: "always" });
+  const shares = useQuery({
+    queryKey: queryKeys.shares(checkId),
+    queryFn: () => fetchers.shares(checkId),
+    retry: false,
+    refetchOnMount: "always",
+  });
   const share = useMutation({
     mutationFn: async (clubId: string) => {
       // the server must hold the check and its readings before a mentor can read them
@@ -21,23 +26,37 @@ export function AskReview({ checkId }: { checkId: string }) {
     },
     onSuccess: () => qc.invalidateQueries({ queryKey: queryKeys.shares(checkId) }),
   });
-  const withdraw = useMutation({ mutationFn: (id: string) => mutations.withdraw(id), onSuccess: () => qc.invalidateQueries({ queryKey: queryKeys.shares(checkId) }) });
+  const withdraw = useMutation({
+    mutationFn: (id: string) => mutations.withdraw(id),
+    onSuccess: () => qc.invalidateQueries({ queryKey: queryKeys.shares(checkId) }),
+  });
   if (clubs.isError) return <Notice>Asking the club for a review needs a signal.</Notice>;
   if (!clubs.data) return null;
   if (clubs.data.length === 0) return null;
   const active = (shares.data ?? []).filter((s) => !s.withdrawnAt);
   return (
-    <section aria-labelledby="review-title" className="flex flex-col gap-2 rounded-2xl border border-line bg-surface p-4 print:hidden">
+    <section
+      aria-labelledby="review-title"
+      className="flex flex-col gap-2 rounded-2xl border border-line bg-surface p-4 print:hidden"
+    >
       <h2 id="review-title" className="text-xl font-extrabold">
         Club review
       </h2>
       {active.map((s) => (
         <div key={s.id} className="flex flex-col gap-2">
           <p>
-            Shared with <strong>{clubs.data.find((c) => c.id === s.clubId)?.name ?? "a club"}</strong>: {s.verdict ? <strong>{`${VERDICTS[s.verdict].glyph} ${VERDICTS[s.verdict].word}`}</strong> : "waiting for a mentor"}
+            Shared with <strong>{clubs.data.find((c) => c.id === s.clubId)?.name ?? "a club"}</strong>:{" "}
+            {s.verdict ? (
+              <strong>{`${VERDICTS[s.verdict].glyph} ${VERDICTS[s.verdict].word}`}</strong>
+            ) : (
+              "waiting for a mentor"
+            )}
           </p>
           <div className="flex flex-wrap gap-2">
-            <Link href={`/review?id=${checkId}`} className="inline-flex min-h-12 items-center justify-center rounded-xl border-2 border-line px-5 text-lg font-bold">
+            <Link
+              href={`/review?id=${checkId}`}
+              className="inline-flex min-h-12 items-center justify-center rounded-xl border-2 border-line px-5 text-lg font-bold"
+            >
               Comments and verdict
             </Link>
             <Button type="button" look="quiet" onClick={() => withdraw.mutate(s.id)}>

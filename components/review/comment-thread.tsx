@@ -13,11 +13,34 @@ type OnAdd = (body: string, valve: string | null, photo: File | null) => Promise
 export const commentAnchor = (id: string) => `comment-${id}`;
 
 /** One comment; the one in the thread carries the anchor a link lands on, and takes focus there. */
-export function CommentItem({ c, anchored = false, mine = false, photosOf }: { c: ThreadComment; anchored?: boolean; mine?: boolean; photosOf?: (commentId: string) => ReactNode }) {
+export function CommentItem({
+  c,
+  anchored = false,
+  mine = false,
+  photosOf,
+}: {
+  c: ThreadComment;
+  anchored?: boolean;
+  mine?: boolean;
+  photosOf?: (commentId: string) => ReactNode;
+}) {
   return (
-    <li id={anchored ? commentAnchor(c.id) : undefined} data-mine={mine ? "true" : undefined} tabIndex={anchored ? -1 : undefined} className="scroll-mt-4 rounded-xl border border-line bg-surface p-3">
+    <li
+      id={anchored ? commentAnchor(c.id) : undefined}
+      data-mine={mine ? "true" : undefined}
+      tabIndex={anchored ? -1 : undefined}
+      className="scroll-mt-4 rounded-xl border border-line bg-surface p-3"
+    >
       <p className="text-sm text-ink-soft">
-        <strong className="text-ink">{c.authorName}</strong> {c.valve ? <>on <span className="figures font-bold">{c.valve}</span></> : "on the whole check"} · {new Date(c.createdAt).toLocaleString("en-GB", { dateStyle: "short", timeStyle: "short" })}
+        <strong className="text-ink">{c.authorName}</strong>{" "}
+        {c.valve ? (
+          <>
+            on <span className="figures font-bold">{c.valve}</span>
+          </>
+        ) : (
+          "on the whole check"
+        )}{" "}
+        · {new Date(c.createdAt).toLocaleString("en-GB", { dateStyle: "short", timeStyle: "short" })}
       </p>
       <p className="break-words whitespace-pre-wrap">{c.body}</p>
       {c.pending && <p className="text-sm font-bold text-ink-soft">waiting to send</p>}
@@ -30,7 +53,19 @@ export function CommentItem({ c, anchored = false, mine = false, photosOf }: { c
  * The box to add a comment: about one valve when `valve` is given (the valve tapped on the diagram),
  * otherwise with a choice of the whole check or any valve (the way in for a keyboard).
  */
-export function CommentForm({ idPrefix, onAdd, valve, valves, busy }: { idPrefix: string; onAdd: OnAdd; valve?: string; valves?: string[]; busy?: boolean }) {
+export function CommentForm({
+  idPrefix,
+  onAdd,
+  valve,
+  valves,
+  busy,
+}: {
+  idPrefix: string;
+  onAdd: OnAdd;
+  valve?: string;
+  valves?: string[];
+  busy?: boolean;
+}) {
   const [body, setBody] = useState("");
   const [chosen, setChosen] = useState("");
   const [photo, setPhoto] = useState<File | null>(null);
@@ -54,11 +89,22 @@ export function CommentForm({ idPrefix, onAdd, valve, valves, busy }: { idPrefix
       }}
     >
       <Field id={`${idPrefix}-body`} label={valve ? `Comment on ${valve}` : "Add a comment"} error={error ?? undefined}>
-        <textarea id={`${idPrefix}-body`} rows={3} value={body} onChange={(e) => setBody(e.target.value)} className={`${inputClass} py-2`} />
+        <textarea
+          id={`${idPrefix}-body`}
+          rows={3}
+          value={body}
+          onChange={(e) => setBody(e.target.value)}
+          className={`${inputClass} py-2`}
+        />
       </Field>
       {!valve && valves && (
         <Field id={`${idPrefix}-valve`} label="About">
-          <select id={`${idPrefix}-valve`} value={chosen} onChange={(e) => setChosen(e.target.value)} className={inputClass}>
+          <select
+            id={`${idPrefix}-valve`}
+            value={chosen}
+            onChange={(e) => setChosen(e.target.value)}
+            className={inputClass}
+          >
             <option value="">the whole check</option>
             {valves.map((v) => (
               <option key={v} value={v}>
@@ -68,7 +114,11 @@ export function CommentForm({ idPrefix, onAdd, valve, valves, busy }: { idPrefix
           </select>
         </Field>
       )}
-      <Field id={`${idPrefix}-photo`} label="Attach a photo (optional)" hint={`JPEG, PNG or WebP, up to ${PHOTO_MAX_LABEL}; location data is removed`}>
+      <Field
+        id={`${idPrefix}-photo`}
+        label="Attach a photo (optional)"
+        hint={`JPEG, PNG or WebP, up to ${PHOTO_MAX_LABEL}; location data is removed`}
+      >
         <input
           key={photoKey}
           id={`${idPrefix}-photo`}
@@ -93,7 +143,21 @@ export function CommentForm({ idPrefix, onAdd, valve, valves, busy }: { idPrefix
   );
 }
 
-export function CommentThread({ comments, valves, onAdd, busy, photosOf, me }: { comments: ThreadComment[]; valves: string[]; onAdd: OnAdd; busy?: boolean; photosOf?: (commentId: string) => ReactNode; me?: string }) {
+export function CommentThread({
+  comments,
+  valves,
+  onAdd,
+  busy,
+  photosOf,
+  me,
+}: {
+  comments: ThreadComment[];
+  valves: string[];
+  onAdd: OnAdd;
+  busy?: boolean;
+  photosOf?: (commentId: string) => ReactNode;
+  me?: string;
+}) {
   return (
     <section id="comments" tabIndex={-1} aria-labelledby="comments-title" className="flex scroll-mt-4 flex-col gap-3">
       <h2 id="comments-title" className="text-xl font-extrabold">

@@ -35,12 +35,29 @@ export function ReviewScreen() {
   const id = useSearchParams().get("id") ?? "";
   const qc = useQueryClient();
   const check = useQuery({ queryKey: queryKeys.check(id), queryFn: () => fetchers.check(id), retry: false });
-  const readings = useQuery({ queryKey: queryKeys.readings(id), queryFn: () => fetchers.readings(id), enabled: check.isSuccess });
+  const readings = useQuery({
+    queryKey: queryKeys.readings(id),
+    queryFn: () => fetchers.readings(id),
+    enabled: check.isSuccess,
+  });
   // the other side may have written since the kept copy was saved: ask again on every visit
-  const comments = useQuery({ queryKey: queryKeys.comments(id), queryFn: () => fetchers.comments(id), enabled: check.isSuccess, refetchOnMount: "always" });
-  const shares = useQuery({ queryKey: queryKeys.shares(id), queryFn: () => fetchers.shares(id), enabled: check.isSuccess, refetchOnMount: "always" });
+  const comments = useQuery({
+    queryKey: queryKeys.comments(id),
+    queryFn: () => fetchers.comments(id),
+    enabled: check.isSuccess,
+    refetchOnMount: "always",
+  });
+  const shares = useQuery({
+    queryKey: queryKeys.shares(id),
+    queryFn: () => fetchers.shares(id),
+    enabled: check.isSuccess,
+    refetchOnMount: "always",
+  });
   const engine = check.data?.engine as unknown as LocalEngine | undefined;
-  const views = useMemo(() => (engine && readings.data ? valveViews(engine, readings.data as unknown as LocalReading[], () => null) : null), [engine, readings.data]);
+  const views = useMemo(
+    () => (engine && readings.data ? valveViews(engine, readings.data as unknown as LocalReading[], () => null) : null),
+    [engine, readings.data],
+  );
   const plan = useMemo(() => {
     try {
       return engine && views ? checkPlan(engine, views, []) : null;
@@ -67,11 +84,20 @@ export function ReviewScreen() {
   }, [pickN]);
   const local = useLiveQuery(async () => (db ? db.comments.where("checkId").equals(id).toArray() : []), [db, id], []);
   const outbox = useLiveQuery(async () => (db ? db.outbox.toArray() : []), [db], []);
-  const pendingIds = new Set(outbox.filter((m) => m.name === "comment.add/1").map((m) => (m.args as { id: string }).id));
-  const pendingVerdict = outbox.filter((m) => m.name === "verdict.set/1").map((m) => m.args as MutationArgs<"verdict.set/1">).at(-1);
+  const pendingIds = new Set(
+    outbox.filter((m) => m.name === "comment.add/1").map((m) => (m.args as { id: string }).id),
+  );
+  const pendingVerdict = outbox
+    .filter((m) => m.name === "verdict.set/1")
+    .map((m) => m.args as MutationArgs<"verdict.set/1">)
+    .at(-1);
   const refresh = async () => {
     await syncNow();
-    await Promise.all([qc.invalidateQueries({ queryKey: queryKeys.comments(id) }), qc.invalidateQueries({ queryKey: queryKeys.shares(id) }), qc.invalidateQueries({ queryKey: queryKeys.photos(id) })]);
+    await Promise.all([
+      qc.invalidateQueries({ queryKey: queryKeys.comments(id) }),
+      qc.invalidateQueries({ queryKey: queryKeys.shares(id) }),
+      qc.invalidateQueries({ queryKey: queryKeys.photos(id) }),
+    ]);
   };
   const onComment = async (body: string, valve: string | null, photo: File | null) => {
     if (!user) throw new Error("Sign in on this phone first");
@@ -102,7 +128,9 @@ export function ReviewScreen() {
       let el: HTMLElement | null;
       if (hash === "comments") {
         // the newest comment by someone else is the one the mail was about
-        const theirs = [...document.querySelectorAll<HTMLElement>("#comments li[id^='comment-']")].filter((li) => li.dataset.mine !== "true");
+        const theirs = [...document.querySelectorAll<HTMLElement>("#comments li[id^='comment-']")].filter(
+          (li) => li.dataset.mine !== "true",
+        );
         el = theirs.at(-1) ?? document.getElementById("comments");
       } else el = document.getElementById(hash);
       if (el) {
@@ -120,7 +148,12 @@ export function ReviewScreen() {
   }, [drawn, commentsIn, sharesIn]);
 
   if (check.isPending) return <p className="text-ink-soft">Loading the check…</p>;
-  if (check.isError) return <Notice tone="error">{check.error.message}. Open the check once with a signal to keep it for reading offline.</Notice>;
+  if (check.isError)
+    return (
+      <Notice tone="error">
+        {check.error.message}. Open the check once with a signal to keep it for reading offline.
+      </Notice>
+    );
   if (!engine || !views) return null;
   const share = shares.data?.find((s) => !s.withdrawnAt);
   const unit = engine.displayUnit;
@@ -131,7 +164,16 @@ export function ReviewScreen() {
     ...serverComments.map((c) => ({ ...c, pending: pendingIds.has(c.id) })),
     ...local
       .filter((c) => !known.has(c.id))
-      .map((c) => ({ id: c.id, checkId: c.checkId, valve: c.valve, body: c.body, authorId: c.authorId, authorName: c.authorId === user?.id ? user.name : c.authorId === null ? FORMER_MEMBER : "club member", createdAt: String(c.createdAt), pending: pendingIds.has(c.id) })),
+      .map((c) => ({
+        id: c.id,
+        checkId: c.checkId,
+        valve: c.valve,
+        body: c.body,
+        authorId: c.authorId,
+        authorName: c.authorId === user?.id ? user.name : c.authorId === null ? FORMER_MEMBER : "club member",
+        createdAt: String(c.createdAt),
+        pending: pendingIds.has(c.id),
+      })),
   ].sort((a, b) => new Date(a.createdAt).getTime() - new Date(b.createdAt).getTime());
   const dots = new Set(thread.map((c) => c.valve).filter((v): v is string => !!v));
   const pickedView = picked ? views.find((v) => v.valve.id === picked) : undefined;
@@ -141,19 +183,27 @@ export function ReviewScreen() {
   return (
     <div className="flex flex-col gap-5">
       <p className="figures text-ink-soft">
-        {engine.name} · {check.data.check.odometer.toLocaleString("en")} {engine.odometerUnit} · {isMentor ? "read-only: you are reviewing" : "your check"}
+        {engine.name} · {check.data.check.odometer.toLocaleString("en")} {engine.odometerUnit} ·{" "}
+        {isMentor ? "read-only: you are reviewing" : "your check"}
       </p>
       {/* how the shims are reached: under the buckets, the mentor sees which cams come out */}
       <p className="font-bold" data-testid="review-shim-position">
         {shimPositionWords(engine.shimPosition)}
-        {engine.shimPosition === "under" && plan ? ` · ${camsOutWords(camsOut({ shimPosition: "under", valves: plan.assignments.filter((a) => a.source.kind !== "keep").map((a) => a.valveId) }))}` : ""}
+        {engine.shimPosition === "under" && plan
+          ? ` · ${camsOutWords(camsOut({ shimPosition: "under", valves: plan.assignments.filter((a) => a.source.kind !== "keep").map((a) => a.valveId) }))}`
+          : ""}
       </p>
       {!isMentor && (
-        <Link href={`/check?id=${id}`} className="inline-flex min-h-12 items-center justify-center self-start rounded-xl border-2 border-line px-5 text-lg font-bold">
+        <Link
+          href={`/check?id=${id}`}
+          className="inline-flex min-h-12 items-center justify-center self-start rounded-xl border-2 border-line px-5 text-lg font-bold"
+        >
           Open the check to work on it
         </Link>
       )}
-      <p className="text-sm text-ink-soft">Tap a valve for its readings and comments{isMentor ? ", and to comment on it" : ""}.</p>
+      <p className="text-sm text-ink-soft">
+        Tap a valve for its readings and comments{isMentor ? ", and to comment on it" : ""}.
+      </p>
       <EngineDiagram
         views={views}
         facing={facingOf(engine)}
@@ -165,12 +215,20 @@ export function ReviewScreen() {
         }}
       />
       {picked && pickedView && (
-        <section aria-labelledby="valve-panel-title" data-testid="valve-panel" className="flex scroll-mt-4 flex-col gap-3 rounded-2xl border-2 border-accent bg-surface p-3">
+        <section
+          aria-labelledby="valve-panel-title"
+          data-testid="valve-panel"
+          className="flex scroll-mt-4 flex-col gap-3 rounded-2xl border-2 border-accent bg-surface p-3"
+        >
           <div className="flex flex-wrap items-center justify-between gap-2">
             <h2 id="valve-panel-title" ref={panelHeading} tabIndex={-1} className="figures text-xl font-extrabold">
               Valve {picked}
             </h2>
-            <button type="button" onClick={() => setPicked(null)} className="min-h-12 rounded-xl border-2 border-line px-4 font-bold">
+            <button
+              type="button"
+              onClick={() => setPicked(null)}
+              className="min-h-12 rounded-xl border-2 border-line px-4 font-bold"
+            >
               Close
             </button>
           </div>
@@ -203,7 +261,11 @@ export function ReviewScreen() {
         </h2>
         <ul className="figures flex flex-col gap-1 text-base">
           {views.map((v) => (
-            <li key={v.valve.id} className="flex flex-col gap-1 border-b border-line py-1" data-testid={`rounds-${v.valve.id}`}>
+            <li
+              key={v.valve.id}
+              className="flex flex-col gap-1 border-b border-line py-1"
+              data-testid={`rounds-${v.valve.id}`}
+            >
               <strong>{v.valve.id}</strong>
               {/* every round, the first readings and each re-check, so the reviewer reads the whole story */}
               <ol className="flex flex-col gap-0.5">
@@ -227,25 +289,44 @@ export function ReviewScreen() {
         <PhotoStrip checkId={id} valve={null} canAdd label="the whole check" />
       </section>
       {plan && <PlanTable engine={engine} plan={plan} byId={new Map(views.map((v) => [v.valve.id, v]))} />}
-      <section id="verdict" tabIndex={-1} aria-labelledby="verdict-title" className="flex scroll-mt-4 flex-col gap-2 rounded-2xl border-2 border-accent p-4">
+      <section
+        id="verdict"
+        tabIndex={-1}
+        aria-labelledby="verdict-title"
+        className="flex scroll-mt-4 flex-col gap-2 rounded-2xl border-2 border-accent p-4"
+      >
         <h2 id="verdict-title" className="text-xl font-extrabold">
           Verdict
         </h2>
         <p data-testid="verdict">
           {shownVerdict ? `${VERDICTS[shownVerdict].glyph} ${VERDICTS[shownVerdict].word}` : "No verdict yet."}
-          {pendingVerdict && pendingVerdict.shareId === share?.id && <span className="block text-sm font-bold text-ink-soft">waiting to send</span>}
+          {pendingVerdict && pendingVerdict.shareId === share?.id && (
+            <span className="block text-sm font-bold text-ink-soft">waiting to send</span>
+          )}
         </p>
         {isMentor && share && (
           <div className="flex flex-col gap-2">
             {(Object.keys(VERDICTS) as Verdict[]).map((k) => (
-              <button key={k} type="button" aria-pressed={shownVerdict === k} onClick={() => void onVerdict(share.id, k)} className={`min-h-14 rounded-xl border-2 px-4 text-left text-lg font-bold ${shownVerdict === k ? "border-accent bg-accent text-accent-ink" : "border-line"}`}>
+              <button
+                key={k}
+                type="button"
+                aria-pressed={shownVerdict === k}
+                onClick={() => void onVerdict(share.id, k)}
+                className={`min-h-14 rounded-xl border-2 px-4 text-left text-lg font-bold ${shownVerdict === k ? "border-accent bg-accent text-accent-ink" : "border-line"}`}
+              >
                 {VERDICTS[k].glyph} {VERDICTS[k].word}
               </button>
             ))}
           </div>
         )}
       </section>
-      <CommentThread me={user?.id} comments={thread} valves={views.map((v) => v.valve.id)} onAdd={onComment} photosOf={(cid) => <PhotoStrip checkId={id} valve={null} commentId={cid} canAdd={false} label="this comment" />} />
+      <CommentThread
+        me={user?.id}
+        comments={thread}
+        valves={views.map((v) => v.valve.id)}
+        onAdd={onComment}
+        photosOf={(cid) => <PhotoStrip checkId={id} valve={null} commentId={cid} canAdd={false} label="this comment" />}
+      />
     </div>
   );
 }

@@ -11,18 +11,33 @@ import { isChunkLoadError } from "@/lib/offline/chunk-error";
 export function LoadFailed({ error, retry }: { error: unknown; retry?: () => void }) {
   const chunk = isChunkLoadError(error);
   return (
-    <section role="alert" className="flex flex-col gap-2 rounded-xl border-2 border-tight bg-surface p-3" data-testid="load-failed">
-      <h2 className="font-bold">{chunk ? "This part of the app could not be loaded" : "Something went wrong on this screen"}</h2>
+    <section
+      role="alert"
+      className="flex flex-col gap-2 rounded-xl border-2 border-tight bg-surface p-3"
+      data-testid="load-failed"
+    >
+      <h2 className="font-bold">
+        {chunk ? "This part of the app could not be loaded" : "Something went wrong on this screen"}
+      </h2>
       <p>
-        Your readings are saved on this phone. {chunk ? "The app was probably updated, or there is no signal and this part was not kept. " : ""}
+        Your readings are saved on this phone.{" "}
+        {chunk ? "The app was probably updated, or there is no signal and this part was not kept. " : ""}
         Reload to carry on{chunk ? " (with a signal, if this comes back)" : ""}.
       </p>
       <div className="flex flex-wrap gap-2">
-        <button type="button" onClick={() => window.location.reload()} className="inline-flex min-h-12 items-center rounded-xl bg-accent px-5 font-bold text-accent-ink">
+        <button
+          type="button"
+          onClick={() => window.location.reload()}
+          className="inline-flex min-h-12 items-center rounded-xl bg-accent px-5 font-bold text-accent-ink"
+        >
           Reload
         </button>
         {retry && !chunk && (
-          <button type="button" onClick={retry} className="inline-flex min-h-12 items-center rounded-xl border-2 border-line px-5 font-bold">
+          <button
+            type="button"
+            onClick={retry}
+            className="inline-flex min-h-12 items-center rounded-xl border-2 border-line px-5 font-bold"
+          >
             Try again
           </button>
         )}
@@ -41,6 +56,10 @@ export class StepBoundary extends Component<{ children: ReactNode }, { error: un
     console.error("[step] failed to show:", error);
   }
   render() {
-    return this.state.error ? <LoadFailed error={this.state.error} retry={() => this.setState({ error: null })} /> : this.props.children;
+    return this.state.error ? (
+      <LoadFailed error={this.state.error} retry={() => this.setState({ error: null })} />
+    ) : (
+      this.props.children
+    );
   }
 }

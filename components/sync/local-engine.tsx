@@ -3,7 +3,17 @@
 import { liveQuery } from "dexie";
 import { useCallback, useEffect, useMemo, useRef, useState } from "react";
 import { openLocalDb, getMeta, type LocalDb, type OutboxEntry } from "@/lib/sync/local-db";
-import { discardHeld, heldEntries, Offline, retryHeld, ServerBusy, SessionRevoked, SignedOut, syncOnce, type SyncState } from "@/lib/sync/client";
+import {
+  discardHeld,
+  heldEntries,
+  Offline,
+  retryHeld,
+  ServerBusy,
+  SessionRevoked,
+  SignedOut,
+  syncOnce,
+  type SyncState,
+} from "@/lib/sync/client";
 import { waitingCount } from "@/lib/sync/outbox";
 import { retryDelay } from "@/lib/sync/transport";
 import { preloadWrites } from "@/lib/sync/later";
@@ -32,7 +42,19 @@ export interface EngineState {
 
 const SYNC_EVERY_MS = 30_000;
 
-export default function LocalEngine({ userId, state, setState, onChange, onRevoked }: { userId: string; state: SyncState; setState: (s: SyncState) => void; onChange: (e: EngineState | null) => void; onRevoked: () => Promise<void> }) {
+export default function LocalEngine({
+  userId,
+  state,
+  setState,
+  onChange,
+  onRevoked,
+}: {
+  userId: string;
+  state: SyncState;
+  setState: (s: SyncState) => void;
+  onChange: (e: EngineState | null) => void;
+  onRevoked: () => Promise<void>;
+}) {
   const db = useMemo(() => openLocalDb(userId), [userId]);
   // the screens' writes come in now, so the first tap does not wait for them
   useEffect(() => preloadWrites(), []);
@@ -40,7 +62,8 @@ export default function LocalEngine({ userId, state, setState, onChange, onRevok
   useEffect(() => {
     // a deletion (signing out in another window) has newVersion null: nothing to say then
     const onVersion = (ev: IDBVersionChangeEvent) => void (ev.newVersion && setDbNotice("closed"));
-    const onBlocked = (ev: IDBVersionChangeEvent) => void (ev.newVersion && ev.newVersion > ev.oldVersion && setDbNotice("blocked"));
+    const onBlocked = (ev: IDBVersionChangeEvent) =>
+      void (ev.newVersion && ev.newVersion > ev.oldVersion && setDbNotice("blocked"));
     db.on("versionchange", onVersion);
     db.on("blocked", onBlocked);
     return () => {
@@ -84,7 +107,8 @@ export default function LocalEngine({ userId, state, setState, onChange, onRevok
             setState("busy");
           } else if (e instanceof SessionRevoked) await revokeNow.current();
           else setState(e instanceof SignedOut ? "signed-out" : e instanceof Offline ? "offline" : "error");
-          if (!(e instanceof Offline || e instanceof SignedOut || e instanceof ServerBusy)) console.error("[sync] failed:", e);
+          if (!(e instanceof Offline || e instanceof SignedOut || e instanceof ServerBusy))
+            console.error("[sync] failed:", e);
           break;
         }
       } while (again.current);
@@ -109,7 +133,10 @@ export default function LocalEngine({ userId, state, setState, onChange, onRevok
     document.addEventListener("visibilitychange", onFocus);
     navigator.serviceWorker?.addEventListener("message", onMessage);
     // the regular sync waits while a busy server's retry is pending
-    const timer = setInterval(() => navigator.onLine && Date.now() >= busyUntil.current && void syncNow(), SYNC_EVERY_MS);
+    const timer = setInterval(
+      () => navigator.onLine && Date.now() >= busyUntil.current && void syncNow(),
+      SYNC_EVERY_MS,
+    );
     return () => {
       window.removeEventListener("online", onOnline);
       document.removeEventListener("visibilitychange", onFocus);
@@ -120,8 +147,18 @@ export default function LocalEngine({ userId, state, setState, onChange, onRevok
 
   // changes and photos not yet on the server (read straight through liveQuery: the context's
   // copy of it is what this module hands up)
-  const waiting = useLiveQuery(async () => (await waitingCount(db)) + (await db.photos.where("state").equals("waiting").count()), [db], 0, liveQuery);
-  const lastSyncAt = useLiveQuery(async () => (await getMeta<number>(db, "lastSyncAt")) ?? null, [db, state], null, liveQuery);
+  const waiting = useLiveQuery(
+    async () => (await waitingCount(db)) + (await db.photos.where("state").equals("waiting").count()),
+    [db],
+    0,
+    liveQuery,
+  );
+  const lastSyncAt = useLiveQuery(
+    async () => (await getMeta<number>(db, "lastSyncAt")) ?? null,
+    [db, state],
+    null,
+    liveQuery,
+  );
   const held = useLiveQuery(() => heldEntries(db), [db], [] as OutboxEntry[], liveQuery);
   const retry = useCallback(
     async (seq: number) => {
@@ -136,7 +173,11 @@ export default function LocalEngine({ userId, state, setState, onChange, onRevok
   useEffect(() => {
     if (waiting === 0 || !("serviceWorker" in navigator)) return;
     navigator.serviceWorker.ready
-      .then((reg) => (reg as ServiceWorkerRegistration & { sync?: { register(tag: string): Promise<void> } }).sync?.register("lashwright-sync"))
+      .then((reg) =>
+        (reg as ServiceWorkerRegistration & { sync?: { register(tag: string): Promise<void> } }).sync?.register(
+          "lashwright-sync",
+        ),
+      )
       .catch(() => undefined);
   }, [waiting]);
 

@@ -2,7 +2,18 @@
 
 import { del } from "idb-keyval";
 import { usePathname } from "next/navigation";
-import { createContext, lazy, Suspense, useCallback, useContext, useEffect, useMemo, useRef, useState, type ReactNode } from "react";
+import {
+  createContext,
+  lazy,
+  Suspense,
+  useCallback,
+  useContext,
+  useEffect,
+  useMemo,
+  useRef,
+  useState,
+  type ReactNode,
+} from "react";
 import type { LocalDb, OutboxEntry } from "@/lib/sync/local-db";
 import type { SyncState } from "@/lib/sync/client";
 import { useIsClient, useStored } from "@/components/ui/use-stored";
@@ -19,7 +30,18 @@ const PersistQueries = lazy(() => import("./persist-queries").then((m) => ({ def
  * signal (it reads the server through the API; it asks for the database when it writes or has no
  * signal). They never load the local database or the sync client.
  */
-const WITHOUT_LOCAL_DB = ["/", "/review", "/sign-in", "/sign-up", "/forgot-password", "/reset-password", "/verify", "/invite", "/unsubscribe", "/offline"];
+const WITHOUT_LOCAL_DB = [
+  "/",
+  "/review",
+  "/sign-in",
+  "/sign-up",
+  "/forgot-password",
+  "/reset-password",
+  "/verify",
+  "/invite",
+  "/unsubscribe",
+  "/offline",
+];
 export function needsLocalDb(path: string): boolean {
   return !WITHOUT_LOCAL_DB.some((p) => path === p || (p !== "/" && path.startsWith(`${p}/`)));
 }
@@ -127,7 +149,10 @@ export function LocalProvider({ children }: { children: ReactNode }) {
     setState("signed-out");
     if (!userId) return;
     const wipe = async () => {
-      const [{ wipeRevoked }, { openLocalDb }] = await Promise.all([import("@/lib/sync/client"), import("@/lib/sync/local-db")]);
+      const [{ wipeRevoked }, { openLocalDb }] = await Promise.all([
+        import("@/lib/sync/client"),
+        import("@/lib/sync/local-db"),
+      ]);
       const db = engineNow.current?.db ?? openLocalDb(userId);
       return wipeRevoked(db);
     };
@@ -154,7 +179,13 @@ export function LocalProvider({ children }: { children: ReactNode }) {
     // minted before a sign-out everywhere or a new password answers { revoked: true }.
     fetch("/api/auth/session", { credentials: "same-origin" })
       .then(async (res) => (await res.json().catch(() => ({}))) as { user?: unknown; revoked?: boolean })
-      .then((s) => (s.revoked ? "revoked" : s.user ? fetch("/api/account", { credentials: "same-origin" }) : new Response(null, { status: 401 })))
+      .then((s) =>
+        s.revoked
+          ? "revoked"
+          : s.user
+            ? fetch("/api/account", { credentials: "same-origin" })
+            : new Response(null, { status: 401 }),
+      )
       .then(async (res) => {
         if (res === "revoked") return void revokeNow.current();
         if (res.status === 401) {
@@ -165,7 +196,8 @@ export function LocalProvider({ children }: { children: ReactNode }) {
         const { user: u } = (await res.json()) as { user: LocalUser };
         const prev = storedUser();
         const keep: LocalUser = { id: u.id, name: u.name, email: u.email, displayUnit: u.displayUnit };
-        if (!prev || prev.id !== keep.id || prev.name !== keep.name || prev.displayUnit !== keep.displayUnit) storeUser(keep);
+        if (!prev || prev.id !== keep.id || prev.name !== keep.name || prev.displayUnit !== keep.displayUnit)
+          storeUser(keep);
         storeRevoked(null);
       })
       .catch(() => setState("offline"));
@@ -174,7 +206,9 @@ export function LocalProvider({ children }: { children: ReactNode }) {
   // Ask the browser to keep our data; the answer is shown in the status line.
   useEffect(() => {
     if (!navigator.storage?.persist) return;
-    navigator.storage.persisted().then((already) => (already ? setPersisted(true) : navigator.storage.persist().then(setPersisted)));
+    navigator.storage
+      .persisted()
+      .then((already) => (already ? setPersisted(true) : navigator.storage.persist().then(setPersisted)));
   }, []);
 
   const syncNow = useCallback(async () => {
@@ -219,7 +253,10 @@ export function LocalProvider({ children }: { children: ReactNode }) {
   // the screens read this one: a tap's new outbox entry changes the counts above, and only the
   // frame's sync line shows them, so the screen is not drawn again for it
   const { db, live } = value;
-  const core = useMemo<LocalCore>(() => ({ user, ready, db, live, needDb, syncNow, forget }), [user, ready, db, live, needDb, syncNow, forget]);
+  const core = useMemo<LocalCore>(
+    () => ({ user, ready, db, live, needDb, syncNow, forget }),
+    [user, ready, db, live, needDb, syncNow, forget],
+  );
   return (
     <CoreCtx.Provider value={core}>
       <Ctx.Provider value={value}>
@@ -230,7 +267,14 @@ export function LocalProvider({ children }: { children: ReactNode }) {
         )}
         {ready && userId && wanted && (
           <Suspense fallback={null}>
-            <LocalEngine key={userId} userId={userId} state={state} setState={setState} onChange={onEngine} onRevoked={onRevoked} />
+            <LocalEngine
+              key={userId}
+              userId={userId}
+              state={state}
+              setState={setState}
+              onChange={onEngine}
+              onRevoked={onRevoked}
+            />
           </Suspense>
         )}
         {children}

@@ -18,12 +18,18 @@ export function PersistQueries({ userId }: { userId: string | null }) {
   const qc = useQueryClient();
   useEffect(() => {
     if (!userId) return;
-    const persister = createAsyncStoragePersister({ storage: { getItem: get, setItem: set, removeItem: del }, key: `lashwright-cache-${userId}`, throttleTime: 1000 });
+    const persister = createAsyncStoragePersister({
+      storage: { getItem: get, setItem: set, removeItem: del },
+      key: `lashwright-cache-${userId}`,
+      throttleTime: 1000,
+    });
     const [unsubscribe] = persistQueryClient({
       queryClient: qc,
       persister,
       maxAge: WEEKS_4,
-      dehydrateOptions: { shouldDehydrateQuery: (q) => q.state.status === "success" && KEPT.has(String(q.queryKey[0])) },
+      dehydrateOptions: {
+        shouldDehydrateQuery: (q) => q.state.status === "success" && KEPT.has(String(q.queryKey[0])),
+      },
     });
     return () => {
       unsubscribe();

@@ -16,17 +16,25 @@ export function StorageNotice() {
   const [dismissed, setDismissed] = useStored<boolean>(DISMISSED_KEY, false);
   if (persisted !== false || dismissed) return null;
   return (
-    <section aria-labelledby="storage-notice-title" className="flex flex-col gap-2 rounded-xl border-2 border-line bg-surface p-3" data-testid="storage-notice">
+    <section
+      aria-labelledby="storage-notice-title"
+      className="flex flex-col gap-2 rounded-xl border-2 border-line bg-surface p-3"
+      data-testid="storage-notice"
+    >
       <h2 id="storage-notice-title" className="font-bold">
         This browser may clear Lashwright&apos;s data
       </h2>
       <p className="text-ink-soft">
         It did not agree to keep what is saved on this phone for good: when space runs low it may delete it
-        {waiting > 0 ? `, including the ${waiting} change${waiting === 1 ? "" : "s"} not yet synced` : ""}. What is synced stays safe on the server. To keep
-        your work on the phone, add Lashwright to the home screen (in the browser&apos;s menu: Install app, or Add to Home screen),
-        and let it sync whenever you have a signal.
+        {waiting > 0 ? `, including the ${waiting} change${waiting === 1 ? "" : "s"} not yet synced` : ""}. What is
+        synced stays safe on the server. To keep your work on the phone, add Lashwright to the home screen (in the
+        browser&apos;s menu: Install app, or Add to Home screen), and let it sync whenever you have a signal.
       </p>
-      <button type="button" onClick={() => setDismissed(true)} className="inline-flex min-h-12 items-center self-start rounded-xl border-2 border-line px-4 font-bold">
+      <button
+        type="button"
+        onClick={() => setDismissed(true)}
+        className="inline-flex min-h-12 items-center self-start rounded-xl border-2 border-line px-4 font-bold"
+      >
         Got it, don&apos;t show again
       </button>
     </section>

@@ -48,9 +48,11 @@ export function SyncLine() {
   let text: string;
   if (state === "signed-out") text = `Saved on this phone · ${changes} · sign in to sync`;
   else if (state === "syncing") text = `Syncing ${changes}…`;
-  else if (state === "busy") text = `Saved on this phone · ${changes} · waiting for the server (${limited ? "many changes at once, sent in parts" : "busy"})${retryAt ? `, next try at ${new Date(retryAt).toLocaleTimeString([], { hour: "2-digit", minute: "2-digit", second: "2-digit" })}` : ""}`;
+  else if (state === "busy")
+    text = `Saved on this phone · ${changes} · waiting for the server (${limited ? "many changes at once, sent in parts" : "busy"})${retryAt ? `, next try at ${new Date(retryAt).toLocaleTimeString([], { hour: "2-digit", minute: "2-digit", second: "2-digit" })}` : ""}`;
   // no answer at all: say so, rather than a reassuring "All synced" that is only about the past
-  else if (state === "offline") text = `No signal · ${waiting > 0 ? `saved on this phone, ${changes}` : lastSyncAt ? `everything was synced ${ago(lastSyncAt)}` : "saved on this phone"}`;
+  else if (state === "offline")
+    text = `No signal · ${waiting > 0 ? `saved on this phone, ${changes}` : lastSyncAt ? `everything was synced ${ago(lastSyncAt)}` : "saved on this phone"}`;
   else if (waiting > 0) text = `Saved on this phone · ${changes}`;
   else if (lastSyncAt) text = `All synced · ${ago(lastSyncAt)}`;
   else text = "Saved on this phone";
@@ -62,7 +64,10 @@ export function SyncLine() {
           {text}
         </span>
         {state === "signed-out" ? (
-          <Link href="/sign-in?next=/engines" className="ml-auto inline-flex min-h-12 items-center px-2 font-bold underline">
+          <Link
+            href="/sign-in?next=/engines"
+            className="ml-auto inline-flex min-h-12 items-center px-2 font-bold underline"
+          >
             Sign in
           </Link>
         ) : (
@@ -76,12 +81,15 @@ export function SyncLine() {
       {later && (
         <div className="flex flex-wrap items-center gap-2 text-ink-soft" data-testid="sync-later">
           <span>
-            The server could not take {whatChange(later)} yet ({later.held!.reason}); it stays on this phone, and it and the changes after it are sent
-            again at the next sync.
+            The server could not take {whatChange(later)} yet ({later.held!.reason}); it stays on this phone, and it and
+            the changes after it are sent again at the next sync.
           </span>
           <button
             type="button"
-            onClick={() => window.confirm(`Discard ${whatChange(later)}? The changes after it then go through.`) && void discard(later.seq!)}
+            onClick={() =>
+              window.confirm(`Discard ${whatChange(later)}? The changes after it then go through.`) &&
+              void discard(later.seq!)
+            }
             className="min-h-12 rounded-xl border-2 border-line px-3 font-bold"
           >
             Discard it
@@ -91,7 +99,8 @@ export function SyncLine() {
       {refused.length > 0 && (
         <details className="text-tight" open data-testid="sync-refused">
           <summary className="min-h-12 cursor-pointer py-3 font-bold">
-            ✕ The server refused {refused.length} change{refused.length === 1 ? "" : "s"}: kept on this phone until you decide
+            ✕ The server refused {refused.length} change{refused.length === 1 ? "" : "s"}: kept on this phone until you
+            decide
           </summary>
           <ul className="flex flex-col gap-2 text-ink">
             {refused.map((m) => (
@@ -101,12 +110,19 @@ export function SyncLine() {
                 </span>
                 <span className="flex flex-wrap gap-2">
                   {/* retry after fixing what it depends on (the engine, the check); discard takes the server's copy */}
-                  <button type="button" onClick={() => void retry(m.seq!)} className="min-h-12 rounded-xl border-2 border-line px-3 font-bold">
+                  <button
+                    type="button"
+                    onClick={() => void retry(m.seq!)}
+                    className="min-h-12 rounded-xl border-2 border-line px-3 font-bold"
+                  >
                     Send again
                   </button>
                   <button
                     type="button"
-                    onClick={() => window.confirm(`Discard ${whatChange(m)}? What the server has stays as it is.`) && void discard(m.seq!)}
+                    onClick={() =>
+                      window.confirm(`Discard ${whatChange(m)}? What the server has stays as it is.`) &&
+                      void discard(m.seq!)
+                    }
                     className="min-h-12 rounded-xl border-2 border-line px-3 font-bold"
                   >
                     Discard

@@ -41,7 +41,8 @@ export function UpdateNotice() {
     const onControllerChange = () => !stop && setReady(true);
     onTakeOver.add(onControllerChange);
     let reg: ServiceWorkerRegistration | undefined;
-    const watch = (w: ServiceWorker | null) => w?.addEventListener("statechange", () => w.state === "installed" && sw.controller && !stop && setReady(true));
+    const watch = (w: ServiceWorker | null) =>
+      w?.addEventListener("statechange", () => w.state === "installed" && sw.controller && !stop && setReady(true));
     const onFound = () => watch(reg?.installing ?? null);
     // a signal again, or the page back in view: a good moment to ask whether a new build is out
     const check = () => navigator.onLine && reg?.update().catch(() => undefined);
@@ -91,22 +92,39 @@ export function UpdateNotice() {
 
   if (dbNotice === "closed" || dbNotice === "blocked")
     return (
-      <div role="status" className="flex flex-wrap items-center gap-2 rounded-xl border-2 border-accent bg-surface p-2 text-sm" data-testid="db-notice">
+      <div
+        role="status"
+        className="flex flex-wrap items-center gap-2 rounded-xl border-2 border-accent bg-surface p-2 text-sm"
+        data-testid="db-notice"
+      >
         <span>
           {dbNotice === "closed"
             ? "A newer version of Lashwright opened in another window and needs this one to reload (your readings are saved)."
             : "Lashwright is open in an older window: close it or reload it to finish the update (your readings are saved)."}
         </span>
-        <button type="button" onClick={() => window.location.reload()} className="ml-auto min-h-12 rounded-xl bg-accent px-4 font-bold text-accent-ink">
+        <button
+          type="button"
+          onClick={() => window.location.reload()}
+          className="ml-auto min-h-12 rounded-xl bg-accent px-4 font-bold text-accent-ink"
+        >
           Reload
         </button>
       </div>
     );
   if (!ready) return null;
   return (
-    <div role="status" className="flex flex-wrap items-center gap-2 rounded-xl border-2 border-accent bg-surface p-2 text-sm" data-testid="update-notice">
+    <div
+      role="status"
+      className="flex flex-wrap items-center gap-2 rounded-xl border-2 border-accent bg-surface p-2 text-sm"
+      data-testid="update-notice"
+    >
       <span>A new version is ready: reload (your readings are saved)</span>
-      <button type="button" disabled={reloading} onClick={() => void reload()} className="ml-auto min-h-12 rounded-xl bg-accent px-4 font-bold text-accent-ink">
+      <button
+        type="button"
+        disabled={reloading}
+        onClick={() => void reload()}
+        className="ml-auto min-h-12 rounded-xl bg-accent px-4 font-bold text-accent-ink"
+      >
         Reload
       </button>
     </div>

@@ -4,7 +4,11 @@ import { useEffect, useMemo, useReducer, useRef } from "react";
 import { useLocalCore } from "./local-provider";
 
 /** Dexie's liveQuery, as the local database's module (loaded behind the first paint) hands it over. */
-type Live = <T>(querier: () => T | Promise<T>) => { subscribe(next: (v: T) => void, error?: (e: unknown) => void): { unsubscribe(): void }; getValue?(): T; hasValue?(): boolean };
+type Live = <T>(querier: () => T | Promise<T>) => {
+  subscribe(next: (v: T) => void, error?: (e: unknown) => void): { unsubscribe(): void };
+  getValue?(): T;
+  hasValue?(): boolean;
+};
 
 /**
  * A Dexie live query as a hook, without importing Dexie: until the local database has loaded (and
@@ -12,10 +16,19 @@ type Live = <T>(querier: () => T | Promise<T>) => { subscribe(next: (v: T) => vo
  * The same contract as dexie-react-hooks' useLiveQuery (a previous result is kept while the
  * dependencies change; an error is thrown to the nearest error boundary).
  */
-export function useLiveQuery<T, D = undefined>(querier: () => T | Promise<T>, deps: unknown[], defaultResult?: D, liveOverride?: Live): T | D {
+export function useLiveQuery<T, D = undefined>(
+  querier: () => T | Promise<T>,
+  deps: unknown[],
+  defaultResult?: D,
+  liveOverride?: Live,
+): T | D {
   const { live: fromContext } = useLocalCore();
   const live = (liveOverride ?? fromContext) as Live | null;
-  const monitor = useRef<{ hasResult: boolean; result: T | D; error: unknown }>({ hasResult: false, result: defaultResult as D, error: null });
+  const monitor = useRef<{ hasResult: boolean; result: T | D; error: unknown }>({
+    hasResult: false,
+    result: defaultResult as D,
+    error: null,
+  });
   const [, rerender] = useReducer((x: number) => x + 1, 0);
   const observable = useMemo(
     () => {

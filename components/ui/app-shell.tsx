@@ -20,12 +20,26 @@ const PLACES = [
  * The signed-in frame. The identity comes from the phone (no server round trip), so it opens in a
  * garage with no signal; the server checks the session on every sync.
  */
-export function AppShell({ title, children, back }: { title: string; children: ReactNode; back?: { href: string; label: string } }) {
+export function AppShell({
+  title,
+  children,
+  back,
+}: {
+  title: string;
+  children: ReactNode;
+  back?: { href: string; label: string };
+}) {
   const path = usePathname();
   const { user, ready, forget, waiting, state, revoked } = useLocal();
   const signOut = async () => {
     // changes not yet on the server would be lost with the local database: say so first
-    if (waiting > 0 && !window.confirm(`${waiting === 1 ? "1 change on this phone is" : `${waiting} changes on this phone are`} not on the server yet. Signing out deletes ${waiting === 1 ? "it" : "them"}. Sign out anyway?`)) return;
+    if (
+      waiting > 0 &&
+      !window.confirm(
+        `${waiting === 1 ? "1 change on this phone is" : `${waiting} changes on this phone are`} not on the server yet. Signing out deletes ${waiting === 1 ? "it" : "them"}. Sign out anyway?`,
+      )
+    )
+      return;
     await forget();
     // loaded on the tap: next-auth's client is not needed by any garage screen before it
     const { signOut: endSession } = await import("next-auth/react");
@@ -40,7 +54,10 @@ export function AppShell({ title, children, back }: { title: string; children: R
   const answered = state === "signed-out" || state === "offline";
   return (
     <div className="mx-auto flex min-h-dvh max-w-xl flex-col">
-      <a href="#content" className="sr-only focus:not-sr-only focus:absolute focus:top-2 focus:left-2 focus:z-50 focus:inline-flex focus:min-h-12 focus:items-center focus:rounded-xl focus:bg-accent focus:px-4 focus:font-bold focus:text-accent-ink">
+      <a
+        href="#content"
+        className="sr-only focus:not-sr-only focus:absolute focus:top-2 focus:left-2 focus:z-50 focus:inline-flex focus:min-h-12 focus:items-center focus:rounded-xl focus:bg-accent focus:px-4 focus:font-bold focus:text-accent-ink"
+      >
         Skip to content
       </a>
       <header className="flex flex-col gap-1 border-b border-line px-4 pt-3 pb-1 print:hidden">
@@ -50,7 +67,10 @@ export function AppShell({ title, children, back }: { title: string; children: R
           </Link>
           {user && (
             <div className="flex items-center">
-              <Link href="/account" className="inline-flex min-h-12 items-center rounded-xl px-3 text-sm font-bold text-ink-soft underline">
+              <Link
+                href="/account"
+                className="inline-flex min-h-12 items-center rounded-xl px-3 text-sm font-bold text-ink-soft underline"
+              >
                 Account
               </Link>
               <button
@@ -66,7 +86,11 @@ export function AppShell({ title, children, back }: { title: string; children: R
         {user && <SyncLine />}
         <UpdateNotice />
         {/* the release a build was made as, when it was given one (set at build time) */}
-        {process.env.NEXT_PUBLIC_LASHWRIGHT_RELEASE && <p className="text-xs text-ink-soft" data-testid="release">Release {process.env.NEXT_PUBLIC_LASHWRIGHT_RELEASE}</p>}
+        {process.env.NEXT_PUBLIC_LASHWRIGHT_RELEASE && (
+          <p className="text-xs text-ink-soft" data-testid="release">
+            Release {process.env.NEXT_PUBLIC_LASHWRIGHT_RELEASE}
+          </p>
+        )}
       </header>
       <main id="content" tabIndex={-1} className="flex flex-1 flex-col gap-5 px-4 pt-4 pb-28 outline-none">
         {back && (
@@ -96,7 +120,11 @@ export function AppShell({ title, children, back }: { title: string; children: R
             const here = path === p.href || p.also.some((a) => path === a || path.startsWith(`${a}/`));
             return (
               <li key={p.href}>
-                <Link href={p.href} aria-current={here ? "page" : undefined} className={`flex min-h-16 flex-col items-center justify-center text-sm font-bold ${here ? "text-accent" : "text-ink-soft"}`}>
+                <Link
+                  href={p.href}
+                  aria-current={here ? "page" : undefined}
+                  className={`flex min-h-16 flex-col items-center justify-center text-sm font-bold ${here ? "text-accent" : "text-ink-soft"}`}
+                >
                   <span aria-hidden className="text-xl leading-none">
                     {p.glyph}
                   </span>
@@ -114,8 +142,15 @@ export function AppShell({ title, children, back }: { title: string; children: R
 /** Why the phone's copy is gone, and where the unsent work waits (lib/sync/client.ts wipeRevoked). */
 function revokedText(r: { email: string; changes: number; photos: number }) {
   const who = r.email ? ` for ${r.email}` : "";
-  const work = [r.changes && `${r.changes} change${r.changes === 1 ? "" : "s"}`, r.photos && `${r.photos} photo${r.photos === 1 ? "" : "s"}`].filter(Boolean).join(" and ");
-  const kept = work ? ` ${work} made here and not yet sent ${r.changes + r.photos === 1 ? "is" : "are"} kept: sign in again${who} to send them.` : "";
+  const work = [
+    r.changes && `${r.changes} change${r.changes === 1 ? "" : "s"}`,
+    r.photos && `${r.photos} photo${r.photos === 1 ? "" : "s"}`,
+  ]
+    .filter(Boolean)
+    .join(" and ");
+  const kept = work
+    ? ` ${work} made here and not yet sent ${r.changes + r.photos === 1 ? "is" : "are"} kept: sign in again${who} to send them.`
+    : "";
   return `The session${who} was ended elsewhere (signed out everywhere, or a new password), so this phone's copy of its data was removed.${kept}`;
 }
 
@@ -123,7 +158,10 @@ function revokedText(r: { email: string; changes: number; photos: number }) {
 function SignInHere({ path, query, hash = "" }: { path: string; query: string; hash?: string }) {
   // not prefetched: a visitor sent here loads the sign-in form's code only if they tap
   return (
-    <ButtonLink href={`/sign-in?next=${encodeURIComponent(`${query ? `${path}?${query}` : path}${hash}`)}`} prefetch={false}>
+    <ButtonLink
+      href={`/sign-in?next=${encodeURIComponent(`${query ? `${path}?${query}` : path}${hash}`)}`}
+      prefetch={false}
+    >
       Sign in
     </ButtonLink>
   );
@@ -137,6 +175,10 @@ function onHashChange(then: () => void) {
 function SignInWithQuery({ path }: { path: string }) {
   // a mail's link to #comments or #verdict keeps its fragment through sign-in (read after the first
   // render: the server never sees it)
-  const hash = useSyncExternalStore(onHashChange, () => window.location.hash, () => "");
+  const hash = useSyncExternalStore(
+    onHashChange,
+    () => window.location.hash,
+    () => "",
+  );
   return <SignInHere path={path} query={useSearchParams().toString()} hash={hash} />;
 }

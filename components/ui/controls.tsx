@@ -2,18 +2,27 @@ import Link from "next/link";
 import { cloneElement, type ComponentProps, type ReactElement, type ReactNode } from "react";
 
 /** Shared primitives: every target at least 48 px, labels always visible, errors in words. */
-const base = "inline-flex min-h-12 items-center justify-center gap-2 rounded-xl px-5 text-lg font-bold disabled:opacity-50";
+const base =
+  "inline-flex min-h-12 items-center justify-center gap-2 rounded-xl px-5 text-lg font-bold disabled:opacity-50";
 const looks = {
   primary: "bg-accent text-accent-ink font-extrabold",
   plain: "border-2 border-line text-ink",
   quiet: "text-ink underline underline-offset-4",
 } as const;
 
-export function Button({ look = "primary", className = "", ...rest }: ComponentProps<"button"> & { look?: keyof typeof looks }) {
+export function Button({
+  look = "primary",
+  className = "",
+  ...rest
+}: ComponentProps<"button"> & { look?: keyof typeof looks }) {
   return <button className={`${base} ${looks[look]} ${className}`} {...rest} />;
 }
 
-export function ButtonLink({ look = "primary", className = "", ...rest }: ComponentProps<typeof Link> & { look?: keyof typeof looks }) {
+export function ButtonLink({
+  look = "primary",
+  className = "",
+  ...rest
+}: ComponentProps<typeof Link> & { look?: keyof typeof looks }) {
   return <Link className={`${base} ${looks[look]} ${className}`} {...rest} />;
 }
 
@@ -22,7 +31,19 @@ export function ButtonLink({ look = "primary", className = "", ...rest }: Compon
  * reader reads them with the field, not only somewhere on the page. The hint stays beside an error:
  * it often says where the value comes from.
  */
-export function Field({ label, error, hint, children, id }: { label: string; error?: string; hint?: ReactNode; children: ReactElement<{ "aria-describedby"?: string; "aria-invalid"?: boolean }>; id: string }) {
+export function Field({
+  label,
+  error,
+  hint,
+  children,
+  id,
+}: {
+  label: string;
+  error?: string;
+  hint?: ReactNode;
+  children: ReactElement<{ "aria-describedby"?: string; "aria-invalid"?: boolean }>;
+  id: string;
+}) {
   const described = [error && `${id}-error`, hint && `${id}-hint`].filter(Boolean).join(" ") || undefined;
   return (
     <div className="flex flex-col gap-1">
@@ -45,7 +66,8 @@ export function Field({ label, error, hint, children, id }: { label: string; err
   );
 }
 
-export const inputClass = "min-h-12 rounded-xl border-2 border-field bg-surface px-3 text-lg text-ink placeholder:text-ink-soft/70";
+export const inputClass =
+  "min-h-12 rounded-xl border-2 border-field bg-surface px-3 text-lg text-ink placeholder:text-ink-soft/70";
 
 export const authTitleClass = "text-3xl font-extrabold";
 
@@ -53,7 +75,10 @@ export function Notice({ tone = "info", children }: { tone?: "info" | "ok" | "er
   const cls = tone === "ok" ? "border-ok" : tone === "error" ? "border-tight" : "border-line";
   const glyph = tone === "ok" ? "✓" : tone === "error" ? "✕" : "ℹ";
   return (
-    <div role={tone === "error" ? "alert" : "status"} className={`flex gap-2 rounded-xl border-2 ${cls} bg-surface p-3`}>
+    <div
+      role={tone === "error" ? "alert" : "status"}
+      className={`flex gap-2 rounded-xl border-2 ${cls} bg-surface p-3`}
+    >
       <span aria-hidden className="font-bold">
         {glyph}
       </span>

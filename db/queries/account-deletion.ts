@@ -51,10 +51,31 @@ export async function accountCounts(ex: Executor, userId: string) {
     engines: await count(ex, ex.select({ n }).from(engines).where(eq(engines.ownerId, userId))),
     checks: await count(ex, ex.select({ n }).from(checks).where(mine)),
     readings: await count(ex, ex.select({ n }).from(readings).where(eq(readings.ownerId, userId))),
-    photos: await count(ex, ex.select({ n }).from(uploads).leftJoin(checks, eq(checks.id, uploads.checkId)).where(or(eq(uploads.ownerId, userId), mine))),
+    photos: await count(
+      ex,
+      ex
+        .select({ n })
+        .from(uploads)
+        .leftJoin(checks, eq(checks.id, uploads.checkId))
+        .where(or(eq(uploads.ownerId, userId), mine)),
+    ),
     trayItems: await count(ex, ex.select({ n }).from(trayItems).where(eq(trayItems.ownerId, userId))),
-    shares: await count(ex, ex.select({ n }).from(shares).innerJoin(checks, eq(checks.id, shares.checkId)).where(and(mine, isNull(shares.withdrawnAt)))),
-    commentsKept: await count(ex, ex.select({ n }).from(comments).innerJoin(checks, eq(checks.id, comments.checkId)).where(and(eq(comments.authorId, userId), ne(checks.ownerId, userId)))),
+    shares: await count(
+      ex,
+      ex
+        .select({ n })
+        .from(shares)
+        .innerJoin(checks, eq(checks.id, shares.checkId))
+        .where(and(mine, isNull(shares.withdrawnAt))),
+    ),
+    commentsKept: await count(
+      ex,
+      ex
+        .select({ n })
+        .from(comments)
+        .innerJoin(checks, eq(checks.id, comments.checkId))
+        .where(and(eq(comments.authorId, userId), ne(checks.ownerId, userId))),
+    ),
   };
 }
 
@@ -80,8 +101,15 @@ export async function clubsOf(ex: Executor, userId: string) {
 }
 
 export async function clubHeadcount(ex: Executor, clubId: string, locking: boolean) {
-  if (locking) await ex.update(clubs).set({ roleChanges: sql`${clubs.roleChanges} + 1` }).where(eq(clubs.id, clubId));
-  const q = ex.select({ userId: memberships.userId, role: memberships.role }).from(memberships).where(eq(memberships.clubId, clubId));
+  if (locking)
+    await ex
+      .update(clubs)
+      .set({ roleChanges: sql`${clubs.roleChanges} + 1` })
+      .where(eq(clubs.id, clubId));
+  const q = ex
+    .select({ userId: memberships.userId, role: memberships.role })
+    .from(memberships)
+    .where(eq(memberships.clubId, clubId));
   const rows = locking ? await q.for("update") : await q;
   return { admins: rows.filter((r) => r.role === "admin").length, members: new Set(rows.map((r) => r.userId)).size };
 }
@@ -91,15 +119,36 @@ export async function openLoans(ex: Executor, userId: string, locking: boolean):
   const borrower = alias(users, "borrower");
   const lender = alias(users, "lender");
   const q = ex
-    .select({ id: borrowRequests.id, lenderId: borrowRequests.lenderId, borrowerName: borrower.name, lenderName: lender.name, count: borrowRequests.count, size: borrowRequests.size, state: borrowRequests.state })
+    .select({
+      id: borrowRequests.id,
+      lenderId: borrowRequests.lenderId,
+      borrowerName: borrower.name,
+      lenderName: lender.name,
+      count: borrowRequests.count,
+      size: borrowRequests.size,
+      state: borrowRequests.state,
+    })
     .from(borrowRequests)
     .innerJoin(borrower, eq(borrower.id, borrowRequests.borrowerId))
     .innerJoin(lender, eq(lender.id, borrowRequests.lenderId))
-    .where(and(or(eq(borrowRequests.borrowerId, userId), eq(borrowRequests.lenderId, userId)), inArray(borrowRequests.state, [...LOAN_OPEN])));
+    .where(
+      and(
+        or(eq(borrowRequests.borrowerId, userId), eq(borrowRequests.lenderId, userId)),
+        inArray(borrowRequests.state, [...LOAN_OPEN]),
+      ),
+    );
   const rows = locking ? await q.for("update") : await q;
   return rows.map((r) => {
     const side = r.lenderId === userId ? ("lender" as const) : ("borrower" as const);
-    return { kind: "open-loan" as const, loanId: r.id, otherName: side === "lender" ? r.borrowerName : r.lenderName, side, count: r.count, size: r.size, state: STATE_WORDS[r.state] };
+    return {
+      kind: "open-loan" as const,
+      loanId: r.id,
+      otherName: side === "lender" ? r.borrowerName : r.lenderName,
+      side,
+      count: r.count,
+      size: r.size,
+      state: STATE_WORDS[r.state],
+    };
   });
 }
 
@@ -108,7 +157,15 @@ export async function consumeDeleteToken(tx: Tx, raw: string, userId: string): P
   const [r] = await tx
     .update(authTokens)
     .set({ usedAt: new Date() })
-    .where(and(eq(authTokens.tokenHash, hashToken(raw)), eq(authTokens.purpose, "delete"), eq(authTokens.userId, userId), isNull(authTokens.usedAt), sql`${authTokens.expiresAt} > NOW(3)`));
+    .where(
+      and(
+        eq(authTokens.tokenHash, hashToken(raw)),
+        eq(authTokens.purpose, "delete"),
+        eq(authTokens.userId, userId),
+        isNull(authTokens.usedAt),
+        sql`${authTokens.expiresAt} > NOW(3)`,
+      ),
+    );
   return r.affectedRows === 1;
 }
 
@@ -126,7 +183,11 @@ export async function anonymiseComments(tx: Tx, userId: string): Promise<number>
     .for("update");
   const byOwner = new Map<string, string[]>();
   for (const r of rows) byOwner.set(r.ownerId, [...(byOwner.get(r.ownerId) ?? []), r.id]);
-  for (const [ownerId, ids] of byOwner) await tx.update(comments).set({ authorId: null, version: await nextVersion(tx, ownerId) }).where(inArray(comments.id, ids));
+  for (const [ownerId, ids] of byOwner)
+    await tx
+      .update(comments)
+      .set({ authorId: null, version: await nextVersion(tx, ownerId) })
+      .where(inArray(comments.id, ids));
   return rows.length;
 }
 
@@ -178,8 +239,16 @@ export async function eraseRows(tx: Tx, userId: string, email: string): Promise<
   // found by a plain read (a locking LIKE scan would hold every budget row until the commit), then deleted by key
   // (a key names it whole, at its end or before another part: "push:device:<id>:<device>")
   const named = (v: string) => sql`(\`key\` LIKE ${`%:${likeText(v)}`} OR \`key\` LIKE ${`%:${likeText(v)}:%`})`;
-  const [found] = (await tx.execute(sql`SELECT \`key\` AS k FROM rate_limits WHERE ${named(userId)} OR ${named(email)}`)) as unknown as [{ k: string }[]];
-  if (found.length) await tx.delete(rateLimits).where(inArray(rateLimits.key, found.map((r) => r.k)));
+  const [found] = (await tx.execute(
+    sql`SELECT \`key\` AS k FROM rate_limits WHERE ${named(userId)} OR ${named(email)}`,
+  )) as unknown as [{ k: string }[]];
+  if (found.length)
+    await tx.delete(rateLimits).where(
+      inArray(
+        rateLimits.key,
+        found.map((r) => r.k),
+      ),
+    );
   await tx.delete(users).where(eq(users.id, userId));
 }
 
@@ -191,7 +260,12 @@ export async function deleteClub(tx: Tx, clubId: string): Promise<void> {
 
 /** Keys due for another try, the longest waiting first. */
 export async function dueObjectDeletions(limit: number): Promise<string[]> {
-  const rows = await db().select({ k: objectDeletions.objectKey }).from(objectDeletions).where(lte(objectDeletions.nextAttemptAt, sql`NOW(3)`)).orderBy(objectDeletions.nextAttemptAt).limit(limit);
+  const rows = await db()
+    .select({ k: objectDeletions.objectKey })
+    .from(objectDeletions)
+    .where(lte(objectDeletions.nextAttemptAt, sql`NOW(3)`))
+    .orderBy(objectDeletions.nextAttemptAt)
+    .limit(limit);
   return rows.map((r) => r.k);
 }
 

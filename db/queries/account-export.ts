@@ -10,7 +10,12 @@ import { borrowRequests, checks, comments, engines, readings, trayItems, uploads
 export const EXPORT_PAGE_ROWS = 500;
 
 export async function enginePage(ownerId: string, afterId: string) {
-  return db().select().from(engines).where(and(eq(engines.ownerId, ownerId), gt(engines.id, afterId))).orderBy(asc(engines.id)).limit(EXPORT_PAGE_ROWS);
+  return db()
+    .select()
+    .from(engines)
+    .where(and(eq(engines.ownerId, ownerId), gt(engines.id, afterId)))
+    .orderBy(asc(engines.id))
+    .limit(EXPORT_PAGE_ROWS);
 }
 
 /** One engine's checks in the order of their start (their metadata only; a check's readings are read on their own). */
@@ -66,14 +71,24 @@ export async function photoPage(ownerId: string, afterId: string) {
 }
 
 export async function trayPage(ownerId: string, afterId: string) {
-  return db().select().from(trayItems).where(and(eq(trayItems.ownerId, ownerId), gt(trayItems.id, afterId))).orderBy(asc(trayItems.id)).limit(EXPORT_PAGE_ROWS);
+  return db()
+    .select()
+    .from(trayItems)
+    .where(and(eq(trayItems.ownerId, ownerId), gt(trayItems.id, afterId)))
+    .orderBy(asc(trayItems.id))
+    .limit(EXPORT_PAGE_ROWS);
 }
 
 export async function loanPage(userId: string, afterId: string) {
   return db()
     .select()
     .from(borrowRequests)
-    .where(and(or(eq(borrowRequests.borrowerId, userId), eq(borrowRequests.lenderId, userId)), gt(borrowRequests.id, afterId)))
+    .where(
+      and(
+        or(eq(borrowRequests.borrowerId, userId), eq(borrowRequests.lenderId, userId)),
+        gt(borrowRequests.id, afterId),
+      ),
+    )
     .orderBy(asc(borrowRequests.id))
     .limit(EXPORT_PAGE_ROWS);
 }

@@ -4,7 +4,21 @@ import { alias } from "drizzle-orm/mysql-core";
 import { createHash, randomBytes } from "node:crypto";
 import { conflict } from "@/lib/errors";
 import { db, transaction, type Executor, type Tx } from "../client";
-import { borrowRequests, checks, clubLog, clubLogActions, clubs, comments, engines, invites, memberships, poolOffers, shares, users, type Role } from "../schema";
+import {
+  borrowRequests,
+  checks,
+  clubLog,
+  clubLogActions,
+  clubs,
+  comments,
+  engines,
+  invites,
+  memberships,
+  poolOffers,
+  shares,
+  users,
+  type Role,
+} from "../schema";
 import { nextVersion } from "../versions";
 import { HOLDING } from "@/lib/pool/rules";
 import { FORMER_MEMBER } from "@/lib/account/deletion";
@@ -14,7 +28,10 @@ import { FORMER_MEMBER } from "@/lib/account/deletion";
  * until the write ends: a removal running at the same moment either waits for it or is seen.
  */
 export async function rolesInClub(ex: Executor, userId: string, clubId: string, locking = false): Promise<Role[]> {
-  const q = ex.select({ role: memberships.role }).from(memberships).where(and(eq(memberships.userId, userId), eq(memberships.clubId, clubId)));
+  const q = ex
+    .select({ role: memberships.role })
+    .from(memberships)
+    .where(and(eq(memberships.userId, userId), eq(memberships.clubId, clubId)));
   const rows = locking ? await q.for("update") : await q;
   return rows.map((r) => r.role);
 }
@@ -36,7 +53,11 @@ export async function listMyClubs(userId: string) {
 }
 
 export async function getClub(ex: Executor, clubId: string) {
-  const [c] = await ex.select({ id: clubs.id, name: clubs.name, createdAt: clubs.createdAt }).from(clubs).where(eq(clubs.id, clubId)).limit(1);
+  const [c] = await ex
+    .select({ id: clubs.id, name: clubs.name, createdAt: clubs.createdAt })
+    .from(clubs)
+    .where(eq(clubs.id, clubId))
+    .limit(1);
   return c;
 }
 
@@ -49,7 +70,13 @@ export async function createClub(userId: string, name: string) {
       { clubId: id, userId, role: "admin" },
       { clubId: id, userId, role: "mechanic" },
     ]);
-    await log(tx, { clubId: id, actorId: userId, action: "roles-changed", subjectUserId: userId, detail: "none → admin, mechanic" });
+    await log(tx, {
+      clubId: id,
+      actorId: userId,
+      action: "roles-changed",
+      subjectUserId: userId,
+      detail: "none → admin, mechanic",
+    });
   });
   return { id, name, roles: ["admin", "mechanic"] as Role[] };
 }
@@ -77,12 +104,26 @@ export async function listMembers(ex: Executor, clubId: string) {
  * commit rather than the transaction's snapshot (two admins stepping down at once on one node).
  */
 export async function lockClubRoles(tx: Tx, clubId: string): Promise<{ admins: number }> {
-  await tx.update(clubs).set({ roleChanges: sql`${clubs.roleChanges} + 1` }).where(eq(clubs.id, clubId));
-  const rows = await tx.select({ id: memberships.id }).from(memberships).where(and(eq(memberships.clubId, clubId), eq(memberships.role, "admin"))).for("update");
+  await tx
+    .update(clubs)
+    .set({ roleChanges: sql`${clubs.roleChanges} + 1` })
+    .where(eq(clubs.id, clubId));
+  const rows = await tx
+    .select({ id: memberships.id })
+    .from(memberships)
+    .where(and(eq(memberships.clubId, clubId), eq(memberships.role, "admin")))
+    .for("update");
   return { admins: rows.length };
 }
 
-type LogEntry = { clubId: string; actorId: string | null; action: (typeof clubLogActions)[number]; subjectUserId?: string | null; subjectEmail?: string | null; detail?: string };
+type LogEntry = {
+  clubId: string;
+  actorId: string | null;
+  action: (typeof clubLogActions)[number];
+  subjectUserId?: string | null;
+  subjectEmail?: string | null;
+  detail?: string;
+};
 const log = (tx: Tx, e: LogEntry) => tx.insert(clubLog).values({ ...e, detail: (e.detail ?? "").slice(0, 200) });
 const rolesWord = (roles: Role[]) => (roles.length ? [...roles].sort().join(", ") : "none");
 
@@ -92,18 +133,46 @@ const rolesWord = (roles: Role[]) => (roles.length ? [...roles].sort().join(", "
  * who no longer is.
  */
 export async function setRoles(tx: Tx, clubId: string, userId: string, roles: Role[], actorId: string) {
-  const before = (await tx.select({ role: memberships.role }).from(memberships).where(and(eq(memberships.clubId, clubId), eq(memberships.userId, userId))).for("update")).map((r) => r.role);
+  const before = (
+    await tx
+      .select({ role: memberships.role })
+      .from(memberships)
+      .where(and(eq(memberships.clubId, clubId), eq(memberships.userId, userId)))
+      .for("update")
+  ).map((r) => r.role);
   await tx.delete(memberships).where(and(eq(memberships.clubId, clubId), eq(memberships.userId, userId)));
   const after = [...new Set(roles)];
   if (after.length) await tx.insert(memberships).values(after.map((role) => ({ clubId, userId, role })));
   const ended = before.length > 0 && after.length === 0 ? await endMembership(tx, clubId, userId) : "";
-  if (rolesWord(before) !== rolesWord(after)) await log(tx, { clubId, actorId, action: "roles-changed", subjectUserId: userId, detail: `${rolesWord(before)} → ${rolesWord(after)}${ended}` });
+  if (rolesWord(before) !== rolesWord(after))
+    await log(tx, {
+      clubId,
+      actorId,
+      action: "roles-changed",
+      subjectUserId: userId,
+      detail: `${rolesWord(before)} → ${rolesWord(after)}${ended}`,
+    });
   if (before.includes("admin") && !after.includes("admin")) {
     const [res] = await tx
       .update(invites)
       .set({ withdrawnAt: new Date() })
-      .where(and(eq(invites.clubId, clubId), eq(invites.invitedBy, userId), isNull(invites.acceptedAt), isNull(invites.withdrawnAt), gt(invites.expiresAt, new Date())));
-    if (res.affectedRows > 0) await log(tx, { clubId, actorId, action: "invites-ended", subjectUserId: userId, detail: `${res.affectedRows} pending` });
+      .where(
+        and(
+          eq(invites.clubId, clubId),
+          eq(invites.invitedBy, userId),
+          isNull(invites.acceptedAt),
+          isNull(invites.withdrawnAt),
+          gt(invites.expiresAt, new Date()),
+        ),
+      );
+    if (res.affectedRows > 0)
+      await log(tx, {
+        clubId,
+        actorId,
+        action: "invites-ended",
+        subjectUserId: userId,
+        detail: `${res.affectedRows} pending`,
+      });
   }
 }
 
@@ -129,22 +198,37 @@ async function endMembership(tx: Tx, clubId: string, userId: string): Promise<st
       .where(and(eq(shares.clubId, clubId), eq(checks.ownerId, userId), isNull(shares.withdrawnAt)))
       .for("update")
   ).map((r) => r.id);
-  const offerIds = (await tx.select({ id: poolOffers.id }).from(poolOffers).where(and(eq(poolOffers.clubId, clubId), eq(poolOffers.ownerId, userId), isNull(poolOffers.withdrawnAt))).for("update")).map((r) => r.id);
+  const offerIds = (
+    await tx
+      .select({ id: poolOffers.id })
+      .from(poolOffers)
+      .where(and(eq(poolOffers.clubId, clubId), eq(poolOffers.ownerId, userId), isNull(poolOffers.withdrawnAt)))
+      .for("update")
+  ).map((r) => r.id);
   const open = await tx
     .select({ id: borrowRequests.id, lenderId: borrowRequests.lenderId })
     .from(borrowRequests)
     .innerJoin(poolOffers, eq(poolOffers.id, borrowRequests.offerId))
-    .where(and(eq(poolOffers.clubId, clubId), or(eq(borrowRequests.lenderId, userId), eq(borrowRequests.borrowerId, userId)), inArray(borrowRequests.state, [...HOLDING])))
+    .where(
+      and(
+        eq(poolOffers.clubId, clubId),
+        or(eq(borrowRequests.lenderId, userId), eq(borrowRequests.borrowerId, userId)),
+        inArray(borrowRequests.state, [...HOLDING]),
+      ),
+    )
     .for("update");
   if (shareIds.length + offerIds.length + open.length === 0) return "";
   // the member's rows: their next change version, whoever removes them
   const version = await nextVersion(tx, userId);
   if (shareIds.length) await tx.update(shares).set({ withdrawnAt: now, version }).where(inArray(shares.id, shareIds));
-  if (offerIds.length) await tx.update(poolOffers).set({ withdrawnAt: now, version }).where(inArray(poolOffers.id, offerIds));
+  if (offerIds.length)
+    await tx.update(poolOffers).set({ withdrawnAt: now, version }).where(inArray(poolOffers.id, offerIds));
   const lent = open.filter((r) => r.lenderId === userId).map((r) => r.id);
   const asked = open.filter((r) => r.lenderId !== userId).map((r) => r.id);
-  if (lent.length) await tx.update(borrowRequests).set({ state: "declined", version }).where(inArray(borrowRequests.id, lent));
-  if (asked.length) await tx.update(borrowRequests).set({ state: "withdrawn", version }).where(inArray(borrowRequests.id, asked));
+  if (lent.length)
+    await tx.update(borrowRequests).set({ state: "declined", version }).where(inArray(borrowRequests.id, lent));
+  if (asked.length)
+    await tx.update(borrowRequests).set({ state: "withdrawn", version }).where(inArray(borrowRequests.id, asked));
   const n = (k: number, one: string) => (k ? [`${k} ${one}${k > 1 ? "s" : ""}`] : []);
   return `; ended ${[...n(shareIds.length, "share"), ...n(offerIds.length, "offer"), ...n(open.length, "request")].join(", ")}`;
 }
@@ -154,14 +238,30 @@ const hash = (raw: string) => createHash("sha256").update(raw).digest("hex");
 export async function createInvite(tx: Tx, clubId: string, invitedBy: string, email: string, role: Role) {
   const raw = randomBytes(32).toString("base64url");
   const id = crypto.randomUUID();
-  await tx.insert(invites).values({ id, clubId, email, role, invitedBy, tokenHash: hash(raw), expiresAt: new Date(Date.now() + 14 * 86_400_000) });
+  await tx.insert(invites).values({
+    id,
+    clubId,
+    email,
+    role,
+    invitedBy,
+    tokenHash: hash(raw),
+    expiresAt: new Date(Date.now() + 14 * 86_400_000),
+  });
   await log(tx, { clubId, actorId: invitedBy, action: "invite-sent", subjectEmail: email, detail: role });
   return { id, token: raw };
 }
 
 export async function listInvites(clubId: string) {
   return db()
-    .select({ id: invites.id, email: invites.email, role: invites.role, expiresAt: invites.expiresAt, acceptedAt: invites.acceptedAt, withdrawnAt: invites.withdrawnAt, createdAt: invites.createdAt })
+    .select({
+      id: invites.id,
+      email: invites.email,
+      role: invites.role,
+      expiresAt: invites.expiresAt,
+      acceptedAt: invites.acceptedAt,
+      withdrawnAt: invites.withdrawnAt,
+      createdAt: invites.createdAt,
+    })
     .from(invites)
     .where(eq(invites.clubId, clubId))
     .orderBy(desc(invites.createdAt));
@@ -169,7 +269,11 @@ export async function listInvites(clubId: string) {
 
 /** Withdraw a pending invitation, inside the caller's transaction; false when this club has no such pending one. */
 export async function withdrawInvite(tx: Tx, clubId: string, inviteId: string, actorId: string): Promise<boolean> {
-  const [inv] = await tx.select().from(invites).where(and(eq(invites.id, inviteId), eq(invites.clubId, clubId))).for("update");
+  const [inv] = await tx
+    .select()
+    .from(invites)
+    .where(and(eq(invites.id, inviteId), eq(invites.clubId, clubId)))
+    .for("update");
   if (!inv || inv.acceptedAt) return false;
   if (inv.withdrawnAt) return true; // withdrawn twice: the same result
   await tx.update(invites).set({ withdrawnAt: new Date() }).where(eq(invites.id, inviteId));
@@ -186,17 +290,40 @@ export async function acceptInvite(raw: string, user: { id: string; email: strin
     const [inv] = await tx
       .select()
       .from(invites)
-      .where(and(eq(invites.tokenHash, hash(raw)), isNull(invites.acceptedAt), isNull(invites.withdrawnAt), gt(invites.expiresAt, new Date())))
+      .where(
+        and(
+          eq(invites.tokenHash, hash(raw)),
+          isNull(invites.acceptedAt),
+          isNull(invites.withdrawnAt),
+          gt(invites.expiresAt, new Date()),
+        ),
+      )
       .for("update");
     if (!inv || inv.email !== user.email || !inv.invitedBy) return null;
-    const [stillAdmin] = await tx.select({ id: memberships.id }).from(memberships).where(and(eq(memberships.clubId, inv.clubId), eq(memberships.userId, inv.invitedBy), eq(memberships.role, "admin")));
+    const [stillAdmin] = await tx
+      .select({ id: memberships.id })
+      .from(memberships)
+      .where(
+        and(eq(memberships.clubId, inv.clubId), eq(memberships.userId, inv.invitedBy), eq(memberships.role, "admin")),
+      );
     if (!stillAdmin) return null;
     await tx.update(invites).set({ acceptedAt: new Date() }).where(eq(invites.id, inv.id));
-    const have = await tx.select({ role: memberships.role }).from(memberships).where(and(eq(memberships.clubId, inv.clubId), eq(memberships.userId, user.id)));
+    const have = await tx
+      .select({ role: memberships.role })
+      .from(memberships)
+      .where(and(eq(memberships.clubId, inv.clubId), eq(memberships.userId, user.id)));
     const want = [...new Set<Role>(["mechanic", inv.role])].filter((r) => !have.some((h) => h.role === r));
-    if (want.length) await tx.insert(memberships).values(want.map((role) => ({ clubId: inv.clubId, userId: user.id, role })));
+    if (want.length)
+      await tx.insert(memberships).values(want.map((role) => ({ clubId: inv.clubId, userId: user.id, role })));
     const after = [...new Set([...have.map((h) => h.role), ...want])];
-    await log(tx, { clubId: inv.clubId, actorId: user.id, action: "invite-accepted", subjectUserId: user.id, subjectEmail: inv.email, detail: `${rolesWord(have.map((h) => h.role))} → ${rolesWord(after)}` });
+    await log(tx, {
+      clubId: inv.clubId,
+      actorId: user.id,
+      action: "invite-accepted",
+      subjectUserId: user.id,
+      subjectEmail: inv.email,
+      detail: `${rolesWord(have.map((h) => h.role))} → ${rolesWord(after)}`,
+    });
     // the page says which club was joined, not a silent move to the club list
     const [club] = await tx.select({ name: clubs.name }).from(clubs).where(eq(clubs.id, inv.clubId)).limit(1);
     return { clubId: inv.clubId, clubName: club?.name ?? "the club" };
@@ -206,20 +333,38 @@ export async function acceptInvite(raw: string, user: { id: string; email: strin
 /** The club log, newest first, with the names of who acted and on whom. */
 export async function listClubLog(clubId: string, limit: number, offset: number) {
   const subject = alias(users, "subject");
-  return db()
-    // an actor whose account was deleted is named as such (the entry stays: it is the club's record)
-    .select({ id: clubLog.id, action: clubLog.action, at: clubLog.at, actorName: sql<string>`coalesce(${users.name}, ${FORMER_MEMBER})`, subjectName: subject.name, subjectEmail: clubLog.subjectEmail, detail: clubLog.detail })
-    .from(clubLog)
-    .leftJoin(users, eq(users.id, clubLog.actorId))
-    .leftJoin(subject, eq(subject.id, clubLog.subjectUserId))
-    .where(eq(clubLog.clubId, clubId))
-    .orderBy(desc(clubLog.seq))
-    .limit(limit + 1)
-    .offset(offset);
+  return (
+    db()
+      // an actor whose account was deleted is named as such (the entry stays: it is the club's record)
+      .select({
+        id: clubLog.id,
+        action: clubLog.action,
+        at: clubLog.at,
+        actorName: sql<string>`coalesce(${users.name}, ${FORMER_MEMBER})`,
+        subjectName: subject.name,
+        subjectEmail: clubLog.subjectEmail,
+        detail: clubLog.detail,
+      })
+      .from(clubLog)
+      .leftJoin(users, eq(users.id, clubLog.actorId))
+      .leftJoin(subject, eq(subject.id, clubLog.subjectUserId))
+      .where(eq(clubLog.clubId, clubId))
+      .orderBy(desc(clubLog.seq))
+      .limit(limit + 1)
+      .offset(offset)
+  );
 }
 
 type ShareRow = typeof shares.$inferSelect;
-export const shareToApi = (s: ShareRow) => ({ id: s.id, checkId: s.checkId, clubId: s.clubId, verdict: s.verdict, verdictAt: s.verdictAt, withdrawnAt: s.withdrawnAt, createdAt: s.createdAt });
+export const shareToApi = (s: ShareRow) => ({
+  id: s.id,
+  checkId: s.checkId,
+  clubId: s.clubId,
+  verdict: s.verdict,
+  verdictAt: s.verdictAt,
+  withdrawnAt: s.withdrawnAt,
+  createdAt: s.createdAt,
+});
 
 export async function getShare(ex: Executor, shareId: string) {
   const [s] = await ex.select().from(shares).where(eq(shares.id, shareId)).limit(1);
@@ -237,7 +382,11 @@ export async function shareCheck(tx: Tx, version: number, checkId: string, clubI
     .insert(shares)
     .values({ checkId, clubId, sharedBy: userId, version })
     .onDuplicateKeyUpdate({ set: { withdrawnAt: null, version } });
-  const [s] = await tx.select().from(shares).where(and(eq(shares.checkId, checkId), eq(shares.clubId, clubId))).limit(1);
+  const [s] = await tx
+    .select()
+    .from(shares)
+    .where(and(eq(shares.checkId, checkId), eq(shares.clubId, clubId)))
+    .limit(1);
   return shareToApi(s!);
 }
 
@@ -246,8 +395,17 @@ export async function withdrawShare(tx: Tx, version: number, shareId: string) {
 }
 
 /** The verdict write itself, inside the caller's transaction (the REST route's or a sync push's). */
-export async function writeVerdict(tx: Tx, version: number, shareId: string, mentorId: string, verdict: NonNullable<ShareRow["verdict"]>) {
-  await tx.update(shares).set({ verdict, verdictBy: mentorId, verdictAt: new Date(), version }).where(eq(shares.id, shareId));
+export async function writeVerdict(
+  tx: Tx,
+  version: number,
+  shareId: string,
+  mentorId: string,
+  verdict: NonNullable<ShareRow["verdict"]>,
+) {
+  await tx
+    .update(shares)
+    .set({ verdict, verdictBy: mentorId, verdictAt: new Date(), version })
+    .where(eq(shares.id, shareId));
 }
 
 /** Clubs where the user is a mentor and the check is shared (not withdrawn), the earliest share first. */
@@ -255,7 +413,10 @@ export async function mentorSharesForCheck(ex: Executor, userId: string, checkId
   return ex
     .select({ shareId: shares.id, clubId: shares.clubId })
     .from(shares)
-    .innerJoin(memberships, and(eq(memberships.clubId, shares.clubId), eq(memberships.userId, userId), eq(memberships.role, "mentor")))
+    .innerJoin(
+      memberships,
+      and(eq(memberships.clubId, shares.clubId), eq(memberships.userId, userId), eq(memberships.role, "mentor")),
+    )
     .where(and(eq(shares.checkId, checkId), isNull(shares.withdrawnAt)))
     .orderBy(asc(shares.createdAt), asc(shares.id));
 }
@@ -286,13 +447,24 @@ export async function reviewQueue(clubId: string, limit: number, offset: number)
 
 /** Every comment on a check, of every club's thread: callers filter with server/access.ts visibleComments. */
 export async function listComments(ex: Executor, checkId: string) {
-  return ex
-    // a deleted account's comments stay, without its name (lib/account/deletion.ts)
-    .select({ id: comments.id, checkId: comments.checkId, clubId: comments.clubId, valve: comments.valve, body: comments.body, createdAt: comments.createdAt, authorId: comments.authorId, authorName: sql<string>`coalesce(${users.name}, ${FORMER_MEMBER})` })
-    .from(comments)
-    .leftJoin(users, eq(users.id, comments.authorId))
-    .where(eq(comments.checkId, checkId))
-    .orderBy(asc(comments.createdAt), asc(comments.id));
+  return (
+    ex
+      // a deleted account's comments stay, without its name (lib/account/deletion.ts)
+      .select({
+        id: comments.id,
+        checkId: comments.checkId,
+        clubId: comments.clubId,
+        valve: comments.valve,
+        body: comments.body,
+        createdAt: comments.createdAt,
+        authorId: comments.authorId,
+        authorName: sql<string>`coalesce(${users.name}, ${FORMER_MEMBER})`,
+      })
+      .from(comments)
+      .leftJoin(users, eq(users.id, comments.authorId))
+      .where(eq(comments.checkId, checkId))
+      .orderBy(asc(comments.createdAt), asc(comments.id))
+  );
 }
 
 /**
@@ -300,19 +472,35 @@ export async function listComments(ex: Executor, checkId: string) {
  * nothing and answers false. An id already used by anyone else, or on another check, is refused:
  * dropping it silently would tell the phone its comment was stored when it was not.
  */
-export async function insertComment(tx: Tx, version: number, checkId: string, authorId: string, clubId: string | null, input: { id: string; body: string; valve?: string | null }): Promise<boolean> {
-  const [c] = await tx.select({ checkId: comments.checkId, authorId: comments.authorId }).from(comments).where(eq(comments.id, input.id)).limit(1);
+export async function insertComment(
+  tx: Tx,
+  version: number,
+  checkId: string,
+  authorId: string,
+  clubId: string | null,
+  input: { id: string; body: string; valve?: string | null },
+): Promise<boolean> {
+  const [c] = await tx
+    .select({ checkId: comments.checkId, authorId: comments.authorId })
+    .from(comments)
+    .where(eq(comments.id, input.id))
+    .limit(1);
   if (c) {
     if (c.checkId === checkId && c.authorId === authorId) return false;
     throw conflict("That comment id is already used: send the comment with a new id");
   }
-  await tx.insert(comments).values({ id: input.id, checkId, authorId, clubId, body: input.body, valve: input.valve ?? null, version });
+  await tx
+    .insert(comments)
+    .values({ id: input.id, checkId, authorId, clubId, body: input.body, valve: input.valve ?? null, version });
   return true;
 }
 
 export async function usersByIds(ids: string[]) {
   if (ids.length === 0) return [];
-  return db().select({ id: users.id, email: users.email, name: users.name, noticesByEmail: users.noticesByEmail }).from(users).where(inArray(users.id, ids));
+  return db()
+    .select({ id: users.id, email: users.email, name: users.name, noticesByEmail: users.noticesByEmail })
+    .from(users)
+    .where(inArray(users.id, ids));
 }
 
 export async function mentorsOfClub(clubId: string) {

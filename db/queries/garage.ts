@@ -42,7 +42,10 @@ export function engineToApi(e: EngineRow) {
 export type ApiEngine = ReturnType<typeof engineToApi>;
 
 export function engineToRow(e: EngineInput) {
-  const series = "sizes" in e.shims ? { shimSizes: e.shims.sizes, shimMin: null, shimMax: null, shimStep: null } : { shimSizes: null, shimMin: e.shims.min, shimMax: e.shims.max, shimStep: e.shims.step };
+  const series =
+    "sizes" in e.shims
+      ? { shimSizes: e.shims.sizes, shimMin: null, shimMax: null, shimStep: null }
+      : { shimSizes: null, shimMin: e.shims.min, shimMax: e.shims.max, shimStep: e.shims.step };
   return {
     name: e.name,
     cylinders: e.cylinders,
@@ -72,13 +75,24 @@ export function engineToRow(e: EngineInput) {
 }
 
 export async function listEngines(ownerId: string, limit: number, offset: number) {
-  const rows = await db().select().from(engines).where(eq(engines.ownerId, ownerId)).orderBy(asc(engines.name), asc(engines.id)).limit(limit + 1).offset(offset);
+  const rows = await db()
+    .select()
+    .from(engines)
+    .where(eq(engines.ownerId, ownerId))
+    .orderBy(asc(engines.name), asc(engines.id))
+    .limit(limit + 1)
+    .offset(offset);
   return rows.map(engineToApi);
 }
 
 /** A check's odometer with its engine's name and unit, in one read: what a notice names. */
 export async function checkTitleRow(ex: Executor, checkId: string) {
-  const [r] = await ex.select({ name: engines.name, odometer: checks.odometer, unit: engines.odometerUnit }).from(checks).innerJoin(engines, eq(engines.id, checks.engineId)).where(eq(checks.id, checkId)).limit(1);
+  const [r] = await ex
+    .select({ name: engines.name, odometer: checks.odometer, unit: engines.odometerUnit })
+    .from(checks)
+    .innerJoin(engines, eq(engines.id, checks.engineId))
+    .where(eq(checks.id, checkId))
+    .limit(1);
   return r;
 }
 
@@ -90,13 +104,21 @@ export async function getEngineRow(ex: Executor, engineId: string) {
 /** Create or replace an engine; the caller has checked the id is the owner's or new. */
 export async function putEngine(tx: Tx, ownerId: string, version: number, id: string, input: EngineInput) {
   const row = engineToRow(input);
-  await tx.insert(engines).values({ id, ownerId, ...row, version }).onDuplicateKeyUpdate({ set: { ...row, version } });
+  await tx
+    .insert(engines)
+    .values({ id, ownerId, ...row, version })
+    .onDuplicateKeyUpdate({ set: { ...row, version } });
 }
 
 /** Remove an engine and its checks (the database cascades), leaving tombstones for the phones. */
 export async function removeEngine(tx: Tx, ownerId: string, version: number, engineId: string) {
   const cs = await tx.select({ id: checks.id }).from(checks).where(eq(checks.engineId, engineId));
-  await tx.insert(tombstones).values([{ entity: "engine", entityId: engineId, ownerId, version }, ...cs.map((c) => ({ entity: "check", entityId: c.id, ownerId, version }))]);
+  await tx
+    .insert(tombstones)
+    .values([
+      { entity: "engine", entityId: engineId, ownerId, version },
+      ...cs.map((c) => ({ entity: "check", entityId: c.id, ownerId, version })),
+    ]);
   await tx.delete(engines).where(and(eq(engines.id, engineId), eq(engines.ownerId, ownerId)));
 }
 
@@ -114,7 +136,13 @@ export const checkToApi = (c: CheckRow) => ({
 });
 
 export async function listChecks(engineId: string, limit: number, offset: number) {
-  const rows = await db().select().from(checks).where(eq(checks.engineId, engineId)).orderBy(desc(checks.startedAt), desc(checks.id)).limit(limit + 1).offset(offset);
+  const rows = await db()
+    .select()
+    .from(checks)
+    .where(eq(checks.engineId, engineId))
+    .orderBy(desc(checks.startedAt), desc(checks.id))
+    .limit(limit + 1)
+    .offset(offset);
   return rows.map(checkToApi);
 }
 
@@ -123,17 +151,42 @@ export async function getCheckRow(ex: Executor, checkId: string) {
   return c;
 }
 
-type CheckFields = { odometer: number; measuredHot: boolean; notes?: string | null; status: CheckRow["status"]; startedAt?: string };
+type CheckFields = {
+  odometer: number;
+  measuredHot: boolean;
+  notes?: string | null;
+  status: CheckRow["status"];
+  startedAt?: string;
+};
 
 /**
  * Create or replace a check; closedAt is set when it first closes and cleared when it opens again.
  * A check recorded after the fact (an import) names the day it was made, and was closed that day.
  */
-export async function putCheck(tx: Tx, ownerId: string, version: number, id: string, engineId: string, a: CheckFields, existing?: CheckRow) {
+export async function putCheck(
+  tx: Tx,
+  ownerId: string,
+  version: number,
+  id: string,
+  engineId: string,
+  a: CheckFields,
+  existing?: CheckRow,
+) {
   const startedAt = a.startedAt ? new Date(a.startedAt) : undefined;
   const closedAt = a.status === "closed" ? (existing?.closedAt ?? startedAt ?? new Date()) : null;
-  const set = { odometer: a.odometer, measuredHot: a.measuredHot, notes: a.notes ?? null, status: a.status, closedAt, ...(startedAt ? { startedAt } : {}), version };
-  await tx.insert(checks).values({ id, engineId, ownerId, ...set }).onDuplicateKeyUpdate({ set });
+  const set = {
+    odometer: a.odometer,
+    measuredHot: a.measuredHot,
+    notes: a.notes ?? null,
+    status: a.status,
+    closedAt,
+    ...(startedAt ? { startedAt } : {}),
+    version,
+  };
+  await tx
+    .insert(checks)
+    .values({ id, engineId, ownerId, ...set })
+    .onDuplicateKeyUpdate({ set });
 }
 
 export async function removeCheck(tx: Tx, ownerId: string, version: number, checkId: string) {
@@ -160,7 +213,11 @@ export const readingToApi = (r: ReadingRow) => ({
 });
 
 export async function listReadings(ex: Executor, checkId: string) {
-  const rows = await ex.select().from(readings).where(eq(readings.checkId, checkId)).orderBy(asc(readings.valve), asc(readings.round));
+  const rows = await ex
+    .select()
+    .from(readings)
+    .where(eq(readings.checkId, checkId))
+    .orderBy(asc(readings.valve), asc(readings.round));
   return rows.map(readingToApi);
 }
 
@@ -168,8 +225,12 @@ const READING_FIELDS = READING_VALUE_FIELDS;
 
 /** The readings upsert's columns (every one a row carries) and its statement, made once. */
 const READING_COLUMNS = getTableColumns(readings);
-const UPSERT_COLUMNS = (["id", "checkId", "ownerId", "valve", "round", ...READING_FIELDS, "fittedAt", "version"] as const).map((k) => [k, READING_COLUMNS[k]] as const);
-const UPSERT_SQL = `INSERT INTO \`readings\` (${UPSERT_COLUMNS.map(([, c]) => `\`${c.name}\``).join(", ")}) VALUES ? ON DUPLICATE KEY UPDATE ${([...READING_FIELDS, "fittedAt", "version"] as const)
+const UPSERT_COLUMNS = (
+  ["id", "checkId", "ownerId", "valve", "round", ...READING_FIELDS, "fittedAt", "version"] as const
+).map((k) => [k, READING_COLUMNS[k]] as const);
+const UPSERT_SQL = `INSERT INTO \`readings\` (${UPSERT_COLUMNS.map(([, c]) => `\`${c.name}\``).join(", ")}) VALUES ? ON DUPLICATE KEY UPDATE ${(
+  [...READING_FIELDS, "fittedAt", "version"] as const
+)
   .map((k) => READING_COLUMNS[k].name)
   .map((n) => `\`${n}\` = VALUES(\`${n}\`)`)
   .join(", ")}`;
@@ -185,10 +246,19 @@ export async function writeReadings(tx: Tx, ownerId: string, version: number, ch
   const input = [...byKey.values()];
   // only the rows these writes replace: (valve, round) pairs, not every round of those valves
   // (escaped by mysql2 as its own query() does; drizzle's builder took a few ms for 200 pairs)
-  const pairs = sql.raw(format(input.map(() => "(?, ?)").join(", "), input.flatMap((r) => [r.valve, r.round])));
+  const pairs = sql.raw(
+    format(
+      input.map(() => "(?, ?)").join(", "),
+      input.flatMap((r) => [r.valve, r.round]),
+    ),
+  );
   // a locking read: the row as last committed, not this transaction's snapshot, so a write that
   // raced this one lands in the history instead of being overwritten unseen
-  const existing = await tx.select().from(readings).where(and(eq(readings.checkId, checkId), sql`(${readings.valve}, ${readings.round}) IN (${pairs})`)).for("update");
+  const existing = await tx
+    .select()
+    .from(readings)
+    .where(and(eq(readings.checkId, checkId), sql`(${readings.valve}, ${readings.round}) IN (${pairs})`))
+    .for("update");
   const old = new Map(existing.map((r) => [`${r.valve}#${r.round}`, r]));
   phase("readings lock read");
   const history = input.flatMap((r) => {
@@ -197,28 +267,28 @@ export async function writeReadings(tx: Tx, ownerId: string, version: number, ch
   });
   if (history.length) await tx.insert(readingHistory).values(history);
   phase("history copy");
-  const rows = input.map(
-    (r): typeof readings.$inferInsert => ({
-      id: old.get(`${r.valve}#${r.round}`)?.id ?? crypto.randomUUID(),
-      checkId,
-      ownerId,
-      valve: r.valve,
-      round: r.round,
-      installedStamp: r.installedStamp ?? null,
-      installedMicrometer: r.installedMicrometer ?? null,
-      feelerGo: r.feelerGo ?? null,
-      feelerNoGo: r.feelerNoGo ?? null,
-      measured: r.measured ?? r.feelerGo ?? null,
-      method: r.method,
-      fittedShim: r.fittedShim ?? null,
-      fittedAt: r.fittedShim != null ? new Date() : null,
-      version,
-    }),
-  );
+  const rows = input.map((r): typeof readings.$inferInsert => ({
+    id: old.get(`${r.valve}#${r.round}`)?.id ?? crypto.randomUUID(),
+    checkId,
+    ownerId,
+    valve: r.valve,
+    round: r.round,
+    installedStamp: r.installedStamp ?? null,
+    installedMicrometer: r.installedMicrometer ?? null,
+    feelerGo: r.feelerGo ?? null,
+    feelerNoGo: r.feelerNoGo ?? null,
+    measured: r.measured ?? r.feelerGo ?? null,
+    method: r.method,
+    fittedShim: r.fittedShim ?? null,
+    fittedAt: r.fittedShim != null ? new Date() : null,
+    version,
+  }));
   // One multi-row upsert, its text made by mysql2's escaping (what its query() does with values):
   // drizzle's builder spent 4 ms of a 200-reading push on this one statement. Each value goes
   // through its column's own mapping first, so what is stored is what drizzle would store.
-  const values = rows.map((row) => UPSERT_COLUMNS.map(([key, col]) => (row[key] == null ? null : col.mapToDriverValue(row[key]))));
+  const values = rows.map((row) =>
+    UPSERT_COLUMNS.map(([key, col]) => (row[key] == null ? null : col.mapToDriverValue(row[key]))),
+  );
   await tx.execute(sql.raw(format(UPSERT_SQL, [values as (string | number | null)[][]])));
   phase("readings upsert");
   // a reading changes its check too, so other devices see the check move on
@@ -227,10 +297,23 @@ export async function writeReadings(tx: Tx, ownerId: string, version: number, ch
 }
 
 type TrayRow = typeof trayItems.$inferSelect;
-export const trayToApi = (t: TrayRow) => ({ id: t.id, size: t.size, measuredSize: t.measuredSize, count: t.count, shimDiameter: t.shimDiameter, version: t.version });
+export const trayToApi = (t: TrayRow) => ({
+  id: t.id,
+  size: t.size,
+  measuredSize: t.measuredSize,
+  count: t.count,
+  shimDiameter: t.shimDiameter,
+  version: t.version,
+});
 
 export async function listTray(ownerId: string, limit: number, offset: number) {
-  const rows = await db().select().from(trayItems).where(eq(trayItems.ownerId, ownerId)).orderBy(asc(trayItems.size), asc(trayItems.id)).limit(limit + 1).offset(offset);
+  const rows = await db()
+    .select()
+    .from(trayItems)
+    .where(eq(trayItems.ownerId, ownerId))
+    .orderBy(asc(trayItems.size), asc(trayItems.id))
+    .limit(limit + 1)
+    .offset(offset);
   return rows.map(trayToApi);
 }
 
@@ -242,8 +325,17 @@ export async function getTrayRow(ex: Executor, id: string) {
 type TrayFields = { size: number; measuredSize: boolean; count: number; shimDiameter?: number | null };
 
 export async function putTrayItem(tx: Tx, ownerId: string, version: number, id: string, a: TrayFields) {
-  const set = { size: a.size, measuredSize: a.measuredSize, count: a.count, shimDiameter: a.shimDiameter ?? null, version };
-  await tx.insert(trayItems).values({ id, ownerId, ...set }).onDuplicateKeyUpdate({ set });
+  const set = {
+    size: a.size,
+    measuredSize: a.measuredSize,
+    count: a.count,
+    shimDiameter: a.shimDiameter ?? null,
+    version,
+  };
+  await tx
+    .insert(trayItems)
+    .values({ id, ownerId, ...set })
+    .onDuplicateKeyUpdate({ set });
 }
 
 export async function removeTrayItem(tx: Tx, ownerId: string, version: number, id: string) {

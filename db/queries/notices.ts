@@ -21,7 +21,12 @@ export async function enqueueNotices(items: NoticeInput[], tx?: Tx): Promise<voi
   if (items.length === 0) return;
   const now = Date.now();
   await (tx ?? db()).insert(notices).values(
-    items.map(({ delaySeconds, ...n }) => ({ ...n, subject: n.subject.slice(0, 200), toUserId: n.toUserId ?? null, ...(delaySeconds ? { nextAttemptAt: new Date(now + delaySeconds * 1000) } : {}) })),
+    items.map(({ delaySeconds, ...n }) => ({
+      ...n,
+      subject: n.subject.slice(0, 200),
+      toUserId: n.toUserId ?? null,
+      ...(delaySeconds ? { nextAttemptAt: new Date(now + delaySeconds * 1000) } : {}),
+    })),
   );
 }
 
@@ -54,11 +59,16 @@ export async function claimDueNotices(limit: number, claimSeconds = 60, gather?:
           sql`, `,
         )}) AND status = 'queued' AND kind NOT IN (${single})`);
   }
-  return db().select().from(notices).where(and(eq(notices.claimToken, token), eq(notices.status, "sending"))).orderBy(notices.createdAt);
+  return db()
+    .select()
+    .from(notices)
+    .where(and(eq(notices.claimToken, token), eq(notices.status, "sending")))
+    .orderBy(notices.createdAt);
 }
 
 export async function markNoticesSent(ids: string[], status: "sent" | "dropped" = "sent"): Promise<void> {
-  if (ids.length) await db().update(notices).set({ status, claimToken: null, lastError: null }).where(inArray(notices.id, ids));
+  if (ids.length)
+    await db().update(notices).set({ status, claimToken: null, lastError: null }).where(inArray(notices.id, ids));
 }
 
 export async function markNoticeSent(id: string, status: "sent" | "dropped" = "sent"): Promise<void> {
@@ -66,7 +76,13 @@ export async function markNoticeSent(id: string, status: "sent" | "dropped" = "s
 }
 
 /** Back off base, 2x base, 4x base, ... (base 30 s) and give up after `maxAttempts`. */
-export async function markNoticesFailed(ids: string[], attempts: number, error: string, maxAttempts = 8, baseSeconds = 30): Promise<void> {
+export async function markNoticesFailed(
+  ids: string[],
+  attempts: number,
+  error: string,
+  maxAttempts = 8,
+  baseSeconds = 30,
+): Promise<void> {
   if (!ids.length) return;
   const giveUp = attempts >= maxAttempts;
   await db()
@@ -81,13 +97,23 @@ export async function markNoticesFailed(ids: string[], attempts: number, error: 
     .where(inArray(notices.id, ids));
 }
 
-export async function markNoticeFailed(id: string, attempts: number, error: string, maxAttempts = 8, baseSeconds = 30): Promise<void> {
+export async function markNoticeFailed(
+  id: string,
+  attempts: number,
+  error: string,
+  maxAttempts = 8,
+  baseSeconds = 30,
+): Promise<void> {
   await markNoticesFailed([id], attempts, error, maxAttempts, baseSeconds);
 }
 
 /** Back in the queue untouched, due after `seconds` (the recipient's mail budget is spent for now). */
 export async function postponeNotices(ids: string[], seconds: number): Promise<void> {
-  if (ids.length) await db().update(notices).set({ status: "queued", claimToken: null, nextAttemptAt: new Date(Date.now() + seconds * 1000) }).where(inArray(notices.id, ids));
+  if (ids.length)
+    await db()
+      .update(notices)
+      .set({ status: "queued", claimToken: null, nextAttemptAt: new Date(Date.now() + seconds * 1000) })
+      .where(inArray(notices.id, ids));
 }
 
 /** Who has commented on a check besides its owner: the mentors a comment by the owner goes to. */

@@ -17,7 +17,10 @@ const apiColumns = {
   createdAt: uploads.createdAt,
 };
 
-const toApi = (r: { createdAt: Date } & Omit<ApiPhoto, "createdAt">): ApiPhoto => ({ ...r, createdAt: r.createdAt.toISOString() });
+const toApi = (r: { createdAt: Date } & Omit<ApiPhoto, "createdAt">): ApiPhoto => ({
+  ...r,
+  createdAt: r.createdAt.toISOString(),
+});
 
 /** A check's photos whose bytes are in the store (an upload still in flight is not shown yet). */
 export async function listPhotos(checkId: string): Promise<ApiPhoto[]> {
@@ -31,7 +34,12 @@ export async function listPhotos(checkId: string): Promise<ApiPhoto[]> {
 }
 
 export async function getPhoto(ex: Executor, id: string): Promise<ApiPhoto | undefined> {
-  const [r] = await ex.select(apiColumns).from(uploads).innerJoin(users, eq(users.id, uploads.ownerId)).where(eq(uploads.id, id)).limit(1);
+  const [r] = await ex
+    .select(apiColumns)
+    .from(uploads)
+    .innerJoin(users, eq(users.id, uploads.ownerId))
+    .where(eq(uploads.id, id))
+    .limit(1);
   return r && toApi(r);
 }
 
@@ -47,7 +55,11 @@ export async function lockPhotoRow(ex: Executor, id: string) {
 }
 
 export async function commentOnCheck(ex: Executor, commentId: string, checkId: string) {
-  const [r] = await ex.select({ id: comments.id }).from(comments).where(and(eq(comments.id, commentId), eq(comments.checkId, checkId))).limit(1);
+  const [r] = await ex
+    .select({ id: comments.id })
+    .from(comments)
+    .where(and(eq(comments.id, commentId), eq(comments.checkId, checkId)))
+    .limit(1);
   return !!r;
 }
 

@@ -16,7 +16,10 @@ export async function lockClient(tx: Tx, clientId: string, userId: string, known
       return c.lastMutationId;
     }
   }
-  await tx.insert(syncClients).values({ id: clientId, userId }).onDuplicateKeyUpdate({ set: { id: sql`id` } });
+  await tx
+    .insert(syncClients)
+    .values({ id: clientId, userId })
+    .onDuplicateKeyUpdate({ set: { id: sql`id` } });
   const [c] = await tx.select().from(syncClients).where(eq(syncClients.id, clientId)).for("update");
   if (!c || c.userId !== userId) throw forbidden("This device belongs to another account");
   return c.lastMutationId;
@@ -33,7 +36,10 @@ export async function setLastMutation(tx: Tx, clientId: string, id: number) {
 }
 
 export async function recordRejected(tx: Tx, clientId: string, mutationId: number, name: string, reason: string) {
-  await tx.insert(rejectedMutations).values({ clientId, mutationId, name: name.slice(0, 60), reason: reason.slice(0, 500) }).onDuplicateKeyUpdate({ set: { reason: reason.slice(0, 500) } });
+  await tx
+    .insert(rejectedMutations)
+    .values({ clientId, mutationId, name: name.slice(0, 60), reason: reason.slice(0, 500) })
+    .onDuplicateKeyUpdate({ set: { reason: reason.slice(0, 500) } });
 }
 
 /** The refusals already recorded among these ids: a push sent again after a lost answer gets them again. */
@@ -47,7 +53,10 @@ export async function rejectedAmong(tx: Tx, clientId: string, ids: number[]) {
 }
 
 export async function rejectedFor(clientId: string, after: number) {
-  return db().select({ id: rejectedMutations.mutationId, name: rejectedMutations.name, reason: rejectedMutations.reason }).from(rejectedMutations).where(and(eq(rejectedMutations.clientId, clientId), gt(rejectedMutations.mutationId, after)));
+  return db()
+    .select({ id: rejectedMutations.mutationId, name: rejectedMutations.name, reason: rejectedMutations.reason })
+    .from(rejectedMutations)
+    .where(and(eq(rejectedMutations.clientId, clientId), gt(rejectedMutations.mutationId, after)));
 }
 
 export async function clientOwner(clientId: string) {
@@ -91,12 +100,29 @@ export const END = TABLES.length;
  * read in index order (the primary key id follows version in that index) and cut at the page size,
  * plus the owner's checks for the comments on them.
  */
-export async function changesSince(tx: Tx, userId: string, after: number | PullPosition | null, pageRows = PULL_PAGE_ROWS) {
-  const [[counter]] = (await tx.execute(sql`SET STATEMENT wsrep_sync_wait = 1 FOR SELECT version FROM owner_versions WHERE owner_id = ${userId}`)) as unknown as [{ version: number | string }[]];
+export async function changesSince(
+  tx: Tx,
+  userId: string,
+  after: number | PullPosition | null,
+  pageRows = PULL_PAGE_ROWS,
+) {
+  const [[counter]] = (await tx.execute(
+    sql`SET STATEMENT wsrep_sync_wait = 1 FOR SELECT version FROM owner_versions WHERE owner_id = ${userId}`,
+  )) as unknown as [{ version: number | string }[]];
   const upTo = Number(counter?.version ?? 0);
   const at: PullPosition | null = typeof after === "number" ? { version: after, kind: END, id: "" } : after;
   const from = at !== null && at.version <= upTo ? at : null;
-  const none = { upTo, next: null as PullPosition | null, full: false, engines: [], checks: [], readings: [], tray: [], comments: [], tombstones: [] };
+  const none = {
+    upTo,
+    next: null as PullPosition | null,
+    full: false,
+    engines: [],
+    checks: [],
+    readings: [],
+    tray: [],
+    comments: [],
+    tombstones: [],
+  };
   if (from && from.version === upTo && from.kind >= END) return none;
   // rows of table `kind` after the position, up to the counter
   const range = (kind: number, t: { version: AnyMySqlColumn; id: AnyMySqlColumn }) => {
@@ -109,12 +135,40 @@ export async function changesSince(tx: Tx, userId: string, after: number | PullP
   // one more than a page from each table: the page's rows are among them, and any extra says "more"
   const cut = pageRows + 1;
   // one connection: the queries run one after another, in the same snapshot
-  const es = await tx.select().from(engines).where(and(eq(engines.ownerId, userId), range(0, engines))).orderBy(asc(engines.version), asc(engines.id)).limit(cut);
-  const cs = await tx.select().from(checks).where(and(eq(checks.ownerId, userId), range(1, checks))).orderBy(asc(checks.version), asc(checks.id)).limit(cut);
-  const rs = await tx.select().from(readings).where(and(eq(readings.ownerId, userId), range(2, readings))).orderBy(asc(readings.version), asc(readings.id)).limit(cut);
-  const ts = await tx.select().from(trayItems).where(and(eq(trayItems.ownerId, userId), range(3, trayItems))).orderBy(asc(trayItems.version), asc(trayItems.id)).limit(cut);
+  const es = await tx
+    .select()
+    .from(engines)
+    .where(and(eq(engines.ownerId, userId), range(0, engines)))
+    .orderBy(asc(engines.version), asc(engines.id))
+    .limit(cut);
+  const cs = await tx
+    .select()
+    .from(checks)
+    .where(and(eq(checks.ownerId, userId), range(1, checks)))
+    .orderBy(asc(checks.version), asc(checks.id))
+    .limit(cut);
+  const rs = await tx
+    .select()
+    .from(readings)
+    .where(and(eq(readings.ownerId, userId), range(2, readings)))
+    .orderBy(asc(readings.version), asc(readings.id))
+    .limit(cut);
+  const ts = await tx
+    .select()
+    .from(trayItems)
+    .where(and(eq(trayItems.ownerId, userId), range(3, trayItems)))
+    .orderBy(asc(trayItems.version), asc(trayItems.id))
+    .limit(cut);
   const cms = await tx
-    .select({ id: comments.id, checkId: comments.checkId, authorId: comments.authorId, valve: comments.valve, body: comments.body, createdAt: comments.createdAt, version: comments.version })
+    .select({
+      id: comments.id,
+      checkId: comments.checkId,
+      authorId: comments.authorId,
+      valve: comments.valve,
+      body: comments.body,
+      createdAt: comments.createdAt,
+      version: comments.version,
+    })
     .from(comments)
     .innerJoin(checks, eq(checks.id, comments.checkId))
     .where(and(eq(checks.ownerId, userId), range(4, comments)))
@@ -129,14 +183,17 @@ export async function changesSince(tx: Tx, userId: string, after: number | PullP
   // merged by (version, table); a stable sort keeps each table's own (database) order of ids, the
   // order the next page's `id >` compares in
   type Row = { version: number; kind: number; id: string; i: number };
-  const tag = (kind: number, rows: { version: number; id: string }[]) => rows.map((r, i): Row => ({ version: r.version, kind, id: r.id, i }));
+  const tag = (kind: number, rows: { version: number; id: string }[]) =>
+    rows.map((r, i): Row => ({ version: r.version, kind, id: r.id, i }));
   const tombKeys = tomb.map((t) => ({ version: t.version, id: t.rowId }));
-  const all = [...tag(0, es), ...tag(1, cs), ...tag(2, rs), ...tag(3, ts), ...tag(4, cms), ...tag(5, tombKeys)].sort((a, b) => a.version - b.version || a.kind - b.kind);
+  const all = [...tag(0, es), ...tag(1, cs), ...tag(2, rs), ...tag(3, ts), ...tag(4, cms), ...tag(5, tombKeys)].sort(
+    (a, b) => a.version - b.version || a.kind - b.kind,
+  );
   const page = all.slice(0, pageRows);
   const more = all.length > pageRows;
   const last = page.at(-1);
   const taken = (kind: number) => new Set(page.filter((r) => r.kind === kind).map((r) => r.i));
-  const keep = <T,>(kind: number, rows: T[]) => {
+  const keep = <T>(kind: number, rows: T[]) => {
     const k = taken(kind);
     return rows.filter((_, i) => k.has(i));
   };

@@ -5,7 +5,13 @@ import { db } from "../client";
 import { authTokens, users } from "../schema";
 
 /** The columns any caller may see of a user: never the password hash. */
-export const publicUserColumns = { id: users.id, email: users.email, name: users.name, displayUnit: users.displayUnit, noticesByEmail: users.noticesByEmail } as const;
+export const publicUserColumns = {
+  id: users.id,
+  email: users.email,
+  name: users.name,
+  displayUnit: users.displayUnit,
+  noticesByEmail: users.noticesByEmail,
+} as const;
 export type PublicUser = { id: string; email: string; name: string; displayUnit: "mm" | "in"; noticesByEmail: boolean };
 
 export async function getPublicUser(id: string): Promise<PublicUser | undefined> {
@@ -13,7 +19,14 @@ export async function getPublicUser(id: string): Promise<PublicUser | undefined>
   return u;
 }
 
-const credentialColumns = { id: users.id, email: users.email, name: users.name, passwordHash: users.passwordHash, emailVerifiedAt: users.emailVerifiedAt, sessionGeneration: users.sessionGeneration };
+const credentialColumns = {
+  id: users.id,
+  email: users.email,
+  name: users.name,
+  passwordHash: users.passwordHash,
+  emailVerifiedAt: users.emailVerifiedAt,
+  sessionGeneration: users.sessionGeneration,
+};
 
 /** For the sign-in check and account flows only: includes the hash, so it never leaves server/. */
 export async function getCredentialsByEmail(email: string) {
@@ -28,7 +41,11 @@ export async function getCredentialsById(id: string) {
 
 /** The public columns and the session generation in one read: every signed-in request makes it. */
 export async function getSessionUser(id: string): Promise<(PublicUser & { generation: number }) | undefined> {
-  const [u] = await db().select({ ...publicUserColumns, generation: users.sessionGeneration }).from(users).where(eq(users.id, id)).limit(1);
+  const [u] = await db()
+    .select({ ...publicUserColumns, generation: users.sessionGeneration })
+    .from(users)
+    .where(eq(users.id, id))
+    .limit(1);
   return u;
 }
 
@@ -40,16 +57,30 @@ export async function getSessionGeneration(id: string): Promise<number | undefin
 /** Ends every session of the account; with `from`, only if the generation is still that one. */
 export async function bumpSessionGeneration(id: string, from?: number): Promise<void> {
   const where = from === undefined ? eq(users.id, id) : and(eq(users.id, id), eq(users.sessionGeneration, from));
-  await db().update(users).set({ sessionGeneration: sql`${users.sessionGeneration} + 1` }).where(where);
+  await db()
+    .update(users)
+    .set({ sessionGeneration: sql`${users.sessionGeneration} + 1` })
+    .where(where);
 }
 
 export async function createUser(input: { email: string; name: string; passwordHash: string }): Promise<string> {
   const id = crypto.randomUUID();
-  await db().insert(users).values({ id, ...input });
+  await db()
+    .insert(users)
+    .values({ id, ...input });
   return id;
 }
 
-export async function updateUser(id: string, patch: Partial<{ name: string; displayUnit: "mm" | "in"; noticesByEmail: boolean; passwordHash: string | null; emailVerifiedAt: Date }>) {
+export async function updateUser(
+  id: string,
+  patch: Partial<{
+    name: string;
+    displayUnit: "mm" | "in";
+    noticesByEmail: boolean;
+    passwordHash: string | null;
+    emailVerifiedAt: Date;
+  }>,
+) {
   await db().update(users).set(patch).where(eq(users.id, id));
 }
 
@@ -59,7 +90,9 @@ const hashToken = (raw: string) => createHash("sha256").update(raw).digest("hex"
 /** A one-time token for a link in an e-mail; only its hash is stored. */
 export async function createAuthToken(userId: string, purpose: TokenPurpose, ttlMinutes: number): Promise<string> {
   const raw = randomBytes(32).toString("base64url");
-  await db().insert(authTokens).values({ userId, purpose, tokenHash: hashToken(raw), expiresAt: new Date(Date.now() + ttlMinutes * 60_000) });
+  await db()
+    .insert(authTokens)
+    .values({ userId, purpose, tokenHash: hashToken(raw), expiresAt: new Date(Date.now() + ttlMinutes * 60_000) });
   return raw;
 }
 
@@ -67,16 +100,29 @@ export async function createAuthToken(userId: string, purpose: TokenPurpose, ttl
  * Use a token once: the update that marks it used is the check, so two racing uses cannot both win.
  * With `onlyFor`, a token of another user is left unused and answers "other".
  */
-export async function consumeAuthToken(raw: string, purpose: TokenPurpose, opts: { onlyFor?: string } = {}): Promise<string | "other" | null> {
+export async function consumeAuthToken(
+  raw: string,
+  purpose: TokenPurpose,
+  opts: { onlyFor?: string } = {},
+): Promise<string | "other" | null> {
   const tokenHash = hashToken(raw);
-  const where = and(eq(authTokens.tokenHash, tokenHash), eq(authTokens.purpose, purpose), isNull(authTokens.usedAt), gt(authTokens.expiresAt, new Date()));
+  const where = and(
+    eq(authTokens.tokenHash, tokenHash),
+    eq(authTokens.purpose, purpose),
+    isNull(authTokens.usedAt),
+    gt(authTokens.expiresAt, new Date()),
+  );
   if (opts.onlyFor) {
     const owner = await tokenOwner(raw, purpose);
     if (owner && owner !== opts.onlyFor) return "other";
   }
   const [res] = await db().update(authTokens).set({ usedAt: new Date() }).where(where);
   if (res.affectedRows !== 1) return null;
-  const [row] = await db().select({ userId: authTokens.userId }).from(authTokens).where(eq(authTokens.tokenHash, tokenHash)).limit(1);
+  const [row] = await db()
+    .select({ userId: authTokens.userId })
+    .from(authTokens)
+    .where(eq(authTokens.tokenHash, tokenHash))
+    .limit(1);
   return row?.userId ?? null;
 }
 
@@ -86,12 +132,19 @@ export async function consumeAuthToken(raw: string, purpose: TokenPurpose, opts:
  * (OWASP ASVS 5.0 V6 Authentication: a password change ends pending recovery).
  */
 export async function voidAuthTokens(userId: string): Promise<void> {
-  await db().delete(authTokens).where(and(eq(authTokens.userId, userId), isNull(authTokens.usedAt)));
+  await db()
+    .delete(authTokens)
+    .where(and(eq(authTokens.userId, userId), isNull(authTokens.usedAt)));
 }
 
 /** Whose a usable token is, without using it (the sign-in link page names the account first). */
 export async function tokenOwner(raw: string, purpose: TokenPurpose): Promise<string | null> {
-  const where = and(eq(authTokens.tokenHash, hashToken(raw)), eq(authTokens.purpose, purpose), isNull(authTokens.usedAt), gt(authTokens.expiresAt, new Date()));
+  const where = and(
+    eq(authTokens.tokenHash, hashToken(raw)),
+    eq(authTokens.purpose, purpose),
+    isNull(authTokens.usedAt),
+    gt(authTokens.expiresAt, new Date()),
+  );
   const [row] = await db().select({ userId: authTokens.userId }).from(authTokens).where(where).limit(1);
   return row?.userId ?? null;
 }
@@ -103,5 +156,8 @@ export { hashToken };
  * the hash that was checked: a password changed meanwhile is never overwritten by the old one.
  */
 export async function upgradePasswordHash(id: string, checked: string, stronger: string): Promise<void> {
-  await db().update(users).set({ passwordHash: stronger }).where(and(eq(users.id, id), eq(users.passwordHash, checked)));
+  await db()
+    .update(users)
+    .set({ passwordHash: stronger })
+    .where(and(eq(users.id, id), eq(users.passwordHash, checked)));
 }

@@ -19,17 +19,32 @@ export const FORMER_MEMBER = "a former member";
  */
 export const deleteAccountInput = z
   .object({
-    password: z.string({ error: "enter your password" }).min(1, { error: "enter your password" }).max(256, { error: "too long" }).optional(),
+    password: z
+      .string({ error: "enter your password" })
+      .min(1, { error: "enter your password" })
+      .max(256, { error: "too long" })
+      .optional(),
     token: tokenSchema.optional(),
   })
   .strict()
-  .refine((b) => (b.password === undefined) !== (b.token === undefined), { error: "enter your password", path: ["password"] });
+  .refine((b) => (b.password === undefined) !== (b.token === undefined), {
+    error: "enter your password",
+    path: ["password"],
+  });
 export type DeleteAccountInput = z.infer<typeof deleteAccountInput>;
 
 /** Something that stops the deletion until the owner has dealt with it, named so they can. */
 export type DeletionBlocker =
   | { kind: "last-admin"; clubId: string; clubName: string; members: number }
-  | { kind: "open-loan"; loanId: string; otherName: string; side: "lender" | "borrower"; count: number; size: number; state: string };
+  | {
+      kind: "open-loan";
+      loanId: string;
+      otherName: string;
+      side: "lender" | "borrower";
+      count: number;
+      size: number;
+      state: string;
+    };
 
 /** GET /api/account/deletion: what a deletion would remove, end and keep, counted now. */
 export interface DeletionPreview {
@@ -53,7 +68,10 @@ export interface DeletionPreview {
 
 /** The words a blocker is refused with (the same on the page and in the API's refusal). */
 export function blockerText(b: DeletionBlocker): string {
-  if (b.kind === "last-admin") return `You are the only admin of ${b.clubName}: make another member admin there first (${b.members - 1} other member${b.members === 2 ? "" : "s"}).`;
+  if (b.kind === "last-admin")
+    return `You are the only admin of ${b.clubName}: make another member admin there first (${b.members - 1} other member${b.members === 2 ? "" : "s"}).`;
   const what = `${b.count} × ${formatLength(b.size, "mm")}`;
-  return b.side === "borrower" ? `You still have ${what} borrowed from ${b.otherName} (${b.state}): give them back and let ${b.otherName} mark them received first.` : `${b.otherName} still has ${what} borrowed from you (${b.state}): settle the loan with ${b.otherName} first.`;
+  return b.side === "borrower"
+    ? `You still have ${what} borrowed from ${b.otherName} (${b.state}): give them back and let ${b.otherName} mark them received first.`
+    : `${b.otherName} still has ${what} borrowed from you (${b.state}): settle the loan with ${b.otherName} first.`;
 }

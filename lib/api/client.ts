@@ -26,8 +26,16 @@ export async function apiFetch<T>(path: string, init: { method?: string; body?: 
     throw new ApiFailure(0, "offline", "No connection to the server");
   }
   if (res.status === 204) return undefined as T;
-  const json = (await res.json().catch(() => null)) as { error?: { code: string; message: string; fields?: Record<string, string> } } | null;
-  if (!res.ok) throw new ApiFailure(res.status, json?.error?.code ?? "error", json?.error?.message ?? `The server answered ${res.status}`, json?.error?.fields);
+  const json = (await res.json().catch(() => null)) as {
+    error?: { code: string; message: string; fields?: Record<string, string> };
+  } | null;
+  if (!res.ok)
+    throw new ApiFailure(
+      res.status,
+      json?.error?.code ?? "error",
+      json?.error?.message ?? `The server answered ${res.status}`,
+      json?.error?.fields,
+    );
   return json as T;
 }
 
@@ -109,33 +117,65 @@ export const fetchers = {
   clubs: () => apiFetch<{ items: ClubSummary[] }>("/api/clubs").then((r) => r.items),
   members: (clubId: string) => apiFetch<{ items: Member[] }>(`/api/clubs/${clubId}/members`).then((r) => r.items),
   queue: (clubId: string) => apiFetch<{ items: QueueItem[] }>(`/api/clubs/${clubId}/queue`).then((r) => r.items),
-  check: (id: string) => apiFetch<{ check: { id: string; engineId: string; odometer: number; status: string; startedAt: string; notes: string | null; measuredHot: boolean }; engine: Record<string, unknown>; access: "owner" | "mentor" }>(`/api/checks/${id}`),
-  readings: (id: string) => apiFetch<{ readings: Record<string, unknown>[] }>(`/api/checks/${id}/readings`).then((r) => r.readings),
+  check: (id: string) =>
+    apiFetch<{
+      check: {
+        id: string;
+        engineId: string;
+        odometer: number;
+        status: string;
+        startedAt: string;
+        notes: string | null;
+        measuredHot: boolean;
+      };
+      engine: Record<string, unknown>;
+      access: "owner" | "mentor";
+    }>(`/api/checks/${id}`),
+  readings: (id: string) =>
+    apiFetch<{ readings: Record<string, unknown>[] }>(`/api/checks/${id}/readings`).then((r) => r.readings),
   comments: (id: string) => apiFetch<{ items: ApiComment[] }>(`/api/checks/${id}/comments`).then((r) => r.items),
   shares: (id: string) => apiFetch<{ items: ApiShare[] }>(`/api/checks/${id}/shares`).then((r) => r.items),
   photos: (id: string) => apiFetch<{ items: ApiPhoto[] }>(`/api/checks/${id}/photos`).then((r) => r.items),
   photoUsage: () => apiFetch<PhotoUsage>("/api/photos/usage"),
   pool: (clubId: string) => apiFetch<{ items: ApiOffer[] }>(`/api/clubs/${clubId}/pool`).then((r) => r.items),
   borrows: () => apiFetch<{ items: ApiBorrow[] }>("/api/borrows").then((r) => r.items),
-  engines: () => apiFetch<{ items: { id: string; name: string; cylinders: number }[] }>("/api/engines?limit=200").then((r) => r.items),
+  engines: () =>
+    apiFetch<{ items: { id: string; name: string; cylinders: number }[] }>("/api/engines?limit=200").then(
+      (r) => r.items,
+    ),
 };
 
 export const mutations = {
-  signUp: (body: { email: string; name: string; password: string }) => apiFetch<{ message: string }>("/api/account/sign-up", { method: "POST", body }),
-  verify: (token: string, password: string) => apiFetch<{ ok: true; email: string }>("/api/account/verify", { method: "POST", body: { token, password } }),
-  resendVerification: (email: string) => apiFetch<{ message: string }>("/api/account/verify/resend", { method: "POST", body: { email } }),
-  requestReset: (email: string) => apiFetch<{ message: string }>("/api/account/password-reset", { method: "POST", body: { email } }),
-  setPassword: (token: string, password: string) => apiFetch("/api/account/password", { method: "POST", body: { token, password } }),
-  linkAccount: (token: string) => apiFetch<{ account: { email: string } }>("/api/account/sign-in-link/account", { method: "POST", body: { token } }),
-  requestLink: (email: string) => apiFetch<{ message: string }>("/api/account/sign-in-link", { method: "POST", body: { email } }),
+  signUp: (body: { email: string; name: string; password: string }) =>
+    apiFetch<{ message: string }>("/api/account/sign-up", { method: "POST", body }),
+  verify: (token: string, password: string) =>
+    apiFetch<{ ok: true; email: string }>("/api/account/verify", { method: "POST", body: { token, password } }),
+  resendVerification: (email: string) =>
+    apiFetch<{ message: string }>("/api/account/verify/resend", { method: "POST", body: { email } }),
+  requestReset: (email: string) =>
+    apiFetch<{ message: string }>("/api/account/password-reset", { method: "POST", body: { email } }),
+  setPassword: (token: string, password: string) =>
+    apiFetch("/api/account/password", { method: "POST", body: { token, password } }),
+  linkAccount: (token: string) =>
+    apiFetch<{ account: { email: string } }>("/api/account/sign-in-link/account", { method: "POST", body: { token } }),
+  requestLink: (email: string) =>
+    apiFetch<{ message: string }>("/api/account/sign-in-link", { method: "POST", body: { email } }),
   createClub: (name: string) => apiFetch<{ club: ClubSummary }>("/api/clubs", { method: "POST", body: { name } }),
-  invite: (clubId: string, email: string, role: string) => apiFetch(`/api/clubs/${clubId}/invites`, { method: "POST", body: { email, role } }),
-  setRoles: (clubId: string, userId: string, roles: string[]) => apiFetch(`/api/clubs/${clubId}/members/${userId}`, { method: "PUT", body: { roles } }),
-  share: (checkId: string, clubId: string) => apiFetch<{ share: ApiShare }>(`/api/checks/${checkId}/shares`, { method: "POST", body: { clubId } }),
+  invite: (clubId: string, email: string, role: string) =>
+    apiFetch(`/api/clubs/${clubId}/invites`, { method: "POST", body: { email, role } }),
+  setRoles: (clubId: string, userId: string, roles: string[]) =>
+    apiFetch(`/api/clubs/${clubId}/members/${userId}`, { method: "PUT", body: { roles } }),
+  share: (checkId: string, clubId: string) =>
+    apiFetch<{ share: ApiShare }>(`/api/checks/${checkId}/shares`, { method: "POST", body: { clubId } }),
   withdraw: (shareId: string) => apiFetch(`/api/shares/${shareId}`, { method: "DELETE" }),
-  comment: (checkId: string, body: string, valve: string | null) => apiFetch<{ comment: ApiComment }>(`/api/checks/${checkId}/comments`, { method: "POST", body: { body, valve } }),
-  verdict: (shareId: string, verdict: string) => apiFetch<{ share: ApiShare }>(`/api/shares/${shareId}/verdict`, { method: "PUT", body: { verdict } }),
-  unsubscribe: (token: string) => apiFetch<{ stopped: true }>(`/api/notices/unsubscribe?token=${encodeURIComponent(token)}`, { method: "POST" }),
-  settings: (patch: Partial<Pick<Me, "name" | "displayUnit" | "noticesByEmail">>) => apiFetch<{ user: Me }>("/api/account", { method: "PATCH", body: patch }),
-  acceptInvite: (token: string) => apiFetch<{ clubId: string; clubName: string }>("/api/invites/accept", { method: "POST", body: { token } }),
+  comment: (checkId: string, body: string, valve: string | null) =>
+    apiFetch<{ comment: ApiComment }>(`/api/checks/${checkId}/comments`, { method: "POST", body: { body, valve } }),
+  verdict: (shareId: string, verdict: string) =>
+    apiFetch<{ share: ApiShare }>(`/api/shares/${shareId}/verdict`, { method: "PUT", body: { verdict } }),
+  unsubscribe: (token: string) =>
+    apiFetch<{ stopped: true }>(`/api/notices/unsubscribe?token=${encodeURIComponent(token)}`, { method: "POST" }),
+  settings: (patch: Partial<Pick<Me, "name" | "displayUnit" | "noticesByEmail">>) =>
+    apiFetch<{ user: Me }>("/api/account", { method: "PATCH", body: patch }),
+  acceptInvite: (token: string) =>
+    apiFetch<{ clubId: string; clubName: string }>("/api/invites/accept", { method: "POST", body: { token } }),
 };

@@ -16,7 +16,20 @@ export const IMPORT_MAX_BYTES = 2 * 1024 * 1024;
 /** Valve clearances are tenths of a millimetre (common practice); more than this is a unit mix-up. */
 const MAX_CLEARANCE_MM = 1;
 
-type Field = "record" | "engine" | "date" | "odometer" | "valve" | "round" | "shim" | "micrometer" | "go" | "noGo" | "clearance" | "newShim" | "notes";
+type Field =
+  | "record"
+  | "engine"
+  | "date"
+  | "odometer"
+  | "valve"
+  | "round"
+  | "shim"
+  | "micrometer"
+  | "go"
+  | "noGo"
+  | "clearance"
+  | "newShim"
+  | "notes";
 
 /** Header names a log may use for each field (lower case, words joined by "_", unit suffix removed). */
 const ALIASES: Record<Field, string[]> = {
@@ -50,7 +63,14 @@ const WORDS: Record<Field, string> = {
   newShim: "new shim",
   notes: "notes",
 };
-const READING_FIELD_WORDS: Record<string, string> = { installedStamp: "shim", installedMicrometer: "micrometer shim", feelerGo: "go blade", feelerNoGo: "no-go blade", measured: "clearance", fittedShim: "new shim" };
+const READING_FIELD_WORDS: Record<string, string> = {
+  installedStamp: "shim",
+  installedMicrometer: "micrometer shim",
+  feelerGo: "go blade",
+  feelerNoGo: "no-go blade",
+  measured: "clearance",
+  fittedShim: "new shim",
+};
 
 export type DateOrder = "dmy" | "mdy";
 
@@ -92,7 +112,10 @@ export interface ImportPreview {
   ok: boolean;
 }
 
-type Engine = Pick<LocalEngine, "name" | "cylinders" | "intakePerCylinder" | "exhaustPerCylinder" | "shims" | "displayUnit">;
+type Engine = Pick<
+  LocalEngine,
+  "name" | "cylinders" | "intakePerCylinder" | "exhaustPerCylinder" | "shims" | "displayUnit"
+>;
 
 function headerKey(h: string): { field: Field | null; unit: LengthUnit | "thou" | null } {
   let k = h
@@ -111,7 +134,11 @@ function headerKey(h: string): { field: Field | null; unit: LengthUnit | "thou" 
 }
 
 /** A spreadsheet cell that was protected from running as a formula starts with an apostrophe. */
-const clean = (s: string | undefined) => (s ?? "").trim().replace(/^'(?=[=+\-@\t\r])/, "").trim();
+const clean = (s: string | undefined) =>
+  (s ?? "")
+    .trim()
+    .replace(/^'(?=[=+\-@\t\r])/, "")
+    .trim();
 
 function parseLength(raw: string, unit: LengthUnit | "thou", decimalComma: boolean): number | string {
   let s = raw.replace(/\s/g, "");
@@ -137,7 +164,9 @@ function parseOdometer(raw: string, decimalComma: boolean): number | string {
 const pad = (n: number) => String(n).padStart(2, "0");
 
 /** A date cell as [day-first reading, month-first reading] or a fixed one; null if not a date. */
-function dateShapes(raw: string): { fixed?: { y: number; m: number; d: number }; a?: number; b?: number; y?: number; twoDigitYear?: boolean } | null {
+function dateShapes(
+  raw: string,
+): { fixed?: { y: number; m: number; d: number }; a?: number; b?: number; y?: number; twoDigitYear?: boolean } | null {
   const s = raw.trim();
   let m = /^(\d{4})-(\d{1,2})-(\d{1,2})(?:[T ].*)?$/.exec(s);
   if (m) return { fixed: { y: +m[1]!, m: +m[2]!, d: +m[3]! } };
@@ -150,30 +179,54 @@ function dateShapes(raw: string): { fixed?: { y: number; m: number; d: number };
 
 function checkedDate(y: number, mo: number, d: number, today: string): string {
   const t = new Date(Date.UTC(y, mo - 1, d));
-  if (mo < 1 || mo > 12 || t.getUTCDate() !== d || t.getUTCMonth() !== mo - 1) throw new Error("is not in the calendar");
+  if (mo < 1 || mo > 12 || t.getUTCDate() !== d || t.getUTCMonth() !== mo - 1)
+    throw new Error("is not in the calendar");
   const iso = `${y}-${pad(mo)}-${pad(d)}`;
   if (y < 1950) throw new Error("is before 1950");
   if (iso > today) throw new Error("lies in the future");
   return iso;
 }
 
-export function readChecksCsv(text: string, engine: Engine, existing: { date: string; odometer: number }[], opts: { dateOrder?: DateOrder; today?: string } = {}): ImportPreview {
+export function readChecksCsv(
+  text: string,
+  engine: Engine,
+  existing: { date: string; odometer: number }[],
+  opts: { dateOrder?: DateOrder; today?: string } = {},
+): ImportPreview {
   const today = opts.today ?? new Date().toISOString().slice(0, 10);
-  const out: ImportPreview = { fileErrors: [], warnings: [], columns: [], rows: [], checks: [], dateOrder: null, dateOrderOpen: false, ok: false };
-  const done = () => ({ ...out, ok: out.fileErrors.length === 0 && out.checks.length > 0 && out.rows.every((r) => r.errors.length === 0) });
+  const out: ImportPreview = {
+    fileErrors: [],
+    warnings: [],
+    columns: [],
+    rows: [],
+    checks: [],
+    dateOrder: null,
+    dateOrderOpen: false,
+    ok: false,
+  };
+  const done = () => ({
+    ...out,
+    ok: out.fileErrors.length === 0 && out.checks.length > 0 && out.rows.every((r) => r.errors.length === 0),
+  });
   const body = text.replace(/^\uFEFF/, "");
   if (body.trim() === "") {
     out.fileErrors.push("The file is empty.");
     return done();
   }
-  const parsed = Papa.parse<string[]>(body, { header: false, skipEmptyLines: false, delimitersToGuess: [",", ";", "\t", "|"] });
+  const parsed = Papa.parse<string[]>(body, {
+    header: false,
+    skipEmptyLines: false,
+    delimitersToGuess: [",", ";", "\t", "|"],
+  });
   const delimiter = parsed.meta.delimiter;
   const decimalComma = delimiter !== ",";
   const grid = parsed.data;
   const header = grid[0] ?? [];
   const dataRows = grid.slice(1);
   if (dataRows.filter((r) => r.some((c) => c.trim() !== "")).length > IMPORT_MAX_ROWS) {
-    out.fileErrors.push(`The file has more than ${IMPORT_MAX_ROWS.toLocaleString("en")} rows: split it into smaller files.`);
+    out.fileErrors.push(
+      `The file has more than ${IMPORT_MAX_ROWS.toLocaleString("en")} rows: split it into smaller files.`,
+    );
     return done();
   }
 
@@ -181,20 +234,29 @@ export function readChecksCsv(text: string, engine: Engine, existing: { date: st
   header.forEach((h, index) => {
     const { field, unit } = headerKey(h);
     const dup = field && at[field];
-    out.columns.push({ header: h, reads: field && !dup ? WORDS[field] : null, unit: field && LENGTHS.includes(field) ? (unit ?? engine.displayUnit) : null });
-    if (dup) out.fileErrors.push(`Two columns are read as the ${WORDS[field]}: "${header[dup.index]}" and "${h}". Keep one.`);
+    out.columns.push({
+      header: h,
+      reads: field && !dup ? WORDS[field] : null,
+      unit: field && LENGTHS.includes(field) ? (unit ?? engine.displayUnit) : null,
+    });
+    if (dup)
+      out.fileErrors.push(`Two columns are read as the ${WORDS[field]}: "${header[dup.index]}" and "${h}". Keep one.`);
     else if (field) at[field] = { index, unit };
   });
   const missing = (["date", "odometer", "valve"] as Field[]).filter((f) => !at[f]);
   if (!at.clearance && !at.go) missing.push("clearance");
   if (missing.length) {
-    out.fileErrors.push(`The first row must name the columns; missing: ${missing.map((f) => WORDS[f]).join(", ")}. Found: ${header.map((h) => `"${h}"`).join(", ") || "nothing"}.`);
+    out.fileErrors.push(
+      `The first row must name the columns; missing: ${missing.map((f) => WORDS[f]).join(", ")}. Found: ${header.map((h) => `"${h}"`).join(", ") || "nothing"}.`,
+    );
     return done();
   }
   // the file's own columns without a unit are named, and the example of a named unit has one
   const unitless = LENGTHS.filter((f) => at[f] && !at[f]!.unit).map((f) => `"${header[at[f]!.index]}"`);
   if (unitless.length)
-    out.warnings.push(`${unitless.length === 1 ? "The column" : "The columns"} ${unitless.join(", ")} ${unitless.length === 1 ? "has" : "have"} no unit in ${unitless.length === 1 ? "its name and is" : "their names and are"} read in ${engine.displayUnit === "mm" ? "millimetres" : "inches"}, this engine's unit. To say the unit, end a name with it, like "clearance_mm" or "clearance_in".`);
+    out.warnings.push(
+      `${unitless.length === 1 ? "The column" : "The columns"} ${unitless.join(", ")} ${unitless.length === 1 ? "has" : "have"} no unit in ${unitless.length === 1 ? "its name and is" : "their names and are"} read in ${engine.displayUnit === "mm" ? "millimetres" : "inches"}, this engine's unit. To say the unit, end a name with it, like "clearance_mm" or "clearance_in".`,
+    );
 
   // the day and month order of dates like 03/04/2024: from the file when a day above 12 shows it
   const cells = (f: Field) => dataRows.map((r) => clean(r[at[f]!.index]));
@@ -202,7 +264,9 @@ export function readChecksCsv(text: string, engine: Engine, existing: { date: st
   const dayFirst = shapes.some((s) => s?.a != null && s.a > 12);
   const monthFirst = shapes.some((s) => s?.b != null && s.b > 12);
   if (dayFirst && monthFirst) {
-    out.fileErrors.push("Some dates put the day first and others the month first: write them all one way (best as 2024-05-31).");
+    out.fileErrors.push(
+      "Some dates put the day first and others the month first: write them all one way (best as 2024-05-31).",
+    );
     return done();
   }
   const ambiguous = shapes.some((s) => s?.a != null);
@@ -210,7 +274,10 @@ export function readChecksCsv(text: string, engine: Engine, existing: { date: st
   out.dateOrderOpen = ambiguous && !dayFirst && !monthFirst;
 
   const engineCells = at.engine ? [...new Set(cells("engine").filter(Boolean))] : [];
-  if (engineCells.some((n) => n !== engine.name)) out.warnings.push(`The file names ${engineCells.map((n) => `"${n}"`).join(", ")}; its checks will go to ${engine.name}.`);
+  if (engineCells.some((n) => n !== engine.name))
+    out.warnings.push(
+      `The file names ${engineCells.map((n) => `"${n}"`).join(", ")}; its checks will go to ${engine.name}.`,
+    );
 
   const valveIds = new Set(valveNames(engine).map((v) => v.id));
   const shimSizes = engineSizes(engine);
@@ -224,10 +291,12 @@ export function readChecksCsv(text: string, engine: Engine, existing: { date: st
     const get = (f: Field) => (at[f] ? clean(cellsOfRow[at[f]!.index]) : "");
     const row: ImportRow = { row: rowNo, date: null, odometer: null, valve: null, reading: null, errors: [] };
     out.rows.push(row);
-    if (cellsOfRow.length > header.length && cellsOfRow.slice(header.length).some((c) => c.trim() !== "")) row.errors.push("has more cells than the first row has column names");
+    if (cellsOfRow.length > header.length && cellsOfRow.slice(header.length).some((c) => c.trim() !== ""))
+      row.errors.push("has more cells than the first row has column names");
     const record = get("record").toLowerCase();
     if (record && record !== "valve") {
-      if (["buy", "borrow", "to tray"].includes(record)) row.skipped = `a ${record} line of an exported plan: not history, left out`;
+      if (["buy", "borrow", "to tray"].includes(record))
+        row.skipped = `a ${record} line of an exported plan: not history, left out`;
       else row.errors.push(`record "${get("record")}" is not one this file can hold (valve, buy, borrow, to tray)`);
       return;
     }
@@ -238,7 +307,11 @@ export function readChecksCsv(text: string, engine: Engine, existing: { date: st
       if (!rawDate) throw new Error("is empty");
       if (!shape) throw new Error("is not a date: write it as 2024-05-31");
       if (shape.twoDigitYear) throw new Error("has a two-digit year: write it in full (2024, not 24)");
-      const { y, m, d } = shape.fixed ?? (out.dateOrder === "mdy" ? { y: shape.y!, m: shape.a!, d: shape.b! } : { y: shape.y!, m: shape.b!, d: shape.a! });
+      const { y, m, d } =
+        shape.fixed ??
+        (out.dateOrder === "mdy"
+          ? { y: shape.y!, m: shape.a!, d: shape.b! }
+          : { y: shape.y!, m: shape.b!, d: shape.a! });
       row.date = checkedDate(y, m, d, today);
     } catch (e) {
       row.errors.push(rawDate ? `date "${rawDate}" ${(e as Error).message}` : "date is empty");
@@ -251,7 +324,12 @@ export function readChecksCsv(text: string, engine: Engine, existing: { date: st
     // valve
     const rawValve = get("valve").toUpperCase().replace(/\s/g, "");
     if (!rawValve) row.errors.push("valve is empty");
-    else if (!valveIds.has(rawValve)) row.errors.push(/^[IE]\d{1,2}\.\d$/.test(rawValve) ? `${engine.name} has no valve ${rawValve}` : `valve "${get("valve")}" is not named like I1.1 (intake, cylinder 1, first) or E4.2`);
+    else if (!valveIds.has(rawValve))
+      row.errors.push(
+        /^[IE]\d{1,2}\.\d$/.test(rawValve)
+          ? `${engine.name} has no valve ${rawValve}`
+          : `valve "${get("valve")}" is not named like I1.1 (intake, cylinder 1, first) or E4.2`,
+      );
     else row.valve = rawValve;
     // lengths
     const len: Partial<Record<Field, number | null>> = {};
@@ -266,9 +344,16 @@ export function readChecksCsv(text: string, engine: Engine, existing: { date: st
       else row.errors.push(`${WORDS[f]} ${v}`);
     }
     const measured = len.clearance ?? len.go ?? null;
-    if (measured != null && measured > MAX_CLEARANCE_MM) row.errors.push(`clearance ${measured} mm is far more than a valve clearance: is the column in another unit?`);
-    if (len.clearance != null && len.go != null && (len.clearance < len.go - 1e-9 || (len.noGo != null && len.clearance >= len.noGo - 1e-9)))
-      row.errors.push(`clearance ${len.clearance} mm does not lie between the go blade (${len.go}) and the no-go blade (${len.noGo ?? "none"})`);
+    if (measured != null && measured > MAX_CLEARANCE_MM)
+      row.errors.push(`clearance ${measured} mm is far more than a valve clearance: is the column in another unit?`);
+    if (
+      len.clearance != null &&
+      len.go != null &&
+      (len.clearance < len.go - 1e-9 || (len.noGo != null && len.clearance >= len.noGo - 1e-9))
+    )
+      row.errors.push(
+        `clearance ${len.clearance} mm does not lie between the go blade (${len.go}) and the no-go blade (${len.noGo ?? "none"})`,
+      );
     const rawRound = get("round");
     const round = rawRound === "" ? 0 : /^\d{1,2}$/.test(rawRound) ? Number(rawRound) : NaN;
     if (Number.isNaN(round)) row.errors.push(`round "${rawRound}" is not a whole number`);
@@ -292,12 +377,17 @@ export function readChecksCsv(text: string, engine: Engine, existing: { date: st
     };
     const r = readingInput.safeParse(candidate);
     if (!r.success) {
-      for (const issue of r.error.issues) row.errors.push(`${READING_FIELD_WORDS[String(issue.path[0])] ?? String(issue.path[0] ?? "reading")} ${issue.message}`);
+      for (const issue of r.error.issues)
+        row.errors.push(
+          `${READING_FIELD_WORDS[String(issue.path[0])] ?? String(issue.path[0] ?? "reading")} ${issue.message}`,
+        );
       return;
     }
-    for (const [k, msg] of Object.entries(readingProblems({ ...engine, shimSizes }, [r.data]))) row.errors.push(`${READING_FIELD_WORDS[k.split(".").at(-1)!] ?? "reading"}: ${msg}`);
+    for (const [k, msg] of Object.entries(readingProblems({ ...engine, shimSizes }, [r.data])))
+      row.errors.push(`${READING_FIELD_WORDS[k.split(".").at(-1)!] ?? "reading"}: ${msg}`);
     const key = `${row.date}#${row.odometer}`;
-    if (existingKeys.has(key)) row.errors.push(`a check on ${row.date} at ${row.odometer!.toLocaleString("en")} is already on this engine`);
+    if (existingKeys.has(key))
+      row.errors.push(`a check on ${row.date} at ${row.odometer!.toLocaleString("en")} is already on this engine`);
     const twice = seen.get(`${key}#${row.valve}#${round}`);
     if (twice) row.errors.push(`${row.valve} is already in row ${twice} for the same check (same date and odometer)`);
     if (row.errors.length) return;
@@ -308,14 +398,15 @@ export function readChecksCsv(text: string, engine: Engine, existing: { date: st
     check.readings.push(r.data);
     check.rows.push(rowNo);
     const note = get("notes");
-    if (note && !(check.notes ?? "").split("; ").includes(note)) check.notes = (check.notes ? `${check.notes}; ${note}` : note).slice(0, 4000);
+    if (note && !(check.notes ?? "").split("; ").includes(note))
+      check.notes = (check.notes ? `${check.notes}; ${note}` : note).slice(0, 4000);
   });
   for (const e of parsed.errors) {
     // quoting problems are the file's, with the row they start in
-    if (e.type === "Quotes") out.fileErrors.push(`A quoted cell is not closed${e.row != null ? ` (from row ${e.row + 1})` : ""}.`);
+    if (e.type === "Quotes")
+      out.fileErrors.push(`A quoted cell is not closed${e.row != null ? ` (from row ${e.row + 1})` : ""}.`);
   }
   out.checks = [...byCheck.values()].sort((a, b) => a.date.localeCompare(b.date) || a.odometer - b.odometer);
   if (out.rows.length === 0) out.fileErrors.push("The file has column names but no rows.");
   return done();
 }
-

@@ -10,7 +10,29 @@ import type { ValveView } from "./derive";
  * micrometer reading or a 0.025 series is in it, 4 for inch blades), with a point, so a
  * spreadsheet reads each column as one kind of number. The import (csv-import.ts) reads it back.
  */
-export const CSV_COLUMNS = ["record", "engine", "date", "odometer", "odometer_unit", "shim_position", "valve", "round", "shim_mm", "micrometer_mm", "go_mm", "no_go_mm", "clearance_mm", "band_min_mm", "band_max_mm", "state", "fitted_shim_mm", "plan_shim_mm", "predicted_mm", "source", "count"] as const;
+export const CSV_COLUMNS = [
+  "record",
+  "engine",
+  "date",
+  "odometer",
+  "odometer_unit",
+  "shim_position",
+  "valve",
+  "round",
+  "shim_mm",
+  "micrometer_mm",
+  "go_mm",
+  "no_go_mm",
+  "clearance_mm",
+  "band_min_mm",
+  "band_max_mm",
+  "state",
+  "fitted_shim_mm",
+  "plan_shim_mm",
+  "predicted_mm",
+  "source",
+  "count",
+] as const;
 type Column = (typeof CSV_COLUMNS)[number];
 
 /** The fewest decimals (2 to 6) that write every length exactly: lengths are whole nanometres. */
@@ -34,7 +56,11 @@ export function csvFileName(engine: string, date: string, odometer: number, unit
   return `${slug}-${date}-${odometer}${unit}.csv`;
 }
 
-export function checkCsv(meta: { engine: string; odometer: number; odometerUnit: string; date: string; shimPosition?: ShimPosition | null }, views: ValveView[], plan: ShimPlan | null): string {
+export function checkCsv(
+  meta: { engine: string; odometer: number; odometerUnit: string; date: string; shimPosition?: ShimPosition | null },
+  views: ValveView[],
+  plan: ShimPlan | null,
+): string {
   const byValve = new Map(plan?.assignments.map((a) => [a.valveId, a]) ?? []);
   const rows: Partial<Record<Column, string | number | null | undefined>>[] = [];
   const lengths: number[] = [];
@@ -44,7 +70,13 @@ export function checkCsv(meta: { engine: string; odometer: number; odometerUnit:
     return v;
   };
   // where the shims sit ("over" or "under" the bucket; empty: not said), beside the odometer's unit
-  const base = { engine: meta.engine, date: meta.date, odometer: meta.odometer, odometer_unit: meta.odometerUnit, shim_position: meta.shimPosition ?? null };
+  const base = {
+    engine: meta.engine,
+    date: meta.date,
+    odometer: meta.odometer,
+    odometer_unit: meta.odometerUnit,
+    shim_position: meta.shimPosition ?? null,
+  };
   for (const v of views) {
     const a = byValve.get(v.valve.id);
     const r = v.latest;
@@ -67,8 +99,10 @@ export function checkCsv(meta: { engine: string; odometer: number; odometerUnit:
       source: a ? (a.source.kind === "valve" ? `from ${a.source.valveId}` : a.source.kind) : null,
     });
   }
-  for (const b of plan?.buy ?? []) rows.push({ record: "buy", ...base, plan_shim_mm: mm(b.size), source: "buy", count: b.count });
-  for (const b of plan?.borrow ?? []) rows.push({ record: "borrow", ...base, plan_shim_mm: mm(b.size), source: "club", count: b.count });
+  for (const b of plan?.buy ?? [])
+    rows.push({ record: "buy", ...base, plan_shim_mm: mm(b.size), source: "buy", count: b.count });
+  for (const b of plan?.borrow ?? [])
+    rows.push({ record: "borrow", ...base, plan_shim_mm: mm(b.size), source: "club", count: b.count });
   for (const t of plan?.toTray ?? []) rows.push({ record: "to tray", ...base, shim_mm: mm(t.size), count: t.count });
 
   const places = decimalsFor(lengths);

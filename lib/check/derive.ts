@@ -1,4 +1,12 @@
-import { planShims, shimSeries, valveNames, type PlanAim, type ShimPlan, type ShimSource, type ValveName } from "../lash";
+import {
+  planShims,
+  shimSeries,
+  valveNames,
+  type PlanAim,
+  type ShimPlan,
+  type ShimSource,
+  type ValveName,
+} from "../lash";
 import type { LocalEngine, LocalReading } from "../sync/local-db";
 
 /**
@@ -32,21 +40,46 @@ export function engineSizes(e: Pick<LocalEngine, "shims">): number[] {
   return "sizes" in e.shims ? e.shims.sizes : shimSeries(e.shims.min, e.shims.max, e.shims.step);
 }
 
-export const installedOf = (r: Pick<LocalReading, "installedMicrometer" | "installedStamp">) => r.installedMicrometer ?? r.installedStamp;
+export const installedOf = (r: Pick<LocalReading, "installedMicrometer" | "installedStamp">) =>
+  r.installedMicrometer ?? r.installedStamp;
 
 /** A clearance against its band: tight, loose, or in band (on a re-check round, verified). */
-export function measuredState(measured: number, spec: { min: number; max: number }, round: number): "tight" | "loose" | "in-band" | "verified" {
-  return measured < spec.min - 1e-9 ? "tight" : measured > spec.max + 1e-9 ? "loose" : round === 0 ? "in-band" : "verified";
+export function measuredState(
+  measured: number,
+  spec: { min: number; max: number },
+  round: number,
+): "tight" | "loose" | "in-band" | "verified" {
+  return measured < spec.min - 1e-9
+    ? "tight"
+    : measured > spec.max + 1e-9
+      ? "loose"
+      : round === 0
+        ? "in-band"
+        : "verified";
 }
 
-export function valveViews(engine: LocalEngine, readings: LocalReading[], fallbackShim: (valveId: string) => number | null): ValveView[] {
+export function valveViews(
+  engine: LocalEngine,
+  readings: LocalReading[],
+  fallbackShim: (valveId: string) => number | null,
+): ValveView[] {
   return valveNames(engine).map((valve) => {
     const spec = valve.kind === "intake" ? engine.intake : engine.exhaust;
     const rs = readings.filter((r) => r.valve === valve.id).sort((a, b) => a.round - b.round);
     const latest = rs.at(-1);
-    if (!latest) return { valve, state: "unmeasured", spec, latest, nextRound: 0, installed: fallbackShim(valve.id), measured: null };
+    if (!latest)
+      return {
+        valve,
+        state: "unmeasured",
+        spec,
+        latest,
+        nextRound: 0,
+        installed: fallbackShim(valve.id),
+        measured: null,
+      };
     const installed = latest.fittedShim ?? installedOf(latest);
-    if (latest.fittedShim != null) return { valve, state: "fitted", spec, latest, nextRound: latest.round + 1, installed, measured: null };
+    if (latest.fittedShim != null)
+      return { valve, state: "fitted", spec, latest, nextRound: latest.round + 1, installed, measured: null };
     const m = latest.measured;
     const state: ValveState = m == null ? "unmeasured" : measuredState(m, spec, latest.round);
     return { valve, state, spec, latest, nextRound: latest.round, installed, measured: m };
@@ -62,7 +95,13 @@ export interface PlanOptions {
 
 export const DEFAULT_PLAN_OPTIONS: PlanOptions = { aim: "fewest-bought", tightMargin: 0 };
 
-export function checkPlan(engine: LocalEngine, views: ValveView[], tray: { size: number; count: number }[], pool: { size: number; count: number; ownerId: string }[] = [], options: PlanOptions = DEFAULT_PLAN_OPTIONS): ShimPlan | null {
+export function checkPlan(
+  engine: LocalEngine,
+  views: ValveView[],
+  tray: { size: number; count: number }[],
+  pool: { size: number; count: number; ownerId: string }[] = [],
+  options: PlanOptions = DEFAULT_PLAN_OPTIONS,
+): ShimPlan | null {
   const ready = views.filter((v) => v.measured != null && v.installed != null && v.state !== "fitted");
   if (ready.length === 0) return null;
   return planShims({
@@ -82,7 +121,9 @@ export function valveLabel(v: ValveName, perKind: number): string {
 
 /** Valves still open in a check: out of band, waiting to be re-measured after a fit, or never measured. */
 export function openValves(views: ValveView[]): ValveView[] {
-  return views.filter((v) => v.state === "tight" || v.state === "loose" || v.state === "fitted" || v.state === "unmeasured");
+  return views.filter(
+    (v) => v.state === "tight" || v.state === "loose" || v.state === "fitted" || v.state === "unmeasured",
+  );
 }
 
 /**
@@ -91,7 +132,9 @@ export function openValves(views: ValveView[]): ValveView[] {
  */
 export function recheckValves(views: ValveView[]): ValveView[] {
   const waiting = views.filter((v) => v.state === "fitted");
-  const round = waiting.length ? Math.max(...waiting.map((v) => v.nextRound)) : Math.max(0, ...views.map((v) => v.latest?.round ?? 0));
+  const round = waiting.length
+    ? Math.max(...waiting.map((v) => v.nextRound))
+    : Math.max(0, ...views.map((v) => v.latest?.round ?? 0));
   if (round === 0) return [];
   return views.filter((v) => v.state === "fitted" || (v.latest?.round === round && v.latest.fittedShim == null));
 }
@@ -99,5 +142,11 @@ export function recheckValves(views: ValveView[]): ValveView[] {
 /** Where a valve's new shim comes from, in words (the plan table and the printed worksheet). */
 export function sourceWords(s: ShimSource, lenders?: Map<string, string>): string {
   if (s.kind === "club") return `borrow from ${lenders?.get(s.ownerId) ?? "the club"}`;
-  return s.kind === "keep" ? "keep" : s.kind === "valve" ? `from ${s.valveId}` : s.kind === "tray" ? "from the tray" : "buy";
+  return s.kind === "keep"
+    ? "keep"
+    : s.kind === "valve"
+      ? `from ${s.valveId}`
+      : s.kind === "tray"
+        ? "from the tray"
+        : "buy";
 }

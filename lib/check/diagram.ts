@@ -20,7 +20,10 @@ export interface Facing {
 }
 
 /** An engine's facing; one kept from before the profile asked has its exhausts nearest (drawn at the bottom, as always). */
-export const facingOf = (e: { mirrored: boolean; nearSide?: NearSide | null }): Facing => ({ mirrored: e.mirrored, nearSide: e.nearSide ?? "exhaust" });
+export const facingOf = (e: { mirrored: boolean; nearSide?: NearSide | null }): Facing => ({
+  mirrored: e.mirrored,
+  nearSide: e.nearSide ?? "exhaust",
+});
 
 export interface CylinderGroup<V> {
   cylinder: number;
@@ -40,7 +43,10 @@ export const groupWidth = (across: number) => across * CELL_PX + (across - 1) * 
  * a cylinder the valves are numbered from the cylinder-1 end, so they turn round with it (mirrored:
  * I1.2 left of I1.1). The far side's valves on top, the near side's at the bottom.
  */
-export function drawingOrder<V extends { valve: ValveName }>(views: V[], facing: Facing): { top: NearSide; bottom: NearSide; cylinders: CylinderGroup<V>[] } {
+export function drawingOrder<V extends { valve: ValveName }>(
+  views: V[],
+  facing: Facing,
+): { top: NearSide; bottom: NearSide; cylinders: CylinderGroup<V>[] } {
   const order = facing.mirrored ? -1 : 1;
   const bottom = facing.nearSide;
   const top: NearSide = bottom === "exhaust" ? "intake" : "exhaust";
@@ -51,7 +57,8 @@ export function drawingOrder<V extends { valve: ValveName }>(views: V[], facing:
     byCyl.set(v.valve.cylinder, g);
   }
   const cylinders = [...byCyl.values()].sort((a, b) => order * (a.cylinder - b.cylinder));
-  for (const g of cylinders) for (const side of [g.top, g.bottom]) side.sort((a, b) => order * (a.valve.index - b.valve.index));
+  for (const g of cylinders)
+    for (const side of [g.top, g.bottom]) side.sort((a, b) => order * (a.valve.index - b.valve.index));
   return { top, bottom, cylinders };
 }
 
@@ -59,7 +66,11 @@ export function drawingOrder<V extends { valve: ValveName }>(views: V[], facing:
  * The drawing order cut into rows that fit the width: as few rows as fit, then as even as possible
  * (6 cylinders as 3 and 3, not 4 and 2).
  */
-export function diagramRows<V extends { valve: ValveName }>(views: V[], facing: Facing, widthPx: number): CylinderGroup<V>[][] {
+export function diagramRows<V extends { valve: ValveName }>(
+  views: V[],
+  facing: Facing,
+  widthPx: number,
+): CylinderGroup<V>[][] {
   const groups = drawingOrder(views, facing).cylinders;
   if (groups.length === 0) return [];
   const across = Math.max(...groups.map((g) => Math.max(g.top.length, g.bottom.length)));
@@ -77,5 +88,8 @@ export function diagramRows<V extends { valve: ValveName }>(views: V[], facing: 
  */
 export function drawnValveOrder(views: { valve: ValveName }[], facing: Facing): { top: string[]; bottom: string[] } {
   const { cylinders } = drawingOrder(views, facing);
-  return { top: cylinders.flatMap((g) => g.top.map((v) => v.valve.id)), bottom: cylinders.flatMap((g) => g.bottom.map((v) => v.valve.id)) };
+  return {
+    top: cylinders.flatMap((g) => g.top.map((v) => v.valve.id)),
+    bottom: cylinders.flatMap((g) => g.bottom.map((v) => v.valve.id)),
+  };
 }

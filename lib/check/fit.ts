@@ -17,7 +17,10 @@ export interface WorkOrderState {
 export const workOrderKey = (checkId: string) => `fit:${checkId}`;
 
 /** What ticking (on) or unticking (off) one move changes: the tray by size, and the fitted shim of a valve. */
-export function swapEffects(m: ShimMove, on: boolean): { tray: { size: number; delta: number }[]; fit: { valveId: string; shim: number | null } | null } {
+export function swapEffects(
+  m: ShimMove,
+  on: boolean,
+): { tray: { size: number; delta: number }[]; fit: { valveId: string; shim: number | null } | null } {
   const tray: { size: number; delta: number }[] = [];
   if (m.from.kind === "tray") tray.push({ size: m.size, delta: on ? -1 : 1 });
   if (m.to.kind === "tray") tray.push({ size: m.size, delta: on ? 1 : -1 });

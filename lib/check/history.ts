@@ -1,4 +1,12 @@
-import { DEFAULT_RESOLUTION_MM, MIN_TREND_SPAN, driftProjection, roundOdometer, fastClosingValves, valveNames, type DriftResult } from "../lash";
+import {
+  DEFAULT_RESOLUTION_MM,
+  MIN_TREND_SPAN,
+  driftProjection,
+  roundOdometer,
+  fastClosingValves,
+  valveNames,
+  type DriftResult,
+} from "../lash";
 import type { LocalCheck, LocalEngine, LocalReading } from "../sync/local-db";
 import { installedOf } from "./derive";
 
@@ -16,7 +24,11 @@ export interface ValveHistory {
   drift: DriftResult;
 }
 
-export function engineHistory(engine: LocalEngine, checks: LocalCheck[], readings: LocalReading[]): { valves: ValveHistory[]; fastClosing: string[] } {
+export function engineHistory(
+  engine: LocalEngine,
+  checks: LocalCheck[],
+  readings: LocalReading[],
+): { valves: ValveHistory[]; fastClosing: string[] } {
   const byCheck = new Map(checks.map((c) => [c.id, c]));
   const valves = valveNames(engine).map((v) => {
     const spec = v.kind === "intake" ? engine.intake : engine.exhaust;
@@ -26,12 +38,22 @@ export function engineHistory(engine: LocalEngine, checks: LocalCheck[], reading
     const points = mine.flatMap((r) => {
       const installed = installedOf(r);
       if (installed == null || r.measured == null) return [];
-      return [{ odometer: byCheck.get(r.checkId)!.odometer, gap: Math.round((installed + r.measured) * 1e6) / 1e6, installed, measured: r.measured, checkId: r.checkId }];
+      return [
+        {
+          odometer: byCheck.get(r.checkId)!.odometer,
+          gap: Math.round((installed + r.measured) * 1e6) / 1e6,
+          installed,
+          measured: r.measured,
+          checkId: r.checkId,
+        },
+      ];
     });
     const last = mine.at(-1);
     const currentShim = last ? (last.fittedShim ?? installedOf(last)) : null;
     // the readings are only as fine as the blades that found them: the widest go/no-go step among them
-    const steps = mine.flatMap((r) => (r.feelerGo != null && r.feelerNoGo != null && r.feelerNoGo > r.feelerGo ? [r.feelerNoGo - r.feelerGo] : []));
+    const steps = mine.flatMap((r) =>
+      r.feelerGo != null && r.feelerNoGo != null && r.feelerNoGo > r.feelerGo ? [r.feelerNoGo - r.feelerGo] : [],
+    );
     const drift = driftProjection({
       points: points.map((p) => ({ odometer: p.odometer, installed: p.installed, measured: p.measured })),
       lowerLimit: spec.min,
@@ -42,7 +64,13 @@ export function engineHistory(engine: LocalEngine, checks: LocalCheck[], reading
     return { valveId: v.id, kind: v.kind, lowerLimit: spec.min, currentShim, points, drift };
   });
   // compare each valve with the others of its own kind: exhausts run hotter and close faster
-  const fastClosing = (["intake", "exhaust"] as const).flatMap((k) => fastClosingValves(valves.filter((v) => v.kind === k).map((v) => ({ valveId: v.valveId, slopePerThousandKm: v.drift.slopePerThousandKm, verdict: v.drift.verdict }))));
+  const fastClosing = (["intake", "exhaust"] as const).flatMap((k) =>
+    fastClosingValves(
+      valves
+        .filter((v) => v.kind === k)
+        .map((v) => ({ valveId: v.valveId, slopePerThousandKm: v.drift.slopePerThousandKm, verdict: v.drift.verdict })),
+    ),
+  );
   return { valves, fastClosing };
 }
 
@@ -70,10 +98,17 @@ export function driftWords(h: ValveHistory, unit: "km" | "mi" | "h"): string {
     case "closing": {
       const rate = `${h.valveId} closes about ${Math.abs(d.slopePerThousandKm!).toFixed(3)} ${per}.`;
       const last = h.points.at(-1)?.odometer ?? 0;
-      if (d.limitAtOdometer != null && d.limitAtOdometer <= last) return `${rate} With the shim now in it is already at or past the band's lower edge.`;
+      if (d.limitAtOdometer != null && d.limitAtOdometer <= last)
+        return `${rate} With the shim now in it is already at or past the band's lower edge.`;
       const r = d.limitRange!;
-      if (r.from <= last) return `${rate} With the shim now in it is near the band's lower edge already${r.to == null ? "" : `, and on this trend reaches it by about ${fmtOdo(r.to, unit)}`} (95% range from the spread of the readings).`;
-      const range = r.to == null ? `not before about ${fmtOdo(r.from, unit)}` : roundOdometer(r.from, unit) === roundOdometer(r.to, unit) ? `near ${fmtOdo(r.from, unit)}` : `between about ${fmtOdo(r.from, unit)} and ${fmtOdo(r.to, unit)}`;
+      if (r.from <= last)
+        return `${rate} With the shim now in it is near the band's lower edge already${r.to == null ? "" : `, and on this trend reaches it by about ${fmtOdo(r.to, unit)}`} (95% range from the spread of the readings).`;
+      const range =
+        r.to == null
+          ? `not before about ${fmtOdo(r.from, unit)}`
+          : roundOdometer(r.from, unit) === roundOdometer(r.to, unit)
+            ? `near ${fmtOdo(r.from, unit)}`
+            : `between about ${fmtOdo(r.from, unit)} and ${fmtOdo(r.to, unit)}`;
       return `${rate} With the shim now in it reaches the band's lower edge ${range} (95% range from the spread of the readings).`;
     }
   }

@@ -9,7 +9,11 @@ export interface MeasuringOrder {
   problem?: string;
 }
 
-type Layout = Parameters<typeof valveNames>[0] & { firingOrder: number[]; firingAngles: number[] | null; timing: Parameters<typeof rotationGuide>[0]["timing"] };
+type Layout = Parameters<typeof valveNames>[0] & {
+  firingOrder: number[];
+  firingAngles: number[] | null;
+  timing: Parameters<typeof rotationGuide>[0]["timing"];
+};
 
 /**
  * The measuring mode's path: position by position as the rotation guide turns the crank, and at
@@ -19,12 +23,25 @@ export function measuringOrder(engine: Layout): MeasuringOrder {
   const valves = valveNames(engine);
   let positions: RotationStep[];
   try {
-    positions = rotationGuide({ firingOrder: engine.firingOrder, firingAngles: engine.firingAngles ?? undefined, timing: engine.timing }).steps;
+    positions = rotationGuide({
+      firingOrder: engine.firingOrder,
+      firingAngles: engine.firingAngles ?? undefined,
+      timing: engine.timing,
+    }).steps;
   } catch (e) {
-    const problem = e instanceof LashInputError ? `No rotation guide for this engine: ${e.message}.` : "No rotation guide for this engine: check its firing order and timing.";
+    const problem =
+      e instanceof LashInputError
+        ? `No rotation guide for this engine: ${e.message}.`
+        : "No rotation guide for this engine: check its firing order and timing.";
     return { positions: [], stops: valves.map((v) => ({ valveId: v.id, position: 0 })), problem };
   }
-  const stops = positions.flatMap((p, position) => p.valves.flatMap((ref) => valves.filter((v) => v.cylinder === ref.cylinder && v.kind === ref.kind).map((v) => ({ valveId: v.id, position }))));
+  const stops = positions.flatMap((p, position) =>
+    p.valves.flatMap((ref) =>
+      valves
+        .filter((v) => v.cylinder === ref.cylinder && v.kind === ref.kind)
+        .map((v) => ({ valveId: v.id, position })),
+    ),
+  );
   return { positions, stops };
 }
 

@@ -28,7 +28,8 @@ export function poolForEngine(engine: { shimDiameter: number | null }, offers: P
     if (o.ownerId === selfId || o.count <= 0) continue;
     if (engine.shimDiameter == null) wrongSystem.push({ ...o, reason: "this engine's shim diameter is not set" });
     else if (o.shimDiameter == null) wrongSystem.push({ ...o, reason: "the offer does not say its shim diameter" });
-    else if (!same(o.shimDiameter, engine.shimDiameter)) wrongSystem.push({ ...o, reason: `${o.shimDiameter} mm shims, this engine takes ${engine.shimDiameter} mm` });
+    else if (!same(o.shimDiameter, engine.shimDiameter))
+      wrongSystem.push({ ...o, reason: `${o.shimDiameter} mm shims, this engine takes ${engine.shimDiameter} mm` });
     else pool.push({ size: o.size, count: o.count, ownerId: o.ownerId });
   }
   return { pool, wrongSystem };
@@ -39,12 +40,16 @@ export function poolForEngine(engine: { shimDiameter: number | null }, offers: P
  * trusted; one whose noted diameter differs from the engine's is left out and counted, so the plan
  * can say so.
  */
-export function trayForEngine<T extends { size: number; count: number; shimDiameter: number | null }>(engine: { shimDiameter: number | null }, tray: T[]): { usable: T[]; otherSystem: number } {
+export function trayForEngine<T extends { size: number; count: number; shimDiameter: number | null }>(
+  engine: { shimDiameter: number | null },
+  tray: T[],
+): { usable: T[]; otherSystem: number } {
   const usable: T[] = [];
   let otherSystem = 0;
   for (const t of tray) {
     if (t.count <= 0) continue;
-    if (engine.shimDiameter != null && t.shimDiameter != null && !same(t.shimDiameter, engine.shimDiameter)) otherSystem += t.count;
+    if (engine.shimDiameter != null && t.shimDiameter != null && !same(t.shimDiameter, engine.shimDiameter))
+      otherSystem += t.count;
     else usable.push(t);
   }
   return { usable, otherSystem };

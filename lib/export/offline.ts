@@ -103,7 +103,12 @@ class Pieces {
   }
 }
 
-export async function phoneExport({ db, user, knownPhotos = [], now = new Date() }: PhoneExportInput): Promise<{ blob: Blob; fileName: string; photosNotIncluded: number }> {
+export async function phoneExport({
+  db,
+  user,
+  knownPhotos = [],
+  now = new Date(),
+}: PhoneExportInput): Promise<{ blob: Blob; fileName: string; photosNotIncluded: number }> {
   const pieces = new Pieces();
   let failed: Error | null = null;
   let done!: () => void;
@@ -125,23 +130,60 @@ export async function phoneExport({ db, user, knownPhotos = [], now = new Date()
   const engines = (await db.engines.toArray()).map(engineOfPhone).sort((a, b) => a.id.localeCompare(b.id));
   const engineIds = new Set(engines.map((e) => e.id));
   const checks = (await db.checks.toArray()).map(checkOfPhone).filter((c) => engineIds.has(c.engineId));
-  checks.sort((a, b) => a.engineId.localeCompare(b.engineId) || a.startedAt.localeCompare(b.startedAt) || a.id.localeCompare(b.id));
+  checks.sort(
+    (a, b) =>
+      a.engineId.localeCompare(b.engineId) || a.startedAt.localeCompare(b.startedAt) || a.id.localeCompare(b.id),
+  );
   const checkIds = new Set(checks.map((c) => c.id));
-  const tray: ExportTrayItem[] = (await db.tray.toArray()).map((t) => ({ id: t.id, size: t.size, measuredSize: t.measuredSize, count: t.count, shimDiameter: t.shimDiameter ?? null }));
-  const readingsOf = async (checkId: string) => (await db.readings.where("checkId").equals(checkId).toArray()).map(readingOfPhone).sort((a, b) => a.valve.localeCompare(b.valve) || a.round - b.round);
+  const tray: ExportTrayItem[] = (await db.tray.toArray()).map((t) => ({
+    id: t.id,
+    size: t.size,
+    measuredSize: t.measuredSize,
+    count: t.count,
+    shimDiameter: t.shimDiameter ?? null,
+  }));
+  const readingsOf = async (checkId: string) =>
+    (await db.readings.where("checkId").equals(checkId).toArray())
+      .map(readingOfPhone)
+      .sort((a, b) => a.valve.localeCompare(b.valve) || a.round - b.round);
   const comments = (await db.comments.toArray()).filter((c) => checkIds.has(c.checkId));
   const local = await db.photos.toArray();
   const localIds = new Set(local.map((p) => p.id));
   const photos: (ExportPhoto & { blob?: Blob })[] = [];
   for (const p of local) {
     if (!checkIds.has(p.checkId)) continue;
-    photos.push({ id: p.id, checkId: p.checkId, valve: p.valve, commentId: p.commentId, contentType: p.blob.type || "image/jpeg", bytes: p.blob.size, width: null, height: null, createdAt: new Date(p.takenAt).toISOString(), byMe: true, file: photoEntryName(p.id), blob: p.blob });
+    photos.push({
+      id: p.id,
+      checkId: p.checkId,
+      valve: p.valve,
+      commentId: p.commentId,
+      contentType: p.blob.type || "image/jpeg",
+      bytes: p.blob.size,
+      width: null,
+      height: null,
+      createdAt: new Date(p.takenAt).toISOString(),
+      byMe: true,
+      file: photoEntryName(p.id),
+      blob: p.blob,
+    });
   }
   const seen = new Set<string>();
   for (const p of knownPhotos) {
     if (localIds.has(p.id) || seen.has(p.id) || !checkIds.has(p.checkId)) continue;
     seen.add(p.id);
-    photos.push({ id: p.id, checkId: p.checkId, valve: p.valve, commentId: p.commentId, contentType: "image/jpeg", bytes: p.bytes, width: p.width, height: p.height, createdAt: p.createdAt, byMe: p.uploaderId === user.id, file: null });
+    photos.push({
+      id: p.id,
+      checkId: p.checkId,
+      valve: p.valve,
+      commentId: p.commentId,
+      contentType: "image/jpeg",
+      bytes: p.bytes,
+      width: p.width,
+      height: p.height,
+      createdAt: p.createdAt,
+      byMe: p.uploaderId === user.id,
+      file: null,
+    });
   }
   const commentIds = new Set(comments.map((c) => c.id));
   // a photo on a comment the phone does not hold keeps its place on the check
@@ -173,7 +215,15 @@ export async function phoneExport({ db, user, knownPhotos = [], now = new Date()
     checks,
     readings: allReadings,
     plans,
-    comments: comments.map((c) => ({ id: c.id, checkId: c.checkId, valve: c.valve ?? null, body: c.body, createdAt: toIso(c.createdAt)!, byMe: c.authorId === user.id, authorName: c.authorId === user.id ? user.name : "another member" })),
+    comments: comments.map((c) => ({
+      id: c.id,
+      checkId: c.checkId,
+      valve: c.valve ?? null,
+      body: c.body,
+      createdAt: toIso(c.createdAt)!,
+      byMe: c.authorId === user.id,
+      authorName: c.authorId === user.id ? user.name : "another member",
+    })),
     commentsElsewhere: [],
     photos: photos.map((p) => {
       const out: ExportPhoto & { blob?: Blob } = { ...p };
@@ -185,7 +235,13 @@ export async function phoneExport({ db, user, knownPhotos = [], now = new Date()
   };
   // written array by array, as the server writes it
   const data = text(EXPORT_DATA_ENTRY);
-  const head = { format: doc.format, schemaVersion: doc.schemaVersion, exportedAt: doc.exportedAt, source: doc.source, account: doc.account };
+  const head = {
+    format: doc.format,
+    schemaVersion: doc.schemaVersion,
+    exportedAt: doc.exportedAt,
+    source: doc.source,
+    account: doc.account,
+  };
   data.push(JSON.stringify(head).slice(0, -1));
   for (const key of DOCUMENT_ARRAYS) {
     data.push(`,\n${JSON.stringify(key)}:[`);
@@ -205,5 +261,9 @@ export async function phoneExport({ db, user, knownPhotos = [], now = new Date()
   await ended;
   if (failed) throw failed;
   pieces.flush();
-  return { blob: new Blob(pieces.blobs, { type: "application/zip" }), fileName: exportFileName(now, "phone"), photosNotIncluded: photos.filter((p) => !p.file).length };
+  return {
+    blob: new Blob(pieces.blobs, { type: "application/zip" }),
+    fileName: exportFileName(now, "phone"),
+    photosNotIncluded: photos.filter((p) => !p.file).length,
+  };
 }

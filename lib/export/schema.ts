@@ -78,7 +78,9 @@ const sizeCount = z.object({ size: positiveLengthMm, count: z.number().int().min
 /** A check's shim plan as worked out from its readings and the tray (derived: an import works it out again). */
 export const exportPlan = z.object({
   checkId: idSchema,
-  assignments: z.array(z.object({ valve: z.string().max(16), size: positiveLengthMm, predicted: lengthMm, source: z.string().max(40) })),
+  assignments: z.array(
+    z.object({ valve: z.string().max(16), size: positiveLengthMm, predicted: lengthMm, source: z.string().max(40) }),
+  ),
   buy: z.array(sizeCount),
   toTray: z.array(sizeCount),
 });
@@ -148,7 +150,9 @@ export const exportDocument = z.object({
   exportedAt: iso,
   /** the server's records, or a phone's local copy (which holds no loans, and only its own photos' bytes) */
   source: z.enum(["server", "phone"]),
-  account: z.object({ name: z.string().max(120), email: z.string().max(254), displayUnit: z.enum(["mm", "in"]) }).nullable(),
+  account: z
+    .object({ name: z.string().max(120), email: z.string().max(254), displayUnit: z.enum(["mm", "in"]) })
+    .nullable(),
   engines: z.array(exportEngine).max(MANY),
   checks: z.array(exportCheck).max(MANY),
   readings: z.array(exportReading).max(MANY),
@@ -172,7 +176,17 @@ export type ExportLoan = z.output<typeof exportLoan>;
 export type ExportPlan = z.output<typeof exportPlan>;
 
 /** The keys of the document in the order both writers emit them (the arrays are streamed one by one). */
-export const DOCUMENT_ARRAYS = ["engines", "checks", "readings", "plans", "comments", "commentsElsewhere", "photos", "tray", "loans"] as const;
+export const DOCUMENT_ARRAYS = [
+  "engines",
+  "checks",
+  "readings",
+  "plans",
+  "comments",
+  "commentsElsewhere",
+  "photos",
+  "tray",
+  "loans",
+] as const;
 
 /** Why a file cannot be read, in the words the import answers with. */
 export type ReadRefusal = { kind: "newer" | "damaged"; message: string };
@@ -182,13 +196,19 @@ export type ReadRefusal = { kind: "newer" | "damaged"; message: string };
  * this reader does not know), not as damaged.
  */
 export function checkVersion(json: unknown): ReadRefusal | null {
-  if (typeof json !== "object" || json === null || Array.isArray(json)) return { kind: "damaged", message: "The file's data is not an export (no document inside)" };
+  if (typeof json !== "object" || json === null || Array.isArray(json))
+    return { kind: "damaged", message: "The file's data is not an export (no document inside)" };
   const o = json as Record<string, unknown>;
-  if (o.format !== EXPORT_FORMAT) return { kind: "damaged", message: "This is not a Lashwright export (its data does not say so)" };
+  if (o.format !== EXPORT_FORMAT)
+    return { kind: "damaged", message: "This is not a Lashwright export (its data does not say so)" };
   const v = o.schemaVersion;
-  if (typeof v !== "number" || !Number.isInteger(v) || v < 1) return { kind: "damaged", message: "The export does not say which version of the format it is" };
+  if (typeof v !== "number" || !Number.isInteger(v) || v < 1)
+    return { kind: "damaged", message: "The export does not say which version of the format it is" };
   if (v > EXPORT_SCHEMA_VERSION)
-    return { kind: "newer", message: `This export was made by a newer Lashwright (format version ${v}; this one reads up to ${EXPORT_SCHEMA_VERSION}). Nothing was imported.` };
+    return {
+      kind: "newer",
+      message: `This export was made by a newer Lashwright (format version ${v}; this one reads up to ${EXPORT_SCHEMA_VERSION}). Nothing was imported.`,
+    };
   return null;
 }
 
@@ -199,10 +219,20 @@ export function parseExport(json: unknown): { ok: true; doc: ExportDocument } | 
   const parsed = exportDocument.safeParse(json);
   if (!parsed.success) {
     const i = parsed.error.issues[0]!;
-    return { ok: false, refusal: { kind: "damaged", message: `The export's data does not fit its format at ${i.path.join(".") || "the top"}: ${i.message}` } };
+    return {
+      ok: false,
+      refusal: {
+        kind: "damaged",
+        message: `The export's data does not fit its format at ${i.path.join(".") || "the top"}: ${i.message}`,
+      },
+    };
   }
   const problem = referenceProblem(parsed.data);
-  if (problem) return { ok: false, refusal: { kind: "damaged", message: `The export's records do not match each other: ${problem}` } };
+  if (problem)
+    return {
+      ok: false,
+      refusal: { kind: "damaged", message: `The export's records do not match each other: ${problem}` },
+    };
   return { ok: true, doc: parsed.data };
 }
 
@@ -238,7 +268,8 @@ export function referenceProblem(doc: ExportDocument): string | null {
     const wrong = Object.values(readingProblems({ ...e, shimSizes: engineSizes(e) }, [r]))[0];
     if (wrong) return `reading ${i} (check ${r.checkId}): ${wrong}`;
   }
-  for (const p of doc.plans) if (!checks.has(p.checkId)) return `a plan names check ${p.checkId}, which is not in the file`;
+  for (const p of doc.plans)
+    if (!checks.has(p.checkId)) return `a plan names check ${p.checkId}, which is not in the file`;
   const comments = new Set<string>();
   for (const c of doc.comments) {
     const p = once("the id of comment", c.id);
@@ -250,7 +281,8 @@ export function referenceProblem(doc: ExportDocument): string | null {
     const p = once("the id of photo", ph.id);
     if (p) return p;
     if (!checks.has(ph.checkId)) return `photo ${ph.id} names check ${ph.checkId}, which is not in the file`;
-    if (ph.commentId && !comments.has(ph.commentId)) return `photo ${ph.id} names comment ${ph.commentId}, which is not in the file`;
+    if (ph.commentId && !comments.has(ph.commentId))
+      return `photo ${ph.id} names comment ${ph.commentId}, which is not in the file`;
     if (ph.file && ph.file !== photoEntryName(ph.id)) return `photo ${ph.id} points at ${ph.file}, not its own file`;
   }
   for (const t of doc.tray) {
@@ -261,7 +293,9 @@ export function referenceProblem(doc: ExportDocument): string | null {
 }
 
 /** The words for how a reading was found, from its stored fields. */
-export function foundOf(r: Pick<LocalReading, "method" | "feelerGo" | "measured" | "installedMicrometer" | "installedStamp">): z.output<typeof readingFound> {
+export function foundOf(
+  r: Pick<LocalReading, "method" | "feelerGo" | "measured" | "installedMicrometer" | "installedStamp">,
+): z.output<typeof readingFound> {
   const clearance = r.measured == null && r.feelerGo == null ? null : r.method === "typed" ? "typed" : "blade";
   const shim = r.installedMicrometer != null ? "micrometer" : r.installedStamp != null ? "stamp" : null;
   return { clearance, shim };
@@ -313,14 +347,29 @@ export function checkFiles(
     plan = null;
   }
   const date = check.startedAt.slice(0, 10);
-  const csv = checkCsv({ engine: engine.name, odometer: check.odometer, odometerUnit: engine.odometerUnit, date, shimPosition: engine.shimPosition ?? null }, views, plan);
+  const csv = checkCsv(
+    {
+      engine: engine.name,
+      odometer: check.odometer,
+      odometerUnit: engine.odometerUnit,
+      date,
+      shimPosition: engine.shimPosition ?? null,
+    },
+    views,
+    plan,
+  );
   const csvName = `csv/${check.id.slice(0, 8)}-${csvFileName(engine.name, date, check.odometer, engine.odometerUnit)}`;
   return {
     csvName,
     csv,
     plan: plan && {
       checkId: check.id,
-      assignments: plan.assignments.map((a) => ({ valve: a.valveId, size: a.size, predicted: a.predicted, source: a.source.kind === "valve" ? `from ${a.source.valveId}` : a.source.kind })),
+      assignments: plan.assignments.map((a) => ({
+        valve: a.valveId,
+        size: a.size,
+        predicted: a.predicted,
+        source: a.source.kind === "valve" ? `from ${a.source.valveId}` : a.source.kind,
+      })),
       buy: plan.buy.map((b) => ({ size: b.size, count: b.count })),
       toTray: plan.toTray.map((t) => ({ size: t.size, count: t.count })),
     },
@@ -333,4 +382,5 @@ export function previousOf(check: ExportCheck, sameEngine: ExportCheck[]): Expor
 }
 
 /** The zip's name: the day it was made. */
-export const exportFileName = (at: Date, source: "server" | "phone") => `lashwright-${source === "phone" ? "phone-" : ""}export-${at.toISOString().slice(0, 10)}.zip`;
+export const exportFileName = (at: Date, source: "server" | "phone") =>
+  `lashwright-${source === "phone" ? "phone-" : ""}export-${at.toISOString().slice(0, 10)}.zip`;

@@ -26,7 +26,9 @@ export function camsOut(input: { shimPosition: ShimPosition; valves: string[] })
     if (!by.has(v.kind)) by.set(v.kind, new Set());
     by.get(v.kind)!.add(v.cylinder);
   }
-  return (["intake", "exhaust"] as const).filter((k) => by.has(k)).map((cam) => ({ cam, cylinders: [...by.get(cam)!].sort((a, b) => a - b) }));
+  return (["intake", "exhaust"] as const)
+    .filter((k) => by.has(k))
+    .map((cam) => ({ cam, cylinders: [...by.get(cam)!].sort((a, b) => a - b) }));
 }
 
 /** The plan's line for the cams: "Cams out: intake (cylinders 1, 3), exhaust (cylinder 2)." */

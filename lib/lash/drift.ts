@@ -36,7 +36,7 @@ export interface DriftResult {
 
 /** A trend is drawn over at least this many odometer units (our own choice: half a short service interval). */
 export const MIN_TREND_SPAN = { km: 2000, mi: 1250, h: 50 } as const;
-/** The step of a metric feeler set at valve clearances (shared/TRADE.md: hundredths; 0.05 mm steps common practice). */
+/** The step of a metric feeler set at valve clearances (docs/trade.md: hundredths; 0.05 mm steps common practice). */
 export const DEFAULT_RESOLUTION_MM = 0.05;
 
 /**
@@ -44,7 +44,10 @@ export const DEFAULT_RESOLUTION_MM = 0.05;
  * e-Handbook of Statistical Methods, 1.3.6.7.2, from memory; checked against the t density in the
  * unit tests); 1.96 (the normal) beyond.
  */
-const T95 = [12.706, 4.303, 3.182, 2.776, 2.571, 2.447, 2.365, 2.306, 2.262, 2.228, 2.201, 2.179, 2.16, 2.145, 2.131, 2.12, 2.11, 2.101, 2.093, 2.086, 2.08, 2.074, 2.069, 2.064, 2.06, 2.056, 2.052, 2.048, 2.045, 2.042];
+const T95 = [
+  12.706, 4.303, 3.182, 2.776, 2.571, 2.447, 2.365, 2.306, 2.262, 2.228, 2.201, 2.179, 2.16, 2.145, 2.131, 2.12, 2.11,
+  2.101, 2.093, 2.086, 2.08, 2.074, 2.069, 2.064, 2.06, 2.056, 2.052, 2.048, 2.045, 2.042,
+];
 export function t95(df: number): number {
   return df >= 1 && df <= 30 ? T95[df - 1]! : 1.96;
 }
@@ -55,10 +58,17 @@ export function roundOdometer(x: number, unit: "km" | "mi" | "h" = "km"): number
   return Math.round(x / step) * step;
 }
 
-const nothing = (checks: number, span: number, verdict: DriftVerdict): DriftResult => ({ slopePerThousandKm: null, limitAtOdometer: null, verdict, checks, span, limitRange: null });
+const nothing = (checks: number, span: number, verdict: DriftVerdict): DriftResult => ({
+  slopePerThousandKm: null,
+  limitAtOdometer: null,
+  verdict,
+  checks,
+  span,
+  limitRange: null,
+});
 
 /**
- * Drift of one valve (DESIGN.md section 4.5). The wear signal is the gap, installed shim + measured
+ * Drift of one valve (README "The computation core"). The wear signal is the gap, installed shim + measured
  * clearance: it does not jump when a shim is changed and shrinks as the valve sinks into its seat.
  * An ordinary least-squares line of gap against odometer; the clearance with the current shim is
  * gap - shim, so the limit is reached where the line meets lowerLimit + shim.
@@ -70,7 +80,13 @@ const nothing = (checks: number, span: number, verdict: DriftVerdict): DriftResu
  * slope +- t(n-2) x SE; the limit's range is where the lines through the mean point with those two
  * slopes meet the limit. Readings that fall exactly on a line do not make it certain.
  */
-export function driftProjection(input: { points: DriftPoint[]; lowerLimit: number; currentShim?: number; resolution?: number; minSpan?: number }): DriftResult {
+export function driftProjection(input: {
+  points: DriftPoint[];
+  lowerLimit: number;
+  currentShim?: number;
+  resolution?: number;
+  minSpan?: number;
+}): DriftResult {
   const d = parseOrThrow(driftInputSchema, input, "drift input");
   const n = d.points.length;
   const odo = d.points.map((p) => p.odometer);
@@ -127,17 +143,26 @@ export interface ValveDrift {
  * Valves closing notably faster than their neighbours: a valve whose closing is a real trend (its
  * verdict "closing") at a rate more than twice the median of the engine's other valves that have a
  * trend of any kind, and at least `minRate` mm per 1,000. A valve that keeps closing points to seat or
- * valve wear, a job for the head rather than another shim (shared/TRADE.md, common practice). The
+ * valve wear, a job for the head rather than another shim (docs/trade.md, common practice). The
  * factor 2 and the floor are our own choice, not a standard.
  */
 export function fastClosingValves(valves: ValveDrift[], minRate = 0.005): string[] {
-  const judged = valves.filter((v) => v.slopePerThousandKm !== null && v.verdict !== "few-checks" && v.verdict !== "short-distance");
-  const rates = judged.map((v) => ({ id: v.valveId, rate: -(v.slopePerThousandKm as number), real: v.verdict === undefined || v.verdict === "closing" }));
+  const judged = valves.filter(
+    (v) => v.slopePerThousandKm !== null && v.verdict !== "few-checks" && v.verdict !== "short-distance",
+  );
+  const rates = judged.map((v) => ({
+    id: v.valveId,
+    rate: -(v.slopePerThousandKm as number),
+    real: v.verdict === undefined || v.verdict === "closing",
+  }));
   if (rates.length < 3) return [];
   const out: string[] = [];
   for (const v of rates) {
     if (!v.real) continue;
-    const others = rates.filter((o) => o.id !== v.id).map((o) => Math.max(0, o.rate)).sort((a, b) => a - b);
+    const others = rates
+      .filter((o) => o.id !== v.id)
+      .map((o) => Math.max(0, o.rate))
+      .sort((a, b) => a - b);
     const mid = others.length / 2;
     const median = others.length % 2 ? others[Math.floor(mid)]! : (others[mid - 1]! + others[mid]!) / 2;
     if (v.rate >= minRate && v.rate > 2 * median) out.push(v.id);

@@ -20,6 +20,9 @@ export function clearanceFromFeelers(input: { go: number; noGo?: number }): Clea
   const goNm = toNm(go);
   if (noGo === undefined) return { min: fromNm(goNm), max: fromNm(goNm), value: fromNm(goNm) };
   const noGoNm = toNm(noGo);
-  if (noGoNm <= goNm) throw new LashInputError("The no-go blade must be thicker than the go blade", [{ path: "noGo", message: "must be thicker than the go blade" }]);
+  if (noGoNm <= goNm)
+    throw new LashInputError("The no-go blade must be thicker than the go blade", [
+      { path: "noGo", message: "must be thicker than the go blade" },
+    ]);
   return { min: fromNm(goNm), max: fromNm(noGoNm), value: fromNm(goNm) };
 }

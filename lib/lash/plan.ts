@@ -51,13 +51,17 @@ function* subsets<T>(items: T[], k: number, start = 0): Generator<T[]> {
     yield [];
     return;
   }
-  for (let i = start; i <= items.length - k; i++) for (const rest of subsets(items, k - 1, i + 1)) yield [items[i]!, ...rest];
+  for (let i = start; i <= items.length - k; i++)
+    for (const rest of subsets(items, k - 1, i + 1)) yield [items[i]!, ...rest];
 }
 
 /** Whether two plans fit the same shim from the same place to every valve. */
 export function samePlan(a: ShimPlan, b: ShimPlan): boolean {
-  const key = (x: Assignment) => `${x.valveId}:${toNm(x.size)}:${x.source.kind}:${"valveId" in x.source ? x.source.valveId : "ownerId" in x.source ? x.source.ownerId : ""}`;
-  return a.assignments.length === b.assignments.length && a.assignments.every((x, i) => key(x) === key(b.assignments[i]!));
+  const key = (x: Assignment) =>
+    `${x.valveId}:${toNm(x.size)}:${x.source.kind}:${"valveId" in x.source ? x.source.valveId : "ownerId" in x.source ? x.source.ownerId : ""}`;
+  return (
+    a.assignments.length === b.assignments.length && a.assignments.every((x, i) => key(x) === key(b.assignments[i]!))
+  );
 }
 
 /** How far outside the system's range an installed shim may be (worn or odd stock) before it is nonsense. */
@@ -94,7 +98,7 @@ function group(sizesNm: number[]): SizeCount[] {
 }
 
 /**
- * The shim plan for an engine (DESIGN.md section 4.3). Valves in their band keep their shim. Every
+ * The shim plan for an engine (README "The computation core"). Valves in their band keep their shim. Every
  * other valve gets a shim from another valve of this engine, the tray, a club member's pool, or the
  * shop, such that, in this order: the most valves end in their band, the fewest shims are bought
  * or fetched (each lender visited counts as one, like a bought shim), the fewest lenders, the fewest
@@ -106,7 +110,14 @@ function group(sizesNm: number[]): SizeCount[] {
  */
 export type PlanAim = "fewest-bought" | "nearest-target";
 
-export function planShims(input: { valves: PlanValve[]; sizes: number[]; tray?: SizeCount[]; pool?: (SizeCount & { ownerId: string })[]; aim?: PlanAim; tightMargin?: number }): ShimPlan {
+export function planShims(input: {
+  valves: PlanValve[];
+  sizes: number[];
+  tray?: SizeCount[];
+  pool?: (SizeCount & { ownerId: string })[];
+  aim?: PlanAim;
+  tightMargin?: number;
+}): ShimPlan {
   const p = parseOrThrow(planInputSchema, input, "plan input");
   const sizesNm = [...new Set(p.sizes.map(toNm))].sort((a, b) => a - b);
   const slack = toNm(INSTALLED_RANGE_SLACK_MM);
@@ -119,9 +130,10 @@ export function planShims(input: { valves: PlanValve[]; sizes: number[]; tray?: 
   p.valves.forEach((v, index) => {
     const installedNm = toNm(v.installed);
     if (installedNm < lo || installedNm > hi)
-      throw new LashInputError(`Valve ${v.id}: the installed shim ${v.installed} mm is outside this engine's shim range`, [
-        { path: `valves.${index}.installed`, message: "outside the shim system's range" },
-      ]);
+      throw new LashInputError(
+        `Valve ${v.id}: the installed shim ${v.installed} mm is outside this engine's shim range`,
+        [{ path: `valves.${index}.installed`, message: "outside the shim system's range" }],
+      );
     const spec = bandNm(v.spec);
     const measuredNm = toNm(v.measured);
     // a new shim aims inside the band less the margin at its tight edge (the target moves up if it
@@ -129,7 +141,14 @@ export function planShims(input: { valves: PlanValve[]; sizes: number[]; tray?: 
     const band = marginNm > 0 ? narrowed(spec, marginNm) : spec;
     const fallback = recommendNm(installedNm, measuredNm, band, sizesNm);
     if (inBand(measuredNm, spec)) {
-      assignments[index] = { valveId: v.id, size: fromNm(installedNm), predicted: fromNm(measuredNm), source: { kind: "keep" }, inSpec: true, ideal: fromNm(fallback.idealNm) };
+      assignments[index] = {
+        valveId: v.id,
+        size: fromNm(installedNm),
+        predicted: fromNm(measuredNm),
+        source: { kind: "keep" },
+        inSpec: true,
+        ideal: fromNm(fallback.idealNm),
+      };
       return;
     }
     rows.push({ index, id: v.id, installedNm, gapNm: installedNm + measuredNm, band, spec, fallback });
@@ -140,9 +159,11 @@ export function planShims(input: { valves: PlanValve[]; sizes: number[]; tray?: 
     // Columns that do not depend on which lenders are asked. A valve whose own best answer is to keep
     // its shim (nothing in the catalog does better) keeps it out of the pool: that shim stays where it is.
     const fixedColumns: Column[] = [];
-    for (const r of rows) if (r.fallback.change) fixedColumns.push({ kind: "valve", rowIndex: r.index, sizeNm: r.installedNm });
+    for (const r of rows)
+      if (r.fallback.change) fixedColumns.push({ kind: "valve", rowIndex: r.index, sizeNm: r.installedNm });
     const trayCounts = new Map<number, number>();
-    for (const t of p.tray) if (t.count > 0) trayCounts.set(toNm(t.size), (trayCounts.get(toNm(t.size)) ?? 0) + t.count);
+    for (const t of p.tray)
+      if (t.count > 0) trayCounts.set(toNm(t.size), (trayCounts.get(toNm(t.size)) ?? 0) + t.count);
     for (const [sizeNm, count] of [...trayCounts.entries()].sort((a, b) => a[0] - b[0])) {
       // Copies beyond the number of valves this size can serve are never needed.
       const useful = rows.filter((r) => inBand(r.gapNm - sizeNm, r.band)).length;
@@ -157,9 +178,12 @@ export function planShims(input: { valves: PlanValve[]; sizes: number[]; tray?: 
       poolCounts.set(key, e);
     }
     const clubColumns: (Column & { kind: "club" })[] = [];
-    for (const e of [...poolCounts.values()].sort((a, b) => a.sizeNm - b.sizeNm || a.ownerId.localeCompare(b.ownerId))) {
+    for (const e of [...poolCounts.values()].sort(
+      (a, b) => a.sizeNm - b.sizeNm || a.ownerId.localeCompare(b.ownerId),
+    )) {
       const useful = rows.filter((r) => inBand(r.gapNm - e.sizeNm, r.band)).length;
-      for (let k = 0; k < Math.min(e.count, useful); k++) clubColumns.push({ kind: "club", sizeNm: e.sizeNm, ownerId: e.ownerId });
+      for (let k = 0; k < Math.min(e.count, useful); k++)
+        clubColumns.push({ kind: "club", sizeNm: e.sizeNm, ownerId: e.ownerId });
     }
 
     // Lexicographic weights, sized from this problem so that every sum stays an exact integer. The
@@ -179,7 +203,8 @@ export function planShims(input: { valves: PlanValve[]; sizes: number[]; tray?: 
       wDist = n * (BUY + BORROW + 1) + 1;
       OUT = n * (wDist * dMax + BUY + BORROW + 1) + 1;
     }
-    if (n * (OUT + BUY + BORROW + wDist * dMax + 1) > Number.MAX_SAFE_INTEGER) throw new LashInputError("Plan too large to solve exactly");
+    if (n * (OUT + BUY + BORROW + wDist * dMax + 1) > Number.MAX_SAFE_INTEGER)
+      throw new LashInputError("Plan too large to solve exactly");
 
     const inBandCost = (r: Row, sizeNm: number) => {
       const predicted = r.gapNm - sizeNm;
@@ -206,7 +231,11 @@ export function planShims(input: { valves: PlanValve[]; sizes: number[]; tray?: 
       );
       const picked: { row: Row; assignment: Assignment }[] = [];
       const taken = new Set<number>();
-      let out = 0, buys = 0, borrows = 0, dist = 0, tight = 0;
+      let out = 0,
+        buys = 0,
+        borrows = 0,
+        dist = 0,
+        tight = 0;
       // distance in nanometres and the tight-side count, kept apart as the assignment's cost keeps them
       const near = (r: Row, sizeNm: number) => {
         const predicted = r.gapNm - sizeNm;
@@ -242,7 +271,17 @@ export function planShims(input: { valves: PlanValve[]; sizes: number[]; tray?: 
           near(r, sizeNm);
         }
         const predictedNm = r.gapNm - sizeNm;
-        picked.push({ row: r, assignment: { valveId: r.id, size: fromNm(sizeNm), predicted: fromNm(predictedNm), source, inSpec: inBand(predictedNm, r.spec), ideal: fromNm(r.fallback.idealNm) } });
+        picked.push({
+          row: r,
+          assignment: {
+            valveId: r.id,
+            size: fromNm(sizeNm),
+            predicted: fromNm(predictedNm),
+            source,
+            inSpec: inBand(predictedNm, r.spec),
+            ideal: fromNm(r.fallback.idealNm),
+          },
+        });
       }
       const spare: number[] = [];
       columns.forEach((c, ci) => {
@@ -253,7 +292,10 @@ export function planShims(input: { valves: PlanValve[]; sizes: number[]; tray?: 
       //   fewest-bought:  out of band, bought + lenders, lenders, bought, borrowed, distance
       //   nearest-target: out of band, distance, bought + lenders, lenders, bought, borrowed
       const l = used.size;
-      const score = p.aim === "fewest-bought" ? [out, buys + l, l, buys, borrows, dist, tight] : [out, dist, buys + l, l, buys, borrows, tight];
+      const score =
+        p.aim === "fewest-bought"
+          ? [out, buys + l, l, buys, borrows, dist, tight]
+          : [out, dist, buys + l, l, buys, borrows, tight];
       return { picked, spare, score, buys, lenders: l };
     };
     const better = (a: number[], b: number[]) => {
@@ -305,7 +347,9 @@ export function planShims(input: { valves: PlanValve[]; sizes: number[]; tray?: 
   return {
     assignments: done,
     buy: group(done.filter((a) => a.source.kind === "buy").map((a) => toNm(a.size))),
-    borrow: [...borrowed.values()].sort((a, b) => a.sizeNm - b.sizeNm || a.ownerId.localeCompare(b.ownerId)).map((e) => ({ size: fromNm(e.sizeNm), count: e.count, ownerId: e.ownerId })),
+    borrow: [...borrowed.values()]
+      .sort((a, b) => a.sizeNm - b.sizeNm || a.ownerId.localeCompare(b.ownerId))
+      .map((e) => ({ size: fromNm(e.sizeNm), count: e.count, ownerId: e.ownerId })),
     toTray: group(outgoing),
   };
 }

@@ -20,7 +20,7 @@ export interface RotationStep {
 
 /**
  * Default timing for a street engine in crank degrees: IVO 20 BTDC, IVC 50 ABDC, EVO 50 BBDC,
- * EVC 20 ATDC (shared/TRADE.md: typical street petrol engine; common practice).
+ * EVC 20 ATDC (docs/trade.md: typical street petrol engine; common practice).
  */
 export const DEFAULT_TIMING: ValveTiming = { ivo: 20, ivc: 50, evo: 50, evc: 20 };
 /** Degrees added to both ends of each lift window for the cam's opening and closing ramps. */
@@ -30,7 +30,7 @@ const mod720 = (a: number) => ((a % 720) + 720) % 720;
 
 /**
  * Is a valve on its base circle at this phase? Phase is degrees after the cylinder's firing TDC. The
- * intake is lifted from 360-IVO to 540+IVC and the exhaust from 180-EVO to 360+EVC (shared/TRADE.md,
+ * intake is lifted from 360-IVO to 540+IVC and the exhaust from 180-EVO to 360+EVC (docs/trade.md,
  * derived), each window widened by the margin on both sides.
  */
 export function onBaseCircle(kind: ValveKind, phase: number, timing: ValveTiming, margin: number): boolean {
@@ -42,7 +42,7 @@ export function onBaseCircle(kind: ValveKind, phase: number, timing: ValveTiming
 }
 
 /**
- * The crank-rotation guide (DESIGN.md section 4.4): the fewest stops, among the cylinders' firing
+ * The crank-rotation guide (README "The computation core"): the fewest stops, among the cylinders' firing
  * TDCs, that together put every valve on its base circle. With at most 16 candidate stops the cover is
  * found exactly by trying subsets in order of size and then of rotation order.
  */
@@ -61,12 +61,15 @@ export function rotationGuide(input: {
   const offset = raw[r.firingOrder.indexOf(1)]!;
   r.firingOrder.forEach((cyl, i) => tdc.set(cyl, mod720(raw[i]! - offset)));
 
-  const tdcStops = [...tdc.entries()].map(([cyl, angle]) => ({ cyl, angle, pastTdc: 0 })).sort((a, b) => a.angle - b.angle);
+  const tdcStops = [...tdc.entries()]
+    .map(([cyl, angle]) => ({ cyl, angle, pastTdc: 0 }))
+    .sort((a, b) => a.angle - b.angle);
   const valves: ValveRef[] = [];
   for (let c = 1; c <= n; c++) valves.push({ cylinder: c, kind: "intake" }, { cylinder: c, kind: "exhaust" });
   // bit masks as bigints: 16 cylinders have 32 valve kinds, past the 31 bits a JS shift can hold
   const all = (1n << BigInt(valves.length)) - 1n;
-  const freeAt = (angle: number) => valves.map((v) => onBaseCircle(v.kind, angle - tdc.get(v.cylinder)!, timing, margin));
+  const freeAt = (angle: number) =>
+    valves.map((v) => onBaseCircle(v.kind, angle - tdc.get(v.cylinder)!, timing, margin));
 
   /** the fewest stops among these that free every valve, trying subsets by size and then in rotation order */
   const cover = (stops: { angle: number }[]): number[] | undefined => {
@@ -106,9 +109,10 @@ export function rotationGuide(input: {
     chosen = cover(candidates);
   }
   if (!chosen)
-    throw new LashInputError("With this valve timing and margin some valve is never on its base circle: check the timing or lower the margin", [
-      { path: "margin", message: "no crank position frees every valve" },
-    ]);
+    throw new LashInputError(
+      "With this valve timing and margin some valve is never on its base circle: check the timing or lower the margin",
+      [{ path: "margin", message: "no crank position frees every valve" }],
+    );
 
   const listed = new Set<number>();
   const steps: RotationStep[] = chosen.map((ci) => {
@@ -119,8 +123,14 @@ export function rotationGuide(input: {
         list.push(valves[vi]!);
       }
     });
-    const order = (a: ValveRef, b: ValveRef) => (a.kind === b.kind ? a.cylinder - b.cylinder : a.kind === "intake" ? -1 : 1);
-    return { crankAngle: candidates[ci]!.angle, tdcCylinder: candidates[ci]!.cyl, pastTdc: candidates[ci]!.pastTdc, valves: list.sort(order) };
+    const order = (a: ValveRef, b: ValveRef) =>
+      a.kind === b.kind ? a.cylinder - b.cylinder : a.kind === "intake" ? -1 : 1;
+    return {
+      crankAngle: candidates[ci]!.angle,
+      tdcCylinder: candidates[ci]!.cyl,
+      pastTdc: candidates[ci]!.pastTdc,
+      valves: list.sort(order),
+    };
   });
   return { steps };
 }

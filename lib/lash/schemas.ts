@@ -24,7 +24,8 @@ export const specSchema = z
     target: lengthMm.optional(),
   })
   .superRefine((s, ctx) => {
-    if (s.max <= s.min) ctx.addIssue({ code: "custom", path: ["max"], message: "the band's upper edge must be above its lower edge" });
+    if (s.max <= s.min)
+      ctx.addIssue({ code: "custom", path: ["max"], message: "the band's upper edge must be above its lower edge" });
     if (s.target !== undefined && (s.target < s.min || s.target > s.max))
       ctx.addIssue({ code: "custom", path: ["target"], message: "the target must lie inside the band" });
   });
@@ -38,7 +39,8 @@ export const shimSizesSchema = z
 export const shimSeriesSchema = z
   .object({ min: positiveLengthMm, max: positiveLengthMm, step: positiveLengthMm })
   .superRefine((s, ctx) => {
-    if (s.max < s.min) ctx.addIssue({ code: "custom", path: ["max"], message: "the largest size must not be below the smallest" });
+    if (s.max < s.min)
+      ctx.addIssue({ code: "custom", path: ["max"], message: "the largest size must not be below the smallest" });
   });
 
 export const feelerSchema = z.object({
@@ -72,7 +74,10 @@ export const poolItemSchema = trayItemSchema.extend({ ownerId: z.string().min(1)
 
 export const planInputSchema = z
   .object({
-    valves: z.array(planValveSchema).min(1, { error: "needs at least one valve" }).max(128, { error: "at most 128 valves" }),
+    valves: z
+      .array(planValveSchema)
+      .min(1, { error: "needs at least one valve" })
+      .max(128, { error: "at most 128 valves" }),
     sizes: shimSizesSchema,
     tray: z.array(trayItemSchema).max(2000).default([]),
     pool: z.array(poolItemSchema).max(2000).default([]),
@@ -84,7 +89,8 @@ export const planInputSchema = z
   .superRefine((p, ctx) => {
     const seen = new Set<string>();
     p.valves.forEach((v, i) => {
-      if (seen.has(v.id)) ctx.addIssue({ code: "custom", path: ["valves", i, "id"], message: `valve id "${v.id}" appears twice` });
+      if (seen.has(v.id))
+        ctx.addIssue({ code: "custom", path: ["valves", i, "id"], message: `valve id "${v.id}" appears twice` });
       seen.add(v.id);
     });
   });
@@ -111,12 +117,24 @@ export const rotationInputSchema = z
     const n = r.firingOrder.length;
     const sorted = [...r.firingOrder].sort((a, b) => a - b);
     if (sorted.some((c, i) => c !== i + 1))
-      ctx.addIssue({ code: "custom", path: ["firingOrder"], message: `the firing order must name each cylinder 1 to ${n} once` });
+      ctx.addIssue({
+        code: "custom",
+        path: ["firingOrder"],
+        message: `the firing order must name each cylinder 1 to ${n} once`,
+      });
     if (r.firingAngles) {
       if (r.firingAngles.length !== n)
-        ctx.addIssue({ code: "custom", path: ["firingAngles"], message: "give one firing angle per cylinder in the firing order" });
+        ctx.addIssue({
+          code: "custom",
+          path: ["firingAngles"],
+          message: "give one firing angle per cylinder in the firing order",
+        });
       else if (new Set(r.firingAngles.map((a) => ((a % 720) + 720) % 720)).size !== n)
-        ctx.addIssue({ code: "custom", path: ["firingAngles"], message: "two cylinders cannot fire at the same crank angle" });
+        ctx.addIssue({
+          code: "custom",
+          path: ["firingAngles"],
+          message: "two cylinders cannot fire at the same crank angle",
+        });
     }
   });
 
@@ -142,7 +160,9 @@ export const driftInputSchema = z.object({
  * the camshaft over that valve taken out and refitted in time.
  */
 export const SHIM_POSITIONS = ["over", "under"] as const;
-export const shimPositionSchema = z.enum(SHIM_POSITIONS, { error: 'where the shims sit is "over" or "under" the bucket' });
+export const shimPositionSchema = z.enum(SHIM_POSITIONS, {
+  error: 'where the shims sit is "over" or "under" the bucket',
+});
 export type ShimPosition = z.infer<typeof shimPositionSchema>;
 
 /**
@@ -154,7 +174,9 @@ export const nearSideSchema = z.enum(NEAR_SIDES, { error: 'the side nearest you 
 export type NearSide = z.infer<typeof nearSideSchema>;
 
 /** Valve names as the check uses them: "I2.1" is intake, cylinder 2, first intake valve. */
-export const valveNameSchema = z.string().regex(/^[IE]\d{1,2}\.\d$/, { error: 'a valve is named like "I1.1" or "E4.2"' });
+export const valveNameSchema = z
+  .string()
+  .regex(/^[IE]\d{1,2}\.\d$/, { error: 'a valve is named like "I1.1" or "E4.2"' });
 
 export const camsOutInputSchema = z.object({
   shimPosition: shimPositionSchema,

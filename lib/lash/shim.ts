@@ -13,7 +13,7 @@ export function bandNm(spec: Spec): BandNm {
   const s = specSchema.parse(spec);
   const min = toNm(s.min);
   const max = toNm(s.max);
-  // The middle of the band unless the engine names another target (DESIGN.md section 4.2).
+  // The middle of the band unless the engine names another target (README "The computation core").
   const target = s.target === undefined ? Math.round((min + max) / 2) : toNm(s.target);
   return { min, max, target };
 }
@@ -38,7 +38,10 @@ export function shimSeries(min: number, max: number, step: number): number[] {
       { path: "step", message: "the range must be a whole number of steps" },
     ]);
   const count = (hi - lo) / st + 1;
-  if (count > 2000) throw new LashInputError("A shim series may have at most 2000 sizes", [{ path: "step", message: "step too small for this range" }]);
+  if (count > 2000)
+    throw new LashInputError("A shim series may have at most 2000 sizes", [
+      { path: "step", message: "step too small for this range" },
+    ]);
   return Array.from({ length: count }, (_, i) => fromNm(lo + i * st));
 }
 
@@ -104,21 +107,36 @@ export interface RecommendNm {
 export function recommendNm(installedNm: number, measuredNm: number, band: BandNm, sizesNm: number[]): RecommendNm {
   const gap = installedNm + measuredNm;
   const idealNm = gap - band.target;
-  if (inBand(measuredNm, band)) return { idealNm, sizeNm: installedNm, predictedNm: measuredNm, inSpec: true, change: false };
+  if (inBand(measuredNm, band))
+    return { idealNm, sizeNm: installedNm, predictedNm: measuredNm, inSpec: true, change: false };
   const cands = sizesNm.map((s) => ({ sizeNm: s, predictedNm: gap - s }));
   const hit = bestInBand(cands, band);
-  if (hit) return { idealNm, sizeNm: hit.sizeNm, predictedNm: hit.predictedNm, inSpec: true, change: hit.sizeNm !== installedNm };
+  if (hit)
+    return {
+      idealNm,
+      sizeNm: hit.sizeNm,
+      predictedNm: hit.predictedNm,
+      inSpec: true,
+      change: hit.sizeNm !== installedNm,
+    };
   // Nothing in the series reaches the band: keep the installed shim unless a size comes nearer.
   const near = nearestBand([{ sizeNm: installedNm, predictedNm: measuredNm }, ...cands], band);
   if (!near)
-    throw new LashInputError("No shim in the series leaves any clearance for this valve: check the readings and the series", [
-      { path: "sizes", message: "every size is thicker than the gap" },
-    ]);
-  return { idealNm, sizeNm: near.sizeNm, predictedNm: near.predictedNm, inSpec: false, change: near.sizeNm !== installedNm };
+    throw new LashInputError(
+      "No shim in the series leaves any clearance for this valve: check the readings and the series",
+      [{ path: "sizes", message: "every size is thicker than the gap" }],
+    );
+  return {
+    idealNm,
+    sizeNm: near.sizeNm,
+    predictedNm: near.predictedNm,
+    inSpec: false,
+    change: near.sizeNm !== installedNm,
+  };
 }
 
 /**
- * The shim one valve needs (DESIGN.md section 4.2): ideal = installed + measured - target; fit the
+ * The shim one valve needs (README "The computation core"): ideal = installed + measured - target; fit the
  * available size whose predicted clearance (installed + measured - size) lies in the band nearest the
  * target, the thinner on a tie. Use the micrometer thickness of the installed shim when known.
  */
@@ -130,5 +148,11 @@ export function recommendShim(input: {
 }): ShimRecommendation {
   const p = parseOrThrow(recommendInputSchema, input, "shim input");
   const r = recommendNm(toNm(p.installed), toNm(p.measured), bandNm(p.spec), p.sizes.map(toNm));
-  return { ideal: fromNm(r.idealNm), size: fromNm(r.sizeNm), predicted: fromNm(r.predictedNm), inSpec: r.inSpec, change: r.change };
+  return {
+    ideal: fromNm(r.idealNm),
+    size: fromNm(r.sizeNm),
+    predicted: fromNm(r.predictedNm),
+    inSpec: r.inSpec,
+    change: r.change,
+  };
 }

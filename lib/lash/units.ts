@@ -31,7 +31,7 @@ export function mmToInches(mm: number): number {
 export type LengthUnit = "mm" | "in";
 
 /**
- * Display rounding (DESIGN.md section 4): mm to 0.01, or 0.001 for micrometer-measured shims;
+ * Display rounding (README "The computation core"): mm to 0.01, or 0.001 for micrometer-measured shims;
  * inches to 0.0001. Returns the rounded number in the display unit.
  */
 export function roundForDisplay(mm: number, unit: LengthUnit, fine = false): number {
@@ -43,7 +43,7 @@ export function roundForDisplay(mm: number, unit: LengthUnit, fine = false): num
 /**
  * The fewest decimals, from `least` to `most`, that write a length exactly in this unit (lengths are
  * whole nanometres, so the test is exact); `least` when none does, which is the display rounding of
- * DESIGN.md section 4. So a typed 0.075 mm stays 0.075, a 0.08 blade is 0.08, and a band given in mm
+ * README "The computation core". So a typed 0.075 mm stays 0.075, a 0.08 blade is 0.08, and a band given in mm
  * on an engine shown in inches is rounded to 0.0001 in.
  */
 function placesFor(mm: number, unit: LengthUnit, least: number, most: number): number {

@@ -9,11 +9,17 @@ export interface ValveName {
 }
 
 /** Every valve of an engine in diagram order: cylinder by cylinder, intakes then exhausts. */
-export function valveNames(layout: { cylinders: number; intakePerCylinder: number; exhaustPerCylinder: number }): ValveName[] {
+export function valveNames(layout: {
+  cylinders: number;
+  intakePerCylinder: number;
+  exhaustPerCylinder: number;
+}): ValveName[] {
   const out: ValveName[] = [];
   for (let c = 1; c <= layout.cylinders; c++) {
-    for (let i = 1; i <= layout.intakePerCylinder; i++) out.push({ id: `I${c}.${i}`, cylinder: c, kind: "intake", index: i });
-    for (let i = 1; i <= layout.exhaustPerCylinder; i++) out.push({ id: `E${c}.${i}`, cylinder: c, kind: "exhaust", index: i });
+    for (let i = 1; i <= layout.intakePerCylinder; i++)
+      out.push({ id: `I${c}.${i}`, cylinder: c, kind: "intake", index: i });
+    for (let i = 1; i <= layout.exhaustPerCylinder; i++)
+      out.push({ id: `E${c}.${i}`, cylinder: c, kind: "exhaust", index: i });
   }
   return out;
 }
@@ -31,8 +37,8 @@ export function parseValveName(id: string): ValveName | null {
  * Only used as the default strip of blades on the entry screen.
  */
 export const METRIC_BLADES_MM = [
-  0.02, 0.03, 0.04, 0.05, 0.06, 0.07, 0.08, 0.09, 0.1, 0.13, 0.15, 0.18, 0.2, 0.23, 0.25, 0.28, 0.3, 0.33, 0.38, 0.4, 0.45, 0.5,
-  0.55, 0.6, 0.63, 0.65, 0.7, 0.75, 0.8, 0.85, 0.9, 1.0,
+  0.02, 0.03, 0.04, 0.05, 0.06, 0.07, 0.08, 0.09, 0.1, 0.13, 0.15, 0.18, 0.2, 0.23, 0.25, 0.28, 0.3, 0.33, 0.38, 0.4,
+  0.45, 0.5, 0.55, 0.6, 0.63, 0.65, 0.7, 0.75, 0.8, 0.85, 0.9, 1.0,
 ];
 
 /** Inch blades in thousandths, 0.0015 to 0.025 in (from memory of typical sets). */

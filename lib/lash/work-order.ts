@@ -1,6 +1,11 @@
 import type { Assignment } from "./plan";
 
-export type Place = { kind: "valve"; valveId: string } | { kind: "tray" } | { kind: "shop" } | { kind: "club"; ownerId: string } | { kind: "aside" };
+export type Place =
+  | { kind: "valve"; valveId: string }
+  | { kind: "tray" }
+  | { kind: "shop" }
+  | { kind: "club"; ownerId: string }
+  | { kind: "aside" };
 
 export interface ShimMove {
   /** the shim's size (mm) */
@@ -27,7 +32,12 @@ export function workOrder(assignments: Assignment[], installed: Record<string, n
   const moves: ShimMove[] = [];
   const done = new Set<string>();
   const fitFromStart = (a: Assignment) => {
-    const from: Place = a.source.kind === "tray" ? { kind: "tray" } : a.source.kind === "club" ? { kind: "club", ownerId: a.source.ownerId } : { kind: "shop" };
+    const from: Place =
+      a.source.kind === "tray"
+        ? { kind: "tray" }
+        : a.source.kind === "club"
+          ? { kind: "club", ownerId: a.source.ownerId }
+          : { kind: "shop" };
     moves.push({ size: a.size, from, to: { kind: "valve", valveId: a.valveId } });
   };
   // walk back from a valve whose own shim was just lifted, fitting each giver's shim in turn

@@ -14,7 +14,8 @@ export function digestSubject(subjects: string[]): string {
   for (let i = 0; i < unique.length; i++) {
     const next = out ? `${out}; ${unique[i]}` : unique[i]!;
     const rest = unique.length - i - 1;
-    if (next.length + (rest ? ` and ${rest} more`.length : 0) > SUBJECT_MAX && out) return `${out} and ${unique.length - i} more`;
+    if (next.length + (rest ? ` and ${rest} more`.length : 0) > SUBJECT_MAX && out)
+      return `${out} and ${unique.length - i} more`;
     out = next;
   }
   return out;
@@ -25,7 +26,11 @@ export function digest(items: NoticeText[], moreAt: string): NoticeText {
   if (items.length === 1) return items[0]!;
   const shown = items.slice(0, BODIES_MAX);
   const more = items.length - shown.length;
-  const body = [`${items.length} notices from Lashwright:`, ...shown.map((n) => `${n.subject}\n\n${n.body}`), ...(more ? [`… and ${more} more: ${moreAt}`] : [])].join(`\n\n${RULE}\n\n`);
+  const body = [
+    `${items.length} notices from Lashwright:`,
+    ...shown.map((n) => `${n.subject}\n\n${n.body}`),
+    ...(more ? [`… and ${more} more: ${moreAt}`] : []),
+  ].join(`\n\n${RULE}\n\n`);
   return { subject: digestSubject(items.map((n) => n.subject)), body };
 }
 

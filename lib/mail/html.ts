@@ -37,7 +37,13 @@ export function mailHtml(subject: string, text: string, opts: { linkOrigin: stri
   const paragraphs = text
     .trim()
     .split(/\n\s*\n/)
-    .map((p) => `<p style="margin:0 0 1em">${p.split("\n").map((l) => linked(l, origin)).join("<br>")}</p>`)
+    .map(
+      (p) =>
+        `<p style="margin:0 0 1em">${p
+          .split("\n")
+          .map((l) => linked(l, origin))
+          .join("<br>")}</p>`,
+    )
     .join("\n");
   return `<!doctype html>
 <html lang="en"><head><meta charset="utf-8"><meta name="viewport" content="width=device-width"><title>${escape(subject)}</title></head>

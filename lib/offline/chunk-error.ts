@@ -8,5 +8,10 @@ export function isChunkLoadError(e: unknown): boolean {
   if (!e || typeof e !== "object") return false;
   const { name, message } = e as { name?: unknown; message?: unknown };
   if (name === "ChunkLoadError") return true;
-  return typeof message === "string" && /Loading chunk|Failed to load chunk|Failed to fetch dynamically imported module|error loading dynamically imported module|Importing a module script failed/i.test(message);
+  return (
+    typeof message === "string" &&
+    /Loading chunk|Failed to load chunk|Failed to fetch dynamically imported module|error loading dynamically imported module|Importing a module script failed/i.test(
+      message,
+    )
+  );
 }

@@ -2,7 +2,19 @@
  * The pages used in the garage: static shells whose HTML and RSC payload are the same for every
  * record (the id is read on the client), precached by the service worker so they open offline.
  */
-export const SHELL_PATHS = ["/", "/engines", "/engine", "/engine/edit", "/check", "/checks", "/tray", "/review", "/club", "/account", "/offline"] as const;
+export const SHELL_PATHS = [
+  "/",
+  "/engines",
+  "/engine",
+  "/engine/edit",
+  "/check",
+  "/checks",
+  "/tray",
+  "/review",
+  "/club",
+  "/account",
+  "/offline",
+] as const;
 
 /** Query parameters that name a record; the precache ignores them when matching a shell. */
 export const SHELL_PARAMS = [/^id$/, /^engine$/, /^valve$/, /^step$/];

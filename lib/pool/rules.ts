@@ -9,7 +9,15 @@ import { optionalLabelSchema } from "../schemas/label";
  * own naming. A loan moves only along MOVES, each made by one side; the server applies the same
  * table, so a phone can show which buttons make sense without asking.
  */
-export const BORROW_STATES = ["asked", "agreed", "declined", "withdrawn", "handed-over", "giving-back", "settled"] as const;
+export const BORROW_STATES = [
+  "asked",
+  "agreed",
+  "declined",
+  "withdrawn",
+  "handed-over",
+  "giving-back",
+  "settled",
+] as const;
 export type BorrowState = (typeof BORROW_STATES)[number];
 
 export const MOVES = {
@@ -19,7 +27,10 @@ export const MOVES = {
   "hand-over": { from: ["agreed"], to: "handed-over", by: "lender", label: "Handed over" },
   "give-back": { from: ["handed-over"], to: "giving-back", by: "borrower", label: "Give back" },
   settle: { from: ["giving-back"], to: "settled", by: "lender", label: "Received back" },
-} as const satisfies Record<string, { from: readonly BorrowState[]; to: BorrowState; by: "lender" | "borrower"; label: string }>;
+} as const satisfies Record<
+  string,
+  { from: readonly BorrowState[]; to: BorrowState; by: "lender" | "borrower"; label: string }
+>;
 export type BorrowMove = keyof typeof MOVES;
 
 /** Requests in these states hold their shims: nobody else can ask for them. */
@@ -61,7 +72,9 @@ export const MOVE_WORDS: Record<BorrowMove, string> = {
 };
 
 export function movesFor(state: BorrowState, side: "lender" | "borrower"): BorrowMove[] {
-  return (Object.keys(MOVES) as BorrowMove[]).filter((m) => MOVES[m].by === side && (MOVES[m].from as readonly BorrowState[]).includes(state));
+  return (Object.keys(MOVES) as BorrowMove[]).filter(
+    (m) => MOVES[m].by === side && (MOVES[m].from as readonly BorrowState[]).includes(state),
+  );
 }
 
 export const offerInput = z.object({

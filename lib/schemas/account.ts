@@ -21,7 +21,10 @@ export const signUpInput = z.object({
 export const emailOnlyInput = z.object({ email: emailSchema });
 export const tokenInput = z.object({ token: tokenSchema });
 /** Confirming an address also proves the sign-up's password: the link alone does not bind it. */
-export const verifyInput = z.object({ token: tokenSchema, password: z.string().max(200, { error: "too long" }).optional() });
+export const verifyInput = z.object({
+  token: tokenSchema,
+  password: z.string().max(200, { error: "too long" }).optional(),
+});
 export const newPasswordInput = z.object({ token: tokenSchema, password: passwordSchema });
 
 export const settingsInput = z

@@ -66,8 +66,17 @@ function form<T extends Record<string, unknown>>(fields: { [K in keyof T]: Field
   };
 }
 
-export const signInForm = form<{ email: string; password: string }>({ email: emailField, password: filled("enter your password") });
-export const signUpForm = form<{ email: string; name: string; password: string }>({ email: emailField, name: labelField(120, "enter your name"), password: passwordField });
-export const verifyForm = form<{ password: string }>({ password: filled("missing: the one you chose when you signed up") });
+export const signInForm = form<{ email: string; password: string }>({
+  email: emailField,
+  password: filled("enter your password"),
+});
+export const signUpForm = form<{ email: string; name: string; password: string }>({
+  email: emailField,
+  name: labelField(120, "enter your name"),
+  password: passwordField,
+});
+export const verifyForm = form<{ password: string }>({
+  password: filled("missing: the one you chose when you signed up"),
+});
 export const forgotForm = form<{ email: string }>({ email: emailField });
 export const resetForm = form<{ password: string }>({ password: passwordField });

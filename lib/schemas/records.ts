@@ -1,6 +1,16 @@
 import "./zod-config";
 import { z } from "zod";
-import { lengthMm, nearSideSchema, positiveLengthMm, rotationInputSchema, shimPositionSchema, shimSeries, specSchema, timingSchema, LashInputError } from "../lash";
+import {
+  lengthMm,
+  nearSideSchema,
+  positiveLengthMm,
+  rotationInputSchema,
+  shimPositionSchema,
+  shimSeries,
+  specSchema,
+  timingSchema,
+  LashInputError,
+} from "../lash";
 import { parseValveName } from "../lash/valves";
 import { VERDICT_NAMES } from "../check/verdicts";
 import { labelSchema } from "./label";
@@ -14,7 +24,7 @@ import { labelSchema } from "./label";
 export const ID_PATTERN = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/;
 export const idSchema = z.string().regex(ID_PATTERN, { error: "not a valid id" });
 
-/** A check's steps, in order (DESIGN.md): the schema, the database enum and the phone share this list. */
+/** A check's steps, in order: the schema, the database enum and the phone share this list. */
 export const CHECK_STATUSES = ["measuring", "planned", "fitting", "verifying", "closed"] as const;
 export const checkStatus = z.enum(CHECK_STATUSES);
 export type CheckStatus = z.infer<typeof checkStatus>;
@@ -25,7 +35,11 @@ const shimSystem = z.union([
     try {
       shimSeries(s.min, s.max, s.step);
     } catch (e) {
-      ctx.addIssue({ code: "custom", path: ["step"], message: e instanceof LashInputError ? e.message : "not a valid series" });
+      ctx.addIssue({
+        code: "custom",
+        path: ["step"],
+        message: e instanceof LashInputError ? e.message : "not a valid series",
+      });
     }
   }),
   z.object({ sizes: z.array(positiveLengthMm).min(1, { error: "list at least one size" }).max(400) }),
@@ -69,7 +83,11 @@ function engineRules(e: z.infer<typeof engineFieldsV1>, ctx: z.RefinementCtx) {
     ctx.addIssue({ code: "custom", path: ["firingOrder"], message: `name all ${e.cylinders} cylinders once` });
     return;
   }
-  const r = rotationInputSchema.safeParse({ firingOrder: e.firingOrder, firingAngles: e.firingAngles ?? undefined, timing: e.timing });
+  const r = rotationInputSchema.safeParse({
+    firingOrder: e.firingOrder,
+    firingAngles: e.firingAngles ?? undefined,
+    timing: e.timing,
+  });
   if (!r.success) for (const i of r.error.issues) ctx.addIssue({ code: "custom", path: i.path, message: i.message });
 }
 
@@ -82,7 +100,11 @@ export { engineRules };
 
 export const checkInput = z.object({
   id: idSchema.optional(),
-  odometer: z.number({ error: "enter the odometer or hours" }).finite().min(0, { error: "cannot be negative" }).max(9_999_999),
+  odometer: z
+    .number({ error: "enter the odometer or hours" })
+    .finite()
+    .min(0, { error: "cannot be negative" })
+    .max(9_999_999),
   measuredHot: z.boolean().default(false),
   notes: z.string().max(4000).nullable().optional(),
 });
@@ -98,12 +120,11 @@ export const checkDate = z.iso.datetime({ offset: true, error: "a date and time 
   { error: "must lie between 1950 and today" },
 );
 
-export const checkUpdate = checkInput
-  .omit({ id: true })
-  .partial()
-  .extend({ status: checkStatus.optional() });
+export const checkUpdate = checkInput.omit({ id: true }).partial().extend({ status: checkStatus.optional() });
 
-export const valveKey = z.string().refine((v) => parseValveName(v) !== null, { error: 'a valve is named like "I1.1" or "E4.2"' });
+export const valveKey = z
+  .string()
+  .refine((v) => parseValveName(v) !== null, { error: 'a valve is named like "I1.1" or "E4.2"' });
 
 export const readingInput = z
   .object({
@@ -119,12 +140,24 @@ export const readingInput = z
   })
   .superRefine((r, ctx) => {
     if (r.feelerGo != null && r.feelerNoGo != null && r.feelerNoGo <= r.feelerGo)
-      ctx.addIssue({ code: "custom", path: ["feelerNoGo"], message: "the no-go blade must be thicker than the go blade" });
+      ctx.addIssue({
+        code: "custom",
+        path: ["feelerNoGo"],
+        message: "the no-go blade must be thicker than the go blade",
+      });
   });
 export type ReadingInput = z.infer<typeof readingInput>;
 
 /** What a reading says about a valve (beyond which valve and round it is): one list for every layer. */
-export const READING_VALUE_FIELDS = ["installedStamp", "installedMicrometer", "feelerGo", "feelerNoGo", "measured", "method", "fittedShim"] as const;
+export const READING_VALUE_FIELDS = [
+  "installedStamp",
+  "installedMicrometer",
+  "feelerGo",
+  "feelerNoGo",
+  "measured",
+  "method",
+  "fittedShim",
+] as const;
 
 export const readingsPut = z.object({ readings: z.array(readingInput).min(1).max(200) });
 
@@ -141,7 +174,12 @@ export const clubInput = z.object({ name });
 export const roleSchema = z.enum(["mechanic", "mentor", "admin"]);
 export const rolesInput = z.object({ roles: z.array(roleSchema).min(1, { error: "give at least one role" }).max(3) });
 export const inviteInput = z.object({
-  email: z.string().trim().toLowerCase().max(254).pipe(z.email({ error: "enter a valid e-mail address" })),
+  email: z
+    .string()
+    .trim()
+    .toLowerCase()
+    .max(254)
+    .pipe(z.email({ error: "enter a valid e-mail address" })),
   role: roleSchema.default("mechanic"),
 });
 export const shareInput = z.object({ clubId: idSchema });
@@ -150,7 +188,9 @@ export const commentInput = z.object({
   body: z.string().trim().min(1, { error: "write something" }).max(4000, { error: "at most 4000 characters" }),
   valve: valveKey.nullable().optional(),
 });
-export const verdictInput = z.object({ verdict: z.enum(VERDICT_NAMES, { error: `a verdict is ${VERDICT_NAMES.join(", ")}` }) });
+export const verdictInput = z.object({
+  verdict: z.enum(VERDICT_NAMES, { error: `a verdict is ${VERDICT_NAMES.join(", ")}` }),
+});
 
 /**
  * Readings checked against their engine: the valve must exist on it and the shims must lie within
@@ -166,7 +206,8 @@ export function readingProblems(
   rs.forEach((r, i) => {
     const v = parseValveName(r.valve)!;
     const per = v.kind === "intake" ? engine.intakePerCylinder : engine.exhaustPerCylinder;
-    if (v.cylinder < 1 || v.cylinder > engine.cylinders || v.index < 1 || v.index > per) out[`readings.${i}.valve`] = `this engine has no valve ${r.valve}`;
+    if (v.cylinder < 1 || v.cylinder > engine.cylinders || v.index < 1 || v.index > per)
+      out[`readings.${i}.valve`] = `this engine has no valve ${r.valve}`;
     for (const f of ["installedStamp", "installedMicrometer", "fittedShim"] as const) {
       const s = r[f];
       if (s != null && (s < lo || s > hi)) out[`readings.${i}.${f}`] = `${s} mm is outside this engine's shim range`;

@@ -1,8 +1,27 @@
 import { PUSH_BATCH } from "./mutations";
 import { uploadPhotos } from "./photos";
 import { pendingKey, readingKey } from "./pending";
-import { Offline, postJson, retryAfterMs, retryDelay, ServerBusy, SessionRevoked, SignedOut, type Fetch } from "./transport";
-import { getMeta, setMeta, type OutboxEntry, type LocalCheck, type LocalComment, type LocalDb, type LocalEngine, type LocalReading, type LocalTrayItem } from "./local-db";
+import {
+  Offline,
+  postJson,
+  retryAfterMs,
+  retryDelay,
+  ServerBusy,
+  SessionRevoked,
+  SignedOut,
+  type Fetch,
+} from "./transport";
+import {
+  getMeta,
+  setMeta,
+  type OutboxEntry,
+  type LocalCheck,
+  type LocalComment,
+  type LocalDb,
+  type LocalEngine,
+  type LocalReading,
+  type LocalTrayItem,
+} from "./local-db";
 
 /**
  * The client side of the sync protocol, one module. Push sends the outbox in order, in batches, and
@@ -49,7 +68,8 @@ export async function clientId(db: LocalDb): Promise<string> {
   return id;
 }
 
-const post = <T>(fetcher: Fetch, base: string, path: string, body: unknown) => postJson<T>(fetcher, `${base}${path}`, body, path.slice(5));
+const post = <T>(fetcher: Fetch, base: string, path: string, body: unknown) =>
+  postJson<T>(fetcher, `${base}${path}`, body, path.slice(5));
 
 /** What the server answers to a push (server/sync.ts). */
 interface PushAnswer {
@@ -66,12 +86,20 @@ const isRefused = (m: OutboxEntry) => m.held?.kind === "refused";
  * retries it (retryHeld) or discards it (discardHeld); one it could not take yet is marked and sent
  * again, in its place, at the next sync. Nothing queued is deleted because the server said no.
  */
-export async function pushAll(db: LocalDb, fetcher: Fetch, base = ""): Promise<{ acknowledged: number; rejected: Rejected[]; later?: Rejected }> {
+export async function pushAll(
+  db: LocalDb,
+  fetcher: Fetch,
+  base = "",
+): Promise<{ acknowledged: number; rejected: Rejected[]; later?: Rejected }> {
   const id = await clientId(db);
   let acknowledged = 0;
   const rejected: Rejected[] = [];
   for (;;) {
-    const batch = await db.outbox.orderBy("mutationId").filter((m) => !isRefused(m)).limit(PUSH_BATCH).toArray();
+    const batch = await db.outbox
+      .orderBy("mutationId")
+      .filter((m) => !isRefused(m))
+      .limit(PUSH_BATCH)
+      .toArray();
     if (batch.length === 0) break;
     const r = await post<PushAnswer>(fetcher, base, "/api/sync/push", {
       clientId: id,
@@ -148,33 +176,37 @@ export async function pullOnce(db: LocalDb, fetcher: Fetch, base = ""): Promise<
   const cursor = (await getMeta<string | number>(db, "cursor")) ?? null;
   const r = await post<PullResult>(fetcher, base, "/api/sync/pull", { cursor });
   const pending = await pendingKeys(db);
-  await db.transaction("rw", [db.engines, db.checks, db.readings, db.tray, db.comments, db.meta, db.outbox], async () => {
-    await db.engines.bulkPut(r.engines.filter((e) => !pending.has(`engine:${e.id}`)));
-    await db.checks.bulkPut(r.checks.filter((c) => !pending.has(`check:${c.id}`)));
-    await db.readings.bulkPut(
-      r.readings
-        .filter((x) => !pending.has(readingKey(x.checkId, x.valve, x.round)))
-        .map(({ id: _serverId, ...x }) => {
-          void _serverId;
-          return x;
-        }),
-    );
-    await db.tray.bulkPut(r.tray.filter((t) => !pending.has(`tray:${t.id}`)));
-    await db.comments.bulkPut(r.comments);
-    for (const t of r.tombstones) {
-      if (t.entity === "engine") {
-        const cs = await db.checks.where("engineId").equals(t.id).primaryKeys();
-        for (const c of cs) await db.readings.where("checkId").equals(c).delete();
-        await db.checks.bulkDelete(cs);
-        await db.engines.delete(t.id);
-      } else if (t.entity === "check") {
-        await db.readings.where("checkId").equals(t.id).delete();
-        await db.comments.where("checkId").equals(t.id).delete();
-        await db.checks.delete(t.id);
-      } else if (t.entity === "tray_item") await db.tray.delete(t.id);
-    }
-    await setMeta(db, "cursor", r.cursor);
-  });
+  await db.transaction(
+    "rw",
+    [db.engines, db.checks, db.readings, db.tray, db.comments, db.meta, db.outbox],
+    async () => {
+      await db.engines.bulkPut(r.engines.filter((e) => !pending.has(`engine:${e.id}`)));
+      await db.checks.bulkPut(r.checks.filter((c) => !pending.has(`check:${c.id}`)));
+      await db.readings.bulkPut(
+        r.readings
+          .filter((x) => !pending.has(readingKey(x.checkId, x.valve, x.round)))
+          .map(({ id: _serverId, ...x }) => {
+            void _serverId;
+            return x;
+          }),
+      );
+      await db.tray.bulkPut(r.tray.filter((t) => !pending.has(`tray:${t.id}`)));
+      await db.comments.bulkPut(r.comments);
+      for (const t of r.tombstones) {
+        if (t.entity === "engine") {
+          const cs = await db.checks.where("engineId").equals(t.id).primaryKeys();
+          for (const c of cs) await db.readings.where("checkId").equals(c).delete();
+          await db.checks.bulkDelete(cs);
+          await db.engines.delete(t.id);
+        } else if (t.entity === "check") {
+          await db.readings.where("checkId").equals(t.id).delete();
+          await db.comments.where("checkId").equals(t.id).delete();
+          await db.checks.delete(t.id);
+        } else if (t.entity === "tray_item") await db.tray.delete(t.id);
+      }
+      await setMeta(db, "cursor", r.cursor);
+    },
+  );
   return r;
 }
 
@@ -186,7 +218,7 @@ const WORK_META = ["clientId", "nextMutationId", "rejected"];
  * account gone): whoever holds the phone now may not be its owner, so the local copy of the user's
  * records stops being readable here (OWASP ASVS 5.0 V14 Data Protection, V7 Session Management).
  *
- * Work not yet on the server is never deleted silently (DESIGN 6): the outbox, photos not sent (or
+ * Work not yet on the server is never deleted silently (README "Working without a signal"): the outbox, photos not sent (or
  * refused, with their reason), the refusals and the ids that keep the outbox's order (clientId,
  * nextMutationId) stay, in this user's own database, and are sent when the same user signs in again
  * on this phone (another person signing in opens another database and never sends them). Everything
@@ -194,12 +226,22 @@ const WORK_META = ["clientId", "nextMutationId", "rejected"];
  * so the next sign-in pulls a full copy. Returns how much unsent work was kept.
  */
 export async function wipeRevoked(db: LocalDb): Promise<{ changes: number; photos: number }> {
-  return db.transaction("rw", [db.engines, db.checks, db.readings, db.tray, db.comments, db.photos, db.meta, db.outbox], async () => {
-    await Promise.all([db.engines.clear(), db.checks.clear(), db.readings.clear(), db.tray.clear(), db.comments.clear()]);
-    await db.photos.where("state").equals("sent").delete();
-    await db.meta.where("key").noneOf(WORK_META).delete();
-    return { changes: await db.outbox.count(), photos: await db.photos.count() };
-  });
+  return db.transaction(
+    "rw",
+    [db.engines, db.checks, db.readings, db.tray, db.comments, db.photos, db.meta, db.outbox],
+    async () => {
+      await Promise.all([
+        db.engines.clear(),
+        db.checks.clear(),
+        db.readings.clear(),
+        db.tray.clear(),
+        db.comments.clear(),
+      ]);
+      await db.photos.where("state").equals("sent").delete();
+      await db.meta.where("key").noneOf(WORK_META).delete();
+      return { changes: await db.outbox.count(), photos: await db.photos.count() };
+    },
+  );
 }
 
 /**

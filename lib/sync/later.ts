@@ -13,7 +13,8 @@ type AsyncFn = (...args: never[]) => Promise<unknown>;
 type AsyncKeys<M> = { [K in keyof M]: M[K] extends AsyncFn ? K : never }[keyof M];
 
 function later<M, K extends AsyncKeys<M>>(load: () => Promise<M>, name: K): M[K] {
-  return ((...args: unknown[]) => load().then((m) => (m[name] as (...a: unknown[]) => Promise<unknown>)(...args))) as M[K];
+  return ((...args: unknown[]) =>
+    load().then((m) => (m[name] as (...a: unknown[]) => Promise<unknown>)(...args))) as M[K];
 }
 
 const writes = () => import("./writes");

@@ -1,7 +1,14 @@
 import Dexie, { type EntityTable } from "dexie";
 import type { z } from "zod";
 import type { ValveTiming } from "../lash";
-import type { CheckStatus, checkInput, commentInput, EngineInput, ReadingInput, trayItemInput } from "../schemas/records";
+import type {
+  CheckStatus,
+  checkInput,
+  commentInput,
+  EngineInput,
+  ReadingInput,
+  trayItemInput,
+} from "../schemas/records";
 
 /**
  * The phone's copy of the user's records and the outbox, in IndexedDB. Every screen in the garage

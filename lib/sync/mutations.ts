@@ -1,7 +1,20 @@
 import { z } from "zod";
 import { nearSideSchema, shimPositionSchema } from "../lash";
 import { borrowInput, borrowMoveInput, offerInput } from "../pool/rules";
-import { checkDate, checkInput, checkStatus, commentInput, engineFields, engineFieldsV2, engineInputV1, engineRules, idSchema, readingInput, trayItemInput, verdictInput } from "../schemas/records";
+import {
+  checkDate,
+  checkInput,
+  checkStatus,
+  commentInput,
+  engineFields,
+  engineFieldsV2,
+  engineInputV1,
+  engineRules,
+  idSchema,
+  readingInput,
+  trayItemInput,
+  verdictInput,
+} from "../schemas/records";
 
 /**
  * The outbox's mutations: a versioned name and its arguments, validated by the same schemas on the
@@ -19,9 +32,13 @@ export const MUTATIONS = {
   // an older phone's engine, without where the shims sit: applied, the stored answer is kept
   "engine.put/1": engineInputV1.and(z.object({ id: idSchema })),
   // the engine with where the shims sit ("over", "under", or null: not said)
-  "engine.put/2": engineFieldsV2.extend({ id: idSchema, shimPosition: shimPositionSchema.nullable() }).superRefine(engineRules),
+  "engine.put/2": engineFieldsV2
+    .extend({ id: idSchema, shimPosition: shimPositionSchema.nullable() })
+    .superRefine(engineRules),
   // the engine with which side is nearest the mechanic ("intake" or "exhaust"), as well
-  "engine.put/3": engineFields.extend({ id: idSchema, shimPosition: shimPositionSchema.nullable(), nearSide: nearSideSchema }).superRefine(engineRules),
+  "engine.put/3": engineFields
+    .extend({ id: idSchema, shimPosition: shimPositionSchema.nullable(), nearSide: nearSideSchema })
+    .superRefine(engineRules),
   "engine.delete/1": z.object({ id: idSchema }),
   "check.put/1": checkPut,
   // a check written down after the fact (imported from an old log) carries the day it was made
@@ -74,7 +91,12 @@ export type PushInput = z.infer<typeof pushInput>;
  */
 export const CURSOR_PREFIX = "o:";
 export const pullInput = z.object({
-  cursor: z.union([z.string().regex(/^o:\d{1,15}(?::[0-9]:[0-9A-Za-z-]{1,36})?$/, { error: 'a cursor looks like "o:123"' }), z.number().int().min(0)]).nullable(),
+  cursor: z
+    .union([
+      z.string().regex(/^o:\d{1,15}(?::[0-9]:[0-9A-Za-z-]{1,36})?$/, { error: 'a cursor looks like "o:123"' }),
+      z.number().int().min(0),
+    ])
+    .nullable(),
 });
 export type Cursor = z.infer<typeof pullInput>["cursor"];
 
@@ -87,13 +109,21 @@ export function isMutationName(name: string): name is MutationName {
 }
 
 /** Parse one mutation's arguments; returns the reason it is refused, or the parsed args. */
-export function parseMutation(name: string, args: unknown): { ok: true; name: MutationName; args: unknown } | { ok: false; reason: string; unknown?: true } {
+export function parseMutation(
+  name: string,
+  args: unknown,
+): { ok: true; name: MutationName; args: unknown } | { ok: false; reason: string; unknown?: true } {
   // own properties only: "constructor", "__proto__" or "toString" are names of every object's
   // prototype, and `in` would find them (OWASP Prototype Pollution Prevention Cheat Sheet; ASVS 5.0
   // V15 Secure Coding and Architecture). A name not of the form every version uses ("thing.verb/N")
   // was never a change: refused for good. A well-formed name we do not know may be a newer phone's:
   // held for later (unknown), never refused.
-  if (!isMutationName(name)) return { ok: false, reason: `unknown change "${name}"`, ...(MUTATION_NAME_FORM.test(name) ? { unknown: true as const } : {}) };
+  if (!isMutationName(name))
+    return {
+      ok: false,
+      reason: `unknown change "${name}"`,
+      ...(MUTATION_NAME_FORM.test(name) ? { unknown: true as const } : {}),
+    };
   const r = MUTATIONS[name as MutationName].safeParse(args);
   if (!r.success) {
     const i = r.error.issues[0]!;

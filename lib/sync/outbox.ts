@@ -6,7 +6,12 @@ import { getMeta, setMeta, type LocalDb } from "./local-db";
  * Every write: validate with the shared schema, change the local records, and append the mutation
  * to the outbox, all in one IndexedDB transaction, so a tap is either fully saved or not at all.
  */
-export async function record<N extends MutationName>(db: LocalDb, name: N, args: MutationArgs<N>, applyLocal: (args: MutationArgs<N>) => Promise<unknown>): Promise<number> {
+export async function record<N extends MutationName>(
+  db: LocalDb,
+  name: N,
+  args: MutationArgs<N>,
+  applyLocal: (args: MutationArgs<N>) => Promise<unknown>,
+): Promise<number> {
   const parsed = parseMutation(name, args);
   if (!parsed.ok) throw new LashInputError(parsed.reason);
   return db.transaction("rw", writeTables(db), async () => {

@@ -26,7 +26,8 @@ export const PENDING_KEY: { readonly [N in MutationName]: (a: MutationArgs<N>) =
   "borrow.move/1": () => null,
 };
 
-export const readingKey = (checkId: string, valve: string, round: number | undefined) => `reading:${checkId}:${valve}:${round ?? 0}`;
+export const readingKey = (checkId: string, valve: string, round: number | undefined) =>
+  `reading:${checkId}:${valve}:${round ?? 0}`;
 
 /** The key of one outbox entry as stored (its args as the phone parsed them when it queued them). */
 export function pendingKey(name: string, args: unknown): string | null {

@@ -9,11 +9,22 @@ import { USAGE_META } from "./meta-keys";
  * sent on the next sync, after the outbox so a comment it belongs to is already there. The photo's
  * id is made here, so a send whose answer was lost is recognised by the server, not stored twice.
  */
-export async function queuePhoto(db: LocalDb, p: { checkId: string; valve?: string | null; commentId?: string | null; blob: Blob }): Promise<string> {
+export async function queuePhoto(
+  db: LocalDb,
+  p: { checkId: string; valve?: string | null; commentId?: string | null; blob: Blob },
+): Promise<string> {
   const id = crypto.randomUUID();
   const f = photoFields.safeParse({ id, valve: p.valve ?? null, commentId: p.commentId ?? null });
   if (!f.success) throw new LashInputError(f.error.issues[0]!.message);
-  await db.photos.add({ id, checkId: p.checkId, valve: p.valve ?? null, commentId: p.commentId ?? null, blob: p.blob, takenAt: Date.now(), state: "waiting" });
+  await db.photos.add({
+    id,
+    checkId: p.checkId,
+    valve: p.valve ?? null,
+    commentId: p.commentId ?? null,
+    blob: p.blob,
+    takenAt: Date.now(),
+    state: "waiting",
+  });
   return id;
 }
 
@@ -29,7 +40,11 @@ async function fetchUsage(db: LocalDb, fetcher: Fetch, base: string): Promise<Ph
   if (!res?.ok) return null;
   const u = (await res.json().catch(() => null)) as PhotoUsage | null;
   if (u && typeof u.usedBytes === "number" && typeof u.quotaBytes === "number") {
-    await setMeta(db, USAGE_META, { usedBytes: u.usedBytes, quotaBytes: u.quotaBytes, at: Date.now() } satisfies KnownUsage);
+    await setMeta(db, USAGE_META, {
+      usedBytes: u.usedBytes,
+      quotaBytes: u.quotaBytes,
+      at: Date.now(),
+    } satisfies KnownUsage);
     return u;
   }
   return null;
@@ -42,7 +57,11 @@ async function fetchUsage(db: LocalDb, fetcher: Fetch, base: string): Promise<Ph
  * decides what to tell the user). A photo the account's space has no room for stays waiting, with
  * the server's words, and is not sent again until the space has changed: nothing is deleted.
  */
-export async function uploadPhotos(db: LocalDb, fetcher: Fetch, base = ""): Promise<{ sent: number; refused: number; failed: number; held: number }> {
+export async function uploadPhotos(
+  db: LocalDb,
+  fetcher: Fetch,
+  base = "",
+): Promise<{ sent: number; refused: number; failed: number; held: number }> {
   const waiting: LocalPhoto[] = await db.photos.where("state").equals("waiting").sortBy("takenAt");
   let sent = 0;
   let refused = 0;
@@ -72,7 +91,12 @@ export async function uploadPhotos(db: LocalDb, fetcher: Fetch, base = ""): Prom
       if (body?.error?.code === PHOTO_QUOTA_CODE) {
         // kept in the queue, shown with the reason; the others would not fit either, so the queue stops
         const now = await fetchUsage(db, fetcher, base);
-        await db.photos.update(p.id, { reason, held: now ? { usedBytes: now.usedBytes, quotaBytes: now.quotaBytes } : { usedBytes: Number.MAX_SAFE_INTEGER, quotaBytes: 0 } });
+        await db.photos.update(p.id, {
+          reason,
+          held: now
+            ? { usedBytes: now.usedBytes, quotaBytes: now.quotaBytes }
+            : { usedBytes: Number.MAX_SAFE_INTEGER, quotaBytes: 0 },
+        });
         held++;
         break;
       }

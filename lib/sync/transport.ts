@@ -91,13 +91,18 @@ export async function send(fetcher: Fetch, url: string, init: RequestInit): Prom
     const body = (await res.json().catch(() => null)) as { error?: { code?: unknown } } | null;
     throw body?.error?.code === SESSION_REVOKED_CODE ? new SessionRevoked() : new SignedOut();
   }
-  if (res.status === 503 || res.status === 429) throw new ServerBusy(retryAfterMs(res.headers.get("retry-after")), res.status);
+  if (res.status === 503 || res.status === 429)
+    throw new ServerBusy(retryAfterMs(res.headers.get("retry-after")), res.status);
   return res;
 }
 
 /** POST JSON and read the JSON answer; any answer but 2xx throws. */
 export async function postJson<T>(fetcher: Fetch, url: string, body: unknown, what: string): Promise<T> {
-  const res = await send(fetcher, url, { method: "POST", headers: { "content-type": "application/json" }, body: JSON.stringify(body) });
+  const res = await send(fetcher, url, {
+    method: "POST",
+    headers: { "content-type": "application/json" },
+    body: JSON.stringify(body),
+  });
   if (!res.ok) throw new ServerError(res.status, `${what} answered ${res.status}`);
   return (await res.json()) as T;
 }

@@ -3,26 +3,42 @@ import { record, writeTables } from "./outbox";
 import { DEFAULT_TIMING, LashInputError, type NearSide, type ShimMove, type ShimPosition } from "../lash";
 import { swapEffects, workOrderKey, type WorkOrderState } from "../check/fit";
 import { READING_VALUE_FIELDS } from "../schemas/records";
-import { getMeta, setMeta, type CheckStatus, type LocalCheck, type LocalDb, type LocalEngine, type LocalReading } from "./local-db";
+import {
+  getMeta,
+  setMeta,
+  type CheckStatus,
+  type LocalCheck,
+  type LocalDb,
+  type LocalEngine,
+  type LocalReading,
+} from "./local-db";
 
 /**
  * Every change the garage screens make, each a local write plus an outbox entry (lib/sync/outbox).
  * The shapes are the server's, so a pulled record and a local one look alike.
  */
-type EngineArgs = Omit<MutationArgs<"engine.put/3">, "shimPosition" | "nearSide"> & { shimPosition?: ShimPosition | null; nearSide?: NearSide | null };
+type EngineArgs = Omit<MutationArgs<"engine.put/3">, "shimPosition" | "nearSide"> & {
+  shimPosition?: ShimPosition | null;
+  nearSide?: NearSide | null;
+};
 
 /** The engine profile, with where its shims sit (null: not said) and the side nearest the mechanic. */
 export function saveEngine(db: LocalDb, e: EngineArgs) {
-  return record(db, "engine.put/3", { ...e, shimPosition: e.shimPosition ?? null, nearSide: e.nearSide ?? "exhaust" }, async (a) => {
-    const local: LocalEngine = {
-      ...a,
-      firingAngles: a.firingAngles ?? null,
-      timing: a.timing ?? DEFAULT_TIMING,
-      shimDiameter: a.shimDiameter ?? null,
-      assembledShim: a.assembledShim ?? null,
-    };
-    await db.engines.put(local);
-  });
+  return record(
+    db,
+    "engine.put/3",
+    { ...e, shimPosition: e.shimPosition ?? null, nearSide: e.nearSide ?? "exhaust" },
+    async (a) => {
+      const local: LocalEngine = {
+        ...a,
+        firingAngles: a.firingAngles ?? null,
+        timing: a.timing ?? DEFAULT_TIMING,
+        shimDiameter: a.shimDiameter ?? null,
+        assembledShim: a.assembledShim ?? null,
+      };
+      await db.engines.put(local);
+    },
+  );
 }
 
 export function deleteEngine(db: LocalDb, id: string) {
@@ -35,12 +51,39 @@ export function deleteEngine(db: LocalDb, id: string) {
 }
 
 /** A check; `madeAt` only for one recorded after the fact (an import), which names its own day. */
-export async function saveCheck(db: LocalDb, c: { id: string; engineId: string; odometer: number; measuredHot: boolean; notes?: string | null; status?: CheckStatus }, madeAt?: string) {
+export async function saveCheck(
+  db: LocalDb,
+  c: {
+    id: string;
+    engineId: string;
+    odometer: number;
+    measuredHot: boolean;
+    notes?: string | null;
+    status?: CheckStatus;
+  },
+  madeAt?: string,
+) {
   const existing = await db.checks.get(c.id);
-  const args = { id: c.id, engineId: c.engineId, odometer: c.odometer, measuredHot: c.measuredHot, notes: c.notes ?? existing?.notes ?? null, status: c.status ?? existing?.status ?? "measuring" } as MutationArgs<"check.put/1">;
+  const args = {
+    id: c.id,
+    engineId: c.engineId,
+    odometer: c.odometer,
+    measuredHot: c.measuredHot,
+    notes: c.notes ?? existing?.notes ?? null,
+    status: c.status ?? existing?.status ?? "measuring",
+  } as MutationArgs<"check.put/1">;
   const local = (a: MutationArgs<"check.put/1">, startedAt: string | Date) => {
     const closedAt = a.status !== "closed" ? null : (madeAt ?? new Date().toISOString());
-    return db.checks.put({ id: a.id, engineId: a.engineId, odometer: a.odometer, measuredHot: a.measuredHot, notes: a.notes ?? null, status: a.status, startedAt, closedAt } satisfies LocalCheck);
+    return db.checks.put({
+      id: a.id,
+      engineId: a.engineId,
+      odometer: a.odometer,
+      measuredHot: a.measuredHot,
+      notes: a.notes ?? null,
+      status: a.status,
+      startedAt,
+      closedAt,
+    } satisfies LocalCheck);
   };
   // the server keeps the day as given, and so does the phone
   if (madeAt) return record(db, "check.put/2", { ...args, startedAt: madeAt }, (a) => local(a, a.startedAt!));
@@ -58,7 +101,11 @@ type ReadingPatchInput = Pick<ReadingPatch, "valve" | "round" | "method"> & Part
 
 export function saveReading(db: LocalDb, checkId: string, r: ReadingPatch) {
   // only the reading's own fields: a patch built from a stored reading also carries checkId and version
-  const reading = { valve: r.valve, round: r.round, ...Object.fromEntries(READING_VALUE_FIELDS.map((f) => [f, r[f]])) } as ReadingPatch;
+  const reading = {
+    valve: r.valve,
+    round: r.round,
+    ...Object.fromEntries(READING_VALUE_FIELDS.map((f) => [f, r[f]])),
+  } as ReadingPatch;
   return record(db, "reading.put/1", { checkId, reading } as MutationArgs<"reading.put/1">, async () => {
     await db.readings.put({ checkId, ...reading });
   });
@@ -70,23 +117,61 @@ export function saveReading(db: LocalDb, checkId: string, r: ReadingPatch) {
  * leaves nothing behind. They reach the server through the outbox like every other change. A day
  * is stored as noon UTC, so it reads as the same day in any nearby time zone.
  */
-export function importChecks(db: LocalDb, engine: Pick<LocalEngine, "id" | "measuredHot">, checks: { date: string; odometer: number; notes: string | null; readings: ReadingPatchInput[] }[]) {
+export function importChecks(
+  db: LocalDb,
+  engine: Pick<LocalEngine, "id" | "measuredHot">,
+  checks: { date: string; odometer: number; notes: string | null; readings: ReadingPatchInput[] }[],
+) {
   return db.transaction("rw", writeTables(db), async () => {
     const ids: string[] = [];
     for (const c of checks) {
       const id = crypto.randomUUID();
-      await saveCheck(db, { id, engineId: engine.id, odometer: c.odometer, measuredHot: engine.measuredHot, notes: c.notes, status: "closed" }, `${c.date}T12:00:00.000Z`);
-      for (const r of c.readings) await saveReading(db, id, { installedStamp: null, installedMicrometer: null, feelerGo: null, feelerNoGo: null, measured: null, fittedShim: null, ...r });
+      await saveCheck(
+        db,
+        {
+          id,
+          engineId: engine.id,
+          odometer: c.odometer,
+          measuredHot: engine.measuredHot,
+          notes: c.notes,
+          status: "closed",
+        },
+        `${c.date}T12:00:00.000Z`,
+      );
+      for (const r of c.readings)
+        await saveReading(db, id, {
+          installedStamp: null,
+          installedMicrometer: null,
+          feelerGo: null,
+          feelerNoGo: null,
+          measured: null,
+          fittedShim: null,
+          ...r,
+        });
       ids.push(id);
     }
     return ids;
   });
 }
 
-export function saveTrayItem(db: LocalDb, t: { id: string; size: number; measuredSize: boolean; count: number; shimDiameter?: number | null }) {
-  return record(db, "tray.put/1", { ...t, shimDiameter: t.shimDiameter ?? null } as MutationArgs<"tray.put/1">, async (a) => {
-    await db.tray.put({ id: a.id, size: a.size, measuredSize: a.measuredSize, count: a.count, shimDiameter: a.shimDiameter ?? null });
-  });
+export function saveTrayItem(
+  db: LocalDb,
+  t: { id: string; size: number; measuredSize: boolean; count: number; shimDiameter?: number | null },
+) {
+  return record(
+    db,
+    "tray.put/1",
+    { ...t, shimDiameter: t.shimDiameter ?? null } as MutationArgs<"tray.put/1">,
+    async (a) => {
+      await db.tray.put({
+        id: a.id,
+        size: a.size,
+        measuredSize: a.measuredSize,
+        count: a.count,
+        shimDiameter: a.shimDiameter ?? null,
+      });
+    },
+  );
 }
 
 /** Add (or with a negative delta, take) shims of one size on the tray. */
@@ -127,7 +212,8 @@ export function toggleSwap(db: LocalDb, checkId: string, index: number): Promise
 export function toggleSwaps(db: LocalDb, checkId: string, indexes: number[]): Promise<boolean> {
   return db.transaction("rw", writeTables(db), async () => {
     const order = await getMeta<WorkOrderState>(db, workOrderKey(checkId));
-    if (!order || indexes.length === 0 || indexes.some((i) => !order.moves[i])) throw new LashInputError("this swap is not on the list: open the Fit step again from the plan");
+    if (!order || indexes.length === 0 || indexes.some((i) => !order.moves[i]))
+      throw new LashInputError("this swap is not on the list: open the Fit step again from the plan");
     const on = indexes.some((i) => !order.done[i]);
     const done = order.moves.map((_, j) => !!order.done[j]);
     for (const index of on ? indexes : [...indexes].reverse()) {
@@ -136,7 +222,13 @@ export function toggleSwaps(db: LocalDb, checkId: string, indexes: number[]): Pr
       for (const t of effects.tray) await adjustTray(db, t.size, t.delta);
       if (effects.fit) {
         const { valveId, shim } = effects.fit;
-        const latest = (await db.readings.where("checkId").equals(checkId).filter((r) => r.valve === valveId).toArray()).sort((a, b) => b.round - a.round)[0];
+        const latest = (
+          await db.readings
+            .where("checkId")
+            .equals(checkId)
+            .filter((r) => r.valve === valveId)
+            .toArray()
+        ).sort((a, b) => b.round - a.round)[0];
         if (!latest) throw new LashInputError(`${valveId} has no reading in this check to fit a shim to`);
         await saveReading(db, checkId, { ...latest, fittedShim: shim });
       }
@@ -171,10 +263,25 @@ export function setTurned(db: LocalDb, checkId: string, turned: boolean) {
 }
 
 /** A comment by the check's owner or a mentor, kept here until the next sync sends it. */
-export function addComment(db: LocalDb, c: { id: string; checkId: string; authorId: string; body: string; valve: string | null }) {
-  return record(db, "comment.add/1", { id: c.id, checkId: c.checkId, body: c.body, valve: c.valve } as MutationArgs<"comment.add/1">, async (a) => {
-    await db.comments.put({ id: a.id, checkId: a.checkId, authorId: c.authorId, valve: a.valve ?? null, body: a.body, createdAt: new Date().toISOString() });
-  });
+export function addComment(
+  db: LocalDb,
+  c: { id: string; checkId: string; authorId: string; body: string; valve: string | null },
+) {
+  return record(
+    db,
+    "comment.add/1",
+    { id: c.id, checkId: c.checkId, body: c.body, valve: c.valve } as MutationArgs<"comment.add/1">,
+    async (a) => {
+      await db.comments.put({
+        id: a.id,
+        checkId: a.checkId,
+        authorId: c.authorId,
+        valve: a.valve ?? null,
+        body: a.body,
+        createdAt: new Date().toISOString(),
+      });
+    },
+  );
 }
 
 /** A mentor's verdict on a share; only the outbox holds it until the server has it. */

@@ -1,2 +1,7 @@
 export declare const DEMO_PASSWORD: string;
-export declare const DEMO_USERS: { email: string; name: string; roles: ("mechanic" | "mentor" | "admin")[]; says: string }[];
+export declare const DEMO_USERS: {
+  email: string;
+  name: string;
+  roles: ("mechanic" | "mentor" | "admin")[];
+  says: string;
+}[];

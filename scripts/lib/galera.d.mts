@@ -13,7 +13,11 @@ export interface ClusterSpec {
   nodes: ClusterNode[];
   urls: string[];
 }
-export function startNode(spec: ClusterSpec, i: number, opts?: { bootstrap?: boolean; timeoutMs?: number }): Promise<number>;
+export function startNode(
+  spec: ClusterSpec,
+  i: number,
+  opts?: { bootstrap?: boolean; timeoutMs?: number },
+): Promise<number>;
 export function stopNode(spec: ClusterSpec, i: number, opts?: { timeoutMs?: number }): Promise<void>;
 export function killNode(spec: ClusterSpec, i: number): Promise<void>;
 export function waitClusterSynced(spec: ClusterSpec, timeoutMs?: number): Promise<void>;

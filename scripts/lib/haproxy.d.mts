@@ -6,7 +6,13 @@ export interface HaproxyOptions {
   frontPort: number;
   statsPort: number;
   apps: { name: string; port: number }[];
-  db?: { nodes: { name: string; port: number }[]; listeners: { port: number; prefer: number }[]; user: string; password: string; database: string };
+  db?: {
+    nodes: { name: string; port: number }[];
+    listeners: { port: number; prefer: number }[];
+    user: string;
+    password: string;
+    database: string;
+  };
   healthPath?: string;
   echo?: boolean;
 }

@@ -7,7 +7,11 @@ import { chmodSync, mkdirSync, writeFileSync } from "node:fs";
 import path from "node:path";
 import { ended, SetupError, spawnChild, stopChild } from "./setup.mjs";
 
-export const HAPROXY = { pkg: "haproxy", present: () => spawnSync("sh", ["-c", "command -v haproxy || test -x /usr/sbin/haproxy"], { stdio: "ignore" }).status === 0 };
+export const HAPROXY = {
+  pkg: "haproxy",
+  present: () =>
+    spawnSync("sh", ["-c", "command -v haproxy || test -x /usr/sbin/haproxy"], { stdio: "ignore" }).status === 0,
+};
 const BIN = "/usr/sbin/haproxy";
 
 /**
@@ -145,7 +149,16 @@ export function haproxyConfig({ dir, frontPort, apps, db, statsPort, healthPath 
       );
     }
   }
-  lines.push("", "listen stats", "  mode http", `  bind 127.0.0.1:${statsPort}`, "  stats enable", "  stats uri /stats", "  stats refresh 5s", "");
+  lines.push(
+    "",
+    "listen stats",
+    "  mode http",
+    `  bind 127.0.0.1:${statsPort}`,
+    "  stats enable",
+    "  stats uri /stats",
+    "  stats refresh 5s",
+    "",
+  );
   return { text: lines.join("\n"), files: { [busy]: BUSY, ...(db ? { [check]: galeraCheckScript(db) } : {}) } };
 }
 
@@ -162,7 +175,10 @@ export async function startHaproxy(opts) {
   for (const [f, body] of Object.entries(files)) writeFileSync(f, body, { mode: 0o700 });
   for (const f of Object.keys(files)) chmodSync(f, 0o700);
   const valid = spawnSync(BIN, ["-c", "-q", "-f", cfg], { encoding: "utf8" });
-  if (valid.status !== 0) throw new SetupError(`HAProxy refused its configuration (${cfg}): ${(valid.stderr || valid.stdout).trim().split("\n").slice(-4).join(" | ")}`);
+  if (valid.status !== 0)
+    throw new SetupError(
+      `HAProxy refused its configuration (${cfg}): ${(valid.stderr || valid.stdout).trim().split("\n").slice(-4).join(" | ")}`,
+    );
   const child = spawnChild(BIN, ["-f", cfg, "-db"], { stdio: ["ignore", "pipe", "pipe"] });
   let out = "";
   const keep = (d) => {
@@ -174,15 +190,27 @@ export async function startHaproxy(opts) {
   const statsUrl = `http://127.0.0.1:${statsPort}/stats`;
   for (let i = 0; ; i++) {
     if (ended(child)) throw new SetupError(`HAProxy exited at start: ${out.slice(-2000)}`);
-    if (await fetch(statsUrl).then((r) => r.ok, () => false)) break;
+    if (
+      await fetch(statsUrl).then(
+        (r) => r.ok,
+        () => false,
+      )
+    )
+      break;
     if (i > 100) throw new SetupError(`HAProxy did not answer on ${statsUrl} within 10 s`);
     await new Promise((r) => setTimeout(r, 100));
   }
   /** { "proxy/server": "UP" | "DOWN" | "no check" | ... } from HAProxy's own page */
   const servers = async () => {
     const csv = await (await fetch(`${statsUrl};csv`)).text();
-    const rows = csv.trim().split("\n").filter((l) => !l.startsWith("#")).map((l) => l.split(","));
-    return Object.fromEntries(rows.filter((r) => r[1] !== "FRONTEND" && r[1] !== "BACKEND").map((r) => [`${r[0]}/${r[1]}`, r[17]]));
+    const rows = csv
+      .trim()
+      .split("\n")
+      .filter((l) => !l.startsWith("#"))
+      .map((l) => l.split(","));
+    return Object.fromEntries(
+      rows.filter((r) => r[1] !== "FRONTEND" && r[1] !== "BACKEND").map((r) => [`${r[0]}/${r[1]}`, r[17]]),
+    );
   };
   /** wait until every named server ("app/app1") reports UP; bounded */
   const waitUp = async (names, timeoutMs = 60_000) => {
@@ -190,7 +218,10 @@ export async function startHaproxy(opts) {
     for (;;) {
       const s = await servers();
       if (names.every((n) => String(s[n]).startsWith("UP"))) return;
-      if (Date.now() - t0 > timeoutMs) throw new SetupError(`HAProxy did not see ${names.join(", ")} up within ${timeoutMs / 1000} s: ${JSON.stringify(s)}`);
+      if (Date.now() - t0 > timeoutMs)
+        throw new SetupError(
+          `HAProxy did not see ${names.join(", ")} up within ${timeoutMs / 1000} s: ${JSON.stringify(s)}`,
+        );
       await new Promise((r) => setTimeout(r, 250));
     }
   };

@@ -3,11 +3,15 @@ import { ended, root, SetupError, spawnChild, stopChild } from "./setup.mjs";
 
 /** Returns { ready, exited, stop }; stop is bounded (SIGTERM to its group, then a kill). */
 export function startNext(port, env, { inherit = false } = {}) {
-  const child = spawnChild(process.execPath, ["node_modules/next/dist/bin/next", "start", "-H", "127.0.0.1", "-p", String(port)], {
-    cwd: root,
-    stdio: inherit ? ["ignore", "inherit", "inherit"] : ["ignore", "pipe", "pipe"],
-    env: { ...process.env, ...env, NODE_ENV: "production", NEXT_TELEMETRY_DISABLED: "1" },
-  });
+  const child = spawnChild(
+    process.execPath,
+    ["node_modules/next/dist/bin/next", "start", "-H", "127.0.0.1", "-p", String(port)],
+    {
+      cwd: root,
+      stdio: inherit ? ["ignore", "inherit", "inherit"] : ["ignore", "pipe", "pipe"],
+      env: { ...process.env, ...env, NODE_ENV: "production", NEXT_TELEMETRY_DISABLED: "1" },
+    },
+  );
   let out = "";
   child.stdout?.on("data", (d) => (out += d));
   child.stderr?.on("data", (d) => (out += d));

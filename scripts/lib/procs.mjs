@@ -79,7 +79,11 @@ export function stopJobs(graceMs = 3000) {
 /** Run a command to its end without blocking the event loop (so Ctrl-C is heard during a build). */
 export function runChild(cmd, args, { cwd, env, what, quiet = false } = {}) {
   return new Promise((resolve, reject) => {
-    const child = spawnChild(cmd, args, { cwd, env, stdio: quiet ? ["ignore", "pipe", "pipe"] : ["ignore", "inherit", "inherit"] });
+    const child = spawnChild(cmd, args, {
+      cwd,
+      env,
+      stdio: quiet ? ["ignore", "pipe", "pipe"] : ["ignore", "inherit", "inherit"],
+    });
     jobs.add(child);
     child.once("exit", () => jobs.delete(child));
     let out = "";
@@ -87,11 +91,20 @@ export function runChild(cmd, args, { cwd, env, what, quiet = false } = {}) {
       child.stdout.on("data", (d) => (out += d));
       child.stderr.on("data", (d) => (out += d));
     }
-    child.once("error", (e) => reject(Object.assign(new Error(`${what ?? cmd} could not be run: ${e.message}`), { setup: true })));
+    child.once("error", (e) =>
+      reject(Object.assign(new Error(`${what ?? cmd} could not be run: ${e.message}`), { setup: true })),
+    );
     child.once("exit", (code, signal) => {
       if (code === 0) return resolve(out);
       const detail = quiet ? `\n${out.trim().split("\n").slice(-8).join("\n")}` : "";
-      reject(Object.assign(new Error(`${what ?? `${cmd} ${args.join(" ")}`} failed (${signal ? `stopped by ${signal}` : `exit ${code}`})${detail}`), { setup: true }));
+      reject(
+        Object.assign(
+          new Error(
+            `${what ?? `${cmd} ${args.join(" ")}`} failed (${signal ? `stopped by ${signal}` : `exit ${code}`})${detail}`,
+          ),
+          { setup: true },
+        ),
+      );
     });
   });
 }

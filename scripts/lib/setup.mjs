@@ -22,7 +22,12 @@ function has(cmd) {
 }
 
 export function run(cmd, args, opts = {}) {
-  const r = spawnSync(cmd, args, { stdio: opts.quiet ? "pipe" : "inherit", cwd: root, env: { ...process.env, ...(opts.env ?? {}) }, encoding: "utf8" });
+  const r = spawnSync(cmd, args, {
+    stdio: opts.quiet ? "pipe" : "inherit",
+    cwd: root,
+    env: { ...process.env, ...(opts.env ?? {}) },
+    encoding: "utf8",
+  });
   if (r.error) throw new SetupError(`${cmd} could not be run: ${r.error.message}`);
   if (r.status !== 0) {
     const detail = opts.quiet ? `\n${(r.stderr || r.stdout || "").trim().split("\n").slice(-8).join("\n")}` : "";
@@ -34,7 +39,12 @@ export function run(cmd, args, opts = {}) {
 /** run() without blocking the event loop: for the long steps (build, tests), so a signal is heard at once. */
 export async function runAsync(cmd, args, opts = {}) {
   try {
-    return await runChild(cmd, args, { cwd: root, env: { ...process.env, ...(opts.env ?? {}) }, what: opts.what, quiet: opts.quiet });
+    return await runChild(cmd, args, {
+      cwd: root,
+      env: { ...process.env, ...(opts.env ?? {}) },
+      what: opts.what,
+      quiet: opts.quiet,
+    });
   } catch (e) {
     throw new SetupError(e.message);
   }
@@ -45,11 +55,21 @@ export function ensureDebianPackages(wanted) {
   const missing = wanted.filter((w) => !w.present());
   if (missing.length === 0) return;
   const names = missing.map((m) => m.pkg);
-  if (!has("apt-get")) throw new SetupError(`${names.join(", ")} missing and apt-get is not available: install them with your package manager`);
-  if (process.getuid && process.getuid() !== 0) throw new SetupError(`${names.join(", ")} missing: run as root, or first: sudo apt-get install -y ${names.join(" ")}`);
+  if (!has("apt-get"))
+    throw new SetupError(
+      `${names.join(", ")} missing and apt-get is not available: install them with your package manager`,
+    );
+  if (process.getuid && process.getuid() !== 0)
+    throw new SetupError(
+      `${names.join(", ")} missing: run as root, or first: sudo apt-get install -y ${names.join(" ")}`,
+    );
   log(`installing ${names.join(", ")} from Debian's packages (once)...`);
   run("apt-get", ["update", "-qq"], { quiet: true, what: "apt-get update" });
-  run("apt-get", ["install", "-y", "-qq", ...names], { quiet: true, env: { DEBIAN_FRONTEND: "noninteractive" }, what: `apt-get install ${names.join(" ")}` });
+  run("apt-get", ["install", "-y", "-qq", ...names], {
+    quiet: true,
+    env: { DEBIAN_FRONTEND: "noninteractive" },
+    what: `apt-get install ${names.join(" ")}`,
+  });
 }
 
 export const MARIADB = { pkg: "mariadb-server", present: () => existsSync("/usr/sbin/mariadbd") || has("mariadbd") };
@@ -95,15 +115,26 @@ const sleep = (ms) => new Promise((r) => setTimeout(r, ms));
  * A private MariaDB server on 127.0.0.1 with its own data folder: not the system service. Returns
  * { url, stop }. An existing data folder is reused as it is (never re-initialised or deleted).
  */
-export async function startMariadb({ dir, port, database = "lashwright", user = "lashwright", password = "lashwright" }) {
-  if (!(await portFree(port))) throw new SetupError(`port ${port} is in use: stop what holds it, or set ${"DB_PORT"} to another port`);
+export async function startMariadb({
+  dir,
+  port,
+  database = "lashwright",
+  user = "lashwright",
+  password = "lashwright",
+}) {
+  if (!(await portFree(port)))
+    throw new SetupError(`port ${port} is in use: stop what holds it, or set ${"DB_PORT"} to another port`);
   const data = path.join(dir, "mysql-data");
   const sock = path.join(dir, "mysqld.sock");
   const base = ["--no-defaults"];
   if (!existsSync(path.join(data, "mysql"))) {
     mkdirSync(data, { recursive: true });
     log(`initialising a private database in ${path.relative(root, data) || data}`);
-    run("mariadb-install-db", [...base, `--datadir=${data}`, "--auth-root-authentication-method=normal", "--skip-test-db"], { quiet: true, what: "mariadb-install-db" });
+    run(
+      "mariadb-install-db",
+      [...base, `--datadir=${data}`, "--auth-root-authentication-method=normal", "--skip-test-db"],
+      { quiet: true, what: "mariadb-install-db" },
+    );
   }
   const args = [
     ...base,
@@ -123,10 +154,16 @@ export async function startMariadb({ dir, port, database = "lashwright", user = 
   let exited = null;
   child.on("exit", (code) => (exited = code ?? -1));
   // bounded: a wedged server must not hang the caller
-  const admin = (extra) => spawnSync("mariadb-admin", [...base, `--socket=${sock}`, "-uroot", "--connect-timeout=2", ...extra], { stdio: "ignore", timeout: 3000 }).status === 0;
+  const admin = (extra) =>
+    spawnSync("mariadb-admin", [...base, `--socket=${sock}`, "-uroot", "--connect-timeout=2", ...extra], {
+      stdio: "ignore",
+      timeout: 3000,
+    }).status === 0;
   for (let i = 0; i < 150; i++) {
     if (exited !== null) {
-      const tail = existsSync(path.join(dir, "mysqld.err")) ? readFileSync(path.join(dir, "mysqld.err"), "utf8").trim().split("\n").slice(-3).join(" | ") : "";
+      const tail = existsSync(path.join(dir, "mysqld.err"))
+        ? readFileSync(path.join(dir, "mysqld.err"), "utf8").trim().split("\n").slice(-3).join(" | ")
+        : "";
       throw new SetupError(`the database failed to start (see ${path.join(dir, "mysqld.err")}): ${tail}`);
     }
     if (admin(["ping"])) break;
@@ -138,7 +175,10 @@ export async function startMariadb({ dir, port, database = "lashwright", user = 
     `CREATE USER IF NOT EXISTS '${user}'@'127.0.0.1' IDENTIFIED BY '${password}'`,
     `GRANT ALL PRIVILEGES ON \`${database}\`.* TO '${user}'@'127.0.0.1'`,
   ].join("; ");
-  run("mariadb", [...base, `--socket=${sock}`, "-uroot", "-e", sql], { quiet: true, what: "creating the database and its user" });
+  run("mariadb", [...base, `--socket=${sock}`, "-uroot", "-e", sql], {
+    quiet: true,
+    what: "creating the database and its user",
+  });
   // SIGTERM is mariadbd's clean shutdown; a server that has not finished in 8 s is killed, and
   // InnoDB recovers from its log on the next start, so the data folder stays whole.
   const stop = () => stopChild(child, { signal: "SIGTERM", graceMs: 8000 });
@@ -215,12 +255,31 @@ const stopper = (child) => () => stopChild(child, { graceMs: 3000 });
 
 /** The local SMTP catcher (maildev) on loopback; its HTTP API lists what arrived. */
 export async function startMailCatcher({ smtpPort, webPort, dir }) {
-  for (const p of [smtpPort, webPort]) if (!(await portFree(p))) throw new SetupError(`port ${p} (mail catcher) is in use: set SMTP_PORT and MAIL_WEB_PORT to free ports`);
+  for (const p of [smtpPort, webPort])
+    if (!(await portFree(p)))
+      throw new SetupError(`port ${p} (mail catcher) is in use: set SMTP_PORT and MAIL_WEB_PORT to free ports`);
   mkdirSync(dir, { recursive: true });
-  const child = spawnChild(process.execPath, [path.join(root, "node_modules/maildev/dist/bin/maildev.js"), "--smtp", String(smtpPort), "--ip", "127.0.0.1", "--web", String(webPort), "--web-ip", "127.0.0.1", "--mail-directory", dir, "--silent"], {
-    cwd: root,
-    stdio: "ignore",
-  });
+  const child = spawnChild(
+    process.execPath,
+    [
+      path.join(root, "node_modules/maildev/dist/bin/maildev.js"),
+      "--smtp",
+      String(smtpPort),
+      "--ip",
+      "127.0.0.1",
+      "--web",
+      String(webPort),
+      "--web-ip",
+      "127.0.0.1",
+      "--mail-directory",
+      dir,
+      "--silent",
+    ],
+    {
+      cwd: root,
+      stdio: "ignore",
+    },
+  );
   await waitForHttp(`http://127.0.0.1:${webPort}/api/healthz`, "the mail catcher", child);
   return { smtpUrl: `smtp://127.0.0.1:${smtpPort}`, apiUrl: `http://127.0.0.1:${webPort}`, stop: stopper(child) };
 }
@@ -229,11 +288,34 @@ export async function startMailCatcher({ smtpPort, webPort, dir }) {
 export async function startObjectStore({ port, dir, bucket = "lashwright-photos" }) {
   if (!(await portFree(port))) throw new SetupError(`port ${port} (photo store) is in use: set S3_PORT to a free port`);
   mkdirSync(dir, { recursive: true });
-  const child = spawnChild(process.execPath, [path.join(root, "node_modules/s3rver/bin/s3rver.js"), "--address", "127.0.0.1", "--port", String(port), "--directory", dir, "--configure-bucket", bucket, "--silent"], {
-    cwd: root,
-    stdio: "ignore",
-  });
+  const child = spawnChild(
+    process.execPath,
+    [
+      path.join(root, "node_modules/s3rver/bin/s3rver.js"),
+      "--address",
+      "127.0.0.1",
+      "--port",
+      String(port),
+      "--directory",
+      dir,
+      "--configure-bucket",
+      bucket,
+      "--silent",
+    ],
+    {
+      cwd: root,
+      stdio: "ignore",
+    },
+  );
   await waitForHttp(`http://127.0.0.1:${port}/`, "the photo store", child);
   // s3rver's fixed credentials: this store only listens on loopback
-  return { env: { S3_ENDPOINT: `http://127.0.0.1:${port}`, S3_BUCKET: bucket, S3_ACCESS_KEY: "S3RVER", S3_SECRET_KEY: "S3RVER" }, stop: stopper(child) };
+  return {
+    env: {
+      S3_ENDPOINT: `http://127.0.0.1:${port}`,
+      S3_BUCKET: bucket,
+      S3_ACCESS_KEY: "S3RVER",
+      S3_SECRET_KEY: "S3RVER",
+    },
+    stop: stopper(child),
+  };
 }

@@ -74,7 +74,14 @@ const note = (line: string) => {
 };
 
 beforeAll(async () => {
-  const [frontPort, statsPort, db1, db2, app1, app2] = (await freePorts(6)) as [number, number, number, number, number, number];
+  const [frontPort, statsPort, db1, db2, app1, app2] = (await freePorts(6)) as [
+    number,
+    number,
+    number,
+    number,
+    number,
+    number,
+  ];
   proxy = await startHaproxy({
     dir: path.join(spec.dir, "haproxy"),
     frontPort,
@@ -83,7 +90,16 @@ beforeAll(async () => {
       { name: "app1", port: app1 },
       { name: "app2", port: app2 },
     ],
-    db: { nodes: spec.nodes.map((n) => ({ name: n.name, port: n.port })), listeners: [{ port: db1, prefer: 0 }, { port: db2, prefer: 1 }], user: spec.user, password: spec.password, database: spec.database },
+    db: {
+      nodes: spec.nodes.map((n) => ({ name: n.name, port: n.port })),
+      listeners: [
+        { port: db1, prefer: 0 },
+        { port: db2, prefer: 1 },
+      ],
+      user: spec.user,
+      password: spec.password,
+      database: spec.database,
+    },
   });
   await proxy.waitUp(["galera/n1", "galera/n2", "galera/n3"]);
   const env = (i: number) => ({
@@ -99,11 +115,24 @@ beforeAll(async () => {
 
   const hash = await hashPassword(PASSWORD);
   const c = await rawConnection();
-  const users = Array.from({ length: PHONES }, (_, i) => ({ id: uuid(), email: `cluster-night-${i}-${uuid().slice(0, 6)}@test.example` }));
-  await c.query("INSERT INTO users (id, email, name, password_hash, email_verified_at) VALUES ?", [users.map((u, i) => [u.id, u.email, `Mechanic ${i}`, hash, new Date()])]);
+  const users = Array.from({ length: PHONES }, (_, i) => ({
+    id: uuid(),
+    email: `cluster-night-${i}-${uuid().slice(0, 6)}@test.example`,
+  }));
+  await c.query("INSERT INTO users (id, email, name, password_hash, email_verified_at) VALUES ?", [
+    users.map((u, i) => [u.id, u.email, `Mechanic ${i}`, hash, new Date()]),
+  ]);
   await c.end();
   for (const [i, u] of users.entries())
-    mechanics.push({ phone: new Phone("mechanic", proxy.url, await sessionCookie(u.id, secret), uuid(), stats), ...u, engineId: uuid(), checkId: uuid(), round: 0, written: new Map(), signsIn: i < SIGNING_IN });
+    mechanics.push({
+      phone: new Phone("mechanic", proxy.url, await sessionCookie(u.id, secret), uuid(), stats),
+      ...u,
+      engineId: uuid(),
+      checkId: uuid(),
+      round: 0,
+      written: new Map(),
+      signsIn: i < SIGNING_IN,
+    });
 }, 300_000);
 
 afterAll(async () => {
@@ -115,7 +144,10 @@ function queueRound(m: Mechanic) {
   for (const valve of VALVES) {
     const feelerGo = blade();
     m.written.set(`${valve}#${m.round}`, feelerGo);
-    m.phone.queue("reading.put/1", { checkId: m.checkId, reading: { valve, round: m.round, feelerGo, method: "feeler" } });
+    m.phone.queue("reading.put/1", {
+      checkId: m.checkId,
+      reading: { valve, round: m.round, feelerGo, method: "feeler" },
+    });
   }
 }
 
@@ -153,7 +185,12 @@ function steadyWriter(app: App, cookie: string) {
         const r = await fetch(`${app.url}/api/sync/push`, {
           method: "POST",
           headers: { "content-type": "application/json", cookie, origin: proxy.url },
-          body: JSON.stringify({ clientId, mutations: [{ id, name: "engine.put/1", args: { ...ENGINE_FOUR, id: engineId, name: `Pause probe ${id}` } }] }),
+          body: JSON.stringify({
+            clientId,
+            mutations: [
+              { id, name: "engine.put/1", args: { ...ENGINE_FOUR, id: engineId, name: `Pause probe ${id}` } },
+            ],
+          }),
           signal: AbortSignal.timeout(30_000),
         }).then(
           (res) => ({ status: res.status, retryAfter: res.headers.get("retry-after") }),
@@ -161,7 +198,8 @@ function steadyWriter(app: App, cookie: string) {
         );
         if (r.status === 200) break;
         if (r.status === 503 && r.retryAfter) w.busy++;
-        else w.other.set(`${r.status} ${r.retryAfter ?? ""}`, (w.other.get(`${r.status} ${r.retryAfter ?? ""}`) ?? 0) + 1);
+        else
+          w.other.set(`${r.status} ${r.retryAfter ?? ""}`, (w.other.get(`${r.status} ${r.retryAfter ?? ""}`) ?? 0) + 1);
         await sleep(100);
       }
       w.longestMs = Math.max(w.longestMs, performance.now() - t0);
@@ -190,7 +228,8 @@ async function untilState(server: string, want: RegExp, timeoutMs = 60_000) {
   for (;;) {
     const s = (await proxy.servers())[server] ?? "";
     if (want.test(s)) return performance.now() - t0;
-    if (performance.now() - t0 > timeoutMs) throw new Error(`${server} was not ${want} within ${timeoutMs / 1000} s (${s})`);
+    if (performance.now() - t0 > timeoutMs)
+      throw new Error(`${server} was not ${want} within ${timeoutMs / 1000} s (${s})`);
     await sleep(100);
   }
 }
@@ -215,7 +254,9 @@ async function faults(writerCookie: string) {
   await stopNode(spec, 1);
   await sleep(NODE_DOWN_MS);
   const [cleanA, cleanB] = writers.map((w) => w.window());
-  note(`database node 2 stopped (SIGTERM), ${NODE_DOWN_MS / 1000} s down; ${says("through instance 1", cleanA!)}; ${says("through instance 2", cleanB!)}`);
+  note(
+    `database node 2 stopped (SIGTERM), ${NODE_DOWN_MS / 1000} s down; ${says("through instance 1", cleanA!)}; ${says("through instance 2", cleanB!)}`,
+  );
   await startNode(spec, 1);
   await waitClusterSynced(spec);
   await untilState("galera/n2", /^UP/);
@@ -226,7 +267,9 @@ async function faults(writerCookie: string) {
   await killNode(spec, 0);
   await sleep(NODE_DOWN_MS);
   const [killA, killB] = writers.map((w) => w.window());
-  note(`database node 1 killed (SIGKILL), ${NODE_DOWN_MS / 1000} s down; ${says("through instance 1", killA!)}; ${says("through instance 2", killB!)}`);
+  note(
+    `database node 1 killed (SIGKILL), ${NODE_DOWN_MS / 1000} s down; ${says("through instance 1", killA!)}; ${says("through instance 2", killB!)}`,
+  );
   await startNode(spec, 0);
   await waitClusterSynced(spec);
   await untilState("galera/n1", /^UP/);
@@ -240,16 +283,24 @@ async function compareWithServer(): Promise<string[]> {
   const db = await rawConnection();
   try {
     for (const m of mechanics) {
-      const [rows] = await db.query<RowDataPacket[]>("SELECT valve, round, feeler_go FROM readings WHERE check_id = ?", [m.checkId]);
+      const [rows] = await db.query<RowDataPacket[]>(
+        "SELECT valve, round, feeler_go FROM readings WHERE check_id = ?",
+        [m.checkId],
+      );
       const server = new Map(rows.map((r) => [`${r.valve}#${r.round}`, Number(r.feeler_go)]));
-      const differ = [...m.written].filter(([k, v]) => server.get(k) !== v).length + [...server.keys()].filter((k) => !m.written.has(k)).length;
+      const differ =
+        [...m.written].filter(([k, v]) => server.get(k) !== v).length +
+        [...server.keys()].filter((k) => !m.written.has(k)).length;
       if (differ) problems.push(`${m.email}: ${differ} readings differ from the phone's (lost)`);
       if (m.phone.outbox.length) problems.push(`${m.email}: ${m.phone.outbox.length} changes still waiting`);
       const refused = [...m.phone.acknowledged.values()].filter((a) => a.rejected);
       if (refused.length) problems.push(`${m.email}: refused ${refused.map((r) => r.rejected).join("; ")}`);
     }
     // every (valve, round) is written once: a history row means a change was applied twice
-    const [[hist]] = await db.query<RowDataPacket[]>("SELECT COUNT(*) AS n FROM reading_history h JOIN readings r ON r.id = h.reading_id WHERE r.check_id IN (?)", [mechanics.map((m) => m.checkId)]);
+    const [[hist]] = await db.query<RowDataPacket[]>(
+      "SELECT COUNT(*) AS n FROM reading_history h JOIN readings r ON r.id = h.reading_id WHERE r.check_id IN (?)",
+      [mechanics.map((m) => m.checkId)],
+    );
     if (Number(hist!.n)) problems.push(`${hist!.n} readings were applied twice`);
   } finally {
     await db.end();
@@ -267,7 +318,9 @@ async function tableSizes(): Promise<string> {
       "SELECT table_name AS t, table_rows AS n, data_length AS d, index_length AS i FROM information_schema.tables WHERE table_schema = DATABASE() AND table_name IN (?)",
       [names],
     );
-    return rows.map((r) => `${r.t} ${r.n} rows, ${Math.round((Number(r.d) + Number(r.i)) / Math.max(1, Number(r.n)))} B/row`).join("; ");
+    return rows
+      .map((r) => `${r.t} ${r.n} rows, ${Math.round((Number(r.d) + Number(r.i)) / Math.max(1, Number(r.n)))} B/row`)
+      .join("; ");
   } catch (e) {
     return `not read (${(e as Error).message})`;
   } finally {
@@ -284,7 +337,8 @@ describe(`club night on the cluster: ${PHONES} phones through HAProxy, an app in
 
     const t0 = performance.now();
     const settle = async (work: Promise<unknown>[]) => {
-      for (const r of await Promise.allSettled(work)) if (r.status === "rejected") phoneErrors.push(String((r.reason as Error)?.message ?? r.reason));
+      for (const r of await Promise.allSettled(work))
+        if (r.status === "rejected") phoneErrors.push(String((r.reason as Error)?.message ?? r.reason));
     };
     await settle(
       mechanics.map(async (m) => {
@@ -325,8 +379,16 @@ describe(`club night on the cluster: ${PHONES} phones through HAProxy, an app in
       table([
         { kind: "sign-in (burst)", http: stats.summary("sign-in") },
         ...["burst", "steady"].flatMap((phase) => [
-          { kind: `push (${phase})`, http: stats.summary(`push (${phase})`), notes: `503 retried ${stats.get(`push (${phase})`, "503 busy (retried)")}` },
-          { kind: `pull (${phase})`, http: stats.summary(`pull (${phase})`), notes: `503 retried ${stats.get(`pull (${phase})`, "503 busy (retried)")}` },
+          {
+            kind: `push (${phase})`,
+            http: stats.summary(`push (${phase})`),
+            notes: `503 retried ${stats.get(`push (${phase})`, "503 busy (retried)")}`,
+          },
+          {
+            kind: `pull (${phase})`,
+            http: stats.summary(`pull (${phase})`),
+            notes: `503 retried ${stats.get(`pull (${phase})`, "503 busy (retried)")}`,
+          },
           { kind: `whole sync (${phase})`, http: stats.summary(`whole sync (${phase})`) },
         ]),
       ]),
@@ -339,7 +401,15 @@ describe(`club night on the cluster: ${PHONES} phones through HAProxy, an app in
     console.log(`\n${report}\n`);
     // an answer that was neither success nor 503 names its cause here: the instances' errors, HAProxy's alerts
     if (answers.some((a) => /server error|connection failed|unanswered/.test(a))) {
-      for (const [i, a] of apps.entries()) console.log(`[club night] instance ${i + 1}, error lines:\n${a.output().split("\n").filter((l) => /error|Error|ER_|500|failed/.test(l)).slice(-40).join("\n")}`);
+      for (const [i, a] of apps.entries())
+        console.log(
+          `[club night] instance ${i + 1}, error lines:\n${a
+            .output()
+            .split("\n")
+            .filter((l) => /error|Error|ER_|500|failed/.test(l))
+            .slice(-40)
+            .join("\n")}`,
+        );
       console.log(`[club night] HAProxy:\n${proxy.output().slice(-3000)}`);
     }
     mkdirSync(path.resolve(__dirname, "../../test-results"), { recursive: true });

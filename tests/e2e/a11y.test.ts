@@ -77,9 +77,17 @@ async function audit(page: Page, variant: string, screen: string) {
     }
   }
   for (const v of violations) {
-    const f = { variant, screen, rule: v.id, impact: v.impact ?? "none", targets: v.nodes.map((n) => n.target.map(String).join(" ")) };
+    const f = {
+      variant,
+      screen,
+      rule: v.id,
+      impact: v.impact ?? "none",
+      targets: v.nodes.map((n) => n.target.map(String).join(" ")),
+    };
     found.push(f);
-    console.log(`[a11y] ${variant} · ${screen}: ${f.rule} (${f.impact}) on ${f.targets.length}: ${f.targets.join(" | ")}`);
+    console.log(
+      `[a11y] ${variant} · ${screen}: ${f.rule} (${f.impact}) on ${f.targets.length}: ${f.targets.join(" | ")}`,
+    );
   }
   return violations.length;
 }
@@ -88,17 +96,39 @@ async function audit(page: Page, variant: string, screen: string) {
 // a check with nothing measured, one with every valve measured (shared with the club for review), and
 // one half-way through the re-check; the demo mentor reviews the shared one.
 const MEASURED: Record<string, number> = {
-  "I1.1": 0.15, "I1.2": 0.08, "E1.1": 0.25, "E1.2": 0.33,
-  "I2.1": 0.13, "I2.2": 0.15, "E2.1": 0.18, "E2.2": 0.25,
-  "I3.1": 0.23, "I3.2": 0.15, "E3.1": 0.28, "E3.2": 0.25,
-  "I4.1": 0.1, "I4.2": 0.18, "E4.1": 0.38, "E4.2": 0.23,
+  "I1.1": 0.15,
+  "I1.2": 0.08,
+  "E1.1": 0.25,
+  "E1.2": 0.33,
+  "I2.1": 0.13,
+  "I2.2": 0.15,
+  "E2.1": 0.18,
+  "E2.2": 0.25,
+  "I3.1": 0.23,
+  "I3.2": 0.15,
+  "E3.1": 0.28,
+  "E3.2": 0.25,
+  "I4.1": 0.1,
+  "I4.2": 0.18,
+  "E4.1": 0.38,
+  "E4.2": 0.23,
 };
 const ENGINE_NAME = "Audit four";
 let mech: { email: string; password: string };
-const ids = { engine: crypto.randomUUID(), fresh: crypto.randomUUID(), measured: crypto.randomUUID(), recheck: crypto.randomUUID(), under: crypto.randomUUID(), underCheck: crypto.randomUUID() };
+const ids = {
+  engine: crypto.randomUUID(),
+  fresh: crypto.randomUUID(),
+  measured: crypto.randomUUID(),
+  recheck: crypto.randomUUID(),
+  under: crypto.randomUUID(),
+  underCheck: crypto.randomUUID(),
+};
 
 async function push(api: Client, mutations: { name: string; args: unknown }[]) {
-  const res = await api.post("/api/sync/push", { clientId: crypto.randomUUID(), mutations: mutations.map((m, i) => ({ id: i + 1, ...m })) });
+  const res = await api.post("/api/sync/push", {
+    clientId: crypto.randomUUID(),
+    mutations: mutations.map((m, i) => ({ id: i + 1, ...m })),
+  });
   expect(res.status).toBe(200);
   expect(res.json.rejected ?? []).toEqual([]);
 }
@@ -109,26 +139,64 @@ beforeAll(async () => {
   const u = await makeUser("a11y");
   mech = u;
   const db = await rawConnection();
-  const [rows] = await db.query("SELECT m.club_id AS clubId FROM memberships m JOIN users u ON u.id = m.user_id WHERE u.email = ? AND m.role = 'mentor' LIMIT 1", ["teodor@kestrel-hollow.example"]);
+  const [rows] = await db.query(
+    "SELECT m.club_id AS clubId FROM memberships m JOIN users u ON u.id = m.user_id WHERE u.email = ? AND m.role = 'mentor' LIMIT 1",
+    ["teodor@kestrel-hollow.example"],
+  );
   await db.end();
   const clubId = (rows as { clubId: string }[])[0]!.clubId;
   await addMembership(clubId, u.id, ["mechanic"]);
   const api = await signedInClient(baseUrl(), u);
-  const reading = (checkId: string, valve: string, extra: Record<string, unknown>) => ({ name: "reading.put/1", args: { checkId, reading: { valve, round: 0, installedStamp: 2.6, ...extra } } });
+  const reading = (checkId: string, valve: string, extra: Record<string, unknown>) => ({
+    name: "reading.put/1",
+    args: { checkId, reading: { valve, round: 0, installedStamp: 2.6, ...extra } },
+  });
   const valves = Object.keys(MEASURED);
   await push(api, [
     { name: "engine.put/1", args: { id: ids.engine, ...ENGINE_FOUR, name: ENGINE_NAME } },
-    { name: "check.put/1", args: { id: ids.fresh, engineId: ids.engine, odometer: 52_000, measuredHot: false, status: "measuring" } },
-    { name: "check.put/1", args: { id: ids.measured, engineId: ids.engine, odometer: 41_000, measuredHot: false, status: "measuring" } },
-    { name: "check.put/1", args: { id: ids.recheck, engineId: ids.engine, odometer: 30_000, measuredHot: false, status: "verifying" } },
+    {
+      name: "check.put/1",
+      args: { id: ids.fresh, engineId: ids.engine, odometer: 52_000, measuredHot: false, status: "measuring" },
+    },
+    {
+      name: "check.put/1",
+      args: { id: ids.measured, engineId: ids.engine, odometer: 41_000, measuredHot: false, status: "measuring" },
+    },
+    {
+      name: "check.put/1",
+      args: { id: ids.recheck, engineId: ids.engine, odometer: 30_000, measuredHot: false, status: "verifying" },
+    },
     ...valves.map((v) => reading(ids.measured, v, { measured: MEASURED[v], method: "typed" })),
     // the re-check: two valves fitted and waiting, one already measured again in band
-    ...valves.map((v) => reading(ids.recheck, v, { measured: MEASURED[v], method: "typed", fittedShim: v === "I1.2" || v === "E1.2" || v === "E4.1" ? 2.7 : null })),
-    { name: "reading.put/1", args: { checkId: ids.recheck, reading: { valve: "E4.1", round: 1, installedStamp: 2.7, feelerGo: 0.25, feelerNoGo: 0.28, measured: 0.25, method: "feeler" } } },
+    ...valves.map((v) =>
+      reading(ids.recheck, v, {
+        measured: MEASURED[v],
+        method: "typed",
+        fittedShim: v === "I1.2" || v === "E1.2" || v === "E4.1" ? 2.7 : null,
+      }),
+    ),
+    {
+      name: "reading.put/1",
+      args: {
+        checkId: ids.recheck,
+        reading: {
+          valve: "E4.1",
+          round: 1,
+          installedStamp: 2.7,
+          feelerGo: 0.25,
+          feelerNoGo: 0.28,
+          measured: 0.25,
+          method: "feeler",
+        },
+      },
+    },
     { name: "tray.put/1", args: { id: crypto.randomUUID(), size: 2.75, count: 2 } },
     // an engine with its shims under the buckets: the Fit step's cams-out sequence and the re-check's two-turn check
     { name: "engine.put/2", args: { id: ids.under, ...ENGINE_FOUR, name: "Under-bucket four", shimPosition: "under" } },
-    { name: "check.put/1", args: { id: ids.underCheck, engineId: ids.under, odometer: 12_000, measuredHot: false, status: "measuring" } },
+    {
+      name: "check.put/1",
+      args: { id: ids.underCheck, engineId: ids.under, odometer: 12_000, measuredHot: false, status: "measuring" },
+    },
     ...valves.map((v) => reading(ids.underCheck, v, { measured: MEASURED[v], method: "typed" })),
   ]);
   const share = await api.post(`/api/checks/${ids.measured}/shares`, { clubId });
@@ -154,7 +222,9 @@ function faintFields(page: Page) {
       return rgb(getComputedStyle(document.documentElement).backgroundColor);
     };
     const short: string[] = [];
-    const fields = document.querySelectorAll<HTMLElement>('input:not([type="radio"]):not([type="checkbox"]):not([type="file"]):not([type="hidden"]), select, textarea');
+    const fields = document.querySelectorAll<HTMLElement>(
+      'input:not([type="radio"]):not([type="checkbox"]):not([type="file"]):not([type="hidden"]), select, textarea',
+    );
     for (const el of fields) {
       if (!el.offsetParent) continue;
       const [a, b] = [lum(rgb(getComputedStyle(el).borderTopColor)), lum(around(el))].sort((x, y) => y - x);
@@ -173,7 +243,8 @@ afterAll(async () => {
   totals.elements = found.reduce((n, f) => n + f.targets.length, 0);
   console.log(`[a11y] ${totals.audits} audits, ${totals.violations} violations, ${totals.elements} elements affected`);
   console.log(`[a11y] left for a person (axe's "incomplete", by reason): ${incomplete.size ? "" : "nothing"}`);
-  for (const [why, s] of [...incomplete].sort((a, b) => b[1].n - a[1].n)) console.log(`[a11y]   ${s.n} × ${why}, e.g.\n[a11y]     ${[...s.examples].join("\n[a11y]     ")}`);
+  for (const [why, s] of [...incomplete].sort((a, b) => b[1].n - a[1].n))
+    console.log(`[a11y]   ${s.n} × ${why}, e.g.\n[a11y]     ${[...s.examples].join("\n[a11y]     ")}`);
 });
 
 async function context(scheme: "light" | "dark", width: number): Promise<{ ctx: BrowserContext; page: Page }> {
@@ -196,7 +267,11 @@ describe("the audit itself", () => {
         `<button type="button" aria-label="Cyl 1 intake">I1.1</button></main></body></html>`,
     );
     const result = await new AxeBuilder({ page }).options({ rules: ALSO }).withTags(TAGS).analyze();
-    expect(result.violations.map((v) => v.id).sort()).toEqual(["color-contrast", "image-alt", "label-content-name-mismatch"]);
+    expect(result.violations.map((v) => v.id).sort()).toEqual([
+      "color-contrast",
+      "image-alt",
+      "label-content-name-mismatch",
+    ]);
     await ctx.close();
   });
 });
@@ -235,7 +310,10 @@ describe("axe finds nothing on any screen", () => {
         await run(page, "engines");
         await page.goto(`${baseUrl()}/engine?id=${ids.engine}`);
         await page.getByRole("heading", { name: ENGINE_NAME }).waitFor();
-        await page.getByText(/41,000/).first().waitFor();
+        await page
+          .getByText(/41,000/)
+          .first()
+          .waitFor();
         await run(page, "an engine");
         await page.goto(`${baseUrl()}/engine/edit`);
         await page.getByRole("button", { name: "Save engine" }).click();
@@ -245,13 +323,19 @@ describe("axe finds nothing on any screen", () => {
         expect(edges.checked).toBeGreaterThan(5);
         expect(edges.short).toEqual([]);
         await page.goto(`${baseUrl()}/checks`);
-        await page.getByText(/41,000/).first().waitFor();
+        await page
+          .getByText(/41,000/)
+          .first()
+          .waitFor();
         await run(page, "checks");
         await page.goto(`${baseUrl()}/tray`);
         await page.getByText(/2\.75/).first().waitFor();
         await run(page, "tray");
         await page.goto(`${baseUrl()}/club`);
-        await page.getByText(/Kestrel Hollow/).first().waitFor();
+        await page
+          .getByText(/Kestrel Hollow/)
+          .first()
+          .waitFor();
         await run(page, "club");
         await page.goto(`${baseUrl()}/account`);
         await page.getByRole("checkbox", { name: /E-mail me about/ }).waitFor();
@@ -335,7 +419,10 @@ function overflow(page: Page) {
         const o = getComputedStyle(a).overflowX;
         if (o === "auto" || o === "scroll" || o === "hidden") inScroller = true;
       }
-      if (!inScroller) wide.push(`${el.tagName.toLowerCase()}${el.id ? `#${el.id}` : ""}.${String(el.className).split(" ").slice(0, 3).join(".")} right ${Math.round(r.right)}`);
+      if (!inScroller)
+        wide.push(
+          `${el.tagName.toLowerCase()}${el.id ? `#${el.id}` : ""}.${String(el.className).split(" ").slice(0, 3).join(".")} right ${Math.round(r.right)}`,
+        );
     }
     return { page: document.documentElement.scrollWidth, width: w, wide: wide.slice(0, 6) };
   });
@@ -355,78 +442,133 @@ describe("every screen reflows at 320 px with long names", () => {
     expect(club.status).toBe(201);
     const clubId = (club.json.club as { id: string }).id;
     const valves = Object.keys(MEASURED);
-    const reading = (checkId: string, valve: string, extra: Record<string, unknown>) => ({ name: "reading.put/1", args: { checkId, reading: { valve, round: 0, installedStamp: 2.6, ...extra } } });
+    const reading = (checkId: string, valve: string, extra: Record<string, unknown>) => ({
+      name: "reading.put/1",
+      args: { checkId, reading: { valve, round: 0, installedStamp: 2.6, ...extra } },
+    });
     await push(api, [
       { name: "engine.put/1", args: { id: long.engine, ...ENGINE_FOUR, name: LONG.engine } },
-      { name: "check.put/1", args: { id: long.check, engineId: long.engine, odometer: 123_456, measuredHot: false, status: "verifying", notes: LONG.word } },
-      ...valves.map((v) => reading(long.check, v, { measured: MEASURED[v], method: "typed", fittedShim: v === "I1.2" || v === "E4.1" ? 2.7 : null })),
-      { name: "check.put/1", args: { id: long.planned, engineId: long.engine, odometer: 99_000, measuredHot: false, status: "planned" } },
+      {
+        name: "check.put/1",
+        args: {
+          id: long.check,
+          engineId: long.engine,
+          odometer: 123_456,
+          measuredHot: false,
+          status: "verifying",
+          notes: LONG.word,
+        },
+      },
+      ...valves.map((v) =>
+        reading(long.check, v, {
+          measured: MEASURED[v],
+          method: "typed",
+          fittedShim: v === "I1.2" || v === "E4.1" ? 2.7 : null,
+        }),
+      ),
+      {
+        name: "check.put/1",
+        args: { id: long.planned, engineId: long.engine, odometer: 99_000, measuredHot: false, status: "planned" },
+      },
       ...valves.map((v) => reading(long.planned, v, { measured: MEASURED[v], method: "typed" })),
-      { name: "tray.put/1", args: { id: crypto.randomUUID(), size: 2.555, measuredSize: true, count: 12, shimDiameter: 10.48 } },
-      { name: "pool.offer/1", args: { id: crypto.randomUUID(), clubId, size: 2.555, measuredSize: true, count: 3, shimDiameter: 10.48, note: LONG.word } },
-      { name: "comment.add/1", args: { id: crypto.randomUUID(), checkId: long.planned, body: `Look at ${LONG.word} first.`, valve: "E4.1" } },
+      {
+        name: "tray.put/1",
+        args: { id: crypto.randomUUID(), size: 2.555, measuredSize: true, count: 12, shimDiameter: 10.48 },
+      },
+      {
+        name: "pool.offer/1",
+        args: {
+          id: crypto.randomUUID(),
+          clubId,
+          size: 2.555,
+          measuredSize: true,
+          count: 3,
+          shimDiameter: 10.48,
+          note: LONG.word,
+        },
+      },
+      {
+        name: "comment.add/1",
+        args: { id: crypto.randomUUID(), checkId: long.planned, body: `Look at ${LONG.word} first.`, valve: "E4.1" },
+      },
     ]);
     const share = await api.post(`/api/checks/${long.planned}/shares`, { clubId });
     expect(share.status).toBe(201);
   });
 
   for (const scheme of ["light", "dark"] as const)
-    it(`in ${scheme} at 320 px: no screen is wider than the phone, and axe finds nothing`, { timeout: 300_000 }, async () => {
-      const before = found.length;
-      const variant = `${scheme} 320, long names`;
-      const wide: string[] = [];
-      const { ctx, page } = await context(scheme, 320);
-      const look = async (screen: string) => {
-        await audit(page, variant, screen);
-        const o = await overflow(page);
-        if (o.page > o.width) wide.push(`${screen}: ${o.page} px wide (${o.wide.join("; ")})`);
-        await page.screenshot({ path: `test-results/a11y-320-${scheme}-${screen.replace(/[^a-z0-9]+/gi, "-")}.png`, fullPage: true });
-      };
-      await page.goto(`${baseUrl()}/sign-in`);
-      await page.getByRole("heading", { level: 1, name: /Sign in/ }).waitFor();
-      await look("sign in");
-      await signInAs(page, user.email, user.password);
-      await page.getByRole("link", { name: new RegExp(LONG.engine) }).waitFor();
-      await look("engines");
-      await page.goto(`${baseUrl()}/engine?id=${long.engine}`);
-      await page.getByRole("heading", { name: LONG.engine }).waitFor();
-      await page.getByText(/123,456/).first().waitFor();
-      await look("an engine");
-      await page.goto(`${baseUrl()}/engine/edit?id=${long.engine}`);
-      await page.getByRole("button", { name: "Save engine" }).waitFor();
-      await look("engine form");
-      await page.goto(`${baseUrl()}/checks`);
-      await page.getByText(/123,456/).first().waitFor();
-      await look("checks");
-      await page.goto(`${baseUrl()}/tray`);
-      await page.getByText(/2\.555/).first().waitFor();
-      await look("tray");
-      // the tray's buttons are on the phone, not past its edge
-      const plus = (await page.getByRole("button", { name: "One more 2.555 mm" }).boundingBox())!;
-      expect(plus.x + plus.width).toBeLessThanOrEqual(320);
-      await page.goto(`${baseUrl()}/club`);
-      await page.getByRole("heading", { name: LONG.club }).waitFor();
-      await look("club");
-      await page.goto(`${baseUrl()}/account`);
-      await page.getByRole("checkbox", { name: /E-mail me about/ }).waitFor();
-      await look("account");
-      for (const [id, step, ready] of [
-        [long.planned, "prepare", () => page.getByRole("checkbox", { name: /Engine cold/ }).waitFor()],
-        [long.planned, "measure", () => page.locator("article[data-valve]").waitFor()],
-        [long.planned, "plan", () => page.getByText("Plan per valve").waitFor()],
-        [long.planned, "fit", () => page.getByRole("checkbox").first().waitFor()],
-        [long.check, "verify", () => page.locator("article[data-valve]").nth(1).waitFor()],
-      ] as const) {
-        await page.goto(check(id, step));
-        await ready();
-        await look(`check: ${step}`);
-      }
-      await page.goto(`${baseUrl()}/review?id=${long.planned}`);
-      await page.getByText(/Look at Nocken/).waitFor();
-      await look("review, the owner's view");
-      await ctx.close();
-      expect(wide).toEqual([]);
-      const mine = found.slice(before);
-      expect(mine.map((f) => `${f.screen}: ${f.rule} (${f.impact}) ${f.targets.join(" | ")}`)).toEqual([]);
-    });
+    it(
+      `in ${scheme} at 320 px: no screen is wider than the phone, and axe finds nothing`,
+      { timeout: 300_000 },
+      async () => {
+        const before = found.length;
+        const variant = `${scheme} 320, long names`;
+        const wide: string[] = [];
+        const { ctx, page } = await context(scheme, 320);
+        const look = async (screen: string) => {
+          await audit(page, variant, screen);
+          const o = await overflow(page);
+          if (o.page > o.width) wide.push(`${screen}: ${o.page} px wide (${o.wide.join("; ")})`);
+          await page.screenshot({
+            path: `test-results/a11y-320-${scheme}-${screen.replace(/[^a-z0-9]+/gi, "-")}.png`,
+            fullPage: true,
+          });
+        };
+        await page.goto(`${baseUrl()}/sign-in`);
+        await page.getByRole("heading", { level: 1, name: /Sign in/ }).waitFor();
+        await look("sign in");
+        await signInAs(page, user.email, user.password);
+        await page.getByRole("link", { name: new RegExp(LONG.engine) }).waitFor();
+        await look("engines");
+        await page.goto(`${baseUrl()}/engine?id=${long.engine}`);
+        await page.getByRole("heading", { name: LONG.engine }).waitFor();
+        await page
+          .getByText(/123,456/)
+          .first()
+          .waitFor();
+        await look("an engine");
+        await page.goto(`${baseUrl()}/engine/edit?id=${long.engine}`);
+        await page.getByRole("button", { name: "Save engine" }).waitFor();
+        await look("engine form");
+        await page.goto(`${baseUrl()}/checks`);
+        await page
+          .getByText(/123,456/)
+          .first()
+          .waitFor();
+        await look("checks");
+        await page.goto(`${baseUrl()}/tray`);
+        await page
+          .getByText(/2\.555/)
+          .first()
+          .waitFor();
+        await look("tray");
+        // the tray's buttons are on the phone, not past its edge
+        const plus = (await page.getByRole("button", { name: "One more 2.555 mm" }).boundingBox())!;
+        expect(plus.x + plus.width).toBeLessThanOrEqual(320);
+        await page.goto(`${baseUrl()}/club`);
+        await page.getByRole("heading", { name: LONG.club }).waitFor();
+        await look("club");
+        await page.goto(`${baseUrl()}/account`);
+        await page.getByRole("checkbox", { name: /E-mail me about/ }).waitFor();
+        await look("account");
+        for (const [id, step, ready] of [
+          [long.planned, "prepare", () => page.getByRole("checkbox", { name: /Engine cold/ }).waitFor()],
+          [long.planned, "measure", () => page.locator("article[data-valve]").waitFor()],
+          [long.planned, "plan", () => page.getByText("Plan per valve").waitFor()],
+          [long.planned, "fit", () => page.getByRole("checkbox").first().waitFor()],
+          [long.check, "verify", () => page.locator("article[data-valve]").nth(1).waitFor()],
+        ] as const) {
+          await page.goto(check(id, step));
+          await ready();
+          await look(`check: ${step}`);
+        }
+        await page.goto(`${baseUrl()}/review?id=${long.planned}`);
+        await page.getByText(/Look at Nocken/).waitFor();
+        await look("review, the owner's view");
+        await ctx.close();
+        expect(wide).toEqual([]);
+        const mine = found.slice(before);
+        expect(mine.map((f) => `${f.screen}: ${f.rule} (${f.impact}) ${f.targets.join(" | ")}`)).toEqual([]);
+      },
+    );
 });

@@ -19,8 +19,14 @@ afterAll(() => browser?.close());
 const overflows = (page: Page) => page.evaluate(() => document.documentElement.scrollWidth > window.innerWidth);
 /** axe-core on the deletion's section (the rest of the page is audited by a11y.test.ts), WCAG 2.1 A/AA and best practice. */
 const axe = async (page: Page) =>
-  (await new AxeBuilder({ page }).include('section[aria-labelledby="delete-heading"]').withTags(["wcag2a", "wcag2aa", "wcag21a", "wcag21aa", "best-practice"]).analyze()).violations.map((v) => `${v.id}: ${v.nodes.map((n) => n.target.join(" ")).join(", ")}`);
-const localDatabases = (page: Page) => page.evaluate(async () => (await indexedDB.databases()).map((d) => d.name ?? ""));
+  (
+    await new AxeBuilder({ page })
+      .include('section[aria-labelledby="delete-heading"]')
+      .withTags(["wcag2a", "wcag2aa", "wcag21a", "wcag21aa", "best-practice"])
+      .analyze()
+  ).violations.map((v) => `${v.id}: ${v.nodes.map((n) => n.target.join(" ")).join(", ")}`);
+const localDatabases = (page: Page) =>
+  page.evaluate(async () => (await indexedDB.databases()).map((d) => d.name ?? ""));
 
 describe("deleting the account on a phone", () => {
   it("shows what will happen, refuses while a club needs it, and then deletes everything on the server and the phone", async () => {
@@ -32,7 +38,13 @@ describe("deleting the account on a phone", () => {
     await pc.post(`/api/engines/${engineId}/checks`, { odometer: 31_000 });
     await pc.post("/api/tray", { size: 2.6, count: 2 });
 
-    const ctx = await browser.newContext({ viewport: { width: 360, height: 780 }, deviceScaleFactor: 2, isMobile: true, hasTouch: true, colorScheme: "light" });
+    const ctx = await browser.newContext({
+      viewport: { width: 360, height: 780 },
+      deviceScaleFactor: 2,
+      isMobile: true,
+      hasTouch: true,
+      colorScheme: "light",
+    });
     const page = await ctx.newPage();
     await signInAs(page, u.email, u.password);
     await page.goto(`${baseUrl()}/account`);
@@ -52,7 +64,9 @@ describe("deleting the account on a phone", () => {
     await page.getByRole("button", { name: "Delete my account…" }).tap();
     const password = page.getByLabel("Your password, to confirm");
     await password.waitFor();
-    await page.getByText(/comments you write on other members' checks would stay, shown as from “a former member”/).waitFor();
+    await page
+      .getByText(/comments you write on other members' checks would stay, shown as from “a former member”/)
+      .waitFor();
     expect(await overflows(page)).toBe(false);
     expect(await axe(page)).toEqual([]);
     await page.screenshot({ path: "test-results/account-delete-confirm.png", fullPage: true });

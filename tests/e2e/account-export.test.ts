@@ -23,9 +23,18 @@ beforeAll(async () => {
   const engineId = (await api.post("/api/engines", ENGINE_FOUR)).json.engine.id as string;
   const checkId = (await api.post(`/api/engines/${engineId}/checks`, { odometer: 4_200 })).json.check.id as string;
   // values from memory: one tight intake read with blades
-  await api.put(`/api/checks/${checkId}/readings`, { readings: [{ valve: "I1.1", installedStamp: 2.8, feelerGo: 0.05, feelerNoGo: 0.08 }] });
+  await api.put(`/api/checks/${checkId}/readings`, {
+    readings: [{ valve: "I1.1", installedStamp: 2.8, feelerGo: 0.05, feelerNoGo: 0.08 }],
+  });
   browser = await launch();
-  ctx = await browser.newContext({ viewport: { width: 360, height: 780 }, deviceScaleFactor: 2, isMobile: true, hasTouch: true, colorScheme: "light", acceptDownloads: true });
+  ctx = await browser.newContext({
+    viewport: { width: 360, height: 780 },
+    deviceScaleFactor: 2,
+    isMobile: true,
+    hasTouch: true,
+    colorScheme: "light",
+    acceptDownloads: true,
+  });
   page = await ctx.newPage();
   await page.goto(`${baseUrl()}/sign-in`);
   await page.getByLabel("E-mail").fill(u.email);
@@ -63,9 +72,13 @@ describe("the account export at 360 px", () => {
       // the whole page in view, so the contrast of text below the fold is read too
       const tall = await page.evaluate(() => document.documentElement.scrollHeight);
       await page.setViewportSize({ width: 360, height: Math.max(780, Math.min(tall, 4000)) });
-      const result = await new AxeBuilder({ page }).withTags(["wcag2a", "wcag2aa", "wcag21a", "wcag21aa", "best-practice"]).analyze();
+      const result = await new AxeBuilder({ page })
+        .withTags(["wcag2a", "wcag2aa", "wcag21a", "wcag21aa", "best-practice"])
+        .analyze();
       await page.setViewportSize({ width: 360, height: 780 });
-      expect(result.violations.map((v) => `${scheme}: ${v.id} ${v.nodes.map((n) => n.target.join(" ")).join(", ")}`)).toEqual([]);
+      expect(
+        result.violations.map((v) => `${scheme}: ${v.id} ${v.nodes.map((n) => n.target.join(" ")).join(", ")}`),
+      ).toEqual([]);
     }
     await page.emulateMedia({ colorScheme: "light" });
   });
@@ -83,11 +96,15 @@ describe("the account export at 360 px", () => {
   it("Export from this phone works with no network, from the local copy", async () => {
     await ctx.setOffline(true);
     try {
-      const { name, files, doc } = await zipOf(() => page.getByRole("button", { name: "Export from this phone" }).tap());
+      const { name, files, doc } = await zipOf(() =>
+        page.getByRole("button", { name: "Export from this phone" }).tap(),
+      );
       expect(name).toMatch(/^lashwright-phone-export-\d{4}-\d\d-\d\d\.zip$/);
       expect(doc.source).toBe("phone");
       expect(doc.engines.map((e) => e.name)).toEqual([ENGINE_FOUR.name]);
-      expect(doc.readings.map((r) => [r.valve, r.feelerGo, r.feelerNoGo, r.found.clearance])).toEqual([["I1.1", 0.05, 0.08, "blade"]]);
+      expect(doc.readings.map((r) => [r.valve, r.feelerGo, r.feelerNoGo, r.found.clearance])).toEqual([
+        ["I1.1", 0.05, 0.08, "blade"],
+      ]);
       expect(Object.keys(files).filter((n) => n.startsWith("csv/"))).toHaveLength(1);
       await page.getByText(/Saved lashwright-phone-export-.* from this phone/).waitFor();
       await page.screenshot({ path: "test-results/account-export-offline.png", fullPage: true });

@@ -22,10 +22,13 @@ describe("open redirect through dot segments", () => {
       const ctx = await phoneContext(browser);
       const evil: string[] = [];
       // by host: the sign-in page's own address names evil.example in its query string
-      await ctx.route((u) => u.hostname.endsWith("evil.example"), (r) => {
-        evil.push(r.request().url());
-        return r.fulfill({ status: 200, contentType: "text/html", body: "<h1>evil.example</h1>" });
-      });
+      await ctx.route(
+        (u) => u.hostname.endsWith("evil.example"),
+        (r) => {
+          evil.push(r.request().url());
+          return r.fulfill({ status: 200, contentType: "text/html", body: "<h1>evil.example</h1>" });
+        },
+      );
       const page = await ctx.newPage();
       await page.goto(`${baseUrl()}/sign-in?next=${encodeURIComponent(next)}`);
       await page.getByLabel("E-mail").fill("mara@kestrel-hollow.example");

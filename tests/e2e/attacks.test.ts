@@ -21,7 +21,11 @@ async function fillSignIn(page: Page, email: string) {
 
 async function signInLink(email: string) {
   const before = (await inbox(email)).length;
-  const res = await fetch(`${baseUrl()}/api/account/sign-in-link`, { method: "POST", headers: { "content-type": "application/json", origin: baseUrl() }, body: JSON.stringify({ email }) });
+  const res = await fetch(`${baseUrl()}/api/account/sign-in-link`, {
+    method: "POST",
+    headers: { "content-type": "application/json", origin: baseUrl() },
+    body: JSON.stringify({ email }),
+  });
   expect(res.status).toBe(202);
   // this request's own mail, not an earlier one to the same address
   for (let i = 0; i < 75 && (await inbox(email)).length <= before; i++) await new Promise((r) => setTimeout(r, 200));
@@ -58,7 +62,11 @@ describe("login forgery through a sign-in link", () => {
     await signInAs(page, "mara@kestrel-hollow.example");
     // a link for another account, opened on Mara's phone: refused until she signs out
     await page.goto(await signInLink("teodor@kestrel-hollow.example"));
-    await page.getByText(/This phone is signed in as mara@kestrel-hollow\.example, and the link is for teodor@kestrel-hollow\.example/).waitFor();
+    await page
+      .getByText(
+        /This phone is signed in as mara@kestrel-hollow\.example, and the link is for teodor@kestrel-hollow\.example/,
+      )
+      .waitFor();
     await page.screenshot({ path: "test-results/sign-in-link-refused.png" });
     await page.goto(`${baseUrl()}/engines`);
     await page.getByRole("button", { name: /Sign out Mara/ }).waitFor();
@@ -87,10 +95,15 @@ describe("signing out on a shared phone", () => {
     await signInAs(page, "mara@kestrel-hollow.example");
     // the phone stores who is signed in once the server has answered
     await page.waitForFunction(() => localStorage.getItem("lashwright.user") !== null);
-    const userId = await page.evaluate(() => (JSON.parse(localStorage.getItem("lashwright.user")!) as { id: string }).id);
+    const userId = await page.evaluate(
+      () => (JSON.parse(localStorage.getItem("lashwright.user")!) as { id: string }).id,
+    );
     // the club page's answers are kept on the phone (the copies other members' shared checks live in)
     await page.getByRole("link", { name: /Club/ }).tap();
-    await page.getByText(/Kestrel Hollow/).first().waitFor();
+    await page
+      .getByText(/Kestrel Hollow/)
+      .first()
+      .waitFor();
     const stores = () =>
       page.evaluate(async (id) => {
         const names = (await indexedDB.databases()).map((d) => d.name);
@@ -105,16 +118,25 @@ describe("signing out on a shared phone", () => {
           };
           open.onerror = () => resolve(false);
         });
-        return { local: names.includes(`lashwright-${id}`), kept, identity: localStorage.getItem("lashwright.user") !== null };
+        return {
+          local: names.includes(`lashwright-${id}`),
+          kept,
+          identity: localStorage.getItem("lashwright.user") !== null,
+        };
       }, userId);
     await expect.poll(stores, { timeout: 10_000 }).toEqual({ local: true, kept: true, identity: true });
 
     // a change that cannot reach the server: signing out first says so, and "cancel" keeps everything
     await page.route("**/api/sync/**", (r) => r.abort());
     await page.getByRole("link", { name: /Tray/ }).tap();
-    await page.getByRole("button", { name: /^One more/ }).first().tap();
+    await page
+      .getByRole("button", { name: /^One more/ })
+      .first()
+      .tap();
     await page.getByText(/1 change waiting/).waitFor();
-    const dismissed = new Promise<string>((resolve) => page.once("dialog", (d) => (resolve(d.message()), void d.dismiss())));
+    const dismissed = new Promise<string>((resolve) =>
+      page.once("dialog", (d) => (resolve(d.message()), void d.dismiss())),
+    );
     await page.getByRole("button", { name: /Sign out Mara/ }).tap();
     expect(await dismissed).toMatch(/1 change on this phone is not on the server yet/);
     expect(await stores()).toEqual({ local: true, kept: true, identity: true });

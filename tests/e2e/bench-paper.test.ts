@@ -24,17 +24,48 @@ beforeAll(async () => {
 });
 afterAll(() => browser?.close());
 
-const SIX = { name: "Bench six", cylinders: 6, intakePerCylinder: 2, exhaustPerCylinder: 2, firingOrder: [1, 5, 3, 6, 2, 4], intake: { min: 0.1, max: 0.2 }, exhaust: { min: 0.2, max: 0.3 }, shims: { min: 2.5, max: 3.3, step: 0.05 } };
-const TWIN = { name: "Bench twin", cylinders: 2, intakePerCylinder: 1, exhaustPerCylinder: 1, firingOrder: [1, 2], intake: { min: 0.1, max: 0.2 }, exhaust: { min: 0.2, max: 0.3 }, shims: { min: 2.5, max: 3.3, step: 0.05 } };
+const SIX = {
+  name: "Bench six",
+  cylinders: 6,
+  intakePerCylinder: 2,
+  exhaustPerCylinder: 2,
+  firingOrder: [1, 5, 3, 6, 2, 4],
+  intake: { min: 0.1, max: 0.2 },
+  exhaust: { min: 0.2, max: 0.3 },
+  shims: { min: 2.5, max: 3.3, step: 0.05 },
+};
+const TWIN = {
+  name: "Bench twin",
+  cylinders: 2,
+  intakePerCylinder: 1,
+  exhaustPerCylinder: 1,
+  firingOrder: [1, 2],
+  intake: { min: 0.1, max: 0.2 },
+  exhaust: { min: 0.2, max: 0.3 },
+  shims: { min: 2.5, max: 3.3, step: 0.05 },
+};
 const sixViews = valveNames(SIX).map((valve) => ({ valve }));
 
 async function push(api: Client, mutations: { name: string; args: unknown }[]) {
-  const res = await api.post("/api/sync/push", { clientId: crypto.randomUUID(), mutations: mutations.map((m, i) => ({ id: i + 1, ...m })) });
+  const res = await api.post("/api/sync/push", {
+    clientId: crypto.randomUUID(),
+    mutations: mutations.map((m, i) => ({ id: i + 1, ...m })),
+  });
   expect(res.status).toBe(200);
   expect(res.json.rejected ?? []).toEqual([]);
 }
 
-const engineArgs = (id: string, e: typeof SIX, extra: object) => ({ id, ...e, measuredHot: false, displayUnit: "mm", odometerUnit: "km", firingAngles: null, shimDiameter: null, assembledShim: null, ...extra });
+const engineArgs = (id: string, e: typeof SIX, extra: object) => ({
+  id,
+  ...e,
+  measuredHot: false,
+  displayUnit: "mm",
+  odometerUnit: "km",
+  firingAngles: null,
+  shimDiameter: null,
+  assembledShim: null,
+  ...extra,
+});
 
 /** The six, mirrored, planned: I1.1 typed as 0.075 mm (tight), every other valve in band by its blades. */
 async function plannedSix(api: Client) {
@@ -46,7 +77,10 @@ async function plannedSix(api: Client) {
     return { valve, round: 0, installedStamp: 2.6, feelerGo: go, feelerNoGo: noGo, measured: go, method: "feeler" };
   };
   await push(api, [
-    { name: "engine.put/3", args: engineArgs(engineId, SIX, { mirrored: true, shimPosition: "under", nearSide: "exhaust" }) },
+    {
+      name: "engine.put/3",
+      args: engineArgs(engineId, SIX, { mirrored: true, shimPosition: "under", nearSide: "exhaust" }),
+    },
     { name: "check.put/1", args: { id: checkId, engineId, odometer: 23_456, status: "planned" } },
     ...sixViews.map((v) => ({ name: "reading.put/1", args: { checkId, reading: reading(v.valve.id) } })),
   ]);
@@ -57,9 +91,15 @@ async function plannedSix(api: Client) {
 async function recheckTwin(api: Client) {
   const engineId = crypto.randomUUID();
   const checkId = crypto.randomUUID();
-  const r = (valve: string, round: number, extra: object) => ({ name: "reading.put/1", args: { checkId, reading: { valve, round, installedStamp: 2.6, ...extra } } });
+  const r = (valve: string, round: number, extra: object) => ({
+    name: "reading.put/1",
+    args: { checkId, reading: { valve, round, installedStamp: 2.6, ...extra } },
+  });
   await push(api, [
-    { name: "engine.put/3", args: engineArgs(engineId, TWIN, { mirrored: false, shimPosition: "over", nearSide: "exhaust" }) },
+    {
+      name: "engine.put/3",
+      args: engineArgs(engineId, TWIN, { mirrored: false, shimPosition: "over", nearSide: "exhaust" }),
+    },
     { name: "check.put/1", args: { id: checkId, engineId, odometer: 9_000, status: "verifying" } },
     r("I1.1", 0, { feelerGo: 0.3, feelerNoGo: 0.33, measured: 0.3, fittedShim: 2.75 }),
     r("I1.1", 1, { installedStamp: 2.75, feelerGo: 0.15, feelerNoGo: 0.18, measured: 0.15 }),
@@ -73,7 +113,8 @@ async function recheckTwin(api: Client) {
 /** The valves as a drawing shows them: each cylinder's group in order, its top row, then its bottom row. */
 async function drawn(root: Locator) {
   return root.evaluate((el) => {
-    const rows = (side: string) => [...el.querySelectorAll(`[data-row="${side}"] [data-valve]`)].map((c) => (c as HTMLElement).dataset.valve!);
+    const rows = (side: string) =>
+      [...el.querySelectorAll(`[data-row="${side}"] [data-valve]`)].map((c) => (c as HTMLElement).dataset.valve!);
     return { top: rows("top"), bottom: rows("bottom") };
   });
 }
@@ -89,11 +130,19 @@ const lines = (l: Locator) =>
     return new Set([...r.getClientRects()].filter((x) => x.width > 0).map((x) => Math.round(x.top))).size;
   });
 
-async function compareDrawings(page: Page, api: Client, six: { engineId: string; checkId: string }, facing: { mirrored: boolean; nearSide: "intake" | "exhaust" }, shot: string) {
+async function compareDrawings(
+  page: Page,
+  api: Client,
+  six: { engineId: string; checkId: string },
+  facing: { mirrored: boolean; nearSide: "intake" | "exhaust" },
+  shot: string,
+) {
   const { checkId } = six;
   const want = drawnValveOrder(sixViews, facing);
   // the review reads the engine from the server: wait until the phone's change has reached it
-  await expect.poll(async () => (await api.get(`/api/engines/${six.engineId}`)).json.engine, { timeout: 30_000 }).toMatchObject(facing);
+  await expect
+    .poll(async () => (await api.get(`/api/engines/${six.engineId}`)).json.engine, { timeout: 30_000 })
+    .toMatchObject(facing);
   await page.goto(`${baseUrl()}/check?id=${checkId}&step=plan`);
   await page.getByTestId("plan-I1.1").waitFor({ timeout: 20_000 });
   await expect.poll(() => drawn(phoneDiagram(page)), { timeout: 10_000 }).toEqual(want);
@@ -133,12 +182,25 @@ describe("paper that matches the phone, numbers as they were given (360 px)", ()
       const api = await signedInClient(baseUrl(), u);
       const six = await plannedSix(api);
       const twin = await recheckTwin(api);
-      const ctx = await browser.newContext({ viewport: { width: 360, height: 780 }, deviceScaleFactor: 2, isMobile: true, hasTouch: true, colorScheme: scheme, acceptDownloads: true });
+      const ctx = await browser.newContext({
+        viewport: { width: 360, height: 780 },
+        deviceScaleFactor: 2,
+        isMobile: true,
+        hasTouch: true,
+        colorScheme: scheme,
+        acceptDownloads: true,
+      });
       const page = await ctx.newPage();
       await signInAs(page, u.email, u.password);
 
       // mirrored, the exhausts nearest: the phone, the paper and the review agree, I1.2 left of I1.1
-      const mirrored = await compareDrawings(page, api, six, { mirrored: true, nearSide: "exhaust" }, `paper-mirrored-${scheme}`);
+      const mirrored = await compareDrawings(
+        page,
+        api,
+        six,
+        { mirrored: true, nearSide: "exhaust" },
+        `paper-mirrored-${scheme}`,
+      );
       expect(mirrored.top.slice(-2)).toEqual(["I1.2", "I1.1"]);
       expect(mirrored.bottom.slice(-2)).toEqual(["E1.2", "E1.1"]);
 
@@ -157,8 +219,13 @@ describe("paper that matches the phone, numbers as they were given (360 px)", ()
       await expect(paperRow.innerText()).resolves.toContain("0.075");
       await expect(paperRow.innerText()).resolves.not.toContain("0.08");
       // the CSV, as the phone writes it
-      const [download] = await Promise.all([page.waitForEvent("download"), page.getByRole("button", { name: "Download CSV" }).tap()]);
-      const rows = Papa.parse<Record<string, string>>(readFileSync((await download.path())!, "utf8").trim(), { header: true }).data;
+      const [download] = await Promise.all([
+        page.waitForEvent("download"),
+        page.getByRole("button", { name: "Download CSV" }).tap(),
+      ]);
+      const rows = Papa.parse<Record<string, string>>(readFileSync((await download.path())!, "utf8").trim(), {
+        header: true,
+      }).data;
       expect(rows.find((r) => r.valve === "I1.1")!.clearance_mm).toBe("0.075");
       await page.screenshot({ path: `test-results/paper-plan-${scheme}.png`, fullPage: true });
       await page.emulateMedia({ media: "print" });
@@ -167,7 +234,9 @@ describe("paper that matches the phone, numbers as they were given (360 px)", ()
 
       // the card: the typed value as typed; its heading and its band each on one line at 360 px
       await page.goto(`${baseUrl()}/check?id=${six.checkId}&step=measure`);
-      await phoneDiagram(page).getByRole("button", { name: /^I1\.1 / }).tap();
+      await phoneDiagram(page)
+        .getByRole("button", { name: /^I1\.1 / })
+        .tap();
       const card = page.locator("article[data-valve='I1.1']");
       await card.getByText("0.075 mm (typed)").waitFor({ timeout: 20_000 });
       expect(await lines(card.locator("h3"))).toBe(1);
@@ -177,8 +246,16 @@ describe("paper that matches the phone, numbers as they were given (360 px)", ()
       // facing the usual way: the three drawings turn together
       await page.goto(`${baseUrl()}/check?id=${six.checkId}&step=plan`);
       await page.getByRole("button", { name: "Turn the picture: cylinder 1 on the left" }).tap();
-      await expect.poll(() => drawn(phoneDiagram(page)), { timeout: 10_000 }).toEqual(drawnValveOrder(sixViews, { mirrored: false, nearSide: "exhaust" }));
-      const left = await compareDrawings(page, api, six, { mirrored: false, nearSide: "exhaust" }, `paper-left-${scheme}`);
+      await expect
+        .poll(() => drawn(phoneDiagram(page)), { timeout: 10_000 })
+        .toEqual(drawnValveOrder(sixViews, { mirrored: false, nearSide: "exhaust" }));
+      const left = await compareDrawings(
+        page,
+        api,
+        six,
+        { mirrored: false, nearSide: "exhaust" },
+        `paper-left-${scheme}`,
+      );
       expect(left.top.slice(0, 2)).toEqual(["I1.1", "I1.2"]);
 
       // the profile says the intake side is nearest: the intakes are drawn at the bottom everywhere
@@ -186,10 +263,18 @@ describe("paper that matches the phone, numbers as they were given (360 px)", ()
       await page.getByLabel("Intake side nearest me").check();
       await page.getByRole("button", { name: "Save engine" }).tap();
       await page.waitForURL(/\/engine\?id=/);
-      await expect(page.getByTestId("engine-facing").innerText()).resolves.toBe("cylinder 1 on the left, intake side nearest you");
+      await expect(page.getByTestId("engine-facing").innerText()).resolves.toBe(
+        "cylinder 1 on the left, intake side nearest you",
+      );
       // a band's length and its unit stay on one line
       for (const s of await page.locator("dd span.whitespace-nowrap").all()) expect(await lines(s)).toBe(1);
-      const near = await compareDrawings(page, api, six, { mirrored: false, nearSide: "intake" }, `paper-intake-near-${scheme}`);
+      const near = await compareDrawings(
+        page,
+        api,
+        six,
+        { mirrored: false, nearSide: "intake" },
+        `paper-intake-near-${scheme}`,
+      );
       expect(near.bottom.every((v) => v.startsWith("I"))).toBe(true);
       await page.goto(`${baseUrl()}/check?id=${six.checkId}&step=plan`);
       await page.locator("article.worksheet").waitFor({ state: "attached" });
@@ -203,9 +288,15 @@ describe("paper that matches the phone, numbers as they were given (360 px)", ()
 
       // the import's note names this file's columns that have no unit
       await page.goto(`${baseUrl()}/engine?id=${twin.engineId}`);
-      await page.getByLabel("Choose a CSV file").setInputFiles({ name: "old-log.csv", mimeType: "text/csv", buffer: Buffer.from("date,odometer,valve,shim,clearance\n2022-03-14,1000,I1.1,2.60,0.15\n") });
+      await page.getByLabel("Choose a CSV file").setInputFiles({
+        name: "old-log.csv",
+        mimeType: "text/csv",
+        buffer: Buffer.from("date,odometer,valve,shim,clearance\n2022-03-14,1000,I1.1,2.60,0.15\n"),
+      });
       const preview = page.getByTestId("import-preview");
-      await expect(preview.innerText({ timeout: 20_000 })).resolves.toContain('The columns "shim", "clearance" have no unit in their names');
+      await expect(preview.innerText({ timeout: 20_000 })).resolves.toContain(
+        'The columns "shim", "clearance" have no unit in their names',
+      );
       await expect(preview.innerText()).resolves.not.toContain("shim_mm");
       await page.screenshot({ path: `test-results/paper-import-${scheme}.png`, fullPage: true });
       await ctx.close();
@@ -218,14 +309,25 @@ describe("paper that matches the phone, numbers as they were given (360 px)", ()
       const clubId = (await l.post("/api/clubs", { name: `Loan club ${scheme}` })).json.club.id as string;
       await addMembership(clubId, borrower.id, ["mechanic"]);
       await l.post("/api/tray", { size: 2.55, count: 1 });
-      const offer = (await l.post(`/api/clubs/${clubId}/pool`, { size: 2.55, count: 1, note: "blue drawer" })).json.offer;
+      const offer = (await l.post(`/api/clubs/${clubId}/pool`, { size: 2.55, count: 1, note: "blue drawer" })).json
+        .offer;
       const loanId = (await b.post("/api/borrows", { offerId: offer.id, count: 1 })).json.borrow.id as string;
       // the borrower's club invites the lender to a second club
       const nightId = (await b.post("/api/clubs", { name: `Tappet Night ${scheme}` })).json.club.id as string;
-      expect((await b.post(`/api/clubs/${nightId}/invites`, { email: lender.email, role: "mechanic" })).status).toBe(201);
-      const token = decodeURIComponent(/\/invite\?token=([A-Za-z0-9_%-]+)/.exec((await waitForMail(lender.email, /invites you/)).text)![1]!);
+      expect((await b.post(`/api/clubs/${nightId}/invites`, { email: lender.email, role: "mechanic" })).status).toBe(
+        201,
+      );
+      const token = decodeURIComponent(
+        /\/invite\?token=([A-Za-z0-9_%-]+)/.exec((await waitForMail(lender.email, /invites you/)).text)![1]!,
+      );
 
-      const ctx = await browser.newContext({ viewport: { width: 360, height: 780 }, deviceScaleFactor: 2, isMobile: true, hasTouch: true, colorScheme: scheme });
+      const ctx = await browser.newContext({
+        viewport: { width: 360, height: 780 },
+        deviceScaleFactor: 2,
+        isMobile: true,
+        hasTouch: true,
+        colorScheme: scheme,
+      });
       const page = await ctx.newPage();
       await signInAs(page, lender.email, lender.password);
       await page.goto(`${baseUrl()}/club`);
@@ -233,7 +335,9 @@ describe("paper that matches the phone, numbers as they were given (360 px)", ()
       await loan.getByText("asks you for them: agree or decline").waitFor({ timeout: 20_000 });
       await expect(loan.innerText()).resolves.not.toMatch(/waiting for the lender/);
       // the one shim on offer is asked for: said in words, not "0 × 2.55 mm"
-      await expect(page.getByTestId(`offer-${offer.id}`).innerText()).resolves.toBe("2.55 mm: all lent out or asked for");
+      await expect(page.getByTestId(`offer-${offer.id}`).innerText()).resolves.toBe(
+        "2.55 mm: all lent out or asked for",
+      );
       await expect(page.getByTestId("pool-offers").innerText()).resolves.not.toMatch(/\b0 ×/);
       await page.screenshot({ path: `test-results/pool-lender-asked-${scheme}.png`, fullPage: true });
       expect((await l.put(`/api/borrows/${loanId}`, { move: "agree" })).status).toBe(200);
@@ -245,7 +349,9 @@ describe("paper that matches the phone, numbers as they were given (360 px)", ()
 
       // the invitation link: joined, and the page says which club
       await page.goto(`${baseUrl()}/invite?token=${encodeURIComponent(token)}`);
-      await expect(page.getByTestId("joined").innerText({ timeout: 20_000 })).resolves.toBe(`You joined Tappet Night ${scheme}`);
+      await expect(page.getByTestId("joined").innerText({ timeout: 20_000 })).resolves.toBe(
+        `You joined Tappet Night ${scheme}`,
+      );
       await page.screenshot({ path: `test-results/invite-joined-${scheme}.png` });
       await ctx.close();
     }, 120_000);

@@ -17,17 +17,30 @@ let clubId: string;
 beforeAll(async () => {
   browser = await launch();
   const db = await rawConnection();
-  const [rows] = await db.query("SELECT m.club_id AS clubId FROM memberships m JOIN users u ON u.id = m.user_id WHERE u.email = ? AND m.role = 'mentor' LIMIT 1", ["teodor@kestrel-hollow.example"]);
+  const [rows] = await db.query(
+    "SELECT m.club_id AS clubId FROM memberships m JOIN users u ON u.id = m.user_id WHERE u.email = ? AND m.role = 'mentor' LIMIT 1",
+    ["teodor@kestrel-hollow.example"],
+  );
   await db.end();
   clubId = (rows as { clubId: string }[])[0]!.clubId;
 });
 afterAll(() => browser?.close());
 
 const W = 360;
-const phone = (scheme: "light" | "dark") => browser.newContext({ viewport: { width: W, height: 780 }, deviceScaleFactor: 2, isMobile: true, hasTouch: true, colorScheme: scheme });
+const phone = (scheme: "light" | "dark") =>
+  browser.newContext({
+    viewport: { width: W, height: 780 },
+    deviceScaleFactor: 2,
+    isMobile: true,
+    hasTouch: true,
+    colorScheme: scheme,
+  });
 
 async function push(api: Client, mutations: { name: string; args: unknown }[]) {
-  const res = await api.post("/api/sync/push", { clientId: crypto.randomUUID(), mutations: mutations.map((m, i) => ({ id: i + 1, ...m })) });
+  const res = await api.post("/api/sync/push", {
+    clientId: crypto.randomUUID(),
+    mutations: mutations.map((m, i) => ({ id: i + 1, ...m })),
+  });
   expect(res.status).toBe(200);
   expect(res.json.rejected ?? []).toEqual([]);
 }
@@ -46,12 +59,27 @@ async function six(api: Client) {
   const valves = [1, 2, 3, 4, 5, 6].flatMap((c) => [`I${c}.1`, `I${c}.2`, `E${c}.1`, `E${c}.2`]);
   const typed = (checkId: string, v: string) => {
     const [shim, gap] = OUT[v] ?? [2.6, v.startsWith("I") ? 0.15 : 0.25];
-    return { name: "reading.put/1", args: { checkId, reading: { valve: v, round: 0, installedStamp: shim, measured: gap, method: "typed" } } };
+    return {
+      name: "reading.put/1",
+      args: { checkId, reading: { valve: v, round: 0, installedStamp: shim, measured: gap, method: "typed" } },
+    };
   };
   await push(api, [
     {
       name: "engine.put/2",
-      args: { id: engineId, name: "Bench six", cylinders: 6, intakePerCylinder: 2, exhaustPerCylinder: 2, firingOrder: [1, 5, 3, 6, 2, 4], mirrored: true, intake: { min: 0.1, max: 0.2 }, exhaust: { min: 0.2, max: 0.3 }, shims: { min: 2.5, max: 3.3, step: 0.05 }, shimPosition: "over" },
+      args: {
+        id: engineId,
+        name: "Bench six",
+        cylinders: 6,
+        intakePerCylinder: 2,
+        exhaustPerCylinder: 2,
+        firingOrder: [1, 5, 3, 6, 2, 4],
+        mirrored: true,
+        intake: { min: 0.1, max: 0.2 },
+        exhaust: { min: 0.2, max: 0.3 },
+        shims: { min: 2.5, max: 3.3, step: 0.05 },
+        shimPosition: "over",
+      },
     },
     { name: "check.put/1", args: { id: fitCheck, engineId, odometer: 61_000, status: "planned" } },
     ...valves.map((v) => typed(fitCheck, v)),
@@ -95,14 +123,28 @@ describe("the bench screens on a 360 px phone", () => {
       await page.goto(`${baseUrl()}/check?id=${ids.fitCheck}&step=measure`);
       const diagram = page.getByRole("figure", { name: "Engine diagram" });
       await diagram.locator("button[data-valve]").first().waitFor({ timeout: 20_000 });
-      const cells = await diagram.locator("button[data-valve]").evaluateAll((bs) => bs.map((b) => ({ v: (b as HTMLElement).dataset.valve!, ...b.getBoundingClientRect().toJSON() }) as { v: string; x: number; y: number; width: number; height: number }));
+      const cells = await diagram.locator("button[data-valve]").evaluateAll((bs) =>
+        bs.map(
+          (b) =>
+            ({ v: (b as HTMLElement).dataset.valve!, ...b.getBoundingClientRect().toJSON() }) as {
+              v: string;
+              x: number;
+              y: number;
+              width: number;
+              height: number;
+            },
+        ),
+      );
       expect(cells).toHaveLength(24);
       for (const c of cells) expect(Math.min(c.width, c.height)).toBeGreaterThanOrEqual(44);
       // cylinder 1 on the right: I1.2 then I1.1, with room between
       const [a, b] = [cells.find((c) => c.v === "I1.2")!, cells.find((c) => c.v === "I1.1")!];
       expect(b.x - (a.x + a.width)).toBeGreaterThanOrEqual(8);
       await page.locator("article[data-valve]").waitFor();
-      const blades = await page.getByRole("group", { name: /Feeler blades for/ }).getByRole("button").evaluateAll((bs) => bs.map((x) => x.getBoundingClientRect().toJSON() as DOMRect));
+      const blades = await page
+        .getByRole("group", { name: /Feeler blades for/ })
+        .getByRole("button")
+        .evaluateAll((bs) => bs.map((x) => x.getBoundingClientRect().toJSON() as DOMRect));
       for (const bl of blades) expect(Math.min(bl.width, bl.height)).toBeGreaterThanOrEqual(44);
       const sameRow = blades.filter((bl) => Math.abs(bl.y - blades[0]!.y) < 1);
       expect(sameRow[1]!.x - (sameRow[0]!.x + sameRow[0]!.width)).toBeGreaterThanOrEqual(8);
@@ -140,7 +182,10 @@ describe("the bench screens on a 360 px phone", () => {
       const seen = [];
       for (let i = 0; i < 2; i++) {
         const g = groups.nth(i);
-        seen.push([await g.getByRole("heading", { level: 3 }).first().innerText(), await g.locator("article[data-valve]").evaluateAll((as) => as.map((x) => (x as HTMLElement).dataset.valve))]);
+        seen.push([
+          await g.getByRole("heading", { level: 3 }).first().innerText(),
+          await g.locator("article[data-valve]").evaluateAll((as) => as.map((x) => (x as HTMLElement).dataset.valve)),
+        ]);
       }
       // the guide for 1-5-3-6-2-4 (as Measure gives it): cylinder 1's TDC frees intakes 1, 2, 4 and
       // exhausts 1, 3, 5; a turn of 360 degrees to cylinder 6's TDC frees the rest
@@ -160,7 +205,9 @@ describe("the bench screens on a 360 px phone", () => {
       const panel = mentor.getByTestId("valve-panel");
       await expect(panel.getByRole("heading", { level: 2 }).innerText()).resolves.toBe("Valve E2.1");
       await expect(focused(mentor)).resolves.toMatchObject({ id: "valve-panel-title", onScreen: true });
-      await expect(panel.getByRole("list", { name: "Readings of E2.1" }).innerText()).resolves.toMatch(/First reading\s+2\.75 stamp · 0\.40? mm typed/);
+      await expect(panel.getByRole("list", { name: "Readings of E2.1" }).innerText()).resolves.toMatch(
+        /First reading\s+2\.75 stamp · 0\.40? mm typed/,
+      );
       await type(mentor, "Comment on E2.1", "E2.1 closed up a lot: measure it again before buying.");
       await panel.getByRole("button", { name: "Post comment on E2.1" }).tap();
       await panel.getByText("E2.1 closed up a lot").waitFor();
@@ -183,12 +230,19 @@ describe("the bench screens on a 360 px phone", () => {
       // and the verdict mail's link
       await page.goto(`${baseUrl()}/review?id=${ids.shared}#verdict`);
       await expect.poll(async () => (await focused(page)).id, { timeout: 20_000 }).toBe("verdict");
-      await expect(focused(page)).resolves.toMatchObject({ onScreen: true, text: expect.stringContaining("Measure again") });
+      await expect(focused(page)).resolves.toMatchObject({
+        onScreen: true,
+        text: expect.stringContaining("Measure again"),
+      });
       await page.screenshot({ path: `test-results/screens-mail-verdict-${scheme}.png` });
       // the mechanic taps the valve with the comment dot and reads the comment
-      const dot = page.getByRole("figure", { name: "Engine diagram" }).getByRole("button", { name: "E2.1 loose, has comments" });
+      const dot = page
+        .getByRole("figure", { name: "Engine diagram" })
+        .getByRole("button", { name: "E2.1 loose, has comments" });
       await dot.tap();
-      await expect(page.getByTestId("valve-panel").getByRole("list", { name: "Comments on E2.1" }).innerText()).resolves.toContain("E2.1 closed up a lot");
+      await expect(
+        page.getByTestId("valve-panel").getByRole("list", { name: "Comments on E2.1" }).innerText(),
+      ).resolves.toContain("E2.1 closed up a lot");
       await ctx.close();
 
       // signed out, the verdict mail's link keeps its #verdict through sign-in and lands there
@@ -197,7 +251,9 @@ describe("the bench screens on a 360 px phone", () => {
       await out.goto(`${baseUrl()}/review?id=${ids.shared}#verdict`);
       await out.getByRole("link", { name: "Sign in", exact: true }).tap();
       await out.waitForURL(/\/sign-in\?next=/);
-      expect(decodeURIComponent(new URL(out.url()).searchParams.get("next") ?? "")).toBe(`/review?id=${ids.shared}#verdict`);
+      expect(decodeURIComponent(new URL(out.url()).searchParams.get("next") ?? "")).toBe(
+        `/review?id=${ids.shared}#verdict`,
+      );
       await out.getByLabel("E-mail").fill(u.email);
       await out.getByLabel("Password").fill(u.password);
       await out.getByRole("button", { name: "Sign in", exact: true }).tap();

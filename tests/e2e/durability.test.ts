@@ -14,7 +14,13 @@ import { ENGINE_FOUR, makeUser } from "../support/fixtures";
  * Each time the next start sends what waits, and the server holds every reading once.
  */
 const profile = mkdtempSync(path.join(tmpdir(), "lashwright-durable-"));
-const open = () => chromium.launchPersistentContext(profile, { executablePath: process.env.CHROMIUM_PATH ?? "/usr/bin/chromium", args: CHROMIUM_ARGS, ...PHONE, colorScheme: "dark" });
+const open = () =>
+  chromium.launchPersistentContext(profile, {
+    executablePath: process.env.CHROMIUM_PATH ?? "/usr/bin/chromium",
+    args: CHROMIUM_ARGS,
+    ...PHONE,
+    colorScheme: "dark",
+  });
 let ctx: BrowserContext | undefined;
 afterAll(async () => {
   await ctx?.close();
@@ -24,9 +30,15 @@ afterAll(async () => {
 async function server(checkId: string) {
   const db = await rawConnection();
   const [rows] = await db.query("SELECT valve, feeler_go FROM readings WHERE check_id = ? ORDER BY valve", [checkId]);
-  const [hist] = await db.query("SELECT COUNT(*) AS n FROM reading_history h JOIN readings r ON r.id = h.reading_id WHERE r.check_id = ?", [checkId]);
+  const [hist] = await db.query(
+    "SELECT COUNT(*) AS n FROM reading_history h JOIN readings r ON r.id = h.reading_id WHERE r.check_id = ?",
+    [checkId],
+  );
   await db.end();
-  return { rows: (rows as { valve: string; feeler_go: string }[]).map((r) => `${r.valve} ${Number(r.feeler_go)}`), history: Number((hist as { n: number }[])[0]!.n) };
+  return {
+    rows: (rows as { valve: string; feeler_go: string }[]).map((r) => `${r.valve} ${Number(r.feeler_go)}`),
+    history: Number((hist as { n: number }[])[0]!.n),
+  };
 }
 
 async function tap(page: Page, taps: Record<string, string>) {
@@ -63,7 +75,10 @@ describe("closing the page at the worst moments", () => {
     page = ctx.pages()[0] ?? (await ctx.newPage());
     await page.goto(checkUrl);
     await expect.poll(async () => (await server(checkId)).rows.length, { timeout: 20_000 }).toBe(4);
-    await page.getByTestId("sync-line").getByText(/All synced/).waitFor({ timeout: 20_000 });
+    await page
+      .getByTestId("sync-line")
+      .getByText(/All synced/)
+      .waitFor({ timeout: 20_000 });
 
     // 2. the push reaches the server and commits, but the page closes before the answer
     let committed!: () => void;
@@ -78,7 +93,11 @@ describe("closing the page at the worst moments", () => {
       // the answer is never delivered
     });
     await tap(page, { "I2.1": "0.18", "I2.2": "0.15", "E2.1": "0.28", "E2.2": "0.30" });
-    await page.getByTestId("sync-line").getByRole("button", { name: "Sync now" }).tap().catch(() => undefined);
+    await page
+      .getByTestId("sync-line")
+      .getByRole("button", { name: "Sync now" })
+      .tap()
+      .catch(() => undefined);
     await pushed;
     await ctx.close();
     const afterCut = await server(checkId);
@@ -89,15 +108,30 @@ describe("closing the page at the worst moments", () => {
     let pushes = 0;
     page.on("request", (r) => r.url().endsWith("/api/sync/push") && pushes++);
     await page.goto(checkUrl);
-    await page.getByTestId("sync-line").getByText(/All synced/).waitFor({ timeout: 20_000 });
+    await page
+      .getByTestId("sync-line")
+      .getByText(/All synced/)
+      .waitFor({ timeout: 20_000 });
     expect(pushes).toBeGreaterThan(0); // the phone did send its outbox again
     const end = await server(checkId);
-    expect(end.rows).toEqual(["E1.1 0.25", "E1.2 0.23", "E2.1 0.28", "E2.2 0.3", "I1.1 0.15", "I1.2 0.13", "I2.1 0.18", "I2.2 0.15"]);
+    expect(end.rows).toEqual([
+      "E1.1 0.25",
+      "E1.2 0.23",
+      "E2.1 0.28",
+      "E2.2 0.3",
+      "I1.1 0.15",
+      "I1.2 0.13",
+      "I2.1 0.18",
+      "I2.2 0.15",
+    ]);
     // a reading applied a second time would have left its first value in the history
     expect(end.history).toBe(0);
     const db = await rawConnection();
     const [clients] = await db.query("SELECT last_mutation_id FROM sync_clients WHERE user_id = ?", [u.id]);
-    const [refused] = await db.query("SELECT COUNT(*) AS n FROM rejected_mutations r JOIN sync_clients c ON c.id = r.client_id WHERE c.user_id = ?", [u.id]);
+    const [refused] = await db.query(
+      "SELECT COUNT(*) AS n FROM rejected_mutations r JOIN sync_clients c ON c.id = r.client_id WHERE c.user_id = ?",
+      [u.id],
+    );
     await db.end();
     expect((clients as unknown[]).length).toBe(1);
     expect(Number((refused as { n: number }[])[0]!.n)).toBe(0);

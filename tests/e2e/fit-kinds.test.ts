@@ -7,7 +7,7 @@ import { OVER_BUCKET_CAUTIONS, OVER_BUCKET_METHOD, prepareCautions, UNDER_BUCKET
 
 /**
  * A fit on each kind of shim-and-bucket valve train, on a 390 px phone, with long engine names. The
- * trade rules asserted (TRADE.md "Where the shim sits", common practice; from memory): under the
+ * trade rules asserted (docs/trade.md "Where the shim sits", common practice; from memory): under the
  * bucket, the cams come out and go back in time, step by step with cautions, and the re-check asks
  * for two crank turns by hand and the marks checked before its first reading; over the bucket, the
  * cams stay in and each shim comes out with the bucket tool, notch, number face down and magnet.
@@ -19,9 +19,29 @@ let page: Page;
 const made: Record<"under" | "over", { engineId: string; checkId: string; name: string }> = {} as never;
 
 // invented bands: intake 0.10-0.20, exhaust 0.20-0.30; a 0.05 mm series 2.50-3.30
-const BANDS = { intake: { min: 0.1, max: 0.2 }, exhaust: { min: 0.2, max: 0.3 }, shims: { min: 2.5, max: 3.3, step: 0.05 } };
-const UNDER = { name: "Long-named inline four with its shims under the buckets, garage bay two", cylinders: 4, intakePerCylinder: 2, exhaustPerCylinder: 2, firingOrder: [1, 3, 4, 2], ...BANDS, shimPosition: "under" };
-const OVER = { name: "Long-named two-valve inline four with its shims over the buckets, on the bench", cylinders: 4, intakePerCylinder: 1, exhaustPerCylinder: 1, firingOrder: [1, 3, 4, 2], ...BANDS, shimPosition: "over" };
+const BANDS = {
+  intake: { min: 0.1, max: 0.2 },
+  exhaust: { min: 0.2, max: 0.3 },
+  shims: { min: 2.5, max: 3.3, step: 0.05 },
+};
+const UNDER = {
+  name: "Long-named inline four with its shims under the buckets, garage bay two",
+  cylinders: 4,
+  intakePerCylinder: 2,
+  exhaustPerCylinder: 2,
+  firingOrder: [1, 3, 4, 2],
+  ...BANDS,
+  shimPosition: "under",
+};
+const OVER = {
+  name: "Long-named two-valve inline four with its shims over the buckets, on the bench",
+  cylinders: 4,
+  intakePerCylinder: 1,
+  exhaustPerCylinder: 1,
+  firingOrder: [1, 3, 4, 2],
+  ...BANDS,
+  shimPosition: "over",
+};
 
 /** Every valve at 2.60 and in band, but for the ones named (a clearance out of band). */
 function readings(valves: string[], out: Record<string, number>) {
@@ -49,7 +69,13 @@ beforeAll(async () => {
     made[kind] = { engineId: engine.id, checkId, name: e.name };
   }
   browser = await launch();
-  ctx = await browser.newContext({ viewport: { width: 390, height: 844 }, deviceScaleFactor: 2, isMobile: true, hasTouch: true, colorScheme: "dark" });
+  ctx = await browser.newContext({
+    viewport: { width: 390, height: 844 },
+    deviceScaleFactor: 2,
+    isMobile: true,
+    hasTouch: true,
+    colorScheme: "dark",
+  });
   page = await ctx.newPage();
   await signInAs(page, u.email, u.password);
   await page.getByText(UNDER.name).waitFor({ timeout: 20_000 });
@@ -64,7 +90,7 @@ async function fitsTheScreen() {
   expect(wide).toBeLessThanOrEqual(390);
 }
 
-/** Prepare's ticks are the list for this kind of engine (TRADE.md cautions to show: common practice). */
+/** Prepare's ticks are the list for this kind of engine (docs/trade.md cautions to show: common practice). */
 async function prepareShows(kind: "under" | "over") {
   await page.goto(`${baseUrl()}/check?id=${made[kind].checkId}&step=prepare`);
   await page.getByRole("heading", { name: "Before you start" }).waitFor({ timeout: 20_000 });
@@ -87,11 +113,17 @@ describe("a fit with the shims under the buckets (390 px)", () => {
   it("the plan says which cams come out before fitting starts, and the worksheet and the mentor's view say it too", async () => {
     await page.goto(`${baseUrl()}/check?id=${made.under.checkId}&step=plan`);
     // I1.1 is an intake on cylinder 1, E3.2 an exhaust on cylinder 3 (common practice: the cam over the valve comes out)
-    await expect.poll(() => textOf("plan-cams-out"), { timeout: 20_000 }).toContain("Cams out: intake (cylinder 1), exhaust (cylinder 3).");
-    await expect(page.getByTestId("ws-position").textContent()).resolves.toBe("Shims under the buckets · Cams out: intake (cylinder 1), exhaust (cylinder 3).");
+    await expect
+      .poll(() => textOf("plan-cams-out"), { timeout: 20_000 })
+      .toContain("Cams out: intake (cylinder 1), exhaust (cylinder 3).");
+    await expect(page.getByTestId("ws-position").textContent()).resolves.toBe(
+      "Shims under the buckets · Cams out: intake (cylinder 1), exhaust (cylinder 3).",
+    );
     await page.screenshot({ path: "test-results/fit-kinds-under-plan.png", fullPage: true });
     await page.goto(`${baseUrl()}/review?id=${made.under.checkId}`);
-    await expect.poll(() => textOf("review-shim-position"), { timeout: 20_000 }).toBe("Shims under the buckets · Cams out: intake (cylinder 1), exhaust (cylinder 3).");
+    await expect
+      .poll(() => textOf("review-shim-position"), { timeout: 20_000 })
+      .toBe("Shims under the buckets · Cams out: intake (cylinder 1), exhaust (cylinder 3).");
   });
 
   it("Fit runs the cams-out sequence as ticks, each with its cautions beside it, the swap list at its middle", async () => {
@@ -103,11 +135,20 @@ describe("a fit with the shims under the buckets (390 px)", () => {
     const expected = [
       [/timing position the manual gives/, ["The manual's figures and order govern."]],
       [/Mark the cam chain \(or belt\) and the sprockets/, ["A valve can hit a piston if the timing is wrong."]],
-      [/loosen the cam caps evenly, a little at a time, in the manual's order/, ["The manual's figures and order govern.", "Never turn the engine with a cam cap loose."]],
+      [
+        /loosen the cam caps evenly, a little at a time, in the manual's order/,
+        ["The manual's figures and order govern.", "Never turn the engine with a cam cap loose."],
+      ],
       [/Swap the shims with the swap list/, ["Never turn the engine with a cam cap loose."]],
       [/refit the cams with the marks aligned/, ["A valve can hit a piston if the timing is wrong."]],
-      [/torque them evenly to the manual's figure/, ["The manual's figures and order govern.", "Never turn the engine with a cam cap loose."]],
-      [/two full turns by hand and check the marks line up again before re-measuring/, ["A valve can hit a piston if the timing is wrong."]],
+      [
+        /torque them evenly to the manual's figure/,
+        ["The manual's figures and order govern.", "Never turn the engine with a cam cap loose."],
+      ],
+      [
+        /two full turns by hand and check the marks line up again before re-measuring/,
+        ["A valve can hit a piston if the timing is wrong."],
+      ],
     ] as const;
     expect(UNDER_BUCKET_FIT).toHaveLength(expected.length);
     for (const [n, [task, cautions]] of expected.entries()) {
@@ -115,7 +156,10 @@ describe("a fit with the shims under the buckets (390 px)", () => {
       const item = await textOf(`task-${key}`);
       expect(item).toMatch(new RegExp(`${n + 1}\\.`));
       expect(item).toMatch(task);
-      const shown = await page.getByRole("list", { name: `Cautions for step ${n + 1}` }).getByRole("listitem").allInnerTexts();
+      const shown = await page
+        .getByRole("list", { name: `Cautions for step ${n + 1}` })
+        .getByRole("listitem")
+        .allInnerTexts();
       for (const c of cautions) expect(shown.map((s) => s.replace(/^⚠\s*Caution:\s*/, ""))).toContain(c);
     }
     const button = page.getByRole("button", { name: /to continue|Re-measure/ });
@@ -141,19 +185,28 @@ describe("a fit with the shims under the buckets (390 px)", () => {
   it("a reload keeps the ticks; the re-check asks for the two-turn check before its first reading", async () => {
     await page.reload();
     await page.getByRole("heading", { name: "Fit with the cams out" }).waitFor();
-    await expect.poll(() => page.getByTestId("task-turn").getByRole("checkbox").getAttribute("aria-checked")).toBe("true");
+    await expect
+      .poll(() => page.getByTestId("task-turn").getByRole("checkbox").getAttribute("aria-checked"))
+      .toBe("true");
     await page.getByRole("button", { name: "Re-measure the changed valves" }).tap();
     await page.getByRole("heading", { name: /Measure the changed valves again/ }).waitFor();
-    const turn = page.getByTestId("recheck-turn").getByRole("checkbox", { name: /two full turns by hand, and the timing marks line up again/ });
+    const turn = page
+      .getByTestId("recheck-turn")
+      .getByRole("checkbox", { name: /two full turns by hand, and the timing marks line up again/ });
     await turn.waitFor();
-    await expect(page.getByTestId("recheck-turn").innerText()).resolves.toMatch(/Caution: A valve can hit a piston if the timing is wrong/);
+    await expect(page.getByTestId("recheck-turn").innerText()).resolves.toMatch(
+      /Caution: A valve can hit a piston if the timing is wrong/,
+    );
     // no valve to measure until it is ticked
     await expect(page.getByRole("article").count()).resolves.toBe(0);
     await page.screenshot({ path: "test-results/fit-kinds-under-recheck-ask.png", fullPage: true });
     await turn.tap();
     await expect.poll(() => page.getByRole("article").count()).toBe(2);
     // I1.1 with the bought 2.50: 2.65 - 2.50 = 0.15 (gap = shim + clearance, common practice)
-    await page.getByRole("group", { name: "Feeler blades for I1.1" }).getByRole("button", { name: "0.15", exact: true }).tap();
+    await page
+      .getByRole("group", { name: "Feeler blades for I1.1" })
+      .getByRole("button", { name: "0.15", exact: true })
+      .tap();
     // a reading is in: the two-turn tick has done its work and leaves the screen
     await expect.poll(() => page.getByTestId("recheck-turn").count()).toBe(0);
     await fitsTheScreen();
@@ -174,12 +227,15 @@ describe("a fit with the shims over the buckets (390 px)", () => {
   it("the plan keeps the cams in; Fit gives the method for each valve with its cautions, and the swaps alone finish it", async () => {
     await page.goto(`${baseUrl()}/check?id=${made.over.checkId}&step=plan`);
     await expect.poll(() => textOf("plan-cams-out"), { timeout: 20_000 }).toContain("Cams stay in");
-    await expect(page.getByTestId("ws-position").textContent()).resolves.toMatch(/^Shims over the buckets · Cams stay in/);
+    await expect(page.getByTestId("ws-position").textContent()).resolves.toMatch(
+      /^Shims over the buckets · Cams stay in/,
+    );
     await page.getByRole("button", { name: /Fit the 2 changes/ }).tap();
     await page.getByRole("heading", { name: "Swap list, in working order" }).waitFor();
     const method = await textOf("over-method");
     // the bucket tool, the notch, the number face down, a magnet (common practice; from memory)
-    for (const m of [/bucket tool/, /notch sits where the shim can be lifted/, /number face down/, /magnet/]) expect(method).toMatch(m);
+    for (const m of [/bucket tool/, /notch sits where the shim can be lifted/, /number face down/, /magnet/])
+      expect(method).toMatch(m);
     for (const m of OVER_BUCKET_METHOD) expect(method).toContain(m);
     for (const c of OVER_BUCKET_CAUTIONS) expect(method).toContain(`Caution: ${c}`);
     await expect(page.getByText("Fit with the cams out").count()).resolves.toBe(0);

@@ -17,7 +17,14 @@ beforeAll(async () => {
 });
 afterAll(() => browser?.close());
 
-const phone = (width: number): Promise<BrowserContext> => browser.newContext({ viewport: { width, height: 800 }, deviceScaleFactor: 2, isMobile: true, hasTouch: true, colorScheme: "dark" });
+const phone = (width: number): Promise<BrowserContext> =>
+  browser.newContext({
+    viewport: { width, height: 800 },
+    deviceScaleFactor: 2,
+    isMobile: true,
+    hasTouch: true,
+    colorScheme: "dark",
+  });
 
 async function signIn(page: Page, u: { email: string; password: string }) {
   await page.goto(`${baseUrl()}/sign-in`);
@@ -33,30 +40,64 @@ const BANDS = { intake: { min: 0.1, max: 0.2 }, exhaust: { min: 0.2, max: 0.3 } 
 
 /** Records as the phone's outbox sends them, pushed in one request. */
 async function push(api: Client, mutations: { name: string; args: unknown }[]) {
-  const res = await api.post("/api/sync/push", { clientId: crypto.randomUUID(), mutations: mutations.map((m, i) => ({ id: i + 1, ...m })) });
+  const res = await api.post("/api/sync/push", {
+    clientId: crypto.randomUUID(),
+    mutations: mutations.map((m, i) => ({ id: i + 1, ...m })),
+  });
   expect(res.status).toBe(200);
   expect(res.json.rejected ?? []).toEqual([]);
 }
 
 /** An engine of this layout with one check: in band, tight, loose and unmeasured valves in turn. */
-async function engineWithCheck(api: Client, cylinders: number, intakes: number, exhausts: number, extra: Record<string, unknown> = {}) {
+async function engineWithCheck(
+  api: Client,
+  cylinders: number,
+  intakes: number,
+  exhausts: number,
+  extra: Record<string, unknown> = {},
+) {
   const engineId = crypto.randomUUID();
   const checkId = crypto.randomUUID();
   const readings: { name: string; args: unknown }[] = [];
   let n = 0;
   for (let c = 1; c <= cylinders; c++)
-    for (const [kind, count] of [["I", intakes], ["E", exhausts]] as const)
+    for (const [kind, count] of [
+      ["I", intakes],
+      ["E", exhausts],
+    ] as const)
       for (let i = 1; i <= count; i++) {
         const band = kind === "I" ? BANDS.intake : BANDS.exhaust;
         const state = n++ % 4;
         if (state === 3) continue;
         const measured = state === 0 ? (band.min + band.max) / 2 : state === 1 ? band.min - 0.05 : band.max + 0.1;
-        readings.push({ name: "reading.put/1", args: { checkId, reading: { valve: `${kind}${c}.${i}`, round: 0, installedStamp: 2.6, measured: Math.round(measured * 100) / 100, method: "typed" } } });
+        readings.push({
+          name: "reading.put/1",
+          args: {
+            checkId,
+            reading: {
+              valve: `${kind}${c}.${i}`,
+              round: 0,
+              installedStamp: 2.6,
+              measured: Math.round(measured * 100) / 100,
+              method: "typed",
+            },
+          },
+        });
       }
   await push(api, [
     {
       name: "engine.put/1",
-      args: { id: engineId, name: `Layout ${cylinders}x${intakes + exhausts}`, cylinders, intakePerCylinder: intakes, exhaustPerCylinder: exhausts, firingOrder: seq(cylinders), ...BANDS, shims: { min: 2.5, max: 3.3, step: 0.05 }, ...extra },
+      args: {
+        id: engineId,
+        name: `Layout ${cylinders}x${intakes + exhausts}`,
+        cylinders,
+        intakePerCylinder: intakes,
+        exhaustPerCylinder: exhausts,
+        firingOrder: seq(cylinders),
+        ...BANDS,
+        shims: { min: 2.5, max: 3.3, step: 0.05 },
+        ...extra,
+      },
     },
     { name: "check.put/1", args: { id: checkId, engineId, odometer: 12_000, measuredHot: false, status: "measuring" } },
     ...readings,
@@ -83,9 +124,18 @@ function layoutOf(page: Page) {
     const groups = [...document.querySelectorAll("figure [data-cylinder]")].map((g) => ({
       cylinder: Number(g.getAttribute("data-cylinder")),
       label: box(g.querySelector("[data-cylinder-label]")!),
-      cells: [...g.querySelectorAll("button[data-valve]")].map((b) => ({ id: b.getAttribute("data-valve")!, name: b.getAttribute("aria-label") ?? "", text: (b as HTMLElement).innerText, box: box(b) })),
+      cells: [...g.querySelectorAll("button[data-valve]")].map((b) => ({
+        id: b.getAttribute("data-valve")!,
+        name: b.getAttribute("aria-label") ?? "",
+        text: (b as HTMLElement).innerText,
+        box: box(b),
+      })),
     }));
-    return { overflow: document.documentElement.scrollWidth - window.innerWidth, innerWidth: window.innerWidth, groups };
+    return {
+      overflow: document.documentElement.scrollWidth - window.innerWidth,
+      innerWidth: window.innerWidth,
+      groups,
+    };
   });
 }
 
@@ -112,7 +162,14 @@ function assertDiagram(l: Awaited<ReturnType<typeof layoutOf>>, cylinders: numbe
     expect(g.label.bottom).toBeLessThanOrEqual(top + 0.5);
     // and no other cylinder's valve lies under it
     for (const o of l.groups)
-      if (o !== g) for (const c of o.cells) expect(c.box.right <= g.label.left || c.box.left >= g.label.right || c.box.bottom <= g.label.top || c.box.top >= g.label.bottom).toBe(true);
+      if (o !== g)
+        for (const c of o.cells)
+          expect(
+            c.box.right <= g.label.left ||
+              c.box.left >= g.label.right ||
+              c.box.bottom <= g.label.top ||
+              c.box.top >= g.label.bottom,
+          ).toBe(true);
   }
   // one cell size whatever the state
   expect([...sizes]).toHaveLength(1);
@@ -143,11 +200,13 @@ describe("the engine diagram on a small phone", () => {
           await page.goto(`${baseUrl()}/check?id=${m.checkId}&step=${step}`);
           await page.locator(`figure [data-cylinder="${m.cyl}"]`).waitFor({ timeout: 20_000 });
           assertDiagram(await layoutOf(page), m.cyl, m.per);
-          if (width === 360 && step === "plan" && [1, 6, 16].includes(m.cyl) && m.per === (m.cyl === 1 ? 5 : 4))
-          {
+          if (width === 360 && step === "plan" && [1, 6, 16].includes(m.cyl) && m.per === (m.cyl === 1 ? 5 : 4)) {
             // the README's pictures: the diagram alone, without the fixed bar of places over it
             await page.addStyleTag({ content: 'nav[aria-label="Places"] { display: none !important; }' });
-            await page.locator("figure").first().screenshot({ path: `test-results/diagram-${m.cyl}-cylinders.png` });
+            await page
+              .locator("figure")
+              .first()
+              .screenshot({ path: `test-results/diagram-${m.cyl}-cylinders.png` });
           }
         }
       }
@@ -162,14 +221,26 @@ const bladeValue = (label: string) => Number(label);
 describe("measuring a 24-valve engine on a 390 px phone", () => {
   // an invented inline six, four valves a cylinder, firing 1-5-3-6-2-4, every bucket given the same
   // shim at assembly, on a stand facing the other way
-  const SIX = { cylinders: 6, intakePerCylinder: 2, exhaustPerCylinder: 2, firingOrder: [1, 5, 3, 6, 2, 4], ...BANDS, shims: { min: 2.5, max: 3.3, step: 0.05 }, assembledShim: 2.75, mirrored: true };
+  const SIX = {
+    cylinders: 6,
+    intakePerCylinder: 2,
+    exhaustPerCylinder: 2,
+    firingOrder: [1, 5, 3, 6, 2, 4],
+    ...BANDS,
+    shims: { min: 2.5, max: 3.3, step: 0.05 },
+    assembledShim: 2.75,
+    mirrored: true,
+  };
 
   async function sixWithCheck(api: Client) {
     const engineId = crypto.randomUUID();
     const checkId = crypto.randomUUID();
     await push(api, [
       { name: "engine.put/1", args: { id: engineId, name: "Stand six", ...SIX } },
-      { name: "check.put/1", args: { id: checkId, engineId, odometer: 41_000, measuredHot: false, status: "measuring" } },
+      {
+        name: "check.put/1",
+        args: { id: checkId, engineId, odometer: 41_000, measuredHot: false, status: "measuring" },
+      },
     ]);
     return { engineId, checkId };
   }
@@ -190,9 +261,13 @@ describe("measuring a 24-valve engine on a 390 px phone", () => {
     const { page, checkId } = await sixOnPhone("six", 390);
     // the page counts the clicks it receives from a real (trusted) tap, kept across the step change
     await page.addInitScript(() => {
-      window.addEventListener("click", (e) => {
-        if (e.isTrusted) sessionStorage.setItem("taps", String(Number(sessionStorage.getItem("taps") ?? 0) + 1));
-      }, true);
+      window.addEventListener(
+        "click",
+        (e) => {
+          if (e.isTrusted) sessionStorage.setItem("taps", String(Number(sessionStorage.getItem("taps") ?? 0) + 1));
+        },
+        true,
+      );
     });
     const received = () => page.evaluate(() => Number(sessionStorage.getItem("taps") ?? 0));
     await page.goto(`${baseUrl()}/check?id=${checkId}`);
@@ -224,7 +299,9 @@ describe("measuring a 24-valve engine on a 390 px phone", () => {
       const labels = await strip.getByRole("button").allInnerTexts();
       const values = labels.map(bladeValue);
       expect(values.some((b) => b < band.min) && values.some((b) => b > band.max)).toBe(true);
-      const want = tight.has(valve) ? values.filter((b) => b < band.min).at(-1)! : values.find((b) => b >= band.min + 0.02)!;
+      const want = tight.has(valve)
+        ? values.filter((b) => b < band.min).at(-1)!
+        : values.find((b) => b >= band.min + 0.02)!;
       await tap(strip.getByRole("button", { name: want.toFixed(2), exact: true }));
       await expect.poll(() => page.getByTestId("measured-count").innerText()).toBe(`${i + 1} of 24 valves measured`);
     }
@@ -237,7 +314,9 @@ describe("measuring a 24-valve engine on a 390 px phone", () => {
     // three tight valves and nothing else to swap with: the plan buys thinner shims
     await page.getByRole("heading", { name: "Buy list" }).waitFor({ timeout: 20_000 });
     const taps = await received();
-    console.log(`[garage-phone] 24 valves: ${taps} taps to enter (1 fill, 24 blades, 1 to the plan); ${safety} taps on the safety list before; the measure page ${measureHeight} px tall`);
+    console.log(
+      `[garage-phone] 24 valves: ${taps} taps to enter (1 fill, 24 blades, 1 to the plan); ${safety} taps on the safety list before; the measure page ${measureHeight} px tall`,
+    );
     // exactly what the page received: a screen that needed a confirming or a scrolling tap would show here
     expect(taps).toBe(26);
     await page.context().close();
@@ -278,7 +357,9 @@ describe("measuring a 24-valve engine on a 390 px phone", () => {
     await a.getByRole("button", { name: "Turn the picture: cylinder 1 on the left" }).tap();
     await expect.poll(async () => (await layoutOf(a)).groups.map((g) => g.cylinder)).toEqual([1, 2, 3, 4, 5, 6]);
     // saved with the engine and sent with the next sync
-    await expect.poll(async () => (await api.get(`/api/engines/${engineId}`)).json.engine?.mirrored, { timeout: 30_000 }).toBe(false);
+    await expect
+      .poll(async () => (await api.get(`/api/engines/${engineId}`)).json.engine?.mirrored, { timeout: 30_000 })
+      .toBe(false);
 
     const b = await (await phone(360)).newPage();
     await signIn(b, u);
@@ -293,7 +374,9 @@ describe("measuring a 24-valve engine on a 390 px phone", () => {
     await b.getByRole("button", { name: "Engine faces the other way? Put cylinder 1 on the right" }).tap();
     await expect.poll(async () => (await layoutOf(b)).groups.map((g) => g.cylinder)).toEqual([6, 5, 4, 3, 2, 1]);
     expect((await layoutOf(b)).groups.at(-1)!.cells.map((c) => c.id)).toEqual(["I1.2", "I1.1", "E1.2", "E1.1"]);
-    await expect.poll(async () => (await api.get(`/api/engines/${engineId}`)).json.engine?.mirrored, { timeout: 30_000 }).toBe(true);
+    await expect
+      .poll(async () => (await api.get(`/api/engines/${engineId}`)).json.engine?.mirrored, { timeout: 30_000 })
+      .toBe(true);
     await a.context().close();
     await b.context().close();
   }, 180_000);
@@ -304,19 +387,52 @@ describe("a mentor's links and the whole story of a check", () => {
     const owner = await makeUser("owner");
     const mentor = await makeUser("mentor");
     const api = await signedInClient(baseUrl(), owner);
-    const club = (await api.post("/api/clubs", { name: `Stand club ${owner.id.slice(0, 6)}` })).json.club as { id: string };
+    const club = (await api.post("/api/clubs", { name: `Stand club ${owner.id.slice(0, 6)}` })).json.club as {
+      id: string;
+    };
     await addMembership(club.id, mentor.id, ["mentor", "mechanic"]);
     const engineId = crypto.randomUUID();
     const checkId = crypto.randomUUID();
-    const r = (valve: string, round: number, fields: Record<string, unknown>) => ({ name: "reading.put/1", args: { checkId, reading: { valve, round, method: "feeler", ...fields } } });
+    const r = (valve: string, round: number, fields: Record<string, unknown>) => ({
+      name: "reading.put/1",
+      args: { checkId, reading: { valve, round, method: "feeler", ...fields } },
+    });
     await push(api, [
-      { name: "engine.put/1", args: { id: engineId, name: "Mirror twin", cylinders: 2, intakePerCylinder: 2, exhaustPerCylinder: 2, firingOrder: [1, 2], firingAngles: [0, 360], ...BANDS, shims: { min: 2.5, max: 3.3, step: 0.05 }, mirrored: true } },
-      { name: "check.put/1", args: { id: checkId, engineId, odometer: 30_500, measuredHot: false, status: "verifying" } },
+      {
+        name: "engine.put/1",
+        args: {
+          id: engineId,
+          name: "Mirror twin",
+          cylinders: 2,
+          intakePerCylinder: 2,
+          exhaustPerCylinder: 2,
+          firingOrder: [1, 2],
+          firingAngles: [0, 360],
+          ...BANDS,
+          shims: { min: 2.5, max: 3.3, step: 0.05 },
+          mirrored: true,
+        },
+      },
+      {
+        name: "check.put/1",
+        args: { id: checkId, engineId, odometer: 30_500, measuredHot: false, status: "verifying" },
+      },
       // a 2.80 stamp measured at 2.78: tight, a 2.70 fitted, then re-measured in band
-      r("I1.1", 0, { installedStamp: 2.8, installedMicrometer: 2.78, feelerGo: 0.05, feelerNoGo: 0.06, measured: 0.05, fittedShim: 2.7 }),
+      r("I1.1", 0, {
+        installedStamp: 2.8,
+        installedMicrometer: 2.78,
+        feelerGo: 0.05,
+        feelerNoGo: 0.06,
+        measured: 0.05,
+        fittedShim: 2.7,
+      }),
       r("I1.1", 1, { installedStamp: 2.7, feelerGo: 0.13, feelerNoGo: 0.15, measured: 0.13 }),
-      ...["I1.2", "I2.1", "I2.2"].map((v) => r(v, 0, { installedStamp: 2.6, feelerGo: 0.15, feelerNoGo: 0.18, measured: 0.15 })),
-      ...["E1.1", "E1.2", "E2.1", "E2.2"].map((v) => r(v, 0, { installedStamp: 2.6, feelerGo: 0.25, feelerNoGo: 0.28, measured: 0.25 })),
+      ...["I1.2", "I2.1", "I2.2"].map((v) =>
+        r(v, 0, { installedStamp: 2.6, feelerGo: 0.15, feelerNoGo: 0.18, measured: 0.15 }),
+      ),
+      ...["E1.1", "E1.2", "E2.1", "E2.2"].map((v) =>
+        r(v, 0, { installedStamp: 2.6, feelerGo: 0.25, feelerNoGo: 0.28, measured: 0.25 }),
+      ),
     ]);
     expect((await api.post(`/api/checks/${checkId}/shares`, { clubId: club.id })).status).toBe(201);
     const mail = await waitForMail(mentor.email, /asks for a review: Mirror twin/);
@@ -334,7 +450,9 @@ describe("a mentor's links and the whole story of a check", () => {
     await m.goto(`${baseUrl()}${new URL(link).pathname}${new URL(link).search}`);
     await m.getByText("read-only: you are reviewing").waitFor();
     const story = await m.getByTestId("rounds-I1.1").innerText();
-    expect(story).toMatch(/First reading\s+2\.80 stamp, 2\.780 micrometer · 0\.05 mm goes, 0\.06 mm does not · then fitted 2\.70/);
+    expect(story).toMatch(
+      /First reading\s+2\.80 stamp, 2\.780 micrometer · 0\.05 mm goes, 0\.06 mm does not · then fitted 2\.70/,
+    );
     expect(story).toMatch(/Re-check 1\s+2\.70 stamp · 0\.13 mm goes, 0\.15 mm does not/);
     const l = await layoutOf(m);
     expect(l.groups.map((g) => g.cylinder)).toEqual([2, 1]);
@@ -343,7 +461,13 @@ describe("a mentor's links and the whole story of a check", () => {
     await m.getByRole("button", { name: /Measure again/ }).tap();
     await m.getByTestId("verdict").getByText("↻ Measure again").waitFor();
     // the verdict leaves the mentor's outbox with the next sync
-    await expect.poll(async () => ((await api.get(`/api/checks/${checkId}/shares`)).json.items as { verdict: string | null }[])[0]?.verdict, { timeout: 30_000 }).toBe("measure-again");
+    await expect
+      .poll(
+        async () =>
+          ((await api.get(`/api/checks/${checkId}/shares`)).json.items as { verdict: string | null }[])[0]?.verdict,
+        { timeout: 30_000 },
+      )
+      .toBe("measure-again");
     await mctx.close();
 
     const verdictMail = await waitForMail(owner.email, /Review verdict: measure again/, 30_000);
@@ -355,7 +479,10 @@ describe("a mentor's links and the whole story of a check", () => {
     await signIn(o, owner);
     await o.goto(`${baseUrl()}/check?id=${checkId}&step=verify`);
     await o.getByRole("button", { name: /Close the check/ }).tap();
-    await o.getByRole("alertdialog").getByText(/verdict on this check is “↻ Measure again”/).waitFor({ timeout: 20_000 });
+    await o
+      .getByRole("alertdialog")
+      .getByText(/verdict on this check is “↻ Measure again”/)
+      .waitFor({ timeout: 20_000 });
     await o.getByRole("button", { name: "Keep it open" }).tap();
     await o.getByRole("button", { name: /Close the check/ }).waitFor();
     expect(o.url()).toContain("/check?id=");

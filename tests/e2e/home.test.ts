@@ -29,7 +29,9 @@ describe("the signed-out home page on a phone", () => {
       expect(fontsLoaded).toBeGreaterThan(0);
       expect(external).toEqual([]);
       // large touch targets: every link and button at least 48 px tall
-      const small = await page.$$eval("a, button", (els) => els.filter((e) => e.getBoundingClientRect().height < 48).map((e) => e.textContent));
+      const small = await page.$$eval("a, button", (els) =>
+        els.filter((e) => e.getBoundingClientRect().height < 48).map((e) => e.textContent),
+      );
       expect(small).toEqual([]);
       // no sideways scrolling on a phone
       const overflow = await page.evaluate(() => document.documentElement.scrollWidth - window.innerWidth);

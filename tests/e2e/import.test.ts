@@ -16,8 +16,21 @@ let page: Page;
 let engineId = "";
 
 // An invented log (test data): three checks of two valves, dates written day first.
-const GOOD = ["Date,Odometer,Valve,Shim (mm),Clearance (mm),Notes", "14/03/2022,10000,E1.1,2.60,0.27,first check", "14/03/2022,10000,I1.1,2.60,0.15,", "20/03/2023,20000,E1.1,2.60,0.23,", "20/03/2023,20000,I1.1,2.60,0.15,", "02/04/2024,30500,E1.1,2.60,0.20,", "02/04/2024,30500,I1.1,2.60,0.14,"].join("\r\n");
-const BAD = ["date,odometer,valve,shim_mm,clearance_mm", "2022-03-14,10000,E1.1,2.60,0.27", "2022-03-14,10000,I9.1,2.60,0.15", "2022-02-30,20000,E1.1,2.60,0.23"].join("\n");
+const GOOD = [
+  "Date,Odometer,Valve,Shim (mm),Clearance (mm),Notes",
+  "14/03/2022,10000,E1.1,2.60,0.27,first check",
+  "14/03/2022,10000,I1.1,2.60,0.15,",
+  "20/03/2023,20000,E1.1,2.60,0.23,",
+  "20/03/2023,20000,I1.1,2.60,0.15,",
+  "02/04/2024,30500,E1.1,2.60,0.20,",
+  "02/04/2024,30500,I1.1,2.60,0.14,",
+].join("\r\n");
+const BAD = [
+  "date,odometer,valve,shim_mm,clearance_mm",
+  "2022-03-14,10000,E1.1,2.60,0.27",
+  "2022-03-14,10000,I9.1,2.60,0.15",
+  "2022-02-30,20000,E1.1,2.60,0.23",
+].join("\n");
 
 beforeAll(async () => {
   const u = await makeUser("import");
@@ -39,11 +52,15 @@ afterAll(async () => {
   await browser?.close();
 });
 
-const choose = (name: string, text: string) => page.getByLabel("Choose a CSV file").setInputFiles({ name, mimeType: "text/csv", buffer: Buffer.from(text) });
+const choose = (name: string, text: string) =>
+  page.getByLabel("Choose a CSV file").setInputFiles({ name, mimeType: "text/csv", buffer: Buffer.from(text) });
 
 async function serverChecks() {
   const db = await rawConnection();
-  const [rows] = await db.query("SELECT c.odometer, DATE_FORMAT(c.started_at, '%Y-%m-%d %H:%i') AS started, c.status, c.notes, COUNT(r.id) AS readings FROM checks c LEFT JOIN readings r ON r.check_id = c.id WHERE c.engine_id = ? GROUP BY c.id ORDER BY c.started_at", [engineId]);
+  const [rows] = await db.query(
+    "SELECT c.odometer, DATE_FORMAT(c.started_at, '%Y-%m-%d %H:%i') AS started, c.status, c.notes, COUNT(r.id) AS readings FROM checks c LEFT JOIN readings r ON r.check_id = c.id WHERE c.engine_id = ? GROUP BY c.id ORDER BY c.started_at",
+    [engineId],
+  );
   await db.end();
   return rows as { odometer: string; started: string; status: string; notes: string | null; readings: number }[];
 }
@@ -81,7 +98,9 @@ describe("past checks from a CSV file", () => {
   it("refuses the same file a second time, so nothing is doubled", async () => {
     await choose("paper-log.csv", GOOD);
     const problems = page.getByTestId("import-problems");
-    await expect.poll(() => problems.innerText()).toContain("Row 2: a check on 2022-03-14 at 10,000 is already on this engine");
+    await expect
+      .poll(() => problems.innerText())
+      .toContain("Row 2: a check on 2022-03-14 at 10,000 is already on this engine");
     expect(await page.getByRole("button", { name: /Add \d+ past check/ }).count()).toBe(0);
     expect(await serverChecks()).toHaveLength(3);
   });

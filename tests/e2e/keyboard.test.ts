@@ -20,7 +20,8 @@ afterAll(() => browser?.close());
 function focused(page: Page) {
   return page.evaluate(() => {
     const el = document.activeElement as HTMLElement | null;
-    if (!el || el === document.body) return { tag: "BODY", name: "", valve: null as string | null, group: null as string | null };
+    if (!el || el === document.body)
+      return { tag: "BODY", name: "", valve: null as string | null, group: null as string | null };
     return {
       tag: el.tagName,
       name: (el.getAttribute("aria-label") ?? el.textContent ?? "").trim().replace(/\s+/g, " "),
@@ -42,7 +43,9 @@ async function tabTo(page: Page, name: RegExp, max = 80) {
 
 /** Every Tab stop of the page once round, from where focus is now. */
 async function tabStops(page: Page) {
-  await page.evaluate(() => document.querySelectorAll("[data-kb-seen]").forEach((e) => e.removeAttribute("data-kb-seen")));
+  await page.evaluate(() =>
+    document.querySelectorAll("[data-kb-seen]").forEach((e) => e.removeAttribute("data-kb-seen")),
+  );
   const names: string[] = [];
   for (let i = 0; i < 600; i++) {
     await page.keyboard.press("Tab");
@@ -70,7 +73,11 @@ describe("a valve measured with the keyboard alone", () => {
       clientId: crypto.randomUUID(),
       mutations: [
         { id: 1, name: "engine.put/1", args: { id: engineId, ...ENGINE_FOUR, name: "Keyboard four" } },
-        { id: 2, name: "check.put/1", args: { id: checkId, engineId, odometer: 20_000, measuredHot: false, status: "measuring" } },
+        {
+          id: 2,
+          name: "check.put/1",
+          args: { id: checkId, engineId, odometer: 20_000, measuredHot: false, status: "measuring" },
+        },
       ],
     });
     expect(res.json.rejected ?? []).toEqual([]);
@@ -145,7 +152,13 @@ describe("a valve measured with the keyboard alone", () => {
         const right = b.right - parseFloat(st.borderRightWidth);
         const top = b.top + parseFloat(st.borderTopWidth);
         const bottom = b.bottom - parseFloat(st.borderBottomWidth);
-        if (r.left - out < left - 0.5 || r.right + out > right + 0.5 || r.top - out < top - 0.5 || r.bottom + out > bottom + 0.5) clipped.push(`${a.tagName}.${a.className}`);
+        if (
+          r.left - out < left - 0.5 ||
+          r.right + out > right + 0.5 ||
+          r.top - out < top - 0.5 ||
+          r.bottom + out > bottom + 0.5
+        )
+          clipped.push(`${a.tagName}.${a.className}`);
       }
       return { style: s.outlineStyle, width: parseFloat(s.outlineWidth), clipped };
     });
@@ -158,7 +171,9 @@ describe("a valve measured with the keyboard alone", () => {
     const said = page.getByTestId("measure-said");
     await expect(said.getAttribute("role")).resolves.toBe("status");
     await expect(said.getAttribute("aria-live")).resolves.toBe("polite");
-    await expect.poll(() => said.innerText()).toMatch(/^E2\.1: 0\.25 mm goes, 0\.28 mm does not, ✓ in band\. Next: [IE]\d\.\d(\. Position \d+ of \d+: .+)?$/);
+    await expect
+      .poll(() => said.innerText())
+      .toMatch(/^E2\.1: 0\.25 mm goes, 0\.28 mm does not, ✓ in band\. Next: [IE]\d\.\d(\. Position \d+ of \d+: .+)?$/);
     await page.getByText("1 of 16 valves measured").waitFor();
     const nextValve = /Next: ([IE]\d\.\d)/.exec(await said.innerText())![1];
     await expect.poll(async () => (await focused(page)).valve).toBe(nextValve);

@@ -41,7 +41,11 @@ describe("a newcomer's first ten minutes", () => {
     await page.getByText(/Confirm your e-mail first/).waitFor();
     await page.getByRole("button", { name: "Send the link again" }).tap();
     await page.getByText(`Sent again to ${email}`).waitFor();
-    await expect.poll(async () => (await inbox(email)).filter((m) => /Confirm your e-mail/.test(m.subject)).length, { timeout: 15_000 }).toBe(2);
+    await expect
+      .poll(async () => (await inbox(email)).filter((m) => /Confirm your e-mail/.test(m.subject)).length, {
+        timeout: 15_000,
+      })
+      .toBe(2);
 
     // the mail is HTML with a real link beside its plain text: open it as a mail client shows it and click
     const mail = await waitForMail(email, /Confirm your e-mail/);
@@ -68,7 +72,14 @@ describe("a newcomer's first ten minutes", () => {
     const intakeFrom = page.getByLabel("Intake from (mm)");
     await expect(intakeFrom.getAttribute("aria-invalid")).resolves.toBe("true");
     const described = (await intakeFrom.getAttribute("aria-describedby")) ?? "";
-    const explanation = await page.evaluate((ids) => ids.split(" ").map((id) => document.getElementById(id)?.textContent ?? "").join(" "), described);
+    const explanation = await page.evaluate(
+      (ids) =>
+        ids
+          .split(" ")
+          .map((id) => document.getElementById(id)?.textContent ?? "")
+          .join(" "),
+      described,
+    );
     expect(explanation).toMatch(/missing/i);
     expect(explanation).toMatch(/service manual/i);
     await intakeFrom.fill("0.10");

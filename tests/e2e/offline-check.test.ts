@@ -17,7 +17,13 @@ import { makeUser } from "../support/fixtures";
 const profile = mkdtempSync(path.join(tmpdir(), "lashwright-profile-"));
 let ctx: BrowserContext;
 
-const open = () => chromium.launchPersistentContext(profile, { executablePath: process.env.CHROMIUM_PATH ?? "/usr/bin/chromium", args: CHROMIUM_ARGS, ...PHONE, colorScheme: "dark" });
+const open = () =>
+  chromium.launchPersistentContext(profile, {
+    executablePath: process.env.CHROMIUM_PATH ?? "/usr/bin/chromium",
+    args: CHROMIUM_ARGS,
+    ...PHONE,
+    colorScheme: "dark",
+  });
 
 afterAll(async () => {
   await ctx?.close();
@@ -26,24 +32,52 @@ afterAll(async () => {
 
 // The readings to tap (mm blades of the default metric set); intake band 0.10-0.20, exhaust 0.20-0.30.
 const TAPS: Record<string, string> = {
-  "I1.1": "0.15", "I1.2": "0.13", "E1.1": "0.25", "E1.2": "0.23",
-  "I2.1": "0.15", "I2.2": "0.08", "E2.1": "0.33", "E2.2": "0.25",
-  "I3.1": "0.18", "I3.2": "0.15", "E3.1": "0.18", "E3.2": "0.25",
-  "I4.1": "0.23", "I4.2": "0.15", "E4.1": "0.28", "E4.2": "0.25",
+  "I1.1": "0.15",
+  "I1.2": "0.13",
+  "E1.1": "0.25",
+  "E1.2": "0.23",
+  "I2.1": "0.15",
+  "I2.2": "0.08",
+  "E2.1": "0.33",
+  "E2.2": "0.25",
+  "I3.1": "0.18",
+  "I3.2": "0.15",
+  "E3.1": "0.18",
+  "E3.2": "0.25",
+  "I4.1": "0.23",
+  "I4.2": "0.15",
+  "E4.1": "0.28",
+  "E4.2": "0.25",
 };
-const BLADES = [0.02, 0.03, 0.04, 0.05, 0.06, 0.07, 0.08, 0.09, 0.1, 0.13, 0.15, 0.18, 0.2, 0.23, 0.25, 0.28, 0.3, 0.33, 0.38, 0.4, 0.45, 0.5];
+const BLADES = [
+  0.02, 0.03, 0.04, 0.05, 0.06, 0.07, 0.08, 0.09, 0.1, 0.13, 0.15, 0.18, 0.2, 0.23, 0.25, 0.28, 0.3, 0.33, 0.38, 0.4,
+  0.45, 0.5,
+];
 
 async function serverReadings(checkId: string) {
   const db = await rawConnection();
-  const [rows] = await db.query("SELECT valve, round, installed_stamp, feeler_go, feeler_no_go, measured FROM readings WHERE check_id = ? ORDER BY valve", [checkId]);
+  const [rows] = await db.query(
+    "SELECT valve, round, installed_stamp, feeler_go, feeler_no_go, measured FROM readings WHERE check_id = ? ORDER BY valve",
+    [checkId],
+  );
   await db.end();
-  return rows as { valve: string; round: number; installed_stamp: string; feeler_go: string; feeler_no_go: string; measured: string }[];
+  return rows as {
+    valve: string;
+    round: number;
+    installed_stamp: string;
+    feeler_go: string;
+    feeler_no_go: string;
+    measured: string;
+  }[];
 }
 
 /** What the server has applied for this check's owner: overwritten readings, and each device's last id. */
 async function applied(checkId: string) {
   const db = await rawConnection();
-  const [h] = await db.query("SELECT COUNT(*) AS n FROM reading_history h JOIN readings r ON r.id = h.reading_id WHERE r.check_id = ?", [checkId]);
+  const [h] = await db.query(
+    "SELECT COUNT(*) AS n FROM reading_history h JOIN readings r ON r.id = h.reading_id WHERE r.check_id = ?",
+    [checkId],
+  );
   const [c] = await db.query(
     "SELECT s.id, s.last_mutation_id FROM sync_clients s JOIN checks k ON k.owner_id = s.user_id WHERE k.id = ? ORDER BY s.id",
     [checkId],
@@ -76,11 +110,14 @@ describe("a whole check offline, then sync", () => {
     // the service worker is installed and controls the page, with the shells precached
     await page.evaluate(async () => {
       await navigator.serviceWorker.ready;
-      if (!navigator.serviceWorker.controller) await new Promise((r) => navigator.serviceWorker.addEventListener("controllerchange", r, { once: true }));
+      if (!navigator.serviceWorker.controller)
+        await new Promise((r) => navigator.serviceWorker.addEventListener("controllerchange", r, { once: true }));
     });
     const cached = await page.evaluate(async () => {
       const keys = await caches.keys();
-      const all = await Promise.all(keys.map(async (k) => (await (await caches.open(k)).keys()).map((r) => new URL(r.url).pathname)));
+      const all = await Promise.all(
+        keys.map(async (k) => (await (await caches.open(k)).keys()).map((r) => new URL(r.url).pathname)),
+      );
       return all.flat();
     });
     for (const p of ["/engines", "/engine", "/engine/edit", "/check", "/tray"]) expect(cached).toContain(p);
@@ -119,13 +156,20 @@ describe("a whole check offline, then sync", () => {
     // the measuring mode shows one valve at a time and moves on after each tap
     for (let i = 0; i < 16; i++) {
       const valve = (await page.locator("article[data-valve]").getAttribute("data-valve"))!;
-      await page.getByRole("group", { name: `Feeler blades for ${valve}` }).getByRole("button", { name: TAPS[valve]!, exact: true }).tap();
+      await page
+        .getByRole("group", { name: `Feeler blades for ${valve}` })
+        .getByRole("button", { name: TAPS[valve]!, exact: true })
+        .tap();
       await expect.poll(() => measuredCount(page)).toMatch(new RegExp(`^${i + 1} of 16`));
     }
     await page.getByRole("button", { name: /^E2\.1 / }).tap();
-    await expect(page.getByTestId("result-E2.1").innerText()).resolves.toMatch(/loose · needs 2\.70 mm \(gives 0\.23 mm\)/);
+    await expect(page.getByTestId("result-E2.1").innerText()).resolves.toMatch(
+      /loose · needs 2\.70 mm \(gives 0\.23 mm\)/,
+    );
     // offline, the line says there is no signal and how much waits on the phone
-    await expect(page.getByTestId("sync-line").innerText()).resolves.toMatch(/No signal · saved on this phone, \d+ changes waiting/);
+    await expect(page.getByTestId("sync-line").innerText()).resolves.toMatch(
+      /No signal · saved on this phone, \d+ changes waiting/,
+    );
     await page.screenshot({ path: "test-results/check-measure.png", fullPage: false });
     expect(await serverReadings(checkId)).toEqual([]);
   });
@@ -158,7 +202,10 @@ describe("a whole check offline, then sync", () => {
     await ctx.setOffline(false);
     await page.evaluate(() => window.dispatchEvent(new Event("online")));
     await expect.poll(async () => (await serverReadings(checkId)).length, { timeout: 20_000 }).toBe(16);
-    await page.getByTestId("sync-line").getByText(/All synced/).waitFor({ timeout: 20_000 });
+    await page
+      .getByTestId("sync-line")
+      .getByText(/All synced/)
+      .waitFor({ timeout: 20_000 });
     const rows = await serverReadings(checkId);
     for (const r of rows) {
       const go = Number(TAPS[r.valve]);
@@ -175,7 +222,10 @@ describe("a whole check offline, then sync", () => {
     const pulled = page.waitForResponse((r) => r.url().includes("/api/sync/pull"), { timeout: 20_000 });
     await page.evaluate(() => window.dispatchEvent(new Event("online")));
     await pulled;
-    await page.getByTestId("sync-line").getByText(/All synced/).waitFor({ timeout: 20_000 });
+    await page
+      .getByTestId("sync-line")
+      .getByText(/All synced/)
+      .waitFor({ timeout: 20_000 });
     expect(await applied(checkId)).toEqual(before);
     expect(await serverReadings(checkId)).toHaveLength(16);
   });
@@ -185,7 +235,12 @@ describe("a whole check offline, then sync", () => {
     await page.getByRole("button", { name: /see the shim plan/i }).tap();
     await page.getByText("Plan per valve").waitFor();
     const expected = planShims({
-      valves: Object.entries(TAPS).map(([id, b]) => ({ id, installed: 2.6, measured: Number(b), spec: id.startsWith("I") ? { min: 0.1, max: 0.2 } : { min: 0.2, max: 0.3 } })),
+      valves: Object.entries(TAPS).map(([id, b]) => ({
+        id,
+        installed: 2.6,
+        measured: Number(b),
+        spec: id.startsWith("I") ? { min: 0.1, max: 0.2 } : { min: 0.2, max: 0.3 },
+      })),
       sizes: shimSeries(2.5, 3.3, 0.05),
       tray: [],
     });
@@ -219,7 +274,9 @@ describe("fitting, re-checking and closing", () => {
       });
     const moves = await page.getByRole("checkbox").all();
     expect(moves.length).toBe(4); // one tick per valve: its 2.60 out to the tray and the new one in
-    await expect(page.getByRole("checkbox").first().innerText()).resolves.toMatch(/Cyl \d (intake|exhaust) \d: take out its 2\.60 and put it on the tray, then fit/);
+    await expect(page.getByRole("checkbox").first().innerText()).resolves.toMatch(
+      /Cyl \d (intake|exhaust) \d: take out its 2\.60 and put it on the tray, then fit/,
+    );
     for (const m of moves) {
       await m.tap();
       await expect.poll(() => m.getAttribute("aria-checked")).toBe("true");
@@ -231,8 +288,13 @@ describe("fitting, re-checking and closing", () => {
     // the new shims give these clearances (gap - new shim); tap them
     const after: Record<string, string> = { "I2.2": "0.13", "E2.1": "0.23", "E3.1": "0.23", "I4.1": "0.13" };
     for (const [valve, blade] of Object.entries(after)) {
-      await expect(page.getByTestId(`shim-${valve}`).innerText()).resolves.toBe(valve === "I2.2" || valve === "E3.1" ? "2.55" : "2.70");
-      await page.getByRole("group", { name: `Feeler blades for ${valve}` }).getByRole("button", { name: blade, exact: true }).tap();
+      await expect(page.getByTestId(`shim-${valve}`).innerText()).resolves.toBe(
+        valve === "I2.2" || valve === "E3.1" ? "2.55" : "2.70",
+      );
+      await page
+        .getByRole("group", { name: `Feeler blades for ${valve}` })
+        .getByRole("button", { name: blade, exact: true })
+        .tap();
     }
     await page.getByText("✓ Every valve is in its band.").waitFor();
     await page.screenshot({ path: "test-results/check-recheck.png", fullPage: true });

@@ -36,13 +36,24 @@ describe("the first-visit JavaScript of each page stays within its budget", () =
     it(`${name} (${page})`, async () => {
       const w = await firstVisitJs(browser, `${baseUrl()}${page}`);
       const allowed = budget.pages[name];
-      console.log(`[page-weight] ${name}: ${kib(w.bytes)} in ${w.files} files; budget ${kib(allowed)}; goal ${kib(goal)}`);
-      if (w.bytes > allowed) for (const s of [...w.scripts].sort((a, b) => b.bytes - a.bytes).slice(0, 8)) console.log(`[page-weight]   ${kib(s.bytes)} ${new URL(s.url).pathname}`);
-      expect(w.bytes, `${name} loads ${kib(w.bytes)} of JavaScript on a first visit, over its budget of ${kib(allowed)}`).toBeLessThanOrEqual(allowed);
+      console.log(
+        `[page-weight] ${name}: ${kib(w.bytes)} in ${w.files} files; budget ${kib(allowed)}; goal ${kib(goal)}`,
+      );
+      if (w.bytes > allowed)
+        for (const s of [...w.scripts].sort((a, b) => b.bytes - a.bytes).slice(0, 8))
+          console.log(`[page-weight]   ${kib(s.bytes)} ${new URL(s.url).pathname}`);
+      expect(
+        w.bytes,
+        `${name} loads ${kib(w.bytes)} of JavaScript on a first visit, over its budget of ${kib(allowed)}`,
+      ).toBeLessThanOrEqual(allowed);
       // once the goal is met, the budget is the goal
-      if (w.bytes <= goal) expect(allowed, `${name} meets the goal: set its budget to ${goal} bytes`).toBeLessThanOrEqual(goal);
+      if (w.bytes <= goal)
+        expect(allowed, `${name} meets the goal: set its budget to ${goal} bytes`).toBeLessThanOrEqual(goal);
       // a budget far above the page's weight would let it grow back unseen
-      else expect(allowed, `${name} now weighs ${w.bytes} bytes: lower its budget to that`).toBeLessThanOrEqual(Math.ceil(w.bytes * (1 + RATCHET)));
+      else
+        expect(allowed, `${name} now weighs ${w.bytes} bytes: lower its budget to that`).toBeLessThanOrEqual(
+          Math.ceil(w.bytes * (1 + RATCHET)),
+        );
     });
   }
 });
@@ -52,7 +63,11 @@ const DEXIE = "DatabaseClosedError";
 const SYNC_CLIENT = "/api/sync/pull";
 
 /** The text of every script a page loads, nothing cached and no service worker. */
-async function scriptsOf(storageState: Awaited<ReturnType<import("playwright-core").BrowserContext["storageState"]>> | undefined, path: string, ready: string) {
+async function scriptsOf(
+  storageState: Awaited<ReturnType<import("playwright-core").BrowserContext["storageState"]>> | undefined,
+  path: string,
+  ready: string,
+) {
   const ctx = await browser.newContext({ ...PHONE, serviceWorkers: "block", storageState });
   const page = await ctx.newPage();
   const urls: string[] = [];
@@ -60,7 +75,10 @@ async function scriptsOf(storageState: Awaited<ReturnType<import("playwright-cor
   await page.goto(`${baseUrl()}${path}`, { waitUntil: "networkidle" });
   await page.getByText(ready, { exact: false }).first().waitFor();
   // a page with the phone's records has opened its database by now (so its scripts have all come)
-  if (storageState && !path.startsWith("/review")) await page.waitForFunction(async () => (await indexedDB.databases()).some((d) => d.name?.startsWith("lashwright-")));
+  if (storageState && !path.startsWith("/review"))
+    await page.waitForFunction(async () =>
+      (await indexedDB.databases()).some((d) => d.name?.startsWith("lashwright-")),
+    );
   await page.waitForLoadState("networkidle");
   const texts = await Promise.all(urls.map((u) => fetch(u).then((r) => r.text())));
   await ctx.close();
@@ -69,7 +87,11 @@ async function scriptsOf(storageState: Awaited<ReturnType<import("playwright-cor
 
 describe("pages that only read load neither the local database nor the sync client", () => {
   it("home, sign-in and sign-up for a visitor; a review opened with a signal by a signed-in member; the check page does load them", async () => {
-    for (const [path, ready] of [["/", "How a check runs"], ["/sign-in", "Password"], ["/sign-up", "Password"]] as const) {
+    for (const [path, ready] of [
+      ["/", "How a check runs"],
+      ["/sign-in", "Password"],
+      ["/sign-up", "Password"],
+    ] as const) {
       const js = await scriptsOf(undefined, path, ready);
       expect(js.includes(DEXIE), `${path} loads Dexie`).toBe(false);
       expect(js.includes(SYNC_CLIENT), `${path} loads the sync client`).toBe(false);

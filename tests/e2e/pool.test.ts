@@ -13,7 +13,6 @@ beforeAll(async () => {
 });
 afterAll(() => browser?.close());
 
-
 describe("borrowing from the club pool", () => {
   it("the plan borrows a size a member offers instead of buying it; the lender agrees", async () => {
     const t = await clubScenario(baseUrl(), "pool", [{ name: "Borrowing four", shared: false }]);
@@ -30,7 +29,12 @@ describe("borrowing from the club pool", () => {
     const label = await ask.innerText();
     const [, count, size] = /for (\d+) × (\d\.\d\d) mm/.exec(label)!;
     // the plan table says where that shim comes from
-    await expect(mech.getByText(new RegExp(`borrow from ${t.mentor.name}`)).first().isVisible()).resolves.toBe(true);
+    await expect(
+      mech
+        .getByText(new RegExp(`borrow from ${t.mentor.name}`))
+        .first()
+        .isVisible(),
+    ).resolves.toBe(true);
     await mech.screenshot({ path: "test-results/pool-plan.png", fullPage: true });
     await ask.tap();
     await borrow.getByText(/asked, waiting for the lender/).waitFor({ timeout: 20_000 });
@@ -51,7 +55,10 @@ describe("borrowing from the club pool", () => {
     await waitForMail(t.mechanic.email, /Shim loan agreed/);
     await mech.reload();
     await mech.getByRole("button", { name: /3\. Plan/ }).tap();
-    await mech.getByRole("region", { name: "Borrow from the club" }).getByText(/agreed: collect them/).waitFor({ timeout: 20_000 });
+    await mech
+      .getByRole("region", { name: "Borrow from the club" })
+      .getByText(/agreed: collect them/)
+      .waitFor({ timeout: 20_000 });
 
     // the handover: the lender marks it, and the shims appear on the borrower's tray
     await loan.getByRole("button", { name: "Handed over" }).tap();

@@ -17,7 +17,6 @@ afterAll(() => browser?.close());
 const signIn = (page: Page, p: Person) => signInAs(page, p.email, p.password);
 const esc = (s: string) => s.replace(/[.*+?^${}()|[\]\\]/g, "\\$&");
 
-
 let stepNo = 0;
 const step = (what: string) => console.log(`[review] ${++stepNo} ${what}`);
 
@@ -66,7 +65,12 @@ describe("a mentor reviews a shared check", () => {
     await mentor.getByText("read-only: you are reviewing", { exact: false }).waitFor();
     step("review open");
     // the readings show how each was found, and nothing offers to change them
-    await expect(mentor.getByText(/2\.\d\d stamp · 0\.\d\d mm goes, 0\.\d\d mm does not/).first().isVisible()).resolves.toBe(true);
+    await expect(
+      mentor
+        .getByText(/2\.\d\d stamp · 0\.\d\d mm goes, 0\.\d\d mm does not/)
+        .first()
+        .isVisible(),
+    ).resolves.toBe(true);
     await expect(mentor.getByRole("group", { name: /Feeler blades/ }).count()).resolves.toBe(0);
     // type into the comment box as the keyboard would (React reads the input event)
     await mentor.getByLabel("Add a comment").evaluate((el, text) => {
@@ -81,7 +85,9 @@ describe("a mentor reviews a shared check", () => {
       .waitFor({ timeout: 15_000 })
       .catch(async (e: unknown) => {
         await mentor.screenshot({ path: "test-results/review-failure.png", fullPage: true });
-        throw new Error(`comment not shown; alerts: ${(await mentor.getByRole("alert").allInnerTexts()).join(" | ")}; ${String(e)}`);
+        throw new Error(
+          `comment not shown; alerts: ${(await mentor.getByRole("alert").allInnerTexts()).join(" | ")}; ${String(e)}`,
+        );
       });
     step("comment posted");
     await mentor.getByRole("button", { name: /Measure again/ }).tap();
@@ -122,12 +128,15 @@ describe("a mentor reviews a shared check", () => {
     await mech.getByRole("button", { name: /2\. Measure/ }).tap();
     await mech.evaluate(async () => {
       await navigator.serviceWorker.ready;
-      if (!navigator.serviceWorker.controller) await new Promise((r) => navigator.serviceWorker.addEventListener("controllerchange", r, { once: true }));
+      if (!navigator.serviceWorker.controller)
+        await new Promise((r) => navigator.serviceWorker.addEventListener("controllerchange", r, { once: true }));
     });
     await mechCtx.setOffline(true);
     step("mechanic offline on the check");
     const card = mech.locator('[id="valve-I1.1"]');
-    await card.getByLabel(/Add a photo of valve I1\.1/).setInputFiles({ name: "blade-in-gap.jpg", mimeType: "image/jpeg", buffer: await cameraJpeg(1200, 900) });
+    await card
+      .getByLabel(/Add a photo of valve I1\.1/)
+      .setInputFiles({ name: "blade-in-gap.jpg", mimeType: "image/jpeg", buffer: await cameraJpeg(1200, 900) });
     await card.getByText("waiting to send").waitFor();
     await expect(card.getByTestId("photo").count()).resolves.toBe(1);
     await mech.screenshot({ path: "test-results/photo-offline.png" });
@@ -147,7 +156,9 @@ describe("a mentor reviews a shared check", () => {
     const photo = mentor.getByRole("list", { name: "Photos: valve I1.1" }).getByTestId("photo");
     await photo.waitFor();
     // the image really loads: decoded at the size the server stored
-    await expect.poll(() => photo.evaluate((img: HTMLImageElement) => img.complete && img.naturalWidth), { timeout: 10_000 }).toBe(1200);
+    await expect
+      .poll(() => photo.evaluate((img: HTMLImageElement) => img.complete && img.naturalWidth), { timeout: 10_000 })
+      .toBe(1200);
     await mentor.screenshot({ path: "test-results/photo-mentor.png", fullPage: true });
     await mentorCtx.close();
   });

@@ -20,7 +20,16 @@ describe("a phone whose session was ended elsewhere", () => {
     const u = await makeUser("revoked-phone");
     const pc = await signedInClient(baseUrl(), u);
     const engineId = crypto.randomUUID();
-    expect((await pc.post("/api/sync/push", { clientId: crypto.randomUUID(), mutations: [{ id: 1, name: "engine.put/1", args: { ...ENGINE_FOUR, id: engineId, name: "Kept-secret four" } }] })).status).toBe(200);
+    expect(
+      (
+        await pc.post("/api/sync/push", {
+          clientId: crypto.randomUUID(),
+          mutations: [
+            { id: 1, name: "engine.put/1", args: { ...ENGINE_FOUR, id: engineId, name: "Kept-secret four" } },
+          ],
+        })
+      ).status,
+    ).toBe(200);
 
     const ctx = await phoneContext(browser);
     const page = await ctx.newPage();
@@ -33,7 +42,8 @@ describe("a phone whose session was ended elsewhere", () => {
     // the service worker serves the garage shells offline
     await page.evaluate(async () => {
       await navigator.serviceWorker.ready;
-      if (!navigator.serviceWorker.controller) await new Promise((r) => navigator.serviceWorker.addEventListener("controllerchange", r, { once: true }));
+      if (!navigator.serviceWorker.controller)
+        await new Promise((r) => navigator.serviceWorker.addEventListener("controllerchange", r, { once: true }));
     });
     const localEngines = () =>
       page.evaluate(

@@ -39,7 +39,9 @@ describe("signing in on a phone", () => {
     await page.getByTestId("drift-chart").locator("svg.recharts-surface").waitFor();
     // four checks over 37,800 km: a real trend; the latest check found it tight, so with the shim now
     // in it is already past the band's lower edge (the demo's plan changes that shim)
-    await expect(page.getByTestId("drift-words").innerText()).resolves.toBe("E3.1 closes about 0.006 mm per 1,000 km. With the shim now in it is already at or past the band's lower edge.");
+    await expect(page.getByTestId("drift-words").innerText()).resolves.toBe(
+      "E3.1 closes about 0.006 mm per 1,000 km. With the shim now in it is already at or past the band's lower edge.",
+    );
     await page.getByTestId("drift-chart").scrollIntoViewIfNeeded();
     await page.screenshot({ path: "test-results/engine-history.png" });
     await ctx.close();
@@ -63,7 +65,12 @@ describe("signing in on a phone", () => {
     await admin.waitForURL("**/engines");
     await admin.goto(`${baseUrl()}/club`);
     await admin.getByRole("heading", { name: "Invite someone" }).waitFor();
-    await expect(admin.getByRole("group", { name: "Roles of Teodor Brannigan" }).getByRole("button", { name: /Mentor/ }).getAttribute("aria-pressed")).resolves.toBe("true");
+    await expect(
+      admin
+        .getByRole("group", { name: "Roles of Teodor Brannigan" })
+        .getByRole("button", { name: /Mentor/ })
+        .getAttribute("aria-pressed"),
+    ).resolves.toBe("true");
     await expect(admin.getByRole("heading", { name: "Waiting for review" }).count()).resolves.toBe(0);
     await adminCtx.close();
   });

@@ -28,7 +28,12 @@ function freePort(): Promise<number> {
 // In a process group of its own, as a terminal runs a command, so a test can send Ctrl-C to the
 // whole group the way a terminal does: kill(-pgid, SIGINT).
 function start(env: Record<string, string>) {
-  const child = spawn(process.execPath, ["scripts/start.mjs"], { cwd: root, env: { ...process.env, LASHWRIGHT_SKIP_BUILD: "1", LASHWRIGHT_DATA_DIR: dataDir, ...env }, stdio: ["ignore", "pipe", "pipe"], detached: true });
+  const child = spawn(process.execPath, ["scripts/start.mjs"], {
+    cwd: root,
+    env: { ...process.env, LASHWRIGHT_SKIP_BUILD: "1", LASHWRIGHT_DATA_DIR: dataDir, ...env },
+    stdio: ["ignore", "pipe", "pipe"],
+    detached: true,
+  });
   started.push(child);
   let out = "";
   child.stdout!.on("data", (d) => (out += d));
@@ -109,7 +114,9 @@ async function stopsWithin(run: ReturnType<typeof start>, signal: () => void, ms
   signal();
   while (Date.now() - t0 < ms && pids.some(alive)) await new Promise((r) => setTimeout(r, 100));
   const left = pids.filter(alive).map((p) => `${p} ${commandOf(p)}`);
-  console.log(`[start test] ${pids.length} processes, ${left.length ? `${left.length} left` : "all ended"} after ${((Date.now() - t0) / 1000).toFixed(1)} s`);
+  console.log(
+    `[start test] ${pids.length} processes, ${left.length ? `${left.length} left` : "all ended"} after ${((Date.now() - t0) / 1000).toFixed(1)} s`,
+  );
   for (const p of pids.filter(alive)) process.kill(p, "SIGKILL");
   return { left, seconds: (Date.now() - t0) / 1000 };
 }
@@ -128,54 +135,58 @@ afterAll(() => {
 });
 
 describe("npm start", () => {
-  it("serves the home page with demo data; Ctrl-C, a wedged app and database, and SIGTERM each stop everything within 15 s and keep all data", { timeout: THREE_STARTS_MS }, async () => {
-    rmSync(dataDir, { recursive: true, force: true });
-    const [port, dbPort] = [await freePort(), await freePort()];
-    const mailPorts = { SMTP_PORT: String(await freePort()), MAIL_WEB_PORT: String(await freePort()) };
-    const first = start({ PORT: String(port), DB_PORT: String(dbPort), ...mailPorts });
-    await first.waitFor(/Lashwright is on http:\/\/127\.0\.0\.1:\d+/);
-    expect(first.output()).toMatch(/Demo data added/);
-    expect(first.output()).toMatch(/mara@kestrel-hollow\.example/);
-    let html = "";
-    for (let i = 0; i < 100 && !html; i++) {
-      const res = await fetch(`http://127.0.0.1:${port}/`).catch(() => null);
-      if (res?.ok) html = await res.text();
-      else await new Promise((r) => setTimeout(r, 200));
-    }
-    expect(html).toMatch(/valve-clearance workbook/);
-    const before = await counts(dbPort);
-    expect(before.users).toBe(3);
-    expect(before.readings).toBeGreaterThan(60);
+  it(
+    "serves the home page with demo data; Ctrl-C, a wedged app and database, and SIGTERM each stop everything within 15 s and keep all data",
+    { timeout: THREE_STARTS_MS },
+    async () => {
+      rmSync(dataDir, { recursive: true, force: true });
+      const [port, dbPort] = [await freePort(), await freePort()];
+      const mailPorts = { SMTP_PORT: String(await freePort()), MAIL_WEB_PORT: String(await freePort()) };
+      const first = start({ PORT: String(port), DB_PORT: String(dbPort), ...mailPorts });
+      await first.waitFor(/Lashwright is on http:\/\/127\.0\.0\.1:\d+/);
+      expect(first.output()).toMatch(/Demo data added/);
+      expect(first.output()).toMatch(/mara@kestrel-hollow\.example/);
+      let html = "";
+      for (let i = 0; i < 100 && !html; i++) {
+        const res = await fetch(`http://127.0.0.1:${port}/`).catch(() => null);
+        if (res?.ok) html = await res.text();
+        else await new Promise((r) => setTimeout(r, 200));
+      }
+      expect(html).toMatch(/valve-clearance workbook/);
+      const before = await counts(dbPort);
+      expect(before.users).toBe(3);
+      expect(before.readings).toBeGreaterThan(60);
 
-    // Ctrl-C in a terminal: SIGINT to the whole foreground process group.
-    const first1 = await stopsWithin(first, () => process.kill(-first.child.pid!, "SIGINT"));
-    expect(first1.left).toEqual([]);
-    expect(await portIsFree(dbPort)).toBe(true);
-    expect(await portIsFree(port)).toBe(true);
+      // Ctrl-C in a terminal: SIGINT to the whole foreground process group.
+      const first1 = await stopsWithin(first, () => process.kill(-first.child.pid!, "SIGINT"));
+      expect(first1.left).toEqual([]);
+      expect(await portIsFree(dbPort)).toBe(true);
+      expect(await portIsFree(port)).toBe(true);
 
-    // The app and the database wedged (stopped: they can act on no signal but a kill), then Ctrl-C.
-    const second = start({ PORT: String(port), DB_PORT: String(dbPort), ...mailPorts });
-    await second.waitFor(/Lashwright is on/);
-    expect(second.output()).toMatch(/already present: nothing added/);
-    expect(await counts(dbPort)).toEqual(before);
-    const tree = descendants(second.child.pid!);
-    const [app, database] = [pidOf(tree, /next/), pidOf(tree, /mariadbd/)];
-    expect(app && database).toBeTruthy();
-    process.kill(app!, "SIGSTOP");
-    process.kill(database!, "SIGSTOP");
-    const wedged = await stopsWithin(second, () => process.kill(-second.child.pid!, "SIGINT"));
-    expect(wedged.left).toEqual([]);
+      // The app and the database wedged (stopped: they can act on no signal but a kill), then Ctrl-C.
+      const second = start({ PORT: String(port), DB_PORT: String(dbPort), ...mailPorts });
+      await second.waitFor(/Lashwright is on/);
+      expect(second.output()).toMatch(/already present: nothing added/);
+      expect(await counts(dbPort)).toEqual(before);
+      const tree = descendants(second.child.pid!);
+      const [app, database] = [pidOf(tree, /next/), pidOf(tree, /mariadbd/)];
+      expect(app && database).toBeTruthy();
+      process.kill(app!, "SIGSTOP");
+      process.kill(database!, "SIGSTOP");
+      const wedged = await stopsWithin(second, () => process.kill(-second.child.pid!, "SIGINT"));
+      expect(wedged.left).toEqual([]);
 
-    // The database was killed, not shut down: it recovers, and a third start finds every row. SIGTERM
-    // to start.mjs alone (a process manager, not a terminal) stops everything too.
-    const third = start({ PORT: String(port), DB_PORT: String(dbPort), ...mailPorts });
-    await third.waitFor(/Lashwright is on/);
-    expect(await counts(dbPort)).toEqual(before);
-    const term = await stopsWithin(third, () => third.child.kill("SIGTERM"));
-    expect(term.left).toEqual([]);
-    expect(usingDataDir()).toEqual([]);
-    expect(await portIsFree(dbPort)).toBe(true);
-  });
+      // The database was killed, not shut down: it recovers, and a third start finds every row. SIGTERM
+      // to start.mjs alone (a process manager, not a terminal) stops everything too.
+      const third = start({ PORT: String(port), DB_PORT: String(dbPort), ...mailPorts });
+      await third.waitFor(/Lashwright is on/);
+      expect(await counts(dbPort)).toEqual(before);
+      const term = await stopsWithin(third, () => third.child.kill("SIGTERM"));
+      expect(term.left).toEqual([]);
+      expect(usingDataDir()).toEqual([]);
+      expect(await portIsFree(dbPort)).toBe(true);
+    },
+  );
 
   it("a failure during start-up stops what was already started", async () => {
     // The photo store's port is taken: by then the database and the mail catcher run.
@@ -183,7 +194,13 @@ describe("npm start", () => {
     const s3Port = await freePort();
     await new Promise<void>((r) => blocker.listen(s3Port, "127.0.0.1", () => r()));
     const dbPort = await freePort();
-    const run = start({ PORT: String(await freePort()), DB_PORT: String(dbPort), S3_PORT: String(s3Port), SMTP_PORT: String(await freePort()), MAIL_WEB_PORT: String(await freePort()) });
+    const run = start({
+      PORT: String(await freePort()),
+      DB_PORT: String(dbPort),
+      S3_PORT: String(s3Port),
+      SMTP_PORT: String(await freePort()),
+      MAIL_WEB_PORT: String(await freePort()),
+    });
     const code = await run.exited;
     blocker.close();
     expect(code).toBe(1);

@@ -11,7 +11,7 @@ import { rawConnection } from "../support/db";
 import { ENGINE_FOUR, makeUser } from "../support/fixtures";
 
 /**
- * A deploy as a mechanic meets it (DESIGN.md section 6, "Updates"). Build A (npm test's own build)
+ * A deploy as a mechanic meets it (README "At an update"). Build A (npm test's own build)
  * serves a check; build B, a real second build with a visible change (its release label, and
  * source maps so every file has a new name), is deployed over it on the same port: the dist folder
  * swapped, A's hashed files kept beside B's as a real deploy keeps them for a while. The phone
@@ -50,7 +50,9 @@ function run(cmd: string, args: string[], env: Record<string, string>): Promise<
     let out = "";
     child.stdout.on("data", (d) => (out += d));
     child.stderr.on("data", (d) => (out += d));
-    child.once("exit", (code) => (code === 0 ? resolve() : reject(new Error(`${cmd} ${args.join(" ")} exited ${code}:\n${out.slice(-3000)}`))));
+    child.once("exit", (code) =>
+      code === 0 ? resolve() : reject(new Error(`${cmd} ${args.join(" ")} exited ${code}:\n${out.slice(-3000)}`)),
+    );
   });
 }
 
@@ -61,12 +63,20 @@ async function serve() {
 
 /** Build B into its own folder. next build rewrites tsconfig.json and next-env.d.ts for its folder: put them back. */
 async function buildB() {
-  const keep = ["tsconfig.json", "next-env.d.ts"].map((f) => [f, existsSync(at(f)) ? readFileSync(at(f), "utf8") : null] as const);
+  const keep = ["tsconfig.json", "next-env.d.ts"].map(
+    (f) => [f, existsSync(at(f)) ? readFileSync(at(f), "utf8") : null] as const,
+  );
   try {
-    await run(process.execPath, ["node_modules/next/dist/bin/next", "build"], { LASHWRIGHT_DIST_DIR: B, NEXT_PUBLIC_LASHWRIGHT_RELEASE: "B", LASHWRIGHT_SOURCE_MAPS: "1", NEXT_TELEMETRY_DISABLED: "1" });
+    await run(process.execPath, ["node_modules/next/dist/bin/next", "build"], {
+      LASHWRIGHT_DIST_DIR: B,
+      NEXT_PUBLIC_LASHWRIGHT_RELEASE: "B",
+      LASHWRIGHT_SOURCE_MAPS: "1",
+      NEXT_TELEMETRY_DISABLED: "1",
+    });
   } finally {
-    for (const [f, text] of keep) if (text === null) rmSync(at(f), { force: true });
-    else writeFileSync(at(f), text);
+    for (const [f, text] of keep)
+      if (text === null) rmSync(at(f), { force: true });
+      else writeFileSync(at(f), text);
   }
 }
 
@@ -80,7 +90,10 @@ async function deployB() {
   await serve();
 }
 
-const staticFiles = (dir: string) => new Set((readdirSync(at(`${dir}/static/chunks`), { recursive: true }) as string[]).map((f) => f.split(path.sep).join("/")));
+const staticFiles = (dir: string) =>
+  new Set(
+    (readdirSync(at(`${dir}/static/chunks`), { recursive: true }) as string[]).map((f) => f.split(path.sep).join("/")),
+  );
 
 beforeAll(async () => {
   port = await freePort();
@@ -90,7 +103,12 @@ beforeAll(async () => {
   cpSync(at(".next"), at(DEPLOY), { recursive: true, filter: noCache });
   await buildB();
   await serve();
-  ctx = await chromium.launchPersistentContext(profile, { executablePath: process.env.CHROMIUM_PATH ?? "/usr/bin/chromium", args: CHROMIUM_ARGS, ...PHONE, colorScheme: "dark" });
+  ctx = await chromium.launchPersistentContext(profile, {
+    executablePath: process.env.CHROMIUM_PATH ?? "/usr/bin/chromium",
+    args: CHROMIUM_ARGS,
+    ...PHONE,
+    colorScheme: "dark",
+  });
 }, 15 * 60_000);
 
 afterAll(async () => {
@@ -102,19 +120,37 @@ afterAll(async () => {
 
 async function serverReadings(checkId: string) {
   const db = await rawConnection();
-  const [rows] = await db.query("SELECT valve, round, feeler_go FROM readings WHERE check_id = ? ORDER BY round, valve", [checkId]);
+  const [rows] = await db.query(
+    "SELECT valve, round, feeler_go FROM readings WHERE check_id = ? ORDER BY round, valve",
+    [checkId],
+  );
   await db.end();
   return rows as { valve: string; round: number; feeler_go: string }[];
 }
 
 // intake band 0.10-0.20, exhaust 0.20-0.30 on 2.60 shims: four valves out of band
 const TAPS: Record<string, number> = {
-  "I1.1": 0.15, "I1.2": 0.13, "E1.1": 0.25, "E1.2": 0.23,
-  "I2.1": 0.15, "I2.2": 0.08, "E2.1": 0.33, "E2.2": 0.25,
-  "I3.1": 0.18, "I3.2": 0.15, "E3.1": 0.18, "E3.2": 0.25,
-  "I4.1": 0.23, "I4.2": 0.15, "E4.1": 0.28, "E4.2": 0.25,
+  "I1.1": 0.15,
+  "I1.2": 0.13,
+  "E1.1": 0.25,
+  "E1.2": 0.23,
+  "I2.1": 0.15,
+  "I2.2": 0.08,
+  "E2.1": 0.33,
+  "E2.2": 0.25,
+  "I3.1": 0.18,
+  "I3.2": 0.15,
+  "E3.1": 0.18,
+  "E3.2": 0.25,
+  "I4.1": 0.23,
+  "I4.2": 0.15,
+  "E4.1": 0.28,
+  "E4.2": 0.25,
 };
-const BLADES = [0.02, 0.03, 0.04, 0.05, 0.06, 0.07, 0.08, 0.09, 0.1, 0.13, 0.15, 0.18, 0.2, 0.23, 0.25, 0.28, 0.3, 0.33, 0.38, 0.4, 0.45, 0.5];
+const BLADES = [
+  0.02, 0.03, 0.04, 0.05, 0.06, 0.07, 0.08, 0.09, 0.1, 0.13, 0.15, 0.18, 0.2, 0.23, 0.25, 0.28, 0.3, 0.33, 0.38, 0.4,
+  0.45, 0.5,
+];
 const LAST = "I4.2"; // tapped by hand, offline, after the deploy
 
 let engineId = "";
@@ -136,20 +172,48 @@ describe("a deploy while a check is open", () => {
     await page.waitForURL("**/engines");
     await page.evaluate(async () => {
       await navigator.serviceWorker.ready;
-      if (!navigator.serviceWorker.controller) await new Promise((r) => navigator.serviceWorker.addEventListener("controllerchange", r, { once: true }));
+      if (!navigator.serviceWorker.controller)
+        await new Promise((r) => navigator.serviceWorker.addEventListener("controllerchange", r, { once: true }));
     });
     // the engine, the check and 15 readings, as another phone of hers would have sent them
     engineId = crypto.randomUUID();
     checkId = crypto.randomUUID();
     const readings = Object.entries(TAPS)
       .filter(([v]) => v !== LAST)
-      .map(([valve, go], i) => ({ id: i + 3, name: "reading.put/1", args: { checkId, reading: { valve, installedStamp: 2.6, feelerGo: go, feelerNoGo: BLADES[BLADES.indexOf(go) + 1], measured: go } } }));
+      .map(([valve, go], i) => ({
+        id: i + 3,
+        name: "reading.put/1",
+        args: {
+          checkId,
+          reading: {
+            valve,
+            installedStamp: 2.6,
+            feelerGo: go,
+            feelerNoGo: BLADES[BLADES.indexOf(go) + 1],
+            measured: go,
+          },
+        },
+      }));
     const body = {
       clientId: crypto.randomUUID(),
-      mutations: [{ id: 1, name: "engine.put/1", args: { ...ENGINE_FOUR, name: "Update four", id: engineId } }, { id: 2, name: "check.put/1", args: { id: checkId, engineId, odometer: 15_200 } }, ...readings],
+      mutations: [
+        { id: 1, name: "engine.put/1", args: { ...ENGINE_FOUR, name: "Update four", id: engineId } },
+        { id: 2, name: "check.put/1", args: { id: checkId, engineId, odometer: 15_200 } },
+        ...readings,
+      ],
     };
     // sent from the app's own page: the API takes changes only from there
-    const pushed = await page.evaluate(async (b) => (await fetch("/api/sync/push", { method: "POST", headers: { "content-type": "application/json" }, body: JSON.stringify(b) })).json(), body);
+    const pushed = await page.evaluate(
+      async (b) =>
+        (
+          await fetch("/api/sync/push", {
+            method: "POST",
+            headers: { "content-type": "application/json" },
+            body: JSON.stringify(b),
+          })
+        ).json(),
+      body,
+    );
     expect(pushed).toEqual({ lastMutationId: 17, rejected: [] });
     // the step files build A loads, to show below that B is a real second build
     page.on("request", (r) => {
@@ -178,7 +242,10 @@ describe("a deploy while a check is open", () => {
     await clearHttpCache(page);
     await ctx.setOffline(true);
     await page.getByRole("button", { name: new RegExp(`^${LAST.replace(".", "\\.")} `) }).tap();
-    await page.getByRole("group", { name: `Feeler blades for ${LAST}` }).getByRole("button", { name: "0.15", exact: true }).tap();
+    await page
+      .getByRole("group", { name: `Feeler blades for ${LAST}` })
+      .getByRole("button", { name: "0.15", exact: true })
+      .tap();
     await expect.poll(() => measured(page)).toMatch(/^16 of 16/);
     await steps(page).getByRole("button", { name: /Plan$/ }).tap();
     await page.getByText("Plan per valve").waitFor();
@@ -191,7 +258,11 @@ describe("a deploy while a check is open", () => {
     await page.getByRole("button", { name: "Re-measure the changed valves" }).tap();
     await page.getByRole("heading", { name: /Measure the changed valves again/ }).waitFor();
     const after: Record<string, string> = { "I2.2": "0.13", "E2.1": "0.23", "E3.1": "0.23", "I4.1": "0.13" };
-    for (const [valve, blade] of Object.entries(after)) await page.getByRole("group", { name: `Feeler blades for ${valve}` }).getByRole("button", { name: blade, exact: true }).tap();
+    for (const [valve, blade] of Object.entries(after))
+      await page
+        .getByRole("group", { name: `Feeler blades for ${valve}` })
+        .getByRole("button", { name: blade, exact: true })
+        .tap();
     await page.getByText("✓ Every valve is in its band.").waitFor();
     expect(errors).toEqual([]);
     await expect(page.getByTestId("load-failed").count()).resolves.toBe(0);
@@ -200,7 +271,9 @@ describe("a deploy while a check is open", () => {
     await page.getByRole("heading", { name: /Measure the changed valves again/ }).waitFor({ timeout: 20_000 });
     await page.getByText("✓ Every valve is in its band.").waitFor();
     await expect(page.getByTestId("release").count()).resolves.toBe(0);
-    await steps(page).getByRole("button", { name: /Measure$/ }).tap();
+    await steps(page)
+      .getByRole("button", { name: /Measure$/ })
+      .tap();
     await expect.poll(() => measured(page)).toMatch(/^16 of 16/);
   });
 
@@ -209,9 +282,17 @@ describe("a deploy while a check is open", () => {
     await ctx.setOffline(false);
     await page.evaluate(() => window.dispatchEvent(new Event("online")));
     await expect.poll(async () => (await serverReadings(checkId)).length, { timeout: 30_000 }).toBe(20);
-    await page.getByTestId("sync-line").getByText(/All synced/).waitFor({ timeout: 20_000 });
+    await page
+      .getByTestId("sync-line")
+      .getByText(/All synced/)
+      .waitFor({ timeout: 20_000 });
     const rows = await serverReadings(checkId);
-    expect(rows.filter((r) => r.round === 0).map((r) => r.valve).sort()).toEqual(Object.keys(TAPS).sort());
+    expect(
+      rows
+        .filter((r) => r.round === 0)
+        .map((r) => r.valve)
+        .sort(),
+    ).toEqual(Object.keys(TAPS).sort());
     expect(rows.filter((r) => r.round === 1).map((r) => [r.valve, Number(r.feeler_go)])).toEqual([
       ["E2.1", 0.23],
       ["E3.1", 0.23],
@@ -221,46 +302,67 @@ describe("a deploy while a check is open", () => {
   });
 
   // Its own bound: two windows, a takeover, three steps offline and a sync, each wait bounded below.
-  it("a second window opened offline from A's copy keeps working when B takes over under it", { timeout: 240_000 }, async () => {
-    const first = ctx.pages()[0]!;
-    await ctx.setOffline(true);
-    const second = await ctx.newPage();
-    await second.goto(`${base}/engine?id=${engineId}`);
-    await second.getByText(/15,200 km/).first().waitFor({ timeout: 20_000 });
-    await expect(second.getByTestId("release").count()).resolves.toBe(0);
-    // the mechanic taps the reload in the first window: B takes over, that window reloads into B
-    await ctx.setOffline(false);
-    await first.getByRole("button", { name: "Reload" }).tap();
-    await first.getByTestId("release").getByText("Release B").waitFor({ timeout: 30_000 });
-    await expect.poll(() => measured(first), { timeout: 20_000 }).toMatch(/^16 of 16/);
-    // the second window still runs A, now under B's worker, and is told a new version is ready
-    await second.getByText("A new version is ready: reload (your readings are saved)").waitFor({ timeout: 10_000 });
-    await expect(second.getByTestId("release").count()).resolves.toBe(0);
-    // no HTTP cache and no signal: A's code for the check and its steps comes from the worker's copy
-    await clearHttpCache(second);
-    await ctx.setOffline(true);
-    const errors: string[] = [];
-    second.on("pageerror", (e) => errors.push(e.message));
-    await second.getByRole("link", { name: /15,200 km/ }).first().tap();
-    await second.waitForURL(/\/check\?id=/);
-    await steps(second).getByRole("button", { name: /Plan$/ }).tap();
-    await second.getByText("Plan per valve").waitFor({ timeout: 15_000 });
-    await steps(second).getByRole("button", { name: /Fit$/ }).tap();
-    await second.getByRole("heading", { name: /Swap list/ }).waitFor({ timeout: 15_000 });
-    await steps(second).getByRole("button", { name: /Re-check$/ }).tap();
-    await second.getByRole("heading", { name: /Measure the changed valves again/ }).waitFor({ timeout: 15_000 });
-    // a reading taken again in this window reaches the server once it is online
-    await second.getByRole("group", { name: "Feeler blades for I2.2" }).getByRole("button", { name: "0.15", exact: true }).tap();
-    expect(errors).toEqual([]);
-    await expect(second.getByTestId("load-failed").count()).resolves.toBe(0);
-    await ctx.setOffline(false);
-    await second.evaluate(() => window.dispatchEvent(new Event("online")));
-    await expect.poll(async () => Number((await serverReadings(checkId)).find((r) => r.valve === "I2.2" && r.round === 1)?.feeler_go), { timeout: 30_000 }).toBe(0.15);
-    expect(await serverReadings(checkId)).toHaveLength(20);
-    // and the reload there brings B
-    await second.getByRole("button", { name: "Reload" }).tap();
-    await second.getByTestId("release").getByText("Release B").waitFor({ timeout: 30_000 });
-  });
+  it(
+    "a second window opened offline from A's copy keeps working when B takes over under it",
+    { timeout: 240_000 },
+    async () => {
+      const first = ctx.pages()[0]!;
+      await ctx.setOffline(true);
+      const second = await ctx.newPage();
+      await second.goto(`${base}/engine?id=${engineId}`);
+      await second
+        .getByText(/15,200 km/)
+        .first()
+        .waitFor({ timeout: 20_000 });
+      await expect(second.getByTestId("release").count()).resolves.toBe(0);
+      // the mechanic taps the reload in the first window: B takes over, that window reloads into B
+      await ctx.setOffline(false);
+      await first.getByRole("button", { name: "Reload" }).tap();
+      await first.getByTestId("release").getByText("Release B").waitFor({ timeout: 30_000 });
+      await expect.poll(() => measured(first), { timeout: 20_000 }).toMatch(/^16 of 16/);
+      // the second window still runs A, now under B's worker, and is told a new version is ready
+      await second.getByText("A new version is ready: reload (your readings are saved)").waitFor({ timeout: 10_000 });
+      await expect(second.getByTestId("release").count()).resolves.toBe(0);
+      // no HTTP cache and no signal: A's code for the check and its steps comes from the worker's copy
+      await clearHttpCache(second);
+      await ctx.setOffline(true);
+      const errors: string[] = [];
+      second.on("pageerror", (e) => errors.push(e.message));
+      await second
+        .getByRole("link", { name: /15,200 km/ })
+        .first()
+        .tap();
+      await second.waitForURL(/\/check\?id=/);
+      await steps(second).getByRole("button", { name: /Plan$/ }).tap();
+      await second.getByText("Plan per valve").waitFor({ timeout: 15_000 });
+      await steps(second).getByRole("button", { name: /Fit$/ }).tap();
+      await second.getByRole("heading", { name: /Swap list/ }).waitFor({ timeout: 15_000 });
+      await steps(second)
+        .getByRole("button", { name: /Re-check$/ })
+        .tap();
+      await second.getByRole("heading", { name: /Measure the changed valves again/ }).waitFor({ timeout: 15_000 });
+      // a reading taken again in this window reaches the server once it is online
+      await second
+        .getByRole("group", { name: "Feeler blades for I2.2" })
+        .getByRole("button", { name: "0.15", exact: true })
+        .tap();
+      expect(errors).toEqual([]);
+      await expect(second.getByTestId("load-failed").count()).resolves.toBe(0);
+      await ctx.setOffline(false);
+      await second.evaluate(() => window.dispatchEvent(new Event("online")));
+      await expect
+        .poll(
+          async () =>
+            Number((await serverReadings(checkId)).find((r) => r.valve === "I2.2" && r.round === 1)?.feeler_go),
+          { timeout: 30_000 },
+        )
+        .toBe(0.15);
+      expect(await serverReadings(checkId)).toHaveLength(20);
+      // and the reload there brings B
+      await second.getByRole("button", { name: "Reload" }).tap();
+      await second.getByTestId("release").getByText("Release B").waitFor({ timeout: 30_000 });
+    },
+  );
 });
 
 describe("the deploy itself", () => {
@@ -286,7 +388,10 @@ describe("a newer build's database upgrade in another window", () => {
         req.onerror = () => reject(req.error);
       });
     });
-    await page.getByTestId("db-notice").getByText(/needs this one to reload \(your readings are saved\)/).waitFor({ timeout: 10_000 });
+    await page
+      .getByTestId("db-notice")
+      .getByText(/needs this one to reload \(your readings are saved\)/)
+      .waitFor({ timeout: 10_000 });
     await other.close();
   });
 });

@@ -19,12 +19,33 @@ import { makeUser } from "../support/fixtures";
 const OUT = path.resolve(__dirname, "../../test-results/worksheet");
 
 // Invented engines (test data): a twin with one intake and one exhaust per cylinder and a 0.025 mm
-// series (TRADE.md: common practice), and an inline six with four
+// series (docs/trade.md: common practice), and an inline six with four
 // valves per cylinder firing 1-5-3-6-2-4 (the preset's order).
 // The twin's shims sit over its buckets, the six's under them (the six's cams-out steps must still
 // leave the sheet on one page).
-const TWIN = { name: "Test twin, ‘green’ & co", cylinders: 2, intakePerCylinder: 1, exhaustPerCylinder: 1, firingOrder: [1, 2], intake: { min: 0.1, max: 0.15 }, exhaust: { min: 0.15, max: 0.2 }, shims: { min: 1.2, max: 3.0, step: 0.025 }, shimDiameter: 7.48, shimPosition: "over" };
-const SIX = { name: "Test six", cylinders: 6, intakePerCylinder: 2, exhaustPerCylinder: 2, firingOrder: [1, 5, 3, 6, 2, 4], intake: { min: 0.1, max: 0.2 }, exhaust: { min: 0.2, max: 0.3 }, shims: { min: 2.5, max: 3.3, step: 0.05 }, shimPosition: "under" };
+const TWIN = {
+  name: "Test twin, ‘green’ & co",
+  cylinders: 2,
+  intakePerCylinder: 1,
+  exhaustPerCylinder: 1,
+  firingOrder: [1, 2],
+  intake: { min: 0.1, max: 0.15 },
+  exhaust: { min: 0.15, max: 0.2 },
+  shims: { min: 1.2, max: 3.0, step: 0.025 },
+  shimDiameter: 7.48,
+  shimPosition: "over",
+};
+const SIX = {
+  name: "Test six",
+  cylinders: 6,
+  intakePerCylinder: 2,
+  exhaustPerCylinder: 2,
+  firingOrder: [1, 5, 3, 6, 2, 4],
+  intake: { min: 0.1, max: 0.2 },
+  exhaust: { min: 0.2, max: 0.3 },
+  shims: { min: 2.5, max: 3.3, step: 0.05 },
+  shimPosition: "under",
+};
 
 // Clearances from the default blade strips, some out of band, so the plan swaps and buys.
 const TWIN_READINGS = [
@@ -33,9 +54,17 @@ const TWIN_READINGS = [
   { valve: "I2.1", installedStamp: 2.45, installedMicrometer: 2.441, feelerGo: 0.2, feelerNoGo: 0.23, measured: 0.2 },
   { valve: "E2.1", installedStamp: 2.5, feelerGo: 0.1, feelerNoGo: 0.13, measured: 0.1 },
 ];
-const SIX_CLEARANCES = [0.15, 0.08, 0.25, 0.33, 0.13, 0.23, 0.28, 0.18, 0.15, 0.1, 0.25, 0.38, 0.2, 0.15, 0.3, 0.23, 0.05, 0.18, 0.25, 0.25, 0.15, 0.13, 0.4, 0.28];
+const SIX_CLEARANCES = [
+  0.15, 0.08, 0.25, 0.33, 0.13, 0.23, 0.28, 0.18, 0.15, 0.1, 0.25, 0.38, 0.2, 0.15, 0.3, 0.23, 0.05, 0.18, 0.25, 0.25,
+  0.15, 0.13, 0.4, 0.28,
+];
 const SIX_VALVES = [1, 2, 3, 4, 5, 6].flatMap((c) => [`I${c}.1`, `I${c}.2`, `E${c}.1`, `E${c}.2`]);
-const SIX_READINGS = SIX_VALVES.map((valve, i) => ({ valve, installedStamp: [2.6, 2.75, 2.9, 2.55][i % 4]!, feelerGo: SIX_CLEARANCES[i]!, measured: SIX_CLEARANCES[i]! }));
+const SIX_READINGS = SIX_VALVES.map((valve, i) => ({
+  valve,
+  installedStamp: [2.6, 2.75, 2.9, 2.55][i % 4]!,
+  feelerGo: SIX_CLEARANCES[i]!,
+  measured: SIX_CLEARANCES[i]!,
+}));
 
 let browser: Browser;
 const made: Record<string, { checkId: string; engine: LocalEngine; readings: typeof TWIN_READINGS }> = {};
@@ -45,10 +74,15 @@ beforeAll(async () => {
   mkdirSync(OUT, { recursive: true });
   user = await makeUser("paper");
   const api = await signedInClient(baseUrl(), user);
-  for (const [key, e, rs] of [["twin", TWIN, TWIN_READINGS], ["six", SIX, SIX_READINGS]] as const) {
+  for (const [key, e, rs] of [
+    ["twin", TWIN, TWIN_READINGS],
+    ["six", SIX, SIX_READINGS],
+  ] as const) {
     const engine = (await api.post("/api/engines", e)).json.engine;
     const checkId = (await api.post(`/api/engines/${engine.id}/checks`, { odometer: 23456 })).json.check.id as string;
-    const put = await api.put(`/api/checks/${checkId}/readings`, { readings: rs.map((r) => ({ ...r, method: "feeler" })) });
+    const put = await api.put(`/api/checks/${checkId}/readings`, {
+      readings: rs.map((r) => ({ ...r, method: "feeler" })),
+    });
     expect(put.status).toBe(200);
     made[key] = { checkId, engine: engine as LocalEngine, readings: rs as typeof TWIN_READINGS };
   }
@@ -77,7 +111,15 @@ describe("the printed worksheet", () => {
       await page.locator("article.worksheet").waitFor({ state: "attached" });
 
       // what the plan says, worked out here by the same core from the same readings
-      const local: LocalReading[] = readings.map((r) => ({ checkId, round: 0, installedMicrometer: null, fittedShim: null, method: "feeler", ...r, feelerNoGo: r.feelerNoGo ?? null }));
+      const local: LocalReading[] = readings.map((r) => ({
+        checkId,
+        round: 0,
+        installedMicrometer: null,
+        fittedShim: null,
+        method: "feeler",
+        ...r,
+        feelerNoGo: r.feelerNoGo ?? null,
+      }));
       const views = valveViews(engine, local, () => null);
       const plan = checkPlan(engine, views, [])!;
       const fine = key === "twin";
@@ -108,7 +150,13 @@ describe("the printed worksheet", () => {
           expect(line).toContain(shim(r.installedMicrometer ?? r.installedStamp));
           if (a.source.kind !== "keep") {
             expect(line).toContain(shim(a.size));
-            expect(line).toContain(a.source.kind === "valve" ? `from ${a.source.valveId}` : a.source.kind === "buy" ? "buy" : "from the tray");
+            expect(line).toContain(
+              a.source.kind === "valve"
+                ? `from ${a.source.valveId}`
+                : a.source.kind === "buy"
+                  ? "buy"
+                  : "from the tray",
+            );
           } else expect(line).toContain("keep");
         }
         // where the shims sit, and (under the buckets) which cams come out, from the plan's changed
@@ -129,7 +177,16 @@ describe("the printed worksheet", () => {
         for (const b of plan.buy) expect(text).toContain(`${b.count} × ${shim(b.size)}`);
         expect(plan.buy.length).toBeGreaterThan(0);
         // none of the app's controls reach the paper
-        for (const word of ["Print worksheet", "Download CSV", "Copy as text", "Engines", "Prepare", "Sign out", "Ask the club"]) expect(text).not.toContain(word);
+        for (const word of [
+          "Print worksheet",
+          "Download CSV",
+          "Copy as text",
+          "Engines",
+          "Prepare",
+          "Sign out",
+          "Ask the club",
+        ])
+          expect(text).not.toContain(word);
       }
       await ctx.close();
     });

@@ -9,14 +9,19 @@ import net from "node:net";
  * fetch installs on first use, and given a connector that binds the local address.
  */
 type Dispatcher = { close(): Promise<void> };
-type Connector = (opts: { hostname: string; port: string }, cb: (err: Error | null, socket: net.Socket | null) => void) => void;
+type Connector = (
+  opts: { hostname: string; port: string },
+  cb: (err: Error | null, socket: net.Socket | null) => void,
+) => void;
 let Agent: (new (o: { connect: Connector }) => Dispatcher) | undefined;
 const agents = new Map<string, Dispatcher>();
 
 async function dispatcherFrom(localAddress: string): Promise<Dispatcher> {
   if (!Agent) {
     await fetch("data:,");
-    Agent = ((globalThis as Record<symbol, unknown>)[Symbol.for("undici.globalDispatcher.1")] as { constructor: typeof Agent }).constructor;
+    Agent = (
+      (globalThis as Record<symbol, unknown>)[Symbol.for("undici.globalDispatcher.1")] as { constructor: typeof Agent }
+    ).constructor;
   }
   let a = agents.get(localAddress);
   if (!a) {
@@ -91,18 +96,37 @@ export class Client {
   }
 
   async raw(method: string, path: string, init: { body?: BodyInit; headers?: Record<string, string> } = {}) {
-    const res = await fetch(this.base + path, { method, redirect: "manual", headers: { ...this.origin(), ...(init.headers ?? {}) }, body: init.body, duplex: "half", ...(await this.via()) } as unknown as RequestInit);
+    const res = await fetch(this.base + path, {
+      method,
+      redirect: "manual",
+      headers: { ...this.origin(), ...(init.headers ?? {}) },
+      body: init.body,
+      duplex: "half",
+      ...(await this.via()),
+    } as unknown as RequestInit);
     this.remember(res);
     return res;
   }
 
   async call(method: string, path: string, body?: unknown) {
-    return answer(await this.raw(method, path, body === undefined ? {} : { body: JSON.stringify(body), headers: { "content-type": "application/json" } }));
+    return answer(
+      await this.raw(
+        method,
+        path,
+        body === undefined ? {} : { body: JSON.stringify(body), headers: { "content-type": "application/json" } },
+      ),
+    );
   }
 
   /** A multipart form, as the phone sends photos. */
   async form(method: string, path: string, form: FormData) {
-    const res = await fetch(this.base + path, { method, redirect: "manual", headers: this.origin(), body: form, ...(await this.via()) } as RequestInit);
+    const res = await fetch(this.base + path, {
+      method,
+      redirect: "manual",
+      headers: this.origin(),
+      body: form,
+      ...(await this.via()),
+    } as RequestInit);
     this.remember(res);
     return answer(res);
   }
@@ -114,10 +138,17 @@ export class Client {
   del = (p: string) => this.call("DELETE", p);
 
   /** Sign in with a next-auth credentials provider; returns the error code, or null on success. */
-  async signIn(provider: "password" | "email-link", fields: Record<string, string>, headers: Record<string, string> = {}): Promise<string | null> {
+  async signIn(
+    provider: "password" | "email-link",
+    fields: Record<string, string>,
+    headers: Record<string, string> = {},
+  ): Promise<string | null> {
     const csrf = await this.call("GET", "/api/auth/csrf");
     const form = new URLSearchParams({ ...fields, csrfToken: csrf.json.csrfToken as string, json: "true" });
-    const res = await this.raw("POST", `/api/auth/callback/${provider}`, { body: form.toString(), headers: { "content-type": "application/x-www-form-urlencoded", ...headers } });
+    const res = await this.raw("POST", `/api/auth/callback/${provider}`, {
+      body: form.toString(),
+      headers: { "content-type": "application/x-www-form-urlencoded", ...headers },
+    });
     const body = (await res.json().catch(() => ({}))) as { url?: string };
     const error = body.url ? new URL(body.url).searchParams.get("error") : "no-url";
     return error;
@@ -126,7 +157,10 @@ export class Client {
   async signOut() {
     const csrf = await this.call("GET", "/api/auth/csrf");
     const form = new URLSearchParams({ csrfToken: csrf.json.csrfToken as string, json: "true" });
-    await this.raw("POST", "/api/auth/signout", { body: form.toString(), headers: { "content-type": "application/x-www-form-urlencoded" } });
+    await this.raw("POST", "/api/auth/signout", {
+      body: form.toString(),
+      headers: { "content-type": "application/x-www-form-urlencoded" },
+    });
   }
 }
 

@@ -1,14 +1,27 @@
 import { chromium, type Browser, type BrowserContext, type Page } from "playwright-core";
 
 /** Debian's Chromium, with the flags that keep it from calling out of this closed network. */
-export const CHROMIUM_ARGS = ["--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run", "--disable-background-networking", "--disable-component-update", "--disable-sync"];
+export const CHROMIUM_ARGS = [
+  "--no-sandbox",
+  "--disable-gpu",
+  "--disable-quic",
+  "--no-first-run",
+  "--disable-background-networking",
+  "--disable-component-update",
+  "--disable-sync",
+];
 
 export function launch(): Promise<Browser> {
   return chromium.launch({ executablePath: process.env.CHROMIUM_PATH ?? "/usr/bin/chromium", args: CHROMIUM_ARGS });
 }
 
 /** A phone held in portrait: 412 x 915 CSS pixels, touch, 2.6x density. */
-export const PHONE = { viewport: { width: 412, height: 915 }, deviceScaleFactor: 2.625, isMobile: true, hasTouch: true } as const;
+export const PHONE = {
+  viewport: { width: 412, height: 915 },
+  deviceScaleFactor: 2.625,
+  isMobile: true,
+  hasTouch: true,
+} as const;
 
 export function phoneContext(browser: Browser, colorScheme: "dark" | "light" = "dark"): Promise<BrowserContext> {
   return browser.newContext({ ...PHONE, colorScheme });
@@ -39,6 +52,9 @@ export async function signInAs(page: Page, email: string, password = DEMO_PASSWO
 export async function tapReading(page: Page, valve: string, blade: string) {
   const esc = valve.replace(".", "\\.");
   await page.getByRole("button", { name: new RegExp(`^${esc} `) }).tap();
-  await page.getByRole("group", { name: `Feeler blades for ${valve}` }).getByRole("button", { name: blade, exact: true }).tap();
+  await page
+    .getByRole("group", { name: `Feeler blades for ${valve}` })
+    .getByRole("button", { name: blade, exact: true })
+    .tap();
   await page.getByRole("button", { name: new RegExp(`^${esc} (in band|tight|loose|verified)`) }).waitFor();
 }

@@ -8,13 +8,28 @@ export const ODOMETER = 43_800;
 // intake band 0.10-0.20, exhaust 0.20-0.30 on 2.60 shims (ENGINE_FOUR): four valves out of band,
 // two intake tight and two exhaust loose, so the plan changes four shims
 const GO: Record<string, number> = {
-  "I1.1": 0.15, "I1.2": 0.13, "E1.1": 0.25, "E1.2": 0.23,
-  "I2.1": 0.15, "I2.2": 0.08, "E2.1": 0.33, "E2.2": 0.25,
-  "I3.1": 0.18, "I3.2": 0.15, "E3.1": 0.38, "E3.2": 0.25,
-  "I4.1": 0.05, "I4.2": 0.15, "E4.1": 0.28, "E4.2": 0.25,
+  "I1.1": 0.15,
+  "I1.2": 0.13,
+  "E1.1": 0.25,
+  "E1.2": 0.23,
+  "I2.1": 0.15,
+  "I2.2": 0.08,
+  "E2.1": 0.33,
+  "E2.2": 0.25,
+  "I3.1": 0.18,
+  "I3.2": 0.15,
+  "E3.1": 0.38,
+  "E3.2": 0.25,
+  "I4.1": 0.05,
+  "I4.2": 0.15,
+  "E4.1": 0.28,
+  "E4.2": 0.25,
 };
 // a common metric feeler set (from memory): the blade that does not go is the next one up
-const BLADES = [0.02, 0.03, 0.04, 0.05, 0.06, 0.07, 0.08, 0.09, 0.1, 0.13, 0.15, 0.18, 0.2, 0.23, 0.25, 0.28, 0.3, 0.33, 0.38, 0.4, 0.45, 0.5];
+const BLADES = [
+  0.02, 0.03, 0.04, 0.05, 0.06, 0.07, 0.08, 0.09, 0.1, 0.13, 0.15, 0.18, 0.2, 0.23, 0.25, 0.28, 0.3, 0.33, 0.38, 0.4,
+  0.45, 0.5,
+];
 
 export interface Person {
   id: string;
@@ -48,16 +63,30 @@ export async function clubScenario(base: string, tag: string, engines: { name: s
     const engineId = crypto.randomUUID();
     const checkId = crypto.randomUUID();
     const mutations = [
-      { id: ++id, name: "engine.put/1", args: { ...ENGINE_FOUR, id: engineId, name: e.name, shimDiameter: SHIM_DIAMETER, assembledShim: 2.6 } },
+      {
+        id: ++id,
+        name: "engine.put/1",
+        args: { ...ENGINE_FOUR, id: engineId, name: e.name, shimDiameter: SHIM_DIAMETER, assembledShim: 2.6 },
+      },
       { id: ++id, name: "check.put/1", args: { id: checkId, engineId, odometer: ODOMETER } },
       ...Object.entries(GO).map(([valve, go]) => ({
         id: ++id,
         name: "reading.put/1",
-        args: { checkId, reading: { valve, installedStamp: 2.6, feelerGo: go, feelerNoGo: BLADES[BLADES.indexOf(go) + 1], measured: go } },
+        args: {
+          checkId,
+          reading: {
+            valve,
+            installedStamp: 2.6,
+            feelerGo: go,
+            feelerNoGo: BLADES[BLADES.indexOf(go) + 1],
+            measured: go,
+          },
+        },
       })),
     ];
     const pushed = await mechanic.api.post("/api/sync/push", { clientId, mutations });
-    if (pushed.status !== 200 || pushed.json.rejected.length) throw new Error(`scenario push refused: ${JSON.stringify(pushed.json)}`);
+    if (pushed.status !== 200 || pushed.json.rejected.length)
+      throw new Error(`scenario push refused: ${JSON.stringify(pushed.json)}`);
     if (e.shared) {
       const s = await mechanic.api.post(`/api/checks/${checkId}/shares`, { clubId: club.id });
       if (s.status !== 201) throw new Error(`scenario share refused: ${JSON.stringify(s.json)}`);
@@ -75,7 +104,12 @@ export async function offerSpares(lender: Person, clubId: string) {
   for (let size = 2.3; size < 2.905; size = Math.round((size + 0.05) * 100) / 100) {
     const t = await lender.api.post("/api/tray", { size, count: 4, shimDiameter: SHIM_DIAMETER });
     if (t.status !== 201 && t.status !== 200) throw new Error(`tray refused: ${JSON.stringify(t.json)}`);
-    const o = await lender.api.post(`/api/clubs/${clubId}/pool`, { size, count: 4, shimDiameter: SHIM_DIAMETER, note: "In the tin on the club bench" });
+    const o = await lender.api.post(`/api/clubs/${clubId}/pool`, {
+      size,
+      count: 4,
+      shimDiameter: SHIM_DIAMETER,
+      note: "In the tin on the club bench",
+    });
     if (o.status !== 201) throw new Error(`offer refused: ${JSON.stringify(o.json)}`);
   }
 }

@@ -14,5 +14,8 @@ export function clusterSpec(): ClusterSpec {
  */
 export async function startInstances(spec = clusterSpec()): Promise<[App, App]> {
   const fast = { SYNC_WRITES_PER_MINUTE: "10000000" };
-  return Promise.all([startApp({ DATABASE_URL: spec.urls[0]!, ...fast }), startApp({ DATABASE_URL: spec.urls[1]!, ...fast })]);
+  return Promise.all([
+    startApp({ DATABASE_URL: spec.urls[0]!, ...fast }),
+    startApp({ DATABASE_URL: spec.urls[1]!, ...fast }),
+  ]);
 }

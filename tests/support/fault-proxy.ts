@@ -26,7 +26,15 @@ const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
 
 export async function startFaultProxy(target: string, seed: number): Promise<FaultProxy> {
   const rng = xoroshiro128plus(seed);
-  const counts: Record<Fault, number> = { pass: 0, reset: 0, "drop-answer": 0, duplicate: 0, "late-replay": 0, delay: 0, "upstream-down": 0 };
+  const counts: Record<Fault, number> = {
+    pass: 0,
+    reset: 0,
+    "drop-answer": 0,
+    duplicate: 0,
+    "late-replay": 0,
+    delay: 0,
+    "upstream-down": 0,
+  };
   const late = new Set<Promise<unknown>>();
   let calm = false;
 
@@ -42,8 +50,16 @@ export async function startFaultProxy(target: string, seed: number): Promise<Fau
   };
 
   const forward = async (method: string, path: string, headers: Record<string, string>, body: Buffer) => {
-    const res = await fetch(target + path, { method, headers, body: method === "GET" || method === "HEAD" ? undefined : new Uint8Array(body) });
-    return { status: res.status, type: res.headers.get("content-type") ?? "application/json", body: Buffer.from(await res.arrayBuffer()) };
+    const res = await fetch(target + path, {
+      method,
+      headers,
+      body: method === "GET" || method === "HEAD" ? undefined : new Uint8Array(body),
+    });
+    return {
+      status: res.status,
+      type: res.headers.get("content-type") ?? "application/json",
+      body: Buffer.from(await res.arrayBuffer()),
+    };
   };
 
   const server = http.createServer(async (req, res) => {
@@ -51,7 +67,8 @@ export async function startFaultProxy(target: string, seed: number): Promise<Fau
     for await (const c of req) chunks.push(c as Buffer);
     const body = Buffer.concat(chunks);
     const headers: Record<string, string> = {};
-    for (const h of ["content-type", "cookie", "sec-fetch-site"]) if (req.headers[h]) headers[h] = String(req.headers[h]);
+    for (const h of ["content-type", "cookie", "sec-fetch-site"])
+      if (req.headers[h]) headers[h] = String(req.headers[h]);
     const fault = pick();
     const delayMs = fault === "delay" ? uniformInt(rng, 20, 400) : 0;
     const replayMs = fault === "late-replay" ? uniformInt(rng, 100, 1500) : 0;

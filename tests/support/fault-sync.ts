@@ -57,12 +57,29 @@ function phone(run: Run, name: string, base: string): Phone {
   // each phone its own IndexedDB (fake-indexeddb), as two browsers would have
   const db = openLocalDb(`${run.user.id}-${name}`, new IDBFactory(), IDBKeyRange);
   const checkId = crypto.randomUUID();
-  return { name, base, run, db, engineId: crypto.randomUUID(), checkId, checkIds: [checkId], readings: 0, trayIds: [], commentIds: [], written: 0, syncErrors: 0 };
+  return {
+    name,
+    base,
+    run,
+    db,
+    engineId: crypto.randomUUID(),
+    checkId,
+    checkIds: [checkId],
+    readings: 0,
+    trayIds: [],
+    commentIds: [],
+    written: 0,
+    syncErrors: 0,
+  };
 }
 
 async function trySync(p: Phone) {
   // the app's own pages send Sec-Fetch-Site: same-origin, as a browser does
-  const fetcher = (url: string, init: RequestInit) => fetch(url, { ...init, headers: { ...(init.headers as Record<string, string>), cookie: p.run.cookie, "sec-fetch-site": "same-origin" } });
+  const fetcher = (url: string, init: RequestInit) =>
+    fetch(url, {
+      ...init,
+      headers: { ...(init.headers as Record<string, string>), cookie: p.run.cookie, "sec-fetch-site": "same-origin" },
+    });
   try {
     await syncOnce(p.db, fetcher, p.base);
   } catch {
@@ -72,7 +89,17 @@ async function trySync(p: Phone) {
 
 function reading(valve: string, round: number, i: number) {
   const go = BLADES[i % (BLADES.length - 1)]!;
-  return { valve, round, installedStamp: Math.round((2.5 + (i % 16) * 0.05) * 100) / 100, installedMicrometer: null, feelerGo: go, feelerNoGo: BLADES[(i % (BLADES.length - 1)) + 1]!, measured: go, method: "feeler" as const, fittedShim: null };
+  return {
+    valve,
+    round,
+    installedStamp: Math.round((2.5 + (i % 16) * 0.05) * 100) / 100,
+    installedMicrometer: null,
+    feelerGo: go,
+    feelerNoGo: BLADES[(i % (BLADES.length - 1)) + 1]!,
+    measured: go,
+    method: "feeler" as const,
+    fittedShim: null,
+  };
 }
 
 /** Phone A: each (valve, round) once, and comments. */
@@ -80,7 +107,13 @@ async function writeA(p: Phone, i: number) {
   if (i % 10 === 9) {
     const id = crypto.randomUUID();
     p.commentIds.push(id);
-    return addComment(p.db, { id, checkId: p.checkId, authorId: p.run.user.id, body: `note ${i} <b>&'"; DROP TABLE comments;--`, valve: VALVES[i % 16]! });
+    return addComment(p.db, {
+      id,
+      checkId: p.checkId,
+      authorId: p.run.user.id,
+      body: `note ${i} <b>&'"; DROP TABLE comments;--`,
+      valve: VALVES[i % 16]!,
+    });
   }
   const k = p.readings++;
   const per = VALVES.length * 50;
@@ -94,9 +127,24 @@ async function writeA(p: Phone, i: number) {
 /** Phone B: the same few records over and over. */
 async function writeB(p: Phone, i: number, rng: ReturnType<typeof xoroshiro128plus>) {
   const r = uniformInt(rng, 0, 9);
-  if (r < 6) return saveReading(p.db, p.checkId, reading(VALVES[uniformInt(rng, 0, 15)]!, uniformInt(rng, 0, 4), uniformInt(rng, 0, 1000)));
-  if (r < 9) return saveTrayItem(p.db, { id: p.trayIds[uniformInt(rng, 0, p.trayIds.length - 1)]!, size: 2.6, measuredSize: false, count: uniformInt(rng, 0, 40) });
-  return saveEngine(p.db, { ...ENGINE_FOUR, id: p.engineId, name: `B engine rev ${i}` } as MutationArgs<"engine.put/1">);
+  if (r < 6)
+    return saveReading(
+      p.db,
+      p.checkId,
+      reading(VALVES[uniformInt(rng, 0, 15)]!, uniformInt(rng, 0, 4), uniformInt(rng, 0, 1000)),
+    );
+  if (r < 9)
+    return saveTrayItem(p.db, {
+      id: p.trayIds[uniformInt(rng, 0, p.trayIds.length - 1)]!,
+      size: 2.6,
+      measuredSize: false,
+      count: uniformInt(rng, 0, 40),
+    });
+  return saveEngine(p.db, {
+    ...ENGINE_FOUR,
+    id: p.engineId,
+    name: `B engine rev ${i}`,
+  } as MutationArgs<"engine.put/1">);
 }
 
 async function setUpPhone(p: Phone) {
@@ -135,14 +183,19 @@ export async function runFaultSync(run: Run) {
   await Promise.all([
     write(a, run.total / 2, xoroshiro128plus(run.seed + 1), async () => {
       const t = Date.now();
-      outage = run.midRun().then(() => console.log(`[faults] ${run.midRunSays} at ${Math.round((t - t0) / 100) / 10} s, for ${Date.now() - t} ms`));
+      outage = run
+        .midRun()
+        .then(() =>
+          console.log(`[faults] ${run.midRunSays} at ${Math.round((t - t0) / 100) / 10} s, for ${Date.now() - t} ms`),
+        );
     }),
     write(b, run.total / 2, xoroshiro128plus(run.seed + 2)),
   ]);
   expect(outage).toBeDefined();
   await outage;
   // keep syncing (still through the faults) until both outboxes are empty
-  for (let round = 0; round < 200 && ((await a.db.outbox.count()) || (await b.db.outbox.count())); round++) await Promise.all([trySync(a), trySync(b)]);
+  for (let round = 0; round < 200 && ((await a.db.outbox.count()) || (await b.db.outbox.count())); round++)
+    await Promise.all([trySync(a), trySync(b)]);
   await Promise.all(run.proxies.map((p) => p.settle()));
   // one calm pass so each phone has pulled the last of its own changes back
   for (const p of run.proxies) p.calm();
@@ -153,29 +206,71 @@ export async function runFaultSync(run: Run) {
   const db = await rawConnection();
   // on a cluster, read only once this node has applied every commit made anywhere before
   await db.query("SET SESSION wsrep_sync_wait = 1");
-  const q = async <T,>(sql: string, args: unknown[]) => (await db.query(sql, args))[0] as T[];
+  const q = async <T>(sql: string, args: unknown[]) => (await db.query(sql, args))[0] as T[];
   for (const p of [a, b]) {
-    const local = (await p.db.readings.where("checkId").anyOf(p.checkIds).toArray()).map((r) => [r.checkId, r.valve, r.round, r.installedStamp, r.feelerGo, r.feelerNoGo].join(" ")).sort();
-    const server = (await q<{ check_id: string; valve: string; round: number; installed_stamp: string; feeler_go: string; feeler_no_go: string }>("SELECT check_id, valve, round, installed_stamp, feeler_go, feeler_no_go FROM readings WHERE check_id IN (?)", [p.checkIds]))
-      .map((r) => [r.check_id, r.valve, r.round, Number(r.installed_stamp), Number(r.feeler_go), Number(r.feeler_no_go)].join(" "))
+    const local = (await p.db.readings.where("checkId").anyOf(p.checkIds).toArray())
+      .map((r) => [r.checkId, r.valve, r.round, r.installedStamp, r.feelerGo, r.feelerNoGo].join(" "))
+      .sort();
+    const server = (
+      await q<{
+        check_id: string;
+        valve: string;
+        round: number;
+        installed_stamp: string;
+        feeler_go: string;
+        feeler_no_go: string;
+      }>(
+        "SELECT check_id, valve, round, installed_stamp, feeler_go, feeler_no_go FROM readings WHERE check_id IN (?)",
+        [p.checkIds],
+      )
+    )
+      .map((r) =>
+        [r.check_id, r.valve, r.round, Number(r.installed_stamp), Number(r.feeler_go), Number(r.feeler_no_go)].join(
+          " ",
+        ),
+      )
       .sort();
     expect(server.length, `${p.name}: reading count`).toBe(local.length);
     expect(server, `${p.name}: readings`).toEqual(local);
-    const localTray = (await p.db.tray.bulkGet(p.trayIds)).map((t) => t!).map((t) => [t.id, t.count]).sort();
-    const serverTray = (await q<{ id: string; count: number }>("SELECT id, count FROM tray_items WHERE owner_id = ? AND id IN (?)", [run.user.id, p.trayIds])).map((t) => [t.id, t.count]).sort();
+    const localTray = (await p.db.tray.bulkGet(p.trayIds))
+      .map((t) => t!)
+      .map((t) => [t.id, t.count])
+      .sort();
+    const serverTray = (
+      await q<{ id: string; count: number }>("SELECT id, count FROM tray_items WHERE owner_id = ? AND id IN (?)", [
+        run.user.id,
+        p.trayIds,
+      ])
+    )
+      .map((t) => [t.id, t.count])
+      .sort();
     expect(serverTray, `${p.name}: tray`).toEqual(localTray);
     const [engine] = await q<{ name: string }>("SELECT name FROM engines WHERE id = ?", [p.engineId]);
     expect(engine?.name, `${p.name}: engine`).toBe((await p.db.engines.get(p.engineId))?.name);
     const clientId = await getMeta<string>(p.db, "clientId");
-    const [sc] = await q<{ last_mutation_id: number }>("SELECT last_mutation_id FROM sync_clients WHERE id = ?", [clientId]);
-    expect(sc?.last_mutation_id, `${p.name}: last applied id`).toBe(((await getMeta<number>(p.db, "nextMutationId")) ?? 1) - 1);
-    const refused = await q<{ mutation_id: number; name: string; reason: string }>("SELECT mutation_id, name, reason FROM rejected_mutations WHERE client_id = ?", [clientId]);
+    const [sc] = await q<{ last_mutation_id: number }>("SELECT last_mutation_id FROM sync_clients WHERE id = ?", [
+      clientId,
+    ]);
+    expect(sc?.last_mutation_id, `${p.name}: last applied id`).toBe(
+      ((await getMeta<number>(p.db, "nextMutationId")) ?? 1) - 1,
+    );
+    const refused = await q<{ mutation_id: number; name: string; reason: string }>(
+      "SELECT mutation_id, name, reason FROM rejected_mutations WHERE client_id = ?",
+      [clientId],
+    );
     expect(refused, `${p.name}: refused`).toEqual([]);
   }
   // phone A wrote each reading once: a second application would have put its first value in history
-  const [hist] = await q<{ n: number }>("SELECT COUNT(*) AS n FROM reading_history h JOIN readings r ON r.id = h.reading_id WHERE r.check_id IN (?)", [a.checkIds]);
+  const [hist] = await q<{ n: number }>(
+    "SELECT COUNT(*) AS n FROM reading_history h JOIN readings r ON r.id = h.reading_id WHERE r.check_id IN (?)",
+    [a.checkIds],
+  );
   expect(Number(hist!.n)).toBe(0);
-  const comments = (await q<{ id: string; body: string }>("SELECT id, body FROM comments WHERE check_id = ?", [a.checkId])).map((c) => c.id).sort();
+  const comments = (
+    await q<{ id: string; body: string }>("SELECT id, body FROM comments WHERE check_id = ?", [a.checkId])
+  )
+    .map((c) => c.id)
+    .sort();
   expect(comments).toEqual([...a.commentIds].sort());
   await db.end();
   const readingsA = a.readings;
@@ -183,7 +278,11 @@ export async function runFaultSync(run: Run) {
   for (const p of run.proxies) for (const [k, v] of Object.entries(p.counts)) counts[k] = (counts[k] ?? 0) + v;
   console.log(
     `[faults] ${a.written + b.written} mutations (${readingsA} readings written once, ${a.commentIds.length} comments, the rest overwrites) in ${Math.round((Date.now() - t0) / 1000)} s; ` +
-      `proxy: ${Object.entries(counts).map(([k, v]) => `${k} ${v}`).join(", ")}; failed syncs retried: A ${a.syncErrors}, B ${b.syncErrors}; ${run.midRunSays} once; lost 0, applied twice 0`,
+      `proxy: ${Object.entries(counts)
+        .map(([k, v]) => `${k} ${v}`)
+        .join(
+          ", ",
+        )}; failed syncs retried: A ${a.syncErrors}, B ${b.syncErrors}; ${run.midRunSays} once; lost 0, applied twice 0`,
   );
   expect(counts["drop-answer"]).toBeGreaterThan(0);
   expect(counts["late-replay"]).toBeGreaterThan(0);

@@ -11,14 +11,24 @@ export async function makeUser(tag: string) {
   const id = crypto.randomUUID();
   const email = `${tag}-${id.slice(0, 8)}@test.example`;
   const c = await mysql.createConnection({ uri: testDbUrl() });
-  await c.query("INSERT INTO users (id, email, name, password_hash, email_verified_at) VALUES (?, ?, ?, ?, NOW(3))", [id, email, `Test ${tag}`, cachedHash]);
+  await c.query("INSERT INTO users (id, email, name, password_hash, email_verified_at) VALUES (?, ?, ?, ?, NOW(3))", [
+    id,
+    email,
+    `Test ${tag}`,
+    cachedHash,
+  ]);
   await c.end();
   return { id, email, password: FIXTURE_PASSWORD };
 }
 
 export async function addMembership(clubId: string, userId: string, roles: string[]) {
   const c = await mysql.createConnection({ uri: testDbUrl() });
-  for (const role of roles) await c.query("INSERT INTO memberships (id, club_id, user_id, role) VALUES (UUID(), ?, ?, ?)", [clubId, userId, role]);
+  for (const role of roles)
+    await c.query("INSERT INTO memberships (id, club_id, user_id, role) VALUES (UUID(), ?, ?, ?)", [
+      clubId,
+      userId,
+      role,
+    ]);
   await c.end();
 }
 

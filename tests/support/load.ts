@@ -125,9 +125,14 @@ export class Phone {
     const t0 = performance.now();
     while (this.outbox.length) {
       const batch = this.outbox.slice(0, 200);
-      const r = await this.post<{ lastMutationId: number; rejected: { id: number; reason: string }[] }>(`push (${label})`, "/api/sync/push", () => ({ clientId: this.clientId, mutations: batch }));
+      const r = await this.post<{ lastMutationId: number; rejected: { id: number; reason: string }[] }>(
+        `push (${label})`,
+        "/api/sync/push",
+        () => ({ clientId: this.clientId, mutations: batch }),
+      );
       const rejected = new Map(r.rejected.map((x) => [x.id, x.reason]));
-      for (const m of this.outbox.filter((m) => m.id <= r.lastMutationId)) this.acknowledged.set(m.id, { name: m.name, rejected: rejected.get(m.id) });
+      for (const m of this.outbox.filter((m) => m.id <= r.lastMutationId))
+        this.acknowledged.set(m.id, { name: m.name, rejected: rejected.get(m.id) });
       this.outbox = this.outbox.filter((m) => m.id > r.lastMutationId);
     }
     const p = await this.post<{ cursor: number }>(`pull (${label})`, "/api/sync/pull", () => ({ cursor: this.cursor }));
@@ -141,9 +146,13 @@ export class Phone {
 export const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
 
 /** The figures as a table: one line per kind, the direct database work beside the HTTP one. */
-export function table(rows: { kind: string; http: ReturnType<Stats["summary"]>; direct?: ReturnType<Stats["summary"]>; notes?: string }[]) {
+export function table(
+  rows: { kind: string; http: ReturnType<Stats["summary"]>; direct?: ReturnType<Stats["summary"]>; notes?: string }[],
+) {
   const f = (v: number) => (Number.isNaN(v) ? "-" : `${Math.round(v)}`);
-  const lines = [`${"kind".padEnd(30)} ${"n".padStart(6)} ${"p50 ms".padStart(8)} ${"p95 ms".padStart(8)} ${"max ms".padStart(8)} | ${"direct p50".padStart(10)} ${"p95".padStart(6)} ${"max".padStart(6)}  notes`];
+  const lines = [
+    `${"kind".padEnd(30)} ${"n".padStart(6)} ${"p50 ms".padStart(8)} ${"p95 ms".padStart(8)} ${"max ms".padStart(8)} | ${"direct p50".padStart(10)} ${"p95".padStart(6)} ${"max".padStart(6)}  notes`,
+  ];
   for (const r of rows)
     lines.push(
       `${r.kind.padEnd(30)} ${String(r.http.n).padStart(6)} ${f(r.http.p50).padStart(8)} ${f(r.http.p95).padStart(8)} ${f(r.http.max).padStart(8)} | ${(r.direct ? f(r.direct.p50) : "").padStart(10)} ${(r.direct ? f(r.direct.p95) : "").padStart(6)} ${(r.direct ? f(r.direct.max) : "").padStart(6)}  ${r.notes ?? ""}`,

@@ -4,17 +4,27 @@ import { ListObjectsV2Command, S3Client } from "@aws-sdk/client-s3";
 /** A real JPEG as a phone camera makes one: large, with the camera's make and a GPS position. */
 export async function cameraJpeg(width = 2400, height = 1800) {
   return sharp({ create: { width, height, channels: 3, background: "#7a5a3a" } })
-    .withExif({ IFD0: { Make: "TestCam" }, IFD3: { GPSLatitudeRef: "N", GPSLatitude: "51/1 30/1 0/1", GPSLongitudeRef: "W", GPSLongitude: "1/1 15/1 0/1" } })
+    .withExif({
+      IFD0: { Make: "TestCam" },
+      IFD3: { GPSLatitudeRef: "N", GPSLatitude: "51/1 30/1 0/1", GPSLongitudeRef: "W", GPSLongitude: "1/1 15/1 0/1" },
+    })
     .jpeg({ quality: 90 })
     .toBuffer();
 }
 
-export function photoForm(file: Buffer | Uint8Array, fields: { id?: string; valve?: string; commentId?: string; name?: string; type?: string } = {}) {
+export function photoForm(
+  file: Buffer | Uint8Array,
+  fields: { id?: string; valve?: string; commentId?: string; name?: string; type?: string } = {},
+) {
   const form = new FormData();
   form.set("id", fields.id ?? crypto.randomUUID());
   if (fields.valve) form.set("valve", fields.valve);
   if (fields.commentId) form.set("commentId", fields.commentId);
-  form.set("file", new Blob([new Uint8Array(file)], { type: fields.type ?? "image/jpeg" }), fields.name ?? "blade-in-gap.jpg");
+  form.set(
+    "file",
+    new Blob([new Uint8Array(file)], { type: fields.type ?? "image/jpeg" }),
+    fields.name ?? "blade-in-gap.jpg",
+  );
   return form;
 }
 
@@ -24,11 +34,16 @@ export async function storedKeys(prefix = ""): Promise<string[]> {
     endpoint: process.env.S3_ENDPOINT,
     region: "us-east-1",
     forcePathStyle: true,
-    credentials: { accessKeyId: process.env.S3_ACCESS_KEY ?? "S3RVER", secretAccessKey: process.env.S3_SECRET_KEY ?? "S3RVER" },
+    credentials: {
+      accessKeyId: process.env.S3_ACCESS_KEY ?? "S3RVER",
+      secretAccessKey: process.env.S3_SECRET_KEY ?? "S3RVER",
+    },
     requestChecksumCalculation: "WHEN_REQUIRED",
     responseChecksumValidation: "WHEN_REQUIRED",
   });
-  const r = await s3.send(new ListObjectsV2Command({ Bucket: process.env.S3_BUCKET ?? "lashwright-photos", Prefix: prefix }));
+  const r = await s3.send(
+    new ListObjectsV2Command({ Bucket: process.env.S3_BUCKET ?? "lashwright-photos", Prefix: prefix }),
+  );
   return (r.Contents ?? []).map((o) => o.Key!);
 }
 
@@ -43,5 +58,7 @@ export function noisyPng(seed: number) {
     x = (x * 1103515245 + 12345) >>> 0;
     b[i] = x >>> 24;
   }
-  return sharp(b, { raw: { width: 400, height: 300, channels: 3 } }).png().toBuffer();
+  return sharp(b, { raw: { width: 400, height: 300, channels: 3 } })
+    .png()
+    .toBuffer();
 }

@@ -38,7 +38,7 @@ function lexLess(a: readonly number[], b: readonly number[]) {
 
 /**
  * A valve's own answer from the catalog, enumerated here rather than asked of the code under test
- * (DESIGN.md section 4.2 read literally): every size whose predicted clearance lands in the band,
+ * (README "The computation core" read literally): every size whose predicted clearance lands in the band,
  * nearest the target, the thinner on a tie; when none lands, the installed shim or the size nearest
  * the band that still leaves a clearance, the thinner on a tie.
  */
@@ -58,7 +58,8 @@ function catalogAnswer(v: PlanValve, sizes: number[]) {
   const outside = (p: number) => (p < lo ? lo - p : p > hi ? p - hi : 0);
   const options = [{ s: nm(v.installed), p: nm(v.measured) }, ...all].filter((c) => c.p > 0);
   let best = options[0]!;
-  for (const c of options) if (outside(c.p) < outside(best.p) || (outside(c.p) === outside(best.p) && c.s < best.s)) best = c;
+  for (const c of options)
+    if (outside(c.p) < outside(best.p) || (outside(c.p) === outside(best.p) && c.s < best.s)) best = c;
   return { inSpec: false, change: best.s !== nm(v.installed), predicted: best.p / 1e6 };
 }
 
@@ -67,7 +68,12 @@ function catalogAnswer(v: PlanValve, sizes: number[]) {
  * valve's shim, one from the tray, or its own fallback (buy the catalog's best size, or keep the shim
  * when nothing in the catalog does better). Physical shims are used only where they land in the band.
  */
-export function bruteForce(valves: PlanValve[], sizes: number[], tray: { size: number; count: number }[], club: { size: number; count: number; ownerId: string }[] = []) {
+export function bruteForce(
+  valves: PlanValve[],
+  sizes: number[],
+  tray: { size: number; count: number }[],
+  club: { size: number; count: number; ownerId: string }[] = [],
+) {
   const inBand = (p: number, v: PlanValve) => p >= nm(v.spec.min) && p <= nm(v.spec.max);
   const rows = valves.filter((v) => !inBand(nm(v.measured), v));
   const fallbacks = rows.map((v) => catalogAnswer(v, sizes));
@@ -95,7 +101,9 @@ export function bruteForce(valves: PlanValve[], sizes: number[], tray: { size: n
     const add = (d: number[]) => d.forEach((x, k) => (acc[k]! += x));
     const sub = (d: number[]) => d.forEach((x, k) => (acc[k]! -= x));
     const f = fallbacks[i]!;
-    const fd = f.inSpec ? [0, f.change ? 1 : 0, 0, Math.abs(nm(f.predicted) - target), nm(f.predicted) < target ? 1 : 0] : [1, f.change ? 1 : 0, 0, 0, 0];
+    const fd = f.inSpec
+      ? [0, f.change ? 1 : 0, 0, Math.abs(nm(f.predicted) - target), nm(f.predicted) < target ? 1 : 0]
+      : [1, f.change ? 1 : 0, 0, 0, 0];
     add(fd);
     walk(i + 1);
     sub(fd);
@@ -124,4 +132,3 @@ export function bruteForce(valves: PlanValve[], sizes: number[], tray: { size: n
   walk(0);
   return best!;
 }
-

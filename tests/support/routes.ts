@@ -10,8 +10,17 @@ export function routesOnDisk(): string[] {
       const p = path.join(dir, f);
       if (statSync(p).isDirectory()) walk(p);
       else if (f === "route.ts") {
-        const url = "/api/" + path.relative(api, dir).split(path.sep).map((s) => s.replace(/^\[(?:\.\.\.)?(.+)\]$/, ":$1")).join("/");
-        for (const m of readFileSync(p, "utf8").matchAll(/export (?:const|async function) (GET|POST|PUT|PATCH|DELETE)\b|export \{[^}]*handler as (GET|POST)/g)) out.push(`${m[1] ?? m[2]} ${url.replace(/\/$/, "")}`);
+        const url =
+          "/api/" +
+          path
+            .relative(api, dir)
+            .split(path.sep)
+            .map((s) => s.replace(/^\[(?:\.\.\.)?(.+)\]$/, ":$1"))
+            .join("/");
+        for (const m of readFileSync(p, "utf8").matchAll(
+          /export (?:const|async function) (GET|POST|PUT|PATCH|DELETE)\b|export \{[^}]*handler as (GET|POST)/g,
+        ))
+          out.push(`${m[1] ?? m[2]} ${url.replace(/\/$/, "")}`);
         if (/handler as GET, handler as POST/.test(readFileSync(p, "utf8"))) out.push(`POST ${url}`);
       }
     }

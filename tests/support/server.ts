@@ -40,16 +40,29 @@ export async function startApp(extraEnv: Record<string, string> = {}, opts: { po
   let child: ChildProcess;
   let out = "";
   const boot = async () => {
-    child = spawn(process.execPath, ["node_modules/next/dist/bin/next", "start", "-H", "127.0.0.1", "-p", String(port)], {
-      cwd: root,
-      env: { ...process.env, NODE_ENV: "production", NEXT_TELEMETRY_DISABLED: "1", NEXTAUTH_URL: url, DB_POOL_SIZE: process.env.LASHWRIGHT_TEST_POOL_SIZE ?? "1", ...extraEnv },
-      stdio: ["ignore", "pipe", "pipe"],
-    });
+    child = spawn(
+      process.execPath,
+      ["node_modules/next/dist/bin/next", "start", "-H", "127.0.0.1", "-p", String(port)],
+      {
+        cwd: root,
+        env: {
+          ...process.env,
+          NODE_ENV: "production",
+          NEXT_TELEMETRY_DISABLED: "1",
+          NEXTAUTH_URL: url,
+          DB_POOL_SIZE: process.env.LASHWRIGHT_TEST_POOL_SIZE ?? "1",
+          ...extraEnv,
+        },
+        stdio: ["ignore", "pipe", "pipe"],
+      },
+    );
     child.stdout!.on("data", (d) => (out += d));
     child.stderr!.on("data", (d) => (out += d));
     for (let i = 0; i < 300; i++) {
       if (ended(child)) throw new Error(`next start exited:\n${out}`);
-      const ok = await fetch(`${url}/`).then((r) => r.status < 500).catch(() => false);
+      const ok = await fetch(`${url}/`)
+        .then((r) => r.status < 500)
+        .catch(() => false);
       if (ok) return;
       await new Promise((r) => setTimeout(r, 150));
     }
@@ -64,5 +77,12 @@ export async function startApp(extraEnv: Record<string, string> = {}, opts: { po
       child.kill("SIGTERM");
     });
   await boot();
-  return { url, port, stop, restart: async () => (await stop(), await boot()), output: () => out, pid: () => child.pid! };
+  return {
+    url,
+    port,
+    stop,
+    restart: async () => (await stop(), await boot()),
+    output: () => out,
+    pid: () => child.pid!,
+  };
 }

@@ -14,7 +14,8 @@ const service = spawnChild(process.execPath, ["-e", stubborn], { stdio: "ignore"
 cleanup.add(() => stopChild(service, { graceMs: 4000 }));
 const job = runAsync(process.execPath, ["-e", stubborn], { what: "job" });
 const jobPid = livePids().find((p) => p !== service.pid);
-while (![service.pid, jobPid].every((p) => existsSync(path.join(marks, String(p))))) await new Promise((r) => setTimeout(r, 20));
+while (![service.pid, jobPid].every((p) => existsSync(path.join(marks, String(p)))))
+  await new Promise((r) => setTimeout(r, 20));
 log(`service ${service.pid}`);
 log(`job ${jobPid}`);
 if (process.argv[2] === "fail") {

@@ -4,4 +4,6 @@ import { createClub, listMyClubs } from "@/db/queries/clubs";
 
 export const GET = route({}, async ({ user }) => ({ items: await listMyClubs(user.id) }));
 
-export const POST = route({ body: clubInput, status: 201 }, async ({ user, body }) => ({ club: await createClub(user.id, body.name) }));
+export const POST = route({ body: clubInput, status: 201 }, async ({ user, body }) => ({
+  club: await createClub(user.id, body.name),
+}));

@@ -5,7 +5,9 @@ import { apply } from "@/server/appliers";
 import { write } from "@/server/write";
 import { engineToApi, getEngineRow, listEngines } from "@/db/queries/garage";
 
-export const GET = route({ query: pageQuery }, async ({ user, query }) => page(await listEngines(user.id, query.limit, query.offset), query.limit, query.offset));
+export const GET = route({ query: pageQuery }, async ({ user, query }) =>
+  page(await listEngines(user.id, query.limit, query.offset), query.limit, query.offset),
+);
 
 export const POST = route({ body: engineInput, status: 201 }, async ({ user, body }) => ({
   engine: await write(user, async (w) => {

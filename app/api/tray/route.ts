@@ -5,7 +5,9 @@ import { apply } from "@/server/appliers";
 import { write } from "@/server/write";
 import { getTrayRow, listTray, trayToApi } from "@/db/queries/garage";
 
-export const GET = route({ query: pageQuery }, async ({ user, query }) => page(await listTray(user.id, query.limit, query.offset), query.limit, query.offset));
+export const GET = route({ query: pageQuery }, async ({ user, query }) =>
+  page(await listTray(user.id, query.limit, query.offset), query.limit, query.offset),
+);
 
 export const POST = route({ body: trayItemInput, status: 201 }, async ({ user, body }) => ({
   item: await write(user, async (w) => {

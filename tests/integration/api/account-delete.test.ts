@@ -51,19 +51,32 @@ async function scan(needle: string): Promise<{ table: string; column: string; n:
     expect(cols.length).toBeGreaterThan(30);
     const hits: { table: string; column: string; n: number }[] = [];
     for (const { t, c } of cols) {
-      const [[r]] = (await db.query(`SELECT COUNT(*) AS n FROM \`${t}\` WHERE LOCATE(?, \`${c}\`) > 0`, [needle])) as unknown as [{ n: number }[]];
+      const [[r]] = (await db.query(`SELECT COUNT(*) AS n FROM \`${t}\` WHERE LOCATE(?, \`${c}\`) > 0`, [
+        needle,
+      ])) as unknown as [{ n: number }[]];
       if (Number(r!.n) > 0) hits.push({ table: t, column: c, n: Number(r!.n) });
     }
     return hits;
   });
 }
 
-const reading = (valve: string, go: number, noGo: number) => ({ valve, installedStamp: 2.6, feelerGo: go, feelerNoGo: noGo });
+const reading = (valve: string, go: number, noGo: number) => ({
+  valve,
+  installedStamp: 2.6,
+  feelerGo: go,
+  feelerNoGo: noGo,
+});
 
 async function engineAndCheck(c: Client) {
   const engineId = (await c.post("/api/engines", ENGINE_FOUR)).json.engine.id as string;
   const checkId = (await c.post(`/api/engines/${engineId}/checks`, { odometer: 24_000 })).json.check.id as string;
-  expect((await c.put(`/api/checks/${checkId}/readings`, { readings: [reading("I1.1", 0.15, 0.18), reading("E1.1", 0.25, 0.28)] })).status).toBe(200);
+  expect(
+    (
+      await c.put(`/api/checks/${checkId}/readings`, {
+        readings: [reading("I1.1", 0.15, 0.18), reading("E1.1", 0.25, 0.28)],
+      })
+    ).status,
+  ).toBe(200);
   return { engineId, checkId };
 }
 
@@ -73,7 +86,13 @@ async function upload(c: Client, checkId: string, fields: { commentId?: string }
   return res.json.photo.id as string;
 }
 
-async function loan(lender: Client, borrower: Client, clubId: string, size: number, to: "settled" | "handed-over" | "asked") {
+async function loan(
+  lender: Client,
+  borrower: Client,
+  clubId: string,
+  size: number,
+  to: "settled" | "handed-over" | "asked",
+) {
   await lender.post("/api/tray", { size, count: 2 });
   const offerId = (await lender.post(`/api/clubs/${clubId}/pool`, { size, count: 2 })).json.offer.id as string;
   const borrowId = (await borrower.post("/api/borrows", { offerId, count: 1 })).json.borrow.id as string;
@@ -105,7 +124,9 @@ async function linkSignedIn(u: U) {
   await withDb((db) => db.query("UPDATE users SET password_hash = NULL WHERE id = ?", [u.id]));
   const c = new Client(app.url);
   await c.post("/api/account/sign-in-link", { email: u.email });
-  expect(await c.signIn("email-link", { token: linkToken(await waitForMail(u.email, /sign-in link/i), "/sign-in/link") })).toBeNull();
+  expect(
+    await c.signIn("email-link", { token: linkToken(await waitForMail(u.email, /sign-in link/i), "/sign-in/link") }),
+  ).toBeNull();
   return c;
 }
 
@@ -117,7 +138,12 @@ function deleteToken(mail: { text: string }): string {
 
 describe("deleting an account", () => {
   it("leaves nothing of the account in any table or in the photo store, but its comments on others' checks, without the author", async () => {
-    const [me, mentor, coAdmin, other] = await Promise.all([makeUser("del-me"), makeUser("del-mentor"), makeUser("del-coadmin"), makeUser("del-other")]);
+    const [me, mentor, coAdmin, other] = await Promise.all([
+      makeUser("del-me"),
+      makeUser("del-mentor"),
+      makeUser("del-coadmin"),
+      makeUser("del-other"),
+    ]);
     const c = await signedInClient(app.url, me);
     const phone = await signedInClient(app.url, me); // a second session: another phone
     const m = await signedInClient(app.url, mentor);
@@ -133,29 +159,47 @@ describe("deleting an account", () => {
     await addMembership(theirs, me.id, ["mentor", "mechanic"]);
     await addMembership(theirs, other.id, ["mechanic"]);
     const solo = (await c.post("/api/clubs", { name: "Club of One" })).json.club.id as string;
-    expect((await c.post(`/api/clubs/${mine}/invites`, { email: `del-invitee-${uuid().slice(0, 8)}@test.example`, role: "mechanic" })).status).toBe(201);
+    expect(
+      (
+        await c.post(`/api/clubs/${mine}/invites`, {
+          email: `del-invitee-${uuid().slice(0, 8)}@test.example`,
+          role: "mechanic",
+        })
+      ).status,
+    ).toBe(201);
     // an invitation to its own address, still pending: the club's record names the address
     const invited = await a.post(`/api/clubs/${theirs}/invites`, { email: me.email, role: "mechanic" });
     expect(invited.status).toBe(201);
 
     // its garage: engines, checks, readings (with an overwritten one: history), tray, photos
     const own = await engineAndCheck(c);
-    expect((await c.put(`/api/checks/${own.checkId}/readings`, { readings: [reading("I1.1", 0.13, 0.15)] })).status).toBe(200);
+    expect(
+      (await c.put(`/api/checks/${own.checkId}/readings`, { readings: [reading("I1.1", 0.13, 0.15)] })).status,
+    ).toBe(200);
     await engineAndCheck(c);
     const trayId = (await c.post("/api/tray", { size: 2.55, count: 3 })).json.item.id as string;
     expect((await c.del(`/api/tray/${trayId}`)).status).toBe(204); // a tombstone
     await c.post("/api/tray", { size: 2.65, count: 1 });
     // shared with its club: the mentor comments, gives a verdict and adds a photo; it answers
     const shareId = (await c.post(`/api/checks/${own.checkId}/shares`, { clubId: mine })).json.share.id as string;
-    expect((await m.post(`/api/checks/${own.checkId}/comments`, { body: "Exhaust 1 is tight: re-measure it warm?" })).status).toBe(201);
+    expect(
+      (await m.post(`/api/checks/${own.checkId}/comments`, { body: "Exhaust 1 is tight: re-measure it warm?" })).status,
+    ).toBe(201);
     expect((await m.put(`/api/shares/${shareId}/verdict`, { verdict: "stop-and-ask" })).status).toBe(200);
     await upload(m, own.checkId);
-    expect((await c.post(`/api/checks/${own.checkId}/comments`, { body: "Measured cold, as the book says." })).status).toBe(201);
+    expect(
+      (await c.post(`/api/checks/${own.checkId}/comments`, { body: "Measured cold, as the book says." })).status,
+    ).toBe(201);
     await upload(c, own.checkId);
     // a mentor on another member's check: a comment with a photo on it, and a verdict
     const theirCheck = await engineAndCheck(o);
-    const theirShare = (await o.post(`/api/checks/${theirCheck.checkId}/shares`, { clubId: theirs })).json.share.id as string;
-    const kept = (await c.post(`/api/checks/${theirCheck.checkId}/comments`, { body: "Intake 1 is fine; the exhaust wants a thinner shim." })).json.comment.id as string;
+    const theirShare = (await o.post(`/api/checks/${theirCheck.checkId}/shares`, { clubId: theirs })).json.share
+      .id as string;
+    const kept = (
+      await c.post(`/api/checks/${theirCheck.checkId}/comments`, {
+        body: "Intake 1 is fine; the exhaust wants a thinner shim.",
+      })
+    ).json.comment.id as string;
     await upload(c, theirCheck.checkId, { commentId: kept });
     expect((await c.put(`/api/shares/${theirShare}/verdict`, { verdict: "stop-and-ask" })).status).toBe(200);
     // loans, all settled (or not yet started: those end with the membership)
@@ -163,26 +207,81 @@ describe("deleting an account", () => {
     await loan(o, c, mine, 2.7, "settled");
     await loan(c, m, mine, 2.8, "asked");
     // a phone that synced (its device row, a refused mutation), mail waiting, links asked for, budgets spent
-    expect((await phone.post("/api/sync/push", { clientId: uuid(), mutations: [{ id: 1, name: "tray.delete/1", args: { id: uuid() } }, { id: 2, name: "check.put/1", args: { id: uuid(), engineId: uuid(), odometer: 1 } }] })).status).toBe(200);
+    expect(
+      (
+        await phone.post("/api/sync/push", {
+          clientId: uuid(),
+          mutations: [
+            { id: 1, name: "tray.delete/1", args: { id: uuid() } },
+            { id: 2, name: "check.put/1", args: { id: uuid(), engineId: uuid(), odometer: 1 } },
+          ],
+        })
+      ).status,
+    ).toBe(200);
     expect((await phone.post("/api/sync/pull", { cursor: null })).status).toBe(200);
     await new Client(app.url).post("/api/account/sign-in-link", { email: me.email });
     await waitForMail(me.email, /sign-in link/i);
     await new Client(app.url).post("/api/account/password-reset", { email: me.email });
-    expect(await new Client(app.url).signIn("password", { email: me.email, password: "not-the-password" })).not.toBeNull();
+    expect(
+      await new Client(app.url).signIn("password", { email: me.email, password: "not-the-password" }),
+    ).not.toBeNull();
 
-    const keys = (await rows<{ k: string }>("SELECT u.object_key AS k FROM uploads u JOIN checks c ON c.id = u.check_id WHERE u.owner_id = ? OR c.owner_id = ?", [me.id, me.id])).map((r) => r.k);
+    const keys = (
+      await rows<{ k: string }>(
+        "SELECT u.object_key AS k FROM uploads u JOIN checks c ON c.id = u.check_id WHERE u.owner_id = ? OR c.owner_id = ?",
+        [me.id, me.id],
+      )
+    ).map((r) => r.k);
     expect(keys).toHaveLength(3);
     const inStore = await storedKeys("checks/");
     for (const k of keys) expect(inStore).toContain(k);
     const before = await scan(me.id);
     // the fixture reaches every kind of row that can name the account
-    for (const t of ["users", "engines", "checks", "readings", "tray_items", "tombstones", "uploads", "comments", "shares", "memberships", "clubs", "club_log", "invites", "pool_offers", "borrow_requests", "sync_clients", "auth_tokens", "notices", "owner_versions", "rate_limits"])
-      expect(before.map((h) => h.table), t).toContain(t);
+    for (const t of [
+      "users",
+      "engines",
+      "checks",
+      "readings",
+      "tray_items",
+      "tombstones",
+      "uploads",
+      "comments",
+      "shares",
+      "memberships",
+      "clubs",
+      "club_log",
+      "invites",
+      "pool_offers",
+      "borrow_requests",
+      "sync_clients",
+      "auth_tokens",
+      "notices",
+      "owner_versions",
+      "rate_limits",
+    ])
+      expect(
+        before.map((h) => h.table),
+        t,
+      ).toContain(t);
 
     // what it will do, said first
     const preview = (await c.get("/api/account/deletion")).json.preview;
-    expect(preview).toMatchObject({ email: me.email, hasPassword: true, engines: 2, checks: 2, readings: 4, photos: 3, trayItems: 4, shares: 1, commentsKept: 1, blockers: [] });
-    expect(preview.clubs.map((x: { name: string }) => x.name).sort()).toEqual(["Co-admin's Club", "Deleted Member's Club"]);
+    expect(preview).toMatchObject({
+      email: me.email,
+      hasPassword: true,
+      engines: 2,
+      checks: 2,
+      readings: 4,
+      photos: 3,
+      trayItems: 4,
+      shares: 1,
+      commentsKept: 1,
+      blockers: [],
+    });
+    expect(preview.clubs.map((x: { name: string }) => x.name).sort()).toEqual([
+      "Co-admin's Club",
+      "Deleted Member's Club",
+    ]);
     expect(preview.soloClubs).toEqual([{ id: solo, name: "Club of One" }]);
 
     const res = await c.call("DELETE", "/api/account", { password: me.password });
@@ -204,24 +303,40 @@ describe("deleting an account", () => {
     expect(await scan(me.id)).toEqual([]);
     expect(await scan(me.email)).toEqual([]);
     // the comment on another member's check stays, without its author
-    const [comment] = await rows<{ author_id: string | null; body: string }>("SELECT author_id, body FROM comments WHERE id = ?", [kept]);
+    const [comment] = await rows<{ author_id: string | null; body: string }>(
+      "SELECT author_id, body FROM comments WHERE id = ?",
+      [kept],
+    );
     expect(comment).toEqual({ author_id: null, body: "Intake 1 is fine; the exhaust wants a thinner shim." });
     const thread = (await o.get(`/api/checks/${theirCheck.checkId}/comments`)).json.items;
     expect(thread).toEqual([expect.objectContaining({ id: kept, authorId: null, authorName: "a former member" })]);
     // and the owner's phone pulls it again without the id
-    const pulled = (await o.post("/api/sync/pull", { cursor: null })).json.comments as { id: string; authorId: string | null }[];
+    const pulled = (await o.post("/api/sync/pull", { cursor: null })).json.comments as {
+      id: string;
+      authorId: string | null;
+    }[];
     expect(pulled.find((x) => x.id === kept)?.authorId).toBeNull();
     // the clubs it shared go on without it; the club of one went with it
     expect((await a.get(`/api/clubs/${mine}`)).status).toBe(200);
     expect(await rows("SELECT id FROM clubs WHERE id = ?", [solo])).toEqual([]);
-    expect((await rows<{ n: number }>("SELECT COUNT(*) AS n FROM memberships WHERE club_id = ? AND role = 'admin'", [mine]))[0]!.n).toBe(1);
+    expect(
+      (
+        await rows<{ n: number }>("SELECT COUNT(*) AS n FROM memberships WHERE club_id = ? AND role = 'admin'", [mine])
+      )[0]!.n,
+    ).toBe(1);
 
     // mail stops at once: nothing is left queued for the address
     expect(await rows("SELECT id FROM notices WHERE to_email = ?", [me.email])).toEqual([]);
 
     // the photos leave the store (the sweep after the commit; retried until done)
-    await expect.poll(async () => (await storedKeys("checks/")).filter((k) => keys.includes(k)), { timeout: 20_000 }).toEqual([]);
-    await expect.poll(async () => rows("SELECT object_key FROM object_deletions WHERE object_key IN (?)", [keys]), { timeout: 10_000 }).toEqual([]);
+    await expect
+      .poll(async () => (await storedKeys("checks/")).filter((k) => keys.includes(k)), { timeout: 20_000 })
+      .toEqual([]);
+    await expect
+      .poll(async () => rows("SELECT object_key FROM object_deletions WHERE object_key IN (?)", [keys]), {
+        timeout: 10_000,
+      })
+      .toEqual([]);
     // the password opens nothing now (this try is counted on the address, as any try at an unknown one)
     expect(await new Client(app.url).signIn("password", { email: me.email, password: me.password })).not.toBeNull();
     // other members' photos elsewhere are untouched
@@ -242,8 +357,12 @@ describe("deleting an account", () => {
     // neither both proofs nor none
     expect((await c.call("DELETE", "/api/account", {})).status).toBe(422);
     expect((await c.call("DELETE", "/api/account", { password: me.password, token: "A".repeat(43) })).status).toBe(422);
-    for (let i = 0; i < 4; i++) expect((await c.call("DELETE", "/api/account", { password: `wrong-${i}` })).status).toBe(422);
-    const spent = await c.raw("DELETE", "/api/account", { body: JSON.stringify({ password: me.password }), headers: { "content-type": "application/json" } });
+    for (let i = 0; i < 4; i++)
+      expect((await c.call("DELETE", "/api/account", { password: `wrong-${i}` })).status).toBe(422);
+    const spent = await c.raw("DELETE", "/api/account", {
+      body: JSON.stringify({ password: me.password }),
+      headers: { "content-type": "application/json" },
+    });
     expect(spent.status).toBe(429);
     expect(Number(spent.headers.get("retry-after"))).toBeGreaterThan(0);
     expect(await snapshot(me)).toBe(before);
@@ -257,7 +376,9 @@ describe("deleting an account", () => {
     await engineAndCheck(c);
     const before = await snapshot(me);
     const preview = (await c.get("/api/account/deletion")).json.preview;
-    expect(preview.blockers).toEqual([expect.objectContaining({ kind: "last-admin", clubName: "Only One Admin Club" })]);
+    expect(preview.blockers).toEqual([
+      expect.objectContaining({ kind: "last-admin", clubName: "Only One Admin Club" }),
+    ]);
     const res = await c.call("DELETE", "/api/account", { password: me.password });
     expect(res.status).toBe(409);
     expect(res.json.error.code).toBe("deletion_blocked");
@@ -270,8 +391,16 @@ describe("deleting an account", () => {
   });
 
   it("an open loan is refused, naming the other side, on either side of it", async () => {
-    const [lender, borrower, admin] = await Promise.all([makeUser("del-lender"), makeUser("del-borrower"), makeUser("del-loanadmin")]);
-    const [l, b, a] = await Promise.all([signedInClient(app.url, lender), signedInClient(app.url, borrower), signedInClient(app.url, admin)]);
+    const [lender, borrower, admin] = await Promise.all([
+      makeUser("del-lender"),
+      makeUser("del-borrower"),
+      makeUser("del-loanadmin"),
+    ]);
+    const [l, b, a] = await Promise.all([
+      signedInClient(app.url, lender),
+      signedInClient(app.url, borrower),
+      signedInClient(app.url, admin),
+    ]);
     const clubId = (await a.post("/api/clubs", { name: "Loan Club" })).json.club.id as string;
     await addMembership(clubId, lender.id, ["mechanic"]);
     await addMembership(clubId, borrower.id, ["mechanic"]);
@@ -324,16 +453,36 @@ describe("the photo sweep when the store is down", () => {
     const { checkId } = await engineAndCheck(c);
     await upload(c, checkId);
     await upload(c, checkId);
-    const keys = (await rows<{ k: string }>("SELECT object_key AS k FROM uploads WHERE owner_id = ?", [me.id])).map((r) => r.k);
+    const keys = (await rows<{ k: string }>("SELECT object_key AS k FROM uploads WHERE owner_id = ?", [me.id])).map(
+      (r) => r.k,
+    );
     // the healthy instance stops, so only the broken one can sweep
     await app.stop();
-    const broken = await startApp({ S3_ENDPOINT: `http://127.0.0.1:${await closedPort()}`, OBJECT_DELETE_RETRY_SECONDS: "1" });
+    const broken = await startApp({
+      S3_ENDPOINT: `http://127.0.0.1:${await closedPort()}`,
+      OBJECT_DELETE_RETRY_SECONDS: "1",
+    });
     try {
       const b = await signedInClient(broken.url, me);
       expect((await b.call("DELETE", "/api/account", { password: me.password })).status).toBe(200);
       expect(await scan(me.id)).toEqual([]);
-      await expect.poll(async () => Number((await rows<{ a: number }>("SELECT MIN(attempts) AS a FROM object_deletions WHERE object_key IN (?)", [keys]))[0]?.a ?? 0), { timeout: 20_000 }).toBeGreaterThan(0);
-      const waiting = await rows<{ k: string; e: string }>("SELECT object_key AS k, last_error AS e FROM object_deletions WHERE object_key IN (?)", [keys]);
+      await expect
+        .poll(
+          async () =>
+            Number(
+              (
+                await rows<{ a: number }>("SELECT MIN(attempts) AS a FROM object_deletions WHERE object_key IN (?)", [
+                  keys,
+                ])
+              )[0]?.a ?? 0,
+            ),
+          { timeout: 20_000 },
+        )
+        .toBeGreaterThan(0);
+      const waiting = await rows<{ k: string; e: string }>(
+        "SELECT object_key AS k, last_error AS e FROM object_deletions WHERE object_key IN (?)",
+        [keys],
+      );
       expect(waiting.map((w) => w.k).sort()).toEqual([...keys].sort());
       expect(waiting.every((w) => !!w.e)).toBe(true);
       const inStore = await storedKeys("checks/");
@@ -342,7 +491,9 @@ describe("the photo sweep when the store is down", () => {
       await broken.stop();
     }
     await app.restart();
-    await expect.poll(async () => (await storedKeys("checks/")).filter((k) => keys.includes(k)), { timeout: 30_000 }).toEqual([]);
+    await expect
+      .poll(async () => (await storedKeys("checks/")).filter((k) => keys.includes(k)), { timeout: 30_000 })
+      .toEqual([]);
     expect(await rows("SELECT object_key FROM object_deletions WHERE object_key IN (?)", [keys])).toEqual([]);
   });
 });

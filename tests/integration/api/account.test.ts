@@ -14,7 +14,11 @@ describe("accounts through the API and the local mail catcher", () => {
   it("sign-up, e-mail verification, sign-in, password reset, sign-in with the new password", async () => {
     const email = `new-${crypto.randomUUID().slice(0, 8)}@test.example`;
     const c = new Client(app.url);
-    const up = await c.post("/api/account/sign-up", { email: email.toUpperCase(), name: "Nia Feldspar", password: "first-password-77" });
+    const up = await c.post("/api/account/sign-up", {
+      email: email.toUpperCase(),
+      name: "Nia Feldspar",
+      password: "first-password-77",
+    });
     expect(up.status).toBe(202);
     // unverified: refused like a wrong password, so a sign-up then sign-in tells nothing (attacks-enumeration)
     expect(await c.signIn("password", { email, password: "first-password-77" })).toBe("CredentialsSignin");
@@ -39,7 +43,9 @@ describe("accounts through the API and the local mail catcher", () => {
     const reset = await waitForMail(email, /new Lashwright password/);
     const resetToken = linkToken(reset, "/reset-password");
     expect((await c.post("/api/account/password", { token: resetToken, password: "short" })).status).toBe(422);
-    expect((await c.post("/api/account/password", { token: resetToken, password: "second-password-88" })).status).toBe(200);
+    expect((await c.post("/api/account/password", { token: resetToken, password: "second-password-88" })).status).toBe(
+      200,
+    );
     // the new password ends the old session
     expect((await c.get("/api/account")).status).toBe(401);
     const fresh = new Client(app.url);
@@ -69,10 +75,21 @@ describe("accounts through the API and the local mail catcher", () => {
   it("answers the same for unknown addresses, and refuses weak passwords with the field named", async () => {
     const c = new Client(app.url);
     expect((await c.post("/api/account/password-reset", { email: "nobody-here@test.example" })).status).toBe(202);
-    const weak = await c.post("/api/account/sign-up", { email: "weak@test.example", name: "W", password: "password123" });
+    const weak = await c.post("/api/account/sign-up", {
+      email: "weak@test.example",
+      name: "W",
+      password: "password123",
+    });
     expect(weak.status).toBe(422);
-    expect(weak.json.error).toMatchObject({ code: "invalid", fields: { password: expect.stringMatching(/too common/) } });
-    const bad = await c.post("/api/account/sign-up", { email: "not-an-email", name: "W", password: "long-enough-pass" });
+    expect(weak.json.error).toMatchObject({
+      code: "invalid",
+      fields: { password: expect.stringMatching(/too common/) },
+    });
+    const bad = await c.post("/api/account/sign-up", {
+      email: "not-an-email",
+      name: "W",
+      password: "long-enough-pass",
+    });
     expect(bad.json.error.fields.email).toMatch(/valid e-mail/);
   });
 
@@ -80,7 +97,10 @@ describe("accounts through the API and the local mail catcher", () => {
     const email = `out-${crypto.randomUUID().slice(0, 8)}@test.example`;
     const c = new Client(app.url);
     await c.post("/api/account/sign-up", { email, name: "Pia Bucket", password: "sign-out-pass-9" });
-    await c.post("/api/account/verify", { token: linkToken(await waitForMail(email, /Confirm/), "/verify"), password: "sign-out-pass-9" });
+    await c.post("/api/account/verify", {
+      token: linkToken(await waitForMail(email, /Confirm/), "/verify"),
+      password: "sign-out-pass-9",
+    });
     await c.signIn("password", { email, password: "sign-out-pass-9" });
     const stolen = c.cookieHeader();
     expect((await c.get("/api/account")).status).toBe(200);

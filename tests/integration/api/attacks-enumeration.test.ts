@@ -31,7 +31,15 @@ describe("sign-up then sign-in does not tell which addresses have accounts", () 
     const existing = await makeUser("existing");
     const confirmed = await probe(existing.email, "probe-password-42");
     const waiting = fresh("waiting");
-    expect((await new Client(app.url).post("/api/account/sign-up", { email: waiting, name: "First Comer", password: "first-comer-pass-1" })).status).toBe(202);
+    expect(
+      (
+        await new Client(app.url).post("/api/account/sign-up", {
+          email: waiting,
+          name: "First Comer",
+          password: "first-comer-pass-1",
+        })
+      ).status,
+    ).toBe(202);
     const unconfirmed = await probe(waiting, "probe-password-43");
 
     expect(newcomer).toEqual(confirmed);
@@ -42,7 +50,9 @@ describe("sign-up then sign-in does not tell which addresses have accounts", () 
   it("the newcomer's path still works: the mail's link and the same password, then the sign-in", async () => {
     const email = fresh("newcomer");
     const c = new Client(app.url);
-    expect((await c.post("/api/account/sign-up", { email, name: "Nova Lindqvist", password: "newcomer-pass-77" })).status).toBe(202);
+    expect(
+      (await c.post("/api/account/sign-up", { email, name: "Nova Lindqvist", password: "newcomer-pass-77" })).status,
+    ).toBe(202);
     expect(await c.signIn("password", { email, password: "newcomer-pass-77" })).toBe("CredentialsSignin");
     const token = linkToken(await waitForMail(email, /Confirm your e-mail/), "/verify");
     expect((await c.post("/api/account/verify", { token, password: "newcomer-pass-77" })).status).toBe(200);

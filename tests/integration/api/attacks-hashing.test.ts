@@ -22,10 +22,14 @@ beforeAll(async () => {
 });
 afterAll(() => app?.stop());
 
-const printed = () => app.output().split("\n").filter((l) => l.includes("[password] hash computed")).length;
+const printed = () =>
+  app
+    .output()
+    .split("\n")
+    .filter((l) => l.includes("[password] hash computed")).length;
 /** Hashes counted so far, read once the server's output has stopped growing (it arrives on its own pipe). */
 async function hashesSoFar() {
-  for (let last = -1; ; ) {
+  for (let last = -1; ;) {
     const now = printed();
     if (now === last) return now;
     last = now;
@@ -40,9 +44,16 @@ const PER_ADDRESS = 20;
 async function tryPassword(c: Client, email: string, password: string) {
   const csrf = await c.get("/api/auth/csrf");
   const form = new URLSearchParams({ email, password, csrfToken: csrf.json.csrfToken as string, json: "true" });
-  const res = await c.raw("POST", "/api/auth/callback/password", { body: form.toString(), headers: { "content-type": "application/x-www-form-urlencoded" } });
+  const res = await c.raw("POST", "/api/auth/callback/password", {
+    body: form.toString(),
+    headers: { "content-type": "application/x-www-form-urlencoded" },
+  });
   const body = (await res.json().catch(() => ({}))) as { url?: string };
-  return { status: res.status, retryAfter: res.headers.get("retry-after"), error: body.url ? new URL(body.url).searchParams.get("error") : "no-url" };
+  return {
+    status: res.status,
+    retryAfter: res.headers.get("retry-after"),
+    error: body.url ? new URL(body.url).searchParams.get("error") : "no-url",
+  };
 }
 
 /** The signed-in user's cheapest request, asked again and again until `until` settles; each time taken. */
@@ -59,8 +70,10 @@ async function keepAsking(user: Client, until: Promise<unknown>, atLeast = 20) {
   return { times, statuses };
 }
 
-const pct = (xs: number[], p: number) => [...xs].sort((a, b) => a - b)[Math.min(xs.length - 1, Math.floor(p * xs.length))]!;
-const latency = (xs: number[]) => `p50 ${pct(xs, 0.5).toFixed(0)} ms, p95 ${pct(xs, 0.95).toFixed(0)} ms (n=${xs.length})`;
+const pct = (xs: number[], p: number) =>
+  [...xs].sort((a, b) => a - b)[Math.min(xs.length - 1, Math.floor(p * xs.length))]!;
+const latency = (xs: number[]) =>
+  `p50 ${pct(xs, 0.5).toFixed(0)} ms, p95 ${pct(xs, 0.95).toFixed(0)} ms (n=${xs.length})`;
 
 describe("hashing flood (OWASP ASVS 5.0 V2 anti-automation, V6 Authentication; NIST SP 800-63B 5.2.2)", () => {
   it("60 sign-in tries for new e-mail addresses from one network address: hashing stops at the address's budget, and a signed-in user is answered throughout", async () => {
@@ -69,13 +82,19 @@ describe("hashing flood (OWASP ASVS 5.0 V2 anti-automation, V6 Authentication; N
     // the counter counts: one failed try for a missing account costs at least one hash (the dummy's
     // first making counts too)
     const before0 = await hashesSoFar();
-    expect(await new Client(app.url).signIn("password", { email: fresh("warm-up"), password: "warm-up-guess-1" })).toBe("CredentialsSignin");
+    expect(await new Client(app.url).signIn("password", { email: fresh("warm-up"), password: "warm-up-guess-1" })).toBe(
+      "CredentialsSignin",
+    );
     expect((await hashesSoFar()) - before0).toBeGreaterThanOrEqual(1);
 
     const idle = await keepAsking(user, Promise.resolve(), 40);
     const attacker = loopbackAddress(app.url)!;
     const before = await hashesSoFar();
-    const flood = Promise.all(Array.from({ length: 60 }, (_, i) => tryPassword(new Client(app.url, attacker), fresh(`flood${i}`), `flood-guess-${i}-xx`)));
+    const flood = Promise.all(
+      Array.from({ length: 60 }, (_, i) =>
+        tryPassword(new Client(app.url, attacker), fresh(`flood${i}`), `flood-guess-${i}-xx`),
+      ),
+    );
     const during = await keepAsking(user, flood);
     const answers = await flood;
     const hashed = (await hashesSoFar()) - before;
@@ -102,7 +121,11 @@ describe("hashing flood (OWASP ASVS 5.0 V2 anti-automation, V6 Authentication; N
     await new Client(app.url).signIn("password", { email: fresh("warm-up"), password: "warm-up-guess-2" });
     const idle = await keepAsking(user, Promise.resolve(), 40);
     const before = await hashesSoFar();
-    const flood = Promise.all(Array.from({ length: 60 }, (_, i) => tryPassword(new Client(app.url), fresh(`spread${i}`), `spread-guess-${i}-xx`)));
+    const flood = Promise.all(
+      Array.from({ length: 60 }, (_, i) =>
+        tryPassword(new Client(app.url), fresh(`spread${i}`), `spread-guess-${i}-xx`),
+      ),
+    );
     const during = await keepAsking(user, flood);
     const answers = await flood;
     const hashed = (await hashesSoFar()) - before;
@@ -125,13 +148,25 @@ describe("hashing flood (OWASP ASVS 5.0 V2 anti-automation, V6 Authentication; N
     const from = loopbackAddress(app.url)!;
     const answers = [];
     for (const [i, u] of users.entries()) {
-      answers.push(await new Client(app.url, from).signIn("password", { email: u.email, password: "spray-guess-1" }, { "x-forwarded-for": `198.51.100.${i}`, "x-real-ip": `198.51.100.${i}` }));
+      answers.push(
+        await new Client(app.url, from).signIn(
+          "password",
+          { email: u.email, password: "spray-guess-1" },
+          { "x-forwarded-for": `198.51.100.${i}`, "x-real-ip": `198.51.100.${i}` },
+        ),
+      );
     }
     expect(answers.slice(0, PER_ADDRESS).every((a) => a === "CredentialsSignin")).toBe(true);
     expect(answers[PER_ADDRESS]).toBe("Throttled");
     // the same forged header from another socket address is a caller of its own
     const other = await makeUser("forged-other");
-    expect(await new Client(app.url).signIn("password", { email: other.email, password: other.password }, { "x-forwarded-for": `198.51.100.${PER_ADDRESS}` })).toBeNull();
+    expect(
+      await new Client(app.url).signIn(
+        "password",
+        { email: other.email, password: other.password },
+        { "x-forwarded-for": `198.51.100.${PER_ADDRESS}` },
+      ),
+    ).toBeNull();
   });
 
   it("a bcrypt hash made before keeps working and is replaced by Argon2id at the next sign-in", async () => {
@@ -143,12 +178,16 @@ describe("hashing flood (OWASP ASVS 5.0 V2 anti-automation, V6 Authentication; N
       return (rows as { password_hash: string }[])[0]!.password_hash;
     };
     expect(await stored()).toMatch(/^\$2[aby]\$/);
-    expect(await new Client(app.url).signIn("password", { email: u.email, password: "not-the-password" })).toBe("CredentialsSignin");
+    expect(await new Client(app.url).signIn("password", { email: u.email, password: "not-the-password" })).toBe(
+      "CredentialsSignin",
+    );
     expect(await stored()).toMatch(/^\$2[aby]\$/);
     expect(await new Client(app.url).signIn("password", { email: u.email, password: u.password })).toBeNull();
     expect(await stored()).toMatch(/^\$argon2id\$v=19\$m=19456,t=2,p=1\$/);
     expect(await new Client(app.url).signIn("password", { email: u.email, password: u.password })).toBeNull();
-    expect(await new Client(app.url).signIn("password", { email: u.email, password: "not-the-password" })).toBe("CredentialsSignin");
+    expect(await new Client(app.url).signIn("password", { email: u.email, password: "not-the-password" })).toBe(
+      "CredentialsSignin",
+    );
   });
 });
 

@@ -21,9 +21,13 @@ const DEVICE_COOKIE = "lashwright-device";
 
 /** The stranger: five wrong passwords and five reset requests, from browsers the account never saw. */
 async function spendTheAccount(email: string) {
-  for (let i = 0; i < 5; i++) expect(await new Client(app.url).signIn("password", { email, password: `stranger-guess-${i}` })).toBe("CredentialsSignin");
+  for (let i = 0; i < 5; i++)
+    expect(await new Client(app.url).signIn("password", { email, password: `stranger-guess-${i}` })).toBe(
+      "CredentialsSignin",
+    );
   // five requests, or fewer if the owner's own asking already used part of the address's five
-  for (let i = 0; i < 5; i++) expect([202, 429]).toContain((await new Client(app.url).post("/api/account/password-reset", { email })).status);
+  for (let i = 0; i < 5; i++)
+    expect([202, 429]).toContain((await new Client(app.url).post("/api/account/password-reset", { email })).status);
   expect((await new Client(app.url).post("/api/account/password-reset", { email })).status).toBe(429);
 }
 
@@ -44,7 +48,16 @@ describe("the owner is not locked out by a stranger (OWASP device cookies; NIST 
     expect(await new Client(app.url).signIn("password", { email: u.email, password: u.password })).toBe("Throttled");
     const refused = await new Client(app.url).post("/api/account/sign-in-link", { email: u.email });
     expect(refused.status).toBe(429);
-    expect(Number((await new Client(app.url).raw("POST", "/api/account/password-reset", { body: JSON.stringify({ email: u.email }), headers: { "content-type": "application/json" } })).headers.get("retry-after"))).toBeGreaterThan(0);
+    expect(
+      Number(
+        (
+          await new Client(app.url).raw("POST", "/api/account/password-reset", {
+            body: JSON.stringify({ email: u.email }),
+            headers: { "content-type": "application/json" },
+          })
+        ).headers.get("retry-after"),
+      ),
+    ).toBeGreaterThan(0);
 
     // the owner's own browser is not
     expect(await browser.signIn("password", { email: u.email, password: u.password })).toBeNull();
@@ -65,8 +78,16 @@ describe("the owner is not locked out by a stranger (OWASP device cookies; NIST 
     const c = new Client(app.url);
     const res = await (async () => {
       const csrf = await c.get("/api/auth/csrf");
-      const form = new URLSearchParams({ email: attacker.email, password: attacker.password, csrfToken: csrf.json.csrfToken as string, json: "true" });
-      return c.raw("POST", "/api/auth/callback/password", { body: form.toString(), headers: { "content-type": "application/x-www-form-urlencoded" } });
+      const form = new URLSearchParams({
+        email: attacker.email,
+        password: attacker.password,
+        csrfToken: csrf.json.csrfToken as string,
+        json: "true",
+      });
+      return c.raw("POST", "/api/auth/callback/password", {
+        body: form.toString(),
+        headers: { "content-type": "application/x-www-form-urlencoded" },
+      });
     })();
     const set = res.headers.getSetCookie().find((h) => h.startsWith(`${DEVICE_COOKIE}=`));
     expect(set).toBeDefined();
@@ -81,13 +102,24 @@ describe("the owner is not locked out by a stranger (OWASP device cookies; NIST 
     const value = c.cookieHeader().match(new RegExp(`${DEVICE_COOKIE}=([^;]+)`))![1]!;
     const [, issued, nonce, mac] = value.split("~")[0]!.split(".");
     const forged = `${Buffer.from(victim.email).toString("base64url")}.${issued}.${nonce}.${mac}`;
-    for (const cookie of [forged, `${Buffer.from(victim.email).toString("base64url")}.${issued}.${nonce}.${"A".repeat(43)}`]) {
+    for (const cookie of [
+      forged,
+      `${Buffer.from(victim.email).toString("base64url")}.${issued}.${nonce}.${"A".repeat(43)}`,
+    ]) {
       const f = new Client(app.url);
       const csrf = await f.get("/api/auth/csrf");
-      const form = new URLSearchParams({ email: victim.email, password: victim.password, csrfToken: csrf.json.csrfToken as string, json: "true" });
+      const form = new URLSearchParams({
+        email: victim.email,
+        password: victim.password,
+        csrfToken: csrf.json.csrfToken as string,
+        json: "true",
+      });
       const r = await f.raw("POST", "/api/auth/callback/password", {
         body: form.toString(),
-        headers: { "content-type": "application/x-www-form-urlencoded", cookie: `${f.cookieHeader()}; ${DEVICE_COOKIE}=${cookie}` },
+        headers: {
+          "content-type": "application/x-www-form-urlencoded",
+          cookie: `${f.cookieHeader()}; ${DEVICE_COOKIE}=${cookie}`,
+        },
       });
       const body = (await r.json()) as { url: string };
       expect(new URL(body.url).searchParams.get("error")).toBe("Throttled");
@@ -97,8 +129,12 @@ describe("the owner is not locked out by a stranger (OWASP device cookies; NIST 
   it("a device's own budget holds: five wrong passwords from the owner's browser hold that browser, not the owner's other ones", async () => {
     const u = await makeUser("lockout-device");
     const [laptop, phone] = [new Client(app.url), new Client(app.url)];
-    for (const b of [laptop, phone]) expect(await b.signIn("password", { email: u.email, password: u.password })).toBeNull();
-    for (let i = 0; i < 5; i++) expect(await laptop.signIn("password", { email: u.email, password: `typo-${i}-password` })).toBe("CredentialsSignin");
+    for (const b of [laptop, phone])
+      expect(await b.signIn("password", { email: u.email, password: u.password })).toBeNull();
+    for (let i = 0; i < 5; i++)
+      expect(await laptop.signIn("password", { email: u.email, password: `typo-${i}-password` })).toBe(
+        "CredentialsSignin",
+      );
     expect(await laptop.signIn("password", { email: u.email, password: u.password })).toBe("Throttled");
     expect(await phone.signIn("password", { email: u.email, password: u.password })).toBeNull();
     // nor did the laptop's tries spend the account-wide budget of browsers never seen

@@ -35,7 +35,8 @@ beforeAll(async () => {
   await oc.post(`/api/checks/${checkId}/shares`, { clubId });
   const mc = await signedInClient(app.url, m);
   // the mentor has taken part, with a long thread: a comment of the owner's goes to them
-  for (let i = 0; i < 30; i++) expect((await mc.post(`/api/checks/${checkId}/comments`, { body: `mentor remark ${i}` })).status).toBe(201);
+  for (let i = 0; i < 30; i++)
+    expect((await mc.post(`/api/checks/${checkId}/comments`, { body: `mentor remark ${i}` })).status).toBe(201);
   check = { id: checkId, ownerId: o.id };
   owner = { id: o.id, name: "Test cost-owner" };
   mentorEmail = m.email;
@@ -50,59 +51,76 @@ afterAll(async () => {
 });
 
 async function dueElsewhere(): Promise<number> {
-  const [rows] = await raw.query("SELECT COUNT(*) AS n FROM notices WHERE status IN ('queued', 'sending') AND next_attempt_at <= NOW(3) + INTERVAL 20 SECOND");
+  const [rows] = await raw.query(
+    "SELECT COUNT(*) AS n FROM notices WHERE status IN ('queued', 'sending') AND next_attempt_at <= NOW(3) + INTERVAL 20 SECOND",
+  );
   return Number((rows as { n: number }[])[0]!.n);
 }
 
 describe("a push's notices are worked out once", () => {
-  it("N comments by the owner: the same statements for 10 as for 200, and one queued notice", { timeout: 180_000 }, async () => {
-    const { pool } = await import("@/db/client");
-    const { runAfter } = await import("@/server/write");
-    const { noticeNewComment } = await import("@/server/review");
-    const { deliverDueNotices } = await import("@/server/notices");
-    const p = pool();
-    const sent: string[] = [];
-    let counting = false;
-    for (const m of ["query", "execute"] as const) {
-      const original = p[m].bind(p) as (...a: unknown[]) => unknown;
-      (p as unknown as Record<string, unknown>)[m] = (...a: unknown[]) => {
-        if (counting) sent.push(typeof a[0] === "string" ? a[0] : String((a[0] as { sql?: string }).sql));
-        return original(...a);
+  it(
+    "N comments by the owner: the same statements for 10 as for 200, and one queued notice",
+    { timeout: 180_000 },
+    async () => {
+      const { pool } = await import("@/db/client");
+      const { runAfter } = await import("@/server/write");
+      const { noticeNewComment } = await import("@/server/review");
+      const { deliverDueNotices } = await import("@/server/notices");
+      const p = pool();
+      const sent: string[] = [];
+      let counting = false;
+      for (const m of ["query", "execute"] as const) {
+        const original = p[m].bind(p) as (...a: unknown[]) => unknown;
+        (p as unknown as Record<string, unknown>)[m] = (...a: unknown[]) => {
+          if (counting) sent.push(typeof a[0] === "string" ? a[0] : String((a[0] as { sql?: string }).sql));
+          return original(...a);
+        };
+      }
+      const reads = async () => {
+        const [rows] = await p.query("SHOW SESSION STATUS LIKE 'Handler_read%'");
+        return (rows as { Value: string }[]).reduce((n, r) => n + Number(r.Value), 0);
       };
-    }
-    const reads = async () => {
-      const [rows] = await p.query("SHOW SESSION STATUS LIKE 'Handler_read%'");
-      return (rows as { Value: string }[]).reduce((n, r) => n + Number(r.Value), 0);
-    };
 
-    const cost = async (n: number) => {
-      // nothing of anyone else's falls due meanwhile (the app sends what is due within seconds)
-      await expect.poll(dueElsewhere, { timeout: 60_000, interval: 500 }).toBe(0);
-      const [[{ t }]] = (await raw.query("SELECT NOW(3) AS t")) as unknown as [[{ t: Date }]];
-      sent.length = 0;
-      const r0 = await reads();
-      const r1 = await reads();
-      counting = true;
-      await runAfter(Array.from({ length: n }, (_, i) => () => noticeNewComment(check, owner, `owner remark ${i}`)));
-      await deliverDueNotices();
-      counting = false;
-      const r2 = await reads();
-      const [queued] = await raw.query("SELECT COUNT(*) AS n FROM notices WHERE to_email = ? AND created_at >= ?", [mentorEmail, t]);
-      // the queue's claims (how many runs a kick makes depends on timing) apart from the notice work
-      const delivery = sent.filter((q) => !/^\s*insert/i.test(q) && /claim_token/.test(q));
-      return { statements: sent.length - delivery.length, delivery: delivery.length, rowsRead: r2 - r1 - (r1 - r0), queued: Number((queued as { n: number }[])[0]!.n), sql: [...sent] };
-    };
+      const cost = async (n: number) => {
+        // nothing of anyone else's falls due meanwhile (the app sends what is due within seconds)
+        await expect.poll(dueElsewhere, { timeout: 60_000, interval: 500 }).toBe(0);
+        const [[{ t }]] = (await raw.query("SELECT NOW(3) AS t")) as unknown as [[{ t: Date }]];
+        sent.length = 0;
+        const r0 = await reads();
+        const r1 = await reads();
+        counting = true;
+        await runAfter(Array.from({ length: n }, (_, i) => () => noticeNewComment(check, owner, `owner remark ${i}`)));
+        await deliverDueNotices();
+        counting = false;
+        const r2 = await reads();
+        const [queued] = await raw.query("SELECT COUNT(*) AS n FROM notices WHERE to_email = ? AND created_at >= ?", [
+          mentorEmail,
+          t,
+        ]);
+        // the queue's claims (how many runs a kick makes depends on timing) apart from the notice work
+        const delivery = sent.filter((q) => !/^\s*insert/i.test(q) && /claim_token/.test(q));
+        return {
+          statements: sent.length - delivery.length,
+          delivery: delivery.length,
+          rowsRead: r2 - r1 - (r1 - r0),
+          queued: Number((queued as { n: number }[])[0]!.n),
+          sql: [...sent],
+        };
+      };
 
-    const small = await cost(10);
-    const large = await cost(200);
-    console.log(`[notice cost] 10 comments: ${small.statements} statements (+${small.delivery} claims), ${small.rowsRead} rows read; 200 comments: ${large.statements} statements (+${large.delivery} claims), ${large.rowsRead} rows read`);
-    expect(large.statements, large.sql.join("\n")).toBe(small.statements);
-    // who took part, who they are, the engine and check the notice names, the insert (and a kick's own)
-    expect(large.statements).toBeLessThanOrEqual(5);
-    // a run of the queue is two statements (claim, read back), four when it gathers a digest; a kick makes one or two runs
-    expect(large.delivery).toBeLessThanOrEqual(8);
-    // the 200 notices to the mentor are one queued notice, carrying them all
-    expect(small.queued).toBe(1);
-    expect(large.queued).toBe(1);
-  });
+      const small = await cost(10);
+      const large = await cost(200);
+      console.log(
+        `[notice cost] 10 comments: ${small.statements} statements (+${small.delivery} claims), ${small.rowsRead} rows read; 200 comments: ${large.statements} statements (+${large.delivery} claims), ${large.rowsRead} rows read`,
+      );
+      expect(large.statements, large.sql.join("\n")).toBe(small.statements);
+      // who took part, who they are, the engine and check the notice names, the insert (and a kick's own)
+      expect(large.statements).toBeLessThanOrEqual(5);
+      // a run of the queue is two statements (claim, read back), four when it gathers a digest; a kick makes one or two runs
+      expect(large.delivery).toBeLessThanOrEqual(8);
+      // the 200 notices to the mentor are one queued notice, carrying them all
+      expect(small.queued).toBe(1);
+      expect(large.queued).toBe(1);
+    },
+  );
 });

@@ -29,7 +29,10 @@ async function settled(email: string) {
   await expect
     .poll(
       async () => {
-        const [rows] = await db.query("SELECT COUNT(*) AS n FROM notices WHERE to_email = ? AND status IN ('queued', 'sending')", [email]);
+        const [rows] = await db.query(
+          "SELECT COUNT(*) AS n FROM notices WHERE to_email = ? AND status IN ('queued', 'sending')",
+          [email],
+        );
         return Number((rows as { n: number }[])[0]!.n);
       },
       { timeout: 40_000, interval: 250 },
@@ -38,7 +41,10 @@ async function settled(email: string) {
 }
 
 async function noticeRows(email: string, kind?: string) {
-  const [rows] = await db.query(`SELECT kind, status FROM notices WHERE to_email = ?${kind ? " AND kind = ?" : ""}`, kind ? [email, kind] : [email]);
+  const [rows] = await db.query(
+    `SELECT kind, status FROM notices WHERE to_email = ?${kind ? " AND kind = ?" : ""}`,
+    kind ? [email, kind] : [email],
+  );
   return rows as { kind: string; status: string }[];
 }
 
@@ -70,7 +76,10 @@ describe("mail bombing: notices to one person are gathered", () => {
         { id: 2 * i + 2, name: "borrow.move/1", args: { id, move: "withdraw" } },
       ];
     }).flat();
-    expect((await b.post("/api/sync/push", { clientId: crypto.randomUUID(), mutations })).json).toEqual({ lastMutationId: 20, rejected: [] });
+    expect((await b.post("/api/sync/push", { clientId: crypto.randomUUID(), mutations })).json).toEqual({
+      lastMutationId: 20,
+      rejected: [],
+    });
     const mail = await waitForMail(lender.email, /asks to borrow/, 40_000);
     await settled(lender.email);
     expect(await inbox(lender.email)).toHaveLength(1);
@@ -82,11 +91,20 @@ describe("mail bombing: notices to one person are gathered", () => {
 
   it("ten comments in one push, and ten sent one by one, each reach the owner as one mail", async () => {
     const pushed = await sharedCheck("mb-push");
-    const mutations = Array.from({ length: 10 }, (_, i) => ({ id: i + 1, name: "comment.add/1", args: { id: crypto.randomUUID(), checkId: pushed.checkId, body: `pushed remark ${i}` } }));
-    expect((await pushed.m.post("/api/sync/push", { clientId: crypto.randomUUID(), mutations })).json.rejected).toEqual([]);
+    const mutations = Array.from({ length: 10 }, (_, i) => ({
+      id: i + 1,
+      name: "comment.add/1",
+      args: { id: crypto.randomUUID(), checkId: pushed.checkId, body: `pushed remark ${i}` },
+    }));
+    expect((await pushed.m.post("/api/sync/push", { clientId: crypto.randomUUID(), mutations })).json.rejected).toEqual(
+      [],
+    );
 
     const oneByOne = await sharedCheck("mb-rest");
-    for (let i = 0; i < 10; i++) expect((await oneByOne.m.post(`/api/checks/${oneByOne.checkId}/comments`, { body: `posted remark ${i}` })).status).toBe(201);
+    for (let i = 0; i < 10; i++)
+      expect(
+        (await oneByOne.m.post(`/api/checks/${oneByOne.checkId}/comments`, { body: `posted remark ${i}` })).status,
+      ).toBe(201);
 
     for (const [who, word] of [
       [pushed.owner.email, "pushed"],
@@ -119,7 +137,8 @@ describe("mail relay: what a user typed never reaches a stranger as a link or a 
     expect(mail.html ?? "").not.toMatch(HOST);
     expect(mail.html ?? "").not.toMatch(/href="[^"]*evil/i);
     // every link in the HTML is the app's own
-    for (const [, href] of (mail.html ?? "").matchAll(/href="([^"]*)"/g)) expect(new URL(href!.replace(/&amp;/g, "&")).origin).toBe(app.url);
+    for (const [, href] of (mail.html ?? "").matchAll(/href="([^"]*)"/g))
+      expect(new URL(href!.replace(/&amp;/g, "&")).origin).toBe(app.url);
     // the names are there, quoted and disarmed
     expect(mail.text).toContain("“Free shims https[:]//evil[.]example/login”");
     expect(mail.text).toContain("“Support www[.]evil[.]example”");
@@ -128,7 +147,9 @@ describe("mail relay: what a user typed never reaches a stranger as a link or a 
   it("a sign-up for someone else's address mails them nothing the sign-up chose", async () => {
     const victim = `signup-victim-${crypto.randomUUID().slice(0, 8)}@test.example`;
     const c = new Client(app.url);
-    expect((await c.post("/api/account/sign-up", { email: victim, name: LURE, password: "a-long-password-1" })).status).toBe(202);
+    expect(
+      (await c.post("/api/account/sign-up", { email: victim, name: LURE, password: "a-long-password-1" })).status,
+    ).toBe(202);
     const mail = await waitForMail(victim, /Confirm your e-mail/);
     expect(`${mail.subject}\n${mail.text}\n${mail.html}`).not.toMatch(/shims|evil/i);
   });
@@ -140,13 +161,22 @@ describe("invitation budgets", () => {
     const a = await signedIn(admin);
     const clubId = (await a.post("/api/clubs", { name: "Budget Club" })).json.club.id as string;
     const tag = crypto.randomUUID().slice(0, 8);
-    for (let i = 0; i < 20; i++) expect((await a.post(`/api/clubs/${clubId}/invites`, { email: `bs-${tag}-${i}@test.example`, role: "mechanic" })).status).toBe(201);
+    for (let i = 0; i < 20; i++)
+      expect(
+        (await a.post(`/api/clubs/${clubId}/invites`, { email: `bs-${tag}-${i}@test.example`, role: "mechanic" }))
+          .status,
+      ).toBe(201);
     const over = `bs-${tag}-over@test.example`;
-    const res = await a.raw("POST", `/api/clubs/${clubId}/invites`, { body: JSON.stringify({ email: over, role: "mechanic" }), headers: { "content-type": "application/json" } });
+    const res = await a.raw("POST", `/api/clubs/${clubId}/invites`, {
+      body: JSON.stringify({ email: over, role: "mechanic" }),
+      headers: { "content-type": "application/json" },
+    });
     expect(res.status).toBe(429);
     expect(Number(res.headers.get("retry-after"))).toBeGreaterThan(0);
     expect(((await res.json()) as { error: { code: string } }).error.code).toBe("throttled");
-    expect((await a.get(`/api/clubs/${clubId}/invites`)).json.items.map((i: { email: string }) => i.email)).not.toContain(over);
+    expect(
+      (await a.get(`/api/clubs/${clubId}/invites`)).json.items.map((i: { email: string }) => i.email),
+    ).not.toContain(over);
     expect(await noticeRows(over)).toEqual([]);
   });
 
@@ -169,15 +199,24 @@ describe("one-click unsubscribe (RFC 8058)", () => {
     const s = await sharedCheck("unsub");
     expect((await s.m.put(`/api/shares/${s.shareId}/verdict`, { verdict: "measure-again" })).status).toBe(200);
     const mail = await waitForMail(s.owner.email, /Review verdict/, 20_000);
-    const list = (await header(mail, "List-Unsubscribe"));
-    expect(list).toMatch(new RegExp(`^<${app.url.replace(/\./g, "\\.")}/api/notices/unsubscribe\\?token=[A-Za-z0-9_-]+\\.[A-Za-z0-9_-]{43}>$`));
-    expect((await header(mail, "List-Unsubscribe-Post"))).toBe("List-Unsubscribe=One-Click");
+    const list = await header(mail, "List-Unsubscribe");
+    expect(list).toMatch(
+      new RegExp(
+        `^<${app.url.replace(/\./g, "\\.")}/api/notices/unsubscribe\\?token=[A-Za-z0-9_-]+\\.[A-Za-z0-9_-]{43}>$`,
+      ),
+    );
+    expect(await header(mail, "List-Unsubscribe-Post")).toBe("List-Unsubscribe=One-Click");
     // the text says how to stop them too, through the page that asks before it stops anything
     expect(mail.text).toMatch(/\/unsubscribe\?token=/);
     const url = list!.slice(1, -1);
 
     // as a mail provider sends it: from its own servers, no cookie, a form body; a forged token does nothing
-    const oneClick = (u: string) => fetch(u, { method: "POST", headers: { "content-type": "application/x-www-form-urlencoded", "sec-fetch-site": "cross-site" }, body: "List-Unsubscribe=One-Click" });
+    const oneClick = (u: string) =>
+      fetch(u, {
+        method: "POST",
+        headers: { "content-type": "application/x-www-form-urlencoded", "sec-fetch-site": "cross-site" },
+        body: "List-Unsubscribe=One-Click",
+      });
     const forged = url.slice(0, -1) + (url.endsWith("A") ? "B" : "A");
     expect((await oneClick(forged)).status).toBe(400);
     expect((await s.o.get("/api/account")).json.user.noticesByEmail).toBe(true);
@@ -191,9 +230,19 @@ describe("one-click unsubscribe (RFC 8058)", () => {
     // a link the owner asks for still comes, and carries no unsubscribe
     expect((await new Client(app.url).post("/api/account/password-reset", { email: s.owner.email })).status).toBe(202);
     const reset = await waitForMail(s.owner.email, /Choose a new Lashwright password/);
-    expect((await header(reset, "List-Unsubscribe"))).toBeUndefined();
-    expect((await new Client(app.url).post("/api/account/sign-up", { email: s.owner.email, name: "Again", password: "a-long-password-2" })).status).toBe(202);
-    expect(await header(await waitForMail(s.owner.email, /already have a Lashwright account/), "List-Unsubscribe")).toBeUndefined();
+    expect(await header(reset, "List-Unsubscribe")).toBeUndefined();
+    expect(
+      (
+        await new Client(app.url).post("/api/account/sign-up", {
+          email: s.owner.email,
+          name: "Again",
+          password: "a-long-password-2",
+        })
+      ).status,
+    ).toBe(202);
+    expect(
+      await header(await waitForMail(s.owner.email, /already have a Lashwright account/), "List-Unsubscribe"),
+    ).toBeUndefined();
 
     // the account page's setting turns them back on
     expect((await s.o.patch("/api/account", { noticesByEmail: true })).status).toBe(200);
@@ -210,8 +259,12 @@ describe("one-click unsubscribe (RFC 8058)", () => {
     const stranger = `unsub-stranger-${crypto.randomUUID().slice(0, 8)}@test.example`;
     expect((await a.post(`/api/clubs/${clubId}/invites`, { email: stranger, role: "mechanic" })).status).toBe(201);
     const mail = await waitForMail(stranger, /invites you/);
-    expect((await header(mail, "List-Unsubscribe-Post"))).toBe("List-Unsubscribe=One-Click");
-    const res = await fetch((await header(mail, "List-Unsubscribe"))!.slice(1, -1), { method: "POST", headers: { "content-type": "application/x-www-form-urlencoded" }, body: "List-Unsubscribe=One-Click" });
+    expect(await header(mail, "List-Unsubscribe-Post")).toBe("List-Unsubscribe=One-Click");
+    const res = await fetch((await header(mail, "List-Unsubscribe"))!.slice(1, -1), {
+      method: "POST",
+      headers: { "content-type": "application/x-www-form-urlencoded" },
+      body: "List-Unsubscribe=One-Click",
+    });
     expect(res.status).toBe(200);
     expect((await a.post(`/api/clubs/${clubId}/invites`, { email: stranger, role: "mentor" })).status).toBe(201);
     await settled(stranger);

@@ -27,11 +27,15 @@ async function owner(tag: string) {
   return { c, checkId };
 }
 
-const send = (c: Client, checkId: string, id: string, file: Buffer) => c.form("POST", `/api/checks/${checkId}/photos`, photoForm(file, { id }));
+const send = (c: Client, checkId: string, id: string, file: Buffer) =>
+  c.form("POST", `/api/checks/${checkId}/photos`, photoForm(file, { id }));
 
 async function rowsFor(id: string) {
   const c = await rawConnection();
-  const [rows] = await c.query("SELECT check_id AS checkId, bytes, stored_at IS NOT NULL AS stored FROM uploads WHERE id = ?", [id]);
+  const [rows] = await c.query(
+    "SELECT check_id AS checkId, bytes, stored_at IS NOT NULL AS stored FROM uploads WHERE id = ?",
+    [id],
+  );
   await c.end();
   return rows as { checkId: string; bytes: number; stored: number }[];
 }
@@ -40,7 +44,6 @@ async function fetchPhoto(c: Client, id: string) {
   const res = await fetch(`${app.url}/api/photos/${id}`, { headers: { cookie: c.cookieHeader() } });
   return { status: res.status, bytes: Buffer.from(await res.arrayBuffer()) };
 }
-
 
 describe("a photo sent again while it is being stored", () => {
   it("20 concurrent sends of one id, 20 times over: GET returns the bytes, one row and one object each time", async () => {
@@ -94,9 +97,17 @@ describe("a photo sent again while it is being stored", () => {
       endpoint: process.env.S3_ENDPOINT,
       region: "us-east-1",
       forcePathStyle: true,
-      credentials: { accessKeyId: process.env.S3_ACCESS_KEY ?? "S3RVER", secretAccessKey: process.env.S3_SECRET_KEY ?? "S3RVER" },
+      credentials: {
+        accessKeyId: process.env.S3_ACCESS_KEY ?? "S3RVER",
+        secretAccessKey: process.env.S3_SECRET_KEY ?? "S3RVER",
+      },
     });
-    await s3.send(new DeleteObjectCommand({ Bucket: process.env.S3_BUCKET ?? "lashwright-photos", Key: `checks/${checkId}/${id}.jpg` }));
+    await s3.send(
+      new DeleteObjectCommand({
+        Bucket: process.env.S3_BUCKET ?? "lashwright-photos",
+        Key: `checks/${checkId}/${id}.jpg`,
+      }),
+    );
 
     // an upload in flight is not listed and not served (never a 500)
     expect((await fetchPhoto(c, id)).status).toBe(404);
@@ -114,12 +125,16 @@ describe("a photo sent again while it is being stored", () => {
     const b = await owner("ph-race-b");
     const png = await noisyPng(13);
     const id = crypto.randomUUID();
-    const answers = await Promise.all(Array.from({ length: 10 }, (_, i) => (i % 2 ? send(a.c, a.checkId, id, png) : send(b.c, b.checkId, id, png))));
+    const answers = await Promise.all(
+      Array.from({ length: 10 }, (_, i) => (i % 2 ? send(a.c, a.checkId, id, png) : send(b.c, b.checkId, id, png))),
+    );
     const rows = await rowsFor(id);
     expect(rows.length).toBe(1);
     const winner = rows[0]!.checkId === a.checkId ? a : b;
     const loser = winner === a ? b : a;
-    expect(answers.filter((_, i) => (i % 2 ? a : b) === loser).every((r) => r.status === 409 || r.status === 503)).toBe(true);
+    expect(answers.filter((_, i) => (i % 2 ? a : b) === loser).every((r) => r.status === 409 || r.status === 503)).toBe(
+      true,
+    );
     expect((await send(winner.c, winner.checkId, id, png)).status).toBeLessThan(300);
     expect((await fetchPhoto(winner.c, id)).status).toBe(200);
     expect(await storedKeys(`checks/${winner.checkId}/`)).toEqual([`checks/${winner.checkId}/${id}.jpg`]);

@@ -17,7 +17,12 @@ const QUOTA = Math.floor(NOISY_STORED_BYTES * 2.5);
 
 let app: App;
 beforeAll(async () => {
-  app = await startApp({ PHOTO_DECODE_SLOTS: "1", PHOTO_DECODE_QUEUE: "0", PHOTO_UPLOADS_PER_HOUR: "4", PHOTO_QUOTA_BYTES: String(QUOTA) });
+  app = await startApp({
+    PHOTO_DECODE_SLOTS: "1",
+    PHOTO_DECODE_QUEUE: "0",
+    PHOTO_UPLOADS_PER_HOUR: "4",
+    PHOTO_QUOTA_BYTES: String(QUOTA),
+  });
 });
 afterAll(() => app?.stop());
 
@@ -30,16 +35,29 @@ async function owner(tag: string) {
 
 /** POST a photo and keep the headers (Retry-After). */
 async function upload(c: Client, checkId: string, form: FormData) {
-  const res = await fetch(`${app.url}/api/checks/${checkId}/photos`, { method: "POST", headers: { cookie: c.cookieHeader(), origin: app.url }, body: form });
-  const json = (await res.json().catch(() => null)) as { error?: { code: string; message: string }; photo?: { id: string; bytes: number } } | null;
+  const res = await fetch(`${app.url}/api/checks/${checkId}/photos`, {
+    method: "POST",
+    headers: { cookie: c.cookieHeader(), origin: app.url },
+    body: form,
+  });
+  const json = (await res.json().catch(() => null)) as {
+    error?: { code: string; message: string };
+    photo?: { id: string; bytes: number };
+  } | null;
   return { status: res.status, json, retryAfter: res.headers.get("retry-after") };
 }
 
-const tinyJpeg = () => sharp({ create: { width: 64, height: 48, channels: 3, background: "#7a5a3a" } }).jpeg().toBuffer();
+const tinyJpeg = () =>
+  sharp({ create: { width: 64, height: 48, channels: 3, background: "#7a5a3a" } })
+    .jpeg()
+    .toBuffer();
 
 async function rowsOf(userId: string) {
   const c = await rawConnection();
-  const [rows] = await c.query("SELECT id, bytes, stored_at IS NOT NULL AS stored FROM uploads WHERE owner_id = ? ORDER BY id", [userId]);
+  const [rows] = await c.query(
+    "SELECT id, bytes, stored_at IS NOT NULL AS stored FROM uploads WHERE owner_id = ? ORDER BY id",
+    [userId],
+  );
   await c.end();
   return rows as { id: string; bytes: number; stored: number }[];
 }
@@ -59,24 +77,36 @@ async function userIdOf(c: Client) {
 describe("photo uploads within fair use", () => {
   it("a 146 KB PNG of 7071 x 7071 is refused from its header with a clear 413, and nothing is stored", async () => {
     const { c, checkId } = await owner("ph-bomb");
-    const bomb = await sharp({ create: { width: 7071, height: 7071, channels: 3, background: "#ffffff" } }).png({ compressionLevel: 9 }).toBuffer();
+    const bomb = await sharp({ create: { width: 7071, height: 7071, channels: 3, background: "#ffffff" } })
+      .png({ compressionLevel: 9 })
+      .toBuffer();
     expect(bomb.byteLength).toBeLessThan(200 * 1024);
     const r = await upload(c, checkId, photoForm(bomb, { name: "shim.png", type: "image/png" }));
     expect(r.status).toBe(413);
     // too_many_pixels is answered only by the header check (or sharp's limit behind it): no decode ran to its end
-    expect(r.json?.error).toMatchObject({ code: "too_many_pixels", message: expect.stringMatching(/at most 25 megapixels; this one is 7071 × 7071/) });
+    expect(r.json?.error).toMatchObject({
+      code: "too_many_pixels",
+      message: expect.stringMatching(/at most 25 megapixels; this one is 7071 × 7071/),
+    });
     expect(await rowsOf(await userIdOf(c))).toEqual([]);
     expect(await storedKeys(`checks/${checkId}/`)).toEqual([]);
   });
 
   it("decodes run one at a time here: a burst beyond the cap is answered 503 with Retry-After, and every accepted photo is whole", async () => {
     // 5000 x 4000 (20 megapixels, under the limit): each decode keeps the slot for a while
-    const big = await sharp({ create: { width: 5000, height: 4000, channels: 3, background: "#5a6a7a" } }).png().toBuffer();
+    const big = await sharp({ create: { width: 5000, height: 4000, channels: 3, background: "#5a6a7a" } })
+      .png()
+      .toBuffer();
     const owners = await Promise.all([1, 2, 3].map((i) => owner(`ph-burst-${i}`)));
     const tries = owners.flatMap((o) => [1, 2, 3].map(() => ({ o, id: crypto.randomUUID() })));
-    const answers = await Promise.all(tries.map((t) => upload(t.o.c, t.o.checkId, photoForm(big, { id: t.id, name: "big.png", type: "image/png" }))));
+    const answers = await Promise.all(
+      tries.map((t) => upload(t.o.c, t.o.checkId, photoForm(big, { id: t.id, name: "big.png", type: "image/png" }))),
+    );
     const statuses = answers.map((a) => a.status);
-    expect(statuses.every((s) => s === 201 || s === 503), statuses.join(",")).toBe(true);
+    expect(
+      statuses.every((s) => s === 201 || s === 503),
+      statuses.join(","),
+    ).toBe(true);
     const busy = answers.filter((a) => a.status === 503);
     expect(busy.length).toBeGreaterThan(0);
     for (const b of busy) {
@@ -87,15 +117,22 @@ describe("photo uploads within fair use", () => {
     // what was accepted is stored whole; what was turned away left nothing behind
     for (const o of owners) {
       const accepted = tries.filter((t, i) => t.o === o && answers[i]!.status === 201).map((t) => t.id);
-      expect((await rowsOf(await userIdOf(o.c))).map((r) => [r.id, r.stored])).toEqual(accepted.sort().map((id) => [id, 1]));
-      expect((await storedKeys(`checks/${o.checkId}/`)).sort()).toEqual(accepted.map((id) => `checks/${o.checkId}/${id}.jpg`).sort());
+      expect((await rowsOf(await userIdOf(o.c))).map((r) => [r.id, r.stored])).toEqual(
+        accepted.sort().map((id) => [id, 1]),
+      );
+      expect((await storedKeys(`checks/${o.checkId}/`)).sort()).toEqual(
+        accepted.map((id) => `checks/${o.checkId}/${id}.jpg`).sort(),
+      );
     }
     // a turned-away upload gave its unit of the hour's budget back, and goes through when sent again
     const again = tries[answers.findIndex((a) => a.status === 503)]!;
     const againUser = await userIdOf(again.o.c);
     const accepted = tries.filter((t, i) => t.o === again.o && answers[i]!.status === 201).length;
     expect(await budgetSpent(againUser)).toBe(accepted);
-    expect((await upload(again.o.c, again.o.checkId, photoForm(big, { id: again.id, name: "big.png", type: "image/png" }))).status).toBe(201);
+    expect(
+      (await upload(again.o.c, again.o.checkId, photoForm(big, { id: again.id, name: "big.png", type: "image/png" })))
+        .status,
+    ).toBe(201);
     expect(await budgetSpent(againUser)).toBe(accepted + 1);
   });
 

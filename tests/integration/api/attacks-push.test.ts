@@ -40,7 +40,11 @@ async function ownerWithCheck(tag: string): Promise<{ c: Client; checkId: string
 
 /** `n` comment.add/1 on the check, numbered from `from` (a device's increasing ids). */
 const comments = (checkId: string, from: number, n: number) =>
-  Array.from({ length: n }, (_, i) => ({ id: from + i, name: "comment.add/1", args: { id: crypto.randomUUID(), checkId, body: `spam ${from + i}`, valve: null } }));
+  Array.from({ length: n }, (_, i) => ({
+    id: from + i,
+    name: "comment.add/1",
+    args: { id: crypto.randomUUID(), checkId, body: `spam ${from + i}`, valve: null },
+  }));
 
 const commentIds = (ms: { args: { id: string } }[]) => ms.map((m) => m.args.id);
 const stored = (checkId: string) => count("SELECT COUNT(*) AS n FROM comments WHERE check_id = ?", [checkId]);
@@ -61,18 +65,35 @@ describe("a push that grows without bound (issue 24 item 4)", () => {
     { timeout: 240_000 },
     async () => {
       const { c, checkId } = await ownerWithCheck("push-flood");
-      const pushes: { device: string; mutations: ReturnType<typeof comments>; status: number; retryAfter: number | null; ms: number }[] = [];
+      const pushes: {
+        device: string;
+        mutations: ReturnType<typeof comments>;
+        status: number;
+        retryAfter: number | null;
+        ms: number;
+      }[] = [];
       const send = async (device: string, mutations: ReturnType<typeof comments>) => {
         const t0 = performance.now();
-        const res = await c.raw("POST", "/api/sync/push", { body: JSON.stringify({ clientId: device, mutations }), headers: { "content-type": "application/json" } });
+        const res = await c.raw("POST", "/api/sync/push", {
+          body: JSON.stringify({ clientId: device, mutations }),
+          headers: { "content-type": "application/json" },
+        });
         const body = (await res.json()) as { error?: { code: string; message: string } };
-        const p = { device, mutations, status: res.status, retryAfter: res.headers.get("retry-after") === null ? null : Number(res.headers.get("retry-after")), body, ms: Math.round(performance.now() - t0) };
+        const p = {
+          device,
+          mutations,
+          status: res.status,
+          retryAfter: res.headers.get("retry-after") === null ? null : Number(res.headers.get("retry-after")),
+          body,
+          ms: Math.round(performance.now() - t0),
+        };
         pushes.push(p);
         return p;
       };
       // one device: three full pushes fit its budget, the fourth is refused
       const one = crypto.randomUUID();
-      for (let i = 0; i < PER_DEVICE / PER_PUSH; i++) expect((await send(one, comments(checkId, 1 + i * PER_PUSH, PER_PUSH))).status).toBe(200);
+      for (let i = 0; i < PER_DEVICE / PER_PUSH; i++)
+        expect((await send(one, comments(checkId, 1 + i * PER_PUSH, PER_PUSH))).status).toBe(200);
       const refusedOne = await send(one, comments(checkId, 1 + PER_DEVICE, PER_PUSH));
       expect(refusedOne.status).toBe(429);
       expect(refusedOne.body.error?.code).toBe("throttled");
@@ -80,13 +101,15 @@ describe("a push that grows without bound (issue 24 item 4)", () => {
       expect(refusedOne.retryAfter).toBeLessThanOrEqual(60);
       // new device ids do not escape the account's budget
       const two = crypto.randomUUID();
-      for (let i = 0; i < (PER_ACCOUNT - PER_DEVICE) / PER_PUSH; i++) expect((await send(two, comments(checkId, 1 + i * PER_PUSH, PER_PUSH))).status).toBe(200);
+      for (let i = 0; i < (PER_ACCOUNT - PER_DEVICE) / PER_PUSH; i++)
+        expect((await send(two, comments(checkId, 1 + i * PER_PUSH, PER_PUSH))).status).toBe(200);
       const three = crypto.randomUUID();
       const refusedThree = await send(three, comments(checkId, 1, PER_PUSH));
       expect(refusedThree.status).toBe(429);
       expect(refusedThree.retryAfter).toBeGreaterThanOrEqual(1);
       // hammering a spent budget gains nothing
-      for (let i = 0; i < 5; i++) expect((await send(crypto.randomUUID(), comments(checkId, 1, PER_PUSH))).status).toBe(429);
+      for (let i = 0; i < 5; i++)
+        expect((await send(crypto.randomUUID(), comments(checkId, 1, PER_PUSH))).status).toBe(429);
 
       // nothing refused was applied: exactly the accepted pushes' comments are stored
       const accepted = pushes.filter((p) => p.status === 200).flatMap((p) => commentIds(p.mutations));
@@ -95,7 +118,9 @@ describe("a push that grows without bound (issue 24 item 4)", () => {
       expect(await stored(checkId)).toBe(PER_ACCOUNT);
       expect(await storedOf(refused)).toBe(0);
       // and no refusal was recorded against those mutations: they are still the phone's to send
-      expect(await count("SELECT COUNT(*) AS n FROM rejected_mutations WHERE client_id IN (?)", [[one, two, three]])).toBe(0);
+      expect(
+        await count("SELECT COUNT(*) AS n FROM rejected_mutations WHERE client_id IN (?)", [[one, two, three]]),
+      ).toBe(0);
       expect(await count("SELECT last_mutation_id AS n FROM sync_clients WHERE id = ?", [one])).toBe(PER_DEVICE);
 
       // the owner's phone waits as asked, then sends the same outbox again: it goes through
@@ -107,7 +132,9 @@ describe("a push that grows without bound (issue 24 item 4)", () => {
       // a replay of what was applied costs nothing and changes nothing
       expect((await send(one, refusedOne.mutations)).status).toBe(200);
       expect(await stored(checkId)).toBe(PER_ACCOUNT + PER_PUSH);
-      console.log(`[attacks-push] ${pushes.length} pushes of ${PER_PUSH} comments: ${pushes.filter((p) => p.status === 200).length} applied, ${pushes.filter((p) => p.status === 429).length} refused with 429 (Retry-After ${refusedOne.retryAfter} s, ${refusedThree.retryAfter} s); after the wait the owner's push went through; ms per push (printed, not asserted): ${pushes.map((p) => `${p.status}:${p.ms}`).join(" ")}`);
+      console.log(
+        `[attacks-push] ${pushes.length} pushes of ${PER_PUSH} comments: ${pushes.filter((p) => p.status === 200).length} applied, ${pushes.filter((p) => p.status === 429).length} refused with 429 (Retry-After ${refusedOne.retryAfter} s, ${refusedThree.retryAfter} s); after the wait the owner's push went through; ms per push (printed, not asserted): ${pushes.map((p) => `${p.status}:${p.ms}`).join(" ")}`,
+      );
     },
   );
 });
@@ -119,11 +146,20 @@ describe("prototype names as mutation names (issue 24 item 10)", () => {
     const clientId = crypto.randomUUID();
     const res = await c.post("/api/sync/push", {
       clientId,
-      mutations: [...names.map((name, i) => ({ id: i + 1, name, args: { id: crypto.randomUUID(), checkId } })), { id: names.length + 1, name: "comment.add/1", args: { id: crypto.randomUUID(), checkId, body: "after the odd names", valve: null } }],
+      mutations: [
+        ...names.map((name, i) => ({ id: i + 1, name, args: { id: crypto.randomUUID(), checkId } })),
+        {
+          id: names.length + 1,
+          name: "comment.add/1",
+          args: { id: crypto.randomUUID(), checkId, body: "after the odd names", valve: null },
+        },
+      ],
     });
     expect(res.status).toBe(200);
     expect(res.json.lastMutationId).toBe(names.length + 1);
-    expect(res.json.rejected).toEqual(names.map((name, i) => ({ id: i + 1, name, reason: `unknown change "${name}"` })));
+    expect(res.json.rejected).toEqual(
+      names.map((name, i) => ({ id: i + 1, name, reason: `unknown change "${name}"` })),
+    );
     expect(await stored(checkId)).toBe(1);
     // the server is none the worse: the same names with arguments shaped like a real change
     // (written as JSON text: an object literal's __proto__ would set its prototype, not send a key)

@@ -22,7 +22,10 @@ const signedIn = (u: U) => signedInClient(app.url, u);
 async function noticesTo(userId: string, kind?: string): Promise<number> {
   const c = await rawConnection();
   try {
-    const [rows] = await c.query(`SELECT COUNT(*) AS n FROM notices WHERE to_user_id = ?${kind ? " AND kind = ?" : ""}`, kind ? [userId, kind] : [userId]);
+    const [rows] = await c.query(
+      `SELECT COUNT(*) AS n FROM notices WHERE to_user_id = ?${kind ? " AND kind = ?" : ""}`,
+      kind ? [userId, kind] : [userId],
+    );
     return Number((rows as { n: number }[])[0]!.n);
   } finally {
     await c.end();
@@ -48,7 +51,11 @@ const aReading = (valve: string) => ({ readings: [{ valve, installedStamp: 2.6, 
 
 describe("a membership's end ends what it held open", () => {
   async function setUp() {
-    const [owner, mentor, other] = await Promise.all([makeUser("ar-owner"), makeUser("ar-mentor"), makeUser("ar-other")]);
+    const [owner, mentor, other] = await Promise.all([
+      makeUser("ar-owner"),
+      makeUser("ar-mentor"),
+      makeUser("ar-other"),
+    ]);
     const club = await clubWith("Rules Club", [
       [owner, ["mechanic"]],
       [mentor, ["mentor"]],
@@ -79,21 +86,33 @@ describe("a membership's end ends what it held open", () => {
   async function assertEnded(s: Awaited<ReturnType<typeof setUp>>) {
     // the club's mentor reads nothing of the check any more, nor readings written after the end
     expect((await s.o.put(`/api/checks/${s.checkId}/readings`, aReading("I1.2"))).status).toBe(200);
-    for (const path of [`/api/checks/${s.checkId}`, `/api/checks/${s.checkId}/readings`, `/api/checks/${s.checkId}/comments`]) expect((await s.m.get(path)).status).toBe(404);
+    for (const path of [
+      `/api/checks/${s.checkId}`,
+      `/api/checks/${s.checkId}/readings`,
+      `/api/checks/${s.checkId}/comments`,
+    ])
+      expect((await s.m.get(path)).status).toBe(404);
     expect((await s.m.put(`/api/shares/${s.shareId}/verdict`, { verdict: "close-up" })).status).toBe(404);
     expect((await s.m.get(`/api/clubs/${s.clubId}/queue`)).json.items).toEqual([]);
     // the owner sees the share withdrawn
     expect((await s.o.get(`/api/checks/${s.checkId}/shares`)).json.items[0].withdrawnAt).not.toBeNull();
     // their offer is gone from the pool; asking for it answers "no such" and mails nobody
-    expect(((await s.x.get(`/api/clubs/${s.clubId}/pool`)).json.items as { id: string }[]).map((i) => i.id)).toEqual([s.theirOffer.id]);
+    expect(((await s.x.get(`/api/clubs/${s.clubId}/pool`)).json.items as { id: string }[]).map((i) => i.id)).toEqual([
+      s.theirOffer.id,
+    ]);
     const before = await noticesTo(s.owner.id);
     expect((await s.x.post("/api/borrows", { offerId: s.offer.id, count: 1 })).status).toBe(404);
     // the open requests both ways are ended, so no step on them mails the one who left
-    const xs = Object.fromEntries(((await s.x.get("/api/borrows")).json.items as { id: string; state: string }[]).map((b) => [b.id, b.state]));
+    const xs = Object.fromEntries(
+      ((await s.x.get("/api/borrows")).json.items as { id: string; state: string }[]).map((b) => [b.id, b.state]),
+    );
     expect(xs).toMatchObject({ [s.openAsk]: "declined", [s.ownersAsk]: "withdrawn", [s.handed]: "handed-over" });
     expect((await s.x.put(`/api/borrows/${s.ownersAsk}`, { move: "hand-over" })).status).toBe(409);
     expect((await s.x.put(`/api/borrows/${s.openAsk}`, { move: "withdraw" })).status).toBe(409);
-    const pushed = await s.x.post("/api/sync/push", { clientId: crypto.randomUUID(), mutations: [{ id: 1, name: "borrow.ask/1", args: { id: crypto.randomUUID(), offerId: s.offer.id, count: 1 } }] });
+    const pushed = await s.x.post("/api/sync/push", {
+      clientId: crypto.randomUUID(),
+      mutations: [{ id: 1, name: "borrow.ask/1", args: { id: crypto.randomUUID(), offerId: s.offer.id, count: 1 } }],
+    });
     expect(pushed.json.rejected).toHaveLength(1);
     expect(await noticesTo(s.owner.id)).toBe(before);
     // a loan already handed over stays until the shims come back
@@ -106,7 +125,10 @@ describe("a membership's end ends what it held open", () => {
     expect((await s.a.del(`/api/clubs/${s.clubId}/members/${s.owner.id}`)).status).toBe(204);
     await assertEnded(s);
     const log = (await s.a.get(`/api/clubs/${s.clubId}/log`)).json.items as { action: string; detail: string }[];
-    expect(log[0]).toMatchObject({ action: "roles-changed", detail: expect.stringMatching(/→ none; ended 1 share, 1 offer, 2 requests/) });
+    expect(log[0]).toMatchObject({
+      action: "roles-changed",
+      detail: expect.stringMatching(/→ none; ended 1 share, 1 offer, 2 requests/),
+    });
   });
 
   it("leaving: the member removes themselves, with the same effect", async () => {
@@ -137,15 +159,22 @@ describe("review threads and verdicts", () => {
     const rest = await o.post(`/api/checks/${second}/comments`, { id, body: "second check" });
     expect(rest.status).toBe(409);
     expect(rest.json.error.message).toMatch(/already used/);
-    const pushed = await o.post("/api/sync/push", { clientId: crypto.randomUUID(), mutations: [{ id: 1, name: "comment.add/1", args: { id, checkId: second, body: "second check" } }] });
-    expect(pushed.json.rejected).toEqual([{ id: 1, name: "comment.add/1", reason: expect.stringMatching(/already used/) }]);
+    const pushed = await o.post("/api/sync/push", {
+      clientId: crypto.randomUUID(),
+      mutations: [{ id: 1, name: "comment.add/1", args: { id, checkId: second, body: "second check" } }],
+    });
+    expect(pushed.json.rejected).toEqual([
+      { id: 1, name: "comment.add/1", reason: expect.stringMatching(/already used/) },
+    ]);
     // nor may someone else take an id on the same check
     expect((await m.post(`/api/checks/${second}/comments`, { id, body: "mine now" })).status).toBe(409);
     expect((await o.get(`/api/checks/${second}/comments`)).json.items).toEqual([]);
   });
 
   it("a check shared with two clubs: each club's mentors read their own thread and the owner's comments; the owner reads all", async () => {
-    const [owner, mentorA, mentorB, both] = await Promise.all(["ar-two-owner", "ar-two-ma", "ar-two-mb", "ar-two-both"].map(makeUser));
+    const [owner, mentorA, mentorB, both] = await Promise.all(
+      ["ar-two-owner", "ar-two-ma", "ar-two-mb", "ar-two-both"].map(makeUser),
+    );
     const A = await clubWith("Club A", [
       [owner!, ["mechanic"]],
       [mentorA!, ["mentor"]],
@@ -162,17 +191,25 @@ describe("review threads and verdicts", () => {
     await o.post(`/api/checks/${checkId}/shares`, { clubId: A.clubId });
     await o.post(`/api/checks/${checkId}/shares`, { clubId: B.clubId });
     expect((await ma.post(`/api/checks/${checkId}/comments`, { body: "A: E2.1 looks tight" })).status).toBe(201);
-    const pushed = await mb.post("/api/sync/push", { clientId: crypto.randomUUID(), mutations: [{ id: 1, name: "comment.add/1", args: { id: crypto.randomUUID(), checkId, body: "B: measure again warm" } }] });
+    const pushed = await mb.post("/api/sync/push", {
+      clientId: crypto.randomUUID(),
+      mutations: [
+        { id: 1, name: "comment.add/1", args: { id: crypto.randomUUID(), checkId, body: "B: measure again warm" } },
+      ],
+    });
     expect(pushed.json.rejected).toEqual([]);
     expect((await o.post(`/api/checks/${checkId}/comments`, { body: "owner: thanks all" })).status).toBe(201);
-    const bodies = async (c: Client) => ((await c.get(`/api/checks/${checkId}/comments`)).json.items as { body: string }[]).map((x) => x.body).sort();
+    const bodies = async (c: Client) =>
+      ((await c.get(`/api/checks/${checkId}/comments`)).json.items as { body: string }[]).map((x) => x.body).sort();
     expect(await bodies(o)).toEqual(["A: E2.1 looks tight", "B: measure again warm", "owner: thanks all"]);
     expect(await bodies(ma)).toEqual(["A: E2.1 looks tight", "owner: thanks all"]);
     expect(await bodies(mb)).toEqual(["B: measure again warm", "owner: thanks all"]);
     // a mentor of both clubs reads both threads
     expect(await bodies(mab)).toEqual(["A: E2.1 looks tight", "B: measure again warm", "owner: thanks all"]);
     // club B's share withdrawn: its mentor reads nothing; A's thread is untouched
-    const bShare = ((await o.get(`/api/checks/${checkId}/shares`)).json.items as { id: string; clubId: string }[]).find((s) => s.clubId === B.clubId)!;
+    const bShare = ((await o.get(`/api/checks/${checkId}/shares`)).json.items as { id: string; clubId: string }[]).find(
+      (s) => s.clubId === B.clubId,
+    )!;
     expect((await o.del(`/api/shares/${bShare.id}`)).status).toBe(204);
     expect((await mb.get(`/api/checks/${checkId}/comments`)).status).toBe(404);
     expect(await bodies(ma)).toEqual(["A: E2.1 looks tight", "owner: thanks all"]);
@@ -190,11 +227,18 @@ describe("review threads and verdicts", () => {
     const rest = await self.put(`/api/shares/${shareId}/verdict`, { verdict: "close-up" });
     expect(rest.status).toBe(403);
     expect(rest.json.error.message).toMatch(/own check/);
-    const pushed = await self.post("/api/sync/push", { clientId: crypto.randomUUID(), mutations: [{ id: 1, name: "verdict.set/1", args: { shareId, verdict: "close-up" } }] });
-    expect(pushed.json.rejected).toEqual([{ id: 1, name: "verdict.set/1", reason: expect.stringMatching(/own check/) }]);
+    const pushed = await self.post("/api/sync/push", {
+      clientId: crypto.randomUUID(),
+      mutations: [{ id: 1, name: "verdict.set/1", args: { shareId, verdict: "close-up" } }],
+    });
+    expect(pushed.json.rejected).toEqual([
+      { id: 1, name: "verdict.set/1", reason: expect.stringMatching(/own check/) },
+    ]);
     expect((await self.get(`/api/checks/${checkId}/shares`)).json.items[0].verdict).toBeNull();
     const m = await signedIn(mentor);
-    expect((await m.put(`/api/shares/${shareId}/verdict`, { verdict: "close-up" })).json.share.verdict).toBe("close-up");
+    expect((await m.put(`/api/shares/${shareId}/verdict`, { verdict: "close-up" })).json.share.verdict).toBe(
+      "close-up",
+    );
   });
 });
 
@@ -207,8 +251,15 @@ describe("names with control characters", () => {
     expect(engine.status).toBe(422);
     expect(engine.json.error.fields).toEqual({ name: "no line breaks, tabs or other control characters" });
     expect((await c.get("/api/engines")).json.items).toEqual([]);
-    const pushed = await c.post("/api/sync/push", { clientId: crypto.randomUUID(), mutations: [{ id: 1, name: "engine.put/1", args: { ...ENGINE_FOUR, id: crypto.randomUUID(), name: "Tab\there" } }] });
-    expect(pushed.json.rejected).toEqual([{ id: 1, name: "engine.put/1", reason: expect.stringMatching(/control characters/) }]);
+    const pushed = await c.post("/api/sync/push", {
+      clientId: crypto.randomUUID(),
+      mutations: [
+        { id: 1, name: "engine.put/1", args: { ...ENGINE_FOUR, id: crypto.randomUUID(), name: "Tab\there" } },
+      ],
+    });
+    expect(pushed.json.rejected).toEqual([
+      { id: 1, name: "engine.put/1", reason: expect.stringMatching(/control characters/) },
+    ]);
     expect((await c.get("/api/engines")).json.items).toEqual([]);
 
     const club = await c.post("/api/clubs", { name: "Club\r\nBcc: everyone@example.com" });
@@ -226,7 +277,9 @@ describe("names with control characters", () => {
 
     const ok = (await c.post("/api/clubs", { name: "Tuesday nights" })).json.club.id as string;
     await c.post("/api/tray", { size: 2.45, count: 1 });
-    expect((await c.post(`/api/clubs/${ok}/pool`, { size: 2.45, count: 1, note: "by the\u0000lathe" })).status).toBe(422);
+    expect((await c.post(`/api/clubs/${ok}/pool`, { size: 2.45, count: 1, note: "by the\u0000lathe" })).status).toBe(
+      422,
+    );
     expect((await c.get(`/api/clubs/${ok}/pool`)).json.items).toEqual([]);
   });
 });

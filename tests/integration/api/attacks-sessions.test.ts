@@ -23,7 +23,8 @@ async function nextMail(address: string, subject: RegExp, before: number) {
   }
   throw new Error(`no new mail to ${address} matching ${subject}`);
 }
-const count = async (address: string, subject: RegExp) => (await inbox(address)).filter((m) => subject.test(m.subject)).length;
+const count = async (address: string, subject: RegExp) =>
+  (await inbox(address)).filter((m) => subject.test(m.subject)).length;
 const RESET = /Choose a new Lashwright password/;
 const SIGNIN = /sign-in link/;
 
@@ -61,7 +62,9 @@ describe("/api/auth/session checks the session generation (12a)", () => {
     const u = await makeUser("lost");
     const lost = await signedInClient(app.url, u);
     const token = await resetLink(u.email);
-    expect((await new Client(app.url).post("/api/account/password", { token, password: "owner-new-pass-51" })).status).toBe(200);
+    expect(
+      (await new Client(app.url).post("/api/account/password", { token, password: "owner-new-pass-51" })).status,
+    ).toBe(200);
     const owner = await signedInClient(app.url, { email: u.email, password: "owner-new-pass-51" });
     // the lost phone's old cookie asks to sign out: the owner's new session goes on
     await lost.signOut();
@@ -75,13 +78,21 @@ describe("a new password voids every link asked for before it (12b)", () => {
     const oldReset = await resetLink(u.email);
     const oldSignIn = await signInLink(u.email);
     const reset = await resetLink(u.email);
-    expect((await new Client(app.url).post("/api/account/password", { token: reset, password: "chosen-after-all-64" })).status).toBe(200);
+    expect(
+      (await new Client(app.url).post("/api/account/password", { token: reset, password: "chosen-after-all-64" }))
+        .status,
+    ).toBe(200);
 
-    const again = await new Client(app.url).post("/api/account/password", { token: oldReset, password: "attacker-choice-99" });
+    const again = await new Client(app.url).post("/api/account/password", {
+      token: oldReset,
+      password: "attacker-choice-99",
+    });
     expect(again.status).toBe(400);
     expect(again.json.error.code).toBe("bad_token");
     expect(await new Client(app.url).signIn("email-link", { token: oldSignIn })).toBe("CredentialsSignin");
-    expect(await new Client(app.url).signIn("password", { email: u.email, password: "chosen-after-all-64" })).toBeNull();
+    expect(
+      await new Client(app.url).signIn("password", { email: u.email, password: "chosen-after-all-64" }),
+    ).toBeNull();
     // a link asked for after the new password works
     expect(await new Client(app.url).signIn("email-link", { token: await signInLink(u.email) })).toBeNull();
   });
@@ -107,7 +118,11 @@ describe("a phone whose session was ended elsewhere is told so at its next sync 
       expect(nobody.json.error.code, path).toBe("unauthorized");
     }
     // a cookie that is not ours earns no "revoked": it proves nothing about any account
-    const forged = await fetch(`${app.url}/api/sync/pull`, { method: "POST", headers: { origin: app.url, "content-type": "application/json", cookie: "next-auth.session-token=not-a-token" }, body: "{}" });
+    const forged = await fetch(`${app.url}/api/sync/pull`, {
+      method: "POST",
+      headers: { origin: app.url, "content-type": "application/json", cookie: "next-auth.session-token=not-a-token" },
+      body: "{}",
+    });
     expect(((await forged.json()) as { error: { code: string } }).error.code).toBe("unauthorized");
   });
 
@@ -115,7 +130,9 @@ describe("a phone whose session was ended elsewhere is told so at its next sync 
     const u = await makeUser("wipe2");
     const phone = await signedInClient(app.url, u);
     const token = await resetLink(u.email);
-    expect((await new Client(app.url).post("/api/account/password", { token, password: "reset-from-pc-38" })).status).toBe(200);
+    expect(
+      (await new Client(app.url).post("/api/account/password", { token, password: "reset-from-pc-38" })).status,
+    ).toBe(200);
     const res = await phone.post("/api/sync/pull", { cursor: null });
     expect(res.status).toBe(401);
     expect(res.json.error.code).toBe("session_revoked");

@@ -28,7 +28,10 @@ async function userAtRealCost(tag: string) {
   const email = fresh(tag);
   const password = "right-password-12";
   const c = await mysql.createConnection({ uri: testDbUrl() });
-  await c.query("INSERT INTO users (id, email, name, password_hash, email_verified_at) VALUES (UUID(), ?, ?, ?, NOW(3))", [email, `Test ${tag}`, await hashPassword(password)]);
+  await c.query(
+    "INSERT INTO users (id, email, name, password_hash, email_verified_at) VALUES (UUID(), ?, ?, ?, NOW(3))",
+    [email, `Test ${tag}`, await hashPassword(password)],
+  );
   await c.end();
   return { email, password };
 }
@@ -42,13 +45,23 @@ describe("account takeover by signing up first (ASVS V6 Authentication; NIST SP 
   it("a password chosen before the owner proved the address stops working once they sign in by a link, and the owner is told", async () => {
     const victim = fresh("victim");
     const attacker = new Client(app.url);
-    expect((await attacker.post("/api/account/sign-up", { email: victim, name: "Not The Owner", password: "attacker-chose-this-1" })).status).toBe(202);
+    expect(
+      (
+        await attacker.post("/api/account/sign-up", {
+          email: victim,
+          name: "Not The Owner",
+          password: "attacker-chose-this-1",
+        })
+      ).status,
+    ).toBe(202);
     // the real owner later signs in with an e-mail link: that proves the address
     const owner = new Client(app.url);
     expect(await signInByLink(owner, victim)).toBeNull();
     expect((await owner.get("/api/account")).json.user.email).toBe(victim);
     // the attacker's password no longer opens the account
-    expect(await new Client(app.url).signIn("password", { email: victim, password: "attacker-chose-this-1" })).toBe("CredentialsSignin");
+    expect(await new Client(app.url).signIn("password", { email: victim, password: "attacker-chose-this-1" })).toBe(
+      "CredentialsSignin",
+    );
     const told = await waitForMail(victim, /removed a password/);
     expect(told.text).toMatch(/forgot-password/);
     // the owner's own session goes on working
@@ -58,21 +71,36 @@ describe("account takeover by signing up first (ASVS V6 Authentication; NIST SP 
   it("the owner clicking the confirmation mail the attacker's sign-up caused does not confirm the attacker's password", async () => {
     const victim = fresh("victim2");
     const attacker = new Client(app.url);
-    expect((await attacker.post("/api/account/sign-up", { email: victim, name: "Not The Owner", password: "attacker-chose-this-2" })).status).toBe(202);
+    expect(
+      (
+        await attacker.post("/api/account/sign-up", {
+          email: victim,
+          name: "Not The Owner",
+          password: "attacker-chose-this-2",
+        })
+      ).status,
+    ).toBe(202);
     const token = linkToken(await waitForMail(victim, /Confirm your e-mail/), "/verify");
     // the owner opens the link: without the sign-up's password it confirms nothing
     const owner = new Client(app.url);
     expect((await owner.post("/api/account/verify", { token })).status).toBe(422);
     expect((await owner.post("/api/account/verify", { token, password: "owner-guesses-something" })).status).toBe(422);
-    expect(await new Client(app.url).signIn("password", { email: victim, password: "attacker-chose-this-2" })).toBe("CredentialsSignin");
+    expect(await new Client(app.url).signIn("password", { email: victim, password: "attacker-chose-this-2" })).toBe(
+      "CredentialsSignin",
+    );
     // guessing the sign-up's password through the link is throttled like a sign-in (5 in 15 minutes)
-    for (let i = 0; i < 4; i++) expect((await owner.post("/api/account/verify", { token, password: `guess-number-${i}` })).status).toBe(422);
+    for (let i = 0; i < 4; i++)
+      expect((await owner.post("/api/account/verify", { token, password: `guess-number-${i}` })).status).toBe(422);
     expect((await owner.post("/api/account/verify", { token, password: "attacker-chose-this-2" })).status).toBe(429);
     // the page's way out: the owner chooses their own password, which confirms the address
     expect((await owner.post("/api/account/password-reset", { email: victim })).status).toBe(202);
     const reset = linkToken(await waitForMail(victim, /Choose a new Lashwright password/), "/reset-password");
-    expect((await owner.post("/api/account/password", { token: reset, password: "owner-own-choice-9" })).status).toBe(200);
-    expect(await new Client(app.url).signIn("password", { email: victim, password: "attacker-chose-this-2" })).toBe("CredentialsSignin");
+    expect((await owner.post("/api/account/password", { token: reset, password: "owner-own-choice-9" })).status).toBe(
+      200,
+    );
+    expect(await new Client(app.url).signIn("password", { email: victim, password: "attacker-chose-this-2" })).toBe(
+      "CredentialsSignin",
+    );
     expect(await new Client(app.url).signIn("password", { email: victim, password: "owner-own-choice-9" })).toBeNull();
   });
 });
@@ -81,7 +109,11 @@ describe("sign-in throttle (ASVS V6 Authentication; NIST SP 800-63B 5.2.2 rate l
   it("40 guesses sent at once get at most 5 password checks (counted in hashes), and the right password sent after them is refused unchecked", async () => {
     const u = await userAtRealCost("race");
     const before = hashesSoFar();
-    const answers = await Promise.all(Array.from({ length: 40 }, (_, i) => new Client(app.url).signIn("password", { email: u.email, password: `wrong-guess-${i}-xx` })));
+    const answers = await Promise.all(
+      Array.from({ length: 40 }, (_, i) =>
+        new Client(app.url).signIn("password", { email: u.email, password: `wrong-guess-${i}-xx` }),
+      ),
+    );
     const checked = answers.filter((a) => a !== "Throttled").length;
     expect(checked).toBeLessThanOrEqual(5);
     // each answer that was not Throttled cost exactly one hash, and the others none
@@ -93,7 +125,8 @@ describe("sign-in throttle (ASVS V6 Authentication; NIST SP 800-63B 5.2.2 rate l
 
   it("a locked account is still reachable by an e-mail link, so a stranger's guesses lock nobody out", async () => {
     const u = await makeUser("locked");
-    for (let i = 0; i < 5; i++) await new Client(app.url).signIn("password", { email: u.email, password: `stranger-guess-${i}` });
+    for (let i = 0; i < 5; i++)
+      await new Client(app.url).signIn("password", { email: u.email, password: `stranger-guess-${i}` });
     expect(await new Client(app.url).signIn("password", { email: u.email, password: u.password })).toBe("Throttled");
     const owner = new Client(app.url);
     expect(await signInByLink(owner, u.email)).toBeNull();
@@ -108,13 +141,25 @@ describe("sign-in throttle (ASVS V6 Authentication; NIST SP 800-63B 5.2.2 rate l
       // the proxy appends the address it saw, which is the only one believed
       const answers = [];
       for (const [i, u] of users.entries()) {
-        answers.push(await new Client(proxied.url).signIn("password", { email: u.email, password: "spray-guess-1" }, { "x-forwarded-for": `198.51.100.${i}, 203.0.113.7` }));
+        answers.push(
+          await new Client(proxied.url).signIn(
+            "password",
+            { email: u.email, password: "spray-guess-1" },
+            { "x-forwarded-for": `198.51.100.${i}, 203.0.113.7` },
+          ),
+        );
       }
       expect(answers.slice(0, 20).every((a) => a === "CredentialsSignin")).toBe(true);
       expect(answers[20]).toBe("Throttled");
       // another caller behind the same proxy is not held back
       const other = await makeUser("spray-other");
-      expect(await new Client(proxied.url).signIn("password", { email: other.email, password: other.password }, { "x-forwarded-for": "203.0.113.8" })).toBeNull();
+      expect(
+        await new Client(proxied.url).signIn(
+          "password",
+          { email: other.email, password: other.password },
+          { "x-forwarded-for": "203.0.113.8" },
+        ),
+      ).toBeNull();
     } finally {
       await proxied.stop();
     }
@@ -158,7 +203,11 @@ async function serverWork<T>(a: App, run: () => Promise<T>) {
   const rss = procNumber(a, "status", "VmRSS") / 1024;
   const read = procNumber(a, "io", "rchar");
   const result = await run();
-  return { result, readMb: (procNumber(a, "io", "rchar") - read) / MB, peakGrowthMb: procNumber(a, "status", "VmHWM") / 1024 - rss };
+  return {
+    result,
+    readMb: (procNumber(a, "io", "rchar") - read) / MB,
+    peakGrowthMb: procNumber(a, "status", "VmHWM") / 1024 - rss,
+  };
 }
 
 /** A body of `mb` megabytes sent chunked (no Content-Length), counting how much the client was asked for. */
@@ -184,7 +233,12 @@ function chunked(mb: number, head = new Uint8Array(0)) {
  * connection, a timeout, a bad URL) is thrown: it is not the server stopping the read. The server
  * must still answer afterwards, so a crash is not taken for a close either.
  */
-async function sendChunked(c: Client, path: string, body: ReadableStream<Uint8Array>, contentType: string): Promise<number | "closed"> {
+async function sendChunked(
+  c: Client,
+  path: string,
+  body: ReadableStream<Uint8Array>,
+  contentType: string,
+): Promise<number | "closed"> {
   try {
     const res = await c.raw("POST", path, { body, headers: { "content-type": contentType } });
     return res.status;
@@ -206,8 +260,16 @@ const PEAK_BOUND_MB = 64;
 describe("unbounded request bodies (ASVS V4 API and Web Service; V5 File Handling)", () => {
   it("a 150 MB chunked body to an anonymous route is stopped at the limit, not read whole", async () => {
     const upload = chunked(150);
-    const { result: status, readMb, peakGrowthMb } = await serverWork(app, () => sendChunked(new Client(app.url), "/api/account/password-reset", upload.body, "application/json"));
-    console.log(`[attacks] JSON body: ${status}, server read ${readMb.toFixed(1)} MB, peak grew ${peakGrowthMb.toFixed(1)} MB, client sent ${upload.sentMb()} MB`);
+    const {
+      result: status,
+      readMb,
+      peakGrowthMb,
+    } = await serverWork(app, () =>
+      sendChunked(new Client(app.url), "/api/account/password-reset", upload.body, "application/json"),
+    );
+    console.log(
+      `[attacks] JSON body: ${status}, server read ${readMb.toFixed(1)} MB, peak grew ${peakGrowthMb.toFixed(1)} MB, client sent ${upload.sentMb()} MB`,
+    );
     expect([413, "closed"]).toContain(status);
     expect(readMb).toBeLessThan(READ_BOUND_MB);
     expect(peakGrowthMb).toBeLessThan(PEAK_BOUND_MB);
@@ -219,10 +281,20 @@ describe("unbounded request bodies (ASVS V4 API and Web Service; V5 File Handlin
     const engineId = (await c.post("/api/engines", ENGINE_FOUR)).json.engine.id as string;
     const checkId = (await c.post(`/api/engines/${engineId}/checks`, { odometer: 1 })).json.check.id as string;
     const boundary = "lashwright-boundary";
-    const head = new TextEncoder().encode(`--${boundary}\r\nContent-Disposition: form-data; name="file"; filename="x.jpg"\r\nContent-Type: image/jpeg\r\n\r\n`);
+    const head = new TextEncoder().encode(
+      `--${boundary}\r\nContent-Disposition: form-data; name="file"; filename="x.jpg"\r\nContent-Type: image/jpeg\r\n\r\n`,
+    );
     const upload = chunked(150, head);
-    const { result: status, readMb, peakGrowthMb } = await serverWork(app, () => sendChunked(c, `/api/checks/${checkId}/photos`, upload.body, `multipart/form-data; boundary=${boundary}`));
-    console.log(`[attacks] photo form: ${status}, server read ${readMb.toFixed(1)} MB, peak grew ${peakGrowthMb.toFixed(1)} MB, client sent ${upload.sentMb()} MB`);
+    const {
+      result: status,
+      readMb,
+      peakGrowthMb,
+    } = await serverWork(app, () =>
+      sendChunked(c, `/api/checks/${checkId}/photos`, upload.body, `multipart/form-data; boundary=${boundary}`),
+    );
+    console.log(
+      `[attacks] photo form: ${status}, server read ${readMb.toFixed(1)} MB, peak grew ${peakGrowthMb.toFixed(1)} MB, client sent ${upload.sentMb()} MB`,
+    );
     expect([413, "closed"]).toContain(status);
     expect(readMb).toBeLessThan(READ_BOUND_MB);
     expect(peakGrowthMb).toBeLessThan(PEAK_BOUND_MB);
@@ -232,7 +304,11 @@ describe("unbounded request bodies (ASVS V4 API and Web Service; V5 File Handlin
 });
 
 /** Password hashes the server has computed so far (server/password.ts prints one line each). */
-const hashesSoFar = () => app.output().split("\n").filter((l) => l.includes("[password] hash computed")).length;
+const hashesSoFar = () =>
+  app
+    .output()
+    .split("\n")
+    .filter((l) => l.includes("[password] hash computed")).length;
 
 describe("which addresses have accounts, by timing (ASVS V6 Authentication; NIST SP 800-63B)", () => {
   // Equal work on both paths, counted, not timed: the password hash is the only costly step of
@@ -241,9 +317,17 @@ describe("which addresses have accounts, by timing (ASVS V6 Authentication; NIST
     const before = hashesSoFar();
     for (let i = 0; i < 3; i++) {
       const u = await makeUser(`timing-known${i}`);
-      const k = await new Client(app.url).post("/api/account/sign-up", { email: u.email, name: "Timing", password: "timing-password-1" });
+      const k = await new Client(app.url).post("/api/account/sign-up", {
+        email: u.email,
+        name: "Timing",
+        password: "timing-password-1",
+      });
       await expect.poll(hashesSoFar).toBe(before + 2 * i + 1);
-      const n = await new Client(app.url).post("/api/account/sign-up", { email: fresh("timing-new"), name: "Timing", password: "timing-password-1" });
+      const n = await new Client(app.url).post("/api/account/sign-up", {
+        email: fresh("timing-new"),
+        name: "Timing",
+        password: "timing-password-1",
+      });
       await expect.poll(hashesSoFar).toBe(before + 2 * i + 2);
       expect([k.status, k.json]).toEqual([n.status, n.json]);
     }
@@ -283,7 +367,10 @@ describe("cross-site requests (ASVS V3 Web Frontend Security; V4 API and Web Ser
 
   it("a text/plain body (what a cross-site form can send) is refused and changes nothing", async () => {
     const c = await signedInClient(app.url, await makeUser("plain"));
-    const res = await c.raw("POST", "/api/engines", { body: JSON.stringify(engine), headers: { "content-type": "text/plain" } });
+    const res = await c.raw("POST", "/api/engines", {
+      body: JSON.stringify(engine),
+      headers: { "content-type": "text/plain" },
+    });
     expect(res.status).toBe(415);
     expect((await c.get("/api/engines")).json.items).toEqual([]);
   });
@@ -302,16 +389,36 @@ describe("cross-site requests (ASVS V3 Web Frontend Security; V4 API and Web Ser
       expect(res.status, JSON.stringify(headers)).toBe(403);
       expect(((await res.json()) as { error: { code: string } }).error.code).toBe("cross_site");
     }
-    expect((await c.raw("PATCH", "/api/account", { body: JSON.stringify({ name: "Renamed" }), headers: { ...json, origin: "https://evil.example" } })).status).toBe(403);
+    expect(
+      (
+        await c.raw("PATCH", "/api/account", {
+          body: JSON.stringify({ name: "Renamed" }),
+          headers: { ...json, origin: "https://evil.example" },
+        })
+      ).status,
+    ).toBe(403);
     expect((await c.get("/api/account")).json.user.name).not.toBe("Renamed");
     // the app's own pages: Sec-Fetch-Site same-origin, or our Origin
-    expect((await c.raw("POST", "/api/engines", { body: JSON.stringify(engine), headers: { ...json, origin: "", "sec-fetch-site": "same-origin" } })).status).toBe(201);
+    expect(
+      (
+        await c.raw("POST", "/api/engines", {
+          body: JSON.stringify(engine),
+          headers: { ...json, origin: "", "sec-fetch-site": "same-origin" },
+        })
+      ).status,
+    ).toBe(201);
     expect((await c.get("/api/engines")).json.items).toHaveLength(1);
   });
 
   it("a sign-in posted from another site is refused", async () => {
     const u = await makeUser("cross-signin");
-    expect(await new Client(app.url).signIn("password", { email: u.email, password: u.password }, { origin: "https://evil.example" })).toBe("no-url");
+    expect(
+      await new Client(app.url).signIn(
+        "password",
+        { email: u.email, password: u.password },
+        { origin: "https://evil.example" },
+      ),
+    ).toBe("no-url");
   });
 });
 
@@ -347,10 +454,17 @@ describe("notices to people who lost access (ASVS V8 Authorization, checked at t
     // the mentor has taken part, so the owner's next comment would be theirs to hear about; now both doors close
     expect((await o.del(`/api/shares/${shareId}`)).status).toBe(204);
     expect((await o.del(`/api/clubs/${clubId}/members/${mentor.id}`)).status).toBe(204);
-    expect((await o.post(`/api/checks/${checkId}/comments`, { body: "Private follow-up after the withdrawal" })).status).toBe(201);
+    expect(
+      (await o.post(`/api/checks/${checkId}/comments`, { body: "Private follow-up after the withdrawal" })).status,
+    ).toBe(201);
     const status = await eventually(async () => {
-      const rows = await sql<{ status: string }>("SELECT status FROM notices WHERE to_user_id = ? AND kind = 'comment'", [mentor.id]);
-      return rows.length && rows.every((r) => r.status === "sent" || r.status === "dropped" || r.status === "failed") ? rows.map((r) => r.status) : undefined;
+      const rows = await sql<{ status: string }>(
+        "SELECT status FROM notices WHERE to_user_id = ? AND kind = 'comment'",
+        [mentor.id],
+      );
+      return rows.length && rows.every((r) => r.status === "sent" || r.status === "dropped" || r.status === "failed")
+        ? rows.map((r) => r.status)
+        : undefined;
     });
     expect(status).toEqual(["dropped"]);
     expect((await inbox(mentor.email)).filter((x) => /New comment/.test(x.subject))).toEqual([]);
@@ -359,7 +473,9 @@ describe("notices to people who lost access (ASVS V8 Authorization, checked at t
 
 describe("invitations (ASVS V8 Authorization; V16 Security Logging)", () => {
   it("a removed admin's pending invitation stops working, an invitation can be withdrawn, and the club log records it all", async () => {
-    const [a, b, x, y, z] = await Promise.all(["inv-admin", "inv-admin2", "inv-x", "inv-y", "inv-z"].map((t) => makeUser(t)));
+    const [a, b, x, y, z] = await Promise.all(
+      ["inv-admin", "inv-admin2", "inv-x", "inv-y", "inv-z"].map((t) => makeUser(t)),
+    );
     const ca = await signedInClient(app.url, a!);
     const cb = await signedInClient(app.url, b!);
     const clubId = (await ca.post("/api/clubs", { name: "Invite Club" })).json.club.id as string;
@@ -374,7 +490,8 @@ describe("invitations (ASVS V8 Authorization; V16 Security Logging)", () => {
     expect((await cx.get(`/api/clubs/${clubId}/members`)).status).toBe(404);
 
     // an invitation withdrawn by an admin stops working; another one still does
-    const yInvite = (await ca.post(`/api/clubs/${clubId}/invites`, { email: y!.email, role: "mechanic" })).json.invite.id as string;
+    const yInvite = (await ca.post(`/api/clubs/${clubId}/invites`, { email: y!.email, role: "mechanic" })).json.invite
+      .id as string;
     const yToken = linkToken(await waitForMail(y!.email, /invites you/), "/invite");
     expect((await ca.del(`/api/clubs/${clubId}/invites/${yInvite}`)).status).toBe(204);
     expect((await (await signedInClient(app.url, y!)).post("/api/invites/accept", { token: yToken })).status).toBe(400);
@@ -384,7 +501,13 @@ describe("invitations (ASVS V8 Authorization; V16 Security Logging)", () => {
 
     // the log: role changes and invitations, readable by the club's admins only
     expect((await cb.get(`/api/clubs/${clubId}/log`)).status).toBe(403);
-    const items = (await ca.get(`/api/clubs/${clubId}/log?limit=50`)).json.items as { action: string; detail: string; subjectName: string | null; subjectEmail: string | null; actorName: string | null }[];
+    const items = (await ca.get(`/api/clubs/${clubId}/log?limit=50`)).json.items as {
+      action: string;
+      detail: string;
+      subjectName: string | null;
+      subjectEmail: string | null;
+      actorName: string | null;
+    }[];
     const lines = items.map((i) => `${i.action} ${i.subjectName ?? i.subjectEmail} ${i.detail}`).reverse();
     expect(lines).toEqual([
       `roles-changed Test inv-admin none → admin, mechanic`,
@@ -402,7 +525,11 @@ describe("invitations (ASVS V8 Authorization; V16 Security Logging)", () => {
 
 describe("smaller ones", () => {
   it("a loan request naming someone else's check, or no check at all, is refused and stores nothing", async () => {
-    const [lender, asker, other] = await Promise.all([makeUser("loan-lender"), makeUser("loan-asker"), makeUser("loan-other")]);
+    const [lender, asker, other] = await Promise.all([
+      makeUser("loan-lender"),
+      makeUser("loan-asker"),
+      makeUser("loan-other"),
+    ]);
     const l = await signedInClient(app.url, lender);
     const a = await signedInClient(app.url, asker);
     const clubId = (await l.post("/api/clubs", { name: "Loan Club" })).json.club.id as string;
@@ -428,13 +555,20 @@ describe("smaller ones", () => {
     const c = await signedInClient(app.url, await makeUser("photo-gone"));
     const jpeg = await cameraJpeg(320, 240);
     const engineId = (await c.post("/api/engines", ENGINE_FOUR)).json.engine.id as string;
-    const [first, second] = [(await c.post(`/api/engines/${engineId}/checks`, { odometer: 1 })).json.check.id as string, (await c.post(`/api/engines/${engineId}/checks`, { odometer: 2 })).json.check.id as string];
-    for (const checkId of [first, second]) expect((await c.form("POST", `/api/checks/${checkId}/photos`, photoForm(jpeg))).status).toBe(201);
+    const [first, second] = [
+      (await c.post(`/api/engines/${engineId}/checks`, { odometer: 1 })).json.check.id as string,
+      (await c.post(`/api/engines/${engineId}/checks`, { odometer: 2 })).json.check.id as string,
+    ];
+    for (const checkId of [first, second])
+      expect((await c.form("POST", `/api/checks/${checkId}/photos`, photoForm(jpeg))).status).toBe(201);
     expect(await storedKeys(`checks/${first}/`)).toHaveLength(1);
     expect((await c.del(`/api/checks/${first}`)).status).toBe(204);
     await eventually(async () => ((await storedKeys(`checks/${first}/`)).length === 0 ? true : undefined));
     expect(await storedKeys(`checks/${second}/`)).toHaveLength(1);
-    const push = await c.post("/api/sync/push", { clientId: crypto.randomUUID(), mutations: [{ id: 1, name: "engine.delete/1", args: { id: engineId } }] });
+    const push = await c.post("/api/sync/push", {
+      clientId: crypto.randomUUID(),
+      mutations: [{ id: 1, name: "engine.delete/1", args: { id: engineId } }],
+    });
     expect(push.json.rejected).toEqual([]);
     await eventually(async () => ((await storedKeys(`checks/${second}/`)).length === 0 ? true : undefined));
   });
@@ -446,7 +580,8 @@ describe("smaller ones", () => {
       const c = new Client(secure.url);
       expect(await c.signIn("password", u, { origin: "https://lashwright.example" })).toBeNull();
       const value = /__Secure-next-auth\.session-token=([^;]+)/.exec(c.cookieHeader())![1]!;
-      const asks = (cookie: string) => fetch(`${secure.url}/api/account`, { headers: { cookie } }).then((r) => r.status);
+      const asks = (cookie: string) =>
+        fetch(`${secure.url}/api/account`, { headers: { cookie } }).then((r) => r.status);
       expect(await asks(`__Secure-next-auth.session-token=${value}`)).toBe(200);
       expect(await asks(`next-auth.session-token=${value}`)).toBe(401);
     } finally {

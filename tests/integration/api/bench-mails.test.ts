@@ -17,16 +17,32 @@ beforeAll(async () => {
 afterAll(() => app?.stop());
 
 const signedIn = (u: { email: string; password: string }) => signedInClient(app.url, u);
-const SIX = { name: "Bench six", cylinders: 6, intakePerCylinder: 2, exhaustPerCylinder: 2, firingOrder: [1, 5, 3, 6, 2, 4], intake: { min: 0.1, max: 0.2 }, exhaust: { min: 0.2, max: 0.3 }, shims: { min: 2.5, max: 3.3, step: 0.05 } };
+const SIX = {
+  name: "Bench six",
+  cylinders: 6,
+  intakePerCylinder: 2,
+  exhaustPerCylinder: 2,
+  firingOrder: [1, 5, 3, 6, 2, 4],
+  intake: { min: 0.1, max: 0.2 },
+  exhaust: { min: 0.2, max: 0.3 },
+  shims: { min: 2.5, max: 3.3, step: 0.05 },
+};
 
 async function push(c: Client, mutations: { name: string; args: unknown }[]) {
-  const res = await c.post("/api/sync/push", { clientId: crypto.randomUUID(), mutations: mutations.map((m, i) => ({ id: i + 1, ...m })) });
+  const res = await c.post("/api/sync/push", {
+    clientId: crypto.randomUUID(),
+    mutations: mutations.map((m, i) => ({ id: i + 1, ...m })),
+  });
   expect(res.json.rejected).toEqual([]);
 }
 
 describe("mails name the engine and the check", () => {
   it("a comment and a verdict say which engine and check they are about", async () => {
-    const [owner, mentor, admin] = await Promise.all([makeUser("bm-owner"), makeUser("bm-mentor"), makeUser("bm-admin")]);
+    const [owner, mentor, admin] = await Promise.all([
+      makeUser("bm-owner"),
+      makeUser("bm-mentor"),
+      makeUser("bm-admin"),
+    ]);
     const a = await signedIn(admin);
     const clubId = (await a.post("/api/clubs", { name: "Bench Club" })).json.club.id as string;
     await addMembership(clubId, owner.id, ["mechanic"]);
@@ -60,7 +76,9 @@ describe("mails name the engine and the check", () => {
     const engineId = (await b.post("/api/engines", SIX)).json.engine.id as string;
     const checkId = (await b.post(`/api/engines/${engineId}/checks`, { odometer: 8_000 })).json.check.id as string;
     await l.post("/api/tray", { size: 2.55, count: 2 });
-    const offer = (await l.post(`/api/clubs/${clubId}/pool`, { size: 2.55, count: 2, note: "in the blue drawer by the lathe" })).json.offer;
+    const offer = (
+      await l.post(`/api/clubs/${clubId}/pool`, { size: 2.55, count: 2, note: "in the blue drawer by the lathe" })
+    ).json.offer;
     const id = (await b.post("/api/borrows", { offerId: offer.id, count: 2, checkId })).json.borrow.id as string;
 
     const ask = await waitForMail(lender.email, /asks to borrow/);
@@ -92,7 +110,17 @@ describe("the side nearest the mechanic", () => {
     const u = await makeUser("bm-side");
     const c = await signedIn(u);
     const id = crypto.randomUUID();
-    const base = { id, ...SIX, measuredHot: false, displayUnit: "mm", odometerUnit: "km", mirrored: true, firingAngles: null, shimDiameter: null, assembledShim: null };
+    const base = {
+      id,
+      ...SIX,
+      measuredHot: false,
+      displayUnit: "mm",
+      odometerUnit: "km",
+      mirrored: true,
+      firingAngles: null,
+      shimDiameter: null,
+      assembledShim: null,
+    };
     await push(c, [{ name: "engine.put/3", args: { ...base, shimPosition: "under", nearSide: "intake" } }]);
     const side = async () => (await c.get(`/api/engines/${id}`)).json.engine.nearSide;
     expect(await side()).toBe("intake");

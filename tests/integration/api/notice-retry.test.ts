@@ -21,11 +21,18 @@ async function closedPort(): Promise<number> {
 
 describe("notices when the mail server is down", () => {
   it("a notice that fails to send is kept and sent on a retry, without failing the request", async () => {
-    const [owner, mentor, admin] = await Promise.all([makeUser("nr-owner"), makeUser("nr-mentor"), makeUser("nr-admin")]);
+    const [owner, mentor, admin] = await Promise.all([
+      makeUser("nr-owner"),
+      makeUser("nr-mentor"),
+      makeUser("nr-admin"),
+    ]);
     const broken = await startApp({ SMTP_URL: `smtp://127.0.0.1:${await closedPort()}`, NOTICE_RETRY_SECONDS: "1" });
     const db = await rawConnection();
     const queued = async () => {
-      const [rows] = await db.query("SELECT status, attempts, last_error FROM notices WHERE to_email = ? AND kind = 'verdict'", [owner.email]);
+      const [rows] = await db.query(
+        "SELECT status, attempts, last_error FROM notices WHERE to_email = ? AND kind = 'verdict'",
+        [owner.email],
+      );
       return (rows as { status: string; attempts: number; last_error: string | null }[])[0];
     };
     try {

@@ -16,7 +16,9 @@ afterAll(() => app?.stop());
 const signedIn = (u: { email: string; password: string }) => signedInClient(app.url, u);
 
 async function setUp() {
-  const [owner, mentor, stranger, otherMentor] = await Promise.all(["ph-owner", "ph-mentor", "ph-stranger", "ph-other"].map(makeUser));
+  const [owner, mentor, stranger, otherMentor] = await Promise.all(
+    ["ph-owner", "ph-mentor", "ph-stranger", "ph-other"].map(makeUser),
+  );
   const o = await signedIn(owner!);
   const clubId = (await o.post("/api/clubs", { name: "Photo Club" })).json.club.id as string;
   await addMembership(clubId, mentor!.id, ["mentor"]);
@@ -61,7 +63,9 @@ describe("photo uploads", () => {
       expect((await c.get(`/api/checks/${t.checkId}/photos`)).status).toBe(404);
       expect((await c.form("POST", `/api/checks/${t.checkId}/photos`, photoForm(original))).status).toBe(404);
     }
-    expect((await t.m.get(`/api/checks/${t.checkId}/photos`)).json.items.map((p: { id: string }) => p.id)).toEqual([id]);
+    expect((await t.m.get(`/api/checks/${t.checkId}/photos`)).json.items.map((p: { id: string }) => p.id)).toEqual([
+      id,
+    ]);
     // withdrawing the share takes the photos away from the mentor at once
     expect((await t.o.del(`/api/shares/${t.shareId}`)).status).toBe(204);
     expect((await t.m.get(`/api/photos/${id}`)).status).toBe(404);
@@ -71,12 +75,26 @@ describe("photo uploads", () => {
     const t = await setUp();
     const before = (await storedKeys(`checks/${t.checkId}/`)).length;
     const fake = Buffer.from("<?php echo 'not a photo'; ?>\n".repeat(40));
-    const r = await t.o.form("POST", `/api/checks/${t.checkId}/photos`, photoForm(fake, { name: "shim-stamp.jpg", type: "image/jpeg" }));
+    const r = await t.o.form(
+      "POST",
+      `/api/checks/${t.checkId}/photos`,
+      photoForm(fake, { name: "shim-stamp.jpg", type: "image/jpeg" }),
+    );
     expect(r.status).toBe(415);
     expect(r.json.error).toMatchObject({ code: "not_a_photo", message: expect.any(String) });
     // an SVG (a picture that can carry script) is refused too
-    const svg = Buffer.from('<svg xmlns="http://www.w3.org/2000/svg" width="10" height="10"><script>alert(1)</script></svg>');
-    expect((await t.o.form("POST", `/api/checks/${t.checkId}/photos`, photoForm(svg, { name: "cam.png", type: "image/png" }))).status).toBe(415);
+    const svg = Buffer.from(
+      '<svg xmlns="http://www.w3.org/2000/svg" width="10" height="10"><script>alert(1)</script></svg>',
+    );
+    expect(
+      (
+        await t.o.form(
+          "POST",
+          `/api/checks/${t.checkId}/photos`,
+          photoForm(svg, { name: "cam.png", type: "image/png" }),
+        )
+      ).status,
+    ).toBe(415);
     expect(await uploadRows(t.checkId)).toBe(0);
     expect((await storedKeys(`checks/${t.checkId}/`)).length).toBe(before);
   });
@@ -105,10 +123,16 @@ describe("photo uploads", () => {
   it("a photo on a comment must name a comment of the same check; only its uploader or the owner removes it", async () => {
     const t = await setUp();
     const jpeg = await cameraJpeg(640, 480);
-    const commentId = (await t.m.post(`/api/checks/${t.checkId}/comments`, { body: "Stamp reads 2.65?" })).json.comment.id as string;
-    expect((await t.m.form("POST", `/api/checks/${t.checkId}/photos`, photoForm(jpeg, { commentId: crypto.randomUUID() }))).status).toBe(422);
+    const commentId = (await t.m.post(`/api/checks/${t.checkId}/comments`, { body: "Stamp reads 2.65?" })).json.comment
+      .id as string;
+    expect(
+      (await t.m.form("POST", `/api/checks/${t.checkId}/photos`, photoForm(jpeg, { commentId: crypto.randomUUID() })))
+        .status,
+    ).toBe(422);
     const id = crypto.randomUUID();
-    expect((await t.m.form("POST", `/api/checks/${t.checkId}/photos`, photoForm(jpeg, { id, commentId }))).status).toBe(201);
+    expect((await t.m.form("POST", `/api/checks/${t.checkId}/photos`, photoForm(jpeg, { id, commentId }))).status).toBe(
+      201,
+    );
     const mine = crypto.randomUUID();
     expect((await t.o.form("POST", `/api/checks/${t.checkId}/photos`, photoForm(jpeg, { id: mine }))).status).toBe(201);
     expect((await t.m.del(`/api/photos/${mine}`)).status).toBe(403);

@@ -46,7 +46,9 @@ describe("review through the API", () => {
   it("a removed mentor loses access at once, not at token expiry", async () => {
     const s = await sharedCheck(app);
     expect((await s.m.get(`/api/checks/${s.checkId}`)).status).toBe(200);
-    expect((await s.adminC.put(`/api/clubs/${s.clubId}/members/${s.mentor.id}`, { roles: ["mechanic"] })).status).toBe(200);
+    expect((await s.adminC.put(`/api/clubs/${s.clubId}/members/${s.mentor.id}`, { roles: ["mechanic"] })).status).toBe(
+      200,
+    );
     expect((await s.m.get(`/api/checks/${s.checkId}`)).status).toBe(404);
   });
 
@@ -55,23 +57,38 @@ describe("review through the API", () => {
     const clientId = crypto.randomUUID();
     const commentId = crypto.randomUUID();
     const mutations = [
-      { id: 1, name: "comment.add/1", args: { id: commentId, checkId: s.checkId, body: "E2.1 looks tight, measure again", valve: "E2.1" } },
+      {
+        id: 1,
+        name: "comment.add/1",
+        args: { id: commentId, checkId: s.checkId, body: "E2.1 looks tight, measure again", valve: "E2.1" },
+      },
       { id: 2, name: "verdict.set/1", args: { shareId: s.shareId, verdict: "measure-again" } },
     ];
     const first = await s.m.post("/api/sync/push", { clientId, mutations });
     expect(first.json).toEqual({ lastMutationId: 2, rejected: [] });
     // the answer was lost: the phone sends the same batch again
-    expect((await s.m.post("/api/sync/push", { clientId, mutations })).json).toEqual({ lastMutationId: 2, rejected: [] });
+    expect((await s.m.post("/api/sync/push", { clientId, mutations })).json).toEqual({
+      lastMutationId: 2,
+      rejected: [],
+    });
     const thread = (await s.o.get(`/api/checks/${s.checkId}/comments`)).json.items as { id: string; valve: string }[];
     expect(thread.map((c) => [c.id, c.valve])).toEqual([[commentId, "E2.1"]]);
     expect((await s.o.get(`/api/checks/${s.checkId}/shares`)).json.items[0].verdict).toBe("measure-again");
     await waitForMail(s.owner.email, /Review verdict: measure again/);
     await waitForMail(s.owner.email, /New comment from/);
     // the owner cannot give a verdict through sync either, and a stranger cannot comment
-    const own = await s.o.post("/api/sync/push", { clientId: crypto.randomUUID(), mutations: [{ id: 1, name: "verdict.set/1", args: { shareId: s.shareId, verdict: "close-up" } }] });
+    const own = await s.o.post("/api/sync/push", {
+      clientId: crypto.randomUUID(),
+      mutations: [{ id: 1, name: "verdict.set/1", args: { shareId: s.shareId, verdict: "close-up" } }],
+    });
     expect(own.json.rejected).toEqual([{ id: 1, name: "verdict.set/1", reason: expect.stringMatching(/mentor/) }]);
     const stranger = await signedIn(app, await makeUser("rv-stranger"));
-    const theirs = await stranger.post("/api/sync/push", { clientId: crypto.randomUUID(), mutations: [{ id: 1, name: "comment.add/1", args: { id: crypto.randomUUID(), checkId: s.checkId, body: "hello" } }] });
+    const theirs = await stranger.post("/api/sync/push", {
+      clientId: crypto.randomUUID(),
+      mutations: [
+        { id: 1, name: "comment.add/1", args: { id: crypto.randomUUID(), checkId: s.checkId, body: "hello" } },
+      ],
+    });
     expect(theirs.json.rejected).toHaveLength(1);
     expect((await s.o.get(`/api/checks/${s.checkId}/shares`)).json.items[0].verdict).toBe("measure-again");
     expect((await s.o.get(`/api/checks/${s.checkId}/comments`)).json.items).toHaveLength(1);

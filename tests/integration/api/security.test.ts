@@ -30,7 +30,15 @@ function pagesOnDisk(): string[] {
       const p = path.join(dir, f);
       if (statSync(p).isDirectory()) {
         if (f !== "api") walk(p);
-      } else if (f === "page.tsx") out.push("/" + path.relative(root, dir).split(path.sep).filter((s) => !/^\(.+\)$/.test(s)).join("/"));
+      } else if (f === "page.tsx")
+        out.push(
+          "/" +
+            path
+              .relative(root, dir)
+              .split(path.sep)
+              .filter((s) => !/^\(.+\)$/.test(s))
+              .join("/"),
+        );
     }
   };
   walk(root);
@@ -69,7 +77,11 @@ describe("security headers", () => {
     for (const r of routes) {
       const [method, p] = r.split(" ");
       const url = p!.replace(/:nextauth/, "session").replace(/:\w+/g, crypto.randomUUID());
-      const res = await c.raw(method!, url, method === "GET" || method === "DELETE" ? {} : { body: "{}", headers: { "content-type": "application/json" } });
+      const res = await c.raw(
+        method!,
+        url,
+        method === "GET" || method === "DELETE" ? {} : { body: "{}", headers: { "content-type": "application/json" } },
+      );
       const csp = expectSecurityHeaders(res, r);
       if (!p!.startsWith("/api/auth")) expect(csp, r).toMatch(/default-src 'none'.*sandbox/);
     }
@@ -84,7 +96,10 @@ describe("sessions and passwords", () => {
     for (const sc of csrf.headers.getSetCookie()) expect(sc).toMatch(/HttpOnly/i);
     const token = (JSON.parse(await csrf.text()) as { csrfToken: string }).csrfToken;
     const form = new URLSearchParams({ email: u.email, password: u.password, csrfToken: token, json: "true" });
-    const res = await c.raw("POST", "/api/auth/callback/password", { body: form.toString(), headers: { "content-type": "application/x-www-form-urlencoded" } });
+    const res = await c.raw("POST", "/api/auth/callback/password", {
+      body: form.toString(),
+      headers: { "content-type": "application/x-www-form-urlencoded" },
+    });
     const session = res.headers.getSetCookie().find((s) => s.includes("session-token="));
     expect(session).toBeDefined();
     expect(session).toMatch(/HttpOnly/i);
@@ -101,7 +116,10 @@ describe("sessions and passwords", () => {
       for (const sc of csrf.headers.getSetCookie()) expect(sc).toMatch(/; Secure/i);
       const token = (JSON.parse(await csrf.text()) as { csrfToken: string }).csrfToken;
       const form = new URLSearchParams({ email: u.email, password: u.password, csrfToken: token, json: "true" });
-      const res = await c.raw("POST", "/api/auth/callback/password", { body: form.toString(), headers: { "content-type": "application/x-www-form-urlencoded" } });
+      const res = await c.raw("POST", "/api/auth/callback/password", {
+        body: form.toString(),
+        headers: { "content-type": "application/x-www-form-urlencoded" },
+      });
       const session = res.headers.getSetCookie().find((s) => s.startsWith("__Secure-next-auth.session-token="));
       expect(session).toMatch(/; Secure/i);
       expect(session).toMatch(/HttpOnly/i);
@@ -113,21 +131,33 @@ describe("sessions and passwords", () => {
 
   it("passwords: 8 to 128 characters, common ones refused, stored as Argon2id (m=19456 KiB, t=2, p=1)", async () => {
     const c = new Client(app.url);
-    const tryPw = async (password: string) => (await c.post("/api/account/sign-up", { email: `pw-${crypto.randomUUID().slice(0, 8)}@test.example`, name: "Pw Test", password })).status;
+    const tryPw = async (password: string) =>
+      (
+        await c.post("/api/account/sign-up", {
+          email: `pw-${crypto.randomUUID().slice(0, 8)}@test.example`,
+          name: "Pw Test",
+          password,
+        })
+      ).status;
     expect(await tryPw("seven77")).toBe(422);
     expect(await tryPw("eight888")).toBe(202);
     expect(await tryPw("x".repeat(64))).toBe(202);
     expect(await tryPw("y".repeat(128))).toBe(202);
     expect(await tryPw("z".repeat(129))).toBe(422);
     // from published lists of the most common passwords (NIST SP 800-63B asks for such a check)
-    for (const common of ["password123", "12345678", "qwertyuiop", "Iloveyou"]) expect(await tryPw(common), common).toBe(422);
+    for (const common of ["password123", "12345678", "qwertyuiop", "Iloveyou"])
+      expect(await tryPw(common), common).toBe(422);
     const email = `cost-${crypto.randomUUID().slice(0, 8)}@test.example`;
-    expect((await c.post("/api/account/sign-up", { email, name: "Cost", password: "a-fine-password" })).status).toBe(202);
+    expect((await c.post("/api/account/sign-up", { email, name: "Cost", password: "a-fine-password" })).status).toBe(
+      202,
+    );
     const db = await rawConnection();
     const [rows] = await db.query("SELECT password_hash FROM users WHERE email = ?", [email]);
     await db.end();
     // OWASP Password Storage Cheat Sheet: Argon2id, 19 MiB, 2 passes, 1 lane; a 16-byte salt and a 32-byte hash
-    expect((rows as { password_hash: string }[])[0]!.password_hash).toMatch(/^\$argon2id\$v=19\$m=19456,t=2,p=1\$[A-Za-z0-9+/]{22}\$[A-Za-z0-9+/]{43}$/);
+    expect((rows as { password_hash: string }[])[0]!.password_hash).toMatch(
+      /^\$argon2id\$v=19\$m=19456,t=2,p=1\$[A-Za-z0-9+/]{22}\$[A-Za-z0-9+/]{43}$/,
+    );
   });
 
   it("no secret reaches a response or the server's log", async () => {
@@ -138,7 +168,11 @@ describe("sessions and passwords", () => {
     await c.post("/api/account/verify", { token: linkToken(await waitForMail(email, /Confirm/), "/verify"), password });
     expect(await c.signIn("password", { email, password })).toBeNull();
     await c.signIn("password", { email, password: "wrong-phrase-00" });
-    const bodies = [await c.get("/api/account"), await c.get("/api/clubs"), await c.patch("/api/account", { name: "Secret Keeper" })].map((r) => JSON.stringify(r.json));
+    const bodies = [
+      await c.get("/api/account"),
+      await c.get("/api/clubs"),
+      await c.patch("/api/account", { name: "Secret Keeper" }),
+    ].map((r) => JSON.stringify(r.json));
     const session = c.cookieHeader().match(/session-token=([^;]+)/)?.[1] ?? "";
     expect(session.length).toBeGreaterThan(20);
     const log = app.output();
@@ -154,14 +188,20 @@ describe("sessions and passwords", () => {
 
 describe("access by id through sync", () => {
   it("a stranger naming each of the owner's records in a push changes none of them", async () => {
-    const [owner, mentor, stranger] = await Promise.all([makeUser("id-owner"), makeUser("id-mentor"), makeUser("id-stranger")]);
+    const [owner, mentor, stranger] = await Promise.all([
+      makeUser("id-owner"),
+      makeUser("id-mentor"),
+      makeUser("id-stranger"),
+    ]);
     const o = await signedIn(app, owner);
     const s = await signedIn(app, stranger);
     const clubId = (await o.post("/api/clubs", { name: "Id Club" })).json.club.id as string;
     await addMembership(clubId, mentor.id, ["mentor"]);
     const engineId = (await o.post("/api/engines", ENGINE_FOUR)).json.engine.id as string;
     const checkId = (await o.post(`/api/engines/${engineId}/checks`, { odometer: 7 })).json.check.id as string;
-    await o.put(`/api/checks/${checkId}/readings`, { readings: [{ valve: "I1.1", installedStamp: 2.6, feelerGo: 0.15, feelerNoGo: 0.18 }] });
+    await o.put(`/api/checks/${checkId}/readings`, {
+      readings: [{ valve: "I1.1", installedStamp: 2.6, feelerGo: 0.15, feelerNoGo: 0.18 }],
+    });
     const trayId = (await o.post("/api/tray", { size: 2.6, count: 4 })).json.item.id as string;
     const shareId = (await o.post(`/api/checks/${checkId}/shares`, { clubId })).json.share.id as string;
     const snapshot = async () => {
@@ -174,7 +214,8 @@ describe("access by id through sync", () => {
         ["SELECT * FROM tray_items WHERE id = ?", trayId],
         ["SELECT * FROM comments WHERE check_id = ?", checkId],
         ["SELECT * FROM shares WHERE id = ?", shareId],
-      ] as const) out.push(JSON.stringify((await db.query(sql, [arg]))[0]));
+      ] as const)
+        out.push(JSON.stringify((await db.query(sql, [arg]))[0]));
       await db.end();
       return out;
     };
@@ -182,7 +223,10 @@ describe("access by id through sync", () => {
     const mutations = [
       { name: "engine.put/1", args: { ...ENGINE_FOUR, id: engineId, name: "Taken" } },
       { name: "check.put/1", args: { id: checkId, engineId, odometer: 99 } },
-      { name: "reading.put/1", args: { checkId, reading: { valve: "I1.1", installedStamp: 3.0, feelerGo: 0.3, feelerNoGo: 0.33 } } },
+      {
+        name: "reading.put/1",
+        args: { checkId, reading: { valve: "I1.1", installedStamp: 3.0, feelerGo: 0.3, feelerNoGo: 0.33 } },
+      },
       { name: "tray.put/1", args: { id: trayId, size: 2.6, count: 0 } },
       { name: "comment.add/1", args: { id: crypto.randomUUID(), checkId, body: "hi" } },
       { name: "verdict.set/1", args: { shareId, verdict: "close-up" } },
@@ -194,7 +238,8 @@ describe("access by id through sync", () => {
     expect(res.status).toBe(200);
     // every write is refused by name; a delete of what the caller does not own deletes nothing
     const refused = res.json.rejected.map((r: { name: string }) => r.name) as string[];
-    for (const w of ["engine.put/1", "check.put/1", "reading.put/1", "tray.put/1", "comment.add/1", "verdict.set/1"]) expect(refused).toContain(w);
+    for (const w of ["engine.put/1", "check.put/1", "reading.put/1", "tray.put/1", "comment.add/1", "verdict.set/1"])
+      expect(refused).toContain(w);
     expect(await snapshot()).toEqual(before);
     // and a pull shows the stranger none of it
     const pulled = JSON.stringify((await s.post("/api/sync/pull", { cursor: null })).json);
@@ -204,7 +249,17 @@ describe("access by id through sync", () => {
 
 describe("database safety", () => {
   // SQL, markup, quotes, backslashes, emoji, right-to-left and combining marks, a NUL
-  const HOSTILE = ["Robert'); DROP TABLE engines;--", "<script>alert('x')</script>", "\" OR \"\"=\"", "back\\slash \\' \\\" %_", "🔧 Ducati 🏍️ 750SS", "\u202eevil\u202c مرحبا", "Zalgo Z̤͔ͧ̑̓", "nul\u0000byte", "`${1+1}` {{7*7}}"];
+  const HOSTILE = [
+    "Robert'); DROP TABLE engines;--",
+    "<script>alert('x')</script>",
+    '" OR ""="',
+    "back\\slash \\' \\\" %_",
+    "🔧 Ducati 🏍️ 750SS",
+    "\u202eevil\u202c مرحبا",
+    "Zalgo Z̤͔ͧ̑̓",
+    "nul\u0000byte",
+    "`${1+1}` {{7*7}}",
+  ];
 
   it("a hostile string in every text field comes back exactly as it went in", async () => {
     const owner = await makeUser("hostile");
@@ -235,14 +290,26 @@ describe("database safety", () => {
       await addMembership(club.id, mentor.id, ["mentor"]);
       await o.post(`/api/checks/${check.id}/shares`, { clubId: club.id });
       await m.post(`/api/checks/${check.id}/comments`, { body: s, valve: "I1.1" });
-      const thread = (await o.get(`/api/checks/${check.id}/comments`)).json.items as { body: string; authorName: string }[];
+      const thread = (await o.get(`/api/checks/${check.id}/comments`)).json.items as {
+        body: string;
+        authorName: string;
+      }[];
       expect(thread.map((t) => t.body)).toEqual([s]);
       // and through the sync route, as the phone sends them
       const id = crypto.randomUUID();
-      const push = await o.post("/api/sync/push", { clientId: crypto.randomUUID(), mutations: [{ id: 1, name: "engine.put/1", args: { ...ENGINE_FOUR, id, name } }, { id: 2, name: "comment.add/1", args: { id: crypto.randomUUID(), checkId: check.id, body: s } }] });
+      const push = await o.post("/api/sync/push", {
+        clientId: crypto.randomUUID(),
+        mutations: [
+          { id: 1, name: "engine.put/1", args: { ...ENGINE_FOUR, id, name } },
+          { id: 2, name: "comment.add/1", args: { id: crypto.randomUUID(), checkId: check.id, body: s } },
+        ],
+      });
       expect(push.json.rejected).toEqual([]);
       expect((await o.get(`/api/engines/${id}`)).json.engine.name).toBe(name);
-      const pulled = (await o.post("/api/sync/pull", { cursor: null })).json as { engines: { id: string; name: string }[]; comments: { body: string }[] };
+      const pulled = (await o.post("/api/sync/pull", { cursor: null })).json as {
+        engines: { id: string; name: string }[];
+        comments: { body: string }[];
+      };
       expect(pulled.engines.find((e) => e.id === id)?.name).toBe(name);
       expect(pulled.comments.filter((c) => c.body === s)).toHaveLength(2);
     }

@@ -33,17 +33,35 @@ describe("where the shims sit, through sync and REST", () => {
   it("an older phone's engine.put/1 makes an engine that does not say; /2 says; a later /1 keeps what /2 said", async () => {
     const clientId = uuid();
     const engineId = uuid();
-    const push = (id: number, name: string, args: object) => mara.post("/api/sync/push", { clientId, mutations: [{ id, name, args }] });
-    expect((await push(1, "engine.put/1", { ...ENGINE_FOUR, id: engineId })).json).toEqual({ lastMutationId: 1, rejected: [] });
+    const push = (id: number, name: string, args: object) =>
+      mara.post("/api/sync/push", { clientId, mutations: [{ id, name, args }] });
+    expect((await push(1, "engine.put/1", { ...ENGINE_FOUR, id: engineId })).json).toEqual({
+      lastMutationId: 1,
+      rejected: [],
+    });
     expect(await stored(engineId)).toEqual({ p: null, name: ENGINE_FOUR.name });
-    expect((await push(2, "engine.put/2", { ...ENGINE_FOUR, id: engineId, shimPosition: "under" })).json.rejected).toEqual([]);
+    expect(
+      (await push(2, "engine.put/2", { ...ENGINE_FOUR, id: engineId, shimPosition: "under" })).json.rejected,
+    ).toEqual([]);
     expect((await stored(engineId))?.p).toBe("under");
     // a second, older phone renames the engine: its mutation has no field, and the answer stays
-    expect((await push(3, "engine.put/1", { ...ENGINE_FOUR, id: engineId, name: "Renamed on the old phone", shimPosition: "over" })).json.rejected).toEqual([]);
+    expect(
+      (
+        await push(3, "engine.put/1", {
+          ...ENGINE_FOUR,
+          id: engineId,
+          name: "Renamed on the old phone",
+          shimPosition: "over",
+        })
+      ).json.rejected,
+    ).toEqual([]);
     expect(await stored(engineId)).toEqual({ p: "under", name: "Renamed on the old phone" });
     // the pull gives it to every phone
     const pull = await mara.post("/api/sync/pull", { cursor: null });
-    expect(pull.json.engines.find((e: { id: string }) => e.id === engineId)).toMatchObject({ shimPosition: "under", name: "Renamed on the old phone" });
+    expect(pull.json.engines.find((e: { id: string }) => e.id === engineId)).toMatchObject({
+      shimPosition: "under",
+      name: "Renamed on the old phone",
+    });
   });
 
   it("a value that is neither over nor under is refused with its reason and changes nothing", async () => {
@@ -56,7 +74,9 @@ describe("where the shims sit, through sync and REST", () => {
         { id: 2, name: "engine.put/2", args: { ...ENGINE_FOUR, id: engineId, shimPosition: "beside" } },
       ],
     });
-    expect(r.json.rejected).toEqual([{ id: 2, name: "engine.put/2", reason: expect.stringMatching(/^shimPosition: .*over" or "under/) }]);
+    expect(r.json.rejected).toEqual([
+      { id: 2, name: "engine.put/2", reason: expect.stringMatching(/^shimPosition: .*over" or "under/) },
+    ]);
     expect((await stored(engineId))?.p).toBe("over");
   });
 

@@ -25,7 +25,10 @@ async function count(sql: string, args: unknown[]) {
   return Number((rows as { n: number }[])[0]!.n);
 }
 
-const reading = (checkId: string, valve: string) => ({ name: "reading.put/1", args: { checkId, reading: { valve, installedStamp: 2.6, feelerGo: 0.15, feelerNoGo: 0.18 } } });
+const reading = (checkId: string, valve: string) => ({
+  name: "reading.put/1",
+  args: { checkId, reading: { valve, installedStamp: 2.6, feelerGo: 0.15, feelerNoGo: 0.18 } },
+});
 
 function engineAndCheck() {
   const engineId = crypto.randomUUID();
@@ -43,9 +46,15 @@ describe("a change the server does not apply", () => {
   it("refused for good is said again when the same push comes again (its answer was lost)", async () => {
     const clientId = crypto.randomUUID();
     const { checkId, mutations } = engineAndCheck();
-    const push = { clientId, mutations: [...mutations, { id: 3, ...reading(checkId, "I9.1") }, { id: 4, ...reading(checkId, "I1.1") }] };
+    const push = {
+      clientId,
+      mutations: [...mutations, { id: 3, ...reading(checkId, "I9.1") }, { id: 4, ...reading(checkId, "I1.1") }],
+    };
     const first = await mara.post("/api/sync/push", push);
-    expect(first.json).toEqual({ lastMutationId: 4, rejected: [{ id: 3, name: "reading.put/1", reason: expect.stringMatching(/no valve I9\.1/) }] });
+    expect(first.json).toEqual({
+      lastMutationId: 4,
+      rejected: [{ id: 3, name: "reading.put/1", reason: expect.stringMatching(/no valve I9\.1/) }],
+    });
     const again = await mara.post("/api/sync/push", push);
     expect(again.json).toEqual(first.json);
     expect(await count("SELECT COUNT(*) AS n FROM readings WHERE check_id = ?", [checkId])).toBe(1);
@@ -56,9 +65,18 @@ describe("a change the server does not apply", () => {
     const { checkId, mutations } = engineAndCheck();
     const res = await mara.post("/api/sync/push", {
       clientId,
-      mutations: [...mutations, { id: 3, ...reading(checkId, "I1.1") }, { id: 4, name: "reading.put/9", args: {} }, { id: 5, ...reading(checkId, "I2.1") }],
+      mutations: [
+        ...mutations,
+        { id: 3, ...reading(checkId, "I1.1") },
+        { id: 4, name: "reading.put/9", args: {} },
+        { id: 5, ...reading(checkId, "I2.1") },
+      ],
     });
-    expect(res.json).toEqual({ lastMutationId: 3, rejected: [], later: { id: 4, name: "reading.put/9", reason: 'unknown change "reading.put/9"' } });
+    expect(res.json).toEqual({
+      lastMutationId: 3,
+      rejected: [],
+      later: { id: 4, name: "reading.put/9", reason: 'unknown change "reading.put/9"' },
+    });
     expect(await count("SELECT COUNT(*) AS n FROM readings WHERE check_id = ?", [checkId])).toBe(1);
     expect(await count("SELECT COUNT(*) AS n FROM rejected_mutations WHERE client_id = ?", [clientId])).toBe(0);
     // once the phone drops it by the mechanic's choice (or the server learns the name), the rest goes through
@@ -69,7 +87,14 @@ describe("a change the server does not apply", () => {
 
   it("a name held for later at the head of the push changes nothing", async () => {
     const clientId = crypto.randomUUID();
-    const res = await mara.post("/api/sync/push", { clientId, mutations: [{ id: 1, name: "shim.teleport/1", args: {} }] });
-    expect(res.json).toEqual({ lastMutationId: 0, rejected: [], later: { id: 1, name: "shim.teleport/1", reason: expect.stringMatching(/unknown change/) } });
+    const res = await mara.post("/api/sync/push", {
+      clientId,
+      mutations: [{ id: 1, name: "shim.teleport/1", args: {} }],
+    });
+    expect(res.json).toEqual({
+      lastMutationId: 0,
+      rejected: [],
+      later: { id: 1, name: "shim.teleport/1", reason: expect.stringMatching(/unknown change/) },
+    });
   });
 });

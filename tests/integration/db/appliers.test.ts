@@ -25,17 +25,26 @@ afterAll(() => closeDb());
 
 const fixture = (name: string) => SHIPPED.find((m) => m.name === name)!;
 /** A shipped mutation parsed as the server parses a push, with its ids swapped for fresh ones. */
-function mutation<N extends MutationName>(name: N, ids: Record<string, string>, patch: Record<string, unknown> = {}): MutationArgs<N> {
+function mutation<N extends MutationName>(
+  name: N,
+  ids: Record<string, string>,
+  patch: Record<string, unknown> = {},
+): MutationArgs<N> {
   let text = JSON.stringify(fixture(name).args);
   for (const [from, to] of Object.entries(ids)) text = text.split(from).join(to);
   const parsed = parseMutation(name, { ...JSON.parse(text), ...patch });
   if (!parsed.ok) throw new Error(`fixture ${name} does not parse: ${parsed.reason}`);
   return parsed.args as MutationArgs<N>;
 }
-const run = <N extends MutationName>(user: PublicUser, name: N, args: MutationArgs<N>) => write(user, (w) => apply(w, name, args));
+const run = <N extends MutationName>(user: PublicUser, name: N, args: MutationArgs<N>) =>
+  write(user, (w) => apply(w, name, args));
 
 async function newUser(label: string): Promise<PublicUser> {
-  const id = await createUser({ email: `${label}-${crypto.randomUUID()}@example.test`, name: label, passwordHash: "not-a-hash" });
+  const id = await createUser({
+    email: `${label}-${crypto.randomUUID()}@example.test`,
+    name: label,
+    passwordHash: "not-a-hash",
+  });
   return (await getPublicUser(id))!;
 }
 /** An owner with one engine and one check on it, fresh ids each call so cases never share rows. */
@@ -46,8 +55,18 @@ async function ownerWithCheck() {
   await run(owner, "check.put/1", mutation("check.put/1", ids, { id: ids[IDS.check], engineId: ids[IDS.engine] }));
   return { owner, engineId: ids[IDS.engine]!, checkId: ids[IDS.check]!, ids };
 }
-const count = async (table: typeof engines | typeof checks | typeof readings | typeof trayItems | typeof comments, where: ReturnType<typeof eq>) =>
-  Number((await db().select({ n: sql<number>`COUNT(*)` }).from(table).where(where))[0]!.n);
+const count = async (
+  table: typeof engines | typeof checks | typeof readings | typeof trayItems | typeof comments,
+  where: ReturnType<typeof eq>,
+) =>
+  Number(
+    (
+      await db()
+        .select({ n: sql<number>`COUNT(*)` })
+        .from(table)
+        .where(where)
+    )[0]!.n,
+  );
 /** How a write ended: applied, or the domain error's kind (anything else is a bug, shown as such). */
 const outcome = (p: Promise<unknown>) =>
   p.then(
@@ -69,9 +88,15 @@ describe("appliers and access rules, against the database", () => {
     const stranger = await newUser("stranger");
     const before = await db().select().from(engines).where(eq(engines.id, engineId));
     // renaming the engine, adding a check to it, a reading on its check: each as if it did not exist
-    expect(await outcome(run(stranger, "engine.put/2", mutation("engine.put/2", ids, { name: "taken over" })))).toBe("not_found");
-    expect(await outcome(run(stranger, "check.put/1", mutation("check.put/1", ids, { id: crypto.randomUUID(), engineId })))).toBe("not_found");
-    expect(await outcome(run(stranger, "reading.put/1", mutation("reading.put/1", ids, { checkId })))).toBe("not_found");
+    expect(await outcome(run(stranger, "engine.put/2", mutation("engine.put/2", ids, { name: "taken over" })))).toBe(
+      "not_found",
+    );
+    expect(
+      await outcome(run(stranger, "check.put/1", mutation("check.put/1", ids, { id: crypto.randomUUID(), engineId }))),
+    ).toBe("not_found");
+    expect(await outcome(run(stranger, "reading.put/1", mutation("reading.put/1", ids, { checkId })))).toBe(
+      "not_found",
+    );
     // a delete of someone else's record is answered like a delete of a missing one: nothing happens
     await run(stranger, "engine.delete/1", { id: engineId });
     await run(stranger, "check.delete/1", { id: checkId });
@@ -88,7 +113,11 @@ describe("appliers and access rules, against the database", () => {
       await setRoles(tx, club.id, mentor.id, ["mentor"], owner.id);
       await shareCheck(tx, await nextVersion(tx, owner.id), checkId, club.id, owner.id);
     });
-    const comment = mutation("comment.add/1", { ...ids, [IDS.comment]: crypto.randomUUID(), [IDS.commentValve]: crypto.randomUUID() }, { checkId });
+    const comment = mutation(
+      "comment.add/1",
+      { ...ids, [IDS.comment]: crypto.randomUUID(), [IDS.commentValve]: crypto.randomUUID() },
+      { checkId },
+    );
     await run(mentor, "comment.add/1", comment);
     await run(mentor, "comment.add/1", comment);
     expect(await count(comments, and(eq(comments.checkId, checkId), eq(comments.authorId, mentor.id))!)).toBe(1);

@@ -10,14 +10,27 @@ afterAll(() => closeDb());
 
 async function makeUser(tag: string) {
   const id = crypto.randomUUID();
-  await db().insert(users).values({ id, email: `${tag}-${id}@test.example`, name: `Test ${tag}` });
+  await db()
+    .insert(users)
+    .values({ id, email: `${tag}-${id}@test.example`, name: `Test ${tag}` });
   return id;
 }
 
 async function makeEngine(ownerId: string) {
   const [row] = await db()
     .insert(engines)
-    .values({ ownerId, name: "Test four", cylinders: 4, intakePerCylinder: 2, exhaustPerCylinder: 2, firingOrder: [1, 3, 4, 2], intakeMin: 0.1, intakeMax: 0.2, exhaustMin: 0.2, exhaustMax: 0.3 })
+    .values({
+      ownerId,
+      name: "Test four",
+      cylinders: 4,
+      intakePerCylinder: 2,
+      exhaustPerCylinder: 2,
+      firingOrder: [1, 3, 4, 2],
+      intakeMin: 0.1,
+      intakeMax: 0.2,
+      exhaustMin: 0.2,
+      exhaustMax: 0.3,
+    })
     .$returningId();
   return row!.id;
 }
@@ -28,11 +41,27 @@ describe("the schema on a real MariaDB", () => {
     const engineId = await makeEngine(owner);
     const [check] = await db().insert(checks).values({ engineId, ownerId: owner, odometer: 43_812.5 }).$returningId();
     // 0.011 in = 0.2794 mm and 0.0005 in = 0.0127 mm (derived from 1 in = 25.4 mm exactly)
-    await db().insert(readings).values({ checkId: check!.id, ownerId: owner, valve: "I1.1", installedMicrometer: 2.537, feelerGo: 0.2794, feelerNoGo: 0.3048, measured: 0.2794 });
+    await db().insert(readings).values({
+      checkId: check!.id,
+      ownerId: owner,
+      valve: "I1.1",
+      installedMicrometer: 2.537,
+      feelerGo: 0.2794,
+      feelerNoGo: 0.3048,
+      measured: 0.2794,
+    });
     const [r] = await db().select().from(readings).where(eq(readings.checkId, check!.id));
-    expect(r).toMatchObject({ installedMicrometer: 2.537, feelerGo: 0.2794, feelerNoGo: 0.3048, measured: 0.2794, round: 0 });
+    expect(r).toMatchObject({
+      installedMicrometer: 2.537,
+      feelerGo: 0.2794,
+      feelerNoGo: 0.3048,
+      measured: 0.2794,
+      round: 0,
+    });
     const raw = await rawConnection();
-    const [rows] = await raw.query("SELECT CAST(feeler_go AS CHAR) AS go FROM readings WHERE check_id = ?", [check!.id]);
+    const [rows] = await raw.query("SELECT CAST(feeler_go AS CHAR) AS go FROM readings WHERE check_id = ?", [
+      check!.id,
+    ]);
     await raw.end();
     expect((rows as { go: string }[])[0]!.go).toBe("0.27940");
   });
@@ -42,7 +71,10 @@ describe("the schema on a real MariaDB", () => {
     const engineId = await makeEngine(owner);
     const [check] = await db().insert(checks).values({ engineId, ownerId: owner, odometer: 1000 }).$returningId();
     await db().insert(readings).values({ checkId: check!.id, ownerId: owner, valve: "E2.1", measured: 0.25 });
-    const err = await db().insert(readings).values({ checkId: check!.id, ownerId: owner, valve: "E2.1", measured: 0.3 }).catch((e: unknown) => e);
+    const err = await db()
+      .insert(readings)
+      .values({ checkId: check!.id, ownerId: owner, valve: "E2.1", measured: 0.3 })
+      .catch((e: unknown) => e);
     expect(mysqlErrorCode(err)).toBe("ER_DUP_ENTRY");
     const rows = await db().select().from(readings).where(eq(readings.checkId, check!.id));
     expect(rows.map((r) => r.measured)).toEqual([0.25]);
@@ -52,7 +84,10 @@ describe("the schema on a real MariaDB", () => {
     const owner = await makeUser("strict");
     const engineId = await makeEngine(owner);
     const [check] = await db().insert(checks).values({ engineId, ownerId: owner, odometer: 1000 }).$returningId();
-    const err = await db().insert(readings).values({ checkId: check!.id, ownerId: owner, valve: "I1.1", measured: 12345.5 }).catch((e: unknown) => e);
+    const err = await db()
+      .insert(readings)
+      .values({ checkId: check!.id, ownerId: owner, valve: "I1.1", measured: 12345.5 })
+      .catch((e: unknown) => e);
     expect(mysqlErrorCode(err)).toBe("ER_WARN_DATA_OUT_OF_RANGE");
     expect(await db().select().from(readings).where(eq(readings.checkId, check!.id))).toEqual([]);
   });

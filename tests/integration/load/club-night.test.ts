@@ -102,13 +102,23 @@ let report = "";
 /** phones that stopped without finishing (no answer before the deadline, or a 4xx) */
 const phoneErrors: string[] = [];
 const settle = async (work: Promise<unknown>[]) => {
-  for (const r of await Promise.allSettled(work)) if (r.status === "rejected") phoneErrors.push(String((r.reason as Error)?.message ?? r.reason));
+  for (const r of await Promise.allSettled(work))
+    if (r.status === "rejected") phoneErrors.push(String((r.reason as Error)?.message ?? r.reason));
 };
 
 async function makeUsers(n: number, tag: string, hash: string): Promise<User[]> {
   const c = await rawConnection();
-  const us = Array.from({ length: n }, (_, i) => ({ id: uuid(), email: `${tag}-${i}-${uuid().slice(0, 6)}@test.example`, name: `${tag} ${i}`, displayUnit: "mm" as const, noticesByEmail: true }));
-  if (us.length) await c.query("INSERT INTO users (id, email, name, password_hash, email_verified_at) VALUES ?", [us.map((u) => [u.id, u.email, u.name, hash, new Date()])]);
+  const us = Array.from({ length: n }, (_, i) => ({
+    id: uuid(),
+    email: `${tag}-${i}-${uuid().slice(0, 6)}@test.example`,
+    name: `${tag} ${i}`,
+    displayUnit: "mm" as const,
+    noticesByEmail: true,
+  }));
+  if (us.length)
+    await c.query("INSERT INTO users (id, email, name, password_hash, email_verified_at) VALUES ?", [
+      us.map((u) => [u.id, u.email, u.name, hash, new Date()]),
+    ]);
   await c.end();
   return us;
 }
@@ -123,7 +133,10 @@ async function join(users: User[], roles: string[]) {
 /** A client holding a user's session, as a phone signed in on an earlier day. */
 async function clientOf(u: User) {
   const c = new Client(app.url);
-  (c as unknown as { cookies: Map<string, string> }).cookies.set("next-auth.session-token", (await sessionCookie(u.id, secret)).split("=")[1]!);
+  (c as unknown as { cookies: Map<string, string> }).cookies.set(
+    "next-auth.session-token",
+    (await sessionCookie(u.id, secret)).split("=")[1]!,
+  );
   return c;
 }
 
@@ -136,10 +149,17 @@ async function ok<T>(what: string, r: Promise<{ status: number; json: Record<str
 /** The lender puts one shim on the tray and offers it to the club: the last one in the pool. */
 async function lastShim(): Promise<string> {
   await ok("tray", lenderClient.post("/api/tray", { size: 2.65, count: 1 }));
-  return ((await ok("offer", lenderClient.post(`/api/clubs/${clubId}/pool`, { size: 2.65, count: 1 }))) as { offer: { id: string } }).offer.id;
+  return (
+    (await ok("offer", lenderClient.post(`/api/clubs/${clubId}/pool`, { size: 2.65, count: 1 }))) as {
+      offer: { id: string };
+    }
+  ).offer.id;
 }
 
-function readingsFor(m: { checkId: string; round: number; written: Map<string, number> }, queue: (name: string, args: unknown) => unknown) {
+function readingsFor(
+  m: { checkId: string; round: number; written: Map<string, number> },
+  queue: (name: string, args: unknown) => unknown,
+) {
   for (const valve of VALVES) {
     const feelerGo = blade();
     m.written.set(`${valve}#${m.round}`, feelerGo);
@@ -147,10 +167,18 @@ function readingsFor(m: { checkId: string; round: number; written: Map<string, n
   }
 }
 
-function mentorWork(t: { checkId: string; shareId: string; comments: string[]; verdict: string | null }, queue: (name: string, args: unknown) => unknown) {
+function mentorWork(
+  t: { checkId: string; shareId: string; comments: string[]; verdict: string | null },
+  queue: (name: string, args: unknown) => unknown,
+) {
   const id = uuid();
   t.comments.push(id);
-  queue("comment.add/1", { id, checkId: t.checkId, body: `Looked at the exhaust side again (${t.comments.length})`, valve: "E2.1" });
+  queue("comment.add/1", {
+    id,
+    checkId: t.checkId,
+    body: `Looked at the exhaust side again (${t.comments.length})`,
+    valve: "E2.1",
+  });
   t.verdict = VERDICT_CYCLE[t.comments.length % VERDICT_CYCLE.length]!;
   queue("verdict.set/1", { shareId: t.shareId, verdict: t.verdict });
 }
@@ -179,17 +207,44 @@ beforeAll(async () => {
   lastShimOffer = await lastShim();
   for (const [i, u] of mech.entries()) {
     const phone = new Phone("mechanic", app.url, await sessionCookie(u.id, secret), uuid(), stats);
-    mechanics.push({ phone, user: u, engineId: uuid(), checkId: uuid(), round: 0, written: new Map(), signsIn: i < SIGNING_IN });
+    mechanics.push({
+      phone,
+      user: u,
+      engineId: uuid(),
+      checkId: uuid(),
+      round: 0,
+      written: new Map(),
+      signsIn: i < SIGNING_IN,
+    });
   }
   // each mentor reviews a check shared with the club by a member who is not on a phone tonight
   for (const [i, u] of ment.entries()) {
     const owner = await clientOf(reviewed[i]!);
-    const engineId = ((await ok("engine", owner.post("/api/engines", ENGINE_SIX))) as { engine: { id: string } }).engine.id;
-    const checkId = ((await ok("check", owner.post(`/api/engines/${engineId}/checks`, { odometer: 41_000 }))) as { check: { id: string } }).check.id;
-    const shareId = ((await ok("share", owner.post(`/api/checks/${checkId}/shares`, { clubId }))) as { share: { id: string } }).share.id;
-    mentors.push({ phone: new Phone("mentor", app.url, await sessionCookie(u.id, secret), uuid(), stats), user: u, shareId, checkId, comments: [], verdict: null });
+    const engineId = ((await ok("engine", owner.post("/api/engines", ENGINE_SIX))) as { engine: { id: string } }).engine
+      .id;
+    const checkId = (
+      (await ok("check", owner.post(`/api/engines/${engineId}/checks`, { odometer: 41_000 }))) as {
+        check: { id: string };
+      }
+    ).check.id;
+    const shareId = (
+      (await ok("share", owner.post(`/api/checks/${checkId}/shares`, { clubId }))) as { share: { id: string } }
+    ).share.id;
+    mentors.push({
+      phone: new Phone("mentor", app.url, await sessionCookie(u.id, secret), uuid(), stats),
+      user: u,
+      shareId,
+      checkId,
+      comments: [],
+      verdict: null,
+    });
   }
-  for (const u of memb) members.push({ phone: new Phone("member", app.url, await sessionCookie(u.id, secret), uuid(), stats), user: u, askId: uuid() });
+  for (const u of memb)
+    members.push({
+      phone: new Phone("member", app.url, await sessionCookie(u.id, secret), uuid(), stats),
+      user: u,
+      askId: uuid(),
+    });
 }, 300_000);
 
 afterAll(async () => {
@@ -206,7 +261,9 @@ async function signIn(m: Mechanic) {
   for (let attempt = 0; attempt < SIGN_IN_TRIES; attempt++) {
     const t0 = performance.now();
     const c = new Client(app.url);
-    const error = await c.signIn("password", { email: m.user.email, password: PASSWORD }).catch((e: unknown) => String(e));
+    const error = await c
+      .signIn("password", { email: m.user.email, password: PASSWORD })
+      .catch((e: unknown) => String(e));
     stats.note("sign-in", performance.now() - t0);
     if (error === null) {
       m.phone.cookie = c.cookieHeader();
@@ -276,7 +333,7 @@ async function sustain() {
 async function directBurst() {
   const { domainErrorOf } = await import("@/lib/errors");
   const { push: pushDirect, pull: pullDirect } = await import("@/server/sync");
-  const once = async <T,>(fn: () => Promise<T>): Promise<T> => {
+  const once = async <T>(fn: () => Promise<T>): Promise<T> => {
     for (let attempt = 0; ; attempt++) {
       try {
         return await fn();
@@ -319,7 +376,12 @@ async function directBurst() {
     ...members.map(async (b) => {
       const id = uuid();
       const t0 = performance.now();
-      const r = await once(() => pushDirect(b.user, { clientId: uuid(), mutations: [{ id: 1, name: "borrow.ask/1", args: { id, offerId: secondShim, count: 1 } }] }));
+      const r = await once(() =>
+        pushDirect(b.user, {
+          clientId: uuid(),
+          mutations: [{ id: 1, name: "borrow.ask/1", args: { id, offerId: secondShim, count: 1 } }],
+        }),
+      );
       direct.note("push (member)", performance.now() - t0);
       asks.push({ id, rejected: r.rejected.length > 0 });
     }),
@@ -334,29 +396,55 @@ async function compareWithServer(): Promise<string[]> {
   const db = await rawConnection();
   try {
     for (const m of mechanics) {
-      const [rows] = await db.query<RowDataPacket[]>("SELECT valve, round, feeler_go FROM readings WHERE check_id = ?", [m.checkId]);
+      const [rows] = await db.query<RowDataPacket[]>(
+        "SELECT valve, round, feeler_go FROM readings WHERE check_id = ?",
+        [m.checkId],
+      );
       const server = new Map(rows.map((r) => [`${r.valve}#${r.round}`, Number(r.feeler_go)]));
-      const differ = [...m.written].filter(([k, v]) => server.get(k) !== v).length + [...server.keys()].filter((k) => !m.written.has(k)).length;
+      const differ =
+        [...m.written].filter(([k, v]) => server.get(k) !== v).length +
+        [...server.keys()].filter((k) => !m.written.has(k)).length;
       check(differ === 0, `${m.user.name}: ${differ} readings differ from the phone's`);
     }
-    const [[hist]] = await db.query<RowDataPacket[]>("SELECT COUNT(*) AS n FROM reading_history h JOIN readings r ON r.id = h.reading_id WHERE r.check_id IN (?)", [mechanics.map((m) => m.checkId)]);
+    const [[hist]] = await db.query<RowDataPacket[]>(
+      "SELECT COUNT(*) AS n FROM reading_history h JOIN readings r ON r.id = h.reading_id WHERE r.check_id IN (?)",
+      [mechanics.map((m) => m.checkId)],
+    );
     check(Number(hist!.n) === 0, `${hist!.n} readings were applied twice (reading_history)`);
     for (const t of mentors) {
-      const [cs] = await db.query<RowDataPacket[]>("SELECT id FROM comments WHERE check_id = ? AND author_id = ?", [t.checkId, t.user.id]);
-      check(JSON.stringify(cs.map((r) => r.id).sort()) === JSON.stringify([...t.comments].sort()), `${t.user.name}: comments on the server ${cs.length}, on the phone ${t.comments.length}`);
+      const [cs] = await db.query<RowDataPacket[]>("SELECT id FROM comments WHERE check_id = ? AND author_id = ?", [
+        t.checkId,
+        t.user.id,
+      ]);
+      check(
+        JSON.stringify(cs.map((r) => r.id).sort()) === JSON.stringify([...t.comments].sort()),
+        `${t.user.name}: comments on the server ${cs.length}, on the phone ${t.comments.length}`,
+      );
       const [[sh]] = await db.query<RowDataPacket[]>("SELECT verdict FROM shares WHERE id = ?", [t.shareId]);
-      check(sh!.verdict === t.verdict, `${t.user.name}: verdict ${sh!.verdict} on the server, ${t.verdict} on the phone`);
+      check(
+        sh!.verdict === t.verdict,
+        `${t.user.name}: verdict ${sh!.verdict} on the server, ${t.verdict} on the phone`,
+      );
     }
-    for (const p of [...mechanics, ...mentors, ...members]) check(p.phone.outbox.length === 0, `${p.user.name}: ${p.phone.outbox.length} changes still waiting`);
+    for (const p of [...mechanics, ...mentors, ...members])
+      check(p.phone.outbox.length === 0, `${p.user.name}: ${p.phone.outbox.length} changes still waiting`);
     for (const p of [...mechanics, ...mentors]) {
       const refused = [...p.phone.acknowledged.values()].filter((a) => a.rejected);
-      check(refused.length === 0, `${p.user.name}: refused ${refused.map((r) => `${r.name}: ${r.rejected}`).join("; ")}`);
+      check(
+        refused.length === 0,
+        `${p.user.name}: refused ${refused.map((r) => `${r.name}: ${r.rejected}`).join("; ")}`,
+      );
     }
     // exactly one member got the last shim
-    const [asked] = await db.query<RowDataPacket[]>("SELECT id FROM borrow_requests WHERE offer_id = ?", [lastShimOffer]);
+    const [asked] = await db.query<RowDataPacket[]>("SELECT id FROM borrow_requests WHERE offer_id = ?", [
+      lastShimOffer,
+    ]);
     const winners = members.filter((b) => b.phone.acknowledged.get(1) && !b.phone.acknowledged.get(1)!.rejected);
     check(asked.length === 1, `${asked.length} requests hold the last shim`);
-    check(winners.length === 1 && winners[0]!.askId === asked[0]?.id, `${winners.length} phones were told they got the last shim`);
+    check(
+      winners.length === 1 && winners[0]!.askId === asked[0]?.id,
+      `${winners.length} phones were told they got the last shim`,
+    );
   } finally {
     await db.end();
   }
@@ -381,7 +469,11 @@ describe(`club night: ${PHONES} phones (${MECHANICS} mechanics, ${MENTORS} mento
     const directAsks = DIRECT ? await directBurst() : [];
 
     const rows = [
-      { kind: "sign-in (burst)", http: stats.summary("sign-in"), notes: `refused ${stats.get("sign-in", "refused: Throttled")}` },
+      {
+        kind: "sign-in (burst)",
+        http: stats.summary("sign-in"),
+        notes: `refused ${stats.get("sign-in", "refused: Throttled")}`,
+      },
       ...["mechanic", "mentor", "member"].flatMap((k) =>
         ["burst", "steady"].flatMap((phase) => {
           const l = `${k}, ${phase}`;
@@ -418,7 +510,8 @@ describe(`club night: ${PHONES} phones (${MECHANICS} mechanics, ${MENTORS} mento
 
     // every outbox went through, and nothing a mechanic or mentor sent was refused
     for (const p of [...mechanics, ...mentors, ...members]) expect(p.phone.outbox).toEqual([]);
-    for (const p of [...mechanics, ...mentors]) expect([...p.phone.acknowledged.values()].filter((a) => a.rejected)).toEqual([]);
+    for (const p of [...mechanics, ...mentors])
+      expect([...p.phone.acknowledged.values()].filter((a) => a.rejected)).toEqual([]);
 
     if (DIRECT) expect(directAsks.filter((a) => !a.rejected)).toHaveLength(1);
   }, 900_000);

@@ -34,6 +34,15 @@ afterAll(async () => {
 
 describe("sync under faults", () => {
   it(`${TOTAL} mutations from two phones: none lost, none applied twice`, { timeout: 1_800_000 }, async () => {
-    await runFaultSync({ user, cookie, total: TOTAL, seed: SEED, bases: [proxy.url, proxy.url], proxies: [proxy], midRun: () => app.restart(), midRunSays: "server restarted" });
+    await runFaultSync({
+      user,
+      cookie,
+      total: TOTAL,
+      seed: SEED,
+      bases: [proxy.url, proxy.url],
+      proxies: [proxy],
+      midRun: () => app.restart(),
+      midRunSays: "server restarted",
+    });
   });
 });

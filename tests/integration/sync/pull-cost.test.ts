@@ -23,11 +23,17 @@ let conn: mysql.Connection;
 let owner: string;
 let counter = 0;
 
-const pullIn = (after: number | null) => drizzle(conn, { schema, mode: "default" }).transaction((tx) => changesSince(tx, owner, after), { isolationLevel: "repeatable read", accessMode: "read only" });
+const pullIn = (after: number | null) =>
+  drizzle(conn, { schema, mode: "default" }).transaction((tx) => changesSince(tx, owner, after), {
+    isolationLevel: "repeatable read",
+    accessMode: "read only",
+  });
 
 async function handlerReads(): Promise<Record<string, number>> {
   const [rows] = await conn.query("SHOW SESSION STATUS LIKE 'Handler_read%'");
-  return Object.fromEntries((rows as { Variable_name: string; Value: string }[]).map((r) => [r.Variable_name, Number(r.Value)]));
+  return Object.fromEntries(
+    (rows as { Variable_name: string; Value: string }[]).map((r) => [r.Variable_name, Number(r.Value)]),
+  );
 }
 
 /** Handler reads of one pull, less those of the SHOW STATUS that measures them. */
@@ -36,7 +42,9 @@ async function cost(after: number | null) {
   const b = await handlerReads();
   const result = await pullIn(after);
   const c = await handlerReads();
-  const reads = Object.fromEntries(Object.keys(a).map((k) => [k.replace("Handler_read_", ""), c[k]! - b[k]! - (b[k]! - a[k]!)]));
+  const reads = Object.fromEntries(
+    Object.keys(a).map((k) => [k.replace("Handler_read_", ""), c[k]! - b[k]! - (b[k]! - a[k]!)]),
+  );
   return { reads, result, total: Object.values(reads).reduce((s, n) => s + n, 0) };
 }
 
@@ -45,9 +53,28 @@ beforeAll(async () => {
   const [engineId, checkId] = [crypto.randomUUID(), crypto.randomUUID()];
   // four writes of the owner's, each its own transaction and version
   await versioned(owner, (tx, v) => putEngine(tx, owner, v, engineId, ENGINE_FOUR as EngineInput));
-  await versioned(owner, (tx, v) => putCheck(tx, owner, v, checkId, engineId, { odometer: 1000, measuredHot: false, status: "measuring" }));
-  await versioned(owner, (tx, v) => writeReadings(tx, owner, v, checkId, ["I1.1", "I1.2", "E1.1", "E1.2"].map((valve) => ({ valve, round: 0, installedStamp: 2.6, feelerGo: 0.15, feelerNoGo: 0.18, method: "feeler" as const }))));
-  await versioned(owner, (tx, v) => putTrayItem(tx, owner, v, crypto.randomUUID(), { size: 2.6, measuredSize: false, count: 2 }));
+  await versioned(owner, (tx, v) =>
+    putCheck(tx, owner, v, checkId, engineId, { odometer: 1000, measuredHot: false, status: "measuring" }),
+  );
+  await versioned(owner, (tx, v) =>
+    writeReadings(
+      tx,
+      owner,
+      v,
+      checkId,
+      ["I1.1", "I1.2", "E1.1", "E1.2"].map((valve) => ({
+        valve,
+        round: 0,
+        installedStamp: 2.6,
+        feelerGo: 0.15,
+        feelerNoGo: 0.18,
+        method: "feeler" as const,
+      })),
+    ),
+  );
+  await versioned(owner, (tx, v) =>
+    putTrayItem(tx, owner, v, crypto.randomUUID(), { size: 2.6, measuredSize: false, count: 2 }),
+  );
   conn = await mysql.createConnection({ uri: testDbUrl(), supportBigNumbers: true, timezone: "Z" });
   counter = (await pullIn(null)).upTo;
 }, 120_000);
@@ -57,39 +84,49 @@ afterAll(async () => {
 });
 
 describe("the cost of a pull follows the owner's own rows", () => {
-  it(`a pull with nothing new is one primary-key read, and stays so beside ${OTHERS.toLocaleString("en")} other owners' version rows`, { timeout: 300_000 }, async () => {
-    expect(counter).toBe(4);
-    const idleBefore = await cost(counter);
-    const oneBefore = await cost(counter - 1);
-    const fullBefore = await cost(null);
-    expect(idleBefore.result.engines).toEqual([]);
-    expect(oneBefore.result.tray).toHaveLength(1);
-    expect(fullBefore.result.readings).toHaveLength(4);
+  it(
+    `a pull with nothing new is one primary-key read, and stays so beside ${OTHERS.toLocaleString("en")} other owners' version rows`,
+    { timeout: 300_000 },
+    async () => {
+      expect(counter).toBe(4);
+      const idleBefore = await cost(counter);
+      const oneBefore = await cost(counter - 1);
+      const fullBefore = await cost(null);
+      expect(idleBefore.result.engines).toEqual([]);
+      expect(oneBefore.result.tray).toHaveLength(1);
+      expect(fullBefore.result.readings).toHaveLength(4);
 
-    // a million other owners' counters and a million of their tombstones, beside this owner's rows
-    for (const table of ["owner_versions", "tombstones"]) {
-      await conn.query(`CREATE TEMPORARY TABLE shadow LIKE ${table}`);
-      await conn.query(`INSERT INTO shadow SELECT * FROM ${table} WHERE owner_id = ?`, [owner]);
-      await conn.query(`ALTER TABLE shadow RENAME TO ${table}`);
-    }
-    await conn.query(`INSERT INTO owner_versions (owner_id, version) SELECT CONCAT('other-', LPAD(seq, 30, '0')), seq FROM seq_1_to_${OTHERS}`);
-    await conn.query(
-      `INSERT INTO tombstones (id, entity, entity_id, owner_id, version) SELECT CONCAT('t-', LPAD(seq, 34, '0')), 'tray_item', LPAD(seq, 36, '0'), CONCAT('other-', LPAD(seq DIV 1000, 30, '0')), seq MOD 1000 + 1 FROM seq_0_to_${OTHERS - 1}`,
-    );
-    const [[n]] = (await conn.query("SELECT (SELECT COUNT(*) FROM owner_versions) AS owners, (SELECT COUNT(*) FROM tombstones) AS tombstones")) as unknown as [[{ owners: number; tombstones: number }]];
-    expect(Number(n.owners)).toBeGreaterThanOrEqual(OTHERS);
-    expect(Number(n.tombstones)).toBeGreaterThanOrEqual(OTHERS);
+      // a million other owners' counters and a million of their tombstones, beside this owner's rows
+      for (const table of ["owner_versions", "tombstones"]) {
+        await conn.query(`CREATE TEMPORARY TABLE shadow LIKE ${table}`);
+        await conn.query(`INSERT INTO shadow SELECT * FROM ${table} WHERE owner_id = ?`, [owner]);
+        await conn.query(`ALTER TABLE shadow RENAME TO ${table}`);
+      }
+      await conn.query(
+        `INSERT INTO owner_versions (owner_id, version) SELECT CONCAT('other-', LPAD(seq, 30, '0')), seq FROM seq_1_to_${OTHERS}`,
+      );
+      await conn.query(
+        `INSERT INTO tombstones (id, entity, entity_id, owner_id, version) SELECT CONCAT('t-', LPAD(seq, 34, '0')), 'tray_item', LPAD(seq, 36, '0'), CONCAT('other-', LPAD(seq DIV 1000, 30, '0')), seq MOD 1000 + 1 FROM seq_0_to_${OTHERS - 1}`,
+      );
+      const [[n]] = (await conn.query(
+        "SELECT (SELECT COUNT(*) FROM owner_versions) AS owners, (SELECT COUNT(*) FROM tombstones) AS tombstones",
+      )) as unknown as [[{ owners: number; tombstones: number }]];
+      expect(Number(n.owners)).toBeGreaterThanOrEqual(OTHERS);
+      expect(Number(n.tombstones)).toBeGreaterThanOrEqual(OTHERS);
 
-    const idle = await cost(counter);
-    console.log(`[pull-cost] handler reads, nothing new: ${JSON.stringify(idle.reads)}; one change: ${JSON.stringify((await cost(counter - 1)).reads)}; full: ${JSON.stringify((await cost(null)).reads)}`);
-    // nothing new: the owner's counter by its primary key, and no row scanned
-    expect(idle.reads.key).toBe(1);
-    expect(idle.total).toBeLessThanOrEqual(2);
-    expect(idle.reads.rnd_next).toBe(0);
-    expect(idle.reads).toEqual(idleBefore.reads);
-    // with changes, the same reads as before the million rows arrived
-    expect((await cost(counter - 1)).reads).toEqual(oneBefore.reads);
-    // (on the small tables the million rows are not in, the optimizer may scan: that follows their size)
-    expect((await cost(null)).reads).toEqual(fullBefore.reads);
-  });
+      const idle = await cost(counter);
+      console.log(
+        `[pull-cost] handler reads, nothing new: ${JSON.stringify(idle.reads)}; one change: ${JSON.stringify((await cost(counter - 1)).reads)}; full: ${JSON.stringify((await cost(null)).reads)}`,
+      );
+      // nothing new: the owner's counter by its primary key, and no row scanned
+      expect(idle.reads.key).toBe(1);
+      expect(idle.total).toBeLessThanOrEqual(2);
+      expect(idle.reads.rnd_next).toBe(0);
+      expect(idle.reads).toEqual(idleBefore.reads);
+      // with changes, the same reads as before the million rows arrived
+      expect((await cost(counter - 1)).reads).toEqual(oneBefore.reads);
+      // (on the small tables the million rows are not in, the optimizer may scan: that follows their size)
+      expect((await cost(null)).reads).toEqual(fullBefore.reads);
+    },
+  );
 });

@@ -19,7 +19,9 @@ describe("which database errors are of the moment (503 and Retry-After) and whic
     // a node stopped cleanly (SIGTERM) ends the query it was running; HAProxy sends the next elsewhere
     expect(isTransientDbError(dbError("ER_SERVER_SHUTDOWN", 1053))).toBe(true);
     // a pooled connection closed under the request (mysql2's fatal error without a code)
-    const closed = Object.assign(new Error("Can't add new command when connection is in closed state"), { fatal: true });
+    const closed = Object.assign(new Error("Can't add new command when connection is in closed state"), {
+      fatal: true,
+    });
     expect(isTransientDbError(Object.assign(new Error("Failed query"), { cause: closed }))).toBe(true);
     expect(isTransientDbError(dbError("ER_LOCK_WAIT_TIMEOUT", 1205))).toBe(true);
     expect(isTransientDbError(Object.assign(new Error("gone"), { code: "ECONNREFUSED" }))).toBe(true);

@@ -17,7 +17,10 @@ const alive = (pid: number) => {
 };
 
 async function run(arg: string | undefined, signal: ((pid: number) => void) | null) {
-  const child = spawn(process.execPath, [fixture, ...(arg ? [arg] : [])], { stdio: ["ignore", "pipe", "pipe"], detached: true });
+  const child = spawn(process.execPath, [fixture, ...(arg ? [arg] : [])], {
+    stdio: ["ignore", "pipe", "pipe"],
+    detached: true,
+  });
   let out = "";
   child.stdout!.on("data", (d) => (out += d));
   child.stderr!.on("data", (d) => (out += d));

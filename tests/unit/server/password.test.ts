@@ -1,7 +1,16 @@
 import bcrypt from "bcryptjs";
 import { describe, expect, it } from "vitest";
 import { hash } from "@node-rs/argon2";
-import { ARGON2, HASH_QUEUE_LIMIT, HASHING_AT_ONCE, hashPassword, hashRefusals, needsRehash, verifyPassword, type HashWatch } from "@/server/password";
+import {
+  ARGON2,
+  HASH_QUEUE_LIMIT,
+  HASHING_AT_ONCE,
+  hashPassword,
+  hashRefusals,
+  needsRehash,
+  verifyPassword,
+  type HashWatch,
+} from "@/server/password";
 import { DomainError } from "@/lib/errors";
 
 describe("password hashing (OWASP Password Storage Cheat Sheet; OWASP ASVS 5.0 V11 Cryptography)", () => {
@@ -21,13 +30,16 @@ describe("password hashing (OWASP Password Storage Cheat Sheet; OWASP ASVS 5.0 V
     expect(needsRehash(old)).toBe(true);
     expect(needsRehash(await hash("x", { ...ARGON2, memoryCost: 4096 }))).toBe(true);
     // anything else is no hash at all: never a match
-    for (const junk of ["", "plain-text", "$argon2id$garbage", "$2b$xx$"]) expect(await verifyPassword("plain-text", junk)).toBe(false);
+    for (const junk of ["", "plain-text", "$argon2id$garbage", "$2b$xx$"])
+      expect(await verifyPassword("plain-text", junk)).toBe(false);
   });
 
   it("runs a bounded number at once and queues a bounded number; the rest are refused at once with Retry-After", async () => {
     const watch: HashWatch = { retryAfterSeconds: null, undo: [] };
     const asked = 2 * (HASHING_AT_ONCE + HASH_QUEUE_LIMIT);
-    const results = await hashRefusals.run(watch, () => Promise.allSettled(Array.from({ length: asked }, (_, i) => hashPassword(`burst-${i}-password`))));
+    const results = await hashRefusals.run(watch, () =>
+      Promise.allSettled(Array.from({ length: asked }, (_, i) => hashPassword(`burst-${i}-password`))),
+    );
     const done = results.filter((r) => r.status === "fulfilled").length;
     const refused = results.flatMap((r) => (r.status === "rejected" ? [r.reason] : []));
     expect(done).toBe(HASHING_AT_ONCE + HASH_QUEUE_LIMIT);

@@ -15,7 +15,15 @@ describe("the network address a request is counted under", () => {
     const { port } = server.address() as { port: number };
     const ask = (localAddress: string) =>
       new Promise<void>((resolve, reject) => {
-        const req = http.request({ host: "127.0.0.1", port, localAddress, headers: { "x-forwarded-for": "203.0.113.9", "x-real-ip": "203.0.113.9" } }, (res) => (res.resume(), res.on("end", resolve)));
+        const req = http.request(
+          {
+            host: "127.0.0.1",
+            port,
+            localAddress,
+            headers: { "x-forwarded-for": "203.0.113.9", "x-real-ip": "203.0.113.9" },
+          },
+          (res) => (res.resume(), res.on("end", resolve)),
+        );
         req.on("error", reject);
         req.end();
       });
@@ -36,6 +44,7 @@ describe("the network address a request is counted under", () => {
     expect(addressKey("fe80::1%eth0")).toBe("fe80:0:0:0::/64");
     expect(addressKey("::1")).toBe("0:0:0:0::/64");
     expect(addressKey("::ffff:1.2.3.4.5")).toBeNull();
-    for (const bad of [null, undefined, "", "unknown", "203.0.113.9, 10.0.0.1", "<script>", "1.2.3"]) expect(addressKey(bad)).toBeNull();
+    for (const bad of [null, undefined, "", "unknown", "203.0.113.9, 10.0.0.1", "<script>", "1.2.3"])
+      expect(addressKey(bad)).toBeNull();
   });
 });

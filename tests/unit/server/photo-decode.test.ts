@@ -30,13 +30,19 @@ function pngHeader(width: number, height: number) {
   ihdr.writeUInt32BE(height, 4);
   ihdr[8] = 8;
   ihdr[9] = 2;
-  return Buffer.concat([Buffer.from([137, 80, 78, 71, 13, 10, 26, 10]), chunk("IHDR", ihdr), chunk("IDAT", zlib.deflateSync(Buffer.alloc(2 * (1 + width * 3)))), chunk("IEND", Buffer.alloc(0))]);
+  return Buffer.concat([
+    Buffer.from([137, 80, 78, 71, 13, 10, 26, 10]),
+    chunk("IHDR", ihdr),
+    chunk("IDAT", zlib.deflateSync(Buffer.alloc(2 * (1 + width * 3)))),
+    chunk("IEND", Buffer.alloc(0)),
+  ]);
 }
 
-const kindOf = (p: Promise<unknown>) => p.then(
-  () => "ok",
-  (e: unknown) => (e instanceof DomainError ? `${e.kind}${e.extra.code ? `/${e.extra.code}` : ""}` : String(e)),
-);
+const kindOf = (p: Promise<unknown>) =>
+  p.then(
+    () => "ok",
+    (e: unknown) => (e instanceof DomainError ? `${e.kind}${e.extra.code ? `/${e.extra.code}` : ""}` : String(e)),
+  );
 
 /** A task that holds its slot until let go. */
 function held() {
@@ -69,7 +75,9 @@ describe("photo decoding", () => {
   });
 
   it("takes a picture at the limit and re-encodes it as a JPEG", async () => {
-    const png = await sharp({ create: { width: 640, height: 480, channels: 3, background: "#335577" } }).png().toBuffer();
+    const png = await sharp({ create: { width: 640, height: 480, channels: 3, background: "#335577" } })
+      .png()
+      .toBuffer();
     const before = decodeStats.decodes;
     const out = await preparePhoto(png, new Slots(1, 0, 1000));
     expect([out.contentType, out.width, out.height]).toEqual(["image/jpeg", 640, 480]);
@@ -115,7 +123,9 @@ describe("decode slots", () => {
   });
 
   it("uploads beyond the cap are turned away before decoding, and the rest decode one at a time", async () => {
-    const png = await sharp({ create: { width: 320, height: 240, channels: 3, background: "#553322" } }).png().toBuffer();
+    const png = await sharp({ create: { width: 320, height: 240, channels: 3, background: "#553322" } })
+      .png()
+      .toBuffer();
     const slots = new Slots(1, 2, 60_000);
     const blocker = held();
     const busy = slots.run(blocker.task);

@@ -6,5 +6,7 @@ import { contentTypeRefusal } from "@/server/request-guard";
 export const POST = route({ status: 201 }, async ({ user, req }) => {
   const wrongType = contentTypeRefusal(req, "zip");
   if (wrongType) throw wrongType;
-  return { imported: await importAccount(user, { bytes: Number(req.headers.get("content-length") ?? 0), stream: req.body }) };
+  return {
+    imported: await importAccount(user, { bytes: Number(req.headers.get("content-length") ?? 0), stream: req.body }),
+  };
 });

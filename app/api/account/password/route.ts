@@ -4,6 +4,7 @@ import { route } from "@/server/http";
 import { resetPassword } from "@/server/account";
 
 export const POST = route({ auth: false, body: newPasswordInput }, async ({ body }) => {
-  if (!(await resetPassword(body.token, body.password))) throw new DomainError("bad_request", "This link has expired or was already used", { code: "bad_token" });
+  if (!(await resetPassword(body.token, body.password)))
+    throw new DomainError("bad_request", "This link has expired or was already used", { code: "bad_token" });
   return { ok: true };
 });

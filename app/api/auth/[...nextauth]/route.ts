@@ -21,7 +21,9 @@ async function post(req: NextRequest, ctx: { params: Promise<{ nextauth: string[
     throw e;
   }
   const hashing: HashWatch = { retryAfterSeconds: null, undo: [] };
-  const res: Response = await hashRefusals.run(hashing, () => handler(new NextRequest(req.url, { method: "POST", headers: req.headers, body }), ctx));
+  const res: Response = await hashRefusals.run(hashing, () =>
+    handler(new NextRequest(req.url, { method: "POST", headers: req.headers, body }), ctx),
+  );
   if (hashing.retryAfterSeconds === null) return res;
   await Promise.all(hashing.undo.map((f) => f()));
   // The password could not be checked: the hashing queue was full. 503 with Retry-After (the tries
@@ -29,7 +31,10 @@ async function post(req: NextRequest, ctx: { params: Promise<{ nextauth: string[
   const url = new URL("/sign-in", req.nextUrl.origin);
   url.searchParams.set("error", SIGN_IN_ERRORS.busy);
   const message = "Too many sign-ins at once: try again in a moment";
-  return NextResponse.json({ ...errorBody("overloaded", message), url: url.toString() }, { status: 503, headers: { "Retry-After": String(hashing.retryAfterSeconds) } });
+  return NextResponse.json(
+    { ...errorBody("overloaded", message), url: url.toString() },
+    { status: 503, headers: { "Retry-After": String(hashing.retryAfterSeconds) } },
+  );
 }
 
 /**

@@ -12,7 +12,11 @@ const params = z.object({ checkId: uuidParam });
 /** The check with its engine: the owner and the mentors of a club it is shared with may read it. */
 export const GET = route({ params }, async ({ user, params }) => {
   const a = await readableCheck(db(), user, params.checkId);
-  return { check: checkToApi(a.check), engine: engineToApi((await getEngineRow(db(), a.check.engineId))!), access: a.as };
+  return {
+    check: checkToApi(a.check),
+    engine: engineToApi((await getEngineRow(db(), a.check.engineId))!),
+    access: a.as,
+  };
 });
 
 /** A partial change, merged with the stored check and written as a whole, as a phone does. */
@@ -20,7 +24,15 @@ export const PATCH = route({ params, body: checkUpdate }, async ({ user, params,
   check: await write(user, async (w) => {
     const c = await ownCheck(w.tx, user, params.checkId);
     const defined = Object.fromEntries(Object.entries(body).filter(([, v]) => v !== undefined));
-    await apply(w, "check.put/1", { id: c.id, engineId: c.engineId, odometer: c.odometer, measuredHot: c.measuredHot, notes: c.notes, status: c.status, ...defined });
+    await apply(w, "check.put/1", {
+      id: c.id,
+      engineId: c.engineId,
+      odometer: c.odometer,
+      measuredHot: c.measuredHot,
+      notes: c.notes,
+      status: c.status,
+      ...defined,
+    });
     return checkToApi((await getCheckRow(w.tx, c.id))!);
   }),
 }));

@@ -10,7 +10,9 @@ import { engineToApi, getEngineRow } from "@/db/queries/garage";
 
 const params = z.object({ engineId: uuidParam });
 
-export const GET = route({ params }, async ({ user, params }) => ({ engine: engineToApi(await ownEngine(db(), user, params.engineId)) }));
+export const GET = route({ params }, async ({ user, params }) => ({
+  engine: engineToApi(await ownEngine(db(), user, params.engineId)),
+}));
 
 export const PATCH = route({ params, body: engineUpdate.omit({ id: true }) }, async ({ user, params, body }) => ({
   engine: await write(user, async (w) => {

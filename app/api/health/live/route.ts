@@ -4,4 +4,10 @@ import { route } from "@/server/http";
  * The process answers: no database, no session, nothing read. A load balancer or a supervisor
  * restarts an instance that stops answering this; whether it should get requests is /ready's answer.
  */
-export const GET = route({ auth: false, session: false }, async () => new Response(JSON.stringify({ status: "live" }), { headers: { "content-type": "application/json", "cache-control": "no-store" } }));
+export const GET = route(
+  { auth: false, session: false },
+  async () =>
+    new Response(JSON.stringify({ status: "live" }), {
+      headers: { "content-type": "application/json", "cache-control": "no-store" },
+    }),
+);

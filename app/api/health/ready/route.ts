@@ -13,5 +13,8 @@ export const GET = route({ auth: false, session: false }, async () => {
   const failed = Object.entries(r.checks)
     .filter(([, c]) => !c.ok && !c.skipped)
     .map(([name]) => name);
-  return NextResponse.json({ status: r.ok ? "ready" : "not ready", failed, checks: r.checks }, { status: r.ok ? 200 : 503, headers: { "cache-control": "no-store" } });
+  return NextResponse.json(
+    { status: r.ok ? "ready" : "not ready", failed, checks: r.checks },
+    { status: r.ok ? 200 : 503, headers: { "cache-control": "no-store" } },
+  );
 });

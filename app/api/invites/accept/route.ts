@@ -5,6 +5,9 @@ import { acceptInvite } from "@/db/queries/clubs";
 
 export const POST = route({ body: tokenInput }, async ({ user, body }) => {
   const r = await acceptInvite(body.token, user);
-  if (!r) throw new DomainError("bad_request", "This invitation has expired, was used, or was sent to another address", { code: "bad_token" });
+  if (!r)
+    throw new DomainError("bad_request", "This invitation has expired, was used, or was sent to another address", {
+      code: "bad_token",
+    });
   return { clubId: r.clubId, clubName: r.clubName };
 });

@@ -15,7 +15,8 @@ const query = z.object({ token: z.string().min(1).max(600) });
  * the account page turns back on) or, for an address with no account, all but account mail.
  */
 export const POST = route({ query, auth: false, anyOrigin: true }, async ({ query }) => {
-  if (!(await unsubscribe(query.token))) throw new DomainError("bad_request", "This unsubscribe link is not one of ours", { code: "bad_token" });
+  if (!(await unsubscribe(query.token)))
+    throw new DomainError("bad_request", "This unsubscribe link is not one of ours", { code: "bad_token" });
   return { stopped: true };
 });
 
@@ -25,5 +26,8 @@ export const POST = route({ query, auth: false, anyOrigin: true }, async ({ quer
  * asks first.
  */
 export const GET = route({ query, auth: false }, async ({ query }) =>
-  NextResponse.redirect(`${env().NEXTAUTH_URL.replace(/\/$/, "")}/unsubscribe?token=${encodeURIComponent(query.token)}`, 303),
+  NextResponse.redirect(
+    `${env().NEXTAUTH_URL.replace(/\/$/, "")}/unsubscribe?token=${encodeURIComponent(query.token)}`,
+    303,
+  ),
 );

@@ -8,7 +8,12 @@ const params = z.object({ photoId: uuidParam });
 export const GET = route({ params }, async ({ user, params }) => {
   const { row, bytes } = await photoBytes(user, params.photoId);
   return new Response(bytes as BodyInit, {
-    headers: { "Content-Type": row.contentType, "Content-Length": String(bytes.byteLength), "Cache-Control": "private, max-age=31536000, immutable", "X-Content-Type-Options": "nosniff" },
+    headers: {
+      "Content-Type": row.contentType,
+      "Content-Length": String(bytes.byteLength),
+      "Cache-Control": "private, max-age=31536000, immutable",
+      "X-Content-Type-Options": "nosniff",
+    },
   });
 });
 

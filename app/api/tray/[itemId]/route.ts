@@ -12,7 +12,14 @@ export const PATCH = route({ params, body: trayItemUpdate }, async ({ user, para
   item: await write(user, async (w) => {
     const t = await ownTrayItem(w.tx, user, params.itemId);
     const defined = Object.fromEntries(Object.entries(body).filter(([, v]) => v !== undefined));
-    await apply(w, "tray.put/1", { id: t.id, size: t.size, measuredSize: t.measuredSize, count: t.count, shimDiameter: t.shimDiameter, ...defined });
+    await apply(w, "tray.put/1", {
+      id: t.id,
+      size: t.size,
+      measuredSize: t.measuredSize,
+      count: t.count,
+      shimDiameter: t.shimDiameter,
+      ...defined,
+    });
     return trayToApi((await getTrayRow(w.tx, t.id))!);
   }),
 }));

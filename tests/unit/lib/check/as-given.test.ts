@@ -14,11 +14,39 @@ import type { LocalEngine, LocalReading } from "@/lib/sync/local-db";
  * engine is invented test data (a twin, intake 0.10-0.20, exhaust 0.20-0.30, a 0.05 mm series).
  */
 const twin: LocalEngine = {
-  id: "0b6f5c2e-5555-4a4a-9a9a-000000000001", name: "Test twin", cylinders: 2, intakePerCylinder: 1, exhaustPerCylinder: 1, firingOrder: [1, 2], firingAngles: null,
-  timing: { ivo: 20, ivc: 50, evo: 50, evc: 20 }, intake: { min: 0.1, max: 0.2 }, exhaust: { min: 0.2, max: 0.3 }, measuredHot: false,
-  shims: { min: 2.5, max: 3.3, step: 0.05 }, shimDiameter: null, assembledShim: null, displayUnit: "mm", odometerUnit: "km", mirrored: false, shimPosition: "over", nearSide: "exhaust",
+  id: "0b6f5c2e-5555-4a4a-9a9a-000000000001",
+  name: "Test twin",
+  cylinders: 2,
+  intakePerCylinder: 1,
+  exhaustPerCylinder: 1,
+  firingOrder: [1, 2],
+  firingAngles: null,
+  timing: { ivo: 20, ivc: 50, evo: 50, evc: 20 },
+  intake: { min: 0.1, max: 0.2 },
+  exhaust: { min: 0.2, max: 0.3 },
+  measuredHot: false,
+  shims: { min: 2.5, max: 3.3, step: 0.05 },
+  shimDiameter: null,
+  assembledShim: null,
+  displayUnit: "mm",
+  odometerUnit: "km",
+  mirrored: false,
+  shimPosition: "over",
+  nearSide: "exhaust",
 };
-const r = (valve: string, extra: Partial<LocalReading>): LocalReading => ({ checkId: "c", valve, round: 0, installedStamp: 2.6, installedMicrometer: null, feelerGo: null, feelerNoGo: null, measured: null, method: "feeler", fittedShim: null, ...extra });
+const r = (valve: string, extra: Partial<LocalReading>): LocalReading => ({
+  checkId: "c",
+  valve,
+  round: 0,
+  installedStamp: 2.6,
+  installedMicrometer: null,
+  feelerGo: null,
+  feelerNoGo: null,
+  measured: null,
+  method: "feeler",
+  fittedShim: null,
+  ...extra,
+});
 
 describe("lengths as they were given", () => {
   it("a typed 0.075 mm stays 0.075; blades keep their two places; a micrometer reading its three", () => {
@@ -39,32 +67,64 @@ describe("lengths as they were given", () => {
   });
 
   it("a reading in words: the typed value as typed, the blades as labelled, the shim as stamped and measured", () => {
-    expect(foundWords({ measured: 0.075, method: "typed", feelerGo: null, feelerNoGo: null }, "mm")).toBe("0.075 mm typed");
-    expect(foundWords({ measured: 0.08, method: "feeler", feelerGo: 0.08, feelerNoGo: 0.09 }, "mm")).toBe("0.08 mm goes, 0.09 mm does not");
+    expect(foundWords({ measured: 0.075, method: "typed", feelerGo: null, feelerNoGo: null }, "mm")).toBe(
+      "0.075 mm typed",
+    );
+    expect(foundWords({ measured: 0.08, method: "feeler", feelerGo: 0.08, feelerNoGo: 0.09 }, "mm")).toBe(
+      "0.08 mm goes, 0.09 mm does not",
+    );
     expect(shimWords({ installedStamp: 2.525, installedMicrometer: 2.52 })).toBe("2.525 stamp, 2.520 micrometer");
-    expect(valveRounds([r("I1.1", { measured: 0.075, method: "typed" })], "I1.1", "mm")[0]!.text).toBe("2.60 stamp · 0.075 mm typed");
+    expect(valveRounds([r("I1.1", { measured: 0.075, method: "typed" })], "I1.1", "mm")[0]!.text).toBe(
+      "2.60 stamp · 0.075 mm typed",
+    );
   });
 
   it("the CSV writes the typed 0.075 whole", () => {
-    const views = valveViews(twin, [r("I1.1", { measured: 0.075, method: "typed" }), r("E1.1", { feelerGo: 0.25, feelerNoGo: 0.28, measured: 0.25 })], () => null);
-    const rows = Papa.parse<Record<string, string>>(checkCsv({ engine: "Test twin", odometer: 1, odometerUnit: "km", date: "2026-05-30" }, views, checkPlan(twin, views, [])).trim(), { header: true }).data;
+    const views = valveViews(
+      twin,
+      [
+        r("I1.1", { measured: 0.075, method: "typed" }),
+        r("E1.1", { feelerGo: 0.25, feelerNoGo: 0.28, measured: 0.25 }),
+      ],
+      () => null,
+    );
+    const rows = Papa.parse<Record<string, string>>(
+      checkCsv(
+        { engine: "Test twin", odometer: 1, odometerUnit: "km", date: "2026-05-30" },
+        views,
+        checkPlan(twin, views, []),
+      ).trim(),
+      { header: true },
+    ).data;
     expect(rows.find((x) => x.valve === "I1.1")!.clearance_mm).toBe("0.075");
   });
 });
 
 describe("words a reader can trust", () => {
   it("the import's note names the file's columns that have no unit, and its example has one", () => {
-    const p = readChecksCsv("date,odometer,valve,shim,clearance\n2024-01-01,1000,I1.1,2.60,0.15\n", twin, [], { today: "2026-12-02" });
+    const p = readChecksCsv("date,odometer,valve,shim,clearance\n2024-01-01,1000,I1.1,2.60,0.15\n", twin, [], {
+      today: "2026-12-02",
+    });
     const note = p.warnings.find((w) => /no unit/.test(w))!;
     expect(note).toContain('"shim", "clearance" have no unit');
     expect(note).toMatch(/like "clearance_mm" or "clearance_in"/);
-    expect(readChecksCsv("date,odometer,valve,shim_mm,clearance_mm\n2024-01-01,1000,I1.1,2.60,0.15\n", twin, [], { today: "2026-12-02" }).warnings.some((w) => /no unit/.test(w))).toBe(false);
+    expect(
+      readChecksCsv("date,odometer,valve,shim_mm,clearance_mm\n2024-01-01,1000,I1.1,2.60,0.15\n", twin, [], {
+        today: "2026-12-02",
+      }).warnings.some((w) => /no unit/.test(w)),
+    ).toBe(false);
   });
 
   it("a loan's state is read from each side: the lender is asked, the borrower waits", () => {
     expect(loanWords("asked", "borrower")).toBe(STATE_WORDS.asked);
     expect(loanWords("asked", "lender")).not.toMatch(/waiting for the lender/);
     expect(loanWords("asked", "lender")).toMatch(/asks you/);
-    for (const w of [...Object.values(MOVE_WORDS), ...(["lender", "borrower"] as const).flatMap((s) => (Object.keys(STATE_WORDS) as (keyof typeof STATE_WORDS)[]).map((k) => loanWords(k, s)))]) expect(w).not.toMatch(/-back|hand-over/);
+    for (const w of [
+      ...Object.values(MOVE_WORDS),
+      ...(["lender", "borrower"] as const).flatMap((s) =>
+        (Object.keys(STATE_WORDS) as (keyof typeof STATE_WORDS)[]).map((k) => loanWords(k, s)),
+      ),
+    ])
+      expect(w).not.toMatch(/-back|hand-over/);
   });
 });

@@ -11,12 +11,43 @@ import { importChecks } from "@/lib/sync/writes";
 // An invented four (test data, not trade data): 2 intakes and 2 exhausts per cylinder, intake
 // 0.10-0.20, exhaust 0.20-0.30, a 0.05 mm series from 2.50 to 3.30.
 const four: LocalEngine = {
-  id: "0b6f5c2e-2222-4a4a-9a9a-000000000001", name: "Test four", cylinders: 4, intakePerCylinder: 2, exhaustPerCylinder: 2, firingOrder: [1, 3, 4, 2], firingAngles: null,
-  timing: { ivo: 20, ivc: 50, evo: 50, evc: 20 }, intake: { min: 0.1, max: 0.2 }, exhaust: { min: 0.2, max: 0.3 }, measuredHot: false,
-  shims: { min: 2.5, max: 3.3, step: 0.05 }, shimDiameter: null, assembledShim: 2.6, displayUnit: "mm", odometerUnit: "km", mirrored: false, shimPosition: null, nearSide: "exhaust",
+  id: "0b6f5c2e-2222-4a4a-9a9a-000000000001",
+  name: "Test four",
+  cylinders: 4,
+  intakePerCylinder: 2,
+  exhaustPerCylinder: 2,
+  firingOrder: [1, 3, 4, 2],
+  firingAngles: null,
+  timing: { ivo: 20, ivc: 50, evo: 50, evc: 20 },
+  intake: { min: 0.1, max: 0.2 },
+  exhaust: { min: 0.2, max: 0.3 },
+  measuredHot: false,
+  shims: { min: 2.5, max: 3.3, step: 0.05 },
+  shimDiameter: null,
+  assembledShim: 2.6,
+  displayUnit: "mm",
+  odometerUnit: "km",
+  mirrored: false,
+  shimPosition: null,
+  nearSide: "exhaust",
 };
-const reading = (valve: string, installed: number, measured: number, extra: Partial<LocalReading> = {}): LocalReading => ({
-  checkId: "c", valve, round: 0, installedStamp: installed, installedMicrometer: null, feelerGo: measured, feelerNoGo: null, measured, method: "feeler", fittedShim: null, ...extra,
+const reading = (
+  valve: string,
+  installed: number,
+  measured: number,
+  extra: Partial<LocalReading> = {},
+): LocalReading => ({
+  checkId: "c",
+  valve,
+  round: 0,
+  installedStamp: installed,
+  installedMicrometer: null,
+  feelerGo: measured,
+  feelerNoGo: null,
+  measured,
+  method: "feeler",
+  fittedShim: null,
+  ...extra,
 });
 const TODAY = "2026-12-02";
 const rowsOf = (csv: string) => Papa.parse<Record<string, string>>(csv.trim(), { header: true }).data;
@@ -26,15 +57,34 @@ describe("check CSV export", () => {
     // I1.1 2.80 + 0.30 - 0.15 (target) = 2.95: a bought 2.95 gives 0.15 (common practice: ideal = installed + measured - target)
     const rs = [reading("I1.1", 2.8, 0.3), reading("I1.2", 2.6, 0.15), reading("E1.1", 2.6, 0.25)];
     const views = valveViews(four, rs, () => 2.6);
-    const csv = checkCsv({ engine: "Test four", odometer: 12000, odometerUnit: "km", date: "2026-05-30" }, views, checkPlan(four, views, []));
+    const csv = checkCsv(
+      { engine: "Test four", odometer: 12000, odometerUnit: "km", date: "2026-05-30" },
+      views,
+      checkPlan(four, views, []),
+    );
     const rows = rowsOf(csv);
     const i11 = rows.find((r) => r.valve === "I1.1")!;
-    expect(i11).toMatchObject({ record: "valve", shim_mm: "2.80", clearance_mm: "0.30", go_mm: "0.30", band_min_mm: "0.10", plan_shim_mm: "2.95", predicted_mm: "0.15", source: "buy" });
+    expect(i11).toMatchObject({
+      record: "valve",
+      shim_mm: "2.80",
+      clearance_mm: "0.30",
+      go_mm: "0.30",
+      band_min_mm: "0.10",
+      plan_shim_mm: "2.95",
+      predicted_mm: "0.15",
+      source: "buy",
+    });
     // every length cell in the file has exactly two decimals (no "2.8" beside "0.20")
-    const lengths = rows.flatMap((r) => Object.entries(r).filter(([k, v]) => k.endsWith("_mm") && v !== "").map(([, v]) => v));
+    const lengths = rows.flatMap((r) =>
+      Object.entries(r)
+        .filter(([k, v]) => k.endsWith("_mm") && v !== "")
+        .map(([, v]) => v),
+    );
     expect(lengths.length).toBeGreaterThan(20);
     for (const v of lengths) expect(v).toMatch(/^\d+\.\d{2}$/);
-    expect(rows.filter((r) => r.record === "buy")).toEqual([expect.objectContaining({ plan_shim_mm: "2.95", count: "1", source: "buy" })]);
+    expect(rows.filter((r) => r.record === "buy")).toEqual([
+      expect.objectContaining({ plan_shim_mm: "2.95", count: "1", source: "buy" }),
+    ]);
     expect(csv.endsWith("\r\n")).toBe(true);
   });
 
@@ -47,22 +97,36 @@ describe("check CSV export", () => {
     const views = valveViews(four, rs, () => 2.6);
     const csv = checkCsv({ engine: '=Four, "red"', odometer: 1, odometerUnit: "km", date: "2026-05-30" }, views, null);
     const row = rowsOf(csv)[0]!;
-    expect(row).toMatchObject({ engine: `'=Four, "red"`, shim_mm: "2.600", micrometer_mm: "2.613", clearance_mm: "0.150" });
+    expect(row).toMatchObject({
+      engine: `'=Four, "red"`,
+      shim_mm: "2.600",
+      micrometer_mm: "2.613",
+      clearance_mm: "0.150",
+    });
   });
 
   it("says on every row where the engine's shims sit, and reads back the same with the column there", () => {
     const rs = [reading("I1.1", 2.8, 0.3)];
     const views = valveViews(four, rs, () => 2.6);
-    const csv = checkCsv({ engine: "Test four", odometer: 12000, odometerUnit: "km", date: "2026-05-30", shimPosition: "under" }, views, checkPlan(four, views, []));
+    const csv = checkCsv(
+      { engine: "Test four", odometer: 12000, odometerUnit: "km", date: "2026-05-30", shimPosition: "under" },
+      views,
+      checkPlan(four, views, []),
+    );
     const rows = rowsOf(csv);
     expect(rows.length).toBeGreaterThan(1);
     for (const r of rows) expect(r.shim_position).toBe("under");
-    expect(rowsOf(checkCsv({ engine: "Test four", odometer: 1, odometerUnit: "km", date: "2026-05-30" }, views, null))[0]!.shim_position).toBe("");
+    expect(
+      rowsOf(checkCsv({ engine: "Test four", odometer: 1, odometerUnit: "km", date: "2026-05-30" }, views, null))[0]!
+        .shim_position,
+    ).toBe("");
     expect(readChecksCsv(csv, four, [], { today: TODAY }).ok).toBe(true);
   });
 
   it("names the file after the engine", () => {
-    expect(csvFileName("Mara's Four (1983)", "2026-05-30", 12000, "km")).toBe("mara-s-four-1983-2026-05-30-12000km.csv");
+    expect(csvFileName("Mara's Four (1983)", "2026-05-30", 12000, "km")).toBe(
+      "mara-s-four-1983-2026-05-30-12000km.csv",
+    );
     expect(csvFileName("Čelik twin", "2026-05-30", 300, "h")).toBe("celik-twin-2026-05-30-300h.csv");
     expect(csvFileName("***", "2026-05-30", 1, "mi")).toBe("engine-2026-05-30-1mi.csv");
   });
@@ -70,18 +134,56 @@ describe("check CSV export", () => {
 
 describe("importing past checks", () => {
   it("reads its own export back: the same readings, one check", () => {
-    const rs = [reading("I1.1", 2.8, 0.3), reading("E1.1", 2.6, 0.23, { feelerNoGo: 0.25 }), reading("E2.2", 2.65, 0.2, { installedMicrometer: 2.641, method: "feeler" })];
+    const rs = [
+      reading("I1.1", 2.8, 0.3),
+      reading("E1.1", 2.6, 0.23, { feelerNoGo: 0.25 }),
+      reading("E2.2", 2.65, 0.2, { installedMicrometer: 2.641, method: "feeler" }),
+    ];
     const views = valveViews(four, rs, () => 2.6);
-    const csv = checkCsv({ engine: "Test four", odometer: 12000, odometerUnit: "km", date: "2026-05-30" }, views, checkPlan(four, views, []));
+    const csv = checkCsv(
+      { engine: "Test four", odometer: 12000, odometerUnit: "km", date: "2026-05-30" },
+      views,
+      checkPlan(four, views, []),
+    );
     const p = readChecksCsv(csv, four, [], { today: TODAY });
     expect(p.fileErrors).toEqual([]);
     expect(p.ok).toBe(true);
     expect(p.checks).toHaveLength(1);
     expect(p.checks[0]).toMatchObject({ date: "2026-05-30", odometer: 12000 });
     expect(p.checks[0]!.readings).toEqual([
-      { valve: "I1.1", round: 0, installedStamp: 2.8, installedMicrometer: null, feelerGo: 0.3, feelerNoGo: null, measured: 0.3, method: "feeler", fittedShim: null },
-      { valve: "E1.1", round: 0, installedStamp: 2.6, installedMicrometer: null, feelerGo: 0.23, feelerNoGo: 0.25, measured: 0.23, method: "feeler", fittedShim: null },
-      { valve: "E2.2", round: 0, installedStamp: 2.65, installedMicrometer: 2.641, feelerGo: 0.2, feelerNoGo: null, measured: 0.2, method: "feeler", fittedShim: null },
+      {
+        valve: "I1.1",
+        round: 0,
+        installedStamp: 2.8,
+        installedMicrometer: null,
+        feelerGo: 0.3,
+        feelerNoGo: null,
+        measured: 0.3,
+        method: "feeler",
+        fittedShim: null,
+      },
+      {
+        valve: "E1.1",
+        round: 0,
+        installedStamp: 2.6,
+        installedMicrometer: null,
+        feelerGo: 0.23,
+        feelerNoGo: 0.25,
+        measured: 0.23,
+        method: "feeler",
+        fittedShim: null,
+      },
+      {
+        valve: "E2.2",
+        round: 0,
+        installedStamp: 2.65,
+        installedMicrometer: 2.641,
+        feelerGo: 0.2,
+        feelerNoGo: null,
+        measured: 0.2,
+        method: "feeler",
+        fittedShim: null,
+      },
     ]);
     // the 13 valves not yet measured are read and left out, and so are the buy list and the 2.80
     // that goes back to the tray
@@ -130,19 +232,32 @@ describe("importing past checks", () => {
   it("refuses a file without the columns it needs, and says which", () => {
     const p = readChecksCsv("when,km,which\n2024-01-01,1,I1.1\n", four, [], { today: TODAY });
     expect(p.ok).toBe(false);
-    expect(p.fileErrors[0]).toBe('The first row must name the columns; missing: date, valve, clearance. Found: "when", "km", "which".');
+    expect(p.fileErrors[0]).toBe(
+      'The first row must name the columns; missing: date, valve, clearance. Found: "when", "km", "which".',
+    );
     expect(readChecksCsv("", four, []).fileErrors).toEqual(["The file is empty."]);
-    expect(readChecksCsv('date,odometer,valve,clearance\n"2024-01-01,1,I1.1,0.1\n', four, [], { today: TODAY }).fileErrors).toContain("A quoted cell is not closed (from row 2).");
+    expect(
+      readChecksCsv('date,odometer,valve,clearance\n"2024-01-01,1,I1.1,0.1\n', four, [], { today: TODAY }).fileErrors,
+    ).toContain("A quoted cell is not closed (from row 2).");
   });
 
   it("reads a semicolon file with decimal commas, inch columns, and day-first dates", () => {
     // 0.006 in = 0.1524 mm and 0.110 in = 2.794 mm exactly (1 in = 25.4 mm)
-    const csv = "date;odometer;valve;shim_in;clearance_thou;record\n31/05/2024;12.500;I1.1;0,110;6;valve\n03/06/2024;13.000,5;E1.1;0,102;10;\n01/06/2024;1;I1.1;0,11;6;buy\n";
+    const csv =
+      "date;odometer;valve;shim_in;clearance_thou;record\n31/05/2024;12.500;I1.1;0,110;6;valve\n03/06/2024;13.000,5;E1.1;0,102;10;\n01/06/2024;1;I1.1;0,11;6;buy\n";
     const p = readChecksCsv(csv, four, [], { today: TODAY });
     expect(p.fileErrors).toEqual([]);
     expect(p.dateOrder).toBe("dmy");
     expect(p.dateOrderOpen).toBe(false);
-    expect(p.checks.map((c) => [c.date, c.odometer, c.readings[0]!.installedStamp, c.readings[0]!.measured, c.readings[0]!.method])).toEqual([
+    expect(
+      p.checks.map((c) => [
+        c.date,
+        c.odometer,
+        c.readings[0]!.installedStamp,
+        c.readings[0]!.measured,
+        c.readings[0]!.method,
+      ]),
+    ).toEqual([
       ["2024-05-31", 12500, 2.794, 0.1524, "typed"],
       ["2024-06-03", 13000.5, 2.5908, 0.254, "typed"],
     ]);
@@ -156,7 +271,11 @@ describe("importing past checks", () => {
     expect([dmy.dateOrder, dmy.dateOrderOpen, dmy.checks[0]!.date]).toEqual(["dmy", true, "2024-04-03"]);
     const mdy = readChecksCsv(csv, four, [], { today: TODAY, dateOrder: "mdy" });
     expect(mdy.checks[0]!.date).toBe("2024-03-04");
-    expect(readChecksCsv("date,odometer,valve,clearance_mm\n13/04/2024,1,I1.1,0.1\n04/13/2024,2,I1.1,0.1\n", four, [], { today: TODAY }).fileErrors[0]).toMatch(/day first and others the month first/);
+    expect(
+      readChecksCsv("date,odometer,valve,clearance_mm\n13/04/2024,1,I1.1,0.1\n04/13/2024,2,I1.1,0.1\n", four, [], {
+        today: TODAY,
+      }).fileErrors[0],
+    ).toMatch(/day first and others the month first/);
   });
 
   it("refuses a check that is already on the engine, so a file brought in twice adds nothing", () => {
@@ -167,7 +286,13 @@ describe("importing past checks", () => {
   });
 
   it("saves the checks with their day through the outbox, and the history draws from them", async () => {
-    const csv = ["date,odometer,valve,shim_mm,clearance_mm,new_shim_mm", "2022-04-01,10000,E1.1,2.60,0.26,", "2023-04-01,20000,E1.1,2.60,0.21,", "2024-04-01,30000,E1.1,2.60,0.17,2.55", "2024-04-01,30000,I1.1,2.60,0.15,"].join("\n");
+    const csv = [
+      "date,odometer,valve,shim_mm,clearance_mm,new_shim_mm",
+      "2022-04-01,10000,E1.1,2.60,0.26,",
+      "2023-04-01,20000,E1.1,2.60,0.21,",
+      "2024-04-01,30000,E1.1,2.60,0.17,2.55",
+      "2024-04-01,30000,I1.1,2.60,0.15,",
+    ].join("\n");
     const p = readChecksCsv(csv, four, [], { today: TODAY });
     expect(p.ok).toBe(true);
     const db = openLocalDb(crypto.randomUUID());
@@ -180,7 +305,15 @@ describe("importing past checks", () => {
       [30000, "2024-04-01T12:00:00.000Z", "closed"],
     ]);
     const outbox = await db.outbox.toArray();
-    expect(outbox.map((o) => o.name)).toEqual(["check.put/2", "reading.put/1", "check.put/2", "reading.put/1", "check.put/2", "reading.put/1", "reading.put/1"]);
+    expect(outbox.map((o) => o.name)).toEqual([
+      "check.put/2",
+      "reading.put/1",
+      "check.put/2",
+      "reading.put/1",
+      "check.put/2",
+      "reading.put/1",
+      "reading.put/1",
+    ]);
     expect(outbox[0]!.args).toMatchObject({ status: "closed", odometer: 10000, startedAt: "2022-04-01T12:00:00.000Z" });
     const h = engineHistory(four, checks, await db.readings.toArray());
     const e11 = h.valves.find((v) => v.valveId === "E1.1")!;
@@ -191,8 +324,18 @@ describe("importing past checks", () => {
   it("writes nothing when one check cannot be saved", async () => {
     const db = openLocalDb(crypto.randomUUID());
     await db.engines.put(four);
-    const good = { date: "2024-01-01", odometer: 1, notes: null, readings: [{ valve: "I1.1", round: 0, measured: 0.15, method: "typed" as const }] };
-    const bad = { date: "2024-01-02", odometer: 2, notes: null, readings: [{ valve: "nonsense", round: 0, measured: 0.15, method: "typed" as const }] };
+    const good = {
+      date: "2024-01-01",
+      odometer: 1,
+      notes: null,
+      readings: [{ valve: "I1.1", round: 0, measured: 0.15, method: "typed" as const }],
+    };
+    const bad = {
+      date: "2024-01-02",
+      odometer: 2,
+      notes: null,
+      readings: [{ valve: "nonsense", round: 0, measured: 0.15, method: "typed" as const }],
+    };
     await expect(importChecks(db, four, [good, bad])).rejects.toThrow(/valve/);
     expect(await db.checks.count()).toBe(0);
     expect(await db.readings.count()).toBe(0);

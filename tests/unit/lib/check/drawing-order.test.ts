@@ -18,8 +18,34 @@ describe("the drawing order of an engine", () => {
 
   it("mirrored: cylinder 1 on the right and each cylinder turned round, I1.2 left of I1.1", () => {
     const o = drawnValveOrder(six, { mirrored: true, nearSide: "exhaust" });
-    expect(o.top).toEqual(["I6.2", "I6.1", "I5.2", "I5.1", "I4.2", "I4.1", "I3.2", "I3.1", "I2.2", "I2.1", "I1.2", "I1.1"]);
-    expect(o.bottom).toEqual(["E6.2", "E6.1", "E5.2", "E5.1", "E4.2", "E4.1", "E3.2", "E3.1", "E2.2", "E2.1", "E1.2", "E1.1"]);
+    expect(o.top).toEqual([
+      "I6.2",
+      "I6.1",
+      "I5.2",
+      "I5.1",
+      "I4.2",
+      "I4.1",
+      "I3.2",
+      "I3.1",
+      "I2.2",
+      "I2.1",
+      "I1.2",
+      "I1.1",
+    ]);
+    expect(o.bottom).toEqual([
+      "E6.2",
+      "E6.1",
+      "E5.2",
+      "E5.1",
+      "E4.2",
+      "E4.1",
+      "E3.2",
+      "E3.1",
+      "E2.2",
+      "E2.1",
+      "E1.2",
+      "E1.1",
+    ]);
   });
 
   it("with the intake side nearest the mechanic, the intakes are drawn at the bottom and the exhausts on top", () => {
@@ -40,7 +66,10 @@ describe("the drawing order of an engine", () => {
         const rows = diagramRows(six, { mirrored, nearSide }, 300);
         expect(rows.length).toBeGreaterThan(1);
         const flat = rows.flat();
-        expect({ top: flat.flatMap((g) => g.top.map((v) => v.valve.id)), bottom: flat.flatMap((g) => g.bottom.map((v) => v.valve.id)) }).toEqual(drawnValveOrder(six, { mirrored, nearSide }));
+        expect({
+          top: flat.flatMap((g) => g.top.map((v) => v.valve.id)),
+          bottom: flat.flatMap((g) => g.bottom.map((v) => v.valve.id)),
+        }).toEqual(drawnValveOrder(six, { mirrored, nearSide }));
       }
   });
 

@@ -7,7 +7,8 @@ import { shimWords, valveRounds } from "@/lib/check/rounds";
 import { trayForEngine } from "@/lib/check/pool";
 
 const LEFT = { mirrored: false, nearSide: "exhaust" } as const;
-const views = (cylinders: number, i: number, e: number) => valveNames({ cylinders, intakePerCylinder: i, exhaustPerCylinder: e }).map((valve) => ({ valve }));
+const views = (cylinders: number, i: number, e: number) =>
+  valveNames({ cylinders, intakePerCylinder: i, exhaustPerCylinder: e }).map((valve) => ({ valve }));
 
 describe("the diagram's rows", () => {
   it("fit the width and are balanced: six cylinders of four 44 px cells on a 300 px phone as 2, 2 and 2", () => {
@@ -23,9 +24,15 @@ describe("the diagram's rows", () => {
 
   it("never puts more in a row than fit, down to one cylinder of five valves", () => {
     for (const cyl of [1, 2, 4, 6, 8, 12, 16])
-      for (const [i, e] of [[1, 1], [2, 1], [2, 2], [3, 2]] as const) {
+      for (const [i, e] of [
+        [1, 1],
+        [2, 1],
+        [2, 2],
+        [3, 2],
+      ] as const) {
         const rows = diagramRows(views(cyl, i, e), LEFT, 300);
-        for (const r of rows) expect(r.length * groupWidth(Math.max(i, e)) + (r.length - 1) * 8).toBeLessThanOrEqual(300);
+        for (const r of rows)
+          expect(r.length * groupWidth(Math.max(i, e)) + (r.length - 1) * 8).toBeLessThanOrEqual(300);
         expect(rows.flat()).toHaveLength(cyl);
       }
   });
@@ -45,7 +52,9 @@ describe("the blade strip", () => {
     expect(strip).toHaveLength(18);
     for (const b of [0.03, 0.06, 0.08, 0.1, 0.15, 0.2, 0.23, 0.28]) expect(strip).toContain(b);
     // an exhaust 0.20-0.30 strip reaches the loose side
-    expect(bladeStrip(METRIC_BLADES_MM, { min: 0.2, max: 0.3 })).toEqual(expect.arrayContaining([0.1, 0.25, 0.33, 0.4]));
+    expect(bladeStrip(METRIC_BLADES_MM, { min: 0.2, max: 0.3 })).toEqual(
+      expect.arrayContaining([0.1, 0.25, 0.33, 0.4]),
+    );
   });
 
   it("takes the next blade of the whole set as the no-go, even past the strip", () => {
@@ -56,12 +65,41 @@ describe("the blade strip", () => {
 
 describe("the measuring order", () => {
   it("follows the rotation guide of an inline six 1-5-3-6-2-4, valve by valve", () => {
-    // shared/TRADE.md (derived): at TDC 1 intake 1, 2, 4 and exhaust 1, 3, 5; at TDC 6 the rest
-    const o = measuringOrder({ cylinders: 6, intakePerCylinder: 2, exhaustPerCylinder: 2, firingOrder: [1, 5, 3, 6, 2, 4], firingAngles: null, timing: undefined });
+    // docs/trade.md (derived): at TDC 1 intake 1, 2, 4 and exhaust 1, 3, 5; at TDC 6 the rest
+    const o = measuringOrder({
+      cylinders: 6,
+      intakePerCylinder: 2,
+      exhaustPerCylinder: 2,
+      firingOrder: [1, 5, 3, 6, 2, 4],
+      firingAngles: null,
+      timing: undefined,
+    });
     expect(o.positions).toHaveLength(2);
     expect(o.stops.map((s) => s.valveId)).toEqual([
-      "I1.1", "I1.2", "I2.1", "I2.2", "I4.1", "I4.2", "E1.1", "E1.2", "E3.1", "E3.2", "E5.1", "E5.2",
-      "I3.1", "I3.2", "I5.1", "I5.2", "I6.1", "I6.2", "E2.1", "E2.2", "E4.1", "E4.2", "E6.1", "E6.2",
+      "I1.1",
+      "I1.2",
+      "I2.1",
+      "I2.2",
+      "I4.1",
+      "I4.2",
+      "E1.1",
+      "E1.2",
+      "E3.1",
+      "E3.2",
+      "E5.1",
+      "E5.2",
+      "I3.1",
+      "I3.2",
+      "I5.1",
+      "I5.2",
+      "I6.1",
+      "I6.2",
+      "E2.1",
+      "E2.2",
+      "E4.1",
+      "E4.2",
+      "E6.1",
+      "E6.2",
     ]);
   });
 });
@@ -71,8 +109,28 @@ describe("a valve's rounds for the reviewer", () => {
     expect(shimWords({ installedStamp: 2.8, installedMicrometer: 2.78 })).toBe("2.80 stamp, 2.780 micrometer");
     const rounds = valveRounds(
       [
-        { valve: "I1.1", round: 1, installedStamp: 2.7, installedMicrometer: null, feelerGo: 0.13, feelerNoGo: 0.15, measured: 0.13, method: "feeler", fittedShim: null },
-        { valve: "I1.1", round: 0, installedStamp: 2.8, installedMicrometer: 2.78, feelerGo: 0.05, feelerNoGo: 0.06, measured: 0.05, method: "feeler", fittedShim: 2.7 },
+        {
+          valve: "I1.1",
+          round: 1,
+          installedStamp: 2.7,
+          installedMicrometer: null,
+          feelerGo: 0.13,
+          feelerNoGo: 0.15,
+          measured: 0.13,
+          method: "feeler",
+          fittedShim: null,
+        },
+        {
+          valve: "I1.1",
+          round: 0,
+          installedStamp: 2.8,
+          installedMicrometer: 2.78,
+          feelerGo: 0.05,
+          feelerNoGo: 0.06,
+          measured: 0.05,
+          method: "feeler",
+          fittedShim: 2.7,
+        },
       ],
       "I1.1",
       "mm",

@@ -6,13 +6,54 @@ import type { LocalCheck, LocalEngine, LocalReading } from "@/lib/sync/local-db"
 
 // An invented single (test data, not trade data): intake 0.10-0.15, exhaust 0.15-0.20, 0.05 series.
 const engine: LocalEngine = {
-  id: "e1", name: "Test single", cylinders: 1, intakePerCylinder: 1, exhaustPerCylinder: 1, firingOrder: [1], firingAngles: null,
-  timing: { ivo: 20, ivc: 50, evo: 50, evc: 20 }, intake: { min: 0.1, max: 0.15 }, exhaust: { min: 0.15, max: 0.2 }, measuredHot: false,
-  shims: { min: 2.5, max: 3.3, step: 0.05 }, shimDiameter: null, assembledShim: 2.6, displayUnit: "mm", odometerUnit: "km", mirrored: false, shimPosition: null, nearSide: "exhaust",
+  id: "e1",
+  name: "Test single",
+  cylinders: 1,
+  intakePerCylinder: 1,
+  exhaustPerCylinder: 1,
+  firingOrder: [1],
+  firingAngles: null,
+  timing: { ivo: 20, ivc: 50, evo: 50, evc: 20 },
+  intake: { min: 0.1, max: 0.15 },
+  exhaust: { min: 0.15, max: 0.2 },
+  measuredHot: false,
+  shims: { min: 2.5, max: 3.3, step: 0.05 },
+  shimDiameter: null,
+  assembledShim: 2.6,
+  displayUnit: "mm",
+  odometerUnit: "km",
+  mirrored: false,
+  shimPosition: null,
+  nearSide: "exhaust",
 };
-const check = (id: string, odometer: number): LocalCheck => ({ id, engineId: "e1", odometer, measuredHot: false, status: "closed", notes: null, startedAt: new Date(odometer).toISOString(), closedAt: null });
-const reading = (checkId: string, valve: string, installed: number, measured: number, round = 0, fittedShim: number | null = null): LocalReading => ({
-  checkId, valve, round, installedStamp: installed, installedMicrometer: null, feelerGo: measured, feelerNoGo: null, measured, method: "feeler", fittedShim,
+const check = (id: string, odometer: number): LocalCheck => ({
+  id,
+  engineId: "e1",
+  odometer,
+  measuredHot: false,
+  status: "closed",
+  notes: null,
+  startedAt: new Date(odometer).toISOString(),
+  closedAt: null,
+});
+const reading = (
+  checkId: string,
+  valve: string,
+  installed: number,
+  measured: number,
+  round = 0,
+  fittedShim: number | null = null,
+): LocalReading => ({
+  checkId,
+  valve,
+  round,
+  installedStamp: installed,
+  installedMicrometer: null,
+  feelerGo: measured,
+  feelerNoGo: null,
+  measured,
+  method: "feeler",
+  fittedShim,
 });
 
 describe("engine history", () => {
@@ -46,7 +87,11 @@ describe("engine history", () => {
     expect(plan.assignments[1]).toMatchObject({ valveId: "E1.1", size: 2.5, predicted: 0.2, source: { kind: "buy" } });
     const fitted = valveViews(engine, [rs[0]!, { ...rs[1]!, fittedShim: 2.5 }], () => 2.6);
     expect(fitted[1]).toMatchObject({ state: "fitted", installed: 2.5, nextRound: 1 });
-    const verified = valveViews(engine, [rs[0]!, { ...rs[1]!, fittedShim: 2.5 }, reading("a", "E1.1", 2.5, 0.18, 1)], () => 2.6);
+    const verified = valveViews(
+      engine,
+      [rs[0]!, { ...rs[1]!, fittedShim: 2.5 }, reading("a", "E1.1", 2.5, 0.18, 1)],
+      () => 2.6,
+    );
     expect(verified[1]!.state).toBe("verified");
   });
 });

@@ -5,12 +5,44 @@ import type { LocalEngine, LocalReading } from "@/lib/sync/local-db";
 
 // An invented twin (test data, not trade data): intake 0.10-0.15, exhaust 0.15-0.20, 0.05 series.
 const engine: LocalEngine = {
-  id: "e1", name: "Test twin", cylinders: 2, intakePerCylinder: 1, exhaustPerCylinder: 1, firingOrder: [1, 2], firingAngles: null,
-  timing: { ivo: 20, ivc: 50, evo: 50, evc: 20 }, intake: { min: 0.1, max: 0.15 }, exhaust: { min: 0.15, max: 0.2 }, measuredHot: false,
-  shims: { min: 2.5, max: 3.3, step: 0.05 }, shimDiameter: null, assembledShim: 2.6, displayUnit: "mm", odometerUnit: "km", mirrored: false, shimPosition: null, nearSide: "exhaust",
+  id: "e1",
+  name: "Test twin",
+  cylinders: 2,
+  intakePerCylinder: 1,
+  exhaustPerCylinder: 1,
+  firingOrder: [1, 2],
+  firingAngles: null,
+  timing: { ivo: 20, ivc: 50, evo: 50, evc: 20 },
+  intake: { min: 0.1, max: 0.15 },
+  exhaust: { min: 0.15, max: 0.2 },
+  measuredHot: false,
+  shims: { min: 2.5, max: 3.3, step: 0.05 },
+  shimDiameter: null,
+  assembledShim: 2.6,
+  displayUnit: "mm",
+  odometerUnit: "km",
+  mirrored: false,
+  shimPosition: null,
+  nearSide: "exhaust",
 };
-const r = (valve: string, round: number, installedStamp: number, measured: number | null, fittedShim: number | null = null, installedMicrometer: number | null = null): LocalReading => ({
-  checkId: "c", valve, round, installedStamp, installedMicrometer, feelerGo: measured, feelerNoGo: null, measured, method: "feeler", fittedShim,
+const r = (
+  valve: string,
+  round: number,
+  installedStamp: number,
+  measured: number | null,
+  fittedShim: number | null = null,
+  installedMicrometer: number | null = null,
+): LocalReading => ({
+  checkId: "c",
+  valve,
+  round,
+  installedStamp,
+  installedMicrometer,
+  feelerGo: measured,
+  feelerNoGo: null,
+  measured,
+  method: "feeler",
+  fittedShim,
 });
 const states = (rs: LocalReading[]) => valveViews(engine, rs, () => 2.6);
 
@@ -30,7 +62,13 @@ describe("the previous check's shims", () => {
   });
 
   it("is the fitted shim of the last round, else the micrometer, else the stamp", () => {
-    const m = lastShims([r("I1.1", 1, 2.55, 0.12), r("I1.1", 0, 2.6, 0.05, 2.55), r("E1.1", 0, 2.6, 0.18, null, 2.584), r("I2.1", 0, 2.7, 0.12), r("E2.1", 0, 2.6, 0.1, 2.5)]);
+    const m = lastShims([
+      r("I1.1", 1, 2.55, 0.12),
+      r("I1.1", 0, 2.6, 0.05, 2.55),
+      r("E1.1", 0, 2.6, 0.18, null, 2.584),
+      r("I2.1", 0, 2.7, 0.12),
+      r("E2.1", 0, 2.6, 0.1, 2.5),
+    ]);
     expect(Object.fromEntries(m)).toEqual({ "I1.1": 2.55, "E1.1": 2.584, "I2.1": 2.7, "E2.1": 2.5 });
   });
 });
@@ -47,7 +85,12 @@ describe("open valves and the re-check in progress", () => {
 
   it("asks for nothing before a fit, then for the fitted valves and those re-measured in the same round", () => {
     expect(recheckValves(states([r("I1.1", 0, 2.6, 0.05), r("E1.1", 0, 2.6, 0.18)]))).toEqual([]);
-    const round1 = [r("I1.1", 0, 2.6, 0.05, 2.55), r("E1.1", 0, 2.6, 0.1, 2.55), r("I2.1", 0, 2.6, 0.12), r("E2.1", 0, 2.6, 0.17)];
+    const round1 = [
+      r("I1.1", 0, 2.6, 0.05, 2.55),
+      r("E1.1", 0, 2.6, 0.1, 2.55),
+      r("I2.1", 0, 2.6, 0.12),
+      r("E2.1", 0, 2.6, 0.17),
+    ];
     expect(recheckValves(states(round1)).map((v) => v.valve.id)).toEqual(["I1.1", "E1.1"]);
     // I1.1 re-measured (still tight), E1.1 waiting: both belong to round 1
     const part = [...round1, r("I1.1", 1, 2.55, 0.08)];

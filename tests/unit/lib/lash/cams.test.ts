@@ -3,18 +3,22 @@ import { camsOut, camsOutWords, ENGINE_PRESETS, LashInputError } from "@/lib/las
 import { OVER_BUCKET_CAUTIONS, OVER_BUCKET_METHOD, prepareCautions, UNDER_BUCKET_FIT } from "@/lib/check/shim-position";
 
 /**
- * Which camshafts come out for a fit. The rule (TRADE.md, "Where the shim sits": common practice;
+ * Which camshafts come out for a fit. The rule (docs/trade.md, "Where the shim sits": common practice;
  * from memory): with the shims under the buckets, a shim is reached only with the camshaft over its
  * valve out, the intake cam for an intake valve and the exhaust cam for an exhaust valve; with the
  * shims over the buckets every cam stays in.
  */
 describe("the cams that come out", () => {
   it("only intakes change: the intake cam, over the cylinders whose valves change", () => {
-    expect(camsOut({ shimPosition: "under", valves: ["I3.2", "I1.1", "I3.1"] })).toEqual([{ cam: "intake", cylinders: [1, 3] }]);
+    expect(camsOut({ shimPosition: "under", valves: ["I3.2", "I1.1", "I3.1"] })).toEqual([
+      { cam: "intake", cylinders: [1, 3] },
+    ]);
   });
 
   it("only exhausts change: the exhaust cam alone", () => {
-    expect(camsOut({ shimPosition: "under", valves: ["E2.1", "E4.2"] })).toEqual([{ cam: "exhaust", cylinders: [2, 4] }]);
+    expect(camsOut({ shimPosition: "under", valves: ["E2.1", "E4.2"] })).toEqual([
+      { cam: "exhaust", cylinders: [2, 4] },
+    ]);
   });
 
   it("both change: both cams, intake first", () => {
@@ -34,7 +38,9 @@ describe("the cams that come out", () => {
   });
 
   it("says it as the plan's line", () => {
-    expect(camsOutWords(camsOut({ shimPosition: "under", valves: ["I1.1", "I3.1", "E2.2"] }))).toBe("Cams out: intake (cylinders 1, 3), exhaust (cylinder 2).");
+    expect(camsOutWords(camsOut({ shimPosition: "under", valves: ["I1.1", "I3.1", "E2.2"] }))).toBe(
+      "Cams out: intake (cylinders 1, 3), exhaust (cylinder 2).",
+    );
   });
 
   it("refuses what is not a valve or not a position, naming the field", () => {
@@ -53,7 +59,7 @@ describe("what the screens ask, by where the shims sit", () => {
   });
 
   it("Prepare names the bucket tool only over the bucket, the cam-cap order and marks only under it", () => {
-    // TRADE.md "Cautions to show" (common practice) and DESIGN.md section 8
+    // docs/trade.md "Cautions to show" (common practice) and README "Safety"
     const over = prepareCautions("over");
     const under = prepareCautions("under");
     const unsaid = prepareCautions(null);
@@ -69,7 +75,15 @@ describe("what the screens ask, by where the shims sit", () => {
   });
 
   it("the under-bucket fit runs in the trade's order, each task with its cautions (common practice; from memory)", () => {
-    expect(UNDER_BUCKET_FIT.map((t) => t.key)).toEqual(["timing", "mark", "cams-out", "swap", "cams-in", "torque", "turn"]);
+    expect(UNDER_BUCKET_FIT.map((t) => t.key)).toEqual([
+      "timing",
+      "mark",
+      "cams-out",
+      "swap",
+      "cams-in",
+      "torque",
+      "turn",
+    ]);
     const text = (k: string) => UNDER_BUCKET_FIT.find((t) => t.key === k)!;
     expect(text("timing").task).toMatch(/timing position the manual gives/);
     expect(text("cams-out").task).toMatch(/loosen the cam caps evenly.*manual's order/);
@@ -82,7 +96,8 @@ describe("what the screens ask, by where the shims sit", () => {
     expect(all).toContain("Never turn the engine with a cam cap loose.");
     expect(all).toContain("A valve can hit a piston if the timing is wrong.");
     // a cap is loose from taking the cams out until the caps are torqued
-    for (const k of ["cams-out", "swap", "torque"]) expect(text(k).cautions).toContain("Never turn the engine with a cam cap loose.");
+    for (const k of ["cams-out", "swap", "torque"])
+      expect(text(k).cautions).toContain("Never turn the engine with a cam cap loose.");
   });
 
   it("over the bucket: the tool, the notch, the number face down, a magnet (common practice)", () => {

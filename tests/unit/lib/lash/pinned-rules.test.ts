@@ -3,8 +3,8 @@ import { driftProjection, planShims, rotationGuide, shimSeries } from "@/lib/las
 
 /**
  * Rules of the core that a wrong change could break without another test noticing. Each case is
- * worked by hand below from the shim rule (predicted = installed + measured - new shim; DESIGN.md
- * section 4.2, shared trade practice) with invented valves; the working is in the comments.
+ * worked by hand below from the shim rule (predicted = installed + measured - new shim; docs/trade.md
+ * "Choosing a shim", common practice) with invented valves; the working is in the comments.
  */
 const spec = { min: 0.2, max: 0.3 }; // target 0.25, the middle of the band
 const sizes = shimSeries(2.3, 3.3, 0.05);
@@ -24,7 +24,11 @@ describe("the tight-edge margin", () => {
     // and the target moves up to 0.23. Gap 2.60 + 0.40 = 3.00, so the ideal shim is
     // 3.00 - 0.23 = 2.77 (with the target left at 0.21 it would read 2.79). Of the 0.05 series,
     // 2.75 gives 0.25 (0.02 from 0.23) and 2.70 gives 0.30; 2.80 gives 0.20, inside the margin.
-    const p = planShims({ valves: [{ id: "E1.1", installed: 2.6, measured: 0.4, spec: { ...spec, target: 0.21 } }], sizes, tightMargin: 0.03 });
+    const p = planShims({
+      valves: [{ id: "E1.1", installed: 2.6, measured: 0.4, spec: { ...spec, target: 0.21 } }],
+      sizes,
+      tightMargin: 0.03,
+    });
     expect(row(p, "E1.1")).toMatchObject({ ideal: 2.77, size: 2.75, predicted: 0.25, source: { kind: "buy" } });
   });
 });
@@ -33,7 +37,14 @@ describe("a tie between two free shims goes to the thinner one (the looser valve
   it("between two tray shims", () => {
     // gap 2.60 + 0.40 = 3.00: the tray's 2.70 gives 0.30 and its 2.80 gives 0.20, both 0.05 from
     // 0.25. Clearance closes in service (common practice), so the thinner 2.70 is taken.
-    const p = planShims({ valves: [{ id: "E1.1", installed: 2.6, measured: 0.4, spec }], sizes, tray: [{ size: 2.8, count: 1 }, { size: 2.7, count: 1 }] });
+    const p = planShims({
+      valves: [{ id: "E1.1", installed: 2.6, measured: 0.4, spec }],
+      sizes,
+      tray: [
+        { size: 2.8, count: 1 },
+        { size: 2.7, count: 1 },
+      ],
+    });
     expect(row(p, "E1.1")).toMatchObject({ size: 2.7, predicted: 0.3, source: { kind: "tray" } });
     expect(p.buy).toEqual([]);
   });
@@ -46,7 +57,14 @@ describe("a tie between two free shims goes to the thinner one (the looser valve
       { id: "E1.1", installed: 2.6, measured: 0.4, spec },
       { id: "I1.1", installed: 2.7, measured: 0.05, spec },
     ];
-    const p = planShims({ valves, sizes, tray: [{ size: 2.5, count: 1 }, { size: 2.8, count: 1 }] });
+    const p = planShims({
+      valves,
+      sizes,
+      tray: [
+        { size: 2.5, count: 1 },
+        { size: 2.8, count: 1 },
+      ],
+    });
     expect(row(p, "I1.1")).toMatchObject({ size: 2.5, predicted: 0.25, source: { kind: "tray" } });
     expect(row(p, "E1.1")).toMatchObject({ size: 2.7, predicted: 0.3, source: { kind: "valve", valveId: "I1.1" } });
     // E1.1's own 2.60 has no taker (I1.1 would get 0.15): back to the tray

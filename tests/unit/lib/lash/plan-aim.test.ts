@@ -1,7 +1,7 @@
 import { describe, expect, it } from "vitest";
 import { planShims, shimSeries } from "@/lib/lash";
 
-// Invented cases, worked by hand (derived from the shim rule in shared/TRADE.md: predicted =
+// Invented cases, worked by hand (derived from the shim rule in docs/trade.md: predicted =
 // installed + measured - new shim). Band 0.20-0.30, target 0.25; a 0.05 mm series from 2.30 to 3.30.
 const spec = { min: 0.2, max: 0.3 };
 const sizes = shimSeries(2.3, 3.3, 0.05);
@@ -15,7 +15,8 @@ const tray = [
   { size: 2.4, count: 1 },
   { size: 2.8, count: 1 },
 ];
-const pick = (p: ReturnType<typeof planShims>) => p.assignments.map((a) => [a.valveId, a.size, a.source.kind, a.predicted, a.inSpec]);
+const pick = (p: ReturnType<typeof planShims>) =>
+  p.assignments.map((a) => [a.valveId, a.size, a.source.kind, a.predicted, a.inSpec]);
 
 describe("the plan's aim and tight-edge margin", () => {
   it("without options behaves as before: buy the fewest, reusing tray shims that land anywhere in the band", () => {

@@ -6,7 +6,7 @@ import { bruteForce, score } from "../../../support/plan-oracle";
 /**
  * Each lender the plan borrows from is a trip (to collect the shims and to give them back), counted
  * like one bought shim; among plans even on that, the one with fewer lenders. Shim arithmetic as in
- * TRADE.md (new shim = installed + measured - target; common practice). The engine is invented.
+ * docs/trade.md (new shim = installed + measured - target; common practice). The engine is invented.
  */
 const series = shimSeries(2.5, 3.3, 0.05);
 const spec = { min: 0.2, max: 0.3 };
@@ -33,7 +33,12 @@ describe("the planner counts lenders as trips", () => {
       { size: 2.5, count: 1, ownerId: "B" },
     ];
     const fewest = planShims({ valves, sizes: series, pool, aim: "fewest-bought" });
-    expect(fewest.assignments.map((a) => `${a.valveId} ${a.size.toFixed(2)} ${a.source.kind}${"ownerId" in a.source ? ` ${a.source.ownerId}` : ""}`)).toEqual(["I1 2.75 club A", "I2 2.75 club A", "I3 2.75 club A", "I4 2.50 buy"]);
+    expect(
+      fewest.assignments.map(
+        (a) =>
+          `${a.valveId} ${a.size.toFixed(2)} ${a.source.kind}${"ownerId" in a.source ? ` ${a.source.ownerId}` : ""}`,
+      ),
+    ).toEqual(["I1 2.75 club A", "I2 2.75 club A", "I3 2.75 club A", "I4 2.50 buy"]);
     expect(fewest.buy).toEqual([{ size: 2.5, count: 1 }]);
     expect(fewest.borrow).toEqual([{ size: 2.75, count: 3, ownerId: "A" }]);
     const nearest = planShims({ valves, sizes: series, pool, aim: "nearest-target" });
@@ -55,10 +60,25 @@ describe("the planner counts lenders as trips", () => {
   it("matches exhaustive search with three lenders", () => {
     fc.assert(
       fc.property(
-        fc.array(fc.record({ i: fc.integer({ min: 0, max: 16 }), um: fc.integer({ min: 20, max: 500 }) }), { minLength: 1, maxLength: 5 }),
-        fc.array(fc.record({ i: fc.integer({ min: 0, max: 16 }), count: fc.integer({ min: 0, max: 2 }), owner: fc.constantFrom("a", "b", "c") }), { maxLength: 5 }),
+        fc.array(fc.record({ i: fc.integer({ min: 0, max: 16 }), um: fc.integer({ min: 20, max: 500 }) }), {
+          minLength: 1,
+          maxLength: 5,
+        }),
+        fc.array(
+          fc.record({
+            i: fc.integer({ min: 0, max: 16 }),
+            count: fc.integer({ min: 0, max: 2 }),
+            owner: fc.constantFrom("a", "b", "c"),
+          }),
+          { maxLength: 5 },
+        ),
         (vs, poolRaw) => {
-          const valves: PlanValve[] = vs.map((v, k) => ({ id: `V${k}`, installed: series[v.i]!, measured: v.um / 1000, spec }));
+          const valves: PlanValve[] = vs.map((v, k) => ({
+            id: `V${k}`,
+            installed: series[v.i]!,
+            measured: v.um / 1000,
+            spec,
+          }));
           const pool = poolRaw.map((t) => ({ size: series[t.i]!, count: t.count, ownerId: t.owner }));
           const plan = planShims({ valves, sizes: series, pool });
           expect(score(plan, valves)).toEqual(bruteForce(valves, series, [], pool));

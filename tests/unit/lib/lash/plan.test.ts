@@ -26,7 +26,8 @@ function checkPlanIsConsistent(plan: ShimPlan, valves: PlanValve[], tray: { size
     if (a.source.kind === "tray") trayUse.set(nm(a.size), (trayUse.get(nm(a.size)) ?? 0) + 1);
     if (a.source.kind === "keep") expect(nm(a.size)).toBe(nm(v.installed));
   }
-  for (const [size, used] of trayUse) expect(used).toBeLessThanOrEqual(tray.filter((t) => nm(t.size) === size).reduce((s, t) => s + t.count, 0));
+  for (const [size, used] of trayUse)
+    expect(used).toBeLessThanOrEqual(tray.filter((t) => nm(t.size) === size).reduce((s, t) => s + t.count, 0));
   // shims out of the engine that nobody took go back to the tray
   const outCount = plan.assignments.filter((a) => a.source.kind !== "keep").length;
   const backCount = plan.toTray.reduce((s, t) => s + t.count, 0);
@@ -44,7 +45,14 @@ describe("planShims", () => {
     const plan = planShims({ valves, sizes: series, tray: [] });
     expect(plan.assignments).toEqual([
       { valveId: "I1", size: 2.6, predicted: 0.25, source: { kind: "valve", valveId: "E2" }, inSpec: true, ideal: 2.6 },
-      { valveId: "E2", size: 2.75, predicted: 0.25, source: { kind: "valve", valveId: "I1" }, inSpec: true, ideal: 2.75 },
+      {
+        valveId: "E2",
+        size: 2.75,
+        predicted: 0.25,
+        source: { kind: "valve", valveId: "I1" },
+        inSpec: true,
+        ideal: 2.75,
+      },
       { valveId: "I2", size: 2.65, predicted: 0.25, source: { kind: "keep" }, inSpec: true, ideal: 2.65 },
     ]);
     expect(plan.buy).toEqual([]);
@@ -62,7 +70,10 @@ describe("planShims", () => {
     expect(plan.assignments[1]).toMatchObject({ size: 2.65, source: { kind: "buy" }, inSpec: true });
     expect(plan.assignments[2]).toMatchObject({ size: 2.5, source: { kind: "keep" }, inSpec: false });
     expect(plan.buy).toEqual([{ size: 2.65, count: 1 }]);
-    expect(plan.toTray).toEqual([{ size: 2.75, count: 1 }, { size: 2.8, count: 1 }]);
+    expect(plan.toTray).toEqual([
+      { size: 2.75, count: 1 },
+      { size: 2.8, count: 1 },
+    ]);
   });
 
   it("is not greedy: gives up the nearest fit on one valve so another need not buy", () => {
@@ -84,15 +95,25 @@ describe("planShims", () => {
     ];
     const plan = planShims({ valves, sizes: series, tray: [] });
     // I2 (gap 2.787) takes I1's 2.537 and lands on 0.25 exactly; I1 (gap 2.847) takes I2's 2.60 (0.247)
-    expect(plan.assignments[1]).toMatchObject({ size: 2.537, predicted: 0.25, source: { kind: "valve", valveId: "I1" } });
-    expect(plan.assignments[0]).toMatchObject({ size: 2.6, predicted: 0.247, source: { kind: "valve", valveId: "I2" } });
+    expect(plan.assignments[1]).toMatchObject({
+      size: 2.537,
+      predicted: 0.25,
+      source: { kind: "valve", valveId: "I1" },
+    });
+    expect(plan.assignments[0]).toMatchObject({
+      size: 2.6,
+      predicted: 0.247,
+      source: { kind: "valve", valveId: "I2" },
+    });
     expect(plan.buy).toEqual([]);
   });
 
   it("rejects nonsense: a duplicate valve, a shim outside the system, a negative tray count", () => {
     const v = { id: "I1", installed: 2.6, measured: 0.1, spec };
     expect(() => planShims({ valves: [v, v], sizes: series })).toThrow(/appears twice/);
-    expect(() => planShims({ valves: [{ ...v, installed: 4.2 }], sizes: series })).toThrow(/outside this engine's shim range/);
+    expect(() => planShims({ valves: [{ ...v, installed: 4.2 }], sizes: series })).toThrow(
+      /outside this engine's shim range/,
+    );
     expect(() => planShims({ valves: [v], sizes: series, tray: [{ size: 2.6, count: -1 }] })).toThrow(LashInputError);
     expect(() => planShims({ valves: [], sizes: series })).toThrow(/at least one valve/);
   });
@@ -106,7 +127,9 @@ describe("planShims", () => {
     fc.assert(
       fc.property(
         fc.array(valveArb, { minLength: 1, maxLength: 6 }),
-        fc.array(fc.record({ i: fc.integer({ min: 0, max: 16 }), count: fc.integer({ min: 0, max: 2 }) }), { maxLength: 4 }),
+        fc.array(fc.record({ i: fc.integer({ min: 0, max: 16 }), count: fc.integer({ min: 0, max: 2 }) }), {
+          maxLength: 4,
+        }),
         (vs, trayRaw) => {
           const valves: PlanValve[] = vs.map((v, i) => ({
             id: `V${i}`,
@@ -140,7 +163,12 @@ describe("planShims", () => {
       const plan = planShims({ valves, sizes: series, tray });
       const [, , , buys, , dist] = score(plan, valves);
 
-      const model: { optimize: string; opType: "min"; constraints: Record<string, { equal?: number; max?: number }>; variables: Record<string, Record<string, number>> } = {
+      const model: {
+        optimize: string;
+        opType: "min";
+        constraints: Record<string, { equal?: number; max?: number }>;
+        variables: Record<string, Record<string, number>>;
+      } = {
         optimize: "cost",
         opType: "min",
         constraints: {},
@@ -157,7 +185,10 @@ describe("planShims", () => {
         const gap = nm(v.installed) + nm(v.measured);
         const fallback = recommendShim({ installed: v.installed, measured: v.measured, spec, sizes: series });
         expect(fallback.inSpec).toBe(true); // these cases always have an in-band catalog size
-        model.variables[`${v.id}_buy`] = { [`v_${v.id}`]: 1, cost: 1e6 + Math.abs(nm(fallback.predicted) - 250_000) / 1000 };
+        model.variables[`${v.id}_buy`] = {
+          [`v_${v.id}`]: 1,
+          cost: 1e6 + Math.abs(nm(fallback.predicted) - 250_000) / 1000,
+        };
         sources.forEach((s, j) => {
           const p = gap - nm(s.size);
           if (s.from === v.id || p < 200_000 || p > 300_000) return;
@@ -174,15 +205,30 @@ describe("planShims", () => {
   it("property: never buys more than the valves that need a change, and replanning its output changes nothing", () => {
     fc.assert(
       fc.property(
-        fc.array(fc.record({ i: fc.integer({ min: 0, max: 16 }), m: fc.integer({ min: 10, max: 600 }) }), { minLength: 1, maxLength: 16 }),
-        fc.array(fc.record({ i: fc.integer({ min: 0, max: 16 }), count: fc.integer({ min: 0, max: 3 }) }), { maxLength: 6 }),
+        fc.array(fc.record({ i: fc.integer({ min: 0, max: 16 }), m: fc.integer({ min: 10, max: 600 }) }), {
+          minLength: 1,
+          maxLength: 16,
+        }),
+        fc.array(fc.record({ i: fc.integer({ min: 0, max: 16 }), count: fc.integer({ min: 0, max: 3 }) }), {
+          maxLength: 6,
+        }),
         (vs, trayRaw) => {
-          const valves: PlanValve[] = vs.map((v, i) => ({ id: `V${i}`, installed: series[v.i]!, measured: v.m / 1000, spec }));
+          const valves: PlanValve[] = vs.map((v, i) => ({
+            id: `V${i}`,
+            installed: series[v.i]!,
+            measured: v.m / 1000,
+            spec,
+          }));
           const tray = trayRaw.map((t) => ({ size: series[t.i]!, count: t.count }));
           const plan = planShims({ valves, sizes: series, tray });
           const needing = valves.filter((v) => v.measured < spec.min || v.measured > spec.max).length;
           expect(plan.buy.reduce((s, b) => s + b.count, 0)).toBeLessThanOrEqual(needing);
-          const fitted = plan.assignments.map((a) => ({ id: a.valveId, installed: a.size, measured: a.predicted, spec }));
+          const fitted = plan.assignments.map((a) => ({
+            id: a.valveId,
+            installed: a.size,
+            measured: a.predicted,
+            spec,
+          }));
           const again = planShims({ valves: fitted, sizes: series, tray });
           expect(again.assignments.every((a) => a.source.kind === "keep")).toBe(true);
           expect(again.buy).toEqual([]);

@@ -6,7 +6,7 @@ import { bruteForce, score } from "../../../support/plan-oracle";
 
 /**
  * The club pool as a further source of shims. Worked cases here follow the usual shim arithmetic
- * (new shim = installed + measured - target; common practice, as in TRADE.md); the random cases are
+ * (new shim = installed + measured - target; common practice, as in docs/trade.md); the random cases are
  * checked against exhaustive search in plan.test.ts's style, with borrowing counted after buying.
  */
 const series = shimSeries(2.5, 3.3, 0.05);
@@ -24,7 +24,11 @@ describe("planner with a club pool", () => {
     expect(alone.buy).toEqual([{ size: 2.5, count: 2 }]);
     // one trip to lender-1 (1) against two bought (2)
     const plan = planShims({ valves, sizes: series, pool: [{ size: 2.5, count: 2, ownerId: "lender-1" }] });
-    expect(plan.assignments[0]).toMatchObject({ size: 2.5, source: { kind: "club", ownerId: "lender-1" }, inSpec: true });
+    expect(plan.assignments[0]).toMatchObject({
+      size: 2.5,
+      source: { kind: "club", ownerId: "lender-1" },
+      inSpec: true,
+    });
     expect(plan.buy).toEqual([]);
     expect(plan.borrow).toEqual([{ size: 2.5, count: 2, ownerId: "lender-1" }]);
   });
@@ -35,7 +39,15 @@ describe("planner with a club pool", () => {
       { id: "E1", installed: 2.6, measured: 0.15, spec },
       { id: "E2", installed: 2.55, measured: 0.4, spec },
     ];
-    const plan = planShims({ valves, sizes: series, tray: [{ size: 2.7, count: 1 }], pool: [{ size: 2.55, count: 3, ownerId: "lender-1" }, { size: 2.7, count: 3, ownerId: "lender-1" }] });
+    const plan = planShims({
+      valves,
+      sizes: series,
+      tray: [{ size: 2.7, count: 1 }],
+      pool: [
+        { size: 2.55, count: 3, ownerId: "lender-1" },
+        { size: 2.7, count: 3, ownerId: "lender-1" },
+      ],
+    });
     expect(plan.assignments.map((a) => a.source.kind)).toEqual(["valve", "tray"]);
     expect(plan.borrow).toEqual([]);
   });
@@ -48,7 +60,14 @@ describe("planner with a club pool", () => {
       { id: "I1", installed: 2.6, measured: 0.1, spec },
       { id: "I2", installed: 2.6, measured: 0.1, spec },
     ];
-    const plan = planShims({ valves, sizes: series, pool: [{ size: 2.5, count: 1, ownerId: "a" }, { size: 2.45, count: 1, ownerId: "b" }] });
+    const plan = planShims({
+      valves,
+      sizes: series,
+      pool: [
+        { size: 2.5, count: 1, ownerId: "a" },
+        { size: 2.45, count: 1, ownerId: "b" },
+      ],
+    });
     expect(plan.buy).toEqual([{ size: 2.5, count: 2 }]);
     expect(plan.borrow).toEqual([]);
   });
@@ -77,16 +96,36 @@ describe("planner with a club pool", () => {
   it("matches exhaustive search on random engines with a tray and a pool", () => {
     fc.assert(
       fc.property(
-        fc.array(fc.record({ i: fc.integer({ min: 0, max: 16 }), um: fc.integer({ min: 20, max: 500 }) }), { minLength: 1, maxLength: 5 }),
-        fc.array(fc.record({ i: fc.integer({ min: 0, max: 16 }), count: fc.integer({ min: 0, max: 2 }) }), { maxLength: 3 }),
-        fc.array(fc.record({ i: fc.integer({ min: 0, max: 16 }), count: fc.integer({ min: 0, max: 2 }), owner: fc.constantFrom("a", "b") }), { maxLength: 4 }),
+        fc.array(fc.record({ i: fc.integer({ min: 0, max: 16 }), um: fc.integer({ min: 20, max: 500 }) }), {
+          minLength: 1,
+          maxLength: 5,
+        }),
+        fc.array(fc.record({ i: fc.integer({ min: 0, max: 16 }), count: fc.integer({ min: 0, max: 2 }) }), {
+          maxLength: 3,
+        }),
+        fc.array(
+          fc.record({
+            i: fc.integer({ min: 0, max: 16 }),
+            count: fc.integer({ min: 0, max: 2 }),
+            owner: fc.constantFrom("a", "b"),
+          }),
+          { maxLength: 4 },
+        ),
         (vs, trayRaw, poolRaw) => {
-          const valves: PlanValve[] = vs.map((v, k) => ({ id: `V${k}`, installed: series[v.i]!, measured: v.um / 1000, spec }));
+          const valves: PlanValve[] = vs.map((v, k) => ({
+            id: `V${k}`,
+            installed: series[v.i]!,
+            measured: v.um / 1000,
+            spec,
+          }));
           const tray = trayRaw.map((t) => ({ size: series[t.i]!, count: t.count }));
           const pool = poolRaw.map((t) => ({ size: series[t.i]!, count: t.count, ownerId: t.owner }));
           const plan = planShims({ valves, sizes: series, tray, pool });
           // never more borrowed of a size from a lender than offered
-          for (const b of plan.borrow) expect(b.count).toBeLessThanOrEqual(pool.filter((p) => p.ownerId === b.ownerId && nm(p.size) === nm(b.size)).reduce((n, p) => n + p.count, 0));
+          for (const b of plan.borrow)
+            expect(b.count).toBeLessThanOrEqual(
+              pool.filter((p) => p.ownerId === b.ownerId && nm(p.size) === nm(b.size)).reduce((n, p) => n + p.count, 0),
+            );
           expect(score(plan, valves)).toEqual(bruteForce(valves, series, tray, pool));
         },
       ),

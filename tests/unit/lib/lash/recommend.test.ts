@@ -4,29 +4,39 @@ import { LashInputError, recommendShim, shimSeries } from "@/lib/lash";
 
 const series05 = shimSeries(2.5, 3.3, 0.05);
 
-describe("recommendShim: the worked cases of shared/TRADE.md", () => {
+describe("recommendShim: the worked cases of docs/trade.md", () => {
   it("case 1: 2.75 removed, 0.12 measured, band 0.20-0.30 -> 2.60, predicted 0.27", () => {
-    // common practice (shared/TRADE.md, worked case 1)
+    // common practice (docs/trade.md, worked case 1)
     const r = recommendShim({ installed: 2.75, measured: 0.12, spec: { min: 0.2, max: 0.3 }, sizes: series05 });
     expect(r).toEqual({ ideal: 2.62, size: 2.6, predicted: 0.27, inSpec: true, change: true });
   });
 
   it("case 2: 2.40 removed, 0.30 measured, band 0.18-0.22, 0.02 steps -> 2.50, predicted 0.20", () => {
-    // common practice (shared/TRADE.md, worked case 2)
-    const r = recommendShim({ installed: 2.4, measured: 0.3, spec: { min: 0.18, max: 0.22 }, sizes: shimSeries(2.0, 3.0, 0.02) });
+    // common practice (docs/trade.md, worked case 2)
+    const r = recommendShim({
+      installed: 2.4,
+      measured: 0.3,
+      spec: { min: 0.18, max: 0.22 },
+      sizes: shimSeries(2.0, 3.0, 0.02),
+    });
     expect(r).toMatchObject({ ideal: 2.5, size: 2.5, predicted: 0.2, inSpec: true, change: true });
   });
 
   it("case 3: 2.33 removed, 0.08 measured, target 0.15 -> ideal 2.26", () => {
-    // common practice (shared/TRADE.md, worked case 3)
-    const r = recommendShim({ installed: 2.33, measured: 0.08, spec: { min: 0.1, max: 0.2, target: 0.15 }, sizes: shimSeries(1.2, 3.0, 0.025) });
+    // common practice (docs/trade.md, worked case 3)
+    const r = recommendShim({
+      installed: 2.33,
+      measured: 0.08,
+      spec: { min: 0.1, max: 0.2, target: 0.15 },
+      sizes: shimSeries(1.2, 3.0, 0.025),
+    });
     expect(r.ideal).toBe(2.26);
     expect(r.size).toBe(2.25); // the 0.025 series has 2.250 and 2.275; 2.250 leaves 0.16, nearer than 0.135
     expect(r.predicted).toBe(0.16);
   });
 
   it("case 4: 2.50 removed, 0.28 measured, band 0.10-0.20 -> ideal 2.63, 2.65 nearest the target", () => {
-    // common practice (shared/TRADE.md, worked case 4): 2.65 gives 0.13, 2.60 gives 0.18, both in spec
+    // common practice (docs/trade.md, worked case 4): 2.65 gives 0.13, 2.60 gives 0.18, both in spec
     const r = recommendShim({ installed: 2.5, measured: 0.28, spec: { min: 0.1, max: 0.2 }, sizes: series05 });
     expect(r).toEqual({ ideal: 2.63, size: 2.65, predicted: 0.13, inSpec: true, change: true });
     const only260 = recommendShim({ installed: 2.5, measured: 0.28, spec: { min: 0.1, max: 0.2 }, sizes: [2.6] });
@@ -36,7 +46,7 @@ describe("recommendShim: the worked cases of shared/TRADE.md", () => {
 
 describe("recommendShim: rules", () => {
   it("on a tie takes the thinner shim, leaving the valve looser", () => {
-    // common practice (shared/TRADE.md): between two sizes lean to the looser one
+    // common practice (docs/trade.md): between two sizes lean to the looser one
     const r = recommendShim({ installed: 2.5, measured: 0.325, spec: { min: 0.2, max: 0.3 }, sizes: series05 });
     expect(r.ideal).toBe(2.575);
     expect(r.size).toBe(2.55);
@@ -61,7 +71,9 @@ describe("recommendShim: rules", () => {
     // a very loose valve that the thickest size cannot close enough
     const loose = recommendShim({ installed: 3.2, measured: 0.6, spec: { min: 0.2, max: 0.3 }, sizes: series05 });
     expect(loose).toMatchObject({ size: 3.3, predicted: 0.5, inSpec: false });
-    expect(() => recommendShim({ installed: 2.5, measured: 0, spec: { min: 0.2, max: 0.3 }, sizes: [2.55, 2.6] })).toThrow(/leaves any clearance/);
+    expect(() =>
+      recommendShim({ installed: 2.5, measured: 0, spec: { min: 0.2, max: 0.3 }, sizes: [2.55, 2.6] }),
+    ).toThrow(/leaves any clearance/);
   });
 
   it("rejects nonsense: negative clearance, an inverted band, no sizes", () => {

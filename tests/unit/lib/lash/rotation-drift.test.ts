@@ -1,14 +1,25 @@
 import { describe, expect, it } from "vitest";
 import { linearRegression } from "simple-statistics";
-import { driftProjection, fastClosingValves, LashInputError, onBaseCircle, rotationGuide, DEFAULT_TIMING } from "@/lib/lash";
+import {
+  driftProjection,
+  fastClosingValves,
+  LashInputError,
+  onBaseCircle,
+  rotationGuide,
+  DEFAULT_TIMING,
+} from "@/lib/lash";
 
-const names = (vs: { cylinder: number; kind: string }[], kind: string) => vs.filter((v) => v.kind === kind).map((v) => v.cylinder);
+const names = (vs: { cylinder: number; kind: string }[], kind: string) =>
+  vs.filter((v) => v.kind === kind).map((v) => v.cylinder);
 
 describe("rotationGuide", () => {
   it("inline four 1-3-4-2: TDC #1 compression checks intake 1,2 exhaust 1,3; one turn later the rest", () => {
-    // common practice; derived (shared/TRADE.md)
+    // common practice; derived (docs/trade.md)
     const { steps } = rotationGuide({ firingOrder: [1, 3, 4, 2] });
-    expect(steps.map((s) => [s.crankAngle, s.tdcCylinder])).toEqual([[0, 1], [360, 4]]);
+    expect(steps.map((s) => [s.crankAngle, s.tdcCylinder])).toEqual([
+      [0, 1],
+      [360, 4],
+    ]);
     expect(names(steps[0]!.valves, "intake")).toEqual([1, 2]);
     expect(names(steps[0]!.valves, "exhaust")).toEqual([1, 3]);
     expect(names(steps[1]!.valves, "intake")).toEqual([3, 4]);
@@ -27,11 +38,21 @@ describe("rotationGuide", () => {
 
   it("a single checks both valves at its firing TDC", () => {
     const { steps } = rotationGuide({ firingOrder: [1] });
-    expect(steps).toEqual([{ crankAngle: 0, tdcCylinder: 1, pastTdc: 0, valves: [{ cylinder: 1, kind: "intake" }, { cylinder: 1, kind: "exhaust" }] }]);
+    expect(steps).toEqual([
+      {
+        crankAngle: 0,
+        tdcCylinder: 1,
+        pastTdc: 0,
+        valves: [
+          { cylinder: 1, kind: "intake" },
+          { cylinder: 1, kind: "exhaust" },
+        ],
+      },
+    ]);
   });
 
   it("90 degree V-twin firing at 0 and 270: two stops, the rear intake only at its own TDC", () => {
-    // derived (shared/TRADE.md): a common-crankpin 90 degree twin fires 270/450. Working, with the
+    // derived (docs/trade.md): a common-crankpin 90 degree twin fires 270/450. Working, with the
     // default timing (IVO 20, IVC 50, EVO 50, EVC 20) and the 20 degree ramp margin, in degrees after
     // each cylinder's own firing TDC: intake lifted 360-20-20 = 320 to 540+50+20 = 610, exhaust lifted
     // 180-50-20 = 110 to 360+20+20 = 400; free everywhere else.
@@ -41,12 +62,16 @@ describe("rotationGuide", () => {
     // < 400): I2 is the only valve not yet listed. No single stop frees all four.
     const { steps } = rotationGuide({ firingOrder: [1, 2], firingAngles: [0, 270] });
     expect(steps.map((s) => s.crankAngle)).toEqual([0, 270]);
-    expect(steps[0]!.valves).toEqual([{ cylinder: 1, kind: "intake" }, { cylinder: 1, kind: "exhaust" }, { cylinder: 2, kind: "exhaust" }]);
+    expect(steps[0]!.valves).toEqual([
+      { cylinder: 1, kind: "intake" },
+      { cylinder: 1, kind: "exhaust" },
+      { cylinder: 2, kind: "exhaust" },
+    ]);
     expect(steps[1]!.valves).toEqual([{ cylinder: 2, kind: "intake" }]);
   });
 
   it("its running mate, 360 degrees away, is in overlap: neither of its valves can be checked", () => {
-    // common practice (shared/TRADE.md)
+    // common practice (docs/trade.md)
     expect(onBaseCircle("intake", 360, DEFAULT_TIMING, 20)).toBe(false);
     expect(onBaseCircle("exhaust", 360, DEFAULT_TIMING, 20)).toBe(false);
     expect(onBaseCircle("intake", 0, DEFAULT_TIMING, 20)).toBe(true);
@@ -54,7 +79,16 @@ describe("rotationGuide", () => {
   });
 
   it("covers every valve exactly once for even-fire engines of 1 to 8 cylinders", () => {
-    const orders: number[][] = [[1], [1, 2], [1, 2, 3], [1, 3, 4, 2], [1, 2, 4, 5, 3], [1, 5, 3, 6, 2, 4], [1, 2, 4, 7, 6, 5, 3], [1, 8, 4, 3, 6, 5, 7, 2]];
+    const orders: number[][] = [
+      [1],
+      [1, 2],
+      [1, 2, 3],
+      [1, 3, 4, 2],
+      [1, 2, 4, 5, 3],
+      [1, 5, 3, 6, 2, 4],
+      [1, 2, 4, 7, 6, 5, 3],
+      [1, 8, 4, 3, 6, 5, 7, 2],
+    ];
     for (const firingOrder of orders) {
       const { steps } = rotationGuide({ firingOrder });
       const listed = steps.flatMap((s) => s.valves.map((v) => `${v.kind}${v.cylinder}`));
@@ -70,7 +104,7 @@ describe("rotationGuide", () => {
   });
 
   it("offers stops between the TDC marks when long timing leaves a valve lifted at every TDC", () => {
-    // derived (shared/TRADE.md windows): with IVO 90, IVC 150 and a 90 degree margin the intake is
+    // derived (docs/trade.md windows): with IVO 90, IVC 150 and a 90 degree margin the intake is
     // lifted from 180 to 780 (= 60), so free only strictly between 60 and 180 degrees past firing
     // TDC; the exhaust (EVO 150, EVC 90) from -60 to 540, so free between 540 and 660. On a 30
     // degree grid: 90 and 570.
@@ -98,7 +132,11 @@ describe("rotationGuide", () => {
           expect(new Set(listed).size).toBe(n * 2);
           expect(listed).toHaveLength(n * 2);
           // each listed valve is on its base circle at its stop
-          for (const s of steps) for (const v of s.valves) expect(onBaseCircle(v.kind, s.crankAngle - ((v.cylinder - 1) * 720) / n, timing ?? DEFAULT_TIMING, margin)).toBe(true);
+          for (const s of steps)
+            for (const v of s.valves)
+              expect(
+                onBaseCircle(v.kind, s.crankAngle - ((v.cylinder - 1) * 720) / n, timing ?? DEFAULT_TIMING, margin),
+              ).toBe(true);
         }
     }
   });
@@ -126,15 +164,29 @@ describe("driftProjection", () => {
     const thinner = driftProjection({ points, lowerLimit: 0.2, currentShim: 2.5 });
     const base = driftProjection({ points, lowerLimit: 0.2 });
     expect(thinner.limitAtOdometer!).toBeGreaterThan(base.limitAtOdometer!);
-    const opening = driftProjection({ points: [{ odometer: 0, installed: 2.6, measured: 0.2 }, { odometer: 10_000, installed: 2.6, measured: 0.22 }], lowerLimit: 0.15 });
+    const opening = driftProjection({
+      points: [
+        { odometer: 0, installed: 2.6, measured: 0.2 },
+        { odometer: 10_000, installed: 2.6, measured: 0.22 },
+      ],
+      lowerLimit: 0.15,
+    });
     expect(opening.slopePerThousandKm).toBeCloseTo(0.002, 12);
     expect(opening.limitAtOdometer).toBeNull();
-    expect(driftProjection({ points: points.slice(0, 1), lowerLimit: 0.2 })).toMatchObject({ slopePerThousandKm: null, limitAtOdometer: null, verdict: "few-checks" });
+    expect(driftProjection({ points: points.slice(0, 1), lowerLimit: 0.2 })).toMatchObject({
+      slopePerThousandKm: null,
+      limitAtOdometer: null,
+      verdict: "few-checks",
+    });
   });
 
   it("rejects negative clearances and odometers", () => {
-    expect(() => driftProjection({ points: [{ odometer: -5, installed: 2.6, measured: 0.2 }], lowerLimit: 0.2 })).toThrow(LashInputError);
-    expect(() => driftProjection({ points: [{ odometer: 5, installed: 2.6, measured: -0.2 }], lowerLimit: 0.2 })).toThrow(/negative/);
+    expect(() =>
+      driftProjection({ points: [{ odometer: -5, installed: 2.6, measured: 0.2 }], lowerLimit: 0.2 }),
+    ).toThrow(LashInputError);
+    expect(() =>
+      driftProjection({ points: [{ odometer: 5, installed: 2.6, measured: -0.2 }], lowerLimit: 0.2 }),
+    ).toThrow(/negative/);
   });
 
   it("flags a valve closing much faster than its neighbours", () => {
@@ -146,6 +198,12 @@ describe("driftProjection", () => {
       { valveId: "E3", slopePerThousandKm: null },
     ]);
     expect(flagged).toEqual(["E1"]);
-    expect(fastClosingValves([{ valveId: "a", slopePerThousandKm: -0.004 }, { valveId: "b", slopePerThousandKm: -0.005 }, { valveId: "c", slopePerThousandKm: -0.0045 }])).toEqual([]);
+    expect(
+      fastClosingValves([
+        { valveId: "a", slopePerThousandKm: -0.004 },
+        { valveId: "b", slopePerThousandKm: -0.005 },
+        { valveId: "c", slopePerThousandKm: -0.0045 },
+      ]),
+    ).toEqual([]);
   });
 });

@@ -1,13 +1,21 @@
 import { describe, expect, it } from "vitest";
 import { unit } from "mathjs";
 import fc from "fast-check";
-import { clearanceFromFeelers, formatLength, inchesToMm, LashInputError, mmToInches, roundForDisplay, shimSeries } from "@/lib/lash";
+import {
+  clearanceFromFeelers,
+  formatLength,
+  inchesToMm,
+  LashInputError,
+  mmToInches,
+  roundForDisplay,
+  shimSeries,
+} from "@/lib/lash";
 
 describe("inch and millimetre", () => {
   it("uses 1 in = 25.4 mm exactly", () => {
     // source: International Yard and Pound Agreement, 1959; NIST Handbook 44, Appendix C
     expect(inchesToMm(1)).toBe(25.4);
-    // derived from the exact factor (shared/TRADE.md): 0.003 in = 0.0762 mm; 0.25 mm = 0.009843 in
+    // derived from the exact factor (docs/trade.md): 0.003 in = 0.0762 mm; 0.25 mm = 0.009843 in
     expect(inchesToMm(0.003)).toBe(0.0762);
     expect(roundForDisplay(0.25, "in")).toBe(0.0098);
     expect(mmToInches(0.25)).toBeCloseTo(0.009843, 6);
@@ -31,7 +39,7 @@ describe("inch and millimetre", () => {
     );
   });
 
-  it("formats with the unit and the display rounding of DESIGN.md section 4", () => {
+  it("formats with the unit and the display rounding of the computation core (README), as given", () => {
     expect(formatLength(0.27, "mm")).toBe("0.27 mm");
     expect(formatLength(2.537, "mm", true)).toBe("2.537 mm");
     expect(formatLength(0.2794, "in")).toBe("0.0110 in");
@@ -44,7 +52,7 @@ describe("inch and millimetre", () => {
 
 describe("shimSeries", () => {
   it("lists 17 sizes from 2.50 to 3.30 mm in 0.05 mm steps, exact decimals", () => {
-    // common practice (shared/TRADE.md): 0.05 mm steps, for example 17 sizes from 2.50 to 3.30 mm
+    // common practice (docs/trade.md): 0.05 mm steps, for example 17 sizes from 2.50 to 3.30 mm
     const s = shimSeries(2.5, 3.3, 0.05);
     expect(s).toHaveLength(17);
     expect(s[0]).toBe(2.5);
@@ -54,7 +62,7 @@ describe("shimSeries", () => {
   });
 
   it("lists the 0.025 mm series 1.200 to 3.000 mm with both ends", () => {
-    // common practice (shared/TRADE.md): 0.025 mm steps, for example 1.200 to 3.000 mm
+    // common practice (docs/trade.md): 0.025 mm steps, for example 1.200 to 3.000 mm
     const s = shimSeries(1.2, 3.0, 0.025);
     expect(s).toHaveLength(73);
     expect(s[1]).toBe(1.225);
@@ -70,7 +78,7 @@ describe("shimSeries", () => {
 
 describe("clearanceFromFeelers", () => {
   it("brackets the clearance between go and no-go blades", () => {
-    // common practice (shared/TRADE.md): 0.011 in slides, 0.012 in will not: [0.2794, 0.3048) mm
+    // common practice (docs/trade.md): 0.011 in slides, 0.012 in will not: [0.2794, 0.3048) mm
     const c = clearanceFromFeelers({ go: inchesToMm(0.011), noGo: inchesToMm(0.012) });
     expect(c).toEqual({ min: 0.2794, max: 0.3048, value: 0.2794 });
   });

@@ -42,12 +42,23 @@ describe("workOrder", () => {
 
   it("property: playing the moves on random plans leaves every valve with its planned shim", () => {
     fc.assert(
-      fc.property(fc.array(fc.record({ i: fc.integer({ min: 0, max: 16 }), m: fc.integer({ min: 20, max: 600 }) }), { minLength: 1, maxLength: 16 }), (vs) => {
-        const valves: PlanValve[] = vs.map((v, k) => ({ id: `V${k}`, installed: series[v.i]!, measured: v.m / 1000, spec }));
-        const plan = planShims({ valves, sizes: series, tray: [{ size: 2.6, count: 2 }] });
-        const installed = Object.fromEntries(valves.map((v) => [v.id, v.installed]));
-        play(plan.assignments, installed, workOrder(plan.assignments, installed));
-      }),
+      fc.property(
+        fc.array(fc.record({ i: fc.integer({ min: 0, max: 16 }), m: fc.integer({ min: 20, max: 600 }) }), {
+          minLength: 1,
+          maxLength: 16,
+        }),
+        (vs) => {
+          const valves: PlanValve[] = vs.map((v, k) => ({
+            id: `V${k}`,
+            installed: series[v.i]!,
+            measured: v.m / 1000,
+            spec,
+          }));
+          const plan = planShims({ valves, sizes: series, tray: [{ size: 2.6, count: 2 }] });
+          const installed = Object.fromEntries(valves.map((v) => [v.id, v.installed]));
+          play(plan.assignments, installed, workOrder(plan.assignments, installed));
+        },
+      ),
       { numRuns: 300, seed: 5 },
     );
   });

@@ -5,7 +5,11 @@ const own = { linkOrigin: "http://127.0.0.1:3000" };
 
 describe("the HTML part of an e-mail", () => {
   it("makes the app's own addresses real links and keeps the sentence's full stop outside them", () => {
-    const html = mailHtml("Confirm", "Confirm this address:\nhttp://127.0.0.1:3000/verify?token=abc_DEF-123\n\nThe link works once. See http://127.0.0.1:3000/a.", own);
+    const html = mailHtml(
+      "Confirm",
+      "Confirm this address:\nhttp://127.0.0.1:3000/verify?token=abc_DEF-123\n\nThe link works once. See http://127.0.0.1:3000/a.",
+      own,
+    );
     expect(html).toContain('<a href="http://127.0.0.1:3000/verify?token=abc_DEF-123"');
     expect(html).toContain('<a href="http://127.0.0.1:3000/a"');
     expect(html).toContain("</a>.");
@@ -13,7 +17,11 @@ describe("the HTML part of an e-mail", () => {
   });
 
   it("never makes an address elsewhere a link: text someone typed stays text", () => {
-    const html = mailHtml("Invite", "Join https://evil.example/login or http://127.0.0.1:3001/x, then http://127.0.0.1:3000/invite?token=t", own);
+    const html = mailHtml(
+      "Invite",
+      "Join https://evil.example/login or http://127.0.0.1:3001/x, then http://127.0.0.1:3000/invite?token=t",
+      own,
+    );
     expect(html.match(/<a /g)).toHaveLength(1);
     expect(html).toContain('<a href="http://127.0.0.1:3000/invite?token=t"');
     expect(html).toContain("Join https://evil.example/login or");

@@ -18,10 +18,27 @@ describe("text someone chose, in a mail to someone who has not joined", () => {
   });
 
   it("whatever the text, what comes out has nothing a mail client would link", () => {
-    const hosty = fc.constantFrom("http://", "https://", "www.", ".", "\uFF0E", "\u3002", "evil", "example", "com", "/", ":", " ", "@", "x");
+    const hosty = fc.constantFrom(
+      "http://",
+      "https://",
+      "www.",
+      ".",
+      "\uFF0E",
+      "\u3002",
+      "evil",
+      "example",
+      "com",
+      "/",
+      ":",
+      " ",
+      "@",
+      "x",
+    );
     fc.assert(
       fc.property(fc.array(fc.oneof(hosty, fc.string()), { maxLength: 30 }), (parts) => {
-        const out = inert(parts.join(""), 500).normalize("NFKC").replace(/[\u3002\uFF61]/g, ".");
+        const out = inert(parts.join(""), 500)
+          .normalize("NFKC")
+          .replace(/[\u3002\uFF61]/g, ".");
         expect(out).not.toMatch(LINKABLE);
       }),
       { numRuns: 2000 },
@@ -48,7 +65,9 @@ describe("notices gathered into one mail", () => {
   });
 
   it("twenty notices of one kind become one, showing at most 25 texts", () => {
-    const m = merge(Array.from({ length: 30 }, (_, i) => ({ subject: "Pat asks to borrow 1 × 2.45 mm", body: `ask ${i}` })));
+    const m = merge(
+      Array.from({ length: 30 }, (_, i) => ({ subject: "Pat asks to borrow 1 × 2.45 mm", body: `ask ${i}` })),
+    );
     expect(m.subject).toBe("Pat asks to borrow 1 × 2.45 mm");
     expect(m.body).toContain("ask 24");
     expect(m.body).not.toContain("ask 25");

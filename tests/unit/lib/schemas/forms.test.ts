@@ -7,8 +7,28 @@ import { forgotForm, resetForm, signUpForm } from "@/lib/schemas/forms";
  * zod. Every value here gets the same answer from both: accepted with the same cleaned value, or
  * refused on the same fields (invented addresses and names).
  */
-const emails = ["ann@example.org", "  Ann@Example.ORG ", "", "not-an-address", "a@b", "a..b@example.org", ".a@example.org", "ann+tag@sub.example.org", `${"x".repeat(250)}@example.org`, "ann@example.org\n", "ann@exa mple.org"];
-const passwords = ["", "short", "password123", "PASSWORD123", "a-long-enough-passphrase", "x".repeat(128), "x".repeat(129)];
+const emails = [
+  "ann@example.org",
+  "  Ann@Example.ORG ",
+  "",
+  "not-an-address",
+  "a@b",
+  "a..b@example.org",
+  ".a@example.org",
+  "ann+tag@sub.example.org",
+  `${"x".repeat(250)}@example.org`,
+  "ann@example.org\n",
+  "ann@exa mple.org",
+];
+const passwords = [
+  "",
+  "short",
+  "password123",
+  "PASSWORD123",
+  "a-long-enough-passphrase",
+  "x".repeat(128),
+  "x".repeat(129),
+];
 const names = ["Ann", "", "   ", " Ann Lee ", "Ann\tLee", "A\u202EB", "x".repeat(120), "x".repeat(121)];
 
 describe("the browser's account forms and the server's schemas", () => {
@@ -30,7 +50,9 @@ describe("the browser's account forms and the server's schemas", () => {
           expect(browser.ok, JSON.stringify(v)).toBe(server.success);
           if (browser.ok && server.success) expect(browser.data).toEqual(server.data);
           if (!browser.ok && !server.success) {
-            expect(Object.keys(browser.errors).sort()).toEqual([...new Set(server.error.issues.map((i) => String(i.path[0])))].sort());
+            expect(Object.keys(browser.errors).sort()).toEqual(
+              [...new Set(server.error.issues.map((i) => String(i.path[0])))].sort(),
+            );
             // where the server words the refusal itself, the browser says the same
             for (const field of ["name", "password"] as const) {
               const first = server.error.issues.find((i) => i.path[0] === field);
@@ -38,6 +60,7 @@ describe("the browser's account forms and the server's schemas", () => {
             }
           }
         }
-    for (const password of passwords) expect(resetForm({ password }).ok).toBe(newPasswordInput.safeParse({ token: "a".repeat(30), password }).success);
+    for (const password of passwords)
+      expect(resetForm({ password }).ok).toBe(newPasswordInput.safeParse({ token: "a".repeat(30), password }).success);
   });
 });

@@ -14,9 +14,22 @@ const checkId = "0b6f5c2e-3333-4a4a-9a9a-000000000003";
 
 async function addReadings(db: LocalDb, n: number) {
   for (let i = 0; i < n; i++) {
-    const reading = { valve: `I${(i % 4) + 1}.${(i % 2) + 1}`, round: i % 50, feelerGo: 0.1, method: "feeler" as const };
+    const reading = {
+      valve: `I${(i % 4) + 1}.${(i % 2) + 1}`,
+      round: i % 50,
+      feelerGo: 0.1,
+      method: "feeler" as const,
+    };
     await record(db, "reading.put/1", { checkId, reading } as never, async () => {
-      await db.readings.put({ checkId, installedStamp: null, installedMicrometer: null, feelerNoGo: null, measured: 0.1, fittedShim: null, ...reading });
+      await db.readings.put({
+        checkId,
+        installedStamp: null,
+        installedMicrometer: null,
+        feelerNoGo: null,
+        measured: 0.1,
+        fittedShim: null,
+        ...reading,
+      });
     });
   }
 }
@@ -39,7 +52,11 @@ function budgetedServer(budget: number) {
     const ms = body.mutations as { id: number }[];
     pushSizes.push(ms.length);
     const fresh = ms.filter((m) => m.id > last);
-    if (fresh.length > left) return Response.json({ error: { code: "throttled", message: "Too many changes" } }, { status: 429, headers: { "retry-after": "37" } });
+    if (fresh.length > left)
+      return Response.json(
+        { error: { code: "throttled", message: "Too many changes" } },
+        { status: 429, headers: { "retry-after": "37" } },
+      );
     left -= fresh.length;
     for (const m of fresh) applied.push(m.id);
     last = Math.max(last, ...ms.map((m) => m.id));
@@ -87,7 +104,13 @@ describe("the pull in pages, from the phone", () => {
       if (failOn !== null && asked.length === failOn) throw new TypeError("Failed to fetch");
       const start = cursor === null ? 0 : Number(cursor.split(":")[3]);
       const end = Math.min(total, start + perPage);
-      const tray = Array.from({ length: end - start }, (_, i) => ({ id: `00000000-0000-4000-8000-${String(start + i).padStart(12, "0")}`, size: 2.5, measuredSize: false, count: 1, shimDiameter: null }));
+      const tray = Array.from({ length: end - start }, (_, i) => ({
+        id: `00000000-0000-4000-8000-${String(start + i).padStart(12, "0")}`,
+        size: 2.5,
+        measuredSize: false,
+        count: 1,
+        shimDiameter: null,
+      }));
       const more = end < total;
       return Response.json({ ...emptyPage, tray, cursor: more ? `o:1:3:${end}` : "o:9", more });
     };

@@ -9,7 +9,17 @@ import type { ShimMove } from "@/lib/lash";
 
 // An invented four (test data): bands and series are placeholders, not trade data.
 const id = "0b6f5c2e-3333-4a4a-9a9a-000000000001";
-const FOUR = { id, name: "Test four", cylinders: 4, intakePerCylinder: 2, exhaustPerCylinder: 2, firingOrder: [1, 3, 4, 2], intake: { min: 0.1, max: 0.2 }, exhaust: { min: 0.2, max: 0.3 }, shims: { min: 2.5, max: 3.3, step: 0.05 } };
+const FOUR = {
+  id,
+  name: "Test four",
+  cylinders: 4,
+  intakePerCylinder: 2,
+  exhaustPerCylinder: 2,
+  firingOrder: [1, 3, 4, 2],
+  intake: { min: 0.1, max: 0.2 },
+  exhaust: { min: 0.2, max: 0.3 },
+  shims: { min: 2.5, max: 3.3, step: 0.05 },
+};
 
 describe("engine mutations: the shape an older phone sent still means what it meant", () => {
   it('"engine.put/1" accepts the first shape, and drops where the shims sit if it is sent there', () => {
@@ -24,10 +34,19 @@ describe("engine mutations: the shape an older phone sent still means what it me
       const r = parseMutation("engine.put/2", { ...FOUR, shimPosition: p });
       expect(r.ok && (r.args as { shimPosition: unknown }).shimPosition).toBe(p);
     }
-    expect(parseMutation("engine.put/2", FOUR)).toMatchObject({ ok: false, reason: expect.stringMatching(/^shimPosition:/) });
-    expect(parseMutation("engine.put/2", { ...FOUR, shimPosition: "beside" })).toMatchObject({ ok: false, reason: expect.stringMatching(/over" or "under/) });
+    expect(parseMutation("engine.put/2", FOUR)).toMatchObject({
+      ok: false,
+      reason: expect.stringMatching(/^shimPosition:/),
+    });
+    expect(parseMutation("engine.put/2", { ...FOUR, shimPosition: "beside" })).toMatchObject({
+      ok: false,
+      reason: expect.stringMatching(/over" or "under/),
+    });
     // the profile's other rules still hold in the new version
-    expect(parseMutation("engine.put/2", { ...FOUR, shimPosition: "over", firingOrder: [1, 2] })).toMatchObject({ ok: false, reason: expect.stringMatching(/^firingOrder/) });
+    expect(parseMutation("engine.put/2", { ...FOUR, shimPosition: "over", firingOrder: [1, 2] })).toMatchObject({
+      ok: false,
+      reason: expect.stringMatching(/^firingOrder/),
+    });
   });
 
   it('"engine.put/2" drops the side nearest the mechanic if it is sent there: only "/3" carries it', () => {
@@ -40,8 +59,14 @@ describe("engine mutations: the shape an older phone sent still means what it me
       const r = parseMutation("engine.put/3", { ...FOUR, shimPosition: "under", nearSide: side });
       expect(r.ok && (r.args as { nearSide: unknown }).nearSide).toBe(side);
     }
-    expect(parseMutation("engine.put/3", { ...FOUR, shimPosition: "under" })).toMatchObject({ ok: false, reason: expect.stringMatching(/^nearSide:/) });
-    expect(parseMutation("engine.put/3", { ...FOUR, shimPosition: "under", nearSide: "top" })).toMatchObject({ ok: false, reason: expect.stringMatching(/"intake" or "exhaust"/) });
+    expect(parseMutation("engine.put/3", { ...FOUR, shimPosition: "under" })).toMatchObject({
+      ok: false,
+      reason: expect.stringMatching(/^nearSide:/),
+    });
+    expect(parseMutation("engine.put/3", { ...FOUR, shimPosition: "under", nearSide: "top" })).toMatchObject({
+      ok: false,
+      reason: expect.stringMatching(/"intake" or "exhaust"/),
+    });
   });
 
   it("the phone saves an engine as engine.put/3, keeping both answers locally (the side: exhaust unless said)", async () => {
@@ -50,7 +75,13 @@ describe("engine mutations: the shape an older phone sent still means what it me
     expect((await db.engines.get(id))?.nearSide).toBe("intake");
     await saveEngine(db, { ...FOUR, shimPosition: "under" } as never);
     expect((await db.engines.get(id))?.shimPosition).toBe("under");
-    expect((await db.outbox.toArray()).map((o) => [o.name, (o.args as { shimPosition: unknown }).shimPosition, (o.args as { nearSide: unknown }).nearSide])).toEqual([
+    expect(
+      (await db.outbox.toArray()).map((o) => [
+        o.name,
+        (o.args as { shimPosition: unknown }).shimPosition,
+        (o.args as { nearSide: unknown }).nearSide,
+      ]),
+    ).toEqual([
       ["engine.put/3", "under", "intake"],
       ["engine.put/3", "under", "exhaust"],
     ]);
@@ -62,7 +93,15 @@ describe("the phone's database, versions 3 and 4", () => {
     const userId = crypto.randomUUID();
     // the database as version 2 of the app left it
     const old = new Dexie(`lashwright-${userId}`);
-    old.version(1).stores({ engines: "id, name", checks: "id, engineId, startedAt", readings: "[checkId+valve+round], checkId", tray: "id, size", comments: "id, checkId", outbox: "++seq, &mutationId", meta: "key" });
+    old.version(1).stores({
+      engines: "id, name",
+      checks: "id, engineId, startedAt",
+      readings: "[checkId+valve+round], checkId",
+      tray: "id, size",
+      comments: "id, checkId",
+      outbox: "++seq, &mutationId",
+      meta: "key",
+    });
     old.version(2).stores({ photos: "id, checkId, state" });
     await old.open();
     await old.table("engines").put({ ...FOUR, mirrored: true });
@@ -92,7 +131,18 @@ describe("an under-bucket fit's ticks", () => {
     const db = openLocalDb(crypto.randomUUID());
     await db.engines.put({ id } as never);
     await saveCheck(db, { id: checkId, engineId: id, odometer: 1000, measuredHot: false });
-    for (const v of ["I1.1", "E2.1"]) await saveReading(db, checkId, { valve: v, round: 0, installedStamp: 2.6, installedMicrometer: null, feelerGo: 0.05, feelerNoGo: null, measured: 0.05, method: "feeler", fittedShim: null });
+    for (const v of ["I1.1", "E2.1"])
+      await saveReading(db, checkId, {
+        valve: v,
+        round: 0,
+        installedStamp: 2.6,
+        installedMicrometer: null,
+        feelerGo: 0.05,
+        feelerNoGo: null,
+        measured: 0.05,
+        method: "feeler",
+        fittedShim: null,
+      });
     await beginFit(db, checkId, moves);
     expect(await toggleFitTask(db, checkId, "timing")).toBe(true);
     await toggleFitTask(db, checkId, "mark");

@@ -6,11 +6,21 @@ import { getMeta, openLocalDb, type LocalDb } from "@/lib/sync/local-db";
 import { beginFit, saveCheck, saveReading, toggleSwaps } from "@/lib/sync/writes";
 
 /** One tick per valve that gets a shim, holding every move that change needs. Sizes invented. */
-const a = (valveId: string, size: number, source: Assignment["source"]): Assignment => ({ valveId, size, predicted: 0.25, source, inSpec: true, ideal: size });
+const a = (valveId: string, size: number, source: Assignment["source"]): Assignment => ({
+  valveId,
+  size,
+  predicted: 0.25,
+  source,
+  inSpec: true,
+  ideal: size,
+});
 
 describe("the Fit step's ticks", () => {
   it("a bought or tray shim: the valve's own shim out and the new one in are one tick", () => {
-    const moves = workOrder([a("I1.1", 2.75, { kind: "buy" }), a("E2.1", 2.5, { kind: "tray" })], { "I1.1": 2.6, "E2.1": 2.6 });
+    const moves = workOrder([a("I1.1", 2.75, { kind: "buy" }), a("E2.1", 2.5, { kind: "tray" })], {
+      "I1.1": 2.6,
+      "E2.1": 2.6,
+    });
     expect(moves).toHaveLength(4);
     expect(fitTicks(moves)).toEqual([
       [0, 1],
@@ -20,20 +30,39 @@ describe("the Fit step's ticks", () => {
 
   it("a shim passed on to another valve: its two ends are one tick, so a chain of two valves is two ticks", () => {
     // I1.1 takes E1.1's 2.55; E1.1 gets a bought 2.70; I1.1's own 2.60 goes to the tray
-    const moves = workOrder([a("I1.1", 2.55, { kind: "valve", valveId: "E1.1" }), a("E1.1", 2.7, { kind: "buy" })], { "I1.1": 2.6, "E1.1": 2.55 });
-    expect(moves.map((m) => `${m.from.kind === "valve" ? m.from.valveId : m.from.kind}>${m.to.kind === "valve" ? m.to.valveId : m.to.kind}`)).toEqual(["I1.1>tray", "E1.1>I1.1", "shop>E1.1"]);
+    const moves = workOrder([a("I1.1", 2.55, { kind: "valve", valveId: "E1.1" }), a("E1.1", 2.7, { kind: "buy" })], {
+      "I1.1": 2.6,
+      "E1.1": 2.55,
+    });
+    expect(
+      moves.map(
+        (m) =>
+          `${m.from.kind === "valve" ? m.from.valveId : m.from.kind}>${m.to.kind === "valve" ? m.to.valveId : m.to.kind}`,
+      ),
+    ).toEqual(["I1.1>tray", "E1.1>I1.1", "shop>E1.1"]);
     expect(fitTicks(moves)).toEqual([[0, 1], [2]]);
   });
 
   it("two valves trading shims: one set aside to start, three moves in two ticks", () => {
-    const moves = workOrder([a("I1.1", 2.55, { kind: "valve", valveId: "I2.1" }), a("I2.1", 2.6, { kind: "valve", valveId: "I1.1" })], { "I1.1": 2.6, "I2.1": 2.55 });
-    expect(moves.map((m) => `${m.from.kind === "valve" ? m.from.valveId : m.from.kind}>${m.to.kind === "valve" ? m.to.valveId : m.to.kind}`)).toEqual(["I1.1>aside", "I2.1>I1.1", "aside>I2.1"]);
+    const moves = workOrder(
+      [a("I1.1", 2.55, { kind: "valve", valveId: "I2.1" }), a("I2.1", 2.6, { kind: "valve", valveId: "I1.1" })],
+      { "I1.1": 2.6, "I2.1": 2.55 },
+    );
+    expect(
+      moves.map(
+        (m) =>
+          `${m.from.kind === "valve" ? m.from.valveId : m.from.kind}>${m.to.kind === "valve" ? m.to.valveId : m.to.kind}`,
+      ),
+    ).toEqual(["I1.1>aside", "I2.1>I1.1", "aside>I2.1"]);
     expect(fitTicks(moves)).toEqual([[0, 1], [2]]);
   });
 
   it("twelve changes from the shop take twelve ticks, not twenty-four", () => {
     const ids = Array.from({ length: 12 }, (_, i) => `I${i + 1}.1`);
-    const moves = workOrder(ids.map((id) => a(id, 2.75, { kind: "buy" })), Object.fromEntries(ids.map((id) => [id, 2.6])));
+    const moves = workOrder(
+      ids.map((id) => a(id, 2.75, { kind: "buy" })),
+      Object.fromEntries(ids.map((id) => [id, 2.6])),
+    );
     expect(moves).toHaveLength(24);
     expect(fitTicks(moves)).toHaveLength(12);
   });
@@ -50,13 +79,24 @@ describe("ticking a change", () => {
     const db = openLocalDb(crypto.randomUUID());
     await db.engines.put({ id: engineId } as never);
     await saveCheck(db, { id: checkId, engineId, odometer: 1000, measuredHot: false });
-    await saveReading(db, checkId, { valve: "I1.1", round: 0, installedStamp: 2.6, installedMicrometer: null, feelerGo: null, feelerNoGo: null, measured: 0.4, method: "typed", fittedShim: null });
+    await saveReading(db, checkId, {
+      valve: "I1.1",
+      round: 0,
+      installedStamp: 2.6,
+      installedMicrometer: null,
+      feelerGo: null,
+      feelerNoGo: null,
+      measured: 0.4,
+      method: "typed",
+      fittedShim: null,
+    });
     await beginFit(db, checkId, moves);
     // a list ticked move by move by an older version of the app is kept as it was
     if (done) await db.meta.put({ key: workOrderKey(checkId), value: { moves, done } } as never);
     return db;
   }
-  const tray = async (db: LocalDb) => Object.fromEntries((await db.tray.toArray()).map((t) => [t.size.toFixed(2), t.count]));
+  const tray = async (db: LocalDb) =>
+    Object.fromEntries((await db.tray.toArray()).map((t) => [t.size.toFixed(2), t.count]));
 
   it("one tap moves the old shim to the tray and fits the new one; a second tap undoes both", async () => {
     const db = await fitting();

@@ -19,14 +19,25 @@ async function fitting(): Promise<LocalDb> {
   const db = openLocalDb(crypto.randomUUID());
   await db.engines.put({ id: engineId } as never);
   await saveCheck(db, { id: checkId, engineId, odometer: 1000, measuredHot: false });
-  await saveReading(db, checkId, { valve: "I1.1", round: 0, installedStamp: 2.6, installedMicrometer: null, feelerGo: 0.05, feelerNoGo: 0.06, measured: 0.05, method: "feeler", fittedShim: null });
+  await saveReading(db, checkId, {
+    valve: "I1.1",
+    round: 0,
+    installedStamp: 2.6,
+    installedMicrometer: null,
+    feelerGo: 0.05,
+    feelerNoGo: 0.06,
+    measured: 0.05,
+    method: "feeler",
+    fittedShim: null,
+  });
   await saveTrayItem(db, { id: trayId, size: 2.55, measuredSize: false, count: 1 });
   await beginFit(db, checkId, moves);
   await db.outbox.clear();
   return db;
 }
 
-const traySizes = async (db: LocalDb) => Object.fromEntries((await db.tray.toArray()).map((t) => [t.size.toFixed(2), t.count]));
+const traySizes = async (db: LocalDb) =>
+  Object.fromEntries((await db.tray.toArray()).map((t) => [t.size.toFixed(2), t.count]));
 
 describe("ticking a swap in Fit", () => {
   it("writes the tray move, the fitted shim and the tick together", async () => {

@@ -10,7 +10,15 @@ async function addReadings(db: LocalDb, valves: string[]) {
   for (const valve of valves) {
     const reading = { valve, round: 0, feelerGo: 0.15, method: "feeler" as const };
     await record(db, "reading.put/1", { checkId, reading } as never, async () => {
-      await db.readings.put({ checkId, installedStamp: null, installedMicrometer: null, feelerNoGo: null, measured: 0.15, fittedShim: null, ...reading });
+      await db.readings.put({
+        checkId,
+        installedStamp: null,
+        installedMicrometer: null,
+        feelerNoGo: null,
+        measured: 0.15,
+        fittedShim: null,
+        ...reading,
+      });
     });
   }
 }
@@ -31,7 +39,9 @@ function fakeServer() {
   let dropAnswer = false;
   const fetcher = async (_url: string, init: RequestInit) => {
     const body = JSON.parse(String(init.body)) as { mutations: { id: number; name: string; args: unknown }[] };
-    const rejected = body.mutations.filter((m) => m.id <= last && refusedIds.has(m.id)).map((m) => ({ id: m.id, name: m.name, reason: refusedIds.get(m.id)! }));
+    const rejected = body.mutations
+      .filter((m) => m.id <= last && refusedIds.has(m.id))
+      .map((m) => ({ id: m.id, name: m.name, reason: refusedIds.get(m.id)! }));
     let later: { id: number; name: string; reason: string } | undefined;
     for (const m of body.mutations) {
       if (m.id <= last) continue;
@@ -65,7 +75,9 @@ describe("a change the server does not apply stays on the phone", () => {
     expect(r.rejected.map((x) => x.reason)).toEqual(["this engine has no valve I9.1"]);
     expect(s.applied).toEqual(["I1.1", "I2.1"]);
     const held = await heldEntries(db);
-    expect(held.map((m) => [valveOf(m.args), m.held?.kind, m.held?.reason])).toEqual([["I9.1", "refused", "this engine has no valve I9.1"]]);
+    expect(held.map((m) => [valveOf(m.args), m.held?.kind, m.held?.reason])).toEqual([
+      ["I9.1", "refused", "this engine has no valve I9.1"],
+    ]);
     // it no longer counts as waiting for a signal, and a later push does not send it
     expect(await waitingCount(db)).toBe(0);
     await addReadings(db, ["I3.1"]);

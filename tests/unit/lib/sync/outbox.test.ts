@@ -13,9 +13,22 @@ function freshDb(): LocalDb {
 
 async function addReadings(db: LocalDb, n: number) {
   for (let i = 0; i < n; i++) {
-    const reading = { valve: `I${(i % 4) + 1}.${(i % 2) + 1}`, round: Math.floor(i / 8) % 50, feelerGo: 0.1 + (i % 300) / 1000, method: "feeler" as const };
+    const reading = {
+      valve: `I${(i % 4) + 1}.${(i % 2) + 1}`,
+      round: Math.floor(i / 8) % 50,
+      feelerGo: 0.1 + (i % 300) / 1000,
+      method: "feeler" as const,
+    };
     await record(db, "reading.put/1", { checkId, reading } as never, async () => {
-      await db.readings.put({ checkId, installedStamp: null, installedMicrometer: null, feelerNoGo: null, measured: reading.feelerGo, fittedShim: null, ...reading });
+      await db.readings.put({
+        checkId,
+        installedStamp: null,
+        installedMicrometer: null,
+        feelerNoGo: null,
+        measured: reading.feelerGo,
+        fittedShim: null,
+        ...reading,
+      });
     });
   }
 }
@@ -31,10 +44,22 @@ function fakeServer() {
   let mode: "ok" | "throw" | "500" | "drop-response" | "401" = "ok";
   const fetcher = async (url: string, init: RequestInit) => {
     if (mode === "throw") throw new TypeError("Failed to fetch");
-    if (mode === "401") return new Response(JSON.stringify({ error: { code: "unauthorized", message: "Sign in first" } }), { status: 401 });
+    if (mode === "401")
+      return new Response(JSON.stringify({ error: { code: "unauthorized", message: "Sign in first" } }), {
+        status: 401,
+      });
     if (mode === "500") return new Response("{}", { status: 500 });
     const body = JSON.parse(String(init.body));
-    if (url.endsWith("/api/sync/pull")) return Response.json({ cursor: 1, engines: [], checks: [], readings: [], tray: [], comments: [], tombstones: [] });
+    if (url.endsWith("/api/sync/pull"))
+      return Response.json({
+        cursor: 1,
+        engines: [],
+        checks: [],
+        readings: [],
+        tray: [],
+        comments: [],
+        tombstones: [],
+      });
     let l = last.get(body.clientId) ?? 0;
     for (const m of body.mutations as { id: number }[]) {
       if (m.id <= l) continue;
@@ -63,7 +88,11 @@ describe("the outbox", () => {
   it("refuses an invalid mutation and saves nothing of it", async () => {
     const db = freshDb();
     const bad = { checkId, reading: { valve: "X9", feelerGo: -1 } };
-    await expect(record(db, "reading.put/1", bad as never, async () => db.readings.put({ checkId, valve: "X9", round: 0 } as never))).rejects.toBeInstanceOf(LashInputError);
+    await expect(
+      record(db, "reading.put/1", bad as never, async () =>
+        db.readings.put({ checkId, valve: "X9", round: 0 } as never),
+      ),
+    ).rejects.toBeInstanceOf(LashInputError);
     expect(await db.outbox.count()).toBe(0);
     expect(await db.readings.count()).toBe(0);
   });
@@ -71,10 +100,15 @@ describe("the outbox", () => {
   it("rolls back the local write when queueing fails inside the transaction", async () => {
     const db = freshDb();
     await expect(
-      record(db, "reading.put/1", { checkId, reading: { valve: "I1.1", round: 0, method: "feeler" } } as never, async () => {
-        await db.readings.put({ checkId, valve: "I1.1", round: 0 } as never);
-        throw new Error("disk full");
-      }),
+      record(
+        db,
+        "reading.put/1",
+        { checkId, reading: { valve: "I1.1", round: 0, method: "feeler" } } as never,
+        async () => {
+          await db.readings.put({ checkId, valve: "I1.1", round: 0 } as never);
+          throw new Error("disk full");
+        },
+      ),
     ).rejects.toThrow("disk full");
     expect(await db.readings.count()).toBe(0);
     expect(await db.outbox.count()).toBe(0);

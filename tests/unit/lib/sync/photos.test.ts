@@ -17,8 +17,16 @@ function fakeServer(quota: number, each: number) {
     if (url.endsWith("/api/photos/usage")) return Response.json({ usedBytes: used, quotaBytes: quota });
     const id = (init.body as FormData).get("id") as string;
     posts.push(id);
-    if (budgetSpent) return Response.json({ error: { code: "throttled", message: "You have sent 120 photos in the last hour" } }, { status: 429, headers: { "Retry-After": "600" } });
-    if (used + each > quota) return Response.json({ error: { code: PHOTO_QUOTA_CODE, message: `Your photo space is full: ${used} of ${quota} used.` } }, { status: 409 });
+    if (budgetSpent)
+      return Response.json(
+        { error: { code: "throttled", message: "You have sent 120 photos in the last hour" } },
+        { status: 429, headers: { "Retry-After": "600" } },
+      );
+    if (used + each > quota)
+      return Response.json(
+        { error: { code: PHOTO_QUOTA_CODE, message: `Your photo space is full: ${used} of ${quota} used.` } },
+        { status: 409 },
+      );
     used += each;
     return Response.json({ photo: { id }, usage: { usedBytes: used, quotaBytes: quota } }, { status: 201 });
   };

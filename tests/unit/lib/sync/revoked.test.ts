@@ -16,9 +16,25 @@ const jpeg = () => new Blob([new Uint8Array([0xff, 0xd8, 0xff])], { type: "image
 const answer401 = (code: string) => async () => Response.json({ error: { code, message: "Sign in" } }, { status: 401 });
 
 async function reading(db: LocalDb, valve: string) {
-  await record(db, "reading.put/1", { checkId, reading: { valve, round: 0, feelerGo: 0.15, method: "feeler" } } as never, async () => {
-    await db.readings.put({ checkId, valve, round: 0, installedStamp: null, installedMicrometer: null, feelerGo: 0.15, feelerNoGo: null, measured: 0.15, fittedShim: null, method: "feeler" });
-  });
+  await record(
+    db,
+    "reading.put/1",
+    { checkId, reading: { valve, round: 0, feelerGo: 0.15, method: "feeler" } } as never,
+    async () => {
+      await db.readings.put({
+        checkId,
+        valve,
+        round: 0,
+        installedStamp: null,
+        installedMicrometer: null,
+        feelerGo: 0.15,
+        feelerNoGo: null,
+        measured: 0.15,
+        fittedShim: null,
+        method: "feeler",
+      });
+    },
+  );
 }
 
 /** A phone that synced before: records, a sent photo, a cursor; then two readings and a photo made offline. */
@@ -27,7 +43,13 @@ async function phoneWithCopy(userId: string) {
   await db.engines.put({ id: engineId, name: "Blue four" } as never);
   await db.checks.put({ id: checkId, engineId, status: "measuring", startedAt: "2026-11-01T09:00:00Z" } as never);
   await db.tray.put({ id: "0b6f5c2e-3333-4a4a-9a9a-000000000003", size: 2.5 } as never);
-  await db.comments.put({ id: "0b6f5c2e-4444-4a4a-9a9a-000000000004", checkId, authorId: userId, text: "E3.1 closes fast", createdAt: "2026-11-01T10:00:00Z" } as never);
+  await db.comments.put({
+    id: "0b6f5c2e-4444-4a4a-9a9a-000000000004",
+    checkId,
+    authorId: userId,
+    text: "E3.1 closes fast",
+    createdAt: "2026-11-01T10:00:00Z",
+  } as never);
   const sent = await queuePhoto(db, { checkId, blob: jpeg() });
   await db.photos.update(sent, { state: "sent" });
   const refused = await queuePhoto(db, { checkId, blob: jpeg() });
@@ -106,7 +128,15 @@ describe("a session ended elsewhere wipes the phone's copy at its next sync", ()
         return Response.json({ lastMutationId: Math.max(0, ...ids), rejected: [] });
       }
       pullCursor = body.cursor;
-      return Response.json({ cursor: "c2", engines: [{ id: engineId, name: "Blue four" }], checks: [], readings: [], tray: [], comments: [], tombstones: [] });
+      return Response.json({
+        cursor: "c2",
+        engines: [{ id: engineId, name: "Blue four" }],
+        checks: [],
+        readings: [],
+        tray: [],
+        comments: [],
+        tombstones: [],
+      });
     };
     await syncOnce(again, server as never);
     expect(pushed).toHaveLength(1);

@@ -3,7 +3,7 @@ import { MUTATION_NAME_FORM, mutationNames, parseMutation } from "@/lib/sync/mut
 import { SHIPPED, withIds } from "../../../fixtures/shipped-outbox";
 
 /**
- * The outbox an older app wrote must stay acceptable (DESIGN.md section 6, "Schema changes"):
+ * The outbox an older app wrote must stay acceptable (DEVELOPERS.md "Schema changes"):
  * every name the phone can queue has a fixture of what it queues, and every fixture still parses.
  * Removing a name, or tightening a schema so an old shape no longer parses, fails here; the
  * integration test tests/integration/api/shipped-outbox.test.ts applies them all on MariaDB.
@@ -24,7 +24,16 @@ describe("every mutation name and shape ever shipped", () => {
   it("a newer phone's well-formed name waits for a newer server; a name no version could send is refused for good", () => {
     for (const n of mutationNames) expect(MUTATION_NAME_FORM.test(n), n).toBe(true);
     expect(parseMutation("engine.put/9", {})).toMatchObject({ ok: false, unknown: true });
-    for (const n of ["constructor", "__proto__", "prototype", "toString", "engine.put", "Engine.put/1", "engine.put/1 "]) expect(parseMutation(n, {}), n).not.toHaveProperty("unknown");
+    for (const n of [
+      "constructor",
+      "__proto__",
+      "prototype",
+      "toString",
+      "engine.put",
+      "Engine.put/1",
+      "engine.put/1 ",
+    ])
+      expect(parseMutation(n, {}), n).not.toHaveProperty("unknown");
   });
 
   it("fixtures are kept, not rewritten: each shape is named once", () => {

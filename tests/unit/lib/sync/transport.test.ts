@@ -10,18 +10,39 @@ const checkId = "0b6f5c2e-2222-4a4a-9a9a-000000000002";
 const emptyPull = { cursor: 7, engines: [], checks: [], readings: [], tray: [], comments: [], tombstones: [] };
 
 async function oneReading(db: ReturnType<typeof openLocalDb>) {
-  await record(db, "reading.put/1", { checkId, reading: { valve: "I1.1", round: 0, feelerGo: 0.15, method: "feeler" } } as never, async () => {
-    await db.readings.put({ checkId, valve: "I1.1", round: 0, installedStamp: null, installedMicrometer: null, feelerGo: 0.15, feelerNoGo: null, measured: 0.15, fittedShim: null, method: "feeler" });
-  });
+  await record(
+    db,
+    "reading.put/1",
+    { checkId, reading: { valve: "I1.1", round: 0, feelerGo: 0.15, method: "feeler" } } as never,
+    async () => {
+      await db.readings.put({
+        checkId,
+        valve: "I1.1",
+        round: 0,
+        installedStamp: null,
+        installedMicrometer: null,
+        feelerGo: 0.15,
+        feelerNoGo: null,
+        measured: 0.15,
+        fittedShim: null,
+        method: "feeler",
+      });
+    },
+  );
 }
 
 describe("the phone's transport", () => {
   it("calls only a request with no answer offline", async () => {
     const db = openLocalDb(crypto.randomUUID());
     await oneReading(db);
-    await expect(syncOnce(db, async () => Promise.reject(new TypeError("Failed to fetch")))).rejects.toBeInstanceOf(Offline);
+    await expect(syncOnce(db, async () => Promise.reject(new TypeError("Failed to fetch")))).rejects.toBeInstanceOf(
+      Offline,
+    );
     // an answer that arrives but makes the phone's own code fail is not "offline"
-    const garbled = async (url: string) => (url.endsWith("/push") ? Response.json({ lastMutationId: 1, rejected: [] }) : new Response("{ not json", { status: 200 }));
+    const garbled = async (url: string) =>
+      url.endsWith("/push")
+        ? Response.json({ lastMutationId: 1, rejected: [] })
+        : new Response("{ not json", { status: 200 });
     const e = await syncOnce(db, garbled).catch((x: unknown) => x);
     expect(e).toBeInstanceOf(Error);
     expect(e).not.toBeInstanceOf(Offline);
@@ -30,7 +51,11 @@ describe("the phone's transport", () => {
   it("a busy server (503 with Retry-After) keeps the outbox and says how long to wait", async () => {
     const db = openLocalDb(crypto.randomUUID());
     await oneReading(db);
-    const busy = async () => new Response(JSON.stringify({ error: { code: "overloaded", message: "busy" } }), { status: 503, headers: { "retry-after": "3" } });
+    const busy = async () =>
+      new Response(JSON.stringify({ error: { code: "overloaded", message: "busy" } }), {
+        status: 503,
+        headers: { "retry-after": "3" },
+      });
     const e = await syncOnce(db, busy).catch((x: unknown) => x);
     expect(e).toBeInstanceOf(ServerBusy);
     expect((e as ServerBusy).retryAfterMs).toBe(3000);

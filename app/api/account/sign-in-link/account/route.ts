@@ -6,6 +6,7 @@ import { linkAccount } from "@/server/account";
 /** Whose a sign-in link is, without using it: the link page names the account on its button. */
 export const POST = route({ auth: false, body: tokenInput }, async ({ body }) => {
   const account = await linkAccount(body.token);
-  if (!account) throw new DomainError("bad_request", "This link has expired or was already used", { code: "bad_token" });
+  if (!account)
+    throw new DomainError("bad_request", "This link has expired or was already used", { code: "bad_token" });
   return { account };
 });

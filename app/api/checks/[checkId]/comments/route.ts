@@ -12,7 +12,19 @@ const params = z.object({ checkId: uuidParam });
 export const GET = route({ params }, async ({ user, params }) => {
   const a = await readableCheck(db(), user, params.checkId);
   // a check shared with several clubs: each club's mentors read their own thread and the owner's words
-  return { items: visibleComments(a, user, await listComments(db(), params.checkId)).map(({ id, checkId, valve, body, createdAt, authorId, authorName }) => ({ id, checkId, valve, body, createdAt, authorId, authorName })) };
+  return {
+    items: visibleComments(a, user, await listComments(db(), params.checkId)).map(
+      ({ id, checkId, valve, body, createdAt, authorId, authorName }) => ({
+        id,
+        checkId,
+        valve,
+        body,
+        createdAt,
+        authorId,
+        authorName,
+      }),
+    ),
+  };
 });
 
 /** The owner and the mentors of a sharing club comment on the check or on one valve. */
@@ -22,5 +34,15 @@ export const POST = route({ params, body: commentInput, status: 201 }, async ({ 
     await apply(w, "comment.add/1", { ...body, id, checkId: params.checkId });
     return (await listComments(w.tx, params.checkId)).find((c) => c.id === id)!;
   });
-  return { comment: { id: comment.id, checkId: comment.checkId, valve: comment.valve, body: comment.body, createdAt: comment.createdAt, authorId: comment.authorId, authorName: comment.authorName } };
+  return {
+    comment: {
+      id: comment.id,
+      checkId: comment.checkId,
+      valve: comment.valve,
+      body: comment.body,
+      createdAt: comment.createdAt,
+      authorId: comment.authorId,
+      authorName: comment.authorName,
+    },
+  };
 });

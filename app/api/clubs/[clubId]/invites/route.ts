@@ -20,9 +20,18 @@ export const POST = route({ params, body: inviteInput, status: 201 }, async ({ u
   const { club, invite } = await withInviteBudget(user.id, body.email, () =>
     write(user, async (w) => {
       await clubRole(w.tx, user, params.clubId, "admin");
-      return { club: (await getClub(w.tx, params.clubId))!, invite: await createInvite(w.tx, params.clubId, user.id, body.email, body.role) };
+      return {
+        club: (await getClub(w.tx, params.clubId))!,
+        invite: await createInvite(w.tx, params.clubId, user.id, body.email, body.role),
+      };
     }),
   );
-  await sendInvitation({ email: body.email, inviterName: user.name, clubName: club.name, role: body.role, token: invite.token });
+  await sendInvitation({
+    email: body.email,
+    inviterName: user.name,
+    clubName: club.name,
+    role: body.role,
+    token: invite.token,
+  });
   return { invite: { id: invite.id, email: body.email, role: body.role } };
 });

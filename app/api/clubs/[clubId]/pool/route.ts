@@ -11,10 +11,13 @@ const params = z.object({ clubId: uuidParam });
 /** The club's pool of spare shims, for its members only. */
 export const GET = route({ params }, async ({ user, params }) => ({ items: await clubPool(user, params.clubId) }));
 
-export const POST = route({ params, body: offerInput.omit({ clubId: true }), status: 201 }, async ({ user, params, body }) => ({
-  offer: await write(user, async (w) => {
-    const id = body.id ?? crypto.randomUUID();
-    await apply(w, "pool.offer/1", { ...body, id, clubId: params.clubId });
-    return getOffer(w.tx, id);
+export const POST = route(
+  { params, body: offerInput.omit({ clubId: true }), status: 201 },
+  async ({ user, params, body }) => ({
+    offer: await write(user, async (w) => {
+      const id = body.id ?? crypto.randomUUID();
+      await apply(w, "pool.offer/1", { ...body, id, clubId: params.clubId });
+      return getOffer(w.tx, id);
+    }),
   }),
-}));
+);

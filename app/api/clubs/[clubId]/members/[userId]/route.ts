@@ -15,7 +15,8 @@ async function changeRoles(tx: Tx, clubId: string, userId: string, roles: Role[]
   const { admins } = await lockClubRoles(tx, clubId);
   const have = await rolesInClub(tx, userId, clubId);
   if (have.length === 0) throw notFound("member");
-  if (have.includes("admin") && !roles.includes("admin") && admins <= 1) throw conflict("A club needs at least one admin");
+  if (have.includes("admin") && !roles.includes("admin") && admins <= 1)
+    throw conflict("A club needs at least one admin");
   await setRoles(tx, clubId, userId, roles, actorId);
 }
 
