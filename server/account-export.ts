@@ -11,7 +11,7 @@ import {
   EXPORT_SCHEMA_VERSION,
   checkFiles,
   exportFileName,
-  foundOf,
+  readingForFile,
   photoEntryName,
   previousOf,
   type ExportCheck,
@@ -151,20 +151,7 @@ const checkOut = (c: typeof checks.$inferSelect): ExportCheck => ({
   closedAt: isoOf(c.closedAt),
 });
 
-const readingOut = (r: typeof readings.$inferSelect): ExportReading => ({
-  checkId: r.checkId,
-  valve: r.valve,
-  round: r.round,
-  installedStamp: r.installedStamp,
-  installedMicrometer: r.installedMicrometer,
-  feelerGo: r.feelerGo,
-  feelerNoGo: r.feelerNoGo,
-  measured: r.measured,
-  method: r.method,
-  fittedShim: r.fittedShim,
-  fittedAt: isoOf(r.fittedAt),
-  found: foundOf(r),
-});
+const readingOut = (r: typeof readings.$inferSelect): ExportReading => readingForFile(r, isoOf(r.fittedAt));
 
 const commentOut = (c: typeof comments.$inferSelect) => ({
   id: c.id,

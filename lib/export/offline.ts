@@ -8,7 +8,7 @@ import {
   EXPORT_SCHEMA_VERSION,
   checkFiles,
   exportFileName,
-  foundOf,
+  readingForFile,
   photoEntryName,
   previousOf,
   type ExportCheck,
@@ -62,21 +62,8 @@ const checkOfPhone = (c: LocalCheck): ExportCheck => ({
   closedAt: toIso(c.closedAt),
 });
 
-const readingOfPhone = (r: LocalReading): ExportReading => ({
-  checkId: r.checkId,
-  valve: r.valve,
-  round: r.round,
-  installedStamp: r.installedStamp,
-  installedMicrometer: r.installedMicrometer,
-  feelerGo: r.feelerGo,
-  feelerNoGo: r.feelerNoGo,
-  measured: r.measured,
-  method: r.method,
-  fittedShim: r.fittedShim,
-  // the phone does not keep when a shim went in; the server does
-  fittedAt: null,
-  found: foundOf(r),
-});
+// the phone does not keep when a shim went in; the server does
+const readingOfPhone = (r: LocalReading): ExportReading => readingForFile(r, null);
 
 export interface PhoneExportInput {
   db: LocalDb;

@@ -292,6 +292,39 @@ export function referenceProblem(doc: ExportDocument): string | null {
   return null;
 }
 
+/** A reading as the file carries it, from the phone's record or the server's row (one shape for both). */
+export function readingForFile(
+  r: Pick<
+    LocalReading,
+    | "checkId"
+    | "valve"
+    | "round"
+    | "installedStamp"
+    | "installedMicrometer"
+    | "feelerGo"
+    | "feelerNoGo"
+    | "measured"
+    | "method"
+    | "fittedShim"
+  >,
+  fittedAt: string | null,
+): ExportReading {
+  return {
+    checkId: r.checkId,
+    valve: r.valve,
+    round: r.round,
+    installedStamp: r.installedStamp,
+    installedMicrometer: r.installedMicrometer,
+    feelerGo: r.feelerGo,
+    feelerNoGo: r.feelerNoGo,
+    measured: r.measured,
+    method: r.method,
+    fittedShim: r.fittedShim,
+    fittedAt,
+    found: foundOf(r),
+  };
+}
+
 /** The words for how a reading was found, from its stored fields. */
 export function foundOf(
   r: Pick<LocalReading, "method" | "feelerGo" | "measured" | "installedMicrometer" | "installedStamp">,
