@@ -64,6 +64,8 @@ const EXAMPLES: Record<string, (i: Ids) => unknown> = {
   "POST /api/account/export": () => ({}),
   // the body is a zip (application/zip): anything sent as JSON or a form is refused before it is read
   "POST /api/account/import": () => ({}),
+  // takes no body; the fuzzing account has a password, so it is refused (409) whatever is sent
+  "POST /api/account/deletion/link": () => ({}),
 };
 const SKIP = new Set(["GET /api/auth/:nextauth", "POST /api/auth/:nextauth"]);
 const MULTIPART = new Set(["POST /api/checks/:checkId/photos"]);
