@@ -121,7 +121,9 @@ function layoutOf(page: Page) {
       const r = e.getBoundingClientRect();
       return { left: r.left, right: r.right, top: r.top, bottom: r.bottom, width: r.width, height: r.height };
     };
-    const groups = [...document.querySelectorAll("figure [data-cylinder]")].map((g) => ({
+    const groups = [
+      ...document.querySelectorAll('figure[aria-label="Engine diagram"]:not(.ws-diagram) [data-cylinder]'),
+    ].map((g) => ({
       cylinder: Number(g.getAttribute("data-cylinder")),
       label: box(g.querySelector("[data-cylinder-label]")!),
       cells: [...g.querySelectorAll("button[data-valve]")].map((b) => ({
@@ -198,7 +200,9 @@ describe("the engine diagram on a small phone", () => {
       for (const m of made) {
         for (const step of ["measure", "plan"]) {
           await page.goto(`${baseUrl()}/check?id=${m.checkId}&step=${step}`);
-          await page.locator(`figure [data-cylinder="${m.cyl}"]`).waitFor({ timeout: 20_000 });
+          await page
+            .locator(`figure[aria-label="Engine diagram"]:not(.ws-diagram) [data-cylinder="${m.cyl}"]`)
+            .waitFor({ timeout: 20_000 });
           assertDiagram(await layoutOf(page), m.cyl, m.per);
           if (width === 360 && step === "plan" && [1, 6, 16].includes(m.cyl) && m.per === (m.cyl === 1 ? 5 : 4)) {
             // the README's pictures: the diagram alone, without the fixed bar of places over it
