@@ -66,10 +66,10 @@ export function AppShell({
             Lash<span className="text-accent">wright</span>
           </Link>
           {user && (
-            <div className="flex items-center">
+            <div className="flex min-w-0 items-center">
               <Link
                 href="/account"
-                className="inline-flex min-h-12 items-center rounded-xl px-3 text-sm font-bold text-ink-soft underline"
+                className="inline-flex min-h-12 shrink-0 items-center rounded-xl px-3 text-sm font-bold whitespace-nowrap text-ink-soft underline"
               >
                 Account
               </Link>
