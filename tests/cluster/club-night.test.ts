@@ -12,6 +12,7 @@ import { rawConnection } from "../support/db";
 import { ENGINE_FOUR } from "../support/fixtures";
 import { giveUp, Phone, sessionCookie, sleep, Stats, table } from "../support/load";
 import { startApp, type App } from "../support/server";
+import { BLADES, CLUB_NIGHT_PASSWORD as PASSWORD, ENGINE_SIX, VALVES } from "../support/club-night";
 
 /**
  * A club night on the cluster, through the one address phones use (HAProxy in front of two app
@@ -30,21 +31,6 @@ import { startApp, type App } from "../support/server";
 const PHONES = Number(process.env.LASHWRIGHT_LOAD_PHONES ?? 100);
 const SIGNING_IN = Math.max(5, Math.round(PHONES * 0.1));
 const NODE_DOWN_MS = 12_000;
-const PASSWORD = "club-night-feelers-25";
-const VALVES = ["I", "E"].flatMap((k) => [1, 2, 3, 4, 5, 6].flatMap((c) => [1, 2].map((i) => `${k}${c}.${i}`)));
-// blade sizes of a common metric feeler set (from memory)
-const BLADES = [0.05, 0.08, 0.1, 0.13, 0.15, 0.18, 0.2, 0.23, 0.25, 0.28, 0.3, 0.33];
-// a six-cylinder with two intake and two exhaust valves per cylinder: 24 valves (invented engine)
-const ENGINE_SIX = {
-  name: "Club night six",
-  cylinders: 6,
-  intakePerCylinder: 2,
-  exhaustPerCylinder: 2,
-  firingOrder: [1, 5, 3, 6, 2, 4], // the usual inline-six order (common practice)
-  intake: { min: 0.1, max: 0.2 },
-  exhaust: { min: 0.2, max: 0.3 },
-  shims: { min: 2.5, max: 3.3, step: 0.05 },
-};
 const MAX_ROUND = 50;
 
 interface Mechanic {

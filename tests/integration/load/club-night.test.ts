@@ -8,6 +8,7 @@ import { Client } from "../../support/api";
 import { rawConnection } from "../../support/db";
 import { giveUp, Phone, sessionCookie, sleep, Stats, table, type Mutation } from "../../support/load";
 import { startApp, type App } from "../../support/server";
+import { BLADES, CLUB_NIGHT_PASSWORD as PASSWORD, ENGINE_SIX, VALVES } from "../../support/club-night";
 
 /**
  * A club night: simulated phones against the production server (next start) on MariaDB, all in one
@@ -33,21 +34,6 @@ const MENTORS = Math.max(2, Math.round(PHONES * 0.1));
 const MEMBERS = Math.max(5, Math.round(PHONES * 0.2));
 const MECHANICS = PHONES - MENTORS - MEMBERS;
 const SIGNING_IN = Math.max(5, Math.round(MECHANICS * 0.1));
-const PASSWORD = "club-night-feelers-25";
-// a six-cylinder with two intake and two exhaust valves per cylinder: 24 valves (invented engine)
-const VALVES = ["I", "E"].flatMap((k) => [1, 2, 3, 4, 5, 6].flatMap((c) => [1, 2].map((i) => `${k}${c}.${i}`)));
-// blade sizes of a common metric feeler set (from memory)
-const BLADES = [0.05, 0.08, 0.1, 0.13, 0.15, 0.18, 0.2, 0.23, 0.25, 0.28, 0.3, 0.33];
-const ENGINE_SIX = {
-  name: "Club night six",
-  cylinders: 6,
-  intakePerCylinder: 2,
-  exhaustPerCylinder: 2,
-  firingOrder: [1, 5, 3, 6, 2, 4], // the usual inline-six order (common practice)
-  intake: { min: 0.1, max: 0.2 },
-  exhaust: { min: 0.2, max: 0.3 },
-  shims: { min: 2.5, max: 3.3, step: 0.05 },
-};
 const VERDICT_CYCLE = ["measure-again", "close-up", "stop-and-ask"] as const;
 
 interface User {
