@@ -104,8 +104,15 @@ export function pool(): mysql.Pool {
     boundAcquire(p, e.DB_ACQUIRE_TIMEOUT_MS);
     // the count lives in the copy of this module that made the pool; the metrics may read from another
     globalForDb.lashwrightPoolWaiting = () => poolWaiting;
-    // a row lock is waited for at most this long (MariaDB's default is 50 s), then the write fails cleanly
-    p.pool.on("connection", (c) => c.query(`SET SESSION innodb_lock_wait_timeout = ${e.DB_LOCK_WAIT_SECONDS}`));
+    // Every wait inside the database is bounded, then fails cleanly (503 with Retry-After): a row lock
+    // (InnoDB's own default is 50 s), a table or global lock (lock_wait_timeout's default is a year: a
+    // Galera donor sending a full copy by rsync holds the global read lock that long), and a statement
+    // (max_statement_time, MariaDB's, none by default). Sent before the connection's first query.
+    p.pool.on("connection", (c) =>
+      c.query(
+        `SET SESSION innodb_lock_wait_timeout = ${e.DB_LOCK_WAIT_SECONDS}, lock_wait_timeout = ${e.DB_LOCK_WAIT_SECONDS}, max_statement_time = ${e.DB_STATEMENT_SECONDS}`,
+      ),
+    );
     globalForDb.lashwrightPool = p;
   }
   return globalForDb.lashwrightPool;

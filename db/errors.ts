@@ -41,6 +41,8 @@ const NODE_NOT_READY = new Set([
   "ER_SERVER_SHUTDOWN",
 ]);
 const ER_CONNECTION_KILLED = 1927;
+// a statement stopped by max_statement_time (db/client.ts sets it): MariaDB's own number, not in mysql2's names
+const ER_STATEMENT_TIMEOUT = 1969;
 
 /**
  * A failure of the moment, not of the request: a row lock waited for too long, a deadlock chose
@@ -54,7 +56,8 @@ export function isTransientDbError(e: unknown): boolean {
     const c = (cur as { code?: unknown }).code;
     if (c === "PROTOCOL_CONNECTION_LOST" || c === "ECONNREFUSED" || c === "ECONNRESET" || c === "ETIMEDOUT")
       return true;
-    if ((cur as { errno?: unknown }).errno === ER_CONNECTION_KILLED) return true;
+    const errno = (cur as { errno?: unknown }).errno;
+    if (errno === ER_CONNECTION_KILLED || errno === ER_STATEMENT_TIMEOUT) return true;
     // mysql2 marks errors that ended the connection "fatal"; one without a code is a pooled
     // connection closed under it ("Can't add new command when connection is in closed state"), as
     // when HAProxy closes the connections of a node that left the cluster

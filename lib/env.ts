@@ -83,6 +83,13 @@ const envSchema = z
       .min(1)
       .max(60)
       .default(10),
+    /** how long one statement may run before MariaDB stops it and the request is answered 503 */
+    DB_STATEMENT_SECONDS: z.coerce
+      .number({ error: "DB_STATEMENT_SECONDS must be a whole number from 1 to 600" })
+      .int()
+      .min(1)
+      .max(600)
+      .default(30),
     /**
      * How many reverse proxies in front of the app append to X-Forwarded-For. 0 (no proxy): the header
      * is the caller's own words and is never believed; limits per network address count the address

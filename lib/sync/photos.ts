@@ -1,7 +1,7 @@
 import { PHOTO_QUOTA_CODE, photoFields, type PhotoUsage } from "../photos/rules";
 import { LashInputError } from "../lash";
 import { setMeta, type LocalDb, type LocalPhoto } from "./local-db";
-import { send, SignedOut, type Fetch } from "./transport";
+import { send, SignedOut, UPLOAD_TIMEOUT_MS, type Fetch } from "./transport";
 import { USAGE_META } from "./meta-keys";
 
 /**
@@ -79,7 +79,12 @@ export async function uploadPhotos(
     if (p.valve) form.set("valve", p.valve);
     if (p.commentId) form.set("commentId", p.commentId);
     form.set("file", p.blob, `${p.id}.jpg`);
-    const res = await send(fetcher, `${base}/api/checks/${p.checkId}/photos`, { method: "POST", body: form });
+    const res = await send(
+      fetcher,
+      `${base}/api/checks/${p.checkId}/photos`,
+      { method: "POST", body: form },
+      UPLOAD_TIMEOUT_MS,
+    );
     if (res.ok) {
       const body = (await res.json().catch(() => null)) as { usage?: PhotoUsage } | null;
       await db.photos.update(p.id, { state: "sent", reason: undefined, held: undefined });

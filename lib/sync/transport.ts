@@ -78,11 +78,33 @@ export function retryDelay(attempt: number, askedMs: number | null, random: () =
   return Math.round(base * (1 + random()));
 }
 
+/**
+ * How long the phone waits for one answer, its body included, before it counts the request as
+ * unanswered (Offline: kept and sent again later). A garage signal can hold a request open with no
+ * byte moving; without a bound the sync would wait on it for ever. Photos get longer (a few MB up a
+ * weak signal).
+ */
+export const REQUEST_TIMEOUT_MS = 60_000;
+export const UPLOAD_TIMEOUT_MS = 300_000;
+
+/** A request that was cut short by the bound above or by the caller: no answer, as with no signal. */
+const isAbort = (e: unknown) => e instanceof Error && (e.name === "TimeoutError" || e.name === "AbortError");
+
 /** Send one request; an answer that is not 2xx becomes one of the errors above. */
-export async function send(fetcher: Fetch, url: string, init: RequestInit): Promise<Response> {
+export async function send(
+  fetcher: Fetch,
+  url: string,
+  init: RequestInit,
+  timeoutMs = REQUEST_TIMEOUT_MS,
+): Promise<Response> {
+  const bound = AbortSignal.timeout(timeoutMs);
   let res: Response;
   try {
-    res = await fetcher(url, { credentials: "same-origin", ...init });
+    res = await fetcher(url, {
+      credentials: "same-origin",
+      ...init,
+      signal: init.signal ? AbortSignal.any([init.signal, bound]) : bound,
+    });
   } catch (e) {
     throw new Offline(e);
   }
@@ -104,5 +126,11 @@ export async function postJson<T>(fetcher: Fetch, url: string, body: unknown, wh
     body: JSON.stringify(body),
   });
   if (!res.ok) throw new ServerError(res.status, `${what} answered ${res.status}`);
-  return (await res.json()) as T;
+  try {
+    return (await res.json()) as T;
+  } catch (e) {
+    // the answer stopped half way (the bound ran out, the signal went): nothing to read, try again later
+    if (isAbort(e) || e instanceof TypeError) throw new Offline(e);
+    throw e;
+  }
 }

@@ -3,6 +3,8 @@ export interface ClusterNode {
   name: string;
   dir: string;
   port: number;
+  /** the node's error log */
+  errFile: string;
 }
 export interface ClusterSpec {
   dir: string;
@@ -19,6 +21,8 @@ export function startNode(
   opts?: { bootstrap?: boolean; timeoutMs?: number },
 ): Promise<number>;
 export function stopNode(spec: ClusterSpec, i: number, opts?: { timeoutMs?: number }): Promise<void>;
+/** wsrep status of one node (variable name to value), or null when it does not answer. */
+export function nodeStatus(n: ClusterNode): Record<string, string> | null;
 export function killNode(spec: ClusterSpec, i: number): Promise<void>;
 export function waitClusterSynced(spec: ClusterSpec, timeoutMs?: number): Promise<void>;
 export function freePorts(n: number): Promise<number[]>;

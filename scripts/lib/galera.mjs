@@ -94,7 +94,10 @@ function nodeArgs(spec, n) {
     `--wsrep-cluster-address=gcomm://${members}`,
     `--wsrep-node-address=127.0.0.1:${n.group}`,
     `--wsrep-node-name=${n.name}`,
-    `--wsrep-provider-options=gmcast.listen_addr=tcp://127.0.0.1:${n.group};ist.recv_addr=127.0.0.1:${n.ist}`,
+    // gcache: the writes a node keeps for others that rejoin (IST); the default 128 MB is used up by one
+    // club-night test, and a node that cannot get what it missed from it needs a full copy, during which
+    // its donor holds the global read lock
+    `--wsrep-provider-options=gmcast.listen_addr=tcp://127.0.0.1:${n.group};ist.recv_addr=127.0.0.1:${n.ist};gcache.size=512M`,
     `--wsrep-sst-receive-address=127.0.0.1:${n.sst}`,
     "--wsrep-sst-method=rsync",
   ];

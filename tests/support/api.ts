@@ -58,6 +58,12 @@ async function answer(res: Response) {
   return { status: res.status, json: json as Record<string, any> }; // eslint-disable-line @typescript-eslint/no-explicit-any
 }
 
+/**
+ * No request of a test waits for ever: a server that stops answering fails the test with a timeout
+ * naming the request, within the level's test timeout, rather than hanging the whole run.
+ */
+const REQUEST_BOUND_MS = 120_000;
+
 /** A tiny HTTP client with a cookie jar, signing in through next-auth like a browser does. */
 export class Client {
   private cookies = new Map<string, string>();
@@ -102,6 +108,7 @@ export class Client {
       headers: { ...this.origin(), ...(init.headers ?? {}) },
       body: init.body,
       duplex: "half",
+      signal: AbortSignal.timeout(REQUEST_BOUND_MS),
       ...(await this.via()),
     } as unknown as RequestInit);
     this.remember(res);
@@ -125,6 +132,7 @@ export class Client {
       redirect: "manual",
       headers: this.origin(),
       body: form,
+      signal: AbortSignal.timeout(REQUEST_BOUND_MS),
       ...(await this.via()),
     } as RequestInit);
     this.remember(res);

@@ -53,6 +53,8 @@ export async function startFaultProxy(target: string, seed: number): Promise<Fau
     const res = await fetch(target + path, {
       method,
       headers,
+      // a server that never answers becomes a gateway error (below), as a real proxy's timeout would
+      signal: AbortSignal.timeout(90_000),
       body: method === "GET" || method === "HEAD" ? undefined : new Uint8Array(body),
     });
     return {

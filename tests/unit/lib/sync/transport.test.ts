@@ -5,6 +5,7 @@ import { record, waitingCount } from "@/lib/sync/outbox";
 import { queuePhoto } from "@/lib/sync/photos";
 import { getMeta } from "@/lib/sync/local-db";
 import { Offline, retryAfterMs, retryDelay, ServerBusy, syncOnce } from "@/lib/sync/client";
+import { postJson, send } from "@/lib/sync/transport";
 
 const checkId = "0b6f5c2e-2222-4a4a-9a9a-000000000002";
 const emptyPull = { cursor: 7, engines: [], checks: [], readings: [], tray: [], comments: [], tombstones: [] };
@@ -93,5 +94,41 @@ describe("the phone's transport", () => {
     expect(pulled).toBe(1);
     expect(await getMeta<number>(db, "cursor")).toBe(7);
     expect(await db.photos.where("state").equals("waiting").count()).toBe(1);
+  });
+});
+
+describe("the phone's bound on one request", () => {
+  // a fetcher that never answers unless its signal is aborted, as a garage signal that holds the line open
+  const silent = (_url: string, init: RequestInit) =>
+    new Promise<Response>((_res, reject) => {
+      init.signal?.addEventListener("abort", () => reject(init.signal!.reason));
+    });
+
+  it("gives up on a request that gets no answer and calls it offline, keeping the outbox", async () => {
+    const db = openLocalDb(crypto.randomUUID());
+    await oneReading(db);
+    await expect(send(silent, "/api/sync/push", { method: "POST" }, 50)).rejects.toBeInstanceOf(Offline);
+    expect(await waitingCount(db)).toBe(1);
+  });
+
+  it("calls an answer whose body stops half way offline, not a server error", async () => {
+    const cut = async () =>
+      new Response(
+        new ReadableStream({
+          start(c) {
+            c.enqueue(new TextEncoder().encode('{"cursor":'));
+            c.error(new TypeError("terminated"));
+          },
+        }),
+        { status: 200, headers: { "content-type": "application/json" } },
+      );
+    await expect(postJson(cut, "/api/sync/pull", {}, "sync/pull")).rejects.toBeInstanceOf(Offline);
+  });
+
+  it("keeps the caller's own abort working beside the bound", async () => {
+    const ctl = new AbortController();
+    const p = send(silent, "/api/sync/pull", { method: "POST", signal: ctl.signal }, 60_000);
+    ctl.abort();
+    await expect(p).rejects.toBeInstanceOf(Offline);
   });
 });
