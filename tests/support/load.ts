@@ -29,6 +29,8 @@ export interface Mutation {
 export class Stats {
   private samples = new Map<string, number[]>();
   private counts = new Map<string, Record<string, number>>();
+  /** when (performance.now()) each request got no answer or only part of one: the phone sent it again */
+  readonly unanswered: number[] = [];
   note(kind: string, ms: number) {
     const list = this.samples.get(kind) ?? [];
     list.push(ms);
@@ -93,6 +95,7 @@ export class Phone {
       }
       const t0 = performance.now();
       let res: Response;
+      let text: string;
       try {
         res = await fetch(this.base + path, {
           method: "POST",
@@ -101,12 +104,22 @@ export class Phone {
           body: JSON.stringify(body()),
           signal: AbortSignal.timeout(ANSWER_WITHIN_MS),
         });
+        // inside the try: an answer cut half way (its server gone) is no answer, as on the phone
+        // (lib/sync/transport.ts postJson): the same outbox goes again, applied once by its ids
+        text = await res.text();
       } catch (e) {
-        this.stats.count(kind, (e as Error).name === "TimeoutError" ? "unanswered in 30 s" : "connection failed");
+        this.stats.unanswered.push(performance.now());
+        this.stats.count(
+          kind,
+          (e as Error).name === "TimeoutError"
+            ? "unanswered in 30 s"
+            : /terminated/.test(String((e as Error).message))
+              ? "answer cut (retried)"
+              : "connection failed",
+        );
         await sleep(retryDelay(attempt, null));
         continue;
       }
-      const text = await res.text();
       this.stats.note(kind, performance.now() - t0);
       if (res.ok) return JSON.parse(text) as T;
       if (res.status === 503 && res.headers.get("retry-after")) {
