@@ -90,12 +90,24 @@ function steadyWriter(phone: Client) {
   };
 }
 
+/** What a node's error log says of its last start: recovery, the state transfer (IST or a full copy). */
+function rejoinLines(n: { errFile: string }) {
+  if (!existsSync(n.errFile)) return "  (no log)";
+  const lines = readFileSync(n.errFile, "utf8").split("\n");
+  return lines
+    .slice(-400)
+    .filter((l) => /IST|SST|State transfer|Recovered position|donor|Donor|Synchronized with group|Flow|gcache/i.test(l))
+    .slice(-25)
+    .map((l) => `  ${l.slice(0, 240)}`)
+    .join("\n");
+}
+
 /** Each node's state and the last lines of its error log: what a stuck run prints. */
 function clusterState() {
   return spec.nodes
     .map((n, i) => {
       const log = existsSync(n.errFile)
-        ? readFileSync(n.errFile, "utf8").trim().split("\n").slice(-8).join("\n    ")
+        ? readFileSync(n.errFile, "utf8").trim().split("\n").slice(-20).join("\n    ")
         : "";
       return `  node ${i + 1}: ${JSON.stringify(nodeStatus(n))}\n    ${log}`;
     })
@@ -127,6 +139,8 @@ describe("sync under faults on a three-node cluster", () => {
           console.log(
             `[faults] writes through instance 2 (node 2) from 1 s before node 1 was killed to 1 s after it was back: ${w.writes}, the longest took ${Math.round(w.longestMs)} ms; 503 answers ${w.busyAnswers}, other failures ${w.otherFailures}${[...w.failures].map(([what, n]) => `\n  ${n} x ${what}`).join("")}`,
           );
+          console.log(`[faults] how node 1 came back:\n${rejoinLines(spec.nodes[0]!)}`);
+          if (w.gaveUp > 0 || w.longestMs > 30_000) console.log(`[faults] the nodes:\n${clusterState()}`);
           if (w.otherFailures > 0)
             console.log(`[faults] instance 2's log, last lines:\n${apps[1]!.output().slice(-4000)}`);
           // a surviving node keeps taking writes, each within a request's bound, and answers nothing
