@@ -104,5 +104,25 @@ export async function postJson<T>(fetcher: Fetch, url: string, body: unknown, wh
     body: JSON.stringify(body),
   });
   if (!res.ok) throw new ServerError(res.status, `${what} answered ${res.status}`);
-  return (await res.json()) as T;
+  return (await readJson(res, what)) as T;
+}
+
+/**
+ * The body of an answer. The connection can be cut after the status line, half-way through the
+ * body (a server instance that died mid-answer): that is no answer, so Offline, and what was sent
+ * stays in the outbox to be sent again (the push is idempotent by mutation id). A body that arrived
+ * whole but is not JSON is the server's fault, not the signal's.
+ */
+async function readJson(res: Response, what: string): Promise<unknown> {
+  let text: string;
+  try {
+    text = await res.text();
+  } catch (e) {
+    throw new Offline(e);
+  }
+  try {
+    return JSON.parse(text);
+  } catch {
+    throw new ServerError(res.status, `${what} answered with a body that is not JSON`);
+  }
 }
