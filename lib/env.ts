@@ -137,6 +137,25 @@ const envSchema = z
       .min(100)
       .max(30_000)
       .default(2000),
+    /**
+     * On SIGTERM or SIGINT (server/drain.ts): how long /api/health/ready answers 503 while the
+     * instance still serves, so a load balancer takes it out before it closes. HAProxy as configured
+     * by scripts/lib/haproxy.mjs (a check each second, 250 ms after a failure, out after two) takes it
+     * out within about 1.3 s; raise this for a balancer that checks less often. 0 with no balancer.
+     */
+    SHUTDOWN_NOTICE_MS: z.coerce
+      .number({ error: "SHUTDOWN_NOTICE_MS must be a whole number of milliseconds, 0 to 60000" })
+      .int()
+      .min(0)
+      .max(60_000)
+      .default(2500),
+    /** the bound from the signal to the process's exit, whatever is still running then (notice included) */
+    SHUTDOWN_TIMEOUT_MS: z.coerce
+      .number({ error: "SHUTDOWN_TIMEOUT_MS must be a whole number of milliseconds, 1000 to 120000" })
+      .int()
+      .min(1000)
+      .max(120_000)
+      .default(10_000),
   })
   .refine(
     (e) =>
