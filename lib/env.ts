@@ -123,7 +123,7 @@ const envSchema = z
     METRICS_HOST: z.string().min(1).default("127.0.0.1"),
     /** when set, a scrape must send "Authorization: Bearer <token>"; required when METRICS_HOST is not a loopback address */
     METRICS_TOKEN: z.string().min(16, { error: "METRICS_TOKEN must be at least 16 characters" }).optional(),
-    /** /api/health/ready fails when the oldest due notice has waited longer than this (0: never) */
+    /** the notice queue counts as stuck (reported by /api/health/ready and the metrics, never failing readiness) when its oldest due notice has waited longer than this (0: never) */
     NOTICE_STUCK_SECONDS: z.coerce
       .number({ error: "NOTICE_STUCK_SECONDS must be a whole number from 0 to 86400" })
       .int()
