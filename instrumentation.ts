@@ -1,11 +1,14 @@
 // Runs once per server instance, before Next hands any request to a handler: note each request's
-// socket address, give it an id and a log line, serve the metrics (METRICS_PORT), and retry queued
-// e-mail notices (every 15 s, sooner if retries are).
+// socket address, drain on SIGTERM, give each request an id and a log line, serve the metrics
+// (METRICS_PORT), and retry queued e-mail notices (every 15 s, sooner if retries are).
 export async function register() {
   if (process.env.NEXT_RUNTIME !== "nodejs") return;
   // first: every request after this knows its socket's address (limits per network address)
   const { installPeerAddress } = await import("./server/peer-address");
   installPeerAddress();
+  // SIGTERM: not ready at once, then finish what is in flight and exit within a bound
+  const { installDrain } = await import("./server/drain");
+  installDrain();
   // every request gets an id, a log line and its time in the metrics; the metrics on their own port
   const { installRequestContext, UNLOGGED } = await import("./server/request-context");
   installRequestContext();

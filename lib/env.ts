@@ -130,7 +130,7 @@ const envSchema = z
     METRICS_HOST: z.string().min(1).default("127.0.0.1"),
     /** when set, a scrape must send "Authorization: Bearer <token>"; required when METRICS_HOST is not a loopback address */
     METRICS_TOKEN: z.string().min(16, { error: "METRICS_TOKEN must be at least 16 characters" }).optional(),
-    /** /api/health/ready fails when the oldest due notice has waited longer than this (0: never) */
+    /** the notice queue counts as stuck (reported by /api/health/ready and the metrics, never failing readiness) when its oldest due notice has waited longer than this (0: never) */
     NOTICE_STUCK_SECONDS: z.coerce
       .number({ error: "NOTICE_STUCK_SECONDS must be a whole number from 0 to 86400" })
       .int()
@@ -144,6 +144,25 @@ const envSchema = z
       .min(100)
       .max(30_000)
       .default(2000),
+    /**
+     * On SIGTERM or SIGINT (server/drain.ts): how long /api/health/ready answers 503 while the
+     * instance still serves, so a load balancer takes it out before it closes. HAProxy as configured
+     * by scripts/lib/haproxy.mjs (a check each second, 250 ms after a failure, out after two) takes it
+     * out within about 1.3 s; raise this for a balancer that checks less often. 0 with no balancer.
+     */
+    SHUTDOWN_NOTICE_MS: z.coerce
+      .number({ error: "SHUTDOWN_NOTICE_MS must be a whole number of milliseconds, 0 to 60000" })
+      .int()
+      .min(0)
+      .max(60_000)
+      .default(2500),
+    /** the bound from the signal to the process's exit, whatever is still running then (notice included) */
+    SHUTDOWN_TIMEOUT_MS: z.coerce
+      .number({ error: "SHUTDOWN_TIMEOUT_MS must be a whole number of milliseconds, 1000 to 120000" })
+      .int()
+      .min(1000)
+      .max(120_000)
+      .default(10_000),
   })
   .refine(
     (e) =>

@@ -79,7 +79,16 @@ async function main() {
       {
         cwd: root,
         stdio: ["ignore", "inherit", "inherit"],
-        env: { ...process.env, ...env, NODE_ENV: "production", NEXT_TELEMETRY_DISABLED: "1" },
+        env: {
+          // no load balancer to tell before closing (server/drain.ts), unless said otherwise
+          SHUTDOWN_NOTICE_MS: "0",
+          ...process.env,
+          ...env,
+          NODE_ENV: "production",
+          NEXT_TELEMETRY_DISABLED: "1",
+          // SIGTERM is the app's (server/drain.ts: not ready, finish what is in flight, exit in a bound)
+          NEXT_MANUAL_SIG_HANDLE: "1",
+        },
       },
     );
     cleanup.add(() => stopChild(server, { graceMs: 4000 }));

@@ -188,7 +188,8 @@ async function main() {
         if (built && (!only || only === "e2e")) {
           await runTs("db/seed.ts", env);
           const port = await freePort();
-          const server = startNext(port, { ...env, NEXTAUTH_URL: `http://127.0.0.1:${port}` });
+          // no load balancer in front: nothing to tell before closing (server/drain.ts)
+          const server = startNext(port, { ...env, NEXTAUTH_URL: `http://127.0.0.1:${port}`, SHUTDOWN_NOTICE_MS: "0" });
           cleanup.add(server.stop);
           await server.ready;
           await vitest("e2e", { ...env, LASHWRIGHT_BASE_URL: `http://127.0.0.1:${port}` });

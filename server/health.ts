@@ -2,11 +2,14 @@ import "server-only";
 import mysql from "mysql2/promise";
 import journal from "@/db/migrations/meta/_journal.json";
 import { env } from "@/lib/env";
+import { stopping } from "./drain";
 import { log } from "./log";
 
 /**
  * Is this instance fit to be given requests? Asked by the load balancer every second or so
- * (/api/health/ready), and read by the metrics. Four checks:
+ * (/api/health/ready), and read by the metrics. Five checks:
+ * - stopping: the instance was told to stop (SIGTERM, server/drain.ts): not ready at once, without a
+ *   probe, so the balancer takes it out while it finishes what it holds;
  * - database: the database answers, within HEALTH_TIMEOUT_MS;
  * - cluster: on a Galera node (wsrep_on), the node is Synced: a joining, donor or cut-off node
  *   refuses or delays queries (a node without wsrep passes);
@@ -15,7 +18,14 @@ import { log } from "./log";
  *   ones: a newer build migrated the database under this one (and migrations may drop what this
  *   build still reads), so traffic goes to the instances of the newer build;
  * - notices: the oldest notice that is due has waited at most NOTICE_STUCK_SECONDS (delivery runs
- *   every 15 s on every instance, so a notice that waits longer means delivery is failing).
+ *   every 15 s on every instance, so a notice that waits longer means delivery is failing). This one
+ *   is reported (the ready answer's `warnings`, the metric lashwright_ready{check="notices"}, a log
+ *   line) but does not make the instance unready: the queue is one table that every instance reads
+ *   and sends from, so a stuck queue (the mail server down, a notice that cannot be sent) looks the
+ *   same from every instance, and failing readiness for it would take the whole cluster out of the
+ *   balancer for a mail problem, stopping every sync and sign-in and sending no more mail. No
+ *   instance can tell that the fault is its own (one instance's wrong mail settings still leave the
+ *   others sending, so the queue moves and is not stuck), so there is no case where taking one out helps.
  *
  * The probe has its own connection, not the pool's: a pool that is full is load the app sheds by
  * itself (503 with Retry-After per request), and must not make the balancer take out an instance
@@ -23,10 +33,13 @@ import { log } from "./log";
  * answer is kept for a second, so a balancer's checks (and scrapes) cost one probe a second at most.
  * State on globalThis: the ready route and the metrics live in different chunks.
  */
-export type CheckName = "database" | "cluster" | "migrations" | "notices";
+export type CheckName = "stopping" | "database" | "cluster" | "migrations" | "notices";
+/** checks reported, but not part of `ok` (see "notices" above) */
+export const ADVISORY: readonly CheckName[] = ["notices"];
 /** skipped: not asked, because an earlier check failed (not ok either, but not the cause) */
 export type Check = { ok: boolean; skipped?: true; detail?: string };
 export type Readiness = {
+  /** every check but the advisory ones passed */
   ok: boolean;
   checks: Record<CheckName, Check>;
   /** the notice queue (queued or being sent) and how long its oldest due notice has waited, in seconds */
@@ -89,6 +102,7 @@ const NOT_CHECKED: Check = { ok: false, skipped: true, detail: "not checked: the
 async function probe(): Promise<Readiness> {
   const e = env();
   const checks: Record<CheckName, Check> = {
+    stopping: { ok: true },
     database: { ok: true },
     cluster: { ok: true },
     migrations: NOT_CHECKED,
@@ -167,11 +181,30 @@ async function probe(): Promise<Readiness> {
   }
   // a copy: a query that answers after the time ran out must not change an answer already given
   const copy = { ...checks };
-  return { ok: Object.values(copy).every((c) => c.ok), checks: copy, notices };
+  return { ok: counts(copy), checks: copy, notices };
+}
+
+const counts = (checks: Record<CheckName, Check>) =>
+  Object.entries(checks).every(([name, c]) => c.ok || ADVISORY.includes(name as CheckName));
+
+/** Told to stop: not ready, whatever the last probe said (which is kept for the other checks' display). */
+function stoppingNow(): Readiness {
+  const last = holder.last?.value;
+  const checks: Record<CheckName, Check> = {
+    ...(last?.checks ?? {
+      database: NOT_CHECKED,
+      cluster: NOT_CHECKED,
+      migrations: NOT_CHECKED,
+      notices: NOT_CHECKED,
+    }),
+    stopping: { ok: false, detail: "this instance is stopping: finishing the requests it holds" },
+  };
+  return { ok: false, checks, notices: last?.notices ?? null };
 }
 
 /** The instance's readiness, probed at most once a second. */
 export function readiness(): Promise<Readiness> {
+  if (stopping()) return Promise.resolve(stoppingNow());
   if (holder.running) return holder.running;
   if (holder.last && Date.now() - holder.last.at < KEEP_MS) return Promise.resolve(holder.last.value);
   holder.probes++;
@@ -180,16 +213,30 @@ export function readiness(): Promise<Readiness> {
   });
   void holder.running.then((value) => {
     holder.last = { at: Date.now(), value };
-    // logged when the answer changes, not at every check of the balancer's
-    const failed = Object.entries(value.checks)
-      .filter(([, c]) => !c.ok && !c.skipped)
-      .map(([name, c]) => `${name}: ${c.detail ?? "failed"}`)
-      .join("; ");
-    if (failed !== holder.said) {
-      if (failed)
-        log.warn({ failed, err: value.checks.database.ok ? undefined : holder.error }, "readiness: not ready");
+    // logged when the checks failing change, not at every check of the balancer's (nor as a stuck
+    // notice's waiting time grows)
+    const failing = (advisory: boolean) =>
+      Object.entries(value.checks).filter(
+        ([name, c]) => !c.ok && !c.skipped && ADVISORY.includes(name as CheckName) === advisory,
+      );
+    const said = (list: [string, Check][]) => list.map(([name, c]) => `${name}: ${c.detail ?? "failed"}`).join("; ");
+    const failed = failing(false);
+    const warnings = failing(true);
+    const key = [...failed, ["|"], ...warnings].map(([name]) => name).join(",");
+    if (key !== holder.said) {
+      if (failed.length)
+        log.warn(
+          {
+            failed: said(failed),
+            warnings: warnings.length ? said(warnings) : undefined,
+            err: value.checks.database.ok ? undefined : holder.error,
+          },
+          "readiness: not ready",
+        );
+      else if (warnings.length)
+        log.warn({ warnings: said(warnings) }, "readiness: ready, but something needs an operator");
       else if (holder.said) log.info("readiness: ready again");
-      holder.said = failed;
+      holder.said = key;
     }
     holder.error = undefined;
   });

@@ -81,7 +81,7 @@ function make() {
   });
   const ready = new Gauge({
     name: "lashwright_ready",
-    help: "1 when a readiness check passes, 0 when it fails (database, cluster, migrations, notices)",
+    help: "1 when a readiness check passes, 0 when it fails (stopping, database, cluster, migrations; notices is reported but does not fail readiness)",
     labelNames: ["check"] as const,
     registers,
     async collect() {

@@ -5,6 +5,7 @@ import http from "node:http";
 import { env } from "@/lib/env";
 import { log } from "./log";
 import { observeRequest } from "./metrics";
+import { aroundServerEvents, UNLOGGED } from "./server-events";
 
 /**
  * Every request gets an id, said back in X-Request-Id, carried by its error answers (server/http.ts)
@@ -26,7 +27,7 @@ const holder = ((globalThis as Record<symbol, Holder | undefined>)[KEY] ??= {
 });
 
 /** A server marked with this is not logged or timed (the metrics listener: a scrape is not a request of the app's). */
-export const UNLOGGED = Symbol.for("lashwright.request-context.unlogged");
+export { UNLOGGED };
 
 /** The request being handled, or undefined outside one (or before install). */
 export function requestContext(): RequestContext | undefined {
@@ -97,13 +98,7 @@ function finished(req: http.IncomingMessage, res: http.ServerResponse, ctx: Requ
 export function installRequestContext(): void {
   if (holder.installed) return;
   holder.installed = true;
-  const emit = http.Server.prototype.emit;
-  http.Server.prototype.emit = function (
-    this: http.Server & { [UNLOGGED]?: true },
-    event: string | symbol,
-    ...args: unknown[]
-  ): boolean {
-    if (event !== "request" || this[UNLOGGED]) return Reflect.apply(emit, this, [event, ...args]);
+  aroundServerEvents(["request"], (_server, _event, args, next) => {
     const req = args[0] as http.IncomingMessage;
     const res = args[1] as http.ServerResponse;
     const ctx: RequestContext = { id: requestIdFrom(req.headers["x-request-id"]), start: process.hrtime.bigint() };
@@ -115,6 +110,6 @@ export function installRequestContext(): void {
         // the log and the metrics never fail a request
       }
     });
-    return holder.storage.run(ctx, () => Reflect.apply(emit, this, [event, ...args]));
-  } as typeof emit;
+    return holder.storage.run(ctx, next);
+  });
 }

@@ -87,9 +87,6 @@ export function retryDelay(attempt: number, askedMs: number | null, random: () =
 export const REQUEST_TIMEOUT_MS = 60_000;
 export const UPLOAD_TIMEOUT_MS = 300_000;
 
-/** A request that was cut short by the bound above or by the caller: no answer, as with no signal. */
-const isAbort = (e: unknown) => e instanceof Error && (e.name === "TimeoutError" || e.name === "AbortError");
-
 /** Send one request; an answer that is not 2xx becomes one of the errors above. */
 export async function send(
   fetcher: Fetch,
@@ -126,11 +123,25 @@ export async function postJson<T>(fetcher: Fetch, url: string, body: unknown, wh
     body: JSON.stringify(body),
   });
   if (!res.ok) throw new ServerError(res.status, `${what} answered ${res.status}`);
+  return (await readJson(res, what)) as T;
+}
+
+/**
+ * The body of an answer. The connection can be cut after the status line, half-way through the
+ * body (a server instance that died mid-answer): that is no answer, so Offline, and what was sent
+ * stays in the outbox to be sent again (the push is idempotent by mutation id). A body that arrived
+ * whole but is not JSON is the server's fault, not the signal's.
+ */
+async function readJson(res: Response, what: string): Promise<unknown> {
+  let text: string;
   try {
-    return (await res.json()) as T;
+    text = await res.text();
   } catch (e) {
-    // the answer stopped half way (the bound ran out, the signal went): nothing to read, try again later
-    if (isAbort(e) || e instanceof TypeError) throw new Offline(e);
-    throw e;
+    throw new Offline(e);
+  }
+  try {
+    return JSON.parse(text);
+  } catch {
+    throw new ServerError(res.status, `${what} answered with a body that is not JSON`);
   }
 }

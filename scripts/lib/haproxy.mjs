@@ -17,7 +17,7 @@ const BIN = "/usr/sbin/haproxy";
 /**
  * The path HAProxy asks every instance for, each second: 200 means "send me requests":
  * /api/health/ready (server/health.ts: database reachable, node synced, migrations current, notice
- * queue moving). LASHWRIGHT_HEALTH_PATH overrides it.
+ * queue reported but never failing it: server/health.ts). LASHWRIGHT_HEALTH_PATH overrides it.
  */
 export const READY_PATH = "/api/health/ready";
 export const HEALTH_PATH = process.env.LASHWRIGHT_HEALTH_PATH ?? READY_PATH;
@@ -30,6 +30,15 @@ export const HEALTH_PATH = process.env.LASHWRIGHT_HEALTH_PATH ?? READY_PATH;
  * died is acknowledged, not applied again, when replayed. Every other POST (sign-in, which counts a
  * try; REST writes) is never replayed by HAProxy: its phone gets 503 with Retry-After and decides.
  * A request that never reached an instance (conn-failure) is always safe and always retried.
+ *
+ * From HAProxy 2.6's configuration manual (/usr/share/doc/haproxy/configuration.txt.gz): "retries"
+ * counts every try, "option redispatch 1" sends each retry to another server than the last one;
+ * "retry-on" other than conn-failure needs the whole request in one buffer (tune.bufsize, 16 KB
+ * here), so a push larger than that (more than about 100 readings) is not replayed and its phone
+ * sends it again; "http-request disable-l7-retry" leaves connection failures retried. What HAProxy
+ * can never replay is a request whose answer had begun: an instance that dies half-way through an
+ * answer leaves the phone a cut connection, which it calls Offline and sends again (tests/cluster/
+ * club-night.test.ts counts those apart). A stopping instance never does that (server/drain.ts).
  */
 const REPLAY_SAFE_PATHS = ["/api/sync/push", "/api/sync/pull"];
 

@@ -9,7 +9,14 @@ export function startNext(port, env, { inherit = false } = {}) {
     {
       cwd: root,
       stdio: inherit ? ["ignore", "inherit", "inherit"] : ["ignore", "pipe", "pipe"],
-      env: { ...process.env, ...env, NODE_ENV: "production", NEXT_TELEMETRY_DISABLED: "1" },
+      // NEXT_MANUAL_SIG_HANDLE: SIGTERM is the app's (server/drain.ts: not ready, finish, exit in a bound)
+      env: {
+        ...process.env,
+        ...env,
+        NODE_ENV: "production",
+        NEXT_TELEMETRY_DISABLED: "1",
+        NEXT_MANUAL_SIG_HANDLE: "1",
+      },
     },
   );
   let out = "";

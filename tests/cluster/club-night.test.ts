@@ -10,7 +10,7 @@ import { Client } from "../support/api";
 import { clusterSpec } from "../support/cluster";
 import { rawConnection } from "../support/db";
 import { ENGINE_FOUR } from "../support/fixtures";
-import { giveUp, Phone, sessionCookie, sleep, Stats, table } from "../support/load";
+import { giveUp, Phone, RETRIED, retried, sessionCookie, sleep, Stats, table } from "../support/load";
 import { startApp, type App } from "../support/server";
 import { BLADES, CLUB_NIGHT_PASSWORD as PASSWORD, ENGINE_SIX, VALVES } from "../support/club-night";
 
@@ -23,10 +23,12 @@ import { BLADES, CLUB_NIGHT_PASSWORD as PASSWORD, ENGINE_SIX, VALVES } from "../
  * Two steady writers, one straight to each instance, time every write through each event.
  *
  * It fails unless: every phone finishes; nothing a phone wrote is missing or different on the
- * server and nothing was applied twice; no phone got any answer but success or 503 with
- * Retry-After (HAProxy's own errors are 503 with Retry-After too); HAProxy takes the killed instance
- * out and back in; instance 1 keeps writing while its own node is down (its connections moved to
- * another node). npm test runs 100 phones; `npm run load -- --cluster` runs 300.
+ * server and nothing was applied twice; no phone met anything but success, 503 or 429 with
+ * Retry-After (HAProxy's own errors are 503 with Retry-After too), or a connection cut (the killed
+ * instance dies mid-answer: HAProxy cannot replay an answer already begun) that the phone then sent
+ * again with success, as the real phone does (Offline: outbox kept, lib/sync/transport.ts); HAProxy
+ * takes the killed instance out and back in; instance 1 keeps writing while its own node is down (its
+ * connections moved to another node). npm test runs 100 phones; `npm run load -- --cluster` runs 300.
  */
 const PHONES = Number(process.env.LASHWRIGHT_LOAD_PHONES ?? 100);
 const SIGNING_IN = Math.max(5, Math.round(PHONES * 0.1));
@@ -374,25 +376,26 @@ describe(`club night on the cluster: ${PHONES} phones through HAProxy, an app in
           {
             kind: `push (${phase})`,
             http: stats.summary(`push (${phase})`),
-            notes: `503 retried ${stats.get(`push (${phase})`, "503 busy (retried)")}`,
+            notes: `503 retried ${stats.get(`push (${phase})`, RETRIED.busy)}, cut and sent again ${stats.get(`push (${phase})`, RETRIED.cut)}`,
           },
           {
             kind: `pull (${phase})`,
             http: stats.summary(`pull (${phase})`),
-            notes: `503 retried ${stats.get(`pull (${phase})`, "503 busy (retried)")}`,
+            notes: `503 retried ${stats.get(`pull (${phase})`, RETRIED.busy)}, cut and sent again ${stats.get(`pull (${phase})`, RETRIED.cut)}`,
           },
           { kind: `whole sync (${phase})`, http: stats.summary(`whole sync (${phase})`) },
         ]),
       ]),
       ...events,
       `answers other than 2xx: ${answers.length ? answers.join("; ") : "none"}`,
+      `connections cut and sent again with success: ${stats.total(RETRIED.cut)}`,
       `phones that did not finish: ${phoneErrors.length}${phoneErrors.length ? ` (first: ${phoneErrors[0]})` : ""}`,
       `lost or applied twice: ${problems.length ? problems.slice(0, 5).join("; ") : "none"}`,
       `stored (for README Scaling): ${sizes}`,
     ].join("\n");
     console.log(`\n${report}\n`);
     // an answer that was neither success nor 503 names its cause here: the instances' errors, HAProxy's alerts
-    if (answers.some((a) => /server error|connection failed|unanswered/.test(a))) {
+    if (answers.some((a) => /server error|connection cut|unanswered/.test(a))) {
       for (const [i, a] of apps.entries())
         console.log(
           `[club night] instance ${i + 1}, error lines:\n${a
@@ -407,15 +410,16 @@ describe(`club night on the cluster: ${PHONES} phones through HAProxy, an app in
     mkdirSync(path.resolve(__dirname, "../../test-results"), { recursive: true });
     writeFileSync(path.resolve(__dirname, "../../test-results/cluster-load.txt"), report + "\n");
 
+    // The strict check. Every phone finished: each request it retried ended in a success (Phone.post
+    // sends again until it does, or throws). Nothing lost, nothing applied twice. And no answer other
+    // than success, 503 or 429 with Retry-After, or a cut connection (sent again, as just said):
+    // HAProxy's own errors are 503 with Retry-After too. Sign-in refusals happen in the burst, before
+    // any fault, and are printed above.
     expect(phoneErrors).toEqual([]);
     expect(problems).toEqual([]);
-    // success, or 503 with Retry-After (retried by the phone): nothing else, HAProxy's errors included,
-    // but for the requests that instance 1 was answering when it was killed: cut off with it, sent
-    // again by their phones (counted above as "answer cut" or "connection failed"), none after HAProxy
-    // had taken it out
-    expect(
-      answers.filter((a) => !/503 busy \(retried\)|refused: |answer cut \(retried\)|connection failed/.test(a)),
-    ).toEqual([]);
+    expect(answers.filter((a) => !retried(a) && !/^sign-in: refused: /.test(a))).toEqual([]);
+    // a cut connection only for requests instance 1 was answering when it was killed, none after
+    // HAProxy had taken it out (figures: ms after the kill)
     expect(
       stats.unanswered.filter((t) => t < killedAt || t > outAt + 1000).map((t) => Math.round(t - killedAt)),
     ).toEqual([]);

@@ -5,9 +5,20 @@ import { retryAfterMs, retryDelay } from "@/lib/sync/transport";
  * Simulated phones for the load test: each keeps its own outbox with increasing mutation ids and a
  * pull cursor, as the real client does (lib/sync/client.ts), but without IndexedDB, so a few
  * hundred of them cost the machine little beside the server they load. A busy answer (503 with
- * Retry-After) is waited out with the phone's own back-off and jitter and the same outbox is sent
- * again; every request has a 30 s bound.
+ * Retry-After, or 429 with Retry-After: this phone's budget) is waited out with the phone's own
+ * back-off and jitter and the same outbox is sent again; so is a cut connection (no answer, or an
+ * answer cut off half-way by an instance that died), which the real phone calls Offline
+ * (lib/sync/transport.ts) and sends again later, outbox kept. Every request has a 30 s bound.
  */
+/** What a phone met on its way, other than success, that it waited out and sent again (Stats.count). */
+export const RETRIED = {
+  busy: "503 busy (retried)",
+  limited: "429 with Retry-After (retried)",
+  cut: "connection cut (retried)",
+} as const;
+/** True for a count that is one of the retried kinds above: every other count is a failure. */
+export const retried = (counted: string) => Object.values(RETRIED).some((r) => counted.includes(`: ${r} ×`));
+
 // The margin: the server answers by its own bounds, success or 503, well before this. Its longest
 // waits are a database connection (DB_ACQUIRE_TIMEOUT_MS, 5 s), one lock wait (DB_LOCK_WAIT_SECONDS,
 // 10 s) and, for a sign-in, a place in the hashing queue (HASH_WAIT_MS, 10 s, server/password.ts):
@@ -104,26 +115,19 @@ export class Phone {
           body: JSON.stringify(body()),
           signal: AbortSignal.timeout(ANSWER_WITHIN_MS),
         });
-        // inside the try: an answer cut half way (its server gone) is no answer, as on the phone
-        // (lib/sync/transport.ts postJson): the same outbox goes again, applied once by its ids
+        // inside the try: the connection may be cut half-way through the body ("terminated")
         text = await res.text();
       } catch (e) {
+        // no answer, or one cut off: Offline to the real phone, which keeps its outbox and sends again
         this.stats.unanswered.push(performance.now());
-        this.stats.count(
-          kind,
-          (e as Error).name === "TimeoutError"
-            ? "unanswered in 30 s"
-            : /terminated/.test(String((e as Error).message))
-              ? "answer cut (retried)"
-              : "connection failed",
-        );
+        this.stats.count(kind, (e as Error).name === "TimeoutError" ? "unanswered in 30 s" : RETRIED.cut);
         await sleep(retryDelay(attempt, null));
         continue;
       }
       this.stats.note(kind, performance.now() - t0);
       if (res.ok) return JSON.parse(text) as T;
-      if (res.status === 503 && res.headers.get("retry-after")) {
-        this.stats.count(kind, "503 busy (retried)");
+      if ((res.status === 503 || res.status === 429) && res.headers.get("retry-after")) {
+        this.stats.count(kind, res.status === 503 ? RETRIED.busy : RETRIED.limited);
         await sleep(retryDelay(attempt, retryAfterMs(res.headers.get("retry-after"))));
         continue;
       }

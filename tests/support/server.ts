@@ -22,6 +22,8 @@ export interface App {
   output(): string;
   /** the server process, for reading its memory from /proc */
   pid(): number;
+  /** how the current server process ended: its exit code, or the signal that killed it */
+  exited(): Promise<{ code: number | null; signal: NodeJS.Signals | null }>;
 }
 
 // A child killed by a signal keeps exitCode null: look at signalCode too.
@@ -38,6 +40,7 @@ export async function startApp(extraEnv: Record<string, string> = {}, opts: { po
   const port = opts.port ?? (await freePort());
   const url = `http://127.0.0.1:${port}`;
   let child: ChildProcess;
+  let exited: Promise<{ code: number | null; signal: NodeJS.Signals | null }>;
   let out = "";
   const boot = async () => {
     child = spawn(
@@ -51,11 +54,16 @@ export async function startApp(extraEnv: Record<string, string> = {}, opts: { po
           NEXT_TELEMETRY_DISABLED: "1",
           NEXTAUTH_URL: url,
           DB_POOL_SIZE: process.env.LASHWRIGHT_TEST_POOL_SIZE ?? "1",
+          // SIGTERM is the app's (server/drain.ts); no balancer to tell unless a test puts one in front
+          NEXT_MANUAL_SIG_HANDLE: "1",
+          SHUTDOWN_NOTICE_MS: "0",
           ...extraEnv,
         },
         stdio: ["ignore", "pipe", "pipe"],
       },
     );
+    const c = child;
+    exited = new Promise((resolve) => c.once("exit", (code, signal) => resolve({ code, signal })));
     child.stdout!.on("data", (d) => (out += d));
     child.stderr!.on("data", (d) => (out += d));
     for (let i = 0; i < 300; i++) {
@@ -84,5 +92,6 @@ export async function startApp(extraEnv: Record<string, string> = {}, opts: { po
     restart: async () => (await stop(), await boot()),
     output: () => out,
     pid: () => child.pid!,
+    exited: () => exited,
   };
 }

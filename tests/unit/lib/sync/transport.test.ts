@@ -49,6 +49,23 @@ describe("the phone's transport", () => {
     expect(e).not.toBeInstanceOf(Offline);
   });
 
+  it("an answer cut off half-way (the instance died mid-answer) is offline, and the outbox stays", async () => {
+    const db = openLocalDb(crypto.randomUUID());
+    await oneReading(db);
+    const cut = async () =>
+      new Response(
+        new ReadableStream({
+          start(c) {
+            c.enqueue(new TextEncoder().encode('{"lastMutationId":1,"rej'));
+            c.error(new TypeError("terminated"));
+          },
+        }),
+        { status: 200, headers: { "content-type": "application/json" } },
+      );
+    await expect(syncOnce(db, cut)).rejects.toBeInstanceOf(Offline);
+    expect(await waitingCount(db)).toBe(1);
+  });
+
   it("a busy server (503 with Retry-After) keeps the outbox and says how long to wait", async () => {
     const db = openLocalDb(crypto.randomUUID());
     await oneReading(db);
