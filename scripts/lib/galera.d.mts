@@ -22,7 +22,7 @@ export function startNode(
 ): Promise<number>;
 export function stopNode(spec: ClusterSpec, i: number, opts?: { timeoutMs?: number }): Promise<void>;
 /** wsrep status of one node (variable name to value), or null when it does not answer. */
-export function nodeStatus(n: ClusterNode): Record<string, string> | null;
+export function nodeStatus(n: ClusterNode): Promise<Record<string, string> | null>;
 export function killNode(spec: ClusterSpec, i: number): Promise<void>;
 export function waitClusterSynced(spec: ClusterSpec, timeoutMs?: number): Promise<void>;
 export function freePorts(n: number): Promise<number[]>;

@@ -2,7 +2,7 @@
 // each its own data folder and ports (SQL, group communication, IST, SST). Plain Node, no
 // dependencies. A cluster is described by a plain JSON "spec" so that a test process can kill one
 // node and start it again with the same settings (LASHWRIGHT_CLUSTER carries it).
-import { spawnSync } from "node:child_process";
+import { execFile, spawnSync } from "node:child_process";
 import { chmodSync, existsSync, mkdirSync, readFileSync, rmSync, writeFileSync } from "node:fs";
 import path from "node:path";
 import net from "node:net";
@@ -103,19 +103,32 @@ function nodeArgs(spec, n) {
   ];
 }
 
-function sqlAsRoot(n, statement) {
+/**
+ * Run a program without blocking the caller's event loop, bounded: a test process that runs a
+ * node's recovery or asks a node its state keeps its own phones, proxies and timers going meanwhile
+ * (with spawnSync a slow crash recovery froze them all, which the writers measured as a pause of the cluster).
+ */
+function run(cmd, args, timeoutMs) {
+  return new Promise((resolve) => {
+    execFile(cmd, args, { encoding: "utf8", timeout: timeoutMs, maxBuffer: 4 << 20 }, (err, stdout) =>
+      resolve({ ok: !err, stdout }),
+    );
+  });
+}
+
+async function sqlAsRoot(n, statement) {
   // bounded: a wedged node must not hang the caller
-  const r = spawnSync(
+  const r = await run(
     "mariadb",
     ["--no-defaults", `--socket=${n.sock}`, "-uroot", "--connect-timeout=2", "-N", "-B", "-e", statement],
-    { encoding: "utf8", timeout: 10_000 },
+    10_000,
   );
-  return r.status === 0 ? r.stdout : null;
+  return r.ok ? r.stdout : null;
 }
 
 /** wsrep status of one node, or null when it does not answer. */
-export function nodeStatus(n) {
-  const out = sqlAsRoot(
+export async function nodeStatus(n) {
+  const out = await sqlAsRoot(
     n,
     "SHOW STATUS WHERE Variable_name IN ('wsrep_local_state_comment', 'wsrep_cluster_size', 'wsrep_cluster_status', 'wsrep_ready')",
   );
@@ -171,16 +184,13 @@ function bootstrapIndex(spec) {
  * receives only what it missed from another node's cache (IST); without it, it would ask for a
  * full copy, which rsync cannot write over the folders it already has.
  */
-function recoverPosition(spec, n) {
+async function recoverPosition(spec, n) {
   const state = path.join(n.data, "grastate.dat");
   if (!existsSync(path.join(n.data, "mysql")) || !existsSync(state) || !/seqno:\s*-1/.test(readFileSync(state, "utf8")))
     return null;
   const log = path.join(n.dir, "recover.err");
   rmSync(log, { force: true });
-  spawnSync("mariadbd", [...nodeArgs(spec, n), "--wsrep-recover", `--log-error=${log}`], {
-    stdio: "ignore",
-    timeout: 120_000,
-  });
+  await run("mariadbd", [...nodeArgs(spec, n), "--wsrep-recover", `--log-error=${log}`], 120_000);
   const found = existsSync(log) ? /Recovered position:\s*(\S+:\d+)/.exec(readFileSync(log, "utf8")) : null;
   return found ? found[1] : null;
 }
@@ -205,7 +215,7 @@ export async function startNode(spec, i, { bootstrap = false, timeoutMs = 120_00
   }
   const args = nodeArgs(spec, n);
   if (bootstrap) args.push("--wsrep-new-cluster");
-  const position = recoverPosition(spec, n);
+  const position = await recoverPosition(spec, n);
   if (position) args.push(`--wsrep-start-position=${position}`);
   const child = spawnChild("mariadbd", args, { stdio: "ignore" });
   child.unref();
@@ -214,7 +224,7 @@ export async function startNode(spec, i, { bootstrap = false, timeoutMs = 120_00
   const t0 = Date.now();
   for (;;) {
     if (exited !== null) throw new SetupError(`${n.name} exited at start (see ${n.errFile}): ${tail(n)}`);
-    const s = nodeStatus(n);
+    const s = await nodeStatus(n);
     if (s && s.wsrep_local_state_comment === "Synced" && s.wsrep_ready === "ON") return child.pid;
     if (Date.now() - t0 > timeoutMs)
       throw new SetupError(`${n.name} was not Synced within ${timeoutMs / 1000} s (see ${n.errFile}): ${tail(n)}`);
@@ -249,7 +259,7 @@ export async function killNode(spec, i) {
 export async function waitClusterSynced(spec, timeoutMs = 120_000) {
   const t0 = Date.now();
   for (;;) {
-    const all = spec.nodes.map(nodeStatus);
+    const all = await Promise.all(spec.nodes.map(nodeStatus));
     if (
       all.every(
         (s) => s && s.wsrep_local_state_comment === "Synced" && Number(s.wsrep_cluster_size) === spec.nodes.length,
@@ -293,7 +303,7 @@ export async function startCluster(spec) {
       `CREATE USER IF NOT EXISTS '${spec.user}'@'127.0.0.1' IDENTIFIED BY '${spec.password}'`,
       `GRANT ALL PRIVILEGES ON \`${spec.database}\`.* TO '${spec.user}'@'127.0.0.1'`,
     ].join("; ");
-    if (sqlAsRoot(n0, sql) === null) throw new SetupError("creating the database and its user failed");
+    if ((await sqlAsRoot(n0, sql)) === null) throw new SetupError("creating the database and its user failed");
     await waitClusterSynced(spec);
   } catch (e) {
     await stopCluster(spec);

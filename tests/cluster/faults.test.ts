@@ -103,13 +103,14 @@ function rejoinLines(n: { errFile: string }) {
 }
 
 /** Each node's state and the last lines of its error log: what a stuck run prints. */
-function clusterState() {
+async function clusterState() {
+  const states = await Promise.all(spec.nodes.map(nodeStatus));
   return spec.nodes
     .map((n, i) => {
       const log = existsSync(n.errFile)
         ? readFileSync(n.errFile, "utf8").trim().split("\n").slice(-20).join("\n    ")
         : "";
-      return `  node ${i + 1}: ${JSON.stringify(nodeStatus(n))}\n    ${log}`;
+      return `  node ${i + 1}: ${JSON.stringify(states[i])}\n    ${log}`;
     })
     .join("\n");
 }
@@ -120,7 +121,10 @@ describe("sync under faults on a three-node cluster", () => {
     // about 30 s here; the bound leaves room for a slow machine, and the watchdog says where a stuck run is
     { timeout: 420_000 },
     async () => {
-      const watchdog = setTimeout(() => console.log(`[faults] still running after 300 s:\n${clusterState()}`), 300_000);
+      const watchdog = setTimeout(
+        () => void clusterState().then((s) => console.log(`[faults] still running after 300 s:\n${s}`)),
+        300_000,
+      );
       await runFaultSync({
         user,
         cookie,
@@ -140,7 +144,7 @@ describe("sync under faults on a three-node cluster", () => {
             `[faults] writes through instance 2 (node 2) from 1 s before node 1 was killed to 1 s after it was back: ${w.writes}, the longest took ${Math.round(w.longestMs)} ms; 503 answers ${w.busyAnswers}, other failures ${w.otherFailures}${[...w.failures].map(([what, n]) => `\n  ${n} x ${what}`).join("")}`,
           );
           console.log(`[faults] how node 1 came back:\n${rejoinLines(spec.nodes[0]!)}`);
-          if (w.gaveUp > 0 || w.longestMs > 30_000) console.log(`[faults] the nodes:\n${clusterState()}`);
+          if (w.gaveUp > 0 || w.longestMs > 30_000) console.log(`[faults] the nodes:\n${await clusterState()}`);
           if (w.otherFailures > 0)
             console.log(`[faults] instance 2's log, last lines:\n${apps[1]!.output().slice(-4000)}`);
           // a surviving node keeps taking writes, each within a request's bound, and answers nothing
