@@ -145,7 +145,7 @@ describe("sync under faults on a three-node cluster", () => {
           );
           console.log(`[faults] how node 1 came back:\n${rejoinLines(spec.nodes[0]!)}`);
           if (w.gaveUp > 0 || w.longestMs > 30_000) console.log(`[faults] the nodes:\n${await clusterState()}`);
-          if (w.otherFailures > 0)
+          if (w.otherFailures > 0 || w.gaveUp > 0)
             console.log(`[faults] instance 2's log, last lines:\n${apps[1]!.output().slice(-4000)}`);
           // a surviving node keeps taking writes, each within a request's bound, and answers nothing
           // but success or 503 with its error while the cluster notices the lost node
