@@ -1,7 +1,18 @@
 "use client";
 
 import { memo, useEffect, useRef, useState, type MouseEvent } from "react";
-import { clearanceFromFeelers, formatLength, lengthNumber, recommendShim, shimNumber } from "@/lib/lash";
+import {
+  bandSide,
+  clearanceFromFeelers,
+  compareLengths,
+  formatLength,
+  fromNm,
+  lengthNumber,
+  recommendShim,
+  sameLength,
+  shimNumber,
+  toNm,
+} from "@/lib/lash";
 import { bladeStrip, feelerSet, noGoOf } from "@/lib/check/blades";
 import { measuredState, STATE_WORDS, valveLabel, type ValveView } from "@/lib/check/derive";
 import { foundWords } from "@/lib/check/rounds";
@@ -132,8 +143,9 @@ function ValveCardBody({
   const save = (patch: Partial<ReadingEntry>) => onSave({ ...base, ...patch });
   const stepShim = (dir: 1 | -1) => {
     const cur = stamp ?? sizes[Math.floor(sizes.length / 2)]!;
-    const next = Math.round((cur + dir * step) * 1e6) / 1e6;
-    if (next >= sizes[0]! - 1e-9 && next <= sizes.at(-1)! + 1e-9) void save({ installedStamp: next });
+    const next = fromNm(toNm(cur) + dir * toNm(step));
+    if (compareLengths(next, sizes[0]!) >= 0 && compareLengths(next, sizes.at(-1)!) <= 0)
+      void save({ installedStamp: next });
   };
   const said = (interval: string, value: number) => {
     const inside = micrometer ?? stamp;
@@ -254,8 +266,8 @@ function ValveCardBody({
           className="grid grid-cols-[repeat(auto-fill,minmax(3rem,1fr))] gap-2"
         >
           {blades.map((b) => {
-            const on = base.method === "feeler" && base.feelerGo != null && Math.abs(base.feelerGo - b) < 1e-9;
-            const inBand = b >= view.spec.min - 1e-9 && b <= view.spec.max + 1e-9;
+            const on = base.method === "feeler" && base.feelerGo != null && sameLength(base.feelerGo, b);
+            const inBand = bandSide(b, view.spec) === "in-band";
             // the blade's own label (an inch blade without its leading zero, to fit six across)
             const label = unit === "in" ? lengthNumber(b, "in").replace(/^0/, "") : lengthNumber(b, "mm");
             return (

@@ -1,4 +1,4 @@
-import { inchesToMm, INCH_BLADES_THOU, METRIC_BLADES_MM } from "../lash";
+import { compareLengths, inchesToMm, INCH_BLADES_THOU, METRIC_BLADES_MM } from "../lash";
 
 /** How many blades the strip shows: three rows of six on a phone, so none is off screen. */
 export const STRIP_BLADES = 18;
@@ -22,5 +22,5 @@ export function bladeStrip(set: number[], band: { min: number; max: number }, co
 
 /** The blade that will not enter when this one goes: the next thicker one in the set. */
 export function noGoOf(set: number[], go: number): number | undefined {
-  return [...set].sort((a, b) => a - b).find((b) => b > go + 1e-9);
+  return [...set].sort((a, b) => a - b).find((b) => compareLengths(b, go) > 0);
 }

@@ -1,5 +1,5 @@
 import Papa from "papaparse";
-import { fromNm, inchesToMm, lengthMm, toNm, valveNames, type LengthUnit } from "../lash";
+import { compareLengths, fromNm, inchesToMm, lengthMm, toNm, valveNames, type LengthUnit } from "../lash";
 import { readingInput, readingProblems, type ReadingInput } from "../schemas/records";
 import { engineSizes } from "./derive";
 import type { LocalEngine } from "../sync/local-db";
@@ -349,7 +349,7 @@ export function readChecksCsv(
     if (
       len.clearance != null &&
       len.go != null &&
-      (len.clearance < len.go - 1e-9 || (len.noGo != null && len.clearance >= len.noGo - 1e-9))
+      (compareLengths(len.clearance, len.go) < 0 || (len.noGo != null && compareLengths(len.clearance, len.noGo) >= 0))
     )
       row.errors.push(
         `clearance ${len.clearance} mm does not lie between the go blade (${len.go}) and the no-go blade (${len.noGo ?? "none"})`,

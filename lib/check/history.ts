@@ -4,6 +4,8 @@ import {
   driftProjection,
   roundOdometer,
   fastClosingValves,
+  fromNm,
+  toNm,
   valveNames,
   type DriftResult,
 } from "../lash";
@@ -41,7 +43,7 @@ export function engineHistory(
       return [
         {
           odometer: byCheck.get(r.checkId)!.odometer,
-          gap: Math.round((installed + r.measured) * 1e6) / 1e6,
+          gap: fromNm(toNm(installed) + toNm(r.measured)),
           installed,
           measured: r.measured,
           checkId: r.checkId,

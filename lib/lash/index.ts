@@ -5,6 +5,8 @@ export {
   mmToInches,
   toNm,
   fromNm,
+  compareLengths,
+  sameLength,
   roundForDisplay,
   formatLength,
   lengthNumber,
@@ -20,9 +22,11 @@ export {
   recommendShim,
   bandNm,
   inBand,
+  bandSide,
   distanceFromBand,
   type ShimRecommendation,
   type BandNm,
+  type BandSide,
 } from "./shim";
 export {
   planShims,

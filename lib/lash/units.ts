@@ -18,6 +18,20 @@ export function fromNm(nm: number): number {
   return nm / NM_PER_MM;
 }
 
+/**
+ * Two lengths in mm compared in whole nanometres: negative when a is shorter, 0 when they are the same
+ * length, positive when a is longer. The one comparison of lengths outside the core: a float compare
+ * with an epsilon calls lengths 0.8 nm apart equal and 0.4 nm apart different at other magnitudes.
+ */
+export function compareLengths(a: number, b: number): number {
+  return toNm(a) - toNm(b);
+}
+
+/** Whether two lengths in mm are the same to the nanometre (0.1 + 0.2 is 0.3). */
+export function sameLength(a: number, b: number): boolean {
+  return toNm(a) === toNm(b);
+}
+
 export function inchesToMm(inches: number): number {
   if (!Number.isFinite(inches)) throw new RangeError("inchesToMm: not a finite number");
   return fromNm(Math.round(inches * NM_PER_INCH));

@@ -10,6 +10,8 @@ import {
   specSchema,
   timingSchema,
   LashInputError,
+  INSTALLED_RANGE_SLACK_MM,
+  toNm,
 } from "../lash";
 import { parseValveName } from "../lash/valves";
 import { VERDICT_NAMES } from "../check/verdicts";
@@ -201,8 +203,9 @@ export function readingProblems(
   rs: ReadingInput[],
 ): Record<string, string> {
   const out: Record<string, string> = {};
-  const lo = Math.min(...engine.shimSizes) - 0.1 - 1e-9;
-  const hi = Math.max(...engine.shimSizes) + 0.1 + 1e-9;
+  const slack = toNm(INSTALLED_RANGE_SLACK_MM);
+  const lo = Math.min(...engine.shimSizes.map(toNm)) - slack;
+  const hi = Math.max(...engine.shimSizes.map(toNm)) + slack;
   rs.forEach((r, i) => {
     const v = parseValveName(r.valve)!;
     const per = v.kind === "intake" ? engine.intakePerCylinder : engine.exhaustPerCylinder;
@@ -210,7 +213,8 @@ export function readingProblems(
       out[`readings.${i}.valve`] = `this engine has no valve ${r.valve}`;
     for (const f of ["installedStamp", "installedMicrometer", "fittedShim"] as const) {
       const s = r[f];
-      if (s != null && (s < lo || s > hi)) out[`readings.${i}.${f}`] = `${s} mm is outside this engine's shim range`;
+      if (s != null && (toNm(s) < lo || toNm(s) > hi))
+        out[`readings.${i}.${f}`] = `${s} mm is outside this engine's shim range`;
     }
   });
   return out;
