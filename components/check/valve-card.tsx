@@ -22,6 +22,7 @@ import { inputClass } from "@/components/ui/controls";
 // loaded with the card, not after it: a strip arriving later grows the card under the mechanic's
 // finger and moves the buttons below it, so a tap lands on something else
 import { PhotoStrip } from "@/components/photos/photo-strip";
+import { parseDecimal } from "@/lib/parse-decimal";
 
 export type ReadingEntry = Pick<
   LocalReading,
@@ -170,8 +171,8 @@ function ValveCardBody({
     );
   };
   const saveTyped = () => {
-    const value = Number(typed.replace(",", "."));
-    if (!typed.trim() || !Number.isFinite(value)) return;
+    const value = parseDecimal(typed);
+    if (value == null || !Number.isFinite(value)) return;
     void save({ measured: value, feelerGo: null, feelerNoGo: null, method: "typed" });
     setTyped("");
     onRecorded?.(said(`${formatLength(value, unit)} (typed)`, value), true);
@@ -242,7 +243,7 @@ function ValveCardBody({
           className="flex gap-2"
           onSubmit={(e) => {
             e.preventDefault();
-            void save({ installedMicrometer: mic.trim() ? Number(mic.replace(",", ".")) : null });
+            void save({ installedMicrometer: parseDecimal(mic) });
           }}
         >
           <input

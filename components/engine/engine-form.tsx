@@ -11,6 +11,7 @@ import { saveEngine } from "@/lib/sync/later";
 import type { LocalEngine } from "@/lib/sync/local-db";
 import { useLocalCore } from "@/components/sync/local-provider";
 import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
+import { parseDecimal } from "@/lib/parse-decimal";
 
 /** Form values are what the fields hold (text); the shared engine schema decides what is valid. */
 interface FormValues {
@@ -38,7 +39,7 @@ interface FormValues {
   odometerUnit: "km" | "mi" | "h";
 }
 
-const num = (s: string) => (s.trim() === "" ? undefined : Number(s.replace(",", ".")));
+const num = (s: string) => parseDecimal(s) ?? undefined;
 const list = (s: string) =>
   s
     .split(/[\s,;-]+/)

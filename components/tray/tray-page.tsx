@@ -7,6 +7,7 @@ import { useLocalCore } from "@/components/sync/local-provider";
 import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
 import { OfferForm } from "@/components/pool/offer-form";
 import { sameLength, shimNumber } from "@/lib/lash";
+import { parseDecimal } from "@/lib/parse-decimal";
 
 /** The loose shims on hand, by size and count; the plan takes from here and fitting updates it. */
 export function TrayPage() {
@@ -19,9 +20,9 @@ export function TrayPage() {
   if (!items) return null;
   const add = async () => {
     if (!db) return;
-    const n = Number(size.replace(",", "."));
-    if (!Number.isFinite(n) || n <= 0 || n > 20) return setError("Enter the shim's size in mm, e.g. 2.65");
-    const d = diameter.trim() ? Number(diameter.replace(",", ".")) : null;
+    const n = parseDecimal(size);
+    if (n == null || !Number.isFinite(n) || n <= 0 || n > 20) return setError("Enter the shim's size in mm, e.g. 2.65");
+    const d = parseDecimal(diameter);
     if (d != null && (!Number.isFinite(d) || d <= 0 || d > 60))
       return setError("Enter the shim's diameter in mm, e.g. 7.48, or leave it empty");
     setError(null);
