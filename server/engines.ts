@@ -1,5 +1,5 @@
 import "server-only";
-import { shimSeries } from "@/lib/lash";
+import { fieldErrors, shimSeries } from "@/lib/lash";
 import { engineInput, readingProblems, type ReadingInput } from "@/lib/schemas/records";
 import { engineToApi, type ApiEngine } from "@/db/queries/garage";
 import type { engines } from "@/db/schema";
@@ -16,7 +16,7 @@ export function mergeEngine(row: typeof engines.$inferSelect, patch: Record<stri
   const merged = { ...current, ...patch };
   const parsed = engineInput.safeParse(merged);
   if (!parsed.success) {
-    throw invalidFields(Object.fromEntries(parsed.error.issues.map((i) => [i.path.join(".") || "_", i.message])));
+    throw invalidFields(fieldErrors(parsed.error.issues));
   }
   return parsed.data;
 }

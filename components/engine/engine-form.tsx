@@ -4,7 +4,7 @@ import { useLiveQuery } from "@/components/sync/use-live-query";
 import { useRouter, useSearchParams } from "next/navigation";
 import { useEffect, useState, type ReactNode } from "react";
 import { useForm, type Resolver } from "react-hook-form";
-import { ENGINE_PRESETS, type NearSide, type ShimPosition } from "@/lib/lash";
+import { ENGINE_PRESETS, fieldErrors, type NearSide, type ShimPosition } from "@/lib/lash";
 import { SHIM_POSITION_WORDS } from "@/lib/check/shim-position";
 import { engineInput } from "@/lib/schemas/records";
 import { saveEngine } from "@/lib/sync/later";
@@ -153,14 +153,19 @@ const resolverFor =
     if (parsed.success && !unsaid) return { values, errors: {} };
     const errors: Record<string, { type: string; message: string }> = {};
     if (unsaid) errors.shimPosition = { type: "required", message: MISSING.shimPosition! };
-    for (const i of parsed.success ? [] : parsed.error.issues) {
-      let key = i.path.map(String).join(".");
-      if (key.startsWith("firingOrder")) key = "firingOrder";
-      if (key.startsWith("firingAngles")) key = "firingAngles";
-      if (key === "shims") key = "shims.step";
+    // a problem with one item of a list is shown at the list; the series as a whole at its step
+    const fieldOf = (path: string) =>
+      path.startsWith("firingOrder")
+        ? "firingOrder"
+        : path.startsWith("firingAngles")
+          ? "firingAngles"
+          : path === "shims"
+            ? "shims.step"
+            : path;
+    for (const [key, message] of Object.entries(fieldErrors(parsed.success ? [] : parsed.error.issues, fieldOf))) {
       const value = valueAt(values, key);
       const missing = typeof value === "string" && value.trim() === "" ? MISSING[key] : undefined;
-      errors[key] ??= { type: "schema", message: missing ?? i.message };
+      errors[key] ??= { type: "schema", message: missing ?? message };
     }
     // react-hook-form wants nested error objects for nested fields
     const nested: Record<string, unknown> = {};

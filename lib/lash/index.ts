@@ -1,5 +1,5 @@
 /** The valve-clearance computation core: pure functions shared by the browser and the server. */
-export { LashInputError, parseOrThrow, type LashIssue } from "./errors";
+export { LashInputError, parseOrThrow, fieldErrors, issuePath, type LashIssue, type IssueLike } from "./errors";
 export {
   inchesToMm,
   mmToInches,
