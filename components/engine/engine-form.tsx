@@ -4,7 +4,16 @@ import { useLiveQuery } from "@/components/sync/use-live-query";
 import { useRouter, useSearchParams } from "next/navigation";
 import { useEffect, useState, type ReactNode } from "react";
 import { useForm, type Resolver } from "react-hook-form";
-import { ENGINE_PRESETS, fieldErrors, type NearSide, type ShimPosition } from "@/lib/lash";
+import {
+  ENGINE_PRESETS,
+  fieldErrors,
+  LENGTH_UNITS,
+  ODOMETER_UNITS,
+  type LengthUnit,
+  type OdometerUnit,
+  type NearSide,
+  type ShimPosition,
+} from "@/lib/lash";
 import { SHIM_POSITION_WORDS } from "@/lib/check/shim-position";
 import { engineInput } from "@/lib/schemas/records";
 import { saveEngine } from "@/lib/sync/later";
@@ -35,9 +44,12 @@ interface FormValues {
   facing: "left" | "right";
   /** the side of the head nearest the mechanic, drawn at the bottom */
   nearSide: NearSide;
-  displayUnit: "mm" | "in";
-  odometerUnit: "km" | "mi" | "h";
+  displayUnit: LengthUnit;
+  odometerUnit: OdometerUnit;
 }
+
+const LENGTH_UNIT_WORDS: Record<LengthUnit, string> = { mm: "millimetres", in: "inches" };
+const ODOMETER_UNIT_WORDS: Record<OdometerUnit, string> = { km: "km", mi: "miles", h: "hours" };
 
 const num = (s: string) => parseDecimal(s) ?? undefined;
 const list = (s: string) =>
@@ -394,15 +406,20 @@ export function EngineForm() {
       <div className="grid grid-cols-2 gap-3">
         <Field id="displayUnit" label="Show lengths in">
           <select id="displayUnit" className={inputClass} {...form.register("displayUnit")}>
-            <option value="mm">millimetres</option>
-            <option value="in">inches</option>
+            {LENGTH_UNITS.map((u) => (
+              <option key={u} value={u}>
+                {LENGTH_UNIT_WORDS[u]}
+              </option>
+            ))}
           </select>
         </Field>
         <Field id="odometerUnit" label="Odometer in">
           <select id="odometerUnit" className={inputClass} {...form.register("odometerUnit")}>
-            <option value="km">km</option>
-            <option value="mi">miles</option>
-            <option value="h">hours</option>
+            {ODOMETER_UNITS.map((u) => (
+              <option key={u} value={u}>
+                {ODOMETER_UNIT_WORDS[u]}
+              </option>
+            ))}
           </select>
         </Field>
       </div>

@@ -3,6 +3,7 @@ import { and, eq, gt, isNull, sql } from "drizzle-orm";
 import { createHash, randomBytes } from "node:crypto";
 import { db } from "../client";
 import { authTokens, users } from "../schema";
+import type { LengthUnit } from "@/lib/lash";
 
 /** The columns any caller may see of a user: never the password hash. */
 export const publicUserColumns = {
@@ -12,7 +13,7 @@ export const publicUserColumns = {
   displayUnit: users.displayUnit,
   noticesByEmail: users.noticesByEmail,
 } as const;
-export type PublicUser = { id: string; email: string; name: string; displayUnit: "mm" | "in"; noticesByEmail: boolean };
+export type PublicUser = { id: string; email: string; name: string; displayUnit: LengthUnit; noticesByEmail: boolean };
 
 export async function getPublicUser(id: string): Promise<PublicUser | undefined> {
   const [u] = await db().select(publicUserColumns).from(users).where(eq(users.id, id)).limit(1);
@@ -75,7 +76,7 @@ export async function updateUser(
   id: string,
   patch: Partial<{
     name: string;
-    displayUnit: "mm" | "in";
+    displayUnit: LengthUnit;
     noticesByEmail: boolean;
     passwordHash: string | null;
     emailVerifiedAt: Date;

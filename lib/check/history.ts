@@ -5,6 +5,7 @@ import {
   roundOdometer,
   fastClosingValves,
   fromNm,
+  type OdometerUnit,
   toNm,
   valveNames,
   type DriftResult,
@@ -76,14 +77,14 @@ export function engineHistory(
   return { valves, fastClosing };
 }
 
-const fmtOdo = (x: number, unit: "km" | "mi" | "h") => `${roundOdometer(x, unit).toLocaleString("en")} ${unit}`;
+const fmtOdo = (x: number, unit: OdometerUnit) => `${roundOdometer(x, unit).toLocaleString("en")} ${unit}`;
 
 /**
  * The sentence under a valve's chart: what its checks show, in words that promise no more than the
  * readings hold (the rules are driftProjection's verdicts). A projection is a rounded range, never a
  * single figure to the kilometre.
  */
-export function driftWords(h: ValveHistory, unit: "km" | "mi" | "h"): string {
+export function driftWords(h: ValveHistory, unit: OdometerUnit): string {
   const d = h.drift;
   const per = `mm per 1,000 ${unit}`;
   switch (d.verdict) {

@@ -13,7 +13,10 @@ export {
   shimNumber,
   NM_PER_MM,
   MM_PER_INCH,
+  LENGTH_UNITS,
+  ODOMETER_UNITS,
   type LengthUnit,
+  type OdometerUnit,
 } from "./units";
 export * from "./schemas";
 export { clearanceFromFeelers, type Clearance } from "./feeler";

@@ -42,7 +42,13 @@ export function mmToInches(mm: number): number {
   return mm / MM_PER_INCH;
 }
 
-export type LengthUnit = "mm" | "in";
+/** The units a length is shown in; stored lengths are always millimetres. */
+export const LENGTH_UNITS = ["mm", "in"] as const;
+export type LengthUnit = (typeof LENGTH_UNITS)[number];
+
+/** What an engine's odometer counts: kilometres, miles, or hours on an hour meter. */
+export const ODOMETER_UNITS = ["km", "mi", "h"] as const;
+export type OdometerUnit = (typeof ODOMETER_UNITS)[number];
 
 /**
  * Display rounding (README "The computation core"): mm to 0.01, or 0.001 for micrometer-measured shims;

@@ -10,12 +10,15 @@ import {
   specSchema,
   timingSchema,
   LashInputError,
+  LENGTH_UNITS,
+  ODOMETER_UNITS,
   INSTALLED_RANGE_SLACK_MM,
   toNm,
 } from "../lash";
 import { parseValveName } from "../lash/valves";
 import { VERDICT_NAMES } from "../check/verdicts";
 import { labelSchema } from "./label";
+import { ROLES } from "../roles";
 
 /**
  * Input schemas of the records the API and the offline outbox accept. One schema per resource; the
@@ -63,8 +66,8 @@ const engineFieldsV1 = z.object({
   shims: shimSystem,
   shimDiameter: positiveLengthMm.nullable().optional(),
   assembledShim: positiveLengthMm.nullable().optional(),
-  displayUnit: z.enum(["mm", "in"]).default("mm"),
-  odometerUnit: z.enum(["km", "mi", "h"]).default("km"),
+  displayUnit: z.enum(LENGTH_UNITS).default("mm"),
+  odometerUnit: z.enum(ODOMETER_UNITS).default("km"),
   mirrored: z.boolean().default(false),
 });
 
@@ -173,7 +176,7 @@ export const trayItemInput = z.object({
 export const trayItemUpdate = trayItemInput.omit({ id: true }).partial();
 
 export const clubInput = z.object({ name });
-export const roleSchema = z.enum(["mechanic", "mentor", "admin"]);
+export const roleSchema = z.enum(ROLES);
 export const rolesInput = z.object({ roles: z.array(roleSchema).min(1, { error: "give at least one role" }).max(3) });
 export const inviteInput = z.object({
   email: z
