@@ -562,3 +562,18 @@ export const objectDeletions = mysqlTable(
   },
   (t) => [index("object_deletions_next_idx").on(t.nextAttemptAt)],
 );
+
+/*
+ * What a select of a table gives, named once here for the queries and services that pass rows around
+ * (derived, so a new column is in them at once); a function that needs a few columns takes a Pick.
+ */
+export type UserRow = typeof users.$inferSelect;
+export type EngineRow = typeof engines.$inferSelect;
+export type CheckRow = typeof checks.$inferSelect;
+export type ReadingRow = typeof readings.$inferSelect;
+export type TrayItemRow = typeof trayItems.$inferSelect;
+export type BorrowRequestRow = typeof borrowRequests.$inferSelect;
+export type ShareRow = typeof shares.$inferSelect;
+export type CommentRow = typeof comments.$inferSelect;
+export type UploadRow = typeof uploads.$inferSelect;
+export type NoticeRow = typeof notices.$inferSelect;
