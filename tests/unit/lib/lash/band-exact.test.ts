@@ -4,6 +4,7 @@ import { bandSide, compareLengths, sameLength, METRIC_BLADES_MM } from "@/lib/la
 import { measuredState } from "@/lib/check/derive";
 import { noGoOf } from "@/lib/check/blades";
 import { readingProblems } from "@/lib/schemas/records";
+import { poolForEngine, trayForEngine } from "@/lib/check/pool";
 
 // Hand-worked cases: lengths are decided in whole nanometres (toNm rounds to the nearest one; 1 mm is
 // 10^6 nm), so a clearance 0.6 nm past an edge is past it, 0.4 nm past it is on it, and sums of
@@ -62,5 +63,30 @@ describe("in band, decided in nanometres by the core", () => {
         expect(bandSide(c / 1e5, { min: lo / 1e5, max: hi / 1e5 })).toBe(want);
       }),
     );
+  });
+});
+
+describe("a shim system's diameter, matched in nanometres", () => {
+  const offer = (shimDiameter: number) => ({
+    id: "o",
+    size: 2.5,
+    count: 1,
+    ownerId: "a",
+    ownerName: "A",
+    shimDiameter,
+  });
+  const fits = (engine: number, d: number) =>
+    trayForEngine({ shimDiameter: engine }, [{ ...offer(d) }]).usable.length === 1;
+
+  it("takes diameters less than 0.005 mm apart as one system, on either side", () => {
+    expect(fits(7.48, 7.484)).toBe(true);
+    expect(fits(7.48, 7.476)).toBe(true);
+    expect(poolForEngine({ shimDiameter: 7.48 }, [offer(7.484)], "me").pool).toHaveLength(1);
+  });
+
+  it("takes diameters 0.005 mm apart as two systems, above as below (floats said 7.485 fits 7.48, 7.475 not)", () => {
+    expect(fits(7.48, 7.485)).toBe(false);
+    expect(fits(7.48, 7.475)).toBe(false);
+    expect(poolForEngine({ shimDiameter: 7.48 }, [offer(7.485)], "me").wrongSystem).toHaveLength(1);
   });
 });
