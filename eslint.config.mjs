@@ -32,6 +32,23 @@ export default defineConfig([
       ],
     },
   },
+  {
+    // One decimal parser (lib/parse-decimal.ts): a decimal comma turned into a point anywhere else is a
+    // second rule for what a typed number means.
+    files: ["**/*.{ts,tsx,mjs,js}"],
+    ignores: ["lib/parse-decimal.ts"],
+    rules: {
+      "no-restricted-syntax": [
+        "error",
+        {
+          // s.replace(",", "."), s.replaceAll(",", "."), s.replace(/,/g, ".")
+          selector:
+            "CallExpression[callee.property.name=/^replace(All)?$/]:matches([arguments.0.value=','], [arguments.0.regex.pattern=',']):matches([arguments.1.value='.'])",
+          message: "Read typed decimals with parseDecimal from lib/parse-decimal.ts.",
+        },
+      ],
+    },
+  },
   globalIgnores([
     ".next/**",
     ".next-*/**",

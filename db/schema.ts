@@ -1,6 +1,8 @@
 import { BORROW_STATES } from "../lib/pool/rules";
 import { VERDICT_NAMES } from "../lib/check/verdicts";
 import { CHECK_STATUSES } from "../lib/schemas/records";
+import { ROLES, type Role } from "../lib/roles";
+import { LENGTH_UNITS, ODOMETER_UNITS } from "../lib/lash/units";
 import { NEAR_SIDES, SHIM_POSITIONS } from "../lib/lash/schemas";
 import {
   bigint,
@@ -36,8 +38,8 @@ const createdAt = () => timestamp("created_at", { fsp: 3 }).notNull().defaultNow
 const updatedAt = () => timestamp("updated_at", { fsp: 3 }).notNull().defaultNow().onUpdateNow();
 const version = () => bigint("version", { mode: "number", unsigned: true }).notNull().default(0);
 
-export const roles = ["mechanic", "mentor", "admin"] as const;
-export type Role = (typeof roles)[number];
+// the role column's type, for the queries and services that read it (the list is lib's)
+export type { Role };
 
 export const users = mysqlTable(
   "users",
@@ -47,7 +49,7 @@ export const users = mysqlTable(
     name: varchar("name", { length: 120 }).notNull(),
     passwordHash: varchar("password_hash", { length: 100 }),
     emailVerifiedAt: timestamp("email_verified_at", { fsp: 3 }),
-    displayUnit: mysqlEnum("display_unit", ["mm", "in"]).notNull().default("mm"),
+    displayUnit: mysqlEnum("display_unit", LENGTH_UNITS).notNull().default("mm"),
     noticesByEmail: boolean("notices_by_email").notNull().default(true),
     /** raised at sign-out: tokens minted under an older generation stop working at once */
     sessionGeneration: int("session_generation").notNull().default(0),
@@ -83,7 +85,7 @@ export const memberships = mysqlTable(
     userId: ref("user_id")
       .notNull()
       .references(() => users.id, { onDelete: "cascade" }),
-    role: mysqlEnum("role", roles).notNull(),
+    role: mysqlEnum("role", ROLES).notNull(),
     createdAt: createdAt(),
   },
   (t) => [
@@ -100,7 +102,7 @@ export const invites = mysqlTable(
       .notNull()
       .references(() => clubs.id, { onDelete: "cascade" }),
     email: varchar("email", { length: 254 }).notNull(),
-    role: mysqlEnum("role", roles).notNull().default("mechanic"),
+    role: mysqlEnum("role", ROLES).notNull().default("mechanic"),
     tokenHash: char("token_hash", { length: 64 }).notNull(),
     /** null once that account is deleted (its pending invitations are withdrawn first) */
     invitedBy: ref("invited_by").references(() => users.id, { onDelete: "set null" }),
@@ -203,8 +205,8 @@ export const engines = mysqlTable(
     shimSizes: json("shim_sizes").$type<number[] | null>(),
     shimDiameter: mm("shim_diameter"),
     assembledShim: mm("assembled_shim"),
-    displayUnit: mysqlEnum("display_unit", ["mm", "in"]).notNull().default("mm"),
-    odometerUnit: mysqlEnum("odometer_unit", ["km", "mi", "h"]).notNull().default("km"),
+    displayUnit: mysqlEnum("display_unit", LENGTH_UNITS).notNull().default("mm"),
+    odometerUnit: mysqlEnum("odometer_unit", ODOMETER_UNITS).notNull().default("km"),
     mirrored: boolean("mirrored").notNull().default(false),
     /** where the shims sit, over or under the bucket; null: not said (an engine from before it was asked) */
     shimPosition: mysqlEnum("shim_position", SHIM_POSITIONS),
@@ -560,3 +562,18 @@ export const objectDeletions = mysqlTable(
   },
   (t) => [index("object_deletions_next_idx").on(t.nextAttemptAt)],
 );
+
+/*
+ * What a select of a table gives, named once here for the queries and services that pass rows around
+ * (derived, so a new column is in them at once); a function that needs a few columns takes a Pick.
+ */
+export type UserRow = typeof users.$inferSelect;
+export type EngineRow = typeof engines.$inferSelect;
+export type CheckRow = typeof checks.$inferSelect;
+export type ReadingRow = typeof readings.$inferSelect;
+export type TrayItemRow = typeof trayItems.$inferSelect;
+export type BorrowRequestRow = typeof borrowRequests.$inferSelect;
+export type ShareRow = typeof shares.$inferSelect;
+export type CommentRow = typeof comments.$inferSelect;
+export type UploadRow = typeof uploads.$inferSelect;
+export type NoticeRow = typeof notices.$inferSelect;

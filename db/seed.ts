@@ -15,6 +15,7 @@ import {
   shares,
   trayItems,
   users,
+  type Role,
 } from "./schema";
 import { nextVersion } from "./versions";
 import { DEMO_PASSWORD, DEMO_USERS } from "../scripts/lib/demo-users.mjs";
@@ -150,7 +151,7 @@ export async function seedDemo(): Promise<{ seeded: boolean }> {
         [...new Set<string>(["mechanic", ...u.roles])].map((role) => ({
           clubId,
           userId: userIds[i]!,
-          role: role as "mechanic" | "mentor" | "admin",
+          role: role as Role,
         })),
       ),
     );

@@ -1,5 +1,5 @@
 import "server-only";
-import type { Role } from "@/db/schema";
+import type { CheckRow, Role } from "@/db/schema";
 import type { Executor } from "@/db/client";
 import { forbidden, notFound } from "@/lib/errors";
 import { getCheckRow, getEngineRow, getTrayRow } from "@/db/queries/garage";
@@ -36,7 +36,7 @@ export const ownOrNewTrayItem = async (ex: Executor, user: SessionUser, id: stri
   ownOrNew(await getTrayRow(ex, id), user, "tray item");
 
 export type CheckAccess = {
-  check: NonNullable<Awaited<ReturnType<typeof getCheckRow>>>;
+  check: CheckRow;
   as: "owner" | "mentor";
   mentorShares: { shareId: string; clubId: string }[];
 };

@@ -23,7 +23,7 @@ import {
 import { engineToApi } from "@/db/queries/garage";
 import { getPublicUser } from "@/db/queries/users";
 import * as q from "@/db/queries/account-export";
-import type { borrowRequests, checks, comments, engines, readings, uploads } from "@/db/schema";
+import type { BorrowRequestRow, CheckRow, CommentRow, EngineRow, ReadingRow, UploadRow } from "@/db/schema";
 import { budget } from "./budgets";
 import { getObjectStream } from "./storage";
 import type { SessionUser } from "./auth";
@@ -133,14 +133,14 @@ async function entry(
 
 const isoOf = (d: Date | null) => (d ? d.toISOString() : null);
 
-export function engineOut(e: typeof engines.$inferSelect): ExportEngine {
+export function engineOut(e: EngineRow): ExportEngine {
   const out: Partial<ReturnType<typeof engineToApi>> = engineToApi(e);
   delete out.version;
   delete out.updatedAt;
   return out as ExportEngine;
 }
 
-const checkOut = (c: typeof checks.$inferSelect): ExportCheck => ({
+const checkOut = (c: CheckRow): ExportCheck => ({
   id: c.id,
   engineId: c.engineId,
   odometer: c.odometer,
@@ -151,9 +151,9 @@ const checkOut = (c: typeof checks.$inferSelect): ExportCheck => ({
   closedAt: isoOf(c.closedAt),
 });
 
-const readingOut = (r: typeof readings.$inferSelect): ExportReading => readingForFile(r, isoOf(r.fittedAt));
+const readingOut = (r: ReadingRow): ExportReading => readingForFile(r, isoOf(r.fittedAt));
 
-const commentOut = (c: typeof comments.$inferSelect) => ({
+const commentOut = (c: CommentRow) => ({
   id: c.id,
   checkId: c.checkId,
   valve: c.valve,
@@ -161,7 +161,7 @@ const commentOut = (c: typeof comments.$inferSelect) => ({
   createdAt: c.createdAt.toISOString(),
 });
 
-const photoOut = (p: typeof uploads.$inferSelect, userId: string) => ({
+const photoOut = (p: UploadRow, userId: string) => ({
   id: p.id,
   checkId: p.checkId,
   valve: p.valve,
@@ -175,7 +175,7 @@ const photoOut = (p: typeof uploads.$inferSelect, userId: string) => ({
   file: photoEntryName(p.id),
 });
 
-const loanOut = (l: typeof borrowRequests.$inferSelect, userId: string) => ({
+const loanOut = (l: BorrowRequestRow, userId: string) => ({
   id: l.id,
   role: l.borrowerId === userId ? ("borrower" as const) : ("lender" as const),
   size: l.size,

@@ -1,8 +1,8 @@
 import "server-only";
-import { shimSeries } from "@/lib/lash";
+import { fieldErrors, shimSeries } from "@/lib/lash";
 import { engineInput, readingProblems, type ReadingInput } from "@/lib/schemas/records";
 import { engineToApi, type ApiEngine } from "@/db/queries/garage";
-import type { engines } from "@/db/schema";
+import type { EngineRow } from "@/db/schema";
 import { invalidFields } from "@/lib/errors";
 
 /** The engine's shim sizes, from its series or explicit list. */
@@ -11,17 +11,17 @@ export function engineSizes(e: Pick<ApiEngine, "shims">): number[] {
 }
 
 /** Merge a partial update into the stored engine and validate the result as a whole. */
-export function mergeEngine(row: typeof engines.$inferSelect, patch: Record<string, unknown>) {
+export function mergeEngine(row: EngineRow, patch: Record<string, unknown>) {
   const current = engineToApi(row);
   const merged = { ...current, ...patch };
   const parsed = engineInput.safeParse(merged);
   if (!parsed.success) {
-    throw invalidFields(Object.fromEntries(parsed.error.issues.map((i) => [i.path.join(".") || "_", i.message])));
+    throw invalidFields(fieldErrors(parsed.error.issues));
   }
   return parsed.data;
 }
 
-export function checkReadingsFit(row: typeof engines.$inferSelect, rs: ReadingInput[]) {
+export function checkReadingsFit(row: EngineRow, rs: ReadingInput[]) {
   const e = engineToApi(row);
   const problems = readingProblems({ ...e, shimSizes: engineSizes(e) }, rs);
   if (Object.keys(problems).length) throw invalidFields(problems);

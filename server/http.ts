@@ -1,7 +1,7 @@
 import "server-only";
 import { NextResponse, type NextRequest } from "next/server";
-import { z, ZodError } from "zod";
-import { LashInputError } from "@/lib/lash";
+import { z } from "zod";
+import { fieldErrors, LashInputError } from "@/lib/lash";
 import { ID_PATTERN } from "@/lib/schemas/records";
 import { domainErrorOf, type DomainError, type DomainErrorKind } from "@/lib/errors";
 import { isTransientDbError } from "@/db/errors";
@@ -88,16 +88,6 @@ function routePattern(path: string, params: Record<string, string | string[]>): 
   return used.size === Object.keys(params).length ? out.join("/") : undefined;
 }
 
-function fieldsFromZod(e: ZodError): Record<string, string> {
-  // a Map, not an object: a field named "__proto__" or "constructor" by the caller stays a plain key
-  const fields = new Map<string, string>();
-  for (const i of e.issues) {
-    const key = i.path.map(String).join(".") || "_";
-    if (!fields.has(key)) fields.set(key, i.message);
-  }
-  return Object.fromEntries(fields);
-}
-
 type Ctx<P, Q, B, A extends boolean> = {
   req: NextRequest;
   params: P;
@@ -168,7 +158,7 @@ export function route<
         ? opts.query.safeParse(Object.fromEntries(req.nextUrl.searchParams))
         : { success: true as const, data: {} };
       if (!query.success)
-        return errorResponse(422, "invalid", "The query string is not valid", fieldsFromZod(query.error));
+        return errorResponse(422, "invalid", "The query string is not valid", fieldErrors(query.error.issues));
       // after the ids, so a hostile id answers 404 whatever was sent; before anything is read
       const wrongType = opts.body ? contentTypeRefusal(req, "json") : null;
       if (wrongType) throw wrongType;
@@ -183,7 +173,7 @@ export function route<
         }
         const parsed = opts.body.safeParse(json);
         if (!parsed.success) {
-          const fields = fieldsFromZod(parsed.error);
+          const fields = fieldErrors(parsed.error.issues);
           const first = Object.entries(fields)[0];
           return errorResponse(422, "invalid", first ? `${first[0]}: ${first[1]}` : "The body is not valid", fields);
         }
@@ -204,7 +194,7 @@ export function route<
       if (d) return domainResponse(d);
       if (isTransientDbError(e)) return overloadedResponse();
       if (e instanceof LashInputError) {
-        const fields = Object.fromEntries(e.issues.map((i) => [i.path || "_", i.message]));
+        const fields = fieldErrors(e.issues);
         return errorResponse(422, "invalid", e.message, Object.keys(fields).length ? fields : undefined);
       }
       log.error({ err: e, requestId, method: req.method, path: req.nextUrl.pathname }, "request failed");

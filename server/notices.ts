@@ -9,8 +9,8 @@ import {
   postponeNotices,
   stopNotices,
   type NoticeInput,
-  type NoticeRow,
 } from "@/db/queries/notices";
+import type { NoticeRow } from "@/db/schema";
 import { usersByIds } from "@/db/queries/clubs";
 import { env } from "@/lib/env";
 import { merge } from "@/lib/mail/digest";

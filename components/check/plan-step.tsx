@@ -2,7 +2,7 @@
 
 import dynamic from "next/dynamic";
 import { useState } from "react";
-import { camsOut, camsOutWords, formatLength, shimNumber, type ShimPlan } from "@/lib/lash";
+import { camsOut, camsOutWords, formatLength, shimNumber, type LengthUnit, type ShimPlan } from "@/lib/lash";
 import { SHIM_POSITION_WORDS } from "@/lib/check/shim-position";
 import type { PlanOptions, ValveView } from "@/lib/check/derive";
 import type { PoolFit } from "@/lib/check/pool";
@@ -203,7 +203,7 @@ function PlanAimChoice({
 }: {
   options: PlanOptions;
   setOptions: (o: PlanOptions) => void;
-  unit: "mm" | "in";
+  unit: LengthUnit;
   bothAims: boolean;
   plan: ShimPlan | null;
 }) {

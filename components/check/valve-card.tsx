@@ -1,7 +1,18 @@
 "use client";
 
 import { memo, useEffect, useRef, useState, type MouseEvent } from "react";
-import { clearanceFromFeelers, formatLength, lengthNumber, recommendShim, shimNumber } from "@/lib/lash";
+import {
+  bandSide,
+  clearanceFromFeelers,
+  compareLengths,
+  formatLength,
+  fromNm,
+  lengthNumber,
+  recommendShim,
+  sameLength,
+  shimNumber,
+  toNm,
+} from "@/lib/lash";
 import { bladeStrip, feelerSet, noGoOf } from "@/lib/check/blades";
 import { measuredState, STATE_WORDS, valveLabel, type ValveView } from "@/lib/check/derive";
 import { foundWords } from "@/lib/check/rounds";
@@ -11,6 +22,7 @@ import { inputClass } from "@/components/ui/controls";
 // loaded with the card, not after it: a strip arriving later grows the card under the mechanic's
 // finger and moves the buttons below it, so a tap lands on something else
 import { PhotoStrip } from "@/components/photos/photo-strip";
+import { parseDecimal } from "@/lib/parse-decimal";
 
 export type ReadingEntry = Pick<
   LocalReading,
@@ -132,8 +144,9 @@ function ValveCardBody({
   const save = (patch: Partial<ReadingEntry>) => onSave({ ...base, ...patch });
   const stepShim = (dir: 1 | -1) => {
     const cur = stamp ?? sizes[Math.floor(sizes.length / 2)]!;
-    const next = Math.round((cur + dir * step) * 1e6) / 1e6;
-    if (next >= sizes[0]! - 1e-9 && next <= sizes.at(-1)! + 1e-9) void save({ installedStamp: next });
+    const next = fromNm(toNm(cur) + dir * toNm(step));
+    if (compareLengths(next, sizes[0]!) >= 0 && compareLengths(next, sizes.at(-1)!) <= 0)
+      void save({ installedStamp: next });
   };
   const said = (interval: string, value: number) => {
     const inside = micrometer ?? stamp;
@@ -158,8 +171,8 @@ function ValveCardBody({
     );
   };
   const saveTyped = () => {
-    const value = Number(typed.replace(",", "."));
-    if (!typed.trim() || !Number.isFinite(value)) return;
+    const value = parseDecimal(typed);
+    if (value == null || !Number.isFinite(value)) return;
     void save({ measured: value, feelerGo: null, feelerNoGo: null, method: "typed" });
     setTyped("");
     onRecorded?.(said(`${formatLength(value, unit)} (typed)`, value), true);
@@ -230,7 +243,7 @@ function ValveCardBody({
           className="flex gap-2"
           onSubmit={(e) => {
             e.preventDefault();
-            void save({ installedMicrometer: mic.trim() ? Number(mic.replace(",", ".")) : null });
+            void save({ installedMicrometer: parseDecimal(mic) });
           }}
         >
           <input
@@ -254,8 +267,8 @@ function ValveCardBody({
           className="grid grid-cols-[repeat(auto-fill,minmax(3rem,1fr))] gap-2"
         >
           {blades.map((b) => {
-            const on = base.method === "feeler" && base.feelerGo != null && Math.abs(base.feelerGo - b) < 1e-9;
-            const inBand = b >= view.spec.min - 1e-9 && b <= view.spec.max + 1e-9;
+            const on = base.method === "feeler" && base.feelerGo != null && sameLength(base.feelerGo, b);
+            const inBand = bandSide(b, view.spec) === "in-band";
             // the blade's own label (an inch blade without its leading zero, to fit six across)
             const label = unit === "in" ? lengthNumber(b, "in").replace(/^0/, "") : lengthNumber(b, "mm");
             return (

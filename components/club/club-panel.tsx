@@ -6,9 +6,9 @@ import { useEffect, useState, type FormEvent } from "react";
 import { ApiFailure, fetchers, mutations, queryKeys, type ClubSummary } from "@/lib/api/client";
 import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
 import { PoolPanel } from "@/components/pool/pool-panel";
+import { ROLES, type Role } from "@/lib/roles";
 
-const ROLE_WORDS = { mechanic: "Mechanic", mentor: "Mentor", admin: "Admin" } as const;
-type Role = keyof typeof ROLE_WORDS;
+const ROLE_WORDS: Record<Role, string> = { mechanic: "Mechanic", mentor: "Mentor", admin: "Admin" };
 
 function Members({ club }: { club: ClubSummary }) {
   const qc = useQueryClient();
@@ -32,7 +32,7 @@ function Members({ club }: { club: ClubSummary }) {
             {isAdmin ? (
               <fieldset className="mt-2 flex flex-wrap gap-2">
                 <legend className="sr-only">Roles of {m.name}</legend>
-                {(Object.keys(ROLE_WORDS) as Role[]).map((r) => {
+                {ROLES.map((r) => {
                   const on = m.roles.includes(r);
                   return (
                     <button
@@ -100,7 +100,7 @@ function InviteForm({ club }: { club: ClubSummary }) {
           onChange={(e) => setRole(e.target.value as Role)}
           className={inputClass}
         >
-          {(Object.keys(ROLE_WORDS) as Role[]).map((r) => (
+          {ROLES.map((r) => (
             <option key={r} value={r}>
               {ROLE_WORDS[r]}
             </option>

@@ -4,13 +4,23 @@ import { useLiveQuery } from "@/components/sync/use-live-query";
 import { useRouter, useSearchParams } from "next/navigation";
 import { useEffect, useState, type ReactNode } from "react";
 import { useForm, type Resolver } from "react-hook-form";
-import { ENGINE_PRESETS, type NearSide, type ShimPosition } from "@/lib/lash";
+import {
+  ENGINE_PRESETS,
+  fieldErrors,
+  LENGTH_UNITS,
+  ODOMETER_UNITS,
+  type LengthUnit,
+  type OdometerUnit,
+  type NearSide,
+  type ShimPosition,
+} from "@/lib/lash";
 import { SHIM_POSITION_WORDS } from "@/lib/check/shim-position";
 import { engineInput } from "@/lib/schemas/records";
 import { saveEngine } from "@/lib/sync/later";
 import type { LocalEngine } from "@/lib/sync/local-db";
 import { useLocalCore } from "@/components/sync/local-provider";
 import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
+import { parseDecimal } from "@/lib/parse-decimal";
 
 /** Form values are what the fields hold (text); the shared engine schema decides what is valid. */
 interface FormValues {
@@ -34,11 +44,14 @@ interface FormValues {
   facing: "left" | "right";
   /** the side of the head nearest the mechanic, drawn at the bottom */
   nearSide: NearSide;
-  displayUnit: "mm" | "in";
-  odometerUnit: "km" | "mi" | "h";
+  displayUnit: LengthUnit;
+  odometerUnit: OdometerUnit;
 }
 
-const num = (s: string) => (s.trim() === "" ? undefined : Number(s.replace(",", ".")));
+const LENGTH_UNIT_WORDS: Record<LengthUnit, string> = { mm: "millimetres", in: "inches" };
+const ODOMETER_UNIT_WORDS: Record<OdometerUnit, string> = { km: "km", mi: "miles", h: "hours" };
+
+const num = (s: string) => parseDecimal(s) ?? undefined;
 const list = (s: string) =>
   s
     .split(/[\s,;-]+/)
@@ -152,14 +165,19 @@ const resolverFor =
     if (parsed.success && !unsaid) return { values, errors: {} };
     const errors: Record<string, { type: string; message: string }> = {};
     if (unsaid) errors.shimPosition = { type: "required", message: MISSING.shimPosition! };
-    for (const i of parsed.success ? [] : parsed.error.issues) {
-      let key = i.path.map(String).join(".");
-      if (key.startsWith("firingOrder")) key = "firingOrder";
-      if (key.startsWith("firingAngles")) key = "firingAngles";
-      if (key === "shims") key = "shims.step";
+    // a problem with one item of a list is shown at the list; the series as a whole at its step
+    const fieldOf = (path: string) =>
+      path.startsWith("firingOrder")
+        ? "firingOrder"
+        : path.startsWith("firingAngles")
+          ? "firingAngles"
+          : path === "shims"
+            ? "shims.step"
+            : path;
+    for (const [key, message] of Object.entries(fieldErrors(parsed.success ? [] : parsed.error.issues, fieldOf))) {
       const value = valueAt(values, key);
       const missing = typeof value === "string" && value.trim() === "" ? MISSING[key] : undefined;
-      errors[key] ??= { type: "schema", message: missing ?? i.message };
+      errors[key] ??= { type: "schema", message: missing ?? message };
     }
     // react-hook-form wants nested error objects for nested fields
     const nested: Record<string, unknown> = {};
@@ -388,15 +406,20 @@ export function EngineForm() {
       <div className="grid grid-cols-2 gap-3">
         <Field id="displayUnit" label="Show lengths in">
           <select id="displayUnit" className={inputClass} {...form.register("displayUnit")}>
-            <option value="mm">millimetres</option>
-            <option value="in">inches</option>
+            {LENGTH_UNITS.map((u) => (
+              <option key={u} value={u}>
+                {LENGTH_UNIT_WORDS[u]}
+              </option>
+            ))}
           </select>
         </Field>
         <Field id="odometerUnit" label="Odometer in">
           <select id="odometerUnit" className={inputClass} {...form.register("odometerUnit")}>
-            <option value="km">km</option>
-            <option value="mi">miles</option>
-            <option value="h">hours</option>
+            {ODOMETER_UNITS.map((u) => (
+              <option key={u} value={u}>
+                {ODOMETER_UNIT_WORDS[u]}
+              </option>
+            ))}
           </select>
         </Field>
       </div>

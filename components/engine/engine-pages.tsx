@@ -11,6 +11,7 @@ import { useLocalCore } from "@/components/sync/local-provider";
 import { History } from "./history";
 import { ImportChecks } from "./import-checks";
 import { Button, ButtonLink, Field, inputClass, Notice } from "@/components/ui/controls";
+import { parseDecimal } from "@/lib/parse-decimal";
 
 export function EngineList() {
   const { db } = useLocalCore();
@@ -59,8 +60,8 @@ export function EngineDetail() {
   const unit = engine.displayUnit;
   const start = async () => {
     if (!db) return;
-    const value = Number(odometer.replace(",", "."));
-    if (odometer.trim() === "" || !Number.isFinite(value) || value < 0)
+    const value = parseDecimal(odometer);
+    if (value == null || !Number.isFinite(value) || value < 0)
       return setError(`Enter the odometer in ${engine.odometerUnit}`);
     const checkId = crypto.randomUUID();
     await saveCheck(db, { id: checkId, engineId: engine.id, odometer: value, measuredHot: engine.measuredHot });

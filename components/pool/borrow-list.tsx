@@ -1,6 +1,6 @@
 "use client";
 
-import { formatLength, toNm, type ShimPlan } from "@/lib/lash";
+import { formatLength, sameLength, type ShimPlan } from "@/lib/lash";
 import type { PoolFit } from "@/lib/check/pool";
 import { STATE_WORDS } from "@/lib/pool/rules";
 import { askToBorrow } from "@/lib/sync/later";
@@ -26,7 +26,7 @@ export function BorrowList({
   const { db, user } = useLocalCore();
   const names = new Map(pool.offers.map((o) => [o.ownerId, o.ownerName]));
   const mm = (n: number) => formatLength(n, "mm");
-  const misfits = fit.wrongSystem.filter((o) => plan.buy.some((b) => toNm(b.size) === toNm(o.size)));
+  const misfits = fit.wrongSystem.filter((o) => plan.buy.some((b) => sameLength(b.size, o.size)));
   // every offer is for another shim system (or cannot be matched): say so rather than show nothing
   const noneFit = fit.pool.length === 0 && fit.wrongSystem.length > 0 && plan.buy.length > 0;
   if (plan.borrow.length === 0 && misfits.length === 0 && !noneFit) return null;
@@ -37,12 +37,12 @@ export function BorrowList({
       </h2>
       <ul className="flex flex-col gap-3" data-testid="borrow-list">
         {plan.borrow.map((b) => {
-          const offers = pool.offeredToMe.filter((o) => o.ownerId === b.ownerId && toNm(o.size) === toNm(b.size));
+          const offers = pool.offeredToMe.filter((o) => o.ownerId === b.ownerId && sameLength(o.size, b.size));
           const asked = pool.borrows.filter(
             (r) =>
               r.borrowerId === user?.id &&
               r.lenderId === b.ownerId &&
-              toNm(r.size) === toNm(b.size) &&
+              sameLength(r.size, b.size) &&
               !["declined", "withdrawn", "settled"].includes(r.state),
           );
           const waiting = pool.pendingAsks.filter((a) => offers.some((o) => o.id === a.offerId));

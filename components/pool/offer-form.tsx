@@ -7,6 +7,7 @@ import { useLocalCore } from "@/components/sync/local-provider";
 import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
 import { usePool } from "./use-pool";
 import { shimNumber } from "@/lib/lash";
+import { parseDecimal } from "@/lib/parse-decimal";
 
 /** Offer spare shims from the tray to a club's pool: only the shims and the note are shared. */
 export function OfferForm({ items }: { items: LocalTrayItem[] }) {
@@ -88,7 +89,7 @@ export function OfferForm({ items }: { items: LocalTrayItem[] }) {
         onClick={async () => {
           if (!db) return;
           const n = Number(count);
-          const d = diameter.trim() ? Number(diameter.replace(",", ".")) : (item.shimDiameter ?? null);
+          const d = parseDecimal(diameter) ?? item.shimDiameter ?? null;
           if (!Number.isInteger(n) || n < 1 || n > item.count)
             return setMessage({ tone: "error", text: `Offer 1 to ${item.count}` });
           if (d != null && !(d > 0 && d < 50))

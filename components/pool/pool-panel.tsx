@@ -8,6 +8,7 @@ import { useLocalCore } from "@/components/sync/local-provider";
 import { useId, useState } from "react";
 import { Button, Field, inputClass } from "@/components/ui/controls";
 import { usePool } from "./use-pool";
+import { parseDecimal } from "@/lib/parse-decimal";
 
 const mm = (n: number) => formatLength(n, "mm");
 
@@ -31,8 +32,8 @@ function SwapBack({ onGive }: { onGive: (size: number) => void }) {
         type="button"
         look="quiet"
         onClick={() => {
-          const n = Number(size.replace(",", "."));
-          if (!(n > 0 && n < 20)) return setError("Enter the size in mm, e.g. 2.60");
+          const n = parseDecimal(size);
+          if (n == null || !(n > 0 && n < 20)) return setError("Enter the size in mm, e.g. 2.60");
           setError(null);
           onGive(n);
         }}

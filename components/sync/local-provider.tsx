@@ -18,6 +18,7 @@ import type { LocalDb, OutboxEntry } from "@/lib/sync/local-db";
 import type { SyncState } from "@/lib/sync/client";
 import { useIsClient, useStored } from "@/components/ui/use-stored";
 import type { EngineState } from "./local-engine";
+import type { LengthUnit } from "@/lib/lash";
 
 // Dexie, the outbox, the sync client and the validation they run: loaded behind the first paint,
 // and only by a page that needs the phone's records (see needsLocalDb)
@@ -54,7 +55,7 @@ export interface LocalUser {
   id: string;
   name: string;
   email: string;
-  displayUnit: "mm" | "in";
+  displayUnit: LengthUnit;
 }
 
 interface LocalContext {

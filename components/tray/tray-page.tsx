@@ -6,7 +6,8 @@ import { saveTrayItem } from "@/lib/sync/later";
 import { useLocalCore } from "@/components/sync/local-provider";
 import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
 import { OfferForm } from "@/components/pool/offer-form";
-import { shimNumber } from "@/lib/lash";
+import { sameLength, shimNumber } from "@/lib/lash";
+import { parseDecimal } from "@/lib/parse-decimal";
 
 /** The loose shims on hand, by size and count; the plan takes from here and fitting updates it. */
 export function TrayPage() {
@@ -19,14 +20,14 @@ export function TrayPage() {
   if (!items) return null;
   const add = async () => {
     if (!db) return;
-    const n = Number(size.replace(",", "."));
-    if (!Number.isFinite(n) || n <= 0 || n > 20) return setError("Enter the shim's size in mm, e.g. 2.65");
-    const d = diameter.trim() ? Number(diameter.replace(",", ".")) : null;
+    const n = parseDecimal(size);
+    if (n == null || !Number.isFinite(n) || n <= 0 || n > 20) return setError("Enter the shim's size in mm, e.g. 2.65");
+    const d = parseDecimal(diameter);
     if (d != null && (!Number.isFinite(d) || d <= 0 || d > 60))
       return setError("Enter the shim's diameter in mm, e.g. 7.48, or leave it empty");
     setError(null);
     // one row per size and diameter: shims of two systems never share a count
-    const same = items.find((t) => Math.round(t.size * 1e6) === Math.round(n * 1e6) && (t.shimDiameter ?? null) === d);
+    const same = items.find((t) => sameLength(t.size, n) && (t.shimDiameter ?? null) === d);
     await saveTrayItem(
       db,
       same

@@ -18,6 +18,7 @@ import {
   shares,
   users,
   type Role,
+  type ShareRow,
 } from "../schema";
 import { nextVersion } from "../versions";
 import { HOLDING } from "@/lib/pool/rules";
@@ -355,7 +356,6 @@ export async function listClubLog(clubId: string, limit: number, offset: number)
   );
 }
 
-type ShareRow = typeof shares.$inferSelect;
 export const shareToApi = (s: ShareRow) => ({
   id: s.id,
   checkId: s.checkId,

@@ -5,14 +5,23 @@ import { format } from "mysql2";
 import { DEFAULT_TIMING } from "@/lib/lash";
 import { READING_VALUE_FIELDS, type EngineInput, type ReadingInput } from "@/lib/schemas/records";
 import { db, type Executor, type Tx } from "../client";
-import { checks, engines, readingHistory, readings, tombstones, trayItems } from "../schema";
+import {
+  checks,
+  engines,
+  readingHistory,
+  readings,
+  tombstones,
+  trayItems,
+  type CheckRow,
+  type EngineRow,
+  type ReadingRow,
+  type TrayItemRow,
+} from "../schema";
 
 /**
  * The mechanic's own records. Every function takes the owner's id and scopes by it, so a query can
  * never return somebody else's rows; access rules beyond ownership live in server/access.ts.
  */
-
-type EngineRow = typeof engines.$inferSelect;
 
 export function engineToApi(e: EngineRow) {
   return {
@@ -122,7 +131,6 @@ export async function removeEngine(tx: Tx, ownerId: string, version: number, eng
   await tx.delete(engines).where(and(eq(engines.id, engineId), eq(engines.ownerId, ownerId)));
 }
 
-type CheckRow = typeof checks.$inferSelect;
 export const checkToApi = (c: CheckRow) => ({
   id: c.id,
   engineId: c.engineId,
@@ -194,7 +202,6 @@ export async function removeCheck(tx: Tx, ownerId: string, version: number, chec
   await tx.delete(checks).where(and(eq(checks.id, checkId), eq(checks.ownerId, ownerId)));
 }
 
-type ReadingRow = typeof readings.$inferSelect;
 export const readingToApi = (r: ReadingRow) => ({
   id: r.id,
   checkId: r.checkId,
@@ -296,8 +303,7 @@ export async function writeReadings(tx: Tx, ownerId: string, version: number, ch
   phase("check version");
 }
 
-type TrayRow = typeof trayItems.$inferSelect;
-export const trayToApi = (t: TrayRow) => ({
+export const trayToApi = (t: TrayItemRow) => ({
   id: t.id,
   size: t.size,
   measuredSize: t.measuredSize,

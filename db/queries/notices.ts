@@ -4,18 +4,13 @@ import { db } from "../client";
 import { comments, mailStops, notices, users } from "../schema";
 import type { Tx } from "../versions";
 
-export interface NoticeInput {
-  toEmail: string;
-  toUserId?: string | null;
-  kind: string;
-  subject: string;
-  body: string;
-  aboutCheckId?: string | null;
+export type NoticeInput = Pick<
+  typeof notices.$inferInsert,
+  "toEmail" | "toUserId" | "kind" | "subject" | "body" | "aboutCheckId"
+> & {
   /** held this long before it is due (a digest's window); 0 or absent: due at once */
   delaySeconds?: number;
-}
-
-export type NoticeRow = typeof notices.$inferSelect;
+};
 
 export async function enqueueNotices(items: NoticeInput[], tx?: Tx): Promise<void> {
   if (items.length === 0) return;

@@ -2,7 +2,7 @@ import "server-only";
 import { and, eq, gt, isNull, sql } from "drizzle-orm";
 import { createHash, randomBytes } from "node:crypto";
 import { db } from "../client";
-import { authTokens, users } from "../schema";
+import { authTokens, users, type UserRow } from "../schema";
 
 /** The columns any caller may see of a user: never the password hash. */
 export const publicUserColumns = {
@@ -12,7 +12,7 @@ export const publicUserColumns = {
   displayUnit: users.displayUnit,
   noticesByEmail: users.noticesByEmail,
 } as const;
-export type PublicUser = { id: string; email: string; name: string; displayUnit: "mm" | "in"; noticesByEmail: boolean };
+export type PublicUser = Pick<UserRow, "id" | "email" | "name" | "displayUnit" | "noticesByEmail">;
 
 export async function getPublicUser(id: string): Promise<PublicUser | undefined> {
   const [u] = await db().select(publicUserColumns).from(users).where(eq(users.id, id)).limit(1);
@@ -73,13 +73,7 @@ export async function createUser(input: { email: string; name: string; passwordH
 
 export async function updateUser(
   id: string,
-  patch: Partial<{
-    name: string;
-    displayUnit: "mm" | "in";
-    noticesByEmail: boolean;
-    passwordHash: string | null;
-    emailVerifiedAt: Date;
-  }>,
+  patch: Partial<Pick<UserRow, "name" | "displayUnit" | "noticesByEmail" | "passwordHash" | "emailVerifiedAt">>,
 ) {
   await db().update(users).set(patch).where(eq(users.id, id));
 }

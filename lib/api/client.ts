@@ -42,6 +42,8 @@ export async function apiFetch<T>(path: string, init: { method?: string; body?: 
 import type { ApiPhoto, PhotoUsage } from "../photos/rules";
 import type { ApiBorrow, ApiOffer } from "../pool/rules";
 import type { Verdict } from "../check/verdicts";
+import type { LengthUnit, OdometerUnit } from "../lash/units";
+import type { Role } from "../roles";
 
 export const queryKeys = {
   me: () => ["me"] as const,
@@ -67,19 +69,19 @@ export interface Me {
   id: string;
   email: string;
   name: string;
-  displayUnit: "mm" | "in";
+  displayUnit: LengthUnit;
   noticesByEmail: boolean;
 }
 export interface ClubSummary {
   id: string;
   name: string;
-  roles: ("mechanic" | "mentor" | "admin")[];
+  roles: Role[];
 }
 export interface Member {
   userId: string;
   name: string;
   email: string;
-  roles: ("mechanic" | "mentor" | "admin")[];
+  roles: Role[];
 }
 export interface QueueItem {
   shareId: string;
@@ -87,7 +89,7 @@ export interface QueueItem {
   engineName: string;
   ownerName: string;
   odometer: number;
-  odometerUnit: "km" | "mi" | "h";
+  odometerUnit: OdometerUnit;
   status: string;
   verdict: string | null;
   sharedAt: string;

@@ -1,10 +1,10 @@
-import { inchesToMm, INCH_BLADES_THOU, METRIC_BLADES_MM } from "../lash";
+import { compareLengths, inchesToMm, INCH_BLADES_THOU, METRIC_BLADES_MM, type LengthUnit } from "../lash";
 
 /** How many blades the strip shows: three rows of six on a phone, so none is off screen. */
 export const STRIP_BLADES = 18;
 
 /** The engine's feeler set in mm: inch blades for an engine shown in inches, metric otherwise. */
-export function feelerSet(displayUnit: "mm" | "in"): number[] {
+export function feelerSet(displayUnit: LengthUnit): number[] {
   return displayUnit === "in" ? INCH_BLADES_THOU.map((t) => inchesToMm(t / 1000)) : METRIC_BLADES_MM;
 }
 
@@ -22,5 +22,5 @@ export function bladeStrip(set: number[], band: { min: number; max: number }, co
 
 /** The blade that will not enter when this one goes: the next thicker one in the set. */
 export function noGoOf(set: number[], go: number): number | undefined {
-  return [...set].sort((a, b) => a - b).find((b) => b > go + 1e-9);
+  return [...set].sort((a, b) => a - b).find((b) => compareLengths(b, go) > 0);
 }

@@ -1,8 +1,9 @@
 import Papa from "papaparse";
-import { fromNm, inchesToMm, lengthMm, toNm, valveNames, type LengthUnit } from "../lash";
+import { compareLengths, fromNm, inchesToMm, lengthMm, toNm, valveNames, type LengthUnit } from "../lash";
 import { readingInput, readingProblems, type ReadingInput } from "../schemas/records";
 import { engineSizes } from "./derive";
 import type { LocalEngine } from "../sync/local-db";
+import { parseDecimal } from "../parse-decimal";
 
 /**
  * Past checks from a CSV file (a spreadsheet, a paper log typed up, or this app's own export), read
@@ -141,11 +142,11 @@ const clean = (s: string | undefined) =>
     .trim();
 
 function parseLength(raw: string, unit: LengthUnit | "thou", decimalComma: boolean): number | string {
-  let s = raw.replace(/\s/g, "");
-  // a decimal comma: always for a length (no length has thousands), never mixed with a point
-  if (/^\d*,\d+$/.test(s) || (decimalComma && /^\d*,\d*$/.test(s))) s = s.replace(",", ".");
-  if (!/^(\d+\.?\d*|\.\d+)$/.test(s)) return `"${raw}" is not a number`;
-  const n = Number(s);
+  const s = raw.replace(/\s/g, "");
+  // a decimal comma: always for a length (no length has thousands), never mixed with a point; a
+  // trailing one ("3,") only in a file whose numbers use commas; no length is negative
+  const n = s.startsWith("-") || (s.endsWith(",") && !decimalComma) ? null : parseDecimal(s);
+  if (n == null || !Number.isFinite(n)) return `"${raw}" is not a number`;
   const mm = unit === "mm" ? n : unit === "in" ? inchesToMm(n) : inchesToMm(n / 1000);
   const ok = lengthMm.safeParse(mm);
   return ok.success ? fromNm(toNm(mm)) : ok.error.issues[0]!.message;
@@ -153,11 +154,12 @@ function parseLength(raw: string, unit: LengthUnit | "thou", decimalComma: boole
 
 function parseOdometer(raw: string, decimalComma: boolean): number | string {
   let s = raw.replace(/[\s'’_]/g, "");
+  // thousands separators: commas in a file with decimal points, points in one with decimal commas
   if (/^\d{1,3}(,\d{3})+(\.\d+)?$/.test(s)) s = s.replace(/,/g, "");
-  else if (/^\d{1,3}(\.\d{3})+(,\d+)?$/.test(s) && decimalComma) s = s.replace(/\./g, "").replace(",", ".");
-  else if (decimalComma) s = s.replace(",", ".");
-  if (!/^\d+(\.\d+)?$/.test(s)) return `"${raw}" is not a distance or hours`;
-  const n = Number(s);
+  else if (/^\d{1,3}(\.\d{3})+(,\d+)?$/.test(s) && decimalComma) s = s.replace(/\./g, "");
+  else if (!decimalComma && s.includes(",")) return `"${raw}" is not a distance or hours`;
+  if (!/^\d+([.,]\d+)?$/.test(s)) return `"${raw}" is not a distance or hours`;
+  const n = parseDecimal(s)!;
   return n > 9_999_999 ? "is more than 9,999,999" : n;
 }
 
@@ -349,7 +351,7 @@ export function readChecksCsv(
     if (
       len.clearance != null &&
       len.go != null &&
-      (len.clearance < len.go - 1e-9 || (len.noGo != null && len.clearance >= len.noGo - 1e-9))
+      (compareLengths(len.clearance, len.go) < 0 || (len.noGo != null && compareLengths(len.clearance, len.noGo) >= 0))
     )
       row.errors.push(
         `clearance ${len.clearance} mm does not lie between the go blade (${len.go}) and the no-go blade (${len.noGo ?? "none"})`,

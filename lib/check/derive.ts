@@ -1,4 +1,5 @@
 import {
+  bandSide,
   planShims,
   shimSeries,
   valveNames,
@@ -43,19 +44,14 @@ export function engineSizes(e: Pick<LocalEngine, "shims">): number[] {
 export const installedOf = (r: Pick<LocalReading, "installedMicrometer" | "installedStamp">) =>
   r.installedMicrometer ?? r.installedStamp;
 
-/** A clearance against its band: tight, loose, or in band (on a re-check round, verified). */
+/** A clearance against its band as the core decides it: tight, loose, or in band (on a re-check round, verified). */
 export function measuredState(
   measured: number,
   spec: { min: number; max: number },
   round: number,
 ): "tight" | "loose" | "in-band" | "verified" {
-  return measured < spec.min - 1e-9
-    ? "tight"
-    : measured > spec.max + 1e-9
-      ? "loose"
-      : round === 0
-        ? "in-band"
-        : "verified";
+  const side = bandSide(measured, spec);
+  return side === "in-band" && round > 0 ? "verified" : side;
 }
 
 export function valveViews(

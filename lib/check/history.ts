@@ -4,6 +4,9 @@ import {
   driftProjection,
   roundOdometer,
   fastClosingValves,
+  fromNm,
+  type OdometerUnit,
+  toNm,
   valveNames,
   type DriftResult,
 } from "../lash";
@@ -41,7 +44,7 @@ export function engineHistory(
       return [
         {
           odometer: byCheck.get(r.checkId)!.odometer,
-          gap: Math.round((installed + r.measured) * 1e6) / 1e6,
+          gap: fromNm(toNm(installed) + toNm(r.measured)),
           installed,
           measured: r.measured,
           checkId: r.checkId,
@@ -74,14 +77,14 @@ export function engineHistory(
   return { valves, fastClosing };
 }
 
-const fmtOdo = (x: number, unit: "km" | "mi" | "h") => `${roundOdometer(x, unit).toLocaleString("en")} ${unit}`;
+const fmtOdo = (x: number, unit: OdometerUnit) => `${roundOdometer(x, unit).toLocaleString("en")} ${unit}`;
 
 /**
  * The sentence under a valve's chart: what its checks show, in words that promise no more than the
  * readings hold (the rules are driftProjection's verdicts). A projection is a rounded range, never a
  * single figure to the kilometre.
  */
-export function driftWords(h: ValveHistory, unit: "km" | "mi" | "h"): string {
+export function driftWords(h: ValveHistory, unit: OdometerUnit): string {
   const d = h.drift;
   const per = `mm per 1,000 ${unit}`;
   switch (d.verdict) {

@@ -1,3 +1,5 @@
+import { compareLengths, toNm } from "../lash";
+
 /**
  * Which of a club's offered shims can serve an engine. A shim only fits the same shim system, so
  * an offer counts when its diameter matches the engine's (to 0.01 mm). An offer or an engine with
@@ -19,7 +21,10 @@ export interface PoolFit {
   wrongSystem: (PoolOffer & { reason: string })[];
 }
 
-const same = (a: number, b: number) => Math.abs(a - b) < 0.005;
+// less than half of 0.01 mm apart, decided in nanometres: a float difference called 7.485 the same as
+// 7.48 but 7.475 not
+const DIAMETER_SLACK_NM = toNm(0.005);
+const same = (a: number, b: number) => Math.abs(compareLengths(a, b)) < DIAMETER_SLACK_NM;
 
 export function poolForEngine(engine: { shimDiameter: number | null }, offers: PoolOffer[], selfId: string): PoolFit {
   const pool: PoolFit["pool"] = [];

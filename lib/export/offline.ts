@@ -18,6 +18,7 @@ import {
   type ExportReading,
   type ExportTrayItem,
 } from "./schema";
+import type { LengthUnit } from "../lash";
 
 /**
  * The same export file made on the phone from its local copy, with no server: for a garage with no
@@ -67,7 +68,7 @@ const readingOfPhone = (r: LocalReading): ExportReading => readingForFile(r, nul
 
 export interface PhoneExportInput {
   db: LocalDb;
-  user: { id: string; name: string; email: string; displayUnit: "mm" | "in" };
+  user: { id: string; name: string; email: string; displayUnit: LengthUnit };
   /** photos the phone has heard of from the server (its kept answers), listed as not included when it has no bytes */
   knownPhotos?: ApiPhoto[];
   now?: Date;

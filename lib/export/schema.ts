@@ -1,6 +1,6 @@
 import "../schemas/zod-config";
 import { z } from "zod";
-import { lengthMm, positiveLengthMm, timingSchema } from "../lash";
+import { LENGTH_UNITS, lengthMm, positiveLengthMm, timingSchema } from "../lash";
 import { checkStatus, engineFields, engineRules, idSchema, readingInput, readingProblems } from "../schemas/records";
 import { BORROW_STATES } from "../pool/rules";
 import { engineSizes, valveViews, checkPlan } from "../check/derive";
@@ -151,7 +151,7 @@ export const exportDocument = z.object({
   /** the server's records, or a phone's local copy (which holds no loans, and only its own photos' bytes) */
   source: z.enum(["server", "phone"]),
   account: z
-    .object({ name: z.string().max(120), email: z.string().max(254), displayUnit: z.enum(["mm", "in"]) })
+    .object({ name: z.string().max(120), email: z.string().max(254), displayUnit: z.enum(LENGTH_UNITS) })
     .nullable(),
   engines: z.array(exportEngine).max(MANY),
   checks: z.array(exportCheck).max(MANY),

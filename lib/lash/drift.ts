@@ -1,6 +1,6 @@
 import { parseOrThrow } from "./errors";
 import { driftInputSchema } from "./schemas";
-import { toNm } from "./units";
+import { toNm, type OdometerUnit } from "./units";
 
 export interface DriftPoint {
   odometer: number;
@@ -53,7 +53,7 @@ export function t95(df: number): number {
 }
 
 /** Round a projected odometer for the screen: 500 km or mi, 10 hours. */
-export function roundOdometer(x: number, unit: "km" | "mi" | "h" = "km"): number {
+export function roundOdometer(x: number, unit: OdometerUnit = "km"): number {
   const step = unit === "h" ? 10 : 500;
   return Math.round(x / step) * step;
 }

@@ -1,17 +1,22 @@
 /** The valve-clearance computation core: pure functions shared by the browser and the server. */
-export { LashInputError, parseOrThrow, type LashIssue } from "./errors";
+export { LashInputError, parseOrThrow, fieldErrors, issuePath, type LashIssue, type IssueLike } from "./errors";
 export {
   inchesToMm,
   mmToInches,
   toNm,
   fromNm,
+  compareLengths,
+  sameLength,
   roundForDisplay,
   formatLength,
   lengthNumber,
   shimNumber,
   NM_PER_MM,
   MM_PER_INCH,
+  LENGTH_UNITS,
+  ODOMETER_UNITS,
   type LengthUnit,
+  type OdometerUnit,
 } from "./units";
 export * from "./schemas";
 export { clearanceFromFeelers, type Clearance } from "./feeler";
@@ -20,9 +25,11 @@ export {
   recommendShim,
   bandNm,
   inBand,
+  bandSide,
   distanceFromBand,
   type ShimRecommendation,
   type BandNm,
+  type BandSide,
 } from "./shim";
 export {
   planShims,

@@ -22,6 +22,19 @@ export function inBand(clearanceNm: number, band: BandNm): boolean {
   return clearanceNm >= band.min && clearanceNm <= band.max;
 }
 
+/** Where a clearance lies against its band. */
+export type BandSide = "tight" | "in-band" | "loose";
+
+/**
+ * A clearance in mm against a band in mm, decided in whole nanometres like every other decision of the
+ * core: both edges belong to the band (0.10 mm is in a 0.10-0.20 band). No validation, so a screen may
+ * ask it of a band still being typed.
+ */
+export function bandSide(clearanceMm: number, band: { min: number; max: number }): BandSide {
+  const c = toNm(clearanceMm);
+  return c < toNm(band.min) ? "tight" : c > toNm(band.max) ? "loose" : "in-band";
+}
+
 /** How far a clearance lies outside the band (0 inside). */
 export function distanceFromBand(clearanceNm: number, band: BandNm): number {
   if (clearanceNm < band.min) return band.min - clearanceNm;

@@ -18,6 +18,20 @@ export function fromNm(nm: number): number {
   return nm / NM_PER_MM;
 }
 
+/**
+ * Two lengths in mm compared in whole nanometres: negative when a is shorter, 0 when they are the same
+ * length, positive when a is longer. The one comparison of lengths outside the core: a float compare
+ * with an epsilon calls lengths 0.8 nm apart equal and 0.4 nm apart different at other magnitudes.
+ */
+export function compareLengths(a: number, b: number): number {
+  return toNm(a) - toNm(b);
+}
+
+/** Whether two lengths in mm are the same to the nanometre (0.1 + 0.2 is 0.3). */
+export function sameLength(a: number, b: number): boolean {
+  return toNm(a) === toNm(b);
+}
+
 export function inchesToMm(inches: number): number {
   if (!Number.isFinite(inches)) throw new RangeError("inchesToMm: not a finite number");
   return fromNm(Math.round(inches * NM_PER_INCH));
@@ -28,7 +42,13 @@ export function mmToInches(mm: number): number {
   return mm / MM_PER_INCH;
 }
 
-export type LengthUnit = "mm" | "in";
+/** The units a length is shown in; stored lengths are always millimetres. */
+export const LENGTH_UNITS = ["mm", "in"] as const;
+export type LengthUnit = (typeof LENGTH_UNITS)[number];
+
+/** What an engine's odometer counts: kilometres, miles, or hours on an hour meter. */
+export const ODOMETER_UNITS = ["km", "mi", "h"] as const;
+export type OdometerUnit = (typeof ODOMETER_UNITS)[number];
 
 /**
  * Display rounding (README "The computation core"): mm to 0.01, or 0.001 for micrometer-measured shims;

@@ -1,4 +1,5 @@
 import type { ValveKind } from "./rotation";
+import { compareLengths } from "./units";
 
 export interface ValveName {
   /** "I2.1": intake, cylinder 2, first intake valve of that cylinder */
@@ -47,7 +48,7 @@ export const INCH_BLADES_THOU = [1.5, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 14
 /** The go/no-go pair a blade set gives for a true clearance: the thickest that enters, and the next. */
 export function bladesFor(clearanceMm: number, blades: number[]): { go: number; noGo?: number } | null {
   const sorted = [...blades].sort((a, b) => a - b);
-  const i = sorted.findLastIndex((b) => b <= clearanceMm + 1e-9);
+  const i = sorted.findLastIndex((b) => compareLengths(b, clearanceMm) <= 0);
   if (i < 0) return null;
   return { go: sorted[i]!, noGo: sorted[i + 1] };
 }

@@ -2,6 +2,7 @@ import "./zod-config";
 import { z } from "zod";
 import { passwordSchema } from "../auth/password-rules";
 import { labelSchema } from "./label";
+import { LENGTH_UNITS } from "../lash/units";
 
 export const emailSchema = z
   .string({ error: "enter an e-mail address" })
@@ -30,7 +31,7 @@ export const newPasswordInput = z.object({ token: tokenSchema, password: passwor
 export const settingsInput = z
   .object({
     name: labelSchema(120, "enter your name"),
-    displayUnit: z.enum(["mm", "in"]),
+    displayUnit: z.enum(LENGTH_UNITS),
     noticesByEmail: z.boolean(),
   })
   .partial()

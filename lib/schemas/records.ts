@@ -10,10 +10,15 @@ import {
   specSchema,
   timingSchema,
   LashInputError,
+  LENGTH_UNITS,
+  ODOMETER_UNITS,
+  INSTALLED_RANGE_SLACK_MM,
+  toNm,
 } from "../lash";
 import { parseValveName } from "../lash/valves";
 import { VERDICT_NAMES } from "../check/verdicts";
 import { labelSchema } from "./label";
+import { ROLES } from "../roles";
 
 /**
  * Input schemas of the records the API and the offline outbox accept. One schema per resource; the
@@ -61,8 +66,8 @@ const engineFieldsV1 = z.object({
   shims: shimSystem,
   shimDiameter: positiveLengthMm.nullable().optional(),
   assembledShim: positiveLengthMm.nullable().optional(),
-  displayUnit: z.enum(["mm", "in"]).default("mm"),
-  odometerUnit: z.enum(["km", "mi", "h"]).default("km"),
+  displayUnit: z.enum(LENGTH_UNITS).default("mm"),
+  odometerUnit: z.enum(ODOMETER_UNITS).default("km"),
   mirrored: z.boolean().default(false),
 });
 
@@ -171,7 +176,7 @@ export const trayItemInput = z.object({
 export const trayItemUpdate = trayItemInput.omit({ id: true }).partial();
 
 export const clubInput = z.object({ name });
-export const roleSchema = z.enum(["mechanic", "mentor", "admin"]);
+export const roleSchema = z.enum(ROLES);
 export const rolesInput = z.object({ roles: z.array(roleSchema).min(1, { error: "give at least one role" }).max(3) });
 export const inviteInput = z.object({
   email: z
@@ -201,8 +206,9 @@ export function readingProblems(
   rs: ReadingInput[],
 ): Record<string, string> {
   const out: Record<string, string> = {};
-  const lo = Math.min(...engine.shimSizes) - 0.1 - 1e-9;
-  const hi = Math.max(...engine.shimSizes) + 0.1 + 1e-9;
+  const slack = toNm(INSTALLED_RANGE_SLACK_MM);
+  const lo = Math.min(...engine.shimSizes.map(toNm)) - slack;
+  const hi = Math.max(...engine.shimSizes.map(toNm)) + slack;
   rs.forEach((r, i) => {
     const v = parseValveName(r.valve)!;
     const per = v.kind === "intake" ? engine.intakePerCylinder : engine.exhaustPerCylinder;
@@ -210,7 +216,8 @@ export function readingProblems(
       out[`readings.${i}.valve`] = `this engine has no valve ${r.valve}`;
     for (const f of ["installedStamp", "installedMicrometer", "fittedShim"] as const) {
       const s = r[f];
-      if (s != null && (s < lo || s > hi)) out[`readings.${i}.${f}`] = `${s} mm is outside this engine's shim range`;
+      if (s != null && (toNm(s) < lo || toNm(s) > hi))
+        out[`readings.${i}.${f}`] = `${s} mm is outside this engine's shim range`;
     }
   });
   return out;

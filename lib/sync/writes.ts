@@ -1,6 +1,6 @@
 import type { MutationArgs } from "./mutations";
 import { record, writeTables } from "./outbox";
-import { DEFAULT_TIMING, LashInputError, type NearSide, type ShimMove, type ShimPosition } from "../lash";
+import { DEFAULT_TIMING, LashInputError, sameLength, type NearSide, type ShimMove, type ShimPosition } from "../lash";
 import { swapEffects, workOrderKey, type WorkOrderState } from "../check/fit";
 import { READING_VALUE_FIELDS } from "../schemas/records";
 import {
@@ -177,7 +177,7 @@ export function saveTrayItem(
 /** Add (or with a negative delta, take) shims of one size on the tray. */
 export async function adjustTray(db: LocalDb, size: number, delta: number) {
   const all = await db.tray.toArray();
-  const item = all.find((t) => Math.round(t.size * 1e6) === Math.round(size * 1e6));
+  const item = all.find((t) => sameLength(t.size, size));
   if (item) return saveTrayItem(db, { ...item, count: Math.max(0, item.count + delta) });
   if (delta > 0) return saveTrayItem(db, { id: crypto.randomUUID(), size, measuredSize: false, count: delta });
 }

@@ -265,6 +265,36 @@ describe("importing past checks", () => {
     expect(p.ok).toBe(true);
   });
 
+  it("reads numbers through the one decimal parser, with the file's own comma rules", () => {
+    const cells = (csv: string) =>
+      readChecksCsv(csv, four, [], { today: TODAY }).rows.map((r) => (r.errors.length ? r.errors.join("; ") : "ok"));
+    // a comma file: a length's comma is always decimal; a trailing one, a sign or an exponent is no number
+    expect(
+      cells(
+        'date,odometer,valve,shim_mm,clearance_mm\n2024-01-01,100,I1.1,2.6,"0,25"\n2024-01-02,101,I1.1,"2,",0.2\n2024-01-03,102,I1.1,2.6,-0.2\n2024-01-04,103,I1.1,2.6,2e-1\n2024-01-05,"12,5",I1.1,2.6,0.2\n2024-01-06,"1,234",I1.1,2.6,0.2\n',
+      ),
+    ).toEqual([
+      "ok",
+      'shim "2," is not a number',
+      'clearance "-0.2" is not a number',
+      'clearance "2e-1" is not a number',
+      'odometer "12,5" is not a distance or hours',
+      "ok",
+    ]);
+    // a semicolon file: decimal commas, points as thousands in an odometer, a trailing comma allowed
+    const p = readChecksCsv(
+      "date;odometer;valve;shim_mm;clearance_mm\n2024-01-01;1.234,5;I1.1;3,;0,2\n2024-01-02;12,5;I1.1;2,60;0,25\n",
+      four,
+      [],
+      { today: TODAY },
+    );
+    expect(p.rows.map((r) => r.errors)).toEqual([[], []]);
+    expect(p.checks.map((c) => [c.odometer, c.readings[0]!.installedStamp, c.readings[0]!.measured])).toEqual([
+      [1234.5, 3, 0.2],
+      [12.5, 2.6, 0.25],
+    ]);
+  });
+
   it("asks for the date order when the file cannot tell, and reads it as chosen", () => {
     const csv = "date,odometer,valve,clearance_mm\n03/04/2024,100,I1.1,0.15\n";
     const dmy = readChecksCsv(csv, four, [], { today: TODAY });
