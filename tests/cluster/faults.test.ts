@@ -97,7 +97,7 @@ function rejoinLines(n: { errFile: string }) {
   return lines
     .slice(-400)
     .filter((l) => /IST|SST|State transfer|Recovered position|donor|Donor|Synchronized with group|Flow|gcache/i.test(l))
-    .slice(-25)
+    .slice(-60)
     .map((l) => `  ${l.slice(0, 240)}`)
     .join("\n");
 }
