@@ -217,9 +217,7 @@ export async function push(user: SessionUser, input: PushInput): Promise<PushRes
           if (run.length > 1) {
             // a transient failure throws (the whole push is tried again); any other one means
             // something in the run is refused or failed: apply them one by one to find it
-            const ok = await step(tx, user, version, after, (w) =>
-              applyRun(w, "reading.put/1", run.map(readingArgs)),
-            )
+            const ok = await step(tx, user, version, after, (w) => applyRun(w, "reading.put/1", run.map(readingArgs)))
               .then(() => true)
               .catch((e: unknown) => {
                 const d = domainErrorOf(e);
