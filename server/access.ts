@@ -4,7 +4,7 @@ import type { Executor, Tx } from "@/db/client";
 import { conflict, DomainError, forbidden, notFound, refused } from "@/lib/errors";
 import { MOVES, type BorrowMove } from "@/lib/pool/rules";
 import { getCheckRow, getEngineRow, getTrayRow } from "@/db/queries/garage";
-import { getShare, lockClubRoles, lockPendingInvite, mentorSharesForCheck, rolesInClub } from "@/db/queries/clubs";
+import { getShare, lockPendingInvite, mentorSharesForCheck, rolesInClub } from "@/db/queries/clubs";
 import type { SessionUser } from "./auth";
 
 /**
@@ -137,12 +137,17 @@ export async function memberRemover(
 }
 
 /**
- * A change of a member's roles keeps the club an admin: the club's roles are locked first (in the
- * write's transaction; lockClubRoles says why), so two admins stepping down at once cannot both.
- * The member must be in the club. Answers the member's roles before the change.
+ * A change of a member's roles keeps the club an admin. `admins` is counted by lockClubRoles
+ * (db/queries/clubs.ts) in the same write, before this: the club's roles locked, so two admins
+ * stepping down at once cannot both. The member must be in the club. Answers their roles before.
  */
-export async function roleChange(tx: Tx, clubId: string, memberId: string, roles: Role[]): Promise<Role[]> {
-  const { admins } = await lockClubRoles(tx, clubId);
+export async function roleChange(
+  tx: Tx,
+  clubId: string,
+  memberId: string,
+  roles: Role[],
+  { admins }: { admins: number },
+): Promise<Role[]> {
   const have = await rolesInClub(tx, memberId, clubId);
   if (have.length === 0) throw notFound("member");
   if (have.includes("admin") && !roles.includes("admin") && admins <= 1)

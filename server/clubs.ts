@@ -43,7 +43,7 @@ export async function withdrawInvitation(w: WriteCtx, clubId: string, inviteId: 
 /** An admin sets a member's roles, keeping the club an admin; answers the member as now listed. */
 export async function setMemberRoles(w: WriteCtx, clubId: string, memberId: string, roles: Role[]) {
   await clubRole(w.tx, w.user, clubId, "admin");
-  await roleChange(w.tx, clubId, memberId, roles);
+  await roleChange(w.tx, clubId, memberId, roles, await q.lockClubRoles(w.tx, clubId));
   await q.setRoles(w.tx, clubId, memberId, roles, w.user.id);
   return (await q.listMembers(w.tx, clubId)).find((m) => m.userId === memberId);
 }
@@ -54,7 +54,7 @@ export async function setMemberRoles(w: WriteCtx, clubId: string, memberId: stri
  */
 export async function removeMember(w: WriteCtx, clubId: string, memberId: string) {
   await memberRemover(w.tx, w.user, clubId, memberId);
-  await roleChange(w.tx, clubId, memberId, []);
+  await roleChange(w.tx, clubId, memberId, [], await q.lockClubRoles(w.tx, clubId));
   await q.setRoles(w.tx, clubId, memberId, [], w.user.id);
 }
 
