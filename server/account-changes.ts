@@ -20,7 +20,7 @@ export const issueToken = (userId: string, purpose: q.TokenPurpose, ttlMinutes: 
   change((tx) => q.createAuthToken(tx, userId, purpose, ttlMinutes));
 
 /** Use a token once (db/queries/users.ts consumeAuthToken says how). */
-export const useToken = (raw: string, purpose: q.TokenPurpose, opts: { onlyFor?: string } = {}) =>
+export const spendToken = (raw: string, purpose: q.TokenPurpose, opts: { onlyFor?: string } = {}) =>
   change((tx) => q.consumeAuthToken(tx, raw, purpose, opts));
 
 export const changeSettings = (

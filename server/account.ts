@@ -3,7 +3,7 @@ import { env } from "@/lib/env";
 import { hashPassword, verifyPassword } from "./password";
 import { getCredentialsByEmail, getCredentialsById, tokenOwner } from "@/db/queries/users";
 import { db } from "@/db/client";
-import { issueToken, markAddressProved, newAccount, replacePassword, useToken } from "./account-changes";
+import { issueToken, markAddressProved, newAccount, replacePassword, spendToken } from "./account-changes";
 import { queueNotices } from "./notices";
 import { mailThrottled } from "./throttle";
 import { budget } from "./budgets";
@@ -122,7 +122,7 @@ export async function verifyEmail(token: string, password: string | undefined): 
         password: "not the password chosen at sign-up",
       });
   }
-  const used = await useToken(token, "verify", { onlyFor: userId });
+  const used = await spendToken(token, "verify", { onlyFor: userId });
   if (used !== userId) throw bad();
   await markAddressProved(userId);
   // the caller holds the mailbox's link (and the password, where the account has one): the address is theirs to see
@@ -163,7 +163,7 @@ export async function requestPasswordReset(email: string, address: string | null
  * pending for the account (reset, sign-in, confirmation), and proves the address.
  */
 export async function resetPassword(token: string, password: string): Promise<boolean> {
-  const userId = await useToken(token, "reset");
+  const userId = await spendToken(token, "reset");
   if (!userId || userId === "other") return false;
   await replacePassword(userId, await hashPassword(password));
   return true;

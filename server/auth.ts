@@ -19,7 +19,7 @@ import { clientAddress, signInThrottled } from "./throttle";
 import { passwordAccepted } from "./sign-in";
 import { rememberDevice } from "./device-cookie";
 import { proveAddress } from "./account";
-import { endSessions, useToken } from "./account-changes";
+import { endSessions, spendToken } from "./account-changes";
 
 export type SessionUser = PublicUser;
 
@@ -100,7 +100,7 @@ export const authOptions: NextAuthOptions = {
         // own account sent to a victim would otherwise log the victim's phone into it (login CSRF).
         const cookie = (req?.headers as Record<string, string> | undefined)?.cookie ?? "";
         const signedIn = await userFromSessionToken(readCookie(cookie, sessionCookieName()));
-        const userId = await useToken(token.data, "signin", { onlyFor: signedIn?.id });
+        const userId = await spendToken(token.data, "signin", { onlyFor: signedIn?.id });
         if (userId === "other") throw new Error(SIGN_IN_ERRORS.signedInAsOther);
         if (!userId) return null;
         // following a link from the inbox proves the address (and drops a password set before that)
