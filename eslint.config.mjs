@@ -49,6 +49,24 @@ export default defineConfig([
       ],
     },
   },
+  {
+    // db/queries holds SQL only: the rules (access, refusals) and their domain errors are server/'s
+    // (DEVELOPERS.md "One write path"); a query answers what it found and the caller decides.
+    files: ["db/queries/**/*.ts"],
+    rules: {
+      "no-restricted-imports": [
+        "error",
+        {
+          patterns: [
+            {
+              group: ["@/lib/errors", "**/lib/errors"],
+              message: "db/queries holds SQL only: return what was found and let server/ throw the domain error.",
+            },
+          ],
+        },
+      ],
+    },
+  },
   globalIgnores([
     ".next/**",
     ".next-*/**",

@@ -1,9 +1,10 @@
 import "server-only";
 import type { CheckRow, Role } from "@/db/schema";
-import type { Executor } from "@/db/client";
-import { forbidden, notFound } from "@/lib/errors";
+import type { Executor, Tx } from "@/db/client";
+import { conflict, DomainError, forbidden, notFound, refused } from "@/lib/errors";
+import { MOVES, type BorrowMove } from "@/lib/pool/rules";
 import { getCheckRow, getEngineRow, getTrayRow } from "@/db/queries/garage";
-import { getShare, mentorSharesForCheck, rolesInClub } from "@/db/queries/clubs";
+import { getShare, lockPendingInvite, mentorSharesForCheck, rolesInClub } from "@/db/queries/clubs";
 import type { SessionUser } from "./auth";
 
 /**
@@ -123,7 +124,7 @@ export async function shareFor(ex: Executor, user: SessionUser, shareId: string,
 
 /**
  * Who may end a membership: a club admin (removing a member), or the member themselves (leaving).
- * The last admin rule is the caller's (it needs the club's roles locked).
+ * The last admin rule is roleChange's.
  */
 export async function memberRemover(
   ex: Executor,
@@ -133,4 +134,93 @@ export async function memberRemover(
 ): Promise<Role[]> {
   if (memberId === user.id) return clubMember(ex, user, clubId);
   return clubRole(ex, user, clubId, "admin");
+}
+
+/**
+ * A change of a member's roles keeps the club an admin. `admins` is counted by lockClubRoles
+ * (db/queries/clubs.ts) in the same write, before this: the club's roles locked, so two admins
+ * stepping down at once cannot both. The member must be in the club. Answers their roles before.
+ */
+export async function roleChange(
+  tx: Tx,
+  clubId: string,
+  memberId: string,
+  roles: Role[],
+  { admins }: { admins: number },
+): Promise<Role[]> {
+  const have = await rolesInClub(tx, memberId, clubId);
+  if (have.length === 0) throw notFound("member");
+  if (have.includes("admin") && !roles.includes("admin") && admins <= 1)
+    throw conflict("A club needs at least one admin");
+  return have;
+}
+
+/**
+ * An invitation the caller may accept: pending (unexpired, unused, not withdrawn), addressed to the
+ * caller's e-mail, and sent by someone who is still an admin of the club (an invitation speaks for
+ * an admin). Any other token answers the same, so none can be probed. Locked for the acceptance.
+ */
+export async function acceptableInvite(tx: Tx, user: SessionUser, token: string) {
+  const inv = await lockPendingInvite(tx, token);
+  const fromAdmin = inv?.invitedBy ? (await rolesInClub(tx, inv.invitedBy, inv.clubId)).includes("admin") : false;
+  if (!inv || inv.email !== user.email || !fromAdmin)
+    throw new DomainError("bad_request", "This invitation has expired, was used, or was sent to another address", {
+      code: "bad_token",
+    });
+  return inv;
+}
+
+/**
+ * A loan (a borrow request) the caller is a side of, and the side: anyone else's answers "no such".
+ * A step is taken only by the side the loan's rules give it to (lib/pool/rules.ts MOVES).
+ */
+export function loanSide(
+  r: { borrowerId: string; lenderId: string } | undefined,
+  user: SessionUser,
+  move?: BorrowMove,
+): "lender" | "borrower" {
+  if (!r || (r.borrowerId !== user.id && r.lenderId !== user.id)) throw notFound("request");
+  const side = r.lenderId === user.id ? "lender" : "borrower";
+  if (move && MOVES[move].by !== side) throw refused(`only the ${MOVES[move].by} can do that`);
+  return side;
+}
+
+/** A pool offer the caller owns (to withdraw it, or to find it again when sent twice): anyone else's is "no such". */
+export function ownOffer<O extends { ownerId: string }>(o: O | undefined, user: SessionUser): O {
+  if (!o || o.ownerId !== user.id) throw notFound("offer");
+  return o;
+}
+
+/** A request id the caller sends: theirs (sent again), or not there yet; anyone else's is "no such". */
+export function ownBorrowOrNew<R extends { borrowerId: string }>(r: R | undefined, user: SessionUser): R | undefined {
+  if (r && r.borrowerId !== user.id) throw notFound("request");
+  return r;
+}
+
+/** The check a request is for: the asker's own; anyone else's, even one they mentor, is "no such". */
+export async function askingCheck(ex: Executor, user: SessionUser, checkId: string) {
+  const c = await getCheckRow(ex, checkId);
+  if (!c || c.ownerId !== user.id) throw notFound("check");
+  return c;
+}
+
+/**
+ * An offer the caller may ask for: open, in a club they are in now (a locking read, so an ask racing
+ * the asker's removal from the club cannot slip in after it), and someone else's.
+ */
+export async function askableOffer<O extends { clubId: string; ownerId: string; withdrawnAt: Date | null }>(
+  tx: Tx,
+  user: SessionUser,
+  o: O | undefined,
+): Promise<O> {
+  if (!o || o.withdrawnAt || (await rolesInClub(tx, user.id, o.clubId, true)).length === 0)
+    throw new DomainError("not_found", "That offer is no longer there");
+  if (o.ownerId === user.id) throw refused("these are your own shims: they are on your tray");
+  return o;
+}
+
+/** A device's row for a push: the caller's (the row was made for them on first sight), or refused. */
+export function ownDevice(c: { userId: string; lastMutationId: number } | undefined, user: SessionUser): number {
+  if (!c || c.userId !== user.id) throw forbidden("This device belongs to another account");
+  return c.lastMutationId;
 }

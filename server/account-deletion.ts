@@ -10,7 +10,8 @@ import {
 import { DomainError, domainErrorOf, invalid, notFound, refused, tooMany } from "@/lib/errors";
 import { db, type Executor } from "@/db/client";
 import { users } from "@/db/schema";
-import { createAuthToken, getCredentialsById } from "@/db/queries/users";
+import { getCredentialsById } from "@/db/queries/users";
+import { issueToken } from "./account-changes";
 import { setRoles } from "@/db/queries/clubs";
 import * as q from "@/db/queries/account-deletion";
 import { budget } from "./budgets";
@@ -80,7 +81,7 @@ export async function requestDeleteLink(user: SessionUser, address: string | nul
       `A link was sent a short while ago. Check the inbox, or ask again in ${Math.ceil(spent.retryAfterSeconds / 60)} minutes.`,
       spent.retryAfterSeconds,
     );
-  const token = await createAuthToken(user.id, "delete", LINK_MINUTES);
+  const token = await issueToken(user.id, "delete", LINK_MINUTES);
   await queueNotices([
     {
       toEmail: cred.email,

@@ -1,17 +1,9 @@
 import "server-only";
 import { env } from "@/lib/env";
 import { hashPassword, verifyPassword } from "./password";
-import {
-  consumeAuthToken,
-  createAuthToken,
-  createUser,
-  getCredentialsByEmail,
-  getCredentialsById,
-  tokenOwner,
-  updateUser,
-  bumpSessionGeneration,
-  voidAuthTokens,
-} from "@/db/queries/users";
+import { getCredentialsByEmail, getCredentialsById, tokenOwner } from "@/db/queries/users";
+import { db } from "@/db/client";
+import { issueToken, markAddressProved, newAccount, replacePassword, spendToken } from "./account-changes";
 import { queueNotices } from "./notices";
 import { mailThrottled } from "./throttle";
 import { budget } from "./budgets";
@@ -40,7 +32,7 @@ export async function signUp(input: { email: string; name: string; password: str
   const passwordHash = await hashPassword(input.password);
   const existing = await getCredentialsByEmail(input.email);
   if (existing) {
-    const token = await createAuthToken(existing.id, "reset", 60);
+    const token = await issueToken(existing.id, "reset", 60);
     await queueNotices([
       {
         toEmail: input.email,
@@ -52,7 +44,7 @@ export async function signUp(input: { email: string; name: string; password: str
     ]);
     return;
   }
-  const id = await createUser({ email: input.email, name: input.name, passwordHash });
+  const id = await newAccount({ email: input.email, name: input.name, passwordHash });
   await sendVerification(id, input.email);
 }
 
@@ -61,7 +53,7 @@ export async function signUp(input: { email: string; name: string; password: str
  * word the sign-up chose (the name could be a lure with a link), only our own.
  */
 async function sendVerification(userId: string, email: string) {
-  const token = await createAuthToken(userId, "verify", 24 * 60);
+  const token = await issueToken(userId, "verify", 24 * 60);
   await queueNotices([
     {
       toEmail: email,
@@ -110,7 +102,7 @@ const verifyTries = budget({
 /** Confirms the address; answers it, so the page can sign the newcomer in with the password just proved. */
 export async function verifyEmail(token: string, password: string | undefined): Promise<{ email: string }> {
   const bad = () => new DomainError("bad_request", "This link has expired or was already used", { code: "bad_token" });
-  const userId = await tokenOwner(token, "verify");
+  const userId = await tokenOwner(db(), token, "verify");
   if (!userId) throw bad();
   const u = await getCredentialsById(userId);
   if (!u) throw bad();
@@ -130,9 +122,9 @@ export async function verifyEmail(token: string, password: string | undefined): 
         password: "not the password chosen at sign-up",
       });
   }
-  const used = await consumeAuthToken(token, "verify", { onlyFor: userId });
+  const used = await spendToken(token, "verify", { onlyFor: userId });
   if (used !== userId) throw bad();
-  await updateUser(userId, { emailVerifiedAt: new Date() });
+  await markAddressProved(userId);
   // the caller holds the mailbox's link (and the password, where the account has one): the address is theirs to see
   return { email: u.email };
 }
@@ -147,9 +139,7 @@ export async function verifyEmail(token: string, password: string | undefined): 
 export async function proveAddress(userId: string): Promise<void> {
   const u = await getCredentialsById(userId);
   if (!u || u.emailVerifiedAt) return;
-  await updateUser(userId, { emailVerifiedAt: new Date(), passwordHash: null });
-  await voidAuthTokens(userId);
-  await bumpSessionGeneration(userId);
+  await replacePassword(userId, null);
   if (!u.passwordHash) return;
   await queueNotices([
     {
@@ -173,11 +163,9 @@ export async function requestPasswordReset(email: string, address: string | null
  * pending for the account (reset, sign-in, confirmation), and proves the address.
  */
 export async function resetPassword(token: string, password: string): Promise<boolean> {
-  const userId = await consumeAuthToken(token, "reset");
+  const userId = await spendToken(token, "reset");
   if (!userId || userId === "other") return false;
-  await updateUser(userId, { passwordHash: await hashPassword(password), emailVerifiedAt: new Date() });
-  await voidAuthTokens(userId);
-  await bumpSessionGeneration(userId);
+  await replacePassword(userId, await hashPassword(password));
   return true;
 }
 
@@ -188,7 +176,7 @@ export async function requestSignInLink(email: string, address: string | null = 
 
 /** The address a usable sign-in link is for (whoever holds the link read it in that inbox). */
 export async function linkAccount(token: string): Promise<{ email: string } | null> {
-  const userId = await tokenOwner(token, "signin");
+  const userId = await tokenOwner(db(), token, "signin");
   const u = userId ? await getCredentialsById(userId) : undefined;
   return u ? { email: u.email } : null;
 }

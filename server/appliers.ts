@@ -14,7 +14,7 @@ import {
   writeReadings,
 } from "@/db/queries/garage";
 import { insertComment, writeVerdict } from "@/db/queries/clubs";
-import { invalid, notFound } from "@/lib/errors";
+import { conflict, invalid, notFound } from "@/lib/errors";
 import {
   commentClub,
   ownCheck,
@@ -46,7 +46,7 @@ const sweepAfterDelete = async () => void kickPhotoSweep();
 type Applier<N extends MutationName> = (w: WriteCtx, a: MutationArgs<N>) => Promise<void>;
 
 /** Readings of one check in one go: the owner's check, values that fit its engine, one upsert. */
-export async function applyReadings(w: WriteCtx, checkId: string, rs: ReadingInput[]) {
+async function applyReadings(w: WriteCtx, checkId: string, rs: ReadingInput[]) {
   const check = await ownCheck(w.tx, w.user, checkId);
   phase("check read");
   const engine = (await getEngineRow(w.tx, check.engineId))!;
@@ -108,7 +108,10 @@ export const APPLIERS: { readonly [N in MutationName]: Applier<N> } = {
     const { check } = access;
     // synced to the check's owner: a mentor's comment takes the owner's next change version
     const version = check.ownerId === w.user.id ? w.version : await nextVersion(w.tx, check.ownerId);
-    if (!(await insertComment(w.tx, version, a.checkId, w.user.id, commentClub(access), a))) return; // the same comment sent twice
+    const added = await insertComment(w.tx, version, a.checkId, w.user.id, commentClub(access), a);
+    if (added === "again") return; // the same comment sent twice
+    // dropping it silently would tell the phone its comment was stored when it was not
+    if (added === "taken") throw conflict("That comment id is already used: send the comment with a new id");
     w.later(() => noticeNewComment(check, w.user, a.body));
   },
   "verdict.set/1": async (w, a) => {
@@ -121,6 +124,32 @@ export const APPLIERS: { readonly [N in MutationName]: Applier<N> } = {
   "borrow.ask/1": (w, a) => applyAsk(w, a),
   "borrow.move/1": (w, a) => applyMove(w, a),
 };
+
+type RunApplier<N extends MutationName> = (w: WriteCtx, run: MutationArgs<N>[]) => Promise<void>;
+
+/**
+ * The mutations the table also applies as a run in one call: a check's readings (a measured engine
+ * is up to 200 of them) go in as one locking read and one multi-row upsert per check, not one each.
+ */
+const RUNS: { readonly [N in MutationName]?: RunApplier<N> } = {
+  "reading.put/1": async (w, run) => {
+    // grouped by check in the order first seen; within a check the order is kept (the last write wins)
+    const byCheck = new Map<string, ReadingInput[]>();
+    for (const a of run) byCheck.set(a.checkId, [...(byCheck.get(a.checkId) ?? []), a.reading]);
+    for (const [checkId, rs] of byCheck) await applyReadings(w, checkId, rs);
+  },
+};
+
+/**
+ * Apply a run of one mutation inside the caller's write: batched where the table has a run applier
+ * (RUNS), else one by one. The sync push's runs of readings and the REST readings route come here.
+ */
+export async function applyRun<N extends MutationName>(w: WriteCtx, name: N, run: MutationArgs<N>[]): Promise<void> {
+  if (!Object.hasOwn(APPLIERS, name)) throw invalid(`unknown change "${String(name)}"`);
+  const batch = Object.hasOwn(RUNS, name) ? (RUNS[name] as RunApplier<N> | undefined) : undefined;
+  if (batch) return batch(w, run);
+  for (const a of run) await (APPLIERS[name] as Applier<N>)(w, a);
+}
 
 /**
  * Apply one mutation by name, inside the caller's write. Only the table's own names: a name every

@@ -9,8 +9,6 @@ import { domainErrorOf } from "@/lib/errors";
 import { isTransientDbError } from "@/db/errors";
 import { dummyHash, hashRefusals, verifyPassword } from "./password";
 import {
-  bumpSessionGeneration,
-  consumeAuthToken,
   getCredentialsByEmail,
   getPublicUser,
   getSessionGeneration,
@@ -21,6 +19,7 @@ import { clientAddress, signInThrottled } from "./throttle";
 import { passwordAccepted } from "./sign-in";
 import { rememberDevice } from "./device-cookie";
 import { proveAddress } from "./account";
+import { endSessions, spendToken } from "./account-changes";
 
 export type SessionUser = PublicUser;
 
@@ -101,7 +100,7 @@ export const authOptions: NextAuthOptions = {
         // own account sent to a victim would otherwise log the victim's phone into it (login CSRF).
         const cookie = (req?.headers as Record<string, string> | undefined)?.cookie ?? "";
         const signedIn = await userFromSessionToken(readCookie(cookie, sessionCookieName()));
-        const userId = await consumeAuthToken(token.data, "signin", { onlyFor: signedIn?.id });
+        const userId = await spendToken(token.data, "signin", { onlyFor: signedIn?.id });
         if (userId === "other") throw new Error(SIGN_IN_ERRORS.signedInAsOther);
         if (!userId) return null;
         // following a link from the inbox proves the address (and drops a password set before that)
@@ -136,8 +135,7 @@ export const authOptions: NextAuthOptions = {
     async signOut({ token }) {
       // only a session still current ends the others: a revoked cookie (a lost phone after a new
       // password) must not sign its owner out everywhere whenever it likes
-      if (typeof token?.uid === "string" && typeof token.gen === "number")
-        await bumpSessionGeneration(token.uid, token.gen);
+      if (typeof token?.uid === "string" && typeof token.gen === "number") await endSessions(token.uid, token.gen);
     },
   },
 };

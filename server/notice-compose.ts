@@ -5,7 +5,8 @@ import { getCheckRow } from "@/db/queries/garage";
 import { mentorSharesForCheck, usersByIds } from "@/db/queries/clubs";
 import { takesNotices } from "@/db/queries/notices";
 import type { NoticeRow } from "@/db/schema";
-import { createAuthToken, getCredentialsByEmail } from "@/db/queries/users";
+import { getCredentialsByEmail } from "@/db/queries/users";
+import { issueToken } from "./account-changes";
 import { digest } from "@/lib/mail/digest";
 import { isAccountMail } from "@/lib/mail/kinds";
 
@@ -73,13 +74,13 @@ async function accountLink(n: NoticeRow): Promise<Composed> {
   const u = await getCredentialsByEmail(n.toEmail);
   if (!u) return null;
   if (n.kind === "reset") {
-    const token = await createAuthToken(u.id, "reset", 60);
+    const token = await issueToken(u.id, "reset", 60);
     return {
       subject: "Choose a new Lashwright password",
       body: `To choose a new password, open:\n${link("/reset-password", token)}\n\nThe link works once, for an hour. If you did not ask for it, ignore this message.`,
     };
   }
-  const token = await createAuthToken(u.id, "signin", 15);
+  const token = await issueToken(u.id, "signin", 15);
   return {
     subject: "Your Lashwright sign-in link",
     body: `Open this link on the phone you want to sign in on:\n${link("/sign-in/link", token)}\n\nIt works once, for 15 minutes.`,

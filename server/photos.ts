@@ -110,6 +110,12 @@ async function claimPhoto(
   return "new";
 }
 
+/** The claim's bytes are stored: the caller still reads the check, decided in the write that marks it. */
+async function markStored(w: WriteCtx, checkId: string, id: string): Promise<boolean> {
+  await readableCheck(w.tx, w.user, checkId);
+  return q.markStored(w.tx, id, w.user.id, w.version);
+}
+
 /**
  * An upload: a check the caller cannot read answers 404 whatever was sent, and an oversized body is
  * refused from its declared length (a little room for the form's other fields) before it is read,
@@ -120,6 +126,7 @@ export async function uploadPhoto(
   checkId: string,
   body: { bytes: number; read: (limit: number) => Promise<FormData> },
 ): Promise<{ photo: ApiPhoto; created: boolean; usage: PhotoUsage }> {
+  // answered before the body is read; the writes below decide it again in their own transactions
   await readableCheck(db(), user, checkId);
   const limit = PHOTO_MAX_BYTES + 64 * 1024;
   if (body.bytes > limit) throw tooLarge();
@@ -196,7 +203,7 @@ export async function uploadPhoto(
     log.error({ err: e }, "photos: storing failed");
     throw overloaded("The photo store did not take the photo: it is sent again in a moment");
   }
-  const marked = await write(user, (w) => q.markStored(w.tx, f.id, w.version));
+  const marked = await write(user, (w) => markStored(w, checkId, f.id));
   // removed while its bytes were on their way: a new try claims it afresh
   if (!marked) throw overloaded("The photo changed while it was stored: it is sent again in a moment");
   return done(claim === "new");

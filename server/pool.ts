@@ -2,10 +2,11 @@ import "server-only";
 import { env } from "@/lib/env";
 import { formatLength } from "@/lib/lash";
 import { loanWords, MOVE_WORDS, MOVES, type BorrowInput, type BorrowMove, type OfferInput } from "@/lib/pool/rules";
-import { rolesInClub } from "@/db/queries/clubs";
+import { refused } from "@/lib/errors";
 import { db } from "@/db/client";
+import { nextVersion } from "@/db/versions";
 import * as q from "@/db/queries/pool";
-import { clubMember } from "./access";
+import { askableOffer, askingCheck, clubMember, loanSide, ownBorrowOrNew, ownOffer } from "./access";
 import { noticeTo } from "./notices";
 import { checkTitle } from "./review";
 import type { WriteCtx } from "./write";
@@ -25,11 +26,18 @@ async function tell(toId: string, kind: string, subject: string, body: string) {
 
 export async function applyOffer({ tx, version, user }: WriteCtx, a: OfferInput & { id: string }) {
   await clubMember(tx, user, a.clubId);
-  await q.putOffer(tx, version, user.id, a);
+  const existing = await q.lockOffer(tx, a.id);
+  if (existing) return void ownOffer(existing, user); // the same offer sent again
+  const have = await q.trayCount(tx, user.id, a.size);
+  if (have < a.count) throw refused(`your tray holds ${have} of ${a.size} mm: offer at most that many`);
+  await q.insertOffer(tx, version, user.id, a);
 }
 
+/** The owner takes an offer back; open requests on it are declined, and their borrowers told. */
 export async function applyWithdrawOffer({ tx, version, user, later }: WriteCtx, id: string) {
-  const declined = await q.withdrawOffer(tx, version, user.id, id);
+  const o = ownOffer(await q.lockOffer(tx, id), user);
+  if (o.withdrawnAt) return;
+  const declined = await q.withdrawOffer(tx, version, id);
   later(async () => {
     for (const r of declined)
       await tell(
@@ -41,16 +49,29 @@ export async function applyWithdrawOffer({ tx, version, user, later }: WriteCtx,
   });
 }
 
+/** A request for shims of an offer; refused when fewer are left than asked for. */
 export async function applyAsk({ tx, version, user, later }: WriteCtx, a: BorrowInput & { id: string }) {
-  // a locking read: an ask racing the asker's removal from the club cannot slip in after it
-  const offer = await q.askBorrow(
-    tx,
+  if (ownBorrowOrNew(await q.getBorrow(tx, a.id), user)) return; // the same request sent again
+  // the lender is shown which check asks: it must be the asker's own, never someone else's
+  if (a.checkId) await askingCheck(tx, user, a.checkId);
+  const offer = await askableOffer(tx, user, await q.lockOffer(tx, a.offerId));
+  const left = await q.claimLeft(tx, offer);
+  if (left < a.count)
+    throw refused(
+      left > 0
+        ? `only ${left} of ${offer.size} mm left on offer`
+        : `none of ${offer.size} mm left on offer: another member asked first`,
+    );
+  await q.insertBorrow(tx, {
+    id: a.id,
+    offerId: offer.id,
+    borrowerId: user.id,
+    lenderId: offer.ownerId,
+    checkId: a.checkId ?? null,
+    size: offer.size,
+    count: a.count,
     version,
-    user.id,
-    a,
-    async (clubId) => (await rolesInClub(tx, user.id, clubId, true)).length > 0,
-  );
-  if (!offer) return;
+  });
   later(async () => {
     const title = await checkTitle(a.checkId);
     const forWhat = title ? ` for ${title}` : "";
@@ -63,11 +84,38 @@ export async function applyAsk({ tx, version, user, later }: WriteCtx, a: Borrow
   });
 }
 
+/** One step of a loan, by the side allowed to take it, with its effect on the trays; null when sent twice. */
+async function moveBorrow({ tx, version, user }: WriteCtx, id: string, move: BorrowMove, returnSize: number | null) {
+  const r = await q.lockBorrow(tx, id);
+  const side = loanSide(r, user, move);
+  const m = MOVES[move];
+  if (!(m.from as readonly string[]).includes(r!.state)) {
+    if (r!.state === m.to) return null; // the same step sent twice
+    throw refused(`the request is ${r!.state}: it cannot be ${m.to} now`);
+  }
+  const loan = r!;
+  const o = await q.lockOffer(tx, loan.offerId);
+  const diameter = o?.shimDiameter ?? null;
+  if (move === "hand-over") {
+    if (o) await q.setOfferCount(tx, version, o.id, Math.max(0, o.count - loan.count));
+    await q.adjustTray(tx, version, loan.lenderId, loan.size, -loan.count, diameter);
+    // the borrower's tray is synced to the borrower: their next change version
+    await q.adjustTray(tx, await nextVersion(tx, loan.borrowerId), loan.borrowerId, loan.size, loan.count, diameter);
+  }
+  const back = returnSize ?? loan.size;
+  if (move === "give-back") await q.adjustTray(tx, version, loan.borrowerId, back, -loan.count, diameter);
+  if (move === "settle")
+    await q.adjustTray(tx, version, loan.lenderId, loan.returnSize ?? loan.size, loan.count, diameter);
+  await q.setBorrowState(tx, version, id, m.to, move === "give-back" ? back : undefined);
+  // the offer's note says where to collect the shims: the agreed notice carries it
+  return { ...loan, state: m.to, side, note: o?.note ?? null };
+}
+
 export async function applyMove(
   { tx, version, user, later }: WriteCtx,
   a: { id: string; move: BorrowMove; returnSize?: number | null },
 ) {
-  const r = await q.moveBorrow(tx, version, user.id, a.id, a.move, a.returnSize ?? null);
+  const r = await moveBorrow({ tx, version, user, later }, a.id, a.move, a.returnSize ?? null);
   if (!r) return;
   const other = r.side === "lender" ? r.borrowerId : r.lenderId;
   later(async () => {

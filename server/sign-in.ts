@@ -1,9 +1,9 @@
 import "server-only";
-import { upgradePasswordHash } from "@/db/queries/users";
 import { domainErrorOf } from "@/lib/errors";
 import { rememberDevice } from "./device-cookie";
 import { hashPassword, hashRefusals, needsRehash } from "./password";
 import { signInSucceeded } from "./throttle";
+import { upgradeHash } from "./account-changes";
 
 /**
  * What a right password leads to, besides the session: the tries counted against it are forgotten,
@@ -19,7 +19,7 @@ export async function passwordAccepted(
   await signInSucceeded(u.email.toLowerCase(), address);
   if (u.passwordHash && needsRehash(u.passwordHash)) {
     try {
-      await upgradePasswordHash(u.id, u.passwordHash, await hashPassword(password));
+      await upgradeHash(u.id, u.passwordHash, await hashPassword(password));
     } catch (e) {
       // the hashing queue is full: the old hash still works, and the next sign-in upgrades it
       if (domainErrorOf(e)?.kind !== "overloaded") throw e;

@@ -15,10 +15,11 @@ import { nextVersion, type Tx } from "@/db/versions";
 import { isTransientDbError } from "@/db/errors";
 import { retryConflicts } from "@/db/retry";
 import * as q from "@/db/queries/sync";
-import { apply, applyReadings } from "./appliers";
+import { apply, applyRun } from "./appliers";
 import { runAfter, type After, type WriteCtx } from "./write";
 import { budget, type Budget } from "./budgets";
 import type { SessionUser } from "./auth";
+import { ownDevice } from "./access";
 import { phase } from "./timing";
 import { log } from "./log";
 import { countSyncRows } from "./metrics";
@@ -78,8 +79,8 @@ async function refundWrites(user: SessionUser, clientId: string, cost: number) {
  * The server side of the sync protocol (README "Working without a signal"). A push is applied in one transaction:
  * mutations at or below the client's last applied id are skipped (replays are harmless), each new
  * one runs through its applier (server/appliers.ts) in its own savepoint so a refused one rolls
- * back alone and is recorded with its reason, runs of readings of one check go in as one multi-row
- * upsert, and the new last id is written in the same transaction.
+ * back alone and is recorded with its reason, a run of readings of one check is one call of the
+ * table's run applier (applyRun: one multi-row upsert), and the new last id is written in the same transaction.
  */
 export interface PushResult {
   lastMutationId: number;
@@ -145,7 +146,7 @@ export async function push(user: SessionUser, input: PushInput): Promise<PushRes
       later = undefined;
       after = [];
       applied = 0;
-      const last = await q.lockClient(tx, input.clientId, user.id, known !== undefined);
+      const last = ownDevice(await q.lockClient(tx, input.clientId, user.id, known !== undefined), user);
       phase("device lock");
       // a push sent again because its answer was lost: what was refused then is said again, so the
       // phone never takes a refused change for an applied one and drops it
@@ -216,13 +217,7 @@ export async function push(user: SessionUser, input: PushInput): Promise<PushRes
           if (run.length > 1) {
             // a transient failure throws (the whole push is tried again); any other one means
             // something in the run is refused or failed: apply them one by one to find it
-            const ok = await step(tx, user, version, after, (w) =>
-              applyReadings(
-                w,
-                checkId,
-                run.map((r) => readingArgs(r).reading),
-              ),
-            )
+            const ok = await step(tx, user, version, after, (w) => applyRun(w, "reading.put/1", run.map(readingArgs)))
               .then(() => true)
               .catch((e: unknown) => {
                 const d = domainErrorOf(e);

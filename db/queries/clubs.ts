@@ -2,8 +2,7 @@ import "server-only";
 import { and, asc, desc, eq, gt, inArray, isNull, or, sql } from "drizzle-orm";
 import { alias } from "drizzle-orm/mysql-core";
 import { createHash, randomBytes } from "node:crypto";
-import { conflict } from "@/lib/errors";
-import { db, transaction, type Executor, type Tx } from "../client";
+import { db, type Executor, type Tx } from "../client";
 import {
   borrowRequests,
   checks,
@@ -62,24 +61,20 @@ export async function getClub(ex: Executor, clubId: string) {
   return c;
 }
 
-/** A new club; its creator becomes admin (and a mechanic member). */
-export async function createClub(userId: string, name: string) {
-  const id = crypto.randomUUID();
-  await transaction(async (tx) => {
-    await tx.insert(clubs).values({ id, name, createdBy: userId });
-    await tx.insert(memberships).values([
-      { clubId: id, userId, role: "admin" },
-      { clubId: id, userId, role: "mechanic" },
-    ]);
-    await log(tx, {
-      clubId: id,
-      actorId: userId,
-      action: "roles-changed",
-      subjectUserId: userId,
-      detail: "none → admin, mechanic",
-    });
+/** A new club's rows, in the caller's transaction: its creator becomes admin (and a mechanic member). */
+export async function insertClub(tx: Tx, id: string, name: string, userId: string) {
+  await tx.insert(clubs).values({ id, name, createdBy: userId });
+  await tx.insert(memberships).values([
+    { clubId: id, userId, role: "admin" },
+    { clubId: id, userId, role: "mechanic" },
+  ]);
+  await log(tx, {
+    clubId: id,
+    actorId: userId,
+    action: "roles-changed",
+    subjectUserId: userId,
+    detail: "none → admin, mechanic",
   });
-  return { id, name, roles: ["admin", "mechanic"] as Role[] };
 }
 
 export async function listMembers(ex: Executor, clubId: string) {
@@ -282,53 +277,46 @@ export async function withdrawInvite(tx: Tx, clubId: string, inviteId: string, a
   return true;
 }
 
+/** A pending invitation by its token (unexpired, unused, not withdrawn), locked for the acceptance. */
+export async function lockPendingInvite(tx: Tx, raw: string) {
+  const [inv] = await tx
+    .select()
+    .from(invites)
+    .where(
+      and(
+        eq(invites.tokenHash, hash(raw)),
+        isNull(invites.acceptedAt),
+        isNull(invites.withdrawnAt),
+        gt(invites.expiresAt, new Date()),
+      ),
+    )
+    .for("update");
+  return inv;
+}
+
 /**
- * Accept an invite once: unexpired, unused, not withdrawn, addressed to the accepting user's e-mail,
- * and sent by someone who is still an admin of the club.
+ * The invitation used, in the caller's transaction (server/access.ts acceptableInvite decided it may
+ * be): the invitee gains its role (and mechanic), with a line in the club log. Answers the club's name.
  */
-export async function acceptInvite(raw: string, user: { id: string; email: string }) {
-  return transaction(async (tx) => {
-    const [inv] = await tx
-      .select()
-      .from(invites)
-      .where(
-        and(
-          eq(invites.tokenHash, hash(raw)),
-          isNull(invites.acceptedAt),
-          isNull(invites.withdrawnAt),
-          gt(invites.expiresAt, new Date()),
-        ),
-      )
-      .for("update");
-    if (!inv || inv.email !== user.email || !inv.invitedBy) return null;
-    const [stillAdmin] = await tx
-      .select({ id: memberships.id })
-      .from(memberships)
-      .where(
-        and(eq(memberships.clubId, inv.clubId), eq(memberships.userId, inv.invitedBy), eq(memberships.role, "admin")),
-      );
-    if (!stillAdmin) return null;
-    await tx.update(invites).set({ acceptedAt: new Date() }).where(eq(invites.id, inv.id));
-    const have = await tx
-      .select({ role: memberships.role })
-      .from(memberships)
-      .where(and(eq(memberships.clubId, inv.clubId), eq(memberships.userId, user.id)));
-    const want = [...new Set<Role>(["mechanic", inv.role])].filter((r) => !have.some((h) => h.role === r));
-    if (want.length)
-      await tx.insert(memberships).values(want.map((role) => ({ clubId: inv.clubId, userId: user.id, role })));
-    const after = [...new Set([...have.map((h) => h.role), ...want])];
-    await log(tx, {
-      clubId: inv.clubId,
-      actorId: user.id,
-      action: "invite-accepted",
-      subjectUserId: user.id,
-      subjectEmail: inv.email,
-      detail: `${rolesWord(have.map((h) => h.role))} → ${rolesWord(after)}`,
-    });
-    // the page says which club was joined, not a silent move to the club list
-    const [club] = await tx.select({ name: clubs.name }).from(clubs).where(eq(clubs.id, inv.clubId)).limit(1);
-    return { clubId: inv.clubId, clubName: club?.name ?? "the club" };
+export async function joinByInvite(tx: Tx, inv: typeof invites.$inferSelect, userId: string) {
+  await tx.update(invites).set({ acceptedAt: new Date() }).where(eq(invites.id, inv.id));
+  const have = await tx
+    .select({ role: memberships.role })
+    .from(memberships)
+    .where(and(eq(memberships.clubId, inv.clubId), eq(memberships.userId, userId)));
+  const want = [...new Set<Role>(["mechanic", inv.role])].filter((r) => !have.some((h) => h.role === r));
+  if (want.length) await tx.insert(memberships).values(want.map((role) => ({ clubId: inv.clubId, userId, role })));
+  const after = [...new Set([...have.map((h) => h.role), ...want])];
+  await log(tx, {
+    clubId: inv.clubId,
+    actorId: userId,
+    action: "invite-accepted",
+    subjectUserId: userId,
+    subjectEmail: inv.email,
+    detail: `${rolesWord(have.map((h) => h.role))} → ${rolesWord(after)}`,
   });
+  const [club] = await tx.select({ name: clubs.name }).from(clubs).where(eq(clubs.id, inv.clubId)).limit(1);
+  return { clubId: inv.clubId, clubName: club?.name ?? "the club" };
 }
 
 /** The club log, newest first, with the names of who acted and on whom. */
@@ -469,8 +457,8 @@ export async function listComments(ex: Executor, checkId: string) {
 
 /**
  * A comment, once: the same id sent again by its author on the same check (a retried sync) changes
- * nothing and answers false. An id already used by anyone else, or on another check, is refused:
- * dropping it silently would tell the phone its comment was stored when it was not.
+ * nothing and answers "again"; an id already used by anyone else, or on another check, answers
+ * "taken" and writes nothing (the applier refuses it).
  */
 export async function insertComment(
   tx: Tx,
@@ -479,20 +467,17 @@ export async function insertComment(
   authorId: string,
   clubId: string | null,
   input: { id: string; body: string; valve?: string | null },
-): Promise<boolean> {
+): Promise<"added" | "again" | "taken"> {
   const [c] = await tx
     .select({ checkId: comments.checkId, authorId: comments.authorId })
     .from(comments)
     .where(eq(comments.id, input.id))
     .limit(1);
-  if (c) {
-    if (c.checkId === checkId && c.authorId === authorId) return false;
-    throw conflict("That comment id is already used: send the comment with a new id");
-  }
+  if (c) return c.checkId === checkId && c.authorId === authorId ? "again" : "taken";
   await tx
     .insert(comments)
     .values({ id: input.id, checkId, authorId, clubId, body: input.body, valve: input.valve ?? null, version });
-  return true;
+  return "added";
 }
 
 export async function usersByIds(ids: string[]) {

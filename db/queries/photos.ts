@@ -1,7 +1,7 @@
 import "server-only";
 import { and, asc, eq, inArray, isNotNull, isNull, lt, sql } from "drizzle-orm";
 import type { ApiPhoto } from "@/lib/photos/rules";
-import { db, type Executor } from "../client";
+import { db, type Executor, type Tx } from "../client";
 import { checks, comments, uploads, users } from "../schema";
 
 const apiColumns = {
@@ -77,21 +77,24 @@ export async function bytesStored(ex: Executor, ownerId: string, lock = false): 
 }
 
 /** The row that claims a photo's id, written before its bytes are stored. */
-export async function insertClaim(ex: Executor, p: Omit<typeof uploads.$inferInsert, "storedAt">) {
-  await ex.insert(uploads).values({ ...p, storedAt: null });
+export async function insertClaim(tx: Tx, p: Omit<typeof uploads.$inferInsert, "storedAt">) {
+  await tx.insert(uploads).values({ ...p, storedAt: null });
 }
 
-/** The bytes are in the store. False when the row is gone (removed while its bytes were being sent). */
-export async function markStored(ex: Executor, id: string, version: number): Promise<boolean> {
-  const [r] = await ex
+/**
+ * The bytes are in the store. False when the owner's row is gone (removed while its bytes were
+ * being sent).
+ */
+export async function markStored(tx: Tx, id: string, ownerId: string, version: number): Promise<boolean> {
+  const [r] = await tx
     .update(uploads)
     .set({ storedAt: sql`coalesce(${uploads.storedAt}, current_timestamp(3))`, version })
-    .where(eq(uploads.id, id));
+    .where(and(eq(uploads.id, id), eq(uploads.ownerId, ownerId)));
   return r.affectedRows > 0;
 }
 
-export async function deletePhoto(ex: Executor, id: string) {
-  await ex.delete(uploads).where(eq(uploads.id, id));
+export async function deletePhoto(tx: Tx, id: string) {
+  await tx.delete(uploads).where(eq(uploads.id, id));
 }
 
 /** Claims whose bytes never came (the phone that sent them is gone): they give their space back. */

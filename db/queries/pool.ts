@@ -2,24 +2,15 @@ import "server-only";
 import { and, asc, desc, eq, gt, inArray, isNull, or, sql } from "drizzle-orm";
 import { alias } from "drizzle-orm/mysql-core";
 import { toNm } from "@/lib/lash";
-import {
-  HOLDING,
-  MOVES,
-  type ApiBorrow,
-  type ApiOffer,
-  type BorrowInput,
-  type BorrowMove,
-  type OfferInput,
-} from "@/lib/pool/rules";
-import { notFound, refused, DomainError } from "@/lib/errors";
+import { HOLDING, type ApiBorrow, type ApiOffer, type OfferInput } from "@/lib/pool/rules";
 import { db, type Executor, type Tx } from "../client";
-import { borrowRequests, checks, poolOffers, trayItems, users } from "../schema";
-import { nextVersion } from "../versions";
+import { borrowRequests, poolOffers, trayItems, users } from "../schema";
 
 /**
- * The club pool's rows. Every write takes the caller's transaction and change version (the REST
- * routes and sync pushes share these), and locks the offer row before counting what is left, so
- * two requests racing for the last shim cannot both get it.
+ * The club pool's rows, SQL only (the rules are server/pool.ts's and server/access.ts's). Every
+ * write takes the caller's transaction and change version (the REST routes and sync pushes share
+ * these); the offer row is locked before what is left is counted, so two requests racing for the
+ * last shim cannot both get it.
  */
 
 /**
@@ -69,7 +60,7 @@ export async function getOffer(ex: Executor, id: string) {
 }
 
 /** How many shims of this size the user has on their tray. */
-async function trayCount(tx: Tx, userId: string, size: number) {
+export async function trayCount(tx: Tx, userId: string, size: number) {
   const rows = await tx
     .select({ size: trayItems.size, count: trayItems.count })
     .from(trayItems)
@@ -78,7 +69,7 @@ async function trayCount(tx: Tx, userId: string, size: number) {
 }
 
 /** Add (or take, with a negative delta, never below zero) shims of one size on a user's tray. */
-async function adjustTray(
+export async function adjustTray(
   tx: Tx,
   version: number,
   userId: string,
@@ -114,12 +105,13 @@ async function adjustTray(
   }
 }
 
-export async function putOffer(tx: Tx, version: number, ownerId: string, a: OfferInput & { id: string }) {
-  const [existing] = await tx.select().from(poolOffers).where(eq(poolOffers.id, a.id)).limit(1).for("update");
-  if (existing && existing.ownerId !== ownerId) throw notFound("offer");
-  if (existing) return existing; // the same offer sent again
-  const have = await trayCount(tx, ownerId, a.size);
-  if (have < a.count) throw refused(`your tray holds ${have} of ${a.size} mm: offer at most that many`);
+/** The offer row, locked until the write ends: what is left of it is decided on it. */
+export async function lockOffer(tx: Tx, id: string) {
+  const [o] = await tx.select().from(poolOffers).where(eq(poolOffers.id, id)).limit(1).for("update");
+  return o;
+}
+
+export async function insertOffer(tx: Tx, version: number, ownerId: string, a: OfferInput & { id: string }) {
   await tx.insert(poolOffers).values({
     id: a.id,
     clubId: a.clubId,
@@ -133,11 +125,8 @@ export async function putOffer(tx: Tx, version: number, ownerId: string, a: Offe
   });
 }
 
-/** The owner takes an offer back; open requests on it are declined. */
-export async function withdrawOffer(tx: Tx, version: number, ownerId: string, id: string) {
-  const [o] = await tx.select().from(poolOffers).where(eq(poolOffers.id, id)).limit(1).for("update");
-  if (!o || o.ownerId !== ownerId) throw notFound("offer");
-  if (o.withdrawnAt) return [];
+/** The offer taken back; its open requests are declined and answered (their borrowers are told). */
+export async function withdrawOffer(tx: Tx, version: number, id: string) {
   await tx.update(poolOffers).set({ withdrawnAt: new Date(), version }).where(eq(poolOffers.id, id));
   const open = await tx
     .select({ id: borrowRequests.id, borrowerId: borrowRequests.borrowerId })
@@ -156,97 +145,49 @@ export async function withdrawOffer(tx: Tx, version: number, ownerId: string, id
   return open;
 }
 
-/** A request for shims of an offer; refused when fewer are left than asked for. */
-export async function askBorrow(
-  tx: Tx,
-  version: number,
-  borrowerId: string,
-  a: BorrowInput & { id: string },
-  isMember: (clubId: string) => Promise<boolean>,
-) {
-  const [dup] = await tx
-    .select({ borrowerId: borrowRequests.borrowerId })
-    .from(borrowRequests)
-    .where(eq(borrowRequests.id, a.id))
-    .limit(1);
-  if (dup) {
-    if (dup.borrowerId !== borrowerId) throw notFound("request");
-    return null; // the same request sent again
-  }
-  if (a.checkId) {
-    // the lender is shown which check asks: it must be the asker's own, never someone else's
-    const [c] = await tx.select({ ownerId: checks.ownerId }).from(checks).where(eq(checks.id, a.checkId)).limit(1);
-    if (!c || c.ownerId !== borrowerId) throw notFound("check");
-  }
-  const [o] = await tx.select().from(poolOffers).where(eq(poolOffers.id, a.offerId)).limit(1).for("update");
-  if (!o || o.withdrawnAt || !(await isMember(o.clubId)))
-    throw new DomainError("not_found", "That offer is no longer there");
-  if (o.ownerId === borrowerId) throw refused("these are your own shims: they are on your tray");
-  // the row lock above orders requests on one node only; this write to the offer row is what a
-  // multi-primary cluster certifies, so of two requests on two nodes one commits, the other retries
+export async function getBorrow(tx: Tx, id: string) {
+  const [r] = await tx.select().from(borrowRequests).where(eq(borrowRequests.id, id)).limit(1);
+  return r;
+}
+
+/** The request row, locked until the write ends (one step of a loan at a time). */
+export async function lockBorrow(tx: Tx, id: string) {
+  const [r] = await tx.select().from(borrowRequests).where(eq(borrowRequests.id, id)).limit(1).for("update");
+  return r;
+}
+
+/**
+ * The shims of an offer not yet held by open requests. The row lock lockOffer takes orders requests
+ * on one node only; this write to the offer row is what a multi-primary cluster certifies, so of two
+ * requests on two nodes one commits, the other retries. The holds are counted with a locking read.
+ */
+export async function claimLeft(tx: Tx, o: { id: string; count: number }): Promise<number> {
   await tx
     .update(poolOffers)
     .set({ asks: sql`${poolOffers.asks} + 1` })
     .where(eq(poolOffers.id, o.id));
-  const left = o.count - ((await held(tx, [o.id], true)).get(o.id) ?? 0);
-  if (left < a.count)
-    throw refused(
-      left > 0
-        ? `only ${left} of ${o.size} mm left on offer`
-        : `none of ${o.size} mm left on offer: another member asked first`,
-    );
-  await tx.insert(borrowRequests).values({
-    id: a.id,
-    offerId: o.id,
-    borrowerId,
-    lenderId: o.ownerId,
-    checkId: a.checkId ?? null,
-    size: o.size,
-    count: a.count,
-    version,
-  });
-  return o;
+  return o.count - ((await held(tx, [o.id], true)).get(o.id) ?? 0);
 }
 
-/** One step of a loan, by the side allowed to take it, with its effect on the trays. */
-export async function moveBorrow(
+export async function insertBorrow(tx: Tx, r: typeof borrowRequests.$inferInsert) {
+  await tx.insert(borrowRequests).values(r);
+}
+
+export async function setOfferCount(tx: Tx, version: number, id: string, count: number) {
+  await tx.update(poolOffers).set({ count, version }).where(eq(poolOffers.id, id));
+}
+
+export async function setBorrowState(
   tx: Tx,
   version: number,
-  userId: string,
   id: string,
-  move: BorrowMove,
-  returnSize: number | null,
+  state: (typeof borrowRequests.$inferSelect)["state"],
+  returnSize?: number,
 ) {
-  const [r] = await tx.select().from(borrowRequests).where(eq(borrowRequests.id, id)).limit(1).for("update");
-  if (!r || (r.borrowerId !== userId && r.lenderId !== userId)) throw notFound("request");
-  const m = MOVES[move];
-  const side = r.lenderId === userId ? "lender" : "borrower";
-  if (m.by !== side) throw refused(`only the ${m.by} can do that`);
-  if (!(m.from as readonly string[]).includes(r.state)) {
-    if (r.state === m.to) return null; // the same step sent twice
-    throw refused(`the request is ${r.state}: it cannot be ${m.to} now`);
-  }
-  const [o] = await tx.select().from(poolOffers).where(eq(poolOffers.id, r.offerId)).limit(1).for("update");
-  const diameter = o?.shimDiameter ?? null;
-  if (move === "hand-over") {
-    if (o)
-      await tx
-        .update(poolOffers)
-        .set({ count: Math.max(0, o.count - r.count), version })
-        .where(eq(poolOffers.id, o.id));
-    await adjustTray(tx, version, r.lenderId, r.size, -r.count, diameter);
-    // the borrower's tray is synced to the borrower: their next change version
-    await adjustTray(tx, await nextVersion(tx, r.borrowerId), r.borrowerId, r.size, r.count, diameter);
-  }
-  const back = returnSize ?? r.size;
-  if (move === "give-back") await adjustTray(tx, version, r.borrowerId, back, -r.count, diameter);
-  if (move === "settle") await adjustTray(tx, version, r.lenderId, r.returnSize ?? r.size, r.count, diameter);
   await tx
     .update(borrowRequests)
-    .set({ state: m.to, version, ...(move === "give-back" ? { returnSize: back } : {}) })
+    .set({ state, version, ...(returnSize !== undefined ? { returnSize } : {}) })
     .where(eq(borrowRequests.id, id));
-  // the offer's note says where to collect the shims: the agreed notice carries it
-  return { ...r, state: m.to, side, note: o?.note ?? null };
 }
 
 export async function listBorrows(userId: string): Promise<ApiBorrow[]> {

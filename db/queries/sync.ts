@@ -1,28 +1,38 @@
 import "server-only";
 import { and, asc, eq, gt, gte, inArray, lte, or, sql } from "drizzle-orm";
-import { forbidden } from "@/lib/errors";
 import { db, type Tx } from "../client";
 import { checks, comments, engines, readings, rejectedMutations, syncClients, tombstones, trayItems } from "../schema";
 import { checkToApi, engineToApi, readingToApi, trayToApi } from "./garage";
 import type { AnyMySqlColumn } from "drizzle-orm/mysql-core";
 
-/** The client row, locked for the push; created on first sight, refused if another user owns it. */
-export async function lockClient(tx: Tx, clientId: string, userId: string, known = false): Promise<number> {
+/**
+ * The client row, locked for the push; created on first sight (for this user). Answers whose it is
+ * and its last applied id: the push refuses a device of another account (server/access.ts ownDevice).
+ */
+export async function lockClient(
+  tx: Tx,
+  clientId: string,
+  userId: string,
+  known = false,
+): Promise<{ userId: string; lastMutationId: number } | undefined> {
+  const locked = async () => {
+    const [c] = await tx
+      .select({ userId: syncClients.userId, lastMutationId: syncClients.lastMutationId })
+      .from(syncClients)
+      .where(eq(syncClients.id, clientId))
+      .for("update");
+    return c;
+  };
   // a device seen before (the push read its row just now): the locking read alone, one round trip
   if (known) {
-    const [c] = await tx.select().from(syncClients).where(eq(syncClients.id, clientId)).for("update");
-    if (c) {
-      if (c.userId !== userId) throw forbidden("This device belongs to another account");
-      return c.lastMutationId;
-    }
+    const c = await locked();
+    if (c) return c;
   }
   await tx
     .insert(syncClients)
     .values({ id: clientId, userId })
     .onDuplicateKeyUpdate({ set: { id: sql`id` } });
-  const [c] = await tx.select().from(syncClients).where(eq(syncClients.id, clientId)).for("update");
-  if (!c || c.userId !== userId) throw forbidden("This device belongs to another account");
-  return c.lastMutationId;
+  return locked();
 }
 
 /**

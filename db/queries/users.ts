@@ -1,7 +1,7 @@
 import "server-only";
 import { and, eq, gt, isNull, sql } from "drizzle-orm";
 import { createHash, randomBytes } from "node:crypto";
-import { db } from "../client";
+import { db, type Executor, type Tx } from "../client";
 import { authTokens, users, type UserRow } from "../schema";
 
 /** The columns any caller may see of a user: never the password hash. */
@@ -55,36 +55,43 @@ export async function getSessionGeneration(id: string): Promise<number | undefin
 }
 
 /** Ends every session of the account; with `from`, only if the generation is still that one. */
-export async function bumpSessionGeneration(id: string, from?: number): Promise<void> {
+export async function bumpSessionGeneration(tx: Tx, id: string, from?: number): Promise<void> {
   const where = from === undefined ? eq(users.id, id) : and(eq(users.id, id), eq(users.sessionGeneration, from));
-  await db()
+  await tx
     .update(users)
     .set({ sessionGeneration: sql`${users.sessionGeneration} + 1` })
     .where(where);
 }
 
-export async function createUser(input: { email: string; name: string; passwordHash: string }): Promise<string> {
+export async function createUser(
+  tx: Tx,
+  input: { email: string; name: string; passwordHash: string },
+): Promise<string> {
   const id = crypto.randomUUID();
-  await db()
-    .insert(users)
-    .values({ id, ...input });
+  await tx.insert(users).values({ id, ...input });
   return id;
 }
 
 export async function updateUser(
+  tx: Tx,
   id: string,
   patch: Partial<Pick<UserRow, "name" | "displayUnit" | "noticesByEmail" | "passwordHash" | "emailVerifiedAt">>,
 ) {
-  await db().update(users).set(patch).where(eq(users.id, id));
+  await tx.update(users).set(patch).where(eq(users.id, id));
 }
 
-type TokenPurpose = "verify" | "reset" | "signin" | "delete";
+export type TokenPurpose = "verify" | "reset" | "signin" | "delete";
 const hashToken = (raw: string) => createHash("sha256").update(raw).digest("hex");
 
 /** A one-time token for a link in an e-mail; only its hash is stored. */
-export async function createAuthToken(userId: string, purpose: TokenPurpose, ttlMinutes: number): Promise<string> {
+export async function createAuthToken(
+  tx: Tx,
+  userId: string,
+  purpose: TokenPurpose,
+  ttlMinutes: number,
+): Promise<string> {
   const raw = randomBytes(32).toString("base64url");
-  await db()
+  await tx
     .insert(authTokens)
     .values({ userId, purpose, tokenHash: hashToken(raw), expiresAt: new Date(Date.now() + ttlMinutes * 60_000) });
   return raw;
@@ -95,6 +102,7 @@ export async function createAuthToken(userId: string, purpose: TokenPurpose, ttl
  * With `onlyFor`, a token of another user is left unused and answers "other".
  */
 export async function consumeAuthToken(
+  tx: Tx,
   raw: string,
   purpose: TokenPurpose,
   opts: { onlyFor?: string } = {},
@@ -107,12 +115,12 @@ export async function consumeAuthToken(
     gt(authTokens.expiresAt, new Date()),
   );
   if (opts.onlyFor) {
-    const owner = await tokenOwner(raw, purpose);
+    const owner = await tokenOwner(tx, raw, purpose);
     if (owner && owner !== opts.onlyFor) return "other";
   }
-  const [res] = await db().update(authTokens).set({ usedAt: new Date() }).where(where);
+  const [res] = await tx.update(authTokens).set({ usedAt: new Date() }).where(where);
   if (res.affectedRows !== 1) return null;
-  const [row] = await db()
+  const [row] = await tx
     .select({ userId: authTokens.userId })
     .from(authTokens)
     .where(eq(authTokens.tokenHash, tokenHash))
@@ -125,21 +133,19 @@ export async function consumeAuthToken(
  * (or before a password was removed) must not outlive it, or whoever read the old mail keeps a way in
  * (OWASP ASVS 5.0 V6 Authentication: a password change ends pending recovery).
  */
-export async function voidAuthTokens(userId: string): Promise<void> {
-  await db()
-    .delete(authTokens)
-    .where(and(eq(authTokens.userId, userId), isNull(authTokens.usedAt)));
+export async function voidAuthTokens(tx: Tx, userId: string): Promise<void> {
+  await tx.delete(authTokens).where(and(eq(authTokens.userId, userId), isNull(authTokens.usedAt)));
 }
 
 /** Whose a usable token is, without using it (the sign-in link page names the account first). */
-export async function tokenOwner(raw: string, purpose: TokenPurpose): Promise<string | null> {
+export async function tokenOwner(ex: Executor, raw: string, purpose: TokenPurpose): Promise<string | null> {
   const where = and(
     eq(authTokens.tokenHash, hashToken(raw)),
     eq(authTokens.purpose, purpose),
     isNull(authTokens.usedAt),
     gt(authTokens.expiresAt, new Date()),
   );
-  const [row] = await db().select({ userId: authTokens.userId }).from(authTokens).where(where).limit(1);
+  const [row] = await ex.select({ userId: authTokens.userId }).from(authTokens).where(where).limit(1);
   return row?.userId ?? null;
 }
 
@@ -149,8 +155,8 @@ export { hashToken };
  * Replace a password hash by a stronger one of the same password (at sign-in), only if it is still
  * the hash that was checked: a password changed meanwhile is never overwritten by the old one.
  */
-export async function upgradePasswordHash(id: string, checked: string, stronger: string): Promise<void> {
-  await db()
+export async function upgradePasswordHash(tx: Tx, id: string, checked: string, stronger: string): Promise<void> {
+  await tx
     .update(users)
     .set({ passwordHash: stronger })
     .where(and(eq(users.id, id), eq(users.passwordHash, checked)));

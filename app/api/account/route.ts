@@ -1,6 +1,7 @@
 import { settingsInput } from "@/lib/schemas/account";
 import { route } from "@/server/http";
-import { getPublicUser, updateUser } from "@/db/queries/users";
+import { getPublicUser } from "@/db/queries/users";
+import { changeSettings } from "@/server/account-changes";
 import { NextResponse } from "next/server";
 import { deleteAccountInput } from "@/lib/account/deletion";
 import { deleteAccount } from "@/server/account-deletion";
@@ -9,7 +10,7 @@ import { sessionCookieName } from "@/server/auth";
 export const GET = route({}, async ({ user }) => ({ user }));
 
 export const PATCH = route({ body: settingsInput }, async ({ user, body }) => {
-  await updateUser(user.id, body);
+  await changeSettings(user.id, body);
   return { user: await getPublicUser(user.id) };
 });
 

@@ -1,13 +1,15 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { and, eq, sql } from "drizzle-orm";
 import { closeDb, db, transaction } from "@/db/client";
-import { checks, comments, engines, readings, trayItems } from "@/db/schema";
-import { createClub, setRoles, shareCheck } from "@/db/queries/clubs";
-import { createUser, getPublicUser, type PublicUser } from "@/db/queries/users";
+import { authTokens, checks, comments, engines, memberships, readings, trayItems, users } from "@/db/schema";
+import { setRoles, shareCheck } from "@/db/queries/clubs";
+import { getPublicUser, type PublicUser } from "@/db/queries/users";
+import { issueToken, newAccount, replacePassword, spendToken } from "@/server/account-changes";
 import { nextVersion } from "@/db/versions";
 import { DomainError } from "@/lib/errors";
 import { parseMutation, type MutationArgs, type MutationName } from "@/lib/sync/mutations";
-import { apply } from "@/server/appliers";
+import { apply, applyRun } from "@/server/appliers";
+import { acceptInvite, createClub, inviteToClub, removeMember, setMemberRoles } from "@/server/clubs";
 import { write } from "@/server/write";
 import { IDS, SHIPPED } from "@/tests/fixtures/shipped-outbox";
 
@@ -40,7 +42,7 @@ const run = <N extends MutationName>(user: PublicUser, name: N, args: MutationAr
   write(user, (w) => apply(w, name, args));
 
 async function newUser(label: string): Promise<PublicUser> {
-  const id = await createUser({
+  const id = await newAccount({
     email: `${label}-${crypto.randomUUID()}@example.test`,
     name: label,
     passwordHash: "not-a-hash",
@@ -108,7 +110,7 @@ describe("appliers and access rules, against the database", () => {
   it("a mentor of a club the check is shared with comments (once, however often sent) but may not change a reading", async () => {
     const { owner, checkId, ids } = await ownerWithCheck();
     const mentor = await newUser("mentor");
-    const club = await createClub(owner.id, "Appliers club");
+    const club = await write(owner, (w) => createClub(w, "Appliers club"));
     await transaction(async (tx) => {
       await setRoles(tx, club.id, mentor.id, ["mentor"], owner.id);
       await shareCheck(tx, await nextVersion(tx, owner.id), checkId, club.id, owner.id);
@@ -151,5 +153,94 @@ describe("appliers and access rules, against the database", () => {
     for (const name of ["constructor", "toString", "engine.put/99"]) {
       expect(await outcome(write(user, (w) => apply(w, name as MutationName, {} as never)))).toBe("invalid");
     }
+  });
+
+  it("a run of readings is one call of the table: batched per check, and refused whole when one check is not the caller's", async () => {
+    const a = await ownerWithCheck();
+    const second = crypto.randomUUID();
+    await run(a.owner, "check.put/1", mutation("check.put/1", a.ids, { id: second, engineId: a.engineId }));
+    const reading = (checkId: string, valve: string, feelerGo: number) => ({
+      ...mutation("reading.put/1", a.ids, { checkId }),
+      reading: { ...mutation("reading.put/1", a.ids).reading, valve, feelerGo, feelerNoGo: feelerGo + 0.02 },
+    });
+    // two checks interleaved; the same valve twice in one check: the later value wins
+    await write(a.owner, (w) =>
+      applyRun(w, "reading.put/1", [
+        reading(a.checkId, "I1.1", 0.13),
+        reading(second, "I1.1", 0.14),
+        reading(a.checkId, "I1.1", 0.15),
+        reading(a.checkId, "E1.1", 0.2),
+      ]),
+    );
+    const rows = await db().select().from(readings).where(eq(readings.ownerId, a.owner.id));
+    expect(rows.map((r) => [r.checkId === a.checkId ? "first" : "second", r.valve, r.feelerGo]).sort()).toEqual(
+      [
+        ["first", "E1.1", 0.2],
+        ["first", "I1.1", 0.15],
+        ["second", "I1.1", 0.14],
+      ].sort(),
+    );
+    // someone else's check inside the run: the whole write is refused and none of it is kept
+    const b = await ownerWithCheck();
+    const refused = write(a.owner, (w) =>
+      applyRun(w, "reading.put/1", [reading(a.checkId, "I2.1", 0.1), reading(b.checkId, "I2.1", 0.1)]),
+    );
+    expect(await outcome(refused)).toBe("not_found");
+    expect(await count(readings, eq(readings.checkId, b.checkId))).toBe(0);
+    expect(await count(readings, and(eq(readings.checkId, a.checkId), eq(readings.valve, "I2.1"))!)).toBe(0);
+    expect(await outcome(write(a.owner, (w) => applyRun(w, "constructor" as MutationName, [])))).toBe("invalid");
+  });
+
+  it("clubs: an invitation is accepted once, by its addressee, while its sender is an admin; a club keeps an admin", async () => {
+    const admin = await newUser("admin");
+    const invitee = await newUser("invitee");
+    const other = await newUser("other");
+    const club = await write(admin, (w) => createClub(w, "Service club"));
+    const roles = async (u: PublicUser) =>
+      (
+        await db()
+          .select({ role: memberships.role })
+          .from(memberships)
+          .where(and(eq(memberships.clubId, club.id), eq(memberships.userId, u.id))!)
+      )
+        .map((r) => r.role)
+        .sort();
+    expect(await roles(admin)).toEqual(["admin", "mechanic"]);
+    // only an admin invites
+    expect(await outcome(write(invitee, (w) => inviteToClub(w, club.id, invitee.email, "mentor")))).toBe("not_found");
+    const { invite } = await write(admin, (w) => inviteToClub(w, club.id, invitee.email, "mentor"));
+    // someone else holding the link is answered as for a spent one, and joins nothing
+    expect(await outcome(write(other, (w) => acceptInvite(w, invite.token)))).toBe("bad_request");
+    expect(await roles(other)).toEqual([]);
+    expect((await write(invitee, (w) => acceptInvite(w, invite.token))).clubId).toBe(club.id);
+    expect(await roles(invitee)).toEqual(["mechanic", "mentor"]);
+    expect(await outcome(write(invitee, (w) => acceptInvite(w, invite.token)))).toBe("bad_request");
+    // an invitation speaks for an admin: once its sender is not one, it no longer works
+    const second = await write(admin, (w) => inviteToClub(w, club.id, other.email, "mechanic"));
+    await write(admin, (w) => setMemberRoles(w, club.id, invitee.id, ["admin"]));
+    await write(invitee, (w) => setMemberRoles(w, club.id, admin.id, ["mechanic"]));
+    expect(await outcome(write(other, (w) => acceptInvite(w, second.invite.token)))).toBe("bad_request");
+    // the last admin can neither step down nor leave; a mechanic cannot change roles
+    expect(await outcome(write(invitee, (w) => setMemberRoles(w, club.id, invitee.id, ["mentor"])))).toBe("conflict");
+    expect(await outcome(write(invitee, (w) => removeMember(w, club.id, invitee.id)))).toBe("conflict");
+    expect(await outcome(write(admin, (w) => setMemberRoles(w, club.id, admin.id, ["admin"])))).toBe("forbidden");
+    expect(await roles(invitee)).toEqual(["admin"]);
+    await write(admin, (w) => removeMember(w, club.id, admin.id));
+    expect(await roles(admin)).toEqual([]);
+  });
+
+  it("accounts: a new password voids the links still pending and ends every session, together", async () => {
+    const u = await newUser("account");
+    const generation = async () =>
+      (await db().select({ g: users.sessionGeneration }).from(users).where(eq(users.id, u.id)))[0]!.g;
+    const before = await generation();
+    const signIn = await issueToken(u.id, "signin", 15);
+    await replacePassword(u.id, "another-hash");
+    expect(await generation()).toBe(before + 1);
+    expect(await spendToken(signIn, "signin")).toBeNull();
+    expect(await db().select().from(authTokens).where(eq(authTokens.userId, u.id))).toEqual([]);
+    const reset = await issueToken(u.id, "reset", 60);
+    expect(await spendToken(reset, "reset")).toBe(u.id);
+    expect(await spendToken(reset, "reset")).toBeNull();
   });
 });

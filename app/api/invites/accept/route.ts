@@ -1,13 +1,9 @@
 import { tokenInput } from "@/lib/schemas/account";
-import { DomainError } from "@/lib/errors";
 import { route } from "@/server/http";
-import { acceptInvite } from "@/db/queries/clubs";
+import { acceptInvite } from "@/server/clubs";
+import { write } from "@/server/write";
 
 export const POST = route({ body: tokenInput }, async ({ user, body }) => {
-  const r = await acceptInvite(body.token, user);
-  if (!r)
-    throw new DomainError("bad_request", "This invitation has expired, was used, or was sent to another address", {
-      code: "bad_token",
-    });
+  const r = await write(user, (w) => acceptInvite(w, body.token));
   return { clubId: r.clubId, clubName: r.clubName };
 });

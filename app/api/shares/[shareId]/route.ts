@@ -1,15 +1,11 @@
 import { z } from "zod";
 import { route, uuidParam } from "@/server/http";
-import { shareFor } from "@/server/access";
+import { withdrawShare } from "@/server/clubs";
 import { write } from "@/server/write";
-import { withdrawShare } from "@/db/queries/clubs";
 
 const params = z.object({ shareId: uuidParam });
 
 /** Withdraw a share: the club's mentors lose access at once. */
 export const DELETE = route({ params, status: 204 }, async ({ user, params }) => {
-  await write(user, async (w) => {
-    await shareFor(w.tx, user, params.shareId, "owner");
-    await withdrawShare(w.tx, w.version, params.shareId);
-  });
+  await write(user, (w) => withdrawShare(w, params.shareId));
 });

@@ -2,7 +2,7 @@ import { z } from "zod";
 import { readingsPut } from "@/lib/schemas/records";
 import { route, uuidParam } from "@/server/http";
 import { readableCheck } from "@/server/access";
-import { applyReadings } from "@/server/appliers";
+import { applyRun } from "@/server/appliers";
 import { write } from "@/server/write";
 import { db } from "@/db/client";
 import { listReadings } from "@/db/queries/garage";
@@ -17,7 +17,11 @@ export const GET = route({ params }, async ({ user, params }) => {
 /** Create or replace readings by (valve, round); a mentor may read them but never write them. */
 export const PUT = route({ params, body: readingsPut }, async ({ user, params, body }) => ({
   readings: await write(user, async (w) => {
-    await applyReadings(w, params.checkId, body.readings);
+    await applyRun(
+      w,
+      "reading.put/1",
+      body.readings.map((reading) => ({ checkId: params.checkId, reading })),
+    );
     return listReadings(w.tx, params.checkId);
   }),
 }));

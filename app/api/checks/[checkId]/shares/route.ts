@@ -1,11 +1,11 @@
 import { z } from "zod";
 import { shareInput } from "@/lib/schemas/records";
 import { route, uuidParam } from "@/server/http";
-import { clubMember, ownCheck, readableCheck } from "@/server/access";
-import { noticeReviewRequested } from "@/server/review";
+import { readableCheck } from "@/server/access";
+import { shareCheck } from "@/server/clubs";
 import { write } from "@/server/write";
 import { db } from "@/db/client";
-import { listSharesOfCheck, shareCheck } from "@/db/queries/clubs";
+import { listSharesOfCheck } from "@/db/queries/clubs";
 
 const params = z.object({ checkId: uuidParam });
 
@@ -18,10 +18,5 @@ export const GET = route({ params }, async ({ user, params }) => {
 
 /** Sharing is a REST write only (phones share while online): authorised in its own transaction. */
 export const POST = route({ params, body: shareInput, status: 201 }, async ({ user, params, body }) => ({
-  share: await write(user, async (w) => {
-    const check = await ownCheck(w.tx, user, params.checkId);
-    await clubMember(w.tx, user, body.clubId);
-    w.later(() => noticeReviewRequested(check, body.clubId, user.name));
-    return shareCheck(w.tx, w.version, params.checkId, body.clubId, user.id);
-  }),
+  share: await write(user, (w) => shareCheck(w, params.checkId, body.clubId)),
 }));

@@ -3,9 +3,10 @@ import { inviteInput } from "@/lib/schemas/records";
 import { route, uuidParam } from "@/server/http";
 import { clubRole } from "@/server/access";
 import { sendInvitation, withInviteBudget } from "@/server/invite-mail";
+import { inviteToClub } from "@/server/clubs";
 import { write } from "@/server/write";
 import { db } from "@/db/client";
-import { createInvite, getClub, listInvites } from "@/db/queries/clubs";
+import { listInvites } from "@/db/queries/clubs";
 
 const params = z.object({ clubId: uuidParam });
 
@@ -18,13 +19,7 @@ export const POST = route({ params, body: inviteInput, status: 201 }, async ({ u
   // only an admin spends the budgets: anyone else is refused before anything is counted
   await clubRole(db(), user, params.clubId, "admin");
   const { club, invite } = await withInviteBudget(user.id, body.email, () =>
-    write(user, async (w) => {
-      await clubRole(w.tx, user, params.clubId, "admin");
-      return {
-        club: (await getClub(w.tx, params.clubId))!,
-        invite: await createInvite(w.tx, params.clubId, user.id, body.email, body.role),
-      };
-    }),
+    write(user, (w) => inviteToClub(w, params.clubId, body.email, body.role)),
   );
   await sendInvitation({
     email: body.email,

@@ -1,16 +1,11 @@
 import { z } from "zod";
-import { notFound } from "@/lib/errors";
 import { route, uuidParam } from "@/server/http";
-import { clubRole } from "@/server/access";
+import { withdrawInvitation } from "@/server/clubs";
 import { write } from "@/server/write";
-import { withdrawInvite } from "@/db/queries/clubs";
 
 const params = z.object({ clubId: uuidParam, inviteId: uuidParam });
 
 /** An admin withdraws a pending invitation: its link stops working at once. */
 export const DELETE = route({ params, status: 204 }, async ({ user, params }) => {
-  await write(user, async (w) => {
-    await clubRole(w.tx, user, params.clubId, "admin");
-    if (!(await withdrawInvite(w.tx, params.clubId, params.inviteId, user.id))) throw notFound("pending invitation");
-  });
+  await write(user, (w) => withdrawInvitation(w, params.clubId, params.inviteId));
 });
