@@ -1,0 +1,29 @@
+import { describe, expect, it } from "vitest";
+import { baseUrl } from "../support/browser";
+
+// What a phone's first paint waits for on the pages a newcomer or a mentor opens from a link: read
+// from the HTML the server sends, so it is a count, not a timing (npm run bench:lighthouse has the
+// scores). A stylesheet fetched before the first paint costs a round trip on a slow line; a second
+// font preloaded competes with the page's own first bytes.
+const PAGES = ["/", "/sign-in", `/review?id=${crypto.randomUUID()}`, `/check?id=${crypto.randomUUID()}`];
+
+const tag = (html: string, re: RegExp) => html.match(re)?.[0] ?? "";
+
+describe("the first paint needs only the page's HTML", () => {
+  it.each(PAGES)("%s: the styles are in the page, and only the body's face is preloaded", async (path) => {
+    const res = await fetch(`${baseUrl()}${path}`);
+    expect(res.status).toBe(200);
+    const html = await res.text();
+    expect(html).not.toMatch(/<link[^>]*rel="stylesheet"/);
+    expect(html).toMatch(/<style[^>]*>[^<]*--accent:/);
+    expect(html.match(/<link[^>]*rel="preload"[^>]*as="font"[^>]*>/g) ?? []).toHaveLength(1);
+  });
+
+  it("the sign-in form is in the server's HTML, with a link's address filled in and its submit waiting for the scripts", async () => {
+    const html = await (await fetch(`${baseUrl()}/sign-in?email=mara%40garage.example&next=%2Fclub`)).text();
+    expect(tag(html, /<input[^>]*id="email"[^>]*>/)).toContain('value="mara@garage.example"');
+    expect(tag(html, /<input[^>]*id="password"[^>]*>/)).not.toBe("");
+    // sent by the browser alone, the form would put the password in the address
+    expect(tag(html, /<button[^>]*type="submit"[^>]*>/)).toMatch(/disabled/);
+  });
+});
