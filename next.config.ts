@@ -40,9 +40,6 @@ const nextConfig: NextConfig = {
   // source maps for a build being debugged on a phone; they also give every file a new name
   productionBrowserSourceMaps: process.env.LASHWRIGHT_SOURCE_MAPS === "1",
   reactStrictMode: true,
-  // The stylesheet in the page's head instead of a file fetched before the first paint: one round
-  // trip less on a phone's slow line, for about 10 KiB more in each page's compressed HTML.
-  experimental: { inlineCss: true },
   poweredByHeader: false,
   // The app runs from its own folder; keep Turbopack from guessing a workspace root above it.
   turbopack: { root: __dirname },
