@@ -10,11 +10,14 @@ const body = localFont({
   weight: "200 800",
   display: "swap",
 });
+// the figures' face is not preloaded: the landing and account pages show no figures, and a preload
+// would compete with the page's own first bytes on a slow line
 const figures = localFont({
   src: "./fonts/atkinson-hyperlegible-mono-latin-wght-normal.woff2",
   variable: "--font-figures",
   weight: "200 800",
   display: "swap",
+  preload: false,
 });
 
 export const metadata: Metadata = {

@@ -26,7 +26,7 @@ const quantile = (xs: number[], q: number) => {
 const stats = (xs: number[]) => ({ median: quantile(xs, 0.5), p95: quantile(xs, 0.95) });
 
 /** A Next app with no app code, same Next version, built and served in this run: the yardstick. */
-async function startBarePage() {
+export async function startBarePage() {
   const dir = path.join(root, ".data", "bench-bare");
   rmSync(dir, { recursive: true, force: true });
   mkdirSync(path.join(dir, "app"), { recursive: true });
@@ -289,39 +289,46 @@ export async function runWeightAndAudits(srv: BenchServer) {
 
 type Scores = { performance: number; accessibility: number; "best-practices": number };
 
+/** Chromium as Lighthouse drives it, headless, with this machine's flags. */
+export function launchAuditChrome() {
+  return chromeLauncher.launch({ chromePath: CHROMIUM, chromeFlags: ["--headless=new", ...CHROMIUM_ARGS] });
+}
+
+/**
+ * One Lighthouse run, mobile emulation with the default simulated throttling, as Lighthouse runs by
+ * default; a run that failed to load the page (this shared machine stalls now and then) is tried
+ * once more.
+ */
+export async function auditOnce(name: string, url: string, port: number) {
+  const run = () =>
+    lighthouse(url, {
+      port,
+      output: "json",
+      logLevel: "error",
+      onlyCategories: ["performance", "accessibility", "best-practices"],
+    });
+  let r = await run();
+  if (r?.lhr.runtimeError || r?.lhr.categories.performance?.score == null) {
+    console.log(`[lighthouse] ${name}: run failed (${r?.lhr.runtimeError?.code ?? "no score"}), trying again`);
+    r = await run();
+  }
+  return r!.lhr;
+}
+
 async function runLighthouse(pages: Record<string, string>): Promise<Record<string, Scores>> {
-  const chrome = await chromeLauncher.launch({
-    chromePath: CHROMIUM,
-    chromeFlags: ["--headless=new", ...CHROMIUM_ARGS],
-  });
+  const chrome = await launchAuditChrome();
   try {
     const out: Record<string, Scores> = {};
     for (const [name, url] of Object.entries(pages)) {
       say(`  Lighthouse, mobile: ${name} page`);
-      // mobile emulation with the default simulated throttling, as Lighthouse runs by default
-      let r = await lighthouse(url, {
-        port: chrome.port,
-        output: "json",
-        logLevel: "error",
-        onlyCategories: ["performance", "accessibility", "best-practices"],
-      });
-      // a run that failed to load the page (this shared machine stalls now and then) is tried once more
-      if (r?.lhr.runtimeError || r?.lhr.categories.performance?.score == null) {
-        console.log(`[lighthouse] ${name}: run failed (${r?.lhr.runtimeError?.code ?? "no score"}), trying again`);
-        r = await lighthouse(url, {
-          port: chrome.port,
-          output: "json",
-          logLevel: "error",
-          onlyCategories: ["performance", "accessibility", "best-practices"],
-        });
-      }
-      const c = r!.lhr.categories;
+      const lhr = await auditOnce(name, url, chrome.port);
+      const c = lhr.categories;
       out[name] = {
         performance: Math.round((c.performance?.score ?? 0) * 100),
         accessibility: Math.round((c.accessibility?.score ?? 0) * 100),
         "best-practices": Math.round((c["best-practices"]?.score ?? 0) * 100),
       };
-      for (const a of Object.values(r!.lhr.audits).filter(
+      for (const a of Object.values(lhr.audits).filter(
         (a) => a.score !== null && a.score < 1 && a.scoreDisplayMode === "binary",
       )) {
         const items = ((a.details as { items?: Record<string, unknown>[] } | undefined)?.items ?? []).map((i) =>

@@ -15,10 +15,11 @@ export interface BenchServer {
   stop(): Promise<void>;
 }
 
-export async function startBenchServer(): Promise<BenchServer> {
-  if (!existsSync(path.join(root, ".next", "BUILD_ID")))
+/** distDir: another build beside the usual one (LASHWRIGHT_DIST_DIR), served from its own database */
+export async function startBenchServer({ distDir = ".next" } = {}): Promise<BenchServer> {
+  if (!existsSync(path.join(root, distDir, "BUILD_ID")))
     throw new Error("no production build: run npm test (or next build) first");
-  const dir = path.join(root, ".data", "bench");
+  const dir = path.join(root, ".data", distDir === ".next" ? "bench" : `bench${distDir}`);
   rmSync(dir, { recursive: true, force: true });
   const stops: (() => Promise<void>)[] = [];
   const stop = async () => {
@@ -43,6 +44,7 @@ export async function startBenchServer(): Promise<BenchServer> {
       NEXTAUTH_SECRET: "bench-secret-bench-secret-bench-secret-0123",
       SYNC_WRITES_PER_MINUTE: "10000000",
       LASHWRIGHT_SERVER_TIMING: "1",
+      LASHWRIGHT_DIST_DIR: distDir,
     };
     await runTs("db/migrate.ts", env);
     const port = await freePort();

@@ -1,7 +1,7 @@
 "use client";
 
 import Link from "next/link";
-import { useRouter, useSearchParams } from "next/navigation";
+import { useRouter } from "next/navigation";
 import { useState } from "react";
 import { useForm } from "react-hook-form";
 import { signInForm } from "@/lib/schemas/forms";
@@ -10,6 +10,7 @@ import { mutations } from "@/lib/api/client";
 import { Button, ButtonLink, Field, inputClass, Notice } from "@/components/ui/controls";
 import { ResendLink } from "./resend-link";
 import { safeNext } from "@/lib/auth/safe-next";
+import { useIsClient } from "@/components/ui/use-stored";
 
 /**
  * One answer for a wrong password and for an address not yet confirmed, so a sign-up followed by a
@@ -23,18 +24,22 @@ const MESSAGES: Record<string, string> = {
   Busy: "Too many people are signing in right now. Try again in a moment.",
 };
 
-export function SignInForm() {
+/**
+ * The query's values come from the server's render (app/(auth)/sign-in/page.tsx), so the whole form
+ * is in the page's HTML and shows before the scripts run. Until they have, its submit button is
+ * disabled: a form sent by the browser alone would put the password in the address.
+ */
+export function SignInForm({ query }: { query: { error?: string; email?: string; next?: string } }) {
   const router = useRouter();
-  const params = useSearchParams();
-  const [error, setError] = useState<string | null>(
-    params.get("error") ? (MESSAGES[params.get("error")!] ?? "Sign-in failed.") : null,
-  );
+  const hydrated = useIsClient();
+  const [error, setError] = useState<string | null>(query.error ? (MESSAGES[query.error] ?? "Sign-in failed.") : null);
   const [sent, setSent] = useState<string | null>(null);
   // the address typed, which may be one still waiting for confirmation: its link is offered again
   const [unconfirmed, setUnconfirmed] = useState<string | null>(null);
   const form = useForm<{ email: string; password: string }>({
     resolver: checkedBy(signInForm),
-    defaultValues: { email: params.get("email") ?? "", password: "" },
+    // no default unless the link gave one: what was typed before the scripts ran is kept
+    defaultValues: query.email ? { email: query.email } : undefined,
   });
   const { errors, isSubmitting } = form.formState;
 
@@ -44,7 +49,7 @@ export function SignInForm() {
     // next-auth's client is loaded on the tap: the page paints and takes typing without it
     const { signIn } = await import("next-auth/react");
     const res = await signIn("password", { ...values, redirect: false });
-    if (res?.ok && !res.error) router.push(safeNext(params.get("next"), window.location.origin));
+    if (res?.ok && !res.error) router.push(safeNext(query.next, window.location.origin));
     else {
       setError(MESSAGES[res?.error ?? ""] ?? "Sign-in failed. Try again.");
       if (res?.error === "CredentialsSignin") setUnconfirmed(values.email);
@@ -73,6 +78,7 @@ export function SignInForm() {
           type="email"
           autoComplete="email"
           inputMode="email"
+          defaultValue={query.email}
           className={inputClass}
           {...form.register("email")}
         />
@@ -86,7 +92,7 @@ export function SignInForm() {
           {...form.register("password")}
         />
       </Field>
-      <Button type="submit" disabled={isSubmitting}>
+      <Button type="submit" disabled={!hydrated || isSubmitting}>
         {isSubmitting ? "Signing in…" : "Sign in"}
       </Button>
       <Button type="button" look="plain" onClick={sendLink}>
