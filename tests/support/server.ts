@@ -51,6 +51,8 @@ export async function startApp(extraEnv: Record<string, string> = {}, opts: { po
           NEXT_TELEMETRY_DISABLED: "1",
           NEXTAUTH_URL: url,
           DB_POOL_SIZE: process.env.LASHWRIGHT_TEST_POOL_SIZE ?? "1",
+          // every answer is checked against its route's contract (server/http.ts route())
+          LASHWRIGHT_CHECK_CONTRACT: "1",
           ...extraEnv,
         },
         stdio: ["ignore", "pipe", "pipe"],

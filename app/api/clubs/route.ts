@@ -1,9 +1,10 @@
 import { clubInput } from "@/lib/schemas/records";
+import { answers } from "@/lib/api/contract";
 import { route } from "@/server/http";
 import { createClub, listMyClubs } from "@/db/queries/clubs";
 
-export const GET = route({}, async ({ user }) => ({ items: await listMyClubs(user.id) }));
+export const GET = route({ response: answers.clubs }, async ({ user }) => ({ items: await listMyClubs(user.id) }));
 
-export const POST = route({ body: clubInput, status: 201 }, async ({ user, body }) => ({
+export const POST = route({ response: answers.clubCreated, body: clubInput, status: 201 }, async ({ user, body }) => ({
   club: await createClub(user.id, body.name),
 }));

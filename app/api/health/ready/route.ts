@@ -1,4 +1,5 @@
 import { NextResponse } from "next/server";
+import { answers } from "@/lib/api/contract";
 import { route } from "@/server/http";
 import { readiness } from "@/server/health";
 
@@ -8,7 +9,7 @@ import { readiness } from "@/server/health";
  * kept a second, so that costs one probe a second. No sign-in and no session read: the body says
  * which check failed and nothing about anyone's data (counts and seconds only).
  */
-export const GET = route({ auth: false, session: false }, async () => {
+export const GET = route({ response: answers.ready, auth: false, session: false }, async () => {
   const r = await readiness();
   const failed = Object.entries(r.checks)
     .filter(([, c]) => !c.ok && !c.skipped)

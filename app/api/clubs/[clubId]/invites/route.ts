@@ -1,5 +1,6 @@
 import { z } from "zod";
 import { inviteInput } from "@/lib/schemas/records";
+import { answers } from "@/lib/api/contract";
 import { route, uuidParam } from "@/server/http";
 import { clubRole } from "@/server/access";
 import { sendInvitation, withInviteBudget } from "@/server/invite-mail";
@@ -9,12 +10,12 @@ import { createInvite, getClub, listInvites } from "@/db/queries/clubs";
 
 const params = z.object({ clubId: uuidParam });
 
-export const GET = route({ params }, async ({ user, params }) => {
+export const GET = route({ response: answers.invites, params }, async ({ user, params }) => {
   await clubRole(db(), user, params.clubId, "admin");
   return { items: await listInvites(params.clubId) };
 });
 
-export const POST = route({ params, body: inviteInput, status: 201 }, async ({ user, params, body }) => {
+export const POST = route({ response: answers.invite, params, body: inviteInput, status: 201 }, async ({ user, params, body }) => {
   // only an admin spends the budgets: anyone else is refused before anything is counted
   await clubRole(db(), user, params.clubId, "admin");
   const { club, invite } = await withInviteBudget(user.id, body.email, () =>

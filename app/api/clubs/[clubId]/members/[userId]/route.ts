@@ -2,6 +2,7 @@ import { z } from "zod";
 import type { Role } from "@/db/schema";
 import { rolesInput } from "@/lib/schemas/records";
 import { conflict, notFound } from "@/lib/errors";
+import { answers } from "@/lib/api/contract";
 import { route, uuidParam } from "@/server/http";
 import { clubRole, memberRemover } from "@/server/access";
 import { write } from "@/server/write";
@@ -20,7 +21,7 @@ async function changeRoles(tx: Tx, clubId: string, userId: string, roles: Role[]
   await setRoles(tx, clubId, userId, roles, actorId);
 }
 
-export const PUT = route({ params, body: rolesInput }, async ({ user, params, body }) => ({
+export const PUT = route({ response: answers.member, params, body: rolesInput }, async ({ user, params, body }) => ({
   member: await write(user, async (w) => {
     await clubRole(w.tx, user, params.clubId, "admin");
     await changeRoles(w.tx, params.clubId, params.userId, body.roles, user.id);
@@ -32,7 +33,7 @@ export const PUT = route({ params, body: rolesInput }, async ({ user, params, bo
  * Remove a member (an admin), or leave (the member themselves). Either ends, in the same
  * transaction, what the membership held open: shares with the club, pool offers, open requests.
  */
-export const DELETE = route({ params, status: 204 }, async ({ user, params }) => {
+export const DELETE = route({ response: answers.noContent, params, status: 204 }, async ({ user, params }) => {
   await write(user, async (w) => {
     await memberRemover(w.tx, user, params.clubId, params.userId);
     await changeRoles(w.tx, params.clubId, params.userId, [], user.id);
