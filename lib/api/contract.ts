@@ -70,14 +70,16 @@ const version = z.number().int().min(0);
 // ---- shared shapes --------------------------------------------------------------------------
 
 /** Every refusal: `{ error: { code, message, fields?, requestId? } }` (server/http.ts errorBody). */
-export const errorShape = z.object({
-  error: z.object({
-    code: z.string(),
-    message: z.string(),
-    fields: z.record(z.string(), z.string()).optional(),
-    requestId: z.string().optional(),
-  }),
-});
+export const errorShape = z
+  .object({
+    error: z.object({
+      code: z.string(),
+      message: z.string(),
+      fields: z.record(z.string(), z.string()).optional(),
+      requestId: z.string().optional(),
+    }),
+  })
+  .meta({ id: "Error" });
 
 /** No body (204). */
 export const noContent = z.undefined();
@@ -87,212 +89,245 @@ export const notJson = z.never();
 const accepted = z.object({ ok: z.literal(true), message: z.string() });
 
 /** A page of a list (server/http.ts page()). */
-const pageOf = <T extends z.ZodType>(item: T) => z.object({ items: z.array(item), nextOffset: z.number().int().nullable() });
+const pageOf = <T extends z.ZodType>(item: T) =>
+  z.object({ items: z.array(item), nextOffset: z.number().int().nullable() });
 const listOf = <T extends z.ZodType>(item: T) => z.object({ items: z.array(item) });
 
 // ---- records ---------------------------------------------------------------------------------
 
-export const publicUser = z.object({
-  id: z.string(),
-  email: z.string(),
-  name: z.string(),
-  displayUnit: z.enum(["mm", "in"]),
-  noticesByEmail: z.boolean(),
-});
+export const publicUser = z
+  .object({
+    id: z.string(),
+    email: z.string(),
+    name: z.string(),
+    displayUnit: z.enum(["mm", "in"]),
+    noticesByEmail: z.boolean(),
+  })
+  .meta({ id: "User" });
 
 /** An engine as stored: the input's fields with every optional one present (null when unsaid). */
-export const engineRecord = engineFields.extend({
-  id: idSchema,
-  firingAngles: z.array(z.number()).nullable(),
-  timing: timingSchema,
-  shimDiameter: positiveLengthMm.nullable(),
-  assembledShim: positiveLengthMm.nullable(),
-  shimPosition: shimPositionSchema.nullable(),
-  nearSide: nearSideSchema.nullable(),
-  version,
-  updatedAt: instant,
-});
+export const engineRecord = engineFields
+  .extend({
+    id: idSchema,
+    firingAngles: z.array(z.number()).nullable(),
+    timing: timingSchema,
+    shimDiameter: positiveLengthMm.nullable(),
+    assembledShim: positiveLengthMm.nullable(),
+    shimPosition: shimPositionSchema.nullable(),
+    nearSide: nearSideSchema.nullable(),
+    version,
+    updatedAt: instant,
+  })
+  .meta({ id: "Engine" });
 
-export const checkRecord = z.object({
-  id: idSchema,
-  engineId: idSchema,
-  odometer: z.number(),
-  measuredHot: z.boolean(),
-  status: checkStatus,
-  notes: z.string().nullable(),
-  startedAt: instant,
-  closedAt: instant.nullable(),
-  version,
-});
+export const checkRecord = z
+  .object({
+    id: idSchema,
+    engineId: idSchema,
+    odometer: z.number(),
+    measuredHot: z.boolean(),
+    status: checkStatus,
+    notes: z.string().nullable(),
+    startedAt: instant,
+    closedAt: instant.nullable(),
+    version,
+  })
+  .meta({ id: "Check" });
 
 const mm = z.number().nullable();
-export const readingRecord = z.object({
-  id: idSchema,
-  checkId: idSchema,
-  valve: z.string(),
-  round: z.number().int(),
-  installedStamp: mm,
-  installedMicrometer: mm,
-  feelerGo: mm,
-  feelerNoGo: mm,
-  measured: mm,
-  method: z.enum(["feeler", "typed"]),
-  fittedShim: mm,
-  fittedAt: instant.nullable(),
-  version,
-  updatedAt: instant,
-});
+export const readingRecord = z
+  .object({
+    id: idSchema,
+    checkId: idSchema,
+    valve: z.string(),
+    round: z.number().int(),
+    installedStamp: mm,
+    installedMicrometer: mm,
+    feelerGo: mm,
+    feelerNoGo: mm,
+    measured: mm,
+    method: z.enum(["feeler", "typed"]),
+    fittedShim: mm,
+    fittedAt: instant.nullable(),
+    version,
+    updatedAt: instant,
+  })
+  .meta({ id: "Reading" });
 
-export const trayRecord = z.object({
-  id: idSchema,
-  size: z.number(),
-  measuredSize: z.boolean(),
-  count: z.number().int(),
-  shimDiameter: mm,
-  version,
-});
+export const trayRecord = z
+  .object({
+    id: idSchema,
+    size: z.number(),
+    measuredSize: z.boolean(),
+    count: z.number().int(),
+    shimDiameter: mm,
+    version,
+  })
+  .meta({ id: "TrayItem" });
 
-export const commentRecord = z.object({
-  id: idSchema,
-  checkId: idSchema,
-  valve: z.string().nullable(),
-  body: z.string(),
-  createdAt: instant,
-  /** null: the author deleted their account (authorName is then FORMER_MEMBER) */
-  authorId: z.string().nullable(),
-  authorName: z.string(),
-});
+export const commentRecord = z
+  .object({
+    id: idSchema,
+    checkId: idSchema,
+    valve: z.string().nullable(),
+    body: z.string(),
+    createdAt: instant,
+    /** null: the author deleted their account (authorName is then FORMER_MEMBER) */
+    authorId: z.string().nullable(),
+    authorName: z.string(),
+  })
+  .meta({ id: "Comment" });
 
-export const shareRecord = z.object({
-  id: idSchema,
-  checkId: idSchema,
-  clubId: idSchema,
-  verdict: z.enum(VERDICT_NAMES).nullable(),
-  verdictAt: instant.nullable(),
-  withdrawnAt: instant.nullable(),
-  createdAt: instant,
-});
+export const shareRecord = z
+  .object({
+    id: idSchema,
+    checkId: idSchema,
+    clubId: idSchema,
+    verdict: z.enum(VERDICT_NAMES).nullable(),
+    verdictAt: instant.nullable(),
+    withdrawnAt: instant.nullable(),
+    createdAt: instant,
+  })
+  .meta({ id: "Share" });
 
 const roles = z.array(roleSchema);
-export const clubSummary = z.object({ id: idSchema, name: z.string(), roles });
-export const member = z.object({ userId: z.string(), name: z.string(), email: z.string(), roles });
-export const queueItem = z.object({
-  shareId: idSchema,
-  checkId: idSchema,
-  engineName: z.string(),
-  odometerUnit: z.enum(["km", "mi", "h"]),
-  ownerName: z.string(),
-  odometer: z.number(),
-  status: checkStatus,
-  verdict: z.enum(VERDICT_NAMES).nullable(),
-  sharedAt: instant,
-});
-export const inviteRecord = z.object({
-  id: idSchema,
-  email: z.string(),
-  role: roleSchema,
-  expiresAt: instant,
-  acceptedAt: instant.nullable(),
-  withdrawnAt: instant.nullable(),
-  createdAt: instant,
-});
-export const clubLogEntry = z.object({
-  id: z.string(),
-  action: z.string(),
-  at: instant,
-  actorName: z.string(),
-  subjectName: z.string().nullable(),
-  subjectEmail: z.string().nullable(),
-  detail: z.string(),
-});
+export const clubSummary = z.object({ id: idSchema, name: z.string(), roles }).meta({ id: "ClubSummary" });
+export const member = z
+  .object({ userId: z.string(), name: z.string(), email: z.string(), roles })
+  .meta({ id: "Member" });
+export const queueItem = z
+  .object({
+    shareId: idSchema,
+    checkId: idSchema,
+    engineName: z.string(),
+    odometerUnit: z.enum(["km", "mi", "h"]),
+    ownerName: z.string(),
+    odometer: z.number(),
+    status: checkStatus,
+    verdict: z.enum(VERDICT_NAMES).nullable(),
+    sharedAt: instant,
+  })
+  .meta({ id: "QueueItem" });
+export const inviteRecord = z
+  .object({
+    id: idSchema,
+    email: z.string(),
+    role: roleSchema,
+    expiresAt: instant,
+    acceptedAt: instant.nullable(),
+    withdrawnAt: instant.nullable(),
+    createdAt: instant,
+  })
+  .meta({ id: "Invite" });
+export const clubLogEntry = z
+  .object({
+    id: z.string(),
+    action: z.string(),
+    at: instant,
+    actorName: z.string(),
+    subjectName: z.string().nullable(),
+    subjectEmail: z.string().nullable(),
+    detail: z.string(),
+  })
+  .meta({ id: "ClubLogEntry" });
 
-export const photoRecord = z.object({
-  id: idSchema,
-  checkId: idSchema,
-  valve: z.string().nullable(),
-  commentId: z.string().nullable(),
-  width: z.number().int().nullable(),
-  height: z.number().int().nullable(),
-  bytes: count,
-  uploaderId: z.string(),
-  uploaderName: z.string(),
-  createdAt: instant,
-});
-export const photoUsage = z.object({ usedBytes: count, quotaBytes: count });
+export const photoRecord = z
+  .object({
+    id: idSchema,
+    checkId: idSchema,
+    valve: z.string().nullable(),
+    commentId: z.string().nullable(),
+    width: z.number().int().nullable(),
+    height: z.number().int().nullable(),
+    bytes: count,
+    uploaderId: z.string(),
+    uploaderName: z.string(),
+    createdAt: instant,
+  })
+  .meta({ id: "Photo" });
+export const photoUsage = z.object({ usedBytes: count, quotaBytes: count }).meta({ id: "PhotoUsage" });
 
-export const offerView = z.object({
-  id: idSchema,
-  clubId: idSchema,
-  ownerId: z.string(),
-  ownerName: z.string(),
-  size: z.number(),
-  measuredSize: z.boolean(),
-  count: z.number().int(),
-  /** copies not held by open requests */
-  available: z.number().int(),
-  shimDiameter: mm,
-  note: z.string().nullable(),
-});
+export const offerView = z
+  .object({
+    id: idSchema,
+    clubId: idSchema,
+    ownerId: z.string(),
+    ownerName: z.string(),
+    size: z.number(),
+    measuredSize: z.boolean(),
+    count: z.number().int(),
+    /** copies not held by open requests */
+    available: z.number().int(),
+    shimDiameter: mm,
+    note: z.string().nullable(),
+  })
+  .meta({ id: "PoolOffer" });
 /** An offer as stored (the answer to making one). */
-export const offerRow = z.object({
-  id: idSchema,
-  clubId: idSchema,
-  ownerId: z.string(),
-  size: z.number(),
-  measuredSize: z.boolean(),
-  count: z.number().int(),
-  shimDiameter: mm,
-  note: z.string().nullable(),
-  withdrawnAt: instant.nullable(),
-  asks: count,
-  version,
-  createdAt: instant,
-  updatedAt: instant,
-});
-export const borrowView = z.object({
-  id: idSchema,
-  offerId: idSchema,
-  clubId: idSchema,
-  borrowerId: z.string(),
-  borrowerName: z.string(),
-  lenderId: z.string(),
-  lenderName: z.string(),
-  checkId: z.string().nullable(),
-  size: z.number(),
-  count: z.number().int(),
-  state: z.enum(BORROW_STATES),
-  returnSize: mm,
-  updatedAt: z.string(),
-});
+export const offerRow = z
+  .object({
+    id: idSchema,
+    clubId: idSchema,
+    ownerId: z.string(),
+    size: z.number(),
+    measuredSize: z.boolean(),
+    count: z.number().int(),
+    shimDiameter: mm,
+    note: z.string().nullable(),
+    withdrawnAt: instant.nullable(),
+    asks: count,
+    version,
+    createdAt: instant,
+    updatedAt: instant,
+  })
+  .meta({ id: "StoredOffer" });
+export const borrowView = z
+  .object({
+    id: idSchema,
+    offerId: idSchema,
+    clubId: idSchema,
+    borrowerId: z.string(),
+    borrowerName: z.string(),
+    lenderId: z.string(),
+    lenderName: z.string(),
+    checkId: z.string().nullable(),
+    size: z.number(),
+    count: z.number().int(),
+    state: z.enum(BORROW_STATES),
+    returnSize: mm,
+    updatedAt: z.string(),
+  })
+  .meta({ id: "Loan" });
 
 const named = z.object({ id: z.string(), name: z.string() });
-export const deletionPreview = z.object({
-  email: z.string(),
-  hasPassword: z.boolean(),
-  engines: count,
-  checks: count,
-  readings: count,
-  photos: count,
-  trayItems: count,
-  shares: count,
-  clubs: z.array(named),
-  soloClubs: z.array(named),
-  commentsKept: count,
-  blockers: z.array(
-    z.discriminatedUnion("kind", [
-      z.object({ kind: z.literal("last-admin"), clubId: z.string(), clubName: z.string(), members: count }),
-      z.object({
-        kind: z.literal("open-loan"),
-        loanId: z.string(),
-        otherName: z.string(),
-        side: z.enum(["lender", "borrower"]),
-        count,
-        size: z.number(),
-        state: z.string(),
-      }),
-    ]),
-  ),
-});
+export const deletionPreview = z
+  .object({
+    email: z.string(),
+    hasPassword: z.boolean(),
+    engines: count,
+    checks: count,
+    readings: count,
+    photos: count,
+    trayItems: count,
+    shares: count,
+    clubs: z.array(named),
+    soloClubs: z.array(named),
+    commentsKept: count,
+    blockers: z.array(
+      z.discriminatedUnion("kind", [
+        z.object({ kind: z.literal("last-admin"), clubId: z.string(), clubName: z.string(), members: count }),
+        z.object({
+          kind: z.literal("open-loan"),
+          loanId: z.string(),
+          otherName: z.string(),
+          side: z.enum(["lender", "borrower"]),
+          count,
+          size: z.number(),
+          state: z.string(),
+        }),
+      ]),
+    ),
+  })
+  .meta({ id: "DeletionPreview" });
 
 const healthCheck = z.object({ ok: z.boolean(), skipped: z.literal(true).optional(), detail: z.string().optional() });
 
@@ -300,37 +335,41 @@ const healthCheck = z.object({ ok: z.boolean(), skipped: z.literal(true).optiona
 
 export const rejectedMutation = z.object({ id: z.number().int(), name: z.string(), reason: z.string() });
 /** What a push answers (server/sync.ts PushResult). */
-export const pushAnswer = z.object({
-  lastMutationId: z.number().int(),
-  /** refused for good: the phone keeps each one, shows its reason, and the mechanic decides */
-  rejected: z.array(rejectedMutation),
-  /** not applied yet: sent again later under the same id; nothing after it was applied */
-  later: rejectedMutation.optional(),
-});
+export const pushAnswer = z
+  .object({
+    lastMutationId: z.number().int(),
+    /** refused for good: the phone keeps each one, shows its reason, and the mechanic decides */
+    rejected: z.array(rejectedMutation),
+    /** not applied yet: sent again later under the same id; nothing after it was applied */
+    later: rejectedMutation.optional(),
+  })
+  .meta({ id: "PushAnswer" });
 /** One page of a pull (server/sync.ts pull). */
-export const pullAnswer = z.object({
-  /** opaque: kept as it came and sent back on the next pull */
-  cursor: z.string(),
-  /** another page follows */
-  more: z.boolean(),
-  full: z.boolean(),
-  engines: z.array(engineRecord),
-  checks: z.array(checkRecord),
-  readings: z.array(readingRecord),
-  tray: z.array(trayRecord),
-  comments: z.array(
-    z.object({
-      id: idSchema,
-      checkId: idSchema,
-      authorId: z.string().nullable(),
-      valve: z.string().nullable(),
-      body: z.string(),
-      createdAt: instant,
-      version,
-    }),
-  ),
-  tombstones: z.array(z.object({ entity: z.string(), id: z.string(), version })),
-});
+export const pullAnswer = z
+  .object({
+    /** opaque: kept as it came and sent back on the next pull */
+    cursor: z.string(),
+    /** another page follows */
+    more: z.boolean(),
+    full: z.boolean(),
+    engines: z.array(engineRecord),
+    checks: z.array(checkRecord),
+    readings: z.array(readingRecord),
+    tray: z.array(trayRecord),
+    comments: z.array(
+      z.object({
+        id: idSchema,
+        checkId: idSchema,
+        authorId: z.string().nullable(),
+        valve: z.string().nullable(),
+        body: z.string(),
+        createdAt: instant,
+        version,
+      }),
+    ),
+    tombstones: z.array(z.object({ entity: z.string(), id: z.string(), version })),
+  })
+  .meta({ id: "PullPage" });
 
 // ---- every answer, by route ------------------------------------------------------------------
 
@@ -395,6 +434,11 @@ export const answers = {
   trayItem: z.object({ item: trayRecord }),
   pull: pullAnswer,
   push: pushAnswer,
+  openapi: z.looseObject({
+    openapi: z.string().startsWith("3.1"),
+    info: z.looseObject({ title: z.string(), version: z.string() }),
+    paths: z.record(z.string(), z.unknown()),
+  }),
   noContent,
   notJson,
 } as const;
@@ -556,7 +600,7 @@ export const endpoints: Endpoint[] = [
     ...open,
     query: z.object({ token: z.string().min(1).max(600) }),
   }),
-  e("GET", "/api/openapi.json", "This document", z.unknown(), open),
+  e("GET", "/api/openapi.json", "This document", answers.openapi, open),
   e("GET", "/api/photos/{photoId}", "A photo's bytes", notJson, { responseType: "image/*" }),
   e("DELETE", "/api/photos/{photoId}", "Delete a photo", noContent),
   e("GET", "/api/photos/usage", "The account's photo space", answers.photoUsage),
