@@ -308,9 +308,13 @@ export const deletionPreview = z
     readings: count,
     photos: count,
     trayItems: count,
+    /** live shares of the account's checks with clubs: withdrawn */
     shares: count,
+    /** clubs the account belongs to: the membership ends */
     clubs: z.array(named),
+    /** clubs of which the account is the only member: they go with it */
     soloClubs: z.array(named),
+    /** comments written on other members' checks: they stay, shown as from FORMER_MEMBER */
     commentsKept: count,
     blockers: z.array(
       z.discriminatedUnion("kind", [
