@@ -36,7 +36,7 @@ function operation(ep: Endpoint): RouteConfig {
     ep.body !== undefined
       ? { content: { "application/json": { schema: ep.body } }, required: true }
       : ep.bodyType !== undefined
-        ? { content: { [ep.bodyType]: { schema: z.string().meta({ format: "binary" }) } }, required: true }
+        ? { content: { [ep.bodyType]: { schema: ep.form ?? z.string().meta({ format: "binary" }) } }, required: true }
         : undefined;
   const success =
     ep.response === noContent

@@ -31,6 +31,7 @@ import {
 import { deleteAccountInput } from "../account/deletion";
 import { borrowInput, borrowMoveInput, BORROW_STATES, offerInput } from "../pool/rules";
 import { pullInput, pushInput } from "../sync/mutations";
+import { photoFields } from "../photos/rules";
 import { VERDICT_NAMES } from "../check/verdicts";
 
 /**
@@ -473,6 +474,8 @@ export interface Endpoint {
   body?: z.ZodType;
   /** a body that is not JSON */
   bodyType?: "application/zip" | "multipart/form-data" | "application/x-www-form-urlencoded";
+  /** the fields of a multipart body */
+  form?: z.ZodType;
   response: z.ZodType;
   /** the media type of an answer that is not JSON */
   responseType?: string;
@@ -556,6 +559,7 @@ export const endpoints: Endpoint[] = [
   e("POST", "/api/checks/{checkId}/photos", "Add a photo (201 new, 200 sent before)", answers.photoUploaded, {
     status: 201,
     bodyType: "multipart/form-data",
+    form: photoFields.extend({ file: z.string().meta({ format: "binary", description: "the image" }) }),
   }),
   e("GET", "/api/checks/{checkId}/readings", "A check's readings", answers.readings),
   e("PUT", "/api/checks/{checkId}/readings", "Create or replace readings", answers.readings, { body: readingsPut }),
