@@ -15,14 +15,17 @@ export const GET = route({ response: answers.engine, params }, async ({ user, pa
   engine: engineToApi(await ownEngine(db(), user, params.engineId)),
 }));
 
-export const PATCH = route({ response: answers.engine, params, body: engineUpdate.omit({ id: true }) }, async ({ user, params, body }) => ({
-  engine: await write(user, async (w) => {
-    const row = await ownEngine(w.tx, user, params.engineId);
-    const merged = mergeEngine(row, body);
-    await apply(w, "engine.put/2", { ...merged, id: row.id, shimPosition: merged.shimPosition ?? null });
-    return engineToApi((await getEngineRow(w.tx, row.id))!);
+export const PATCH = route(
+  { response: answers.engine, params, body: engineUpdate.omit({ id: true }) },
+  async ({ user, params, body }) => ({
+    engine: await write(user, async (w) => {
+      const row = await ownEngine(w.tx, user, params.engineId);
+      const merged = mergeEngine(row, body);
+      await apply(w, "engine.put/2", { ...merged, id: row.id, shimPosition: merged.shimPosition ?? null });
+      return engineToApi((await getEngineRow(w.tx, row.id))!);
+    }),
   }),
-}));
+);
 
 export const DELETE = route({ response: answers.noContent, params, status: 204 }, async ({ user, params }) => {
   await write(user, async (w) => {

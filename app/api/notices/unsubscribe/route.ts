@@ -15,11 +15,14 @@ const query = z.object({ token: z.string().min(1).max(600) });
  * and all it can do is stop mail; it turns off that address's notices (an account's setting, which
  * the account page turns back on) or, for an address with no account, all but account mail.
  */
-export const POST = route({ response: answers.unsubscribed, query, auth: false, anyOrigin: true }, async ({ query }) => {
-  if (!(await unsubscribe(query.token)))
-    throw new DomainError("bad_request", "This unsubscribe link is not one of ours", { code: "bad_token" });
-  return { stopped: true as const };
-});
+export const POST = route(
+  { response: answers.unsubscribed, query, auth: false, anyOrigin: true },
+  async ({ query }) => {
+    if (!(await unsubscribe(query.token)))
+      throw new DomainError("bad_request", "This unsubscribe link is not one of ours", { code: "bad_token" });
+    return { stopped: true as const };
+  },
+);
 
 /**
  * A mail client without one-click support opens the same address in a browser: a GET changes nothing

@@ -9,21 +9,24 @@ import { getTrayRow, trayToApi } from "@/db/queries/garage";
 
 const params = z.object({ itemId: uuidParam });
 
-export const PATCH = route({ response: answers.trayItem, params, body: trayItemUpdate }, async ({ user, params, body }) => ({
-  item: await write(user, async (w) => {
-    const t = await ownTrayItem(w.tx, user, params.itemId);
-    const defined = Object.fromEntries(Object.entries(body).filter(([, v]) => v !== undefined));
-    await apply(w, "tray.put/1", {
-      id: t.id,
-      size: t.size,
-      measuredSize: t.measuredSize,
-      count: t.count,
-      shimDiameter: t.shimDiameter,
-      ...defined,
-    });
-    return trayToApi((await getTrayRow(w.tx, t.id))!);
+export const PATCH = route(
+  { response: answers.trayItem, params, body: trayItemUpdate },
+  async ({ user, params, body }) => ({
+    item: await write(user, async (w) => {
+      const t = await ownTrayItem(w.tx, user, params.itemId);
+      const defined = Object.fromEntries(Object.entries(body).filter(([, v]) => v !== undefined));
+      await apply(w, "tray.put/1", {
+        id: t.id,
+        size: t.size,
+        measuredSize: t.measuredSize,
+        count: t.count,
+        shimDiameter: t.shimDiameter,
+        ...defined,
+      });
+      return trayToApi((await getTrayRow(w.tx, t.id))!);
+    }),
   }),
-}));
+);
 
 export const DELETE = route({ response: answers.noContent, params, status: 204 }, async ({ user, params }) => {
   await write(user, async (w) => {

@@ -29,21 +29,24 @@ export const GET = route({ response: answers.comments, params }, async ({ user, 
 });
 
 /** The owner and the mentors of a sharing club comment on the check or on one valve. */
-export const POST = route({ response: answers.comment, params, body: commentInput, status: 201 }, async ({ user, params, body }) => {
-  const id = body.id ?? crypto.randomUUID();
-  const comment = await write(user, async (w) => {
-    await apply(w, "comment.add/1", { ...body, id, checkId: params.checkId });
-    return (await listComments(w.tx, params.checkId)).find((c) => c.id === id)!;
-  });
-  return {
-    comment: {
-      id: comment.id,
-      checkId: comment.checkId,
-      valve: comment.valve,
-      body: comment.body,
-      createdAt: comment.createdAt,
-      authorId: comment.authorId,
-      authorName: comment.authorName,
-    },
-  };
-});
+export const POST = route(
+  { response: answers.comment, params, body: commentInput, status: 201 },
+  async ({ user, params, body }) => {
+    const id = body.id ?? crypto.randomUUID();
+    const comment = await write(user, async (w) => {
+      await apply(w, "comment.add/1", { ...body, id, checkId: params.checkId });
+      return (await listComments(w.tx, params.checkId)).find((c) => c.id === id)!;
+    });
+    return {
+      comment: {
+        id: comment.id,
+        checkId: comment.checkId,
+        valve: comment.valve,
+        body: comment.body,
+        createdAt: comment.createdAt,
+        authorId: comment.authorId,
+        authorName: comment.authorName,
+      },
+    };
+  },
+);

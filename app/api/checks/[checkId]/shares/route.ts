@@ -18,11 +18,14 @@ export const GET = route({ response: answers.shares, params }, async ({ user, pa
 });
 
 /** Sharing is a REST write only (phones share while online): authorised in its own transaction. */
-export const POST = route({ response: answers.share, params, body: shareInput, status: 201 }, async ({ user, params, body }) => ({
-  share: await write(user, async (w) => {
-    const check = await ownCheck(w.tx, user, params.checkId);
-    await clubMember(w.tx, user, body.clubId);
-    w.later(() => noticeReviewRequested(check, body.clubId, user.name));
-    return shareCheck(w.tx, w.version, params.checkId, body.clubId, user.id);
+export const POST = route(
+  { response: answers.share, params, body: shareInput, status: 201 },
+  async ({ user, params, body }) => ({
+    share: await write(user, async (w) => {
+      const check = await ownCheck(w.tx, user, params.checkId);
+      await clubMember(w.tx, user, body.clubId);
+      w.later(() => noticeReviewRequested(check, body.clubId, user.name));
+      return shareCheck(w.tx, w.version, params.checkId, body.clubId, user.id);
+    }),
   }),
-}));
+);

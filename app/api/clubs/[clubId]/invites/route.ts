@@ -15,24 +15,27 @@ export const GET = route({ response: answers.invites, params }, async ({ user, p
   return { items: await listInvites(params.clubId) };
 });
 
-export const POST = route({ response: answers.invite, params, body: inviteInput, status: 201 }, async ({ user, params, body }) => {
-  // only an admin spends the budgets: anyone else is refused before anything is counted
-  await clubRole(db(), user, params.clubId, "admin");
-  const { club, invite } = await withInviteBudget(user.id, body.email, () =>
-    write(user, async (w) => {
-      await clubRole(w.tx, user, params.clubId, "admin");
-      return {
-        club: (await getClub(w.tx, params.clubId))!,
-        invite: await createInvite(w.tx, params.clubId, user.id, body.email, body.role),
-      };
-    }),
-  );
-  await sendInvitation({
-    email: body.email,
-    inviterName: user.name,
-    clubName: club.name,
-    role: body.role,
-    token: invite.token,
-  });
-  return { invite: { id: invite.id, email: body.email, role: body.role } };
-});
+export const POST = route(
+  { response: answers.invite, params, body: inviteInput, status: 201 },
+  async ({ user, params, body }) => {
+    // only an admin spends the budgets: anyone else is refused before anything is counted
+    await clubRole(db(), user, params.clubId, "admin");
+    const { club, invite } = await withInviteBudget(user.id, body.email, () =>
+      write(user, async (w) => {
+        await clubRole(w.tx, user, params.clubId, "admin");
+        return {
+          club: (await getClub(w.tx, params.clubId))!,
+          invite: await createInvite(w.tx, params.clubId, user.id, body.email, body.role),
+        };
+      }),
+    );
+    await sendInvitation({
+      email: body.email,
+      inviterName: user.name,
+      clubName: club.name,
+      role: body.role,
+      token: invite.token,
+    });
+    return { invite: { id: invite.id, email: body.email, role: body.role } };
+  },
+);

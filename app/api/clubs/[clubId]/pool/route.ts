@@ -10,7 +10,9 @@ import { getOffer } from "@/db/queries/pool";
 const params = z.object({ clubId: uuidParam });
 
 /** The club's pool of spare shims, for its members only. */
-export const GET = route({ response: answers.pool, params }, async ({ user, params }) => ({ items: await clubPool(user, params.clubId) }));
+export const GET = route({ response: answers.pool, params }, async ({ user, params }) => ({
+  items: await clubPool(user, params.clubId),
+}));
 
 export const POST = route(
   { response: answers.offer, params, body: offerInput.omit({ clubId: true }), status: 201 },

@@ -16,12 +16,15 @@ export const GET = route({ response: answers.checks, params, query: pageQuery },
   return page(await listChecks(params.engineId, query.limit, query.offset), query.limit, query.offset);
 });
 
-export const POST = route({ response: answers.check, params, body: checkInput, status: 201 }, async ({ user, params, body }) => ({
-  check: await write(user, async (w) => {
-    const id = body.id ?? crypto.randomUUID();
-    await ownEngine(w.tx, user, params.engineId);
-    if (body.id && (await getCheckRow(w.tx, id))) throw conflict("A check with this id exists already");
-    await apply(w, "check.put/1", { ...body, id, engineId: params.engineId, status: "measuring" });
-    return checkToApi((await getCheckRow(w.tx, id))!);
+export const POST = route(
+  { response: answers.check, params, body: checkInput, status: 201 },
+  async ({ user, params, body }) => ({
+    check: await write(user, async (w) => {
+      const id = body.id ?? crypto.randomUUID();
+      await ownEngine(w.tx, user, params.engineId);
+      if (body.id && (await getCheckRow(w.tx, id))) throw conflict("A check with this id exists already");
+      await apply(w, "check.put/1", { ...body, id, engineId: params.engineId, status: "measuring" });
+      return checkToApi((await getCheckRow(w.tx, id))!);
+    }),
   }),
-}));
+);
