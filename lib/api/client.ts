@@ -1,8 +1,8 @@
 /**
- * The phone's one client of the API: the query keys, fetchers and mutations the screens use through
- * TanStack Query (errors arrive as ApiFailure with the server's error shape), and the sync
- * protocol's calls for the background sync (syncCalls, below). Every answer's type is the
- * contract's (lib/api/contract.ts). No React here: hooks call these.
+ * The phone's client of the API: the query keys, fetchers and mutations the screens use through
+ * TanStack Query (errors arrive as ApiFailure with the server's error shape); the background
+ * sync's two calls are in ./sync-calls.ts, apart so that a page that only reads never loads them.
+ * Every answer's type is the contract's (lib/api/contract.ts). No React here: hooks call these.
  */
 export class ApiFailure extends Error {
   constructor(
@@ -41,10 +41,7 @@ export async function apiFetch<T>(path: string, init: { method?: string; body?: 
   return json as T;
 }
 
-import type { z } from "zod";
 import type { answers, Answer, publicUser } from "./contract";
-import type { pullInput, pushInput } from "../sync/mutations";
-import { postJson, type Fetch } from "../sync/transport";
 
 export const queryKeys = {
   me: () => ["me"] as const,
@@ -141,17 +138,4 @@ export const mutations = {
     apiFetch<Answer<typeof answers.accountPatch>>("/api/account", { method: "PATCH", body: patch }),
   acceptInvite: (token: string) =>
     apiFetch<Answer<typeof answers.inviteAccepted>>("/api/invites/accept", { method: "POST", body: { token } }),
-};
-
-/**
- * The sync protocol's two calls, sent through the phone's transport (lib/sync/transport.ts), whose
- * errors say what to do about a failure (Offline, SignedOut, ServerBusy, ServerError) rather than
- * ApiFailure: the background sync (lib/sync/client.ts) acts on them. `base` is the server's origin
- * ("" on the phone; the load and fault tests name theirs).
- */
-export const syncCalls = {
-  push: (fetcher: Fetch, base: string, body: z.input<typeof pushInput>) =>
-    postJson<PushAnswer>(fetcher, `${base}/api/sync/push`, body, "sync/push"),
-  pull: (fetcher: Fetch, base: string, body: z.input<typeof pullInput>) =>
-    postJson<PullAnswer>(fetcher, `${base}/api/sync/pull`, body, "sync/pull"),
 };

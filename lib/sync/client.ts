@@ -1,7 +1,8 @@
 import { PUSH_BATCH } from "./mutations";
 import { uploadPhotos } from "./photos";
 import { pendingKey, readingKey } from "./pending";
-import { syncCalls, type PullAnswer, type PushAnswer } from "../api/client";
+import type { PullAnswer, PushAnswer } from "../api/client";
+import { syncCalls } from "../api/sync-calls";
 import { Offline, retryAfterMs, retryDelay, ServerBusy, SessionRevoked, SignedOut, type Fetch } from "./transport";
 import { getMeta, setMeta, type OutboxEntry, type LocalDb } from "./local-db";
 
