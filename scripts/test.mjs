@@ -170,6 +170,8 @@ async function main() {
           NOTICE_DIGEST_SECONDS: "2",
           // one JSON line per request would bury a failure's output; tests that read the log set their own
           LOG_LEVEL: process.env.LOG_LEVEL ?? "warn",
+          // every answer checked against its route's contract (lib/api/contract.ts): a 500 when outside it
+          LASHWRIGHT_CHECK_CONTRACT: "1",
         };
         await runTs("db/migrate.ts", env);
         // LASHWRIGHT_REUSE_BUILD=1 (for a developer iterating on tests) keeps the existing .next build

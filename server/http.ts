@@ -10,6 +10,9 @@ import { currentSession, type SessionUser } from "./auth";
 import { log } from "./log";
 import { contentTypeRefusal, readBody, sameOriginRefusal } from "./request-guard";
 import { requestContext, withRequestContext, type RequestContext } from "./request-context";
+import { pageQuery, type Sendable } from "@/lib/api/contract";
+
+export { pageQuery };
 
 /**
  * The one place that turns a request into validated input and an error into the error shape
@@ -96,7 +99,50 @@ type Ctx<P, Q, B, A extends boolean> = {
   user: A extends true ? SessionUser : SessionUser | null;
 };
 
-interface RouteOptions<P extends z.ZodType, Q extends z.ZodType, B extends z.ZodType, A extends boolean> {
+/**
+ * What a handler may return for its response schema R: the schema's output (a Date where an instant
+ * is sent), nothing for 204, or a Response of its own (a file, a redirect, a status of its own).
+ */
+type Reply<R extends z.ZodType> = [z.output<R>] extends [never]
+  ? never
+  : [z.output<R>] extends [undefined]
+    ? void
+    : Sendable<z.output<R>>;
+
+/**
+ * Under test every answer is checked against its route's response schema (lib/api/contract.ts):
+ * the test servers set this (tests/support/server.ts, scripts/test.mjs). Production never pays for
+ * a full parse of a pull's thousand rows; there the compiler's check of the handler is the guard.
+ */
+const CHECK_CONTRACT = process.env.LASHWRIGHT_CHECK_CONTRACT === "1";
+
+/** The JSON about to be sent, checked against the contract; a 500 that says so when it is outside. */
+function contractRefusal(schema: z.ZodType, json: unknown, req: NextRequest, requestId: string): Response | null {
+  const r = schema.safeParse(json);
+  if (r.success) return null;
+  const issues = r.error.issues.slice(0, 5).map((i) => `${i.path.map(String).join(".") || "(body)"}: ${i.message}`);
+  log.error(
+    { requestId, method: req.method, path: req.nextUrl.pathname, issues },
+    `answer outside its contract: ${req.method} ${req.nextUrl.pathname}: ${issues.join("; ")}`,
+  );
+  return errorResponse(500, "contract", `The server's answer broke its contract (request ${requestId})`);
+}
+
+/** A Response a handler made itself: its JSON body (2xx only) checked like any other answer. */
+async function checkOwnResponse(schema: z.ZodType, res: Response, req: NextRequest, requestId: string) {
+  if (!res.ok || res.status === 204 || !(res.headers.get("content-type") ?? "").includes("json")) return null;
+  return contractRefusal(schema, await res.clone().json(), req, requestId);
+}
+
+interface RouteOptions<
+  P extends z.ZodType,
+  Q extends z.ZodType,
+  B extends z.ZodType,
+  A extends boolean,
+  R extends z.ZodType,
+> {
+  /** the success body's schema, from lib/api/contract.ts `answers` */
+  response: R;
   params?: P;
   query?: Q;
   body?: B;
@@ -119,7 +165,11 @@ export function route<
   Q extends z.ZodType = z.ZodType<Record<string, never>>,
   B extends z.ZodType = z.ZodType<undefined>,
   A extends boolean = true,
->(opts: RouteOptions<P, Q, B, A>, fn: (ctx: Ctx<z.output<P>, z.output<Q>, z.output<B>, A>) => Promise<unknown>) {
+  R extends z.ZodType = z.ZodType,
+>(
+  opts: RouteOptions<P, Q, B, A, R>,
+  fn: (ctx: Ctx<z.output<P>, z.output<Q>, z.output<B>, A>) => Promise<Reply<R> | Response>,
+) {
   return (req: NextRequest, ctx: { params: Promise<Record<string, string | string[]>> }) =>
     withRequestContext(async (rc) => {
       const res = await handle(req, ctx, rc);
@@ -185,10 +235,20 @@ export function route<
         z.output<B>,
         A
       >);
-      if (result instanceof Response) return result;
+      if (result instanceof Response)
+        return (CHECK_CONTRACT && (await checkOwnResponse(opts.response, result, req, requestId))) || result;
       const status = opts.status ?? 200;
-      if (status === 204) return new NextResponse(null, { status });
-      return NextResponse.json(result ?? {}, { status });
+      if (status === 204)
+        return (
+          (CHECK_CONTRACT && contractRefusal(opts.response, result, req, requestId)) ||
+          new NextResponse(null, { status })
+        );
+      const answer = result ?? {};
+      if (CHECK_CONTRACT) {
+        const broken = contractRefusal(opts.response, JSON.parse(JSON.stringify(answer)), req, requestId);
+        if (broken) return broken;
+      }
+      return NextResponse.json(answer, { status });
     } catch (e) {
       const d = domainErrorOf(e);
       if (d) return domainResponse(d);
@@ -204,16 +264,6 @@ export function route<
 }
 
 export const uuidParam = z.string().regex(ID_PATTERN);
-
-// plain decimal digits only: Number() would also take "0x10", "1e3" or " 7 "
-const digits = z
-  .string()
-  .regex(/^\d{1,7}$/, { error: "a whole number" })
-  .transform(Number);
-export const pageQuery = z.object({
-  limit: digits.pipe(z.number().int().min(1).max(200)).default(50),
-  offset: digits.pipe(z.number().int().min(0).max(1_000_000)).default(0),
-});
 
 export function page<T>(items: T[], limit: number, offset: number) {
   // one extra row was fetched to know whether another page exists

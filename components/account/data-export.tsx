@@ -3,6 +3,7 @@
 import { useQueryClient } from "@tanstack/react-query";
 import { useEffect, useState } from "react";
 import { apiFetch, ApiFailure } from "@/lib/api/client";
+import type { answers, Answer } from "@/lib/api/contract";
 import type { ApiPhoto } from "@/lib/photos/rules";
 import { useLocalCore } from "@/components/sync/local-provider";
 import { Button, Notice } from "@/components/ui/controls";
@@ -49,7 +50,7 @@ export function DataExport() {
     setBusy("server");
     setSaid(null);
     try {
-      const { href, fileName } = await apiFetch<{ href: string; fileName: string }>("/api/account/export", {
+      const { href, fileName } = await apiFetch<Answer<typeof answers.exportTicket>>("/api/account/export", {
         method: "POST",
         body: {},
       });

@@ -17,7 +17,6 @@ import { shrinkPhoto } from "@/lib/photos/shrink";
 import type { MutationArgs } from "@/lib/sync/mutations";
 import { useLocalCore } from "@/components/sync/local-provider";
 import { PhotoStrip } from "@/components/photos/photo-strip";
-import type { LocalEngine, LocalReading } from "@/lib/sync/local-db";
 import { EngineDiagram } from "@/components/check/engine-diagram";
 import { PlanTable } from "@/components/check/plan-table";
 import { Notice } from "@/components/ui/controls";
@@ -53,9 +52,9 @@ export function ReviewScreen() {
     enabled: check.isSuccess,
     refetchOnMount: "always",
   });
-  const engine = check.data?.engine as unknown as LocalEngine | undefined;
+  const engine = check.data?.engine;
   const views = useMemo(
-    () => (engine && readings.data ? valveViews(engine, readings.data as unknown as LocalReading[], () => null) : null),
+    () => (engine && readings.data ? valveViews(engine, readings.data, () => null) : null),
     [engine, readings.data],
   );
   const plan = useMemo(() => {
@@ -157,7 +156,7 @@ export function ReviewScreen() {
   if (!engine || !views) return null;
   const share = shares.data?.find((s) => !s.withdrawnAt);
   const unit = engine.displayUnit;
-  const allReadings = (readings.data ?? []) as unknown as LocalReading[];
+  const allReadings = readings.data ?? [];
   const serverComments = comments.data ?? [];
   const known = new Set(serverComments.map((c) => c.id));
   const thread: ThreadComment[] = [

@@ -1,5 +1,6 @@
 import "../schemas/zod-config";
 import { z } from "zod";
+import type { Answer, deletionPreview as deletionPreviewSchema } from "../api/contract";
 import { tokenSchema } from "../schemas/account";
 import { formatLength } from "../lash";
 
@@ -34,37 +35,10 @@ export const deleteAccountInput = z
 export type DeleteAccountInput = z.infer<typeof deleteAccountInput>;
 
 /** Something that stops the deletion until the owner has dealt with it, named so they can. */
-export type DeletionBlocker =
-  | { kind: "last-admin"; clubId: string; clubName: string; members: number }
-  | {
-      kind: "open-loan";
-      loanId: string;
-      otherName: string;
-      side: "lender" | "borrower";
-      count: number;
-      size: number;
-      state: string;
-    };
+export type DeletionBlocker = DeletionPreview["blockers"][number];
 
-/** GET /api/account/deletion: what a deletion would remove, end and keep, counted now. */
-export interface DeletionPreview {
-  email: string;
-  hasPassword: boolean;
-  engines: number;
-  checks: number;
-  readings: number;
-  photos: number;
-  trayItems: number;
-  /** live shares of the account's checks with clubs: withdrawn */
-  shares: number;
-  /** clubs the account belongs to: the membership ends */
-  clubs: { id: string; name: string }[];
-  /** clubs of which the account is the only member: they go with it */
-  soloClubs: { id: string; name: string }[];
-  /** comments written on other members' checks: they stay, shown as from FORMER_MEMBER */
-  commentsKept: number;
-  blockers: DeletionBlocker[];
-}
+/** GET /api/account/deletion: what a deletion would remove, end and keep, counted now (the contract's). */
+export type DeletionPreview = Answer<typeof deletionPreviewSchema>;
 
 /** The words a blocker is refused with (the same on the page and in the API's refusal). */
 export function blockerText(b: DeletionBlocker): string {

@@ -1,6 +1,8 @@
 /**
- * The one module with the API's query keys and fetchers, used by TanStack Query in the screens.
- * No React here: hooks call these. Errors arrive as ApiFailure with the server's error shape.
+ * The phone's client of the API: the query keys, fetchers and mutations the screens use through
+ * TanStack Query (errors arrive as ApiFailure with the server's error shape); the background
+ * sync's two calls are in ./sync-calls.ts, apart so that a page that only reads never loads them.
+ * Every answer's type is the contract's (lib/api/contract.ts). No React here: hooks call these.
  */
 export class ApiFailure extends Error {
   constructor(
@@ -39,11 +41,7 @@ export async function apiFetch<T>(path: string, init: { method?: string; body?: 
   return json as T;
 }
 
-import type { ApiPhoto, PhotoUsage } from "../photos/rules";
-import type { ApiBorrow, ApiOffer } from "../pool/rules";
-import type { Verdict } from "../check/verdicts";
-import type { LengthUnit, OdometerUnit } from "../lash/units";
-import type { Role } from "../roles";
+import type { answers, Answer, publicUser } from "./contract";
 
 export const queryKeys = {
   me: () => ["me"] as const,
@@ -65,119 +63,79 @@ export const queryKeys = {
   borrows: () => ["clubs", "borrows"] as const,
 };
 
-export interface Me {
-  id: string;
-  email: string;
-  name: string;
-  displayUnit: LengthUnit;
-  noticesByEmail: boolean;
-}
-export interface ClubSummary {
-  id: string;
-  name: string;
-  roles: Role[];
-}
-export interface Member {
-  userId: string;
-  name: string;
-  email: string;
-  roles: Role[];
-}
-export interface QueueItem {
-  shareId: string;
-  checkId: string;
-  engineName: string;
-  ownerName: string;
-  odometer: number;
-  odometerUnit: OdometerUnit;
-  status: string;
-  verdict: string | null;
-  sharedAt: string;
-}
-
-export interface ApiComment {
-  id: string;
-  checkId: string;
-  valve: string | null;
-  body: string;
-  createdAt: string;
-  /** null: the author deleted their account (authorName is then FORMER_MEMBER) */
-  authorId: string | null;
-  authorName: string;
-}
-export interface ApiShare {
-  id: string;
-  checkId: string;
-  clubId: string;
-  verdict: Verdict | null;
-  verdictAt: string | null;
-  withdrawnAt: string | null;
-}
+// The answers' types come from the contract (lib/api/contract.ts) with z.infer: types only, so no
+// schema is added to a page's JavaScript.
+export type Me = Answer<typeof publicUser>;
+export type ClubSummary = Answer<typeof answers.clubs>["items"][number];
+export type Member = Answer<typeof answers.members>["items"][number];
+export type QueueItem = Answer<typeof answers.queue>["items"][number];
+export type ApiComment = Answer<typeof answers.comment>["comment"];
+export type ApiShare = Answer<typeof answers.share>["share"];
+export type PushAnswer = Answer<typeof answers.push>;
+export type PullAnswer = Answer<typeof answers.pull>;
 
 export const fetchers = {
-  me: () => apiFetch<{ user: Me }>("/api/account").then((r) => r.user),
-  clubs: () => apiFetch<{ items: ClubSummary[] }>("/api/clubs").then((r) => r.items),
-  members: (clubId: string) => apiFetch<{ items: Member[] }>(`/api/clubs/${clubId}/members`).then((r) => r.items),
-  queue: (clubId: string) => apiFetch<{ items: QueueItem[] }>(`/api/clubs/${clubId}/queue`).then((r) => r.items),
-  check: (id: string) =>
-    apiFetch<{
-      check: {
-        id: string;
-        engineId: string;
-        odometer: number;
-        status: string;
-        startedAt: string;
-        notes: string | null;
-        measuredHot: boolean;
-      };
-      engine: Record<string, unknown>;
-      access: "owner" | "mentor";
-    }>(`/api/checks/${id}`),
+  me: () => apiFetch<Answer<typeof answers.accountGet>>("/api/account").then((r) => r.user),
+  clubs: () => apiFetch<Answer<typeof answers.clubs>>("/api/clubs").then((r) => r.items),
+  members: (clubId: string) =>
+    apiFetch<Answer<typeof answers.members>>(`/api/clubs/${clubId}/members`).then((r) => r.items),
+  queue: (clubId: string) => apiFetch<Answer<typeof answers.queue>>(`/api/clubs/${clubId}/queue`).then((r) => r.items),
+  check: (id: string) => apiFetch<Answer<typeof answers.checkView>>(`/api/checks/${id}`),
   readings: (id: string) =>
-    apiFetch<{ readings: Record<string, unknown>[] }>(`/api/checks/${id}/readings`).then((r) => r.readings),
-  comments: (id: string) => apiFetch<{ items: ApiComment[] }>(`/api/checks/${id}/comments`).then((r) => r.items),
-  shares: (id: string) => apiFetch<{ items: ApiShare[] }>(`/api/checks/${id}/shares`).then((r) => r.items),
-  photos: (id: string) => apiFetch<{ items: ApiPhoto[] }>(`/api/checks/${id}/photos`).then((r) => r.items),
-  photoUsage: () => apiFetch<PhotoUsage>("/api/photos/usage"),
-  pool: (clubId: string) => apiFetch<{ items: ApiOffer[] }>(`/api/clubs/${clubId}/pool`).then((r) => r.items),
-  borrows: () => apiFetch<{ items: ApiBorrow[] }>("/api/borrows").then((r) => r.items),
-  engines: () =>
-    apiFetch<{ items: { id: string; name: string; cylinders: number }[] }>("/api/engines?limit=200").then(
-      (r) => r.items,
-    ),
+    apiFetch<Answer<typeof answers.readings>>(`/api/checks/${id}/readings`).then((r) => r.readings),
+  comments: (id: string) =>
+    apiFetch<Answer<typeof answers.comments>>(`/api/checks/${id}/comments`).then((r) => r.items),
+  shares: (id: string) => apiFetch<Answer<typeof answers.shares>>(`/api/checks/${id}/shares`).then((r) => r.items),
+  photos: (id: string) => apiFetch<Answer<typeof answers.photos>>(`/api/checks/${id}/photos`).then((r) => r.items),
+  photoUsage: () => apiFetch<Answer<typeof answers.photoUsage>>("/api/photos/usage"),
+  pool: (clubId: string) => apiFetch<Answer<typeof answers.pool>>(`/api/clubs/${clubId}/pool`).then((r) => r.items),
+  borrows: () => apiFetch<Answer<typeof answers.borrows>>("/api/borrows").then((r) => r.items),
+  engines: () => apiFetch<Answer<typeof answers.engines>>("/api/engines?limit=200").then((r) => r.items),
 };
 
 export const mutations = {
   signUp: (body: { email: string; name: string; password: string }) =>
-    apiFetch<{ message: string }>("/api/account/sign-up", { method: "POST", body }),
+    apiFetch<Answer<typeof answers.accepted>>("/api/account/sign-up", { method: "POST", body }),
   verify: (token: string, password: string) =>
-    apiFetch<{ ok: true; email: string }>("/api/account/verify", { method: "POST", body: { token, password } }),
+    apiFetch<Answer<typeof answers.verified>>("/api/account/verify", { method: "POST", body: { token, password } }),
   resendVerification: (email: string) =>
-    apiFetch<{ message: string }>("/api/account/verify/resend", { method: "POST", body: { email } }),
+    apiFetch<Answer<typeof answers.accepted>>("/api/account/verify/resend", { method: "POST", body: { email } }),
   requestReset: (email: string) =>
-    apiFetch<{ message: string }>("/api/account/password-reset", { method: "POST", body: { email } }),
+    apiFetch<Answer<typeof answers.accepted>>("/api/account/password-reset", { method: "POST", body: { email } }),
   setPassword: (token: string, password: string) =>
-    apiFetch("/api/account/password", { method: "POST", body: { token, password } }),
+    apiFetch<Answer<typeof answers.ok>>("/api/account/password", { method: "POST", body: { token, password } }),
   linkAccount: (token: string) =>
-    apiFetch<{ account: { email: string } }>("/api/account/sign-in-link/account", { method: "POST", body: { token } }),
+    apiFetch<Answer<typeof answers.linkAccount>>("/api/account/sign-in-link/account", {
+      method: "POST",
+      body: { token },
+    }),
   requestLink: (email: string) =>
-    apiFetch<{ message: string }>("/api/account/sign-in-link", { method: "POST", body: { email } }),
-  createClub: (name: string) => apiFetch<{ club: ClubSummary }>("/api/clubs", { method: "POST", body: { name } }),
+    apiFetch<Answer<typeof answers.accepted>>("/api/account/sign-in-link", { method: "POST", body: { email } }),
+  createClub: (name: string) =>
+    apiFetch<Answer<typeof answers.clubCreated>>("/api/clubs", { method: "POST", body: { name } }),
   invite: (clubId: string, email: string, role: string) =>
-    apiFetch(`/api/clubs/${clubId}/invites`, { method: "POST", body: { email, role } }),
+    apiFetch<Answer<typeof answers.invite>>(`/api/clubs/${clubId}/invites`, { method: "POST", body: { email, role } }),
   setRoles: (clubId: string, userId: string, roles: string[]) =>
-    apiFetch(`/api/clubs/${clubId}/members/${userId}`, { method: "PUT", body: { roles } }),
+    apiFetch<Answer<typeof answers.member>>(`/api/clubs/${clubId}/members/${userId}`, {
+      method: "PUT",
+      body: { roles },
+    }),
   share: (checkId: string, clubId: string) =>
-    apiFetch<{ share: ApiShare }>(`/api/checks/${checkId}/shares`, { method: "POST", body: { clubId } }),
-  withdraw: (shareId: string) => apiFetch(`/api/shares/${shareId}`, { method: "DELETE" }),
+    apiFetch<Answer<typeof answers.share>>(`/api/checks/${checkId}/shares`, { method: "POST", body: { clubId } }),
+  withdraw: (shareId: string) => apiFetch<undefined>(`/api/shares/${shareId}`, { method: "DELETE" }),
   comment: (checkId: string, body: string, valve: string | null) =>
-    apiFetch<{ comment: ApiComment }>(`/api/checks/${checkId}/comments`, { method: "POST", body: { body, valve } }),
+    apiFetch<Answer<typeof answers.comment>>(`/api/checks/${checkId}/comments`, {
+      method: "POST",
+      body: { body, valve },
+    }),
   verdict: (shareId: string, verdict: string) =>
-    apiFetch<{ share: ApiShare }>(`/api/shares/${shareId}/verdict`, { method: "PUT", body: { verdict } }),
+    apiFetch<Answer<typeof answers.share>>(`/api/shares/${shareId}/verdict`, { method: "PUT", body: { verdict } }),
   unsubscribe: (token: string) =>
-    apiFetch<{ stopped: true }>(`/api/notices/unsubscribe?token=${encodeURIComponent(token)}`, { method: "POST" }),
+    apiFetch<Answer<typeof answers.unsubscribed>>(`/api/notices/unsubscribe?token=${encodeURIComponent(token)}`, {
+      method: "POST",
+    }),
   settings: (patch: Partial<Pick<Me, "name" | "displayUnit" | "noticesByEmail">>) =>
-    apiFetch<{ user: Me }>("/api/account", { method: "PATCH", body: patch }),
+    apiFetch<Answer<typeof answers.accountPatch>>("/api/account", { method: "PATCH", body: patch }),
   acceptInvite: (token: string) =>
-    apiFetch<{ clubId: string; clubName: string }>("/api/invites/accept", { method: "POST", body: { token } }),
+    apiFetch<Answer<typeof answers.inviteAccepted>>("/api/invites/accept", { method: "POST", body: { token } }),
 };

@@ -1,4 +1,5 @@
 import { z } from "zod";
+import type { Answer, photoRecord, photoUsage } from "../api/contract";
 import { idSchema, valveKey } from "../schemas/records";
 
 /**
@@ -28,18 +29,7 @@ export const photoFields = z.object({
 });
 export type PhotoFields = z.infer<typeof photoFields>;
 
-export interface ApiPhoto {
-  id: string;
-  checkId: string;
-  valve: string | null;
-  commentId: string | null;
-  width: number | null;
-  height: number | null;
-  bytes: number;
-  uploaderId: string;
-  uploaderName: string;
-  createdAt: string;
-}
+export type ApiPhoto = Answer<typeof photoRecord>;
 
 export const photoUrl = (id: string) => `/api/photos/${id}`;
 
@@ -47,10 +37,7 @@ export const photoUrl = (id: string) => `/api/photos/${id}`;
 export const PHOTO_QUOTA_CODE = "photo_quota";
 
 /** How much photo space an account uses (every photo it sent, counted from the stored sizes) of how much. */
-export interface PhotoUsage {
-  usedBytes: number;
-  quotaBytes: number;
-}
+export type PhotoUsage = Answer<typeof photoUsage>;
 
 /** "310 KB", "12.4 MB", "1 GB": sizes as the screens and messages say them (1 MB = 1024 KB). */
 export function formatBytes(n: number): string {

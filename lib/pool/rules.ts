@@ -1,4 +1,5 @@
 import { z } from "zod";
+import type { Answer, borrowView, offerView } from "../api/contract";
 import "../schemas/zod-config";
 import { positiveLengthMm } from "../lash";
 import { idSchema } from "../schemas/records";
@@ -102,32 +103,6 @@ export const borrowMoveInput = z.object({
   returnSize: positiveLengthMm.nullable().optional(),
 });
 
-export interface ApiOffer {
-  id: string;
-  clubId: string;
-  ownerId: string;
-  ownerName: string;
-  size: number;
-  measuredSize: boolean;
-  count: number;
-  /** copies not held by open requests */
-  available: number;
-  shimDiameter: number | null;
-  note: string | null;
-}
-
-export interface ApiBorrow {
-  id: string;
-  offerId: string;
-  clubId: string;
-  borrowerId: string;
-  borrowerName: string;
-  lenderId: string;
-  lenderName: string;
-  checkId: string | null;
-  size: number;
-  count: number;
-  state: BorrowState;
-  returnSize: number | null;
-  updatedAt: string;
-}
+/** A club's offer as the pool lists it, and a loan as its two sides see it: the contract's (lib/api/contract.ts). */
+export type ApiOffer = Answer<typeof offerView>;
+export type ApiBorrow = Answer<typeof borrowView>;

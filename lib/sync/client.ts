@@ -1,27 +1,10 @@
 import { PUSH_BATCH } from "./mutations";
 import { uploadPhotos } from "./photos";
 import { pendingKey, readingKey } from "./pending";
-import {
-  Offline,
-  postJson,
-  retryAfterMs,
-  retryDelay,
-  ServerBusy,
-  SessionRevoked,
-  SignedOut,
-  type Fetch,
-} from "./transport";
-import {
-  getMeta,
-  setMeta,
-  type OutboxEntry,
-  type LocalCheck,
-  type LocalComment,
-  type LocalDb,
-  type LocalEngine,
-  type LocalReading,
-  type LocalTrayItem,
-} from "./local-db";
+import type { PullAnswer, PushAnswer } from "../api/client";
+import { syncCalls } from "../api/sync-calls";
+import { Offline, retryAfterMs, retryDelay, ServerBusy, SessionRevoked, SignedOut, type Fetch } from "./transport";
+import { getMeta, setMeta, type OutboxEntry, type LocalDb } from "./local-db";
 
 /**
  * The client side of the sync protocol, one module. Push sends the outbox in order, in batches, and
@@ -34,29 +17,13 @@ export type SyncState = "idle" | "syncing" | "offline" | "signed-out" | "busy" |
 
 export { Offline, retryAfterMs, retryDelay, ServerBusy, SessionRevoked, SignedOut };
 
-export interface Rejected {
-  id: number;
-  name: string;
-  reason: string;
-}
+/** A mutation the server did not apply, with its reason (the contract's push answer). */
+export type Rejected = PushAnswer["rejected"][number];
 
 export interface SyncStatus {
   state: SyncState;
   lastSyncAt: number | null;
   rejected: Rejected[];
-}
-
-interface PullResult {
-  /** opaque: kept as it came and sent back on the next pull */
-  cursor: string;
-  /** another page follows (an older server never says so: its one answer is the whole pull) */
-  more?: boolean;
-  engines: LocalEngine[];
-  checks: LocalCheck[];
-  readings: (LocalReading & { id?: string })[];
-  tray: LocalTrayItem[];
-  comments: LocalComment[];
-  tombstones: { entity: string; id: string }[];
 }
 
 export async function clientId(db: LocalDb): Promise<string> {
@@ -66,16 +33,6 @@ export async function clientId(db: LocalDb): Promise<string> {
     await setMeta(db, "clientId", id);
   }
   return id;
-}
-
-const post = <T>(fetcher: Fetch, base: string, path: string, body: unknown) =>
-  postJson<T>(fetcher, `${base}${path}`, body, path.slice(5));
-
-/** What the server answers to a push (server/sync.ts). */
-interface PushAnswer {
-  lastMutationId: number;
-  rejected: Rejected[];
-  later?: Rejected;
 }
 
 const isRefused = (m: OutboxEntry) => m.held?.kind === "refused";
@@ -101,7 +58,7 @@ export async function pushAll(
       .limit(PUSH_BATCH)
       .toArray();
     if (batch.length === 0) break;
-    const r = await post<PushAnswer>(fetcher, base, "/api/sync/push", {
+    const r = await syncCalls.push(fetcher, base, {
       clientId: id,
       mutations: batch.map((m) => ({ id: m.mutationId, name: m.name, args: m.args })),
     });
@@ -171,10 +128,10 @@ async function pendingKeys(db: LocalDb) {
   return keys;
 }
 
-export async function pullOnce(db: LocalDb, fetcher: Fetch, base = ""): Promise<PullResult> {
+export async function pullOnce(db: LocalDb, fetcher: Fetch, base = ""): Promise<PullAnswer> {
   // a number is an older app's cursor: the server answers it with one full pull
   const cursor = (await getMeta<string | number>(db, "cursor")) ?? null;
-  const r = await post<PullResult>(fetcher, base, "/api/sync/pull", { cursor });
+  const r = await syncCalls.pull(fetcher, base, { cursor });
   const pending = await pendingKeys(db);
   await db.transaction(
     "rw",
@@ -248,7 +205,7 @@ export async function wipeRevoked(db: LocalDb): Promise<{ changes: number; photo
  * Pull page after page until the server says there is no more. Each page is saved with its cursor
  * before the next is asked for, so a pull cut short by a lost signal goes on from there next time.
  */
-export async function pullAll(db: LocalDb, fetcher: Fetch, base = ""): Promise<PullResult & { pages: number }> {
+export async function pullAll(db: LocalDb, fetcher: Fetch, base = ""): Promise<PullAnswer & { pages: number }> {
   // a bound on a server that kept answering "more" without moving on: the next sync goes on
   for (let pages = 1; ; pages++) {
     const before = await getMeta<string | number>(db, "cursor");

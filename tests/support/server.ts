@@ -57,6 +57,8 @@ export async function startApp(extraEnv: Record<string, string> = {}, opts: { po
           // SIGTERM is the app's (server/drain.ts); no balancer to tell unless a test puts one in front
           NEXT_MANUAL_SIG_HANDLE: "1",
           SHUTDOWN_NOTICE_MS: "0",
+          // every answer is checked against its route's contract (server/http.ts route())
+          LASHWRIGHT_CHECK_CONTRACT: "1",
           ...extraEnv,
         },
         stdio: ["ignore", "pipe", "pipe"],

@@ -468,6 +468,8 @@ const TABLE: Row[] = [
   // for the load balancer: no sign-in, the same answer for everyone (tests/integration/api/operations.test.ts)
   { route: "GET /api/health/live", path: () => "/api/health/live", expect: PUBLIC(200) },
   { route: "GET /api/health/ready", path: () => "/api/health/ready", expect: PUBLIC(200) },
+  // the API's description (tests/integration/api/openapi.test.ts): the same for everyone
+  { route: "GET /api/openapi.json", path: () => "/api/openapi.json", expect: PUBLIC(200) },
   {
     route: "POST /api/invites/accept",
     path: () => "/api/invites/accept",

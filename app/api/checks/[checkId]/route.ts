@@ -1,5 +1,6 @@
 import { z } from "zod";
 import { checkUpdate } from "@/lib/schemas/records";
+import { answers } from "@/lib/api/contract";
 import { route, uuidParam } from "@/server/http";
 import { ownCheck, readableCheck } from "@/server/access";
 import { apply } from "@/server/appliers";
@@ -10,7 +11,7 @@ import { checkToApi, engineToApi, getCheckRow, getEngineRow } from "@/db/queries
 const params = z.object({ checkId: uuidParam });
 
 /** The check with its engine: the owner and the mentors of a club it is shared with may read it. */
-export const GET = route({ params }, async ({ user, params }) => {
+export const GET = route({ response: answers.checkView, params }, async ({ user, params }) => {
   const a = await readableCheck(db(), user, params.checkId);
   return {
     check: checkToApi(a.check),
@@ -20,7 +21,7 @@ export const GET = route({ params }, async ({ user, params }) => {
 });
 
 /** A partial change, merged with the stored check and written as a whole, as a phone does. */
-export const PATCH = route({ params, body: checkUpdate }, async ({ user, params, body }) => ({
+export const PATCH = route({ response: answers.check, params, body: checkUpdate }, async ({ user, params, body }) => ({
   check: await write(user, async (w) => {
     const c = await ownCheck(w.tx, user, params.checkId);
     const defined = Object.fromEntries(Object.entries(body).filter(([, v]) => v !== undefined));
@@ -37,7 +38,7 @@ export const PATCH = route({ params, body: checkUpdate }, async ({ user, params,
   }),
 }));
 
-export const DELETE = route({ params, status: 204 }, async ({ user, params }) => {
+export const DELETE = route({ response: answers.noContent, params, status: 204 }, async ({ user, params }) => {
   await write(user, async (w) => {
     await ownCheck(w.tx, user, params.checkId);
     await apply(w, "check.delete/1", { id: params.checkId });

@@ -1,4 +1,5 @@
 import { z } from "zod";
+import { answers } from "@/lib/api/contract";
 import { route, uuidParam } from "@/server/http";
 import { clubMember } from "@/server/access";
 import { getClub } from "@/db/queries/clubs";
@@ -6,7 +7,7 @@ import { db } from "@/db/client";
 
 const params = z.object({ clubId: uuidParam });
 
-export const GET = route({ params }, async ({ user, params }) => {
+export const GET = route({ response: answers.club, params }, async ({ user, params }) => {
   const roles = await clubMember(db(), user, params.clubId);
   return { club: { ...(await getClub(db(), params.clubId))!, roles } };
 });

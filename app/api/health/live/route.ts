@@ -1,3 +1,4 @@
+import { answers } from "@/lib/api/contract";
 import { route } from "@/server/http";
 
 /**
@@ -5,7 +6,7 @@ import { route } from "@/server/http";
  * restarts an instance that stops answering this; whether it should get requests is /ready's answer.
  */
 export const GET = route(
-  { auth: false, session: false },
+  { response: answers.live, auth: false, session: false },
   async () =>
     new Response(JSON.stringify({ status: "live" }), {
       headers: { "content-type": "application/json", "cache-control": "no-store" },

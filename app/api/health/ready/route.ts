@@ -1,4 +1,5 @@
 import { NextResponse } from "next/server";
+import { answers } from "@/lib/api/contract";
 import { route } from "@/server/http";
 import { ADVISORY, readiness, type CheckName } from "@/server/health";
 
@@ -9,7 +10,7 @@ import { ADVISORY, readiness, type CheckName } from "@/server/health";
  * queue) is named in `warnings` and leaves the answer 200. No sign-in and no session read: the body
  * says which check failed and nothing about anyone's data (counts and seconds only).
  */
-export const GET = route({ auth: false, session: false }, async () => {
+export const GET = route({ response: answers.ready, auth: false, session: false }, async () => {
   const r = await readiness();
   const named = (advisory: boolean) =>
     Object.entries(r.checks)

@@ -1,11 +1,12 @@
 import { z } from "zod";
+import { answers } from "@/lib/api/contract";
 import { route, uuidParam } from "@/server/http";
 import { photoBytes, removePhoto } from "@/server/photos";
 
 const params = z.object({ photoId: uuidParam });
 
 /** The stored image, for whoever may read its check. Its bytes never change, so it may be kept. */
-export const GET = route({ params }, async ({ user, params }) => {
+export const GET = route({ response: answers.notJson, params }, async ({ user, params }) => {
   const { row, bytes } = await photoBytes(user, params.photoId);
   return new Response(bytes as BodyInit, {
     headers: {
@@ -17,6 +18,6 @@ export const GET = route({ params }, async ({ user, params }) => {
   });
 });
 
-export const DELETE = route({ params, status: 204 }, async ({ user, params }) => {
+export const DELETE = route({ response: answers.noContent, params, status: 204 }, async ({ user, params }) => {
   await removePhoto(user, params.photoId);
 });

@@ -1,5 +1,6 @@
 import { z } from "zod";
 import { inviteInput } from "@/lib/schemas/records";
+import { answers } from "@/lib/api/contract";
 import { route, uuidParam } from "@/server/http";
 import { clubRole } from "@/server/access";
 import { sendInvitation, withInviteBudget } from "@/server/invite-mail";
@@ -10,23 +11,26 @@ import { listInvites } from "@/db/queries/clubs";
 
 const params = z.object({ clubId: uuidParam });
 
-export const GET = route({ params }, async ({ user, params }) => {
+export const GET = route({ response: answers.invites, params }, async ({ user, params }) => {
   await clubRole(db(), user, params.clubId, "admin");
   return { items: await listInvites(params.clubId) };
 });
 
-export const POST = route({ params, body: inviteInput, status: 201 }, async ({ user, params, body }) => {
-  // only an admin spends the budgets: anyone else is refused before anything is counted
-  await clubRole(db(), user, params.clubId, "admin");
-  const { club, invite } = await withInviteBudget(user.id, body.email, () =>
-    write(user, (w) => inviteToClub(w, params.clubId, body.email, body.role)),
-  );
-  await sendInvitation({
-    email: body.email,
-    inviterName: user.name,
-    clubName: club.name,
-    role: body.role,
-    token: invite.token,
-  });
-  return { invite: { id: invite.id, email: body.email, role: body.role } };
-});
+export const POST = route(
+  { response: answers.invite, params, body: inviteInput, status: 201 },
+  async ({ user, params, body }) => {
+    // only an admin spends the budgets: anyone else is refused before anything is counted
+    await clubRole(db(), user, params.clubId, "admin");
+    const { club, invite } = await withInviteBudget(user.id, body.email, () =>
+      write(user, (w) => inviteToClub(w, params.clubId, body.email, body.role)),
+    );
+    await sendInvitation({
+      email: body.email,
+      inviterName: user.name,
+      clubName: club.name,
+      role: body.role,
+      token: invite.token,
+    });
+    return { invite: { id: invite.id, email: body.email, role: body.role } };
+  },
+);

@@ -1,4 +1,5 @@
 import { z } from "zod";
+import { answers } from "@/lib/api/contract";
 import { page, pageQuery, route, uuidParam } from "@/server/http";
 import { clubRole } from "@/server/access";
 import { db } from "@/db/client";
@@ -7,7 +8,7 @@ import { listClubLog } from "@/db/queries/clubs";
 const params = z.object({ clubId: uuidParam });
 
 /** The club's log of role changes and invitations, for its admins only. */
-export const GET = route({ params, query: pageQuery }, async ({ user, params, query }) => {
+export const GET = route({ response: answers.clubLog, params, query: pageQuery }, async ({ user, params, query }) => {
   await clubRole(db(), user, params.clubId, "admin");
   return page(await listClubLog(params.clubId, query.limit, query.offset), query.limit, query.offset);
 });

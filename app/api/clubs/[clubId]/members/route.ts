@@ -1,4 +1,5 @@
 import { z } from "zod";
+import { answers } from "@/lib/api/contract";
 import { route, uuidParam } from "@/server/http";
 import { clubMember } from "@/server/access";
 import { listMembers } from "@/db/queries/clubs";
@@ -7,7 +8,7 @@ import { db } from "@/db/client";
 const params = z.object({ clubId: uuidParam });
 
 /** Members see who is in their club and their roles (names and e-mails, nothing else). */
-export const GET = route({ params }, async ({ user, params }) => {
+export const GET = route({ response: answers.members, params }, async ({ user, params }) => {
   await clubMember(db(), user, params.clubId);
   return { items: await listMembers(db(), params.clubId) };
 });

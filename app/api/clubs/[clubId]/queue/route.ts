@@ -1,4 +1,5 @@
 import { z } from "zod";
+import { answers } from "@/lib/api/contract";
 import { page, pageQuery, route, uuidParam } from "@/server/http";
 import { clubRole } from "@/server/access";
 import { reviewQueue } from "@/db/queries/clubs";
@@ -7,7 +8,7 @@ import { db } from "@/db/client";
 const params = z.object({ clubId: uuidParam });
 
 /** Checks shared with the club, newest first: the mentors' review queue. */
-export const GET = route({ params, query: pageQuery }, async ({ user, params, query }) => {
+export const GET = route({ response: answers.queue, params, query: pageQuery }, async ({ user, params, query }) => {
   await clubRole(db(), user, params.clubId, "mentor");
   return page(await reviewQueue(params.clubId, query.limit, query.offset), query.limit, query.offset);
 });
