@@ -41,7 +41,7 @@ const NODE_NOT_READY = new Set([
   "ER_SERVER_SHUTDOWN",
 ]);
 const ER_CONNECTION_KILLED = 1927;
-// a statement stopped by max_statement_time (db/client.ts sets it): MariaDB's own number, not in mysql2's names
+// a statement stopped by max_statement_time (db/connection.ts sets it): MariaDB's own number, not in mysql2's names
 const ER_STATEMENT_TIMEOUT = 1969;
 
 /**

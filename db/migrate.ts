@@ -1,7 +1,7 @@
 import "server-only";
 import { migrate } from "drizzle-orm/mysql2/migrator";
 import { fileURLToPath } from "node:url";
-import { closeDb, db } from "./client";
+import { closeDb, db } from "./connection";
 
 /** Apply the committed migrations (never `drizzle-kit push`: it misbehaves on MariaDB). */
 export async function runMigrations(): Promise<void> {

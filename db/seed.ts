@@ -3,7 +3,7 @@ import { eq } from "drizzle-orm";
 import { fileURLToPath } from "node:url";
 import { bladesFor, clearanceFromFeelers, METRIC_BLADES_MM, planShims, shimSeries, valveNames } from "@/lib/lash";
 import { hashPassword } from "@/server/password";
-import { closeDb, db, transaction } from "./client";
+import { closeDb, db, transaction } from "./connection";
 import {
   checks,
   clubs,

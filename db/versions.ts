@@ -1,7 +1,7 @@
 import "server-only";
 import { eq, sql } from "drizzle-orm";
 import type { ResultSetHeader } from "mysql2";
-import { transaction, type Executor, type Tx } from "./client";
+import { transaction, type Executor, type Tx } from "./connection";
 import { ownerVersions } from "./schema";
 
 export type { Tx };

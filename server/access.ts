@@ -1,6 +1,6 @@
 import "server-only";
 import type { CheckRow, Role } from "@/db/schema";
-import type { Executor, Tx } from "@/db/client";
+import type { Executor, Tx } from "@/db/connection";
 import { conflict, DomainError, forbidden, notFound, refused } from "@/lib/errors";
 import { MOVES, type BorrowMove } from "@/lib/pool/rules";
 import { getCheckRow, getEngineRow, getTrayRow } from "@/db/queries/garage";

@@ -1,5 +1,5 @@
 import "server-only";
-import { transaction, type Tx } from "@/db/client";
+import { transaction, type Tx } from "@/db/connection";
 import { retryConflicts } from "@/db/retry";
 import * as q from "@/db/queries/users";
 import type { UserRow } from "@/db/schema";

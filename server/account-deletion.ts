@@ -8,7 +8,7 @@ import {
   type DeletionPreview,
 } from "@/lib/account/deletion";
 import { DomainError, domainErrorOf, invalid, notFound, refused, tooMany } from "@/lib/errors";
-import { db, type Executor } from "@/db/client";
+import { db, type Executor } from "@/db/connection";
 import { users } from "@/db/schema";
 import { getCredentialsById } from "@/db/queries/users";
 import { issueToken } from "./account-changes";

@@ -20,7 +20,7 @@ import {
 import { putEngine } from "@/db/queries/garage";
 import * as q from "@/db/queries/account-import";
 import { bytesStored } from "@/db/queries/photos";
-import { db } from "@/db/client";
+import { db } from "@/db/connection";
 import { budget } from "./budgets";
 import { preparePhoto } from "./photo-decode";
 import { deleteObject, putObject } from "./storage";

@@ -2,7 +2,7 @@ import "server-only";
 import { env } from "@/lib/env";
 import { hashPassword, verifyPassword } from "./password";
 import { getCredentialsByEmail, getCredentialsById, tokenOwner } from "@/db/queries/users";
-import { db } from "@/db/client";
+import { db } from "@/db/connection";
 import { issueToken, markAddressProved, newAccount, replacePassword, spendToken } from "./account-changes";
 import { queueNotices } from "./notices";
 import { mailThrottled } from "./throttle";

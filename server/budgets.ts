@@ -2,7 +2,7 @@ import "server-only";
 import { createHash } from "node:crypto";
 import { RateLimiterMemory, RateLimiterMySQL, RateLimiterRes } from "rate-limiter-flexible";
 import { env } from "@/lib/env";
-import { pool } from "@/db/client";
+import { connectionPool } from "@/db/connection";
 import { countBudgetRefusal } from "./metrics";
 
 /**
@@ -50,8 +50,8 @@ export function budget(spec: BudgetSpec): Budget {
   // Made on first use: env() and the pool are not read while Next collects pages at build time.
   const get = () =>
     (limiter ??= new RateLimiterMySQL({
-      // the callback pool under mysql2/promise, with the bounded acquire of db/client.ts
-      storeClient: pool().pool,
+      // the callback pool under mysql2/promise, with the bounded acquire of db/connection.ts
+      storeClient: connectionPool().pool,
       storeType: "pool",
       dbName: databaseName(),
       tableName: "rate_limits",

@@ -190,7 +190,7 @@ export function route<
       if (crossSite) throw crossSite;
       const { user, revoked } = opts.session === false ? { user: null, revoked: false } : await currentSession();
       // "revoked" tells a phone that its session was ended elsewhere, so it wipes its local copy
-      // (lib/sync/client.ts); only a cookie signed by us can earn it (OWASP ASVS 5.0 V7)
+      // (lib/sync/phone-sync.ts); only a cookie signed by us can earn it (OWASP ASVS 5.0 V7)
       // the log line says whose request it was (an id, never an address or a name)
       if (user) rc.userId = user.id;
       if (opts.auth !== false && !user)

@@ -2,7 +2,7 @@ import "server-only";
 import { createHash, timingSafeEqual } from "node:crypto";
 import http from "node:http";
 import { Counter, Gauge, Histogram, Registry, collectDefaultMetrics } from "prom-client";
-import { poolStats } from "@/db/client";
+import { poolStats } from "@/db/connection";
 import { env } from "@/lib/env";
 import { probesMade, readiness, type CheckName } from "./health";
 import { log } from "./log";

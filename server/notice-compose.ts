@@ -1,6 +1,6 @@
 import "server-only";
 import { env } from "@/lib/env";
-import { db } from "@/db/client";
+import { db } from "@/db/connection";
 import { getCheckRow } from "@/db/queries/garage";
 import { mentorSharesForCheck, usersByIds } from "@/db/queries/clubs";
 import { takesNotices } from "@/db/queries/notices";

@@ -12,7 +12,7 @@ import {
 import * as q from "@/db/queries/photos";
 import { conflict, DomainError, forbidden, invalid, notFound, overloaded, tooMany } from "@/lib/errors";
 import { env } from "@/lib/env";
-import { db, type Executor } from "@/db/client";
+import { db, type Executor } from "@/db/connection";
 import { mysqlErrorCode } from "@/db/errors";
 import { readableCheck } from "./access";
 import { budget } from "./budgets";

@@ -3,7 +3,7 @@ import { env } from "@/lib/env";
 import { formatLength } from "@/lib/lash";
 import { loanWords, MOVE_WORDS, MOVES, type BorrowInput, type BorrowMove, type OfferInput } from "@/lib/pool/rules";
 import { refused } from "@/lib/errors";
-import { db } from "@/db/client";
+import { db } from "@/db/connection";
 import { nextVersion } from "@/db/versions";
 import * as q from "@/db/queries/pool";
 import { askableOffer, askingCheck, clubMember, loanSide, ownBorrowOrNew, ownOffer } from "./access";

@@ -4,7 +4,7 @@ import { VERDICTS, type Verdict } from "@/lib/check/verdicts";
 import { mentorsOfClub } from "@/db/queries/clubs";
 import { commentersOf } from "@/db/queries/notices";
 import { checkTitleRow, getEngineRow } from "@/db/queries/garage";
-import { db } from "@/db/client";
+import { db } from "@/db/connection";
 import { noticeEach, noticeTo, shared } from "./notices";
 
 /**

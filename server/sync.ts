@@ -10,7 +10,7 @@ import {
   type MutationName,
   type PushInput,
 } from "@/lib/sync/mutations";
-import { transaction } from "@/db/client";
+import { transaction } from "@/db/connection";
 import { nextVersion, type Tx } from "@/db/versions";
 import { isTransientDbError } from "@/db/errors";
 import { retryConflicts } from "@/db/retry";

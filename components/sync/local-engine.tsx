@@ -13,7 +13,7 @@ import {
   SignedOut,
   syncOnce,
   type SyncState,
-} from "@/lib/sync/client";
+} from "@/lib/sync/phone-sync";
 import { waitingCount } from "@/lib/sync/outbox";
 import { retryDelay } from "@/lib/sync/transport";
 import { preloadWrites } from "@/lib/sync/later";

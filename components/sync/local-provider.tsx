@@ -15,7 +15,7 @@ import {
   type ReactNode,
 } from "react";
 import type { LocalDb, OutboxEntry } from "@/lib/sync/local-db";
-import type { SyncState } from "@/lib/sync/client";
+import type { SyncState } from "@/lib/sync/phone-sync";
 import { useIsClient, useStored } from "@/components/ui/use-stored";
 import type { EngineState } from "./local-engine";
 import type { LengthUnit } from "@/lib/lash";
@@ -143,7 +143,7 @@ export function LocalProvider({ children }: { children: ReactNode }) {
   }, []);
 
   // The session was ended elsewhere: wipe this user's copy, keep the unsent work for their next
-  // sign-in here (lib/sync/client.ts wipeRevoked), drop the kept copies of shared checks and clubs
+  // sign-in here (lib/sync/phone-sync.ts wipeRevoked), drop the kept copies of shared checks and clubs
   // and the identity, and say what happened. The kept queries' writer is throttled (1 s): a write
   // already scheduled may land after the first delete, hence the second.
   const revoke = useCallback(async () => {
@@ -151,7 +151,7 @@ export function LocalProvider({ children }: { children: ReactNode }) {
     if (!userId) return;
     const wipe = async () => {
       const [{ wipeRevoked }, { openLocalDb }] = await Promise.all([
-        import("@/lib/sync/client"),
+        import("@/lib/sync/phone-sync"),
         import("@/lib/sync/local-db"),
       ]);
       const db = engineNow.current?.db ?? openLocalDb(userId);

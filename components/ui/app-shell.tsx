@@ -139,7 +139,7 @@ export function AppShell({
   );
 }
 
-/** Why the phone's copy is gone, and where the unsent work waits (lib/sync/client.ts wipeRevoked). */
+/** Why the phone's copy is gone, and where the unsent work waits (lib/sync/phone-sync.ts wipeRevoked). */
 function revokedText(r: { email: string; changes: number; photos: number }) {
   const who = r.email ? ` for ${r.email}` : "";
   const work = [

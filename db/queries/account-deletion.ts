@@ -3,7 +3,7 @@ import { and, eq, inArray, isNull, lte, ne, or, sql } from "drizzle-orm";
 import { alias } from "drizzle-orm/mysql-core";
 import type { DeletionBlocker } from "@/lib/account/deletion";
 import { STATE_WORDS, type BorrowState } from "@/lib/pool/rules";
-import { db, type Executor, type Tx } from "../client";
+import { db, type Executor, type Tx } from "../connection";
 import {
   authTokens,
   borrowRequests,

@@ -1,6 +1,6 @@
 import "server-only";
 import { and, asc, eq, gt, isNotNull, ne, or } from "drizzle-orm";
-import { db } from "../client";
+import { db } from "../connection";
 import { borrowRequests, checks, comments, engines, readings, trayItems, uploads, users } from "../schema";
 
 /**

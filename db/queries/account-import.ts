@@ -1,6 +1,6 @@
 import "server-only";
 import { eq, sql } from "drizzle-orm";
-import type { Executor, Tx } from "../client";
+import type { Executor, Tx } from "../connection";
 import { checks, comments, engines, readings, trayItems, uploads } from "../schema";
 
 /**

@@ -2,7 +2,7 @@ import "server-only";
 import { and, asc, desc, eq, gt, inArray, isNull, or, sql } from "drizzle-orm";
 import { alias } from "drizzle-orm/mysql-core";
 import { createHash, randomBytes } from "node:crypto";
-import { db, type Executor, type Tx } from "../client";
+import { db, type Executor, type Tx } from "../connection";
 import {
   borrowRequests,
   checks,

@@ -4,7 +4,7 @@ import { and, asc, desc, eq, getTableColumns, sql } from "drizzle-orm";
 import { format } from "mysql2";
 import { DEFAULT_TIMING } from "@/lib/lash";
 import { READING_VALUE_FIELDS, type EngineInput, type ReadingInput } from "@/lib/schemas/records";
-import { db, type Executor, type Tx } from "../client";
+import { db, type Executor, type Tx } from "../connection";
 import {
   checks,
   engines,

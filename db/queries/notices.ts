@@ -1,6 +1,6 @@
 import "server-only";
 import { and, eq, inArray, ne, sql } from "drizzle-orm";
-import { db } from "../client";
+import { db } from "../connection";
 import { comments, mailStops, notices, users } from "../schema";
 import type { Tx } from "../versions";
 

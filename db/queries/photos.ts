@@ -1,7 +1,7 @@
 import "server-only";
 import { and, asc, eq, inArray, isNotNull, isNull, lt, sql } from "drizzle-orm";
 import type { ApiPhoto } from "@/lib/photos/rules";
-import { db, type Executor, type Tx } from "../client";
+import { db, type Executor, type Tx } from "../connection";
 import { checks, comments, uploads, users } from "../schema";
 
 const apiColumns = {

@@ -3,7 +3,7 @@ import { and, asc, desc, eq, gt, inArray, isNull, or, sql } from "drizzle-orm";
 import { alias } from "drizzle-orm/mysql-core";
 import { toNm } from "@/lib/lash";
 import { HOLDING, type ApiBorrow, type ApiOffer, type OfferInput } from "@/lib/pool/rules";
-import { db, type Executor, type Tx } from "../client";
+import { db, type Executor, type Tx } from "../connection";
 import { borrowRequests, poolOffers, trayItems, users } from "../schema";
 
 /**

@@ -1,6 +1,6 @@
 import "server-only";
 import { and, asc, eq, gt, gte, inArray, lte, or, sql } from "drizzle-orm";
-import { db, type Tx } from "../client";
+import { db, type Tx } from "../connection";
 import { checks, comments, engines, readings, rejectedMutations, syncClients, tombstones, trayItems } from "../schema";
 import { checkToApi, engineToApi, readingToApi, trayToApi } from "./garage";
 import type { AnyMySqlColumn } from "drizzle-orm/mysql-core";

@@ -1,7 +1,7 @@
 import "server-only";
 import { and, eq, gt, isNull, sql } from "drizzle-orm";
 import { createHash, randomBytes } from "node:crypto";
-import { db, type Executor, type Tx } from "../client";
+import { db, type Executor, type Tx } from "../connection";
 import { authTokens, users, type UserRow } from "../schema";
 
 /** The columns any caller may see of a user: never the password hash. */

@@ -6,7 +6,7 @@ import type { PullAnswer, PushAnswer } from "./client";
 /**
  * The sync protocol's two calls, sent through the phone's transport (lib/sync/transport.ts), whose
  * errors say what to do about a failure (Offline, SignedOut, ServerBusy, ServerError) rather than
- * ApiFailure: the background sync (lib/sync/client.ts) acts on them. `base` is the server's origin
+ * ApiFailure: the background sync (lib/sync/phone-sync.ts) acts on them. `base` is the server's origin
  * ("" on the phone; the load and fault tests name theirs). Apart from ./client.ts because it
  * is loaded only with the sync engine: a bundler keeps a module whole, and a page that only reads
  * must not carry the sync client (tests/e2e/page-weight.test.ts).

@@ -1,4 +1,4 @@
-import type * as Writes from "./writes";
+import type * as Save from "./save";
 import type * as Photos from "./photos";
 import type * as LocalDbModule from "./local-db";
 
@@ -17,34 +17,34 @@ function later<M, K extends AsyncKeys<M>>(load: () => Promise<M>, name: K): M[K]
     load().then((m) => (m[name] as (...a: unknown[]) => Promise<unknown>)(...args))) as M[K];
 }
 
-const writes = () => import("./writes");
+const save = () => import("./save");
 const photos = () => import("./photos");
 const localDb = () => import("./local-db");
 
-export const saveEngine = later<typeof Writes, "saveEngine">(writes, "saveEngine");
-export const deleteEngine = later<typeof Writes, "deleteEngine">(writes, "deleteEngine");
-export const saveCheck = later<typeof Writes, "saveCheck">(writes, "saveCheck");
-export const setCheckStatus = later<typeof Writes, "setCheckStatus">(writes, "setCheckStatus");
-export const saveReading = later<typeof Writes, "saveReading">(writes, "saveReading");
-export const importChecks = later<typeof Writes, "importChecks">(writes, "importChecks");
-export const saveTrayItem = later<typeof Writes, "saveTrayItem">(writes, "saveTrayItem");
-export const adjustTray = later<typeof Writes, "adjustTray">(writes, "adjustTray");
-export const beginFit = later<typeof Writes, "beginFit">(writes, "beginFit");
-export const toggleSwap = later<typeof Writes, "toggleSwap">(writes, "toggleSwap");
-export const toggleSwaps = later<typeof Writes, "toggleSwaps">(writes, "toggleSwaps");
-export const toggleFitTask = later<typeof Writes, "toggleFitTask">(writes, "toggleFitTask");
-export const setTurned = later<typeof Writes, "setTurned">(writes, "setTurned");
-export const addComment = later<typeof Writes, "addComment">(writes, "addComment");
-export const giveVerdict = later<typeof Writes, "giveVerdict">(writes, "giveVerdict");
-export const offerToClub = later<typeof Writes, "offerToClub">(writes, "offerToClub");
-export const withdrawOffer = later<typeof Writes, "withdrawOffer">(writes, "withdrawOffer");
-export const askToBorrow = later<typeof Writes, "askToBorrow">(writes, "askToBorrow");
-export const moveLoan = later<typeof Writes, "moveLoan">(writes, "moveLoan");
+export const saveEngine = later<typeof Save, "saveEngine">(save, "saveEngine");
+export const deleteEngine = later<typeof Save, "deleteEngine">(save, "deleteEngine");
+export const saveCheck = later<typeof Save, "saveCheck">(save, "saveCheck");
+export const setCheckStatus = later<typeof Save, "setCheckStatus">(save, "setCheckStatus");
+export const saveReading = later<typeof Save, "saveReading">(save, "saveReading");
+export const importChecks = later<typeof Save, "importChecks">(save, "importChecks");
+export const saveTrayItem = later<typeof Save, "saveTrayItem">(save, "saveTrayItem");
+export const adjustTray = later<typeof Save, "adjustTray">(save, "adjustTray");
+export const beginFit = later<typeof Save, "beginFit">(save, "beginFit");
+export const toggleSwap = later<typeof Save, "toggleSwap">(save, "toggleSwap");
+export const toggleSwaps = later<typeof Save, "toggleSwaps">(save, "toggleSwaps");
+export const toggleFitTask = later<typeof Save, "toggleFitTask">(save, "toggleFitTask");
+export const setTurned = later<typeof Save, "setTurned">(save, "setTurned");
+export const addComment = later<typeof Save, "addComment">(save, "addComment");
+export const giveVerdict = later<typeof Save, "giveVerdict">(save, "giveVerdict");
+export const offerToClub = later<typeof Save, "offerToClub">(save, "offerToClub");
+export const withdrawOffer = later<typeof Save, "withdrawOffer">(save, "withdrawOffer");
+export const askToBorrow = later<typeof Save, "askToBorrow">(save, "askToBorrow");
+export const moveLoan = later<typeof Save, "moveLoan">(save, "moveLoan");
 export const queuePhoto = later<typeof Photos, "queuePhoto">(photos, "queuePhoto");
 export const getMeta = later<typeof LocalDbModule, "getMeta">(localDb, "getMeta");
 
 /** Start loading the writes now (the local database's module does, once it is up). */
 export function preloadWrites(): void {
-  void writes();
+  void save();
   void photos();
 }

@@ -6,7 +6,7 @@ import { getMeta, setMeta, type LocalDb } from "./local-db";
  * Every write: validate with the shared schema, change the local records, and append the mutation
  * to the outbox, all in one IndexedDB transaction, so a tap is either fully saved or not at all.
  */
-export async function record<N extends MutationName>(
+export async function queueChange<N extends MutationName>(
   db: LocalDb,
   name: N,
   args: MutationArgs<N>,
@@ -25,7 +25,7 @@ export async function record<N extends MutationName>(
 
 /**
  * The tables a write may touch. A caller that needs several writes to land together wraps them in
- * one transaction over these: record() then joins it instead of committing on its own.
+ * one transaction over these: queueChange() then joins it instead of committing on its own.
  */
 export function writeTables(db: LocalDb) {
   return [db.outbox, db.meta, db.engines, db.checks, db.readings, db.tray, db.comments];

@@ -3,7 +3,7 @@ import { retryAfterMs, retryDelay } from "@/lib/sync/transport";
 
 /**
  * Simulated phones for the load test: each keeps its own outbox with increasing mutation ids and a
- * pull cursor, as the real client does (lib/sync/client.ts), but without IndexedDB, so a few
+ * pull cursor, as the real client does (lib/sync/phone-sync.ts), but without IndexedDB, so a few
  * hundred of them cost the machine little beside the server they load. A busy answer (503 with
  * Retry-After, or 429 with Retry-After: this phone's budget) is waited out with the phone's own
  * back-off and jitter and the same outbox is sent again; so is a cut connection (no answer, or an

@@ -43,7 +43,7 @@ beforeAll(async () => {
 }, 120_000);
 
 afterAll(async () => {
-  const { closeDb } = await import("@/db/client");
+  const { closeDb } = await import("@/db/connection");
   await raw?.query("DELETE FROM notices WHERE to_email = ?", [mentorEmail]);
   await raw?.end();
   await closeDb();
@@ -62,11 +62,11 @@ describe("a push's notices are worked out once", () => {
     "N comments by the owner: the same statements for 10 as for 200, and one queued notice",
     { timeout: 180_000 },
     async () => {
-      const { pool } = await import("@/db/client");
+      const { connectionPool } = await import("@/db/connection");
       const { runAfter } = await import("@/server/write");
       const { noticeNewComment } = await import("@/server/review");
       const { deliverDueNotices } = await import("@/server/notices");
-      const p = pool();
+      const p = connectionPool();
       const sent: string[] = [];
       let counting = false;
       for (const m of ["query", "execute"] as const) {

@@ -1,6 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { and, eq, sql } from "drizzle-orm";
-import { closeDb, db, transaction } from "@/db/client";
+import { closeDb, db, transaction } from "@/db/connection";
 import { authTokens, checks, comments, engines, memberships, readings, trayItems, users } from "@/db/schema";
 import { setRoles, shareCheck } from "@/db/queries/clubs";
 import { getPublicUser, type PublicUser } from "@/db/queries/users";

@@ -1,6 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { sql } from "drizzle-orm";
-import { closeDb, db, NestedConnectionError, transaction } from "@/db/client";
+import { closeDb, db, NestedConnectionError, transaction } from "@/db/connection";
 import { DomainError } from "@/lib/errors";
 import { APPLIERS } from "@/server/appliers";
 import { mutationNames } from "@/lib/sync/mutations";

@@ -1,6 +1,6 @@
 import { afterAll, describe, expect, it } from "vitest";
 import { eq } from "drizzle-orm";
-import { closeDb, db, transaction } from "@/db/client";
+import { closeDb, db, transaction } from "@/db/connection";
 import { checks, engines, readings, users } from "@/db/schema";
 import { currentVersion, nextVersion } from "@/db/versions";
 import { mysqlErrorCode } from "@/db/errors";

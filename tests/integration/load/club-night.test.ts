@@ -235,7 +235,7 @@ beforeAll(async () => {
 
 afterAll(async () => {
   await app?.stop();
-  if (DIRECT) await (await import("@/db/client")).closeDb();
+  if (DIRECT) await (await import("@/db/connection")).closeDb();
 });
 
 /** A phone retries a refused sign-in a few times with the app's back-off, then the test fails: a

@@ -2,7 +2,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { drizzle } from "drizzle-orm/mysql2";
 import mysql from "mysql2/promise";
 import * as schema from "@/db/schema";
-import { closeDb } from "@/db/client";
+import { closeDb } from "@/db/connection";
 import { versioned } from "@/db/versions";
 import { putCheck, putEngine, putTrayItem, writeReadings } from "@/db/queries/garage";
 import { changesSince } from "@/db/queries/sync";

@@ -1,5 +1,5 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { closeDb } from "@/db/client";
+import { closeDb } from "@/db/connection";
 import { versioned } from "@/db/versions";
 import { putCheck, putEngine, putTrayItem, removeTrayItem, writeReadings } from "@/db/queries/garage";
 import { insertComment } from "@/db/queries/clubs";

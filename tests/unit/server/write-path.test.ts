@@ -23,7 +23,7 @@ const WRITERS: Record<string, string> = {
   "db/queries/sync.ts": "SQL of the push's device row and refusals",
   "db/queries/users.ts": "SQL of accounts and one-time tokens",
   // the machinery of a write
-  "db/client.ts": "transaction(), the one way to open a transaction",
+  "db/connection.ts": "transaction(), the one way to open a transaction",
   "db/versions.ts": "the per-owner change version counter and versioned()",
   "db/migrate.ts": "migrations",
   "db/seed.ts": "the demo seed",
@@ -64,7 +64,7 @@ const DML = new RegExp(
     String.raw`\b(?:insert\s+(?:ignore\s+)?into|update\s+\w+\s+set|delete\s+from|replace\s+into)\b`,
     String.raw`\bmigrate\(`,
     String.raw`\bRateLimiterMySQL\b`,
-    // a transaction opened (db/client's transaction(), db/versions' versioned(), or drizzle's own)
+    // a transaction opened (db/connection's transaction(), db/versions' versioned(), or drizzle's own)
     String.raw`(?<![\w.])(?:transaction|versioned)\(|\.transaction\(`,
   ].join("|"),
   "i",

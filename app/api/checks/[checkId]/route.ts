@@ -5,7 +5,7 @@ import { route, uuidParam } from "@/server/http";
 import { ownCheck, readableCheck } from "@/server/access";
 import { apply } from "@/server/appliers";
 import { write } from "@/server/write";
-import { db } from "@/db/client";
+import { db } from "@/db/connection";
 import { checkToApi, engineToApi, getCheckRow, getEngineRow } from "@/db/queries/garage";
 
 const params = z.object({ checkId: uuidParam });

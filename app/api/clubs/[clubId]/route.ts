@@ -3,7 +3,7 @@ import { answers } from "@/lib/api/contract";
 import { route, uuidParam } from "@/server/http";
 import { clubMember } from "@/server/access";
 import { getClub } from "@/db/queries/clubs";
-import { db } from "@/db/client";
+import { db } from "@/db/connection";
 
 const params = z.object({ clubId: uuidParam });
 

@@ -6,7 +6,7 @@ import { ownEngine } from "@/server/access";
 import { mergeEngine } from "@/server/engines";
 import { apply } from "@/server/appliers";
 import { write } from "@/server/write";
-import { db } from "@/db/client";
+import { db } from "@/db/connection";
 import { engineToApi, getEngineRow } from "@/db/queries/garage";
 
 const params = z.object({ engineId: uuidParam });

@@ -6,7 +6,7 @@ import { readChecksCsv } from "@/lib/check/csv-import";
 import { checkPlan, valveViews } from "@/lib/check/derive";
 import { engineHistory } from "@/lib/check/history";
 import { openLocalDb, type LocalEngine, type LocalReading } from "@/lib/sync/local-db";
-import { importChecks } from "@/lib/sync/writes";
+import { importChecks } from "@/lib/sync/save";
 
 // An invented four (test data, not trade data): 2 intakes and 2 exhausts per cylinder, intake
 // 0.10-0.20, exhaust 0.20-0.30, a 0.05 mm series from 2.50 to 3.30.

@@ -1,9 +1,9 @@
 import "fake-indexeddb/auto";
 import { describe, expect, it } from "vitest";
 import { openLocalDb, getMeta, type LocalDb } from "@/lib/sync/local-db";
-import { record, waitingCount } from "@/lib/sync/outbox";
+import { queueChange, waitingCount } from "@/lib/sync/outbox";
 import { PUSH_BATCH } from "@/lib/sync/mutations";
-import { Offline, ServerBusy, syncOnce } from "@/lib/sync/client";
+import { Offline, ServerBusy, syncOnce } from "@/lib/sync/phone-sync";
 
 /**
  * The phone against a server that applies a budget (server/sync.ts) and pages its pull
@@ -20,7 +20,7 @@ async function addReadings(db: LocalDb, n: number) {
       feelerGo: 0.1,
       method: "feeler" as const,
     };
-    await record(db, "reading.put/1", { checkId, reading } as never, async () => {
+    await queueChange(db, "reading.put/1", { checkId, reading } as never, async () => {
       await db.readings.put({
         checkId,
         installedStamp: null,

@@ -3,7 +3,7 @@ import Dexie from "dexie";
 import { describe, expect, it } from "vitest";
 import { parseMutation } from "@/lib/sync/mutations";
 import { openLocalDb, getMeta } from "@/lib/sync/local-db";
-import { beginFit, saveCheck, saveEngine, saveReading, setTurned, toggleFitTask, toggleSwap } from "@/lib/sync/writes";
+import { beginFit, saveCheck, saveEngine, saveReading, setTurned, toggleFitTask, toggleSwap } from "@/lib/sync/save";
 import { valvesOfMoves, workOrderKey, type WorkOrderState } from "@/lib/check/fit";
 import type { ShimMove } from "@/lib/lash";
 

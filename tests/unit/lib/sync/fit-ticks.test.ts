@@ -3,7 +3,7 @@ import { describe, expect, it } from "vitest";
 import { fitTicks, workOrderKey, type WorkOrderState } from "@/lib/check/fit";
 import { workOrder, type Assignment, type ShimMove } from "@/lib/lash";
 import { getMeta, openLocalDb, type LocalDb } from "@/lib/sync/local-db";
-import { beginFit, saveCheck, saveReading, toggleSwaps } from "@/lib/sync/writes";
+import { beginFit, saveCheck, saveReading, toggleSwaps } from "@/lib/sync/save";
 
 /** One tick per valve that gets a shim, holding every move that change needs. Sizes invented. */
 const a = (valveId: string, size: number, source: Assignment["source"]): Assignment => ({

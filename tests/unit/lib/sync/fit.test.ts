@@ -3,7 +3,7 @@ import { describe, expect, it } from "vitest";
 import { workOrderKey, type WorkOrderState } from "@/lib/check/fit";
 import type { ShimMove } from "@/lib/lash";
 import { getMeta, openLocalDb, type LocalDb } from "@/lib/sync/local-db";
-import { beginFit, saveCheck, saveReading, saveTrayItem, toggleSwap } from "@/lib/sync/writes";
+import { beginFit, saveCheck, saveReading, saveTrayItem, toggleSwap } from "@/lib/sync/save";
 
 const engineId = "0b6f5c2e-1111-4a4a-9a9a-00000000000e";
 const checkId = "0b6f5c2e-1111-4a4a-9a9a-000000000001";

@@ -1,15 +1,15 @@
 import "fake-indexeddb/auto";
 import { describe, expect, it } from "vitest";
 import { openLocalDb, type LocalDb } from "@/lib/sync/local-db";
-import { record, waitingCount } from "@/lib/sync/outbox";
-import { discardHeld, heldEntries, pushAll, retryHeld } from "@/lib/sync/client";
+import { queueChange, waitingCount } from "@/lib/sync/outbox";
+import { discardHeld, heldEntries, pushAll, retryHeld } from "@/lib/sync/phone-sync";
 
 const checkId = "0b6f5c2e-1111-4a4a-9a9a-000000000002";
 
 async function addReadings(db: LocalDb, valves: string[]) {
   for (const valve of valves) {
     const reading = { valve, round: 0, feelerGo: 0.15, method: "feeler" as const };
-    await record(db, "reading.put/1", { checkId, reading } as never, async () => {
+    await queueChange(db, "reading.put/1", { checkId, reading } as never, async () => {
       await db.readings.put({
         checkId,
         installedStamp: null,

@@ -2,8 +2,8 @@ import "fake-indexeddb/auto";
 import { describe, expect, it } from "vitest";
 import { LashInputError } from "@/lib/lash";
 import { openLocalDb, type LocalDb } from "@/lib/sync/local-db";
-import { record, waitingCount } from "@/lib/sync/outbox";
-import { pushAll, SignedOut, syncOnce } from "@/lib/sync/client";
+import { queueChange, waitingCount } from "@/lib/sync/outbox";
+import { pushAll, SignedOut, syncOnce } from "@/lib/sync/phone-sync";
 
 const checkId = "0b6f5c2e-1111-4a4a-9a9a-000000000001";
 
@@ -19,7 +19,7 @@ async function addReadings(db: LocalDb, n: number) {
       feelerGo: 0.1 + (i % 300) / 1000,
       method: "feeler" as const,
     };
-    await record(db, "reading.put/1", { checkId, reading } as never, async () => {
+    await queueChange(db, "reading.put/1", { checkId, reading } as never, async () => {
       await db.readings.put({
         checkId,
         installedStamp: null,
@@ -89,7 +89,7 @@ describe("the outbox", () => {
     const db = freshDb();
     const bad = { checkId, reading: { valve: "X9", feelerGo: -1 } };
     await expect(
-      record(db, "reading.put/1", bad as never, async () =>
+      queueChange(db, "reading.put/1", bad as never, async () =>
         db.readings.put({ checkId, valve: "X9", round: 0 } as never),
       ),
     ).rejects.toBeInstanceOf(LashInputError);
@@ -100,7 +100,7 @@ describe("the outbox", () => {
   it("rolls back the local write when queueing fails inside the transaction", async () => {
     const db = freshDb();
     await expect(
-      record(
+      queueChange(
         db,
         "reading.put/1",
         { checkId, reading: { valve: "I1.1", round: 0, method: "feeler" } } as never,

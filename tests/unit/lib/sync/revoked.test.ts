@@ -1,9 +1,9 @@
 import "fake-indexeddb/auto";
 import { describe, expect, it } from "vitest";
 import { getMeta, openLocalDb, setMeta, type LocalDb } from "@/lib/sync/local-db";
-import { record, waitingCount } from "@/lib/sync/outbox";
+import { queueChange, waitingCount } from "@/lib/sync/outbox";
 import { queuePhoto } from "@/lib/sync/photos";
-import { SessionRevoked, SignedOut, syncOnce } from "@/lib/sync/client";
+import { SessionRevoked, SignedOut, syncOnce } from "@/lib/sync/phone-sync";
 
 /**
  * A phone whose session was ended elsewhere (issue 24, item 12: a sign-out everywhere or a new
@@ -16,7 +16,7 @@ const jpeg = () => new Blob([new Uint8Array([0xff, 0xd8, 0xff])], { type: "image
 const answer401 = (code: string) => async () => Response.json({ error: { code, message: "Sign in" } }, { status: 401 });
 
 async function reading(db: LocalDb, valve: string) {
-  await record(
+  await queueChange(
     db,
     "reading.put/1",
     { checkId, reading: { valve, round: 0, feelerGo: 0.15, method: "feeler" } } as never,

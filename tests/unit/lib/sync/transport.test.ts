@@ -1,17 +1,17 @@
 import "fake-indexeddb/auto";
 import { describe, expect, it } from "vitest";
 import { openLocalDb } from "@/lib/sync/local-db";
-import { record, waitingCount } from "@/lib/sync/outbox";
+import { queueChange, waitingCount } from "@/lib/sync/outbox";
 import { queuePhoto } from "@/lib/sync/photos";
 import { getMeta } from "@/lib/sync/local-db";
-import { Offline, retryAfterMs, retryDelay, ServerBusy, syncOnce } from "@/lib/sync/client";
+import { Offline, retryAfterMs, retryDelay, ServerBusy, syncOnce } from "@/lib/sync/phone-sync";
 import { postJson, send } from "@/lib/sync/transport";
 
 const checkId = "0b6f5c2e-2222-4a4a-9a9a-000000000002";
 const emptyPull = { cursor: 7, engines: [], checks: [], readings: [], tray: [], comments: [], tombstones: [] };
 
 async function oneReading(db: ReturnType<typeof openLocalDb>) {
-  await record(
+  await queueChange(
     db,
     "reading.put/1",
     { checkId, reading: { valve: "I1.1", round: 0, feelerGo: 0.15, method: "feeler" } } as never,

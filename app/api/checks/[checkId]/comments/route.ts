@@ -5,7 +5,7 @@ import { route, uuidParam } from "@/server/http";
 import { readableCheck, visibleComments } from "@/server/access";
 import { apply } from "@/server/appliers";
 import { write } from "@/server/write";
-import { db } from "@/db/client";
+import { db } from "@/db/connection";
 import { listComments } from "@/db/queries/clubs";
 
 const params = z.object({ checkId: uuidParam });

@@ -6,7 +6,7 @@ import { readableCheck } from "@/server/access";
 import { uploadPhoto } from "@/server/photos";
 import { readForm } from "@/server/request-guard";
 import { listPhotos } from "@/db/queries/photos";
-import { db } from "@/db/client";
+import { db } from "@/db/connection";
 
 const params = z.object({ checkId: uuidParam });
 

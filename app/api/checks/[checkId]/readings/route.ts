@@ -5,7 +5,7 @@ import { route, uuidParam } from "@/server/http";
 import { readableCheck } from "@/server/access";
 import { applyRun } from "@/server/appliers";
 import { write } from "@/server/write";
-import { db } from "@/db/client";
+import { db } from "@/db/connection";
 import { listReadings } from "@/db/queries/garage";
 
 const params = z.object({ checkId: uuidParam });

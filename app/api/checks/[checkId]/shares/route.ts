@@ -5,7 +5,7 @@ import { route, uuidParam } from "@/server/http";
 import { readableCheck } from "@/server/access";
 import { shareCheck } from "@/server/clubs";
 import { write } from "@/server/write";
-import { db } from "@/db/client";
+import { db } from "@/db/connection";
 import { listSharesOfCheck } from "@/db/queries/clubs";
 
 const params = z.object({ checkId: uuidParam });

@@ -6,7 +6,7 @@ import { clubRole } from "@/server/access";
 import { sendInvitation, withInviteBudget } from "@/server/invite-mail";
 import { inviteToClub } from "@/server/clubs";
 import { write } from "@/server/write";
-import { db } from "@/db/client";
+import { db } from "@/db/connection";
 import { listInvites } from "@/db/queries/clubs";
 
 const params = z.object({ clubId: uuidParam });

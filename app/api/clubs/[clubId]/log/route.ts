@@ -2,7 +2,7 @@ import { z } from "zod";
 import { answers } from "@/lib/api/contract";
 import { page, pageQuery, route, uuidParam } from "@/server/http";
 import { clubRole } from "@/server/access";
-import { db } from "@/db/client";
+import { db } from "@/db/connection";
 import { listClubLog } from "@/db/queries/clubs";
 
 const params = z.object({ clubId: uuidParam });

@@ -3,7 +3,7 @@ import { answers } from "@/lib/api/contract";
 import { page, pageQuery, route, uuidParam } from "@/server/http";
 import { clubRole } from "@/server/access";
 import { reviewQueue } from "@/db/queries/clubs";
-import { db } from "@/db/client";
+import { db } from "@/db/connection";
 
 const params = z.object({ clubId: uuidParam });
 

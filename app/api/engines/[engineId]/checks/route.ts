@@ -6,7 +6,7 @@ import { page, pageQuery, route, uuidParam } from "@/server/http";
 import { ownEngine } from "@/server/access";
 import { apply } from "@/server/appliers";
 import { write } from "@/server/write";
-import { db } from "@/db/client";
+import { db } from "@/db/connection";
 import { checkToApi, getCheckRow, listChecks } from "@/db/queries/garage";
 
 const params = z.object({ engineId: uuidParam });

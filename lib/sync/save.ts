@@ -1,5 +1,5 @@
 import type { MutationArgs } from "./mutations";
-import { record, writeTables } from "./outbox";
+import { queueChange, writeTables } from "./outbox";
 import { DEFAULT_TIMING, LashInputError, sameLength, type NearSide, type ShimMove, type ShimPosition } from "../lash";
 import { swapEffects, workOrderKey, type WorkOrderState } from "../check/fit";
 import { READING_VALUE_FIELDS } from "../schemas/records";
@@ -24,7 +24,7 @@ type EngineArgs = Omit<MutationArgs<"engine.put/3">, "shimPosition" | "nearSide"
 
 /** The engine profile, with where its shims sit (null: not said) and the side nearest the mechanic. */
 export function saveEngine(db: LocalDb, e: EngineArgs) {
-  return record(
+  return queueChange(
     db,
     "engine.put/3",
     { ...e, shimPosition: e.shimPosition ?? null, nearSide: e.nearSide ?? "exhaust" },
@@ -42,7 +42,7 @@ export function saveEngine(db: LocalDb, e: EngineArgs) {
 }
 
 export function deleteEngine(db: LocalDb, id: string) {
-  return record(db, "engine.delete/1", { id }, async () => {
+  return queueChange(db, "engine.delete/1", { id }, async () => {
     const cs = await db.checks.where("engineId").equals(id).primaryKeys();
     for (const c of cs) await db.readings.where("checkId").equals(c).delete();
     await db.checks.bulkDelete(cs);
@@ -86,8 +86,8 @@ export async function saveCheck(
     } satisfies LocalCheck);
   };
   // the server keeps the day as given, and so does the phone
-  if (madeAt) return record(db, "check.put/2", { ...args, startedAt: madeAt }, (a) => local(a, a.startedAt!));
-  return record(db, "check.put/1", args, (a) => local(a, existing?.startedAt ?? new Date().toISOString()));
+  if (madeAt) return queueChange(db, "check.put/2", { ...args, startedAt: madeAt }, (a) => local(a, a.startedAt!));
+  return queueChange(db, "check.put/1", args, (a) => local(a, existing?.startedAt ?? new Date().toISOString()));
 }
 
 export async function setCheckStatus(db: LocalDb, checkId: string, status: CheckStatus) {
@@ -106,7 +106,7 @@ export function saveReading(db: LocalDb, checkId: string, r: ReadingPatch) {
     round: r.round,
     ...Object.fromEntries(READING_VALUE_FIELDS.map((f) => [f, r[f]])),
   } as ReadingPatch;
-  return record(db, "reading.put/1", { checkId, reading } as MutationArgs<"reading.put/1">, async () => {
+  return queueChange(db, "reading.put/1", { checkId, reading } as MutationArgs<"reading.put/1">, async () => {
     await db.readings.put({ checkId, ...reading });
   });
 }
@@ -158,7 +158,7 @@ export function saveTrayItem(
   db: LocalDb,
   t: { id: string; size: number; measuredSize: boolean; count: number; shimDiameter?: number | null },
 ) {
-  return record(
+  return queueChange(
     db,
     "tray.put/1",
     { ...t, shimDiameter: t.shimDiameter ?? null } as MutationArgs<"tray.put/1">,
@@ -267,7 +267,7 @@ export function addComment(
   db: LocalDb,
   c: { id: string; checkId: string; authorId: string; body: string; valve: string | null },
 ) {
-  return record(
+  return queueChange(
     db,
     "comment.add/1",
     { id: c.id, checkId: c.checkId, body: c.body, valve: c.valve } as MutationArgs<"comment.add/1">,
@@ -286,22 +286,22 @@ export function addComment(
 
 /** A mentor's verdict on a share; only the outbox holds it until the server has it. */
 export function giveVerdict(db: LocalDb, shareId: string, verdict: MutationArgs<"verdict.set/1">["verdict"]) {
-  return record(db, "verdict.set/1", { shareId, verdict }, async () => undefined);
+  return queueChange(db, "verdict.set/1", { shareId, verdict }, async () => undefined);
 }
 
 /** Club pool changes: the server holds the pool, so only the outbox keeps them until the next sync. */
 export function offerToClub(db: LocalDb, o: MutationArgs<"pool.offer/1">) {
-  return record(db, "pool.offer/1", o, async () => undefined);
+  return queueChange(db, "pool.offer/1", o, async () => undefined);
 }
 
 export function withdrawOffer(db: LocalDb, id: string) {
-  return record(db, "pool.withdraw/1", { id }, async () => undefined);
+  return queueChange(db, "pool.withdraw/1", { id }, async () => undefined);
 }
 
 export function askToBorrow(db: LocalDb, b: MutationArgs<"borrow.ask/1">) {
-  return record(db, "borrow.ask/1", b, async () => undefined);
+  return queueChange(db, "borrow.ask/1", b, async () => undefined);
 }
 
 export function moveLoan(db: LocalDb, m: MutationArgs<"borrow.move/1">) {
-  return record(db, "borrow.move/1", m, async () => undefined);
+  return queueChange(db, "borrow.move/1", m, async () => undefined);
 }

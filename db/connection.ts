@@ -90,7 +90,7 @@ export function poolStats(): { inUse: number; idle: number; waiting: number; lim
   };
 }
 
-export function pool(): mysql.Pool {
+export function connectionPool(): mysql.Pool {
   if (!globalForDb.lashwrightPool) {
     const e = env();
     const p = mysql.createPool({
@@ -119,7 +119,7 @@ export function pool(): mysql.Pool {
 }
 
 function drizzleDb(): Drizzle {
-  if (!globalForDb.lashwrightDb) globalForDb.lashwrightDb = drizzle(pool(), { schema, mode: "default" });
+  if (!globalForDb.lashwrightDb) globalForDb.lashwrightDb = drizzle(connectionPool(), { schema, mode: "default" });
   return globalForDb.lashwrightDb;
 }
 
