@@ -8,8 +8,10 @@ import { poolForEngine, trayForEngine } from "@/lib/check/pool";
 
 // Hand-worked cases: lengths are decided in whole nanometres (toNm rounds to the nearest one; 1 mm is
 // 10^6 nm), so a clearance 0.6 nm past an edge is past it, 0.4 nm past it is on it, and sums of
-// decimals that a double gets wrong (0.1 + 0.2 = 0.30000000000000004) are the decimals they mean. The
+// decimals that a double gets wrong (0.1 + 0.2 = 0.30000000000000004: IEEE 754 binary64 rounding, as
+// ECMAScript specifies for Number) are the decimals they mean. The
 // planner decides the same way, so a card never says "tight" of a valve the plan leaves in band.
+// an illustrative band in mm for the arithmetic, not a particular engine's figure
 const BAND = { min: 0.1, max: 0.2 };
 
 describe("in band, decided in nanometres by the core", () => {
