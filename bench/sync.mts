@@ -4,19 +4,11 @@
 import mysql from "mysql2/promise";
 import { startBenchServer, type BenchServer } from "./server.mts";
 import { Client } from "../tests/support/api";
+import { ENGINE_FOUR } from "../tests/fixtures/engines";
 import { PUSH_BATCH } from "../lib/sync/mutations";
 import { say } from "./progress.mts";
 
-const ENGINE = {
-  name: "Bench four",
-  cylinders: 4,
-  intakePerCylinder: 2,
-  exhaustPerCylinder: 2,
-  firingOrder: [1, 3, 4, 2],
-  intake: { min: 0.1, max: 0.2 },
-  exhaust: { min: 0.2, max: 0.3 },
-  shims: { min: 2.5, max: 3.3, step: 0.05 },
-};
+const ENGINE = { ...ENGINE_FOUR, name: "Bench four" };
 const VALVES = [
   "I1.1",
   "I1.2",

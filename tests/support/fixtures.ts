@@ -32,13 +32,5 @@ export async function addMembership(clubId: string, userId: string, roles: strin
   await c.end();
 }
 
-export const ENGINE_FOUR = {
-  name: "Test four",
-  cylinders: 4,
-  intakePerCylinder: 2,
-  exhaustPerCylinder: 2,
-  firingOrder: [1, 3, 4, 2],
-  intake: { min: 0.1, max: 0.2 },
-  exhaust: { min: 0.2, max: 0.3 },
-  shims: { min: 2.5, max: 3.3, step: 0.05 },
-};
+// the invented four lives with the other plain fixtures (unit tests and the bench import it without a database)
+export { ENGINE_FOUR } from "../fixtures/engines";

@@ -6,47 +6,20 @@ import { readChecksCsv } from "@/lib/check/csv-import";
 import { checkPlan, valveViews } from "@/lib/check/derive";
 import { foundWords, shimWords, valveRounds } from "@/lib/check/rounds";
 import { loanWords, MOVE_WORDS, STATE_WORDS } from "@/lib/pool/rules";
-import type { LocalEngine, LocalReading } from "@/lib/sync/local-db";
+import { localEngine, localReading, oneValveEach } from "../../support/check-fixture";
 
 /**
  * Every value shown as precisely as it was entered or measured: a typed 0.075 mm as 0.075 (the plan
  * used 0.075: the screen must not say 0.08), a blade as its label, a micrometer to 0.001 mm. The
  * engine is invented test data (a twin, intake 0.10-0.20, exhaust 0.20-0.30, a 0.05 mm series).
  */
-const twin: LocalEngine = {
+const twin = localEngine({
   id: "0b6f5c2e-5555-4a4a-9a9a-000000000001",
-  name: "Test twin",
-  cylinders: 2,
-  intakePerCylinder: 1,
-  exhaustPerCylinder: 1,
-  firingOrder: [1, 2],
-  firingAngles: null,
-  timing: { ivo: 20, ivc: 50, evo: 50, evc: 20 },
-  intake: { min: 0.1, max: 0.2 },
-  exhaust: { min: 0.2, max: 0.3 },
-  measuredHot: false,
-  shims: { min: 2.5, max: 3.3, step: 0.05 },
-  shimDiameter: null,
+  ...oneValveEach("Test twin", [1, 2]),
   assembledShim: null,
-  displayUnit: "mm",
-  odometerUnit: "km",
-  mirrored: false,
   shimPosition: "over",
-  nearSide: "exhaust",
-};
-const r = (valve: string, extra: Partial<LocalReading>): LocalReading => ({
-  checkId: "c",
-  valve,
-  round: 0,
-  installedStamp: 2.6,
-  installedMicrometer: null,
-  feelerGo: null,
-  feelerNoGo: null,
-  measured: null,
-  method: "feeler",
-  fittedShim: null,
-  ...extra,
 });
+const r = localReading;
 
 describe("lengths as they were given", () => {
   it("a typed 0.075 mm stays 0.075; blades keep their two places; a micrometer reading its three", () => {

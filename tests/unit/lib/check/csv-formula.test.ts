@@ -4,42 +4,11 @@ import Papa from "papaparse";
 import { describe, expect, it } from "vitest";
 import { checkCsv, defuseFormula } from "@/lib/check/csv";
 import { valveViews } from "@/lib/check/derive";
-import type { LocalEngine, LocalReading } from "@/lib/sync/local-db";
+import { feelerReading, localEngine } from "../../support/check-fixture";
 
 // An invented four (test data, not trade data), as in csv.test.ts.
-const four: LocalEngine = {
-  id: "0b6f5c2e-2222-4a4a-9a9a-000000000001",
-  name: "Test four",
-  cylinders: 4,
-  intakePerCylinder: 2,
-  exhaustPerCylinder: 2,
-  firingOrder: [1, 3, 4, 2],
-  firingAngles: null,
-  timing: { ivo: 20, ivc: 50, evo: 50, evc: 20 },
-  intake: { min: 0.1, max: 0.2 },
-  exhaust: { min: 0.2, max: 0.3 },
-  measuredHot: false,
-  shims: { min: 2.5, max: 3.3, step: 0.05 },
-  shimDiameter: null,
-  assembledShim: 2.6,
-  displayUnit: "mm",
-  odometerUnit: "km",
-  mirrored: false,
-  shimPosition: "over",
-  nearSide: "exhaust",
-};
-const reading: LocalReading = {
-  checkId: "c",
-  valve: "I1.1",
-  round: 0,
-  installedStamp: 2.6,
-  installedMicrometer: null,
-  feelerGo: 0.15,
-  feelerNoGo: null,
-  measured: 0.15,
-  method: "feeler",
-  fittedShim: null,
-};
+const four = localEngine({ shimPosition: "over" });
+const reading = feelerReading("I1.1", 2.6, 0.15);
 const views = valveViews(four, [reading], () => 2.6);
 const engineCell = (engine: string) => {
   const csv = checkCsv({ engine, odometer: 1, odometerUnit: "km", date: "2026-05-30" }, views, null);

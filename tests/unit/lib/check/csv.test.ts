@@ -5,50 +5,14 @@ import { checkCsv, csvFileName, decimalsFor } from "@/lib/check/csv";
 import { readChecksCsv } from "@/lib/check/csv-import";
 import { checkPlan, valveViews } from "@/lib/check/derive";
 import { engineHistory } from "@/lib/check/history";
-import { openLocalDb, type LocalEngine, type LocalReading } from "@/lib/sync/local-db";
+import { openLocalDb } from "@/lib/sync/local-db";
 import { importChecks } from "@/lib/sync/save";
+import { feelerReading, localEngine } from "../../support/check-fixture";
 
 // An invented four (test data, not trade data): 2 intakes and 2 exhausts per cylinder, intake
 // 0.10-0.20, exhaust 0.20-0.30, a 0.05 mm series from 2.50 to 3.30.
-const four: LocalEngine = {
-  id: "0b6f5c2e-2222-4a4a-9a9a-000000000001",
-  name: "Test four",
-  cylinders: 4,
-  intakePerCylinder: 2,
-  exhaustPerCylinder: 2,
-  firingOrder: [1, 3, 4, 2],
-  firingAngles: null,
-  timing: { ivo: 20, ivc: 50, evo: 50, evc: 20 },
-  intake: { min: 0.1, max: 0.2 },
-  exhaust: { min: 0.2, max: 0.3 },
-  measuredHot: false,
-  shims: { min: 2.5, max: 3.3, step: 0.05 },
-  shimDiameter: null,
-  assembledShim: 2.6,
-  displayUnit: "mm",
-  odometerUnit: "km",
-  mirrored: false,
-  shimPosition: null,
-  nearSide: "exhaust",
-};
-const reading = (
-  valve: string,
-  installed: number,
-  measured: number,
-  extra: Partial<LocalReading> = {},
-): LocalReading => ({
-  checkId: "c",
-  valve,
-  round: 0,
-  installedStamp: installed,
-  installedMicrometer: null,
-  feelerGo: measured,
-  feelerNoGo: null,
-  measured,
-  method: "feeler",
-  fittedShim: null,
-  ...extra,
-});
+const four = localEngine();
+const reading = feelerReading;
 const TODAY = "2026-12-02";
 const rowsOf = (csv: string) => Papa.parse<Record<string, string>>(csv.trim(), { header: true }).data;
 

@@ -2,30 +2,16 @@ import { describe, expect, it } from "vitest";
 import { linearRegression } from "simple-statistics";
 import { engineHistory } from "@/lib/check/history";
 import { valveViews, checkPlan } from "@/lib/check/derive";
-import type { LocalCheck, LocalEngine, LocalReading } from "@/lib/sync/local-db";
+import type { LocalCheck } from "@/lib/sync/local-db";
+import { feelerReading, localEngine, oneValveEach } from "../../support/check-fixture";
 
 // An invented single (test data, not trade data): intake 0.10-0.15, exhaust 0.15-0.20, 0.05 series.
-const engine: LocalEngine = {
+const engine = localEngine({
   id: "e1",
-  name: "Test single",
-  cylinders: 1,
-  intakePerCylinder: 1,
-  exhaustPerCylinder: 1,
-  firingOrder: [1],
-  firingAngles: null,
-  timing: { ivo: 20, ivc: 50, evo: 50, evc: 20 },
+  ...oneValveEach("Test single", [1]),
   intake: { min: 0.1, max: 0.15 },
   exhaust: { min: 0.15, max: 0.2 },
-  measuredHot: false,
-  shims: { min: 2.5, max: 3.3, step: 0.05 },
-  shimDiameter: null,
-  assembledShim: 2.6,
-  displayUnit: "mm",
-  odometerUnit: "km",
-  mirrored: false,
-  shimPosition: null,
-  nearSide: "exhaust",
-};
+});
 const check = (id: string, odometer: number): LocalCheck => ({
   id,
   engineId: "e1",
@@ -43,18 +29,7 @@ const reading = (
   measured: number,
   round = 0,
   fittedShim: number | null = null,
-): LocalReading => ({
-  checkId,
-  valve,
-  round,
-  installedStamp: installed,
-  installedMicrometer: null,
-  feelerGo: measured,
-  feelerNoGo: null,
-  measured,
-  method: "feeler",
-  fittedShim,
-});
+) => feelerReading(valve, installed, measured, { checkId, round, fittedShim });
 
 describe("engine history", () => {
   it("tracks the gap across a shim change and fits the same line as simple-statistics", () => {

@@ -1,30 +1,16 @@
 import { describe, expect, it } from "vitest";
 import { lastShims, previousCheck } from "@/lib/check/previous";
 import { openValves, recheckValves, valveViews } from "@/lib/check/derive";
-import type { LocalEngine, LocalReading } from "@/lib/sync/local-db";
+import type { LocalReading } from "@/lib/sync/local-db";
+import { feelerReading, localEngine, oneValveEach } from "../../support/check-fixture";
 
 // An invented twin (test data, not trade data): intake 0.10-0.15, exhaust 0.15-0.20, 0.05 series.
-const engine: LocalEngine = {
+const engine = localEngine({
   id: "e1",
-  name: "Test twin",
-  cylinders: 2,
-  intakePerCylinder: 1,
-  exhaustPerCylinder: 1,
-  firingOrder: [1, 2],
-  firingAngles: null,
-  timing: { ivo: 20, ivc: 50, evo: 50, evc: 20 },
+  ...oneValveEach("Test twin", [1, 2]),
   intake: { min: 0.1, max: 0.15 },
   exhaust: { min: 0.15, max: 0.2 },
-  measuredHot: false,
-  shims: { min: 2.5, max: 3.3, step: 0.05 },
-  shimDiameter: null,
-  assembledShim: 2.6,
-  displayUnit: "mm",
-  odometerUnit: "km",
-  mirrored: false,
-  shimPosition: null,
-  nearSide: "exhaust",
-};
+});
 const r = (
   valve: string,
   round: number,
@@ -32,18 +18,7 @@ const r = (
   measured: number | null,
   fittedShim: number | null = null,
   installedMicrometer: number | null = null,
-): LocalReading => ({
-  checkId: "c",
-  valve,
-  round,
-  installedStamp,
-  installedMicrometer,
-  feelerGo: measured,
-  feelerNoGo: null,
-  measured,
-  method: "feeler",
-  fittedShim,
-});
+) => feelerReading(valve, installedStamp, measured, { round, fittedShim, installedMicrometer });
 const states = (rs: LocalReading[]) => valveViews(engine, rs, () => 2.6);
 
 describe("the previous check's shims", () => {

@@ -15,29 +15,10 @@ import {
 } from "@/lib/export/schema";
 import { phoneExport } from "@/lib/export/offline";
 import { openLocalDb } from "@/lib/sync/local-db";
+import { feelerReading, localEngine } from "../../support/check-fixture";
 
 // A four-cylinder, 16-valve profile: bands 0.10-0.20 / 0.20-0.30 mm, shims 2.50-3.30 by 0.05 (common practice).
-const ENGINE = {
-  id: "11111111-1111-4111-8111-111111111111",
-  name: "Test four",
-  cylinders: 4,
-  intakePerCylinder: 2,
-  exhaustPerCylinder: 2,
-  firingOrder: [1, 3, 4, 2],
-  firingAngles: null,
-  timing: { ivo: 20, ivc: 50, evo: 50, evc: 20 },
-  intake: { min: 0.1, max: 0.2 },
-  exhaust: { min: 0.2, max: 0.3 },
-  measuredHot: false,
-  shims: { min: 2.5, max: 3.3, step: 0.05 },
-  shimDiameter: null,
-  assembledShim: null,
-  displayUnit: "mm" as const,
-  odometerUnit: "km" as const,
-  mirrored: false,
-  shimPosition: "over" as const,
-  nearSide: "exhaust" as const,
-};
+const ENGINE = localEngine({ id: "11111111-1111-4111-8111-111111111111", assembledShim: null, shimPosition: "over" });
 const CHECK = {
   id: "22222222-2222-4222-8222-222222222222",
   engineId: ENGINE.id,
@@ -50,16 +31,7 @@ const CHECK = {
 };
 // a tight intake read with blades (0.05 go, 0.08 no-go), its shim by micrometer: from memory
 const READING = {
-  checkId: CHECK.id,
-  valve: "I1.1",
-  round: 0,
-  installedStamp: 2.8,
-  installedMicrometer: 2.79,
-  feelerGo: 0.05,
-  feelerNoGo: 0.08,
-  measured: 0.05,
-  method: "feeler" as const,
-  fittedShim: null,
+  ...feelerReading("I1.1", 2.8, 0.05, { checkId: CHECK.id, installedMicrometer: 2.79, feelerNoGo: 0.08 }),
   fittedAt: null,
   found: { clearance: "blade" as const, shim: "micrometer" as const },
 };

@@ -6,20 +6,11 @@ import { openLocalDb, getMeta } from "@/lib/sync/local-db";
 import { beginFit, saveCheck, saveEngine, saveReading, setTurned, toggleFitTask, toggleSwap } from "@/lib/sync/save";
 import { valvesOfMoves, workOrderKey, type WorkOrderState } from "@/lib/check/fit";
 import type { ShimMove } from "@/lib/lash";
+import { ENGINE_FOUR } from "../../../fixtures/engines";
 
 // An invented four (test data): bands and series are placeholders, not trade data.
 const id = "0b6f5c2e-3333-4a4a-9a9a-000000000001";
-const FOUR = {
-  id,
-  name: "Test four",
-  cylinders: 4,
-  intakePerCylinder: 2,
-  exhaustPerCylinder: 2,
-  firingOrder: [1, 3, 4, 2],
-  intake: { min: 0.1, max: 0.2 },
-  exhaust: { min: 0.2, max: 0.3 },
-  shims: { min: 2.5, max: 3.3, step: 0.05 },
-};
+const FOUR = { id, ...ENGINE_FOUR };
 
 describe("engine mutations: the shape an older phone sent still means what it meant", () => {
   it('"engine.put/1" accepts the first shape, and drops where the shims sit if it is sent there', () => {
