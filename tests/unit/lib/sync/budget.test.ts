@@ -1,9 +1,10 @@
 import "fake-indexeddb/auto";
 import { describe, expect, it } from "vitest";
 import { openLocalDb, getMeta, type LocalDb } from "@/lib/sync/local-db";
-import { queueChange, waitingCount } from "@/lib/sync/outbox";
+import { waitingCount } from "@/lib/sync/outbox";
 import { PUSH_BATCH } from "@/lib/sync/mutations";
 import { Offline, ServerBusy, syncOnce } from "@/lib/sync/phone-sync";
+import { EMPTY_PAGE, queueReading } from "../../support/phone-sync";
 
 /**
  * The phone against a server that applies a budget (server/sync.ts) and pages its pull
@@ -13,28 +14,9 @@ import { Offline, ServerBusy, syncOnce } from "@/lib/sync/phone-sync";
 const checkId = "0b6f5c2e-3333-4a4a-9a9a-000000000003";
 
 async function addReadings(db: LocalDb, n: number) {
-  for (let i = 0; i < n; i++) {
-    const reading = {
-      valve: `I${(i % 4) + 1}.${(i % 2) + 1}`,
-      round: i % 50,
-      feelerGo: 0.1,
-      method: "feeler" as const,
-    };
-    await queueChange(db, "reading.put/1", { checkId, reading } as never, async () => {
-      await db.readings.put({
-        checkId,
-        installedStamp: null,
-        installedMicrometer: null,
-        feelerNoGo: null,
-        measured: 0.1,
-        fittedShim: null,
-        ...reading,
-      });
-    });
-  }
+  for (let i = 0; i < n; i++)
+    await queueReading(db, checkId, { valve: `I${(i % 4) + 1}.${(i % 2) + 1}`, round: i % 50, feelerGo: 0.1 });
 }
-
-const emptyPage = { engines: [], checks: [], readings: [], tray: [], comments: [], tombstones: [] };
 
 /** A push that takes `budget` mutations, then answers 429 with Retry-After until given more. */
 function budgetedServer(budget: number) {
@@ -47,7 +29,7 @@ function budgetedServer(budget: number) {
     const body = JSON.parse(String(init.body));
     if (url.endsWith("/api/sync/pull")) {
       pulls++;
-      return Response.json({ cursor: "o:1", more: false, ...emptyPage });
+      return Response.json({ cursor: "o:1", more: false, ...EMPTY_PAGE });
     }
     const ms = body.mutations as { id: number }[];
     pushSizes.push(ms.length);
@@ -112,7 +94,7 @@ describe("the pull in pages, from the phone", () => {
         shimDiameter: null,
       }));
       const more = end < total;
-      return Response.json({ ...emptyPage, tray, cursor: more ? `o:1:3:${end}` : "o:9", more });
+      return Response.json({ ...EMPTY_PAGE, tray, cursor: more ? `o:1:3:${end}` : "o:9", more });
     };
     return { fetcher, asked, failOn: (n: number) => (failOn = n) };
   }

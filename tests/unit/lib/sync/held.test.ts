@@ -1,26 +1,14 @@
 import "fake-indexeddb/auto";
 import { describe, expect, it } from "vitest";
 import { openLocalDb, type LocalDb } from "@/lib/sync/local-db";
-import { queueChange, waitingCount } from "@/lib/sync/outbox";
+import { waitingCount } from "@/lib/sync/outbox";
 import { discardHeld, heldEntries, pushAll, retryHeld } from "@/lib/sync/phone-sync";
+import { queueReading } from "../../support/phone-sync";
 
 const checkId = "0b6f5c2e-1111-4a4a-9a9a-000000000002";
 
 async function addReadings(db: LocalDb, valves: string[]) {
-  for (const valve of valves) {
-    const reading = { valve, round: 0, feelerGo: 0.15, method: "feeler" as const };
-    await queueChange(db, "reading.put/1", { checkId, reading } as never, async () => {
-      await db.readings.put({
-        checkId,
-        installedStamp: null,
-        installedMicrometer: null,
-        feelerNoGo: null,
-        measured: 0.15,
-        fittedShim: null,
-        ...reading,
-      });
-    });
-  }
+  for (const valve of valves) await queueReading(db, checkId, { valve, round: 0, feelerGo: 0.15 });
 }
 
 const valveOf = (args: unknown) => (args as { reading: { valve: string } }).reading.valve;

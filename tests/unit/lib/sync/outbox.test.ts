@@ -4,6 +4,7 @@ import { LashInputError } from "@/lib/lash";
 import { openLocalDb, type LocalDb } from "@/lib/sync/local-db";
 import { queueChange, waitingCount } from "@/lib/sync/outbox";
 import { pushAll, SignedOut, syncOnce } from "@/lib/sync/phone-sync";
+import { EMPTY_PAGE, queueReading } from "../../support/phone-sync";
 
 const checkId = "0b6f5c2e-1111-4a4a-9a9a-000000000001";
 
@@ -12,25 +13,12 @@ function freshDb(): LocalDb {
 }
 
 async function addReadings(db: LocalDb, n: number) {
-  for (let i = 0; i < n; i++) {
-    const reading = {
+  for (let i = 0; i < n; i++)
+    await queueReading(db, checkId, {
       valve: `I${(i % 4) + 1}.${(i % 2) + 1}`,
       round: Math.floor(i / 8) % 50,
       feelerGo: 0.1 + (i % 300) / 1000,
-      method: "feeler" as const,
-    };
-    await queueChange(db, "reading.put/1", { checkId, reading } as never, async () => {
-      await db.readings.put({
-        checkId,
-        installedStamp: null,
-        installedMicrometer: null,
-        feelerNoGo: null,
-        measured: reading.feelerGo,
-        fittedShim: null,
-        ...reading,
-      });
     });
-  }
 }
 
 /**
@@ -50,16 +38,7 @@ function fakeServer() {
       });
     if (mode === "500") return new Response("{}", { status: 500 });
     const body = JSON.parse(String(init.body));
-    if (url.endsWith("/api/sync/pull"))
-      return Response.json({
-        cursor: 1,
-        engines: [],
-        checks: [],
-        readings: [],
-        tray: [],
-        comments: [],
-        tombstones: [],
-      });
+    if (url.endsWith("/api/sync/pull")) return Response.json({ cursor: 1, ...EMPTY_PAGE });
     let l = last.get(body.clientId) ?? 0;
     for (const m of body.mutations as { id: number }[]) {
       if (m.id <= l) continue;

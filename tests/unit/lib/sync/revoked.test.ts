@@ -1,9 +1,10 @@
 import "fake-indexeddb/auto";
 import { describe, expect, it } from "vitest";
 import { getMeta, openLocalDb, setMeta, type LocalDb } from "@/lib/sync/local-db";
-import { queueChange, waitingCount } from "@/lib/sync/outbox";
+import { waitingCount } from "@/lib/sync/outbox";
 import { queuePhoto } from "@/lib/sync/photos";
 import { SessionRevoked, SignedOut, syncOnce } from "@/lib/sync/phone-sync";
+import { EMPTY_PAGE, queueReading } from "../../support/phone-sync";
 
 /**
  * A phone whose session was ended elsewhere (issue 24, item 12: a sign-out everywhere or a new
@@ -15,27 +16,7 @@ const checkId = "0b6f5c2e-2222-4a4a-9a9a-000000000002";
 const jpeg = () => new Blob([new Uint8Array([0xff, 0xd8, 0xff])], { type: "image/jpeg" });
 const answer401 = (code: string) => async () => Response.json({ error: { code, message: "Sign in" } }, { status: 401 });
 
-async function reading(db: LocalDb, valve: string) {
-  await queueChange(
-    db,
-    "reading.put/1",
-    { checkId, reading: { valve, round: 0, feelerGo: 0.15, method: "feeler" } } as never,
-    async () => {
-      await db.readings.put({
-        checkId,
-        valve,
-        round: 0,
-        installedStamp: null,
-        installedMicrometer: null,
-        feelerGo: 0.15,
-        feelerNoGo: null,
-        measured: 0.15,
-        fittedShim: null,
-        method: "feeler",
-      });
-    },
-  );
-}
+const reading = (db: LocalDb, valve: string) => queueReading(db, checkId, { valve, round: 0, feelerGo: 0.15 });
 
 /** A phone that synced before: records, a sent photo, a cursor; then two readings and a photo made offline. */
 async function phoneWithCopy(userId: string) {
@@ -130,12 +111,8 @@ describe("a session ended elsewhere wipes the phone's copy at its next sync", ()
       pullCursor = body.cursor;
       return Response.json({
         cursor: "c2",
+        ...EMPTY_PAGE,
         engines: [{ id: engineId, name: "Blue four" }],
-        checks: [],
-        readings: [],
-        tray: [],
-        comments: [],
-        tombstones: [],
       });
     };
     await syncOnce(again, server as never);

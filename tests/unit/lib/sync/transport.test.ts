@@ -1,36 +1,18 @@
 import "fake-indexeddb/auto";
 import { describe, expect, it } from "vitest";
 import { openLocalDb } from "@/lib/sync/local-db";
-import { queueChange, waitingCount } from "@/lib/sync/outbox";
+import { waitingCount } from "@/lib/sync/outbox";
 import { queuePhoto } from "@/lib/sync/photos";
 import { getMeta } from "@/lib/sync/local-db";
 import { Offline, retryAfterMs, retryDelay, ServerBusy, syncOnce } from "@/lib/sync/phone-sync";
 import { postJson, send } from "@/lib/sync/transport";
+import { EMPTY_PAGE, queueReading } from "../../support/phone-sync";
 
 const checkId = "0b6f5c2e-2222-4a4a-9a9a-000000000002";
-const emptyPull = { cursor: 7, engines: [], checks: [], readings: [], tray: [], comments: [], tombstones: [] };
+const emptyPull = { cursor: 7, ...EMPTY_PAGE };
 
-async function oneReading(db: ReturnType<typeof openLocalDb>) {
-  await queueChange(
-    db,
-    "reading.put/1",
-    { checkId, reading: { valve: "I1.1", round: 0, feelerGo: 0.15, method: "feeler" } } as never,
-    async () => {
-      await db.readings.put({
-        checkId,
-        valve: "I1.1",
-        round: 0,
-        installedStamp: null,
-        installedMicrometer: null,
-        feelerGo: 0.15,
-        feelerNoGo: null,
-        measured: 0.15,
-        fittedShim: null,
-        method: "feeler",
-      });
-    },
-  );
-}
+const oneReading = (db: ReturnType<typeof openLocalDb>) =>
+  queueReading(db, checkId, { valve: "I1.1", round: 0, feelerGo: 0.15 });
 
 describe("the phone's transport", () => {
   it("calls only a request with no answer offline", async () => {
