@@ -14,7 +14,7 @@ import { CHROMIUM_ARGS, PHONE } from "../tests/support/browser";
 import { firstVisitJs, WEIGHED_PAGES } from "../tests/support/page-weight";
 import { Client } from "../tests/support/api";
 import { ENGINE_FOUR } from "../tests/support/fixtures";
-import type { BenchServer } from "./server.mts";
+import { waitForPage, type BenchServer } from "./server.mts";
 import { say } from "./progress.mts";
 
 const CHROMIUM = process.env.CHROMIUM_PATH ?? "/usr/bin/chromium";
@@ -59,15 +59,7 @@ export async function startBarePage() {
     stdio: "ignore",
   });
   const url = `http://127.0.0.1:${port}`;
-  for (
-    let i = 0;
-    i < 200 &&
-    !(await fetch(url)
-      .then((r) => r.ok)
-      .catch(() => false));
-    i++
-  )
-    await new Promise((r) => setTimeout(r, 150));
+  await waitForPage(url);
   return {
     url,
     stop: async () => {

@@ -15,6 +15,19 @@ export interface BenchServer {
   stop(): Promise<void>;
 }
 
+/** Waits (up to 200 tries, 150 ms apart) until `next start` at url answers its home page with 2xx. */
+export async function waitForPage(url: string) {
+  for (
+    let i = 0;
+    i < 200 &&
+    !(await fetch(url)
+      .then((r) => r.ok)
+      .catch(() => false));
+    i++
+  )
+    await new Promise((r) => setTimeout(r, 150));
+}
+
 /** distDir: another build beside the usual one (LASHWRIGHT_DIST_DIR), served from its own database */
 export async function startBenchServer({ distDir = ".next" } = {}): Promise<BenchServer> {
   if (!existsSync(path.join(root, distDir, "BUILD_ID")))
@@ -55,15 +68,7 @@ export async function startBenchServer({ distDir = ".next" } = {}): Promise<Benc
       { cwd: root, env: { ...process.env, ...env, NODE_ENV: "production", NEXTAUTH_URL: url }, stdio: "ignore" },
     );
     stops.push(() => stopChild(server, { graceMs: 4000 }));
-    for (
-      let i = 0;
-      i < 200 &&
-      !(await fetch(url)
-        .then((r) => r.ok)
-        .catch(() => false));
-      i++
-    )
-      await new Promise((r) => setTimeout(r, 150));
+    await waitForPage(url);
     const makeUser = async (tag: string) => {
       const c = await mysql.createConnection({ uri: db.url });
       const id = crypto.randomUUID();
