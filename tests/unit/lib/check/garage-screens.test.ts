@@ -5,6 +5,7 @@ import { bladeStrip, noGoOf } from "@/lib/check/blades";
 import { measuringOrder } from "@/lib/check/measuring";
 import { shimWords, valveRounds } from "@/lib/check/rounds";
 import { trayForEngine } from "@/lib/check/pool";
+import { feelerReading } from "../../support/check-fixture";
 
 const LEFT = { mirrored: false, nearSide: "exhaust" } as const;
 const views = (cylinders: number, i: number, e: number) =>
@@ -75,32 +76,9 @@ describe("the measuring order", () => {
       timing: undefined,
     });
     expect(o.positions).toHaveLength(2);
-    expect(o.stops.map((s) => s.valveId)).toEqual([
-      "I1.1",
-      "I1.2",
-      "I2.1",
-      "I2.2",
-      "I4.1",
-      "I4.2",
-      "E1.1",
-      "E1.2",
-      "E3.1",
-      "E3.2",
-      "E5.1",
-      "E5.2",
-      "I3.1",
-      "I3.2",
-      "I5.1",
-      "I5.2",
-      "I6.1",
-      "I6.2",
-      "E2.1",
-      "E2.2",
-      "E4.1",
-      "E4.2",
-      "E6.1",
-      "E6.2",
-    ]);
+    const atTdc1 = "I1.1 I1.2 I2.1 I2.2 I4.1 I4.2 E1.1 E1.2 E3.1 E3.2 E5.1 E5.2";
+    const atTdc6 = "I3.1 I3.2 I5.1 I5.2 I6.1 I6.2 E2.1 E2.2 E4.1 E4.2 E6.1 E6.2";
+    expect(o.stops.map((s) => s.valveId)).toEqual([...atTdc1.split(" "), ...atTdc6.split(" ")]);
   });
 });
 
@@ -109,28 +87,8 @@ describe("a valve's rounds for the reviewer", () => {
     expect(shimWords({ installedStamp: 2.8, installedMicrometer: 2.78 })).toBe("2.80 stamp, 2.780 micrometer");
     const rounds = valveRounds(
       [
-        {
-          valve: "I1.1",
-          round: 1,
-          installedStamp: 2.7,
-          installedMicrometer: null,
-          feelerGo: 0.13,
-          feelerNoGo: 0.15,
-          measured: 0.13,
-          method: "feeler",
-          fittedShim: null,
-        },
-        {
-          valve: "I1.1",
-          round: 0,
-          installedStamp: 2.8,
-          installedMicrometer: 2.78,
-          feelerGo: 0.05,
-          feelerNoGo: 0.06,
-          measured: 0.05,
-          method: "feeler",
-          fittedShim: 2.7,
-        },
+        feelerReading("I1.1", 2.7, 0.13, { round: 1, feelerNoGo: 0.15 }),
+        feelerReading("I1.1", 2.8, 0.05, { installedMicrometer: 2.78, feelerNoGo: 0.06, fittedShim: 2.7 }),
       ],
       "I1.1",
       "mm",
