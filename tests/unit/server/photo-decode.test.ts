@@ -25,17 +25,14 @@ function chunk(type: string, data: Buffer) {
 }
 /** A PNG header of width x height (8-bit RGB, PNG specification section 11.2.2) over two rows of data: a few hundred bytes. */
 function pngHeader(width: number, height: number) {
-  const ihdr = Buffer.alloc(13);
-  ihdr.writeUInt32BE(width, 0);
-  ihdr.writeUInt32BE(height, 4);
-  ihdr[8] = 8;
-  ihdr[9] = 2;
-  return Buffer.concat([
-    Buffer.from([137, 80, 78, 71, 13, 10, 26, 10]),
-    chunk("IHDR", ihdr),
-    chunk("IDAT", zlib.deflateSync(Buffer.alloc(2 * (1 + width * 3)))),
-    chunk("IEND", Buffer.alloc(0)),
-  ]);
+  const size = Buffer.alloc(8);
+  size.writeUInt32BE(width, 0);
+  size.writeUInt32BE(height, 4);
+  // then 8 bits a sample, colour type 2 (RGB), deflate, adaptive filtering, no interlace
+  const ihdr = Buffer.concat([size, Buffer.from([8, 2, 0, 0, 0])]);
+  const signature = Buffer.from([137, 80, 78, 71, 13, 10, 26, 10]);
+  const twoRows = zlib.deflateSync(Buffer.alloc(2 * (1 + width * 3)));
+  return Buffer.concat([signature, chunk("IHDR", ihdr), chunk("IDAT", twoRows), chunk("IEND", Buffer.alloc(0))]);
 }
 
 const kindOf = (p: Promise<unknown>) =>
