@@ -32,15 +32,38 @@ describe("Student's t table", () => {
 });
 
 describe("drift verdicts", () => {
-  it("two checks never make a trend, however far apart (the case that cried wolf: 0.05 to 0.07 mm)", () => {
-    const d = driftProjection({
+  // readings that hold no trend: the verdict says why, and no range for the lower edge is drawn
+  for (const { name, points, verdict } of [
+    {
+      name: "two checks never make a trend, however far apart (the case that cried wolf: 0.05 to 0.07 mm)",
       points: [at(20_000, 2.6, 0.25), at(45_000, 2.6, 0.18)],
-      lowerLimit: 0.2,
-      resolution: 0.025,
+      verdict: "few-checks",
+    },
+    {
+      name: "a valve that stays put: readings a blade step apart either way, no trend and no projection",
+      // gaps 2.85, 2.87, 2.85, 2.87 over 30,000 km: the line moves 0.012 mm, under one 0.025 mm step
+      points: [at(0, 2.6, 0.25), at(10_000, 2.6, 0.27), at(20_000, 2.6, 0.25), at(30_000, 2.6, 0.27)],
+      verdict: "steady",
+    },
+    {
+      name: "a noisy valve: it seems to move, but the scatter is larger than the move; no trend claimed",
+      // gaps 2.85, 2.95, 2.78, 2.90, 2.76: the line falls 0.04 mm over 40,000 km (more than a 0.025 step)
+      // but the residuals are several steps wide, so the slope's 95% range spans zero
+      points: [
+        at(0, 2.6, 0.25),
+        at(10_000, 2.6, 0.35),
+        at(20_000, 2.6, 0.18),
+        at(30_000, 2.6, 0.3),
+        at(40_000, 2.6, 0.16),
+      ],
+      verdict: "unclear",
+    },
+  ])
+    it(name, () => {
+      const d = driftProjection({ points, lowerLimit: 0.2, resolution: 0.025 });
+      expect(d.verdict).toBe(verdict);
+      expect(d.limitRange).toBeNull();
     });
-    expect(d.verdict).toBe("few-checks");
-    expect(d.limitRange).toBeNull();
-  });
 
   it("three checks within a short distance make no trend", () => {
     const d = driftProjection({
@@ -49,17 +72,6 @@ describe("drift verdicts", () => {
       minSpan: 2000,
     });
     expect(d).toMatchObject({ verdict: "short-distance", checks: 3, span: 1200 });
-  });
-
-  it("a valve that stays put: readings a blade step apart either way, no trend and no projection", () => {
-    // gaps 2.85, 2.87, 2.85, 2.87 over 30,000 km: the line moves 0.012 mm, under one 0.025 mm step
-    const d = driftProjection({
-      points: [at(0, 2.6, 0.25), at(10_000, 2.6, 0.27), at(20_000, 2.6, 0.25), at(30_000, 2.6, 0.27)],
-      lowerLimit: 0.2,
-      resolution: 0.025,
-    });
-    expect(d.verdict).toBe("steady");
-    expect(d.limitRange).toBeNull();
   });
 
   it("a valve that closes steadily: a trend, and a range for the lower edge that holds the fitted point", () => {
@@ -85,24 +97,6 @@ describe("drift verdicts", () => {
     expect(d.limitRange!.to).toBeCloseTo((20 + -0.15 / (-0.005 + half)) * 1000, 0);
     expect(d.limitRange!.from).toBeLessThan(50_000);
     expect(d.limitRange!.to!).toBeGreaterThan(50_000);
-  });
-
-  it("a noisy valve: it seems to move, but the scatter is larger than the move; no trend claimed", () => {
-    // gaps 2.85, 2.95, 2.78, 2.90, 2.76: the line falls 0.04 mm over 40,000 km (more than a 0.025 step)
-    // but the residuals are several steps wide, so the slope's 95% range spans zero
-    const d = driftProjection({
-      points: [
-        at(0, 2.6, 0.25),
-        at(10_000, 2.6, 0.35),
-        at(20_000, 2.6, 0.18),
-        at(30_000, 2.6, 0.3),
-        at(40_000, 2.6, 0.16),
-      ],
-      lowerLimit: 0.2,
-      resolution: 0.025,
-    });
-    expect(d.verdict).toBe("unclear");
-    expect(d.limitRange).toBeNull();
   });
 
   it("only a real closing trend is called a job for the head", () => {
