@@ -1,15 +1,14 @@
 import { describe, expect, it } from "vitest";
 import fc from "fast-check";
-import { planShims, samePlan, shimSeries, type PlanValve } from "@/lib/lash";
+import { planShims, samePlan } from "@/lib/lash";
 import { bruteForce, score } from "../../../support/plan-oracle";
+import { series, valvesOf, randomValves, randomPool } from "../../support/plan-fixture";
 
 /**
  * Each lender the plan borrows from is a trip (to collect the shims and to give them back), counted
  * like one bought shim; among plans even on that, the one with fewer lenders. Shim arithmetic as in
  * docs/trade.md (new shim = installed + measured - target; common practice). The engine is invented.
  */
-const series = shimSeries(2.5, 3.3, 0.05);
-const spec = { min: 0.2, max: 0.3 };
 
 describe("the planner counts lenders as trips", () => {
   it("buys one shim rather than borrowing four from two lenders (worked by hand)", () => {
@@ -22,12 +21,12 @@ describe("the planner counts lenders as trips", () => {
     //   (c) buy all four:         4 bought             = 4
     //   (d) 1 from B, buy three:  3 bought + 1 lender  = 4
     // Landing: I1-I3 at 0.25 and I4 at 0.20 in (a) and (b) alike, so both aims give (b).
-    const valves: PlanValve[] = [
-      { id: "I1", installed: 2.6, measured: 0.4, spec },
-      { id: "I2", installed: 2.6, measured: 0.4, spec },
-      { id: "I3", installed: 2.6, measured: 0.4, spec },
-      { id: "I4", installed: 2.6, measured: 0.1, spec },
-    ];
+    const valves = valvesOf([
+      ["I1", 2.6, 0.4],
+      ["I2", 2.6, 0.4],
+      ["I3", 2.6, 0.4],
+      ["I4", 2.6, 0.1],
+    ]);
     const pool = [
       { size: 2.75, count: 3, ownerId: "A" },
       { size: 2.5, count: 1, ownerId: "B" },
@@ -47,7 +46,7 @@ describe("the planner counts lenders as trips", () => {
 
   it("still borrows from a second lender when that lands a valve nearer the target, and the aims then differ", () => {
     // I1: 2.60 + 0.10 = 2.70 of gap; the series' 2.50 gives 0.20 (0.05 from target); B's 2.45 gives 0.25
-    const valves: PlanValve[] = [{ id: "I1", installed: 2.6, measured: 0.1, spec }];
+    const valves = valvesOf([["I1", 2.6, 0.1]]);
     const pool = [{ size: 2.45, count: 1, ownerId: "B" }];
     const fewest = planShims({ valves, sizes: series, pool });
     const nearest = planShims({ valves, sizes: series, pool, aim: "nearest-target" });
@@ -59,31 +58,10 @@ describe("the planner counts lenders as trips", () => {
 
   it("matches exhaustive search with three lenders", () => {
     fc.assert(
-      fc.property(
-        fc.array(fc.record({ i: fc.integer({ min: 0, max: 16 }), um: fc.integer({ min: 20, max: 500 }) }), {
-          minLength: 1,
-          maxLength: 5,
-        }),
-        fc.array(
-          fc.record({
-            i: fc.integer({ min: 0, max: 16 }),
-            count: fc.integer({ min: 0, max: 2 }),
-            owner: fc.constantFrom("a", "b", "c"),
-          }),
-          { maxLength: 5 },
-        ),
-        (vs, poolRaw) => {
-          const valves: PlanValve[] = vs.map((v, k) => ({
-            id: `V${k}`,
-            installed: series[v.i]!,
-            measured: v.um / 1000,
-            spec,
-          }));
-          const pool = poolRaw.map((t) => ({ size: series[t.i]!, count: t.count, ownerId: t.owner }));
-          const plan = planShims({ valves, sizes: series, pool });
-          expect(score(plan, valves)).toEqual(bruteForce(valves, series, [], pool));
-        },
-      ),
+      fc.property(randomValves(5, { min: 20, max: 500 }), randomPool(["a", "b", "c"], 5), (valves, pool) => {
+        const plan = planShims({ valves, sizes: series, pool });
+        expect(score(plan, valves)).toEqual(bruteForce(valves, series, [], pool));
+      }),
       { numRuns: 200, seed: 25 },
     );
   });

@@ -1,11 +1,10 @@
 import { describe, expect, it } from "vitest";
 import fc from "fast-check";
 import solver from "javascript-lp-solver";
-import { LashInputError, planShims, recommendShim, shimSeries, type PlanValve, type ShimPlan } from "@/lib/lash";
+import { LashInputError, planShims, recommendShim, type PlanValve, type ShimPlan } from "@/lib/lash";
 import { bruteForce, score } from "../../../support/plan-oracle";
+import { series, spec, valvesOf, randomValves, randomTray } from "../../support/plan-fixture";
 
-const series = shimSeries(2.5, 3.3, 0.05);
-const spec = { min: 0.2, max: 0.3 };
 const nm = (mm: number) => Math.round(mm * 1e6);
 
 function checkPlanIsConsistent(plan: ShimPlan, valves: PlanValve[], tray: { size: number; count: number }[]) {
@@ -37,11 +36,11 @@ function checkPlanIsConsistent(plan: ShimPlan, valves: PlanValve[], tray: { size
 describe("planShims", () => {
   it("swaps shims between valves before buying (common practice: buy only what no swap covers)", () => {
     // intake 1 wants 2.60 (2.75 + 0.10 - 0.25) and exhaust 2 wants 2.75 (2.60 + 0.40 - 0.25): a straight swap
-    const valves: PlanValve[] = [
-      { id: "I1", installed: 2.75, measured: 0.1, spec },
-      { id: "E2", installed: 2.6, measured: 0.4, spec },
-      { id: "I2", installed: 2.65, measured: 0.25, spec },
-    ];
+    const valves = valvesOf([
+      ["I1", 2.75, 0.1],
+      ["E2", 2.6, 0.4],
+      ["I2", 2.65, 0.25],
+    ]);
     const plan = planShims({ valves, sizes: series, tray: [] });
     expect(plan.assignments).toEqual([
       { valveId: "I1", size: 2.6, predicted: 0.25, source: { kind: "valve", valveId: "E2" }, inSpec: true, ideal: 2.6 },
@@ -60,11 +59,11 @@ describe("planShims", () => {
   });
 
   it("takes from the tray, buys the rest, and sends unused shims back to the tray", () => {
-    const valves: PlanValve[] = [
-      { id: "I1", installed: 2.75, measured: 0.1, spec }, // wants 2.60
-      { id: "I2", installed: 2.8, measured: 0.1, spec }, // wants 2.65
-      { id: "E1", installed: 2.5, measured: 0.05, spec }, // tight: nothing in the series fits; the 2.50 stays
-    ];
+    const valves = valvesOf([
+      ["I1", 2.75, 0.1], // wants 2.60
+      ["I2", 2.8, 0.1], // wants 2.65
+      ["E1", 2.5, 0.05], // tight: nothing in the series fits; the 2.50 stays
+    ]);
     const plan = planShims({ valves, sizes: series, tray: [{ size: 2.6, count: 1 }] });
     expect(plan.assignments[0]).toMatchObject({ size: 2.6, source: { kind: "tray" }, inSpec: true });
     expect(plan.assignments[1]).toMatchObject({ size: 2.65, source: { kind: "buy" }, inSpec: true });
@@ -89,10 +88,10 @@ describe("planShims", () => {
   });
 
   it("uses a micrometer thickness of an installed shim exactly", () => {
-    const valves: PlanValve[] = [
-      { id: "I1", installed: 2.537, measured: 0.31, spec },
-      { id: "I2", installed: 2.6, measured: 0.187, spec },
-    ];
+    const valves = valvesOf([
+      ["I1", 2.537, 0.31],
+      ["I2", 2.6, 0.187],
+    ]);
     const plan = planShims({ valves, sizes: series, tray: [] });
     // I2 (gap 2.787) takes I1's 2.537 and lands on 0.25 exactly; I1 (gap 2.847) takes I2's 2.60 (0.247)
     expect(plan.assignments[1]).toMatchObject({
@@ -125,24 +124,17 @@ describe("planShims", () => {
       wide: fc.boolean(),
     });
     fc.assert(
-      fc.property(
-        fc.array(valveArb, { minLength: 1, maxLength: 6 }),
-        fc.array(fc.record({ i: fc.integer({ min: 0, max: 16 }), count: fc.integer({ min: 0, max: 2 }) }), {
-          maxLength: 4,
-        }),
-        (vs, trayRaw) => {
-          const valves: PlanValve[] = vs.map((v, i) => ({
-            id: `V${i}`,
-            installed: v.installed,
-            measured: v.measuredUm / 1000,
-            spec: v.wide ? { min: 0.15, max: 0.3 } : { min: 0.2, max: 0.25 },
-          }));
-          const tray = trayRaw.map((t) => ({ size: series[t.i]!, count: t.count }));
-          const plan = planShims({ valves, sizes: series, tray });
-          checkPlanIsConsistent(plan, valves, tray);
-          expect(score(plan, valves)).toEqual(bruteForce(valves, series, tray));
-        },
-      ),
+      fc.property(fc.array(valveArb, { minLength: 1, maxLength: 6 }), randomTray(4, 2), (vs, tray) => {
+        const valves: PlanValve[] = vs.map((v, i) => ({
+          id: `V${i}`,
+          installed: v.installed,
+          measured: v.measuredUm / 1000,
+          spec: v.wide ? { min: 0.15, max: 0.3 } : { min: 0.2, max: 0.25 },
+        }));
+        const plan = planShims({ valves, sizes: series, tray });
+        checkPlanIsConsistent(plan, valves, tray);
+        expect(score(plan, valves)).toEqual(bruteForce(valves, series, tray));
+      }),
       { numRuns: 300, seed: 7 },
     );
   });
@@ -204,36 +196,15 @@ describe("planShims", () => {
 
   it("property: never buys more than the valves that need a change, and replanning its output changes nothing", () => {
     fc.assert(
-      fc.property(
-        fc.array(fc.record({ i: fc.integer({ min: 0, max: 16 }), m: fc.integer({ min: 10, max: 600 }) }), {
-          minLength: 1,
-          maxLength: 16,
-        }),
-        fc.array(fc.record({ i: fc.integer({ min: 0, max: 16 }), count: fc.integer({ min: 0, max: 3 }) }), {
-          maxLength: 6,
-        }),
-        (vs, trayRaw) => {
-          const valves: PlanValve[] = vs.map((v, i) => ({
-            id: `V${i}`,
-            installed: series[v.i]!,
-            measured: v.m / 1000,
-            spec,
-          }));
-          const tray = trayRaw.map((t) => ({ size: series[t.i]!, count: t.count }));
-          const plan = planShims({ valves, sizes: series, tray });
-          const needing = valves.filter((v) => v.measured < spec.min || v.measured > spec.max).length;
-          expect(plan.buy.reduce((s, b) => s + b.count, 0)).toBeLessThanOrEqual(needing);
-          const fitted = plan.assignments.map((a) => ({
-            id: a.valveId,
-            installed: a.size,
-            measured: a.predicted,
-            spec,
-          }));
-          const again = planShims({ valves: fitted, sizes: series, tray });
-          expect(again.assignments.every((a) => a.source.kind === "keep")).toBe(true);
-          expect(again.buy).toEqual([]);
-        },
-      ),
+      fc.property(randomValves(16, { min: 10, max: 600 }), randomTray(6, 3), (valves, tray) => {
+        const plan = planShims({ valves, sizes: series, tray });
+        const needing = valves.filter((v) => v.measured < spec.min || v.measured > spec.max).length;
+        expect(plan.buy.reduce((s, b) => s + b.count, 0)).toBeLessThanOrEqual(needing);
+        const fitted = valvesOf(plan.assignments.map((a) => [a.valveId, a.size, a.predicted]));
+        const again = planShims({ valves: fitted, sizes: series, tray });
+        expect(again.assignments.every((a) => a.source.kind === "keep")).toBe(true);
+        expect(again.buy).toEqual([]);
+      }),
       { numRuns: 300, seed: 11 },
     );
   });

@@ -1,25 +1,24 @@
 import { describe, expect, it } from "vitest";
 import fc from "fast-check";
-import { planShims, shimSeries, type PlanValve } from "@/lib/lash";
+import { planShims } from "@/lib/lash";
 import { poolForEngine } from "@/lib/check/pool";
 import { bruteForce, score } from "../../../support/plan-oracle";
+import { series, valvesOf, randomValves, randomTray, randomPool } from "../../support/plan-fixture";
 
 /**
  * The club pool as a further source of shims. Worked cases here follow the usual shim arithmetic
  * (new shim = installed + measured - target; common practice, as in docs/trade.md); the random cases are
  * checked against exhaustive search in plan.test.ts's style, with borrowing counted after buying.
  */
-const series = shimSeries(2.5, 3.3, 0.05);
-const spec = { min: 0.2, max: 0.3 };
 const nm = (mm: number) => Math.round(mm * 1e6);
 
 describe("planner with a club pool", () => {
   it("borrows from one lender rather than buying two", () => {
     // E1 and E2: 2.60 + 0.10 = 2.70 of gap; target 0.25 wants 2.45, below the series: 2.50 gives 0.20, in band
-    const valves: PlanValve[] = [
-      { id: "E1", installed: 2.6, measured: 0.1, spec },
-      { id: "E2", installed: 2.6, measured: 0.1, spec },
-    ];
+    const valves = valvesOf([
+      ["E1", 2.6, 0.1],
+      ["E2", 2.6, 0.1],
+    ]);
     const alone = planShims({ valves, sizes: series });
     expect(alone.buy).toEqual([{ size: 2.5, count: 2 }]);
     // one trip to lender-1 (1) against two bought (2)
@@ -35,10 +34,10 @@ describe("planner with a club pool", () => {
 
   it("a swap inside the engine or the own tray beats borrowing", () => {
     // E1 needs about 2.50-2.55; E2's own 2.55 comes out anyway (E2 needs a thicker one)
-    const valves: PlanValve[] = [
-      { id: "E1", installed: 2.6, measured: 0.15, spec },
-      { id: "E2", installed: 2.55, measured: 0.4, spec },
-    ];
+    const valves = valvesOf([
+      ["E1", 2.6, 0.15],
+      ["E2", 2.55, 0.4],
+    ]);
     const plan = planShims({
       valves,
       sizes: series,
@@ -56,10 +55,10 @@ describe("planner with a club pool", () => {
     // I1 and I2 both want 2.45-2.50 (2.70 of gap, band 0.20-0.30 with 2.50 the only series size in
     // it). Two lenders: 0 bought + 2 trips = 2; one lender and one bought: 1 + 1 = 2; two bought:
     // 2 + 0 = 2. All even, and then the fewer lenders wins: the shop trip covers both
-    const valves: PlanValve[] = [
-      { id: "I1", installed: 2.6, measured: 0.1, spec },
-      { id: "I2", installed: 2.6, measured: 0.1, spec },
-    ];
+    const valves = valvesOf([
+      ["I1", 2.6, 0.1],
+      ["I2", 2.6, 0.1],
+    ]);
     const plan = planShims({
       valves,
       sizes: series,
@@ -83,10 +82,10 @@ describe("planner with a club pool", () => {
     expect(pool).toEqual([{ size: 2.45, count: 2, ownerId: "b" }]);
     expect(wrongSystem.map((o) => o.id)).toEqual(["o1", "o3"]);
     // two valves from one lender (one trip) rather than two bought
-    const valves: PlanValve[] = [
-      { id: "E1", installed: 2.6, measured: 0.1, spec },
-      { id: "E2", installed: 2.6, measured: 0.1, spec },
-    ];
+    const valves = valvesOf([
+      ["E1", 2.6, 0.1],
+      ["E2", 2.6, 0.1],
+    ]);
     const plan = planShims({ valves, sizes: series, pool });
     expect(plan.assignments[0]!.source).toEqual({ kind: "club", ownerId: "b" });
     // one's own offers are not borrowed from oneself
@@ -96,30 +95,10 @@ describe("planner with a club pool", () => {
   it("matches exhaustive search on random engines with a tray and a pool", () => {
     fc.assert(
       fc.property(
-        fc.array(fc.record({ i: fc.integer({ min: 0, max: 16 }), um: fc.integer({ min: 20, max: 500 }) }), {
-          minLength: 1,
-          maxLength: 5,
-        }),
-        fc.array(fc.record({ i: fc.integer({ min: 0, max: 16 }), count: fc.integer({ min: 0, max: 2 }) }), {
-          maxLength: 3,
-        }),
-        fc.array(
-          fc.record({
-            i: fc.integer({ min: 0, max: 16 }),
-            count: fc.integer({ min: 0, max: 2 }),
-            owner: fc.constantFrom("a", "b"),
-          }),
-          { maxLength: 4 },
-        ),
-        (vs, trayRaw, poolRaw) => {
-          const valves: PlanValve[] = vs.map((v, k) => ({
-            id: `V${k}`,
-            installed: series[v.i]!,
-            measured: v.um / 1000,
-            spec,
-          }));
-          const tray = trayRaw.map((t) => ({ size: series[t.i]!, count: t.count }));
-          const pool = poolRaw.map((t) => ({ size: series[t.i]!, count: t.count, ownerId: t.owner }));
+        randomValves(5, { min: 20, max: 500 }),
+        randomTray(3, 2),
+        randomPool(["a", "b"], 4),
+        (valves, tray, pool) => {
           const plan = planShims({ valves, sizes: series, tray, pool });
           // never more borrowed of a size from a lender than offered
           for (const b of plan.borrow)

@@ -1,9 +1,7 @@
 import { describe, expect, it } from "vitest";
 import fc from "fast-check";
-import { planShims, shimSeries, workOrder, type Assignment, type PlanValve } from "@/lib/lash";
-
-const series = shimSeries(2.5, 3.3, 0.05);
-const spec = { min: 0.2, max: 0.3 };
+import { planShims, workOrder, type Assignment } from "@/lib/lash";
+import { series, valvesOf, randomValves } from "../../support/plan-fixture";
 
 /** Play the moves on a model engine: every valve must end with its planned shim, and no shim may be used twice. */
 function play(assignments: Assignment[], installed: Record<string, number>, moves: ReturnType<typeof workOrder>) {
@@ -27,10 +25,10 @@ function play(assignments: Assignment[], installed: Record<string, number>, move
 
 describe("workOrder", () => {
   it("a straight trade between two valves: one set aside, then two moves", () => {
-    const valves: PlanValve[] = [
-      { id: "I1.1", installed: 2.75, measured: 0.1, spec },
-      { id: "E2.1", installed: 2.6, measured: 0.4, spec },
-    ];
+    const valves = valvesOf([
+      ["I1.1", 2.75, 0.1],
+      ["E2.1", 2.6, 0.4],
+    ]);
     const plan = planShims({ valves, sizes: series });
     const moves = workOrder(plan.assignments, { "I1.1": 2.75, "E2.1": 2.6 });
     expect(moves).toEqual([
@@ -42,23 +40,11 @@ describe("workOrder", () => {
 
   it("property: playing the moves on random plans leaves every valve with its planned shim", () => {
     fc.assert(
-      fc.property(
-        fc.array(fc.record({ i: fc.integer({ min: 0, max: 16 }), m: fc.integer({ min: 20, max: 600 }) }), {
-          minLength: 1,
-          maxLength: 16,
-        }),
-        (vs) => {
-          const valves: PlanValve[] = vs.map((v, k) => ({
-            id: `V${k}`,
-            installed: series[v.i]!,
-            measured: v.m / 1000,
-            spec,
-          }));
-          const plan = planShims({ valves, sizes: series, tray: [{ size: 2.6, count: 2 }] });
-          const installed = Object.fromEntries(valves.map((v) => [v.id, v.installed]));
-          play(plan.assignments, installed, workOrder(plan.assignments, installed));
-        },
-      ),
+      fc.property(randomValves(16, { min: 20, max: 600 }), (valves) => {
+        const plan = planShims({ valves, sizes: series, tray: [{ size: 2.6, count: 2 }] });
+        const installed = Object.fromEntries(valves.map((v) => [v.id, v.installed]));
+        play(plan.assignments, installed, workOrder(plan.assignments, installed));
+      }),
       { numRuns: 300, seed: 5 },
     );
   });
