@@ -1,5 +1,6 @@
-import type { LocalDb } from "@/lib/sync/local-db";
+import { openLocalDb, type LocalDb, type LocalReading } from "@/lib/sync/local-db";
 import { queueChange } from "@/lib/sync/outbox";
+import { saveCheck, saveReading } from "@/lib/sync/save";
 
 /** A pull page with nothing in it; a fake server adds its cursor (and any rows it sends). */
 export const EMPTY_PAGE = { engines: [], checks: [], readings: [], tray: [], comments: [], tombstones: [] };
@@ -25,4 +26,13 @@ export async function queueReading(
       ...reading,
     });
   });
+}
+
+/** A new phone with a bare engine, a check on it at 1,000 km and one reading saved: where a Fit step starts. */
+export async function phoneWithReading(engineId: string, checkId: string, reading: LocalReading): Promise<LocalDb> {
+  const db = openLocalDb(crypto.randomUUID());
+  await db.engines.put({ id: engineId } as never);
+  await saveCheck(db, { id: checkId, engineId, odometer: 1000, measuredHot: false });
+  await saveReading(db, checkId, reading);
+  return db;
 }

@@ -2,8 +2,10 @@ import "fake-indexeddb/auto";
 import { describe, expect, it } from "vitest";
 import { fitTicks, workOrderKey, type WorkOrderState } from "@/lib/check/fit";
 import { workOrder, type Assignment, type ShimMove } from "@/lib/lash";
-import { getMeta, openLocalDb, type LocalDb } from "@/lib/sync/local-db";
-import { beginFit, saveCheck, saveReading, toggleSwaps } from "@/lib/sync/save";
+import { getMeta, type LocalDb } from "@/lib/sync/local-db";
+import { beginFit, toggleSwaps } from "@/lib/sync/save";
+import { localReading } from "../../support/check-fixture";
+import { phoneWithReading } from "../../support/phone-sync";
 
 /** One tick per valve that gets a shim, holding every move that change needs. Sizes invented. */
 const a = (valveId: string, size: number, source: Assignment["source"]): Assignment => ({
@@ -14,6 +16,13 @@ const a = (valveId: string, size: number, source: Assignment["source"]): Assignm
   inSpec: true,
   ideal: size,
 });
+
+/** Each move as from>to: a valve by its name, else the tray, the shop or aside. */
+const route = (moves: ShimMove[]) =>
+  moves.map(
+    (m) =>
+      `${m.from.kind === "valve" ? m.from.valveId : m.from.kind}>${m.to.kind === "valve" ? m.to.valveId : m.to.kind}`,
+  );
 
 describe("the Fit step's ticks", () => {
   it("a bought or tray shim: the valve's own shim out and the new one in are one tick", () => {
@@ -34,12 +43,7 @@ describe("the Fit step's ticks", () => {
       "I1.1": 2.6,
       "E1.1": 2.55,
     });
-    expect(
-      moves.map(
-        (m) =>
-          `${m.from.kind === "valve" ? m.from.valveId : m.from.kind}>${m.to.kind === "valve" ? m.to.valveId : m.to.kind}`,
-      ),
-    ).toEqual(["I1.1>tray", "E1.1>I1.1", "shop>E1.1"]);
+    expect(route(moves)).toEqual(["I1.1>tray", "E1.1>I1.1", "shop>E1.1"]);
     expect(fitTicks(moves)).toEqual([[0, 1], [2]]);
   });
 
@@ -48,12 +52,7 @@ describe("the Fit step's ticks", () => {
       [a("I1.1", 2.55, { kind: "valve", valveId: "I2.1" }), a("I2.1", 2.6, { kind: "valve", valveId: "I1.1" })],
       { "I1.1": 2.6, "I2.1": 2.55 },
     );
-    expect(
-      moves.map(
-        (m) =>
-          `${m.from.kind === "valve" ? m.from.valveId : m.from.kind}>${m.to.kind === "valve" ? m.to.valveId : m.to.kind}`,
-      ),
-    ).toEqual(["I1.1>aside", "I2.1>I1.1", "aside>I2.1"]);
+    expect(route(moves)).toEqual(["I1.1>aside", "I2.1>I1.1", "aside>I2.1"]);
     expect(fitTicks(moves)).toEqual([[0, 1], [2]]);
   });
 
@@ -76,20 +75,7 @@ describe("ticking a change", () => {
     { size: 2.75, from: { kind: "shop" }, to: { kind: "valve", valveId: "I1.1" } },
   ];
   async function fitting(done?: boolean[]): Promise<LocalDb> {
-    const db = openLocalDb(crypto.randomUUID());
-    await db.engines.put({ id: engineId } as never);
-    await saveCheck(db, { id: checkId, engineId, odometer: 1000, measuredHot: false });
-    await saveReading(db, checkId, {
-      valve: "I1.1",
-      round: 0,
-      installedStamp: 2.6,
-      installedMicrometer: null,
-      feelerGo: null,
-      feelerNoGo: null,
-      measured: 0.4,
-      method: "typed",
-      fittedShim: null,
-    });
+    const db = await phoneWithReading(engineId, checkId, localReading("I1.1", { measured: 0.4, method: "typed" }));
     await beginFit(db, checkId, moves);
     // a list ticked move by move by an older version of the app is kept as it was
     if (done) await db.meta.put({ key: workOrderKey(checkId), value: { moves, done } } as never);

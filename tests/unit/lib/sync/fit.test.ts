@@ -2,8 +2,10 @@ import "fake-indexeddb/auto";
 import { describe, expect, it } from "vitest";
 import { workOrderKey, type WorkOrderState } from "@/lib/check/fit";
 import type { ShimMove } from "@/lib/lash";
-import { getMeta, openLocalDb, type LocalDb } from "@/lib/sync/local-db";
-import { beginFit, saveCheck, saveReading, saveTrayItem, toggleSwap } from "@/lib/sync/save";
+import { getMeta, type LocalDb } from "@/lib/sync/local-db";
+import { beginFit, saveTrayItem, toggleSwap } from "@/lib/sync/save";
+import { feelerReading } from "../../support/check-fixture";
+import { phoneWithReading } from "../../support/phone-sync";
 
 const engineId = "0b6f5c2e-1111-4a4a-9a9a-00000000000e";
 const checkId = "0b6f5c2e-1111-4a4a-9a9a-000000000001";
@@ -16,20 +18,7 @@ const moves: ShimMove[] = [
 ];
 
 async function fitting(): Promise<LocalDb> {
-  const db = openLocalDb(crypto.randomUUID());
-  await db.engines.put({ id: engineId } as never);
-  await saveCheck(db, { id: checkId, engineId, odometer: 1000, measuredHot: false });
-  await saveReading(db, checkId, {
-    valve: "I1.1",
-    round: 0,
-    installedStamp: 2.6,
-    installedMicrometer: null,
-    feelerGo: 0.05,
-    feelerNoGo: 0.06,
-    measured: 0.05,
-    method: "feeler",
-    fittedShim: null,
-  });
+  const db = await phoneWithReading(engineId, checkId, feelerReading("I1.1", 2.6, 0.05, { feelerNoGo: 0.06 }));
   await saveTrayItem(db, { id: trayId, size: 2.55, measuredSize: false, count: 1 });
   await beginFit(db, checkId, moves);
   await db.outbox.clear();
