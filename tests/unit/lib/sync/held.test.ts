@@ -53,12 +53,22 @@ function fakeServer() {
   return { fetcher, applied, refuse, hold, dropNextAnswer: () => (dropAnswer = true) };
 }
 
+/** A new phone with a reading of each valve queued, and a server that refuses or holds back the valves named. */
+async function phoneAndServer(
+  valves: string[],
+  { refuse = [], hold = [] }: { refuse?: string[]; hold?: string[] } = {},
+) {
+  const db = openLocalDb(crypto.randomUUID());
+  const s = fakeServer();
+  for (const v of refuse) s.refuse.add(v);
+  for (const v of hold) s.hold.add(v);
+  await addReadings(db, valves);
+  return { db, s };
+}
+
 describe("a change the server does not apply stays on the phone", () => {
   it("refused for good: kept with its reason, not sent again, the rest goes through", async () => {
-    const db = openLocalDb(crypto.randomUUID());
-    const s = fakeServer();
-    s.refuse.add("I9.1");
-    await addReadings(db, ["I1.1", "I9.1", "I2.1"]);
+    const { db, s } = await phoneAndServer(["I1.1", "I9.1", "I2.1"], { refuse: ["I9.1"] });
     const r = await pushAll(db, s.fetcher);
     expect(r.rejected.map((x) => x.reason)).toEqual(["this engine has no valve I9.1"]);
     expect(s.applied).toEqual(["I1.1", "I2.1"]);
@@ -75,10 +85,7 @@ describe("a change the server does not apply stays on the phone", () => {
   });
 
   it("an answer lost after the server refused: the refusal said again on the retry keeps the entry", async () => {
-    const db = openLocalDb(crypto.randomUUID());
-    const s = fakeServer();
-    s.refuse.add("E9.1");
-    await addReadings(db, ["E1.1", "E9.1"]);
+    const { db, s } = await phoneAndServer(["E1.1", "E9.1"], { refuse: ["E9.1"] });
     s.dropNextAnswer();
     await expect(pushAll(db, s.fetcher)).rejects.toThrow();
     await pushAll(db, s.fetcher);
@@ -86,11 +93,7 @@ describe("a change the server does not apply stays on the phone", () => {
   });
 
   it("the mechanic sends it again (a new id, after what was queued since) or discards it", async () => {
-    const db = openLocalDb(crypto.randomUUID());
-    const s = fakeServer();
-    s.refuse.add("I5.1");
-    s.refuse.add("I6.1");
-    await addReadings(db, ["I5.1", "I6.1"]);
+    const { db, s } = await phoneAndServer(["I5.1", "I6.1"], { refuse: ["I5.1", "I6.1"] });
     await pushAll(db, s.fetcher);
     const [a, b] = await heldEntries(db);
     s.refuse.clear(); // what it depended on was fixed
@@ -117,10 +120,7 @@ describe("a change the server does not apply stays on the phone", () => {
   });
 
   it("held back for later: kept in its place, nothing after it sent, sent again under the same id", async () => {
-    const db = openLocalDb(crypto.randomUUID());
-    const s = fakeServer();
-    s.hold.add("I2.2");
-    await addReadings(db, ["I1.2", "I2.2", "I3.2"]);
+    const { db, s } = await phoneAndServer(["I1.2", "I2.2", "I3.2"], { hold: ["I2.2"] });
     const r = await pushAll(db, s.fetcher);
     expect(r.later?.reason).toMatch(/yet/);
     expect(s.applied).toEqual(["I1.2"]);

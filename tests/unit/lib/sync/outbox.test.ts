@@ -21,6 +21,8 @@ async function addReadings(db: LocalDb, n: number) {
     });
 }
 
+type ServerMode = "ok" | "throw" | "500" | "drop-response" | "401";
+
 /**
  * A stand-in for the server's push contract (the real one is tested on MariaDB in the integration
  * tests): applies mutations above the client's last id, remembers every application, and can be
@@ -29,7 +31,7 @@ async function addReadings(db: LocalDb, n: number) {
 function fakeServer() {
   const last = new Map<string, number>();
   const applied: number[] = [];
-  let mode: "ok" | "throw" | "500" | "drop-response" | "401" = "ok";
+  let mode: ServerMode = "ok";
   const fetcher = async (url: string, init: RequestInit) => {
     if (mode === "throw") throw new TypeError("Failed to fetch");
     if (mode === "401")
@@ -53,6 +55,15 @@ function fakeServer() {
     return Response.json({ lastMutationId: l, rejected: [] });
   };
   return { fetcher, applied, setMode: (m: typeof mode) => (mode = m) };
+}
+
+/** A new phone with n readings queued, and a server answering as `mode` says (as it comes: "ok"). */
+async function queuedAgainst(n: number, mode?: ServerMode) {
+  const db = freshDb();
+  const s = fakeServer();
+  await addReadings(db, n);
+  if (mode) s.setMode(mode);
+  return { db, s };
 }
 
 describe("the outbox", () => {
@@ -96,9 +107,7 @@ describe("the outbox", () => {
 
 describe("push", () => {
   it("sends in order in batches and removes only what the server acknowledged", async () => {
-    const db = freshDb();
-    const s = fakeServer();
-    await addReadings(db, 450);
+    const { db, s } = await queuedAgainst(450);
     const r = await pushAll(db, s.fetcher);
     expect(r.acknowledged).toBe(450);
     expect(s.applied).toEqual(Array.from({ length: 450 }, (_, i) => i + 1));
@@ -106,10 +115,7 @@ describe("push", () => {
   });
 
   it("keeps everything when the network fails, and sends it later, once", async () => {
-    const db = freshDb();
-    const s = fakeServer();
-    await addReadings(db, 10);
-    s.setMode("throw");
+    const { db, s } = await queuedAgainst(10, "throw");
     await expect(pushAll(db, s.fetcher)).rejects.toThrow();
     expect(await waitingCount(db)).toBe(10);
     s.setMode("500");
@@ -122,10 +128,7 @@ describe("push", () => {
   });
 
   it("a response lost after the server committed: the retry is acknowledged, nothing applied twice", async () => {
-    const db = freshDb();
-    const s = fakeServer();
-    await addReadings(db, 5);
-    s.setMode("drop-response");
+    const { db, s } = await queuedAgainst(5, "drop-response");
     await expect(pushAll(db, s.fetcher)).rejects.toThrow();
     expect(await waitingCount(db)).toBe(5);
     await addReadings(db, 2);
@@ -135,10 +138,7 @@ describe("push", () => {
   });
 
   it("a 401 keeps the outbox and says sign in again", async () => {
-    const db = freshDb();
-    const s = fakeServer();
-    await addReadings(db, 4);
-    s.setMode("401");
+    const { db, s } = await queuedAgainst(4, "401");
     await expect(syncOnce(db, s.fetcher)).rejects.toBeInstanceOf(SignedOut);
     expect(await waitingCount(db)).toBe(4);
     s.setMode("ok");

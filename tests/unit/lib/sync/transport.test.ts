@@ -14,6 +14,18 @@ const emptyPull = { cursor: 7, ...EMPTY_PAGE };
 const oneReading = (db: ReturnType<typeof openLocalDb>) =>
   queueReading(db, checkId, { valve: "I1.1", round: 0, feelerGo: 0.15 });
 
+/** A 200 JSON answer whose body stops after `text`: the instance died mid-answer. */
+const cutAfter = (text: string) => async () =>
+  new Response(
+    new ReadableStream({
+      start(c) {
+        c.enqueue(new TextEncoder().encode(text));
+        c.error(new TypeError("terminated"));
+      },
+    }),
+    { status: 200, headers: { "content-type": "application/json" } },
+  );
+
 describe("the phone's transport", () => {
   it("calls only a request with no answer offline", async () => {
     const db = openLocalDb(crypto.randomUUID());
@@ -34,16 +46,7 @@ describe("the phone's transport", () => {
   it("an answer cut off half-way (the instance died mid-answer) is offline, and the outbox stays", async () => {
     const db = openLocalDb(crypto.randomUUID());
     await oneReading(db);
-    const cut = async () =>
-      new Response(
-        new ReadableStream({
-          start(c) {
-            c.enqueue(new TextEncoder().encode('{"lastMutationId":1,"rej'));
-            c.error(new TypeError("terminated"));
-          },
-        }),
-        { status: 200, headers: { "content-type": "application/json" } },
-      );
+    const cut = cutAfter('{"lastMutationId":1,"rej');
     await expect(syncOnce(db, cut)).rejects.toBeInstanceOf(Offline);
     expect(await waitingCount(db)).toBe(1);
   });
@@ -111,16 +114,7 @@ describe("the phone's bound on one request", () => {
   });
 
   it("calls an answer whose body stops half way offline, not a server error", async () => {
-    const cut = async () =>
-      new Response(
-        new ReadableStream({
-          start(c) {
-            c.enqueue(new TextEncoder().encode('{"cursor":'));
-            c.error(new TypeError("terminated"));
-          },
-        }),
-        { status: 200, headers: { "content-type": "application/json" } },
-      );
+    const cut = cutAfter('{"cursor":');
     await expect(postJson(cut, "/api/sync/pull", {}, "sync/pull")).rejects.toBeInstanceOf(Offline);
   });
 
