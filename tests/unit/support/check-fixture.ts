@@ -10,7 +10,7 @@ import { ENGINE_FOUR } from "../../fixtures/engines";
  */
 export const localEngine = (over: Partial<LocalEngine> = {}): LocalEngine => ({
   id: "0b6f5c2e-2222-4a4a-9a9a-000000000001",
-  ...ENGINE_FOUR,
+  ...structuredClone(ENGINE_FOUR),
   firingAngles: null,
   timing: { ivo: 20, ivc: 50, evo: 50, evc: 20 },
   measuredHot: false,
