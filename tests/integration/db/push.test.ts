@@ -6,6 +6,7 @@ import { getPublicUser, type PublicUser } from "@/db/queries/users";
 import { newAccount } from "@/server/account-changes";
 import { push, type PushResult } from "@/server/sync";
 import { READING_VALUE_FIELDS } from "@/lib/schemas/records";
+import { ENGINE_FOUR } from "@/tests/support/fixtures";
 
 /**
  * The sync push (server/sync.ts) straight against MariaDB, on a pool of one connection, so that
@@ -22,17 +23,6 @@ beforeAll(() => {
 });
 afterAll(() => closeDb());
 
-// shims from 2.5 to 3.3 mm (the range check's slack lets 2.45 to 3.35 through): invented for the test
-const ENGINE = {
-  name: "Test four",
-  cylinders: 4,
-  intakePerCylinder: 2,
-  exhaustPerCylinder: 2,
-  firingOrder: [1, 3, 4, 2],
-  intake: { min: 0.1, max: 0.2 },
-  exhaust: { min: 0.2, max: 0.3 },
-  shims: { min: 2.5, max: 3.3, step: 0.05 },
-};
 const VALVES = ["I1.1", "I1.2", "E1.1", "E1.2", "I2.1", "I2.2", "E2.1", "E2.2"];
 
 type Mutation = { id: number; name: string; args: unknown };
@@ -53,7 +43,7 @@ async function garage(checks: number) {
   const checkIds = Array.from({ length: checks }, () => crypto.randomUUID());
   const clientId = crypto.randomUUID();
   const setup = [
-    { id: 1, name: "engine.put/1", args: { ...ENGINE, id: engineId } },
+    { id: 1, name: "engine.put/1", args: { ...ENGINE_FOUR, id: engineId } },
     ...checkIds.map((c, i) => ({ id: i + 2, name: "check.put/1", args: { id: c, engineId, odometer: 1000 } })),
   ];
   expect((await push(user, { clientId, mutations: setup })).rejected).toEqual([]);
@@ -120,7 +110,7 @@ describe("the sync push against the database", () => {
     ];
     const after = (c: string) => [
       reading(c, { valve: "I1.1", installedStamp: 2.6, feelerGo: 0.1 }),
-      // outside the engine's shims: refused by the range check, in the middle of the run
+      // outside the engine's shims (2.5 to 3.3 mm, and the range check's slack): refused, mid-run
       reading(c, { valve: "I1.2", installedStamp: 9.9, feelerGo: 0.1 }),
       reading(c, { valve: "E1.1", installedStamp: 2.6, feelerGo: 0.25 }),
       // the same valve and round again: the value it replaces is the one just written
