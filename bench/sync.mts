@@ -1,6 +1,7 @@
 // Sync throughput: 10,000 reading mutations through the real push route (production server, real
 // MariaDB) in the client's batch size, beside the same rows written by a raw mysql2 multi-row
 // insert in the same run; and a full pull of a user with 50 engines, 500 checks, 8,000 readings.
+import { parseArgs } from "node:util";
 import mysql from "mysql2/promise";
 import { startBenchServer, type BenchServer } from "./server.mts";
 import { Client } from "../tests/support/api";
@@ -75,34 +76,8 @@ export async function runSyncBench(srv: BenchServer, n = 10_000) {
       reading: { valve: r.valve, round: r.round, installedStamp: 2.6, feelerGo: r.go, method: "feeler" },
     },
   }));
-  // where each push's milliseconds go: the server's Server-Timing phases (server/timing.ts), summed
-  // over the pushes; what the server does not see (the socket, HTTP parsing, Next's routing, the
-  // answer's transfer) is the rest of the round trip the bench measures here
-  const phases = new Map<string, number>();
-  let roundTrips = 0;
-  const t0 = performance.now();
-  for (let i = 0; i < mutations.length; i += PUSH_BATCH) {
-    const r0 = performance.now();
-    const raw = await client.raw("POST", "/api/sync/push", {
-      body: JSON.stringify({ clientId, mutations: mutations.slice(i, i + PUSH_BATCH) }),
-      headers: { "content-type": "application/json" },
-    });
-    const res = { status: raw.status, json: (await raw.json()) as { rejected: unknown[] } };
-    roundTrips += performance.now() - r0;
-    for (const entry of (raw.headers.get("server-timing") ?? "").split(",")) {
-      const m = /^\s*([^;]+);dur=([\d.]+)/.exec(entry);
-      if (m) phases.set(m[1]!, (phases.get(m[1]!) ?? 0) + Number(m[2]));
-    }
-    if (res.status !== 200 || res.json.rejected.length)
-      throw new Error(`push failed: ${res.status} ${JSON.stringify(res.json).slice(0, 200)}`);
-    const sent = i + PUSH_BATCH;
-    if (sent % 2000 === 0)
-      say(`  pushed ${sent.toLocaleString("en")} of ${mutations.length.toLocaleString("en")} readings`);
-  }
-  const pushMs = performance.now() - t0;
-
-  // the same rows by raw multi-row INSERT, same batch size, one connection
-  say("  the same rows by raw multi-row INSERT");
+  // the same rows by raw multi-row INSERT, same batch size, on a connection of their own; each raw
+  // batch goes right after the push of the same size, so both share the machine's load of the moment
   const raw = await mysql.createConnection({ uri: srv.dbUrl });
   const rawEngine = crypto.randomUUID();
   await raw.query(
@@ -116,15 +91,39 @@ export async function runSyncBench(srv: BenchServer, n = 10_000) {
       rawEngine,
       u.id,
     ]);
-  const t1 = performance.now();
-  for (let i = 0; i < rawPlan.rows.length; i += PUSH_BATCH) {
+  // where each push's milliseconds go: the server's Server-Timing phases (server/timing.ts), summed
+  // over the pushes; what the server does not see (the socket, HTTP parsing, Next's routing, the
+  // answer's transfer) is the rest of the round trip the bench measures here
+  const phases = new Map<string, number>();
+  let pushMs = 0;
+  let rawMs = 0;
+  for (let i = 0; i < mutations.length; i += PUSH_BATCH) {
+    const r0 = performance.now();
+    const res = await client.raw("POST", "/api/sync/push", {
+      body: JSON.stringify({ clientId, mutations: mutations.slice(i, i + PUSH_BATCH) }),
+      headers: { "content-type": "application/json" },
+    });
+    const json = (await res.json()) as { rejected: unknown[] };
+    pushMs += performance.now() - r0;
+    for (const entry of (res.headers.get("server-timing") ?? "").split(",")) {
+      const m = /^\s*([^;]+);dur=([\d.]+)/.exec(entry);
+      if (m) phases.set(m[1]!, (phases.get(m[1]!) ?? 0) + Number(m[2]));
+    }
+    if (res.status !== 200 || json.rejected.length)
+      throw new Error(`push failed: ${res.status} ${JSON.stringify(json).slice(0, 200)}`);
     const batch = rawPlan.rows.slice(i, i + PUSH_BATCH);
+    const t1 = performance.now();
     await raw.query(
       "INSERT INTO readings (id, check_id, owner_id, valve, round, installed_stamp, feeler_go, measured, method) VALUES ?",
       [batch.map((r) => [crypto.randomUUID(), r.checkId, u.id, r.valve, r.round, 2.6, r.go, r.go, "feeler"])],
     );
+    rawMs += performance.now() - t1;
+    const sent = i + PUSH_BATCH;
+    if (sent % 2000 === 0)
+      say(
+        `  pushed ${sent.toLocaleString("en")} of ${mutations.length.toLocaleString("en")} readings (and as many raw)`,
+      );
   }
-  const rawMs = performance.now() - t1;
   const [[count]] = (await raw.query("SELECT COUNT(*) AS n FROM readings WHERE owner_id = ?", [u.id])) as unknown as [
     [{ n: number }],
   ];
@@ -189,7 +188,7 @@ export async function runSyncBench(srv: BenchServer, n = 10_000) {
     ratio: rawMs / pushMs,
     rawMsPerBatch: rawMs / (n / PUSH_BATCH),
     /** milliseconds per push of PUSH_BATCH readings, by phase, in the order the server ends them */
-    pushPhases: pushPhases(phases, roundTrips, n / PUSH_BATCH),
+    pushPhases: pushPhases(phases, pushMs, n / PUSH_BATCH),
     pull: {
       ms: pullMs,
       pages,
@@ -201,11 +200,49 @@ export async function runSyncBench(srv: BenchServer, n = 10_000) {
   };
 }
 
+// `node --conditions=react-server --import tsx bench/sync.mts [--before DIST] [--rounds N]`: this
+// stage alone, printed as JSON; with --before, a second build (made with LASHWRIGHT_DIST_DIR=DIST)
+// is served too and the two are pushed to in turn, N rounds each (2), with the phases side by side
 if (import.meta.url === `file://${process.argv[1]}`) {
-  const srv = await startBenchServer();
-  try {
-    console.log(JSON.stringify(await runSyncBench(srv), null, 2));
-  } finally {
-    await srv.stop();
+  const { values } = parseArgs({ options: { before: { type: "string" }, rounds: { type: "string" } } });
+  if (!values.before) {
+    const srv = await startBenchServer();
+    try {
+      console.log(JSON.stringify(await runSyncBench(srv), null, 2));
+    } finally {
+      await srv.stop();
+    }
+  } else {
+    const builds = [
+      { name: "before", srv: await startBenchServer({ distDir: values.before }) },
+      { name: "after", srv: await startBenchServer() },
+    ];
+    const runs: Record<string, Awaited<ReturnType<typeof runSyncBench>>[]> = { before: [], after: [] };
+    try {
+      for (let round = 1; round <= Number(values.rounds ?? 2); round++)
+        for (const b of builds) {
+          say(`round ${round}: ${b.name}`);
+          const r = await runSyncBench(b.srv);
+          runs[b.name]!.push(r);
+          say(
+            `  ratio ${r.ratio.toFixed(3)} (push ${Math.round(r.pushRowsPerSec)} rows/s, raw ${Math.round(r.rawRowsPerSec)})`,
+          );
+        }
+    } finally {
+      for (const b of builds) await b.srv.stop();
+    }
+    // per push, averaged over the rounds
+    const mean = (xs: number[]) => xs.reduce((x, y) => x + y, 0) / xs.length;
+    const names = [...new Set(Object.values(runs).flatMap((rs) => rs.flatMap((r) => r.pushPhases.map((p) => p.name))))];
+    const cell = (b: string, name: string) =>
+      mean(runs[b]!.map((r) => r.pushPhases.find((p) => p.name === name)?.ms ?? 0))
+        .toFixed(2)
+        .padStart(8);
+    console.log(`${"phase (ms per push of 200)".padEnd(44)}   before    after`);
+    for (const name of names) console.log(`${name.padEnd(44)} ${cell("before", name)} ${cell("after", name)}`);
+    for (const b of ["before", "after"])
+      console.log(
+        `${b}: ratio ${runs[b]!.map((r) => r.ratio.toFixed(3)).join(", ")}; raw INSERT ${mean(runs[b]!.map((r) => r.rawMsPerBatch)).toFixed(2)} ms a batch`,
+      );
   }
 }

@@ -3,7 +3,7 @@ import type { CheckRow, Role } from "@/db/schema";
 import type { Executor, Tx } from "@/db/connection";
 import { conflict, DomainError, forbidden, notFound, refused } from "@/lib/errors";
 import { MOVES, type BorrowMove } from "@/lib/pool/rules";
-import { getCheckRow, getEngineRow, getTrayRow } from "@/db/queries/garage";
+import { getCheckAndEngine, getCheckRow, getEngineRow, getTrayRow } from "@/db/queries/garage";
 import { getShare, lockPendingInvite, mentorSharesForCheck, rolesInClub } from "@/db/queries/clubs";
 import type { SessionUser } from "./auth";
 
@@ -43,7 +43,16 @@ export type CheckAccess = {
 };
 
 export async function readableCheck(ex: Executor, user: SessionUser, checkId: string): Promise<CheckAccess> {
-  const c = await getCheckRow(ex, checkId);
+  return readableCheckRow(ex, user, checkId, await getCheckRow(ex, checkId));
+}
+
+/** readableCheck for a check row already read in the caller's transaction (undefined: none). */
+async function readableCheckRow(
+  ex: Executor,
+  user: SessionUser,
+  checkId: string,
+  c: CheckRow | undefined,
+): Promise<CheckAccess> {
   if (!c) throw notFound("check");
   if (c.ownerId === user.id) return { check: c, as: "owner", mentorShares: [] };
   const mentorShares = await mentorSharesForCheck(ex, user.id, checkId);
@@ -76,10 +85,23 @@ export function visibleComments<C extends { authorId: string | null; clubId: str
  */
 export const commentClub = (a: CheckAccess): string | null => (a.as === "owner" ? null : a.mentorShares[0]!.clubId);
 
-export async function ownCheck(ex: Executor, user: SessionUser, checkId: string) {
-  const a = await readableCheck(ex, user, checkId);
+function ownerOnly(a: CheckAccess) {
   if (a.as !== "owner") throw forbidden("Only the check's owner can change it; mentors comment and give a verdict");
   return a.check;
+}
+
+export async function ownCheck(ex: Executor, user: SessionUser, checkId: string) {
+  return ownerOnly(await readableCheck(ex, user, checkId));
+}
+
+/**
+ * ownCheck and the check's engine, read in one statement: readings are checked against their
+ * engine, and a push writes a run of them (the engine is null only if the schema's key were broken).
+ */
+export async function ownCheckAndEngine(ex: Executor, user: SessionUser, checkId: string) {
+  const found = await getCheckAndEngine(ex, checkId);
+  const check = ownerOnly(await readableCheckRow(ex, user, checkId, found?.check));
+  return { check, engine: found!.engine };
 }
 
 /** A check written by its id: the owner's, or a new one; a mentor may not, a stranger sees "no such". */

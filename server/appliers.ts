@@ -1,6 +1,7 @@
 import "server-only";
 import type { MutationArgs, MutationName } from "@/lib/sync/mutations";
 import type { ReadingInput } from "@/lib/schemas/records";
+import type { EngineRow } from "@/db/schema";
 import {
   getCheckRow,
   getEngineRow,
@@ -17,7 +18,7 @@ import { insertComment, writeVerdict } from "@/db/queries/clubs";
 import { conflict, invalid, notFound } from "@/lib/errors";
 import {
   commentClub,
-  ownCheck,
+  ownCheckAndEngine,
   ownOrNewCheck,
   ownOrNewEngine,
   ownOrNewTrayItem,
@@ -47,13 +48,62 @@ type Applier<N extends MutationName> = (w: WriteCtx, a: MutationArgs<N>) => Prom
 
 /** Readings of one check in one go: the owner's check, values that fit its engine, one upsert. */
 async function applyReadings(w: WriteCtx, checkId: string, rs: ReadingInput[]) {
-  const check = await ownCheck(w.tx, w.user, checkId);
-  phase("check read");
-  const engine = (await getEngineRow(w.tx, check.engineId))!;
-  phase("engine read");
-  checkReadingsFit(engine, rs);
+  const { engine } = await ownCheckAndEngine(w.tx, w.user, checkId);
+  phase("check and engine read");
+  checkReadingsFit(engine!, rs);
   phase("range check");
   await writeReadings(w.tx, w.user.id, w.version, checkId, rs);
+}
+
+/**
+ * Readings of one check of which some may be refused, with what applying each alone, in order,
+ * comes to (the table's "reading.put/1" one at a time), in a few statements rather than several a
+ * reading: the owner's check and its engine read once (a reading changes neither), each reading
+ * checked alone against them, and the others written in order, in batches that never hold one valve
+ * and round twice, so every value replaced reaches the history as it would one at a time. Answers,
+ * by position, the error each refused reading would have thrown (undefined: written). What is not
+ * a refusal (`isRefusal`: a failure of the moment, a bug) is thrown, and the caller, whose
+ * savepoint then rolls this back, applies the readings one by one to find it.
+ */
+export async function applyReadingsAlone(
+  w: WriteCtx,
+  run: MutationArgs<"reading.put/1">[],
+  isRefusal: (e: unknown) => boolean,
+): Promise<unknown[]> {
+  const checkId = run[0]?.checkId;
+  if (checkId === undefined || run.some((a) => a.checkId !== checkId)) throw new Error("readings of one check only");
+  let engine: EngineRow | null;
+  try {
+    ({ engine } = await ownCheckAndEngine(w.tx, w.user, checkId));
+  } catch (e) {
+    if (!isRefusal(e)) throw e;
+    return run.map(() => e);
+  }
+  const refusals = run.map((a) => {
+    try {
+      checkReadingsFit(engine!, [a.reading]);
+      return undefined;
+    } catch (e) {
+      if (!isRefusal(e)) throw e;
+      return e;
+    }
+  });
+  let batch: ReadingInput[] = [];
+  const keys = new Set<string>();
+  const flush = async () => {
+    if (batch.length) await writeReadings(w.tx, w.user.id, w.version, checkId, batch);
+    batch = [];
+    keys.clear();
+  };
+  for (const [i, a] of run.entries()) {
+    if (refusals[i] !== undefined) continue;
+    const key = `${a.reading.valve}#${a.reading.round}`;
+    if (keys.has(key)) await flush();
+    keys.add(key);
+    batch.push(a.reading);
+  }
+  await flush();
+  return refusals;
 }
 
 async function putOwnCheck(w: WriteCtx, a: MutationArgs<"check.put/2">) {

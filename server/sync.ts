@@ -15,7 +15,7 @@ import { nextVersion, type Tx } from "@/db/versions";
 import { isTransientDbError } from "@/db/errors";
 import { retryConflicts } from "@/db/retry";
 import * as q from "@/db/queries/sync";
-import { apply, applyRun } from "./appliers";
+import { apply, applyReadingsAlone, applyRun } from "./appliers";
 import { runAfter, type After, type WriteCtx } from "./write";
 import { budget, type Budget } from "./budgets";
 import type { SessionUser } from "./auth";
@@ -78,9 +78,15 @@ async function refundWrites(user: SessionUser, clientId: string, cost: number) {
 /**
  * The server side of the sync protocol (README "Working without a signal"). A push is applied in one transaction:
  * mutations at or below the client's last applied id are skipped (replays are harmless), each new
- * one runs through its applier (server/appliers.ts) in its own savepoint so a refused one rolls
- * back alone and is recorded with its reason, a run of readings of one check is one call of the
- * table's run applier (applyRun: one multi-row upsert), and the new last id is written in the same transaction.
+ * one runs through its applier (server/appliers.ts) as one step, a run of readings of one check is
+ * one call of the table's run applier (applyRun: one multi-row upsert), a refused one is recorded
+ * with its reason and rolls back alone, and the new last id is written in the same transaction.
+ *
+ * Most pushes refuse nothing, so the steps first run straight in the transaction. Only when one
+ * fails is the transaction rolled back and run again with each step in a savepoint of its own,
+ * so the refused one rolls back alone ("careful"): a savepoint and its release are two round trips
+ * a step, which a push that refuses nothing no longer pays. Nothing is kept from the first attempt
+ * (it is rolled back, like a transaction that lost a write conflict: db/retry.ts).
  */
 export interface PushResult {
   lastMutationId: number;
@@ -99,6 +105,21 @@ type Parsed = { id: number; name: string; args: unknown; reason?: string; unknow
 /** A mutation not applied now that must be sent again later (see PushResult.later). */
 class Later extends Error {}
 
+/** A step failed in a push run without savepoints: it is run again, carefully (see push). */
+class StepFailed extends Error {}
+
+/** A failure of the moment (the server saturated, a lock waited too long): the whole push fails. */
+function transient(e: unknown): boolean {
+  const d = domainErrorOf(e);
+  return d?.kind === "overloaded" || (!d && isTransientDbError(e));
+}
+
+/** An error that refuses the mutation for good, with its message as the reason (reasonOf). */
+function isRefusal(e: unknown): boolean {
+  const d = domainErrorOf(e);
+  return d ? d.kind !== "overloaded" : e instanceof LashInputError;
+}
+
 /**
  * Why a mutation is refused, for the phone. A failure of the moment (the server saturated, a lock
  * waited too long) is not a refusal: it fails the whole push, nothing is recorded, and the phone
@@ -106,23 +127,42 @@ class Later extends Error {}
  * doing either: it is "later" (the fix ships, the change goes through), never a refusal.
  */
 function reasonOf(e: unknown): string {
+  if (transient(e)) throw e;
   const d = domainErrorOf(e);
-  if (d?.kind === "overloaded" || (!d && isTransientDbError(e))) throw e;
   if (d) return d.message;
   if (e instanceof LashInputError) return e.message;
   log.error({ err: e }, "sync: a change could not be applied");
   throw new Later("the server could not apply this change yet");
 }
 
-/** Run one step in a savepoint; its post-commit work is kept only if the step succeeds. */
-async function step(tx: Tx, user: SessionUser, version: number, after: After[], fn: (w: WriteCtx) => Promise<void>) {
+/**
+ * Run one step, in a savepoint when careful; its post-commit work is kept only if it succeeds.
+ * Not careful, a failure that is not of the moment stops the attempt (StepFailed).
+ */
+async function step<T>(
+  tx: Tx,
+  user: SessionUser,
+  version: number,
+  after: After[],
+  careful: boolean,
+  fn: (w: WriteCtx) => Promise<T>,
+): Promise<T> {
   const mine: After[] = [];
-  await tx.transaction((sp) => {
-    phase("savepoint");
-    return fn({ tx: sp, user, version, later: (f) => mine.push(f) });
-  });
-  phase("savepoint release");
+  const ctx = (t: Tx): WriteCtx => ({ tx: t, user, version, later: (f) => mine.push(f) });
+  let out: T;
+  if (careful) {
+    out = await tx.transaction((sp) => {
+      phase("savepoint");
+      return fn(ctx(sp));
+    });
+    phase("savepoint release");
+  } else {
+    out = await fn(ctx(tx)).catch((e: unknown) => {
+      throw transient(e) ? e : new StepFailed("a step failed", { cause: e });
+    });
+  }
   after.push(...mine);
+  return out;
 }
 
 const readingArgs = (m: Parsed) => m.args as MutationArgs<"reading.put/1">;
@@ -138,9 +178,7 @@ export async function push(user: SessionUser, input: PushInput): Promise<PushRes
   if (charged > 0) await spendWrites(user, input.clientId, charged);
   phase("write budget");
   let applied = 0;
-  // a push that lost a write conflict (another device's push, another node) runs again from the
-  // start, its client row read afresh, so what the winner applied is skipped (db/retry.ts)
-  const lastMutationId = await retryConflicts(() =>
+  const attempt = (careful: boolean) =>
     transaction(async (tx) => {
       rejected = [];
       later = undefined;
@@ -169,24 +207,30 @@ export async function push(user: SessionUser, input: PushInput): Promise<PushRes
       if (fresh.length === 0) return last;
       const version = await nextVersion(tx, user.id);
       phase("version");
-      const reject = async (m: Parsed, reason: string) => {
-        rejected.push({ id: m.id, name: m.name, reason });
-        await q.recordRejected(tx, input.clientId, m.id, m.name, reason);
+      // this push's refusals, recorded together at the end
+      const refusals: PushResult["rejected"] = [];
+      const reject = (m: Parsed, reason: string) => {
+        const r = { id: m.id, name: m.name, reason };
+        rejected.push(r);
+        refusals.push(r);
       };
       const one = (m: Parsed) =>
-        step(tx, user, version, after, (w) => apply(w, m.name as MutationName, m.args as never)).catch((e: unknown) => {
-          // reasonOf decides before the savepoint's rollback is forgotten: Later stops the push below
-          const reason = (() => {
-            try {
-              return reasonOf(e);
-            } catch (x) {
-              if (x instanceof Later) later = { id: m.id, name: m.name, reason: x.message };
-              else throw x;
-              return null;
-            }
-          })();
-          if (reason !== null) return reject(m, reason);
-        });
+        step(tx, user, version, after, careful, (w) => apply(w, m.name as MutationName, m.args as never)).catch(
+          (e: unknown) => {
+            if (e instanceof StepFailed) throw e;
+            // reasonOf decides before the savepoint's rollback is forgotten: Later stops the push below
+            const reason = (() => {
+              try {
+                return reasonOf(e);
+              } catch (x) {
+                if (x instanceof Later) later = { id: m.id, name: m.name, reason: x.message };
+                else throw x;
+                return null;
+              }
+            })();
+            if (reason !== null) reject(m, reason);
+          },
+        );
       // the id of the last mutation this push has dealt with (applied or refused for good)
       let done = last;
       for (let i = 0; i < fresh.length && !later;) {
@@ -197,7 +241,7 @@ export async function push(user: SessionUser, input: PushInput): Promise<PushRes
           break;
         }
         if (m.reason) {
-          await reject(m, m.reason);
+          reject(m, m.reason);
           done = m.id;
           i++;
           continue;
@@ -216,15 +260,32 @@ export async function push(user: SessionUser, input: PushInput): Promise<PushRes
           const run = fresh.slice(i, j);
           if (run.length > 1) {
             // a transient failure throws (the whole push is tried again); any other one means
-            // something in the run is refused or failed: apply them one by one to find it
-            const ok = await step(tx, user, version, after, (w) => applyRun(w, "reading.put/1", run.map(readingArgs)))
+            // something in the run is refused or failed: find it
+            const ok = await step(tx, user, version, after, careful, (w) =>
+              applyRun(w, "reading.put/1", run.map(readingArgs)),
+            )
               .then(() => true)
               .catch((e: unknown) => {
-                const d = domainErrorOf(e);
-                if (d?.kind === "overloaded" || (!d && isTransientDbError(e))) throw e;
+                if (transient(e) || e instanceof StepFailed) throw e;
                 return false;
               });
             if (ok) {
+              done = run[run.length - 1]!.id;
+              i = j;
+              continue;
+            }
+            // each reading as if applied alone, in one step; what that cannot settle (a failure
+            // that is not a refusal) is found by applying them one by one below
+            const alone = await step(tx, user, version, after, careful, (w) =>
+              applyReadingsAlone(w, run.map(readingArgs), isRefusal),
+            ).catch((e: unknown) => {
+              if (transient(e)) throw e;
+              return null;
+            });
+            if (alone) {
+              run.forEach((r, k) => {
+                if (alone[k] !== undefined) reject(r, reasonOf(alone[k]));
+              });
               done = run[run.length - 1]!.id;
               i = j;
               continue;
@@ -242,11 +303,19 @@ export async function push(user: SessionUser, input: PushInput): Promise<PushRes
         if (!later) done = m.id;
         i++;
       }
+      await q.recordRejected(tx, input.clientId, refusals);
       if (done > last) await q.setLastMutation(tx, input.clientId, done);
       phase("device last id");
       // what a change held for later stopped is not this push's work either
       applied = fresh.filter((m) => m.id <= done).length;
       return done;
+    });
+  // a push that lost a write conflict (another device's push, another node) runs again from the
+  // start, its client row read afresh, so what the winner applied is skipped (db/retry.ts)
+  const lastMutationId = await retryConflicts(() =>
+    attempt(false).catch((e: unknown) => {
+      if (e instanceof StepFailed) return attempt(true);
+      throw e;
     }),
   ).catch(async (e: unknown) => {
     // nothing was applied (a refusal of the whole push, a failure of the moment): nothing is spent

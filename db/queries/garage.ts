@@ -159,6 +159,17 @@ export async function getCheckRow(ex: Executor, checkId: string) {
   return c;
 }
 
+/** A check and its engine in one round trip (the engine null only if the key between them were broken). */
+export async function getCheckAndEngine(ex: Executor, checkId: string) {
+  const [r] = await ex
+    .select({ check: checks, engine: engines })
+    .from(checks)
+    .leftJoin(engines, eq(engines.id, checks.engineId))
+    .where(eq(checks.id, checkId))
+    .limit(1);
+  return r;
+}
+
 type CheckFields = {
   odometer: number;
   measuredHot: boolean;

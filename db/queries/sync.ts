@@ -45,11 +45,19 @@ export async function setLastMutation(tx: Tx, clientId: string, id: number) {
   await tx.update(syncClients).set({ lastMutationId: id }).where(eq(syncClients.id, clientId));
 }
 
-export async function recordRejected(tx: Tx, clientId: string, mutationId: number, name: string, reason: string) {
+/** The push's refusals, kept for a push sent again (rejectedAmong): one multi-row statement. */
+export async function recordRejected(
+  tx: Tx,
+  clientId: string,
+  refusals: { id: number; name: string; reason: string }[],
+) {
+  if (refusals.length === 0) return;
   await tx
     .insert(rejectedMutations)
-    .values({ clientId, mutationId, name: name.slice(0, 60), reason: reason.slice(0, 500) })
-    .onDuplicateKeyUpdate({ set: { reason: reason.slice(0, 500) } });
+    .values(
+      refusals.map((r) => ({ clientId, mutationId: r.id, name: r.name.slice(0, 60), reason: r.reason.slice(0, 500) })),
+    )
+    .onDuplicateKeyUpdate({ set: { reason: sql`VALUES(${sql.identifier(rejectedMutations.reason.name)})` } });
 }
 
 /** The refusals already recorded among these ids: a push sent again after a lost answer gets them again. */
