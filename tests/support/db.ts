@@ -1,4 +1,4 @@
-import mysql from "mysql2/promise";
+import mysql, { type RowDataPacket } from "mysql2/promise";
 
 export function testDbUrl(): string {
   const url = process.env.LASHWRIGHT_TEST_DB_URL;
@@ -9,4 +9,42 @@ export function testDbUrl(): string {
 /** A raw connection for assertions that must not go through the code under test. */
 export function rawConnection(): Promise<mysql.Connection> {
   return mysql.createConnection({ uri: testDbUrl(), supportBigNumbers: true });
+}
+
+/**
+ * The `n` of a counting query (`SELECT COUNT(*) AS n ...`), read on `on` when given, else on a raw
+ * connection of its own.
+ */
+export async function countOf(sql: string, args: unknown[] = [], on?: mysql.Connection): Promise<number> {
+  const db = on ?? (await rawConnection());
+  try {
+    const [rows] = await db.query<RowDataPacket[]>(sql, args);
+    return Number(rows[0]!.n);
+  } finally {
+    if (!on) await db.end();
+  }
+}
+
+/**
+ * How far the server's readings of one check are from what the phone wrote (`valve#round` to the
+ * blade that went): readings missing or different, plus readings the phone never wrote.
+ */
+export async function readingsDiffering(db: mysql.Connection, checkId: string, written: Map<string, number>) {
+  const [rows] = await db.query<RowDataPacket[]>("SELECT valve, round, feeler_go FROM readings WHERE check_id = ?", [
+    checkId,
+  ]);
+  const server = new Map(rows.map((r) => [`${r.valve}#${r.round}`, Number(r.feeler_go)]));
+  return (
+    [...written].filter(([k, v]) => server.get(k) !== v).length +
+    [...server.keys()].filter((k) => !written.has(k)).length
+  );
+}
+
+/** History rows of these checks' readings: each (valve, round) is written once, so a row is a change applied twice. */
+export async function appliedTwice(db: mysql.Connection, checkIds: string[]) {
+  const [[hist]] = await db.query<RowDataPacket[]>(
+    "SELECT COUNT(*) AS n FROM reading_history h JOIN readings r ON r.id = h.reading_id WHERE r.check_id IN (?)",
+    [checkIds],
+  );
+  return Number(hist!.n);
 }
