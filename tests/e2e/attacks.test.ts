@@ -1,17 +1,14 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser, Page } from "playwright-core";
-import { baseUrl, DEMO_PASSWORD, launch, phoneContext, signInAs } from "../support/browser";
+import { describe, expect, it } from "vitest";
+import type { Page } from "playwright-core";
+import { baseUrl, DEMO_PASSWORD, phoneContext, signInAs } from "../support/browser";
 import { inbox, linkToken, waitForMail } from "../support/mail";
+import { browserPerFile } from "../support/per-file";
 
 /**
  * The attacks of issue 15 that need a real browser. OWASP ASVS 5.0 V3 Web Frontend Security
  * (redirects), V7 Session Management (login forgery, sign-out). Demo users from db/seed.ts.
  */
-let browser: Browser;
-beforeAll(async () => {
-  browser = await launch();
-});
-afterAll(() => browser?.close());
+const browser = browserPerFile();
 
 async function fillSignIn(page: Page, email: string) {
   await page.getByLabel("E-mail").fill(email);

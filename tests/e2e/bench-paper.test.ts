@@ -1,13 +1,14 @@
 import { readFileSync } from "node:fs";
 import Papa from "papaparse";
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser, Locator, Page } from "playwright-core";
+import { describe, expect, it } from "vitest";
+import type { Locator, Page } from "playwright-core";
 import { drawnValveOrder } from "@/lib/check/diagram";
 import { valveNames } from "@/lib/lash";
 import { signedInClient, type Client } from "../support/api";
-import { baseUrl, launch, signInAs } from "../support/browser";
+import { baseUrl, signInAs } from "../support/browser";
 import { addMembership, makeUser } from "../support/fixtures";
 import { waitForMail } from "../support/mail";
+import { browserPerFile } from "../support/per-file";
 
 /**
  * Paper that matches the phone, on a 360 px phone in light and dark: the printed worksheet, the
@@ -18,11 +19,7 @@ import { waitForMail } from "../support/mail";
  * loan read from the lender's side, an offer lent out, an invitation that says what it did.
  * Engines and readings are invented test data.
  */
-let browser: Browser;
-beforeAll(async () => {
-  browser = await launch();
-});
-afterAll(() => browser?.close());
+const browser = browserPerFile();
 
 const SIX = {
   name: "Bench six",

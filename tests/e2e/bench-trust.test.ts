@@ -1,8 +1,8 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser } from "playwright-core";
+import { describe, expect, it } from "vitest";
 import { signedInClient, type Client } from "../support/api";
-import { baseUrl, launch, signInAs } from "../support/browser";
+import { baseUrl, signInAs } from "../support/browser";
 import { makeUser } from "../support/fixtures";
+import { browserPerFile } from "../support/per-file";
 
 /**
  * Trust at the bench, on a 360 px phone: a check opens on the step its work is in, an engine has one
@@ -10,11 +10,7 @@ import { makeUser } from "../support/fixtures";
  * the current step's tab is in view, and the history claims a trend only where the checks hold one.
  * The engine and readings are invented.
  */
-let browser: Browser;
-beforeAll(async () => {
-  browser = await launch();
-});
-afterAll(() => browser?.close());
+const browser = browserPerFile();
 
 const BANDS = { intake: { min: 0.1, max: 0.2 }, exhaust: { min: 0.2, max: 0.3 } };
 

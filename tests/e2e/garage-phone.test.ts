@@ -1,21 +1,18 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser, BrowserContext, Page } from "playwright-core";
+import { describe, expect, it } from "vitest";
+import type { BrowserContext, Page } from "playwright-core";
 import { signedInClient, type Client } from "../support/api";
-import { baseUrl, launch } from "../support/browser";
+import { baseUrl } from "../support/browser";
 import { addMembership, makeUser } from "../support/fixtures";
 import { measuringOrder } from "@/lib/check/measuring";
 import { waitForMail } from "../support/mail";
+import { browserPerFile } from "../support/per-file";
 
 /**
  * The garage screens on small phones (360 and 390 px wide): the engine diagram for engines of 1 to
  * 16 cylinders, the measuring mode on a 24-valve inline six (taps counted), the engine's facing,
  * the mentor's links and the whole story of a check. All engines and readings are invented.
  */
-let browser: Browser;
-beforeAll(async () => {
-  browser = await launch();
-});
-afterAll(() => browser?.close());
+const browser = browserPerFile();
 
 const phone = (width: number): Promise<BrowserContext> =>
   browser.newContext({

@@ -1,17 +1,13 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser } from "playwright-core";
-import { baseUrl, launch, phoneContext, signInAs } from "../support/browser";
+import { describe, expect, it } from "vitest";
+import { baseUrl, phoneContext, signInAs } from "../support/browser";
 import { clubScenario, offerSpares } from "../support/club-scenario";
 import { waitForMail } from "../support/mail";
+import { browserPerFile } from "../support/per-file";
 
 // A club of this test's own (tests/support/club-scenario.ts): the lender offers spares of every size
 // the mechanic's open plan could buy. The demo data is shared with other files (the review test gives
 // verdicts on the same check), so this test makes its own, and the order of files changes nothing.
-let browser: Browser;
-beforeAll(async () => {
-  browser = await launch();
-});
-afterAll(() => browser?.close());
+const browser = browserPerFile();
 
 describe("borrowing from the club pool", () => {
   it("the plan borrows a size a member offers instead of buying it; the lender agrees", async () => {

@@ -1,18 +1,15 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser, Page } from "playwright-core";
-import { baseUrl, launch, phoneContext, signInAs } from "../support/browser";
+import { describe, expect, it } from "vitest";
+import type { Page } from "playwright-core";
+import { baseUrl, phoneContext, signInAs } from "../support/browser";
 import { clubScenario, type Person } from "../support/club-scenario";
 import { waitForMail } from "../support/mail";
 import { cameraJpeg } from "../support/photos";
+import { browserPerFile } from "../support/per-file";
 
 // Each test makes its own club, mentor, mechanic and checks (tests/support/club-scenario.ts): the
 // demo data is shared with other files (the pool test borrows for the same check), so a verdict or
 // a loan there could change what this file sees, depending on the order the files run in.
-let browser: Browser;
-beforeAll(async () => {
-  browser = await launch();
-});
-afterAll(() => browser?.close());
+const browser = browserPerFile();
 
 const signIn = (page: Page, p: Person) => signInAs(page, p.email, p.password);
 const esc = (s: string) => s.replace(/[.*+?^${}()|[\]\\]/g, "\\$&");

@@ -1,11 +1,10 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import { strFromU8, strToU8, unzipSync, zipSync, type Zippable } from "fflate";
 import sharp from "sharp";
 import { signedInClient, type Client } from "../../support/api";
 import { rawConnection } from "../../support/db";
 import { addMembership, ENGINE_FOUR, makeUser } from "../../support/fixtures";
 import { cameraJpeg, photoForm, storedKeys } from "../../support/photos";
-import { startApp, type App } from "../../support/server";
 import {
   EXPORT_DATA_ENTRY,
   IMPORT_LIMITS,
@@ -15,6 +14,7 @@ import {
   previousOf,
   type ExportDocument,
 } from "@/lib/export/schema";
+import { appPerFile } from "../../support/per-file";
 
 /**
  * The account export and its way back (issue 31 items 1-2): a history with photos goes out as one
@@ -22,11 +22,7 @@ import {
  * are newer, damaged, too large, or sent to an account that holds something are refused and change
  * nothing.
  */
-let app: App;
-beforeAll(async () => {
-  app = await startApp();
-});
-afterAll(() => app?.stop());
+const app = appPerFile();
 
 const signedIn = (u: { email: string; password: string }) => signedInClient(app.url, u);
 

@@ -1,8 +1,8 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import { Client } from "../../support/api";
 import { makeUser } from "../../support/fixtures";
 import { linkToken, waitForMail, inbox } from "../../support/mail";
-import { startApp, type App } from "../../support/server";
+import { appPerFile } from "../../support/per-file";
 
 /**
  * The owner locked out (issue 24, item 2): a stranger's five wrong passwords and five reset requests
@@ -11,11 +11,7 @@ import { startApp, type App } from "../../support/server";
  * 800-63B 5.2.2: rate limiting must not let an attacker deny the subscriber; OWASP ASVS 5.0 V6
  * Authentication. A link already in the owner's inbox keeps working.
  */
-let app: App;
-beforeAll(async () => {
-  app = await startApp();
-});
-afterAll(() => app?.stop());
+const app = appPerFile();
 
 const DEVICE_COOKIE = "lashwright-device";
 

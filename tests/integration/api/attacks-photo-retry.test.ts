@@ -1,11 +1,11 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import sharp from "sharp";
 import { DeleteObjectCommand, S3Client } from "@aws-sdk/client-s3";
 import { signedInClient, type Client } from "../../support/api";
 import { rawConnection } from "../../support/db";
 import { ENGINE_FOUR, makeUser } from "../../support/fixtures";
 import { noisyPng, photoForm, storedKeys } from "../../support/photos";
-import { startApp, type App } from "../../support/server";
+import { appPerFile } from "../../support/per-file";
 
 /**
  * Issue 24 item 8: the same photo id sent twice at once (the phone's retry while the first try is
@@ -13,12 +13,8 @@ import { startApp, type App } from "../../support/server";
  * answered 500, the next retry got 200 and the phone let its copy go. The row is now written first
  * and a duplicate never deletes; these play the race many times over.
  */
-let app: App;
-beforeAll(async () => {
-  // the budget is not what this file is about: 20 x 20 sends of one account must not reach it
-  app = await startApp({ PHOTO_UPLOADS_PER_HOUR: "10000" });
-});
-afterAll(() => app?.stop());
+// the budget is not what this file is about: 20 x 20 sends of one account must not reach it
+const app = appPerFile({ PHOTO_UPLOADS_PER_HOUR: "10000" });
 
 async function owner(tag: string) {
   const c = await signedInClient(app.url, await makeUser(tag));

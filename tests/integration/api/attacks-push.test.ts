@@ -1,8 +1,8 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import { signedInClient, type Client } from "../../support/api";
 import { countOf } from "../../support/db";
 import { ENGINE_FOUR, makeUser } from "../../support/fixtures";
-import { startApp, type App } from "../../support/server";
+import { appPerFile } from "../../support/per-file";
 
 /**
  * What an attacker tries on the sync push (issue 24, items 4 and 10), with the server's default
@@ -15,11 +15,7 @@ const PER_PUSH = 200;
 const PER_DEVICE = 600;
 const PER_ACCOUNT = 1200;
 
-let app: App;
-beforeAll(async () => {
-  app = await startApp();
-});
-afterAll(() => app?.stop());
+const app = appPerFile();
 
 const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
 

@@ -1,19 +1,15 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import { signedInClient, type Client } from "../../support/api";
 import { addMembership, ENGINE_FOUR, makeUser } from "../../support/fixtures";
 import { rawConnection } from "../../support/db";
-import { startApp, type App } from "../../support/server";
+import { appPerFile } from "../../support/per-file";
 
 /**
  * Attacks on the club rules, each played through the API as a member would: what a membership
  * held open after it ended, one club reading another's review thread, a comment id reused, a
  * mentor passing their own check, and names carrying control characters.
  */
-let app: App;
-beforeAll(async () => {
-  app = await startApp({ NOTICE_RETRY_SECONDS: "1" });
-});
-afterAll(() => app?.stop());
+const app = appPerFile({ NOTICE_RETRY_SECONDS: "1" });
 
 type U = Awaited<ReturnType<typeof makeUser>>;
 const signedIn = (u: U) => signedInClient(app.url, u);

@@ -1,18 +1,14 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import { Client, signedInClient } from "../../support/api";
 import { makeUser } from "../../support/fixtures";
 import { inbox, linkToken } from "../../support/mail";
-import { startApp, type App } from "../../support/server";
+import { appPerFile } from "../../support/per-file";
 
 /**
  * Sessions and links that outlive what should end them (issue 24, item 12; OWASP ASVS 5.0 V7
  * Session Management, V6 Authentication). A "phone" here is a Client with its own cookie jar.
  */
-let app: App;
-beforeAll(async () => {
-  app = await startApp();
-});
-afterAll(() => app?.stop());
+const app = appPerFile();
 
 /** The next mail to `address` whose subject matches: one that was not there before `before` was counted. */
 async function nextMail(address: string, subject: RegExp, before: number) {

@@ -1,6 +1,6 @@
 import { readFileSync, writeFileSync } from "node:fs";
 import mysql from "mysql2/promise";
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import { Client, signedInClient } from "../../support/api";
 import { rawConnection, testDbUrl } from "../../support/db";
 import { addMembership, ENGINE_FOUR, makeUser } from "../../support/fixtures";
@@ -8,18 +8,15 @@ import { cameraJpeg, photoForm, storedKeys } from "../../support/photos";
 import { inbox, linkToken, waitForMail } from "../../support/mail";
 import { startApp, type App } from "../../support/server";
 import { hashPassword } from "@/server/password";
+import { appPerFile } from "../../support/per-file";
 
 /**
  * What an attacker tries first, one test per attack (issue 15). References beside each:
  * OWASP ASVS 5.0 (V3 Web Frontend Security, V4 API and Web Service, V5 File Handling, V6
  * Authentication, V7 Session Management) and NIST SP 800-63B (chapter and section named where sure).
  */
-let app: App;
-beforeAll(async () => {
-  // the server prints a line per password hash it computes: the timing tests below count work
-  app = await startApp({ LASHWRIGHT_COUNT_HASHES: "1" });
-});
-afterAll(() => app?.stop());
+// the server prints a line per password hash it computes: the timing tests below count work
+const app = appPerFile({ LASHWRIGHT_COUNT_HASHES: "1" });
 
 const fresh = (tag: string) => `${tag}-${crypto.randomUUID().slice(0, 8)}@test.example`;
 

@@ -1,8 +1,8 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import { Client, signedInClient } from "../../support/api";
 import { addMembership, makeUser } from "../../support/fixtures";
 import { waitForMail } from "../../support/mail";
-import { startApp, type App } from "../../support/server";
+import { appPerFile } from "../../support/per-file";
 
 /**
  * Mails a mechanic can act on without opening them first: a comment, a verdict and each step of a
@@ -10,11 +10,7 @@ import { startApp, type App } from "../../support/server";
  * plain words. Also the engine's side nearest the mechanic, which older phones' mutations keep, and
  * what an accepted invitation answers. Engines and readings are invented test data.
  */
-let app: App;
-beforeAll(async () => {
-  app = await startApp({ NOTICE_RETRY_SECONDS: "1" });
-});
-afterAll(() => app?.stop());
+const app = appPerFile({ NOTICE_RETRY_SECONDS: "1" });
 
 const signedIn = (u: { email: string; password: string }) => signedInClient(app.url, u);
 const SIX = {

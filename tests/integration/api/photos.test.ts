@@ -1,17 +1,13 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import exifr from "exifr";
 import sharp from "sharp";
 import { signedInClient } from "../../support/api";
 import { rawConnection } from "../../support/db";
 import { addMembership, ENGINE_FOUR, makeUser } from "../../support/fixtures";
 import { cameraJpeg, photoForm, storedKeys } from "../../support/photos";
-import { startApp, type App } from "../../support/server";
+import { appPerFile } from "../../support/per-file";
 
-let app: App;
-beforeAll(async () => {
-  app = await startApp();
-});
-afterAll(() => app?.stop());
+const app = appPerFile();
 
 const signedIn = (u: { email: string; password: string }) => signedInClient(app.url, u);
 

@@ -1,5 +1,5 @@
 import { LABEL_FORBIDDEN } from "@/lib/schemas/label";
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import { readdirSync, statSync } from "node:fs";
 import path from "node:path";
 import { Client } from "../../support/api";
@@ -8,13 +8,10 @@ import { addMembership, ENGINE_FOUR, FIXTURE_PASSWORD, makeUser } from "../../su
 import { linkToken, waitForMail } from "../../support/mail";
 import { routesOnDisk } from "../../support/routes";
 import { startApp, type App } from "../../support/server";
+import { appPerFile } from "../../support/per-file";
 
 /** Headers, cookies, passwords, secrets and hostile text: the security checks that need a server. */
-let app: App;
-beforeAll(async () => {
-  app = await startApp();
-});
-afterAll(() => app?.stop());
+const app = appPerFile();
 
 async function signedIn(a: App, u: { email: string; password: string }) {
   const c = new Client(a.url);

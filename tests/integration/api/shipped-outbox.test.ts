@@ -1,20 +1,16 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import { signedInClient, type Client } from "../../support/api";
 import { rawConnection } from "../../support/db";
 import { addMembership, makeUser } from "../../support/fixtures";
-import { startApp, type App } from "../../support/server";
 import { IDS, SHIPPED } from "../../fixtures/shipped-outbox";
+import { appPerFile } from "../../support/per-file";
 
 /**
  * An outbox as older apps wrote it: every mutation name and shape ever shipped
  * (tests/fixtures/shipped-outbox.ts), pushed by the people who would have queued it, in order.
  * The server must apply every one: none refused, none held back for later.
  */
-let app: App;
-beforeAll(async () => {
-  app = await startApp();
-});
-afterAll(() => app?.stop());
+const app = appPerFile();
 
 async function one<T>(sql: string, args: unknown[]): Promise<T | undefined> {
   const db = await rawConnection();
