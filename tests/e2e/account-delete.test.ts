@@ -2,7 +2,7 @@ import { describe, expect, it } from "vitest";
 import type { Page } from "playwright-core";
 import { AxeBuilder } from "@axe-core/playwright";
 import { signedInClient } from "../support/api";
-import { baseUrl, signInAs } from "../support/browser";
+import { baseUrl, signedInPhone } from "../support/browser";
 import { addMembership, ENGINE_FOUR, makeUser } from "../support/fixtures";
 import { browserPerFile } from "../support/per-file";
 
@@ -35,15 +35,7 @@ describe("deleting the account on a phone", () => {
     await pc.post(`/api/engines/${engineId}/checks`, { odometer: 31_000 });
     await pc.post("/api/tray", { size: 2.6, count: 2 });
 
-    const ctx = await browser.newContext({
-      viewport: { width: 360, height: 780 },
-      deviceScaleFactor: 2,
-      isMobile: true,
-      hasTouch: true,
-      colorScheme: "light",
-    });
-    const page = await ctx.newPage();
-    await signInAs(page, u.email, u.password);
+    const { ctx, page } = await signedInPhone(browser, u, { colorScheme: "light" });
     await page.goto(`${baseUrl()}/account`);
     await page.getByRole("button", { name: "Delete my account…" }).tap();
     await page.getByRole("heading", { name: "What deleting does" }).waitFor();

@@ -5,10 +5,11 @@ import type { Locator, Page } from "playwright-core";
 import { drawnValveOrder } from "@/lib/check/diagram";
 import { valveNames } from "@/lib/lash";
 import { signedInClient, type Client } from "../support/api";
-import { baseUrl, signInAs } from "../support/browser";
+import { baseUrl, signedInPhone } from "../support/browser";
 import { addMembership, makeUser } from "../support/fixtures";
 import { waitForMail } from "../support/mail";
 import { browserPerFile } from "../support/per-file";
+import { pushAccepted } from "../support/push";
 
 /**
  * Paper that matches the phone, on a 360 px phone in light and dark: the printed worksheet, the
@@ -43,15 +44,6 @@ const TWIN = {
 };
 const sixViews = valveNames(SIX).map((valve) => ({ valve }));
 
-async function push(api: Client, mutations: { name: string; args: unknown }[]) {
-  const res = await api.post("/api/sync/push", {
-    clientId: crypto.randomUUID(),
-    mutations: mutations.map((m, i) => ({ id: i + 1, ...m })),
-  });
-  expect(res.status).toBe(200);
-  expect(res.json.rejected ?? []).toEqual([]);
-}
-
 const engineArgs = (id: string, e: typeof SIX, extra: object) => ({
   id,
   ...e,
@@ -73,7 +65,7 @@ async function plannedSix(api: Client) {
     const [go, noGo] = valve.startsWith("I") ? [0.15, 0.18] : [0.25, 0.28];
     return { valve, round: 0, installedStamp: 2.6, feelerGo: go, feelerNoGo: noGo, measured: go, method: "feeler" };
   };
-  await push(api, [
+  await pushAccepted(api, [
     {
       name: "engine.put/3",
       args: engineArgs(engineId, SIX, { mirrored: true, shimPosition: "under", nearSide: "exhaust" }),
@@ -92,7 +84,7 @@ async function recheckTwin(api: Client) {
     name: "reading.put/1",
     args: { checkId, reading: { valve, round, installedStamp: 2.6, ...extra } },
   });
-  await push(api, [
+  await pushAccepted(api, [
     {
       name: "engine.put/3",
       args: engineArgs(engineId, TWIN, { mirrored: false, shimPosition: "over", nearSide: "exhaust" }),
@@ -179,16 +171,7 @@ describe("paper that matches the phone, numbers as they were given (360 px)", ()
       const api = await signedInClient(baseUrl(), u);
       const six = await plannedSix(api);
       const twin = await recheckTwin(api);
-      const ctx = await browser.newContext({
-        viewport: { width: 360, height: 780 },
-        deviceScaleFactor: 2,
-        isMobile: true,
-        hasTouch: true,
-        colorScheme: scheme,
-        acceptDownloads: true,
-      });
-      const page = await ctx.newPage();
-      await signInAs(page, u.email, u.password);
+      const { ctx, page } = await signedInPhone(browser, u, { colorScheme: scheme, acceptDownloads: true });
 
       // mirrored, the exhausts nearest: the phone, the paper and the review agree, I1.2 left of I1.1
       const mirrored = await compareDrawings(
@@ -318,15 +301,7 @@ describe("paper that matches the phone, numbers as they were given (360 px)", ()
         /\/invite\?token=([A-Za-z0-9_%-]+)/.exec((await waitForMail(lender.email, /invites you/)).text)![1]!,
       );
 
-      const ctx = await browser.newContext({
-        viewport: { width: 360, height: 780 },
-        deviceScaleFactor: 2,
-        isMobile: true,
-        hasTouch: true,
-        colorScheme: scheme,
-      });
-      const page = await ctx.newPage();
-      await signInAs(page, lender.email, lender.password);
+      const { ctx, page } = await signedInPhone(browser, lender, { colorScheme: scheme });
       await page.goto(`${baseUrl()}/club`);
       const loan = page.getByTestId(`loan-${loanId}`);
       await loan.getByText("asks you for them: agree or decline").waitFor({ timeout: 20_000 });

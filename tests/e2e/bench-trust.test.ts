@@ -1,8 +1,9 @@
 import { describe, expect, it } from "vitest";
 import { signedInClient, type Client } from "../support/api";
-import { baseUrl, signInAs } from "../support/browser";
+import { baseUrl, signedInPhone } from "../support/browser";
 import { makeUser } from "../support/fixtures";
 import { browserPerFile } from "../support/per-file";
+import { pushAccepted } from "../support/push";
 
 /**
  * Trust at the bench, on a 360 px phone: a check opens on the step its work is in, an engine has one
@@ -13,15 +14,6 @@ import { browserPerFile } from "../support/per-file";
 const browser = browserPerFile();
 
 const BANDS = { intake: { min: 0.1, max: 0.2 }, exhaust: { min: 0.2, max: 0.3 } };
-
-async function push(api: Client, mutations: { name: string; args: unknown }[]) {
-  const res = await api.post("/api/sync/push", {
-    clientId: crypto.randomUUID(),
-    mutations: mutations.map((m, i) => ({ id: i + 1, ...m })),
-  });
-  expect(res.status).toBe(200);
-  expect(res.json.rejected ?? []).toEqual([]);
-}
 
 /** An invented single: closed checks at 0, 20,000 and 40,000 km and an older one left at Fit (10,000 km). */
 async function singleWithHistory(api: Client) {
@@ -38,7 +30,7 @@ async function singleWithHistory(api: Client) {
     name: "reading.put/1",
     args: { checkId, reading: { valve, round: 0, installedStamp: 2.6, feelerGo: go, feelerNoGo: noGo } },
   });
-  await push(api, [
+  await pushAccepted(api, [
     {
       name: "engine.put/1",
       args: {
@@ -69,7 +61,7 @@ async function plannedTwin(api: Client) {
     name: "reading.put/1",
     args: { checkId, reading: { valve, round: 0, installedStamp: 2.6, measured, method: "typed" } },
   });
-  await push(api, [
+  await pushAccepted(api, [
     {
       name: "engine.put/1",
       args: {
@@ -98,15 +90,7 @@ describe("trust at the bench on a 360 px phone", () => {
       const u = await makeUser(`bench-${scheme}`);
       const api = await signedInClient(baseUrl(), u);
       const ids = await singleWithHistory(api);
-      const ctx = await browser.newContext({
-        viewport: { width: 360, height: 780 },
-        deviceScaleFactor: 2,
-        isMobile: true,
-        hasTouch: true,
-        colorScheme: scheme,
-      });
-      const page = await ctx.newPage();
-      await signInAs(page, u.email, u.password);
+      const { ctx, page } = await signedInPhone(browser, u, { colorScheme: scheme });
 
       await page.goto(`${baseUrl()}/engine?id=${ids.engineId}`);
       // one check under way: no second start form, a way back to the open one

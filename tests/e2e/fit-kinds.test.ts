@@ -1,7 +1,7 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser, BrowserContext, Page } from "playwright-core";
+import type { Browser, Page } from "playwright-core";
 import { signedInClient } from "../support/api";
-import { baseUrl, launch, signInAs } from "../support/browser";
+import { baseUrl, launch, signedInPhone } from "../support/browser";
 import { makeUser } from "../support/fixtures";
 import { OVER_BUCKET_CAUTIONS, OVER_BUCKET_METHOD, prepareCautions, UNDER_BUCKET_FIT } from "@/lib/check/shim-position";
 
@@ -14,7 +14,6 @@ import { OVER_BUCKET_CAUTIONS, OVER_BUCKET_METHOD, prepareCautions, UNDER_BUCKET
  * Engines, bands and readings are invented test data.
  */
 let browser: Browser;
-let ctx: BrowserContext;
 let page: Page;
 const made: Record<"under" | "over", { engineId: string; checkId: string; name: string }> = {} as never;
 
@@ -69,15 +68,7 @@ beforeAll(async () => {
     made[kind] = { engineId: engine.id, checkId, name: e.name };
   }
   browser = await launch();
-  ctx = await browser.newContext({
-    viewport: { width: 390, height: 844 },
-    deviceScaleFactor: 2,
-    isMobile: true,
-    hasTouch: true,
-    colorScheme: "dark",
-  });
-  page = await ctx.newPage();
-  await signInAs(page, u.email, u.password);
+  ({ page } = await signedInPhone(browser, u, { width: 390, height: 844, colorScheme: "dark" }));
   await page.getByText(UNDER.name).waitFor({ timeout: 20_000 });
 });
 afterAll(() => browser?.close());

@@ -1,11 +1,12 @@
 import { describe, expect, it } from "vitest";
-import type { BrowserContext, Page } from "playwright-core";
+import type { Page } from "playwright-core";
 import { signedInClient, type Client } from "../support/api";
-import { baseUrl } from "../support/browser";
+import { baseUrl, narrowPhone, signInAs } from "../support/browser";
 import { addMembership, makeUser } from "../support/fixtures";
 import { measuringOrder } from "@/lib/check/measuring";
 import { waitForMail } from "../support/mail";
 import { browserPerFile } from "../support/per-file";
+import { pushAccepted } from "../support/push";
 
 /**
  * The garage screens on small phones (360 and 390 px wide): the engine diagram for engines of 1 to
@@ -14,36 +15,12 @@ import { browserPerFile } from "../support/per-file";
  */
 const browser = browserPerFile();
 
-const phone = (width: number): Promise<BrowserContext> =>
-  browser.newContext({
-    viewport: { width, height: 800 },
-    deviceScaleFactor: 2,
-    isMobile: true,
-    hasTouch: true,
-    colorScheme: "dark",
-  });
-
-async function signIn(page: Page, u: { email: string; password: string }) {
-  await page.goto(`${baseUrl()}/sign-in`);
-  await page.getByLabel("E-mail").fill(u.email);
-  await page.getByLabel("Password").fill(u.password);
-  await page.getByRole("button", { name: "Sign in", exact: true }).tap();
-  await page.waitForURL("**/engines");
-}
+const phone = (width: number) => narrowPhone(browser, { width, height: 800, colorScheme: "dark" });
+const signIn = (page: Page, u: { email: string; password: string }) => signInAs(page, u.email, u.password);
 
 const seq = (n: number) => Array.from({ length: n }, (_, i) => i + 1);
 // invented bands (not from any manual): intake 0.10-0.20, exhaust 0.20-0.30
 const BANDS = { intake: { min: 0.1, max: 0.2 }, exhaust: { min: 0.2, max: 0.3 } };
-
-/** Records as the phone's outbox sends them, pushed in one request. */
-async function push(api: Client, mutations: { name: string; args: unknown }[]) {
-  const res = await api.post("/api/sync/push", {
-    clientId: crypto.randomUUID(),
-    mutations: mutations.map((m, i) => ({ id: i + 1, ...m })),
-  });
-  expect(res.status).toBe(200);
-  expect(res.json.rejected ?? []).toEqual([]);
-}
 
 /** An engine of this layout with one check: in band, tight, loose and unmeasured valves in turn. */
 async function engineWithCheck(
@@ -81,7 +58,7 @@ async function engineWithCheck(
           },
         });
       }
-  await push(api, [
+  await pushAccepted(api, [
     {
       name: "engine.put/1",
       args: {
@@ -236,7 +213,7 @@ describe("measuring a 24-valve engine on a 390 px phone", () => {
   async function sixWithCheck(api: Client) {
     const engineId = crypto.randomUUID();
     const checkId = crypto.randomUUID();
-    await push(api, [
+    await pushAccepted(api, [
       { name: "engine.put/1", args: { id: engineId, name: "Stand six", ...SIX } },
       {
         name: "check.put/1",
@@ -398,7 +375,7 @@ describe("a mentor's links and the whole story of a check", () => {
       name: "reading.put/1",
       args: { checkId, reading: { valve, round, method: "feeler", ...fields } },
     });
-    await push(api, [
+    await pushAccepted(api, [
       {
         name: "engine.put/1",
         args: {

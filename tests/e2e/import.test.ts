@@ -1,6 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { Browser, BrowserContext, Page } from "playwright-core";
-import { baseUrl, launch, phoneContext } from "../support/browser";
+import { baseUrl, launch, phoneContext, signInAs } from "../support/browser";
 import { signedInClient } from "../support/api";
 import { rawConnection } from "../support/db";
 import { ENGINE_FOUR, makeUser } from "../support/fixtures";
@@ -39,11 +39,7 @@ beforeAll(async () => {
   browser = await launch();
   ctx = await phoneContext(browser, "light");
   page = await ctx.newPage();
-  await page.goto(`${baseUrl()}/sign-in`);
-  await page.getByLabel("E-mail").fill(u.email);
-  await page.getByLabel("Password").fill(u.password);
-  await page.getByRole("button", { name: "Sign in", exact: true }).tap();
-  await page.waitForURL("**/engines");
+  await signInAs(page, u.email, u.password);
   await page.goto(`${baseUrl()}/engine?id=${engineId}`);
   await page.getByRole("heading", { name: ENGINE_FOUR.name }).waitFor();
 });

@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { signedInClient } from "../support/api";
-import { baseUrl, phoneContext } from "../support/browser";
+import { baseUrl, phoneContext, signInAs } from "../support/browser";
 import { ENGINE_FOUR, makeUser } from "../support/fixtures";
 import { browserPerFile } from "../support/per-file";
 
@@ -29,11 +29,7 @@ describe("a phone whose session was ended elsewhere", () => {
 
     const ctx = await phoneContext(browser);
     const page = await ctx.newPage();
-    await page.goto(`${baseUrl()}/sign-in`);
-    await page.getByLabel("E-mail").fill(u.email);
-    await page.getByLabel("Password").fill(u.password);
-    await page.getByRole("button", { name: "Sign in", exact: true }).tap();
-    await page.waitForURL("**/engines");
+    await signInAs(page, u.email, u.password);
     await page.getByText("Kept-secret four").waitFor();
     // the service worker serves the garage shells offline
     await page.evaluate(async () => {

@@ -6,7 +6,7 @@ import type { Browser } from "playwright-core";
 import { checkPlan, valveViews } from "@/lib/check/derive";
 import { camsOut, camsOutWords } from "@/lib/lash";
 import type { LocalEngine, LocalReading } from "@/lib/sync/local-db";
-import { baseUrl, launch, phoneContext } from "../support/browser";
+import { baseUrl, launch, phoneContext, signInAs } from "../support/browser";
 import { signedInClient } from "../support/api";
 import { makeUser } from "../support/fixtures";
 
@@ -101,11 +101,7 @@ describe("the printed worksheet", () => {
       const { checkId, engine, readings } = made[key]!;
       const ctx = await phoneContext(browser, "dark");
       const page = await ctx.newPage();
-      await page.goto(`${baseUrl()}/sign-in`);
-      await page.getByLabel("E-mail").fill(user.email);
-      await page.getByLabel("Password").fill(user.password);
-      await page.getByRole("button", { name: "Sign in", exact: true }).tap();
-      await page.waitForURL("**/engines");
+      await signInAs(page, user.email, user.password);
       await page.goto(`${baseUrl()}/check?id=${checkId}&step=plan`);
       await page.getByRole("button", { name: "Print worksheet" }).waitFor();
       await page.locator("article.worksheet").waitFor({ state: "attached" });

@@ -1,4 +1,4 @@
-import { chromium, type Browser, type BrowserContext, type Page } from "playwright-core";
+import { chromium, type Browser, type BrowserContext, type BrowserContextOptions, type Page } from "playwright-core";
 
 /** Debian's Chromium, with the flags that keep it from calling out of this closed network. */
 export const CHROMIUM_ARGS = [
@@ -43,6 +43,35 @@ export async function signInAs(page: Page, email: string, password = DEMO_PASSWO
   await page.getByLabel("Password").fill(password);
   await page.getByRole("button", { name: "Sign in", exact: true }).tap();
   await page.waitForURL("**/engines");
+}
+
+/**
+ * A narrow phone: `width` x `height` CSS pixels (360 x 780 unless given), touch, 2x density, in the
+ * given colour scheme; other context options (downloads, say) pass through.
+ */
+export function narrowPhone(
+  browser: Browser,
+  { width = 360, height = 780, ...options }: { width?: number; height?: number } & BrowserContextOptions,
+): Promise<BrowserContext> {
+  return browser.newContext({
+    viewport: { width, height },
+    deviceScaleFactor: 2,
+    isMobile: true,
+    hasTouch: true,
+    ...options,
+  });
+}
+
+/** A page on a narrow phone (narrowPhone), signed in as `u` on the sign-in page. */
+export async function signedInPhone(
+  browser: Browser,
+  u: { email: string; password: string },
+  phone: Parameters<typeof narrowPhone>[1],
+): Promise<{ ctx: BrowserContext; page: Page }> {
+  const ctx = await narrowPhone(browser, phone);
+  const page = await ctx.newPage();
+  await signInAs(page, u.email, u.password);
+  return { ctx, page };
 }
 
 /**

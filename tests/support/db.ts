@@ -25,6 +25,17 @@ export async function countOf(sql: string, args: unknown[] = [], on?: mysql.Conn
   }
 }
 
+/** The club the demo mentor (scripts/lib/demo-users.mjs) mentors. */
+export async function demoMentorClubId(): Promise<string> {
+  const db = await rawConnection();
+  const [rows] = await db.query<RowDataPacket[]>(
+    "SELECT m.club_id AS clubId FROM memberships m JOIN users u ON u.id = m.user_id WHERE u.email = ? AND m.role = 'mentor' LIMIT 1",
+    ["teodor@kestrel-hollow.example"],
+  );
+  await db.end();
+  return rows[0]!.clubId as string;
+}
+
 /**
  * How far the server's readings of one check are from what the phone wrote (`valve#round` to the
  * blade that went): readings missing or different, plus readings the phone never wrote.

@@ -1,8 +1,9 @@
 import { describe, expect, it } from "vitest";
-import { Client, signedInClient } from "../../support/api";
+import { signedInClient } from "../../support/api";
 import { addMembership, makeUser } from "../../support/fixtures";
 import { waitForMail } from "../../support/mail";
 import { appPerFile } from "../../support/per-file";
+import { pushAccepted } from "../../support/push";
 
 /**
  * Mails a mechanic can act on without opening them first: a comment, a verdict and each step of a
@@ -23,14 +24,6 @@ const SIX = {
   exhaust: { min: 0.2, max: 0.3 },
   shims: { min: 2.5, max: 3.3, step: 0.05 },
 };
-
-async function push(c: Client, mutations: { name: string; args: unknown }[]) {
-  const res = await c.post("/api/sync/push", {
-    clientId: crypto.randomUUID(),
-    mutations: mutations.map((m, i) => ({ id: i + 1, ...m })),
-  });
-  expect(res.json.rejected).toEqual([]);
-}
 
 describe("mails name the engine and the check", () => {
   it("a comment and a verdict say which engine and check they are about", async () => {
@@ -117,11 +110,13 @@ describe("the side nearest the mechanic", () => {
       shimDiameter: null,
       assembledShim: null,
     };
-    await push(c, [{ name: "engine.put/3", args: { ...base, shimPosition: "under", nearSide: "intake" } }]);
+    await pushAccepted(c, [{ name: "engine.put/3", args: { ...base, shimPosition: "under", nearSide: "intake" } }]);
     const side = async () => (await c.get(`/api/engines/${id}`)).json.engine.nearSide;
     expect(await side()).toBe("intake");
-    await push(c, [{ name: "engine.put/2", args: { ...base, name: "Bench six, renamed", shimPosition: "under" } }]);
-    await push(c, [{ name: "engine.put/1", args: { ...base, name: "Bench six, again" } }]);
+    await pushAccepted(c, [
+      { name: "engine.put/2", args: { ...base, name: "Bench six, renamed", shimPosition: "under" } },
+    ]);
+    await pushAccepted(c, [{ name: "engine.put/1", args: { ...base, name: "Bench six, again" } }]);
     expect(await side()).toBe("intake");
     expect((await c.get(`/api/engines/${id}`)).json.engine.name).toBe("Bench six, again");
     const fresh = (await c.post("/api/engines", SIX)).json.engine;
