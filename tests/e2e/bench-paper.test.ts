@@ -10,6 +10,7 @@ import { addMembership, makeUser } from "../support/fixtures";
 import { waitForMail } from "../support/mail";
 import { browserPerFile } from "../support/per-file";
 import { pushAccepted } from "../support/push";
+import { layout, USUAL_BANDS } from "../support/engines";
 
 /**
  * Paper that matches the phone, on a 360 px phone in light and dark: the printed worksheet, the
@@ -22,26 +23,8 @@ import { pushAccepted } from "../support/push";
  */
 const browser = browserPerFile();
 
-const SIX = {
-  name: "Bench six",
-  cylinders: 6,
-  intakePerCylinder: 2,
-  exhaustPerCylinder: 2,
-  firingOrder: [1, 5, 3, 6, 2, 4],
-  intake: { min: 0.1, max: 0.2 },
-  exhaust: { min: 0.2, max: 0.3 },
-  shims: { min: 2.5, max: 3.3, step: 0.05 },
-};
-const TWIN = {
-  name: "Bench twin",
-  cylinders: 2,
-  intakePerCylinder: 1,
-  exhaustPerCylinder: 1,
-  firingOrder: [1, 2],
-  intake: { min: 0.1, max: 0.2 },
-  exhaust: { min: 0.2, max: 0.3 },
-  shims: { min: 2.5, max: 3.3, step: 0.05 },
-};
+const SIX = { name: "Bench six", ...layout([1, 5, 3, 6, 2, 4], 2), ...USUAL_BANDS };
+const TWIN = { name: "Bench twin", ...layout([1, 2], 1), ...USUAL_BANDS };
 const sixViews = valveNames(SIX).map((valve) => ({ valve }));
 
 const engineArgs = (id: string, e: typeof SIX, extra: object) => ({

@@ -6,6 +6,7 @@ import { demoMentorClubId } from "../support/db";
 import { addMembership, makeUser } from "../support/fixtures";
 import { browserPerFile } from "../support/per-file";
 import { pushAccepted } from "../support/push";
+import { layout, USUAL_BANDS } from "../support/engines";
 
 /**
  * At the bench on a 360 px phone (light and dark): the inline six of the report (4 valves a
@@ -47,14 +48,9 @@ async function six(api: Client) {
       args: {
         id: engineId,
         name: "Bench six",
-        cylinders: 6,
-        intakePerCylinder: 2,
-        exhaustPerCylinder: 2,
-        firingOrder: [1, 5, 3, 6, 2, 4],
+        ...layout([1, 5, 3, 6, 2, 4], 2),
         mirrored: true,
-        intake: { min: 0.1, max: 0.2 },
-        exhaust: { min: 0.2, max: 0.3 },
-        shims: { min: 2.5, max: 3.3, step: 0.05 },
+        ...USUAL_BANDS,
         shimPosition: "over",
       },
     },

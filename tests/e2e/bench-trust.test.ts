@@ -4,6 +4,7 @@ import { baseUrl, signedInPhone } from "../support/browser";
 import { makeUser } from "../support/fixtures";
 import { browserPerFile } from "../support/per-file";
 import { pushAccepted } from "../support/push";
+import { layout, USUAL_BANDS } from "../support/engines";
 
 /**
  * Trust at the bench, on a 360 px phone: a check opens on the step its work is in, an engine has one
@@ -12,8 +13,6 @@ import { pushAccepted } from "../support/push";
  * The engine and readings are invented.
  */
 const browser = browserPerFile();
-
-const BANDS = { intake: { min: 0.1, max: 0.2 }, exhaust: { min: 0.2, max: 0.3 } };
 
 /** An invented single: closed checks at 0, 20,000 and 40,000 km and an older one left at Fit (10,000 km). */
 async function singleWithHistory(api: Client) {
@@ -36,12 +35,8 @@ async function singleWithHistory(api: Client) {
       args: {
         id: engineId,
         name: "Bench single",
-        cylinders: 1,
-        intakePerCylinder: 1,
-        exhaustPerCylinder: 1,
-        firingOrder: [1],
-        ...BANDS,
-        shims: { min: 2.5, max: 3.3, step: 0.05 },
+        ...layout([1], 1),
+        ...USUAL_BANDS,
       },
     },
     { name: "check.put/1", args: { id: ids.c0, engineId, odometer: 0, status: "closed" } },
@@ -67,12 +62,8 @@ async function plannedTwin(api: Client) {
       args: {
         id: engineId,
         name: "Bench twin with a rather long name for a narrow phone",
-        cylinders: 2,
-        intakePerCylinder: 1,
-        exhaustPerCylinder: 1,
-        firingOrder: [1, 2],
-        ...BANDS,
-        shims: { min: 2.5, max: 3.3, step: 0.05 },
+        ...layout([1, 2], 1),
+        ...USUAL_BANDS,
       },
     },
     { name: "check.put/1", args: { id: checkId, engineId, odometer: 8_000, status: "planned" } },

@@ -7,6 +7,7 @@ import { measuringOrder } from "@/lib/check/measuring";
 import { waitForMail } from "../support/mail";
 import { browserPerFile } from "../support/per-file";
 import { pushAccepted } from "../support/push";
+import { layout, USUAL_BANDS } from "../support/engines";
 
 /**
  * The garage screens on small phones (360 and 390 px wide): the engine diagram for engines of 1 to
@@ -19,8 +20,6 @@ const phone = (width: number) => narrowPhone(browser, { width, height: 800, colo
 const signIn = (page: Page, u: { email: string; password: string }) => signInAs(page, u.email, u.password);
 
 const seq = (n: number) => Array.from({ length: n }, (_, i) => i + 1);
-// invented bands (not from any manual): intake 0.10-0.20, exhaust 0.20-0.30
-const BANDS = { intake: { min: 0.1, max: 0.2 }, exhaust: { min: 0.2, max: 0.3 } };
 
 /** An engine of this layout with one check: in band, tight, loose and unmeasured valves in turn. */
 async function engineWithCheck(
@@ -40,7 +39,7 @@ async function engineWithCheck(
       ["E", exhausts],
     ] as const)
       for (let i = 1; i <= count; i++) {
-        const band = kind === "I" ? BANDS.intake : BANDS.exhaust;
+        const band = kind === "I" ? USUAL_BANDS.intake : USUAL_BANDS.exhaust;
         const state = n++ % 4;
         if (state === 3) continue;
         const measured = state === 0 ? (band.min + band.max) / 2 : state === 1 ? band.min - 0.05 : band.max + 0.1;
@@ -68,8 +67,7 @@ async function engineWithCheck(
         intakePerCylinder: intakes,
         exhaustPerCylinder: exhausts,
         firingOrder: seq(cylinders),
-        ...BANDS,
-        shims: { min: 2.5, max: 3.3, step: 0.05 },
+        ...USUAL_BANDS,
         ...extra,
       },
     },
@@ -200,12 +198,8 @@ describe("measuring a 24-valve engine on a 390 px phone", () => {
   // an invented inline six, four valves a cylinder, firing 1-5-3-6-2-4, every bucket given the same
   // shim at assembly, on a stand facing the other way
   const SIX = {
-    cylinders: 6,
-    intakePerCylinder: 2,
-    exhaustPerCylinder: 2,
-    firingOrder: [1, 5, 3, 6, 2, 4],
-    ...BANDS,
-    shims: { min: 2.5, max: 3.3, step: 0.05 },
+    ...layout([1, 5, 3, 6, 2, 4], 2),
+    ...USUAL_BANDS,
     assembledShim: 2.75,
     mirrored: true,
   };
@@ -273,7 +267,7 @@ describe("measuring a 24-valve engine on a 390 px phone", () => {
       visited.push(valve);
       expect(valve).toBeTruthy();
       // the strip is centred on the valve's band: an in-band blade, and a tight one, need no scrolling
-      const band = valve.startsWith("I") ? BANDS.intake : BANDS.exhaust;
+      const band = valve.startsWith("I") ? USUAL_BANDS.intake : USUAL_BANDS.exhaust;
       const labels = await strip.getByRole("button").allInnerTexts();
       const values = labels.map(bladeValue);
       expect(values.some((b) => b < band.min) && values.some((b) => b > band.max)).toBe(true);
@@ -381,13 +375,9 @@ describe("a mentor's links and the whole story of a check", () => {
         args: {
           id: engineId,
           name: "Mirror twin",
-          cylinders: 2,
-          intakePerCylinder: 2,
-          exhaustPerCylinder: 2,
-          firingOrder: [1, 2],
+          ...layout([1, 2], 2),
           firingAngles: [0, 360],
-          ...BANDS,
-          shims: { min: 2.5, max: 3.3, step: 0.05 },
+          ...USUAL_BANDS,
           mirrored: true,
         },
       },

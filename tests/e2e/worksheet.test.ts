@@ -9,6 +9,7 @@ import type { LocalEngine, LocalReading } from "@/lib/sync/local-db";
 import { baseUrl, launch, phoneContext, signInAs } from "../support/browser";
 import { signedInClient } from "../support/api";
 import { makeUser } from "../support/fixtures";
+import { layout, USUAL_BANDS } from "../support/engines";
 
 /**
  * The printed worksheet, rendered to PDF by Chromium (page.pdf, print media) for a 4-valve and a
@@ -25,27 +26,14 @@ const OUT = path.resolve(__dirname, "../../test-results/worksheet");
 // leave the sheet on one page).
 const TWIN = {
   name: "Test twin, ‘green’ & co",
-  cylinders: 2,
-  intakePerCylinder: 1,
-  exhaustPerCylinder: 1,
-  firingOrder: [1, 2],
+  ...layout([1, 2], 1),
   intake: { min: 0.1, max: 0.15 },
   exhaust: { min: 0.15, max: 0.2 },
   shims: { min: 1.2, max: 3.0, step: 0.025 },
   shimDiameter: 7.48,
   shimPosition: "over",
 };
-const SIX = {
-  name: "Test six",
-  cylinders: 6,
-  intakePerCylinder: 2,
-  exhaustPerCylinder: 2,
-  firingOrder: [1, 5, 3, 6, 2, 4],
-  intake: { min: 0.1, max: 0.2 },
-  exhaust: { min: 0.2, max: 0.3 },
-  shims: { min: 2.5, max: 3.3, step: 0.05 },
-  shimPosition: "under",
-};
+const SIX = { name: "Test six", ...layout([1, 5, 3, 6, 2, 4], 2), ...USUAL_BANDS, shimPosition: "under" };
 
 // Clearances from the default blade strips, some out of band, so the plan swaps and buys.
 const TWIN_READINGS = [

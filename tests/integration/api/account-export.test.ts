@@ -15,6 +15,7 @@ import {
   type ExportDocument,
 } from "@/lib/export/schema";
 import { appPerFile } from "../../support/per-file";
+import { layout } from "../../support/engines";
 
 /**
  * The account export and its way back (issue 31 items 1-2): a history with photos goes out as one
@@ -29,10 +30,7 @@ const signedIn = (u: { email: string; password: string }) => signedInClient(app.
 // A twin with a shim list and a 9.48 mm shim diameter (common practice for bucket shims); bands from memory.
 const ENGINE_TWIN = {
   name: "Test twin",
-  cylinders: 2,
-  intakePerCylinder: 2,
-  exhaustPerCylinder: 2,
-  firingOrder: [1, 2],
+  ...layout([1, 2], 2),
   firingAngles: [0, 180],
   intake: { min: 0.1, max: 0.15 },
   exhaust: { min: 0.15, max: 0.2, target: 0.17 },

@@ -4,6 +4,7 @@ import { addMembership, makeUser } from "../../support/fixtures";
 import { waitForMail } from "../../support/mail";
 import { appPerFile } from "../../support/per-file";
 import { pushAccepted } from "../../support/push";
+import { layout, USUAL_BANDS } from "../../support/engines";
 
 /**
  * Mails a mechanic can act on without opening them first: a comment, a verdict and each step of a
@@ -14,16 +15,7 @@ import { pushAccepted } from "../../support/push";
 const app = appPerFile({ NOTICE_RETRY_SECONDS: "1" });
 
 const signedIn = (u: { email: string; password: string }) => signedInClient(app.url, u);
-const SIX = {
-  name: "Bench six",
-  cylinders: 6,
-  intakePerCylinder: 2,
-  exhaustPerCylinder: 2,
-  firingOrder: [1, 5, 3, 6, 2, 4],
-  intake: { min: 0.1, max: 0.2 },
-  exhaust: { min: 0.2, max: 0.3 },
-  shims: { min: 2.5, max: 3.3, step: 0.05 },
-};
+const SIX = { name: "Bench six", ...layout([1, 5, 3, 6, 2, 4], 2), ...USUAL_BANDS };
 
 describe("mails name the engine and the check", () => {
   it("a comment and a verdict say which engine and check they are about", async () => {
