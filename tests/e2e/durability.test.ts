@@ -1,10 +1,10 @@
 import { afterAll, describe, expect, it } from "vitest";
-import { chromium, type BrowserContext, type Page } from "playwright-core";
+import type { BrowserContext, Page } from "playwright-core";
 import { mkdtempSync, rmSync } from "node:fs";
 import { tmpdir } from "node:os";
 import path from "node:path";
 import { Client } from "../support/api";
-import { baseUrl, CHROMIUM_ARGS, PHONE, tapReading } from "../support/browser";
+import { baseUrl, persistentPhone, signInAs, tapReading } from "../support/browser";
 import { rawConnection } from "../support/db";
 import { ENGINE_FOUR, makeUser } from "../support/fixtures";
 
@@ -14,13 +14,7 @@ import { ENGINE_FOUR, makeUser } from "../support/fixtures";
  * Each time the next start sends what waits, and the server holds every reading once.
  */
 const profile = mkdtempSync(path.join(tmpdir(), "lashwright-durable-"));
-const open = () =>
-  chromium.launchPersistentContext(profile, {
-    executablePath: process.env.CHROMIUM_PATH ?? "/usr/bin/chromium",
-    args: CHROMIUM_ARGS,
-    ...PHONE,
-    colorScheme: "dark",
-  });
+const open = () => persistentPhone(profile);
 let ctx: BrowserContext | undefined;
 afterAll(async () => {
   await ctx?.close();
@@ -56,11 +50,7 @@ describe("closing the page at the worst moments", () => {
 
     ctx = await open();
     let page = ctx.pages()[0] ?? (await ctx.newPage());
-    await page.goto(`${baseUrl()}/sign-in`);
-    await page.getByLabel("E-mail").fill(u.email);
-    await page.getByLabel("Password").fill(u.password);
-    await page.getByRole("button", { name: "Sign in", exact: true }).tap();
-    await page.waitForURL("**/engines");
+    await signInAs(page, u.email, u.password);
     await page.getByRole("link", { name: /Test four/ }).waitFor();
     await page.goto(checkUrl);
     await page.getByRole("group", { name: "Feeler blades for I1.1" }).waitFor();

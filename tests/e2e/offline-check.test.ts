@@ -1,10 +1,10 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { chromium, type BrowserContext, type Page } from "playwright-core";
+import type { BrowserContext, Page } from "playwright-core";
 import { mkdtempSync, rmSync } from "node:fs";
 import { tmpdir } from "node:os";
 import path from "node:path";
 import { planShims, shimSeries } from "@/lib/lash";
-import { baseUrl, CHROMIUM_ARGS, PHONE } from "../support/browser";
+import { persistentPhone, signInAs } from "../support/browser";
 import { rawConnection } from "../support/db";
 import { makeUser } from "../support/fixtures";
 
@@ -17,13 +17,7 @@ import { makeUser } from "../support/fixtures";
 const profile = mkdtempSync(path.join(tmpdir(), "lashwright-profile-"));
 let ctx: BrowserContext;
 
-const open = () =>
-  chromium.launchPersistentContext(profile, {
-    executablePath: process.env.CHROMIUM_PATH ?? "/usr/bin/chromium",
-    args: CHROMIUM_ARGS,
-    ...PHONE,
-    colorScheme: "dark",
-  });
+const open = () => persistentPhone(profile);
 
 afterAll(async () => {
   await ctx?.close();
@@ -101,11 +95,7 @@ describe("a whole check offline, then sync", () => {
   it("signs in online and keeps the garage screens for offline use", async () => {
     const u = await makeUser("offline");
     const page = ctx.pages()[0] ?? (await ctx.newPage());
-    await page.goto(`${baseUrl()}/sign-in`);
-    await page.getByLabel("E-mail").fill(u.email);
-    await page.getByLabel("Password").fill(u.password);
-    await page.getByRole("button", { name: "Sign in", exact: true }).tap();
-    await page.waitForURL("**/engines");
+    await signInAs(page, u.email, u.password);
     await page.getByText(/No engines on this phone yet/).waitFor();
     // the service worker is installed and controls the page, with the shells precached
     await page.evaluate(async () => {

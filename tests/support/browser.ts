@@ -11,8 +11,10 @@ export const CHROMIUM_ARGS = [
   "--disable-sync",
 ];
 
+const executablePath = () => process.env.CHROMIUM_PATH ?? "/usr/bin/chromium";
+
 export function launch(): Promise<Browser> {
-  return chromium.launch({ executablePath: process.env.CHROMIUM_PATH ?? "/usr/bin/chromium", args: CHROMIUM_ARGS });
+  return chromium.launch({ executablePath: executablePath(), args: CHROMIUM_ARGS });
 }
 
 /** A phone held in portrait: 412 x 915 CSS pixels, touch, 2.6x density. */
@@ -22,6 +24,16 @@ export const PHONE = {
   isMobile: true,
   hasTouch: true,
 } as const;
+
+/** Chromium as the phone of PHONE, keeping its storage and service worker in `profile` from one launch to the next. */
+export function persistentPhone(profile: string, colorScheme: "dark" | "light" = "dark"): Promise<BrowserContext> {
+  return chromium.launchPersistentContext(profile, {
+    executablePath: executablePath(),
+    args: CHROMIUM_ARGS,
+    ...PHONE,
+    colorScheme,
+  });
+}
 
 export function phoneContext(browser: Browser, colorScheme: "dark" | "light" = "dark"): Promise<BrowserContext> {
   return browser.newContext({ ...PHONE, colorScheme });
