@@ -9,6 +9,7 @@ import { inbox, linkToken, waitForMail } from "../../support/mail";
 import { startApp, type App } from "../../support/server";
 import { hashPassword } from "@/server/password";
 import { appPerFile } from "../../support/per-file";
+import { makeUsers } from "../../support/users";
 
 /**
  * What an attacker tries first, one test per attack (issue 15). References beside each:
@@ -522,11 +523,7 @@ describe("invitations (ASVS V8 Authorization; V16 Security Logging)", () => {
 
 describe("smaller ones", () => {
   it("a loan request naming someone else's check, or no check at all, is refused and stores nothing", async () => {
-    const [lender, asker, other] = await Promise.all([
-      makeUser("loan-lender"),
-      makeUser("loan-asker"),
-      makeUser("loan-other"),
-    ]);
+    const [lender, asker, other] = await makeUsers("loan-lender", "loan-asker", "loan-other");
     const l = await signedInClient(app.url, lender);
     const a = await signedInClient(app.url, asker);
     const clubId = (await l.post("/api/clubs", { name: "Loan Club" })).json.club.id as string;

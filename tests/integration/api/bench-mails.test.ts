@@ -5,6 +5,7 @@ import { waitForMail } from "../../support/mail";
 import { appPerFile } from "../../support/per-file";
 import { pushAccepted } from "../../support/push";
 import { layout, USUAL_BANDS } from "../../support/engines";
+import { makeUsers } from "../../support/users";
 
 /**
  * Mails a mechanic can act on without opening them first: a comment, a verdict and each step of a
@@ -19,11 +20,7 @@ const SIX = { name: "Bench six", ...layout([1, 5, 3, 6, 2, 4], 2), ...USUAL_BAND
 
 describe("mails name the engine and the check", () => {
   it("a comment and a verdict say which engine and check they are about", async () => {
-    const [owner, mentor, admin] = await Promise.all([
-      makeUser("bm-owner"),
-      makeUser("bm-mentor"),
-      makeUser("bm-admin"),
-    ]);
+    const [owner, mentor, admin] = await makeUsers("bm-owner", "bm-mentor", "bm-admin");
     const a = await signedIn(admin);
     const clubId = (await a.post("/api/clubs", { name: "Bench Club" })).json.club.id as string;
     await addMembership(clubId, owner.id, ["mechanic"]);

@@ -9,6 +9,7 @@ import { linkToken, waitForMail } from "../../support/mail";
 import { routesOnDisk } from "../../support/routes";
 import { startApp, type App } from "../../support/server";
 import { appPerFile } from "../../support/per-file";
+import { makeUsers } from "../../support/users";
 
 /** Headers, cookies, passwords, secrets and hostile text: the security checks that need a server. */
 const app = appPerFile();
@@ -185,11 +186,7 @@ describe("sessions and passwords", () => {
 
 describe("access by id through sync", () => {
   it("a stranger naming each of the owner's records in a push changes none of them", async () => {
-    const [owner, mentor, stranger] = await Promise.all([
-      makeUser("id-owner"),
-      makeUser("id-mentor"),
-      makeUser("id-stranger"),
-    ]);
+    const [owner, mentor, stranger] = await makeUsers("id-owner", "id-mentor", "id-stranger");
     const o = await signedIn(app, owner);
     const s = await signedIn(app, stranger);
     const clubId = (await o.post("/api/clubs", { name: "Id Club" })).json.club.id as string;

@@ -1,9 +1,10 @@
 import { describe, expect, it } from "vitest";
 import { signedInClient, type Client } from "../../support/api";
 import { rawConnection } from "../../support/db";
-import { addMembership, makeUser } from "../../support/fixtures";
+import { addMembership } from "../../support/fixtures";
 import { IDS, SHIPPED } from "../../fixtures/shipped-outbox";
 import { appPerFile } from "../../support/per-file";
+import { makeUsers } from "../../support/users";
 
 /**
  * An outbox as older apps wrote it: every mutation name and shape ever shipped
@@ -21,11 +22,7 @@ async function one<T>(sql: string, args: unknown[]): Promise<T | undefined> {
 
 describe("an outbox written by every shipped app version", () => {
   it("is applied whole: every name and shape ever shipped still goes through", async () => {
-    const [owner, mentor, borrower] = await Promise.all([
-      makeUser("old-owner"),
-      makeUser("old-mentor"),
-      makeUser("old-borrower"),
-    ]);
+    const [owner, mentor, borrower] = await makeUsers("old-owner", "old-mentor", "old-borrower");
     const clients: Record<"owner" | "mentor" | "borrower", Client> = {
       owner: await signedInClient(app.url, owner),
       mentor: await signedInClient(app.url, mentor),
