@@ -38,12 +38,7 @@ const PER_ADDRESS = 20;
 
 /** A sign-in try as the browser sends it, with the status and Retry-After besides next-auth's error. */
 async function tryPassword(c: Client, email: string, password: string) {
-  const csrf = await c.get("/api/auth/csrf");
-  const form = new URLSearchParams({ email, password, csrfToken: csrf.json.csrfToken as string, json: "true" });
-  const res = await c.raw("POST", "/api/auth/callback/password", {
-    body: form.toString(),
-    headers: { "content-type": "application/x-www-form-urlencoded" },
-  });
+  const res = await c.signInAnswer("password", { email, password });
   const body = (await res.json().catch(() => ({}))) as { url?: string };
   return {
     status: res.status,

@@ -72,19 +72,7 @@ describe("the owner is not locked out by a stranger (OWASP device cookies; NIST 
     const victim = await makeUser("lockout-victim");
     const attacker = await makeUser("lockout-attacker");
     const c = new Client(app.url);
-    const res = await (async () => {
-      const csrf = await c.get("/api/auth/csrf");
-      const form = new URLSearchParams({
-        email: attacker.email,
-        password: attacker.password,
-        csrfToken: csrf.json.csrfToken as string,
-        json: "true",
-      });
-      return c.raw("POST", "/api/auth/callback/password", {
-        body: form.toString(),
-        headers: { "content-type": "application/x-www-form-urlencoded" },
-      });
-    })();
+    const res = await c.signInAnswer("password", { email: attacker.email, password: attacker.password });
     const set = res.headers.getSetCookie().find((h) => h.startsWith(`${DEVICE_COOKIE}=`));
     expect(set).toBeDefined();
     expect(set).toMatch(/HttpOnly/i);
@@ -103,19 +91,9 @@ describe("the owner is not locked out by a stranger (OWASP device cookies; NIST 
       `${Buffer.from(victim.email).toString("base64url")}.${issued}.${nonce}.${"A".repeat(43)}`,
     ]) {
       const f = new Client(app.url);
-      const csrf = await f.get("/api/auth/csrf");
-      const form = new URLSearchParams({
-        email: victim.email,
-        password: victim.password,
-        csrfToken: csrf.json.csrfToken as string,
-        json: "true",
-      });
-      const r = await f.raw("POST", "/api/auth/callback/password", {
-        body: form.toString(),
-        headers: {
-          "content-type": "application/x-www-form-urlencoded",
-          cookie: `${f.cookieHeader()}; ${DEVICE_COOKIE}=${cookie}`,
-        },
+      const token = await f.csrfToken();
+      const r = await f.postSignIn("password", { email: victim.email, password: victim.password }, token, {
+        cookie: `${f.cookieHeader()}; ${DEVICE_COOKIE}=${cookie}`,
       });
       const body = (await r.json()) as { url: string };
       expect(new URL(body.url).searchParams.get("error")).toBe("Throttled");

@@ -1,10 +1,10 @@
 import { describe, expect, it } from "vitest";
 import sharp from "sharp";
-import { DeleteObjectCommand, S3Client } from "@aws-sdk/client-s3";
+import { DeleteObjectCommand } from "@aws-sdk/client-s3";
 import { signedInClient, type Client } from "../../support/api";
 import { rawConnection } from "../../support/db";
 import { ENGINE_FOUR, makeUser } from "../../support/fixtures";
-import { noisyPng, photoForm, storedKeys } from "../../support/photos";
+import { noisyPng, PHOTO_BUCKET, photoForm, photoStore, storedKeys } from "../../support/photos";
 import { appPerFile } from "../../support/per-file";
 
 /**
@@ -89,21 +89,7 @@ describe("a photo sent again while it is being stored", () => {
     const db = await rawConnection();
     await db.query("UPDATE uploads SET stored_at = NULL WHERE id = ?", [id]);
     await db.end();
-    const s3 = new S3Client({
-      endpoint: process.env.S3_ENDPOINT,
-      region: "us-east-1",
-      forcePathStyle: true,
-      credentials: {
-        accessKeyId: process.env.S3_ACCESS_KEY ?? "S3RVER",
-        secretAccessKey: process.env.S3_SECRET_KEY ?? "S3RVER",
-      },
-    });
-    await s3.send(
-      new DeleteObjectCommand({
-        Bucket: process.env.S3_BUCKET ?? "lashwright-photos",
-        Key: `checks/${checkId}/${id}.jpg`,
-      }),
-    );
+    await photoStore().send(new DeleteObjectCommand({ Bucket: PHOTO_BUCKET, Key: `checks/${checkId}/${id}.jpg` }));
 
     // an upload in flight is not listed and not served (never a 500)
     expect((await fetchPhoto(c, id)).status).toBe(404);

@@ -93,11 +93,7 @@ describe("sessions and passwords", () => {
     const csrf = await c.raw("GET", "/api/auth/csrf");
     for (const sc of csrf.headers.getSetCookie()) expect(sc).toMatch(/HttpOnly/i);
     const token = (JSON.parse(await csrf.text()) as { csrfToken: string }).csrfToken;
-    const form = new URLSearchParams({ email: u.email, password: u.password, csrfToken: token, json: "true" });
-    const res = await c.raw("POST", "/api/auth/callback/password", {
-      body: form.toString(),
-      headers: { "content-type": "application/x-www-form-urlencoded" },
-    });
+    const res = await c.postSignIn("password", { email: u.email, password: u.password }, token);
     const session = res.headers.getSetCookie().find((s) => s.includes("session-token="));
     expect(session).toBeDefined();
     expect(session).toMatch(/HttpOnly/i);
@@ -113,11 +109,7 @@ describe("sessions and passwords", () => {
       const csrf = await c.raw("GET", "/api/auth/csrf");
       for (const sc of csrf.headers.getSetCookie()) expect(sc).toMatch(/; Secure/i);
       const token = (JSON.parse(await csrf.text()) as { csrfToken: string }).csrfToken;
-      const form = new URLSearchParams({ email: u.email, password: u.password, csrfToken: token, json: "true" });
-      const res = await c.raw("POST", "/api/auth/callback/password", {
-        body: form.toString(),
-        headers: { "content-type": "application/x-www-form-urlencoded" },
-      });
+      const res = await c.postSignIn("password", { email: u.email, password: u.password }, token);
       const session = res.headers.getSetCookie().find((s) => s.startsWith("__Secure-next-auth.session-token="));
       expect(session).toMatch(/; Secure/i);
       expect(session).toMatch(/HttpOnly/i);
