@@ -4,7 +4,7 @@ import { mkdtempSync, rmSync } from "node:fs";
 import { tmpdir } from "node:os";
 import path from "node:path";
 import { Client } from "../support/api";
-import { baseUrl, persistentPhone, signInAs, tapReading } from "../support/browser";
+import { allSynced, baseUrl, persistentPhone, signInAs, tapReading } from "../support/browser";
 import { rawConnection } from "../support/db";
 import { ENGINE_FOUR, makeUser } from "../support/fixtures";
 
@@ -65,10 +65,7 @@ describe("closing the page at the worst moments", () => {
     page = ctx.pages()[0] ?? (await ctx.newPage());
     await page.goto(checkUrl);
     await expect.poll(async () => (await server(checkId)).rows.length, { timeout: 20_000 }).toBe(4);
-    await page
-      .getByTestId("sync-line")
-      .getByText(/All synced/)
-      .waitFor({ timeout: 20_000 });
+    await allSynced(page);
 
     // 2. the push reaches the server and commits, but the page closes before the answer
     let committed!: () => void;
@@ -98,10 +95,7 @@ describe("closing the page at the worst moments", () => {
     let pushes = 0;
     page.on("request", (r) => r.url().endsWith("/api/sync/push") && pushes++);
     await page.goto(checkUrl);
-    await page
-      .getByTestId("sync-line")
-      .getByText(/All synced/)
-      .waitFor({ timeout: 20_000 });
+    await allSynced(page);
     expect(pushes).toBeGreaterThan(0); // the phone did send its outbox again
     const end = await server(checkId);
     expect(end.rows).toEqual([

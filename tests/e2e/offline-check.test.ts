@@ -4,8 +4,8 @@ import { mkdtempSync, rmSync } from "node:fs";
 import { tmpdir } from "node:os";
 import path from "node:path";
 import { planShims, shimSeries } from "@/lib/lash";
-import { persistentPhone, signInAs } from "../support/browser";
-import { rawConnection } from "../support/db";
+import { allSynced, backOnline, persistentPhone, signInAs } from "../support/browser";
+import { queryRows, rawConnection } from "../support/db";
 import { makeUser } from "../support/fixtures";
 
 /**
@@ -48,22 +48,18 @@ const BLADES = [
   0.45, 0.5,
 ];
 
-async function serverReadings(checkId: string) {
-  const db = await rawConnection();
-  const [rows] = await db.query(
-    "SELECT valve, round, installed_stamp, feeler_go, feeler_no_go, measured FROM readings WHERE check_id = ? ORDER BY valve",
-    [checkId],
-  );
-  await db.end();
-  return rows as {
+const serverReadings = (checkId: string) =>
+  queryRows<{
     valve: string;
     round: number;
     installed_stamp: string;
     feeler_go: string;
     feeler_no_go: string;
     measured: string;
-  }[];
-}
+  }>(
+    "SELECT valve, round, installed_stamp, feeler_go, feeler_no_go, measured FROM readings WHERE check_id = ? ORDER BY valve",
+    [checkId],
+  );
 
 /** What the server has applied for this check's owner: overwritten readings, and each device's last id. */
 async function applied(checkId: string) {
@@ -189,13 +185,9 @@ describe("a whole check offline, then sync", () => {
 
   it("online again: the server holds exactly those readings, once, and nothing waits", async () => {
     const page = ctx.pages()[0]!;
-    await ctx.setOffline(false);
-    await page.evaluate(() => window.dispatchEvent(new Event("online")));
+    await backOnline(ctx, page);
     await expect.poll(async () => (await serverReadings(checkId)).length, { timeout: 20_000 }).toBe(16);
-    await page
-      .getByTestId("sync-line")
-      .getByText(/All synced/)
-      .waitFor({ timeout: 20_000 });
+    await allSynced(page);
     const rows = await serverReadings(checkId);
     for (const r of rows) {
       const go = Number(TAPS[r.valve]);
@@ -212,10 +204,7 @@ describe("a whole check offline, then sync", () => {
     const pulled = page.waitForResponse((r) => r.url().includes("/api/sync/pull"), { timeout: 20_000 });
     await page.evaluate(() => window.dispatchEvent(new Event("online")));
     await pulled;
-    await page
-      .getByTestId("sync-line")
-      .getByText(/All synced/)
-      .waitFor({ timeout: 20_000 });
+    await allSynced(page);
     expect(await applied(checkId)).toEqual(before);
     expect(await serverReadings(checkId)).toHaveLength(16);
   });
@@ -294,8 +283,7 @@ describe("fitting, re-checking and closing", () => {
     await expect(page.getByText(/· closed/).count()).resolves.toBe(1);
     await page.getByRole("link", { name: "Tray" }).tap();
     await page.getByLabel("4 of 2.6 mm").waitFor();
-    await ctx.setOffline(false);
-    await page.evaluate(() => window.dispatchEvent(new Event("online")));
+    await backOnline(ctx, page);
     await expect.poll(async () => (await serverReadings(checkId)).length, { timeout: 20_000 }).toBe(20);
   });
 });

@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import type { Page } from "playwright-core";
-import { baseUrl, phoneContext, signInAs } from "../support/browser";
+import { backOnline, baseUrl, phoneContext, signInAs } from "../support/browser";
 import { clubScenario, type Person } from "../support/club-scenario";
 import { waitForMail } from "../support/mail";
 import { cameraJpeg } from "../support/photos";
@@ -137,8 +137,7 @@ describe("a mentor reviews a shared check", () => {
     await card.getByText("waiting to send").waitFor();
     await expect(card.getByTestId("photo").count()).resolves.toBe(1);
     await mech.screenshot({ path: "test-results/photo-offline.png" });
-    await mechCtx.setOffline(false);
-    await mech.evaluate(() => window.dispatchEvent(new Event("online")));
+    await backOnline(mechCtx, mech);
     await card.getByText("sent", { exact: true }).waitFor({ timeout: 20_000 });
     // where photos are added, the account's photo space: how much is used of how much
     await card.getByText(/Photo space: [\d.]+ (bytes|KB|MB) of 500 MB used/).waitFor();

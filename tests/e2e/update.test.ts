@@ -6,8 +6,8 @@ import net from "node:net";
 import { tmpdir } from "node:os";
 import path from "node:path";
 import { startNext } from "../../scripts/lib/next-server.mjs";
-import { persistentPhone } from "../support/browser";
-import { rawConnection } from "../support/db";
+import { allSynced, backOnline, persistentPhone } from "../support/browser";
+import { queryRows } from "../support/db";
 import { bladeReadings, GO } from "../support/club-scenario";
 import { ENGINE_FOUR, makeUser } from "../support/fixtures";
 
@@ -114,15 +114,11 @@ afterAll(async () => {
   for (const d of [DEPLOY, `${DEPLOY}-a`, B]) rmSync(at(d), { recursive: true, force: true });
 });
 
-async function serverReadings(checkId: string) {
-  const db = await rawConnection();
-  const [rows] = await db.query(
+const serverReadings = (checkId: string) =>
+  queryRows<{ valve: string; round: number; feeler_go: string }>(
     "SELECT valve, round, feeler_go FROM readings WHERE check_id = ? ORDER BY round, valve",
     [checkId],
   );
-  await db.end();
-  return rows as { valve: string; round: number; feeler_go: string }[];
-}
 
 // intake band 0.10-0.20, exhaust 0.20-0.30 on 2.60 shims: four valves out of band, as in the club
 // scenario but for E3.1 (tight here) and I4.1 (loose here)
@@ -241,13 +237,9 @@ describe("a deploy while a check is open", () => {
 
   it("online again: every reading reaches the server once", async () => {
     const page = ctx.pages()[0]!;
-    await ctx.setOffline(false);
-    await page.evaluate(() => window.dispatchEvent(new Event("online")));
+    await backOnline(ctx, page);
     await expect.poll(async () => (await serverReadings(checkId)).length, { timeout: 30_000 }).toBe(20);
-    await page
-      .getByTestId("sync-line")
-      .getByText(/All synced/)
-      .waitFor({ timeout: 20_000 });
+    await allSynced(page);
     const rows = await serverReadings(checkId);
     expect(
       rows
@@ -310,8 +302,7 @@ describe("a deploy while a check is open", () => {
         .tap();
       expect(errors).toEqual([]);
       await expect(second.getByTestId("load-failed").count()).resolves.toBe(0);
-      await ctx.setOffline(false);
-      await second.evaluate(() => window.dispatchEvent(new Event("online")));
+      await backOnline(ctx, second);
       await expect
         .poll(
           async () =>

@@ -86,6 +86,20 @@ export async function signedInPhone(
   return { ctx, page };
 }
 
+/** The signal back: the context online again, and the page told at once (the "online" event a phone fires). */
+export async function backOnline(ctx: BrowserContext, page: Page) {
+  await ctx.setOffline(false);
+  await page.evaluate(() => window.dispatchEvent(new Event("online")));
+}
+
+/** Waits (20 s at most) until the page's sync line says every change is on the server. */
+export function allSynced(page: Page) {
+  return page
+    .getByTestId("sync-line")
+    .getByText(/All synced/)
+    .waitFor({ timeout: 20_000 });
+}
+
 /**
  * Record one valve's reading on the measuring screen: pick the valve on the engine diagram, tap its
  * blade, and wait until the diagram shows it measured (the screen then moves on to the next valve).

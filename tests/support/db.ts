@@ -11,6 +11,17 @@ export function rawConnection(): Promise<mysql.Connection> {
   return mysql.createConnection({ uri: testDbUrl(), supportBigNumbers: true });
 }
 
+/** The rows a query returns, read on a raw connection of its own. */
+export async function queryRows<T>(sql: string, args: unknown[] = []): Promise<T[]> {
+  const db = await rawConnection();
+  try {
+    const [rows] = await db.query(sql, args);
+    return rows as T[];
+  } finally {
+    await db.end();
+  }
+}
+
 /**
  * The `n` of a counting query (`SELECT COUNT(*) AS n ...`), read on `on` when given, else on a raw
  * connection of its own.

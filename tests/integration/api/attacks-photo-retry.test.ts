@@ -2,7 +2,7 @@ import { describe, expect, it } from "vitest";
 import sharp from "sharp";
 import { DeleteObjectCommand } from "@aws-sdk/client-s3";
 import { signedInClient, type Client } from "../../support/api";
-import { rawConnection } from "../../support/db";
+import { queryRows, rawConnection } from "../../support/db";
 import { ENGINE_FOUR, makeUser } from "../../support/fixtures";
 import { noisyPng, PHOTO_BUCKET, photoForm, photoStore, storedKeys } from "../../support/photos";
 import { appPerFile } from "../../support/per-file";
@@ -26,15 +26,11 @@ async function owner(tag: string) {
 const send = (c: Client, checkId: string, id: string, file: Buffer) =>
   c.form("POST", `/api/checks/${checkId}/photos`, photoForm(file, { id }));
 
-async function rowsFor(id: string) {
-  const c = await rawConnection();
-  const [rows] = await c.query(
+const rowsFor = (id: string) =>
+  queryRows<{ checkId: string; bytes: number; stored: number }>(
     "SELECT check_id AS checkId, bytes, stored_at IS NOT NULL AS stored FROM uploads WHERE id = ?",
     [id],
   );
-  await c.end();
-  return rows as { checkId: string; bytes: number; stored: number }[];
-}
 
 async function fetchPhoto(c: Client, id: string) {
   const res = await fetch(`${app.url}/api/photos/${id}`, { headers: { cookie: c.cookieHeader() } });

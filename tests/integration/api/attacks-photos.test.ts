@@ -1,7 +1,7 @@
 import { describe, expect, it } from "vitest";
 import sharp from "sharp";
 import { signedInClient, type Client } from "../../support/api";
-import { rawConnection } from "../../support/db";
+import { queryRows, rawConnection } from "../../support/db";
 import { ENGINE_FOUR, makeUser } from "../../support/fixtures";
 import { noisyPng, photoForm, storedKeys } from "../../support/photos";
 import { appPerFile } from "../../support/per-file";
@@ -48,15 +48,11 @@ const tinyJpeg = () =>
     .jpeg()
     .toBuffer();
 
-async function rowsOf(userId: string) {
-  const c = await rawConnection();
-  const [rows] = await c.query(
+const rowsOf = (userId: string) =>
+  queryRows<{ id: string; bytes: number; stored: number }>(
     "SELECT id, bytes, stored_at IS NOT NULL AS stored FROM uploads WHERE owner_id = ? ORDER BY id",
     [userId],
   );
-  await c.end();
-  return rows as { id: string; bytes: number; stored: number }[];
-}
 
 /** Units of the upload budget the account has spent this hour, as the budget's table counts them. */
 async function budgetSpent(userId: string) {
