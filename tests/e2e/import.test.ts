@@ -1,6 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser, BrowserContext, Page } from "playwright-core";
-import { baseUrl, launch, phoneContext, signInAs } from "../support/browser";
+import type { Browser, Page } from "playwright-core";
+import { baseUrl, launch, signedInPhone } from "../support/browser";
 import { signedInClient } from "../support/api";
 import { rawConnection } from "../support/db";
 import { ENGINE_FOUR, makeUser } from "../support/fixtures";
@@ -11,7 +11,6 @@ import { ENGINE_FOUR, makeUser } from "../support/fixtures";
  * checks, adds them on one tap, and they reach the server through the sync with their own days.
  */
 let browser: Browser;
-let ctx: BrowserContext;
 let page: Page;
 let engineId = "";
 
@@ -37,9 +36,7 @@ beforeAll(async () => {
   const api = await signedInClient(baseUrl(), u);
   engineId = (await api.post("/api/engines", ENGINE_FOUR)).json.engine.id;
   browser = await launch();
-  ctx = await phoneContext(browser, "light");
-  page = await ctx.newPage();
-  await signInAs(page, u.email, u.password);
+  ({ page } = await signedInPhone(browser, u, "light"));
   await page.goto(`${baseUrl()}/engine?id=${engineId}`);
   await page.getByRole("heading", { name: ENGINE_FOUR.name }).waitFor();
 });

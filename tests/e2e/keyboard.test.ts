@@ -1,7 +1,7 @@
 import { describe, expect, it } from "vitest";
 import type { Page } from "playwright-core";
 import { signedInClient } from "../support/api";
-import { baseUrl, phoneContext, signInAs } from "../support/browser";
+import { baseUrl, signedInPhone } from "../support/browser";
 import { ENGINE_FOUR, makeUser } from "../support/fixtures";
 import { browserPerFile } from "../support/per-file";
 
@@ -79,9 +79,7 @@ describe("a valve measured with the keyboard alone", () => {
     });
     expect(res.json.rejected ?? []).toEqual([]);
 
-    const ctx = await phoneContext(browser, "dark");
-    const page = await ctx.newPage();
-    await signInAs(page, u.email, u.password);
+    const { ctx, page } = await signedInPhone(browser, u);
     await page.goto(`${baseUrl()}/check?id=${checkId}`);
     await page.getByRole("checkbox", { name: /Engine cold/ }).waitFor();
 

@@ -1,7 +1,6 @@
 import { describe, expect, it } from "vitest";
-import type { Page } from "playwright-core";
-import { backOnline, baseUrl, phoneContext, signInAs } from "../support/browser";
-import { clubScenario, type Person } from "../support/club-scenario";
+import { backOnline, baseUrl, signedInPhone } from "../support/browser";
+import { clubScenario } from "../support/club-scenario";
 import { waitForMail } from "../support/mail";
 import { cameraJpeg } from "../support/photos";
 import { browserPerFile } from "../support/per-file";
@@ -11,7 +10,6 @@ import { browserPerFile } from "../support/per-file";
 // a loan there could change what this file sees, depending on the order the files run in.
 const browser = browserPerFile();
 
-const signIn = (page: Page, p: Person) => signInAs(page, p.email, p.password);
 const esc = (s: string) => s.replace(/[.*+?^${}()|[\]\\]/g, "\\$&");
 
 let stepNo = 0;
@@ -23,9 +21,7 @@ describe("a mentor reviews a shared check", () => {
       { name: "Share single", shared: false },
       { name: "Queue four", shared: true },
     ]);
-    const mechCtx = await phoneContext(browser);
-    const mech = await mechCtx.newPage();
-    await signIn(mech, t.mechanic);
+    const { ctx: mechCtx, page: mech } = await signedInPhone(browser, t.mechanic);
     await mech.getByRole("link", { name: /Share single/ }).tap();
     await mech.getByRole("link", { name: /43,800 km/ }).tap();
     await mech.getByRole("button", { name: /3\. Plan/ }).tap();
@@ -34,9 +30,7 @@ describe("a mentor reviews a shared check", () => {
     step("shared by the mechanic");
     await waitForMail(t.mentor.email, /asks for a review: Share single/);
 
-    const mentorCtx = await phoneContext(browser);
-    const mentor = await mentorCtx.newPage();
-    await signIn(mentor, t.mentor);
+    const { ctx: mentorCtx, page: mentor } = await signedInPhone(browser, t.mentor);
     await mentor.goto(`${baseUrl()}/club`);
     await mentor.getByRole("link", { name: /Share single/ }).waitFor();
     // withdrawn: gone from the queue
@@ -52,9 +46,7 @@ describe("a mentor reviews a shared check", () => {
 
   it("the mentor comments on a valve and gives a verdict; the mechanic sees both", async () => {
     const t = await clubScenario(baseUrl(), "rv-verdict", [{ name: "Verdict four", shared: true }]);
-    const mentorCtx = await phoneContext(browser);
-    const mentor = await mentorCtx.newPage();
-    await signIn(mentor, t.mentor);
+    const { ctx: mentorCtx, page: mentor } = await signedInPhone(browser, t.mentor);
     step("signed in as mentor");
     await mentor.goto(`${baseUrl()}/club`);
     await mentor.getByRole("link", { name: /Verdict four/ }).tap();
@@ -101,9 +93,7 @@ describe("a mentor reviews a shared check", () => {
     await waitForMail(t.mechanic.email, /Review verdict: measure again/);
 
     step("mails arrived");
-    const mechCtx = await phoneContext(browser);
-    const mech = await mechCtx.newPage();
-    await signIn(mech, t.mechanic);
+    const { ctx: mechCtx, page: mech } = await signedInPhone(browser, t.mechanic);
     await mech.getByRole("link", { name: /Verdict four/ }).tap();
     await mech.getByRole("link", { name: /43,800 km/ }).tap();
     await mech.getByRole("button", { name: /3\. Plan/ }).tap();
@@ -117,9 +107,7 @@ describe("a mentor reviews a shared check", () => {
 
   it("a photo taken with no signal waits on the phone and reaches the mentor after sync", async () => {
     const t = await clubScenario(baseUrl(), "rv-photo", [{ name: "Photo four", shared: true }]);
-    const mechCtx = await phoneContext(browser);
-    const mech = await mechCtx.newPage();
-    await signIn(mech, t.mechanic);
+    const { ctx: mechCtx, page: mech } = await signedInPhone(browser, t.mechanic);
     await mech.getByRole("link", { name: /Photo four/ }).tap();
     await mech.getByRole("link", { name: /43,800 km/ }).tap();
     await mech.getByRole("button", { name: /2\. Measure/ }).tap();
@@ -144,9 +132,7 @@ describe("a mentor reviews a shared check", () => {
     step("photo sent after the signal came back");
     await mechCtx.close();
 
-    const mentorCtx = await phoneContext(browser);
-    const mentor = await mentorCtx.newPage();
-    await signIn(mentor, t.mentor);
+    const { ctx: mentorCtx, page: mentor } = await signedInPhone(browser, t.mentor);
     await mentor.goto(`${baseUrl()}/club`);
     await mentor.getByRole("link", { name: /Photo four/ }).tap();
     const photo = mentor.getByRole("list", { name: "Photos: valve I1.1" }).getByTestId("photo");

@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { signedInClient } from "../support/api";
-import { baseUrl, phoneContext, signInAs } from "../support/browser";
+import { baseUrl, signedInPhone } from "../support/browser";
 import { ENGINE_FOUR, makeUser } from "../support/fixtures";
 import { browserPerFile } from "../support/per-file";
 
@@ -27,9 +27,7 @@ describe("a phone whose session was ended elsewhere", () => {
       ).status,
     ).toBe(200);
 
-    const ctx = await phoneContext(browser);
-    const page = await ctx.newPage();
-    await signInAs(page, u.email, u.password);
+    const { ctx, page } = await signedInPhone(browser, u);
     await page.getByText("Kept-secret four").waitFor();
     // the service worker serves the garage shells offline
     await page.evaluate(async () => {

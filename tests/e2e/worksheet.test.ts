@@ -6,7 +6,7 @@ import type { Browser } from "playwright-core";
 import { checkPlan, valveViews } from "@/lib/check/derive";
 import { camsOut, camsOutWords } from "@/lib/lash";
 import type { LocalEngine, LocalReading } from "@/lib/sync/local-db";
-import { baseUrl, launch, phoneContext, signInAs } from "../support/browser";
+import { baseUrl, launch, signedInPhone } from "../support/browser";
 import { signedInClient } from "../support/api";
 import { makeUser } from "../support/fixtures";
 import { layout, USUAL_BANDS } from "../support/engines";
@@ -87,9 +87,7 @@ describe("the printed worksheet", () => {
   for (const key of ["twin", "six"] as const) {
     it(`prints the ${key} on one page of A4 and of Letter, with the engine's values and no app controls`, async () => {
       const { checkId, engine, readings } = made[key]!;
-      const ctx = await phoneContext(browser, "dark");
-      const page = await ctx.newPage();
-      await signInAs(page, user.email, user.password);
+      const { ctx, page } = await signedInPhone(browser, user);
       await page.goto(`${baseUrl()}/check?id=${checkId}&step=plan`);
       await page.getByRole("button", { name: "Print worksheet" }).waitFor();
       await page.locator("article.worksheet").waitFor({ state: "attached" });

@@ -74,13 +74,16 @@ export function narrowPhone(
   });
 }
 
-/** A page on a narrow phone (narrowPhone), signed in as `u` on the sign-in page. */
+/**
+ * A page signed in as `u` on the sign-in page (the demo password unless given), on the phone of
+ * PHONE in a colour scheme (dark unless given), or on a narrow phone (narrowPhone's options).
+ */
 export async function signedInPhone(
   browser: Browser,
-  u: { email: string; password: string },
-  phone: Parameters<typeof narrowPhone>[1],
+  u: { email: string; password?: string },
+  phone: "dark" | "light" | Parameters<typeof narrowPhone>[1] = "dark",
 ): Promise<{ ctx: BrowserContext; page: Page }> {
-  const ctx = await narrowPhone(browser, phone);
+  const ctx = typeof phone === "string" ? await phoneContext(browser, phone) : await narrowPhone(browser, phone);
   const page = await ctx.newPage();
   await signInAs(page, u.email, u.password);
   return { ctx, page };
