@@ -8,7 +8,7 @@ import { killNode, startNode, stopNode, waitClusterSynced } from "../../scripts/
 import type { Haproxy } from "../../scripts/lib/haproxy.mjs";
 import { Client } from "../support/api";
 import { clusterSpec } from "../support/cluster";
-import { appliedTwice, rawConnection, readingsDiffering } from "../support/db";
+import { historyRows, rawConnection, readingsDiffering } from "../support/db";
 import { ENGINE_FOUR } from "../support/fixtures";
 import { behindHaproxy } from "../support/haproxy";
 import { giveUp, Phone, RETRIED, retried, sessionCookie, sleep, Stats, table } from "../support/load";
@@ -251,9 +251,9 @@ async function compareWithServer(): Promise<string[]> {
       const refused = [...m.phone.acknowledged.values()].filter((a) => a.rejected);
       if (refused.length) problems.push(`${m.email}: refused ${refused.map((r) => r.rejected).join("; ")}`);
     }
-    const twice = await appliedTwice(
-      db,
+    const twice = await historyRows(
       mechanics.map((m) => m.checkId),
+      db,
     );
     if (twice) problems.push(`${twice} readings were applied twice`);
   } finally {

@@ -5,7 +5,7 @@ import { tmpdir } from "node:os";
 import path from "node:path";
 import { Client } from "../support/api";
 import { allSynced, baseUrl, persistentPhone, signInAs, tapReading } from "../support/browser";
-import { rawConnection } from "../support/db";
+import { historyRows, rawConnection } from "../support/db";
 import { ENGINE_FOUR, makeUser } from "../support/fixtures";
 
 /**
@@ -24,14 +24,11 @@ afterAll(async () => {
 async function server(checkId: string) {
   const db = await rawConnection();
   const [rows] = await db.query("SELECT valve, feeler_go FROM readings WHERE check_id = ? ORDER BY valve", [checkId]);
-  const [hist] = await db.query(
-    "SELECT COUNT(*) AS n FROM reading_history h JOIN readings r ON r.id = h.reading_id WHERE r.check_id = ?",
-    [checkId],
-  );
+  const history = await historyRows([checkId], db);
   await db.end();
   return {
     rows: (rows as { valve: string; feeler_go: string }[]).map((r) => `${r.valve} ${Number(r.feeler_go)}`),
-    history: Number((hist as { n: number }[])[0]!.n),
+    history,
   };
 }
 

@@ -5,7 +5,7 @@ import { tmpdir } from "node:os";
 import path from "node:path";
 import { planShims, shimSeries } from "@/lib/lash";
 import { allSynced, backOnline, persistentPhone, signInAs } from "../support/browser";
-import { queryRows, rawConnection } from "../support/db";
+import { historyRows, queryRows, rawConnection } from "../support/db";
 import { makeUser } from "../support/fixtures";
 
 /**
@@ -64,16 +64,13 @@ const serverReadings = (checkId: string) =>
 /** What the server has applied for this check's owner: overwritten readings, and each device's last id. */
 async function applied(checkId: string) {
   const db = await rawConnection();
-  const [h] = await db.query(
-    "SELECT COUNT(*) AS n FROM reading_history h JOIN readings r ON r.id = h.reading_id WHERE r.check_id = ?",
-    [checkId],
-  );
+  const history = await historyRows([checkId], db);
   const [c] = await db.query(
     "SELECT s.id, s.last_mutation_id FROM sync_clients s JOIN checks k ON k.owner_id = s.user_id WHERE k.id = ? ORDER BY s.id",
     [checkId],
   );
   await db.end();
-  return { history: Number((h as { n: number }[])[0]!.n), clients: c as { id: string; last_mutation_id: number }[] };
+  return { history, clients: c as { id: string; last_mutation_id: number }[] };
 }
 
 let checkUrl = "";

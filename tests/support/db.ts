@@ -62,11 +62,14 @@ export async function readingsDiffering(db: mysql.Connection, checkId: string, w
   );
 }
 
-/** History rows of these checks' readings: each (valve, round) is written once, so a row is a change applied twice. */
-export async function appliedTwice(db: mysql.Connection, checkIds: string[]) {
-  const [[hist]] = await db.query<RowDataPacket[]>(
+/**
+ * History rows of these checks' readings (countOf, on `on` when given): a reading written once has
+ * none, so where each is written once a row is a change applied twice.
+ */
+export function historyRows(checkIds: string[], on?: mysql.Connection) {
+  return countOf(
     "SELECT COUNT(*) AS n FROM reading_history h JOIN readings r ON r.id = h.reading_id WHERE r.check_id IN (?)",
     [checkIds],
+    on,
   );
-  return Number(hist!.n);
 }

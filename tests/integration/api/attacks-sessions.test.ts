@@ -30,6 +30,12 @@ async function resetLink(email: string) {
   return linkToken(await nextMail(email, RESET, before), "/reset-password");
 }
 
+/** A new password chosen through a fresh reset link, on another device: accepted. */
+async function chooseNewPassword(email: string, password: string) {
+  const token = await resetLink(email);
+  expect((await new Client(app.url).post("/api/account/password", { token, password })).status).toBe(200);
+}
+
 async function signInLink(email: string) {
   const before = await count(email, SIGNIN);
   expect((await new Client(app.url).post("/api/account/sign-in-link", { email })).status).toBe(202);
@@ -57,10 +63,7 @@ describe("/api/auth/session checks the session generation (12a)", () => {
   it("a revoked cookie cannot sign its owner out everywhere again", async () => {
     const u = await makeUser("lost");
     const lost = await signedInClient(app.url, u);
-    const token = await resetLink(u.email);
-    expect(
-      (await new Client(app.url).post("/api/account/password", { token, password: "owner-new-pass-51" })).status,
-    ).toBe(200);
+    await chooseNewPassword(u.email, "owner-new-pass-51");
     const owner = await signedInClient(app.url, { email: u.email, password: "owner-new-pass-51" });
     // the lost phone's old cookie asks to sign out: the owner's new session goes on
     await lost.signOut();
@@ -73,11 +76,7 @@ describe("a new password voids every link asked for before it (12b)", () => {
     const u = await makeUser("links");
     const oldReset = await resetLink(u.email);
     const oldSignIn = await signInLink(u.email);
-    const reset = await resetLink(u.email);
-    expect(
-      (await new Client(app.url).post("/api/account/password", { token: reset, password: "chosen-after-all-64" }))
-        .status,
-    ).toBe(200);
+    await chooseNewPassword(u.email, "chosen-after-all-64");
 
     const again = await new Client(app.url).post("/api/account/password", {
       token: oldReset,
@@ -125,10 +124,7 @@ describe("a phone whose session was ended elsewhere is told so at its next sync 
   it("after a password reset the same", async () => {
     const u = await makeUser("wipe2");
     const phone = await signedInClient(app.url, u);
-    const token = await resetLink(u.email);
-    expect(
-      (await new Client(app.url).post("/api/account/password", { token, password: "reset-from-pc-38" })).status,
-    ).toBe(200);
+    await chooseNewPassword(u.email, "reset-from-pc-38");
     const res = await phone.post("/api/sync/pull", { cursor: null });
     expect(res.status).toBe(401);
     expect(res.json.error.code).toBe("session_revoked");

@@ -39,19 +39,18 @@ async function signInByLink(c: Client, email: string) {
   return c.signIn("email-link", { token: linkToken(await waitForMail(email, /sign-in link/), "/sign-in/link") });
 }
 
+/** Someone else signs up first with the owner's address and a password of their choosing (accepted: 202). */
+async function attackerSignsUp(victim: string, password: string) {
+  const attacker = new Client(app.url);
+  expect((await attacker.post("/api/account/sign-up", { email: victim, name: "Not The Owner", password })).status).toBe(
+    202,
+  );
+}
+
 describe("account takeover by signing up first (ASVS V6 Authentication; NIST SP 800-63B authenticator binding)", () => {
   it("a password chosen before the owner proved the address stops working once they sign in by a link, and the owner is told", async () => {
     const victim = fresh("victim");
-    const attacker = new Client(app.url);
-    expect(
-      (
-        await attacker.post("/api/account/sign-up", {
-          email: victim,
-          name: "Not The Owner",
-          password: "attacker-chose-this-1",
-        })
-      ).status,
-    ).toBe(202);
+    await attackerSignsUp(victim, "attacker-chose-this-1");
     // the real owner later signs in with an e-mail link: that proves the address
     const owner = new Client(app.url);
     expect(await signInByLink(owner, victim)).toBeNull();
@@ -68,16 +67,7 @@ describe("account takeover by signing up first (ASVS V6 Authentication; NIST SP 
 
   it("the owner clicking the confirmation mail the attacker's sign-up caused does not confirm the attacker's password", async () => {
     const victim = fresh("victim2");
-    const attacker = new Client(app.url);
-    expect(
-      (
-        await attacker.post("/api/account/sign-up", {
-          email: victim,
-          name: "Not The Owner",
-          password: "attacker-chose-this-2",
-        })
-      ).status,
-    ).toBe(202);
+    await attackerSignsUp(victim, "attacker-chose-this-2");
     const token = linkToken(await waitForMail(victim, /Confirm your e-mail/), "/verify");
     // the owner opens the link: without the sign-up's password it confirms nothing
     const owner = new Client(app.url);

@@ -5,7 +5,7 @@ import type { RowDataPacket } from "mysql2";
 import { retryDelay } from "@/lib/sync/transport";
 import { hashPassword } from "@/server/password";
 import { Client } from "../../support/api";
-import { appliedTwice, rawConnection, readingsDiffering } from "../../support/db";
+import { historyRows, rawConnection, readingsDiffering } from "../../support/db";
 import { giveUp, Phone, sessionCookie, sleep, Stats, table, type Mutation, RETRIED } from "../../support/load";
 import { startApp, type App } from "../../support/server";
 import { BLADES, CLUB_NIGHT_PASSWORD as PASSWORD, ENGINE_SIX, VALVES } from "../../support/club-night";
@@ -385,9 +385,9 @@ async function compareWithServer(): Promise<string[]> {
       const differ = await readingsDiffering(db, m.checkId, m.written);
       check(differ === 0, `${m.user.name}: ${differ} readings differ from the phone's`);
     }
-    const twice = await appliedTwice(
-      db,
+    const twice = await historyRows(
       mechanics.map((m) => m.checkId),
+      db,
     );
     check(twice === 0, `${twice} readings were applied twice (reading_history)`);
     for (const t of mentors) {
