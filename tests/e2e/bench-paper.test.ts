@@ -155,15 +155,11 @@ describe("paper that matches the phone, numbers as they were given (360 px)", ()
       const six = await plannedSix(api);
       const twin = await recheckTwin(api);
       const { ctx, page } = await signedInPhone(browser, u, { colorScheme: scheme, acceptDownloads: true });
+      const drawings = (facing: Parameters<typeof compareDrawings>[3], shot: string) =>
+        compareDrawings(page, api, six, facing, `${shot}-${scheme}`);
 
       // mirrored, the exhausts nearest: the phone, the paper and the review agree, I1.2 left of I1.1
-      const mirrored = await compareDrawings(
-        page,
-        api,
-        six,
-        { mirrored: true, nearSide: "exhaust" },
-        `paper-mirrored-${scheme}`,
-      );
+      const mirrored = await drawings({ mirrored: true, nearSide: "exhaust" }, "paper-mirrored");
       expect(mirrored.top.slice(-2)).toEqual(["I1.2", "I1.1"]);
       expect(mirrored.bottom.slice(-2)).toEqual(["E1.2", "E1.1"]);
 
@@ -212,13 +208,7 @@ describe("paper that matches the phone, numbers as they were given (360 px)", ()
       await expect
         .poll(() => drawn(phoneDiagram(page)), { timeout: 10_000 })
         .toEqual(drawnValveOrder(sixViews, { mirrored: false, nearSide: "exhaust" }));
-      const left = await compareDrawings(
-        page,
-        api,
-        six,
-        { mirrored: false, nearSide: "exhaust" },
-        `paper-left-${scheme}`,
-      );
+      const left = await drawings({ mirrored: false, nearSide: "exhaust" }, "paper-left");
       expect(left.top.slice(0, 2)).toEqual(["I1.1", "I1.2"]);
 
       // the profile says the intake side is nearest: the intakes are drawn at the bottom everywhere
@@ -231,13 +221,7 @@ describe("paper that matches the phone, numbers as they were given (360 px)", ()
       );
       // a band's length and its unit stay on one line
       for (const s of await page.locator("dd span.whitespace-nowrap").all()) expect(await lines(s)).toBe(1);
-      const near = await compareDrawings(
-        page,
-        api,
-        six,
-        { mirrored: false, nearSide: "intake" },
-        `paper-intake-near-${scheme}`,
-      );
+      const near = await drawings({ mirrored: false, nearSide: "intake" }, "paper-intake-near");
       expect(near.bottom.every((v) => v.startsWith("I"))).toBe(true);
       await page.goto(`${baseUrl()}/check?id=${six.checkId}&step=plan`);
       await page.locator("article.worksheet").waitFor({ state: "attached" });

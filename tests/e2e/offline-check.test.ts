@@ -7,6 +7,7 @@ import { planShims, shimSeries } from "@/lib/lash";
 import { allSynced, backOnline, persistentPhone, signInAs } from "../support/browser";
 import { historyRows, queryRows, rawConnection } from "../support/db";
 import { makeUser } from "../support/fixtures";
+import { syncedOnline } from "../support/online";
 
 /**
  * The garage without a signal: sign in once online, then with the network cut create an engine, a
@@ -181,11 +182,7 @@ describe("a whole check offline, then sync", () => {
   });
 
   it("online again: the server holds exactly those readings, once, and nothing waits", async () => {
-    const page = ctx.pages()[0]!;
-    await backOnline(ctx, page);
-    await expect.poll(async () => (await serverReadings(checkId)).length, { timeout: 20_000 }).toBe(16);
-    await allSynced(page);
-    const rows = await serverReadings(checkId);
+    const { page, rows } = await syncedOnline(ctx, () => serverReadings(checkId), 16, 20_000);
     for (const r of rows) {
       const go = Number(TAPS[r.valve]);
       expect(Number(r.installed_stamp)).toBe(2.6);

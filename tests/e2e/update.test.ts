@@ -6,10 +6,11 @@ import net from "node:net";
 import { tmpdir } from "node:os";
 import path from "node:path";
 import { startNext } from "../../scripts/lib/next-server.mjs";
-import { allSynced, backOnline, persistentPhone } from "../support/browser";
+import { backOnline, persistentPhone } from "../support/browser";
 import { queryRows } from "../support/db";
 import { bladeReadings, GO } from "../support/club-scenario";
 import { ENGINE_FOUR, makeUser } from "../support/fixtures";
+import { syncedOnline } from "../support/online";
 
 /**
  * A deploy as a mechanic meets it (README "At an update"). Build A (npm test's own build)
@@ -236,11 +237,7 @@ describe("a deploy while a check is open", () => {
   });
 
   it("online again: every reading reaches the server once", async () => {
-    const page = ctx.pages()[0]!;
-    await backOnline(ctx, page);
-    await expect.poll(async () => (await serverReadings(checkId)).length, { timeout: 30_000 }).toBe(20);
-    await allSynced(page);
-    const rows = await serverReadings(checkId);
+    const { rows } = await syncedOnline(ctx, () => serverReadings(checkId), 20, 30_000);
     expect(
       rows
         .filter((r) => r.round === 0)
