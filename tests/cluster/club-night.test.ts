@@ -4,14 +4,15 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { RowDataPacket } from "mysql2";
 import { retryDelay } from "@/lib/sync/transport";
 import { hashPassword } from "@/server/password";
-import { freePorts, killNode, startNode, stopNode, waitClusterSynced } from "../../scripts/lib/galera.mjs";
-import { startHaproxy, type Haproxy } from "../../scripts/lib/haproxy.mjs";
+import { killNode, startNode, stopNode, waitClusterSynced } from "../../scripts/lib/galera.mjs";
+import type { Haproxy } from "../../scripts/lib/haproxy.mjs";
 import { Client } from "../support/api";
 import { clusterSpec } from "../support/cluster";
-import { rawConnection } from "../support/db";
+import { historyRows, rawConnection, readingsDiffering } from "../support/db";
 import { ENGINE_FOUR } from "../support/fixtures";
+import { behindHaproxy } from "../support/haproxy";
 import { giveUp, Phone, RETRIED, retried, sessionCookie, sleep, Stats, table } from "../support/load";
-import { startApp, type App } from "../support/server";
+import type { App } from "../support/server";
 import { BLADES, CLUB_NIGHT_PASSWORD as PASSWORD, ENGINE_SIX, VALVES } from "../support/club-night";
 
 /**
@@ -62,44 +63,16 @@ const note = (line: string) => {
 };
 
 beforeAll(async () => {
-  const [frontPort, statsPort, db1, db2, app1, app2] = (await freePorts(6)) as [
-    number,
-    number,
-    number,
-    number,
-    number,
-    number,
-  ];
-  proxy = await startHaproxy({
-    dir: path.join(spec.dir, "haproxy"),
-    frontPort,
-    statsPort,
-    apps: [
-      { name: "app1", port: app1 },
-      { name: "app2", port: app2 },
-    ],
-    db: {
-      nodes: spec.nodes.map((n) => ({ name: n.name, port: n.port })),
-      listeners: [
-        { port: db1, prefer: 0 },
-        { port: db2, prefer: 1 },
-      ],
-      user: spec.user,
-      password: spec.password,
-      database: spec.database,
+  ({ proxy, apps } = await behindHaproxy({
+    spec,
+    name: "haproxy",
+    galera: true,
+    env: {
+      DB_POOL_SIZE: process.env.LASHWRIGHT_LOAD_POOL_SIZE ?? "10",
+      // the steady writers are robots that write faster than people
+      SYNC_WRITES_PER_MINUTE: "10000000",
     },
-  });
-  await proxy.waitUp(["galera/n1", "galera/n2", "galera/n3"]);
-  const env = (i: number) => ({
-    DATABASE_URL: proxy.dbUrls[i]!,
-    NEXTAUTH_URL: proxy.url,
-    TRUSTED_PROXIES: "1",
-    DB_POOL_SIZE: process.env.LASHWRIGHT_LOAD_POOL_SIZE ?? "10",
-    // the steady writers are robots that write faster than people
-    SYNC_WRITES_PER_MINUTE: "10000000",
-  });
-  apps = await Promise.all([startApp(env(0), { port: app1 }), startApp(env(1), { port: app2 })]);
-  await proxy.waitUp(["app/app1", "app/app2"]);
+  }));
 
   const hash = await hashPassword(PASSWORD);
   const c = await rawConnection();
@@ -242,34 +215,29 @@ async function faults(writerCookie: string) {
   note(`app instance 1 started again: back in HAProxy ${Math.round(backMs)} ms after it answered`);
 
   const writers = apps.map((a) => steadyWriter(a, writerCookie));
-  await sleep(3000);
-  writers.forEach((w) => w.window());
+  /** Database node i down for NODE_DOWN_MS and back in HAProxy: the writers' figures while it was down. */
+  const nodeDown = async (i: number, how: "stopped (SIGTERM)" | "killed (SIGKILL)") => {
+    await sleep(3000);
+    writers.forEach((w) => w.window());
+    await (how === "stopped (SIGTERM)" ? stopNode(spec, i) : killNode(spec, i));
+    await sleep(NODE_DOWN_MS);
+    const [a, b] = writers.map((w) => w.window());
+    note(
+      `database node ${i + 1} ${how}, ${NODE_DOWN_MS / 1000} s down; ${says("through instance 1", a!)}; ${says("through instance 2", b!)}`,
+    );
+    await startNode(spec, i);
+    await waitClusterSynced(spec);
+    await untilState(`galera/${spec.nodes[i]!.name}`, /^UP/);
+    return [a!, b!] as const;
+  };
   // a node leaving cleanly (SIGTERM): it tells the others, so they do not wait for it
-  await stopNode(spec, 1);
-  await sleep(NODE_DOWN_MS);
-  const [cleanA, cleanB] = writers.map((w) => w.window());
-  note(
-    `database node 2 stopped (SIGTERM), ${NODE_DOWN_MS / 1000} s down; ${says("through instance 1", cleanA!)}; ${says("through instance 2", cleanB!)}`,
-  );
-  await startNode(spec, 1);
-  await waitClusterSynced(spec);
-  await untilState("galera/n2", /^UP/);
-  await sleep(3000);
-  writers.forEach((w) => w.window());
+  const [cleanA, cleanB] = await nodeDown(1, "stopped (SIGTERM)");
   // instance 1's own node crashes (SIGKILL): the others wait out Galera's suspect timeout, then go on;
   // instance 1's connections move to the next node
-  await killNode(spec, 0);
-  await sleep(NODE_DOWN_MS);
-  const [killA, killB] = writers.map((w) => w.window());
-  note(
-    `database node 1 killed (SIGKILL), ${NODE_DOWN_MS / 1000} s down; ${says("through instance 1", killA!)}; ${says("through instance 2", killB!)}`,
-  );
-  await startNode(spec, 0);
-  await waitClusterSynced(spec);
-  await untilState("galera/n1", /^UP/);
+  const [killA, killB] = await nodeDown(0, "killed (SIGKILL)");
   note("database node 1 started again and Synced; HAProxy sends instance 1's new connections to it again");
   await Promise.all(writers.map((w) => w.stop()));
-  return { cleanA: cleanA!, cleanB: cleanB!, killA: killA!, killB: killB! };
+  return { cleanA, cleanB, killA, killB };
 }
 
 async function compareWithServer(): Promise<string[]> {
@@ -277,25 +245,17 @@ async function compareWithServer(): Promise<string[]> {
   const db = await rawConnection();
   try {
     for (const m of mechanics) {
-      const [rows] = await db.query<RowDataPacket[]>(
-        "SELECT valve, round, feeler_go FROM readings WHERE check_id = ?",
-        [m.checkId],
-      );
-      const server = new Map(rows.map((r) => [`${r.valve}#${r.round}`, Number(r.feeler_go)]));
-      const differ =
-        [...m.written].filter(([k, v]) => server.get(k) !== v).length +
-        [...server.keys()].filter((k) => !m.written.has(k)).length;
+      const differ = await readingsDiffering(db, m.checkId, m.written);
       if (differ) problems.push(`${m.email}: ${differ} readings differ from the phone's (lost)`);
       if (m.phone.outbox.length) problems.push(`${m.email}: ${m.phone.outbox.length} changes still waiting`);
       const refused = [...m.phone.acknowledged.values()].filter((a) => a.rejected);
       if (refused.length) problems.push(`${m.email}: refused ${refused.map((r) => r.rejected).join("; ")}`);
     }
-    // every (valve, round) is written once: a history row means a change was applied twice
-    const [[hist]] = await db.query<RowDataPacket[]>(
-      "SELECT COUNT(*) AS n FROM reading_history h JOIN readings r ON r.id = h.reading_id WHERE r.check_id IN (?)",
-      [mechanics.map((m) => m.checkId)],
+    const twice = await historyRows(
+      mechanics.map((m) => m.checkId),
+      db,
     );
-    if (Number(hist!.n)) problems.push(`${hist!.n} readings were applied twice`);
+    if (twice) problems.push(`${twice} readings were applied twice`);
   } finally {
     await db.end();
   }

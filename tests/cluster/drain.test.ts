@@ -1,12 +1,11 @@
 import net from "node:net";
-import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { freePorts } from "../../scripts/lib/galera.mjs";
-import { startHaproxy, type Haproxy } from "../../scripts/lib/haproxy.mjs";
+import type { Haproxy } from "../../scripts/lib/haproxy.mjs";
 import { clusterSpec } from "../support/cluster";
 import { ENGINE_FOUR, makeUser } from "../support/fixtures";
+import { behindHaproxy } from "../support/haproxy";
 import { sessionCookie, sleep } from "../support/load";
-import { startApp, type App } from "../support/server";
+import type { App } from "../support/server";
 
 /**
  * An instance told to stop (SIGTERM, as a supervisor or a deployment does) behind HAProxy, while a
@@ -26,30 +25,19 @@ let apps: App[] = [];
 let cookie = "";
 
 beforeAll(async () => {
-  const [frontPort, statsPort, app1, app2] = (await freePorts(4)) as [number, number, number, number];
-  proxy = await startHaproxy({
-    dir: path.join(spec.dir, "haproxy-drain"),
-    frontPort,
-    statsPort,
-    apps: [
-      { name: "app1", port: app1 },
-      { name: "app2", port: app2 },
-    ],
-  });
-  const env = (i: number) => ({
-    DATABASE_URL: spec.urls[i]!,
-    NEXTAUTH_URL: proxy.url,
-    TRUSTED_PROXIES: "1",
-    DB_POOL_SIZE: "5",
-    SYNC_WRITES_PER_MINUTE: "10000000",
-    // as in production behind this HAProxy (startApp's default is 0: no balancer)
-    SHUTDOWN_NOTICE_MS: "2500",
-    SHUTDOWN_TIMEOUT_MS: String(BOUND_MS),
-    // the shutdown's steps are info lines (npm test's default is warn)
-    LOG_LEVEL: "info",
-  });
-  apps = await Promise.all([startApp(env(0), { port: app1 }), startApp(env(1), { port: app2 })]);
-  await proxy.waitUp(["app/app1", "app/app2"]);
+  ({ proxy, apps } = await behindHaproxy({
+    spec,
+    name: "haproxy-drain",
+    env: {
+      DB_POOL_SIZE: "5",
+      SYNC_WRITES_PER_MINUTE: "10000000",
+      // as in production behind this HAProxy (startApp's default is 0: no balancer)
+      SHUTDOWN_NOTICE_MS: "2500",
+      SHUTDOWN_TIMEOUT_MS: String(BOUND_MS),
+      // the shutdown's steps are info lines (npm test's default is warn)
+      LOG_LEVEL: "info",
+    },
+  }));
   const user = await makeUser("cluster-drain");
   cookie = await sessionCookie(user.id, process.env.NEXTAUTH_SECRET!);
 }, 180_000);

@@ -1,7 +1,7 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { signedInClient, type Client } from "../support/api";
 import { startInstances } from "../support/cluster";
-import { rawConnection } from "../support/db";
+import { countOf, rawConnection } from "../support/db";
 import { addMembership, makeUser } from "../support/fixtures";
 import type { App } from "../support/server";
 
@@ -23,9 +23,9 @@ afterAll(async () => {
 async function count(sql: string, args: unknown[]) {
   const db = await rawConnection();
   await db.query("SET SESSION wsrep_sync_wait = 1");
-  const [rows] = await db.query(sql, args);
+  const n = await countOf(sql, args, db);
   await db.end();
-  return Number((rows as { n: number }[])[0]!.n);
+  return n;
 }
 
 describe("races across two instances on two nodes", () => {

@@ -1,10 +1,11 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { Browser, BrowserContext, Page } from "playwright-core";
 import { AxeBuilder } from "@axe-core/playwright";
-import { signedInClient, type Client } from "../support/api";
+import { signedInClient } from "../support/api";
 import { baseUrl, launch, phoneContext, signInAs } from "../support/browser";
-import { rawConnection } from "../support/db";
+import { demoMentorClubId, rawConnection } from "../support/db";
 import { addMembership, ENGINE_FOUR, makeUser } from "../support/fixtures";
+import { pushAccepted } from "../support/push";
 
 /**
  * axe-core on every screen and every step of a check, as a mechanic and as a mentor, in light and
@@ -124,27 +125,12 @@ const ids = {
   underCheck: crypto.randomUUID(),
 };
 
-async function push(api: Client, mutations: { name: string; args: unknown }[]) {
-  const res = await api.post("/api/sync/push", {
-    clientId: crypto.randomUUID(),
-    mutations: mutations.map((m, i) => ({ id: i + 1, ...m })),
-  });
-  expect(res.status).toBe(200);
-  expect(res.json.rejected ?? []).toEqual([]);
-}
-
 let browser: Browser;
 beforeAll(async () => {
   browser = await launch();
   const u = await makeUser("a11y");
   mech = u;
-  const db = await rawConnection();
-  const [rows] = await db.query(
-    "SELECT m.club_id AS clubId FROM memberships m JOIN users u ON u.id = m.user_id WHERE u.email = ? AND m.role = 'mentor' LIMIT 1",
-    ["teodor@kestrel-hollow.example"],
-  );
-  await db.end();
-  const clubId = (rows as { clubId: string }[])[0]!.clubId;
+  const clubId = await demoMentorClubId();
   await addMembership(clubId, u.id, ["mechanic"]);
   const api = await signedInClient(baseUrl(), u);
   const reading = (checkId: string, valve: string, extra: Record<string, unknown>) => ({
@@ -152,7 +138,7 @@ beforeAll(async () => {
     args: { checkId, reading: { valve, round: 0, installedStamp: 2.6, ...extra } },
   });
   const valves = Object.keys(MEASURED);
-  await push(api, [
+  await pushAccepted(api, [
     { name: "engine.put/1", args: { id: ids.engine, ...ENGINE_FOUR, name: ENGINE_NAME } },
     {
       name: "check.put/1",
@@ -446,7 +432,7 @@ describe("every screen reflows at 320 px with long names", () => {
       name: "reading.put/1",
       args: { checkId, reading: { valve, round: 0, installedStamp: 2.6, ...extra } },
     });
-    await push(api, [
+    await pushAccepted(api, [
       { name: "engine.put/1", args: { id: long.engine, ...ENGINE_FOUR, name: LONG.engine } },
       {
         name: "check.put/1",

@@ -1,20 +1,17 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser, Page } from "playwright-core";
+import { describe, expect, it } from "vitest";
+import type { Page } from "playwright-core";
 import { AxeBuilder } from "@axe-core/playwright";
 import { signedInClient } from "../support/api";
-import { baseUrl, launch, signInAs } from "../support/browser";
+import { baseUrl, signedInPhone } from "../support/browser";
 import { addMembership, ENGINE_FOUR, makeUser } from "../support/fixtures";
+import { browserPerFile } from "../support/per-file";
 
 /**
  * Deleting the account from the account page on a small phone (360 px): it says first what goes,
  * what ends and what stays; a blocker (the only admin of a club) is named and offers no button; the
  * password is asked; a wrong one deletes nothing; afterwards the phone's own copy is gone too.
  */
-let browser: Browser;
-beforeAll(async () => {
-  browser = await launch();
-});
-afterAll(() => browser?.close());
+const browser = browserPerFile();
 
 const overflows = (page: Page) => page.evaluate(() => document.documentElement.scrollWidth > window.innerWidth);
 /** axe-core on the deletion's section (the rest of the page is audited by a11y.test.ts), WCAG 2.1 A/AA and best practice. */
@@ -38,15 +35,7 @@ describe("deleting the account on a phone", () => {
     await pc.post(`/api/engines/${engineId}/checks`, { odometer: 31_000 });
     await pc.post("/api/tray", { size: 2.6, count: 2 });
 
-    const ctx = await browser.newContext({
-      viewport: { width: 360, height: 780 },
-      deviceScaleFactor: 2,
-      isMobile: true,
-      hasTouch: true,
-      colorScheme: "light",
-    });
-    const page = await ctx.newPage();
-    await signInAs(page, u.email, u.password);
+    const { ctx, page } = await signedInPhone(browser, u, { colorScheme: "light" });
     await page.goto(`${baseUrl()}/account`);
     await page.getByRole("button", { name: "Delete my account…" }).tap();
     await page.getByRole("heading", { name: "What deleting does" }).waitFor();

@@ -3,7 +3,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { strFromU8, unzipSync } from "fflate";
 import type { Browser, BrowserContext, Page } from "playwright-core";
 import { AxeBuilder } from "@axe-core/playwright";
-import { baseUrl, launch } from "../support/browser";
+import { baseUrl, launch, signedInPhone } from "../support/browser";
 import { signedInClient } from "../support/api";
 import { ENGINE_FOUR, makeUser } from "../support/fixtures";
 import { EXPORT_DATA_ENTRY, parseExport } from "@/lib/export/schema";
@@ -27,20 +27,7 @@ beforeAll(async () => {
     readings: [{ valve: "I1.1", installedStamp: 2.8, feelerGo: 0.05, feelerNoGo: 0.08 }],
   });
   browser = await launch();
-  ctx = await browser.newContext({
-    viewport: { width: 360, height: 780 },
-    deviceScaleFactor: 2,
-    isMobile: true,
-    hasTouch: true,
-    colorScheme: "light",
-    acceptDownloads: true,
-  });
-  page = await ctx.newPage();
-  await page.goto(`${baseUrl()}/sign-in`);
-  await page.getByLabel("E-mail").fill(u.email);
-  await page.getByLabel("Password").fill(u.password);
-  await page.getByRole("button", { name: "Sign in", exact: true }).tap();
-  await page.waitForURL("**/engines");
+  ({ ctx, page } = await signedInPhone(browser, u, { colorScheme: "light", acceptDownloads: true }));
   // the phone's copy has the engine once the first sync is done
   await page.getByText(ENGINE_FOUR.name).first().waitFor();
   await page.goto(`${baseUrl()}/account`);

@@ -1,6 +1,6 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser } from "playwright-core";
-import { baseUrl, DEMO_PASSWORD, launch, phoneContext } from "../support/browser";
+import { describe, expect, it } from "vitest";
+import { baseUrl, DEMO_PASSWORD, phoneContext } from "../support/browser";
+import { browserPerFile } from "../support/per-file";
 
 /**
  * Open redirect after a real sign-in (issue 24, item 1; OWASP ASVS 5.0 V3 Web Frontend Security):
@@ -10,11 +10,7 @@ import { baseUrl, DEMO_PASSWORD, launch, phoneContext } from "../support/browser
  */
 const SHAPES = ["/.//evil.example/x", "/..//evil.example/x", "/%2e//evil.example/x", "/.\\\\evil.example/x"];
 
-let browser: Browser;
-beforeAll(async () => {
-  browser = await launch();
-});
-afterAll(() => browser?.close());
+const browser = browserPerFile();
 
 describe("open redirect through dot segments", () => {
   for (const next of SHAPES) {

@@ -1,17 +1,14 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser, Page } from "playwright-core";
-import { baseUrl, DEMO_PASSWORD, launch, phoneContext, signInAs } from "../support/browser";
+import { describe, expect, it } from "vitest";
+import type { Page } from "playwright-core";
+import { baseUrl, DEMO_PASSWORD, phoneContext, signedInPhone } from "../support/browser";
 import { inbox, linkToken, waitForMail } from "../support/mail";
+import { browserPerFile } from "../support/per-file";
 
 /**
  * The attacks of issue 15 that need a real browser. OWASP ASVS 5.0 V3 Web Frontend Security
  * (redirects), V7 Session Management (login forgery, sign-out). Demo users from db/seed.ts.
  */
-let browser: Browser;
-beforeAll(async () => {
-  browser = await launch();
-});
-afterAll(() => browser?.close());
+const browser = browserPerFile();
 
 async function fillSignIn(page: Page, email: string) {
   await page.getByLabel("E-mail").fill(email);
@@ -57,9 +54,7 @@ describe("open redirect after sign-in", () => {
 
 describe("login forgery through a sign-in link", () => {
   it("the link page names the account and waits for a press; with someone else signed in it refuses", async () => {
-    const ctx = await phoneContext(browser);
-    const page = await ctx.newPage();
-    await signInAs(page, "mara@kestrel-hollow.example");
+    const { ctx, page } = await signedInPhone(browser, { email: "mara@kestrel-hollow.example" });
     // a link for another account, opened on Mara's phone: refused until she signs out
     await page.goto(await signInLink("teodor@kestrel-hollow.example"));
     await page
@@ -90,9 +85,7 @@ describe("login forgery through a sign-in link", () => {
 
 describe("signing out on a shared phone", () => {
   it("warns while changes wait, then leaves none of the user's data on the phone", async () => {
-    const ctx = await phoneContext(browser);
-    const page = await ctx.newPage();
-    await signInAs(page, "mara@kestrel-hollow.example");
+    const { ctx, page } = await signedInPhone(browser, { email: "mara@kestrel-hollow.example" });
     // the phone stores who is signed in once the server has answered
     await page.waitForFunction(() => localStorage.getItem("lashwright.user") !== null);
     const userId = await page.evaluate(

@@ -1,13 +1,16 @@
 import { readFileSync } from "node:fs";
 import Papa from "papaparse";
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser, Locator, Page } from "playwright-core";
+import { describe, expect, it } from "vitest";
+import type { Locator, Page } from "playwright-core";
 import { drawnValveOrder } from "@/lib/check/diagram";
 import { valveNames } from "@/lib/lash";
 import { signedInClient, type Client } from "../support/api";
-import { baseUrl, launch, signInAs } from "../support/browser";
+import { baseUrl, signedInPhone } from "../support/browser";
 import { addMembership, makeUser } from "../support/fixtures";
 import { waitForMail } from "../support/mail";
+import { browserPerFile } from "../support/per-file";
+import { pushAccepted } from "../support/push";
+import { layout, USUAL_BANDS } from "../support/engines";
 
 /**
  * Paper that matches the phone, on a 360 px phone in light and dark: the printed worksheet, the
@@ -18,42 +21,11 @@ import { waitForMail } from "../support/mail";
  * loan read from the lender's side, an offer lent out, an invitation that says what it did.
  * Engines and readings are invented test data.
  */
-let browser: Browser;
-beforeAll(async () => {
-  browser = await launch();
-});
-afterAll(() => browser?.close());
+const browser = browserPerFile();
 
-const SIX = {
-  name: "Bench six",
-  cylinders: 6,
-  intakePerCylinder: 2,
-  exhaustPerCylinder: 2,
-  firingOrder: [1, 5, 3, 6, 2, 4],
-  intake: { min: 0.1, max: 0.2 },
-  exhaust: { min: 0.2, max: 0.3 },
-  shims: { min: 2.5, max: 3.3, step: 0.05 },
-};
-const TWIN = {
-  name: "Bench twin",
-  cylinders: 2,
-  intakePerCylinder: 1,
-  exhaustPerCylinder: 1,
-  firingOrder: [1, 2],
-  intake: { min: 0.1, max: 0.2 },
-  exhaust: { min: 0.2, max: 0.3 },
-  shims: { min: 2.5, max: 3.3, step: 0.05 },
-};
+const SIX = { name: "Bench six", ...layout([1, 5, 3, 6, 2, 4], 2), ...USUAL_BANDS };
+const TWIN = { name: "Bench twin", ...layout([1, 2], 1), ...USUAL_BANDS };
 const sixViews = valveNames(SIX).map((valve) => ({ valve }));
-
-async function push(api: Client, mutations: { name: string; args: unknown }[]) {
-  const res = await api.post("/api/sync/push", {
-    clientId: crypto.randomUUID(),
-    mutations: mutations.map((m, i) => ({ id: i + 1, ...m })),
-  });
-  expect(res.status).toBe(200);
-  expect(res.json.rejected ?? []).toEqual([]);
-}
 
 const engineArgs = (id: string, e: typeof SIX, extra: object) => ({
   id,
@@ -76,7 +48,7 @@ async function plannedSix(api: Client) {
     const [go, noGo] = valve.startsWith("I") ? [0.15, 0.18] : [0.25, 0.28];
     return { valve, round: 0, installedStamp: 2.6, feelerGo: go, feelerNoGo: noGo, measured: go, method: "feeler" };
   };
-  await push(api, [
+  await pushAccepted(api, [
     {
       name: "engine.put/3",
       args: engineArgs(engineId, SIX, { mirrored: true, shimPosition: "under", nearSide: "exhaust" }),
@@ -95,7 +67,7 @@ async function recheckTwin(api: Client) {
     name: "reading.put/1",
     args: { checkId, reading: { valve, round, installedStamp: 2.6, ...extra } },
   });
-  await push(api, [
+  await pushAccepted(api, [
     {
       name: "engine.put/3",
       args: engineArgs(engineId, TWIN, { mirrored: false, shimPosition: "over", nearSide: "exhaust" }),
@@ -182,25 +154,12 @@ describe("paper that matches the phone, numbers as they were given (360 px)", ()
       const api = await signedInClient(baseUrl(), u);
       const six = await plannedSix(api);
       const twin = await recheckTwin(api);
-      const ctx = await browser.newContext({
-        viewport: { width: 360, height: 780 },
-        deviceScaleFactor: 2,
-        isMobile: true,
-        hasTouch: true,
-        colorScheme: scheme,
-        acceptDownloads: true,
-      });
-      const page = await ctx.newPage();
-      await signInAs(page, u.email, u.password);
+      const { ctx, page } = await signedInPhone(browser, u, { colorScheme: scheme, acceptDownloads: true });
+      const drawings = (facing: Parameters<typeof compareDrawings>[3], shot: string) =>
+        compareDrawings(page, api, six, facing, `${shot}-${scheme}`);
 
       // mirrored, the exhausts nearest: the phone, the paper and the review agree, I1.2 left of I1.1
-      const mirrored = await compareDrawings(
-        page,
-        api,
-        six,
-        { mirrored: true, nearSide: "exhaust" },
-        `paper-mirrored-${scheme}`,
-      );
+      const mirrored = await drawings({ mirrored: true, nearSide: "exhaust" }, "paper-mirrored");
       expect(mirrored.top.slice(-2)).toEqual(["I1.2", "I1.1"]);
       expect(mirrored.bottom.slice(-2)).toEqual(["E1.2", "E1.1"]);
 
@@ -249,13 +208,7 @@ describe("paper that matches the phone, numbers as they were given (360 px)", ()
       await expect
         .poll(() => drawn(phoneDiagram(page)), { timeout: 10_000 })
         .toEqual(drawnValveOrder(sixViews, { mirrored: false, nearSide: "exhaust" }));
-      const left = await compareDrawings(
-        page,
-        api,
-        six,
-        { mirrored: false, nearSide: "exhaust" },
-        `paper-left-${scheme}`,
-      );
+      const left = await drawings({ mirrored: false, nearSide: "exhaust" }, "paper-left");
       expect(left.top.slice(0, 2)).toEqual(["I1.1", "I1.2"]);
 
       // the profile says the intake side is nearest: the intakes are drawn at the bottom everywhere
@@ -268,13 +221,7 @@ describe("paper that matches the phone, numbers as they were given (360 px)", ()
       );
       // a band's length and its unit stay on one line
       for (const s of await page.locator("dd span.whitespace-nowrap").all()) expect(await lines(s)).toBe(1);
-      const near = await compareDrawings(
-        page,
-        api,
-        six,
-        { mirrored: false, nearSide: "intake" },
-        `paper-intake-near-${scheme}`,
-      );
+      const near = await drawings({ mirrored: false, nearSide: "intake" }, "paper-intake-near");
       expect(near.bottom.every((v) => v.startsWith("I"))).toBe(true);
       await page.goto(`${baseUrl()}/check?id=${six.checkId}&step=plan`);
       await page.locator("article.worksheet").waitFor({ state: "attached" });
@@ -321,15 +268,7 @@ describe("paper that matches the phone, numbers as they were given (360 px)", ()
         /\/invite\?token=([A-Za-z0-9_%-]+)/.exec((await waitForMail(lender.email, /invites you/)).text)![1]!,
       );
 
-      const ctx = await browser.newContext({
-        viewport: { width: 360, height: 780 },
-        deviceScaleFactor: 2,
-        isMobile: true,
-        hasTouch: true,
-        colorScheme: scheme,
-      });
-      const page = await ctx.newPage();
-      await signInAs(page, lender.email, lender.password);
+      const { ctx, page } = await signedInPhone(browser, lender, { colorScheme: scheme });
       await page.goto(`${baseUrl()}/club`);
       const loan = page.getByTestId(`loan-${loanId}`);
       await loan.getByText("asks you for them: agree or decline").waitFor({ timeout: 20_000 });

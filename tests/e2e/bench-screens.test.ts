@@ -1,9 +1,12 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser, Page } from "playwright-core";
+import { beforeAll, describe, expect, it } from "vitest";
+import type { Page } from "playwright-core";
 import { signedInClient, type Client } from "../support/api";
-import { baseUrl, launch, signInAs } from "../support/browser";
-import { rawConnection } from "../support/db";
+import { baseUrl, narrowPhone, signInAs } from "../support/browser";
+import { demoMentorClubId } from "../support/db";
 import { addMembership, makeUser } from "../support/fixtures";
+import { browserPerFile } from "../support/per-file";
+import { pushAccepted } from "../support/push";
+import { layout, USUAL_BANDS } from "../support/engines";
 
 /**
  * At the bench on a 360 px phone (light and dark): the inline six of the report (4 valves a
@@ -12,38 +15,13 @@ import { addMembership, makeUser } from "../support/fixtures";
  * targets with room between; the plan says why both aims agree; the mentor taps a valve to read
  * and comment on it; a mail's #comments or #verdict lands on and focuses what it names. Readings invented.
  */
-let browser: Browser;
+const browser = browserPerFile();
 let clubId: string;
 beforeAll(async () => {
-  browser = await launch();
-  const db = await rawConnection();
-  const [rows] = await db.query(
-    "SELECT m.club_id AS clubId FROM memberships m JOIN users u ON u.id = m.user_id WHERE u.email = ? AND m.role = 'mentor' LIMIT 1",
-    ["teodor@kestrel-hollow.example"],
-  );
-  await db.end();
-  clubId = (rows as { clubId: string }[])[0]!.clubId;
+  clubId = await demoMentorClubId();
 });
-afterAll(() => browser?.close());
 
-const W = 360;
-const phone = (scheme: "light" | "dark") =>
-  browser.newContext({
-    viewport: { width: W, height: 780 },
-    deviceScaleFactor: 2,
-    isMobile: true,
-    hasTouch: true,
-    colorScheme: scheme,
-  });
-
-async function push(api: Client, mutations: { name: string; args: unknown }[]) {
-  const res = await api.post("/api/sync/push", {
-    clientId: crypto.randomUUID(),
-    mutations: mutations.map((m, i) => ({ id: i + 1, ...m })),
-  });
-  expect(res.status).toBe(200);
-  expect(res.json.rejected ?? []).toEqual([]);
-}
+const phone = (scheme: "light" | "dark") => narrowPhone(browser, { colorScheme: scheme });
 
 /**
  * The six, every valve typed in band on a 2.60 except three (worked by hand, gap = shim + clearance):
@@ -64,20 +42,15 @@ async function six(api: Client) {
       args: { checkId, reading: { valve: v, round: 0, installedStamp: shim, measured: gap, method: "typed" } },
     };
   };
-  await push(api, [
+  await pushAccepted(api, [
     {
       name: "engine.put/2",
       args: {
         id: engineId,
         name: "Bench six",
-        cylinders: 6,
-        intakePerCylinder: 2,
-        exhaustPerCylinder: 2,
-        firingOrder: [1, 5, 3, 6, 2, 4],
+        ...layout([1, 5, 3, 6, 2, 4], 2),
         mirrored: true,
-        intake: { min: 0.1, max: 0.2 },
-        exhaust: { min: 0.2, max: 0.3 },
-        shims: { min: 2.5, max: 3.3, step: 0.05 },
+        ...USUAL_BANDS,
         shimPosition: "over",
       },
     },

@@ -1,8 +1,10 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser } from "playwright-core";
+import { describe, expect, it } from "vitest";
 import { signedInClient, type Client } from "../support/api";
-import { baseUrl, launch, signInAs } from "../support/browser";
+import { baseUrl, signedInPhone } from "../support/browser";
 import { makeUser } from "../support/fixtures";
+import { browserPerFile } from "../support/per-file";
+import { pushAccepted } from "../support/push";
+import { layout, USUAL_BANDS } from "../support/engines";
 
 /**
  * Trust at the bench, on a 360 px phone: a check opens on the step its work is in, an engine has one
@@ -10,22 +12,7 @@ import { makeUser } from "../support/fixtures";
  * the current step's tab is in view, and the history claims a trend only where the checks hold one.
  * The engine and readings are invented.
  */
-let browser: Browser;
-beforeAll(async () => {
-  browser = await launch();
-});
-afterAll(() => browser?.close());
-
-const BANDS = { intake: { min: 0.1, max: 0.2 }, exhaust: { min: 0.2, max: 0.3 } };
-
-async function push(api: Client, mutations: { name: string; args: unknown }[]) {
-  const res = await api.post("/api/sync/push", {
-    clientId: crypto.randomUUID(),
-    mutations: mutations.map((m, i) => ({ id: i + 1, ...m })),
-  });
-  expect(res.status).toBe(200);
-  expect(res.json.rejected ?? []).toEqual([]);
-}
+const browser = browserPerFile();
 
 /** An invented single: closed checks at 0, 20,000 and 40,000 km and an older one left at Fit (10,000 km). */
 async function singleWithHistory(api: Client) {
@@ -42,18 +29,14 @@ async function singleWithHistory(api: Client) {
     name: "reading.put/1",
     args: { checkId, reading: { valve, round: 0, installedStamp: 2.6, feelerGo: go, feelerNoGo: noGo } },
   });
-  await push(api, [
+  await pushAccepted(api, [
     {
       name: "engine.put/1",
       args: {
         id: engineId,
         name: "Bench single",
-        cylinders: 1,
-        intakePerCylinder: 1,
-        exhaustPerCylinder: 1,
-        firingOrder: [1],
-        ...BANDS,
-        shims: { min: 2.5, max: 3.3, step: 0.05 },
+        ...layout([1], 1),
+        ...USUAL_BANDS,
       },
     },
     { name: "check.put/1", args: { id: ids.c0, engineId, odometer: 0, status: "closed" } },
@@ -73,18 +56,14 @@ async function plannedTwin(api: Client) {
     name: "reading.put/1",
     args: { checkId, reading: { valve, round: 0, installedStamp: 2.6, measured, method: "typed" } },
   });
-  await push(api, [
+  await pushAccepted(api, [
     {
       name: "engine.put/1",
       args: {
         id: engineId,
         name: "Bench twin with a rather long name for a narrow phone",
-        cylinders: 2,
-        intakePerCylinder: 1,
-        exhaustPerCylinder: 1,
-        firingOrder: [1, 2],
-        ...BANDS,
-        shims: { min: 2.5, max: 3.3, step: 0.05 },
+        ...layout([1, 2], 1),
+        ...USUAL_BANDS,
       },
     },
     { name: "check.put/1", args: { id: checkId, engineId, odometer: 8_000, status: "planned" } },
@@ -102,15 +81,7 @@ describe("trust at the bench on a 360 px phone", () => {
       const u = await makeUser(`bench-${scheme}`);
       const api = await signedInClient(baseUrl(), u);
       const ids = await singleWithHistory(api);
-      const ctx = await browser.newContext({
-        viewport: { width: 360, height: 780 },
-        deviceScaleFactor: 2,
-        isMobile: true,
-        hasTouch: true,
-        colorScheme: scheme,
-      });
-      const page = await ctx.newPage();
-      await signInAs(page, u.email, u.password);
+      const { ctx, page } = await signedInPhone(browser, u, { colorScheme: scheme });
 
       await page.goto(`${baseUrl()}/engine?id=${ids.engineId}`);
       // one check under way: no second start form, a way back to the open one

@@ -1,11 +1,11 @@
 import { afterAll, describe, expect, it } from "vitest";
-import { chromium, type BrowserContext, type Page } from "playwright-core";
+import type { BrowserContext, Page } from "playwright-core";
 import { mkdtempSync, rmSync } from "node:fs";
 import { tmpdir } from "node:os";
 import path from "node:path";
 import { Client } from "../support/api";
-import { baseUrl, CHROMIUM_ARGS, PHONE, tapReading } from "../support/browser";
-import { rawConnection } from "../support/db";
+import { allSynced, baseUrl, persistentPhone, signInAs, tapReading } from "../support/browser";
+import { historyRows, rawConnection } from "../support/db";
 import { ENGINE_FOUR, makeUser } from "../support/fixtures";
 
 /**
@@ -14,13 +14,7 @@ import { ENGINE_FOUR, makeUser } from "../support/fixtures";
  * Each time the next start sends what waits, and the server holds every reading once.
  */
 const profile = mkdtempSync(path.join(tmpdir(), "lashwright-durable-"));
-const open = () =>
-  chromium.launchPersistentContext(profile, {
-    executablePath: process.env.CHROMIUM_PATH ?? "/usr/bin/chromium",
-    args: CHROMIUM_ARGS,
-    ...PHONE,
-    colorScheme: "dark",
-  });
+const open = () => persistentPhone(profile);
 let ctx: BrowserContext | undefined;
 afterAll(async () => {
   await ctx?.close();
@@ -30,14 +24,11 @@ afterAll(async () => {
 async function server(checkId: string) {
   const db = await rawConnection();
   const [rows] = await db.query("SELECT valve, feeler_go FROM readings WHERE check_id = ? ORDER BY valve", [checkId]);
-  const [hist] = await db.query(
-    "SELECT COUNT(*) AS n FROM reading_history h JOIN readings r ON r.id = h.reading_id WHERE r.check_id = ?",
-    [checkId],
-  );
+  const history = await historyRows([checkId], db);
   await db.end();
   return {
     rows: (rows as { valve: string; feeler_go: string }[]).map((r) => `${r.valve} ${Number(r.feeler_go)}`),
-    history: Number((hist as { n: number }[])[0]!.n),
+    history,
   };
 }
 
@@ -56,11 +47,7 @@ describe("closing the page at the worst moments", () => {
 
     ctx = await open();
     let page = ctx.pages()[0] ?? (await ctx.newPage());
-    await page.goto(`${baseUrl()}/sign-in`);
-    await page.getByLabel("E-mail").fill(u.email);
-    await page.getByLabel("Password").fill(u.password);
-    await page.getByRole("button", { name: "Sign in", exact: true }).tap();
-    await page.waitForURL("**/engines");
+    await signInAs(page, u.email, u.password);
     await page.getByRole("link", { name: /Test four/ }).waitFor();
     await page.goto(checkUrl);
     await page.getByRole("group", { name: "Feeler blades for I1.1" }).waitFor();
@@ -75,10 +62,7 @@ describe("closing the page at the worst moments", () => {
     page = ctx.pages()[0] ?? (await ctx.newPage());
     await page.goto(checkUrl);
     await expect.poll(async () => (await server(checkId)).rows.length, { timeout: 20_000 }).toBe(4);
-    await page
-      .getByTestId("sync-line")
-      .getByText(/All synced/)
-      .waitFor({ timeout: 20_000 });
+    await allSynced(page);
 
     // 2. the push reaches the server and commits, but the page closes before the answer
     let committed!: () => void;
@@ -108,10 +92,7 @@ describe("closing the page at the worst moments", () => {
     let pushes = 0;
     page.on("request", (r) => r.url().endsWith("/api/sync/push") && pushes++);
     await page.goto(checkUrl);
-    await page
-      .getByTestId("sync-line")
-      .getByText(/All synced/)
-      .waitFor({ timeout: 20_000 });
+    await allSynced(page);
     expect(pushes).toBeGreaterThan(0); // the phone did send its outbox again
     const end = await server(checkId);
     expect(end.rows).toEqual([

@@ -1,9 +1,10 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser, BrowserContext, Page } from "playwright-core";
+import type { Browser, Page } from "playwright-core";
 import { signedInClient } from "../support/api";
-import { baseUrl, launch, signInAs } from "../support/browser";
+import { baseUrl, launch, signedInPhone } from "../support/browser";
 import { makeUser } from "../support/fixtures";
 import { OVER_BUCKET_CAUTIONS, OVER_BUCKET_METHOD, prepareCautions, UNDER_BUCKET_FIT } from "@/lib/check/shim-position";
+import { layout, USUAL_BANDS } from "../support/engines";
 
 /**
  * A fit on each kind of shim-and-bucket valve train, on a 390 px phone, with long engine names. The
@@ -14,32 +15,19 @@ import { OVER_BUCKET_CAUTIONS, OVER_BUCKET_METHOD, prepareCautions, UNDER_BUCKET
  * Engines, bands and readings are invented test data.
  */
 let browser: Browser;
-let ctx: BrowserContext;
 let page: Page;
 const made: Record<"under" | "over", { engineId: string; checkId: string; name: string }> = {} as never;
 
-// invented bands: intake 0.10-0.20, exhaust 0.20-0.30; a 0.05 mm series 2.50-3.30
-const BANDS = {
-  intake: { min: 0.1, max: 0.2 },
-  exhaust: { min: 0.2, max: 0.3 },
-  shims: { min: 2.5, max: 3.3, step: 0.05 },
-};
 const UNDER = {
   name: "Long-named inline four with its shims under the buckets, garage bay two",
-  cylinders: 4,
-  intakePerCylinder: 2,
-  exhaustPerCylinder: 2,
-  firingOrder: [1, 3, 4, 2],
-  ...BANDS,
+  ...layout([1, 3, 4, 2], 2),
+  ...USUAL_BANDS,
   shimPosition: "under",
 };
 const OVER = {
   name: "Long-named two-valve inline four with its shims over the buckets, on the bench",
-  cylinders: 4,
-  intakePerCylinder: 1,
-  exhaustPerCylinder: 1,
-  firingOrder: [1, 3, 4, 2],
-  ...BANDS,
+  ...layout([1, 3, 4, 2], 1),
+  ...USUAL_BANDS,
   shimPosition: "over",
 };
 
@@ -69,15 +57,7 @@ beforeAll(async () => {
     made[kind] = { engineId: engine.id, checkId, name: e.name };
   }
   browser = await launch();
-  ctx = await browser.newContext({
-    viewport: { width: 390, height: 844 },
-    deviceScaleFactor: 2,
-    isMobile: true,
-    hasTouch: true,
-    colorScheme: "dark",
-  });
-  page = await ctx.newPage();
-  await signInAs(page, u.email, u.password);
+  ({ page } = await signedInPhone(browser, u, { width: 390, height: 844, colorScheme: "dark" }));
   await page.getByText(UNDER.name).waitFor({ timeout: 20_000 });
 });
 afterAll(() => browser?.close());

@@ -1,52 +1,25 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser, BrowserContext, Page } from "playwright-core";
+import { describe, expect, it } from "vitest";
+import type { Page } from "playwright-core";
 import { signedInClient, type Client } from "../support/api";
-import { baseUrl, launch } from "../support/browser";
+import { baseUrl, narrowPhone, signInAs } from "../support/browser";
 import { addMembership, makeUser } from "../support/fixtures";
 import { measuringOrder } from "@/lib/check/measuring";
 import { waitForMail } from "../support/mail";
+import { browserPerFile } from "../support/per-file";
+import { pushAccepted } from "../support/push";
+import { layout, USUAL_BANDS } from "../support/engines";
 
 /**
  * The garage screens on small phones (360 and 390 px wide): the engine diagram for engines of 1 to
  * 16 cylinders, the measuring mode on a 24-valve inline six (taps counted), the engine's facing,
  * the mentor's links and the whole story of a check. All engines and readings are invented.
  */
-let browser: Browser;
-beforeAll(async () => {
-  browser = await launch();
-});
-afterAll(() => browser?.close());
+const browser = browserPerFile();
 
-const phone = (width: number): Promise<BrowserContext> =>
-  browser.newContext({
-    viewport: { width, height: 800 },
-    deviceScaleFactor: 2,
-    isMobile: true,
-    hasTouch: true,
-    colorScheme: "dark",
-  });
-
-async function signIn(page: Page, u: { email: string; password: string }) {
-  await page.goto(`${baseUrl()}/sign-in`);
-  await page.getByLabel("E-mail").fill(u.email);
-  await page.getByLabel("Password").fill(u.password);
-  await page.getByRole("button", { name: "Sign in", exact: true }).tap();
-  await page.waitForURL("**/engines");
-}
+const phone = (width: number) => narrowPhone(browser, { width, height: 800, colorScheme: "dark" });
+const signIn = (page: Page, u: { email: string; password: string }) => signInAs(page, u.email, u.password);
 
 const seq = (n: number) => Array.from({ length: n }, (_, i) => i + 1);
-// invented bands (not from any manual): intake 0.10-0.20, exhaust 0.20-0.30
-const BANDS = { intake: { min: 0.1, max: 0.2 }, exhaust: { min: 0.2, max: 0.3 } };
-
-/** Records as the phone's outbox sends them, pushed in one request. */
-async function push(api: Client, mutations: { name: string; args: unknown }[]) {
-  const res = await api.post("/api/sync/push", {
-    clientId: crypto.randomUUID(),
-    mutations: mutations.map((m, i) => ({ id: i + 1, ...m })),
-  });
-  expect(res.status).toBe(200);
-  expect(res.json.rejected ?? []).toEqual([]);
-}
 
 /** An engine of this layout with one check: in band, tight, loose and unmeasured valves in turn. */
 async function engineWithCheck(
@@ -66,7 +39,7 @@ async function engineWithCheck(
       ["E", exhausts],
     ] as const)
       for (let i = 1; i <= count; i++) {
-        const band = kind === "I" ? BANDS.intake : BANDS.exhaust;
+        const band = kind === "I" ? USUAL_BANDS.intake : USUAL_BANDS.exhaust;
         const state = n++ % 4;
         if (state === 3) continue;
         const measured = state === 0 ? (band.min + band.max) / 2 : state === 1 ? band.min - 0.05 : band.max + 0.1;
@@ -84,7 +57,7 @@ async function engineWithCheck(
           },
         });
       }
-  await push(api, [
+  await pushAccepted(api, [
     {
       name: "engine.put/1",
       args: {
@@ -94,8 +67,7 @@ async function engineWithCheck(
         intakePerCylinder: intakes,
         exhaustPerCylinder: exhausts,
         firingOrder: seq(cylinders),
-        ...BANDS,
-        shims: { min: 2.5, max: 3.3, step: 0.05 },
+        ...USUAL_BANDS,
         ...extra,
       },
     },
@@ -226,12 +198,8 @@ describe("measuring a 24-valve engine on a 390 px phone", () => {
   // an invented inline six, four valves a cylinder, firing 1-5-3-6-2-4, every bucket given the same
   // shim at assembly, on a stand facing the other way
   const SIX = {
-    cylinders: 6,
-    intakePerCylinder: 2,
-    exhaustPerCylinder: 2,
-    firingOrder: [1, 5, 3, 6, 2, 4],
-    ...BANDS,
-    shims: { min: 2.5, max: 3.3, step: 0.05 },
+    ...layout([1, 5, 3, 6, 2, 4], 2),
+    ...USUAL_BANDS,
     assembledShim: 2.75,
     mirrored: true,
   };
@@ -239,7 +207,7 @@ describe("measuring a 24-valve engine on a 390 px phone", () => {
   async function sixWithCheck(api: Client) {
     const engineId = crypto.randomUUID();
     const checkId = crypto.randomUUID();
-    await push(api, [
+    await pushAccepted(api, [
       { name: "engine.put/1", args: { id: engineId, name: "Stand six", ...SIX } },
       {
         name: "check.put/1",
@@ -299,7 +267,7 @@ describe("measuring a 24-valve engine on a 390 px phone", () => {
       visited.push(valve);
       expect(valve).toBeTruthy();
       // the strip is centred on the valve's band: an in-band blade, and a tight one, need no scrolling
-      const band = valve.startsWith("I") ? BANDS.intake : BANDS.exhaust;
+      const band = valve.startsWith("I") ? USUAL_BANDS.intake : USUAL_BANDS.exhaust;
       const labels = await strip.getByRole("button").allInnerTexts();
       const values = labels.map(bladeValue);
       expect(values.some((b) => b < band.min) && values.some((b) => b > band.max)).toBe(true);
@@ -401,19 +369,15 @@ describe("a mentor's links and the whole story of a check", () => {
       name: "reading.put/1",
       args: { checkId, reading: { valve, round, method: "feeler", ...fields } },
     });
-    await push(api, [
+    await pushAccepted(api, [
       {
         name: "engine.put/1",
         args: {
           id: engineId,
           name: "Mirror twin",
-          cylinders: 2,
-          intakePerCylinder: 2,
-          exhaustPerCylinder: 2,
-          firingOrder: [1, 2],
+          ...layout([1, 2], 2),
           firingAngles: [0, 360],
-          ...BANDS,
-          shims: { min: 2.5, max: 3.3, step: 0.05 },
+          ...USUAL_BANDS,
           mirrored: true,
         },
       },

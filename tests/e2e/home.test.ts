@@ -1,12 +1,8 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser } from "playwright-core";
-import { baseUrl, launch, phoneContext } from "../support/browser";
+import { describe, expect, it } from "vitest";
+import { baseUrl, phoneContext } from "../support/browser";
+import { browserPerFile } from "../support/per-file";
 
-let browser: Browser;
-beforeAll(async () => {
-  browser = await launch();
-});
-afterAll(() => browser?.close());
+const browser = browserPerFile();
 
 describe("the signed-out home page on a phone", () => {
   for (const scheme of ["dark", "light"] as const) {

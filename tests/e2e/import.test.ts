@@ -1,6 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser, BrowserContext, Page } from "playwright-core";
-import { baseUrl, launch, phoneContext } from "../support/browser";
+import type { Browser, Page } from "playwright-core";
+import { baseUrl, launch, signedInPhone } from "../support/browser";
 import { signedInClient } from "../support/api";
 import { rawConnection } from "../support/db";
 import { ENGINE_FOUR, makeUser } from "../support/fixtures";
@@ -11,7 +11,6 @@ import { ENGINE_FOUR, makeUser } from "../support/fixtures";
  * checks, adds them on one tap, and they reach the server through the sync with their own days.
  */
 let browser: Browser;
-let ctx: BrowserContext;
 let page: Page;
 let engineId = "";
 
@@ -37,13 +36,7 @@ beforeAll(async () => {
   const api = await signedInClient(baseUrl(), u);
   engineId = (await api.post("/api/engines", ENGINE_FOUR)).json.engine.id;
   browser = await launch();
-  ctx = await phoneContext(browser, "light");
-  page = await ctx.newPage();
-  await page.goto(`${baseUrl()}/sign-in`);
-  await page.getByLabel("E-mail").fill(u.email);
-  await page.getByLabel("Password").fill(u.password);
-  await page.getByRole("button", { name: "Sign in", exact: true }).tap();
-  await page.waitForURL("**/engines");
+  ({ page } = await signedInPhone(browser, u, "light"));
   await page.goto(`${baseUrl()}/engine?id=${engineId}`);
   await page.getByRole("heading", { name: ENGINE_FOUR.name }).waitFor();
 });

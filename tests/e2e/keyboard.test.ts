@@ -1,8 +1,9 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser, Page } from "playwright-core";
+import { describe, expect, it } from "vitest";
+import type { Page } from "playwright-core";
 import { signedInClient } from "../support/api";
-import { baseUrl, launch, phoneContext, signInAs } from "../support/browser";
+import { baseUrl, signedInPhone } from "../support/browser";
 import { ENGINE_FOUR, makeUser } from "../support/fixtures";
+import { browserPerFile } from "../support/per-file";
 
 /**
  * A valve measured with the keyboard alone (a phone with a keyboard, or a switch user): the skip
@@ -10,11 +11,7 @@ import { ENGINE_FOUR, makeUser } from "../support/fixtures";
  * region, whole focus rings, and few enough Tab stops to get anywhere (WCAG 2.1: 2.1.1 Keyboard,
  * 2.4.1 Bypass Blocks, 2.4.3 Focus Order, 2.4.7 Focus Visible, 4.1.3 Status Messages).
  */
-let browser: Browser;
-beforeAll(async () => {
-  browser = await launch();
-});
-afterAll(() => browser?.close());
+const browser = browserPerFile();
 
 /** What has focus: its tag, its name as a screen reader would start it, and where it sits. */
 function focused(page: Page) {
@@ -82,9 +79,7 @@ describe("a valve measured with the keyboard alone", () => {
     });
     expect(res.json.rejected ?? []).toEqual([]);
 
-    const ctx = await phoneContext(browser, "dark");
-    const page = await ctx.newPage();
-    await signInAs(page, u.email, u.password);
+    const { ctx, page } = await signedInPhone(browser, u);
     await page.goto(`${baseUrl()}/check?id=${checkId}`);
     await page.getByRole("checkbox", { name: /Engine cold/ }).waitFor();
 

@@ -1,13 +1,9 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser } from "playwright-core";
-import { baseUrl, launch, phoneContext } from "../support/browser";
+import { describe, expect, it } from "vitest";
+import { baseUrl, phoneContext } from "../support/browser";
 import { inbox, mailApi, waitForMail } from "../support/mail";
+import { browserPerFile } from "../support/per-file";
 
-let browser: Browser;
-beforeAll(async () => {
-  browser = await launch();
-});
-afterAll(() => browser?.close());
+const browser = browserPerFile();
 
 describe("a newcomer's first ten minutes", () => {
   it("from the home page to a first saved engine: sign up, ask for the mail again, click the link in the mail (which signs in), add an engine", async () => {

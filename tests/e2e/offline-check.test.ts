@@ -1,12 +1,13 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { chromium, type BrowserContext, type Page } from "playwright-core";
+import type { BrowserContext, Page } from "playwright-core";
 import { mkdtempSync, rmSync } from "node:fs";
 import { tmpdir } from "node:os";
 import path from "node:path";
 import { planShims, shimSeries } from "@/lib/lash";
-import { baseUrl, CHROMIUM_ARGS, PHONE } from "../support/browser";
-import { rawConnection } from "../support/db";
+import { allSynced, backOnline, persistentPhone, signInAs } from "../support/browser";
+import { historyRows, queryRows, rawConnection } from "../support/db";
 import { makeUser } from "../support/fixtures";
+import { syncedOnline } from "../support/online";
 
 /**
  * The garage without a signal: sign in once online, then with the network cut create an engine, a
@@ -17,13 +18,7 @@ import { makeUser } from "../support/fixtures";
 const profile = mkdtempSync(path.join(tmpdir(), "lashwright-profile-"));
 let ctx: BrowserContext;
 
-const open = () =>
-  chromium.launchPersistentContext(profile, {
-    executablePath: process.env.CHROMIUM_PATH ?? "/usr/bin/chromium",
-    args: CHROMIUM_ARGS,
-    ...PHONE,
-    colorScheme: "dark",
-  });
+const open = () => persistentPhone(profile);
 
 afterAll(async () => {
   await ctx?.close();
@@ -54,36 +49,29 @@ const BLADES = [
   0.45, 0.5,
 ];
 
-async function serverReadings(checkId: string) {
-  const db = await rawConnection();
-  const [rows] = await db.query(
-    "SELECT valve, round, installed_stamp, feeler_go, feeler_no_go, measured FROM readings WHERE check_id = ? ORDER BY valve",
-    [checkId],
-  );
-  await db.end();
-  return rows as {
+const serverReadings = (checkId: string) =>
+  queryRows<{
     valve: string;
     round: number;
     installed_stamp: string;
     feeler_go: string;
     feeler_no_go: string;
     measured: string;
-  }[];
-}
+  }>(
+    "SELECT valve, round, installed_stamp, feeler_go, feeler_no_go, measured FROM readings WHERE check_id = ? ORDER BY valve",
+    [checkId],
+  );
 
 /** What the server has applied for this check's owner: overwritten readings, and each device's last id. */
 async function applied(checkId: string) {
   const db = await rawConnection();
-  const [h] = await db.query(
-    "SELECT COUNT(*) AS n FROM reading_history h JOIN readings r ON r.id = h.reading_id WHERE r.check_id = ?",
-    [checkId],
-  );
+  const history = await historyRows([checkId], db);
   const [c] = await db.query(
     "SELECT s.id, s.last_mutation_id FROM sync_clients s JOIN checks k ON k.owner_id = s.user_id WHERE k.id = ? ORDER BY s.id",
     [checkId],
   );
   await db.end();
-  return { history: Number((h as { n: number }[])[0]!.n), clients: c as { id: string; last_mutation_id: number }[] };
+  return { history, clients: c as { id: string; last_mutation_id: number }[] };
 }
 
 let checkUrl = "";
@@ -101,11 +89,7 @@ describe("a whole check offline, then sync", () => {
   it("signs in online and keeps the garage screens for offline use", async () => {
     const u = await makeUser("offline");
     const page = ctx.pages()[0] ?? (await ctx.newPage());
-    await page.goto(`${baseUrl()}/sign-in`);
-    await page.getByLabel("E-mail").fill(u.email);
-    await page.getByLabel("Password").fill(u.password);
-    await page.getByRole("button", { name: "Sign in", exact: true }).tap();
-    await page.waitForURL("**/engines");
+    await signInAs(page, u.email, u.password);
     await page.getByText(/No engines on this phone yet/).waitFor();
     // the service worker is installed and controls the page, with the shells precached
     await page.evaluate(async () => {
@@ -198,15 +182,7 @@ describe("a whole check offline, then sync", () => {
   });
 
   it("online again: the server holds exactly those readings, once, and nothing waits", async () => {
-    const page = ctx.pages()[0]!;
-    await ctx.setOffline(false);
-    await page.evaluate(() => window.dispatchEvent(new Event("online")));
-    await expect.poll(async () => (await serverReadings(checkId)).length, { timeout: 20_000 }).toBe(16);
-    await page
-      .getByTestId("sync-line")
-      .getByText(/All synced/)
-      .waitFor({ timeout: 20_000 });
-    const rows = await serverReadings(checkId);
+    const { page, rows } = await syncedOnline(ctx, () => serverReadings(checkId), 16, 20_000);
     for (const r of rows) {
       const go = Number(TAPS[r.valve]);
       expect(Number(r.installed_stamp)).toBe(2.6);
@@ -222,10 +198,7 @@ describe("a whole check offline, then sync", () => {
     const pulled = page.waitForResponse((r) => r.url().includes("/api/sync/pull"), { timeout: 20_000 });
     await page.evaluate(() => window.dispatchEvent(new Event("online")));
     await pulled;
-    await page
-      .getByTestId("sync-line")
-      .getByText(/All synced/)
-      .waitFor({ timeout: 20_000 });
+    await allSynced(page);
     expect(await applied(checkId)).toEqual(before);
     expect(await serverReadings(checkId)).toHaveLength(16);
   });
@@ -304,8 +277,7 @@ describe("fitting, re-checking and closing", () => {
     await expect(page.getByText(/· closed/).count()).resolves.toBe(1);
     await page.getByRole("link", { name: "Tray" }).tap();
     await page.getByLabel("4 of 2.6 mm").waitFor();
-    await ctx.setOffline(false);
-    await page.evaluate(() => window.dispatchEvent(new Event("online")));
+    await backOnline(ctx, page);
     await expect.poll(async () => (await serverReadings(checkId)).length, { timeout: 20_000 }).toBe(20);
   });
 });

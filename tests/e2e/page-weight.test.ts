@@ -1,10 +1,10 @@
 import { readFileSync } from "node:fs";
 import path from "node:path";
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser } from "playwright-core";
-import { baseUrl, launch, PHONE, signInAs } from "../support/browser";
+import { describe, expect, it } from "vitest";
+import { baseUrl, PHONE, signInAs } from "../support/browser";
 import { makeUser } from "../support/fixtures";
 import { firstVisitJs, WEIGHED_PAGES } from "../support/page-weight";
+import { browserPerFile } from "../support/per-file";
 
 /**
  * The size budget: compressed JavaScript of a first visit to each page, measured as `npm run bench`
@@ -24,11 +24,7 @@ const budget = JSON.parse(readFileSync(path.join(import.meta.dirname, "page-weig
 const RATCHET = 0.05;
 const kib = (n: number) => `${(n / 1024).toFixed(1)} KiB`;
 
-let browser: Browser;
-beforeAll(async () => {
-  browser = await launch();
-});
-afterAll(() => browser?.close());
+const browser = browserPerFile();
 
 describe("the first-visit JavaScript of each page stays within its budget", () => {
   const goal = Math.round(budget.bareBytes * budget.goalRatio);

@@ -1,25 +1,19 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser } from "playwright-core";
-import { baseUrl, launch, phoneContext, signInAs } from "../support/browser";
+import { describe, expect, it } from "vitest";
+import { baseUrl, signedInPhone } from "../support/browser";
 import { clubScenario, offerSpares } from "../support/club-scenario";
 import { waitForMail } from "../support/mail";
+import { browserPerFile } from "../support/per-file";
 
 // A club of this test's own (tests/support/club-scenario.ts): the lender offers spares of every size
 // the mechanic's open plan could buy. The demo data is shared with other files (the review test gives
 // verdicts on the same check), so this test makes its own, and the order of files changes nothing.
-let browser: Browser;
-beforeAll(async () => {
-  browser = await launch();
-});
-afterAll(() => browser?.close());
+const browser = browserPerFile();
 
 describe("borrowing from the club pool", () => {
   it("the plan borrows a size a member offers instead of buying it; the lender agrees", async () => {
     const t = await clubScenario(baseUrl(), "pool", [{ name: "Borrowing four", shared: false }]);
     await offerSpares(t.mentor, t.club.id);
-    const mechCtx = await phoneContext(browser);
-    const mech = await mechCtx.newPage();
-    await signInAs(mech, t.mechanic.email, t.mechanic.password);
+    const { ctx: mechCtx, page: mech } = await signedInPhone(browser, t.mechanic);
     await mech.getByRole("link", { name: /Borrowing four/ }).tap();
     await mech.getByRole("link", { name: /43,800 km/ }).tap();
     await mech.getByRole("button", { name: /3\. Plan/ }).tap();
@@ -40,9 +34,7 @@ describe("borrowing from the club pool", () => {
     await borrow.getByText(/asked, waiting for the lender/).waitFor({ timeout: 20_000 });
     await waitForMail(t.mentor.email, new RegExp(`asks to borrow ${count} × ${size!.replace(".", "\\.")} mm`));
 
-    const lenderCtx = await phoneContext(browser);
-    const lender = await lenderCtx.newPage();
-    await signInAs(lender, t.mentor.email, t.mentor.password);
+    const { ctx: lenderCtx, page: lender } = await signedInPhone(browser, t.mentor);
     await lender.goto(`${baseUrl()}/club`);
     const loan = lender.getByTestId(/^loan-/).filter({ hasText: `${count} × ${size} mm to` });
     // the lender reads the request from their own side, not as "waiting for the lender"

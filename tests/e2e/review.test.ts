@@ -1,20 +1,15 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser, Page } from "playwright-core";
-import { baseUrl, launch, phoneContext, signInAs } from "../support/browser";
-import { clubScenario, type Person } from "../support/club-scenario";
+import { describe, expect, it } from "vitest";
+import { backOnline, baseUrl, signedInPhone } from "../support/browser";
+import { clubScenario } from "../support/club-scenario";
 import { waitForMail } from "../support/mail";
 import { cameraJpeg } from "../support/photos";
+import { browserPerFile } from "../support/per-file";
 
 // Each test makes its own club, mentor, mechanic and checks (tests/support/club-scenario.ts): the
 // demo data is shared with other files (the pool test borrows for the same check), so a verdict or
 // a loan there could change what this file sees, depending on the order the files run in.
-let browser: Browser;
-beforeAll(async () => {
-  browser = await launch();
-});
-afterAll(() => browser?.close());
+const browser = browserPerFile();
 
-const signIn = (page: Page, p: Person) => signInAs(page, p.email, p.password);
 const esc = (s: string) => s.replace(/[.*+?^${}()|[\]\\]/g, "\\$&");
 
 let stepNo = 0;
@@ -26,9 +21,7 @@ describe("a mentor reviews a shared check", () => {
       { name: "Share single", shared: false },
       { name: "Queue four", shared: true },
     ]);
-    const mechCtx = await phoneContext(browser);
-    const mech = await mechCtx.newPage();
-    await signIn(mech, t.mechanic);
+    const { ctx: mechCtx, page: mech } = await signedInPhone(browser, t.mechanic);
     await mech.getByRole("link", { name: /Share single/ }).tap();
     await mech.getByRole("link", { name: /43,800 km/ }).tap();
     await mech.getByRole("button", { name: /3\. Plan/ }).tap();
@@ -37,9 +30,7 @@ describe("a mentor reviews a shared check", () => {
     step("shared by the mechanic");
     await waitForMail(t.mentor.email, /asks for a review: Share single/);
 
-    const mentorCtx = await phoneContext(browser);
-    const mentor = await mentorCtx.newPage();
-    await signIn(mentor, t.mentor);
+    const { ctx: mentorCtx, page: mentor } = await signedInPhone(browser, t.mentor);
     await mentor.goto(`${baseUrl()}/club`);
     await mentor.getByRole("link", { name: /Share single/ }).waitFor();
     // withdrawn: gone from the queue
@@ -55,9 +46,7 @@ describe("a mentor reviews a shared check", () => {
 
   it("the mentor comments on a valve and gives a verdict; the mechanic sees both", async () => {
     const t = await clubScenario(baseUrl(), "rv-verdict", [{ name: "Verdict four", shared: true }]);
-    const mentorCtx = await phoneContext(browser);
-    const mentor = await mentorCtx.newPage();
-    await signIn(mentor, t.mentor);
+    const { ctx: mentorCtx, page: mentor } = await signedInPhone(browser, t.mentor);
     step("signed in as mentor");
     await mentor.goto(`${baseUrl()}/club`);
     await mentor.getByRole("link", { name: /Verdict four/ }).tap();
@@ -104,9 +93,7 @@ describe("a mentor reviews a shared check", () => {
     await waitForMail(t.mechanic.email, /Review verdict: measure again/);
 
     step("mails arrived");
-    const mechCtx = await phoneContext(browser);
-    const mech = await mechCtx.newPage();
-    await signIn(mech, t.mechanic);
+    const { ctx: mechCtx, page: mech } = await signedInPhone(browser, t.mechanic);
     await mech.getByRole("link", { name: /Verdict four/ }).tap();
     await mech.getByRole("link", { name: /43,800 km/ }).tap();
     await mech.getByRole("button", { name: /3\. Plan/ }).tap();
@@ -120,9 +107,7 @@ describe("a mentor reviews a shared check", () => {
 
   it("a photo taken with no signal waits on the phone and reaches the mentor after sync", async () => {
     const t = await clubScenario(baseUrl(), "rv-photo", [{ name: "Photo four", shared: true }]);
-    const mechCtx = await phoneContext(browser);
-    const mech = await mechCtx.newPage();
-    await signIn(mech, t.mechanic);
+    const { ctx: mechCtx, page: mech } = await signedInPhone(browser, t.mechanic);
     await mech.getByRole("link", { name: /Photo four/ }).tap();
     await mech.getByRole("link", { name: /43,800 km/ }).tap();
     await mech.getByRole("button", { name: /2\. Measure/ }).tap();
@@ -140,17 +125,14 @@ describe("a mentor reviews a shared check", () => {
     await card.getByText("waiting to send").waitFor();
     await expect(card.getByTestId("photo").count()).resolves.toBe(1);
     await mech.screenshot({ path: "test-results/photo-offline.png" });
-    await mechCtx.setOffline(false);
-    await mech.evaluate(() => window.dispatchEvent(new Event("online")));
+    await backOnline(mechCtx, mech);
     await card.getByText("sent", { exact: true }).waitFor({ timeout: 20_000 });
     // where photos are added, the account's photo space: how much is used of how much
     await card.getByText(/Photo space: [\d.]+ (bytes|KB|MB) of 500 MB used/).waitFor();
     step("photo sent after the signal came back");
     await mechCtx.close();
 
-    const mentorCtx = await phoneContext(browser);
-    const mentor = await mentorCtx.newPage();
-    await signIn(mentor, t.mentor);
+    const { ctx: mentorCtx, page: mentor } = await signedInPhone(browser, t.mentor);
     await mentor.goto(`${baseUrl()}/club`);
     await mentor.getByRole("link", { name: /Photo four/ }).tap();
     const photo = mentor.getByRole("list", { name: "Photos: valve I1.1" }).getByTestId("photo");

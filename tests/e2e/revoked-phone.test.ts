@@ -1,19 +1,15 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser } from "playwright-core";
+import { describe, expect, it } from "vitest";
 import { signedInClient } from "../support/api";
-import { baseUrl, launch, phoneContext } from "../support/browser";
+import { baseUrl, signedInPhone } from "../support/browser";
 import { ENGINE_FOUR, makeUser } from "../support/fixtures";
+import { browserPerFile } from "../support/per-file";
 
 /**
  * A phone left signed in after its owner signed out everywhere (issue 24, item 12; OWASP ASVS 5.0
  * V14 Data Protection, V7 Session Management): at its next contact with the server the phone wipes
  * its local copy, so the engines are no longer readable on it with the network cut.
  */
-let browser: Browser;
-beforeAll(async () => {
-  browser = await launch();
-});
-afterAll(() => browser?.close());
+const browser = browserPerFile();
 
 describe("a phone whose session was ended elsewhere", () => {
   it("wipes its copy at its next contact and shows nothing of it offline", async () => {
@@ -31,13 +27,7 @@ describe("a phone whose session was ended elsewhere", () => {
       ).status,
     ).toBe(200);
 
-    const ctx = await phoneContext(browser);
-    const page = await ctx.newPage();
-    await page.goto(`${baseUrl()}/sign-in`);
-    await page.getByLabel("E-mail").fill(u.email);
-    await page.getByLabel("Password").fill(u.password);
-    await page.getByRole("button", { name: "Sign in", exact: true }).tap();
-    await page.waitForURL("**/engines");
+    const { ctx, page } = await signedInPhone(browser, u);
     await page.getByText("Kept-secret four").waitFor();
     // the service worker serves the garage shells offline
     await page.evaluate(async () => {

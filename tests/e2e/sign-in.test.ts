@@ -1,15 +1,12 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser, Page } from "playwright-core";
-import { baseUrl, launch, phoneContext } from "../support/browser";
+import { describe, expect, it } from "vitest";
+import type { Page } from "playwright-core";
+import { baseUrl, phoneContext } from "../support/browser";
+import { browserPerFile } from "../support/per-file";
 
 // The demo sign-ins that npm start prints (db/seed.ts); the test server is seeded the same way.
 const PASSWORD = "garage-demo-2026";
 
-let browser: Browser;
-beforeAll(async () => {
-  browser = await launch();
-});
-afterAll(() => browser?.close());
+const browser = browserPerFile();
 
 async function signIn(page: Page, email: string, password = PASSWORD) {
   await page.goto(`${baseUrl()}/sign-in`);

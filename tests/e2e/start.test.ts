@@ -4,6 +4,7 @@ import { existsSync, readdirSync, readFileSync, rmSync } from "node:fs";
 import net from "node:net";
 import path from "node:path";
 import mysql from "mysql2/promise";
+import { freePort } from "../support/server";
 
 // `npm start` itself, on its own ports and data folder. The build is the one npm test just made.
 const root = path.resolve(__dirname, "../..");
@@ -15,14 +16,12 @@ const STOP_MS = 15_000;
 /** The first test's own bound: three starts and three stops at their longest, the home page's 20 s of tries, and 30 s for the rest. */
 const THREE_STARTS_MS = 3 * (START_MS + STOP_MS) + 20_000 + 30_000;
 
-function freePort(): Promise<number> {
-  return new Promise((resolve) => {
-    const s = net.createServer();
-    s.listen(0, "127.0.0.1", () => {
-      const { port } = s.address() as net.AddressInfo;
-      s.close(() => resolve(port));
-    });
-  });
+/** A port something else already listens on (a bare TCP server), until `release()`. */
+async function takenPort() {
+  const blocker = net.createServer();
+  const port = await freePort();
+  await new Promise<void>((r) => blocker.listen(port, "127.0.0.1", () => r()));
+  return { port, release: () => blocker.close() };
 }
 
 // In a process group of its own, as a terminal runs a command, so a test can send Ctrl-C to the
@@ -190,9 +189,7 @@ describe("npm start", () => {
 
   it("a failure during start-up stops what was already started", async () => {
     // The photo store's port is taken: by then the database and the mail catcher run.
-    const blocker = net.createServer();
-    const s3Port = await freePort();
-    await new Promise<void>((r) => blocker.listen(s3Port, "127.0.0.1", () => r()));
+    const { port: s3Port, release } = await takenPort();
     const dbPort = await freePort();
     const run = start({
       PORT: String(await freePort()),
@@ -202,7 +199,7 @@ describe("npm start", () => {
       MAIL_WEB_PORT: String(await freePort()),
     });
     const code = await run.exited;
-    blocker.close();
+    release();
     expect(code).toBe(1);
     expect(run.output()).toMatch(/database on 127\.0\.0\.1/);
     expect(run.output()).toMatch(new RegExp(`cannot start: port ${s3Port} \\(photo store\\) is in use`));
@@ -211,13 +208,11 @@ describe("npm start", () => {
   });
 
   it("says clearly when the port is taken, and leaves the data folder as it was", async () => {
-    const blocker = net.createServer();
-    const port = await freePort();
-    await new Promise<void>((r) => blocker.listen(port, "127.0.0.1", () => r()));
+    const { port, release } = await takenPort();
     const before = existsSync(dataDir) ? readdirSync(dataDir).sort() : [];
     const run = start({ PORT: String(port), DB_PORT: String(await freePort()) });
     const code = await run.exited;
-    blocker.close();
+    release();
     expect(code).toBe(1);
     expect(run.output()).toMatch(new RegExp(`cannot start: port ${port} is in use`));
     expect(run.output()).not.toMatch(/\n\s+at /); // no stack trace

@@ -6,9 +6,10 @@ import type { Browser } from "playwright-core";
 import { checkPlan, valveViews } from "@/lib/check/derive";
 import { camsOut, camsOutWords } from "@/lib/lash";
 import type { LocalEngine, LocalReading } from "@/lib/sync/local-db";
-import { baseUrl, launch, phoneContext } from "../support/browser";
+import { baseUrl, launch, signedInPhone } from "../support/browser";
 import { signedInClient } from "../support/api";
 import { makeUser } from "../support/fixtures";
+import { layout, USUAL_BANDS } from "../support/engines";
 
 /**
  * The printed worksheet, rendered to PDF by Chromium (page.pdf, print media) for a 4-valve and a
@@ -25,27 +26,14 @@ const OUT = path.resolve(__dirname, "../../test-results/worksheet");
 // leave the sheet on one page).
 const TWIN = {
   name: "Test twin, ‘green’ & co",
-  cylinders: 2,
-  intakePerCylinder: 1,
-  exhaustPerCylinder: 1,
-  firingOrder: [1, 2],
+  ...layout([1, 2], 1),
   intake: { min: 0.1, max: 0.15 },
   exhaust: { min: 0.15, max: 0.2 },
   shims: { min: 1.2, max: 3.0, step: 0.025 },
   shimDiameter: 7.48,
   shimPosition: "over",
 };
-const SIX = {
-  name: "Test six",
-  cylinders: 6,
-  intakePerCylinder: 2,
-  exhaustPerCylinder: 2,
-  firingOrder: [1, 5, 3, 6, 2, 4],
-  intake: { min: 0.1, max: 0.2 },
-  exhaust: { min: 0.2, max: 0.3 },
-  shims: { min: 2.5, max: 3.3, step: 0.05 },
-  shimPosition: "under",
-};
+const SIX = { name: "Test six", ...layout([1, 5, 3, 6, 2, 4], 2), ...USUAL_BANDS, shimPosition: "under" };
 
 // Clearances from the default blade strips, some out of band, so the plan swaps and buys.
 const TWIN_READINGS = [
@@ -99,13 +87,7 @@ describe("the printed worksheet", () => {
   for (const key of ["twin", "six"] as const) {
     it(`prints the ${key} on one page of A4 and of Letter, with the engine's values and no app controls`, async () => {
       const { checkId, engine, readings } = made[key]!;
-      const ctx = await phoneContext(browser, "dark");
-      const page = await ctx.newPage();
-      await page.goto(`${baseUrl()}/sign-in`);
-      await page.getByLabel("E-mail").fill(user.email);
-      await page.getByLabel("Password").fill(user.password);
-      await page.getByRole("button", { name: "Sign in", exact: true }).tap();
-      await page.waitForURL("**/engines");
+      const { ctx, page } = await signedInPhone(browser, user);
       await page.goto(`${baseUrl()}/check?id=${checkId}&step=plan`);
       await page.getByRole("button", { name: "Print worksheet" }).waitFor();
       await page.locator("article.worksheet").waitFor({ state: "attached" });

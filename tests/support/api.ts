@@ -64,6 +64,8 @@ async function answer(res: Response) {
  */
 const REQUEST_BOUND_MS = 120_000;
 
+type Provider = "password" | "email-link";
+
 /** A tiny HTTP client with a cookie jar, signing in through next-auth like a browser does. */
 export class Client {
   private cookies = new Map<string, string>();
@@ -145,18 +147,37 @@ export class Client {
   patch = (p: string, b?: unknown) => this.call("PATCH", p, b ?? {});
   del = (p: string) => this.call("DELETE", p);
 
-  /** Sign in with a next-auth credentials provider; returns the error code, or null on success. */
-  async signIn(
-    provider: "password" | "email-link",
+  /** next-auth's CSRF token, as the sign-in page fetches it (its cookie kept in the jar). */
+  async csrfToken(): Promise<string> {
+    return (await this.call("GET", "/api/auth/csrf")).json.csrfToken as string;
+  }
+
+  /** The sign-in form posted to a next-auth credentials provider with this CSRF token: the raw answer. */
+  postSignIn(
+    provider: Provider,
     fields: Record<string, string>,
+    csrfToken: string,
     headers: Record<string, string> = {},
-  ): Promise<string | null> {
-    const csrf = await this.call("GET", "/api/auth/csrf");
-    const form = new URLSearchParams({ ...fields, csrfToken: csrf.json.csrfToken as string, json: "true" });
-    const res = await this.raw("POST", `/api/auth/callback/${provider}`, {
+  ) {
+    const form = new URLSearchParams({ ...fields, csrfToken, json: "true" });
+    return this.raw("POST", `/api/auth/callback/${provider}`, {
       body: form.toString(),
       headers: { "content-type": "application/x-www-form-urlencoded", ...headers },
     });
+  }
+
+  /** A sign-in as the browser sends it (a CSRF token, then the form): the raw answer, for its status and headers. */
+  async signInAnswer(provider: Provider, fields: Record<string, string>, headers: Record<string, string> = {}) {
+    return this.postSignIn(provider, fields, await this.csrfToken(), headers);
+  }
+
+  /** Sign in with a next-auth credentials provider; returns the error code, or null on success. */
+  async signIn(
+    provider: Provider,
+    fields: Record<string, string>,
+    headers: Record<string, string> = {},
+  ): Promise<string | null> {
+    const res = await this.signInAnswer(provider, fields, headers);
     const body = (await res.json().catch(() => ({}))) as { url?: string };
     const error = body.url ? new URL(body.url).searchParams.get("error") : "no-url";
     return error;

@@ -1,4 +1,4 @@
-import { chromium, type Browser, type BrowserContext, type Page } from "playwright-core";
+import { chromium, type Browser, type BrowserContext, type BrowserContextOptions, type Page } from "playwright-core";
 
 /** Debian's Chromium, with the flags that keep it from calling out of this closed network. */
 export const CHROMIUM_ARGS = [
@@ -11,8 +11,10 @@ export const CHROMIUM_ARGS = [
   "--disable-sync",
 ];
 
+const executablePath = () => process.env.CHROMIUM_PATH ?? "/usr/bin/chromium";
+
 export function launch(): Promise<Browser> {
-  return chromium.launch({ executablePath: process.env.CHROMIUM_PATH ?? "/usr/bin/chromium", args: CHROMIUM_ARGS });
+  return chromium.launch({ executablePath: executablePath(), args: CHROMIUM_ARGS });
 }
 
 /** A phone held in portrait: 412 x 915 CSS pixels, touch, 2.6x density. */
@@ -22,6 +24,16 @@ export const PHONE = {
   isMobile: true,
   hasTouch: true,
 } as const;
+
+/** Chromium as the phone of PHONE, keeping its storage and service worker in `profile` from one launch to the next. */
+export function persistentPhone(profile: string, colorScheme: "dark" | "light" = "dark"): Promise<BrowserContext> {
+  return chromium.launchPersistentContext(profile, {
+    executablePath: executablePath(),
+    args: CHROMIUM_ARGS,
+    ...PHONE,
+    colorScheme,
+  });
+}
 
 export function phoneContext(browser: Browser, colorScheme: "dark" | "light" = "dark"): Promise<BrowserContext> {
   return browser.newContext({ ...PHONE, colorScheme });
@@ -43,6 +55,52 @@ export async function signInAs(page: Page, email: string, password = DEMO_PASSWO
   await page.getByLabel("Password").fill(password);
   await page.getByRole("button", { name: "Sign in", exact: true }).tap();
   await page.waitForURL("**/engines");
+}
+
+/**
+ * A narrow phone: `width` x `height` CSS pixels (360 x 780 unless given), touch, 2x density, in the
+ * given colour scheme; other context options (downloads, say) pass through.
+ */
+export function narrowPhone(
+  browser: Browser,
+  { width = 360, height = 780, ...options }: { width?: number; height?: number } & BrowserContextOptions,
+): Promise<BrowserContext> {
+  return browser.newContext({
+    viewport: { width, height },
+    deviceScaleFactor: 2,
+    isMobile: true,
+    hasTouch: true,
+    ...options,
+  });
+}
+
+/**
+ * A page signed in as `u` on the sign-in page (the demo password unless given), on the phone of
+ * PHONE in a colour scheme (dark unless given), or on a narrow phone (narrowPhone's options).
+ */
+export async function signedInPhone(
+  browser: Browser,
+  u: { email: string; password?: string },
+  phone: "dark" | "light" | Parameters<typeof narrowPhone>[1] = "dark",
+): Promise<{ ctx: BrowserContext; page: Page }> {
+  const ctx = typeof phone === "string" ? await phoneContext(browser, phone) : await narrowPhone(browser, phone);
+  const page = await ctx.newPage();
+  await signInAs(page, u.email, u.password);
+  return { ctx, page };
+}
+
+/** The signal back: the context online again, and the page told at once (the "online" event a phone fires). */
+export async function backOnline(ctx: BrowserContext, page: Page) {
+  await ctx.setOffline(false);
+  await page.evaluate(() => window.dispatchEvent(new Event("online")));
+}
+
+/** Waits (20 s at most) until the page's sync line says every change is on the server. */
+export function allSynced(page: Page) {
+  return page
+    .getByTestId("sync-line")
+    .getByText(/All synced/)
+    .waitFor({ timeout: 20_000 });
 }
 
 /**

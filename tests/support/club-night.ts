@@ -1,3 +1,5 @@
+import { layout, USUAL_BANDS } from "./engines";
+
 /**
  * The club night's engine and blades, shared by the one-node load test
  * (tests/integration/load/club-night.test.ts) and the cluster's (tests/cluster/club-night.test.ts).
@@ -7,13 +9,5 @@ export const CLUB_NIGHT_PASSWORD = "club-night-feelers-25";
 export const VALVES = ["I", "E"].flatMap((k) => [1, 2, 3, 4, 5, 6].flatMap((c) => [1, 2].map((i) => `${k}${c}.${i}`)));
 // blade sizes of a common metric feeler set (from memory)
 export const BLADES = [0.05, 0.08, 0.1, 0.13, 0.15, 0.18, 0.2, 0.23, 0.25, 0.28, 0.3, 0.33];
-export const ENGINE_SIX = {
-  name: "Club night six",
-  cylinders: 6,
-  intakePerCylinder: 2,
-  exhaustPerCylinder: 2,
-  firingOrder: [1, 5, 3, 6, 2, 4], // the usual inline-six order (common practice)
-  intake: { min: 0.1, max: 0.2 },
-  exhaust: { min: 0.2, max: 0.3 },
-  shims: { min: 2.5, max: 3.3, step: 0.05 },
-};
+// firing 1-5-3-6-2-4: the usual inline-six order (common practice)
+export const ENGINE_SIX = { name: "Club night six", ...layout([1, 5, 3, 6, 2, 4], 2), ...USUAL_BANDS };

@@ -7,7 +7,7 @@ export const ODOMETER = 43_800;
 
 // intake band 0.10-0.20, exhaust 0.20-0.30 on 2.60 shims (ENGINE_FOUR): four valves out of band,
 // two intake tight and two exhaust loose, so the plan changes four shims
-const GO: Record<string, number> = {
+export const GO: Record<string, number> = {
   "I1.1": 0.15,
   "I1.2": 0.13,
   "E1.1": 0.25,
@@ -26,10 +26,27 @@ const GO: Record<string, number> = {
   "E4.2": 0.25,
 };
 // a common metric feeler set (from memory): the blade that does not go is the next one up
-const BLADES = [
+export const BLADES = [
   0.02, 0.03, 0.04, 0.05, 0.06, 0.07, 0.08, 0.09, 0.1, 0.13, 0.15, 0.18, 0.2, 0.23, 0.25, 0.28, 0.3, 0.33, 0.38, 0.4,
   0.45, 0.5,
 ];
+
+/** Readings on 2.60 shims by feeler blades: the blade that went (`go`) and the next one up, which did not. */
+export function bladeReadings(checkId: string, go: Record<string, number>) {
+  return Object.entries(go).map(([valve, blade]) => ({
+    name: "reading.put/1",
+    args: {
+      checkId,
+      reading: {
+        valve,
+        installedStamp: 2.6,
+        feelerGo: blade,
+        feelerNoGo: BLADES[BLADES.indexOf(blade) + 1],
+        measured: blade,
+      },
+    },
+  }));
+}
 
 export interface Person {
   id: string;
@@ -69,20 +86,7 @@ export async function clubScenario(base: string, tag: string, engines: { name: s
         args: { ...ENGINE_FOUR, id: engineId, name: e.name, shimDiameter: SHIM_DIAMETER, assembledShim: 2.6 },
       },
       { id: ++id, name: "check.put/1", args: { id: checkId, engineId, odometer: ODOMETER } },
-      ...Object.entries(GO).map(([valve, go]) => ({
-        id: ++id,
-        name: "reading.put/1",
-        args: {
-          checkId,
-          reading: {
-            valve,
-            installedStamp: 2.6,
-            feelerGo: go,
-            feelerNoGo: BLADES[BLADES.indexOf(go) + 1],
-            measured: go,
-          },
-        },
-      })),
+      ...bladeReadings(checkId, GO).map((m) => ({ id: ++id, ...m })),
     ];
     const pushed = await mechanic.api.post("/api/sync/push", { clientId, mutations });
     if (pushed.status !== 200 || pushed.json.rejected.length)

@@ -6,7 +6,7 @@ import { openLocalDb, getMeta, type LocalDb } from "@/lib/sync/local-db";
 import { syncOnce } from "@/lib/sync/phone-sync";
 import { addComment, saveCheck, saveEngine, saveReading, saveTrayItem } from "@/lib/sync/save";
 import type { MutationArgs } from "@/lib/sync/mutations";
-import { rawConnection } from "./db";
+import { historyRows, rawConnection } from "./db";
 import { ENGINE_FOUR } from "./fixtures";
 import type { FaultProxy } from "./fault-proxy";
 
@@ -261,11 +261,7 @@ export async function runFaultSync(run: Run) {
     expect(refused, `${p.name}: refused`).toEqual([]);
   }
   // phone A wrote each reading once: a second application would have put its first value in history
-  const [hist] = await q<{ n: number }>(
-    "SELECT COUNT(*) AS n FROM reading_history h JOIN readings r ON r.id = h.reading_id WHERE r.check_id IN (?)",
-    [a.checkIds],
-  );
-  expect(Number(hist!.n)).toBe(0);
+  expect(await historyRows(a.checkIds, db)).toBe(0);
   const comments = (
     await q<{ id: string; body: string }>("SELECT id, body FROM comments WHERE check_id = ?", [a.checkId])
   )

@@ -28,9 +28,12 @@ export function photoForm(
   return form;
 }
 
-/** Every key in the test photo store, to prove a refused upload stored nothing. */
-export async function storedKeys(prefix = ""): Promise<string[]> {
-  const s3 = new S3Client({
+/** The test photo store's bucket. */
+export const PHOTO_BUCKET = process.env.S3_BUCKET ?? "lashwright-photos";
+
+/** A client of the test photo store, reaching it around the app. */
+export function photoStore() {
+  return new S3Client({
     endpoint: process.env.S3_ENDPOINT,
     region: "us-east-1",
     forcePathStyle: true,
@@ -41,9 +44,11 @@ export async function storedKeys(prefix = ""): Promise<string[]> {
     requestChecksumCalculation: "WHEN_REQUIRED",
     responseChecksumValidation: "WHEN_REQUIRED",
   });
-  const r = await s3.send(
-    new ListObjectsV2Command({ Bucket: process.env.S3_BUCKET ?? "lashwright-photos", Prefix: prefix }),
-  );
+}
+
+/** Every key in the test photo store, to prove a refused upload stored nothing. */
+export async function storedKeys(prefix = ""): Promise<string[]> {
+  const r = await photoStore().send(new ListObjectsV2Command({ Bucket: PHOTO_BUCKET, Prefix: prefix }));
   return (r.Contents ?? []).map((o) => o.Key!);
 }
 

@@ -14,6 +14,9 @@ export function freePort(): Promise<number> {
   });
 }
 
+/** A port nothing listens on (a free one, closed again): where a service that is down would be. */
+export const closedPort = freePort;
+
 export interface App {
   url: string;
   port: number;

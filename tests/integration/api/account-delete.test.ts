@@ -1,4 +1,3 @@
-import net from "node:net";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type mysql from "mysql2/promise";
 import { Client, signedInClient } from "../../support/api";
@@ -6,7 +5,8 @@ import { rawConnection } from "../../support/db";
 import { addMembership, ENGINE_FOUR, makeUser } from "../../support/fixtures";
 import { linkToken, waitForMail } from "../../support/mail";
 import { cameraJpeg, photoForm, storedKeys } from "../../support/photos";
-import { startApp, type App } from "../../support/server";
+import { closedPort, startApp, type App } from "../../support/server";
+import { makeUsers } from "../../support/users";
 
 /**
  * Deleting an account: an account that has everything is deleted, and then every column of every
@@ -138,12 +138,7 @@ function deleteToken(mail: { text: string }): string {
 
 describe("deleting an account", () => {
   it("leaves nothing of the account in any table or in the photo store, but its comments on others' checks, without the author", async () => {
-    const [me, mentor, coAdmin, other] = await Promise.all([
-      makeUser("del-me"),
-      makeUser("del-mentor"),
-      makeUser("del-coadmin"),
-      makeUser("del-other"),
-    ]);
+    const [me, mentor, coAdmin, other] = await makeUsers("del-me", "del-mentor", "del-coadmin", "del-other");
     const c = await signedInClient(app.url, me);
     const phone = await signedInClient(app.url, me); // a second session: another phone
     const m = await signedInClient(app.url, mentor);
@@ -391,11 +386,7 @@ describe("deleting an account", () => {
   });
 
   it("an open loan is refused, naming the other side, on either side of it", async () => {
-    const [lender, borrower, admin] = await Promise.all([
-      makeUser("del-lender"),
-      makeUser("del-borrower"),
-      makeUser("del-loanadmin"),
-    ]);
+    const [lender, borrower, admin] = await makeUsers("del-lender", "del-borrower", "del-loanadmin");
     const [l, b, a] = await Promise.all([
       signedInClient(app.url, lender),
       signedInClient(app.url, borrower),
@@ -435,16 +426,6 @@ describe("deleting an account", () => {
     expect(await scan(me.email)).toEqual([]);
   });
 });
-
-async function closedPort(): Promise<number> {
-  return new Promise((resolve) => {
-    const srv = net.createServer();
-    srv.listen(0, "127.0.0.1", () => {
-      const { port } = srv.address() as net.AddressInfo;
-      srv.close(() => resolve(port));
-    });
-  });
-}
 
 describe("the photo sweep when the store is down", () => {
   it("keeps the keys through the failure and removes the photos once the store answers", async () => {

@@ -1,11 +1,10 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import { strFromU8, strToU8, unzipSync, zipSync, type Zippable } from "fflate";
 import sharp from "sharp";
 import { signedInClient, type Client } from "../../support/api";
 import { rawConnection } from "../../support/db";
 import { addMembership, ENGINE_FOUR, makeUser } from "../../support/fixtures";
 import { cameraJpeg, photoForm, storedKeys } from "../../support/photos";
-import { startApp, type App } from "../../support/server";
 import {
   EXPORT_DATA_ENTRY,
   IMPORT_LIMITS,
@@ -15,6 +14,8 @@ import {
   previousOf,
   type ExportDocument,
 } from "@/lib/export/schema";
+import { appPerFile } from "../../support/per-file";
+import { layout } from "../../support/engines";
 
 /**
  * The account export and its way back (issue 31 items 1-2): a history with photos goes out as one
@@ -22,21 +23,14 @@ import {
  * are newer, damaged, too large, or sent to an account that holds something are refused and change
  * nothing.
  */
-let app: App;
-beforeAll(async () => {
-  app = await startApp();
-});
-afterAll(() => app?.stop());
+const app = appPerFile();
 
 const signedIn = (u: { email: string; password: string }) => signedInClient(app.url, u);
 
 // A twin with a shim list and a 9.48 mm shim diameter (common practice for bucket shims); bands from memory.
 const ENGINE_TWIN = {
   name: "Test twin",
-  cylinders: 2,
-  intakePerCylinder: 2,
-  exhaustPerCylinder: 2,
-  firingOrder: [1, 2],
+  ...layout([1, 2], 2),
   firingAngles: [0, 180],
   intake: { min: 0.1, max: 0.15 },
   exhaust: { min: 0.15, max: 0.2, target: 0.17 },

@@ -1,14 +1,10 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import { Client } from "../../support/api";
 import { linkToken, waitForMail } from "../../support/mail";
 import { rawConnection } from "../../support/db";
-import { startApp, type App } from "../../support/server";
+import { appPerFile } from "../../support/per-file";
 
-let app: App;
-beforeAll(async () => {
-  app = await startApp();
-});
-afterAll(() => app?.stop());
+const app = appPerFile();
 
 describe("accounts through the API and the local mail catcher", () => {
   it("sign-up, e-mail verification, sign-in, password reset, sign-in with the new password", async () => {

@@ -1,8 +1,8 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import { Client } from "../../support/api";
 import { makeUser } from "../../support/fixtures";
 import { linkToken, waitForMail } from "../../support/mail";
-import { startApp, type App } from "../../support/server";
+import { appPerFile } from "../../support/per-file";
 
 /**
  * Which addresses have accounts (issue 24, item 3; OWASP ASVS 5.0 V6 Authentication: the answers
@@ -10,11 +10,7 @@ import { startApp, type App } from "../../support/server";
  * address and a password, then signs in with them: a new address used to answer "Unverified", an
  * existing one "CredentialsSignin".
  */
-let app: App;
-beforeAll(async () => {
-  app = await startApp();
-});
-afterAll(() => app?.stop());
+const app = appPerFile();
 
 const fresh = (tag: string) => `${tag}-${crypto.randomUUID().slice(0, 8)}@test.example`;
 

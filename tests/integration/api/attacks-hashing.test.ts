@@ -1,8 +1,8 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import { Client, loopbackAddress, signedInClient } from "../../support/api";
 import { rawConnection } from "../../support/db";
 import { makeUser } from "../../support/fixtures";
-import { startApp, type App } from "../../support/server";
+import { appPerFile } from "../../support/per-file";
 
 /**
  * Hashing flood (issue 24, item 6): sign-in tries for new e-mail addresses each cost a password hash
@@ -14,13 +14,9 @@ import { startApp, type App } from "../../support/server";
  * NIST SP 800-63B 5.2.2 (rate limiting); OWASP Password Storage Cheat Sheet (Argon2id parameters).
  * The server prints a line per hash it computes (LASHWRIGHT_COUNT_HASHES=1): the tests count work.
  */
-let app: App;
-beforeAll(async () => {
-  // production's pool (10, lib/env.ts) rather than the tests' single connection, so the latency
-  // printed is the one a user would see; other files keep the one-connection check
-  app = await startApp({ LASHWRIGHT_COUNT_HASHES: "1", DB_POOL_SIZE: "10" });
-});
-afterAll(() => app?.stop());
+// production's pool (10, lib/env.ts) rather than the tests' single connection, so the latency
+// printed is the one a user would see; other files keep the one-connection check
+const app = appPerFile({ LASHWRIGHT_COUNT_HASHES: "1", DB_POOL_SIZE: "10" });
 
 const printed = () =>
   app
@@ -42,12 +38,7 @@ const PER_ADDRESS = 20;
 
 /** A sign-in try as the browser sends it, with the status and Retry-After besides next-auth's error. */
 async function tryPassword(c: Client, email: string, password: string) {
-  const csrf = await c.get("/api/auth/csrf");
-  const form = new URLSearchParams({ email, password, csrfToken: csrf.json.csrfToken as string, json: "true" });
-  const res = await c.raw("POST", "/api/auth/callback/password", {
-    body: form.toString(),
-    headers: { "content-type": "application/x-www-form-urlencoded" },
-  });
+  const res = await c.signInAnswer("password", { email, password });
   const body = (await res.json().catch(() => ({}))) as { url?: string };
   return {
     status: res.status,

@@ -1,8 +1,8 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import { Client } from "../../support/api";
 import { makeUser } from "../../support/fixtures";
 import { linkToken, waitForMail, inbox } from "../../support/mail";
-import { startApp, type App } from "../../support/server";
+import { appPerFile } from "../../support/per-file";
 
 /**
  * The owner locked out (issue 24, item 2): a stranger's five wrong passwords and five reset requests
@@ -11,11 +11,7 @@ import { startApp, type App } from "../../support/server";
  * 800-63B 5.2.2: rate limiting must not let an attacker deny the subscriber; OWASP ASVS 5.0 V6
  * Authentication. A link already in the owner's inbox keeps working.
  */
-let app: App;
-beforeAll(async () => {
-  app = await startApp();
-});
-afterAll(() => app?.stop());
+const app = appPerFile();
 
 const DEVICE_COOKIE = "lashwright-device";
 
@@ -76,19 +72,7 @@ describe("the owner is not locked out by a stranger (OWASP device cookies; NIST 
     const victim = await makeUser("lockout-victim");
     const attacker = await makeUser("lockout-attacker");
     const c = new Client(app.url);
-    const res = await (async () => {
-      const csrf = await c.get("/api/auth/csrf");
-      const form = new URLSearchParams({
-        email: attacker.email,
-        password: attacker.password,
-        csrfToken: csrf.json.csrfToken as string,
-        json: "true",
-      });
-      return c.raw("POST", "/api/auth/callback/password", {
-        body: form.toString(),
-        headers: { "content-type": "application/x-www-form-urlencoded" },
-      });
-    })();
+    const res = await c.signInAnswer("password", { email: attacker.email, password: attacker.password });
     const set = res.headers.getSetCookie().find((h) => h.startsWith(`${DEVICE_COOKIE}=`));
     expect(set).toBeDefined();
     expect(set).toMatch(/HttpOnly/i);
@@ -107,19 +91,9 @@ describe("the owner is not locked out by a stranger (OWASP device cookies; NIST 
       `${Buffer.from(victim.email).toString("base64url")}.${issued}.${nonce}.${"A".repeat(43)}`,
     ]) {
       const f = new Client(app.url);
-      const csrf = await f.get("/api/auth/csrf");
-      const form = new URLSearchParams({
-        email: victim.email,
-        password: victim.password,
-        csrfToken: csrf.json.csrfToken as string,
-        json: "true",
-      });
-      const r = await f.raw("POST", "/api/auth/callback/password", {
-        body: form.toString(),
-        headers: {
-          "content-type": "application/x-www-form-urlencoded",
-          cookie: `${f.cookieHeader()}; ${DEVICE_COOKIE}=${cookie}`,
-        },
+      const token = await f.csrfToken();
+      const r = await f.postSignIn("password", { email: victim.email, password: victim.password }, token, {
+        cookie: `${f.cookieHeader()}; ${DEVICE_COOKIE}=${cookie}`,
       });
       const body = (await r.json()) as { url: string };
       expect(new URL(body.url).searchParams.get("error")).toBe("Throttled");

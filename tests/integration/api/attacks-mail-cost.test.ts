@@ -1,7 +1,7 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type mysql from "mysql2/promise";
 import { signedInClient } from "../../support/api";
-import { rawConnection } from "../../support/db";
+import { countOf, rawConnection } from "../../support/db";
 import { addMembership, ENGINE_FOUR, makeUser } from "../../support/fixtures";
 import { startApp, type App } from "../../support/server";
 
@@ -50,12 +50,12 @@ afterAll(async () => {
   await app?.stop();
 });
 
-async function dueElsewhere(): Promise<number> {
-  const [rows] = await raw.query(
+const dueElsewhere = () =>
+  countOf(
     "SELECT COUNT(*) AS n FROM notices WHERE status IN ('queued', 'sending') AND next_attempt_at <= NOW(3) + INTERVAL 20 SECOND",
+    [],
+    raw,
   );
-  return Number((rows as { n: number }[])[0]!.n);
-}
 
 describe("a push's notices are worked out once", () => {
   it(

@@ -1,11 +1,11 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import sharp from "sharp";
-import { DeleteObjectCommand, S3Client } from "@aws-sdk/client-s3";
+import { DeleteObjectCommand } from "@aws-sdk/client-s3";
 import { signedInClient, type Client } from "../../support/api";
-import { rawConnection } from "../../support/db";
+import { queryRows, rawConnection } from "../../support/db";
 import { ENGINE_FOUR, makeUser } from "../../support/fixtures";
-import { noisyPng, photoForm, storedKeys } from "../../support/photos";
-import { startApp, type App } from "../../support/server";
+import { noisyPng, PHOTO_BUCKET, photoForm, photoStore, storedKeys } from "../../support/photos";
+import { appPerFile } from "../../support/per-file";
 
 /**
  * Issue 24 item 8: the same photo id sent twice at once (the phone's retry while the first try is
@@ -13,12 +13,8 @@ import { startApp, type App } from "../../support/server";
  * answered 500, the next retry got 200 and the phone let its copy go. The row is now written first
  * and a duplicate never deletes; these play the race many times over.
  */
-let app: App;
-beforeAll(async () => {
-  // the budget is not what this file is about: 20 x 20 sends of one account must not reach it
-  app = await startApp({ PHOTO_UPLOADS_PER_HOUR: "10000" });
-});
-afterAll(() => app?.stop());
+// the budget is not what this file is about: 20 x 20 sends of one account must not reach it
+const app = appPerFile({ PHOTO_UPLOADS_PER_HOUR: "10000" });
 
 async function owner(tag: string) {
   const c = await signedInClient(app.url, await makeUser(tag));
@@ -30,15 +26,11 @@ async function owner(tag: string) {
 const send = (c: Client, checkId: string, id: string, file: Buffer) =>
   c.form("POST", `/api/checks/${checkId}/photos`, photoForm(file, { id }));
 
-async function rowsFor(id: string) {
-  const c = await rawConnection();
-  const [rows] = await c.query(
+const rowsFor = (id: string) =>
+  queryRows<{ checkId: string; bytes: number; stored: number }>(
     "SELECT check_id AS checkId, bytes, stored_at IS NOT NULL AS stored FROM uploads WHERE id = ?",
     [id],
   );
-  await c.end();
-  return rows as { checkId: string; bytes: number; stored: number }[];
-}
 
 async function fetchPhoto(c: Client, id: string) {
   const res = await fetch(`${app.url}/api/photos/${id}`, { headers: { cookie: c.cookieHeader() } });
@@ -93,21 +85,7 @@ describe("a photo sent again while it is being stored", () => {
     const db = await rawConnection();
     await db.query("UPDATE uploads SET stored_at = NULL WHERE id = ?", [id]);
     await db.end();
-    const s3 = new S3Client({
-      endpoint: process.env.S3_ENDPOINT,
-      region: "us-east-1",
-      forcePathStyle: true,
-      credentials: {
-        accessKeyId: process.env.S3_ACCESS_KEY ?? "S3RVER",
-        secretAccessKey: process.env.S3_SECRET_KEY ?? "S3RVER",
-      },
-    });
-    await s3.send(
-      new DeleteObjectCommand({
-        Bucket: process.env.S3_BUCKET ?? "lashwright-photos",
-        Key: `checks/${checkId}/${id}.jpg`,
-      }),
-    );
+    await photoStore().send(new DeleteObjectCommand({ Bucket: PHOTO_BUCKET, Key: `checks/${checkId}/${id}.jpg` }));
 
     // an upload in flight is not listed and not served (never a 500)
     expect((await fetchPhoto(c, id)).status).toBe(404);

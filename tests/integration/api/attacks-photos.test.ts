@@ -1,10 +1,10 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import sharp from "sharp";
 import { signedInClient, type Client } from "../../support/api";
-import { rawConnection } from "../../support/db";
+import { queryRows, rawConnection } from "../../support/db";
 import { ENGINE_FOUR, makeUser } from "../../support/fixtures";
 import { noisyPng, photoForm, storedKeys } from "../../support/photos";
-import { startApp, type App } from "../../support/server";
+import { appPerFile } from "../../support/per-file";
 
 /**
  * Issue 24 item 7: one account's uploads must not cost everyone else. A picture's pixels are judged
@@ -15,16 +15,12 @@ import { startApp, type App } from "../../support/server";
 const NOISY_STORED_BYTES = 69_595; // what the 400 x 300 noisy PNG below re-encodes to (measured; the encoder is deterministic)
 const QUOTA = Math.floor(NOISY_STORED_BYTES * 2.5);
 
-let app: App;
-beforeAll(async () => {
-  app = await startApp({
-    PHOTO_DECODE_SLOTS: "1",
-    PHOTO_DECODE_QUEUE: "0",
-    PHOTO_UPLOADS_PER_HOUR: "4",
-    PHOTO_QUOTA_BYTES: String(QUOTA),
-  });
+const app = appPerFile({
+  PHOTO_DECODE_SLOTS: "1",
+  PHOTO_DECODE_QUEUE: "0",
+  PHOTO_UPLOADS_PER_HOUR: "4",
+  PHOTO_QUOTA_BYTES: String(QUOTA),
 });
-afterAll(() => app?.stop());
 
 async function owner(tag: string) {
   const c = await signedInClient(app.url, await makeUser(tag));
@@ -52,15 +48,11 @@ const tinyJpeg = () =>
     .jpeg()
     .toBuffer();
 
-async function rowsOf(userId: string) {
-  const c = await rawConnection();
-  const [rows] = await c.query(
+const rowsOf = (userId: string) =>
+  queryRows<{ id: string; bytes: number; stored: number }>(
     "SELECT id, bytes, stored_at IS NOT NULL AS stored FROM uploads WHERE owner_id = ? ORDER BY id",
     [userId],
   );
-  await c.end();
-  return rows as { id: string; bytes: number; stored: number }[];
-}
 
 /** Units of the upload budget the account has spent this hour, as the budget's table counts them. */
 async function budgetSpent(userId: string) {

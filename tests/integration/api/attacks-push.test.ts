@@ -1,8 +1,8 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import { signedInClient, type Client } from "../../support/api";
-import { rawConnection } from "../../support/db";
+import { countOf } from "../../support/db";
 import { ENGINE_FOUR, makeUser } from "../../support/fixtures";
-import { startApp, type App } from "../../support/server";
+import { appPerFile } from "../../support/per-file";
 
 /**
  * What an attacker tries on the sync push (issue 24, items 4 and 10), with the server's default
@@ -15,20 +15,9 @@ const PER_PUSH = 200;
 const PER_DEVICE = 600;
 const PER_ACCOUNT = 1200;
 
-let app: App;
-beforeAll(async () => {
-  app = await startApp();
-});
-afterAll(() => app?.stop());
+const app = appPerFile();
 
 const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
-
-async function count(sql: string, args: unknown[]) {
-  const db = await rawConnection();
-  const [rows] = await db.query(sql, args);
-  await db.end();
-  return Number((rows as { n: number }[])[0]!.n);
-}
 
 /** An owner with one check of their own, made through the REST routes. */
 async function ownerWithCheck(tag: string): Promise<{ c: Client; checkId: string }> {
@@ -47,8 +36,8 @@ const comments = (checkId: string, from: number, n: number) =>
   }));
 
 const commentIds = (ms: { args: { id: string } }[]) => ms.map((m) => m.args.id);
-const stored = (checkId: string) => count("SELECT COUNT(*) AS n FROM comments WHERE check_id = ?", [checkId]);
-const storedOf = async (ids: string[]) => count("SELECT COUNT(*) AS n FROM comments WHERE id IN (?)", [ids]);
+const stored = (checkId: string) => countOf("SELECT COUNT(*) AS n FROM comments WHERE check_id = ?", [checkId]);
+const storedOf = async (ids: string[]) => countOf("SELECT COUNT(*) AS n FROM comments WHERE id IN (?)", [ids]);
 
 describe("a push that grows without bound (issue 24 item 4)", () => {
   it("500 comment.add/1 in one push are refused whole (422) and none is applied", async () => {
@@ -119,9 +108,9 @@ describe("a push that grows without bound (issue 24 item 4)", () => {
       expect(await storedOf(refused)).toBe(0);
       // and no refusal was recorded against those mutations: they are still the phone's to send
       expect(
-        await count("SELECT COUNT(*) AS n FROM rejected_mutations WHERE client_id IN (?)", [[one, two, three]]),
+        await countOf("SELECT COUNT(*) AS n FROM rejected_mutations WHERE client_id IN (?)", [[one, two, three]]),
       ).toBe(0);
-      expect(await count("SELECT last_mutation_id AS n FROM sync_clients WHERE id = ?", [one])).toBe(PER_DEVICE);
+      expect(await countOf("SELECT last_mutation_id AS n FROM sync_clients WHERE id = ?", [one])).toBe(PER_DEVICE);
 
       // the owner's phone waits as asked, then sends the same outbox again: it goes through
       await sleep((Math.max(refusedOne.retryAfter!, refusedThree.retryAfter!) + 1) * 1000);

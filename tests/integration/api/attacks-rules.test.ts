@@ -1,19 +1,16 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import { signedInClient, type Client } from "../../support/api";
 import { addMembership, ENGINE_FOUR, makeUser } from "../../support/fixtures";
 import { rawConnection } from "../../support/db";
-import { startApp, type App } from "../../support/server";
+import { appPerFile } from "../../support/per-file";
+import { makeUsers } from "../../support/users";
 
 /**
  * Attacks on the club rules, each played through the API as a member would: what a membership
  * held open after it ended, one club reading another's review thread, a comment id reused, a
  * mentor passing their own check, and names carrying control characters.
  */
-let app: App;
-beforeAll(async () => {
-  app = await startApp({ NOTICE_RETRY_SECONDS: "1" });
-});
-afterAll(() => app?.stop());
+const app = appPerFile({ NOTICE_RETRY_SECONDS: "1" });
 
 type U = Awaited<ReturnType<typeof makeUser>>;
 const signedIn = (u: U) => signedInClient(app.url, u);
@@ -51,11 +48,7 @@ const aReading = (valve: string) => ({ readings: [{ valve, installedStamp: 2.6, 
 
 describe("a membership's end ends what it held open", () => {
   async function setUp() {
-    const [owner, mentor, other] = await Promise.all([
-      makeUser("ar-owner"),
-      makeUser("ar-mentor"),
-      makeUser("ar-other"),
-    ]);
+    const [owner, mentor, other] = await makeUsers("ar-owner", "ar-mentor", "ar-other");
     const club = await clubWith("Rules Club", [
       [owner, ["mechanic"]],
       [mentor, ["mentor"]],
@@ -172,9 +165,7 @@ describe("review threads and verdicts", () => {
   });
 
   it("a check shared with two clubs: each club's mentors read their own thread and the owner's comments; the owner reads all", async () => {
-    const [owner, mentorA, mentorB, both] = await Promise.all(
-      ["ar-two-owner", "ar-two-ma", "ar-two-mb", "ar-two-both"].map(makeUser),
-    );
+    const [owner, mentorA, mentorB, both] = await makeUsers("ar-two-owner", "ar-two-ma", "ar-two-mb", "ar-two-both");
     const A = await clubWith("Club A", [
       [owner!, ["mechanic"]],
       [mentorA!, ["mentor"]],

@@ -1,18 +1,14 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import { Client, signedInClient } from "../../support/api";
 import { makeUser } from "../../support/fixtures";
 import { inbox, linkToken } from "../../support/mail";
-import { startApp, type App } from "../../support/server";
+import { appPerFile } from "../../support/per-file";
 
 /**
  * Sessions and links that outlive what should end them (issue 24, item 12; OWASP ASVS 5.0 V7
  * Session Management, V6 Authentication). A "phone" here is a Client with its own cookie jar.
  */
-let app: App;
-beforeAll(async () => {
-  app = await startApp();
-});
-afterAll(() => app?.stop());
+const app = appPerFile();
 
 /** The next mail to `address` whose subject matches: one that was not there before `before` was counted. */
 async function nextMail(address: string, subject: RegExp, before: number) {
@@ -32,6 +28,12 @@ async function resetLink(email: string) {
   const before = await count(email, RESET);
   expect((await new Client(app.url).post("/api/account/password-reset", { email })).status).toBe(202);
   return linkToken(await nextMail(email, RESET, before), "/reset-password");
+}
+
+/** A new password chosen through a fresh reset link, on another device: accepted. */
+async function chooseNewPassword(email: string, password: string) {
+  const token = await resetLink(email);
+  expect((await new Client(app.url).post("/api/account/password", { token, password })).status).toBe(200);
 }
 
 async function signInLink(email: string) {
@@ -61,10 +63,7 @@ describe("/api/auth/session checks the session generation (12a)", () => {
   it("a revoked cookie cannot sign its owner out everywhere again", async () => {
     const u = await makeUser("lost");
     const lost = await signedInClient(app.url, u);
-    const token = await resetLink(u.email);
-    expect(
-      (await new Client(app.url).post("/api/account/password", { token, password: "owner-new-pass-51" })).status,
-    ).toBe(200);
+    await chooseNewPassword(u.email, "owner-new-pass-51");
     const owner = await signedInClient(app.url, { email: u.email, password: "owner-new-pass-51" });
     // the lost phone's old cookie asks to sign out: the owner's new session goes on
     await lost.signOut();
@@ -77,11 +76,7 @@ describe("a new password voids every link asked for before it (12b)", () => {
     const u = await makeUser("links");
     const oldReset = await resetLink(u.email);
     const oldSignIn = await signInLink(u.email);
-    const reset = await resetLink(u.email);
-    expect(
-      (await new Client(app.url).post("/api/account/password", { token: reset, password: "chosen-after-all-64" }))
-        .status,
-    ).toBe(200);
+    await chooseNewPassword(u.email, "chosen-after-all-64");
 
     const again = await new Client(app.url).post("/api/account/password", {
       token: oldReset,
@@ -129,10 +124,7 @@ describe("a phone whose session was ended elsewhere is told so at its next sync 
   it("after a password reset the same", async () => {
     const u = await makeUser("wipe2");
     const phone = await signedInClient(app.url, u);
-    const token = await resetLink(u.email);
-    expect(
-      (await new Client(app.url).post("/api/account/password", { token, password: "reset-from-pc-38" })).status,
-    ).toBe(200);
+    await chooseNewPassword(u.email, "reset-from-pc-38");
     const res = await phone.post("/api/sync/pull", { cursor: null });
     expect(res.status).toBe(401);
     expect(res.json.error.code).toBe("session_revoked");

@@ -1,6 +1,6 @@
 import { readFileSync, writeFileSync } from "node:fs";
 import mysql from "mysql2/promise";
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import { Client, signedInClient } from "../../support/api";
 import { rawConnection, testDbUrl } from "../../support/db";
 import { addMembership, ENGINE_FOUR, makeUser } from "../../support/fixtures";
@@ -8,18 +8,16 @@ import { cameraJpeg, photoForm, storedKeys } from "../../support/photos";
 import { inbox, linkToken, waitForMail } from "../../support/mail";
 import { startApp, type App } from "../../support/server";
 import { hashPassword } from "@/server/password";
+import { appPerFile } from "../../support/per-file";
+import { makeUsers } from "../../support/users";
 
 /**
  * What an attacker tries first, one test per attack (issue 15). References beside each:
  * OWASP ASVS 5.0 (V3 Web Frontend Security, V4 API and Web Service, V5 File Handling, V6
  * Authentication, V7 Session Management) and NIST SP 800-63B (chapter and section named where sure).
  */
-let app: App;
-beforeAll(async () => {
-  // the server prints a line per password hash it computes: the timing tests below count work
-  app = await startApp({ LASHWRIGHT_COUNT_HASHES: "1" });
-});
-afterAll(() => app?.stop());
+// the server prints a line per password hash it computes: the timing tests below count work
+const app = appPerFile({ LASHWRIGHT_COUNT_HASHES: "1" });
 
 const fresh = (tag: string) => `${tag}-${crypto.randomUUID().slice(0, 8)}@test.example`;
 
@@ -41,19 +39,18 @@ async function signInByLink(c: Client, email: string) {
   return c.signIn("email-link", { token: linkToken(await waitForMail(email, /sign-in link/), "/sign-in/link") });
 }
 
+/** Someone else signs up first with the owner's address and a password of their choosing (accepted: 202). */
+async function attackerSignsUp(victim: string, password: string) {
+  const attacker = new Client(app.url);
+  expect((await attacker.post("/api/account/sign-up", { email: victim, name: "Not The Owner", password })).status).toBe(
+    202,
+  );
+}
+
 describe("account takeover by signing up first (ASVS V6 Authentication; NIST SP 800-63B authenticator binding)", () => {
   it("a password chosen before the owner proved the address stops working once they sign in by a link, and the owner is told", async () => {
     const victim = fresh("victim");
-    const attacker = new Client(app.url);
-    expect(
-      (
-        await attacker.post("/api/account/sign-up", {
-          email: victim,
-          name: "Not The Owner",
-          password: "attacker-chose-this-1",
-        })
-      ).status,
-    ).toBe(202);
+    await attackerSignsUp(victim, "attacker-chose-this-1");
     // the real owner later signs in with an e-mail link: that proves the address
     const owner = new Client(app.url);
     expect(await signInByLink(owner, victim)).toBeNull();
@@ -70,16 +67,7 @@ describe("account takeover by signing up first (ASVS V6 Authentication; NIST SP 
 
   it("the owner clicking the confirmation mail the attacker's sign-up caused does not confirm the attacker's password", async () => {
     const victim = fresh("victim2");
-    const attacker = new Client(app.url);
-    expect(
-      (
-        await attacker.post("/api/account/sign-up", {
-          email: victim,
-          name: "Not The Owner",
-          password: "attacker-chose-this-2",
-        })
-      ).status,
-    ).toBe(202);
+    await attackerSignsUp(victim, "attacker-chose-this-2");
     const token = linkToken(await waitForMail(victim, /Confirm your e-mail/), "/verify");
     // the owner opens the link: without the sign-up's password it confirms nothing
     const owner = new Client(app.url);
@@ -525,11 +513,7 @@ describe("invitations (ASVS V8 Authorization; V16 Security Logging)", () => {
 
 describe("smaller ones", () => {
   it("a loan request naming someone else's check, or no check at all, is refused and stores nothing", async () => {
-    const [lender, asker, other] = await Promise.all([
-      makeUser("loan-lender"),
-      makeUser("loan-asker"),
-      makeUser("loan-other"),
-    ]);
+    const [lender, asker, other] = await makeUsers("loan-lender", "loan-asker", "loan-other");
     const l = await signedInClient(app.url, lender);
     const a = await signedInClient(app.url, asker);
     const clubId = (await l.post("/api/clubs", { name: "Loan Club" })).json.club.id as string;

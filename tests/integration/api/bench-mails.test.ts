@@ -1,8 +1,11 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { Client, signedInClient } from "../../support/api";
+import { describe, expect, it } from "vitest";
+import { signedInClient } from "../../support/api";
 import { addMembership, makeUser } from "../../support/fixtures";
 import { waitForMail } from "../../support/mail";
-import { startApp, type App } from "../../support/server";
+import { appPerFile } from "../../support/per-file";
+import { pushAccepted } from "../../support/push";
+import { layout, USUAL_BANDS } from "../../support/engines";
+import { makeUsers } from "../../support/users";
 
 /**
  * Mails a mechanic can act on without opening them first: a comment, a verdict and each step of a
@@ -10,39 +13,14 @@ import { startApp, type App } from "../../support/server";
  * plain words. Also the engine's side nearest the mechanic, which older phones' mutations keep, and
  * what an accepted invitation answers. Engines and readings are invented test data.
  */
-let app: App;
-beforeAll(async () => {
-  app = await startApp({ NOTICE_RETRY_SECONDS: "1" });
-});
-afterAll(() => app?.stop());
+const app = appPerFile({ NOTICE_RETRY_SECONDS: "1" });
 
 const signedIn = (u: { email: string; password: string }) => signedInClient(app.url, u);
-const SIX = {
-  name: "Bench six",
-  cylinders: 6,
-  intakePerCylinder: 2,
-  exhaustPerCylinder: 2,
-  firingOrder: [1, 5, 3, 6, 2, 4],
-  intake: { min: 0.1, max: 0.2 },
-  exhaust: { min: 0.2, max: 0.3 },
-  shims: { min: 2.5, max: 3.3, step: 0.05 },
-};
-
-async function push(c: Client, mutations: { name: string; args: unknown }[]) {
-  const res = await c.post("/api/sync/push", {
-    clientId: crypto.randomUUID(),
-    mutations: mutations.map((m, i) => ({ id: i + 1, ...m })),
-  });
-  expect(res.json.rejected).toEqual([]);
-}
+const SIX = { name: "Bench six", ...layout([1, 5, 3, 6, 2, 4], 2), ...USUAL_BANDS };
 
 describe("mails name the engine and the check", () => {
   it("a comment and a verdict say which engine and check they are about", async () => {
-    const [owner, mentor, admin] = await Promise.all([
-      makeUser("bm-owner"),
-      makeUser("bm-mentor"),
-      makeUser("bm-admin"),
-    ]);
+    const [owner, mentor, admin] = await makeUsers("bm-owner", "bm-mentor", "bm-admin");
     const a = await signedIn(admin);
     const clubId = (await a.post("/api/clubs", { name: "Bench Club" })).json.club.id as string;
     await addMembership(clubId, owner.id, ["mechanic"]);
@@ -121,11 +99,13 @@ describe("the side nearest the mechanic", () => {
       shimDiameter: null,
       assembledShim: null,
     };
-    await push(c, [{ name: "engine.put/3", args: { ...base, shimPosition: "under", nearSide: "intake" } }]);
+    await pushAccepted(c, [{ name: "engine.put/3", args: { ...base, shimPosition: "under", nearSide: "intake" } }]);
     const side = async () => (await c.get(`/api/engines/${id}`)).json.engine.nearSide;
     expect(await side()).toBe("intake");
-    await push(c, [{ name: "engine.put/2", args: { ...base, name: "Bench six, renamed", shimPosition: "under" } }]);
-    await push(c, [{ name: "engine.put/1", args: { ...base, name: "Bench six, again" } }]);
+    await pushAccepted(c, [
+      { name: "engine.put/2", args: { ...base, name: "Bench six, renamed", shimPosition: "under" } },
+    ]);
+    await pushAccepted(c, [{ name: "engine.put/1", args: { ...base, name: "Bench six, again" } }]);
     expect(await side()).toBe("intake");
     expect((await c.get(`/api/engines/${id}`)).json.engine.name).toBe("Bench six, again");
     const fresh = (await c.post("/api/engines", SIX)).json.engine;

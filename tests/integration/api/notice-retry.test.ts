@@ -1,31 +1,17 @@
 import { describe, expect, it } from "vitest";
-import net from "node:net";
 import { Client } from "../../support/api";
 import { rawConnection } from "../../support/db";
-import { addMembership, ENGINE_FOUR, makeUser } from "../../support/fixtures";
+import { addMembership, ENGINE_FOUR } from "../../support/fixtures";
 import { waitForMail } from "../../support/mail";
-import { startApp } from "../../support/server";
+import { closedPort, startApp } from "../../support/server";
+import { makeUsers } from "../../support/users";
 
 // One app instance at a time on purpose: every instance drains the one notice queue, so a healthy
 // instance running beside the broken one could send the notice before the broken one fails it.
 
-async function closedPort(): Promise<number> {
-  return new Promise((resolve) => {
-    const srv = net.createServer();
-    srv.listen(0, "127.0.0.1", () => {
-      const { port } = srv.address() as net.AddressInfo;
-      srv.close(() => resolve(port));
-    });
-  });
-}
-
 describe("notices when the mail server is down", () => {
   it("a notice that fails to send is kept and sent on a retry, without failing the request", async () => {
-    const [owner, mentor, admin] = await Promise.all([
-      makeUser("nr-owner"),
-      makeUser("nr-mentor"),
-      makeUser("nr-admin"),
-    ]);
+    const [owner, mentor, admin] = await makeUsers("nr-owner", "nr-mentor", "nr-admin");
     const broken = await startApp({ SMTP_URL: `smtp://127.0.0.1:${await closedPort()}`, NOTICE_RETRY_SECONDS: "1" });
     const db = await rawConnection();
     const queued = async () => {

@@ -1,24 +1,19 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import exifr from "exifr";
 import sharp from "sharp";
 import { signedInClient } from "../../support/api";
 import { rawConnection } from "../../support/db";
-import { addMembership, ENGINE_FOUR, makeUser } from "../../support/fixtures";
+import { addMembership, ENGINE_FOUR } from "../../support/fixtures";
 import { cameraJpeg, photoForm, storedKeys } from "../../support/photos";
-import { startApp, type App } from "../../support/server";
+import { appPerFile } from "../../support/per-file";
+import { makeUsers } from "../../support/users";
 
-let app: App;
-beforeAll(async () => {
-  app = await startApp();
-});
-afterAll(() => app?.stop());
+const app = appPerFile();
 
 const signedIn = (u: { email: string; password: string }) => signedInClient(app.url, u);
 
 async function setUp() {
-  const [owner, mentor, stranger, otherMentor] = await Promise.all(
-    ["ph-owner", "ph-mentor", "ph-stranger", "ph-other"].map(makeUser),
-  );
+  const [owner, mentor, stranger, otherMentor] = await makeUsers("ph-owner", "ph-mentor", "ph-stranger", "ph-other");
   const o = await signedIn(owner!);
   const clubId = (await o.post("/api/clubs", { name: "Photo Club" })).json.club.id as string;
   await addMembership(clubId, mentor!.id, ["mentor"]);

@@ -1,20 +1,21 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import { Client, signedInClient } from "../../support/api";
-import { addMembership, makeUser } from "../../support/fixtures";
+import { addMembership } from "../../support/fixtures";
 import { waitForMail } from "../../support/mail";
-import { startApp, type App } from "../../support/server";
+import { appPerFile } from "../../support/per-file";
+import { makeUsers } from "../../support/users";
 
-let app: App;
-beforeAll(async () => {
-  app = await startApp();
-});
-afterAll(() => app?.stop());
+const app = appPerFile();
 
 const signedIn = (u: { email: string; password: string }) => signedInClient(app.url, u);
 
 async function club() {
-  const [lender, borrower, second, stranger, elsewhere] = await Promise.all(
-    ["pl-lender", "pl-borrower", "pl-second", "pl-stranger", "pl-elsewhere"].map(makeUser),
+  const [lender, borrower, second, stranger, elsewhere] = await makeUsers(
+    "pl-lender",
+    "pl-borrower",
+    "pl-second",
+    "pl-stranger",
+    "pl-elsewhere",
   );
   const l = await signedIn(lender!);
   const clubId = (await l.post("/api/clubs", { name: "Pool Club" })).json.club.id as string;

@@ -1,14 +1,11 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import { Client } from "../../support/api";
 import { addMembership, ENGINE_FOUR, makeUser } from "../../support/fixtures";
 import { waitForMail } from "../../support/mail";
-import { startApp, type App } from "../../support/server";
+import { type App } from "../../support/server";
+import { appPerFile } from "../../support/per-file";
 
-let app: App;
-beforeAll(async () => {
-  app = await startApp({ NOTICE_RETRY_SECONDS: "1" });
-});
-afterAll(() => app?.stop());
+const app = appPerFile({ NOTICE_RETRY_SECONDS: "1" });
 
 async function signedIn(a: App, u: { email: string; password: string }) {
   const c = new Client(a.url);

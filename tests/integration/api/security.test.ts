@@ -1,5 +1,5 @@
 import { LABEL_FORBIDDEN } from "@/lib/schemas/label";
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import { readdirSync, statSync } from "node:fs";
 import path from "node:path";
 import { Client } from "../../support/api";
@@ -8,13 +8,11 @@ import { addMembership, ENGINE_FOUR, FIXTURE_PASSWORD, makeUser } from "../../su
 import { linkToken, waitForMail } from "../../support/mail";
 import { routesOnDisk } from "../../support/routes";
 import { startApp, type App } from "../../support/server";
+import { appPerFile } from "../../support/per-file";
+import { makeUsers } from "../../support/users";
 
 /** Headers, cookies, passwords, secrets and hostile text: the security checks that need a server. */
-let app: App;
-beforeAll(async () => {
-  app = await startApp();
-});
-afterAll(() => app?.stop());
+const app = appPerFile();
 
 async function signedIn(a: App, u: { email: string; password: string }) {
   const c = new Client(a.url);
@@ -95,11 +93,7 @@ describe("sessions and passwords", () => {
     const csrf = await c.raw("GET", "/api/auth/csrf");
     for (const sc of csrf.headers.getSetCookie()) expect(sc).toMatch(/HttpOnly/i);
     const token = (JSON.parse(await csrf.text()) as { csrfToken: string }).csrfToken;
-    const form = new URLSearchParams({ email: u.email, password: u.password, csrfToken: token, json: "true" });
-    const res = await c.raw("POST", "/api/auth/callback/password", {
-      body: form.toString(),
-      headers: { "content-type": "application/x-www-form-urlencoded" },
-    });
+    const res = await c.postSignIn("password", { email: u.email, password: u.password }, token);
     const session = res.headers.getSetCookie().find((s) => s.includes("session-token="));
     expect(session).toBeDefined();
     expect(session).toMatch(/HttpOnly/i);
@@ -115,11 +109,7 @@ describe("sessions and passwords", () => {
       const csrf = await c.raw("GET", "/api/auth/csrf");
       for (const sc of csrf.headers.getSetCookie()) expect(sc).toMatch(/; Secure/i);
       const token = (JSON.parse(await csrf.text()) as { csrfToken: string }).csrfToken;
-      const form = new URLSearchParams({ email: u.email, password: u.password, csrfToken: token, json: "true" });
-      const res = await c.raw("POST", "/api/auth/callback/password", {
-        body: form.toString(),
-        headers: { "content-type": "application/x-www-form-urlencoded" },
-      });
+      const res = await c.postSignIn("password", { email: u.email, password: u.password }, token);
       const session = res.headers.getSetCookie().find((s) => s.startsWith("__Secure-next-auth.session-token="));
       expect(session).toMatch(/; Secure/i);
       expect(session).toMatch(/HttpOnly/i);
@@ -188,11 +178,7 @@ describe("sessions and passwords", () => {
 
 describe("access by id through sync", () => {
   it("a stranger naming each of the owner's records in a push changes none of them", async () => {
-    const [owner, mentor, stranger] = await Promise.all([
-      makeUser("id-owner"),
-      makeUser("id-mentor"),
-      makeUser("id-stranger"),
-    ]);
+    const [owner, mentor, stranger] = await makeUsers("id-owner", "id-mentor", "id-stranger");
     const o = await signedIn(app, owner);
     const s = await signedIn(app, stranger);
     const clubId = (await o.post("/api/clubs", { name: "Id Club" })).json.club.id as string;

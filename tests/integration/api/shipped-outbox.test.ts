@@ -1,20 +1,17 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import { signedInClient, type Client } from "../../support/api";
 import { rawConnection } from "../../support/db";
-import { addMembership, makeUser } from "../../support/fixtures";
-import { startApp, type App } from "../../support/server";
+import { addMembership } from "../../support/fixtures";
 import { IDS, SHIPPED } from "../../fixtures/shipped-outbox";
+import { appPerFile } from "../../support/per-file";
+import { makeUsers } from "../../support/users";
 
 /**
  * An outbox as older apps wrote it: every mutation name and shape ever shipped
  * (tests/fixtures/shipped-outbox.ts), pushed by the people who would have queued it, in order.
  * The server must apply every one: none refused, none held back for later.
  */
-let app: App;
-beforeAll(async () => {
-  app = await startApp();
-});
-afterAll(() => app?.stop());
+const app = appPerFile();
 
 async function one<T>(sql: string, args: unknown[]): Promise<T | undefined> {
   const db = await rawConnection();
@@ -25,11 +22,7 @@ async function one<T>(sql: string, args: unknown[]): Promise<T | undefined> {
 
 describe("an outbox written by every shipped app version", () => {
   it("is applied whole: every name and shape ever shipped still goes through", async () => {
-    const [owner, mentor, borrower] = await Promise.all([
-      makeUser("old-owner"),
-      makeUser("old-mentor"),
-      makeUser("old-borrower"),
-    ]);
+    const [owner, mentor, borrower] = await makeUsers("old-owner", "old-mentor", "old-borrower");
     const clients: Record<"owner" | "mentor" | "borrower", Client> = {
       owner: await signedInClient(app.url, owner),
       mentor: await signedInClient(app.url, mentor),

@@ -1,6 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { signedInClient, type Client } from "../../support/api";
-import { rawConnection } from "../../support/db";
+import { countOf } from "../../support/db";
 import { ENGINE_FOUR, makeUser } from "../../support/fixtures";
 import { startApp, type App } from "../../support/server";
 
@@ -17,13 +17,6 @@ beforeAll(async () => {
   mara = await signedInClient(app.url, await makeUser("held"));
 });
 afterAll(() => app?.stop());
-
-async function count(sql: string, args: unknown[]) {
-  const db = await rawConnection();
-  const [rows] = await db.query(sql, args);
-  await db.end();
-  return Number((rows as { n: number }[])[0]!.n);
-}
 
 const reading = (checkId: string, valve: string) => ({
   name: "reading.put/1",
@@ -57,7 +50,7 @@ describe("a change the server does not apply", () => {
     });
     const again = await mara.post("/api/sync/push", push);
     expect(again.json).toEqual(first.json);
-    expect(await count("SELECT COUNT(*) AS n FROM readings WHERE check_id = ?", [checkId])).toBe(1);
+    expect(await countOf("SELECT COUNT(*) AS n FROM readings WHERE check_id = ?", [checkId])).toBe(1);
   });
 
   it("a name this server does not know is held for later: nothing after it applied, the same id taken later", async () => {
@@ -77,12 +70,12 @@ describe("a change the server does not apply", () => {
       rejected: [],
       later: { id: 4, name: "reading.put/9", reason: 'unknown change "reading.put/9"' },
     });
-    expect(await count("SELECT COUNT(*) AS n FROM readings WHERE check_id = ?", [checkId])).toBe(1);
-    expect(await count("SELECT COUNT(*) AS n FROM rejected_mutations WHERE client_id = ?", [clientId])).toBe(0);
+    expect(await countOf("SELECT COUNT(*) AS n FROM readings WHERE check_id = ?", [checkId])).toBe(1);
+    expect(await countOf("SELECT COUNT(*) AS n FROM rejected_mutations WHERE client_id = ?", [clientId])).toBe(0);
     // once the phone drops it by the mechanic's choice (or the server learns the name), the rest goes through
     const next = await mara.post("/api/sync/push", { clientId, mutations: [{ id: 5, ...reading(checkId, "I2.1") }] });
     expect(next.json).toEqual({ lastMutationId: 5, rejected: [] });
-    expect(await count("SELECT COUNT(*) AS n FROM readings WHERE check_id = ?", [checkId])).toBe(2);
+    expect(await countOf("SELECT COUNT(*) AS n FROM readings WHERE check_id = ?", [checkId])).toBe(2);
   });
 
   it("a name held for later at the head of the push changes nothing", async () => {

@@ -1,6 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { Client } from "../../support/api";
-import { rawConnection } from "../../support/db";
+import { countOf, historyRows, rawConnection } from "../../support/db";
 import { ENGINE_FOUR, makeUser } from "../../support/fixtures";
 import { startApp, type App } from "../../support/server";
 
@@ -18,13 +18,6 @@ beforeAll(async () => {
 afterAll(() => app?.stop());
 
 const uuid = () => crypto.randomUUID();
-
-async function count(sql: string, args: unknown[]) {
-  const db = await rawConnection();
-  const [rows] = await db.query(sql, args);
-  await db.end();
-  return Number((rows as { n: number }[])[0]!.n);
-}
 
 function engineAndCheck() {
   const engineId = uuid();
@@ -58,13 +51,8 @@ describe("sync push and pull on MariaDB", () => {
     expect(first.json).toEqual({ lastMutationId: 4, rejected: [] });
     const again = await mara.post("/api/sync/push", { clientId, mutations: batch });
     expect(again.json).toEqual({ lastMutationId: 4, rejected: [] });
-    expect(await count("SELECT COUNT(*) AS n FROM readings WHERE check_id = ?", [checkId])).toBe(2);
-    expect(
-      await count(
-        "SELECT COUNT(*) AS n FROM reading_history r JOIN readings x ON x.id = r.reading_id WHERE x.check_id = ?",
-        [checkId],
-      ),
-    ).toBe(0);
+    expect(await countOf("SELECT COUNT(*) AS n FROM readings WHERE check_id = ?", [checkId])).toBe(2);
+    expect(await historyRows([checkId])).toBe(0);
   });
 
   it("a check recorded after the fact (check.put/2) keeps its own day; a day ahead of now is refused", async () => {
@@ -116,13 +104,8 @@ describe("sync push and pull on MariaDB", () => {
     await mara.post("/api/sync/push", { clientId, mutations: first }); // pretend this answer never arrived
     const retry = await mara.post("/api/sync/push", { clientId, mutations: [...mutations, ...readings16] });
     expect(retry.json.lastMutationId).toBe(18);
-    expect(await count("SELECT COUNT(*) AS n FROM readings WHERE check_id = ?", [checkId])).toBe(16);
-    expect(
-      await count(
-        "SELECT COUNT(*) AS n FROM reading_history h JOIN readings r ON r.id = h.reading_id WHERE r.check_id = ?",
-        [checkId],
-      ),
-    ).toBe(0);
+    expect(await countOf("SELECT COUNT(*) AS n FROM readings WHERE check_id = ?", [checkId])).toBe(16);
+    expect(await historyRows([checkId])).toBe(0);
   });
 
   it("two devices editing the same reading keep the later write; the earlier stays in the history", async () => {
@@ -167,8 +150,8 @@ describe("sync push and pull on MariaDB", () => {
     expect(res.json.lastMutationId).toBe(6);
     expect(res.json.rejected.map((r: { id: number }) => r.id)).toEqual([3, 4]);
     expect(res.json.rejected[0].reason).toMatch(/no valve I9\.1/);
-    expect(await count("SELECT COUNT(*) AS n FROM readings WHERE check_id = ?", [checkId])).toBe(1);
-    expect(await count("SELECT COUNT(*) AS n FROM rejected_mutations WHERE client_id = ?", [clientId])).toBe(2);
+    expect(await countOf("SELECT COUNT(*) AS n FROM readings WHERE check_id = ?", [checkId])).toBe(1);
+    expect(await countOf("SELECT COUNT(*) AS n FROM rejected_mutations WHERE client_id = ?", [clientId])).toBe(2);
   });
 
   it("a mutation for another user's record is refused, and another user's device id is refused", async () => {
@@ -188,7 +171,7 @@ describe("sync push and pull on MariaDB", () => {
     expect((await mara.get(`/api/engines/${engineId}`)).json.engine.name).toBe(ENGINE_FOUR.name);
     // another user's device id, with changes behind it that would apply under his own (a new engine
     // and check of his): refused whole, none written, her device's last id untouched
-    const lastId = () => count("SELECT last_mutation_id AS n FROM sync_clients WHERE id = ?", [clientId]);
+    const lastId = () => countOf("SELECT last_mutation_id AS n FROM sync_clients WHERE id = ?", [clientId]);
     expect(await lastId()).toBe(2);
     const own = engineAndCheck();
     const stolen = await other.post("/api/sync/push", {
@@ -197,8 +180,8 @@ describe("sync push and pull on MariaDB", () => {
     });
     expect(stolen.status).toBe(403);
     expect(await lastId()).toBe(2);
-    expect(await count("SELECT COUNT(*) AS n FROM engines WHERE id = ?", [own.engineId])).toBe(0);
-    expect(await count("SELECT COUNT(*) AS n FROM checks WHERE id = ?", [own.checkId])).toBe(0);
+    expect(await countOf("SELECT COUNT(*) AS n FROM engines WHERE id = ?", [own.engineId])).toBe(0);
+    expect(await countOf("SELECT COUNT(*) AS n FROM checks WHERE id = ?", [own.checkId])).toBe(0);
     // the same changes under his own device id are his to make: they were refused for the id alone
     expect(
       (
@@ -277,9 +260,9 @@ describe("sync push and pull on MariaDB", () => {
       mutations: [...mutations, { id: 3, ...reading(checkId, "I1.1", 0.1, 0.13) }],
     });
     expect(res.status).toBe(401);
-    expect(await count("SELECT COUNT(*) AS n FROM engines WHERE id = ?", [engineId])).toBe(0);
-    expect(await count("SELECT COUNT(*) AS n FROM checks WHERE id = ?", [checkId])).toBe(0);
-    expect(await count("SELECT COUNT(*) AS n FROM readings WHERE check_id = ?", [checkId])).toBe(0);
-    expect(await count("SELECT COUNT(*) AS n FROM sync_clients WHERE id = ?", [clientId])).toBe(0);
+    expect(await countOf("SELECT COUNT(*) AS n FROM engines WHERE id = ?", [engineId])).toBe(0);
+    expect(await countOf("SELECT COUNT(*) AS n FROM checks WHERE id = ?", [checkId])).toBe(0);
+    expect(await countOf("SELECT COUNT(*) AS n FROM readings WHERE check_id = ?", [checkId])).toBe(0);
+    expect(await countOf("SELECT COUNT(*) AS n FROM sync_clients WHERE id = ?", [clientId])).toBe(0);
   });
 });

@@ -1,13 +1,9 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import { Client } from "../../support/api";
 import { makeUser } from "../../support/fixtures";
-import { startApp, type App } from "../../support/server";
+import { appPerFile } from "../../support/per-file";
 
-let app: App;
-beforeAll(async () => {
-  app = await startApp();
-});
-afterAll(() => app?.stop());
+const app = appPerFile();
 
 describe("sign-in throttling", () => {
   it("refuses the 6th attempt within the window, even with the right password, also after a restart", async () => {

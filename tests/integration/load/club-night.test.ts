@@ -5,7 +5,7 @@ import type { RowDataPacket } from "mysql2";
 import { retryDelay } from "@/lib/sync/transport";
 import { hashPassword } from "@/server/password";
 import { Client } from "../../support/api";
-import { rawConnection } from "../../support/db";
+import { historyRows, rawConnection, readingsDiffering } from "../../support/db";
 import { giveUp, Phone, sessionCookie, sleep, Stats, table, type Mutation, RETRIED } from "../../support/load";
 import { startApp, type App } from "../../support/server";
 import { BLADES, CLUB_NIGHT_PASSWORD as PASSWORD, ENGINE_SIX, VALVES } from "../../support/club-night";
@@ -382,21 +382,14 @@ async function compareWithServer(): Promise<string[]> {
   const db = await rawConnection();
   try {
     for (const m of mechanics) {
-      const [rows] = await db.query<RowDataPacket[]>(
-        "SELECT valve, round, feeler_go FROM readings WHERE check_id = ?",
-        [m.checkId],
-      );
-      const server = new Map(rows.map((r) => [`${r.valve}#${r.round}`, Number(r.feeler_go)]));
-      const differ =
-        [...m.written].filter(([k, v]) => server.get(k) !== v).length +
-        [...server.keys()].filter((k) => !m.written.has(k)).length;
+      const differ = await readingsDiffering(db, m.checkId, m.written);
       check(differ === 0, `${m.user.name}: ${differ} readings differ from the phone's`);
     }
-    const [[hist]] = await db.query<RowDataPacket[]>(
-      "SELECT COUNT(*) AS n FROM reading_history h JOIN readings r ON r.id = h.reading_id WHERE r.check_id IN (?)",
-      [mechanics.map((m) => m.checkId)],
+    const twice = await historyRows(
+      mechanics.map((m) => m.checkId),
+      db,
     );
-    check(Number(hist!.n) === 0, `${hist!.n} readings were applied twice (reading_history)`);
+    check(twice === 0, `${twice} readings were applied twice (reading_history)`);
     for (const t of mentors) {
       const [cs] = await db.query<RowDataPacket[]>("SELECT id FROM comments WHERE check_id = ? AND author_id = ?", [
         t.checkId,
