@@ -7,7 +7,7 @@ import { useForm } from "react-hook-form";
 import { forgotForm, resetForm, verifyForm } from "@/lib/schemas/forms";
 import { checkedBy } from "./form-check";
 import { ApiFailure, mutations } from "@/lib/api/client";
-import { authTitleClass, Button, ButtonLink, Field, inputClass, Notice } from "@/components/ui/controls";
+import { authTitleClass, Button, ButtonLink, InputField, Notice } from "@/components/ui/controls";
 
 /** The pages that e-mail links open. Each reads its token from the address on the client. */
 
@@ -79,20 +79,15 @@ export function VerifyEmail() {
     <>
       <h1 className={authTitleClass}>Confirm your address</h1>
       <form onSubmit={onSubmit} noValidate className="flex flex-col gap-4">
-        <Field
+        <InputField
           id="password"
           label="Password"
           error={form.formState.errors.password?.message}
           hint="The password you chose when you created the account."
-        >
-          <input
-            id="password"
-            type="password"
-            autoComplete="current-password"
-            className={inputClass}
-            {...form.register("password")}
-          />
-        </Field>
+          type="password"
+          autoComplete="current-password"
+          {...form.register("password")}
+        />
         {refused && <Notice tone="error">{refused}</Notice>}
         <Button type="submit" disabled={form.formState.isSubmitting}>
           Confirm
@@ -214,9 +209,14 @@ export function ForgotPassword() {
     );
   return (
     <form onSubmit={onSubmit} noValidate className="flex flex-col gap-4">
-      <Field id="email" label="E-mail" error={form.formState.errors.email?.message}>
-        <input id="email" type="email" autoComplete="email" className={inputClass} {...form.register("email")} />
-      </Field>
+      <InputField
+        id="email"
+        label="E-mail"
+        error={form.formState.errors.email?.message}
+        type="email"
+        autoComplete="email"
+        {...form.register("email")}
+      />
       <Button type="submit" disabled={form.formState.isSubmitting}>
         Send the link
       </Button>
@@ -243,15 +243,14 @@ export function ResetPassword() {
     return <Notice tone="error">This link has expired or was already used. Ask for a new one.</Notice>;
   return (
     <form onSubmit={onSubmit} noValidate className="flex flex-col gap-4">
-      <Field id="password" label="New password" error={form.formState.errors.password?.message}>
-        <input
-          id="password"
-          type="password"
-          autoComplete="new-password"
-          className={inputClass}
-          {...form.register("password")}
-        />
-      </Field>
+      <InputField
+        id="password"
+        label="New password"
+        error={form.formState.errors.password?.message}
+        type="password"
+        autoComplete="new-password"
+        {...form.register("password")}
+      />
       <Button type="submit" disabled={form.formState.isSubmitting}>
         Set the new password
       </Button>

@@ -69,6 +69,22 @@ export function Field({
 export const inputClass =
   "min-h-12 rounded-xl border-2 border-field bg-surface px-3 text-lg text-ink placeholder:text-ink-soft/70";
 
+/** A text input in its Field: one id ties the label, the hint and the error to the control. */
+export function InputField({
+  id,
+  label,
+  error,
+  hint,
+  className,
+  ...input
+}: { id: string; label: string; error?: string; hint?: ReactNode } & Omit<ComponentProps<"input">, "id">) {
+  return (
+    <Field id={id} label={label} error={error} hint={hint}>
+      <input id={id} className={className ? `${inputClass} ${className}` : inputClass} {...input} />
+    </Field>
+  );
+}
+
 export const authTitleClass = "text-3xl font-extrabold";
 
 export function Notice({ tone = "info", children }: { tone?: "info" | "ok" | "error"; children: ReactNode }) {
@@ -84,6 +100,38 @@ export function Notice({ tone = "info", children }: { tone?: "info" | "ok" | "er
       </span>
       <div>{children}</div>
     </div>
+  );
+}
+
+/**
+ * A section named by its own heading (aria-labelledby), so a screen reader's list of regions reads
+ * the heading's words.
+ */
+export function TitledSection({
+  titleId,
+  title,
+  level = 2,
+  titleClass,
+  className,
+  testId,
+  children,
+}: {
+  titleId: string;
+  title: ReactNode;
+  level?: 2 | 3;
+  titleClass: string;
+  className: string;
+  testId?: string;
+  children: ReactNode;
+}) {
+  const Heading = level === 2 ? "h2" : "h3";
+  return (
+    <section aria-labelledby={titleId} className={className} data-testid={testId}>
+      <Heading id={titleId} className={titleClass}>
+        {title}
+      </Heading>
+      {children}
+    </section>
   );
 }
 
