@@ -7,10 +7,9 @@ import yazl from "yazl";
 import { tooMany, DomainError } from "@/lib/errors";
 import {
   EXPORT_DATA_ENTRY,
-  EXPORT_FORMAT,
-  EXPORT_SCHEMA_VERSION,
   checkFiles,
   exportFileName,
+  exportHead,
   readingForFile,
   photoEntryName,
   previousOf,
@@ -20,6 +19,8 @@ import {
   type ExportReading,
   type ExportTrayItem,
 } from "@/lib/export/schema";
+import { pick } from "@/lib/pick";
+import { CHECK_PLAIN_FIELDS } from "@/lib/schemas/records";
 import { engineToApi } from "@/db/queries/garage";
 import { getPublicUser } from "@/db/queries/users";
 import * as q from "@/db/queries/account-export";
@@ -141,12 +142,7 @@ export function engineOut(e: EngineRow): ExportEngine {
 }
 
 const checkOut = (c: CheckRow): ExportCheck => ({
-  id: c.id,
-  engineId: c.engineId,
-  odometer: c.odometer,
-  measuredHot: c.measuredHot,
-  status: c.status,
-  notes: c.notes,
+  ...pick(c, CHECK_PLAIN_FIELDS),
   startedAt: c.startedAt.toISOString(),
   closedAt: isoOf(c.closedAt),
 });
@@ -255,13 +251,7 @@ async function writeZip(zip: yazl.ZipFile, user: SessionUser, at: Date, signal: 
   }
 
   await entry(zip, EXPORT_DATA_ENTRY, opts, signal, async (write) => {
-    const head = {
-      format: EXPORT_FORMAT,
-      schemaVersion: EXPORT_SCHEMA_VERSION,
-      exportedAt: at.toISOString(),
-      source: "server",
-      account: account ? { name: account.name, email: account.email, displayUnit: account.displayUnit } : null,
-    };
+    const head = exportHead(at, "server", account ?? null);
     await write(JSON.stringify(head).slice(0, -1));
     await array(write, "engines", engineList);
     await array(

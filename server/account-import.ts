@@ -17,6 +17,8 @@ import {
   parseExport,
   type ExportDocument,
 } from "@/lib/export/schema";
+import { pick } from "@/lib/pick";
+import { CHECK_PLAIN_FIELDS, readingValues } from "@/lib/schemas/records";
 import { putEngine } from "@/db/queries/garage";
 import * as q from "@/db/queries/account-import";
 import { bytesStored } from "@/db/queries/photos";
@@ -309,13 +311,11 @@ export async function applyImport(w: WriteCtx, p: Prepared): Promise<ImportResul
   await q.insertChecks(
     w.tx,
     doc.checks.map((c) => ({
+      // the file's ids are replaced by new ones (ids)
+      ...pick(c, CHECK_PLAIN_FIELDS),
       id: id(c.id),
       engineId: id(c.engineId),
       ownerId: owner,
-      odometer: c.odometer,
-      measuredHot: c.measuredHot,
-      status: c.status,
-      notes: c.notes,
       startedAt: new Date(c.startedAt),
       closedAt: c.closedAt ? new Date(c.closedAt) : null,
       version,
@@ -329,13 +329,7 @@ export async function applyImport(w: WriteCtx, p: Prepared): Promise<ImportResul
       ownerId: owner,
       valve: r.valve,
       round: r.round,
-      installedStamp: r.installedStamp ?? null,
-      installedMicrometer: r.installedMicrometer ?? null,
-      feelerGo: r.feelerGo ?? null,
-      feelerNoGo: r.feelerNoGo ?? null,
-      measured: r.measured ?? null,
-      method: r.method,
-      fittedShim: r.fittedShim ?? null,
+      ...readingValues(r),
       fittedAt: r.fittedAt ? new Date(r.fittedAt) : null,
       version,
     })),

@@ -128,6 +128,19 @@ const FORMULA_START = /^[=+\-@\t\r]/;
  * missed "=HYPERLINK(...)" followed by a line break. Numbers are written by us and never guarded (a
  * negative one stays a number). The import (csv-import.ts) takes the apostrophe off again.
  */
+/** A check's CSV and its file's name: what "Download CSV" saves and the export file carries. */
+export function checkCsvFile(
+  engine: { name: string; odometerUnit: string; shimPosition?: ShimPosition | null },
+  odometer: number,
+  date: string,
+  views: ValveView[],
+  plan: ShimPlan | null,
+): { name: string; text: string } {
+  const { name, odometerUnit } = engine;
+  const meta = { engine: name, odometer, odometerUnit, date, shimPosition: engine.shimPosition ?? null };
+  return { name: csvFileName(name, date, odometer, odometerUnit), text: checkCsv(meta, views, plan) };
+}
+
 export function defuseFormula(text: string): string {
   return FORMULA_START.test(text) ? `'${text}` : text;
 }
