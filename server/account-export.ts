@@ -4,7 +4,7 @@ import { once } from "node:events";
 import { PassThrough, Readable } from "node:stream";
 import { finished, pipeline } from "node:stream/promises";
 import yazl from "yazl";
-import { tooMany, DomainError } from "@/lib/errors";
+import { DomainError } from "@/lib/errors";
 import {
   EXPORT_DATA_ENTRY,
   checkFiles,
@@ -26,6 +26,7 @@ import { getPublicUser } from "@/db/queries/users";
 import * as q from "@/db/queries/account-export";
 import type { BorrowRequestRow, CheckRow, CommentRow, EngineRow, ReadingRow, UploadRow } from "@/db/schema";
 import { budget } from "./budgets";
+import { spendHourly } from "./spend-hourly";
 import { getObjectStream } from "./storage";
 import type { SessionUser } from "./auth";
 
@@ -63,14 +64,11 @@ const mac = (key: Buffer, body: string) => createHmac("sha256", key).update(body
  * the page's memory), and the ticket is what lets a refusal be said on the page first.
  */
 export async function startExport(user: SessionUser): Promise<{ href: string; fileName: string }> {
-  const spent = await exportBudget().take(user.id);
-  if (!spent.ok) {
-    const minutes = Math.ceil(spent.retryAfterSeconds / 60);
-    throw tooMany(
-      `You have made ${exportBudget().spec.points} exports in the last hour, the most an hour allows: try again in ${minutes} minute${minutes === 1 ? "" : "s"}.`,
-      spent.retryAfterSeconds,
-    );
-  }
+  await spendHourly(
+    exportBudget(),
+    user.id,
+    (n, wait) => `You have made ${n} exports in the last hour, the most an hour allows: try again in ${wait}.`,
+  );
   const until = Math.floor(Date.now() / 1000) + TICKET_SECONDS;
   const body = `${user.id}.${until.toString(36)}`;
   const ticket = `${until.toString(36)}.${mac(await ticketKey(), body)}`;

@@ -6,7 +6,7 @@ import { join } from "node:path";
 import { Readable, Transform } from "node:stream";
 import { pipeline } from "node:stream/promises";
 import yauzl from "yauzl";
-import { DomainError, tooMany } from "@/lib/errors";
+import { DomainError } from "@/lib/errors";
 import { env } from "@/lib/env";
 import { formatBytes } from "@/lib/photos/rules";
 import {
@@ -24,6 +24,7 @@ import * as q from "@/db/queries/account-import";
 import { bytesStored } from "@/db/queries/photos";
 import { db } from "@/db/connection";
 import { budget } from "./budgets";
+import { spendHourly } from "./spend-hourly";
 import { preparePhoto } from "./photo-decode";
 import { deleteObject, putObject } from "./storage";
 import { write, type WriteCtx } from "./write";
@@ -75,14 +76,11 @@ export async function importAccount(
   if (counts.engines || counts.tray) throw notEmpty(counts);
   const limit = importMaxBytes();
   if (body.bytes > limit) throw tooBig(`The file is over ${formatBytes(limit)}, the most an import takes`);
-  const spent = await importBudget().take(user.id);
-  if (!spent.ok) {
-    const minutes = Math.ceil(spent.retryAfterSeconds / 60);
-    throw tooMany(
-      `You have tried ${importBudget().spec.points} imports in the last hour, the most an hour allows: try again in ${minutes} minute${minutes === 1 ? "" : "s"}.`,
-      spent.retryAfterSeconds,
-    );
-  }
+  await spendHourly(
+    importBudget(),
+    user.id,
+    (n, wait) => `You have tried ${n} imports in the last hour, the most an hour allows: try again in ${wait}.`,
+  );
   const dir = await mkdtemp(join(tmpdir(), "lashwright-import-"));
   try {
     const file = join(dir, "import.zip");
