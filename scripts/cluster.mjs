@@ -4,19 +4,9 @@
 // move to another node when its own leaves the cluster), the mail catcher and the photo store; prints
 // the addresses; Ctrl-C stops all of it. An instance that ends on its own is started again. Data is
 // kept between runs like `npm start` (the last node to stop starts the cluster again).
-import { mkdirSync } from "node:fs";
 import path from "node:path";
-import {
-  cleanupOnExit,
-  ensureDebianPackages,
-  ensureNodeModules,
-  log,
-  MARIADB,
-  portFree,
-  root,
-  SetupError,
-} from "./lib/setup.mjs";
-import { exitOnSetupError, logDemoSignIns, migrateSeedBuild, startSideServices } from "./lib/local-run.mjs";
+import { cleanupOnExit, log, MARIADB, portFree, root, SetupError } from "./lib/setup.mjs";
+import * as localRun from "./lib/local-run.mjs";
 import { clusterSpec, freePorts, GALERA, RSYNC, startCluster, stopCluster } from "./lib/galera.mjs";
 import { HAPROXY, HEALTH_PATH, startHaproxy } from "./lib/haproxy.mjs";
 import { startNext } from "./lib/next-server.mjs";
@@ -73,9 +63,7 @@ async function main() {
     for (const p of [PORT, ...appPorts, statsPort, ...dbPorts])
       if (!Number.isInteger(p) || p < 1 || p > 65535 || !(await portFree(p)))
         throw new SetupError(`port ${p} is not free: choose others with PORT=4000 DB_PORT=4326 npm run cluster`);
-    ensureDebianPackages([MARIADB, GALERA, RSYNC, HAPROXY]);
-    ensureNodeModules();
-    mkdirSync(DATA_DIR, { recursive: true });
+    localRun.prepareMachine([MARIADB, GALERA, RSYNC, HAPROXY], DATA_DIR);
     const p = await freePorts(11);
     const spec = clusterSpec({
       dir: DATA_DIR,
@@ -90,10 +78,10 @@ async function main() {
     await startCluster(spec);
     cleanup.add(() => stopCluster(spec));
     log(`database nodes on 127.0.0.1:${dbPorts.join(", ")} (data in ${path.relative(root, DATA_DIR)})`);
-    const { mail, store, secret } = await startSideServices(DATA_DIR, cleanup);
+    const { mail, store, secret } = await localRun.startSideServices(DATA_DIR, cleanup);
     // one signing key for both instances: a session made on one is good on the other
     const shared = { NEXTAUTH_SECRET: secret, SMTP_URL: mail.smtpUrl, ...store.env };
-    await migrateSeedBuild({ ...shared, DATABASE_URL: spec.urls[0] });
+    await localRun.migrateSeedBuild({ ...shared, DATABASE_URL: spec.urls[0] });
     // each instance's own database address: HAProxy's TCP listener that prefers node i
     const proxy = await startHaproxy({
       dir: path.join(DATA_DIR, "haproxy"),
@@ -133,14 +121,14 @@ async function main() {
     log(`HAProxy's page (which instance and node is up): ${proxy.statsUrl}`);
     log(`database nodes: 127.0.0.1:${dbPorts.join(", ")} (data in ${path.relative(root, DATA_DIR)})`);
     log(`mail catcher: ${mail.apiUrl}; photo store: ${store.env.S3_ENDPOINT}`);
-    await logDemoSignIns();
+    await localRun.logDemoSignIns();
     log(
       "an instance that ends is started again; Ctrl-C stops HAProxy, both instances, the three nodes, the mail catcher and the photo store",
     );
     await new Promise(() => {});
   } catch (e) {
     await cleanup.runAll();
-    exitOnSetupError(e, " the cluster");
+    localRun.exitOnSetupError(e, " the cluster");
   }
 }
 

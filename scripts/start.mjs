@@ -1,12 +1,9 @@
 // `npm start`: everything from a fresh machine to the app with demo data on http://127.0.0.1:3000.
-import { mkdirSync } from "node:fs";
 import path from "node:path";
 import {
   CHROMIUM,
   cleanupOnExit,
   ended,
-  ensureDebianPackages,
-  ensureNodeModules,
   log,
   MARIADB,
   portFree,
@@ -16,7 +13,7 @@ import {
   startMariadb,
   stopChild,
 } from "./lib/setup.mjs";
-import { exitOnSetupError, logDemoSignIns, migrateSeedBuild, startSideServices } from "./lib/local-run.mjs";
+import * as localRun from "./lib/local-run.mjs";
 
 const PORT = Number(process.env.PORT ?? 3000);
 const DB_PORT = Number(process.env.DB_PORT ?? 3316);
@@ -32,13 +29,11 @@ async function main() {
         `port ${PORT} is in use: stop what holds it, or start on another port with PORT=3001 npm start`,
       );
     void CHROMIUM; // browsers are only needed by npm test
-    ensureDebianPackages([MARIADB]);
-    ensureNodeModules();
-    mkdirSync(DATA_DIR, { recursive: true });
+    localRun.prepareMachine([MARIADB], DATA_DIR);
     const database = await startMariadb({ dir: DATA_DIR, port: DB_PORT });
     cleanup.add(() => database.stop());
     log(`database on 127.0.0.1:${DB_PORT} (data in ${path.relative(root, DATA_DIR)})`);
-    const { mail, store, secret } = await startSideServices(DATA_DIR, cleanup);
+    const { mail, store, secret } = await localRun.startSideServices(DATA_DIR, cleanup);
     log(`mail catcher: every e-mail the app sends is at ${mail.apiUrl}`);
     const env = {
       DATABASE_URL: database.url,
@@ -47,7 +42,7 @@ async function main() {
       SMTP_URL: mail.smtpUrl,
       ...store.env,
     };
-    await migrateSeedBuild(env);
+    await localRun.migrateSeedBuild(env);
     const server = spawnChild(
       process.execPath,
       ["node_modules/next/dist/bin/next", "start", "-H", "127.0.0.1", "-p", String(PORT)],
@@ -68,7 +63,7 @@ async function main() {
     );
     cleanup.add(() => stopChild(server, { graceMs: 4000 }));
     log(`Lashwright is on http://127.0.0.1:${PORT}  (Ctrl-C stops the app and its database)`);
-    await logDemoSignIns();
+    await localRun.logDemoSignIns();
     // The app ending on its own (a crash, or killed) takes the rest down with it.
     server.on("exit", async (code, signal) => {
       if (signal || code) log(`the app stopped (${signal ?? `exit ${code}`}); stopping the rest...`);
@@ -78,7 +73,7 @@ async function main() {
     if (ended(server)) throw new SetupError("the app exited at start");
   } catch (e) {
     await cleanup.runAll();
-    exitOnSetupError(e, "");
+    localRun.exitOnSetupError(e, "");
   }
 }
 

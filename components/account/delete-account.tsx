@@ -4,7 +4,7 @@ import { useCallback, useEffect, useState } from "react";
 import { apiFetch, ApiFailure } from "@/lib/api/client";
 import { blockerText, FORMER_MEMBER, type DeletionPreview } from "@/lib/account/deletion";
 import { useLocalCore } from "@/components/sync/local-provider";
-import { Button, InputField, Notice } from "@/components/ui/controls";
+import { boundTo, Button, InputField, Notice } from "@/components/ui/controls";
 import { useIsClient } from "@/components/ui/use-stored";
 import { useFocusOnShow } from "@/components/ui/focus";
 
@@ -168,8 +168,7 @@ export function DeleteAccount() {
                 error={fieldError}
                 type="password"
                 autoComplete="current-password"
-                value={password}
-                onChange={(e) => setPassword(e.target.value)}
+                {...boundTo(password, setPassword)}
               />
               <Button type="submit" disabled={busy || password.length === 0}>
                 {busy ? "Deleting…" : "Delete the account for good"}

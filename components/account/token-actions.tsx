@@ -2,7 +2,7 @@
 
 import Link from "next/link";
 import { useRouter, useSearchParams } from "next/navigation";
-import { useEffect, useRef, useState } from "react";
+import { useEffect, useRef, useState, type FormEventHandler, type ReactNode } from "react";
 import { useForm } from "react-hook-form";
 import { forgotForm, resetForm, verifyForm } from "@/lib/schemas/forms";
 import { checkedBy } from "./form-check";
@@ -25,6 +25,28 @@ const signInLink = (
     sign in
   </Link>
 );
+
+/** A link's form: one field (and what was refused), then its button. */
+function OneFieldForm({
+  onSubmit,
+  busy,
+  submit,
+  children,
+}: {
+  onSubmit: FormEventHandler<HTMLFormElement>;
+  busy: boolean;
+  submit: string;
+  children: ReactNode;
+}) {
+  return (
+    <form onSubmit={onSubmit} noValidate className="flex flex-col gap-4">
+      {children}
+      <Button type="submit" disabled={busy}>
+        {submit}
+      </Button>
+    </form>
+  );
+}
 
 /**
  * Confirming an address asks for the password chosen at sign-up. The link proves the mailbox, the
@@ -78,7 +100,7 @@ export function VerifyEmail() {
   return (
     <>
       <h1 className={authTitleClass}>Confirm your address</h1>
-      <form onSubmit={onSubmit} noValidate className="flex flex-col gap-4">
+      <OneFieldForm onSubmit={onSubmit} busy={form.formState.isSubmitting} submit="Confirm">
         <InputField
           id="password"
           label="Password"
@@ -89,10 +111,7 @@ export function VerifyEmail() {
           {...form.register("password")}
         />
         {refused && <Notice tone="error">{refused}</Notice>}
-        <Button type="submit" disabled={form.formState.isSubmitting}>
-          Confirm
-        </Button>
-      </form>
+      </OneFieldForm>
       <Notice>
         Did not create this account, or forgot the password? Someone may have signed up with your address.{" "}
         <Link href="/forgot-password" className="font-bold underline">
@@ -208,7 +227,7 @@ export function ForgotPassword() {
       </Notice>
     );
   return (
-    <form onSubmit={onSubmit} noValidate className="flex flex-col gap-4">
+    <OneFieldForm onSubmit={onSubmit} busy={form.formState.isSubmitting} submit="Send the link">
       <InputField
         id="email"
         label="E-mail"
@@ -217,10 +236,7 @@ export function ForgotPassword() {
         autoComplete="email"
         {...form.register("email")}
       />
-      <Button type="submit" disabled={form.formState.isSubmitting}>
-        Send the link
-      </Button>
-    </form>
+    </OneFieldForm>
   );
 }
 
@@ -242,7 +258,7 @@ export function ResetPassword() {
   if (state === "bad")
     return <Notice tone="error">This link has expired or was already used. Ask for a new one.</Notice>;
   return (
-    <form onSubmit={onSubmit} noValidate className="flex flex-col gap-4">
+    <OneFieldForm onSubmit={onSubmit} busy={form.formState.isSubmitting} submit="Set the new password">
       <InputField
         id="password"
         label="New password"
@@ -251,10 +267,7 @@ export function ResetPassword() {
         autoComplete="new-password"
         {...form.register("password")}
       />
-      <Button type="submit" disabled={form.formState.isSubmitting}>
-        Set the new password
-      </Button>
-    </form>
+    </OneFieldForm>
   );
 }
 

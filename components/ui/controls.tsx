@@ -1,5 +1,5 @@
 import Link from "next/link";
-import { cloneElement, type ComponentProps, type ReactElement, type ReactNode } from "react";
+import { cloneElement, type ChangeEvent, type ComponentProps, type ReactElement, type ReactNode } from "react";
 
 /** Shared primitives: every target at least 48 px, labels always visible, errors in words. */
 const base =
@@ -68,6 +68,12 @@ export function Field({
 
 export const inputClass =
   "min-h-12 rounded-xl border-2 border-field bg-surface px-3 text-lg text-ink placeholder:text-ink-soft/70";
+
+/** A controlled text input's value and its change handler. */
+export const boundTo = (value: string, set: (v: string) => void) => ({
+  value,
+  onChange: (e: ChangeEvent<HTMLInputElement>) => set(e.target.value),
+});
 
 /** A text input in its Field: one id ties the label, the hint and the error to the control. */
 export function InputField({

@@ -2,9 +2,25 @@
 // store and the session key beside the data, migrations, the demo data and the build, the demo
 // sign-ins printed, and a set-up problem said in one line.
 import { randomBytes } from "node:crypto";
-import { existsSync, readFileSync, writeFileSync } from "node:fs";
+import { existsSync, mkdirSync, readFileSync, writeFileSync } from "node:fs";
 import path from "node:path";
-import { log, runAsync, runTs, SetupError, startMailCatcher, startObjectStore } from "./setup.mjs";
+import {
+  ensureDebianPackages,
+  ensureNodeModules,
+  log,
+  runAsync,
+  runTs,
+  SetupError,
+  startMailCatcher,
+  startObjectStore,
+} from "./setup.mjs";
+
+/** The machine's packages and node_modules, and the data folder (made when missing). */
+export function prepareMachine(packages, dataDir) {
+  ensureDebianPackages(packages);
+  ensureNodeModules();
+  mkdirSync(dataDir, { recursive: true });
+}
 
 /**
  * The mail catcher and the photo store, with their data in `dataDir`, stopped by `cleanup`; and the
