@@ -213,6 +213,14 @@ export function EmailLinkSignIn() {
   );
 }
 
+const EMAIL_FIELD = { id: "email", label: "E-mail", type: "email", autoComplete: "email" } as const;
+const NEW_PASSWORD_FIELD = {
+  id: "password",
+  label: "New password",
+  type: "password",
+  autoComplete: "new-password",
+} as const;
+
 export function ForgotPassword() {
   const [sent, setSent] = useState(false);
   const form = useForm<{ email: string }>({ resolver: checkedBy(forgotForm), defaultValues: { email: "" } });
@@ -228,14 +236,7 @@ export function ForgotPassword() {
     );
   return (
     <OneFieldForm onSubmit={onSubmit} busy={form.formState.isSubmitting} submit="Send the link">
-      <InputField
-        id="email"
-        label="E-mail"
-        error={form.formState.errors.email?.message}
-        type="email"
-        autoComplete="email"
-        {...form.register("email")}
-      />
+      <InputField {...EMAIL_FIELD} error={form.formState.errors.email?.message} {...form.register("email")} />
     </OneFieldForm>
   );
 }
@@ -260,11 +261,8 @@ export function ResetPassword() {
   return (
     <OneFieldForm onSubmit={onSubmit} busy={form.formState.isSubmitting} submit="Set the new password">
       <InputField
-        id="password"
-        label="New password"
+        {...NEW_PASSWORD_FIELD}
         error={form.formState.errors.password?.message}
-        type="password"
-        autoComplete="new-password"
         {...form.register("password")}
       />
     </OneFieldForm>

@@ -121,10 +121,21 @@ export async function checkTitleRow(ex: Executor, checkId: string) {
   return r;
 }
 
-export async function getEngineRow(ex: Executor, engineId: string) {
-  const [e] = await ex.select().from(engines).where(eq(engines.id, engineId)).limit(1);
-  return e;
+/** One of the garage's rows by its id (the caller decides what its owner may see). */
+async function rowById<T extends typeof engines | typeof checks | typeof trayItems>(
+  ex: Executor,
+  table: T,
+  id: string,
+): Promise<InferSelectModel<T> | undefined> {
+  const [row] = await ex
+    .select()
+    .from(table as MySqlTable)
+    .where(eq(table.id, id))
+    .limit(1);
+  return row as InferSelectModel<T> | undefined;
 }
+
+export const getEngineRow = (ex: Executor, engineId: string) => rowById(ex, engines, engineId);
 
 /** Create or replace an engine; the caller has checked the id is the owner's or new. */
 export async function putEngine(tx: Tx, ownerId: string, version: number, id: string, input: EngineInput) {
@@ -154,10 +165,7 @@ export async function listChecks(engineId: string, limit: number, offset: number
   return (await listPage(checks, where, [desc(checks.startedAt), desc(checks.id)], limit, offset)).map(checkToApi);
 }
 
-export async function getCheckRow(ex: Executor, checkId: string) {
-  const [c] = await ex.select().from(checks).where(eq(checks.id, checkId)).limit(1);
-  return c;
-}
+export const getCheckRow = (ex: Executor, checkId: string) => rowById(ex, checks, checkId);
 
 type CheckFields = {
   odometer: number;
@@ -292,10 +300,7 @@ export async function listTray(ownerId: string, limit: number, offset: number) {
   return (await listPage(trayItems, where, [asc(trayItems.size), asc(trayItems.id)], limit, offset)).map(trayToApi);
 }
 
-export async function getTrayRow(ex: Executor, id: string) {
-  const [t] = await ex.select().from(trayItems).where(eq(trayItems.id, id)).limit(1);
-  return t;
-}
+export const getTrayRow = (ex: Executor, id: string) => rowById(ex, trayItems, id);
 
 type TrayFields = { size: number; measuredSize: boolean; count: number; shimDiameter?: number | null };
 

@@ -70,13 +70,8 @@ export function checkCsv(
     return v;
   };
   // where the shims sit ("over" or "under" the bucket; empty: not said), beside the odometer's unit
-  const base = {
-    engine: meta.engine,
-    date: meta.date,
-    odometer: meta.odometer,
-    odometer_unit: meta.odometerUnit,
-    shim_position: meta.shimPosition ?? null,
-  };
+  const { engine, date, odometer, odometerUnit, shimPosition } = meta;
+  const base = { engine, date, odometer, odometer_unit: odometerUnit, shim_position: shimPosition ?? null };
   for (const v of views) {
     const a = byValve.get(v.valve.id);
     const r = v.latest;
