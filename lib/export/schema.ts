@@ -96,17 +96,6 @@ export const exportPlan = z.object({
   toTray: z.array(sizeCount),
 });
 
-export const exportComment = z.object({
-  id: idSchema,
-  checkId: idSchema,
-  valve: z.string().max(16).nullable(),
-  body: z.string().min(1).max(4000),
-  createdAt: iso,
-  /** written by the account's holder; a comment by someone else on their check is kept as a record, not restored */
-  byMe: z.boolean(),
-  authorName: z.string().max(120),
-});
-
 /** A comment the holder wrote on someone else's check (a mentor's advice): a record, not restored. */
 export const exportCommentElsewhere = z.object({
   id: idSchema,
@@ -114,6 +103,12 @@ export const exportCommentElsewhere = z.object({
   valve: z.string().max(16).nullable(),
   body: z.string().min(1).max(4000),
   createdAt: iso,
+});
+
+export const exportComment = exportCommentElsewhere.extend({
+  /** written by the account's holder; a comment by someone else on their check is kept as a record, not restored */
+  byMe: z.boolean(),
+  authorName: z.string().max(120),
 });
 
 export const exportPhoto = z.object({
