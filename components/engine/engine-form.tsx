@@ -19,7 +19,7 @@ import { engineInput } from "@/lib/schemas/records";
 import { saveEngine } from "@/lib/sync/later";
 import type { LocalEngine } from "@/lib/sync/local-db";
 import { useLocalCore } from "@/components/sync/local-provider";
-import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
+import { Button, Field, inputClass, Notice, SelectField } from "@/components/ui/controls";
 import { parseDecimal } from "@/lib/parse-decimal";
 
 /** Form values are what the fields hold (text); the shared engine schema decides what is valid. */
@@ -399,24 +399,20 @@ export function EngineForm() {
         </div>
       </details>
       <div className="grid grid-cols-2 gap-3">
-        <Field id="displayUnit" label="Show lengths in">
-          <select id="displayUnit" className={inputClass} {...form.register("displayUnit")}>
-            {LENGTH_UNITS.map((u) => (
-              <option key={u} value={u}>
-                {LENGTH_UNIT_WORDS[u]}
-              </option>
-            ))}
-          </select>
-        </Field>
-        <Field id="odometerUnit" label="Odometer in">
-          <select id="odometerUnit" className={inputClass} {...form.register("odometerUnit")}>
-            {ODOMETER_UNITS.map((u) => (
-              <option key={u} value={u}>
-                {ODOMETER_UNIT_WORDS[u]}
-              </option>
-            ))}
-          </select>
-        </Field>
+        <SelectField
+          id="displayUnit"
+          label="Show lengths in"
+          options={LENGTH_UNITS}
+          words={LENGTH_UNIT_WORDS}
+          {...form.register("displayUnit")}
+        />
+        <SelectField
+          id="odometerUnit"
+          label="Odometer in"
+          options={ODOMETER_UNITS}
+          words={ODOMETER_UNIT_WORDS}
+          {...form.register("odometerUnit")}
+        />
       </div>
       <Button type="submit" disabled={isSubmitting || !db}>
         Save engine

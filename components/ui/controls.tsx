@@ -109,6 +109,30 @@ export function Notice({ tone = "info", children }: { tone?: "info" | "ok" | "er
   );
 }
 
+/** A select in its Field: one option a value, each shown in its words. */
+export function SelectField<V extends string>({
+  id,
+  label,
+  options,
+  words,
+  ...select
+}: { id: string; label: string; options: readonly V[]; words: Record<V, string> } & Omit<
+  ComponentProps<"select">,
+  "id" | "children" | "className"
+>) {
+  return (
+    <Field id={id} label={label}>
+      <select id={id} className={inputClass} {...select}>
+        {options.map((o) => (
+          <option key={o} value={o}>
+            {words[o]}
+          </option>
+        ))}
+      </select>
+    </Field>
+  );
+}
+
 /**
  * A section named by its own heading (aria-labelledby), so a screen reader's list of regions reads
  * the heading's words.
