@@ -4,3 +4,8 @@ export function pick<T extends object, K extends keyof T>(o: T, keys: readonly K
   for (const k of keys) out[k] = o[k];
   return out;
 }
+
+/** The fields given: a partial change's undefined ones left out, so they keep the stored values. */
+export function definedOnly<T extends object>(o: T): Partial<T> {
+  return Object.fromEntries(Object.entries(o).filter(([, v]) => v !== undefined)) as Partial<T>;
+}
