@@ -40,21 +40,19 @@ function rng(seed: number) {
 interface EngineSeed {
   name: string;
   owner: number;
-  cylinders: number;
-  intakePer: number;
-  exhaustPer: number;
-  firingOrder: number[];
-  firingAngles: number[] | null;
-  intake: [number, number];
-  exhaust: [number, number];
-  series: [number, number, number];
-  startShim: number;
-  checks: { odometer: number; date: string }[];
+  /** cylinders, valves per cylinder on each side (intake and exhaust), firing order and angles */
+  layout: { cylinders: number; valvesPer: number; firingOrder: number[]; firingAngles: number[] | null };
+  /** the clearance bands (mm), intake and exhaust */
+  bands: { intake: [number, number]; exhaust: [number, number] };
+  /**
+   * the series (min, max, step), the shim fitted at assembly, and where the shims sit: one engine of
+   * each kind, so both ways of fitting can be tried
+   */
+  shims: { series: [number, number, number]; start: number; position: "over" | "under" };
+  /** the checks made, as [odometer, day] */
+  checks: [number, string][];
   /** wear per 1,000 km of the gap (mm), intake and exhaust; one valve wears faster */
-  wear: [number, number];
-  fastValve?: string;
-  /** where the shims sit: one engine of each kind, so both ways of fitting can be tried */
-  shimPosition: "over" | "under";
+  wear: { rates: [number, number]; fastValve?: string };
 }
 
 /** the bucket shims of the demo engines (invented for the demo) */
@@ -64,63 +62,41 @@ const ENGINES: EngineSeed[] = [
   {
     name: "Blue four (inline four, 16 valves)",
     owner: 0,
-    cylinders: 4,
-    intakePer: 2,
-    exhaustPer: 2,
-    firingOrder: [1, 3, 4, 2],
-    firingAngles: null,
-    intake: [0.1, 0.2],
-    exhaust: [0.2, 0.3],
-    series: [2.5, 3.3, 0.05],
-    startShim: 2.6,
+    layout: { cylinders: 4, valvesPer: 2, firingOrder: [1, 3, 4, 2], firingAngles: null },
+    bands: { intake: [0.1, 0.2], exhaust: [0.2, 0.3] },
+    shims: { series: [2.5, 3.3, 0.05], start: 2.6, position: "under" },
     checks: [
-      { odometer: 6_000, date: "2023-04-15" },
-      { odometer: 18_500, date: "2024-05-04" },
-      { odometer: 31_200, date: "2025-06-21" },
-      { odometer: 43_800, date: "2026-10-10" },
+      [6_000, "2023-04-15"],
+      [18_500, "2024-05-04"],
+      [31_200, "2025-06-21"],
+      [43_800, "2026-10-10"],
     ],
-    wear: [0.0012, 0.0022],
-    fastValve: "E3.1",
-    shimPosition: "under",
+    wear: { rates: [0.0012, 0.0022], fastValve: "E3.1" },
   },
   {
     name: "Green single (two valves)",
     owner: 0,
-    cylinders: 1,
-    intakePer: 1,
-    exhaustPer: 1,
-    firingOrder: [1],
-    firingAngles: null,
-    intake: [0.08, 0.13],
-    exhaust: [0.16, 0.21],
-    series: [1.2, 3.0, 0.025],
-    startShim: 2.2,
+    layout: { cylinders: 1, valvesPer: 1, firingOrder: [1], firingAngles: null },
+    bands: { intake: [0.08, 0.13], exhaust: [0.16, 0.21] },
+    shims: { series: [1.2, 3.0, 0.025], start: 2.2, position: "over" },
     checks: [
-      { odometer: 3_200, date: "2024-03-02" },
-      { odometer: 11_900, date: "2025-04-12" },
-      { odometer: 19_400, date: "2026-05-30" },
+      [3_200, "2024-03-02"],
+      [11_900, "2025-04-12"],
+      [19_400, "2026-05-30"],
     ],
-    wear: [0.001, 0.002],
-    shimPosition: "over",
+    wear: { rates: [0.001, 0.002] },
   },
   {
     name: "Red twin (90 degree V-twin, 8 valves)",
     owner: 1,
-    cylinders: 2,
-    intakePer: 2,
-    exhaustPer: 2,
-    firingOrder: [1, 2],
-    firingAngles: [0, 270],
-    intake: [0.1, 0.15],
-    exhaust: [0.15, 0.2],
-    series: [2.5, 3.3, 0.05],
-    startShim: 2.7,
+    layout: { cylinders: 2, valvesPer: 2, firingOrder: [1, 2], firingAngles: [0, 270] },
+    bands: { intake: [0.1, 0.15], exhaust: [0.15, 0.2] },
+    shims: { series: [2.5, 3.3, 0.05], start: 2.7, position: "under" },
     checks: [
-      { odometer: 9_000, date: "2024-08-17" },
-      { odometer: 24_000, date: "2026-07-05" },
+      [9_000, "2024-08-17"],
+      [24_000, "2026-07-05"],
     ],
-    wear: [0.0008, 0.0015],
-    shimPosition: "under",
+    wear: { rates: [0.0008, 0.0015] },
   },
 ];
 
@@ -160,68 +136,66 @@ export async function seedDemo(): Promise<{ seeded: boolean }> {
     let latestBlueCheck = "";
     let latestBluePlan: Parameters<typeof planShims>[0] | null = null;
     for (const e of ENGINES) {
+      const { cylinders, valvesPer, firingOrder, firingAngles } = e.layout;
+      const { intake, exhaust } = e.bands;
+      const { series, start: startShim } = e.shims;
+      const layout = { cylinders, intakePerCylinder: valvesPer, exhaustPerCylinder: valvesPer };
       const engineId = crypto.randomUUID();
       const ownerId = userIds[e.owner]!;
       await tx.insert(engines).values({
         id: engineId,
         ownerId,
         name: e.name,
-        cylinders: e.cylinders,
-        intakePerCylinder: e.intakePer,
-        exhaustPerCylinder: e.exhaustPer,
-        firingOrder: e.firingOrder,
-        firingAngles: e.firingAngles,
-        intakeMin: e.intake[0],
-        intakeMax: e.intake[1],
-        exhaustMin: e.exhaust[0],
-        exhaustMax: e.exhaust[1],
-        shimMin: e.series[0],
-        shimMax: e.series[1],
-        shimStep: e.series[2],
-        assembledShim: e.startShim,
-        shimDiameter: e.series[0] === 2.5 ? DEMO_SHIM_DIAMETER : null,
-        shimPosition: e.shimPosition,
+        ...layout,
+        firingOrder,
+        firingAngles,
+        intakeMin: intake[0],
+        intakeMax: intake[1],
+        exhaustMin: exhaust[0],
+        exhaustMax: exhaust[1],
+        shimMin: series[0],
+        shimMax: series[1],
+        shimStep: series[2],
+        assembledShim: startShim,
+        shimDiameter: series[0] === 2.5 ? DEMO_SHIM_DIAMETER : null,
+        shimPosition: e.shims.position,
         version,
       });
-      const sizes = shimSeries(...e.series);
-      const valves = valveNames({
-        cylinders: e.cylinders,
-        intakePerCylinder: e.intakePer,
-        exhaustPerCylinder: e.exhaustPer,
-      });
+      const sizes = shimSeries(...series);
+      const valves = valveNames(layout);
       // Each valve's gap (shim + clearance) at assembly, a little above the middle of its band.
       const state = new Map(
         valves.map((v) => {
-          const [lo, hi] = v.kind === "intake" ? e.intake : e.exhaust;
+          const [lo, hi] = v.kind === "intake" ? intake : exhaust;
           const clearance = Math.round((hi - (hi - lo) * (0.15 + random() * 0.3)) * 100) / 100;
-          return [v.id, { shim: e.startShim, gapAt0: e.startShim + clearance }];
+          return [v.id, { shim: startShim, gapAt0: startShim + clearance }];
         }),
       );
-      for (const [ci, c] of e.checks.entries()) {
+      for (const [ci, [odometer, day]] of e.checks.entries()) {
         const checkId = crypto.randomUUID();
         const last = ci === e.checks.length - 1;
         await tx.insert(checks).values({
           id: checkId,
           engineId,
           ownerId,
-          odometer: c.odometer,
-          status: last && e.owner === 0 && e.cylinders === 4 ? "planned" : "closed",
-          startedAt: new Date(`${c.date}T09:30:00Z`),
-          closedAt: last && e.cylinders === 4 ? null : new Date(`${c.date}T16:00:00Z`),
+          odometer,
+          status: last && e.owner === 0 && cylinders === 4 ? "planned" : "closed",
+          startedAt: new Date(`${day}T09:30:00Z`),
+          closedAt: last && cylinders === 4 ? null : new Date(`${day}T16:00:00Z`),
           version,
         });
-        if (e.cylinders === 4 && e.owner === 0) latestBlueCheck = checkId;
+        if (cylinders === 4 && e.owner === 0) latestBlueCheck = checkId;
         const planValves = valves.map((v) => {
           const s = state.get(v.id)!;
-          const rate = v.id === e.fastValve ? 0.006 : v.kind === "intake" ? e.wear[0] : e.wear[1];
-          const gap = s.gapAt0 - (rate * c.odometer) / 1000 + (random() - 0.5) * 0.01;
+          const rate = v.id === e.wear.fastValve ? 0.006 : v.kind === "intake" ? e.wear.rates[0] : e.wear.rates[1];
+          const gap = s.gapAt0 - (rate * odometer) / 1000 + (random() - 0.5) * 0.01;
           const blades = bladesFor(gap - s.shim, METRIC_BLADES_MM) ?? { go: 0.02, noGo: 0.03 };
           const clearance = clearanceFromFeelers(blades);
-          const spec =
-            v.kind === "intake" ? { min: e.intake[0], max: e.intake[1] } : { min: e.exhaust[0], max: e.exhaust[1] };
+          const [min, max] = v.kind === "intake" ? intake : exhaust;
+          const spec = { min, max };
           return { v, s, blades, clearance, spec };
         });
-        const plan = planShims({
+        const planInput = {
           valves: planValves.map((p) => ({
             id: p.v.id,
             installed: p.s.shim,
@@ -229,17 +203,9 @@ export async function seedDemo(): Promise<{ seeded: boolean }> {
             spec: p.spec,
           })),
           sizes,
-        });
-        if (last && e.cylinders === 4 && e.owner === 0)
-          latestBluePlan = {
-            valves: planValves.map((p) => ({
-              id: p.v.id,
-              installed: p.s.shim,
-              measured: p.clearance.value,
-              spec: p.spec,
-            })),
-            sizes,
-          };
+        };
+        const plan = planShims(planInput);
+        if (last && cylinders === 4 && e.owner === 0) latestBluePlan = planInput;
         await tx.insert(readings).values(
           planValves.map((p, i) => {
             const a = plan.assignments[i]!;
@@ -253,7 +219,7 @@ export async function seedDemo(): Promise<{ seeded: boolean }> {
               feelerNoGo: p.blades.noGo ?? null,
               measured: p.clearance.value,
               fittedShim: fitted ? a.size : null,
-              fittedAt: fitted ? new Date(`${c.date}T14:00:00Z`) : null,
+              fittedAt: fitted ? new Date(`${day}T14:00:00Z`) : null,
               version,
             };
           }),

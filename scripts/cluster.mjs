@@ -4,23 +4,9 @@
 // move to another node when its own leaves the cluster), the mail catcher and the photo store; prints
 // the addresses; Ctrl-C stops all of it. An instance that ends on its own is started again. Data is
 // kept between runs like `npm start` (the last node to stop starts the cluster again).
-import { randomBytes } from "node:crypto";
-import { existsSync, mkdirSync, readFileSync, writeFileSync } from "node:fs";
 import path from "node:path";
-import {
-  cleanupOnExit,
-  ensureDebianPackages,
-  ensureNodeModules,
-  log,
-  MARIADB,
-  portFree,
-  root,
-  runAsync,
-  runTs,
-  SetupError,
-  startMailCatcher,
-  startObjectStore,
-} from "./lib/setup.mjs";
+import { cleanupOnExit, log, MARIADB, portFree, root, SetupError } from "./lib/setup.mjs";
+import * as localRun from "./lib/local-run.mjs";
 import { clusterSpec, freePorts, GALERA, RSYNC, startCluster, stopCluster } from "./lib/galera.mjs";
 import { HAPROXY, HEALTH_PATH, startHaproxy } from "./lib/haproxy.mjs";
 import { startNext } from "./lib/next-server.mjs";
@@ -77,9 +63,7 @@ async function main() {
     for (const p of [PORT, ...appPorts, statsPort, ...dbPorts])
       if (!Number.isInteger(p) || p < 1 || p > 65535 || !(await portFree(p)))
         throw new SetupError(`port ${p} is not free: choose others with PORT=4000 DB_PORT=4326 npm run cluster`);
-    ensureDebianPackages([MARIADB, GALERA, RSYNC, HAPROXY]);
-    ensureNodeModules();
-    mkdirSync(DATA_DIR, { recursive: true });
+    localRun.prepareMachine([MARIADB, GALERA, RSYNC, HAPROXY], DATA_DIR);
     const p = await freePorts(11);
     const spec = clusterSpec({
       dir: DATA_DIR,
@@ -94,31 +78,10 @@ async function main() {
     await startCluster(spec);
     cleanup.add(() => stopCluster(spec));
     log(`database nodes on 127.0.0.1:${dbPorts.join(", ")} (data in ${path.relative(root, DATA_DIR)})`);
-    const mail = await startMailCatcher({
-      smtpPort: Number(process.env.SMTP_PORT ?? 1025),
-      webPort: Number(process.env.MAIL_WEB_PORT ?? 1080),
-      dir: path.join(DATA_DIR, "mail"),
-    });
-    cleanup.add(mail.stop);
-    const store = await startObjectStore({
-      port: Number(process.env.S3_PORT ?? 4569),
-      dir: path.join(DATA_DIR, "photos"),
-    });
-    cleanup.add(store.stop);
+    const { mail, store, secret } = await localRun.startSideServices(DATA_DIR, cleanup);
     // one signing key for both instances: a session made on one is good on the other
-    const secretFile = path.join(DATA_DIR, "auth-secret");
-    if (!existsSync(secretFile)) writeFileSync(secretFile, randomBytes(32).toString("base64url"), { mode: 0o600 });
-    const shared = { NEXTAUTH_SECRET: readFileSync(secretFile, "utf8").trim(), SMTP_URL: mail.smtpUrl, ...store.env };
-    const first = { ...shared, DATABASE_URL: spec.urls[0] };
-    await runTs("db/migrate.ts", first);
-    await runTs("db/seed.ts", first);
-    if (process.env.LASHWRIGHT_SKIP_BUILD !== "1") {
-      log("building the app (next build)...");
-      await runAsync(process.execPath, ["node_modules/next/dist/bin/next", "build"], {
-        env: { ...first, NEXT_TELEMETRY_DISABLED: "1" },
-        what: "next build",
-      });
-    }
+    const shared = { NEXTAUTH_SECRET: secret, SMTP_URL: mail.smtpUrl, ...store.env };
+    await localRun.migrateSeedBuild({ ...shared, DATABASE_URL: spec.urls[0] });
     // each instance's own database address: HAProxy's TCP listener that prefers node i
     const proxy = await startHaproxy({
       dir: path.join(DATA_DIR, "haproxy"),
@@ -148,7 +111,6 @@ async function main() {
     for (const a of apps) cleanup.add(a.stop);
     await Promise.all(apps.map((a) => a.ready()));
     await proxy.waitUp(["app/app1", "app/app2"]);
-    const { DEMO_USERS, DEMO_PASSWORD } = await import("./lib/demo-users.mjs");
     log(
       `the app, for phones and browsers: ${proxy.url}  (HAProxy; checks ${HEALTH_PATH} on each instance every second)`,
     );
@@ -159,19 +121,14 @@ async function main() {
     log(`HAProxy's page (which instance and node is up): ${proxy.statsUrl}`);
     log(`database nodes: 127.0.0.1:${dbPorts.join(", ")} (data in ${path.relative(root, DATA_DIR)})`);
     log(`mail catcher: ${mail.apiUrl}; photo store: ${store.env.S3_ENDPOINT}`);
-    log(`demo sign-ins, password "${DEMO_PASSWORD}":`);
-    for (const u of DEMO_USERS) log(`  ${u.email.padEnd(32)} ${u.says}`);
+    await localRun.logDemoSignIns();
     log(
       "an instance that ends is started again; Ctrl-C stops HAProxy, both instances, the three nodes, the mail catcher and the photo store",
     );
     await new Promise(() => {});
   } catch (e) {
     await cleanup.runAll();
-    if (e instanceof SetupError) {
-      console.error(`[lashwright] cannot start the cluster: ${e.message}`);
-      process.exit(1);
-    }
-    throw e;
+    localRun.exitOnSetupError(e, " the cluster");
   }
 }
 

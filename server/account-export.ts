@@ -4,27 +4,17 @@ import { once } from "node:events";
 import { PassThrough, Readable } from "node:stream";
 import { finished, pipeline } from "node:stream/promises";
 import yazl from "yazl";
-import { tooMany, DomainError } from "@/lib/errors";
-import {
-  EXPORT_DATA_ENTRY,
-  EXPORT_FORMAT,
-  EXPORT_SCHEMA_VERSION,
-  checkFiles,
-  exportFileName,
-  readingForFile,
-  photoEntryName,
-  previousOf,
-  type ExportCheck,
-  type ExportDocument,
-  type ExportEngine,
-  type ExportReading,
-  type ExportTrayItem,
-} from "@/lib/export/schema";
+import { DomainError } from "@/lib/errors";
+import * as exportFile from "@/lib/export/schema";
+import type { ExportCheck, ExportDocument, ExportEngine, ExportReading, ExportTrayItem } from "@/lib/export/schema";
+import { pick } from "@/lib/pick";
+import { CHECK_PLAIN_FIELDS } from "@/lib/schemas/records";
 import { engineToApi } from "@/db/queries/garage";
 import { getPublicUser } from "@/db/queries/users";
 import * as q from "@/db/queries/account-export";
 import type { BorrowRequestRow, CheckRow, CommentRow, EngineRow, ReadingRow, UploadRow } from "@/db/schema";
 import { budget } from "./budgets";
+import { spendHourly } from "./spend-hourly";
 import { getObjectStream } from "./storage";
 import type { SessionUser } from "./auth";
 
@@ -62,18 +52,15 @@ const mac = (key: Buffer, body: string) => createHmac("sha256", key).update(body
  * the page's memory), and the ticket is what lets a refusal be said on the page first.
  */
 export async function startExport(user: SessionUser): Promise<{ href: string; fileName: string }> {
-  const spent = await exportBudget().take(user.id);
-  if (!spent.ok) {
-    const minutes = Math.ceil(spent.retryAfterSeconds / 60);
-    throw tooMany(
-      `You have made ${exportBudget().spec.points} exports in the last hour, the most an hour allows: try again in ${minutes} minute${minutes === 1 ? "" : "s"}.`,
-      spent.retryAfterSeconds,
-    );
-  }
+  await spendHourly(
+    exportBudget(),
+    user.id,
+    (n, wait) => `You have made ${n} exports in the last hour, the most an hour allows: try again in ${wait}.`,
+  );
   const until = Math.floor(Date.now() / 1000) + TICKET_SECONDS;
   const body = `${user.id}.${until.toString(36)}`;
   const ticket = `${until.toString(36)}.${mac(await ticketKey(), body)}`;
-  return { href: `/api/account/export?ticket=${ticket}`, fileName: exportFileName(new Date(), "server") };
+  return { href: `/api/account/export?ticket=${ticket}`, fileName: exportFile.exportFileName(new Date(), "server") };
 }
 
 /** A ticket is good for its signer's session only, and for two minutes (a link that leaks is soon worthless). */
@@ -102,7 +89,7 @@ export async function openExport(user: SessionUser, ticket: string): Promise<Res
     // a cut-off zip has no central directory: it is refused as damaged, never read as complete
     out.destroy(e instanceof Error ? e : new Error(String(e)));
   });
-  const fileName = exportFileName(at, "server");
+  const fileName = exportFile.exportFileName(at, "server");
   return new Response(Readable.toWeb(out) as ReadableStream, {
     headers: {
       "Content-Type": "application/zip",
@@ -141,17 +128,12 @@ export function engineOut(e: EngineRow): ExportEngine {
 }
 
 const checkOut = (c: CheckRow): ExportCheck => ({
-  id: c.id,
-  engineId: c.engineId,
-  odometer: c.odometer,
-  measuredHot: c.measuredHot,
-  status: c.status,
-  notes: c.notes,
+  ...pick(c, CHECK_PLAIN_FIELDS),
   startedAt: c.startedAt.toISOString(),
   closedAt: isoOf(c.closedAt),
 });
 
-const readingOut = (r: ReadingRow): ExportReading => readingForFile(r, isoOf(r.fittedAt));
+const readingOut = (r: ReadingRow): ExportReading => exportFile.readingForFile(r, isoOf(r.fittedAt));
 
 const commentOut = (c: CommentRow) => ({
   id: c.id,
@@ -172,7 +154,7 @@ const photoOut = (p: UploadRow, userId: string) => ({
   height: p.height,
   createdAt: p.createdAt.toISOString(),
   byMe: p.ownerId === userId,
-  file: photoEntryName(p.id),
+  file: exportFile.photoEntryName(p.id),
 });
 
 const loanOut = (l: BorrowRequestRow, userId: string) => ({
@@ -235,7 +217,7 @@ async function writeZip(zip: yazl.ZipFile, user: SessionUser, at: Date, signal: 
       const readingsOf = new Map<string, ExportReading[]>();
       for (const c of list) {
         const rs = (await q.readingsOfCheck(user.id, c.id)).map(readingOut);
-        const prev = previousOf(c, list);
+        const prev = exportFile.previousOf(c, list);
         yield {
           engine: e,
           check: c,
@@ -254,14 +236,8 @@ async function writeZip(zip: yazl.ZipFile, user: SessionUser, at: Date, signal: 
     }
   }
 
-  await entry(zip, EXPORT_DATA_ENTRY, opts, signal, async (write) => {
-    const head = {
-      format: EXPORT_FORMAT,
-      schemaVersion: EXPORT_SCHEMA_VERSION,
-      exportedAt: at.toISOString(),
-      source: "server",
-      account: account ? { name: account.name, email: account.email, displayUnit: account.displayUnit } : null,
-    };
+  await entry(zip, exportFile.EXPORT_DATA_ENTRY, opts, signal, async (write) => {
+    const head = exportFile.exportHead(at, "server", account ?? null);
     await write(JSON.stringify(head).slice(0, -1));
     await array(write, "engines", engineList);
     await array(
@@ -281,7 +257,7 @@ async function writeZip(zip: yazl.ZipFile, user: SessionUser, at: Date, signal: 
       "plans",
       (async function* () {
         for await (const c of eachCheck()) {
-          const { plan } = checkFiles(c.engine, c.check, c.readings, tray, c.previous);
+          const { plan } = exportFile.checkFiles(c.engine, c.check, c.readings, tray, c.previous);
           if (plan) yield plan;
         }
       })(),
@@ -336,7 +312,7 @@ async function writeZip(zip: yazl.ZipFile, user: SessionUser, at: Date, signal: 
   });
 
   for await (const c of eachCheck()) {
-    const { csvName, csv } = checkFiles(c.engine, c.check, c.readings, tray, c.previous);
+    const { csvName, csv } = exportFile.checkFiles(c.engine, c.check, c.readings, tray, c.previous);
     await entry(zip, csvName, opts, signal, (write) => write(csv));
   }
 
@@ -346,10 +322,16 @@ async function writeZip(zip: yazl.ZipFile, user: SessionUser, at: Date, signal: 
   )) {
     if (!checkIds.has(r.p.checkId)) continue;
     // JPEG is compressed already: stored as it is, piped from the store as the download takes it
-    await entry(zip, photoEntryName(r.p.id), { mtime: at, compress: false }, signal, async (_write, sink) => {
-      const body = await getObjectStream(r.p.objectKey, signal);
-      await pipeline(body, sink, { signal });
-    });
+    await entry(
+      zip,
+      exportFile.photoEntryName(r.p.id),
+      { mtime: at, compress: false },
+      signal,
+      async (_write, sink) => {
+        const body = await getObjectStream(r.p.objectKey, signal);
+        await pipeline(body, sink, { signal });
+      },
+    );
   }
   zip.end();
 }

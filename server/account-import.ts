@@ -6,7 +6,7 @@ import { join } from "node:path";
 import { Readable, Transform } from "node:stream";
 import { pipeline } from "node:stream/promises";
 import yauzl from "yauzl";
-import { DomainError, tooMany } from "@/lib/errors";
+import { DomainError } from "@/lib/errors";
 import { env } from "@/lib/env";
 import { formatBytes } from "@/lib/photos/rules";
 import {
@@ -17,11 +17,14 @@ import {
   parseExport,
   type ExportDocument,
 } from "@/lib/export/schema";
+import { pick } from "@/lib/pick";
+import { CHECK_PLAIN_FIELDS, readingValues } from "@/lib/schemas/records";
 import { putEngine } from "@/db/queries/garage";
 import * as q from "@/db/queries/account-import";
 import { bytesStored } from "@/db/queries/photos";
 import { db } from "@/db/connection";
 import { budget } from "./budgets";
+import { spendHourly } from "./spend-hourly";
 import { preparePhoto } from "./photo-decode";
 import { deleteObject, putObject } from "./storage";
 import { write, type WriteCtx } from "./write";
@@ -73,14 +76,11 @@ export async function importAccount(
   if (counts.engines || counts.tray) throw notEmpty(counts);
   const limit = importMaxBytes();
   if (body.bytes > limit) throw tooBig(`The file is over ${formatBytes(limit)}, the most an import takes`);
-  const spent = await importBudget().take(user.id);
-  if (!spent.ok) {
-    const minutes = Math.ceil(spent.retryAfterSeconds / 60);
-    throw tooMany(
-      `You have tried ${importBudget().spec.points} imports in the last hour, the most an hour allows: try again in ${minutes} minute${minutes === 1 ? "" : "s"}.`,
-      spent.retryAfterSeconds,
-    );
-  }
+  await spendHourly(
+    importBudget(),
+    user.id,
+    (n, wait) => `You have tried ${n} imports in the last hour, the most an hour allows: try again in ${wait}.`,
+  );
   const dir = await mkdtemp(join(tmpdir(), "lashwright-import-"));
   try {
     const file = join(dir, "import.zip");
@@ -309,13 +309,11 @@ export async function applyImport(w: WriteCtx, p: Prepared): Promise<ImportResul
   await q.insertChecks(
     w.tx,
     doc.checks.map((c) => ({
+      // the file's ids are replaced by new ones (ids)
+      ...pick(c, CHECK_PLAIN_FIELDS),
       id: id(c.id),
       engineId: id(c.engineId),
       ownerId: owner,
-      odometer: c.odometer,
-      measuredHot: c.measuredHot,
-      status: c.status,
-      notes: c.notes,
       startedAt: new Date(c.startedAt),
       closedAt: c.closedAt ? new Date(c.closedAt) : null,
       version,
@@ -329,13 +327,7 @@ export async function applyImport(w: WriteCtx, p: Prepared): Promise<ImportResul
       ownerId: owner,
       valve: r.valve,
       round: r.round,
-      installedStamp: r.installedStamp ?? null,
-      installedMicrometer: r.installedMicrometer ?? null,
-      feelerGo: r.feelerGo ?? null,
-      feelerNoGo: r.feelerNoGo ?? null,
-      measured: r.measured ?? null,
-      method: r.method,
-      fittedShim: r.fittedShim ?? null,
+      ...readingValues(r),
       fittedAt: r.fittedAt ? new Date(r.fittedAt) : null,
       version,
     })),

@@ -10,12 +10,13 @@ import {
   type PhotoUsage,
 } from "@/lib/photos/rules";
 import * as q from "@/db/queries/photos";
-import { conflict, DomainError, forbidden, invalid, notFound, overloaded, tooMany } from "@/lib/errors";
+import { conflict, DomainError, forbidden, invalid, notFound, overloaded } from "@/lib/errors";
 import { env } from "@/lib/env";
 import { db, type Executor } from "@/db/connection";
 import { mysqlErrorCode } from "@/db/errors";
 import { readableCheck } from "./access";
 import { budget } from "./budgets";
+import { spendHourly } from "./spend-hourly";
 import { BodyTooLarge } from "./request-guard";
 import { preparePhoto, tooLarge } from "./photo-decode";
 import { deleteObject, getObject, listObjects, putObject } from "./storage";
@@ -169,14 +170,12 @@ export async function uploadPhoto(
     if (usage.usedBytes >= usage.quotaBytes) throw quotaFull(usage);
   }
 
-  const spent = await uploadBudget().take(user.id);
-  if (!spent.ok) {
-    const minutes = Math.ceil(spent.retryAfterSeconds / 60);
-    throw tooMany(
-      `You have sent ${uploadBudget().spec.points} photos in the last hour, the most an hour allows: the rest wait on your phone and are sent in ${minutes} minute${minutes === 1 ? "" : "s"}.`,
-      spent.retryAfterSeconds,
-    );
-  }
+  await spendHourly(
+    uploadBudget(),
+    user.id,
+    (n, wait) =>
+      `You have sent ${n} photos in the last hour, the most an hour allows: the rest wait on your phone and are sent in ${wait}.`,
+  );
   const giveBack = () =>
     uploadBudget()
       .refund(user.id)

@@ -4,12 +4,14 @@ import { useCallback, useEffect, useState } from "react";
 import { apiFetch, ApiFailure } from "@/lib/api/client";
 import { blockerText, FORMER_MEMBER, type DeletionPreview } from "@/lib/account/deletion";
 import { useLocalCore } from "@/components/sync/local-provider";
-import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
+import { boundTo, Button, InputField, Notice } from "@/components/ui/controls";
 import { useIsClient } from "@/components/ui/use-stored";
 import { useFocusOnShow } from "@/components/ui/focus";
 
 const plural = (n: number, one: string, many = `${one}s`) => `${n} ${n === 1 ? one : many}`;
 const names = (xs: { name: string }[]) => xs.map((x) => x.name).join(", ");
+/** The server's own words when it answered; without an answer, what no connection means here. */
+const failure = (e: unknown, offline: string) => (e instanceof ApiFailure && e.status !== 0 ? e.message : offline);
 
 /**
  * Deleting the account, from the account page: first what it will remove, end and keep (counted by
@@ -36,11 +38,7 @@ export function DeleteAccount() {
       apiFetch<{ preview: DeletionPreview }>("/api/account/deletion").then(
         (r) => setPreview(r.preview),
         (e: unknown) =>
-          setError(
-            e instanceof ApiFailure && e.status !== 0
-              ? e.message
-              : "Could not read what the account holds: check the connection and try again.",
-          ),
+          setError(failure(e, "Could not read what the account holds: check the connection and try again.")),
       ),
     [],
   );
@@ -64,11 +62,7 @@ export function DeleteAccount() {
       await apiFetch("/api/account/deletion/link", { method: "POST" });
       setSent(true);
     } catch (e) {
-      setError(
-        e instanceof ApiFailure && e.status !== 0
-          ? e.message
-          : "Could not send the link: check the connection and try again.",
-      );
+      setError(failure(e, "Could not send the link: check the connection and try again."));
     } finally {
       setBusy(false);
     }
@@ -87,11 +81,7 @@ export function DeleteAccount() {
       window.location.href = "/account-deleted";
     } catch (e) {
       if (e instanceof ApiFailure && e.fields.password) setFieldError(e.fields.password);
-      setError(
-        e instanceof ApiFailure && e.status !== 0
-          ? e.message
-          : "No connection: nothing was deleted. Try again when online.",
-      );
+      setError(failure(e, "No connection: nothing was deleted. Try again when online."));
     } finally {
       setBusy(false);
     }
@@ -172,16 +162,14 @@ export function DeleteAccount() {
                 void confirm();
               }}
             >
-              <Field id="delete-password" label="Your password, to confirm" error={fieldError}>
-                <input
-                  id="delete-password"
-                  type="password"
-                  autoComplete="current-password"
-                  className={inputClass}
-                  value={password}
-                  onChange={(e) => setPassword(e.target.value)}
-                />
-              </Field>
+              <InputField
+                id="delete-password"
+                label="Your password, to confirm"
+                error={fieldError}
+                type="password"
+                autoComplete="current-password"
+                {...boundTo(password, setPassword)}
+              />
               <Button type="submit" disabled={busy || password.length === 0}>
                 {busy ? "Deleting…" : "Delete the account for good"}
               </Button>

@@ -1,13 +1,13 @@
 "use client";
 
-import Link from "next/link";
 import { useRouter } from "next/navigation";
 import { useState } from "react";
 import { useForm } from "react-hook-form";
 import { signInForm } from "@/lib/schemas/forms";
 import { checkedBy } from "./form-check";
 import { mutations } from "@/lib/api/client";
-import { Button, ButtonLink, Field, inputClass, Notice } from "@/components/ui/controls";
+import { Button, ButtonLink, InputField, Notice } from "@/components/ui/controls";
+import { EmailField, SwitchLink } from "./auth-fields";
 import { ResendLink } from "./resend-link";
 import { safeNext } from "@/lib/auth/safe-next";
 import { useIsClient } from "@/components/ui/use-stored";
@@ -72,39 +72,22 @@ export function SignInForm({ query }: { query: { error?: string; email?: string;
       {error && <Notice tone="error">{error}</Notice>}
       {unconfirmed && <ResendLink email={unconfirmed} unsure />}
       {sent && <Notice tone="ok">{sent}</Notice>}
-      <Field id="email" label="E-mail" error={errors.email?.message}>
-        <input
-          id="email"
-          type="email"
-          autoComplete="email"
-          inputMode="email"
-          defaultValue={query.email}
-          className={inputClass}
-          {...form.register("email")}
-        />
-      </Field>
-      <Field id="password" label="Password" error={errors.password?.message}>
-        <input
-          id="password"
-          type="password"
-          autoComplete="current-password"
-          className={inputClass}
-          {...form.register("password")}
-        />
-      </Field>
+      <EmailField error={errors.email?.message} defaultValue={query.email} {...form.register("email")} />
+      <InputField
+        id="password"
+        label="Password"
+        error={errors.password?.message}
+        type="password"
+        autoComplete="current-password"
+        {...form.register("password")}
+      />
       <Button type="submit" disabled={!hydrated || isSubmitting}>
         {isSubmitting ? "Signing in…" : "Sign in"}
       </Button>
       <Button type="button" look="plain" onClick={sendLink}>
         E-mail me a sign-in link instead
       </Button>
-      <Link
-        href="/forgot-password"
-        prefetch={false}
-        className="inline-flex min-h-12 items-center font-bold underline underline-offset-4"
-      >
-        Forgot your password?
-      </Link>
+      <SwitchLink href="/forgot-password">Forgot your password?</SwitchLink>
       <div className="flex flex-col gap-2 border-t border-line pt-4">
         <p className="font-bold">New to Lashwright?</p>
         <ButtonLink href="/sign-up" look="plain" prefetch={false}>

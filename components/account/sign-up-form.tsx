@@ -7,7 +7,8 @@ import { signUpForm } from "@/lib/schemas/forms";
 import { checkedBy } from "./form-check";
 import { PASSWORD_MIN } from "@/lib/auth/password-list";
 import { ApiFailure, mutations } from "@/lib/api/client";
-import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
+import { Button, InputField, Notice } from "@/components/ui/controls";
+import { EmailField, SwitchLink } from "./auth-fields";
 import { ResendLink } from "./resend-link";
 
 export function SignUpForm() {
@@ -51,43 +52,27 @@ export function SignUpForm() {
   return (
     <form onSubmit={onSubmit} noValidate className="flex flex-col gap-4">
       {error && <Notice tone="error">{error}</Notice>}
-      <Field id="name" label="Your name" error={errors.name?.message}>
-        <input id="name" autoComplete="name" className={inputClass} {...form.register("name")} />
-      </Field>
-      <Field id="email" label="E-mail" error={errors.email?.message}>
-        <input
-          id="email"
-          type="email"
-          autoComplete="email"
-          inputMode="email"
-          className={inputClass}
-          {...form.register("email")}
-        />
-      </Field>
-      <Field
+      <InputField
+        id="name"
+        label="Your name"
+        error={errors.name?.message}
+        autoComplete="name"
+        {...form.register("name")}
+      />
+      <EmailField error={errors.email?.message} {...form.register("email")} />
+      <InputField
         id="password"
         label="Password"
         error={errors.password?.message}
         hint={`At least ${PASSWORD_MIN} characters. A few words you will remember work well.`}
-      >
-        <input
-          id="password"
-          type="password"
-          autoComplete="new-password"
-          className={inputClass}
-          {...form.register("password")}
-        />
-      </Field>
+        type="password"
+        autoComplete="new-password"
+        {...form.register("password")}
+      />
       <Button type="submit" disabled={isSubmitting}>
         {isSubmitting ? "Creating…" : "Create account"}
       </Button>
-      <Link
-        href="/sign-in"
-        prefetch={false}
-        className="inline-flex min-h-12 items-center font-bold underline underline-offset-4"
-      >
-        I have an account: sign in
-      </Link>
+      <SwitchLink href="/sign-in">I have an account: sign in</SwitchLink>
     </form>
   );
 }

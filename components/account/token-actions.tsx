@@ -2,12 +2,12 @@
 
 import Link from "next/link";
 import { useRouter, useSearchParams } from "next/navigation";
-import { useEffect, useRef, useState } from "react";
+import { useEffect, useRef, useState, type FormEventHandler, type ReactNode } from "react";
 import { useForm } from "react-hook-form";
 import { forgotForm, resetForm, verifyForm } from "@/lib/schemas/forms";
 import { checkedBy } from "./form-check";
 import { ApiFailure, mutations } from "@/lib/api/client";
-import { authTitleClass, Button, ButtonLink, Field, inputClass, Notice } from "@/components/ui/controls";
+import { authTitleClass, Button, ButtonLink, InputField, Notice } from "@/components/ui/controls";
 
 /** The pages that e-mail links open. Each reads its token from the address on the client. */
 
@@ -25,6 +25,28 @@ const signInLink = (
     sign in
   </Link>
 );
+
+/** A link's form: one field (and what was refused), then its button. */
+function OneFieldForm({
+  onSubmit,
+  busy,
+  submit,
+  children,
+}: {
+  onSubmit: FormEventHandler<HTMLFormElement>;
+  busy: boolean;
+  submit: string;
+  children: ReactNode;
+}) {
+  return (
+    <form onSubmit={onSubmit} noValidate className="flex flex-col gap-4">
+      {children}
+      <Button type="submit" disabled={busy}>
+        {submit}
+      </Button>
+    </form>
+  );
+}
 
 /**
  * Confirming an address asks for the password chosen at sign-up. The link proves the mailbox, the
@@ -78,26 +100,18 @@ export function VerifyEmail() {
   return (
     <>
       <h1 className={authTitleClass}>Confirm your address</h1>
-      <form onSubmit={onSubmit} noValidate className="flex flex-col gap-4">
-        <Field
+      <OneFieldForm onSubmit={onSubmit} busy={form.formState.isSubmitting} submit="Confirm">
+        <InputField
           id="password"
           label="Password"
           error={form.formState.errors.password?.message}
           hint="The password you chose when you created the account."
-        >
-          <input
-            id="password"
-            type="password"
-            autoComplete="current-password"
-            className={inputClass}
-            {...form.register("password")}
-          />
-        </Field>
+          type="password"
+          autoComplete="current-password"
+          {...form.register("password")}
+        />
         {refused && <Notice tone="error">{refused}</Notice>}
-        <Button type="submit" disabled={form.formState.isSubmitting}>
-          Confirm
-        </Button>
-      </form>
+      </OneFieldForm>
       <Notice>
         Did not create this account, or forgot the password? Someone may have signed up with your address.{" "}
         <Link href="/forgot-password" className="font-bold underline">
@@ -199,6 +213,14 @@ export function EmailLinkSignIn() {
   );
 }
 
+const EMAIL_FIELD = { id: "email", label: "E-mail", type: "email", autoComplete: "email" } as const;
+const NEW_PASSWORD_FIELD = {
+  id: "password",
+  label: "New password",
+  type: "password",
+  autoComplete: "new-password",
+} as const;
+
 export function ForgotPassword() {
   const [sent, setSent] = useState(false);
   const form = useForm<{ email: string }>({ resolver: checkedBy(forgotForm), defaultValues: { email: "" } });
@@ -213,14 +235,9 @@ export function ForgotPassword() {
       </Notice>
     );
   return (
-    <form onSubmit={onSubmit} noValidate className="flex flex-col gap-4">
-      <Field id="email" label="E-mail" error={form.formState.errors.email?.message}>
-        <input id="email" type="email" autoComplete="email" className={inputClass} {...form.register("email")} />
-      </Field>
-      <Button type="submit" disabled={form.formState.isSubmitting}>
-        Send the link
-      </Button>
-    </form>
+    <OneFieldForm onSubmit={onSubmit} busy={form.formState.isSubmitting} submit="Send the link">
+      <InputField {...EMAIL_FIELD} error={form.formState.errors.email?.message} {...form.register("email")} />
+    </OneFieldForm>
   );
 }
 
@@ -242,20 +259,13 @@ export function ResetPassword() {
   if (state === "bad")
     return <Notice tone="error">This link has expired or was already used. Ask for a new one.</Notice>;
   return (
-    <form onSubmit={onSubmit} noValidate className="flex flex-col gap-4">
-      <Field id="password" label="New password" error={form.formState.errors.password?.message}>
-        <input
-          id="password"
-          type="password"
-          autoComplete="new-password"
-          className={inputClass}
-          {...form.register("password")}
-        />
-      </Field>
-      <Button type="submit" disabled={form.formState.isSubmitting}>
-        Set the new password
-      </Button>
-    </form>
+    <OneFieldForm onSubmit={onSubmit} busy={form.formState.isSubmitting} submit="Set the new password">
+      <InputField
+        {...NEW_PASSWORD_FIELD}
+        error={form.formState.errors.password?.message}
+        {...form.register("password")}
+      />
+    </OneFieldForm>
   );
 }
 

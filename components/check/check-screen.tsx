@@ -13,6 +13,7 @@ import { useLocalCore } from "@/components/sync/local-provider";
 import { Notice } from "@/components/ui/controls";
 import { StepBoundary } from "@/components/sync/load-failed";
 import { useStored } from "@/components/ui/use-stored";
+import type { EntryStepProps } from "./entry-props";
 import { MeasureStep } from "./measure-step";
 import { PrepareStep } from "./prepare-step";
 import { STEPS, stepOfStatus, type Step } from "./steps";
@@ -156,6 +157,8 @@ function CheckBody({ data, step, go, moved }: { data: CheckData; step?: Step; go
     currentTab.current?.scrollIntoView({ block: "nearest", inline: "nearest" });
   }, [current]);
   const later = data.laterClosed;
+  // what both steps that take readings are given
+  const entry: EntryStepProps = { engine, views, sizes, step: seriesStep, save, focusHeading: moved };
 
   return (
     <div className="flex flex-col gap-4">
@@ -192,18 +195,7 @@ function CheckBody({ data, step, go, moved }: { data: CheckData; step?: Step; go
           <PrepareStep checkId={check.id} engine={engine} onDone={() => go("measure")} focusHeading={moved} />
         )}
         {current === "measure" && (
-          <MeasureStep
-            engine={engine}
-            views={views}
-            sizes={sizes}
-            step={seriesStep}
-            save={save}
-            onTurn={turn}
-            onDone={() => go("plan")}
-            previous={previous}
-            checkId={check.id}
-            focusHeading={moved}
-          />
+          <MeasureStep {...entry} onTurn={turn} onDone={() => go("plan")} previous={previous} checkId={check.id} />
         )}
         {current === "plan" && (
           <PlanStep
@@ -236,17 +228,7 @@ function CheckBody({ data, step, go, moved }: { data: CheckData; step?: Step; go
             focusHeading={moved}
           />
         )}
-        {current === "verify" && (
-          <VerifyStep
-            engine={engine}
-            views={views}
-            sizes={sizes}
-            step={seriesStep}
-            save={save}
-            check={check}
-            focusHeading={moved}
-          />
-        )}
+        {current === "verify" && <VerifyStep {...entry} check={check} />}
       </StepBoundary>
     </div>
   );

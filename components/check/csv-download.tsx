@@ -18,23 +18,13 @@ export function CsvDownload({
   plan: ShimPlan | null;
 }) {
   const download = async () => {
-    const { checkCsv, csvFileName } = await import("@/lib/check/csv");
+    const { checkCsvFile } = await import("@/lib/check/csv");
     const date = new Date(check.startedAt).toISOString().slice(0, 10);
-    const text = checkCsv(
-      {
-        engine: engine.name,
-        odometer: check.odometer,
-        odometerUnit: engine.odometerUnit,
-        date,
-        shimPosition: engine.shimPosition ?? null,
-      },
-      views,
-      plan,
-    );
+    const { name, text } = checkCsvFile(engine, check.odometer, date, views, plan);
     const url = URL.createObjectURL(new Blob([text], { type: "text/csv;charset=utf-8" }));
     const a = document.createElement("a");
     a.href = url;
-    a.download = csvFileName(engine.name, date, check.odometer, engine.odometerUnit);
+    a.download = name;
     a.click();
     // the browser has the file once the click is handled; the address is freed a little later
     setTimeout(() => URL.revokeObjectURL(url), 10_000);

@@ -1,10 +1,10 @@
 "use client";
 
+import type { EntryStepProps } from "./entry-props";
 import { useCallback, useMemo, useState } from "react";
 import { useFocusOnShow } from "@/components/ui/focus";
-import type { ValveView } from "@/lib/check/derive";
 import { measuringOrder, positionWords } from "@/lib/check/measuring";
-import type { LocalEngine, LocalReading } from "@/lib/sync/local-db";
+import type { LocalReading } from "@/lib/sync/local-db";
 import { saveReading } from "@/lib/sync/later";
 import { useLocalCore } from "@/components/sync/local-provider";
 import { Button, Notice } from "@/components/ui/controls";
@@ -25,29 +25,10 @@ interface Undo {
  * centred on the valve's band; a blade tap records and moves on to the next valve still to measure,
  * through the crank positions in order. The diagram shows where you are and picks any valve.
  */
-export function MeasureStep({
-  engine,
-  views,
-  sizes,
-  step,
-  save,
-  onTurn,
-  onDone,
-  previous,
-  checkId,
-  focusHeading = false,
-}: {
-  engine: LocalEngine;
-  views: ValveView[];
-  sizes: number[];
-  step: number;
-  save: (v: ValveView) => (r: ReadingEntry) => Promise<void>;
-  onTurn: () => void;
-  onDone: () => void;
-  previous: Map<string, number>;
-  checkId: string;
-  focusHeading?: boolean;
-}) {
+export function MeasureStep(
+  props: EntryStepProps & { onTurn: () => void; onDone: () => void; previous: Map<string, number>; checkId: string },
+) {
+  const { engine, views, sizes, step, save, onTurn, onDone, previous, checkId, focusHeading = false } = props;
   const { db } = useLocalCore();
   const order = useMemo(() => measuringOrder(engine), [engine]);
   const byId = useMemo(() => new Map(views.map((v) => [v.valve.id, v])), [views]);

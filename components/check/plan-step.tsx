@@ -9,7 +9,7 @@ import type { PoolFit } from "@/lib/check/pool";
 import type { LocalCheck, LocalEngine } from "@/lib/sync/local-db";
 import type { usePool } from "@/components/pool/use-pool";
 import { BorrowList } from "@/components/pool/borrow-list";
-import { Button, Notice } from "@/components/ui/controls";
+import { Button, Notice, TitledSection } from "@/components/ui/controls";
 import { useFocusOnShow } from "@/components/ui/focus";
 import { EngineDiagram } from "./engine-diagram";
 import { PlanChanges, PlanTable } from "./plan-table";
@@ -161,14 +161,13 @@ function CamsLine({ engine, plan }: { engine: LocalEngine; plan: ShimPlan }) {
   if (!engine.shimPosition) return <ShimPositionAsk engine={engine} />;
   const valves = plan.assignments.filter((a) => a.source.kind !== "keep").map((a) => a.valveId);
   return (
-    <section
-      aria-labelledby="cams-title"
+    <TitledSection
+      titleId="cams-title"
+      title={SHIM_POSITION_WORDS[engine.shimPosition].short}
+      titleClass="text-xl font-extrabold"
       className="rounded-2xl border-2 border-line bg-surface p-4"
-      data-testid="plan-cams-out"
+      testId="plan-cams-out"
     >
-      <h2 id="cams-title" className="text-xl font-extrabold">
-        {SHIM_POSITION_WORDS[engine.shimPosition].short}
-      </h2>
       <p className="text-lg font-bold">
         {engine.shimPosition === "under"
           ? camsOutWords(camsOut({ shimPosition: "under", valves }))
@@ -179,7 +178,7 @@ function CamsLine({ engine, plan }: { engine: LocalEngine; plan: ShimPlan }) {
           The cams go back in time with the marks aligned; the Fit step takes you through it.
         </p>
       )}
-    </section>
+    </TitledSection>
   );
 }
 

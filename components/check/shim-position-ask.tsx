@@ -6,7 +6,7 @@ import { SHIM_POSITION_WORDS } from "@/lib/check/shim-position";
 import type { LocalEngine } from "@/lib/sync/local-db";
 import { saveEngine } from "@/lib/sync/later";
 import { useLocalCore } from "@/components/sync/local-provider";
-import { Button } from "@/components/ui/controls";
+import { Button, TitledSection } from "@/components/ui/controls";
 
 /**
  * For an engine whose profile does not say where its shims sit (made before the profile asked):
@@ -24,14 +24,14 @@ export function ShimPositionAsk({ engine }: { engine: LocalEngine }) {
     }
   };
   return (
-    <section
-      aria-labelledby="position-ask"
+    <TitledSection
+      titleId="position-ask"
+      title="Where do this engine's shims sit?"
+      level={3}
+      titleClass="text-lg font-extrabold"
       className="flex flex-col gap-2 rounded-2xl border-2 border-tight p-3"
-      data-testid="shim-position-ask"
+      testId="shim-position-ask"
     >
-      <h3 id="position-ask" className="text-lg font-extrabold">
-        Where do this engine&apos;s shims sit?
-      </h3>
       <p className="text-sm text-ink-soft">
         The profile does not say yet. Fitting differs: under the bucket, the cams come out. The manual says which.
       </p>
@@ -41,6 +41,6 @@ export function ShimPositionAsk({ engine }: { engine: LocalEngine }) {
         </Button>
       ))}
       {error && <p className="text-sm font-bold text-tight">✕ {error}</p>}
-    </section>
+    </TitledSection>
   );
 }

@@ -53,6 +53,43 @@ export const ValveCard = memo(
 );
 
 // readings come back from IndexedDB as new objects on every change, so compare their values
+/** A length typed on the card (a micrometer's reading, a clearance), with its button. */
+function NumberForm({
+  label,
+  value,
+  set,
+  onSubmit,
+  submit,
+}: {
+  label: string;
+  value: string;
+  set: (v: string) => void;
+  onSubmit: () => void;
+  submit: string;
+}) {
+  return (
+    <form
+      className="flex gap-2"
+      onSubmit={(e) => {
+        e.preventDefault();
+        onSubmit();
+      }}
+    >
+      <input
+        aria-label={label}
+        inputMode="decimal"
+        enterKeyHint="done"
+        value={value}
+        onChange={(e) => set(e.target.value)}
+        className={`${inputClass} figures w-32`}
+      />
+      <button type="submit" className="min-h-12 rounded-xl border-2 border-line px-4 font-bold">
+        {submit}
+      </button>
+    </form>
+  );
+}
+
 function sameReading(a: LocalReading | undefined, b: LocalReading | undefined) {
   if (!a || !b) return a === b;
   return a.round === b.round && READING_VALUE_FIELDS.every((f) => a[f] === b[f]);
@@ -239,25 +276,13 @@ function ValveCardBody({
         <summary className="min-h-12 cursor-pointer py-3 text-sm font-bold text-ink-soft">
           Micrometer thickness {micrometer != null ? `(${shimNumber(micrometer, true)} mm)` : ""}
         </summary>
-        <form
-          className="flex gap-2"
-          onSubmit={(e) => {
-            e.preventDefault();
-            void save({ installedMicrometer: parseDecimal(mic) });
-          }}
-        >
-          <input
-            aria-label={`Micrometer thickness of ${view.valve.id} in mm`}
-            inputMode="decimal"
-            enterKeyHint="done"
-            value={mic}
-            onChange={(e) => setMic(e.target.value)}
-            className={`${inputClass} figures w-32`}
-          />
-          <button type="submit" className="min-h-12 rounded-xl border-2 border-line px-4 font-bold">
-            Use
-          </button>
-        </form>
+        <NumberForm
+          label={`Micrometer thickness of ${view.valve.id} in mm`}
+          value={mic}
+          set={setMic}
+          onSubmit={() => void save({ installedMicrometer: parseDecimal(mic) })}
+          submit="Use"
+        />
       </details>
       <div>
         <p className="mb-1 text-sm font-bold text-ink-soft">Tap the blade that goes ({unit})</p>
@@ -289,25 +314,13 @@ function ValveCardBody({
           {typing ? "Hide typed value" : "Type a value instead"}
         </button>
         {typing && (
-          <form
-            className="flex gap-2"
-            onSubmit={(e) => {
-              e.preventDefault();
-              saveTyped();
-            }}
-          >
-            <input
-              aria-label={`Typed clearance of ${view.valve.id} in mm`}
-              inputMode="decimal"
-              enterKeyHint="done"
-              value={typed}
-              onChange={(e) => setTyped(e.target.value)}
-              className={`${inputClass} figures w-32`}
-            />
-            <button type="submit" className="min-h-12 rounded-xl border-2 border-line px-4 font-bold">
-              Save
-            </button>
-          </form>
+          <NumberForm
+            label={`Typed clearance of ${view.valve.id} in mm`}
+            value={typed}
+            set={setTyped}
+            onSubmit={saveTyped}
+            submit="Save"
+          />
         )}
       </div>
       {/* on the re-check the card stays after a reading and says the result itself; the measuring

@@ -1,5 +1,6 @@
 "use client";
 
+import type { EntryStepProps } from "./entry-props";
 import { useQuery } from "@tanstack/react-query";
 import { useRouter } from "next/navigation";
 import { useLiveQuery } from "@/components/sync/use-live-query";
@@ -16,7 +17,7 @@ import { saveCheck, setTurned } from "@/lib/sync/later";
 import { useLocalCore } from "@/components/sync/local-provider";
 import { Button, Notice } from "@/components/ui/controls";
 import { useFocusOnShow } from "@/components/ui/focus";
-import { ValveCard, type ReadingEntry } from "./valve-card";
+import { ValveCard } from "./valve-card";
 import { PositionGuide } from "./position-guide";
 
 const valves = (n: number) => `${n} valve${n === 1 ? "" : "s"}`;
@@ -80,23 +81,8 @@ function ByPosition({
 }
 
 /** Step 5: re-measure the valves of this fit until all are in band, or close with the open ones noted. */
-export function VerifyStep({
-  engine,
-  views,
-  sizes,
-  step,
-  save,
-  check,
-  focusHeading = false,
-}: {
-  engine: LocalEngine;
-  views: ValveView[];
-  sizes: number[];
-  step: number;
-  save: (v: ValveView) => (r: ReadingEntry) => Promise<void>;
-  check: LocalCheck;
-  focusHeading?: boolean;
-}) {
+export function VerifyStep(props: EntryStepProps & { check: LocalCheck }) {
+  const { engine, views, sizes, step, save, check, focusHeading = false } = props;
   const headingRef = useFocusOnShow<HTMLHeadingElement>(focusHeading);
   const { db } = useLocalCore();
   const router = useRouter();

@@ -61,6 +61,16 @@ export default function Worksheet({
       </div>
     );
   };
+  /** one row of valves across the cylinders, as the diagram above draws it */
+  const row = (side: "top" | "bottom") => (
+    <div className="ws-row" data-row={side}>
+      {drawn.cylinders.map((g) => (
+        <div key={g.cylinder} className="ws-cyl" data-cylinder={g.cylinder}>
+          {g[side].map(cell)}
+        </div>
+      ))}
+    </div>
+  );
   const list = (xs: SizeCount[]) => xs.map((x) => `${x.count} × ${shim(x.size)}`).join(", ");
   const position = engine.shimPosition;
   const changing = plan?.assignments.filter((a) => a.source.kind !== "keep").map((a) => a.valveId) ?? [];
@@ -117,25 +127,13 @@ export default function Worksheet({
         <p>
           {sideName(drawn.top)} · {engine.mirrored ? "mirrored: cylinder 1 on the right" : "cylinder 1 on the left"}
         </p>
-        <div className="ws-row" data-row="top">
-          {drawn.cylinders.map((g) => (
-            <div key={g.cylinder} className="ws-cyl" data-cylinder={g.cylinder}>
-              {g.top.map(cell)}
-            </div>
-          ))}
-        </div>
+        {row("top")}
         <div className="ws-row ws-cyl-names">
           {drawn.cylinders.map((g) => (
             <span key={g.cylinder}>Cyl {g.cylinder}</span>
           ))}
         </div>
-        <div className="ws-row" data-row="bottom">
-          {drawn.cylinders.map((g) => (
-            <div key={g.cylinder} className="ws-cyl" data-cylinder={g.cylinder}>
-              {g.bottom.map(cell)}
-            </div>
-          ))}
-        </div>
+        {row("bottom")}
         <p>{sideName(drawn.bottom)}, nearest you</p>
       </figure>
       <table className="ws-table">

@@ -4,7 +4,7 @@ import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import Link from "next/link";
 import { useEffect, useState, type FormEvent } from "react";
 import { ApiFailure, fetchers, mutations, queryKeys, type ClubSummary } from "@/lib/api/client";
-import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
+import { Button, Field, inputClass, Notice, SelectField } from "@/components/ui/controls";
 import { PoolPanel } from "@/components/pool/pool-panel";
 import { ROLES, type Role } from "@/lib/roles";
 
@@ -93,20 +93,14 @@ function InviteForm({ club }: { club: ClubSummary }) {
           className={inputClass}
         />
       </Field>
-      <Field id={`role-${club.id}`} label="As">
-        <select
-          id={`role-${club.id}`}
-          value={role}
-          onChange={(e) => setRole(e.target.value as Role)}
-          className={inputClass}
-        >
-          {ROLES.map((r) => (
-            <option key={r} value={r}>
-              {ROLE_WORDS[r]}
-            </option>
-          ))}
-        </select>
-      </Field>
+      <SelectField
+        id={`role-${club.id}`}
+        label="As"
+        options={ROLES}
+        words={ROLE_WORDS}
+        value={role}
+        onChange={(e) => setRole(e.target.value as Role)}
+      />
       <Button type="submit" look="plain">
         Send invitation
       </Button>

@@ -3,7 +3,7 @@
 import { useLiveQuery } from "@/components/sync/use-live-query";
 import { useRouter, useSearchParams } from "next/navigation";
 import { useEffect, useState, type ReactNode } from "react";
-import { useForm, type Resolver } from "react-hook-form";
+import { useForm, type Resolver, type UseFormRegisterReturn } from "react-hook-form";
 import {
   ENGINE_PRESETS,
   fieldErrors,
@@ -19,7 +19,7 @@ import { engineInput } from "@/lib/schemas/records";
 import { saveEngine } from "@/lib/sync/later";
 import type { LocalEngine } from "@/lib/sync/local-db";
 import { useLocalCore } from "@/components/sync/local-provider";
-import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
+import { Button, Field, inputClass, Notice, SelectField } from "@/components/ui/controls";
 import { parseDecimal } from "@/lib/parse-decimal";
 
 /** Form values are what the fields hold (text); the shared engine schema decides what is valid. */
@@ -50,6 +50,15 @@ interface FormValues {
 
 const LENGTH_UNIT_WORDS: Record<LengthUnit, string> = { mm: "millimetres", in: "inches" };
 const ODOMETER_UNIT_WORDS: Record<OdometerUnit, string> = { km: "km", mi: "miles", h: "hours" };
+
+/** Radio buttons, one labelled box each, for one registered field. */
+const radios = (choices: readonly (readonly [string, string])[], field: UseFormRegisterReturn) =>
+  choices.map(([value, label]) => (
+    <label key={value} className="flex min-h-12 items-center gap-3 rounded-xl border-2 border-line px-3 font-bold">
+      <input type="radio" value={value} className="h-6 w-6" {...field} />
+      {label}
+    </label>
+  ));
 
 const num = (s: string) => parseDecimal(s) ?? undefined;
 const list = (s: string) =>
@@ -357,40 +366,26 @@ export function EngineForm() {
         <p className="text-sm text-ink-soft">
           On a stand, in a frame or in the vehicle: the diagram is drawn the way you see it, for you and for a mentor.
         </p>
-        {(
+        {radios(
           [
             ["left", "Cylinder 1 on your left"],
             ["right", "Cylinder 1 on your right"],
-          ] as const
-        ).map(([value, label]) => (
-          <label
-            key={value}
-            className="flex min-h-12 items-center gap-3 rounded-xl border-2 border-line px-3 font-bold"
-          >
-            <input type="radio" value={value} className="h-6 w-6" {...form.register("facing")} />
-            {label}
-          </label>
-        ))}
+          ],
+          form.register("facing"),
+        )}
       </fieldset>
       <fieldset className="flex flex-col gap-2">
         <legend className="mb-1 text-lg font-bold">Side nearest you</legend>
         <p className="text-sm text-ink-soft">
           The diagram and the printed sheet draw this side at the bottom, so the rows match the head in front of you.
         </p>
-        {(
+        {radios(
           [
             ["exhaust", "Exhaust side nearest me"],
             ["intake", "Intake side nearest me"],
-          ] as const
-        ).map(([value, label]) => (
-          <label
-            key={value}
-            className="flex min-h-12 items-center gap-3 rounded-xl border-2 border-line px-3 font-bold"
-          >
-            <input type="radio" value={value} className="h-6 w-6" {...form.register("nearSide")} />
-            {label}
-          </label>
-        ))}
+          ],
+          form.register("nearSide"),
+        )}
       </fieldset>
       <details className="rounded-xl border border-line p-3">
         <summary className="min-h-12 cursor-pointer py-3 font-bold">
@@ -404,24 +399,20 @@ export function EngineForm() {
         </div>
       </details>
       <div className="grid grid-cols-2 gap-3">
-        <Field id="displayUnit" label="Show lengths in">
-          <select id="displayUnit" className={inputClass} {...form.register("displayUnit")}>
-            {LENGTH_UNITS.map((u) => (
-              <option key={u} value={u}>
-                {LENGTH_UNIT_WORDS[u]}
-              </option>
-            ))}
-          </select>
-        </Field>
-        <Field id="odometerUnit" label="Odometer in">
-          <select id="odometerUnit" className={inputClass} {...form.register("odometerUnit")}>
-            {ODOMETER_UNITS.map((u) => (
-              <option key={u} value={u}>
-                {ODOMETER_UNIT_WORDS[u]}
-              </option>
-            ))}
-          </select>
-        </Field>
+        <SelectField
+          id="displayUnit"
+          label="Show lengths in"
+          options={LENGTH_UNITS}
+          words={LENGTH_UNIT_WORDS}
+          {...form.register("displayUnit")}
+        />
+        <SelectField
+          id="odometerUnit"
+          label="Odometer in"
+          options={ODOMETER_UNITS}
+          words={ODOMETER_UNIT_WORDS}
+          {...form.register("odometerUnit")}
+        />
       </div>
       <Button type="submit" disabled={isSubmitting || !db}>
         Save engine

@@ -10,7 +10,7 @@ import { SHIM_POSITION_WORDS } from "@/lib/check/shim-position";
 import { useLocalCore } from "@/components/sync/local-provider";
 import { History } from "./history";
 import { ImportChecks } from "./import-checks";
-import { Button, ButtonLink, Field, inputClass, Notice } from "@/components/ui/controls";
+import { boundTo, Button, ButtonLink, InputField, Notice } from "@/components/ui/controls";
 import { parseDecimal } from "@/lib/parse-decimal";
 
 export function EngineList() {
@@ -145,15 +145,14 @@ export function EngineDetail() {
       ) : (
         <section className="flex flex-col gap-3 rounded-2xl border-2 border-accent p-4">
           <h2 className="text-xl font-extrabold">Start a check</h2>
-          <Field id="odometer" label={`Odometer now (${engine.odometerUnit})`} error={error ?? undefined}>
-            <input
-              id="odometer"
-              inputMode="decimal"
-              value={odometer}
-              onChange={(e) => setOdometer(e.target.value)}
-              className={`${inputClass} figures`}
-            />
-          </Field>
+          <InputField
+            id="odometer"
+            label={`Odometer now (${engine.odometerUnit})`}
+            error={error ?? undefined}
+            inputMode="decimal"
+            className="figures"
+            {...boundTo(odometer, setOdometer)}
+          />
           <Button type="button" onClick={start}>
             Start check
           </Button>

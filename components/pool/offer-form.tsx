@@ -4,7 +4,7 @@ import { useState } from "react";
 import type { LocalTrayItem } from "@/lib/sync/local-db";
 import { offerToClub } from "@/lib/sync/later";
 import { useLocalCore } from "@/components/sync/local-provider";
-import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
+import { boundTo, Button, Field, InputField, inputClass, Notice } from "@/components/ui/controls";
 import { usePool } from "./use-pool";
 import { shimNumber } from "@/lib/lash";
 import { parseDecimal } from "@/lib/parse-decimal";
@@ -43,34 +43,22 @@ export function OfferForm({ items }: { items: LocalTrayItem[] }) {
           ))}
         </select>
       </Field>
-      <Field id="offer-count" label="How many">
-        <input
-          id="offer-count"
-          inputMode="numeric"
-          className={inputClass}
-          value={count}
-          onChange={(e) => setCount(e.target.value)}
-        />
-      </Field>
-      <Field id="offer-diameter" label="Shim diameter (mm)" hint="Only engines with the same diameter can use them">
-        <input
-          id="offer-diameter"
-          inputMode="decimal"
-          className={inputClass}
-          placeholder={item.shimDiameter?.toString() ?? "e.g. 9.48"}
-          value={diameter}
-          onChange={(e) => setDiameter(e.target.value)}
-        />
-      </Field>
-      <Field id="offer-note" label="Note (optional)" hint="Where to collect them, for example">
-        <input
-          id="offer-note"
-          className={inputClass}
-          maxLength={200}
-          value={note}
-          onChange={(e) => setNote(e.target.value)}
-        />
-      </Field>
+      <InputField id="offer-count" label="How many" inputMode="numeric" {...boundTo(count, setCount)} />
+      <InputField
+        id="offer-diameter"
+        label="Shim diameter (mm)"
+        hint="Only engines with the same diameter can use them"
+        inputMode="decimal"
+        placeholder={item.shimDiameter?.toString() ?? "e.g. 9.48"}
+        {...boundTo(diameter, setDiameter)}
+      />
+      <InputField
+        id="offer-note"
+        label="Note (optional)"
+        hint="Where to collect them, for example"
+        maxLength={200}
+        {...boundTo(note, setNote)}
+      />
       {pool.clubs.length > 1 && (
         <Field id="offer-club" label="Club">
           <select id="offer-club" className={inputClass} value={club.id} onChange={(e) => setClubId(e.target.value)}>

@@ -19,7 +19,7 @@ import { useLocalCore } from "@/components/sync/local-provider";
 import { PhotoStrip } from "@/components/photos/photo-strip";
 import { EngineDiagram } from "@/components/check/engine-diagram";
 import { PlanTable } from "@/components/check/plan-table";
-import { Notice } from "@/components/ui/controls";
+import { Notice, TitledSection } from "@/components/ui/controls";
 import { CommentForm, CommentItem, CommentThread, type ThreadComment } from "./comment-thread";
 import { FORMER_MEMBER } from "@/lib/account/deletion";
 import { facingOf } from "@/lib/check/diagram";
@@ -281,12 +281,14 @@ export function ReviewScreen() {
           ))}
         </ul>
       </section>
-      <section aria-labelledby="photos-title" className="flex flex-col gap-2">
-        <h2 id="photos-title" className="text-xl font-extrabold">
-          Photos of the whole check
-        </h2>
+      <TitledSection
+        titleId="photos-title"
+        title="Photos of the whole check"
+        titleClass="text-xl font-extrabold"
+        className="flex flex-col gap-2"
+      >
         <PhotoStrip checkId={id} valve={null} canAdd label="the whole check" />
-      </section>
+      </TitledSection>
       {plan && <PlanTable engine={engine} plan={plan} byId={new Map(views.map((v) => [v.valve.id, v]))} />}
       <section
         id="verdict"

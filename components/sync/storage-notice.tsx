@@ -1,5 +1,6 @@
 "use client";
 
+import { TitledSection } from "@/components/ui/controls";
 import { useStored } from "@/components/ui/use-stored";
 import { useLocal } from "./local-provider";
 
@@ -16,14 +17,13 @@ export function StorageNotice() {
   const [dismissed, setDismissed] = useStored<boolean>(DISMISSED_KEY, false);
   if (persisted !== false || dismissed) return null;
   return (
-    <section
-      aria-labelledby="storage-notice-title"
+    <TitledSection
+      titleId="storage-notice-title"
+      title="This browser may clear Lashwright's data"
+      titleClass="font-bold"
       className="flex flex-col gap-2 rounded-xl border-2 border-line bg-surface p-3"
-      data-testid="storage-notice"
+      testId="storage-notice"
     >
-      <h2 id="storage-notice-title" className="font-bold">
-        This browser may clear Lashwright&apos;s data
-      </h2>
       <p className="text-ink-soft">
         It did not agree to keep what is saved on this phone for good: when space runs low it may delete it
         {waiting > 0 ? `, including the ${waiting} change${waiting === 1 ? "" : "s"} not yet synced` : ""}. What is
@@ -37,6 +37,6 @@ export function StorageNotice() {
       >
         Got it, don&apos;t show again
       </button>
-    </section>
+    </TitledSection>
   );
 }

@@ -4,7 +4,7 @@ import { useLiveQuery } from "@/components/sync/use-live-query";
 import { useState } from "react";
 import { saveTrayItem } from "@/lib/sync/later";
 import { useLocalCore } from "@/components/sync/local-provider";
-import { Button, Field, inputClass, Notice } from "@/components/ui/controls";
+import { boundTo, Button, InputField, Notice } from "@/components/ui/controls";
 import { OfferForm } from "@/components/pool/offer-form";
 import { sameLength, shimNumber } from "@/lib/lash";
 import { parseDecimal } from "@/lib/parse-decimal";
@@ -90,28 +90,22 @@ export function TrayPage() {
       </ul>
       <section className="flex flex-col gap-3 rounded-2xl border border-dashed border-line p-4">
         <h2 className="text-xl font-bold">Add a shim</h2>
-        <Field id="tray-size" label="Size (mm)" error={error ?? undefined}>
-          <input
-            id="tray-size"
-            inputMode="decimal"
-            value={size}
-            onChange={(e) => setSize(e.target.value)}
-            className={`${inputClass} figures`}
-          />
-        </Field>
-        <Field
+        <InputField
+          id="tray-size"
+          label="Size (mm)"
+          error={error ?? undefined}
+          inputMode="decimal"
+          className="figures"
+          {...boundTo(size, setSize)}
+        />
+        <InputField
           id="tray-diameter"
           label="Shim diameter (mm, optional)"
           hint="Only engines that take this diameter will use it"
-        >
-          <input
-            id="tray-diameter"
-            inputMode="decimal"
-            value={diameter}
-            onChange={(e) => setDiameter(e.target.value)}
-            className={`${inputClass} figures`}
-          />
-        </Field>
+          inputMode="decimal"
+          className="figures"
+          {...boundTo(diameter, setDiameter)}
+        />
         <label className="flex min-h-12 items-center gap-3 font-bold">
           <input
             type="checkbox"

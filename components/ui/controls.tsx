@@ -1,5 +1,5 @@
 import Link from "next/link";
-import { cloneElement, type ComponentProps, type ReactElement, type ReactNode } from "react";
+import { cloneElement, type ChangeEvent, type ComponentProps, type ReactElement, type ReactNode } from "react";
 
 /** Shared primitives: every target at least 48 px, labels always visible, errors in words. */
 const base =
@@ -69,6 +69,28 @@ export function Field({
 export const inputClass =
   "min-h-12 rounded-xl border-2 border-field bg-surface px-3 text-lg text-ink placeholder:text-ink-soft/70";
 
+/** A controlled text input's value and its change handler. */
+export const boundTo = (value: string, set: (v: string) => void) => ({
+  value,
+  onChange: (e: ChangeEvent<HTMLInputElement>) => set(e.target.value),
+});
+
+/** A text input in its Field: one id ties the label, the hint and the error to the control. */
+export function InputField({
+  id,
+  label,
+  error,
+  hint,
+  className,
+  ...input
+}: { id: string; label: string; error?: string; hint?: ReactNode } & Omit<ComponentProps<"input">, "id">) {
+  return (
+    <Field id={id} label={label} error={error} hint={hint}>
+      <input id={id} className={className ? `${inputClass} ${className}` : inputClass} {...input} />
+    </Field>
+  );
+}
+
 export const authTitleClass = "text-3xl font-extrabold";
 
 export function Notice({ tone = "info", children }: { tone?: "info" | "ok" | "error"; children: ReactNode }) {
@@ -84,6 +106,62 @@ export function Notice({ tone = "info", children }: { tone?: "info" | "ok" | "er
       </span>
       <div>{children}</div>
     </div>
+  );
+}
+
+/** A select in its Field: one option a value, each shown in its words. */
+export function SelectField<V extends string>({
+  id,
+  label,
+  options,
+  words,
+  ...select
+}: { id: string; label: string; options: readonly V[]; words: Record<V, string> } & Omit<
+  ComponentProps<"select">,
+  "id" | "children" | "className"
+>) {
+  return (
+    <Field id={id} label={label}>
+      <select id={id} className={inputClass} {...select}>
+        {options.map((o) => (
+          <option key={o} value={o}>
+            {words[o]}
+          </option>
+        ))}
+      </select>
+    </Field>
+  );
+}
+
+/**
+ * A section named by its own heading (aria-labelledby), so a screen reader's list of regions reads
+ * the heading's words.
+ */
+export function TitledSection({
+  titleId,
+  title,
+  level = 2,
+  titleClass,
+  className,
+  testId,
+  children,
+}: {
+  titleId: string;
+  title: ReactNode;
+  level?: 2 | 3;
+  titleClass: string;
+  className: string;
+  testId?: string;
+  children: ReactNode;
+}) {
+  const Heading = level === 2 ? "h2" : "h3";
+  return (
+    <section aria-labelledby={titleId} className={className} data-testid={testId}>
+      <Heading id={titleId} className={titleClass}>
+        {title}
+      </Heading>
+      {children}
+    </section>
   );
 }
 

@@ -1,9 +1,18 @@
 import "server-only";
 import { phase } from "@/server/timing";
-import { and, asc, desc, eq, getTableColumns, sql } from "drizzle-orm";
+import { and, asc, desc, eq, getTableColumns, sql, type InferSelectModel, type SQL } from "drizzle-orm";
+import type { MySqlTable } from "drizzle-orm/mysql-core";
 import { format } from "mysql2";
 import { DEFAULT_TIMING } from "@/lib/lash";
-import { READING_VALUE_FIELDS, type EngineInput, type ReadingInput } from "@/lib/schemas/records";
+import { pick } from "@/lib/pick";
+import {
+  CHECK_PLAIN_FIELDS,
+  ENGINE_LAYOUT_FIELDS,
+  READING_VALUE_FIELDS,
+  readingValues,
+  type EngineInput,
+  type ReadingInput,
+} from "@/lib/schemas/records";
 import { db, type Executor, type Tx } from "../connection";
 import {
   checks,
@@ -25,12 +34,7 @@ import {
 
 export function engineToApi(e: EngineRow) {
   return {
-    id: e.id,
-    name: e.name,
-    cylinders: e.cylinders,
-    intakePerCylinder: e.intakePerCylinder,
-    exhaustPerCylinder: e.exhaustPerCylinder,
-    firingOrder: e.firingOrder,
+    ...pick(e, ENGINE_LAYOUT_FIELDS),
     firingAngles: e.firingAngles ?? null,
     timing: { ivo: e.ivo, ivc: e.ivc, evo: e.evo, evc: e.evc },
     intake: { min: e.intakeMin, max: e.intakeMax, ...(e.intakeTarget != null ? { target: e.intakeTarget } : {}) },
@@ -83,15 +87,27 @@ export function engineToRow(e: EngineInput) {
   };
 }
 
-export async function listEngines(ownerId: string, limit: number, offset: number) {
+/** One page of a list, with one row more than asked for: the route says by it whether more follow. */
+async function listPage<T extends MySqlTable>(
+  table: T,
+  where: SQL,
+  order: [SQL, SQL],
+  limit: number,
+  offset: number,
+): Promise<InferSelectModel<T>[]> {
   const rows = await db()
     .select()
-    .from(engines)
-    .where(eq(engines.ownerId, ownerId))
-    .orderBy(asc(engines.name), asc(engines.id))
+    .from(table as MySqlTable)
+    .where(where)
+    .orderBy(...order)
     .limit(limit + 1)
     .offset(offset);
-  return rows.map(engineToApi);
+  return rows as InferSelectModel<T>[];
+}
+
+export async function listEngines(ownerId: string, limit: number, offset: number) {
+  const where = eq(engines.ownerId, ownerId);
+  return (await listPage(engines, where, [asc(engines.name), asc(engines.id)], limit, offset)).map(engineToApi);
 }
 
 /** A check's odometer with its engine's name and unit, in one read: what a notice names. */
@@ -105,10 +121,21 @@ export async function checkTitleRow(ex: Executor, checkId: string) {
   return r;
 }
 
-export async function getEngineRow(ex: Executor, engineId: string) {
-  const [e] = await ex.select().from(engines).where(eq(engines.id, engineId)).limit(1);
-  return e;
+/** One of the garage's rows by its id (the caller decides what its owner may see). */
+async function rowById<T extends typeof engines | typeof checks | typeof trayItems>(
+  ex: Executor,
+  table: T,
+  id: string,
+): Promise<InferSelectModel<T> | undefined> {
+  const [row] = await ex
+    .select()
+    .from(table as MySqlTable)
+    .where(eq(table.id, id))
+    .limit(1);
+  return row as InferSelectModel<T> | undefined;
 }
+
+export const getEngineRow = (ex: Executor, engineId: string) => rowById(ex, engines, engineId);
 
 /** Create or replace an engine; the caller has checked the id is the owner's or new. */
 export async function putEngine(tx: Tx, ownerId: string, version: number, id: string, input: EngineInput) {
@@ -131,33 +158,14 @@ export async function removeEngine(tx: Tx, ownerId: string, version: number, eng
   await tx.delete(engines).where(and(eq(engines.id, engineId), eq(engines.ownerId, ownerId)));
 }
 
-export const checkToApi = (c: CheckRow) => ({
-  id: c.id,
-  engineId: c.engineId,
-  odometer: c.odometer,
-  measuredHot: c.measuredHot,
-  status: c.status,
-  notes: c.notes,
-  startedAt: c.startedAt,
-  closedAt: c.closedAt,
-  version: c.version,
-});
+export const checkToApi = (c: CheckRow) => pick(c, [...CHECK_PLAIN_FIELDS, "startedAt", "closedAt", "version"]);
 
 export async function listChecks(engineId: string, limit: number, offset: number) {
-  const rows = await db()
-    .select()
-    .from(checks)
-    .where(eq(checks.engineId, engineId))
-    .orderBy(desc(checks.startedAt), desc(checks.id))
-    .limit(limit + 1)
-    .offset(offset);
-  return rows.map(checkToApi);
+  const where = eq(checks.engineId, engineId);
+  return (await listPage(checks, where, [desc(checks.startedAt), desc(checks.id)], limit, offset)).map(checkToApi);
 }
 
-export async function getCheckRow(ex: Executor, checkId: string) {
-  const [c] = await ex.select().from(checks).where(eq(checks.id, checkId)).limit(1);
-  return c;
-}
+export const getCheckRow = (ex: Executor, checkId: string) => rowById(ex, checks, checkId);
 
 /** A check and its engine in one round trip (the engine null only if the key between them were broken). */
 export async function getCheckAndEngine(ex: Executor, checkId: string) {
@@ -213,22 +221,8 @@ export async function removeCheck(tx: Tx, ownerId: string, version: number, chec
   await tx.delete(checks).where(and(eq(checks.id, checkId), eq(checks.ownerId, ownerId)));
 }
 
-export const readingToApi = (r: ReadingRow) => ({
-  id: r.id,
-  checkId: r.checkId,
-  valve: r.valve,
-  round: r.round,
-  installedStamp: r.installedStamp,
-  installedMicrometer: r.installedMicrometer,
-  feelerGo: r.feelerGo,
-  feelerNoGo: r.feelerNoGo,
-  measured: r.measured,
-  method: r.method,
-  fittedShim: r.fittedShim,
-  fittedAt: r.fittedAt,
-  version: r.version,
-  updatedAt: r.updatedAt,
-});
+export const readingToApi = (r: ReadingRow) =>
+  pick(r, ["id", "checkId", "valve", "round", ...READING_VALUE_FIELDS, "fittedAt", "version", "updatedAt"]);
 
 export async function listReadings(ex: Executor, checkId: string) {
   const rows = await ex
@@ -291,13 +285,8 @@ export async function writeReadings(tx: Tx, ownerId: string, version: number, ch
     ownerId,
     valve: r.valve,
     round: r.round,
-    installedStamp: r.installedStamp ?? null,
-    installedMicrometer: r.installedMicrometer ?? null,
-    feelerGo: r.feelerGo ?? null,
-    feelerNoGo: r.feelerNoGo ?? null,
+    ...readingValues(r),
     measured: r.measured ?? r.feelerGo ?? null,
-    method: r.method,
-    fittedShim: r.fittedShim ?? null,
     fittedAt: r.fittedShim != null ? new Date() : null,
     version,
   }));
@@ -314,30 +303,15 @@ export async function writeReadings(tx: Tx, ownerId: string, version: number, ch
   phase("check version");
 }
 
-export const trayToApi = (t: TrayItemRow) => ({
-  id: t.id,
-  size: t.size,
-  measuredSize: t.measuredSize,
-  count: t.count,
-  shimDiameter: t.shimDiameter,
-  version: t.version,
-});
+export const trayToApi = (t: TrayItemRow) =>
+  pick(t, ["id", "size", "measuredSize", "count", "shimDiameter", "version"]);
 
 export async function listTray(ownerId: string, limit: number, offset: number) {
-  const rows = await db()
-    .select()
-    .from(trayItems)
-    .where(eq(trayItems.ownerId, ownerId))
-    .orderBy(asc(trayItems.size), asc(trayItems.id))
-    .limit(limit + 1)
-    .offset(offset);
-  return rows.map(trayToApi);
+  const where = eq(trayItems.ownerId, ownerId);
+  return (await listPage(trayItems, where, [asc(trayItems.size), asc(trayItems.id)], limit, offset)).map(trayToApi);
 }
 
-export async function getTrayRow(ex: Executor, id: string) {
-  const [t] = await ex.select().from(trayItems).where(eq(trayItems.id, id)).limit(1);
-  return t;
-}
+export const getTrayRow = (ex: Executor, id: string) => rowById(ex, trayItems, id);
 
 type TrayFields = { size: number; measuredSize: boolean; count: number; shimDiameter?: number | null };
 

@@ -70,13 +70,8 @@ export function checkCsv(
     return v;
   };
   // where the shims sit ("over" or "under" the bucket; empty: not said), beside the odometer's unit
-  const base = {
-    engine: meta.engine,
-    date: meta.date,
-    odometer: meta.odometer,
-    odometer_unit: meta.odometerUnit,
-    shim_position: meta.shimPosition ?? null,
-  };
+  const { engine, date, odometer, odometerUnit, shimPosition } = meta;
+  const base = { engine, date, odometer, odometer_unit: odometerUnit, shim_position: shimPosition ?? null };
   for (const v of views) {
     const a = byValve.get(v.valve.id);
     const r = v.latest;
@@ -128,6 +123,19 @@ const FORMULA_START = /^[=+\-@\t\r]/;
  * missed "=HYPERLINK(...)" followed by a line break. Numbers are written by us and never guarded (a
  * negative one stays a number). The import (csv-import.ts) takes the apostrophe off again.
  */
+/** A check's CSV and its file's name: what "Download CSV" saves and the export file carries. */
+export function checkCsvFile(
+  engine: { name: string; odometerUnit: string; shimPosition?: ShimPosition | null },
+  odometer: number,
+  date: string,
+  views: ValveView[],
+  plan: ShimPlan | null,
+): { name: string; text: string } {
+  const { name, odometerUnit } = engine;
+  const meta = { engine: name, odometer, odometerUnit, date, shimPosition: engine.shimPosition ?? null };
+  return { name: csvFileName(name, date, odometer, odometerUnit), text: checkCsv(meta, views, plan) };
+}
+
 export function defuseFormula(text: string): string {
   return FORMULA_START.test(text) ? `'${text}` : text;
 }

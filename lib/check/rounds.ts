@@ -1,18 +1,8 @@
 import { formatLength, shimNumber, type LengthUnit } from "../lash";
 import type { LocalReading } from "../sync/local-db";
+import type { ReadingValueField } from "../schemas/records";
 
-type Reading = Pick<
-  LocalReading,
-  | "valve"
-  | "round"
-  | "installedStamp"
-  | "installedMicrometer"
-  | "feelerGo"
-  | "feelerNoGo"
-  | "measured"
-  | "method"
-  | "fittedShim"
->;
+type Reading = Pick<LocalReading, "valve" | "round" | ReadingValueField>;
 
 /** "2.80 stamp, 2.78 micrometer": both when both were taken, since a worn stamp is the reason to measure. */
 export function shimWords(r: Pick<Reading, "installedStamp" | "installedMicrometer">): string {

@@ -4,10 +4,9 @@ import type { LocalCheck, LocalDb, LocalEngine, LocalReading } from "../sync/loc
 import {
   DOCUMENT_ARRAYS,
   EXPORT_DATA_ENTRY,
-  EXPORT_FORMAT,
-  EXPORT_SCHEMA_VERSION,
   checkFiles,
   exportFileName,
+  exportHead,
   readingForFile,
   photoEntryName,
   previousOf,
@@ -19,6 +18,8 @@ import {
   type ExportTrayItem,
 } from "./schema";
 import type { LengthUnit } from "../lash";
+import { pick } from "../pick";
+import { CHECK_PLAIN_FIELDS, ENGINE_LAYOUT_FIELDS } from "../schemas/records";
 
 /**
  * The same export file made on the phone from its local copy, with no server: for a garage with no
@@ -31,12 +32,7 @@ const toIso = (d: string | Date | null) => (d == null ? null : new Date(d).toISO
 
 export function engineOfPhone(e: LocalEngine): ExportEngine {
   return {
-    id: e.id,
-    name: e.name,
-    cylinders: e.cylinders,
-    intakePerCylinder: e.intakePerCylinder,
-    exhaustPerCylinder: e.exhaustPerCylinder,
-    firingOrder: e.firingOrder,
+    ...pick(e, ENGINE_LAYOUT_FIELDS),
     firingAngles: e.firingAngles ?? null,
     timing: e.timing,
     intake: e.intake,
@@ -53,11 +49,7 @@ export function engineOfPhone(e: LocalEngine): ExportEngine {
 }
 
 const checkOfPhone = (c: LocalCheck): ExportCheck => ({
-  id: c.id,
-  engineId: c.engineId,
-  odometer: c.odometer,
-  measuredHot: c.measuredHot,
-  status: c.status,
+  ...pick(c, CHECK_PLAIN_FIELDS),
   notes: c.notes ?? null,
   startedAt: toIso(c.startedAt)!,
   closedAt: toIso(c.closedAt),
@@ -194,11 +186,7 @@ export async function phoneExport({
   }
 
   const doc: Omit<ExportDocument, "photos"> & { photos: ExportPhoto[] } = {
-    format: EXPORT_FORMAT,
-    schemaVersion: EXPORT_SCHEMA_VERSION,
-    exportedAt: now.toISOString(),
-    source: "phone",
-    account: { name: user.name, email: user.email, displayUnit: user.displayUnit },
+    ...exportHead(now, "phone", user),
     engines,
     checks,
     readings: allReadings,

@@ -1,10 +1,21 @@
 import "../schemas/zod-config";
 import { z } from "zod";
 import { LENGTH_UNITS, lengthMm, positiveLengthMm, timingSchema } from "../lash";
-import { checkStatus, engineFields, engineRules, idSchema, readingInput, readingProblems } from "../schemas/records";
+import {
+  READING_VALUE_FIELDS,
+  checkStatus,
+  engineFields,
+  engineRules,
+  idSchema,
+  readingInput,
+  readingProblems,
+  readingValues,
+  type ReadingValueField,
+} from "../schemas/records";
+import { pick } from "../pick";
 import { BORROW_STATES } from "../pool/rules";
 import { engineSizes, valveViews, checkPlan } from "../check/derive";
-import { checkCsv, csvFileName } from "../check/csv";
+import { checkCsvFile } from "../check/csv";
 import { lastShims, previousCheck } from "../check/previous";
 import type { LocalEngine, LocalReading } from "../sync/local-db";
 import { trayForEngine } from "../check/pool";
@@ -85,17 +96,6 @@ export const exportPlan = z.object({
   toTray: z.array(sizeCount),
 });
 
-export const exportComment = z.object({
-  id: idSchema,
-  checkId: idSchema,
-  valve: z.string().max(16).nullable(),
-  body: z.string().min(1).max(4000),
-  createdAt: iso,
-  /** written by the account's holder; a comment by someone else on their check is kept as a record, not restored */
-  byMe: z.boolean(),
-  authorName: z.string().max(120),
-});
-
 /** A comment the holder wrote on someone else's check (a mentor's advice): a record, not restored. */
 export const exportCommentElsewhere = z.object({
   id: idSchema,
@@ -103,6 +103,12 @@ export const exportCommentElsewhere = z.object({
   valve: z.string().max(16).nullable(),
   body: z.string().min(1).max(4000),
   createdAt: iso,
+});
+
+export const exportComment = exportCommentElsewhere.extend({
+  /** written by the account's holder; a comment by someone else on their check is kept as a record, not restored */
+  byMe: z.boolean(),
+  authorName: z.string().max(120),
 });
 
 export const exportPhoto = z.object({
@@ -294,35 +300,10 @@ export function referenceProblem(doc: ExportDocument): string | null {
 
 /** A reading as the file carries it, from the phone's record or the server's row (one shape for both). */
 export function readingForFile(
-  r: Pick<
-    LocalReading,
-    | "checkId"
-    | "valve"
-    | "round"
-    | "installedStamp"
-    | "installedMicrometer"
-    | "feelerGo"
-    | "feelerNoGo"
-    | "measured"
-    | "method"
-    | "fittedShim"
-  >,
+  r: Pick<LocalReading, "checkId" | "valve" | "round" | ReadingValueField>,
   fittedAt: string | null,
 ): ExportReading {
-  return {
-    checkId: r.checkId,
-    valve: r.valve,
-    round: r.round,
-    installedStamp: r.installedStamp,
-    installedMicrometer: r.installedMicrometer,
-    feelerGo: r.feelerGo,
-    feelerNoGo: r.feelerNoGo,
-    measured: r.measured,
-    method: r.method,
-    fittedShim: r.fittedShim,
-    fittedAt,
-    found: foundOf(r),
-  };
+  return { ...pick(r, ["checkId", "valve", "round", ...READING_VALUE_FIELDS]), fittedAt, found: foundOf(r) };
 }
 
 /** The words for how a reading was found, from its stored fields. */
@@ -345,16 +326,8 @@ export const engineForScreens = (e: ExportEngine): LocalEngine => ({
 });
 
 const readingForScreens = (r: ExportReading): LocalReading => ({
-  checkId: r.checkId,
-  valve: r.valve,
-  round: r.round,
-  installedStamp: r.installedStamp ?? null,
-  installedMicrometer: r.installedMicrometer ?? null,
-  feelerGo: r.feelerGo ?? null,
-  feelerNoGo: r.feelerNoGo ?? null,
-  measured: r.measured ?? null,
-  method: r.method,
-  fittedShim: r.fittedShim ?? null,
+  ...pick(r, ["checkId", "valve", "round"]),
+  ...readingValues(r),
 });
 
 /**
@@ -379,19 +352,9 @@ export function checkFiles(
     // readings the planner cannot use (a shim far out of the series): the CSV has the valves without a plan
     plan = null;
   }
-  const date = check.startedAt.slice(0, 10);
-  const csv = checkCsv(
-    {
-      engine: engine.name,
-      odometer: check.odometer,
-      odometerUnit: engine.odometerUnit,
-      date,
-      shimPosition: engine.shimPosition ?? null,
-    },
-    views,
-    plan,
-  );
-  const csvName = `csv/${check.id.slice(0, 8)}-${csvFileName(engine.name, date, check.odometer, engine.odometerUnit)}`;
+  const file = checkCsvFile(engine, check.odometer, check.startedAt.slice(0, 10), views, plan);
+  const csvName = `csv/${check.id.slice(0, 8)}-${file.name}`;
+  const csv = file.text;
   return {
     csvName,
     csv,
@@ -415,5 +378,20 @@ export function previousOf(check: ExportCheck, sameEngine: ExportCheck[]): Expor
 }
 
 /** The zip's name: the day it was made. */
+/** The document's first fields, as both writers put them. */
+export function exportHead(
+  at: Date,
+  source: ExportDocument["source"],
+  account: NonNullable<ExportDocument["account"]> | null,
+): Pick<ExportDocument, "format" | "schemaVersion" | "exportedAt" | "source" | "account"> {
+  return {
+    format: EXPORT_FORMAT,
+    schemaVersion: EXPORT_SCHEMA_VERSION,
+    exportedAt: at.toISOString(),
+    source,
+    account: account && { name: account.name, email: account.email, displayUnit: account.displayUnit },
+  };
+}
+
 export const exportFileName = (at: Date, source: "server" | "phone") =>
   `lashwright-${source === "phone" ? "phone-" : ""}export-${at.toISOString().slice(0, 10)}.zip`;

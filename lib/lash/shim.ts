@@ -123,15 +123,15 @@ export function recommendNm(installedNm: number, measuredNm: number, band: BandN
   if (inBand(measuredNm, band))
     return { idealNm, sizeNm: installedNm, predictedNm: measuredNm, inSpec: true, change: false };
   const cands = sizesNm.map((s) => ({ sizeNm: s, predictedNm: gap - s }));
+  const chosen = (c: { sizeNm: number; predictedNm: number }, inSpec: boolean): RecommendNm => ({
+    idealNm,
+    sizeNm: c.sizeNm,
+    predictedNm: c.predictedNm,
+    inSpec,
+    change: c.sizeNm !== installedNm,
+  });
   const hit = bestInBand(cands, band);
-  if (hit)
-    return {
-      idealNm,
-      sizeNm: hit.sizeNm,
-      predictedNm: hit.predictedNm,
-      inSpec: true,
-      change: hit.sizeNm !== installedNm,
-    };
+  if (hit) return chosen(hit, true);
   // Nothing in the series reaches the band: keep the installed shim unless a size comes nearer.
   const near = nearestBand([{ sizeNm: installedNm, predictedNm: measuredNm }, ...cands], band);
   if (!near)
@@ -139,13 +139,7 @@ export function recommendNm(installedNm: number, measuredNm: number, band: BandN
       "No shim in the series leaves any clearance for this valve: check the readings and the series",
       [{ path: "sizes", message: "every size is thicker than the gap" }],
     );
-  return {
-    idealNm,
-    sizeNm: near.sizeNm,
-    predictedNm: near.predictedNm,
-    inSpec: false,
-    change: near.sizeNm !== installedNm,
-  };
+  return chosen(near, false);
 }
 
 /**

@@ -163,6 +163,25 @@ export const READING_VALUE_FIELDS = [
   "method",
   "fittedShim",
 ] as const;
+export type ReadingValueField = (typeof READING_VALUE_FIELDS)[number];
+
+/** A reading's values with each one missing as null: what is stored, filed and read by the screens. */
+export function readingValues<R extends Partial<Record<ReadingValueField, unknown>>>(r: R) {
+  return Object.fromEntries(READING_VALUE_FIELDS.map((f) => [f, r[f] ?? null])) as {
+    [K in ReadingValueField]: undefined extends R[K] ? Exclude<R[K], undefined> | null : R[K];
+  };
+}
+
+/** The fields every layer (the API, the phone, the export file) carries as they are, first in each. */
+export const ENGINE_LAYOUT_FIELDS = [
+  "id",
+  "name",
+  "cylinders",
+  "intakePerCylinder",
+  "exhaustPerCylinder",
+  "firingOrder",
+] as const;
+export const CHECK_PLAIN_FIELDS = ["id", "engineId", "odometer", "measuredHot", "status", "notes"] as const;
 
 export const readingsPut = z.object({ readings: z.array(readingInput).min(1).max(200) });
 

@@ -2,7 +2,8 @@ import type { MutationArgs } from "./mutations";
 import { queueChange, writeTables } from "./outbox";
 import { DEFAULT_TIMING, LashInputError, sameLength, type NearSide, type ShimMove, type ShimPosition } from "../lash";
 import { swapEffects, workOrderKey, type WorkOrderState } from "../check/fit";
-import { READING_VALUE_FIELDS } from "../schemas/records";
+import { CHECK_PLAIN_FIELDS, READING_VALUE_FIELDS } from "../schemas/records";
+import { pick } from "../pick";
 import {
   getMeta,
   setMeta,
@@ -75,12 +76,8 @@ export async function saveCheck(
   const local = (a: MutationArgs<"check.put/1">, startedAt: string | Date) => {
     const closedAt = a.status !== "closed" ? null : (madeAt ?? new Date().toISOString());
     return db.checks.put({
-      id: a.id,
-      engineId: a.engineId,
-      odometer: a.odometer,
-      measuredHot: a.measuredHot,
+      ...pick(a, CHECK_PLAIN_FIELDS),
       notes: a.notes ?? null,
-      status: a.status,
       startedAt,
       closedAt,
     } satisfies LocalCheck);
@@ -163,13 +160,7 @@ export function saveTrayItem(
     "tray.put/1",
     { ...t, shimDiameter: t.shimDiameter ?? null } as MutationArgs<"tray.put/1">,
     async (a) => {
-      await db.tray.put({
-        id: a.id,
-        size: a.size,
-        measuredSize: a.measuredSize,
-        count: a.count,
-        shimDiameter: a.shimDiameter ?? null,
-      });
+      await db.tray.put({ ...pick(a, ["id", "size", "measuredSize", "count"]), shimDiameter: a.shimDiameter ?? null });
     },
   );
 }

@@ -1,5 +1,6 @@
 import { z } from "zod";
-import { checkUpdate } from "@/lib/schemas/records";
+import { CHECK_PLAIN_FIELDS, checkUpdate } from "@/lib/schemas/records";
+import { definedOnly, pick } from "@/lib/pick";
 import { answers } from "@/lib/api/contract";
 import { route, uuidParam } from "@/server/http";
 import { ownCheck, readableCheck } from "@/server/access";
@@ -24,16 +25,7 @@ export const GET = route({ response: answers.checkView, params }, async ({ user,
 export const PATCH = route({ response: answers.check, params, body: checkUpdate }, async ({ user, params, body }) => ({
   check: await write(user, async (w) => {
     const c = await ownCheck(w.tx, user, params.checkId);
-    const defined = Object.fromEntries(Object.entries(body).filter(([, v]) => v !== undefined));
-    await apply(w, "check.put/1", {
-      id: c.id,
-      engineId: c.engineId,
-      odometer: c.odometer,
-      measuredHot: c.measuredHot,
-      notes: c.notes,
-      status: c.status,
-      ...defined,
-    });
+    await apply(w, "check.put/1", { ...pick(c, CHECK_PLAIN_FIELDS), ...definedOnly(body) });
     return checkToApi((await getCheckRow(w.tx, c.id))!);
   }),
 }));

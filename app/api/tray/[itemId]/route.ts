@@ -1,5 +1,6 @@
 import { z } from "zod";
 import { trayItemUpdate } from "@/lib/schemas/records";
+import { definedOnly, pick } from "@/lib/pick";
 import { answers } from "@/lib/api/contract";
 import { route, uuidParam } from "@/server/http";
 import { ownTrayItem } from "@/server/access";
@@ -14,15 +15,8 @@ export const PATCH = route(
   async ({ user, params, body }) => ({
     item: await write(user, async (w) => {
       const t = await ownTrayItem(w.tx, user, params.itemId);
-      const defined = Object.fromEntries(Object.entries(body).filter(([, v]) => v !== undefined));
-      await apply(w, "tray.put/1", {
-        id: t.id,
-        size: t.size,
-        measuredSize: t.measuredSize,
-        count: t.count,
-        shimDiameter: t.shimDiameter,
-        ...defined,
-      });
+      const stored = pick(t, ["id", "size", "measuredSize", "count", "shimDiameter"]);
+      await apply(w, "tray.put/1", { ...stored, ...definedOnly(body) });
       return trayToApi((await getTrayRow(w.tx, t.id))!);
     }),
   }),
