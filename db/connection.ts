@@ -96,12 +96,11 @@ type Sender = (statement: unknown, values?: unknown) => Promise<unknown>;
 function checkSends(c: Pick<mysql.Pool, "query" | "execute">) {
   for (const method of ["query", "execute"] as const) {
     const send = (c[method] as unknown as Sender).bind(c);
-    (c as unknown as Record<typeof method, Sender>)[method] = (statement, values) => {
-      try {
-        checkStatement(typeof statement === "string" ? statement : ((statement as { sql?: string }).sql ?? ""));
-      } catch (e) {
-        return Promise.reject(e);
-      }
+    (c as unknown as Record<typeof method, Sender>)[method] = async (statement, values) => {
+      // checked one turn later: resumed from an await, the stack goes on through the caller's awaits
+      // (V8's async frames) to the code that made the change, not only drizzle's own frames
+      await undefined;
+      checkStatement(typeof statement === "string" ? statement : ((statement as { sql?: string }).sql ?? ""));
       return send(statement, values);
     };
   }

@@ -138,7 +138,11 @@ export const OUTSIDE_MARK = "[write-path] refused:";
 export function checkStatement(statement: string): void {
   const records = tablesChanged(statement).filter((t) => !INFRASTRUCTURE_TABLES.has(t));
   if (records.length === 0 || onPath.getStore() !== undefined) return;
+  // deep enough to pass drizzle's frames and reach the module that wrote
+  const limit = Error.stackTraceLimit;
+  Error.stackTraceLimit = 40;
   const e = new OutsideWritePath(records, statement);
+  Error.stackTraceLimit = limit;
   console.error(`${OUTSIDE_MARK} ${e.stack}`);
   throw e;
 }
