@@ -103,8 +103,13 @@ export function tablesChanged(statement: string): string[] {
   }
 }
 
-/** What the write path is doing now (a label for the log), set by the marks below. */
-const onPath = new AsyncLocalStorage<string>();
+/**
+ * What the write path is doing now (a label for the log), set by the marks below. One per process:
+ * Next bundles this module into several chunks, and the pool (one per process, db/connection.ts)
+ * checks with the copy that made it whichever copy marked the work.
+ */
+const shared = globalThis as unknown as { lashwrightWritePath?: AsyncLocalStorage<string> };
+const onPath = (shared.lashwrightWritePath ??= new AsyncLocalStorage<string>());
 
 /** Run `fn` as the write path's work: the applier table's entry points (server/appliers.ts). */
 export function onWritePath<T>(who: string, fn: () => T): T {

@@ -110,6 +110,14 @@ describe("the marks and the check", () => {
     await expect(service(7)).resolves.toBe(7);
   });
 
+  it("a mark made by one copy of the module is seen by another (Next bundles it into several chunks)", async () => {
+    vi.resetModules();
+    vi.stubEnv("LASHWRIGHT_CHECK_WRITES", "1");
+    const other = await import("@/db/write-path");
+    expect(other).not.toBe(on);
+    expect(() => on.onWritePath("test", () => other.checkStatement(write))).not.toThrow();
+  });
+
   it("with the switch off, a named service is the function itself and a mark only calls it", () => {
     const fn = async (n: number) => n;
     expect(off.CHECK_WRITES).toBe(false);
