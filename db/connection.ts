@@ -6,6 +6,7 @@ import mysql from "mysql2/promise";
 import { env } from "@/lib/env";
 import { overloaded } from "@/lib/errors";
 import * as schema from "./schema";
+import { CHECK_WRITES, checkStatement } from "./write-path";
 
 type Drizzle = MySql2Database<typeof schema>;
 export type Tx = Parameters<Parameters<Drizzle["transaction"]>[0]>[0];
@@ -90,6 +91,37 @@ export function poolStats(): { inUse: number; idle: number; waiting: number; lim
   };
 }
 
+type Sender = (statement: unknown, values?: unknown) => Promise<unknown>;
+/** Check each statement a client sends (its text, given alone or as { sql }) before it goes. */
+function checkSends(c: Pick<mysql.Pool, "query" | "execute">) {
+  for (const method of ["query", "execute"] as const) {
+    const send = (c[method] as unknown as Sender).bind(c);
+    (c as unknown as Record<typeof method, Sender>)[method] = async (statement, values) => {
+      // checked one turn later: resumed from an await, the stack goes on through the caller's awaits
+      // (V8's async frames) to the code that made the change, not only drizzle's own frames
+      await undefined;
+      checkStatement(typeof statement === "string" ? statement : ((statement as { sql?: string }).sql ?? ""));
+      return send(statement, values);
+    };
+  }
+}
+
+/**
+ * The test servers' check of the one write path (db/write-path.ts): every statement sent through
+ * the pool, or through a connection taken from it for a transaction, is checked first, in the
+ * caller's own async context (where the write path's mark is). Budgets use the callback pool
+ * beneath (rate_limits, a table of the machinery), which is not checked.
+ */
+function checkWritePath(p: mysql.Pool) {
+  checkSends(p);
+  const take = p.getConnection.bind(p);
+  p.getConnection = async () => {
+    const c = await take();
+    checkSends(c);
+    return c;
+  };
+}
+
 export function connectionPool(): mysql.Pool {
   if (!globalForDb.lashwrightPool) {
     const e = env();
@@ -102,6 +134,8 @@ export function connectionPool(): mysql.Pool {
       dateStrings: false,
     });
     boundAcquire(p, e.DB_ACQUIRE_TIMEOUT_MS);
+    // test servers only: production sends each statement straight to mysql2, untouched
+    if (CHECK_WRITES) checkWritePath(p);
     // the count lives in the copy of this module that made the pool; the metrics may read from another
     globalForDb.lashwrightPoolWaiting = () => poolWaiting;
     // Every wait inside the database is bounded, then fails cleanly (503 with Retry-After): a row lock

@@ -190,8 +190,15 @@ async function main() {
         if (built && (!only || only === "e2e")) {
           await runTs("db/seed.ts", env);
           const port = await freePort();
-          // no load balancer in front: nothing to tell before closing (server/drain.ts)
-          const server = startNext(port, { ...env, NEXTAUTH_URL: `http://127.0.0.1:${port}`, SHUTDOWN_NOTICE_MS: "0" });
+          // no load balancer in front: nothing to tell before closing (server/drain.ts); every record
+          // change checked to run on the one write path (db/write-path.ts), as in tests/support/server.ts
+          // (not in `env`: the seed above and the test processes write their fixtures directly)
+          const server = startNext(port, {
+            ...env,
+            NEXTAUTH_URL: `http://127.0.0.1:${port}`,
+            SHUTDOWN_NOTICE_MS: "0",
+            LASHWRIGHT_CHECK_WRITES: "1",
+          });
           cleanup.add(server.stop);
           await server.ready;
           await vitest("e2e", { ...env, LASHWRIGHT_BASE_URL: `http://127.0.0.1:${port}` });

@@ -1,6 +1,8 @@
 import "server-only";
 import { transaction, type Tx } from "@/db/connection";
 import { retryConflicts } from "@/db/retry";
+import { onWritePath } from "@/db/write-path";
+import { stopNotices } from "@/db/queries/notices";
 import * as q from "@/db/queries/users";
 import type { UserRow } from "@/db/schema";
 
@@ -9,9 +11,11 @@ import type { UserRow } from "@/db/schema";
  * account's deletion and import: sign-up, links, passwords, settings, sessions. Most callers are
  * signed out (a sign-up, a reset link), so there is no write context to take: each change is one
  * transaction of its own here, retried when it lost a write conflict (db/retry.ts), and a change of
- * several rows (a new password: the hash, the pending links, the sessions) is all or nothing.
+ * several rows (a new password: the hash, the pending links, the sessions) is all or nothing. A
+ * named write service (db/write-path.ts): its writes are the write path's.
  */
-const change = <T>(fn: (tx: Tx) => Promise<T>) => retryConflicts(() => transaction(fn));
+const change = <T>(fn: (tx: Tx) => Promise<T>) =>
+  retryConflicts(() => onWritePath("account changes", () => transaction(fn)));
 
 export const newAccount = (input: { email: string; name: string; passwordHash: string }) =>
   change((tx) => q.createUser(tx, input));
@@ -42,6 +46,12 @@ export const replacePassword = (userId: string, passwordHash: string | null) =>
     await q.voidAuthTokens(tx, userId);
     await q.bumpSessionGeneration(tx, userId);
   });
+
+/**
+ * An unsubscribe link (server/notices.ts): the account's notices turned off, as its settings page
+ * would, or, for an address with no account, a stop on the address.
+ */
+export const stopMail = (email: string) => change((tx) => stopNotices(tx, email));
 
 /** Ends every session of the account; with `from`, only if the generation is still that one. */
 export const endSessions = (userId: string, from?: number) => change((tx) => q.bumpSessionGeneration(tx, userId, from));

@@ -19,7 +19,8 @@ import { queueNotices } from "./notices";
 import { verifyPassword } from "./password";
 import { mailThrottled } from "./throttle";
 import { kickObjectDeletions } from "./object-deletions";
-import { write } from "./write";
+import { write, type WriteCtx } from "./write";
+import { writeService } from "@/db/write-path";
 import type { SessionUser } from "./auth";
 
 /**
@@ -132,29 +133,33 @@ export async function deleteAccount(
     throw invalid("This account has a password now: enter it instead", { password: "enter the account's password" });
   }
 
-  return write(user, async (w) => {
-    if (input.token !== undefined && !(await q.consumeDeleteToken(w.tx, input.token, user.id))) throw badLink();
-    // the account's row, locked: two deletions (two phones) are one after the other, the second finds nothing
-    const [me] = await w.tx
-      .select({ id: users.id, email: users.email })
-      .from(users)
-      .where(eq(users.id, user.id))
-      .for("update");
-    if (!me) throw notFound("account");
-    const { blockers, clubs } = await blockersAndClubs(w.tx, user.id, true);
-    if (blockers.length)
-      throw new DomainError("refused", `Nothing was deleted. ${blockers.map(blockerText).join(" ")}`, {
-        code: "deletion_blocked",
-      });
-    for (const c of clubs) {
-      // a club of one goes with its only member; any other keeps its records and loses this member
-      if (c.solo) await q.deleteClub(w.tx, c.id);
-      else await setRoles(w.tx, c.id, user.id, [], user.id);
-    }
-    const commentsKept = await q.anonymiseComments(w.tx, user.id);
-    const photos = await q.queueObjectDeletions(w.tx, user.id);
-    await q.eraseRows(w.tx, user.id, me.email);
-    w.later(async () => void kickObjectDeletions());
-    return { photos, commentsKept };
-  });
+  // a named write service (db/write-path.ts): what it writes is the write path's
+  return write(
+    user,
+    writeService("account deletion", async (w: WriteCtx) => {
+      if (input.token !== undefined && !(await q.consumeDeleteToken(w.tx, input.token, user.id))) throw badLink();
+      // the account's row, locked: two deletions (two phones) are one after the other, the second finds nothing
+      const [me] = await w.tx
+        .select({ id: users.id, email: users.email })
+        .from(users)
+        .where(eq(users.id, user.id))
+        .for("update");
+      if (!me) throw notFound("account");
+      const { blockers, clubs } = await blockersAndClubs(w.tx, user.id, true);
+      if (blockers.length)
+        throw new DomainError("refused", `Nothing was deleted. ${blockers.map(blockerText).join(" ")}`, {
+          code: "deletion_blocked",
+        });
+      for (const c of clubs) {
+        // a club of one goes with its only member; any other keeps its records and loses this member
+        if (c.solo) await q.deleteClub(w.tx, c.id);
+        else await setRoles(w.tx, c.id, user.id, [], user.id);
+      }
+      const commentsKept = await q.anonymiseComments(w.tx, user.id);
+      const photos = await q.queueObjectDeletions(w.tx, user.id);
+      await q.eraseRows(w.tx, user.id, me.email);
+      w.later(async () => void kickObjectDeletions());
+      return { photos, commentsKept };
+    }),
+  );
 }

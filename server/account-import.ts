@@ -28,6 +28,7 @@ import { spendHourly } from "./spend-hourly";
 import { preparePhoto } from "./photo-decode";
 import { deleteObject, putObject } from "./storage";
 import { write, type WriteCtx } from "./write";
+import { writeService } from "@/db/write-path";
 import type { SessionUser } from "./auth";
 
 /**
@@ -298,7 +299,7 @@ async function importFile(user: SessionUser, file: string): Promise<ImportResult
  * read: two imports at once cannot both pass), then every row, stamped with this write's version so
  * the phones pull them.
  */
-export async function applyImport(w: WriteCtx, p: Prepared): Promise<ImportResult> {
+export const applyImport = writeService("account import", async (w: WriteCtx, p: Prepared): Promise<ImportResult> => {
   const counts = await q.accountRecordCounts(w.tx, w.user.id, true);
   if (counts.engines || counts.tray) throw notEmpty(counts);
   const { doc, ids } = p;
@@ -387,4 +388,4 @@ export async function applyImport(w: WriteCtx, p: Prepared): Promise<ImportResul
     photosNotIncluded: p.photosNotIncluded,
     commentsNotRestored: doc.comments.length - own.length,
   };
-}
+});

@@ -32,6 +32,7 @@ import { applyAsk, applyMove, applyOffer, applyWithdrawOffer } from "./pool";
 import { kickPhotoSweep } from "./photos";
 import type { WriteCtx } from "./write";
 import { nextVersion } from "@/db/versions";
+import { onWritePath } from "@/db/write-path";
 import { phase } from "./timing";
 
 /**
@@ -197,8 +198,8 @@ const RUNS: { readonly [N in MutationName]?: RunApplier<N> } = {
 export async function applyRun<N extends MutationName>(w: WriteCtx, name: N, run: MutationArgs<N>[]): Promise<void> {
   if (!Object.hasOwn(APPLIERS, name)) throw invalid(`unknown change "${String(name)}"`);
   const batch = Object.hasOwn(RUNS, name) ? (RUNS[name] as RunApplier<N> | undefined) : undefined;
-  if (batch) return batch(w, run);
-  for (const a of run) await (APPLIERS[name] as Applier<N>)(w, a);
+  if (batch) return onWritePath("the applier table", () => batch(w, run));
+  for (const a of run) await onWritePath("the applier table", () => (APPLIERS[name] as Applier<N>)(w, a));
 }
 
 /**
@@ -207,5 +208,5 @@ export async function applyRun<N extends MutationName>(w: WriteCtx, name: N, run
  */
 export function apply<N extends MutationName>(w: WriteCtx, name: N, args: MutationArgs<N>): Promise<void> {
   if (!Object.hasOwn(APPLIERS, name)) return Promise.reject(invalid(`unknown change "${String(name)}"`));
-  return (APPLIERS[name] as Applier<N>)(w, args);
+  return onWritePath("the applier table", () => (APPLIERS[name] as Applier<N>)(w, args));
 }

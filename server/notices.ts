@@ -7,7 +7,6 @@ import {
   markNoticesFailed,
   markNoticesSent,
   postponeNotices,
-  stopNotices,
   type NoticeInput,
 } from "@/db/queries/notices";
 import type { NoticeRow } from "@/db/schema";
@@ -16,6 +15,7 @@ import { env } from "@/lib/env";
 import { merge } from "@/lib/mail/digest";
 import { isAccountMail, isGathered, SINGLE_KINDS } from "@/lib/mail/kinds";
 import { budget } from "./budgets";
+import { stopMail } from "./account-changes";
 import { sendMail } from "./mail";
 import { composeGroup } from "./notice-compose";
 import { log } from "./log";
@@ -162,7 +162,7 @@ function addressOf(token: string): string | null {
 export async function unsubscribe(token: string): Promise<boolean> {
   const email = addressOf(token);
   if (!email) return false;
-  await stopNotices(email);
+  await stopMail(email);
   return true;
 }
 

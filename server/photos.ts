@@ -14,6 +14,7 @@ import { conflict, DomainError, forbidden, invalid, notFound, overloaded } from 
 import { env } from "@/lib/env";
 import { db, type Executor } from "@/db/connection";
 import { mysqlErrorCode } from "@/db/errors";
+import { onWritePath } from "@/db/write-path";
 import { readableCheck } from "./access";
 import { budget } from "./budgets";
 import { spendHourly } from "./spend-hourly";
@@ -68,6 +69,7 @@ type Prepared = Awaited<ReturnType<typeof preparePhoto>>;
  * Claim the photo's id in the write path: the check's access, the id, the comment and the quota are
  * decided in the one transaction that writes the row. "stored": the same photo is already there;
  * "unstored": its row is there but not its bytes (a try in flight or cut off), so this one stores them.
+ * This and the other writes of photo rows here are a named write service (db/write-path.ts).
  */
 async function claimPhoto(
   w: WriteCtx,
@@ -189,7 +191,7 @@ export async function uploadPhoto(
     throw e;
   }
 
-  const claim = await write(user, (w) => claimPhoto(w, checkId, f, img));
+  const claim = await write(user, (w) => onWritePath("photos", () => claimPhoto(w, checkId, f, img)));
   if (claim === "stored") {
     await giveBack();
     return done(false);
@@ -202,7 +204,7 @@ export async function uploadPhoto(
     log.error({ err: e }, "photos: storing failed");
     throw overloaded("The photo store did not take the photo: it is sent again in a moment");
   }
-  const marked = await write(user, (w) => markStored(w, checkId, f.id));
+  const marked = await write(user, (w) => onWritePath("photos", () => markStored(w, checkId, f.id)));
   // removed while its bytes were on their way: a new try claims it afresh
   if (!marked) throw overloaded("The photo changed while it was stored: it is sent again in a moment");
   return done(claim === "new");
@@ -226,13 +228,15 @@ export async function photoBytes(user: SessionUser, photoId: string) {
 
 /** The uploader or the check's owner may remove a photo: decided and done in one write, the bytes after it. */
 export async function removePhoto(user: SessionUser, photoId: string) {
-  const key = await write(user, async (w) => {
-    const { p, as } = await readablePhoto(w.tx, w.user, photoId);
-    if (p.ownerId !== w.user.id && as !== "owner")
-      throw forbidden("Only who took the photo or the check's owner can remove it");
-    await q.deletePhoto(w.tx, photoId);
-    return p.objectKey;
-  });
+  const key = await write(user, (w) =>
+    onWritePath("photos", async () => {
+      const { p, as } = await readablePhoto(w.tx, w.user, photoId);
+      if (p.ownerId !== w.user.id && as !== "owner")
+        throw forbidden("Only who took the photo or the check's owner can remove it");
+      await q.deletePhoto(w.tx, photoId);
+      return p.objectKey;
+    }),
+  );
   await deleteObject(key).catch(() => undefined);
 }
 
@@ -246,7 +250,7 @@ const STALE_CLAIM_MS = 24 * 3600_000;
  */
 export async function sweepPhotos(graceMs = 10 * 60_000): Promise<number> {
   // a claim whose bytes never came in a day (the phone that sent it lost it) gives its space back
-  await q.dropStaleClaims(new Date(Date.now() - STALE_CLAIM_MS));
+  await onWritePath("photos", () => q.dropStaleClaims(new Date(Date.now() - STALE_CLAIM_MS)));
   let removed = 0;
   const before = Date.now() - graceMs;
   const checkOf = (key: string) => key.split("/")[1] ?? "";

@@ -133,8 +133,8 @@ export async function takesNotices(email: string): Promise<boolean> {
  * can turn back on), or, with no account, a stop on the address. Notices already queued to it are
  * dropped when their turn comes (server/notice-compose.ts).
  */
-export async function stopNotices(email: string): Promise<void> {
-  const [u] = await db().select({ id: users.id }).from(users).where(eq(users.email, email)).limit(1);
-  if (u) await db().update(users).set({ noticesByEmail: false }).where(eq(users.id, u.id));
-  else await db().insert(mailStops).values({ email }).onDuplicateKeyUpdate({ set: { email } });
+export async function stopNotices(tx: Tx, email: string): Promise<void> {
+  const [u] = await tx.select({ id: users.id }).from(users).where(eq(users.email, email)).limit(1);
+  if (u) await tx.update(users).set({ noticesByEmail: false }).where(eq(users.id, u.id));
+  else await tx.insert(mailStops).values({ email }).onDuplicateKeyUpdate({ set: { email } });
 }

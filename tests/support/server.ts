@@ -1,6 +1,7 @@
 import { spawn, type ChildProcess } from "node:child_process";
 import net from "node:net";
 import path from "node:path";
+import { OUTSIDE_MARK } from "@/db/write-path";
 
 const root = path.resolve(__dirname, "../..");
 
@@ -62,6 +63,8 @@ export async function startApp(extraEnv: Record<string, string> = {}, opts: { po
           SHUTDOWN_NOTICE_MS: "0",
           // every answer is checked against its route's contract (server/http.ts route())
           LASHWRIGHT_CHECK_CONTRACT: "1",
+          // every record change must run on the one write path (db/write-path.ts): else a 500
+          LASHWRIGHT_CHECK_WRITES: "1",
           ...extraEnv,
         },
         stdio: ["ignore", "pipe", "pipe"],
@@ -82,13 +85,23 @@ export async function startApp(extraEnv: Record<string, string> = {}, opts: { po
     throw new Error("next start did not answer");
   };
   // Bounded: a server that ignores SIGTERM is killed after 5 s, so a test never hangs on its stop.
-  const stop = () =>
+  const end = () =>
     new Promise<void>((resolve) => {
       if (!child || ended(child)) return resolve();
       const kill = setTimeout(() => child.kill("SIGKILL"), 5000);
       child.once("exit", () => (clearTimeout(kill), resolve()));
       child.kill("SIGTERM");
     });
+  // A write refused outside the write path fails the test that caused it even where the server
+  // swallowed the error (a sweep, work after the commit): its log line is looked for at the stop.
+  const stop = async () => {
+    await end();
+    const at = out.indexOf(OUTSIDE_MARK);
+    if (at >= 0)
+      throw new Error(
+        `the server wrote outside the write path (the first, with its stack):\n${out.slice(at, at + 4000)}`,
+      );
+  };
   await boot();
   return {
     url,

@@ -10,6 +10,8 @@ import { describe, expect, it } from "vitest";
  * below. A new side door (a route calling a query that writes, a service writing through db())
  * makes this test fail with its file name: route it through the applier table or a named service
  * taking the write context, or, if it truly is a new kind of write, add it here with the reason.
+ * This sees every module, run by a test or not; what it cannot see (a write passed as a value, a
+ * query built in a helper) the test servers catch as it runs (db/write-path.ts, LASHWRIGHT_CHECK_WRITES).
  */
 const WRITERS: Record<string, string> = {
   // the SQL layer: statements only, each write taking the caller's transaction (or a queue's own)
@@ -35,10 +37,11 @@ const WRITERS: Record<string, string> = {
   "server/pool.ts": "the club pool's appliers (called from the table)",
   "server/clubs.ts": "named service: clubs, roles, invitations, shares",
   "server/photos.ts": "named service: photo claims, removal, the sweep of stale claims",
-  "server/account-changes.ts": "named service: an account's own rows (sign-up, links, passwords, settings, sessions)",
+  "server/account-changes.ts":
+    "named service: an account's own rows (sign-up, links, passwords, settings, sessions, unsubscribing)",
   "server/account-deletion.ts": "named service: account deletion",
   "server/account-import.ts": "named service: account import (applyImport in write())",
-  "server/notices.ts": "the notice queue (post-commit e-mail) and unsubscribing",
+  "server/notices.ts": "the notice queue (post-commit e-mail)",
   "server/object-deletions.ts": "the queue of stored objects to delete",
 };
 
