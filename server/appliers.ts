@@ -91,8 +91,10 @@ export async function applyReadingsAlone(
   });
   let batch: ReadingInput[] = [];
   const keys = new Set<string>();
+  // the table's own readings, batched: on the write path like every applier (db/write-path.ts)
   const flush = async () => {
-    if (batch.length) await writeReadings(w.tx, w.user.id, w.version, checkId, batch);
+    if (batch.length)
+      await onWritePath("the applier table", () => writeReadings(w.tx, w.user.id, w.version, checkId, batch));
     batch = [];
     keys.clear();
   };
