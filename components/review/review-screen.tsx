@@ -24,6 +24,31 @@ import { CommentForm, CommentItem, CommentThread, type ThreadComment } from "./c
 import { FORMER_MEMBER } from "@/lib/account/deletion";
 import { facingOf } from "@/lib/check/diagram";
 
+/** One valve's rounds (first readings and each re-check): the same list in the valve's panel and the full list. */
+function RoundList({
+  rounds,
+  measured,
+  className,
+  label,
+}: {
+  rounds: ReturnType<typeof valveRounds>;
+  measured: boolean;
+  className: string;
+  label?: string;
+}) {
+  return (
+    <ol className={className} aria-label={label}>
+      {rounds.map((r) => (
+        <li key={r.round} className="flex flex-wrap justify-between gap-x-2">
+          <span className="text-ink-soft">{r.title}</span>
+          <span className="text-right">{r.text}</span>
+        </li>
+      ))}
+      {!measured && <li className="text-ink-soft">not measured</li>}
+    </ol>
+  );
+}
+
 /**
  * A mentor's view of a shared check: read-only readings with how each was found, the diagram, the
  * plan, photos, the comments, and the verdict. Nothing here can change a reading. What was read
@@ -231,15 +256,12 @@ export function ReviewScreen() {
               Close
             </button>
           </div>
-          <ol className="figures flex flex-col gap-0.5" aria-label={`Readings of ${picked}`}>
-            {valveRounds(allReadings, picked, unit).map((r) => (
-              <li key={r.round} className="flex flex-wrap justify-between gap-x-2">
-                <span className="text-ink-soft">{r.title}</span>
-                <span className="text-right">{r.text}</span>
-              </li>
-            ))}
-            {pickedView.latest == null && <li className="text-ink-soft">not measured</li>}
-          </ol>
+          <RoundList
+            rounds={valveRounds(allReadings, picked, unit)}
+            measured={pickedView.latest != null}
+            className="figures flex flex-col gap-0.5"
+            label={`Readings of ${picked}`}
+          />
           <PhotoStrip checkId={id} valve={picked} canAdd={false} label={`valve ${picked}`} />
           <h3 className="font-extrabold">Comments on {picked}</h3>
           {pickedComments.length === 0 ? (
@@ -267,15 +289,11 @@ export function ReviewScreen() {
             >
               <strong>{v.valve.id}</strong>
               {/* every round, the first readings and each re-check, so the reviewer reads the whole story */}
-              <ol className="flex flex-col gap-0.5">
-                {valveRounds(allReadings, v.valve.id, unit).map((r) => (
-                  <li key={r.round} className="flex flex-wrap justify-between gap-x-2">
-                    <span className="text-ink-soft">{r.title}</span>
-                    <span className="text-right">{r.text}</span>
-                  </li>
-                ))}
-                {v.latest == null && <li className="text-ink-soft">not measured</li>}
-              </ol>
+              <RoundList
+                rounds={valveRounds(allReadings, v.valve.id, unit)}
+                measured={v.latest != null}
+                className="flex flex-col gap-0.5"
+              />
               <PhotoStrip checkId={id} valve={v.valve.id} canAdd={false} label={`valve ${v.valve.id}`} />
             </li>
           ))}
