@@ -116,21 +116,18 @@ async function putOwnCheck(w: WriteCtx, a: MutationArgs<"check.put/2">) {
   await putCheck(w.tx, w.user.id, w.version, a.id, a.engineId, a, existing);
 }
 
+/** Every version of an engine: what an older version does not carry keeps its stored value. */
+async function putOwnEngine(w: WriteCtx, a: MutationArgs<"engine.put/1" | "engine.put/2" | "engine.put/3">) {
+  await ownOrNewEngine(w.tx, w.user, a.id);
+  await putEngine(w.tx, w.user.id, w.version, a.id, a);
+}
+
 export const APPLIERS: { readonly [N in MutationName]: Applier<N> } = {
   // an older phone's engine: where the shims sit is not in it, so the stored answer stays
-  "engine.put/1": async (w, a) => {
-    await ownOrNewEngine(w.tx, w.user, a.id);
-    await putEngine(w.tx, w.user.id, w.version, a.id, a);
-  },
-  "engine.put/2": async (w, a) => {
-    await ownOrNewEngine(w.tx, w.user, a.id);
-    await putEngine(w.tx, w.user.id, w.version, a.id, a);
-  },
+  "engine.put/1": putOwnEngine,
+  "engine.put/2": putOwnEngine,
   // with the side nearest the mechanic; /1 and /2 keep the stored side
-  "engine.put/3": async (w, a) => {
-    await ownOrNewEngine(w.tx, w.user, a.id);
-    await putEngine(w.tx, w.user.id, w.version, a.id, a);
-  },
+  "engine.put/3": putOwnEngine,
   // Deleting what is already gone is harmless (a retried delete, or one from a second phone). So
   // is naming someone else's record: it answers exactly as a missing one, so no id can be probed.
   "engine.delete/1": async (w, a) => {
