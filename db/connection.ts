@@ -20,13 +20,16 @@ const globalForDb = globalThis as unknown as {
   lashwrightPool?: mysql.Pool;
   lashwrightDb?: Drizzle;
   lashwrightPoolWaiting?: () => number;
+  lashwrightInTransaction?: AsyncLocalStorage<true>;
 };
 
 /**
  * Marks the code running inside transaction(). Asking the pool for a connection there (db()) is
  * how pushes once deadlocked the server: each held one connection and waited for a second.
  */
-const inTransaction = new AsyncLocalStorage<true>();
+// One store per process, like the pool: the build copies this module into several chunks, and a
+// transaction opened through one copy must be seen by db() called through another.
+const inTransaction = (globalForDb.lashwrightInTransaction ??= new AsyncLocalStorage<true>());
 
 export class NestedConnectionError extends Error {
   constructor() {

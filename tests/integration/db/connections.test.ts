@@ -1,4 +1,4 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { sql } from "drizzle-orm";
 import { closeDb, db, NestedConnectionError, transaction } from "@/db/connection";
 import { DomainError } from "@/lib/errors";
@@ -28,6 +28,17 @@ describe("database connections", () => {
     await expect(transaction(() => transaction(async () => 1))).rejects.toBeInstanceOf(NestedConnectionError);
     // and after it, the pool is usable again
     expect(await transaction(async (tx) => (await tx.execute(sql`SELECT 2 AS n`))[0])).toBeTruthy();
+  });
+
+  it("sees a transaction opened through another copy of the module (the build copies it into several chunks)", async () => {
+    vi.resetModules();
+    const other = await import("@/db/connection");
+    expect(other.db).not.toBe(db);
+    const inside = transaction(async (tx) => {
+      await tx.execute(sql`SELECT 1`);
+      await other.db().execute(sql`SELECT 1`);
+    });
+    await expect(inside).rejects.toBeInstanceOf(other.NestedConnectionError);
   });
 
   it("answers a request waiting for a busy pool with 'overloaded' after the acquire timeout, not never", async () => {
