@@ -123,10 +123,15 @@ describe("the cost of a pull follows the owner's own rows", () => {
       expect(idle.total).toBeLessThanOrEqual(2);
       expect(idle.reads.rnd_next).toBe(0);
       expect(idle.reads).toEqual(idleBefore.reads);
-      // with changes, the same reads as before the million rows arrived
-      expect((await cost(counter - 1)).reads).toEqual(oneBefore.reads);
-      // (on the small tables the million rows are not in, the optimizer may scan: that follows their size)
-      expect((await cost(null)).reads).toEqual(fullBefore.reads);
+      // with changes, none of the million rows is read: a pull that scanned them would count about a
+      // million reads. Not "the same reads as before": the owner's rows sit in tables the other test
+      // files fill at the same time, and by their statistics of the moment the optimizer reads those
+      // small tables by key or scans them (seen: 8 reads one run, 1,596 another, the same pull)
+      const one = await cost(counter - 1);
+      const full = await cost(null);
+      expect(one.result.tray).toHaveLength(1);
+      expect(full.result.readings).toHaveLength(4);
+      for (const c of [one, full]) expect(c.total).toBeLessThan(OTHERS / 100);
     },
   );
 });
