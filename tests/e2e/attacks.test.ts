@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import type { Page } from "playwright-core";
-import { baseUrl, DEMO_PASSWORD, phoneContext, signedInPhone } from "../support/browser";
+import { allSynced, baseUrl, DEMO_PASSWORD, phoneContext, signedInPhone } from "../support/browser";
 import { inbox, linkToken, waitForMail } from "../support/mail";
 import { browserPerFile } from "../support/per-file";
 
@@ -119,6 +119,9 @@ describe("signing out on a shared phone", () => {
       }, userId);
     await expect.poll(stores, { timeout: 10_000 }).toEqual({ local: true, kept: true, identity: true });
 
+    // the first pull done before the signal goes, or the tray may not be on the phone yet (the stores
+    // above exist from the first moment; their rows come with the pull)
+    await allSynced(page);
     // a change that cannot reach the server: signing out first says so, and "cancel" keeps everything
     await page.route("**/api/sync/**", (r) => r.abort());
     await page.getByRole("link", { name: /Tray/ }).tap();
