@@ -142,6 +142,26 @@ export async function nodeStatus(n) {
   );
 }
 
+/**
+ * What a node is busy with, for a test that sees writes stall: its statements running longer than a
+ * second (the process list, sleepers left out) and the wsrep counters that say why a write waits
+ * (flow control, queues, certification failures, aborts by replication). Null when it does not answer.
+ */
+export async function nodeActivity(n) {
+  const [busy, counters] = await Promise.all([
+    sqlAsRoot(
+      n,
+      "SELECT id, user, command, time, state, LEFT(REPLACE(info, '\\n', ' '), 160) FROM information_schema.processlist WHERE command <> 'Sleep' AND time >= 1 ORDER BY time DESC LIMIT 20",
+    ),
+    sqlAsRoot(
+      n,
+      "SHOW STATUS WHERE Variable_name IN ('wsrep_local_state_comment', 'wsrep_flow_control_paused', 'wsrep_flow_control_sent', 'wsrep_flow_control_recv', 'wsrep_local_recv_queue', 'wsrep_local_send_queue', 'wsrep_local_cert_failures', 'wsrep_local_bf_aborts', 'wsrep_last_committed', 'Threads_connected')",
+    ),
+  ]);
+  if (busy === null && counters === null) return null;
+  return { busy: (busy ?? "").trim(), counters: (counters ?? "").trim().replaceAll("\n", ", ").replaceAll("\t", "=") };
+}
+
 function pidOf(n) {
   if (!existsSync(n.pidFile)) return null;
   const pid = Number(readFileSync(n.pidFile, "utf8").trim());

@@ -1,6 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { existsSync, readFileSync } from "node:fs";
-import { killNode, nodeStatus, startNode } from "../../scripts/lib/galera.mjs";
+import { killNode, nodeActivity, nodeStatus, startNode } from "../../scripts/lib/galera.mjs";
 import { Client, signedInClient } from "../support/api";
 import { clusterSpec, startInstances } from "../support/cluster";
 import { ENGINE_FOUR, makeUser } from "../support/fixtures";
@@ -53,6 +53,10 @@ function steadyWriter(phone: Client) {
     otherFailures: 0,
     failures: new Map<string, number>(),
     gaveUp: 0,
+    /** the slowest single answer: how long, and what it was */
+    slowest: { ms: 0, status: 0 },
+    /** taken once, when a write has waited 15 s: what each node was busy with at that moment */
+    stalled: "",
   };
   const note = (what: string) => {
     stats.otherFailures++;
@@ -63,6 +67,8 @@ function steadyWriter(phone: Client) {
       const t0 = performance.now();
       // one write is tried for at most a minute (a phone would keep it and try later): the run ends either way
       for (; performance.now() - t0 < 60_000;) {
+        if (!stats.stalled && performance.now() - t0 > 15_000) stats.stalled = await nodesBusy();
+        const t1 = performance.now();
         const r = await phone
           .post("/api/sync/push", {
             clientId,
@@ -71,6 +77,7 @@ function steadyWriter(phone: Client) {
             ],
           })
           .catch((e: unknown) => ({ status: 0, json: { error: String((e as Error)?.cause ?? e) } }));
+        if (performance.now() - t1 > stats.slowest.ms) stats.slowest = { ms: performance.now() - t1, status: r.status };
         if (r.status === 200) break;
         if (r.status === 503 && r.json?.error) stats.busyAnswers++;
         // what came back, so a failure names its cause in the test's output
@@ -88,6 +95,14 @@ function steadyWriter(phone: Client) {
     await done;
     return stats;
   };
+}
+
+/** Each node's statements running for a second or more and its wsrep wait counters, now. */
+async function nodesBusy() {
+  const all = await Promise.all(spec.nodes.map(nodeActivity));
+  return all
+    .map((a, i) => `  node ${i + 1}: ${a ? `${a.counters}\n    ${a.busy.split("\n").join("\n    ")}` : "no answer"}`)
+    .join("\n");
 }
 
 /** What a node's error log says of its last start: recovery, the state transfer (IST or a full copy). */
@@ -141,9 +156,13 @@ describe("sync under faults on a three-node cluster", () => {
           await new Promise((r) => setTimeout(r, 1000));
           const w = await stopWriter();
           console.log(
-            `[faults] writes through instance 2 (node 2) from 1 s before node 1 was killed to 1 s after it was back: ${w.writes}, the longest took ${Math.round(w.longestMs)} ms; 503 answers ${w.busyAnswers}, other failures ${w.otherFailures}${[...w.failures].map(([what, n]) => `\n  ${n} x ${what}`).join("")}`,
+            `[faults] writes through instance 2 (node 2) from 1 s before node 1 was killed to 1 s after it was back: ${w.writes}, the longest took ${Math.round(w.longestMs)} ms; the slowest answer ${Math.round(w.slowest.ms)} ms (${w.slowest.status}); 503 answers ${w.busyAnswers}, other failures ${w.otherFailures}${[...w.failures].map(([what, n]) => `\n  ${n} x ${what}`).join("")}`,
           );
           console.log(`[faults] how node 1 came back:\n${rejoinLines(spec.nodes[0]!)}`);
+          if (w.stalled)
+            console.log(
+              `[faults] 15 s into a write that had not gone through, the nodes were busy with:\n${w.stalled}`,
+            );
           if (w.gaveUp > 0 || w.longestMs > 30_000) console.log(`[faults] the nodes:\n${await clusterState()}`);
           if (w.otherFailures > 0 || w.gaveUp > 0)
             console.log(`[faults] instance 2's log, last lines:\n${apps[1]!.output().slice(-4000)}`);
