@@ -1,6 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { sql } from "drizzle-orm";
-import { closeDb, db, NestedConnectionError, transaction } from "@/db/connection";
+import { closeDb, connectionPool, db, NestedConnectionError, transaction } from "@/db/connection";
 import { DomainError } from "@/lib/errors";
 import { APPLIERS } from "@/server/appliers";
 import { mutationNames } from "@/lib/sync/mutations";
@@ -28,6 +28,27 @@ describe("database connections", () => {
     await expect(transaction(() => transaction(async () => 1))).rejects.toBeInstanceOf(NestedConnectionError);
     // and after it, the pool is usable again
     expect(await transaction(async (tx) => (await tx.execute(sql`SELECT 2 AS n`))[0])).toBeTruthy();
+  });
+
+  it("gives its connection back when the transaction's own opening statement fails, with no transaction left open on it", async () => {
+    // a connection left inside a transaction: MariaDB then refuses SET TRANSACTION on it (error 1568),
+    // as a Galera node refused BEGIN while a killed member came back (db/connection.ts transaction)
+    const c = await connectionPool().getConnection();
+    await c.query("START TRANSACTION");
+    c.release();
+    let ran = false;
+    const opening = transaction(
+      async () => {
+        ran = true;
+      },
+      { isolationLevel: "read committed" },
+    );
+    await expect(opening).rejects.toThrow(/set transaction/i);
+    expect(ran).toBe(false);
+    // the pool's only connection is back (not "busy" after the 300 ms acquire timeout), outside any transaction
+    const [[row]] = (await db().execute(sql`SELECT @@in_transaction AS open`)) as unknown as [{ open: number }[]];
+    expect(Number(row!.open)).toBe(0);
+    expect(await transaction(async (tx) => (await tx.execute(sql`SELECT 3 AS n`))[0])).toEqual([{ n: 3 }]);
   });
 
   it("sees a transaction opened through another copy of the module (the build copies it into several chunks)", async () => {
