@@ -1,3 +1,4 @@
+import http from "node:http";
 import net from "node:net";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { Haproxy } from "../../scripts/lib/haproxy.mjs";
@@ -133,6 +134,33 @@ const heldHead = (length: number) =>
 
 const logged = (a: App, msg: string) => a.output().includes(`"msg":"${msg}`);
 
+/**
+ * One readiness question on a connection of its own, as HAProxy's check asks it: fetch would reuse a
+ * kept-alive connection, and a request on an open connection after the instance has closed is
+ * answered by the drain's refusal (503, the phone's "busy" body), not by the ready check. Null when
+ * the instance no longer takes connections.
+ */
+const readyOnce = (url: string) =>
+  new Promise<{ status: number; failed?: string[]; body: string } | null>((resolve) => {
+    const req = http.get(`${url}/api/health/ready`, { agent: false, timeout: 5000 }, (res) => {
+      let body = "";
+      res.setEncoding("utf8");
+      res.on("data", (d: string) => (body += d));
+      res.on("end", () => {
+        let failed: string[] | undefined;
+        try {
+          failed = (JSON.parse(body) as { failed?: string[] }).failed;
+        } catch {
+          /* not JSON: kept as the body, for the failure message */
+        }
+        resolve({ status: res.statusCode ?? 0, failed, body: body.slice(0, 200) });
+      });
+      res.on("error", () => resolve(null));
+    });
+    req.on("timeout", () => req.destroy());
+    req.on("error", () => resolve(null));
+  });
+
 describe("an instance told to stop, behind HAProxy, during a stream of requests", () => {
   it("is taken out by its ready check before it closes, finishes what it holds, refuses the rest with 503, and exits", async () => {
     const [app1] = apps as [App, App];
@@ -149,7 +177,7 @@ describe("an instance told to stop, behind HAProxy, during a stream of requests"
     const exit = app1.exited();
     let exitedAt = Infinity;
     void exit.then(() => (exitedAt = performance.now()));
-    const readySeen: { status: number; failed: string[] }[] = [];
+    const readySeen: { status: number; failed?: string[]; body: string }[] = [];
     const t0 = performance.now();
     process.kill(app1.pid(), "SIGTERM");
     // HAProxy's view and instance 1's own steps, watched at the same time
@@ -160,10 +188,7 @@ describe("an instance told to stop, behind HAProxy, during a stream of requests"
     // ready from instance 1 itself, asked directly, until it no longer answers
     const readyWatch = (async () => {
       while (exitedAt === Infinity) {
-        const r = await fetch(`${app1.url}/api/health/ready`).then(
-          async (res) => ({ status: res.status, failed: ((await res.json()) as { failed: string[] }).failed }),
-          () => null,
-        );
+        const r = await readyOnce(app1.url);
         if (!r) break;
         readySeen.push(r);
         await sleep(100);
@@ -189,7 +214,7 @@ describe("an instance told to stop, behind HAProxy, during a stream of requests"
 
     // ready said 503 ("stopping") from the start, and HAProxy took the instance out before it closed
     expect(readySeen.length).toBeGreaterThan(0);
-    expect(readySeen.every((r) => r.status === 503 && r.failed.includes("stopping"))).toBe(true);
+    expect(readySeen.filter((r) => !(r.status === 503 && r.failed?.includes("stopping")))).toEqual([]);
     expect(down).toBeLessThan(closed);
     expect(closed).toBeLessThan(exitedAt);
     // the held pull: one whole answer, the connection closed after it
