@@ -174,8 +174,8 @@ const onConnection = new WeakMap<object, Drizzle>();
  *
  * The connection is taken and given back here, not by drizzle: drizzle's transaction over a pool
  * sends BEGIN (and SET TRANSACTION) before its try/finally, so when that statement fails the
- * connection is never released. On a Galera node it did fail while a killed member came back, and
- * one instance lost its connections one by one and answered nothing but 503 for minutes
+ * connection is never released. On a Galera node one failed (which of the two was not caught) while
+ * a killed member came back, and an instance lost its connections and answered only 503 for minutes
  * (tests/cluster/faults.test.ts, node 1 killed eight times in a row). So: released after drizzle's
  * own commit or rollback; after any other failure (BEGIN, COMMIT or the rollback itself) rolled
  * back once more, and destroyed, not reused, if even that fails.

@@ -31,8 +31,9 @@ describe("database connections", () => {
   });
 
   it("gives its connection back when the transaction's own opening statement fails, with no transaction left open on it", async () => {
-    // a connection left inside a transaction: MariaDB then refuses SET TRANSACTION on it (error 1568),
-    // as a Galera node refused BEGIN while a killed member came back (db/connection.ts transaction)
+    // a connection left inside a transaction: MariaDB then refuses SET TRANSACTION on it (error 1568,
+    // ER_CANT_CHANGE_TX_CHARACTERISTICS: the number from memory; the test matches the statement),
+    // as a Galera node may refuse BEGIN while a killed member comes back (db/connection.ts transaction)
     const c = await connectionPool().getConnection();
     await c.query("START TRANSACTION");
     c.release();
